@@ -1,0 +1,135 @@
+package main
+
+import (
+	"context"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"os/signal"
+	"syscall"
+
+	"github.com/spf13/cobra"
+)
+
+// version is the tool version, set at build time with
+// -ldflags "-X main.version=...".
+var version = "0.1.0-dev"
+
+// Exit codes, documented in the root help and the README.
+const (
+	exitOK        = 0 // everything read, nothing flagged
+	exitFailure   = 1 // the command could not do its job
+	exitUsage     = 2 // bad command line
+	exitSkipped   = 3 // done, but some inputs could not be read and were skipped
+	exitFlagged   = 4 // done, all inputs read, but some results are flagged or failed acceptance
+	exitInterrupt = 130
+)
+
+// exitError carries an exit code other than 1 with an optional message.
+type exitError struct {
+	code int
+	msg  string
+}
+
+func (e *exitError) Error() string { return e.msg }
+
+// usageError marks a bad command line (exit code 2).
+type usageError struct{ err error }
+
+func (e *usageError) Error() string { return e.err.Error() }
+func (e *usageError) Unwrap() error { return e.err }
+
+func usagef(format string, a ...any) error { return &usageError{fmt.Errorf(format, a...)} }
+
+// commands holds the constructors of the subcommands; each command file
+// adds its own in an init function, so files do not touch each other.
+var commands []func() *cobra.Command
+
+const rootLong = `huesolve finds the concentration of each coloured compound in a mixture
+from its UV-Vis absorbance scan, when the compounds' bands overlap so that a
+single-wavelength standard curve would give wrong answers.
+
+The work goes in three steps:
+  1. calibrate  scan a blank and standards of known concentration; huesolve
+                fits the absorptivity spectrum of each pure compound and
+                checks linearity, and saves a reference set (JSON).
+  2. verify     solve check standards of known composition against the
+                reference set and report recovery, bias and pass/fail.
+  3. solve      unmix sample scans into concentrations with uncertainties,
+                fit figures and quality flags.
+
+Try it on built-in invented data with:  huesolve demo
+
+Exit codes:
+  0  done, every input read and nothing flagged
+  1  failure: the command could not do its job
+  2  bad command line
+  3  done, but some input files could not be read (they are listed on stderr)
+  4  done, all inputs read, but some results are flagged or failed acceptance
+
+Caution: results support, but do not replace, a validated analytical method.
+For food, drug, water or other regulated testing follow local regulations,
+the validated procedure and the responsible licensed professional.`
+
+// newRootCmd builds the command tree.
+func newRootCmd() *cobra.Command {
+	root := &cobra.Command{
+		Use:           "huesolve",
+		Short:         "Unmix UV-Vis spectra of coloured mixtures into concentrations",
+		Long:          rootLong,
+		SilenceUsage:  true,
+		SilenceErrors: true,
+		Version:       version,
+	}
+	root.SetVersionTemplate("huesolve {{.Version}}\n")
+	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
+		return &usageError{err}
+	})
+	root.AddCommand(&cobra.Command{
+		Use:   "version",
+		Short: "Print the huesolve version",
+		Args:  cobra.NoArgs,
+		RunE: func(cmd *cobra.Command, args []string) error {
+			fmt.Fprintf(cmd.OutOrStdout(), "huesolve %s\n", version)
+			return nil
+		},
+	})
+	for _, c := range commands {
+		root.AddCommand(c())
+	}
+	return root
+}
+
+// Execute runs huesolve with args and returns the exit code. Tests call it
+// in-process.
+func Execute(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
+	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
+	defer stop()
+	root := newRootCmd()
+	root.SetArgs(args)
+	root.SetIn(stdin)
+	root.SetOut(stdout)
+	root.SetErr(stderr)
+	err := root.ExecuteContext(ctx)
+	if err == nil {
+		return exitOK
+	}
+	var ee *exitError
+	if errors.As(err, &ee) {
+		if ee.msg != "" {
+			fmt.Fprintln(stderr, "huesolve:", ee.msg)
+		}
+		return ee.code
+	}
+	fmt.Fprintln(stderr, "huesolve:", err)
+	var ue *usageError
+	if errors.As(err, &ue) {
+		fmt.Fprintln(stderr, "Run 'huesolve --help' for usage.")
+		return exitUsage
+	}
+	if errors.Is(err, context.Canceled) {
+		return exitInterrupt
+	}
+	return exitFailure
+}

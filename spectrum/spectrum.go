@@ -1,0 +1,212 @@
+// Package spectrum holds the Spectrum data type, wavelength grids
+// (checking, resampling, cropping), the conversion from transmittance to
+// absorbance, and every file format huesolve reads and writes (delimited
+// text in its common dialects and JCAMP-DX).
+//
+// Wavelengths are in nanometres and strictly increasing once a spectrum has
+// been loaded. Errors caused by files name the file, line and column (see
+// [ParseError]).
+package spectrum
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"strings"
+)
+
+// Quantity says what the values of a spectrum are.
+type Quantity int
+
+const (
+	// Unstated means the file did not say and no flag was given.
+	Unstated Quantity = iota
+	// Absorbance is decadic absorbance, A = -log10(T).
+	Absorbance
+	// PercentT is transmittance in percent, 0..100.
+	PercentT
+	// Transmittance is transmittance as a fraction, 0..1.
+	Transmittance
+)
+
+// String returns the name used in files and messages.
+func (q Quantity) String() string {
+	switch q {
+	case Absorbance:
+		return "absorbance"
+	case PercentT:
+		return "%T"
+	case Transmittance:
+		return "transmittance"
+	default:
+		return "unstated"
+	}
+}
+
+// ParseQuantity reads a quantity name as given on the command line:
+// "absorbance" (or "A", "abs"), "%T" (or "percent", "pct"), "T" (or
+// "transmittance"). Case is ignored.
+func ParseQuantity(s string) (Quantity, error) {
+	switch strings.ToLower(strings.TrimSpace(s)) {
+	case "a", "abs", "absorbance":
+		return Absorbance, nil
+	case "%t", "percent", "pct", "percentt", "%":
+		return PercentT, nil
+	case "t", "transmittance", "fraction":
+		return Transmittance, nil
+	case "", "auto":
+		return Unstated, nil
+	}
+	return Unstated, fmt.Errorf("spectrum: unknown quantity %q (want absorbance, %%T or T)", s)
+}
+
+// Source records where a spectrum came from.
+type Source struct {
+	File   string // path as given by the user
+	Column int    // 1-based column of the values in a delimited file; 0 if not applicable
+	Line   int    // 1-based line of the first data row (or of the data table in JCAMP-DX)
+}
+
+// String gives "file", "file column 3" and so on, for messages.
+func (s Source) String() string {
+	out := s.File
+	if out == "" {
+		out = "<input>"
+	}
+	if s.Column > 0 {
+		out += fmt.Sprintf(" column %d", s.Column)
+	}
+	return out
+}
+
+// Spectrum is one scan: values at wavelengths.
+//
+// Wavelengths may be shared between spectra read from one wide table; treat
+// the slice as read-only and Clone before changing it.
+type Spectrum struct {
+	Name        string
+	Wavelengths []float64 // nm, strictly increasing
+	Values      []float64
+	Quantity    Quantity
+	Source      Source
+}
+
+// Sentinel causes, tested with errors.Is.
+var (
+	// ErrTooDark marks a transmittance of zero or below: too concentrated to read.
+	ErrTooDark = errors.New("transmittance is zero or negative: the sample is too concentrated to read, dilute it and scan again")
+	// ErrOutOfRange marks a request for wavelengths outside the measured range.
+	ErrOutOfRange = errors.New("wavelengths outside the measured range")
+	// ErrGrid marks a wavelength grid that is not strictly increasing and finite.
+	ErrGrid = errors.New("bad wavelength grid")
+	// ErrNotSupported marks a file variant this reader refuses on purpose.
+	ErrNotSupported = errors.New("not supported")
+	// ErrEmpty marks a file or table with no data.
+	ErrEmpty = errors.New("no data")
+)
+
+// Len is the number of points.
+func (s *Spectrum) Len() int { return len(s.Values) }
+
+// Clone returns a deep copy.
+func (s *Spectrum) Clone() *Spectrum {
+	c := *s
+	c.Wavelengths = append([]float64(nil), s.Wavelengths...)
+	c.Values = append([]float64(nil), s.Values...)
+	return &c
+}
+
+// Check verifies the invariants: equal lengths, at least one point, finite
+// values, strictly increasing finite wavelengths.
+func (s *Spectrum) Check() error {
+	if len(s.Values) == 0 {
+		return fmt.Errorf("spectrum: %s: %w", s.Source, ErrEmpty)
+	}
+	if len(s.Values) != len(s.Wavelengths) {
+		return fmt.Errorf("spectrum: %s: %d values for %d wavelengths", s.Source, len(s.Values), len(s.Wavelengths))
+	}
+	if err := CheckGrid(s.Wavelengths); err != nil {
+		return fmt.Errorf("spectrum: %s: %w", s.Source, err)
+	}
+	for i, v := range s.Values {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return fmt.Errorf("spectrum: %s: value at %g nm is %v", s.Source, s.Wavelengths[i], v)
+		}
+	}
+	return nil
+}
+
+// CheckGrid reports an error wrapping ErrGrid unless wl is finite and
+// strictly increasing.
+func CheckGrid(wl []float64) error {
+	for i, w := range wl {
+		if math.IsNaN(w) || math.IsInf(w, 0) {
+			return fmt.Errorf("%w: wavelength %d is %v", ErrGrid, i+1, w)
+		}
+		if i > 0 && w <= wl[i-1] {
+			if w == wl[i-1] {
+				return fmt.Errorf("%w: duplicate wavelength %g nm", ErrGrid, w)
+			}
+			return fmt.Errorf("%w: wavelength %g nm follows %g nm (not increasing)", ErrGrid, w, wl[i-1])
+		}
+	}
+	return nil
+}
+
+// ToAbsorbance converts a transmittance or %T value to decadic absorbance,
+//
+//	A = -log10(T) = 2 - log10(%T).
+//
+// Absorbance passes through; Unstated is treated as absorbance. A
+// transmittance of zero or below returns ErrTooDark.
+func ToAbsorbance(q Quantity, v float64) (float64, error) {
+	switch q {
+	case PercentT:
+		if !(v > 0) {
+			return 0, ErrTooDark
+		}
+		return 2 - math.Log10(v), nil
+	case Transmittance:
+		if !(v > 0) {
+			return 0, ErrTooDark
+		}
+		return -math.Log10(v), nil
+	default:
+		return v, nil
+	}
+}
+
+// ValueError is a problem with one value of a spectrum, located by file
+// and wavelength.
+type ValueError struct {
+	Source     Source
+	Wavelength float64
+	Err        error
+}
+
+func (e *ValueError) Error() string {
+	return fmt.Sprintf("spectrum: %s at %g nm: %v", e.Source, e.Wavelength, e.Err)
+}
+
+func (e *ValueError) Unwrap() error { return e.Err }
+
+// ToAbsorbance converts s in place to absorbance. On a transmittance of
+// zero or below it returns a *ValueError wrapping ErrTooDark naming the
+// file and the first such wavelength, and leaves s unchanged.
+func (s *Spectrum) ToAbsorbance() error {
+	if s.Quantity == Absorbance || s.Quantity == Unstated {
+		s.Quantity = Absorbance
+		return nil
+	}
+	out := make([]float64, len(s.Values))
+	for i, v := range s.Values {
+		a, err := ToAbsorbance(s.Quantity, v)
+		if err != nil {
+			return &ValueError{Source: s.Source, Wavelength: s.Wavelengths[i], Err: err}
+		}
+		out[i] = a
+	}
+	s.Values = out
+	s.Quantity = Absorbance
+	return nil
+}
