@@ -1,0 +1,163 @@
+package demo
+
+import (
+	"bytes"
+	"math"
+	"os"
+	"path/filepath"
+	"testing"
+)
+
+func TestWriteIsDeterministic(t *testing.T) {
+	a, b := t.TempDir(), t.TempDir()
+	wa, err := New().Write(a)
+	if err != nil {
+		t.Fatal(err)
+	}
+	wb, err := New().Write(b)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(wa) != len(wb) || len(wa) == 0 {
+		t.Fatalf("wrote %d and %d files", len(wa), len(wb))
+	}
+	for i, rel := range wa {
+		if wb[i] != rel {
+			t.Fatalf("file %d: %s and %s", i, rel, wb[i])
+		}
+		da, err := os.ReadFile(filepath.Join(a, rel))
+		if err != nil {
+			t.Fatal(err)
+		}
+		db, err := os.ReadFile(filepath.Join(b, rel))
+		if err != nil {
+			t.Fatal(err)
+		}
+		if !bytes.Equal(da, db) {
+			t.Errorf("%s differs between two runs", rel)
+		}
+	}
+}
+
+// TestWriteCoversEverySheetEntry checks that every file a sheet names was
+// written.
+func TestWriteCoversEverySheetEntry(t *testing.T) {
+	dir := t.TempDir()
+	sc := New()
+	if _, err := sc.Write(dir); err != nil {
+		t.Fatal(err)
+	}
+	for _, group := range [][]Scan{sc.Standards, sc.Checks, sc.Samples} {
+		for _, s := range group {
+			if _, err := os.Stat(filepath.Join(dir, s.File)); err != nil {
+				t.Errorf("%s: %v", s.Name, err)
+			}
+		}
+	}
+	for _, f := range []string{StandardsSheet, ChecksSheet, SampleSheet, TruthFile} {
+		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
+			t.Error(err)
+		}
+	}
+}
+
+// TestMeasureNoiseFree checks the scan model without noise, offsets or
+// stray light against the additive Beer-Lambert law A = b·Σ ε_k c_k / d
+// plus the product-base background.
+func TestMeasureNoiseFree(t *testing.T) {
+	sc := New()
+	sc.NoiseFloor, sc.NoiseT, sc.OffsetSD, sc.StrayLight = 0, 0, 0, 0
+	s := Scan{Name: "x", Conc: []float64{3, 5, 7, 1}, Dilution: 2, PathCM: 0.5}
+	got := sc.Measure(&s)
+	for i, nm := range sc.Grid {
+		var want float64
+		for k, d := range sc.Dyes {
+			want += d.Absorptivity(nm) * s.Conc[k]
+		}
+		want = want*0.5/2 + 0.5*sc.background(nm)
+		// Measure goes through T = 10^-A and back: a few ulps.
+		if math.Abs(got[i]-want) > 1e-12 {
+			t.Fatalf("A(%g nm) = %g, want %g", nm, got[i], want)
+		}
+	}
+}
+
+// TestMeasureNoise checks that a blank's scatter about its true value has
+// the noise floor as its standard deviation (chi-square bounds for 401
+// points: the SD estimate lies within ±12 % with probability above 0.99).
+func TestMeasureNoise(t *testing.T) {
+	sc := New()
+	sc.OffsetSD = 0
+	blank := sc.Standards[0]
+	got := sc.Measure(&blank)
+	var ss float64
+	for i, nm := range sc.Grid {
+		d := got[i] - sc.TrueAbsorbance(&blank, nm)
+		ss += d * d
+	}
+	sd := math.Sqrt(ss / float64(len(got)))
+	if math.Abs(sd/sc.NoiseFloor-1) > 0.12 {
+		t.Errorf("blank noise SD = %g, want about %g", sd, sc.NoiseFloor)
+	}
+}
+
+// TestScenarioShape checks the promises the demo makes: five or more
+// levels per dye with replicates, the troubled samples present, and the
+// too-concentrated one reading above 2.5 while the others stay well below.
+func TestScenarioShape(t *testing.T) {
+	sc := New()
+	for k, d := range sc.Dyes {
+		count := map[float64]int{}
+		for _, s := range sc.Standards {
+			nonzero := 0
+			for _, c := range s.Conc {
+				if c != 0 {
+					nonzero++
+				}
+			}
+			if nonzero == 1 && s.Conc[k] != 0 {
+				count[s.Conc[k]]++
+			}
+		}
+		if len(count) < 5 {
+			t.Errorf("%s: %d levels, want 5 or more", d.Name, len(count))
+		}
+		for lv, n := range count {
+			if n < 2 {
+				t.Errorf("%s at %g: %d replicate(s)", d.Name, lv, n)
+			}
+		}
+	}
+	peak := func(s *Scan) float64 {
+		m := 0.0
+		for _, nm := range sc.Grid {
+			m = max(m, sc.TrueAbsorbance(s, nm))
+		}
+		return m
+	}
+	seen := map[Trouble]bool{}
+	for i := range sc.Samples {
+		s := &sc.Samples[i]
+		seen[s.Trouble] = true
+		p := peak(s)
+		switch s.Trouble {
+		case TooStrong:
+			if p < 2.5 {
+				t.Errorf("%s peaks at A = %.2f, want above 2.5", s.Name, p)
+			}
+		case NearLimit:
+			if p > 0.05 {
+				t.Errorf("%s peaks at A = %.3f, want a trace", s.Name, p)
+			}
+		default:
+			if p > 1.5 {
+				t.Errorf("%s peaks at A = %.2f, want below 1.5", s.Name, p)
+			}
+		}
+	}
+	for _, tr := range []Trouble{Normal, NearLimit, TooStrong, Turbid, UnlistedDye} {
+		if !seen[tr] {
+			t.Errorf("no sample with trouble %q", tr)
+		}
+	}
+}
