@@ -84,13 +84,13 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 			wide[s.File] = append(wide[s.File], s)
 			continue
 		case TwoColumn:
-			data = sc.twoColumn("absorbance", sc.Measure(s), 5)
+			data = sc.twoColumn(s.Name, "absorbance", sc.Measure(s), 5)
 		case PercentT:
 			a := sc.Measure(s)
 			for i := range a {
 				a[i] = 100 * math.Pow(10, -a[i])
 			}
-			data = sc.twoColumn("%T", a, 4)
+			data = sc.twoColumn(s.Name, "%T", a, 4)
 		case JCAMP:
 			data = sc.jcamp(s.Name, sc.Measure(s))
 		}
@@ -105,10 +105,10 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	}
 
 	// Sheets.
-	if err := put(StandardsSheet, sc.sheet(sc.Standards, false)); err != nil {
+	if err := put(StandardsSheet, sc.sheet("calibration standards; a row of zeros is a blank", sc.Standards, false)); err != nil {
 		return written, err
 	}
-	if err := put(ChecksSheet, sc.sheet(sc.Checks, true)); err != nil {
+	if err := put(ChecksSheet, sc.sheet("check standards of known composition", sc.Checks, true)); err != nil {
 		return written, err
 	}
 	var b bytes.Buffer
@@ -152,8 +152,14 @@ func (sc *Scenario) header() string {
 	return b.String()
 }
 
-func (sc *Scenario) twoColumn(quantity string, v []float64, prec int) []byte {
+// comment is the first line of every scan and standards sheet.
+func (sc *Scenario) comment(what string) string {
+	return "# " + sc.Lab + " (invented demo data): " + what + "\n"
+}
+
+func (sc *Scenario) twoColumn(name, quantity string, v []float64, prec int) []byte {
 	var b bytes.Buffer
+	b.WriteString(sc.comment("scan " + name + ", 1 nm steps"))
 	b.WriteString("wavelength_nm," + quantity + "\n")
 	for i, nm := range sc.Grid {
 		fmt.Fprintf(&b, "%s,%.*f\n", num(nm), prec, v[i])
@@ -164,6 +170,7 @@ func (sc *Scenario) twoColumn(quantity string, v []float64, prec int) []byte {
 func (sc *Scenario) wideTable(scans []*Scan) []byte {
 	cols := make([][]float64, len(scans))
 	var b bytes.Buffer
+	b.WriteString(sc.comment("absorbance scans, one per column"))
 	b.WriteString("wavelength_nm")
 	for i, s := range scans {
 		b.WriteString("," + s.Column)
@@ -180,8 +187,9 @@ func (sc *Scenario) wideTable(scans []*Scan) []byte {
 	return b.Bytes()
 }
 
-func (sc *Scenario) sheet(scans []Scan, withColumn bool) []byte {
+func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
 	var b bytes.Buffer
+	b.WriteString(sc.comment(what))
 	b.WriteString("scan")
 	if withColumn {
 		b.WriteString(",column")
