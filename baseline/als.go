@@ -3,7 +3,9 @@ package baseline
 import (
 	"errors"
 	"fmt"
+	"math"
 
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 )
 
@@ -13,13 +15,21 @@ import (
 // iterations (measured in the tests), and the cap leaves ample room.
 const alsMaxIter = 100
 
+// alsTieTol is the margin, relative to max |y|, by which a point must lie
+// above the background estimate to get the small weight p. It bounds the
+// rounding error of the banded solve, so that points the background passes
+// through (a straight stretch, or y = z exactly) do not flip their weight
+// on rounding alone and keep the iteration from settling.
+const alsTieTol = 1e-9
+
 // ALSBaseline estimates a smooth background z under y by asymmetric least
 // squares (P. H. C. Eilers & H. F. M. Boelens, "Baseline correction with
 // asymmetric least squares smoothing", 2005): it minimises
 //
 //	Σ w_i (y_i - z_i)² + lambda Σ (z_i - 2z_(i+1) + z_(i+2))²
 //
-// with w_i = p where y_i > z_i and 1-p elsewhere, starting from w = 1 and
+// with w_i = p where y_i > z_i (by more than a rounding margin) and 1-p
+// elsewhere, starting from w = 1 and
 // solving the pentadiagonal system (W + lambda D'D) z = W y by a banded
 // Cholesky factorisation until the weights no longer change (at most
 // alsMaxIter times). The differences run over the point index, so y
@@ -66,6 +76,7 @@ func ALSBaseline(dst, y []float64, lambda, p float64) ([]float64, int, error) {
 	rhs := mat.NewVecDense(n, nil)
 	z := mat.NewVecDense(n, dst)
 	var chol mat.BandCholesky
+	tie := alsTieTol * math.Max(floats.Max(y), -floats.Min(y))
 	for it := 1; it <= alsMaxIter; it++ {
 		copy(band, penalty)
 		for i := range n {
@@ -85,7 +96,7 @@ func ALSBaseline(dst, y []float64, lambda, p float64) ([]float64, int, error) {
 		changed := false
 		for i := range n {
 			nw := 1 - p
-			if y[i] > dst[i] {
+			if y[i] > dst[i]+tie {
 				nw = p
 			}
 			if nw != w[i] {

@@ -63,7 +63,9 @@
 //     0.001..0.1). Use it for broad, curved backgrounds under comparatively
 //     narrow bands (turbidity, slow lamp drift). Trade-off: a band
 //     about as broad as the background is partly taken as background, and
-//     the result depends on λ and P; check the treated spectra by eye.
+//     the result depends on λ and P, the estimate sits near the lower edge
+//     of the noise, and it is least certain at the ends of the range, where
+//     the smoother sees one side only; check the treated spectra by eye.
 //
 //   - Savitzky-Golay ("sg:WINDOW,ORDER[,DERIV]", Savitzky & Golay 1964,
 //     with the corrections of Steinier, Termonia & Deltour 1972) fits a
