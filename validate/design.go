@@ -1,0 +1,334 @@
+package validate
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+
+	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/mat"
+
+	"huesolve/baseline"
+	"huesolve/reference"
+)
+
+// Tolerances.
+const (
+	// rankTol bounds the singular values, relative to the largest, that
+	// are kept when projecting onto the span of other columns (each
+	// scaled to unit norm). Columns that are copies of each other up to
+	// rounding give singular values near 1e-16; real but poorly resolved
+	// compounds sit far above 1e-10.
+	rankTol = 1e-10
+	// noiseFloorFrac bounds how small a per-wavelength noise value may be
+	// relative to the median of the window: a wavelength where the
+	// calibration happened to fit exactly must not get infinite weight.
+	noiseFloorFrac = 1e-3
+)
+
+// maxCond is the largest condition number reported: 1/ε for float64.
+// Designs at this limit are marked singular.
+var maxCond = 1 / (math.Nextafter(1, 2) - 1)
+
+// Errors.
+var (
+	// ErrNoNoise: the reference set carries no usable noise model and no
+	// noise level was given.
+	ErrNoNoise = errors.New("validate: the reference set has no noise model; give a noise level")
+	// ErrWindow: the window keeps too few usable wavelengths.
+	ErrWindow = errors.New("validate: too few usable wavelengths in the window")
+	// ErrNotSelective: a compound cannot be told apart from the other
+	// compounds and baseline terms (see UnquantifiableError).
+	ErrNotSelective = errors.New("validate: compound cannot be told apart")
+)
+
+// design is the fit design over one window: compound columns b·ε, the
+// nuisance columns of the baseline model and the noise per row.
+type design struct {
+	idx      []int       // rows: indices into the set's grid
+	wl       []float64   // wavelengths of the rows (nm)
+	comp     [][]float64 // compound columns, one per compound, length len(idx)
+	nuis     [][]float64 // nuisance columns
+	nuisName []string
+	sigma    []float64 // noise SD per row (absorbance)
+}
+
+// usableRows returns the indices of grid points in [lo, hi] (lo = hi = 0:
+// the whole grid) where every compound is usable and the noise model is
+// finite.
+func usableRows(set *reference.Set, lo, hi float64) []int {
+	g := set.Grid
+	if lo == 0 && hi == 0 && len(g) > 0 {
+		lo, hi = g[0], g[len(g)-1]
+	}
+	var idx []int
+	for i, w := range g {
+		if w < lo || w > hi {
+			continue
+		}
+		ok := true
+		for _, c := range set.Compounds {
+			if len(c.Usable) == len(g) && !c.Usable[i] {
+				ok = false
+				break
+			}
+			if a := c.Absorptivity[i]; math.IsNaN(a) || math.IsInf(a, 0) {
+				ok = false
+				break
+			}
+		}
+		if ok && len(set.Noise) == len(g) {
+			if n := set.Noise[i]; math.IsNaN(n) || math.IsInf(n, 0) || n < 0 {
+				ok = false
+			}
+		}
+		if ok {
+			idx = append(idx, i)
+		}
+	}
+	return idx
+}
+
+// checkSet reports a set that cannot be worked with.
+func checkSet(set *reference.Set) error {
+	if set == nil || len(set.Compounds) == 0 {
+		return errors.New("validate: the reference set has no compounds")
+	}
+	for _, c := range set.Compounds {
+		if len(c.Absorptivity) != len(set.Grid) {
+			return fmt.Errorf("validate: compound %s has %d absorptivities for %d wavelengths", c.Name, len(c.Absorptivity), len(set.Grid))
+		}
+	}
+	return nil
+}
+
+// newDesign builds the design on the rows idx of set. path is the path
+// length in cm; sigma > 0 replaces the set's noise model by a constant.
+func newDesign(set *reference.Set, idx []int, model baseline.Model, path, sigma float64) (*design, error) {
+	d := &design{idx: idx, wl: make([]float64, len(idx))}
+	for r, i := range idx {
+		d.wl[r] = set.Grid[i]
+	}
+	for _, c := range set.Compounds {
+		col := make([]float64, len(idx))
+		for r, i := range idx {
+			col[r] = path * c.Absorptivity[i]
+		}
+		d.comp = append(d.comp, col)
+	}
+	if len(d.wl) == 0 {
+		return nil, ErrWindow
+	}
+	if err := model.Check(d.wl); err != nil {
+		return nil, fmt.Errorf("validate: baseline model on %g-%g nm: %w", d.wl[0], d.wl[len(d.wl)-1], err)
+	}
+	cols, _, names := model.Columns(d.wl)
+	d.nuis, d.nuisName = cols, names
+	s, err := noiseRows(set, idx, sigma)
+	if err != nil {
+		return nil, err
+	}
+	d.sigma = s
+	return d, nil
+}
+
+// noiseRows returns the noise SD on rows idx: sigma if > 0, else the set's
+// noise model floored at noiseFloorFrac times its median over the rows.
+func noiseRows(set *reference.Set, idx []int, sigma float64) ([]float64, error) {
+	out := make([]float64, len(idx))
+	if sigma > 0 {
+		for r := range out {
+			out[r] = sigma
+		}
+		return out, nil
+	}
+	if len(set.Noise) != len(set.Grid) {
+		return nil, ErrNoNoise
+	}
+	for r, i := range idx {
+		out[r] = set.Noise[i]
+	}
+	med := median(out)
+	if !(med > 0) {
+		return nil, ErrNoNoise
+	}
+	floor := noiseFloorFrac * med
+	for r, v := range out {
+		if v < floor {
+			out[r] = floor
+		}
+	}
+	return out, nil
+}
+
+func median(x []float64) float64 {
+	if len(x) == 0 {
+		return 0
+	}
+	s := append([]float64(nil), x...)
+	sort.Float64s(s)
+	n := len(s)
+	if n%2 == 1 {
+		return s[n/2]
+	}
+	return (s[n/2-1] + s[n/2]) / 2
+}
+
+// rms is the root mean square of x.
+func rms(x []float64) float64 {
+	if len(x) == 0 {
+		return 0
+	}
+	return floats.Norm(x, 2) / math.Sqrt(float64(len(x)))
+}
+
+// projector removes from vectors their component in the span of a set of
+// columns. The zero value removes nothing; set it up with reset.
+type projector struct {
+	u    *mat.Dense // orthonormal basis of the kept span (rows x rank)
+	rank int
+	svd  mat.SVD
+	buf  []float64
+	tmp  []float64
+}
+
+// reset factors the columns cols (each of length rows), scaled to unit
+// norm (all-zero columns are dropped), weighted row-wise by w when w is not
+// nil.
+func (p *projector) reset(rows int, cols [][]float64, w []float64) {
+	p.rank = 0
+	k := len(cols)
+	if k == 0 || rows == 0 {
+		return
+	}
+	need := rows * k
+	if cap(p.buf) < need {
+		p.buf = make([]float64, need)
+	}
+	a := mat.NewDense(rows, k, p.buf[:need])
+	nz := 0
+	for _, c := range cols {
+		var ss float64
+		for r := 0; r < rows; r++ {
+			v := c[r]
+			if w != nil {
+				v *= w[r]
+			}
+			ss += v * v
+		}
+		if !(ss > 0) {
+			continue
+		}
+		inv := 1 / math.Sqrt(ss)
+		for r := 0; r < rows; r++ {
+			v := c[r]
+			if w != nil {
+				v *= w[r]
+			}
+			a.Set(r, nz, v*inv)
+		}
+		nz++
+	}
+	if nz == 0 {
+		return
+	}
+	a = a.Slice(0, rows, 0, nz).(*mat.Dense)
+	if !p.svd.Factorize(a, mat.SVDThinU) {
+		// LAPACK's SVD converges on any finite matrix; reaching here
+		// means NaN or Inf slipped past the checks.
+		panic("validate: SVD did not converge on finite data")
+	}
+	sv := p.svd.Values(nil)
+	for _, s := range sv {
+		if s > rankTol*sv[0] {
+			p.rank++
+		}
+	}
+	if p.u == nil {
+		p.u = &mat.Dense{}
+	}
+	p.u.Reset()
+	p.svd.UTo(p.u)
+}
+
+// residual writes into dst the part of v orthogonal to the kept span (v
+// weighted by w first when w is not nil) and returns dst.
+func (p *projector) residual(dst, v, w []float64) []float64 {
+	n := len(v)
+	if dst == nil {
+		dst = make([]float64, n)
+	}
+	for r := range v {
+		dst[r] = v[r]
+		if w != nil {
+			dst[r] *= w[r]
+		}
+	}
+	if p.rank == 0 {
+		return dst
+	}
+	if cap(p.tmp) < p.rank {
+		p.tmp = make([]float64, p.rank)
+	}
+	coef := p.tmp[:p.rank]
+	for j := 0; j < p.rank; j++ {
+		var s float64
+		for r := 0; r < n; r++ {
+			s += p.u.At(r, j) * dst[r]
+		}
+		coef[j] = s
+	}
+	for r := 0; r < n; r++ {
+		row := p.u.RawRowView(r)[:p.rank]
+		dst[r] -= floats.Dot(row, coef)
+	}
+	return dst
+}
+
+// condScaled returns the 2-norm condition number of the columns cols
+// (weighted row-wise by w when not nil), each scaled to unit norm, and
+// whether it is at the limit maxCond (singular).
+func condScaled(rows int, cols [][]float64, w []float64) (float64, bool) {
+	k := len(cols)
+	if k == 0 || rows == 0 {
+		return 1, false
+	}
+	a := mat.NewDense(rows, k, nil)
+	for j, c := range cols {
+		var ss float64
+		for r := 0; r < rows; r++ {
+			v := c[r]
+			if w != nil {
+				v *= w[r]
+			}
+			ss += v * v
+		}
+		if !(ss > 0) {
+			return maxCond, true
+		}
+		inv := 1 / math.Sqrt(ss)
+		for r := 0; r < rows; r++ {
+			v := c[r]
+			if w != nil {
+				v *= w[r]
+			}
+			a.Set(r, j, v*inv)
+		}
+	}
+	var svd mat.SVD
+	if !svd.Factorize(a, mat.SVDNone) {
+		panic("validate: SVD did not converge on finite data")
+	}
+	sv := svd.Values(nil)
+	return clampCond(sv[0], sv[len(sv)-1])
+}
+
+// clampCond turns extreme singular values into a condition number capped
+// at maxCond.
+func clampCond(smax, smin float64) (float64, bool) {
+	if !(smin > 0) || smax/smin >= maxCond {
+		return maxCond, true
+	}
+	return smax / smin, false
+}
