@@ -1,12 +1,17 @@
-// Package reference builds, saves and loads reference sets: the
-// absorptivity spectrum of each pure compound with its standard error and
-// the noise model, made from calibration standards of known concentration.
 package reference
 
 import (
+	"bytes"
+	"crypto/sha256"
+	"encoding/hex"
+	"encoding/json"
 	"errors"
+	"fmt"
+	"math"
+	"os"
 
 	"huesolve/baseline"
+	"huesolve/internal/atomicfile"
 )
 
 // SchemaVersion is the version of the reference-set file format written by
@@ -18,12 +23,17 @@ type Compound struct {
 	Name string `json:"name"`
 	Unit string `json:"unit"` // concentration unit, e.g. "mg/L"; "" if not given
 	// Absorptivity per unit concentration per cm of path, on Set.Grid.
+	// Where Usable is false because no standard of the compound could be
+	// used at that wavelength, Absorptivity and SE are 0.
 	Absorptivity []float64 `json:"absorptivity"`
 	SE           []float64 `json:"absorptivity_se"`
 	// Usable is false at wavelengths where fewer than 3 levels stayed
 	// under the ceiling for this compound.
 	Usable []bool `json:"usable"`
-	// Intercept per wavelength when the calibration model had one.
+	// Intercept per wavelength when the calibration model had one, in
+	// absorbance at the standards' path length. The intercept is common to
+	// all compounds of a set (one per wavelength); it is repeated in each
+	// compound.
 	Intercept []float64 `json:"intercept,omitempty"`
 	// PeakNM is the wavelength of the largest absorptivity.
 	PeakNM float64 `json:"peak_nm"`
@@ -32,10 +42,18 @@ type Compound struct {
 	MaxStandard float64 `json:"max_standard"`
 	// Linearity at PeakNM.
 	Linearity Linearity `json:"linearity"`
+	// LeftOut counts the readings of standards holding this compound that
+	// were above the ceiling and left out of the fit, over all
+	// wavelengths.
+	LeftOut int `json:"left_out,omitempty"`
+	// Flags are the quality codes of this compound (see [Flags]).
+	Flags []string `json:"flags,omitempty"`
 }
 
 // Linearity describes the calibration line of one compound at its band
-// maximum.
+// maximum: absorbance (at the standards' path length, with the other
+// compounds' fitted contributions removed) against concentration, always
+// fitted with an intercept, as in ISO 8466-1.
 type Linearity struct {
 	Slope       float64 `json:"slope"`
 	Intercept   float64 `json:"intercept"`
@@ -43,18 +61,83 @@ type Linearity struct {
 	InterceptSE float64 `json:"intercept_se"`
 	R2          float64 `json:"r2"`
 	ResidualSD  float64 `json:"residual_sd"`
-	Levels      int     `json:"levels"`
+	// Levels is the number of distinct non-zero concentrations in the
+	// line; Points the number of readings.
+	Levels int `json:"levels"`
+	Points int `json:"points"`
 	// Lack-of-fit F test against pure error (needs replicates); P is NaN
 	// in memory and omitted in the file when there are none.
 	LackOfFitF float64 `json:"lack_of_fit_f,omitempty"`
 	LackOfFitP float64 `json:"lack_of_fit_p,omitempty"`
-	// Mandel's fitting test (linear vs quadratic, ISO 8466-1).
+	// Mandel's fitting test (linear vs quadratic, ISO 8466-1). NaN in
+	// memory and omitted in the file when there are too few points.
 	MandelF float64 `json:"mandel_f,omitempty"`
 	MandelP float64 `json:"mandel_p,omitempty"`
 	Curved  bool    `json:"curved"`
 	// Linear range: the concentrations over which the line holds.
 	RangeLo float64 `json:"range_lo"`
 	RangeHi float64 `json:"range_hi"`
+	// Data are the readings behind the line, for plots.
+	Data []Point `json:"data,omitempty"`
+}
+
+// Point is one reading of a calibration line.
+type Point struct {
+	Conc       float64 `json:"conc"`
+	Absorbance float64 `json:"absorbance"`
+	// Used is false for a reading left out (above the ceiling).
+	Used bool `json:"used"`
+}
+
+// linearityFile is Linearity as written: the statistics that may be NaN
+// are pointers, nil (omitted) when NaN.
+type linearityFile struct {
+	linearityPlain
+	LackOfFitF *float64 `json:"lack_of_fit_f,omitempty"`
+	LackOfFitP *float64 `json:"lack_of_fit_p,omitempty"`
+	MandelF    *float64 `json:"mandel_f,omitempty"`
+	MandelP    *float64 `json:"mandel_p,omitempty"`
+}
+
+type linearityPlain Linearity
+
+func finiteOrNil(v float64) *float64 {
+	if math.IsNaN(v) || math.IsInf(v, 0) {
+		return nil
+	}
+	return &v
+}
+
+func nanIfNil(p *float64) float64 {
+	if p == nil {
+		return math.NaN()
+	}
+	return *p
+}
+
+// MarshalJSON writes l, leaving out the test statistics that are NaN.
+func (l Linearity) MarshalJSON() ([]byte, error) {
+	return json.Marshal(linearityFile{
+		linearityPlain: linearityPlain(l),
+		LackOfFitF:     finiteOrNil(l.LackOfFitF),
+		LackOfFitP:     finiteOrNil(l.LackOfFitP),
+		MandelF:        finiteOrNil(l.MandelF),
+		MandelP:        finiteOrNil(l.MandelP),
+	})
+}
+
+// UnmarshalJSON reads l; test statistics absent from the file are NaN.
+func (l *Linearity) UnmarshalJSON(b []byte) error {
+	var f linearityFile
+	if err := json.Unmarshal(b, &f); err != nil {
+		return err
+	}
+	*l = Linearity(f.linearityPlain)
+	l.LackOfFitF = nanIfNil(f.LackOfFitF)
+	l.LackOfFitP = nanIfNil(f.LackOfFitP)
+	l.MandelF = nanIfNil(f.MandelF)
+	l.MandelP = nanIfNil(f.MandelP)
+	return nil
 }
 
 // Standard records one standard scan used to build the set.
@@ -63,6 +146,8 @@ type Standard struct {
 	Column string    `json:"column,omitempty"`
 	SHA256 string    `json:"sha256"`
 	Conc   []float64 `json:"conc"` // one per compound, in Compounds order
+	// Line is the line of the standards sheet the standard was read from.
+	Line int `json:"sheet_line,omitempty"`
 }
 
 // Provenance says how and from what a set was made.
@@ -73,6 +158,10 @@ type Provenance struct {
 	Sheet     string     `json:"sheet"`
 	Blank     string     `json:"blank,omitempty"` // blank scan file, or "sheet rows"
 	Standards []Standard `json:"standards"`
+	// BlankSHA256 is the SHA-256 of the separate blank scan file, if any.
+	BlankSHA256 string `json:"blank_sha256,omitempty"`
+	// Notes are the warnings given while the set was built.
+	Notes []string `json:"notes,omitempty"`
 }
 
 // Set is a reference set.
@@ -99,11 +188,205 @@ type Set struct {
 	Checksum string `json:"checksum"`
 }
 
-var errTODO = errors.New("reference: not yet written")
+// Sentinel causes of Load errors, tested with errors.Is.
+var (
+	// ErrTruncated: the file ends before the JSON document does.
+	ErrTruncated = errors.New("the file ends early (truncated or still being written)")
+	// ErrChecksum: the content does not match its checksum.
+	ErrChecksum = errors.New("checksum does not match the content: the file was changed after it was saved (edited by hand or damaged); build it again with huesolve calibrate")
+	// ErrNewerSchema: the file was written by a newer huesolve.
+	ErrNewerSchema = errors.New("the file uses a newer reference-set schema than this huesolve reads; update huesolve")
+	// ErrNotSet: the file is JSON but not a reference set.
+	ErrNotSet = errors.New("not a huesolve reference set")
+	// ErrInvalid: the content breaks an invariant of a reference set.
+	ErrInvalid = errors.New("invalid reference set")
+)
+
+// ComputeChecksum returns the SHA-256, in lower-case hex, of the canonical
+// content of s: its compact JSON encoding with the Checksum field empty.
+func (s *Set) ComputeChecksum() (string, error) {
+	c := *s
+	c.Checksum = ""
+	b, err := json.Marshal(&c)
+	if err != nil {
+		return "", fmt.Errorf("reference: encode set: %w", err)
+	}
+	sum := sha256.Sum256(b)
+	return hex.EncodeToString(sum[:]), nil
+}
+
+// Validate checks the invariants of a set: a strictly increasing grid of at
+// least two points, every per-wavelength slice on that grid, finite numbers
+// (no NaN or Inf except the optional test statistics), a positive path
+// length and a ceiling above the floor. Errors wrap ErrInvalid.
+func (s *Set) Validate() error {
+	bad := func(format string, a ...any) error {
+		return fmt.Errorf("%w: %s", ErrInvalid, fmt.Sprintf(format, a...))
+	}
+	n := len(s.Grid)
+	if n < 2 {
+		return bad("grid has %d points, need at least 2", n)
+	}
+	for i, w := range s.Grid {
+		if !finite(w) || (i > 0 && w <= s.Grid[i-1]) {
+			return bad("grid is not finite and strictly increasing at point %d (%g nm)", i+1, w)
+		}
+	}
+	if len(s.Compounds) == 0 {
+		return bad("no compounds")
+	}
+	if err := checkSlice("noise", s.Noise, n); err != nil {
+		return bad("%v", err)
+	}
+	for _, v := range s.Noise {
+		if v < 0 {
+			return bad("negative noise %g", v)
+		}
+	}
+	if !finite(s.PathCM) || s.PathCM <= 0 {
+		return bad("path length %g cm is not positive", s.PathCM)
+	}
+	if !finite(s.Ceiling) || !finite(s.Floor) || s.Floor < 0 || s.Ceiling <= s.Floor {
+		return bad("ceiling %g and floor %g: need 0 <= floor < ceiling", s.Ceiling, s.Floor)
+	}
+	seen := map[string]bool{}
+	for _, c := range s.Compounds {
+		if c.Name == "" {
+			return bad("a compound has no name")
+		}
+		if seen[c.Name] {
+			return bad("compound %q appears twice", c.Name)
+		}
+		seen[c.Name] = true
+		if err := checkSlice("absorptivity", c.Absorptivity, n); err != nil {
+			return bad("compound %q: %v", c.Name, err)
+		}
+		if err := checkSlice("absorptivity SE", c.SE, n); err != nil {
+			return bad("compound %q: %v", c.Name, err)
+		}
+		if len(c.Usable) != n {
+			return bad("compound %q: %d usable marks for %d wavelengths", c.Name, len(c.Usable), n)
+		}
+		if s.Intercept && c.Intercept != nil {
+			if err := checkSlice("intercept", c.Intercept, n); err != nil {
+				return bad("compound %q: %v", c.Name, err)
+			}
+		}
+		l := c.Linearity
+		for _, v := range []float64{c.PeakNM, c.MinStandard, c.MaxStandard, l.Slope, l.Intercept, l.SlopeSE,
+			l.InterceptSE, l.R2, l.ResidualSD, l.RangeLo, l.RangeHi} {
+			if !finite(v) {
+				return bad("compound %q: a linearity figure is %v", c.Name, v)
+			}
+		}
+		for _, p := range l.Data {
+			if !finite(p.Conc) || !finite(p.Absorbance) {
+				return bad("compound %q: a calibration point is not finite", c.Name)
+			}
+		}
+	}
+	for i, st := range s.Provenance.Standards {
+		if len(st.Conc) != len(s.Compounds) {
+			return bad("standard %d (%s) has %d concentrations for %d compounds", i+1, st.File, len(st.Conc), len(s.Compounds))
+		}
+		for _, v := range st.Conc {
+			if !finite(v) || v < 0 {
+				return bad("standard %d (%s) has concentration %v", i+1, st.File, v)
+			}
+		}
+	}
+	return nil
+}
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
+
+func checkSlice(what string, v []float64, n int) error {
+	if len(v) != n {
+		return fmt.Errorf("%d %s values for %d wavelengths", len(v), what, n)
+	}
+	for i, x := range v {
+		if !finite(x) {
+			return fmt.Errorf("%s at point %d is %v", what, i+1, x)
+		}
+	}
+	return nil
+}
 
 // Load reads a reference set, refusing files that are truncated, whose
 // checksum does not match, or whose schema is newer than SchemaVersion.
-func Load(path string) (*Set, error) { return nil, errTODO }
+// Errors name the file and wrap ErrTruncated, ErrChecksum, ErrNewerSchema,
+// ErrNotSet or ErrInvalid.
+func Load(path string) (*Set, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("reference: %w", err)
+	}
+	fail := func(err error) (*Set, error) { return nil, fmt.Errorf("reference: %s: %w", path, err) }
+	if len(bytes.TrimSpace(data)) == 0 {
+		return fail(fmt.Errorf("%w: the file is empty", ErrTruncated))
+	}
+	var head struct {
+		Schema *int `json:"schema"`
+	}
+	if err := json.Unmarshal(data, &head); err != nil {
+		var se *json.SyntaxError
+		if errors.As(err, &se) {
+			if se.Offset >= int64(len(bytes.TrimRight(data, " \t\r\n"))) {
+				return fail(ErrTruncated)
+			}
+			line := 1 + bytes.Count(data[:se.Offset], []byte("\n"))
+			return fail(fmt.Errorf("%w: not valid JSON at line %d: %v", ErrNotSet, line, se))
+		}
+		return fail(fmt.Errorf("%w: %v", ErrNotSet, err))
+	}
+	switch {
+	case head.Schema == nil:
+		return fail(fmt.Errorf("%w: no schema field", ErrNotSet))
+	case *head.Schema > SchemaVersion:
+		return fail(fmt.Errorf("%w (file schema %d, this build reads up to %d)", ErrNewerSchema, *head.Schema, SchemaVersion))
+	case *head.Schema < 1:
+		return fail(fmt.Errorf("%w: schema %d", ErrNotSet, *head.Schema))
+	}
+	s := new(Set)
+	if err := json.Unmarshal(data, s); err != nil {
+		return fail(fmt.Errorf("%w: %v", ErrNotSet, err))
+	}
+	if s.Checksum == "" {
+		return fail(fmt.Errorf("%w: the file has no checksum", ErrChecksum))
+	}
+	sum, err := s.ComputeChecksum()
+	if err != nil {
+		return fail(err)
+	}
+	if sum != s.Checksum {
+		return fail(ErrChecksum)
+	}
+	if err := s.Validate(); err != nil {
+		return fail(err)
+	}
+	return s, nil
+}
 
-// Save writes s atomically, setting its checksum.
-func (s *Set) Save(path string) error { return errTODO }
+// Save checks s (see Validate), sets its Schema to SchemaVersion and its
+// checksum, and writes it atomically as indented JSON. Floats are written
+// in the shortest form that reads back to the same float64.
+func (s *Set) Save(path string) error {
+	s.Schema = SchemaVersion
+	if err := s.Validate(); err != nil {
+		return fmt.Errorf("reference: save %s: %w", path, err)
+	}
+	sum, err := s.ComputeChecksum()
+	if err != nil {
+		return fmt.Errorf("reference: save %s: %w", path, err)
+	}
+	s.Checksum = sum
+	b, err := json.MarshalIndent(s, "", "  ")
+	if err != nil {
+		return fmt.Errorf("reference: save %s: %w", path, err)
+	}
+	b = append(b, '\n')
+	if err := atomicfile.WriteBytes(path, b); err != nil {
+		return fmt.Errorf("reference: %w", err)
+	}
+	return nil
+}

@@ -1,0 +1,663 @@
+package reference
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+	"time"
+
+	"gonum.org/v1/gonum/mat"
+
+	"huesolve/baseline"
+	"huesolve/spectrum"
+	"huesolve/unmix/lsq"
+)
+
+const (
+	// DefaultCeiling is the absorbance above which readings are left out
+	// when no ceiling is given. Stray light bends readings above about
+	// A = 2 on ordinary instruments: common practice, not a property of
+	// any one instrument.
+	DefaultCeiling = 2.0
+	// DefaultPathCM is the path length when none is given: the common
+	// 1 cm cuvette.
+	DefaultPathCM = 1.0
+
+	// minLevels is the fewest distinct non-zero concentrations of a
+	// compound that must remain under the ceiling at a wavelength for its
+	// absorptivity there to be usable; two levels always fit a line
+	// exactly, so three is the least that can show a misfit.
+	minLevels = 3
+	// usualLevels is the number of levels per compound below which the
+	// few-levels flag is raised: five or more levels spanning the working
+	// range is common practice (ISO 8466-1 asks for ten; recalled from
+	// memory).
+	usualLevels = 5
+	// maxDesignCond bounds the 2-norm condition number of the
+	// concentration design with each column scaled to unit length.
+	// Standard errors of the absorptivities grow roughly in proportion to
+	// it, so beyond 1e3 an absorbance noise of 0.001 becomes an
+	// uncertainty of the order of a whole absorbance unit: this project's
+	// choice.
+	maxDesignCond = 1e3
+	// rankTol is the smallest singular value of the column-scaled design,
+	// relative to the largest, below which columns count as linearly
+	// dependent (a few hundred ulps).
+	rankTol = 1e-13
+	// gridSlack is the relative slack (of the span) allowed when checking
+	// that a scan covers the window, so wavelengths rounded in a file
+	// still match; it equals the spectrum package's own.
+	gridSlack = 1e-9
+)
+
+// Version is the tool version recorded in a set's provenance when
+// Options.Version is empty.
+var Version = "dev"
+
+// Options control Build. Zero values mean the documented defaults.
+type Options struct {
+	// WindowLo and WindowHi (nm) limit the grid; both 0 means the range
+	// every scan covers.
+	WindowLo, WindowHi float64
+	// PathCM is the path length the standards were scanned at (default
+	// DefaultPathCM).
+	PathCM float64
+	// Ceiling is the absorbance above which a reading is left out
+	// (default DefaultCeiling); Floor the detector floor (default 0, none).
+	Ceiling, Floor float64
+	// ThroughOrigin fits absorbance = K c with no intercept; otherwise
+	// absorbance = K c + intercept at each wavelength.
+	ThroughOrigin bool
+	// Pretreat steps are applied to every blank-corrected standard.
+	Pretreat []baseline.Step
+	// Blank, if not nil, is the blank scan subtracted from every standard;
+	// the sheet's blank rows then enter the fit as zero-concentration
+	// standards. If nil, the mean of the sheet's blank rows is the blank.
+	Blank *spectrum.Spectrum
+	// BlankSHA256 is the hash of Blank's file, for the provenance.
+	BlankSHA256 string
+	// Warn receives notes on what Build did (grids interpolated, readings
+	// left out); nil discards them. They are also kept in the provenance.
+	Warn func(msg string)
+	// Version is the tool version for the provenance (default Version).
+	Version string
+	// Now gives the creation time (default time.Now), for reproducible
+	// tests.
+	Now func() time.Time
+}
+
+// Sentinel causes of Build errors, tested with errors.Is.
+var (
+	// ErrDesign: the concentrations cannot separate the compounds.
+	ErrDesign = errors.New("the concentration design cannot separate the compounds")
+	// ErrWindow: a scan does not cover the window, or the window is empty.
+	ErrWindow = errors.New("scan does not cover the window")
+	// ErrTooFewStandards: not enough standards, levels or readings.
+	ErrTooFewStandards = errors.New("too few standards")
+)
+
+// Build makes a reference set from a standards sheet with its scans
+// loaded. It is pure computation; nothing is read or written.
+//
+// Steps: the scans are brought onto one grid (the first standard's points
+// within the window, or within the range all scans share; others are
+// interpolated linearly and Warn says so); the blank is subtracted at each
+// wavelength; the pre-treatment steps are applied; then at each wavelength
+// l the absorbances of the standards are fitted by least squares (QR, via
+// package lsq) on their concentrations,
+//
+//	A(i, l) = b * sum_k eps_k(l) c(i, k) [+ a0(l)] + e(i, l),
+//
+// which is the classical K-matrix calibration K = (C'C)^-1 C'A done without
+// forming C'C; pure standards are its diagonal special case. eps = K / b
+// is the absorptivity per unit concentration per cm. Readings above the
+// ceiling (as read, before blank correction) are left out of that
+// wavelength's fit and counted; a compound left with fewer than 3 levels at
+// a wavelength is marked unusable there. The residual standard deviation
+// at each wavelength is the noise model. At each compound's band maximum
+// the calibration line is tested (see Linearity).
+//
+// Errors name the sheet row or file where one is to blame: a negative or
+// non-finite concentration, a compound that never varies, a design that
+// cannot separate the compounds (rank deficient, or column-scaled
+// condition number above 1e3: ErrDesign), a scan not covering the window
+// (ErrWindow), fewer standards than coefficients plus one
+// (ErrTooFewStandards).
+func Build(sh *Sheet, opt Options) (*Set, error) {
+	var notes []string
+	warn := func(format string, a ...any) {
+		msg := fmt.Sprintf(format, a...)
+		notes = append(notes, msg)
+		if opt.Warn != nil {
+			opt.Warn(msg)
+		}
+	}
+	if sh == nil || len(sh.Standards) == 0 {
+		return nil, fmt.Errorf("reference: build: %w: the sheet has no standards", ErrTooFewStandards)
+	}
+	m := len(sh.Compounds)
+	if m == 0 {
+		return nil, fmt.Errorf("reference: build: %s: no compounds", sh.Path)
+	}
+	if len(sh.Units) != m {
+		return nil, fmt.Errorf("reference: build: %s: %d units for %d compounds", sh.Path, len(sh.Units), m)
+	}
+	rowErr := func(r Row, err error) error {
+		return &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: err}
+	}
+
+	// Options and their defaults.
+	path := opt.PathCM
+	if path == 0 {
+		path = DefaultPathCM
+	}
+	ceiling := opt.Ceiling
+	if ceiling == 0 {
+		ceiling = DefaultCeiling
+	}
+	floor := opt.Floor
+	switch {
+	case !finite(path) || path <= 0:
+		return nil, fmt.Errorf("reference: build: path length %g cm must be positive", path)
+	case !finite(ceiling) || !finite(floor) || floor < 0 || ceiling <= floor:
+		return nil, fmt.Errorf("reference: build: ceiling %g and floor %g: need 0 <= floor < ceiling", ceiling, floor)
+	}
+	intercept := !opt.ThroughOrigin
+
+	// The rows that enter the fit.
+	fit := append([]Row(nil), sh.Standards...)
+	if opt.Blank != nil {
+		fit = append(fit, sh.Blanks...)
+	}
+	for _, r := range append(append([]Row(nil), fit...), sh.Blanks...) {
+		if r.Scan == nil {
+			return nil, rowErr(r, fmt.Errorf("%w: %s: no scan loaded", ErrScanFile, r.File))
+		}
+		if err := r.Scan.Check(); err != nil {
+			return nil, rowErr(r, err)
+		}
+		if len(r.Conc) != m {
+			return nil, rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", ErrConcentration, len(r.Conc), m))
+		}
+		for k, v := range r.Conc {
+			if !finite(v) || v < 0 {
+				return nil, rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", ErrConcentration, sh.Compounds[k], v))
+			}
+		}
+	}
+	for k, name := range sh.Compounds {
+		varies := false
+		for _, r := range fit[1:] {
+			if r.Conc[k] != fit[0].Conc[k] {
+				varies = true
+				break
+			}
+		}
+		if !varies {
+			return nil, fmt.Errorf("reference: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, ErrNoVariation, name, fit[0].Conc[k])
+		}
+	}
+	ncoef := m
+	if intercept {
+		ncoef++
+	}
+	if len(fit) <= ncoef {
+		return nil, fmt.Errorf("reference: build: %s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
+			sh.Path, ErrTooFewStandards, len(fit), ncoef, ncoef+1)
+	}
+	if err := checkDesign(fit, sh.Compounds, intercept); err != nil {
+		return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
+	}
+
+	// Common grid.
+	grid, err := commonGrid(sh, fit, opt, warn)
+	if err != nil {
+		return nil, err
+	}
+	p := len(grid)
+	var blank []float64
+	prov := Provenance{Tool: "huesolve", Version: opt.Version, Sheet: sh.Path}
+	if prov.Version == "" {
+		prov.Version = Version
+	}
+	switch {
+	case opt.Blank != nil:
+		b := opt.Blank.Clone()
+		if err := b.ToAbsorbance(); err != nil {
+			return nil, fmt.Errorf("reference: blank: %w", err)
+		}
+		if blank, _, err = onGrid(b, grid); err != nil {
+			return nil, fmt.Errorf("reference: blank %s: %w", b.Source, err)
+		}
+		prov.Blank = b.Source.File
+		if prov.Blank == "" {
+			prov.Blank = b.Name
+		}
+		prov.BlankSHA256 = opt.BlankSHA256
+	case len(sh.Blanks) > 0:
+		blank = make([]float64, p)
+		for _, r := range sh.Blanks {
+			v, _, err := onGrid(r.Scan, grid)
+			if err != nil {
+				return nil, rowErr(r, err)
+			}
+			for j := range blank {
+				blank[j] += v[j]
+			}
+		}
+		for j := range blank {
+			blank[j] /= float64(len(sh.Blanks))
+		}
+		prov.Blank = "sheet rows"
+	default:
+		if intercept {
+			warn("no blank given and no blank rows in %s: absorbances are used as read (the intercept takes up the solvent and cell)", sh.Path)
+		} else {
+			warn("no blank given and no blank rows in %s: absorbances are used as read, so the solvent and cell count as analyte absorbance in a through-origin fit", sh.Path)
+		}
+	}
+
+	// Raw readings, ceiling mask, corrected and pre-treated absorbances.
+	n := len(fit)
+	raw := mat.NewDense(n, p, nil)
+	abs := mat.NewDense(n, p, nil)
+	for i, r := range fit {
+		v, _, err := onGrid(r.Scan, grid)
+		if err != nil {
+			return nil, rowErr(r, err)
+		}
+		raw.SetRow(i, v)
+		if blank != nil {
+			for j := range v {
+				v[j] -= blank[j]
+			}
+		}
+		t, err := baseline.ApplyAll(opt.Pretreat, grid, v)
+		if err != nil {
+			return nil, rowErr(r, fmt.Errorf("pre-treatment of %s: %w", r.File, err))
+		}
+		if len(t) != p {
+			return nil, rowErr(r, fmt.Errorf("pre-treatment of %s returned %d points for %d", r.File, len(t), p))
+		}
+		for j, x := range t {
+			if !finite(x) {
+				return nil, rowErr(r, fmt.Errorf("pre-treatment of %s gave %v at %g nm", r.File, x, grid[j]))
+			}
+		}
+		abs.SetRow(i, t)
+	}
+	keep := make([][]bool, n)
+	for i := range keep {
+		keep[i] = make([]bool, p)
+		for j, v := range raw.RawRowView(i) {
+			keep[i][j] = v <= ceiling
+		}
+	}
+
+	// Per-wavelength least squares, one solver per distinct row mask.
+	set := &Set{
+		Schema:    SchemaVersion,
+		Grid:      grid,
+		Compounds: make([]Compound, m),
+		Noise:     make([]float64, p),
+		PathCM:    path,
+		Ceiling:   ceiling,
+		Floor:     floor,
+		Intercept: intercept,
+		Pretreat:  append([]baseline.Step(nil), opt.Pretreat...),
+	}
+	kraw := make([][]float64, m) // fitted K*b, absorbance per unit concentration
+	var icpt []float64
+	if intercept {
+		icpt = make([]float64, p)
+	}
+	for k := range set.Compounds {
+		c := &set.Compounds[k]
+		c.Name, c.Unit = sh.Compounds[k], sh.Units[k]
+		c.Absorptivity = make([]float64, p)
+		c.SE = make([]float64, p)
+		c.Usable = make([]bool, p)
+		kraw[k] = make([]float64, p)
+	}
+	fits := map[string]*maskFit{}
+	key := make([]byte, n)
+	solved := make([]bool, p)
+	leftOut := 0
+	for j := range p {
+		for i := range n {
+			key[i] = '0'
+			if keep[i][j] {
+				key[i] = '1'
+			} else {
+				leftOut++
+				for k := range m {
+					if fit[i].Conc[k] > 0 {
+						set.Compounds[k].LeftOut++
+					}
+				}
+			}
+		}
+		mf, ok := fits[string(key)]
+		if !ok {
+			mf = newMaskFit(fit, keep, j, m, intercept)
+			fits[string(key)] = mf
+		}
+		if mf.solver == nil {
+			continue
+		}
+		for r, i := range mf.rows {
+			mf.y[r] = abs.At(i, j)
+		}
+		if err := mf.solver.Solve(&mf.res, mf.y); err != nil {
+			return nil, fmt.Errorf("reference: build: least squares at %g nm: %w", grid[j], err)
+		}
+		if mf.res.DoF <= 0 {
+			continue
+		}
+		solved[j] = true
+		for q, k := range mf.comps {
+			c := &set.Compounds[k]
+			kraw[k][j] = mf.res.Coef[q]
+			c.Absorptivity[j] = mf.res.Coef[q] / path
+			c.SE[j] = mf.res.SE[q] / path
+			c.Usable[j] = mf.levelsOK[q]
+		}
+		if intercept {
+			icpt[j] = mf.res.Coef[len(mf.comps)]
+		}
+		set.Noise[j] = math.Sqrt(mf.res.RSS / float64(mf.res.DoF))
+	}
+	if leftOut > 0 {
+		warn("%d readings above the ceiling (A > %g) were left out of the fit", leftOut, ceiling)
+	}
+	nsolved, worst := 0, 0.0
+	for j, ok := range solved {
+		if ok {
+			nsolved++
+			worst = max(worst, set.Noise[j])
+		}
+	}
+	if nsolved == 0 {
+		return nil, fmt.Errorf("reference: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
+			sh.Path, ErrTooFewStandards, ceiling)
+	}
+	if nsolved < p {
+		for j, ok := range solved {
+			if !ok {
+				set.Noise[j] = worst
+			}
+		}
+		warn("at %d of %d wavelengths too few standards stayed under the ceiling to fit; no compound is usable there (noise set to the largest found, %.3g)",
+			p-nsolved, p, worst)
+	}
+
+	// Per compound: band maximum, standards range, linearity.
+	for k := range set.Compounds {
+		c := &set.Compounds[k]
+		if intercept {
+			c.Intercept = icpt
+		}
+		jp := -1
+		for j := range p {
+			if c.Usable[j] && (jp < 0 || c.Absorptivity[j] > c.Absorptivity[jp]) {
+				jp = j
+			}
+		}
+		if jp < 0 {
+			return nil, fmt.Errorf("reference: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
+				sh.Path, ErrTooFewStandards, c.Name, minLevels, ceiling)
+		}
+		c.PeakNM = grid[jp]
+		c.MinStandard, c.MaxStandard = math.Inf(1), 0
+		for _, r := range fit {
+			if v := r.Conc[k]; v > 0 {
+				c.MinStandard = min(c.MinStandard, v)
+				c.MaxStandard = max(c.MaxStandard, v)
+			}
+		}
+		var pts []Point
+		clipped := false
+		for i, r := range fit {
+			if r.Conc[k] == 0 && !allZero(r.Conc) {
+				continue
+			}
+			y := abs.At(i, jp)
+			for l := range m {
+				if l != k {
+					y -= r.Conc[l] * kraw[l][jp]
+				}
+			}
+			pts = append(pts, Point{Conc: r.Conc[k], Absorbance: y, Used: keep[i][jp]})
+			if !keep[i][jp] {
+				clipped = true
+			}
+		}
+		lin, err := lineTest(pts, floor)
+		if err != nil {
+			return nil, fmt.Errorf("reference: build: %s: %s at %g nm: %w", sh.Path, c.Name, c.PeakNM, err)
+		}
+		c.Linearity = lin
+		c.Flags = compoundFlags(lin, clipped, floor)
+	}
+
+	// Provenance.
+	now := time.Now
+	if opt.Now != nil {
+		now = opt.Now
+	}
+	prov.Created = now().UTC().Format(time.RFC3339)
+	for _, r := range append(append([]Row(nil), sh.Standards...), sh.Blanks...) {
+		prov.Standards = append(prov.Standards, Standard{
+			File: r.File, Column: r.Column, SHA256: r.SHA256,
+			Conc: append([]float64(nil), r.Conc...), Line: r.Line,
+		})
+	}
+	sort.SliceStable(prov.Standards, func(a, b int) bool { return prov.Standards[a].Line < prov.Standards[b].Line })
+	prov.Notes = notes
+	set.Provenance = prov
+	if err := set.Validate(); err != nil {
+		return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
+	}
+	return set, nil
+}
+
+func allZero(c []float64) bool {
+	for _, v := range c {
+		if v != 0 {
+			return false
+		}
+	}
+	return true
+}
+
+// maskFit is the least-squares problem for one set of rows kept under the
+// ceiling: a solver, its workspace and which compounds it holds.
+type maskFit struct {
+	rows     []int  // fit rows kept
+	comps    []int  // compounds with some non-zero concentration in rows
+	levelsOK []bool // per comps entry: at least minLevels levels
+	solver   *lsq.Solver
+	res      lsq.Result
+	y        []float64
+}
+
+// newMaskFit sets up the fit for the rows kept at wavelength j. The solver
+// is nil when the rows cannot determine the coefficients.
+func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) *maskFit {
+	mf := &maskFit{}
+	for i := range fit {
+		if keep[i][j] {
+			mf.rows = append(mf.rows, i)
+		}
+	}
+	for k := range m {
+		levels := map[float64]bool{}
+		for _, i := range mf.rows {
+			if v := fit[i].Conc[k]; v > 0 {
+				levels[v] = true
+			}
+		}
+		if len(levels) > 0 {
+			mf.comps = append(mf.comps, k)
+			mf.levelsOK = append(mf.levelsOK, len(levels) >= minLevels)
+		}
+	}
+	nc := len(mf.comps)
+	if intercept {
+		nc++
+	}
+	if len(mf.comps) == 0 || len(mf.rows) <= nc {
+		return mf
+	}
+	x := mat.NewDense(len(mf.rows), nc, nil)
+	for r, i := range mf.rows {
+		for q, k := range mf.comps {
+			x.Set(r, q, fit[i].Conc[k])
+		}
+		if intercept {
+			x.Set(r, nc-1, 1)
+		}
+	}
+	s, err := lsq.NewSolver(x, make([]bool, nc), lsq.Options{})
+	if err != nil {
+		// Rank deficient on this subset of rows: nothing is usable here.
+		return mf
+	}
+	mf.solver = s
+	mf.y = make([]float64, len(mf.rows))
+	return mf
+}
+
+// checkDesign refuses a concentration design (with its intercept column)
+// that is rank deficient or badly conditioned once each column is scaled
+// to unit length.
+func checkDesign(fit []Row, names []string, intercept bool) error {
+	m := len(names)
+	nc := m
+	if intercept {
+		nc++
+	}
+	x := mat.NewDense(len(fit), nc, nil)
+	for i, r := range fit {
+		for k := range m {
+			x.Set(i, k, r.Conc[k])
+		}
+		if intercept {
+			x.Set(i, m, 1)
+		}
+	}
+	for q := range nc {
+		col := mat.Col(nil, q, x)
+		norm := 0.0
+		for _, v := range col {
+			norm = math.Hypot(norm, v)
+		}
+		for i := range col {
+			x.Set(i, q, col[i]/norm)
+		}
+	}
+	var svd mat.SVD
+	if !svd.Factorize(x, mat.SVDNone) {
+		return fmt.Errorf("%w: the singular value decomposition of the design failed", ErrDesign)
+	}
+	sv := svd.Values(nil)
+	hint := "vary each compound on its own, for example with pure standards of each"
+	if sv[len(sv)-1] <= rankTol*sv[0] {
+		return fmt.Errorf("%w: the concentrations of %s are linearly dependent across the standards (%s)", ErrDesign, designNames(names, intercept), hint)
+	}
+	if c := sv[0] / sv[len(sv)-1]; c > maxDesignCond {
+		return fmt.Errorf("%w: the concentrations of %s vary too nearly together (condition number %.3g, limit %g; %s)", ErrDesign, designNames(names, intercept), c, maxDesignCond, hint)
+	}
+	return nil
+}
+
+func designNames(names []string, intercept bool) string {
+	s := fmt.Sprint(names)
+	if intercept {
+		s += " and the intercept"
+	}
+	return s
+}
+
+// commonGrid chooses the grid: the first standard's wavelengths within the
+// window, or within the range all scans share.
+func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([]float64, error) {
+	rows := append(append([]Row(nil), fit...), sh.Blanks...)
+	first := sh.Standards[0].Scan.Wavelengths
+	var lo, hi float64
+	if opt.WindowLo != 0 || opt.WindowHi != 0 {
+		lo, hi = opt.WindowLo, opt.WindowHi
+		if !finite(lo) || !finite(hi) || lo >= hi || lo < 0 {
+			return nil, fmt.Errorf("reference: build: %w: window %g-%g nm is empty", ErrWindow, lo, hi)
+		}
+		covers := func(wl []float64) bool {
+			s := gridSlack * (wl[len(wl)-1] - wl[0])
+			return wl[0] <= lo+s && wl[len(wl)-1] >= hi-s
+		}
+		for _, r := range rows {
+			if wl := r.Scan.Wavelengths; !covers(wl) {
+				return nil, &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: fmt.Errorf("%w: %s covers %g-%g nm, the window is %g-%g nm",
+					ErrWindow, r.File, wl[0], wl[len(wl)-1], lo, hi)}
+			}
+		}
+		if b := opt.Blank; b != nil && !covers(b.Wavelengths) {
+			return nil, fmt.Errorf("reference: build: %w: blank %s covers %g-%g nm, the window is %g-%g nm",
+				ErrWindow, b.Source, b.Wavelengths[0], b.Wavelengths[len(b.Wavelengths)-1], lo, hi)
+		}
+	} else {
+		ss := make([]*spectrum.Spectrum, 0, len(rows)+1)
+		for _, r := range rows {
+			ss = append(ss, r.Scan)
+		}
+		if opt.Blank != nil {
+			ss = append(ss, opt.Blank)
+		}
+		var err error
+		if lo, hi, err = spectrum.CommonRange(ss); err != nil {
+			return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
+		}
+		if lo > first[0] || hi < first[len(first)-1] {
+			warn("the scans share %g-%g nm only; the grid is limited to that range", lo, hi)
+		}
+	}
+	s := gridSlack * (first[len(first)-1] - first[0])
+	var grid []float64
+	for _, w := range first {
+		if w >= lo-s && w <= hi+s {
+			grid = append(grid, w)
+		}
+	}
+	if len(grid) < 2 {
+		return nil, fmt.Errorf("reference: build: %w: %s has %d points within %g-%g nm; need at least 2",
+			ErrWindow, sh.Standards[0].File, len(grid), lo, hi)
+	}
+	moved := 0
+	for _, r := range rows {
+		if _, resampled, err := onGrid(r.Scan, grid); err != nil {
+			return nil, &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: err}
+		} else if resampled {
+			moved++
+		}
+	}
+	if moved > 0 {
+		warn("%d of %d scans were on other wavelength grids and were interpolated linearly onto the %d points of %s (%g-%g nm)",
+			moved, len(rows), len(grid), sh.Standards[0].File, grid[0], grid[len(grid)-1])
+	}
+	return grid, nil
+}
+
+// onGrid returns the values of s on grid: copied when s holds those
+// wavelengths as a run, else linearly interpolated (resampled true).
+func onGrid(s *spectrum.Spectrum, grid []float64) (v []float64, resampled bool, err error) {
+	wl := s.Wavelengths
+	i := sort.SearchFloat64s(wl, grid[0]-gridSlack*(grid[len(grid)-1]-grid[0]))
+	if i+len(grid) <= len(wl) && spectrum.SameGrid(wl[i:i+len(grid)], grid) {
+		return append([]float64(nil), s.Values[i:i+len(grid)]...), false, nil
+	}
+	v = make([]float64, len(grid))
+	if err := spectrum.ResampleTo(v, wl, s.Values, grid); err != nil {
+		return nil, false, fmt.Errorf("%s: %w", s.Source, err)
+	}
+	return v, true, nil
+}

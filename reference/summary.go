@@ -1,0 +1,95 @@
+package reference
+
+import "math"
+
+// Flag codes of a compound, in the order they are listed.
+const (
+	// FlagCurved: Mandel's test prefers a quadratic to the line at the
+	// band maximum (TestLevel).
+	FlagCurved = "curved"
+	// FlagLackOfFit: the lack-of-fit test against replicates fails at
+	// TestLevel.
+	FlagLackOfFit = "lack-of-fit"
+	// FlagFewLevels: fewer than five levels in the line (five or more is
+	// common practice).
+	FlagFewLevels = "few-levels"
+	// FlagAboveCeiling: some standards read above the ceiling at the band
+	// maximum and were left out.
+	FlagAboveCeiling = "above-ceiling"
+	// FlagBelowFloor: the lowest standards read below the detector floor
+	// at the band maximum; the range starts higher.
+	FlagBelowFloor = "below-floor"
+)
+
+// Flags lists every flag code with its meaning, in display order.
+var Flags = []struct{ Code, Meaning string }{
+	{FlagCurved, "Mandel's test (ISO 8466-1, F at 99 %) prefers a quadratic: the line bends at high concentration; use the stated linear range"},
+	{FlagLackOfFit, "replicates show the line misses the level means (lack-of-fit F test at 99 %)"},
+	{FlagFewLevels, "fewer than 5 concentration levels (5 or more spanning the range is common practice)"},
+	{FlagAboveCeiling, "some standards read above the absorbance ceiling at the band maximum and were left out"},
+	{FlagBelowFloor, "the lowest standards read below the detector floor at the band maximum"},
+}
+
+func compoundFlags(l Linearity, clipped bool, floor float64) []string {
+	var f []string
+	if l.Curved {
+		f = append(f, FlagCurved)
+	}
+	if !math.IsNaN(l.LackOfFitP) && l.LackOfFitP < 1-TestLevel {
+		f = append(f, FlagLackOfFit)
+	}
+	if l.Levels < usualLevels {
+		f = append(f, FlagFewLevels)
+	}
+	if clipped {
+		f = append(f, FlagAboveCeiling)
+	}
+	if floor > 0 && len(l.Data) > 0 {
+		lowest := math.Inf(1)
+		for _, p := range l.Data {
+			if p.Conc > 0 {
+				lowest = min(lowest, p.Conc)
+			}
+		}
+		if l.RangeLo > lowest {
+			f = append(f, FlagBelowFloor)
+		}
+	}
+	return f
+}
+
+// SummaryRow is one compound's line of the summary table.
+type SummaryRow struct {
+	Compound string
+	Unit     string
+	PeakNM   float64 // band maximum
+	// Peak absorptivity (per unit concentration per cm) and its SE at the
+	// band maximum.
+	Peak, PeakSE float64
+	R2           float64
+	// Linear range in the compound's unit.
+	RangeLo, RangeHi float64
+	Levels           int
+	Flags            []string
+}
+
+// Summary returns one row per compound: band maximum, peak absorptivity
+// with its standard error, R² of the line, linear range and flags.
+func (s *Set) Summary() []SummaryRow {
+	rows := make([]SummaryRow, len(s.Compounds))
+	for k, c := range s.Compounds {
+		r := SummaryRow{
+			Compound: c.Name, Unit: c.Unit, PeakNM: c.PeakNM,
+			R2: c.Linearity.R2, RangeLo: c.Linearity.RangeLo, RangeHi: c.Linearity.RangeHi,
+			Levels: c.Linearity.Levels, Flags: c.Flags,
+		}
+		for j, w := range s.Grid {
+			if w == c.PeakNM {
+				r.Peak, r.PeakSE = c.Absorptivity[j], c.SE[j]
+				break
+			}
+		}
+		rows[k] = r
+	}
+	return rows
+}
