@@ -18,6 +18,8 @@
 //	std-t1.csv,,2,0
 //	mixes.csv,mix-3,4,6
 //
+// The columns:
+//
 //   - scan (required): the scan file of the standard, relative to the
 //     sheet's folder (or absolute). Any format package spectrum reads.
 //   - column (optional): which scan of a wide-table file, by its name in
