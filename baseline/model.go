@@ -78,6 +78,9 @@ func ParseModel(s string) (Model, error) {
 		if err != nil {
 			return Model{}, fmt.Errorf("%w %q: scattering power %q is not a number", ErrModel, s, val)
 		}
+		if p == 0 {
+			return Model{}, fmt.Errorf("%w %q: scattering power must be positive", ErrModel, s)
+		}
 		m.ScatterPower = p
 	}
 	if err := m.checkParams(); err != nil {
