@@ -1,14 +1,10 @@
-// Package lsq is the numerical core of huesolve: least squares with a mix
-// of non-negative and free coefficients (an active-set method after Lawson
-// and Hanson), its KKT certificate, standard errors and confidence
-// intervals, conditioning, and residual statistics. It knows nothing of
-// spectra: rows are observations, columns are regressors.
 package lsq
 
 import (
 	"errors"
-
-	"gonum.org/v1/gonum/mat"
+	"fmt"
+	"strconv"
+	"strings"
 )
 
 // Status tells how a solve ended.
@@ -20,89 +16,134 @@ const (
 	// IterLimit: the iteration cap was reached; the result is the best
 	// feasible point found and must not be trusted as optimal.
 	IterLimit
+	// Inaccurate: the active-set iteration finished, but the KKT residual
+	// recomputed from the original data exceeds [KKTTol], so the answer
+	// cannot be certified (the design is too ill-conditioned for the data,
+	// or the data are extreme). The result is feasible but must not be
+	// trusted as optimal.
+	Inaccurate
 )
+
+// String returns a lower-case name of the status.
+func (s Status) String() string {
+	switch s {
+	case Converged:
+		return "converged"
+	case IterLimit:
+		return "iteration limit"
+	case Inaccurate:
+		return "inaccurate"
+	}
+	return "status(" + strconv.Itoa(int(s)) + ")"
+}
 
 // Options set up a Solver.
 type Options struct {
 	// Sigma, if not nil, is the standard deviation of each row's noise;
 	// rows are weighted by 1/Sigma^2 and the reduced chi-square is
 	// reported against it. Nil means unweighted with unknown noise.
+	// Every entry must be positive and finite.
+	//
+	// Weights are part of the factorisation: weights that change from one
+	// y to the next need a new Solver for each y, which costs a QR
+	// factorisation, O(n p^2) flops for n rows and p columns, plus an SVD
+	// of the p×p triangular factor, instead of the O(n p) of a solve with
+	// a fixed design.
 	Sigma []float64
 	// ScaleSE scales standard errors by the fitted residual variance
 	// even when Sigma is given (the usual choice when Sigma is only
 	// known up to a factor).
 	ScaleSE bool
 	// Tol is the relative tolerance of the active-set tests; 0 means
-	// the package default.
+	// the package default [DefaultTol].
 	Tol float64
 	// MaxIter caps active-set iterations; 0 means the package default,
-	// which scales with the number of columns.
+	// which scales with the number of columns ([IterPerColumn] per column).
 	MaxIter int
 }
 
 // Result holds one solve. Slices are reused when the same Result is
 // passed to Solve again.
+//
+// Statistics that are not defined for a fit are NaN, as documented per
+// field; callers must check them with math.IsNaN before printing.
 type Result struct {
 	Coef     []float64 // coefficients, one per column
-	SE       []float64 // standard errors (0 for coefficients held at the bound)
-	Lo, Hi   []float64 // 95 % confidence interval (Student t on DoF)
+	SE       []float64 // standard errors (0 for coefficients held at the bound; NaN if DoF == 0 and the noise is estimated)
+	Lo, Hi   []float64 // 95 % confidence interval (Student t on DoF; normal quantile when Sigma is known and ScaleSE is false); Lo = Hi = 0 at the bound
 	AtBound  []bool    // true where a non-negative coefficient is held at zero
 	Residual []float64 // y - X b, recomputed from the original data
 
 	DoF        int     // rows minus coefficients not at the bound
 	RSS        float64 // residual sum of squares (unweighted)
 	RMS        float64 // sqrt(RSS / rows)
-	ChiSqRed   float64 // sum((r/sigma)^2)/DoF when Sigma is known, else NaN
-	R2         float64 // 1 - RSS/TSS with TSS about the mean of y
-	DW         float64 // Durbin-Watson statistic over row order
-	WorstLo    int     // first row of the band with the largest mean squared residual
-	WorstHi    int     // last row of that band (inclusive)
+	ChiSqRed   float64 // sum((r/sigma)^2)/DoF when Sigma is known, else NaN (NaN also when DoF == 0)
+	R2         float64 // 1 - RSS/TSS with TSS about the mean of y (NaN if y is constant)
+	DW         float64 // Durbin-Watson statistic of the weighted residual r/sigma over row order (NaN if the residual is zero)
+	WorstLo    int     // first row of the band with the largest mean squared (weighted) residual
+	WorstHi    int     // last row of that band (inclusive); see [BandWidth]
 	KKT        float64 // relative KKT residual
 	Status     Status
 	Iterations int
+
+	// WRSS is the weighted residual sum of squares sum((r/sigma)^2)
+	// (equal to RSS when Sigma is nil).
+	WRSS float64
+	// Scale is the residual variance s^2 the standard errors were scaled
+	// by: WRSS/DoF, or 1 when Sigma is known and ScaleSE is false.
+	Scale float64
 }
 
 // Errors.
 var (
 	// ErrRankDeficient: two or more columns are (nearly) linearly
-	// dependent, so the coefficients are not determined.
+	// dependent, so the coefficients are not determined. NewSolver returns
+	// it wrapped in a *RankError that names the columns.
 	ErrRankDeficient = errors.New("lsq: columns are linearly dependent")
 	// ErrNoConvergence: the active-set iteration hit its cap.
 	ErrNoConvergence = errors.New("lsq: active-set iteration did not converge")
+	// ErrInaccurate: the KKT residual recomputed from the original data
+	// exceeds KKTTol (Status Inaccurate).
+	ErrInaccurate = errors.New("lsq: KKT certificate failed")
+	// ErrNonFinite: an input holds NaN or an infinity.
+	ErrNonFinite = errors.New("lsq: non-finite value")
+	// ErrShape: slice or matrix sizes do not agree, or the design is empty.
+	ErrShape = errors.New("lsq: sizes do not agree")
 )
 
-var errTODO = errors.New("lsq: not yet written")
-
-// Solver solves min ||W^(1/2)(y - X b)|| subject to b_j >= 0 for the
-// non-negative columns, for many y with one design X. A Solver is not safe
-// for concurrent use; Clone gives each worker its own workspace sharing the
-// factorisation.
-type Solver struct {
-	x      *mat.Dense
-	nonneg []bool
+// RankError reports a design whose columns are (nearly) linearly
+// dependent. It unwraps to ErrRankDeficient.
+type RankError struct {
+	// Columns are the (0-based) indices of the columns taking part in the
+	// dependence, in increasing order.
+	Columns []int
+	// Cond is the 2-norm condition number of the column-scaled, weighted
+	// design (+Inf for a zero column or fewer rows than columns).
+	Cond float64
+	// Rows and Cols are the design's size.
+	Rows, Cols int
 }
 
-// NewSolver factors the design x (rows x columns) once. nonneg[j] says
-// whether coefficient j is constrained to be >= 0.
-func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
-	return nil, errTODO
+func (e *RankError) Error() string {
+	var b strings.Builder
+	b.WriteString("lsq: ")
+	switch {
+	case e.Rows < e.Cols:
+		fmt.Fprintf(&b, "%d rows cannot determine %d coefficients", e.Rows, e.Cols)
+	case len(e.Columns) == 1:
+		fmt.Fprintf(&b, "column %d is zero", e.Columns[0])
+	default:
+		b.WriteString("columns ")
+		for i, c := range e.Columns {
+			if i > 0 {
+				b.WriteString(", ")
+			}
+			b.WriteString(strconv.Itoa(c))
+		}
+		fmt.Fprintf(&b, " are linearly dependent (condition number %.3g of the column-scaled design)", e.Cond)
+	}
+	return b.String()
 }
 
-// Solve fits y and fills dst. It returns ErrNoConvergence (with dst
-// holding the best feasible point and Status IterLimit) if the cap is hit.
-func (s *Solver) Solve(dst *Result, y []float64) error { return errTODO }
-
-// Clone returns a Solver sharing the factorisation with fresh workspace.
-func (s *Solver) Clone() *Solver { return s }
-
-// Cond is the 2-norm condition number of the weighted design with each
-// column scaled to unit norm.
-func (s *Solver) Cond() float64 { return 0 }
-
-// VIF is the variance inflation factor of each column.
-func (s *Solver) VIF() []float64 { return nil }
-
-// Leakage is, for each non-negative column k, ||P s_k|| / ||s_k|| with P
-// the projector onto the complement of the free columns (1 for free
-// columns). Small values mean the free terms can imitate column k.
-func (s *Solver) Leakage() []float64 { return nil }
+// Unwrap returns ErrRankDeficient.
+func (e *RankError) Unwrap() error { return ErrRankDeficient }

@@ -1,0 +1,269 @@
+package lsq
+
+import (
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/stat/distuv"
+)
+
+// Confidence is the two-sided coverage of the intervals in Result.Lo, Hi.
+const Confidence = 0.95
+
+// zQuantile is the standard normal quantile for the intervals when the
+// noise level is known.
+var zQuantile = distuv.UnitNormal.Quantile(0.5 + Confidence/2)
+
+// BandWidth is the number of rows of the sliding window in which
+// Result.WorstLo..WorstHi is the band of largest mean squared weighted
+// residual: max(5, n/20) rows for n rows (a twentieth of a spectrum, at
+// least five points; common practice for a local lack-of-fit window),
+// never more than n.
+func BandWidth(n int) int {
+	return min(n, max(5, n/20))
+}
+
+// size makes the result's slices fit n rows and p columns.
+func (r *Result) size(n, p int) {
+	fit := func(s []float64, k int) []float64 {
+		if cap(s) >= k {
+			return s[:k]
+		}
+		return make([]float64, k)
+	}
+	r.Coef = fit(r.Coef, p)
+	r.SE = fit(r.SE, p)
+	r.Lo = fit(r.Lo, p)
+	r.Hi = fit(r.Hi, p)
+	r.Residual = fit(r.Residual, n)
+	if cap(r.AtBound) >= p {
+		r.AtBound = r.AtBound[:p]
+	} else {
+		r.AtBound = make([]bool, p)
+	}
+}
+
+// Solve fits y and fills dst. It returns ErrNoConvergence (with dst
+// holding the best feasible point and Status IterLimit) if the cap is hit.
+//
+// It returns ErrInaccurate (with the feasible result in dst and Status
+// Inaccurate) when the KKT residual recomputed from the original data
+// exceeds KKTTol; an error wrapping ErrShape when len(y) is not the number
+// of rows; and one wrapping ErrNonFinite, naming the row, when y holds NaN
+// or an infinity (dst is then not filled).
+//
+// With a Result reused from an earlier call, Solve allocates nothing.
+func (s *Solver) Solve(dst *Result, y []float64) error {
+	f, ws := s.f, &s.ws
+	n, p, nf := f.n, f.p, f.nf
+	if len(y) != n {
+		return fmt.Errorf("lsq: y has %d rows, the design has %d: %w", len(y), n, ErrShape)
+	}
+	sumY := floats.Sum(y)
+	if math.IsNaN(sumY) || math.IsInf(sumY, 0) {
+		for i, v := range y {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return fmt.Errorf("lsq: row %d of y is %v: %w", i, v, ErrNonFinite)
+			}
+		}
+		return fmt.Errorf("lsq: sum of y overflows: %w", ErrNonFinite)
+	}
+	dst.size(n, p)
+
+	// z = Q' W^(1/2) y.
+	z := ws.z
+	for k := range p {
+		z[k] = floats.Dot(f.qtw[k*n:(k+1)*n], y)
+	}
+	// The active-set threshold is relative to ||X_s|| ||z||, ||z|| being
+	// the norm of the part of W^(1/2) y the design can reach.
+	znorm := floats.Norm(z, 2)
+	iter, capped := s.nnls(z[nf:], f.tol*f.normXs*znorm)
+
+	// Scaled coefficients in factor order: c from the active set, beta by
+	// back-substitution R_BB beta = z_B - R_BS c.
+	bs := ws.bs
+	copy(bs[nf:], ws.x)
+	for i := nf - 1; i >= 0; i-- {
+		sum := z[i]
+		for j := i + 1; j < p; j++ {
+			sum -= f.r[i*p+j] * bs[j]
+		}
+		bs[i] = sum / f.r[i*p+i]
+	}
+	passive := ws.aidx[:0]
+	for k, j := range f.perm {
+		dst.Coef[j] = bs[k] / f.d[j]
+		at := k >= nf && bs[k] == 0
+		dst.AtBound[j] = at
+		if !at {
+			passive = append(passive, k)
+		}
+	}
+	ws.aidx = passive
+
+	// Residual from the original data.
+	r := dst.Residual
+	copy(r, y)
+	for j := range p {
+		if b := dst.Coef[j]; b != 0 {
+			floats.AddScaled(r, -b, f.x[j*n:(j+1)*n])
+		}
+	}
+
+	// Residual statistics in one pass.
+	s.stats(dst, y, sumY/float64(n))
+	dst.DoF = n - len(passive)
+
+	// KKT certificate: g = X_s' W^(1/2) (W^(1/2) r), from the original columns.
+	var viol float64
+	for j := range p {
+		g := floats.Dot(f.gcol[j*n:(j+1)*n], r)
+		ws.g[j] = g
+		if dst.AtBound[j] {
+			viol = math.Max(viol, g)
+		} else {
+			viol = math.Max(viol, math.Abs(g))
+		}
+	}
+	dst.KKT = 0
+	if den := f.normXs * math.Sqrt(ws.ywss); den > 0 {
+		dst.KKT = viol / den
+	}
+	dst.Iterations = iter
+
+	s.uncertainty(dst)
+
+	switch {
+	case capped:
+		dst.Status = IterLimit
+		return fmt.Errorf("lsq: %d iterations: %w", iter, ErrNoConvergence)
+	case !(dst.KKT <= KKTTol):
+		dst.Status = Inaccurate
+		return fmt.Errorf("lsq: relative KKT residual %.3g exceeds %.3g: %w", dst.KKT, KKTTol, ErrInaccurate)
+	}
+	dst.Status = Converged
+	return nil
+}
+
+// stats fills RSS, WRSS, RMS, ChiSqRed, R2, DW and the worst band, and
+// leaves ||W^(1/2) y||^2 in ws.ywss.
+func (s *Solver) stats(dst *Result, y []float64, mean float64) {
+	f := s.f
+	n := f.n
+	r := dst.Residual
+	bw := BandWidth(n)
+	var rss, wrss, tss, dw, yw, win float64
+	bestWin, bestLo := math.Inf(-1), 0
+	if f.invSigma == nil {
+		prev := r[0]
+		for i, e := range r {
+			e2 := e * e
+			rss += e2
+			d := y[i] - mean
+			tss += d * d
+			yw += y[i] * y[i]
+			de := e - prev
+			dw += de * de
+			prev = e
+			win += e2
+			if i >= bw {
+				o := r[i-bw]
+				win -= o * o
+			}
+			if i >= bw-1 && win > bestWin {
+				bestWin, bestLo = win, i-bw+1
+			}
+		}
+		wrss = rss
+	} else {
+		is := f.invSigma
+		prev := r[0] * is[0]
+		for i, e := range r {
+			rss += e * e
+			d := y[i] - mean
+			tss += d * d
+			v := y[i] * is[i]
+			yw += v * v
+			e *= is[i]
+			e2 := e * e
+			wrss += e2
+			de := e - prev
+			dw += de * de
+			prev = e
+			win += e2
+			if i >= bw {
+				o := r[i-bw] * is[i-bw]
+				win -= o * o
+			}
+			if i >= bw-1 && win > bestWin {
+				bestWin, bestLo = win, i-bw+1
+			}
+		}
+	}
+	s.ws.ywss = yw
+	dst.RSS = rss
+	dst.WRSS = wrss
+	dst.RMS = math.Sqrt(rss / float64(n))
+	dst.R2 = math.NaN()
+	if tss > 0 {
+		dst.R2 = 1 - rss/tss
+	}
+	dst.DW = math.NaN()
+	if wrss > 0 {
+		dst.DW = dw / wrss
+	}
+	dst.WorstLo, dst.WorstHi = bestLo, bestLo+bw-1
+}
+
+// uncertainty fills Scale, ChiSqRed, SE, Lo and Hi from the passive set in
+// ws.aidx (factor order) and dst.DoF.
+func (s *Solver) uncertainty(dst *Result) {
+	f, ws := s.f, &s.ws
+	p := f.p
+	dof := dst.DoF
+	dst.ChiSqRed = math.NaN()
+	if f.invSigma != nil && dof > 0 {
+		dst.ChiSqRed = dst.WRSS / float64(dof)
+	}
+	var s2, q float64
+	switch {
+	case f.known:
+		s2, q = 1, zQuantile
+	case dof > 0:
+		s2 = dst.WRSS / float64(dof)
+		q = ws.tq[dof]
+		if q == 0 {
+			q = distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(dof)}.Quantile(0.5 + Confidence/2)
+			ws.tq[dof] = q
+		}
+	default:
+		s2, q = math.NaN(), math.NaN()
+	}
+	dst.Scale = s2
+
+	// diag((X_sA' X_sA)^-1) for the passive set A.
+	A := ws.aidx
+	m := len(A)
+	d2 := ws.d2
+	if m == p {
+		copy(d2, f.rinvRow2)
+	} else if m > 0 {
+		givensSubset(ws.m, ws.rhs, f.r, p, p, A, ws.z)
+		triInv(ws.tinv, ws.m, m, m)
+		rowNorms2(d2[:m], ws.tinv, m)
+	}
+	c := 0
+	for _, j := range f.perm {
+		if dst.AtBound[j] {
+			dst.SE[j], dst.Lo[j], dst.Hi[j] = 0, 0, 0
+			continue
+		}
+		se := math.Sqrt(s2*d2[c]) / f.d[j]
+		c++
+		dst.SE[j] = se
+		dst.Lo[j] = dst.Coef[j] - q*se
+		dst.Hi[j] = dst.Coef[j] + q*se
+	}
+}
