@@ -78,18 +78,18 @@ type factor struct {
 
 // workspace is the per-Solver scratch.
 type workspace struct {
-	z, bs, g   []float64 // len p
-	x, s, w    []float64 // len nn: active-set iterate, trial solution, gradient
-	res        []float64 // len nn
-	inP, rej   []bool    // len nn
-	pidx       []int     // passive set (sorted), capacity nn
-	aidx       []int     // passive set in factor order for SE, capacity p
-	m          []float64 // p×p scratch for the Givens re-triangularisation
-	rhs        []float64 // len p
-	tinv       []float64 // p×p scratch for T^-1
-	d2         []float64 // len p: diag((T'T)^-1) in factor order
-	ywss       float64   // ||W^(1/2) y||^2 of the last solve
-	tq         []float64 // 0.975 quantiles of Student t by degrees of freedom (0: not yet computed)
+	z, bs, g []float64 // len p
+	x, s, w  []float64 // len nn: active-set iterate, trial solution, gradient
+	res      []float64 // len nn
+	inP, rej []bool    // len nn
+	pidx     []int     // passive set (sorted), capacity nn
+	aidx     []int     // passive set in factor order for SE, capacity p
+	m        []float64 // p×p scratch for the Givens re-triangularisation
+	rhs      []float64 // len p
+	tinv     []float64 // p×p scratch for T^-1
+	d2       []float64 // len p: diag((T'T)^-1) in factor order
+	ywss     float64   // ||W^(1/2) y||^2 of the last solve
+	tq       []float64 // 0.975 quantiles of Student t by degrees of freedom (0: not yet computed)
 }
 
 // Solver solves min ||W^(1/2)(y - X b)|| subject to b_j >= 0 for the
