@@ -1,13 +1,18 @@
 package spectrum
 
 import (
+	"bufio"
+	"bytes"
 	"errors"
 	"fmt"
 	"io"
+	"os"
 )
 
 // ParseError is a problem at a place in a file. Line and Column are
-// 1-based; 0 means unknown.
+// 1-based; 0 means unknown. In delimited text Column counts table columns
+// (fields), as a spreadsheet shows them; in JCAMP-DX it counts characters
+// (bytes) of the line.
 type ParseError struct {
 	File   string
 	Line   int
@@ -39,25 +44,165 @@ type ReadOptions struct {
 	// Warn receives warnings (already prefixed with the file name). Nil
 	// discards them.
 	Warn func(msg string)
+	// MaxLineBytes bounds the length of one line; a longer line is an
+	// error. Zero means DefaultMaxLineBytes.
+	MaxLineBytes int
+	// MaxColumns bounds the number of columns of a delimited table; a
+	// wider table is an error. Zero means DefaultMaxColumns.
+	MaxColumns int
+
+	// sizeHint is the input size in bytes when known (ReadFile sets it);
+	// it only sizes buffers.
+	sizeHint int64
 }
 
-var errTODO = errors.New("reader not yet written")
+// Limits that keep the memory a reader uses bounded by what the numbers
+// themselves need, whatever the input holds.
+const (
+	// DefaultMaxLineBytes is the longest line the readers accept (64 MiB),
+	// enough for a wide table of a million columns of 60-byte numbers.
+	DefaultMaxLineBytes = 64 << 20
+	// DefaultMaxColumns is the most columns a delimited table may have.
+	DefaultMaxColumns = 1 << 20
+	// MaxJCAMPPoints is the largest NPOINTS a JCAMP-DX file may declare;
+	// no UV-Vis scan comes near it.
+	MaxJCAMPPoints = 1 << 24
+)
+
+func (o *ReadOptions) maxLine() int {
+	if o.MaxLineBytes > 0 {
+		return o.MaxLineBytes
+	}
+	return DefaultMaxLineBytes
+}
+
+func (o *ReadOptions) maxCols() int {
+	if o.MaxColumns > 0 {
+		return o.MaxColumns
+	}
+	return DefaultMaxColumns
+}
+
+func (o *ReadOptions) warnf(file, format string, a ...any) {
+	if o.Warn == nil {
+		return
+	}
+	if file == "" {
+		file = "<input>"
+	}
+	o.Warn(file + ": " + fmt.Sprintf(format, a...))
+}
+
+// detectPeek is how many bytes ReadFile looks at to choose the format.
+const detectPeek = 64 << 10
 
 // ReadFile reads all spectra of a file, choosing the format from its
 // content (JCAMP-DX when the first non-blank line starts with "##",
 // delimited text otherwise). Values are left in the quantity the file
 // holds; call ToAbsorbance to convert.
+//
+// A directory, a missing or unreadable file is an error naming the path;
+// problems inside the file are *ParseError values.
 func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
-	return nil, &ParseError{File: path, Err: errTODO}
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("spectrum: cannot read %s: %w", path, unwrapPathError(err))
+	}
+	defer f.Close()
+	st, err := f.Stat()
+	if err != nil {
+		return nil, fmt.Errorf("spectrum: cannot read %s: %w", path, unwrapPathError(err))
+	}
+	if st.IsDir() {
+		return nil, fmt.Errorf("spectrum: %s is a directory, not a spectrum file", path)
+	}
+	if !st.Mode().IsRegular() && st.Mode()&os.ModeNamedPipe == 0 && st.Mode()&os.ModeCharDevice == 0 {
+		return nil, fmt.Errorf("spectrum: %s is not a regular file", path)
+	}
+	opt.sizeHint = st.Size()
+	size := detectPeek
+	if s := st.Size(); s > 0 && s < int64(size) {
+		size = max(int(s), 16)
+	}
+	br := bufio.NewReaderSize(f, size)
+	head, err := br.Peek(size)
+	if err != nil && err != io.EOF && !errors.Is(err, bufio.ErrBufferFull) {
+		return nil, fmt.Errorf("spectrum: cannot read %s: %w", path, unwrapPathError(err))
+	}
+	if looksJCAMP(head) {
+		return ReadJCAMP(br, path, opt)
+	}
+	return ReadDelimited(br, path, opt)
 }
 
-// ReadDelimited reads a two-column scan or a wide table from r; file is
-// used in messages and provenance.
-func ReadDelimited(r io.Reader, file string, opt ReadOptions) ([]*Spectrum, error) {
-	return nil, &ParseError{File: file, Err: errTODO}
+// unwrapPathError drops the *os.PathError layer, whose text repeats the
+// path we already name.
+func unwrapPathError(err error) error {
+	var pe *os.PathError
+	if errors.As(err, &pe) {
+		return pe.Err
+	}
+	return err
 }
 
-// ReadJCAMP reads one UV-Vis spectrum from a JCAMP-DX file.
-func ReadJCAMP(r io.Reader, file string, opt ReadOptions) ([]*Spectrum, error) {
-	return nil, &ParseError{File: file, Err: errTODO}
+// looksJCAMP reports whether the first non-blank line of head starts with
+// "##" (after an optional UTF-8 byte order mark and leading blanks).
+func looksJCAMP(head []byte) bool {
+	head = bytes.TrimPrefix(head, utf8BOM)
+	for len(head) > 0 {
+		c := head[0]
+		if c == ' ' || c == '\t' || c == '\r' || c == '\n' {
+			head = head[1:]
+			continue
+		}
+		return bytes.HasPrefix(head, []byte("##"))
+	}
+	return false
+}
+
+var utf8BOM = []byte{0xEF, 0xBB, 0xBF}
+
+// lineReader yields the lines of r without their end-of-line bytes (LF or
+// CRLF), refusing lines longer than max bytes. The returned slice is only
+// valid until the next call.
+type lineReader struct {
+	sc   *bufio.Scanner
+	file string
+	n    int // number of the line last returned (1-based)
+	max  int
+}
+
+func newLineReader(r io.Reader, file string, maxLine int, sizeHint int64) *lineReader {
+	sc := bufio.NewScanner(r)
+	initial := 4096
+	if sizeHint > 0 && sizeHint < int64(initial) {
+		initial = int(sizeHint) + 1
+	}
+	sc.Buffer(make([]byte, initial), maxLine+2) // +2 for the CRLF
+	return &lineReader{sc: sc, file: file, max: maxLine}
+}
+
+// next returns the next line, or ok=false at the end of input (err tells
+// whether the end was a failure).
+func (lr *lineReader) next() (line []byte, ok bool, err error) {
+	if !lr.sc.Scan() {
+		if e := lr.sc.Err(); e != nil {
+			if errors.Is(e, bufio.ErrTooLong) {
+				return nil, false, &ParseError{File: lr.file, Line: lr.n + 1,
+					Err: fmt.Errorf("line longer than %d bytes: refusing to read it (is this a spectrum file?)", lr.max)}
+			}
+			return nil, false, &ParseError{File: lr.file, Line: lr.n + 1, Err: e}
+		}
+		return nil, false, nil
+	}
+	lr.n++
+	line = lr.sc.Bytes()
+	if lr.n == 1 {
+		line = bytes.TrimPrefix(line, utf8BOM)
+	}
+	if len(line) > lr.max {
+		return nil, false, &ParseError{File: lr.file, Line: lr.n,
+			Err: fmt.Errorf("line longer than %d bytes: refusing to read it (is this a spectrum file?)", lr.max)}
+	}
+	return line, true, nil
 }

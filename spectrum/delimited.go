@@ -1,0 +1,766 @@
+package spectrum
+
+import (
+	"bytes"
+	"errors"
+	"fmt"
+	"io"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"unicode"
+	"unicode/utf8"
+)
+
+// Thresholds of the percent-transmittance warning.
+const (
+	// pctTLow and pctTHigh bound the values that look like %T rather than
+	// absorbance: absorbance above 5 is beyond any spectrophotometer's
+	// range (common practice), so a scan of values between 5 and 100 is
+	// almost surely percent transmittance.
+	pctTLow, pctTHigh = 5.0, 100.0
+	// pctTShare is the share of values that must lie in [pctTLow,
+	// pctTHigh] before the warning is raised ("nearly all").
+	pctTShare = 0.95
+	// fractionTMax is the largest value a transmittance fraction may
+	// plausibly reach (1 plus room for noise and a slightly bright
+	// blank); above it the values look like percent.
+	fractionTMax = 2.0
+)
+
+// delimiter kinds; whitespace means runs of blanks and tabs.
+const whitespace = ' '
+
+// ReadDelimited reads a two-column scan or a wide table from r; file is
+// used in messages and provenance.
+//
+// The dialect is detected: fields separated by tab, semicolon, comma or
+// blanks; decimal comma accepted when the separator is not a comma; a
+// UTF-8 byte order mark and CRLF line ends accepted. Lines starting with
+// '#' are comments; free text before the numeric block is skipped and its
+// last line is the header. The first column holds wavelengths in nm
+// (a header saying cm-1 or µm converts them); each further column is one
+// spectrum, named by its header cell or else "file#colN". Wavelengths may
+// be ascending or descending (the result is ascending) and are shared by
+// all spectra of one table (read-only).
+//
+// What the values are comes from opt.Quantity, else from quantity words
+// in the header (absorbance, abs, A; %T, percent transmittance;
+// transmittance, T), else they are read as absorbance with a warning.
+//
+// Every problem in the file (no data, ragged rows, text in numbers,
+// NaN/Inf, duplicate or out-of-order wavelengths, mixed decimal marks, an
+// over-long line or too many columns) is a *ParseError naming file, line
+// and (table) column. No partial result is returned with an error.
+func ReadDelimited(r io.Reader, file string, opt ReadOptions) ([]*Spectrum, error) {
+	d := &delimReader{file: file, opt: &opt, maxCols: opt.maxCols()}
+	lr := newLineReader(r, file, opt.maxLine(), opt.sizeHint)
+	if err := d.read(lr); err != nil {
+		return nil, err
+	}
+	return d.build()
+}
+
+type delimReader struct {
+	file    string
+	opt     *ReadOptions
+	maxCols int
+
+	delim      byte // '\t', ';', ',' or whitespace
+	allowComma bool // decimal comma possible (delimiter is not a comma)
+	mark       byte // decimal mark seen so far (0: none yet)
+	markLine   int  // line where mark was first seen
+	ncols      int
+	header     string // last text line before the block
+	headerLine int
+	firstLine  int // line of the first data row
+	lastLine   int
+
+	wl   []float64 // wavelengths in file order
+	vals []float64 // row-major, ncols-1 per row
+	dir  int       // +1 ascending, -1 descending, 0 unknown
+}
+
+func (d *delimReader) errAt(line, col int, err error) error {
+	return &ParseError{File: d.file, Line: line, Column: col, Err: err}
+}
+
+func (d *delimReader) read(lr *lineReader) error {
+	started := false
+	var row []float64
+	for {
+		line, ok, err := lr.next()
+		if err != nil {
+			return err
+		}
+		if !ok {
+			break
+		}
+		n := lr.n
+		if n == 1 && (bytes.HasPrefix(line, []byte{0xFF, 0xFE}) || bytes.HasPrefix(line, []byte{0xFE, 0xFF})) {
+			return d.errAt(1, 0, errors.New("the file is UTF-16 text; save it as UTF-8 (or plain ASCII) text"))
+		}
+		t := trimBlank(line)
+		if len(t) == 0 || t[0] == '#' {
+			continue
+		}
+		if !started {
+			delim, ncols, ok := detectRow(t)
+			if !ok {
+				d.header = string(t)
+				d.headerLine = n
+				continue
+			}
+			if ncols > d.maxCols {
+				return d.errAt(n, d.maxCols+1, fmt.Errorf("table has %d columns, more than the %d this reader accepts", ncols, d.maxCols))
+			}
+			started = true
+			d.delim, d.ncols, d.firstLine = delim, ncols, n
+			d.allowComma = delim != ','
+			row = make([]float64, 0, ncols)
+			if h := d.opt.sizeHint; h > 0 && ncols > 1 {
+				rows := h/int64(len(line)+1) + 16
+				if est := rows * int64(ncols-1); est > 0 && est < 1<<28 {
+					d.vals = make([]float64, 0, est+est/16)
+					d.wl = make([]float64, 0, rows+rows/16)
+				}
+			}
+		}
+		row, err = d.parseRow(t, n, row[:0])
+		if err != nil {
+			return err
+		}
+		if err := d.addRow(row, n); err != nil {
+			return err
+		}
+		d.lastLine = n
+	}
+	if !started {
+		switch {
+		case lr.n == 0:
+			return d.errAt(1, 0, fmt.Errorf("the file is empty: %w", ErrEmpty))
+		case d.header != "":
+			return d.errAt(d.headerLine, 0, fmt.Errorf("only text, no numeric rows of wavelength and values: %w", ErrEmpty))
+		default:
+			return d.errAt(lr.n, 0, fmt.Errorf("only blank or comment lines: %w", ErrEmpty))
+		}
+	}
+	if len(d.wl) < 2 {
+		return d.errAt(d.firstLine, 0, fmt.Errorf("only one data row; a scan needs at least two wavelengths: %w", ErrEmpty))
+	}
+	return nil
+}
+
+// parseRow splits t at the table's delimiter and parses every field,
+// appending to row.
+func (d *delimReader) parseRow(t []byte, line int, row []float64) ([]float64, error) {
+	col := 0
+	rest := t
+	for {
+		var f []byte
+		last := false
+		if d.delim == whitespace {
+			k := 0
+			for k < len(rest) && rest[k] != ' ' && rest[k] != '\t' {
+				k++
+			}
+			f = rest[:k]
+			j := k
+			for j < len(rest) && (rest[j] == ' ' || rest[j] == '\t') {
+				j++
+			}
+			rest = rest[j:]
+			last = len(rest) == 0
+		} else {
+			k := bytes.IndexByte(rest, d.delim)
+			if k < 0 {
+				f, rest, last = rest, nil, true
+			} else {
+				f, rest = rest[:k], rest[k+1:]
+				if len(trimBlank(rest)) == 0 && col+1 == d.ncols {
+					last = true // one trailing delimiter is tolerated
+				}
+			}
+			f = trimField(f)
+		}
+		col++
+		if col > d.ncols {
+			return nil, d.errAt(line, col, fmt.Errorf("ragged row: more fields than the %d columns of the first data row (line %d)", d.ncols, d.firstLine))
+		}
+		v, mark, err := parseNumber(f, d.allowComma)
+		if err != nil {
+			return nil, d.errAt(line, col, err)
+		}
+		if mark != 0 && mark != d.mark {
+			if d.mark == 0 {
+				d.mark, d.markLine = mark, line
+			} else {
+				return nil, d.errAt(line, col, fmt.Errorf("%w (%q here, %q from line %d)", errMixedMark, mark, d.mark, d.markLine))
+			}
+		}
+		row = append(row, v)
+		if last {
+			break
+		}
+	}
+	if col < d.ncols {
+		return nil, d.errAt(line, col+1, fmt.Errorf("ragged row: %d fields where the first data row (line %d) has %d", col, d.firstLine, d.ncols))
+	}
+	return row, nil
+}
+
+func (d *delimReader) addRow(row []float64, line int) error {
+	w := row[0]
+	if k := len(d.wl); k > 0 {
+		prev := d.wl[k-1]
+		switch {
+		case w == prev:
+			return d.errAt(line, 1, fmt.Errorf("%w: duplicate wavelength %s (also on the row before)", ErrGrid, fmtG(w)))
+		case d.dir == 0 && w > prev:
+			d.dir = 1
+		case d.dir == 0:
+			d.dir = -1
+		case (w > prev) != (d.dir > 0):
+			order := "ascending"
+			if d.dir < 0 {
+				order = "descending"
+			}
+			return d.errAt(line, 1, fmt.Errorf("%w: wavelength %s breaks the %s order (previous row %s)", ErrGrid, fmtG(w), order, fmtG(prev)))
+		}
+	}
+	d.wl = append(d.wl, w)
+	d.vals = append(d.vals, row[1:]...)
+	return nil
+}
+
+// build turns the collected table into spectra.
+func (d *delimReader) build() ([]*Spectrum, error) {
+	nr, ns := len(d.wl), d.ncols-1
+	cells, cellsOK := d.headerCells()
+	// Wavelength units from the first header cell.
+	unit := unitNM
+	if cellsOK {
+		unit = wavelengthUnit(cells[0])
+	}
+	wl := d.wl
+	switch unit {
+	case unitMicrometre:
+		for i := range wl {
+			wl[i] *= 1000
+		}
+	case unitWavenumber:
+		for i, x := range wl {
+			if !(x > 0) {
+				return nil, d.errAt(d.firstLine+i, 1, fmt.Errorf("wavenumber %s cm-1 cannot be converted to a wavelength", fmtG(x)))
+			}
+			wl[i] = 1e7 / x
+		}
+		d.dir = -d.dir
+	}
+	// Column-major values from one backing array.
+	var vals []float64
+	if ns == 1 {
+		vals = d.vals[:nr:nr]
+	} else {
+		vals = make([]float64, nr*ns)
+		transpose(vals, d.vals, nr, ns)
+	}
+	d.vals = nil
+	if d.dir < 0 {
+		reverse(wl)
+		for j := 0; j < ns; j++ {
+			reverse(vals[j*nr : (j+1)*nr])
+		}
+	}
+	wl = wl[:nr:nr]
+	if err := CheckGrid(wl); err != nil {
+		// Only unit conversion can get here (rounding collapsed points).
+		return nil, d.errAt(d.firstLine, 1, err)
+	}
+
+	// Quantities.
+	qs := make([]Quantity, ns)
+	var names []string
+	if cellsOK {
+		names = make([]string, len(cells))
+	}
+	var whole Quantity
+	if !cellsOK && d.header != "" {
+		whole = quantityFromText(d.header)
+	}
+	stated := 0
+	for j := range qs {
+		if cellsOK {
+			qs[j], names[j+1] = cellQuantityAndName(cells[j+1])
+		} else {
+			qs[j] = whole
+		}
+		if qs[j] != Unstated {
+			stated++
+		}
+	}
+	if cellsOK && stated > 0 && stated < ns {
+		// Columns without a word take the one word the others agree on.
+		var common Quantity
+		agree := true
+		for _, q := range qs {
+			if q != Unstated {
+				if common != Unstated && q != common {
+					agree = false
+				}
+				common = q
+			}
+		}
+		if agree {
+			for j := range qs {
+				if qs[j] == Unstated {
+					qs[j] = common
+				}
+			}
+		}
+	}
+	base := filepath.Base(d.file)
+	if d.file == "" {
+		base = "<input>"
+	}
+	out := make([]*Spectrum, ns)
+	var overridden, unstated []int
+	var odd [3][]int // columns failing plausibility, by kind
+	for j := 0; j < ns; j++ {
+		q := qs[j]
+		if d.opt.Quantity != Unstated {
+			if q != Unstated && q != d.opt.Quantity {
+				overridden = append(overridden, j+2)
+			}
+			q = d.opt.Quantity
+		}
+		if q == Unstated {
+			q = Absorbance
+			unstated = append(unstated, j+2)
+		}
+		name := ""
+		if cellsOK {
+			name = names[j+1]
+		}
+		if name == "" {
+			if ns == 1 {
+				name = strings.TrimSuffix(base, filepath.Ext(base))
+			} else {
+				name = base + "#col" + strconv.Itoa(j+2)
+			}
+		}
+		s := &Spectrum{
+			Name:        name,
+			Wavelengths: wl,
+			Values:      vals[j*nr : (j+1)*nr : (j+1)*nr],
+			Quantity:    q,
+			Source:      Source{File: d.file, Column: j + 2, Line: d.firstLine},
+		}
+		if k := implausible(s); k != plausible {
+			odd[k] = append(odd[k], j+2)
+		}
+		out[j] = s
+	}
+	if len(overridden) > 0 {
+		d.opt.warnf(d.file, "the header states another quantity for %s; reading %s as requested", columnList(overridden, ns), d.opt.Quantity)
+	}
+	if len(unstated) > 0 {
+		d.opt.warnf(d.file, "the header does not say whether %s holds absorbance, %%T or T; reading absorbance (state it with a header word or the quantity option)", columnList(unstated, ns))
+	}
+	if c := odd[looksPct]; len(c) > 0 {
+		d.opt.warnf(d.file, "WARNING: in %s nearly all values lie between %g and %g, which looks like percent transmittance, not absorbance; if so, say %%T in the header or with the quantity option, or every result will be wrong", columnList(c, ns), pctTLow, pctTHigh)
+	}
+	if c := odd[looksPctNotFraction]; len(c) > 0 {
+		d.opt.warnf(d.file, "WARNING: in %s values read as transmittance fraction (0..1) mostly exceed %g; they look like percent transmittance", columnList(c, ns), fractionTMax)
+	}
+	return out, nil
+}
+
+// columnList names columns for a message: "the values", "column 3",
+// "columns 2, 3, 4" or "1000 columns (2, 3, 4, ...)".
+func columnList(cols []int, ns int) string {
+	if ns == 1 {
+		return "the values"
+	}
+	if len(cols) == 1 {
+		return "column " + strconv.Itoa(cols[0])
+	}
+	var b strings.Builder
+	if len(cols) > 5 {
+		fmt.Fprintf(&b, "%d columns (", len(cols))
+	} else {
+		b.WriteString("columns ")
+	}
+	for i, c := range cols {
+		if i == 5 {
+			b.WriteString(", ...")
+			break
+		}
+		if i > 0 {
+			b.WriteString(", ")
+		}
+		b.WriteString(strconv.Itoa(c))
+	}
+	if len(cols) > 5 {
+		b.WriteString(")")
+	}
+	return b.String()
+}
+
+// Outcomes of the plausibility check.
+const (
+	plausible = iota
+	looksPct
+	looksPctNotFraction
+)
+
+// implausible tells whether the values of s look like another quantity
+// than the one they are read as.
+func implausible(s *Spectrum) int {
+	switch s.Quantity {
+	case Absorbance:
+		if looksPercentT(s.Values) {
+			return looksPct
+		}
+	case Transmittance:
+		n := 0
+		for _, v := range s.Values {
+			if v > fractionTMax {
+				n++
+			}
+		}
+		if n > len(s.Values)/2 {
+			return looksPctNotFraction
+		}
+	}
+	return plausible
+}
+
+// looksPercentT reports whether nearly all values lie in [pctTLow, pctTHigh].
+func looksPercentT(v []float64) bool {
+	if len(v) == 0 {
+		return false
+	}
+	n := 0
+	for _, x := range v {
+		if x >= pctTLow && x <= pctTHigh {
+			n++
+		}
+	}
+	return float64(n) >= pctTShare*float64(len(v))
+}
+
+// headerCells splits the header into cells; ok is false when there is no
+// header or its cell count differs from the table's.
+func (d *delimReader) headerCells() ([]string, bool) {
+	if d.header == "" {
+		return nil, false
+	}
+	h := d.header
+	if !utf8.ValidString(h) {
+		h = latin1ToUTF8(h)
+		d.opt.warnf(d.file, "line %d: the header is not UTF-8; read it as Latin-1", d.headerLine)
+		d.header = h
+	}
+	var cells []string
+	if d.delim == whitespace {
+		cells = strings.Fields(h)
+	} else {
+		cells = splitQuoted(h, d.delim)
+		if len(cells) == d.ncols+1 && strings.TrimSpace(cells[d.ncols]) == "" {
+			cells = cells[:d.ncols]
+		}
+	}
+	if len(cells) != d.ncols {
+		if d.delim != whitespace {
+			d.opt.warnf(d.file, "line %d: the header has %d fields but the table has %d columns; column names ignored", d.headerLine, len(cells), d.ncols)
+		}
+		return nil, false
+	}
+	return cells, true
+}
+
+// detectRow reports whether t is a numeric row of at least two fields and
+// with which delimiter.
+func detectRow(t []byte) (delim byte, ncols int, ok bool) {
+	try := func(delim byte) (int, bool) {
+		n := 0
+		var mark byte
+		rest := t
+		for {
+			var f []byte
+			if delim == whitespace {
+				rest = trimBlank(rest)
+				if len(rest) == 0 {
+					break
+				}
+				k := bytes.IndexAny(rest, " \t")
+				if k < 0 {
+					k = len(rest)
+				}
+				f, rest = rest[:k], rest[k:]
+			} else {
+				k := bytes.IndexByte(rest, delim)
+				if k < 0 {
+					f, rest = rest, nil
+				} else {
+					f, rest = rest[:k], rest[k+1:]
+				}
+				f = trimField(f)
+				if len(f) == 0 && rest == nil && n > 0 {
+					break // trailing delimiter
+				}
+			}
+			_, m, err := parseNumber(f, delim != ',')
+			if err != nil {
+				return 0, false
+			}
+			if m != 0 {
+				if mark != 0 && m != mark {
+					return 0, false
+				}
+				mark = m
+			}
+			n++
+			if rest == nil {
+				break
+			}
+		}
+		return n, n >= 2
+	}
+	var cands []byte
+	if bytes.IndexByte(t, '\t') >= 0 {
+		cands = append(cands, '\t')
+	}
+	if bytes.IndexByte(t, ';') >= 0 {
+		cands = append(cands, ';')
+	}
+	if bytes.IndexByte(t, ',') >= 0 {
+		cands = append(cands, ',')
+	}
+	cands = append(cands, whitespace)
+	for _, c := range cands {
+		if n, ok := try(c); ok {
+			return c, n, true
+		}
+	}
+	return 0, 0, false
+}
+
+func trimBlank(b []byte) []byte {
+	for len(b) > 0 && (b[0] == ' ' || b[0] == '\t') {
+		b = b[1:]
+	}
+	for len(b) > 0 && (b[len(b)-1] == ' ' || b[len(b)-1] == '\t' || b[len(b)-1] == '\r') {
+		b = b[:len(b)-1]
+	}
+	return b
+}
+
+// trimField trims blanks and one pair of surrounding double quotes.
+func trimField(f []byte) []byte {
+	if len(f) > 0 && (f[0] == ' ' || f[0] == '\t' || f[len(f)-1] == ' ' || f[len(f)-1] == '\t') {
+		f = trimBlank(f)
+	}
+	if len(f) >= 2 && f[0] == '"' && f[len(f)-1] == '"' {
+		f = trimBlank(f[1 : len(f)-1])
+	}
+	return f
+}
+
+// splitQuoted splits a header line at delim, honouring double quotes
+// ("" inside quotes is a quote).
+func splitQuoted(s string, delim byte) []string {
+	var out []string
+	var cur strings.Builder
+	inq := false
+	for i := 0; i < len(s); i++ {
+		c := s[i]
+		switch {
+		case inq && c == '"' && i+1 < len(s) && s[i+1] == '"':
+			cur.WriteByte('"')
+			i++
+		case c == '"':
+			inq = !inq
+		case !inq && c == delim:
+			out = append(out, strings.TrimSpace(cur.String()))
+			cur.Reset()
+		default:
+			cur.WriteByte(c)
+		}
+	}
+	return append(out, strings.TrimSpace(cur.String()))
+}
+
+func latin1ToUTF8(s string) string {
+	r := make([]rune, len(s))
+	for i := 0; i < len(s); i++ {
+		r[i] = rune(s[i])
+	}
+	return string(r)
+}
+
+// headerWords splits a header cell into lower-case words; a word is a run
+// of letters, digits and '%'. bracketed reports, per word, whether it stood
+// alone inside (), [] or {}.
+func headerWords(cell string) (words []string, bracketed []bool) {
+	cell = strings.ToLower(cell)
+	var cur []rune
+	start := -1
+	flush := func(end int) {
+		if len(cur) == 0 {
+			return
+		}
+		w := string(cur)
+		br := false
+		if start > 0 && end < len(cell) {
+			o, c := cell[start-1], cell[end]
+			br = (o == '(' && c == ')') || (o == '[' && c == ']') || (o == '{' && c == '}')
+		}
+		words = append(words, w)
+		bracketed = append(bracketed, br)
+		cur = cur[:0]
+	}
+	for i, r := range cell {
+		if unicode.IsLetter(r) || unicode.IsDigit(r) || r == '%' {
+			if len(cur) == 0 {
+				start = i
+			}
+			cur = append(cur, r)
+			continue
+		}
+		flush(i)
+	}
+	flush(len(cell))
+	return words, bracketed
+}
+
+// quantityFromText finds a quantity word in a header cell: "%T", "T%",
+// "percent", "% transmittance" mean PercentT; "transmittance", "trans" or
+// a lone "T" mean Transmittance; "absorbance", "abs", "absorption" or a
+// lone "A" mean Absorbance. A lone letter counts only when it is the whole
+// cell or stands in brackets, so "A1" or "Sample A" name spectra.
+func quantityFromText(cell string) Quantity {
+	words, br := headerWords(cell)
+	whole := len(words) == 1
+	pct, trans, abs := false, false, false
+	for i, w := range words {
+		lone := whole || br[i]
+		switch w {
+		case "%t", "t%", "%transmittance", "%trans", "percent", "pct", "percentt", "%":
+			pct = true
+		case "transmittance", "transmission", "trans":
+			trans = true
+		case "t":
+			if lone {
+				trans = true
+			}
+		case "absorbance", "abs", "absorption", "extinction":
+			abs = true
+		case "a", "au":
+			if lone {
+				abs = true
+			}
+		}
+	}
+	if pct && (trans || !abs) {
+		return PercentT
+	}
+	switch {
+	case trans && !abs:
+		return Transmittance
+	case abs && !trans:
+		return Absorbance
+	}
+	return Unstated
+}
+
+// cellQuantityAndName reads a header cell: "std 1 [absorbance]" gives
+// Absorbance and "std 1"; "std 1" gives Unstated and "std 1"; a cell that
+// is only a quantity word ("%T") gives that quantity and no name.
+func cellQuantityAndName(cell string) (Quantity, string) {
+	c := strings.TrimSpace(cell)
+	if n := len(c); n > 0 && (c[n-1] == ']' || c[n-1] == ')') {
+		open := byte('[')
+		if c[n-1] == ')' {
+			open = '('
+		}
+		if k := strings.LastIndexByte(c, open); k >= 0 {
+			if q := quantityFromText(c[k:]); q != Unstated {
+				name := strings.TrimSpace(c[:k])
+				if onlyQuantityWords(name) {
+					name = ""
+				}
+				return q, name
+			}
+		}
+	}
+	q := quantityFromText(c)
+	if q != Unstated && onlyQuantityWords(c) {
+		return q, ""
+	}
+	return q, c
+}
+
+// onlyQuantityWords reports whether every word of s is a quantity word.
+func onlyQuantityWords(s string) bool {
+	words, _ := headerWords(s)
+	for _, w := range words {
+		switch w {
+		case "%t", "t%", "%", "percent", "pct", "transmittance", "transmission", "trans", "t",
+			"absorbance", "abs", "absorption", "a", "au":
+		default:
+			return false
+		}
+	}
+	return true
+}
+
+// Wavelength units named in a header.
+const (
+	unitNM = iota
+	unitMicrometre
+	unitWavenumber
+)
+
+// wavelengthUnit reads the unit of the wavelength column from its header
+// cell: cm-1 / 1/cm / wavenumber, µm / um / micrometre, else nm.
+func wavelengthUnit(cell string) int {
+	c := strings.ToLower(strings.ReplaceAll(cell, " ", ""))
+	switch {
+	case strings.Contains(c, "cm-1"), strings.Contains(c, "cm^-1"), strings.Contains(c, "1/cm"),
+		strings.Contains(c, "cm⁻¹"), strings.Contains(c, "wavenumber"):
+		return unitWavenumber
+	case strings.Contains(c, "µm"), strings.Contains(c, "μm"), strings.Contains(c, "(um)"),
+		strings.Contains(c, "[um]"), strings.Contains(c, "micromet"), strings.Contains(c, "micron"):
+		return unitMicrometre
+	}
+	return unitNM
+}
+
+// transpose writes the nr x nc row-major src into dst as column-major
+// (dst[j*nr+i] = src[i*nc+j]), in tiles for the cache.
+func transpose(dst, src []float64, nr, nc int) {
+	const tile = 32
+	for i0 := 0; i0 < nr; i0 += tile {
+		i1 := min(i0+tile, nr)
+		for j0 := 0; j0 < nc; j0 += tile {
+			j1 := min(j0+tile, nc)
+			for i := i0; i < i1; i++ {
+				r := src[i*nc : i*nc+nc]
+				for j := j0; j < j1; j++ {
+					dst[j*nr+i] = r[j]
+				}
+			}
+		}
+	}
+}
+
+func reverse(x []float64) {
+	for i, j := 0, len(x)-1; i < j; i, j = i+1, j-1 {
+		x[i], x[j] = x[j], x[i]
+	}
+}
+
+// fmtG formats a float in the shortest form that reads back exactly.
+func fmtG(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
