@@ -1,0 +1,487 @@
+package reference
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"strings"
+	"testing"
+	"time"
+
+	"huesolve/spectrum"
+)
+
+// band is an invented Gaussian absorption band.
+func band(wl []float64, centre, width, height float64) []float64 {
+	v := make([]float64, len(wl))
+	for i, w := range wl {
+		d := (w - centre) / width
+		v[i] = height * math.Exp(-d*d/2)
+	}
+	return v
+}
+
+func linGrid(lo, step float64, n int) []float64 {
+	g := make([]float64, n)
+	for i := range g {
+		g[i] = lo + step*float64(i)
+	}
+	return g
+}
+
+// memSheet makes a sheet in memory: row i has concentrations conc[i] and
+// absorbances scan[i] on grid.
+func memSheet(names []string, grid []float64, conc, scan [][]float64) *Sheet {
+	sh := &Sheet{Path: "standards.csv", Compounds: names, Units: make([]string, len(names))}
+	for i := range conc {
+		r := Row{
+			File: fmt.Sprintf("std-%02d.csv", i+1), Line: i + 2, Conc: conc[i],
+			Scan: &spectrum.Spectrum{Wavelengths: grid, Values: scan[i], Quantity: spectrum.Absorbance,
+				Source: spectrum.Source{File: fmt.Sprintf("std-%02d.csv", i+1)}},
+			SHA256: strings.Repeat("0", 64),
+		}
+		if allZero(conc[i]) {
+			sh.Blanks = append(sh.Blanks, r)
+		} else {
+			sh.Standards = append(sh.Standards, r)
+		}
+	}
+	return sh
+}
+
+// synth makes absorbances A = C K (+ offset) (+ noise) at path 1.
+func synth(conc [][]float64, k [][]float64, offset, noise float64, rng *rand.Rand) [][]float64 {
+	out := make([][]float64, len(conc))
+	for i, c := range conc {
+		row := make([]float64, len(k[0]))
+		for j := range row {
+			row[j] = offset
+			for q := range c {
+				row[j] += c[q] * k[q][j]
+			}
+			if rng != nil {
+				row[j] += noise * rng.NormFloat64()
+			}
+		}
+		out[i] = row
+	}
+	return out
+}
+
+var fixedNow = func() time.Time { return time.Date(2026, 1, 2, 3, 4, 5, 0, time.UTC) }
+
+// TestBuildNorris runs NIST StRD Norris through Build as a one-compound
+// calibration (x the concentration, y the absorbance at the band maximum;
+// a second wavelength carries half the signal).
+func TestBuildNorris(t *testing.T) {
+	x, y := readNorris(t)
+	grid := []float64{500, 501}
+	conc := make([][]float64, len(x))
+	scan := make([][]float64, len(x))
+	for i := range x {
+		conc[i] = []float64{x[i]}
+		scan[i] = []float64{y[i], y[i] / 2}
+	}
+	sh := memSheet([]string{"norris"}, grid, conc, scan)
+	set, err := Build(sh, Options{Ceiling: 1e4, Now: fixedNow})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := set.Compounds[0]
+	if c.PeakNM != 500 {
+		t.Fatalf("peak at %g nm, want 500", c.PeakNM)
+	}
+	// Certified values, NIST StRD Norris (testdata/reference/Norris.dat).
+	const tol = 1e-9
+	for _, v := range []struct {
+		name      string
+		got, want float64
+	}{
+		{"absorptivity", c.Absorptivity[0], 1.00211681802045},
+		{"absorptivity SE", c.SE[0], 0.429796848199937e-03},
+		{"intercept", c.Intercept[0], -0.262323073774029},
+		{"noise", set.Noise[0], 0.884796396144373},
+		{"line slope", c.Linearity.Slope, 1.00211681802045},
+		{"line intercept", c.Linearity.Intercept, -0.262323073774029},
+		{"line slope SD", c.Linearity.SlopeSE, 0.429796848199937e-03},
+		{"line intercept SD", c.Linearity.InterceptSE, 0.232818234301152},
+		{"line residual SD", c.Linearity.ResidualSD, 0.884796396144373},
+		{"line R2", c.Linearity.R2, 0.999993745883712},
+	} {
+		if e := relErr(v.got, v.want); e > tol {
+			t.Errorf("Norris %s = %.15g, want %.15g (relative error %.2g)", v.name, v.got, v.want, e)
+		}
+	}
+	if c.Linearity.Curved {
+		t.Error("Norris flagged curved")
+	}
+	if set.Provenance.Created != "2026-01-02T03:04:05Z" || len(set.Provenance.Standards) != 36 {
+		t.Errorf("provenance: created %q, %d standards", set.Provenance.Created, len(set.Provenance.Standards))
+	}
+}
+
+var mixNames = []string{"red", "yellow", "blue"}
+
+// trueK is an invented set of overlapping bands on 400-600 nm.
+func trueK(grid []float64) [][]float64 {
+	return [][]float64{
+		band(grid, 500, 25, 0.050),
+		band(grid, 430, 20, 0.080),
+		add(band(grid, 560, 30, 0.060), band(grid, 480, 15, 0.010)),
+	}
+}
+
+func add(a, b []float64) []float64 {
+	for i := range a {
+		a[i] += b[i]
+	}
+	return a
+}
+
+// pureDesign: blanks, then 5 levels of each compound alone, in duplicate.
+func pureDesign() [][]float64 {
+	c := [][]float64{{0, 0, 0}, {0, 0, 0}}
+	for k := range 3 {
+		for _, v := range []float64{2, 4, 6, 8, 10} {
+			for range 2 {
+				r := make([]float64, 3)
+				r[k] = v
+				c = append(c, r)
+			}
+		}
+	}
+	return c
+}
+
+// mixedDesign: blanks, then mixtures with the concentrations varied
+// independently (a fixed 3-factor layout, levels 0-10).
+func mixedDesign() [][]float64 {
+	c := [][]float64{{0, 0, 0}, {0, 0, 0}}
+	lv := []float64{0, 2, 5, 10}
+	for a := range lv {
+		for b := range lv {
+			cc := lv[(a+2*b)%4]
+			if a == 0 && b == 0 {
+				continue
+			}
+			c = append(c, []float64{lv[a], lv[b], cc})
+		}
+	}
+	return c
+}
+
+// TestBuildExactK: noise-free mixtures of invented bands give back the
+// exact K (the classical K-matrix calibration is exact for exact data).
+func TestBuildExactK(t *testing.T) {
+	grid := linGrid(400, 2, 101)
+	k := trueK(grid)
+	for _, through := range []bool{false, true} {
+		conc := mixedDesign()
+		sh := memSheet(mixNames, grid, conc, synth(conc, k, 0.02, 0, nil))
+		set, err := Build(sh, Options{ThroughOrigin: through, Now: fixedNow})
+		if err != nil {
+			t.Fatal(err)
+		}
+		for q, c := range set.Compounds {
+			for j := range grid {
+				// Exact data: only rounding error remains.
+				if d := math.Abs(c.Absorptivity[j] - k[q][j]); d > 1e-13 {
+					t.Fatalf("through origin %v: %s at %g nm: K = %.17g, want %.17g", through, c.Name, grid[j], c.Absorptivity[j], k[q][j])
+				}
+			}
+		}
+		if through && len(set.Compounds[0].Intercept) != 0 {
+			t.Error("through-origin set has an intercept")
+		}
+	}
+}
+
+// TestBuildPureVsMixed: pure and mixed designs of the same compounds give
+// the same K within their standard errors, and each is within its SE of
+// the invented truth.
+func TestBuildPureVsMixed(t *testing.T) {
+	grid := linGrid(400, 2, 101)
+	k := trueK(grid)
+	const noise = 0.001
+	rng := rand.New(rand.NewPCG(1, 1))
+	var sets [2]*Set
+	for d, conc := range [][][]float64{pureDesign(), mixedDesign()} {
+		sh := memSheet(mixNames, grid, conc, synth(conc, k, 0.03, noise, rng))
+		s, err := Build(sh, Options{Now: fixedNow})
+		if err != nil {
+			t.Fatal(err)
+		}
+		sets[d] = s
+		// The noise model recovers the noise put in: with 11 or more degrees
+		// of freedom per wavelength, 101 wavelengths stay within 0.4-1.8
+		// times the true SD (chi-square bounds far in the tails).
+		for j, v := range s.Noise {
+			if v < 0.4*noise || v > 1.8*noise {
+				t.Fatalf("design %d: noise at %g nm = %g, want about %g", d, grid[j], v, noise)
+			}
+		}
+	}
+	worst := 0.0
+	for q := range k {
+		for j := range grid {
+			a, b := sets[0].Compounds[q], sets[1].Compounds[q]
+			z := (a.Absorptivity[j] - b.Absorptivity[j]) / math.Hypot(a.SE[j], b.SE[j])
+			worst = max(worst, math.Abs(z))
+			for _, s := range []Compound{a, b} {
+				if zz := (s.Absorptivity[j] - k[q][j]) / s.SE[j]; math.Abs(zz) > 5 {
+					t.Errorf("%s at %g nm: K %g is %.1f SE from the truth %g", s.Name, grid[j], s.Absorptivity[j], zz, k[q][j])
+				}
+			}
+		}
+	}
+	// 303 comparisons of roughly normal z: 5 is far out in the tail.
+	if worst > 5 {
+		t.Errorf("pure and mixed designs differ by up to %.1f combined SE", worst)
+	}
+	for q, c := range sets[0].Compounds {
+		if math.Abs(c.PeakNM-[]float64{500, 430, 560}[q]) > 4 {
+			t.Errorf("%s: band maximum at %g nm", c.Name, c.PeakNM)
+		}
+		if c.Linearity.Curved {
+			t.Errorf("%s: straight calibration flagged curved (Mandel p %g)", c.Name, c.Linearity.MandelP)
+		}
+	}
+}
+
+// TestBuildPathScaling: Beer-Lambert, A = eps b c (the definition of
+// absorptivity). The same scans declared at 2 cm give absorptivities per cm
+// exactly half those declared at 1 cm.
+func TestBuildPathScaling(t *testing.T) {
+	grid := linGrid(400, 2, 101)
+	conc := pureDesign()
+	sh := memSheet(mixNames, grid, conc, synth(conc, trueK(grid), 0, 0.001, rand.New(rand.NewPCG(2, 2))))
+	s1, err := Build(sh, Options{PathCM: 1, Now: fixedNow})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s2, err := Build(sh, Options{PathCM: 2, Now: fixedNow})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for q := range s1.Compounds {
+		for j := range grid {
+			a, b := s1.Compounds[q], s2.Compounds[q]
+			if b.Absorptivity[j] != a.Absorptivity[j]/2 || b.SE[j] != a.SE[j]/2 {
+				t.Fatalf("%s at %g nm: 2 cm gives %g +- %g, 1 cm %g +- %g; want exactly half",
+					a.Name, grid[j], b.Absorptivity[j], b.SE[j], a.Absorptivity[j], a.SE[j])
+			}
+		}
+	}
+	if s2.PathCM != 2 {
+		t.Errorf("path = %g", s2.PathCM)
+	}
+}
+
+// TestBuildCurved: a calibration that bends at high concentration (the
+// response saturates) is flagged by Mandel's test and its range is cut;
+// the same levels on a straight line pass.
+func TestBuildCurved(t *testing.T) {
+	grid := linGrid(450, 5, 21)
+	shape := band(grid, 500, 20, 1)
+	levels := []float64{1, 2, 4, 6, 8, 10, 12}
+	for _, bend := range []float64{0, 0.004} {
+		rng := rand.New(rand.NewPCG(3, 3))
+		var conc, scan [][]float64
+		conc = append(conc, []float64{0}, []float64{0})
+		scan = append(scan, make([]float64, len(grid)), make([]float64, len(grid)))
+		for _, c := range levels {
+			for range 3 {
+				// Peak absorbance 0.12 c - bend c^2: at bend 0.004 the top
+				// level reads 0.58 below the line.
+				row := make([]float64, len(grid))
+				for j := range row {
+					row[j] = shape[j]*(0.12*c-bend*c*c) + 0.001*rng.NormFloat64()
+				}
+				conc = append(conc, []float64{c})
+				scan = append(scan, row)
+			}
+		}
+		set, err := Build(memSheet([]string{"dye"}, grid, conc, scan), Options{Ceiling: 3, Now: fixedNow})
+		if err != nil {
+			t.Fatal(err)
+		}
+		l := set.Compounds[0].Linearity
+		if curved := bend > 0; l.Curved != curved {
+			t.Errorf("bend %g: curved = %v (Mandel F %g, p %g), want %v", bend, l.Curved, l.MandelF, l.MandelP, curved)
+		}
+		if bend > 0 && (l.RangeHi >= 12 || !hasFlag(set.Compounds[0].Flags, FlagCurved)) {
+			t.Errorf("bend %g: range up to %g, flags %v; want the range cut and the curved flag", bend, l.RangeHi, set.Compounds[0].Flags)
+		}
+		if bend == 0 && (l.RangeLo != 1 || l.RangeHi != 12) {
+			t.Errorf("straight: range %g-%g, want 1-12", l.RangeLo, l.RangeHi)
+		}
+	}
+}
+
+func hasFlag(flags []string, f string) bool {
+	for _, x := range flags {
+		if x == f {
+			return true
+		}
+	}
+	return false
+}
+
+// TestBuildCeiling: readings above the ceiling are left out and counted;
+// a wavelength where fewer than 3 levels stay under it is unusable.
+func TestBuildCeiling(t *testing.T) {
+	grid := linGrid(450, 5, 21)
+	k := [][]float64{band(grid, 500, 20, 0.5)}
+	conc := [][]float64{{0}, {1}, {2}, {3}, {4}, {5}, {6}}
+	var warned []string
+	set, err := Build(memSheet([]string{"dye"}, grid, conc, synth(conc, k, 0, 0, nil)),
+		Options{Ceiling: 1.2, Now: fixedNow, Warn: func(m string) { warned = append(warned, m) }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	c := set.Compounds[0]
+	// At 500 nm only levels 1 and 2 read <= 1.2 (0.5 per unit): unusable.
+	j500 := 10
+	if c.Usable[j500] {
+		t.Errorf("usable at 500 nm with 2 levels under the ceiling")
+	}
+	// Far out on the band every level is under the ceiling.
+	if !c.Usable[0] || c.LeftOut == 0 || !hasFlag(c.Flags, FlagAboveCeiling) {
+		t.Errorf("usable[450 nm] %v, left out %d, flags %v", c.Usable[0], c.LeftOut, c.Flags)
+	}
+	if c.PeakNM == 500 {
+		t.Error("the band maximum was taken where the compound is unusable")
+	}
+	if len(warned) == 0 || !strings.Contains(strings.Join(warned, "\n"), "above the ceiling") {
+		t.Errorf("warnings %q do not mention the ceiling", warned)
+	}
+}
+
+// TestBuildGrids: scans on other grids are interpolated onto the first
+// standard's grid within the shared range, and Build says so.
+func TestBuildGrids(t *testing.T) {
+	fine := linGrid(400, 1, 201)
+	coarse := linGrid(390, 2, 111) // 390-610 nm
+	k := [][]float64{band(fine, 500, 30, 0.1)}
+	conc := [][]float64{{0}, {1}, {2}, {3}, {4}, {5}}
+	sh := memSheet([]string{"dye"}, fine, conc, synth(conc, k, 0, 0, nil))
+	// Standard 3 on the coarse grid: a straight-line-exact function would
+	// survive interpolation; a Gaussian nearly does at 2 nm.
+	sh.Standards[2].Scan = &spectrum.Spectrum{Wavelengths: coarse, Values: scale(band(coarse, 500, 30, 0.1), 3)}
+	var warned []string
+	set, err := Build(sh, Options{Now: fixedNow, Warn: func(m string) { warned = append(warned, m) }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if !spectrum.SameGrid(set.Grid, fine) {
+		t.Errorf("grid %g-%g nm (%d points), want the first standard's", set.Grid[0], set.Grid[len(set.Grid)-1], len(set.Grid))
+	}
+	if !strings.Contains(strings.Join(warned, "\n"), "interpolated") {
+		t.Errorf("no note of interpolation in %q", warned)
+	}
+	// Window inside both.
+	set, err = Build(sh, Options{WindowLo: 450, WindowHi: 550, Now: fixedNow})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if set.Grid[0] != 450 || set.Grid[len(set.Grid)-1] != 550 || len(set.Grid) != 101 {
+		t.Errorf("window grid %g-%g nm, %d points", set.Grid[0], set.Grid[len(set.Grid)-1], len(set.Grid))
+	}
+}
+
+func scale(v []float64, f float64) []float64 {
+	for i := range v {
+		v[i] *= f
+	}
+	return v
+}
+
+// TestBuildBlank: the mean of the blank rows (or a separate blank) is
+// subtracted, so a through-origin fit of offset data is exact.
+func TestBuildBlank(t *testing.T) {
+	grid := linGrid(400, 2, 101)
+	k := trueK(grid)
+	conc := pureDesign()
+	scans := synth(conc, k, 0.05, 0, nil) // 0.05 from solvent and cell in every scan
+	sh := memSheet(mixNames, grid, conc, scans)
+	for _, sep := range []bool{false, true} {
+		opt := Options{ThroughOrigin: true, Now: fixedNow}
+		if sep {
+			opt.Blank = &spectrum.Spectrum{Wavelengths: grid, Values: scans[0], Quantity: spectrum.Absorbance,
+				Source: spectrum.Source{File: "blank.csv"}}
+		}
+		set, err := Build(sh, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for q, c := range set.Compounds {
+			for j := range grid {
+				if d := math.Abs(c.Absorptivity[j] - k[q][j]); d > 1e-13 {
+					t.Fatalf("separate blank %v: %s at %g nm: %g, want %g", sep, c.Name, grid[j], c.Absorptivity[j], k[q][j])
+				}
+			}
+		}
+		if want := map[bool]string{false: "sheet rows", true: "blank.csv"}[sep]; set.Provenance.Blank != want {
+			t.Errorf("provenance blank %q, want %q", set.Provenance.Blank, want)
+		}
+	}
+}
+
+func TestBuildErrors(t *testing.T) {
+	grid := linGrid(400, 2, 101)
+	k := trueK(grid)
+	base := func() [][]float64 { return pureDesign() }
+	cases := []struct {
+		name string
+		conc func() [][]float64
+		edit func(sh *Sheet, opt *Options)
+		want error
+		in   string // the message must name this
+	}{
+		{"negative", base, func(sh *Sheet, _ *Options) { sh.Standards[3].Conc[1] = -1 }, ErrConcentration, "standards.csv:7"},
+		{"never varies", func() [][]float64 {
+			c := base()
+			for i := range c {
+				c[i][2] = 0
+				if allZero(c[i]) {
+					c[i][0] = 1
+				}
+			}
+			return c
+		}, nil, ErrNoVariation, "blue"},
+		{"same ratio", func() [][]float64 {
+			var c [][]float64
+			for _, v := range []float64{0, 1, 2, 3, 4, 5, 6} {
+				c = append(c, []float64{v, 2 * v, 5 - 0.5*v})
+			}
+			return c
+		}, nil, ErrDesign, "linearly dependent"},
+		{"nearly same ratio", func() [][]float64 {
+			var c [][]float64
+			for i, v := range []float64{1, 2, 3, 4, 5, 6, 7} {
+				c = append(c, []float64{v, v * (1 + 1e-5*float64(i%2)), float64(i % 3)})
+			}
+			return c
+		}, nil, ErrDesign, "condition number"},
+		{"window", base, func(_ *Sheet, opt *Options) { opt.WindowLo, opt.WindowHi = 380, 550 }, ErrWindow, "standards.csv:4: scan does not cover the window: std-03.csv covers 400-600 nm"},
+		{"too few", func() [][]float64 { return [][]float64{{1, 0, 0}, {0, 1, 0}, {0, 0, 1}, {1, 1, 1}} }, nil, ErrTooFewStandards, "standards"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			conc := c.conc()
+			sh := memSheet(mixNames, grid, conc, synth(conc, k, 0, 0, nil))
+			opt := Options{Now: fixedNow}
+			if c.edit != nil {
+				c.edit(sh, &opt)
+			}
+			_, err := Build(sh, opt)
+			if !errors.Is(err, c.want) {
+				t.Fatalf("Build = %v, want %v", err, c.want)
+			}
+			if !strings.Contains(err.Error(), c.in) {
+				t.Errorf("error %q does not name %q", err, c.in)
+			}
+		})
+	}
+}
