@@ -3,14 +3,115 @@
 // terms), fits each sample by non-negative least squares (package lsq),
 // and turns the fit into concentrations with uncertainties, fit figures
 // and quality flags.
+//
+// # The sample model
+//
+// A sample scan is converted to absorbance, brought onto the reference
+// grid by linear interpolation (never extrapolated), blank-corrected,
+// given the reference set's pre-treatment, cropped to the window and
+// fitted as
+//
+//	A(l) = sum_k b_ref eps_k(l) c_k + sum_j beta_j B_j(l) + e(l)
+//
+// with c_k >= 0 (compounds) and beta_j free (polynomial baseline) or
+// non-negative (scattering term). Concentrations are then scaled to the
+// sample: c = c_fit * (b_ref / b_sample) * dilution.
+//
+// Points whose raw absorbance exceeds the ceiling are left out. The noise
+// model is
+//
+//	sigma(l) = noise(l) * sqrt(1 + 10^(2 (A(l) - WeightKneeA)))
+//
+// where noise(l) is the reference set's calibration noise and A(l) the
+// sample's raw absorbance: flat at low absorbance, growing as 10^A where
+// photometric noise dominates (s_A = 0.434 s_T / T for constant
+// transmittance noise s_T). With Options.Weighted the fit weights by
+// 1/sigma^2; either way the reduced chi-square, the detection limits and
+// the plotted noise band use sigma.
+//
+// # Cost
+//
+// The design is factorised once per model. A sample with points above the
+// ceiling needs a design on fewer rows; those are cached by mask per
+// model clone (up to maskCacheSize). A weighted fit depends on the
+// sample's own absorbance, so it factors its own design for every sample
+// (two thin QR factorisations of n x p, about the cost of the solve
+// itself for p = 5).
 package unmix
 
 import (
 	"errors"
+	"fmt"
+	"math"
+	"slices"
+
+	"gonum.org/v1/gonum/stat/distuv"
 
 	"huesolve/baseline"
 	"huesolve/reference"
 	"huesolve/spectrum"
+	"huesolve/unmix/lsq"
+)
+
+// Defaults and limits. Each tolerance says what it bounds.
+const (
+	// DefaultMaxShiftNM is the shift limit when Options.MaxShiftNM is 0.
+	DefaultMaxShiftNM = 3.0
+	// DefaultCeiling is the absorbance ceiling when neither the options
+	// nor the reference set give one (about 2 by common practice; see
+	// the stray-light note in the methods notes).
+	DefaultCeiling = 2.0
+	// NoiseFloorAU is the smallest noise sigma (absorbance units) used
+	// anywhere: it keeps weights and chi-square finite where a reference
+	// set's noise is zero (a zeroed region, say). Typical UV-Vis
+	// photometric noise is near 1e-4 AU (common practice), so the floor
+	// does not bind on real data.
+	NoiseFloorAU = 1e-5
+	// WeightKneeA is the absorbance above which the noise model grows as
+	// 10^A (below it the calibration noise holds). Photometric noise
+	// takes over near A = 1 on common instruments (common practice).
+	WeightKneeA = 1.0
+	// DropLimitFrac is the fraction of window points above the ceiling
+	// beyond which the sample is flagged FlagDilute.
+	DropLimitFrac = 0.05
+	// PoorFitChiSq is the reduced chi-square above which a fit is flagged
+	// FlagMisfit: the residual's RMS is more than twice the expected
+	// noise. (With 100 or more degrees of freedom a correct noise model
+	// gives chi-square above 1.5 with probability below 1e-4; the factor
+	// 4 leaves room for an imperfect noise model.)
+	PoorFitChiSq = 4.0
+	// PatternDW is the Durbin-Watson statistic below which a residual is
+	// flagged FlagPattern. White residuals give about 2 +- 2/sqrt(n)
+	// (Durbin & Watson 1950); 1 is far below that for n >= 50 and is still
+	// reached by mildly correlated instrument noise only rarely.
+	PatternDW = 1.0
+	// CondLimit is the condition number (unit-norm columns) above which
+	// the design is flagged FlagIllCond. Belsley, Kuh & Welsch,
+	// Regression Diagnostics (1980): condition indexes above 30 signal
+	// moderate and above 100 strong dependence (recalled from memory).
+	CondLimit = 100.0
+	// LeakLimit: a compound whose spectrum keeps less than this fraction
+	// of its norm after projecting out the baseline terms is flagged
+	// FlagMimic (methods notes, "baseline leakage").
+	LeakLimit = 0.5
+	// ShiftTolNM ends the shift iteration when a step is smaller.
+	ShiftTolNM = 1e-3
+	// ShiftMaxIter caps the shift iterations.
+	ShiftMaxIter = 12
+	// ShiftNoteNM is the smallest estimated shift that is flagged
+	// FlagShift.
+	ShiftNoteNM = 0.05
+	// LODFactor and LOQFactor multiply sigma / sensitivity (ICH Q2).
+	LODFactor = 3.3
+	LOQFactor = 10.0
+	// minDoF is the fewest residual degrees of freedom a fit may have.
+	minDoF = 2
+	// maskCacheSize bounds the designs cached per model clone.
+	maskCacheSize = 64
+	// gridSlack is the relative slack (of the span) allowed when checking
+	// that a scan covers the range the model needs, so wavelengths read
+	// from rounded text still match.
+	gridSlack = 1e-9
 )
 
 // Options describe the sample model. Zero values mean the documented
@@ -32,6 +133,9 @@ type Options struct {
 	Ceiling float64
 	// Blank, if not nil, is subtracted from every sample (absorbance).
 	Blank *spectrum.Spectrum
+	// KeepCurves fills the plot curves of each Result (Grid, Measured,
+	// ...). Off, a solve allocates only the Result itself.
+	KeepCurves bool
 }
 
 // Factors are per-sample: dilution factor (1 if 0) and path length in cm
@@ -44,7 +148,9 @@ type Factors struct {
 // Flag is a quality flag on a sample or on one compound's amount.
 type Flag string
 
-// Amount is one compound's concentration in a sample.
+// Amount is one compound's concentration in a sample. All concentrations
+// are in the reference set's unit, scaled to the original sample
+// (dilution and path applied).
 type Amount struct {
 	Compound string  `json:"compound"`
 	Unit     string  `json:"unit"`
@@ -53,6 +159,17 @@ type Amount struct {
 	Lo       float64 `json:"ci95_lo"`
 	Hi       float64 `json:"ci95_hi"`
 	Flags    []Flag  `json:"flags,omitempty"`
+	// LOD and LOQ are the detection and quantitation limits for this
+	// sample (3.3 and 10 sigma / sensitivity, from the design and the
+	// noise model).
+	LOD float64 `json:"lod"`
+	LOQ float64 `json:"loq"`
+	// Free and FreeSE are the unconstrained (ordinary least squares)
+	// estimate and its standard error from the noise model; reported for
+	// compounds held at zero, where they show how far below zero the data
+	// would push.
+	Free   float64 `json:"unconstrained"`
+	FreeSE float64 `json:"unconstrained_se"`
 }
 
 // Result is the outcome for one sample.
@@ -70,8 +187,15 @@ type Result struct {
 	Points   int                `json:"points_used"`
 	Dropped  int                `json:"points_dropped"`
 	ShiftNM  float64            `json:"shift_nm"`
+	// Dilution and PathCM are the factors applied.
+	Dilution float64 `json:"dilution"`
+	PathCM   float64 `json:"path_cm"`
+	// SuggestDilution, when FlagDilute is set, is a dilution factor that
+	// brings the sample's highest band below the ceiling (0 otherwise).
+	SuggestDilution float64 `json:"suggest_dilution,omitempty"`
 	// Curves for plots (not in JSON): grid, measured, fitted, residual,
-	// per-compound contributions, baseline, expected noise.
+	// per-compound contributions, baseline, expected noise. Filled only
+	// with Options.KeepCurves, on the points used by the fit.
 	Grid          []float64   `json:"-"`
 	Measured      []float64   `json:"-"`
 	Fitted        []float64   `json:"-"`
@@ -81,18 +205,430 @@ type Result struct {
 	Noise         []float64   `json:"-"`
 }
 
-var errTODO = errors.New("unmix: not yet written")
+// Errors returned by NewModel and Solve, tested with errors.Is.
+var (
+	// ErrSet: the reference set is unusable (inconsistent lengths,
+	// non-finite numbers, no compounds, no noise model).
+	ErrSet = errors.New("unusable reference set")
+	// ErrCoverage: a scan or blank does not cover the wavelengths the
+	// model needs.
+	ErrCoverage = errors.New("scan does not cover the model's wavelengths")
+	// ErrTooDark: so many points are above the ceiling that no fit is
+	// possible.
+	ErrTooDark = errors.New("too few points below the absorbance ceiling")
+	// ErrFactor: a dilution factor or path length is not a positive
+	// finite number.
+	ErrFactor = errors.New("bad sample factor")
+)
 
-// Model is a reference set plus options, set up once and used for many
-// samples.
-type Model struct {
-	set *reference.Set
-	opt Options
+// shared is the immutable part of a model, shared by its clones.
+type shared struct {
+	set     *reference.Set
+	opt     Options
+	grid    []float64 // set grid
+	lo, hi  int       // window [lo, hi) on the set grid
+	wlo     int       // work range [wlo, whi) on the set grid
+	whi     int       // (the whole grid with pre-treatment, else the window)
+	needLo  float64   // nm a scan must cover
+	needHi  float64
+	rows0   []int       // usable window rows (reference set's Usable)
+	cols    [][]float64 // design columns on the window (compounds, then baseline)
+	dcols   [][]float64 // d/dl of compound columns on the window (shift only)
+	nonneg  []bool
+	ncomp   int
+	names   []string // baseline term names
+	noise   []float64
+	ceiling float64
+	maxStd  []float64
+	blankWL []float64 // blank in absorbance on its own grid
+	blankA  []float64
+	blank0  []float64 // blank on the work grid, unshifted
+	base    *design
 }
 
-// NewModel checks the options against the set and builds the design.
-func NewModel(set *reference.Set, opt Options) (*Model, error) { return nil, errTODO }
+// Model is a reference set plus options, set up once and used for many
+// samples. A Model is not safe for concurrent use: give each goroutine
+// its own Clone, which shares the factorised design.
+type Model struct {
+	set   *reference.Set
+	opt   Options
+	sh    *shared
+	base  *design // this clone's design on all usable rows
+	cache map[string]*design
+	tq    map[int]float64
+	ws    workspace
+}
+
+// workspace is per-clone scratch storage reused across samples.
+type workspace struct {
+	abs    []float64 // sample absorbance on its own grid
+	raw    []float64 // raw absorbance on the work grid (at the current shift)
+	net    []float64 // blank-corrected
+	blk    []float64 // blank on the work grid at the current shift
+	y      []float64 // fit rows
+	sig    []float64 // noise sigma on the window
+	g      []float64 // shift direction on the fit rows
+	rows   []int
+	key    []byte
+	res    lsq.Result
+	gridOK []float64 // last sample grid found equal to the set grid
+}
+
+// NewModel checks the options against the set and builds the design. It
+// returns an error wrapping ErrSet for an inconsistent set, ErrCoverage
+// for a window or blank outside the set's grid, and the solver's error
+// when the design's columns are linearly dependent.
+func NewModel(set *reference.Set, opt Options) (*Model, error) {
+	if set == nil {
+		return nil, fmt.Errorf("unmix: %w: nil set", ErrSet)
+	}
+	if err := checkSet(set); err != nil {
+		return nil, err
+	}
+	sh := &shared{set: set, opt: opt, grid: set.Grid, ncomp: len(set.Compounds)}
+	if sh.opt.MaxShiftNM == 0 {
+		sh.opt.MaxShiftNM = DefaultMaxShiftNM
+	}
+	if !(sh.opt.MaxShiftNM > 0) || math.IsInf(sh.opt.MaxShiftNM, 0) {
+		return nil, fmt.Errorf("unmix: the shift limit must be a positive number of nm, not %g", opt.MaxShiftNM)
+	}
+	sh.ceiling = opt.Ceiling
+	if sh.ceiling == 0 {
+		sh.ceiling = set.Ceiling
+	}
+	if sh.ceiling == 0 {
+		sh.ceiling = DefaultCeiling
+	}
+	if !(sh.ceiling > 0) || math.IsInf(sh.ceiling, 0) {
+		return nil, fmt.Errorf("unmix: the absorbance ceiling must be positive, not %g", sh.ceiling)
+	}
+	g := set.Grid
+	glo, ghi := g[0], g[len(g)-1]
+	wlo, whi := opt.WindowLo, opt.WindowHi
+	if wlo == 0 && whi == 0 {
+		wlo, whi = glo, ghi
+	}
+	if !(whi > wlo) {
+		return nil, fmt.Errorf("unmix: window %g-%g nm is empty", wlo, whi)
+	}
+	slack := gridSlack * (ghi - glo)
+	if wlo < glo-slack || whi > ghi+slack {
+		return nil, fmt.Errorf("unmix: window %g-%g nm reaches outside the reference grid %g-%g nm: %w", wlo, whi, glo, ghi, ErrCoverage)
+	}
+	if opt.Shift {
+		wlo = max(wlo, glo+sh.opt.MaxShiftNM)
+		whi = min(whi, ghi-sh.opt.MaxShiftNM)
+	}
+	sh.lo = searchGE(g, wlo-slack)
+	sh.hi = searchGT(g, whi+slack)
+	if sh.hi-sh.lo < 2 {
+		return nil, fmt.Errorf("unmix: window %g-%g nm holds %d reference points: %w", wlo, whi, max(sh.hi-sh.lo, 0), ErrCoverage)
+	}
+	wl := g[sh.lo:sh.hi]
+	if len(set.Pretreat) > 0 {
+		sh.wlo, sh.whi = 0, len(g)
+		sh.needLo, sh.needHi = glo, ghi
+	} else {
+		sh.wlo, sh.whi = sh.lo, sh.hi
+		sh.needLo, sh.needHi = wl[0], wl[len(wl)-1]
+		if opt.Shift {
+			sh.needLo -= sh.opt.MaxShiftNM
+			sh.needHi += sh.opt.MaxShiftNM
+		}
+	}
+
+	// Rows every compound's absorptivity is known at.
+	for r := range wl {
+		ok := true
+		for _, c := range set.Compounds {
+			if len(c.Usable) == len(g) && !c.Usable[sh.lo+r] {
+				ok = false
+			}
+		}
+		if ok {
+			sh.rows0 = append(sh.rows0, r)
+		}
+	}
+
+	// Design columns: absorptivity x reference path, then baseline terms.
+	for _, c := range set.Compounds {
+		col := make([]float64, len(wl))
+		for r := range wl {
+			col[r] = c.Absorptivity[sh.lo+r] * set.PathCM
+		}
+		sh.cols = append(sh.cols, col)
+		sh.nonneg = append(sh.nonneg, true)
+		sh.maxStd = append(sh.maxStd, c.MaxStandard)
+	}
+	if err := opt.Baseline.Check(wl); err != nil {
+		return nil, fmt.Errorf("unmix: %w", err)
+	}
+	bcols, bnn, bnames := opt.Baseline.Columns(wl)
+	if len(bcols) != len(bnn) || len(bcols) != len(bnames) {
+		return nil, fmt.Errorf("unmix: baseline %q gave %d columns, %d signs, %d names", opt.Baseline, len(bcols), len(bnn), len(bnames))
+	}
+	for j, c := range bcols {
+		if len(c) != len(wl) {
+			return nil, fmt.Errorf("unmix: baseline term %s has %d values for %d wavelengths", bnames[j], len(c), len(wl))
+		}
+	}
+	sh.cols = append(sh.cols, bcols...)
+	sh.nonneg = append(sh.nonneg, bnn...)
+	sh.names = bnames
+	if opt.Shift {
+		for k := range sh.ncomp {
+			sh.dcols = append(sh.dcols, derivative(set.Compounds[k].Absorptivity, g, sh.lo, sh.hi, set.PathCM))
+		}
+	}
+	sh.noise = make([]float64, len(wl))
+	for r := range wl {
+		sh.noise[r] = math.Max(set.Noise[sh.lo+r], NoiseFloorAU)
+	}
+	if opt.Blank != nil {
+		if err := sh.setBlank(opt.Blank); err != nil {
+			return nil, err
+		}
+	}
+	var err error
+	if sh.base, err = sh.buildDesign(sh.rows0, nil); err != nil {
+		return nil, fmt.Errorf("unmix: window %g-%g nm, baseline %q: %w", wl[0], wl[len(wl)-1], opt.Baseline, err)
+	}
+	m := &Model{set: set, opt: sh.opt, sh: sh}
+	m.init(sh.base)
+	return m, nil
+}
+
+// init gives a model its own caches and workspace.
+func (m *Model) init(base *design) {
+	m.base = base
+	m.cache = map[string]*design{"": base}
+	m.tq = map[int]float64{}
+	m.ws = workspace{}
+}
+
+// Clone returns a model sharing the design with fresh workspace, for
+// another goroutine.
+func (m *Model) Clone() *Model {
+	c := &Model{set: m.set, opt: m.opt, sh: m.sh}
+	b := *m.sh.base
+	b.solver = m.sh.base.solver.Clone()
+	c.init(&b)
+	return c
+}
+
+// Compounds returns the compound names in result order.
+func (m *Model) Compounds() []string {
+	out := make([]string, m.sh.ncomp)
+	for k, c := range m.set.Compounds {
+		out[k] = c.Name
+	}
+	return out
+}
+
+// Units returns the concentration unit of each compound.
+func (m *Model) Units() []string {
+	out := make([]string, m.sh.ncomp)
+	for k, c := range m.set.Compounds {
+		out[k] = c.Unit
+	}
+	return out
+}
+
+// BaselineTerms returns the names of the baseline coefficients (keys of
+// Result.Baseline) in design order.
+func (m *Model) BaselineTerms() []string { return slices.Clone(m.sh.names) }
+
+// Window returns the wavelengths of the fit window.
+func (m *Model) Window() []float64 { return slices.Clone(m.sh.grid[m.sh.lo:m.sh.hi]) }
+
+// Excluded is the number of window points left out for every sample
+// because a compound's absorptivity is not known there.
+func (m *Model) Excluded() int { return m.sh.hi - m.sh.lo - len(m.sh.rows0) }
+
+// Cond is the condition number of the unweighted design on all usable
+// window points.
+func (m *Model) Cond() float64 { return m.sh.base.cond }
+
+// Leakage is, per compound, the fraction of its spectrum's norm the
+// baseline terms cannot imitate (1: none can, 0: all can).
+func (m *Model) Leakage() []float64 { return slices.Clone(m.sh.base.leak[:m.sh.ncomp]) }
+
+// Ceiling is the absorbance ceiling in use.
+func (m *Model) Ceiling() float64 { return m.sh.ceiling }
+
+// Options returns the options with defaults filled in.
+func (m *Model) Options() Options { return m.opt }
 
 // Solve fits one sample spectrum (any grid covering the model window; any
-// quantity, converted to absorbance).
-func (m *Model) Solve(s *spectrum.Spectrum, f Factors) (*Result, error) { return nil, errTODO }
+// quantity, converted to absorbance). See SolveTo.
+func (m *Model) Solve(s *spectrum.Spectrum, f Factors) (*Result, error) {
+	r := new(Result)
+	if err := m.SolveTo(r, s, f); err != nil {
+		return nil, err
+	}
+	return r, nil
+}
+
+// checkSet verifies the parts of a reference set the model relies on.
+func checkSet(set *reference.Set) error {
+	n := len(set.Grid)
+	bad := func(format string, a ...any) error {
+		return fmt.Errorf("unmix: reference set: %s: %w", fmt.Sprintf(format, a...), ErrSet)
+	}
+	if n < 2 {
+		return bad("grid has %d points", n)
+	}
+	if err := spectrum.CheckGrid(set.Grid); err != nil {
+		return bad("%v", err)
+	}
+	if len(set.Compounds) == 0 {
+		return bad("no compounds")
+	}
+	if !(set.PathCM > 0) || math.IsInf(set.PathCM, 0) {
+		return bad("path length %g cm", set.PathCM)
+	}
+	if len(set.Noise) != n {
+		return bad("noise model has %d values for %d wavelengths", len(set.Noise), n)
+	}
+	for i, v := range set.Noise {
+		if !(v >= 0) || math.IsInf(v, 0) {
+			return bad("noise at %g nm is %g", set.Grid[i], v)
+		}
+	}
+	seen := map[string]bool{}
+	for _, c := range set.Compounds {
+		if seen[c.Name] {
+			return bad("compound %q appears twice", c.Name)
+		}
+		seen[c.Name] = true
+		if len(c.Absorptivity) != n {
+			return bad("compound %q has %d absorptivities for %d wavelengths", c.Name, len(c.Absorptivity), n)
+		}
+		for i, v := range c.Absorptivity {
+			if math.IsNaN(v) || math.IsInf(v, 0) {
+				return bad("compound %q absorptivity at %g nm is %v", c.Name, set.Grid[i], v)
+			}
+		}
+		if len(c.Usable) != 0 && len(c.Usable) != n {
+			return bad("compound %q has %d usable marks for %d wavelengths", c.Name, len(c.Usable), n)
+		}
+	}
+	return nil
+}
+
+// setBlank converts the blank to absorbance and checks its range.
+func (sh *shared) setBlank(b *spectrum.Spectrum) error {
+	if err := b.Check(); err != nil {
+		return fmt.Errorf("unmix: blank: %w", err)
+	}
+	a := make([]float64, b.Len())
+	for i, v := range b.Values {
+		x, err := spectrum.ToAbsorbance(b.Quantity, v)
+		if err != nil {
+			return fmt.Errorf("unmix: blank %s at %g nm: %w", b.Source, b.Wavelengths[i], err)
+		}
+		a[i] = x
+	}
+	if err := covers(b.Wavelengths, sh.needLo, sh.needHi); err != nil {
+		return fmt.Errorf("unmix: blank %s: %w", b.Source, err)
+	}
+	sh.blankWL, sh.blankA = b.Wavelengths, a
+	sh.blank0 = make([]float64, sh.whi-sh.wlo)
+	interpShifted(sh.blank0, sh.blankWL, sh.blankA, sh.grid[sh.wlo:sh.whi], 0)
+	return nil
+}
+
+// covers checks that wl spans [lo, hi].
+func covers(wl []float64, lo, hi float64) error {
+	if len(wl) < 2 {
+		return fmt.Errorf("%d points: %w", len(wl), ErrCoverage)
+	}
+	slack := gridSlack * (wl[len(wl)-1] - wl[0] + 1)
+	if wl[0] > lo+slack || wl[len(wl)-1] < hi-slack {
+		return fmt.Errorf("the scan covers %g-%g nm but the model needs %g-%g nm: %w",
+			wl[0], wl[len(wl)-1], lo, hi, ErrCoverage)
+	}
+	return nil
+}
+
+// derivative returns path * d(a)/dl on the set grid rows [lo, hi), by
+// central differences (one-sided at the grid's ends).
+func derivative(a, g []float64, lo, hi int, path float64) []float64 {
+	out := make([]float64, hi-lo)
+	n := len(g)
+	for i := lo; i < hi; i++ {
+		l, r := max(i-1, 0), min(i+1, n-1)
+		out[i-lo] = path * (a[r] - a[l]) / (g[r] - g[l])
+	}
+	return out
+}
+
+// searchGE returns the first index with g[i] >= v.
+func searchGE(g []float64, v float64) int {
+	i, _ := slices.BinarySearch(g, v)
+	return i
+}
+
+// searchGT returns the first index with g[i] > v.
+func searchGT(g []float64, v float64) int {
+	i, found := slices.BinarySearch(g, v)
+	for found && i < len(g) && g[i] == v {
+		i++
+	}
+	return i
+}
+
+// interpShifted writes into dst the linear interpolation of (wl, y) at
+// grid[i]+delta, holding the end values beyond wl's range (callers check
+// coverage first, so holding only happens in the margin a shift or a
+// pre-treatment needs). A non-finite neighbour with non-zero weight gives
+// +Inf (a point too dark to read).
+func interpShifted(dst, wl, y, grid []float64, delta float64) {
+	k := 0
+	n := len(wl)
+	for i, g0 := range grid {
+		x := g0 + delta
+		if x <= wl[0] {
+			dst[i] = y[0]
+			continue
+		}
+		if x >= wl[n-1] {
+			dst[i] = y[n-1]
+			continue
+		}
+		for k < n-2 && wl[k+1] < x {
+			k++
+		}
+		t := (x - wl[k]) / (wl[k+1] - wl[k])
+		a, b := y[k], y[k+1]
+		switch {
+		case t == 0:
+			dst[i] = a
+		case t == 1:
+			dst[i] = b
+		case math.IsInf(a, 0) || math.IsInf(b, 0) || math.IsNaN(a) || math.IsNaN(b):
+			dst[i] = math.Inf(1)
+		default:
+			dst[i] = a + t*(b-a)
+		}
+	}
+}
+
+// tQuantile returns the two-sided 95 % Student t quantile on dof degrees
+// of freedom, cached per model clone.
+func (m *Model) tQuantile(dof int) float64 {
+	if q, ok := m.tq[dof]; ok {
+		return q
+	}
+	q := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(dof)}.Quantile(0.975)
+	m.tq[dof] = q
+	return q
+}
+
+// grow returns s resized to n, reusing its storage.
+func grow[T any](s []T, n int) []T {
+	if cap(s) >= n {
+		return s[:n]
+	}
+	return make([]T, n)
+}

@@ -1,0 +1,160 @@
+package unmix
+
+import (
+	"fmt"
+	"strings"
+)
+
+// Flags on amounts (one compound in one sample).
+const (
+	// FlagZero: the non-negativity constraint holds the concentration
+	// at exactly zero; the unconstrained estimate is reported beside it.
+	FlagZero Flag = "zero"
+	// FlagBelowLOD: the concentration is above zero but below the
+	// detection limit (3.3 sigma / sensitivity).
+	FlagBelowLOD Flag = "<lod"
+	// FlagBelowLOQ: the concentration is at or above the detection limit
+	// but below the quantitation limit (10 sigma / sensitivity).
+	FlagBelowLOQ Flag = "<loq"
+	// FlagOverRange: the concentration in the cell is above the highest
+	// standard of the reference set (the result is extrapolated).
+	FlagOverRange Flag = "over"
+	// FlagMimic: the baseline terms can imitate this compound's spectrum
+	// (leakage below LeakLimit), so baseline and compound trade off.
+	FlagMimic Flag = "mimic"
+)
+
+// Flags on samples.
+const (
+	// FlagSaturated: points above the absorbance ceiling were left out.
+	FlagSaturated Flag = "sat"
+	// FlagDilute: so many points were left out that the sample should be
+	// diluted; Result.SuggestDilution gives the factor.
+	FlagDilute Flag = "dilute"
+	// FlagMisfit: the residual is well above the expected noise (reduced
+	// chi-square above PoorFitChiSq).
+	FlagMisfit Flag = "misfit"
+	// FlagPattern: the residual has structure along the wavelength axis
+	// (Durbin-Watson below PatternDW): a missing compound, a shift or a
+	// baseline the model cannot follow.
+	FlagPattern Flag = "pattern"
+	// FlagShift: a wavelength shift was estimated and applied.
+	FlagShift Flag = "shift"
+	// FlagShiftMax: the estimated shift reached the allowed limit; the
+	// true shift may be larger.
+	FlagShiftMax Flag = "shift-max"
+	// FlagIllCond: the design is ill-conditioned (condition number above
+	// CondLimit): concentrations are sensitive to small errors.
+	FlagIllCond Flag = "illcond"
+	// FlagNoConverge: the active-set iteration hit its cap, or its
+	// optimality (KKT) check failed; the result is the best feasible
+	// point found.
+	FlagNoConverge Flag = "noconv"
+)
+
+// legend holds the meaning of every flag, in the order of the legend.
+var legend = []struct {
+	f    Flag
+	warn bool
+	text string
+}{
+	{FlagZero, false, "held at zero by the non-negativity constraint"},
+	{FlagBelowLOD, false, "below the detection limit"},
+	{FlagBelowLOQ, false, "below the quantitation limit"},
+	{FlagOverRange, true, "above the highest standard (extrapolated)"},
+	{FlagMimic, true, "the baseline terms can imitate this compound"},
+	{FlagSaturated, false, "points above the absorbance ceiling left out"},
+	{FlagDilute, true, "too many points above the ceiling: dilute and scan again"},
+	{FlagMisfit, true, "residual well above the expected noise"},
+	{FlagPattern, true, "structured residual (Durbin-Watson)"},
+	{FlagShift, false, "wavelength shift estimated and applied"},
+	{FlagShiftMax, true, "wavelength shift at the allowed limit"},
+	{FlagIllCond, true, "ill-conditioned design"},
+	{FlagNoConverge, true, "fit not certified optimal (iteration cap or KKT check)"},
+}
+
+// Warning reports whether f calls for a chemist's attention (a sample
+// carrying such a flag counts as flagged). Notes such as FlagZero or
+// FlagShift describe an ordinary result.
+func (f Flag) Warning() bool {
+	for _, l := range legend {
+		if l.f == f {
+			return l.warn
+		}
+	}
+	return true
+}
+
+// Meaning returns the legend text of f.
+func (f Flag) Meaning() string {
+	for _, l := range legend {
+		if l.f == f {
+			return l.text
+		}
+	}
+	return "unknown flag"
+}
+
+// AllFlags returns every flag in legend order.
+func AllFlags() []Flag {
+	out := make([]Flag, len(legend))
+	for i, l := range legend {
+		out[i] = l.f
+	}
+	return out
+}
+
+// Legend returns one line per flag in fs (all flags if fs is empty):
+// the flag, a mark "!" for warnings, and its meaning.
+func Legend(fs ...Flag) string {
+	if len(fs) == 0 {
+		fs = AllFlags()
+	}
+	var b strings.Builder
+	for _, f := range fs {
+		mark := " "
+		if f.Warning() {
+			mark = "!"
+		}
+		fmt.Fprintf(&b, "  %-9s %s %s\n", f, mark, f.Meaning())
+	}
+	return b.String()
+}
+
+// Flagged reports whether the sample or any of its amounts carries a
+// warning flag.
+func (r *Result) Flagged() bool {
+	for _, f := range r.Flags {
+		if f.Warning() {
+			return true
+		}
+	}
+	for _, a := range r.Amounts {
+		for _, f := range a.Flags {
+			if f.Warning() {
+				return true
+			}
+		}
+	}
+	return false
+}
+
+// HasFlag reports whether the sample carries f.
+func (r *Result) HasFlag(f Flag) bool {
+	for _, g := range r.Flags {
+		if g == f {
+			return true
+		}
+	}
+	return false
+}
+
+// HasFlag reports whether the amount carries f.
+func (a *Amount) HasFlag(f Flag) bool {
+	for _, g := range a.Flags {
+		if g == f {
+			return true
+		}
+	}
+	return false
+}

@@ -1,0 +1,142 @@
+package unmix
+
+import (
+	"bufio"
+	"fmt"
+	"io"
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+
+	"huesolve/spectrum"
+)
+
+// SampleSheet gives per-sample dilution factors and path lengths, read
+// from delimited text with a header naming the columns "sample" and at
+// least one of "dilution" and "path_cm" (any order, case ignored; comma,
+// semicolon or tab separated; lines starting with # are comments). An
+// empty cell means the default (1 for dilution, the reference set's path
+// for path_cm).
+type SampleSheet struct {
+	File string
+	rows map[string]sheetRow
+}
+
+type sheetRow struct {
+	f    Factors
+	line int
+}
+
+// ReadSampleSheet reads a sample sheet file.
+func ReadSampleSheet(path string) (*SampleSheet, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, fmt.Errorf("unmix: sample sheet: %w", err)
+	}
+	defer f.Close()
+	return ParseSampleSheet(f, path)
+}
+
+// ParseSampleSheet reads a sample sheet from r; file names it in errors,
+// which are *spectrum.ParseError values with line and column.
+func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
+	sc := bufio.NewScanner(r)
+	sh := &SampleSheet{File: file, rows: map[string]sheetRow{}}
+	perr := func(line, col int, format string, a ...any) error {
+		return &spectrum.ParseError{File: file, Line: line, Column: col, Err: fmt.Errorf(format, a...)}
+	}
+	line := 0
+	var sep string
+	iSample, iDil, iPath := -1, -1, -1
+	for sc.Scan() {
+		line++
+		text := strings.TrimSpace(strings.TrimPrefix(sc.Text(), "\ufeff"))
+		if text == "" || strings.HasPrefix(text, "#") {
+			continue
+		}
+		if sep == "" {
+			sep = ","
+			for _, c := range []string{"\t", ";", ","} {
+				if strings.Contains(text, c) {
+					sep = c
+					break
+				}
+			}
+			for i, h := range strings.Split(text, sep) {
+				switch strings.ToLower(strings.TrimSpace(h)) {
+				case "sample":
+					iSample = i
+				case "dilution":
+					iDil = i
+				case "path_cm":
+					iPath = i
+				}
+			}
+			if iSample < 0 || (iDil < 0 && iPath < 0) {
+				return nil, perr(line, 0, "header needs columns sample and dilution and/or path_cm, got %q", text)
+			}
+			continue
+		}
+		cells := strings.Split(text, sep)
+		cell := func(i int) string {
+			if i < 0 || i >= len(cells) {
+				return ""
+			}
+			return strings.TrimSpace(cells[i])
+		}
+		name := strings.Trim(cell(iSample), `"`)
+		if name == "" {
+			return nil, perr(line, iSample+1, "empty sample name")
+		}
+		if prev, dup := sh.rows[name]; dup {
+			return nil, perr(line, iSample+1, "sample %q already given on line %d", name, prev.line)
+		}
+		var f Factors
+		for _, c := range []struct {
+			i    int
+			dst  *float64
+			what string
+		}{{iDil, &f.Dilution, "dilution"}, {iPath, &f.PathCM, "path_cm"}} {
+			v := cell(c.i)
+			if v == "" {
+				continue
+			}
+			x, err := strconv.ParseFloat(v, 64)
+			if err != nil || !(x > 0) || math.IsInf(x, 0) {
+				return nil, perr(line, c.i+1, "%s %q is not a positive number", c.what, v)
+			}
+			*c.dst = x
+		}
+		sh.rows[name] = sheetRow{f: f, line: line}
+	}
+	if err := sc.Err(); err != nil {
+		return nil, perr(line+1, 0, "%v", err)
+	}
+	if sep == "" {
+		return nil, perr(0, 0, "%w", spectrum.ErrEmpty)
+	}
+	return sh, nil
+}
+
+// Lookup finds the factors of a scan: by its name, else by its file's
+// base name with and without extension. Zero fields mean "default".
+func (sh *SampleSheet) Lookup(s *spectrum.Spectrum) (Factors, bool) {
+	if sh == nil {
+		return Factors{}, false
+	}
+	base := filepath.Base(s.Source.File)
+	for _, k := range []string{s.Name, base, strings.TrimSuffix(base, filepath.Ext(base))} {
+		if k == "" {
+			continue
+		}
+		if r, ok := sh.rows[k]; ok {
+			return r.f, true
+		}
+	}
+	return Factors{}, false
+}
+
+// Len is the number of samples in the sheet.
+func (sh *SampleSheet) Len() int { return len(sh.rows) }

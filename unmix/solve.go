@@ -1,0 +1,523 @@
+package unmix
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"slices"
+
+	"huesolve/baseline"
+	"huesolve/spectrum"
+	"huesolve/unmix/lsq"
+)
+
+// SolveTo fits one sample spectrum and fills dst, reusing its storage.
+//
+// The spectrum may be on any grid that covers the model's window (the
+// whole reference grid when the set has pre-treatment steps, widened by
+// the shift limit when a shift is estimated) and in any quantity; points
+// with a transmittance of zero or below count as above the ceiling.
+// Errors name the sample: ErrCoverage when the scan does not cover the
+// needed range (both ranges are named), ErrTooDark when too few points are
+// below the ceiling (with a dilution to try), ErrFactor for a bad
+// dilution or path length. A fit that hits the iteration cap is not an
+// error: it is flagged FlagNoConverge.
+func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
+	sh, w := m.sh, &m.ws
+	name := sampleName(s)
+	fail := func(err error) error { return fmt.Errorf("unmix: %s: %w", name, err) }
+	if err := s.Check(); err != nil {
+		return err
+	}
+	dil, path := f.Dilution, f.PathCM
+	if dil == 0 {
+		dil = 1
+	}
+	if path == 0 {
+		path = m.set.PathCM
+	}
+	if !(dil > 0) || math.IsInf(dil, 0) {
+		return fail(fmt.Errorf("%w: dilution factor %g", ErrFactor, dil))
+	}
+	if !(path > 0) || math.IsInf(path, 0) {
+		return fail(fmt.Errorf("%w: path length %g cm", ErrFactor, path))
+	}
+	if err := covers(s.Wavelengths, sh.needLo, sh.needHi); err != nil {
+		return fail(err)
+	}
+
+	// Absorbance on the scan's own grid; unreadable (too dark) points are +Inf.
+	w.abs = grow(w.abs, s.Len())
+	for i, v := range s.Values {
+		a, err := spectrum.ToAbsorbance(s.Quantity, v)
+		if err != nil {
+			a = math.Inf(1)
+		}
+		w.abs[i] = a
+	}
+	nw := sh.whi - sh.wlo
+	w.raw = grow(w.raw, nw)
+	w.net = grow(w.net, nw)
+	w.blk = grow(w.blk, nw)
+	nwin := sh.hi - sh.lo
+	off := sh.lo - sh.wlo // window row r is work index off+r
+	if err := m.sample(s.Wavelengths, 0); err != nil {
+		return fail(err)
+	}
+
+	// Saturation mask, from the unshifted raw absorbance.
+	w.rows = w.rows[:0]
+	w.key = w.key[:0]
+	dropped := 0
+	for _, r := range sh.rows0 {
+		a := w.raw[off+r]
+		if a > sh.ceiling || math.IsInf(a, 0) || math.IsNaN(a) {
+			dropped++
+			w.key = append(w.key, byte(r>>16), byte(r>>8), byte(r))
+			continue
+		}
+		w.rows = append(w.rows, r)
+	}
+	p := len(sh.cols)
+	if len(w.rows) < p+minDoF {
+		return fail(fmt.Errorf("%w: %d of %d points are above the ceiling A = %g; dilute at least %gx and scan again",
+			ErrTooDark, dropped, len(sh.rows0), sh.ceiling, niceUp(maxFinite(w.raw[off:off+nwin])/sh.ceiling)))
+	}
+
+	// Noise model on the window, from the raw absorbance.
+	w.sig = grow(w.sig, nwin)
+	for r := range nwin {
+		a := w.raw[off+r]
+		if !(a >= 0) {
+			a = 0
+		}
+		a = math.Min(a, sh.ceiling)
+		w.sig[r] = sh.noise[r] * math.Sqrt(1+math.Pow(10, 2*(a-WeightKneeA)))
+	}
+
+	// The design for this mask.
+	var d *design
+	var err error
+	if m.opt.Weighted {
+		sig := make([]float64, len(w.rows))
+		for i, r := range w.rows {
+			sig[i] = w.sig[r]
+		}
+		if d, err = sh.buildDesign(slices.Clone(w.rows), sig); err != nil {
+			return fail(err)
+		}
+	} else if d = m.cache[string(w.key)]; d == nil {
+		if d, err = sh.buildDesign(slices.Clone(w.rows), nil); err != nil {
+			return fail(fmt.Errorf("with %d points above the ceiling left out: %w", dropped, err))
+		}
+		if len(m.cache) >= maskCacheSize {
+			clear(m.cache)
+			m.cache[""] = m.base
+		}
+		m.cache[string(w.key)] = d
+	}
+
+	noConv, err := m.fit(d)
+	if err != nil {
+		return fail(err)
+	}
+	shift := 0.0
+	if m.opt.Shift {
+		if shift, noConv, err = m.estimateShift(d, s.Wavelengths); err != nil {
+			return fail(err)
+		}
+	}
+	m.fill(dst, d, s, name, dil, path, dropped, shift, noConv)
+	return nil
+}
+
+// sample fills w.raw, w.blk and w.net on the work grid for a shift delta:
+// raw absorbance, blank, and the blank-corrected, pre-treated values.
+func (m *Model) sample(wl []float64, delta float64) error {
+	sh, w := m.sh, &m.ws
+	grid := sh.grid[sh.wlo:sh.whi]
+	if delta == 0 && m.sameGrid(wl) {
+		copy(w.raw, w.abs[sh.wlo:sh.whi])
+	} else {
+		interpShifted(w.raw, wl, w.abs, grid, delta)
+	}
+	switch {
+	case sh.blankA == nil:
+		clear(w.blk)
+	case delta == 0:
+		copy(w.blk, sh.blank0)
+	default:
+		interpShifted(w.blk, sh.blankWL, sh.blankA, grid, delta)
+	}
+	for i, a := range w.raw {
+		if a > sh.ceiling || math.IsInf(a, 0) || math.IsNaN(a) {
+			// Never fitted; held at the ceiling so that a pre-treatment
+			// spanning neighbours stays finite.
+			a = sh.ceiling
+		}
+		w.net[i] = a - w.blk[i]
+	}
+	if len(m.set.Pretreat) > 0 {
+		t, err := baseline.ApplyAll(m.set.Pretreat, grid, w.net)
+		if err != nil {
+			return fmt.Errorf("pre-treatment: %w", err)
+		}
+		if len(t) != len(w.net) {
+			return fmt.Errorf("pre-treatment gave %d values for %d wavelengths", len(t), len(w.net))
+		}
+		copy(w.net, t)
+	}
+	return nil
+}
+
+// sameGrid reports whether wl is the set grid, remembering the last slice
+// found equal so a wide table's shared grid is checked once.
+func (m *Model) sameGrid(wl []float64) bool {
+	g := m.sh.grid
+	if len(wl) != len(g) {
+		return false
+	}
+	if len(m.ws.gridOK) == len(wl) && &m.ws.gridOK[0] == &wl[0] {
+		return true
+	}
+	if spectrum.SameGrid(wl, g) {
+		m.ws.gridOK = wl
+		return true
+	}
+	return false
+}
+
+// fit solves the current w.net on design d into w.res. It reports whether
+// the iteration cap was hit.
+func (m *Model) fit(d *design) (noConv bool, err error) {
+	w := &m.ws
+	off := m.sh.lo - m.sh.wlo
+	w.y = grow(w.y, len(d.rows))
+	for i, r := range d.rows {
+		w.y[i] = w.net[off+r]
+	}
+	err = d.solver.Solve(&w.res, w.y)
+	if errors.Is(err, lsq.ErrNoConvergence) || errors.Is(err, lsq.ErrInaccurate) {
+		return true, nil
+	}
+	return false, err
+}
+
+// estimateShift iterates the shift: with the sample read at l + delta and
+// fitted, the remaining shift is the coefficient gamma of the derivative
+// g = sum_k c_k d(b eps_k)/dl of the fitted compound spectrum, found by
+// projecting g and the residual onto the complement of the design,
+//
+//	gamma = <M g, r> / <M g, M g>,  M = I - X X+,
+//
+// and the sample is read again at delta - gamma (first-order Taylor term;
+// the fixed point is exact up to interpolation error). It returns the
+// shift in nm: positive when the sample's bands lie at longer wavelengths
+// than the references'.
+func (m *Model) estimateShift(d *design, wl []float64) (float64, bool, error) {
+	sh, w := m.sh, &m.ws
+	n, p := len(d.rows), len(sh.cols)
+	w.g = grow(w.g, n)
+	lim := m.opt.MaxShiftNM
+	delta := 0.0
+	noConv := false
+	weighted := m.opt.Weighted
+	for range ShiftMaxIter {
+		// g on the fit rows (whitened when weighted).
+		for i, r := range d.rows {
+			v := 0.0
+			for k := range sh.ncomp {
+				v += w.res.Coef[k] * sh.dcols[k][r]
+			}
+			if weighted {
+				v /= w.sig[r]
+			}
+			w.g[i] = v
+		}
+		// M g = g - Xw (pinv g); then <Mg, r> with r whitened.
+		var coef [16]float64
+		pg := coef[:0]
+		if p > len(coef) {
+			pg = make([]float64, 0, p)
+		}
+		for k := range p {
+			row := d.pinv[k*n : (k+1)*n]
+			v := 0.0
+			for i, gi := range w.g {
+				v += row[i] * gi
+			}
+			pg = append(pg, v)
+		}
+		xr := d.x.RawMatrix()
+		num, den := 0.0, 0.0
+		for i, r := range d.rows {
+			xi := xr.Data[i*xr.Stride : i*xr.Stride+p]
+			fit := 0.0
+			for k, v := range pg {
+				fit += xi[k] * v
+			}
+			res := w.res.Residual[i]
+			if weighted {
+				fit /= w.sig[r]
+				res /= w.sig[r]
+			}
+			mg := w.g[i] - fit
+			num += mg * res
+			den += mg * mg
+		}
+		if !(den > 0) {
+			break
+		}
+		gamma := num / den
+		next := math.Max(-lim, math.Min(lim, delta-gamma))
+		if math.Abs(next-delta) < ShiftTolNM {
+			break
+		}
+		delta = next
+		if err := m.sample(wl, delta); err != nil {
+			return 0, false, err
+		}
+		var err error
+		if noConv, err = m.fit(d); err != nil {
+			return 0, false, err
+		}
+	}
+	return delta, noConv, nil
+}
+
+// fill turns the solve in w.res into dst.
+func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, dil, path float64, dropped int, shift float64, noConv bool) {
+	sh, w := m.sh, &m.ws
+	res := &w.res
+	n := len(d.rows)
+	weighted := m.opt.Weighted
+	scale := dil * m.set.PathCM / path // fitted (reference path, in the cell) -> sample
+	cell := m.set.PathCM / path        // fitted -> concentration in the cell
+
+	// Reduced chi-square against the noise model.
+	chi := 0.0
+	for i, r := range d.rows {
+		e := res.Residual[i] / w.sig[r]
+		chi += e * e
+	}
+	dof := res.DoF
+	chiRed := math.NaN()
+	if dof > 0 {
+		chiRed = chi / float64(dof)
+	}
+	inflate := 1.0 // Birge ratio for noise-model standard errors
+	if chiRed > 1 {
+		inflate = math.Sqrt(chiRed)
+	}
+	t := math.NaN()
+	if dof > 0 {
+		t = m.tQuantile(dof)
+	}
+
+	*dst = Result{
+		Sample:   name,
+		Source:   s.Source.String(),
+		Amounts:  grow(dst.Amounts, sh.ncomp),
+		Baseline: dst.Baseline,
+		Flags:    dst.Flags[:0],
+		RMS:      res.RMS,
+		ChiSqRed: chiRed,
+		DW:       res.DW,
+		R2:       res.R2,
+		Cond:     d.cond,
+		Points:   n,
+		Dropped:  dropped,
+		ShiftNM:  shift,
+		Dilution: dil,
+		PathCM:   path,
+	}
+	if len(sh.names) > 0 {
+		if dst.Baseline == nil {
+			dst.Baseline = make(map[string]float64, len(sh.names))
+		}
+		for j, nm := range sh.names {
+			dst.Baseline[nm] = res.Coef[sh.ncomp+j]
+		}
+	} else {
+		dst.Baseline = nil
+	}
+
+	for k := range sh.ncomp {
+		a := &dst.Amounts[k]
+		c := &m.set.Compounds[k]
+		// Noise-model standard deviation of the unconstrained estimate
+		// and the estimate itself: row k of the pseudo-inverse.
+		row := d.pinv[k*n : (k+1)*n]
+		s0, free := 0.0, 0.0
+		for i, r := range d.rows {
+			v := row[i]
+			y := w.y[i]
+			if weighted {
+				y /= w.sig[r]
+			} else {
+				v *= w.sig[r]
+			}
+			s0 += v * v
+			free += row[i] * y
+		}
+		s0 = math.Sqrt(s0)
+		coef := res.Coef[k]
+		se := res.SE[k]
+		if weighted {
+			se *= inflate
+		}
+		*a = Amount{
+			Compound: c.Name,
+			Unit:     c.Unit,
+			Conc:     coef * scale,
+			SE:       se * scale,
+			LOD:      LODFactor * s0 * scale,
+			LOQ:      LOQFactor * s0 * scale,
+			Free:     free * scale,
+			FreeSE:   s0 * inflate * scale,
+			Flags:    a.Flags[:0],
+		}
+		switch {
+		case res.AtBound[k]:
+			a.SE = 0
+			a.Lo = 0
+			a.Hi = math.Max(0, a.Free+t*a.FreeSE)
+			a.Flags = append(a.Flags, FlagZero)
+		default:
+			a.Lo = math.Max(0, a.Conc-t*a.SE)
+			a.Hi = a.Conc + t*a.SE
+			if a.Conc < a.LOD {
+				a.Flags = append(a.Flags, FlagBelowLOD)
+			} else if a.Conc < a.LOQ {
+				a.Flags = append(a.Flags, FlagBelowLOQ)
+			}
+		}
+		if sh.maxStd[k] > 0 && coef*cell > sh.maxStd[k] {
+			a.Flags = append(a.Flags, FlagOverRange)
+		}
+		if d.leak != nil && d.leak[k] < LeakLimit {
+			a.Flags = append(a.Flags, FlagMimic)
+		}
+	}
+
+	// Sample flags.
+	if dropped > 0 {
+		dst.Flags = append(dst.Flags, FlagSaturated)
+		if float64(dropped) > DropLimitFrac*float64(len(sh.rows0)) {
+			dst.Flags = append(dst.Flags, FlagDilute)
+			dst.SuggestDilution = niceUp(m.predictedMax() / sh.ceiling)
+		}
+	}
+	if chiRed > PoorFitChiSq {
+		dst.Flags = append(dst.Flags, FlagMisfit)
+	}
+	if res.DW < PatternDW {
+		dst.Flags = append(dst.Flags, FlagPattern)
+	}
+	if m.opt.Shift && math.Abs(shift) >= ShiftNoteNM {
+		dst.Flags = append(dst.Flags, FlagShift)
+		if math.Abs(shift) >= m.opt.MaxShiftNM-ShiftTolNM {
+			dst.Flags = append(dst.Flags, FlagShiftMax)
+		}
+	}
+	if d.cond > CondLimit {
+		dst.Flags = append(dst.Flags, FlagIllCond)
+	}
+	if noConv {
+		dst.Flags = append(dst.Flags, FlagNoConverge)
+	}
+
+	if m.opt.KeepCurves {
+		m.curves(dst, d)
+	} else {
+		dst.Grid, dst.Measured, dst.Fitted, dst.Residual = nil, nil, nil, nil
+		dst.Contributions, dst.BaselineCurve, dst.Noise = nil, nil, nil
+	}
+}
+
+// predictedMax is the largest raw absorbance the fit predicts anywhere in
+// the window (fitted compounds and baseline plus the blank): the height
+// the highest band would read at without a ceiling.
+func (m *Model) predictedMax() float64 {
+	sh, w := m.sh, &m.ws
+	off := sh.lo - sh.wlo
+	best := 0.0
+	for r := range sh.hi - sh.lo {
+		v := w.blk[off+r]
+		for j, c := range sh.cols {
+			v += w.res.Coef[j] * c[r]
+		}
+		best = math.Max(best, v)
+	}
+	return best
+}
+
+// curves fills the plot curves on the fit rows.
+func (m *Model) curves(dst *Result, d *design) {
+	sh, w := m.sh, &m.ws
+	n := len(d.rows)
+	wl := sh.grid[sh.lo:sh.hi]
+	dst.Grid = make([]float64, n)
+	dst.Measured = make([]float64, n)
+	dst.Fitted = make([]float64, n)
+	dst.Residual = make([]float64, n)
+	dst.Noise = make([]float64, n)
+	dst.BaselineCurve = make([]float64, n)
+	dst.Contributions = make([][]float64, sh.ncomp)
+	for k := range dst.Contributions {
+		dst.Contributions[k] = make([]float64, n)
+	}
+	for i, r := range d.rows {
+		dst.Grid[i] = wl[r]
+		dst.Measured[i] = w.y[i]
+		dst.Residual[i] = w.res.Residual[i]
+		dst.Fitted[i] = w.y[i] - w.res.Residual[i]
+		dst.Noise[i] = w.sig[r]
+		for k := range sh.ncomp {
+			dst.Contributions[k][i] = w.res.Coef[k] * sh.cols[k][r]
+		}
+		for j := sh.ncomp; j < len(sh.cols); j++ {
+			dst.BaselineCurve[i] += w.res.Coef[j] * sh.cols[j][r]
+		}
+	}
+}
+
+// sampleName is the spectrum's name, else its source.
+func sampleName(s *spectrum.Spectrum) string {
+	if s.Name != "" {
+		return s.Name
+	}
+	return s.Source.String()
+}
+
+// maxFinite is the largest finite value of v (0 if none).
+func maxFinite(v []float64) float64 {
+	best := 0.0
+	for _, x := range v {
+		if !math.IsInf(x, 0) && !math.IsNaN(x) && x > best {
+			best = x
+		}
+	}
+	return best
+}
+
+// niceUp returns the smallest of 1.5, 2, 2.5, 3, 4, 5, 6, 8, 10 times a
+// power of ten that is strictly greater than f (at least 1.5): a dilution
+// a bench chemist can make that brings absorbance f x ceiling below the
+// ceiling.
+func niceUp(f float64) float64 {
+	if !(f >= 1) || math.IsInf(f, 0) {
+		return 1.5
+	}
+	steps := []float64{1, 1.5, 2, 2.5, 3, 4, 5, 6, 8}
+	for p := 1.0; ; p *= 10 {
+		for _, s := range steps {
+			if v := s * p; v > f && v >= 1.5 {
+				return v
+			}
+		}
+		if p > 1e12 {
+			return math.Inf(1)
+		}
+	}
+}
