@@ -373,4 +373,3 @@ func count(sum *Summary, o Outcome) {
 		}
 	}
 }
-
