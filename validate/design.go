@@ -28,7 +28,6 @@ const (
 )
 
 // maxCond is the largest condition number reported: 1/ε for float64.
-// Designs at this limit are marked singular.
 var maxCond = 1 / (math.Nextafter(1, 2) - 1)
 
 // Errors.
@@ -288,7 +287,7 @@ func (p *projector) residual(dst, v, w []float64) []float64 {
 
 // condScaled returns the 2-norm condition number of the columns cols
 // (weighted row-wise by w when not nil), each scaled to unit norm, and
-// whether it is at the limit maxCond (singular).
+// whether they are singular (see clampCond).
 func condScaled(rows int, cols [][]float64, w []float64) (float64, bool) {
 	k := len(cols)
 	if k == 0 || rows == 0 {
@@ -325,10 +324,12 @@ func condScaled(rows int, cols [][]float64, w []float64) (float64, bool) {
 }
 
 // clampCond turns extreme singular values into a condition number capped
-// at maxCond.
+// at maxCond, and reports a singular design: smallest singular value at or
+// below rankTol times the largest (columns scaled to unit norm).
 func clampCond(smax, smin float64) (float64, bool) {
+	singular := !(smin > rankTol*smax)
 	if !(smin > 0) || smax/smin >= maxCond {
-		return maxCond, true
+		return maxCond, singular
 	}
-	return smax / smin, false
+	return smax / smin, singular
 }

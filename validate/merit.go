@@ -81,7 +81,9 @@ type Merits struct {
 	Sigma float64 `json:"noise_rms"`
 	// Cond is the condition number of the whole design (compounds and
 	// baseline terms, columns scaled to unit norm, weighted when
-	// Weighted); Singular is true when it is at its cap (1/ε).
+	// Weighted), at most 1/ε; Singular is true when the smallest singular
+	// value is at or below 1e-10 of the largest (the columns are linearly
+	// dependent to rounding).
 	Cond     float64 `json:"condition_number"`
 	Singular bool    `json:"singular"`
 	// MinSelectivity is the refusal threshold that was applied.

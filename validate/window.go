@@ -1,0 +1,439 @@
+package validate
+
+import (
+	"errors"
+	"fmt"
+	"math"
+	"sort"
+
+	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/mat"
+
+	"huesolve/baseline"
+	"huesolve/reference"
+)
+
+// Defaults of the window search.
+const (
+	// DefaultStepNM is the spacing of candidate window edges.
+	DefaultStepNM = 5.0
+	// DefaultMinWidthNM is the narrowest window considered; a project
+	// choice of the order of one UV-Vis band width.
+	DefaultMinWidthNM = 40.0
+	// DefaultEquivalent is the relative margin within which predicted
+	// errors are not told apart: the noise model they rest on is itself
+	// estimated from a handful of standards, and the relative standard
+	// error of a standard deviation from ν degrees of freedom is about
+	// 1/√(2ν) (0.16 for ν = 20). Among windows whose worst predicted
+	// error is within this margin of the smallest, the best conditioned
+	// one is recommended.
+	DefaultEquivalent = 0.10
+)
+
+// WindowOptions control AdviseWindow. Zero values mean the documented
+// defaults.
+type WindowOptions struct {
+	// Baseline gives the nuisance columns of the fit.
+	Baseline baseline.Model
+	// PathCM is the sample path length (0: the set's).
+	PathCM float64
+	// Sigma, if > 0, replaces the set's noise model by a constant noise
+	// SD (absorbance).
+	Sigma float64
+	// Weighted predicts errors for a fit weighted by the noise model;
+	// otherwise for an unweighted fit (whose errors then follow the
+	// sandwich form S⁺ Σ S⁺ᵀ).
+	Weighted bool
+	// Lo, Hi limit the search to part of the grid (both 0: all of it).
+	Lo, Hi float64
+	// StepNM is the spacing of window edges (0: DefaultStepNM).
+	StepNM float64
+	// MinWidthNM is the narrowest window (0: DefaultMinWidthNM).
+	MinWidthNM float64
+	// MaxWidthNM, if > 0, is the widest window considered (to compare
+	// windows of limited width, or to keep away from range ends known to
+	// be unreliable without naming them).
+	MaxWidthNM float64
+	// Levels are the concentrations, one per compound, at which relative
+	// errors are judged and absorbances checked against the ceiling; a
+	// zero entry (or nil Levels) takes the middle of the compound's
+	// calibrated range, or 1 when the set does not record it.
+	Levels []float64
+	// Equivalent is the margin of DefaultEquivalent (0: the default;
+	// negative: none, recommend the strict minimum).
+	Equivalent float64
+}
+
+// Candidate is one window with its predicted figures.
+type Candidate struct {
+	Lo     float64 `json:"lo_nm"`
+	Hi     float64 `json:"hi_nm"`
+	Points int     `json:"points"`
+	// Dropped counts wavelengths of the window left out because the
+	// expected absorbance at Levels is above the set's ceiling.
+	Dropped int `json:"dropped"`
+	// Cond is the condition number of the design (column-scaled,
+	// weighted when asked); Singular marks designs where some compounds
+	// cannot be told apart (linearly dependent columns, see
+	// Merits.Singular).
+	Cond     float64 `json:"condition_number"`
+	Singular bool    `json:"singular"`
+	// SE is each compound's predicted standard error, in its unit, and
+	// RelSE that divided by its level; both are empty when Singular.
+	SE    []float64 `json:"se,omitempty"`
+	RelSE []float64 `json:"relative_se,omitempty"`
+	// Worst is the largest RelSE and WorstCompound its compound.
+	Worst         float64 `json:"worst_relative_se,omitempty"`
+	WorstCompound string  `json:"worst_compound,omitempty"`
+}
+
+// WindowAdvice is the outcome of AdviseWindow.
+type WindowAdvice struct {
+	Compounds  []string  `json:"compounds"`
+	Units      []string  `json:"units"`
+	Levels     []float64 `json:"levels"`
+	Baseline   string    `json:"baseline"`
+	Weighted   bool      `json:"weighted"`
+	PathCM     float64   `json:"path_cm"`
+	StepNM     float64   `json:"step_nm"`
+	MinWidthNM float64   `json:"min_width_nm"`
+	MaxWidthNM float64   `json:"max_width_nm,omitempty"`
+	Equivalent float64   `json:"equivalent"`
+	// Edges are the candidate window edges (nm).
+	Edges []float64 `json:"edges_nm"`
+	// Candidates are all windows tried, by Lo then Hi.
+	Candidates []Candidate `json:"candidates"`
+	// Ranked indexes the candidates that are not singular, by Worst
+	// (then Cond).
+	Ranked []int `json:"-"`
+	// Best indexes the recommended candidate.
+	Best int `json:"best"`
+}
+
+// ErrNoWindow: no candidate window determines every compound.
+var ErrNoWindow = errors.New("validate: no window of the allowed widths tells every compound apart")
+
+// AdviseWindow scans candidate windows [Lo, Hi] with edges every StepNM
+// over the usable grid, MinWidthNM <= Hi - Lo (<= MaxWidthNM if set), and
+// predicts for each the
+// condition number of the design and every compound's standard error at
+// its level from the noise model. It recommends, among the windows whose
+// worst relative error is within the Equivalent margin of the smallest,
+// the one with the smallest condition number (so a band that only adds
+// collinearity is left out).
+//
+// With weights from a correct noise model, adding wavelengths never raises
+// the predicted error of a fixed model; the window then matters through
+// the points lost above the ceiling, the noise where it is large (in an
+// unweighted fit), and the conditioning, which sets how much model errors
+// (a small shift, a baseline the polynomial cannot follow) are amplified.
+//
+// Cost: one thin SVD of the (points × columns) design per window, O(m k²)
+// with m points and k columns; for W windows, O(W m k²). With 400
+// wavelengths at 1 nm, 5 nm edges and a 40 nm minimum width, W is about
+// 2800 and m about 150 on average.
+//
+// Errors: those of FiguresOfMerit for the set and noise model, a bad
+// option, or ErrNoWindow when every candidate is singular.
+func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) {
+	if err := checkSet(set); err != nil {
+		return nil, err
+	}
+	path := opt.PathCM
+	if path == 0 {
+		path = set.PathCM
+	}
+	if !(path > 0) || math.IsInf(path, 0) {
+		return nil, fmt.Errorf("validate: path length %g cm is not a positive number", path)
+	}
+	step, minW, eq := opt.StepNM, opt.MinWidthNM, opt.Equivalent
+	if step == 0 {
+		step = DefaultStepNM
+	}
+	if minW == 0 {
+		minW = DefaultMinWidthNM
+	}
+	switch {
+	case eq == 0:
+		eq = DefaultEquivalent
+	case eq < 0:
+		eq = 0
+	}
+	maxW := opt.MaxWidthNM
+	if !(step > 0) || math.IsInf(step, 0) || !(minW > 0) || math.IsInf(minW, 0) || math.IsNaN(eq) || math.IsInf(eq, 0) {
+		return nil, fmt.Errorf("validate: window step %g nm, minimum width %g nm and margin %g must be positive and finite", step, minW, eq)
+	}
+	if maxW < 0 || math.IsNaN(maxW) || (maxW > 0 && maxW < minW) {
+		return nil, fmt.Errorf("validate: maximum window width %g nm must be positive and at least the minimum %g nm", maxW, minW)
+	}
+	ncomp := len(set.Compounds)
+	levels, err := windowLevels(set, opt.Levels)
+	if err != nil {
+		return nil, err
+	}
+	adv := &WindowAdvice{
+		Levels: levels, Baseline: opt.Baseline.String(), Weighted: opt.Weighted, PathCM: path,
+		StepNM: step, MinWidthNM: minW, MaxWidthNM: maxW, Equivalent: eq, Best: -1,
+	}
+	for _, c := range set.Compounds {
+		adv.Compounds = append(adv.Compounds, c.Name)
+		adv.Units = append(adv.Units, c.Unit)
+	}
+
+	// Rows: usable, in the search range.
+	all := usableRows(set, opt.Lo, opt.Hi)
+	if len(all) < 2 {
+		return nil, fmt.Errorf("%w: %d", ErrWindow, len(all))
+	}
+	// Expected absorbance at the levels, for the ceiling.
+	above := make([]bool, len(all))
+	var rows []int
+	for r, i := range all {
+		var a float64
+		for k, c := range set.Compounds {
+			a += path * c.Absorptivity[i] * levels[k]
+		}
+		above[r] = set.Ceiling > 0 && a > set.Ceiling
+		if !above[r] {
+			rows = append(rows, i)
+		}
+	}
+	lo0, hi0 := set.Grid[all[0]], set.Grid[all[len(all)-1]]
+	for k := 0; ; k++ {
+		e := lo0 + float64(k)*step
+		if e > hi0+1e-9*step {
+			break
+		}
+		adv.Edges = append(adv.Edges, e)
+	}
+	if last := adv.Edges[len(adv.Edges)-1]; hi0-last > 1e-9*step {
+		adv.Edges = append(adv.Edges, hi0)
+	}
+	if len(rows) == 0 {
+		return nil, fmt.Errorf("%w: every wavelength is above the ceiling at the levels", ErrWindow)
+	}
+	wl := make([]float64, len(rows))
+	for r, i := range rows {
+		wl[r] = set.Grid[i]
+	}
+	sigma, err := noiseRows(set, rows, opt.Sigma)
+	if err != nil {
+		return nil, err
+	}
+	if err := opt.Baseline.Check(wl); err != nil {
+		return nil, fmt.Errorf("validate: baseline model: %w", err)
+	}
+	nnuis := opt.Baseline.NumColumns()
+	ncol := ncomp + nnuis
+
+	ws := newWindowWork(len(rows), ncol)
+	for a, lo := range adv.Edges {
+		for b := a + 1; b < len(adv.Edges); b++ {
+			hi := adv.Edges[b]
+			if hi-lo < minW-1e-9*step {
+				continue
+			}
+			if maxW > 0 && hi-lo > maxW+1e-9*step {
+				break
+			}
+			// Rows of the window: wl within [lo, hi] (with a rounding
+			// slack of 1e-9 step).
+			r0 := sort.SearchFloat64s(wl, lo-1e-9*step)
+			r1 := sort.SearchFloat64s(wl, hi+1e-9*step)
+			if r1-r0 < ncol+1 {
+				continue
+			}
+			cand := Candidate{Lo: lo, Hi: hi, Points: r1 - r0}
+			for r, i := range all {
+				if above[r] && set.Grid[i] >= lo-1e-9*step && set.Grid[i] <= hi+1e-9*step {
+					cand.Dropped++
+				}
+			}
+			ws.evaluate(&cand, set, rows[r0:r1], wl[r0:r1], sigma[r0:r1], opt.Baseline, path, opt.Weighted)
+			if !cand.Singular {
+				for k := range cand.SE {
+					cand.RelSE = append(cand.RelSE, cand.SE[k]/levels[k])
+				}
+				w := floats.MaxIdx(cand.RelSE)
+				cand.Worst, cand.WorstCompound = cand.RelSE[w], set.Compounds[w].Name
+			}
+			adv.Candidates = append(adv.Candidates, cand)
+		}
+	}
+	for i, c := range adv.Candidates {
+		if !c.Singular {
+			adv.Ranked = append(adv.Ranked, i)
+		}
+	}
+	if len(adv.Ranked) == 0 {
+		return nil, fmt.Errorf("%w (%d windows of %g nm or more in %g-%g nm tried)", ErrNoWindow, len(adv.Candidates), minW, lo0, hi0)
+	}
+	sort.SliceStable(adv.Ranked, func(i, j int) bool {
+		a, b := adv.Candidates[adv.Ranked[i]], adv.Candidates[adv.Ranked[j]]
+		if a.Worst != b.Worst {
+			return a.Worst < b.Worst
+		}
+		return a.Cond < b.Cond
+	})
+	limit := adv.Candidates[adv.Ranked[0]].Worst * (1 + eq)
+	adv.Best = adv.Ranked[0]
+	for _, i := range adv.Ranked {
+		c := adv.Candidates[i]
+		if c.Worst > limit {
+			break
+		}
+		if c.Cond < adv.Candidates[adv.Best].Cond {
+			adv.Best = i
+		}
+	}
+	return adv, nil
+}
+
+// windowLevels fills in default levels and checks given ones.
+func windowLevels(set *reference.Set, given []float64) ([]float64, error) {
+	n := len(set.Compounds)
+	if given != nil && len(given) != n {
+		return nil, fmt.Errorf("validate: %d levels for %d compounds", len(given), n)
+	}
+	out := make([]float64, n)
+	for k, c := range set.Compounds {
+		if given != nil && given[k] != 0 {
+			v := given[k]
+			if !(v > 0) || math.IsInf(v, 0) {
+				return nil, fmt.Errorf("validate: level %g of %s is not a positive number", v, c.Name)
+			}
+			out[k] = v
+			continue
+		}
+		out[k] = 1
+		if c.MaxStandard > 0 && !math.IsInf(c.MaxStandard, 0) {
+			out[k] = (c.MinStandard + c.MaxStandard) / 2
+		}
+	}
+	return out, nil
+}
+
+// windowWork is the reusable workspace of one window evaluation.
+type windowWork struct {
+	buf  []float64
+	norm []float64
+	svd  mat.SVD
+	u, v mat.Dense
+	h    []float64
+	g    []float64
+}
+
+func newWindowWork(maxRows, ncol int) *windowWork {
+	return &windowWork{
+		buf:  make([]float64, maxRows*ncol),
+		norm: make([]float64, ncol),
+		h:    make([]float64, ncol),
+		g:    make([]float64, maxRows),
+	}
+}
+
+// evaluate fills c.Cond, c.Singular and c.SE for the rows idx of set
+// (wavelengths wl, noise sigma).
+//
+// With X the design (weighted by 1/σ when weighted), D its column norms
+// and X D⁻¹ = U S Vᵀ, the coefficient of compound n is c_n = g·y / d_n with
+// g = U S⁻¹ Vᵀ e_n, so its variance is Σ g_i² σ_i² / d_n² (unweighted) or
+// ||S⁻¹ Vᵀ e_n||² / d_n² (weighted: whitened noise has unit variance).
+func (ws *windowWork) evaluate(c *Candidate, set *reference.Set, idx []int, wl, sigma []float64, model baseline.Model, path float64, weighted bool) {
+	m := len(idx)
+	nuis, _, _ := model.Columns(wl)
+	ncol := len(set.Compounds) + len(nuis)
+	x := mat.NewDense(m, ncol, ws.buf[:m*ncol])
+	for r, i := range idx {
+		row := x.RawRowView(r)
+		for k, comp := range set.Compounds {
+			row[k] = path * comp.Absorptivity[i]
+		}
+		for j, col := range nuis {
+			row[len(set.Compounds)+j] = col[r]
+		}
+		if weighted {
+			floats.Scale(1/sigma[r], row)
+		}
+	}
+	norm := ws.norm[:ncol]
+	for j := range norm {
+		norm[j] = 0
+	}
+	for r := 0; r < m; r++ {
+		for j, v := range x.RawRowView(r) {
+			norm[j] += v * v
+		}
+	}
+	for j := range norm {
+		norm[j] = math.Sqrt(norm[j])
+		if !(norm[j] > 0) {
+			c.Cond, c.Singular = maxCond, true
+			return
+		}
+	}
+	for r := 0; r < m; r++ {
+		floats.Div(x.RawRowView(r), norm)
+	}
+	kind := mat.SVDThinV
+	if !weighted {
+		kind = mat.SVDThin
+	}
+	if !ws.svd.Factorize(x, kind) {
+		panic("validate: SVD did not converge on finite data")
+	}
+	sv := ws.svd.Values(nil)
+	c.Cond, c.Singular = clampCond(sv[0], sv[len(sv)-1])
+	if c.Singular {
+		return
+	}
+	ws.v.Reset()
+	ws.svd.VTo(&ws.v)
+	if !weighted {
+		ws.u.Reset()
+		ws.svd.UTo(&ws.u)
+	}
+	h := ws.h[:ncol]
+	c.SE = make([]float64, len(set.Compounds))
+	for n := range set.Compounds {
+		for k, s := range sv {
+			h[k] = ws.v.At(n, k) / s
+		}
+		if weighted {
+			c.SE[n] = floats.Norm(h, 2) / norm[n]
+			continue
+		}
+		var vsum float64
+		for r := 0; r < m; r++ {
+			gi := floats.Dot(ws.u.RawRowView(r), h)
+			vsum += gi * gi * sigma[r] * sigma[r]
+		}
+		c.SE[n] = math.Sqrt(vsum) / norm[n]
+	}
+}
+
+// Surface returns, for plotting, the edges and a matrix z[i][j] = f(c)
+// for the candidate with Lo = Edges[i] and Hi = Edges[j], NaN where there
+// is no such candidate or f returns NaN.
+func (a *WindowAdvice) Surface(f func(c Candidate) float64) [][]float64 {
+	n := len(a.Edges)
+	z := make([][]float64, n)
+	for i := range z {
+		z[i] = make([]float64, n)
+		for j := range z[i] {
+			z[i][j] = math.NaN()
+		}
+	}
+	pos := make(map[float64]int, n)
+	for i, e := range a.Edges {
+		pos[e] = i
+	}
+	for _, c := range a.Candidates {
+		i, ok1 := pos[c.Lo]
+		j, ok2 := pos[c.Hi]
+		if ok1 && ok2 {
+			z[i][j] = f(c)
+		}
+	}
+	return z
+}

@@ -1,0 +1,150 @@
+package validate
+
+import (
+	"errors"
+	"testing"
+
+	"gonum.org/v1/gonum/floats/scalar"
+
+	"huesolve/baseline"
+)
+
+// The advisor must pick the window that avoids a band where two compounds
+// are indistinguishable. A and B share a strong band at 450 nm (same shape
+// and height: they cannot be told apart there) and have weak bands of
+// their own at 590 and 650 nm (invented test data). Windows are limited
+// to 150 nm, so a window covers either the strong shared band or the weak
+// distinct ones; only the latter determine A and B. In the control case
+// B's strong band moves to 480 nm, and the strong bands become the best
+// window.
+func TestAdviseWindowAvoidsIndistinguishableBand(t *testing.T) {
+	g := grid(400, 700, 1)
+	for _, control := range []bool{false, true} {
+		bBand := 450.0
+		if control {
+			bBand = 480
+		}
+		a := add(gauss(g, 450, 20, 1), 1, gauss(g, 590, 15, 0.3))
+		b := add(gauss(g, bBand, 20, 1), 1, gauss(g, 650, 15, 0.3))
+		set := memSet(g, []string{"A", "B"}, [][]float64{a, b}, 0.001)
+		for _, bl := range []baseline.Model{noBaseline, {Degree: 0}} {
+			adv, err := AdviseWindow(set, WindowOptions{Baseline: bl, MaxWidthNM: 150})
+			if err != nil {
+				t.Fatal(err)
+			}
+			best := adv.Candidates[adv.Best]
+			t.Logf("control %v %s: best %g-%g nm cond %.3g worst relative SE %.4g; %d windows",
+				control, bl, best.Lo, best.Hi, best.Cond, best.Worst, len(adv.Candidates))
+			if best.Hi-best.Lo > 150 {
+				t.Errorf("width %g > 150", best.Hi-best.Lo)
+			}
+			if !control && (best.Lo < 500 || best.Hi < 655) {
+				t.Errorf("%s: recommended %g-%g nm, want it clear of the shared band and covering the 590 and 650 nm peaks", bl, best.Lo, best.Hi)
+			}
+			if control && best.Lo > 460 {
+				t.Errorf("control %s: recommended %g-%g nm, want the strong distinct bands at 450 and 480 nm", bl, best.Lo, best.Hi)
+			}
+			if control {
+				continue
+			}
+			// Windows confined to the shared band cannot separate A and B.
+			for _, c := range adv.Candidates {
+				if c.Hi <= 500 && !c.Singular && c.Worst < 1 {
+					t.Errorf("%s: window %g-%g nm inside the shared band has worst relative SE %g, want huge or singular", bl, c.Lo, c.Hi, c.Worst)
+				}
+			}
+		}
+	}
+}
+
+// The window advisor's standard errors come from one SVD of the whole
+// design; FiguresOfMerit gets them from a projection per compound. The two
+// routes must agree.
+func TestAdviseWindowAgreesWithMerits(t *testing.T) {
+	g := grid(400, 600, 2)
+	a := gauss(g, 470, 25, 1)
+	b := gauss(g, 520, 30, 0.7)
+	set := memSet(g, []string{"a", "b"}, [][]float64{a, b}, 0)
+	for i := range g {
+		set.Noise[i] = 0.001 * (1 + float64(i%7)/3)
+	}
+	for _, weighted := range []bool{false, true} {
+		model := baseline.Model{Degree: 1}
+		adv, err := AdviseWindow(set, WindowOptions{Baseline: model, Weighted: weighted, StepNM: 20, MinWidthNM: 60})
+		if err != nil {
+			t.Fatal(err)
+		}
+		checked := 0
+		for _, c := range adv.Candidates {
+			m, err := FiguresOfMerit(set, MeritOptions{WindowLo: c.Lo, WindowHi: c.Hi, Baseline: model, Weighted: weighted})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if m.Points != c.Points {
+				t.Fatalf("%g-%g: points %d vs %d", c.Lo, c.Hi, m.Points, c.Points)
+			}
+			if !scalar.EqualWithinRel(m.Cond, c.Cond, 1e-8) {
+				t.Errorf("weighted %v %g-%g: cond %g, merits %g", weighted, c.Lo, c.Hi, c.Cond, m.Cond)
+			}
+			for n := range c.SE {
+				if !m.Compounds[n].Quantifiable {
+					continue
+				}
+				if !scalar.EqualWithinRel(c.SE[n], m.Compounds[n].SE, 1e-8) {
+					t.Errorf("weighted %v %g-%g: SE(%s) %.10g, merits %.10g", weighted, c.Lo, c.Hi, m.Compounds[n].Compound, c.SE[n], m.Compounds[n].SE)
+				}
+			}
+			checked++
+		}
+		if checked < 10 {
+			t.Errorf("only %d candidates", checked)
+		}
+	}
+}
+
+func TestAdviseWindowErrors(t *testing.T) {
+	g := grid(400, 700, 1)
+	a := gauss(g, 500, 30, 1)
+	set := memSet(g, []string{"A", "A2"}, [][]float64{a, a}, 0.001)
+	if _, err := AdviseWindow(set, WindowOptions{Baseline: noBaseline}); !errors.Is(err, ErrNoWindow) {
+		t.Errorf("duplicate compounds: err = %v, want ErrNoWindow", err)
+	}
+	set = memSet(g, []string{"A"}, [][]float64{a}, 0.001)
+	for _, opt := range []WindowOptions{{StepNM: -1}, {MinWidthNM: -5}, {Levels: []float64{1, 2}}, {Levels: []float64{-1}}, {PathCM: -2}} {
+		if _, err := AdviseWindow(set, opt); err == nil {
+			t.Errorf("%+v: no error", opt)
+		}
+	}
+	// Levels so high that everything is above the ceiling.
+	if _, err := AdviseWindow(set, WindowOptions{Levels: []float64{1e15}}); !errors.Is(err, ErrWindow) {
+		t.Errorf("all saturated: err = %v, want ErrWindow", err)
+	}
+}
+
+// BenchmarkAdviseWindow: 400 wavelengths at 1 nm, 4 compounds, offset
+// baseline, 5 nm edges, 40 nm minimum width.
+func BenchmarkAdviseWindow(b *testing.B) {
+	g := grid(300, 699, 1)
+	var sp [][]float64
+	for k, c := range []float64{380, 450, 520, 600} {
+		sp = append(sp, gauss(g, c, 30+5*float64(k), 1))
+	}
+	set := memSet(g, []string{"a", "b", "c", "d"}, sp, 0.001)
+	for _, weighted := range []bool{false, true} {
+		name := "unweighted"
+		if weighted {
+			name = "weighted"
+		}
+		b.Run(name, func(b *testing.B) {
+			var n int
+			for b.Loop() {
+				adv, err := AdviseWindow(set, WindowOptions{Baseline: baseline.Model{Degree: 0}, Weighted: weighted})
+				if err != nil {
+					b.Fatal(err)
+				}
+				n = len(adv.Candidates)
+			}
+			b.ReportMetric(float64(n), "windows")
+		})
+	}
+}
