@@ -495,7 +495,7 @@ func (j *jcampReader) xydata(xf, yf float64) (x, y []float64, err error) {
 		if err != nil {
 			var ce *colError
 			if errors.As(err, &ce) {
-				return nil, nil, j.errAt(dl.line, ce.col, "%v", ce.err)
+				return nil, nil, j.errAt(dl.line, ce.col, "%w", ce.err)
 			}
 			return nil, nil, j.errAt(dl.line, 0, "%v", err)
 		}
