@@ -1,0 +1,216 @@
+package lsq
+
+import (
+	"errors"
+	"bufio"
+	"math"
+	"os"
+	"strconv"
+	"strings"
+	"testing"
+
+	"gonum.org/v1/gonum/mat"
+)
+
+// hilbertTable reads the "| n | cond2(H_n) |" rows of
+// testdata/hilbert/conditioning.md (values tabulated in numerical-analysis
+// texts, e.g. Higham, Accuracy and Stability of Numerical Algorithms, 2nd
+// ed., SIAM 2002, recalled from memory, and recomputed at 60 digits; see
+// the file's header).
+func hilbertTable(t *testing.T) map[int]float64 {
+	const path = "../../testdata/hilbert/conditioning.md"
+	fh, err := os.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer fh.Close()
+	out := map[int]float64{}
+	sc := bufio.NewScanner(fh)
+	for line := 1; sc.Scan(); line++ {
+		f := strings.Split(sc.Text(), "|")
+		if len(f) != 4 {
+			continue
+		}
+		n, err := strconv.Atoi(strings.TrimSpace(f[1]))
+		if err != nil {
+			continue
+		}
+		v, err := strconv.ParseFloat(strings.Fields(f[2])[0], 64)
+		if err != nil {
+			t.Fatalf("%s:%d: %v", path, line, err)
+		}
+		out[n] = v
+	}
+	return out
+}
+
+func hilbert(n int) *mat.Dense {
+	h := mat.NewDense(n, n, nil)
+	for i := range n {
+		for j := range n {
+			h.Set(i, j, 1/float64(i+j+1))
+		}
+	}
+	return h
+}
+
+// TestHilbertCond checks Cond2 (QR, then SVD of R) against the 2-norm
+// condition numbers of Hilbert matrices of order 3 to 8 in
+// testdata/hilbert/conditioning.md.
+func TestHilbertCond(t *testing.T) {
+	table := hilbertTable(t)
+	for n := 3; n <= 8; n++ {
+		want, ok := table[n]
+		if !ok {
+			t.Fatalf("no table value for n = %d", n)
+		}
+		got, err := Cond2(hilbert(n))
+		if err != nil {
+			t.Fatal(err)
+		}
+		// A double-precision SVD gets cond2 to about 1e-16 * cond2
+		// relative; the table has 12 significant digits.
+		tol := 1e-11 + 10*0x1p-52*want
+		if d := math.Abs(got-want) / want; d > tol {
+			t.Errorf("cond2(H_%d) = %.12g, want %.12g (rel %.2g > %.2g)", n, got, want, d, tol)
+		}
+	}
+	// H_12 (cond2 1.7e16 in the table) is beyond double precision: the
+	// Solver must refuse it as rank deficient.
+	if _, ok := table[12]; !ok {
+		t.Fatal("no table value for n = 12")
+	}
+	_, err := NewSolver(hilbert(12), make([]bool, 12), Options{})
+	if !errors.Is(err, ErrRankDeficient) {
+		t.Errorf("H_12: %v, want ErrRankDeficient", err)
+	}
+	t.Log(err)
+}
+
+// TestSolverCondScaled: Solver.Cond is Cond2 of the weighted design with
+// unit-norm columns; with unit columns and no weights it equals Cond2.
+func TestSolverCondScaled(t *testing.T) {
+	h := hilbert(6)
+	sigma := []float64{1, 2, 0.5, 1, 3, 1}
+	s, err := NewSolver(h, make([]bool, 6), Options{Sigma: sigma})
+	if err != nil {
+		t.Fatal(err)
+	}
+	scaled := mat.NewDense(6, 6, nil)
+	for j := range 6 {
+		var nrm float64
+		for i := range 6 {
+			v := h.At(i, j) / sigma[i]
+			nrm += v * v
+		}
+		nrm = math.Sqrt(nrm)
+		for i := range 6 {
+			scaled.Set(i, j, h.At(i, j)/sigma[i]/nrm)
+		}
+	}
+	want, err := Cond2(scaled)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := s.Cond(); math.Abs(got-want) > 1e-8*want {
+		t.Errorf("Cond = %.12g, want %.12g", got, want)
+	}
+	// Units do not change it.
+	h2 := mat.DenseCopyOf(h)
+	for i := range 6 {
+		h2.Set(i, 2, 1e5*h2.At(i, 2))
+	}
+	s2, err := NewSolver(h2, make([]bool, 6), Options{Sigma: sigma})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if math.Abs(s2.Cond()-s.Cond()) > 1e-8*s.Cond() {
+		t.Errorf("Cond changed with a column's unit: %g vs %g", s2.Cond(), s.Cond())
+	}
+}
+
+// TestVIFLeakage checks VIF and leakage against their definitions computed
+// independently with gonum: VIF_j = 1/(1 - R_j^2), R_j^2 the uncentred
+// fraction of x_j explained by the other columns (least squares by
+// mat.QR), and leakage ||x_k - proj_free x_k|| / ||x_k||.
+func TestVIFLeakage(t *testing.T) {
+	const n = 30
+	x := mat.NewDense(n, 4, nil)
+	for i := range n {
+		l := float64(i) / (n - 1)
+		x.Set(i, 0, math.Exp(-0.5*math.Pow((l-0.4)/0.15, 2)))
+		x.Set(i, 1, math.Exp(-0.5*math.Pow((l-0.55)/0.2, 2)))
+		x.Set(i, 2, 1)
+		x.Set(i, 3, l)
+	}
+	nonneg := []bool{true, true, false, false}
+	s, err := NewSolver(x, nonneg, Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	vif, leak := s.VIF(), s.Leakage()
+	explained := func(j int, others []int) float64 {
+		sub := mat.NewDense(n, len(others), nil)
+		for c, k := range others {
+			for i := range n {
+				sub.Set(i, c, x.At(i, k))
+			}
+		}
+		var qr mat.QR
+		qr.Factorize(sub)
+		var b, fit mat.VecDense
+		col := mat.VecDenseCopyOf(x.ColView(j))
+		if err := qr.SolveVecTo(&b, false, col); err != nil {
+			t.Fatal(err)
+		}
+		fit.MulVec(sub, &b)
+		fit.SubVec(col, &fit)
+		return mat.Dot(&fit, &fit) / mat.Dot(col, col) // unexplained fraction
+	}
+	for j := range 4 {
+		var others []int
+		for k := range 4 {
+			if k != j {
+				others = append(others, k)
+			}
+		}
+		want := 1 / explained(j, others)
+		if math.Abs(vif[j]-want) > 1e-9*want {
+			t.Errorf("VIF[%d] = %.12g, want %.12g", j, vif[j], want)
+		}
+	}
+	for j := range 4 {
+		want := 1.0
+		if nonneg[j] {
+			want = math.Sqrt(explained(j, []int{2, 3}))
+		}
+		if math.Abs(leak[j]-want) > 1e-12 {
+			t.Errorf("Leakage[%d] = %.12g, want %.12g", j, leak[j], want)
+		}
+	}
+	c := s.Conditioning()
+	t.Logf("cond %.4g, VIF %.4g, leakage %.4g, verdict %v", c.Cond, c.VIF, c.Leakage, c.Verdict)
+}
+
+func TestVerdicts(t *testing.T) {
+	for _, c := range []struct {
+		got, want Verdict
+	}{
+		{CondVerdict(1), Sound},
+		{CondVerdict(CondWarn), Sound},
+		{CondVerdict(CondWarn * 1.01), Warn},
+		{CondVerdict(CondRefuse * 1.01), Refuse},
+		{CondVerdict(math.Inf(1)), Refuse},
+		{CondVerdict(math.NaN()), Refuse},
+		{VIFVerdict(1), Sound},
+		{VIFVerdict(11), Warn},
+		{VIFVerdict(1e4), Refuse},
+		{LeakageVerdict(1), Sound},
+		{LeakageVerdict(0.4), Warn},
+		{LeakageVerdict(0.01), Refuse},
+	} {
+		if c.got != c.want {
+			t.Errorf("verdict %v, want %v", c.got, c.want)
+		}
+	}
+}
