@@ -1,8 +1,8 @@
 package lsq
 
 import (
-	"errors"
 	"bufio"
+	"errors"
 	"math"
 	"os"
 	"strconv"
