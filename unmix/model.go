@@ -88,8 +88,10 @@ const (
 	// CondLimit is the condition number (unit-norm columns) above which
 	// the design is flagged FlagIllCond. Belsley, Kuh & Welsch,
 	// Regression Diagnostics (1980): condition indexes above 30 signal
-	// moderate and above 100 strong dependence (recalled from memory).
-	CondLimit = 100.0
+	// moderate to strong dependence (recalled from memory). Two unit
+	// columns at condition 30 correlate at 0.998, inflating variances
+	// about 250-fold.
+	CondLimit = 30.0
 	// LeakLimit: a compound whose spectrum keeps less than this fraction
 	// of its norm after projecting out the baseline terms is flagged
 	// FlagMimic (methods notes, "baseline leakage").

@@ -108,6 +108,10 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		}
 	} else if d = m.cache[string(w.key)]; d == nil {
 		if d, err = sh.buildDesign(slices.Clone(w.rows), nil); err != nil {
+			if errors.Is(err, errRank) {
+				return fail(fmt.Errorf("%w: with %d of %d points above the ceiling A = %g left out, the rest cannot tell the compounds apart; dilute at least %gx and scan again",
+					ErrTooDark, dropped, len(sh.rows0), sh.ceiling, niceUp(maxFinite(w.raw[off:off+nwin])/sh.ceiling)))
+			}
 			return fail(fmt.Errorf("with %d points above the ceiling left out: %w", dropped, err))
 		}
 		if len(m.cache) >= maskCacheSize {
@@ -427,6 +431,14 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 		dst.Flags = append(dst.Flags, FlagNoConverge)
 	}
 
+	if len(dst.Flags) == 0 {
+		dst.Flags = nil
+	}
+	for k := range dst.Amounts {
+		if len(dst.Amounts[k].Flags) == 0 {
+			dst.Amounts[k].Flags = nil
+		}
+	}
 	if m.opt.KeepCurves {
 		m.curves(dst, d)
 	} else {

@@ -1,0 +1,474 @@
+package unmix
+
+import (
+	"errors"
+	"math"
+	"reflect"
+	"strings"
+	"sync"
+	"testing"
+
+	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/mat"
+
+	"huesolve/baseline"
+	"huesolve/reference"
+	"huesolve/spectrum"
+)
+
+// TestRecoveryWithinIntervals solves many noisy replicates of a known
+// mixture: the 95 % intervals must hold the true concentrations in about
+// 95 % of them (binomial: 400 draws give 0.95 +- 0.033 at three standard
+// deviations), and no estimate may be more than 5 SE off.
+func TestRecoveryWithinIntervals(t *testing.T) {
+	truth := []float64{5, 3, 2, 8}
+	for _, weighted := range []bool{false, true} {
+		m := mustModel(t, testSet(4), Options{Weighted: weighted})
+		const reps = 400
+		hits := make([]int, len(truth))
+		var r Result
+		for i := range reps {
+			s := mixture{conc: truth, offset: 0.02, noise: testNoise, seed: uint64(i)}.spectrum()
+			if err := m.SolveTo(&r, s, Factors{}); err != nil {
+				t.Fatal(err)
+			}
+			for k, a := range r.Amounts {
+				if a.Lo <= truth[k] && truth[k] <= a.Hi {
+					hits[k]++
+				}
+				if d := math.Abs(a.Conc - truth[k]); d > 5*a.SE {
+					t.Errorf("weighted=%v rep %d %s = %g +- %g, want %g", weighted, i, a.Compound, a.Conc, a.SE, truth[k])
+				}
+			}
+			if r.Flagged() {
+				t.Errorf("weighted=%v rep %d flagged %v", weighted, i, r.Flags)
+			}
+		}
+		for k, h := range hits {
+			if f := float64(h) / reps; f < 0.917 || f > 0.983 {
+				t.Errorf("weighted=%v %s: interval coverage %.3f, want 0.95 +- 0.033", weighted, testNames[k], f)
+			}
+		}
+	}
+}
+
+// TestAbsentCompoundHeldAtZero finds a noise draw where ordinary least
+// squares (gonum's QR solve, independent of this package) gives the absent
+// compound a negative concentration, and checks that the model reports
+// exactly 0, flags it, and shows the same unconstrained estimate.
+func TestAbsentCompoundHeldAtZero(t *testing.T) {
+	set := testSet(4)
+	m := mustModel(t, set, Options{})
+	truth := []float64{5, 3, 0, 8}
+	const absent = 2
+	for seed := range uint64(50) {
+		s := mixture{conc: truth, offset: 0.02, noise: testNoise, seed: seed}.spectrum()
+		// Ordinary least squares on [eps_k * path, 1].
+		n := len(s.Values)
+		x := mat.NewDense(n, 5, nil)
+		for i := range n {
+			for k := range 4 {
+				x.Set(i, k, set.Compounds[k].Absorptivity[i]*set.PathCM)
+			}
+			x.Set(i, 4, 1)
+		}
+		var ols mat.VecDense
+		if err := ols.SolveVec(x, mat.NewVecDense(n, s.Values)); err != nil {
+			t.Fatal(err)
+		}
+		if ols.AtVec(absent) >= 0 {
+			continue
+		}
+		r := mustSolve(t, m, s, Factors{})
+		a := r.Amounts[absent]
+		if a.Conc != 0 || a.SE != 0 || a.Lo != 0 {
+			t.Errorf("seed %d: absent compound = %g +- %g [%g, %g], want exactly 0", seed, a.Conc, a.SE, a.Lo, a.Hi)
+		}
+		if !a.HasFlag(FlagZero) {
+			t.Errorf("seed %d: flags %v, want %q", seed, a.Flags, FlagZero)
+		}
+		if math.Abs(a.Free-ols.AtVec(absent)) > 1e-9 {
+			t.Errorf("seed %d: unconstrained estimate %g, gonum OLS %g", seed, a.Free, ols.AtVec(absent))
+		}
+		if !(a.Hi > 0 && a.Hi < a.LOQ) {
+			t.Errorf("seed %d: upper bound %g should lie in (0, LOQ %g)", seed, a.Hi, a.LOQ)
+		}
+		for k, c := range truth {
+			if k != absent && math.Abs(r.Amounts[k].Conc-c) > 5*r.Amounts[k].SE {
+				t.Errorf("seed %d: %s = %g +- %g, want %g", seed, r.Amounts[k].Compound, r.Amounts[k].Conc, r.Amounts[k].SE, c)
+			}
+		}
+		return
+	}
+	t.Fatal("no seed gave a negative OLS estimate")
+}
+
+// TestBaselineAbsorbed adds an offset and a slope: with a linear baseline
+// the concentrations are recovered and the fitted baseline curve matches
+// what was added; with no baseline the fit is flagged.
+func TestBaselineAbsorbed(t *testing.T) {
+	truth := []float64{5, 3, 2, 8}
+	mx := mixture{conc: truth, offset: 0.08, slope: -2e-4, noise: testNoise, seed: 3}
+	lin, _ := baseline.ParseModel("linear")
+	m := mustModel(t, testSet(4), Options{Baseline: lin, KeepCurves: true})
+	r := mustSolve(t, m, mx.spectrum(), Factors{})
+	for k, a := range r.Amounts {
+		if math.Abs(a.Conc-truth[k]) > 4*a.SE {
+			t.Errorf("%s = %g +- %g, want %g", a.Compound, a.Conc, a.SE, truth[k])
+		}
+	}
+	for i, l := range r.Grid {
+		want := mx.offset + mx.slope*(l-600)
+		if d := math.Abs(r.BaselineCurve[i] - want); d > 3e-3 {
+			t.Fatalf("baseline at %g nm = %g, want %g", l, r.BaselineCurve[i], want)
+		}
+	}
+	if r.Flagged() {
+		t.Errorf("flags %v", r.Flags)
+	}
+	none, _ := baseline.ParseModel("none")
+	r = mustSolve(t, mustModel(t, testSet(4), Options{Baseline: none}), mx.spectrum(), Factors{})
+	if !r.HasFlag(FlagMisfit) || !r.HasFlag(FlagPattern) {
+		t.Errorf("no baseline terms: flags %v, want %q and %q", r.Flags, FlagMisfit, FlagPattern)
+	}
+}
+
+// TestShiftEstimated moves the sample's bands by a known amount.
+func TestShiftEstimated(t *testing.T) {
+	truth := []float64{5, 3, 2, 8}
+	for _, shift := range []float64{1, -1, 0.4, -2.2} {
+		mx := mixture{conc: truth, offset: 0.01, shift: shift, noise: testNoise, seed: 5}
+		m := mustModel(t, testSet(4), Options{Shift: true})
+		r := mustSolve(t, m, mx.spectrum(), Factors{})
+		if math.Abs(r.ShiftNM-shift) > 0.2 {
+			t.Errorf("shift %g nm: estimated %g nm", shift, r.ShiftNM)
+		}
+		if !r.HasFlag(FlagShift) || r.HasFlag(FlagPattern) || r.HasFlag(FlagMisfit) {
+			t.Errorf("shift %g nm: flags %v", shift, r.Flags)
+		}
+		for k, a := range r.Amounts {
+			if math.Abs(a.Conc-truth[k]) > 0.02*truth[k] {
+				t.Errorf("shift %g nm: %s = %g, want %g", shift, a.Compound, a.Conc, truth[k])
+			}
+		}
+		// Without estimating it, a 1 nm shift shows in the residual.
+		if math.Abs(shift) >= 1 {
+			r = mustSolve(t, mustModel(t, testSet(4), Options{}), mx.spectrum(), Factors{})
+			if !r.HasFlag(FlagPattern) {
+				t.Errorf("shift %g nm not estimated: flags %v, want %q", shift, r.Flags, FlagPattern)
+			}
+		}
+	}
+	// A shift beyond the limit is held at the limit and flagged.
+	mx := mixture{conc: truth, shift: 2.5, noise: testNoise, seed: 6}
+	r := mustSolve(t, mustModel(t, testSet(4), Options{Shift: true, MaxShiftNM: 1}), mx.spectrum(), Factors{})
+	if r.ShiftNM != 1 || !r.HasFlag(FlagShiftMax) {
+		t.Errorf("shift 2.5 nm, limit 1: estimated %g, flags %v", r.ShiftNM, r.Flags)
+	}
+}
+
+// TestMissingCompound puts a band in the sample that no reference has.
+func TestMissingCompound(t *testing.T) {
+	mx := mixture{conc: []float64{5, 3, 2, 8}, extra: []band{{470, 15, 0.15}}, noise: testNoise, seed: 8}
+	r := mustSolve(t, mustModel(t, testSet(4), Options{}), mx.spectrum(), Factors{})
+	if !r.HasFlag(FlagMisfit) && !r.HasFlag(FlagPattern) {
+		t.Errorf("unknown band at 470 nm: flags %v, want %q or %q", r.Flags, FlagMisfit, FlagPattern)
+	}
+	if !r.Flagged() {
+		t.Error("sample not counted as flagged")
+	}
+}
+
+// TestSaturation scans a sample whose strongest band reads above the
+// ceiling: the points are dropped, the sample is flagged with a dilution
+// that brings the band below the ceiling, and the concentrations still
+// come from the points that remain.
+func TestSaturation(t *testing.T) {
+	truth := []float64{5, 3, 2, 35} // teal peaks at 0.08*35 = 2.8 AU
+	mx := mixture{conc: truth, noise: testNoise, seed: 9}
+	s := mx.spectrum()
+	peak := floats.Max(s.Values)
+	r := mustSolve(t, mustModel(t, testSet(4), Options{}), s, Factors{})
+	if r.Dropped == 0 || !r.HasFlag(FlagSaturated) || !r.HasFlag(FlagDilute) {
+		t.Fatalf("peak %.2f AU: dropped %d, flags %v", peak, r.Dropped, r.Flags)
+	}
+	if r.Points+r.Dropped != 401 {
+		t.Errorf("points %d + dropped %d != 401", r.Points, r.Dropped)
+	}
+	if d := r.SuggestDilution; !(peak/d < 2) || d > 3*peak/2 {
+		t.Errorf("suggested dilution %g for a %.2f AU peak and ceiling 2", d, peak)
+	}
+	for k, a := range r.Amounts {
+		if math.Abs(a.Conc-truth[k]) > 5*a.SE {
+			t.Errorf("%s = %g +- %g, want %g", a.Compound, a.Conc, a.SE, truth[k])
+		}
+	}
+	if !r.Amounts[3].HasFlag(FlagOverRange) {
+		t.Errorf("35 mg/L above the 20 mg/L standard: flags %v", r.Amounts[3].Flags)
+	}
+
+	// In %T with readings of zero (too dark): the same points count as
+	// saturated instead of failing the sample.
+	pt := s.Clone()
+	pt.Quantity = spectrum.PercentT
+	for i, a := range s.Values {
+		pt.Values[i] = 100 * math.Pow(10, -a)
+		if a > 2.5 {
+			pt.Values[i] = 0
+		}
+	}
+	r2 := mustSolve(t, mustModel(t, testSet(4), Options{}), pt, Factors{})
+	if r2.Dropped != r.Dropped {
+		t.Errorf("%%T with zeros: dropped %d, want %d", r2.Dropped, r.Dropped)
+	}
+	for k := range truth {
+		if d := math.Abs(r2.Amounts[k].Conc - r.Amounts[k].Conc); d > 1e-9 {
+			t.Errorf("%%T vs absorbance: %s differs by %g", testNames[k], d)
+		}
+	}
+
+	// So dark that nothing can be fitted: an error saying to dilute.
+	dark := mixture{conc: []float64{200, 200, 200, 200}, seed: 1}.spectrum()
+	_, err := mustModel(t, testSet(4), Options{}).Solve(dark, Factors{})
+	if !errors.Is(err, ErrTooDark) || !strings.Contains(err.Error(), "dilute") {
+		t.Errorf("dark sample: err %v, want ErrTooDark with a dilution", err)
+	}
+}
+
+// TestFactors: dilution multiplies, path divides, and both apply to the
+// standard errors and limits.
+func TestFactors(t *testing.T) {
+	truth := []float64{5, 3, 2, 8}
+	m := mustModel(t, testSet(4), Options{})
+	base := mustSolve(t, m, mixture{conc: truth, noise: testNoise, seed: 2}.spectrum(), Factors{})
+	// The same cell absorbance read as a 5x dilution scanned at 0.5 cm:
+	// the original sample holds 5 * (1/0.5) = 10 times the fitted amount.
+	r := mustSolve(t, m, mixture{conc: truth, noise: testNoise, seed: 2}.spectrum(), Factors{Dilution: 5, PathCM: 0.5})
+	for k := range truth {
+		b, a := base.Amounts[k], r.Amounts[k]
+		for _, p := range [][2]float64{{a.Conc, b.Conc}, {a.SE, b.SE}, {a.LOD, b.LOD}, {a.Hi, b.Hi}} {
+			if math.Abs(p[0]-10*p[1]) > 1e-9*math.Abs(p[0]) {
+				t.Errorf("%s: %g, want 10 x %g", a.Compound, p[0], p[1])
+			}
+		}
+	}
+	if r.Dilution != 5 || r.PathCM != 0.5 {
+		t.Errorf("factors recorded as %g, %g", r.Dilution, r.PathCM)
+	}
+	for _, f := range []Factors{{Dilution: -1}, {PathCM: math.NaN()}, {Dilution: math.Inf(1)}} {
+		if _, err := m.Solve(mixture{conc: truth}.spectrum(), f); !errors.Is(err, ErrFactor) {
+			t.Errorf("factors %+v: err %v, want ErrFactor", f, err)
+		}
+	}
+}
+
+// TestDetectionLimit checks the limits against the net analyte signal
+// computed independently (gonum least squares): SEN_k = ||s_k*||,
+// s_k* = s_k - S_-k S_-k+ s_k, LOD = 3.3 sigma / SEN (Lorber, Anal. Chem.
+// 58 (1986) 1167; ICH Q2 for the factors 3.3 and 10).
+func TestDetectionLimit(t *testing.T) {
+	set := testSet(4)
+	m := mustModel(t, set, Options{})
+	// A blank sample: absorbance near 0, so sigma = noise * sqrt(1.01).
+	r := mustSolve(t, m, mixture{conc: []float64{0, 0, 0, 0}, noise: 1e-4, seed: 4}.spectrum(), Factors{})
+	sigma := testNoise * math.Sqrt(1+math.Pow(10, -2*WeightKneeA))
+	n := len(set.Grid)
+	for k := range 4 {
+		others := mat.NewDense(n, 4, nil)
+		sk := mat.NewVecDense(n, nil)
+		for i := range n {
+			c := 0
+			for j := range 4 {
+				if j == k {
+					sk.SetVec(i, set.Compounds[j].Absorptivity[i])
+					continue
+				}
+				others.Set(i, c, set.Compounds[j].Absorptivity[i])
+				c++
+			}
+			others.Set(i, 3, 1) // offset
+		}
+		var b, proj, nas mat.VecDense
+		if err := b.SolveVec(others, sk); err != nil {
+			t.Fatal(err)
+		}
+		proj.MulVec(others, &b)
+		nas.SubVec(sk, &proj)
+		sen := mat.Norm(&nas, 2)
+		want := LODFactor * sigma / sen
+		got := r.Amounts[k].LOD
+		if math.Abs(got-want) > 2e-3*want {
+			t.Errorf("%s: LOD %g, NAS gives %g", testNames[k], got, want)
+		}
+		if q := r.Amounts[k].LOQ / got; math.Abs(q-LOQFactor/LODFactor) > 1e-12 {
+			t.Errorf("%s: LOQ/LOD = %g", testNames[k], q)
+		}
+	}
+}
+
+// TestBlankSubtracted: a blank with its own offset and slope is removed.
+func TestBlankSubtracted(t *testing.T) {
+	truth := []float64{5, 3, 2, 8}
+	blank := mixture{conc: []float64{0, 0, 0, 0}, offset: 0.05, slope: 1e-4, seed: 11}.spectrum()
+	s := mixture{conc: truth, offset: 0.05, slope: 1e-4, noise: testNoise, seed: 12}.spectrum()
+	none, _ := baseline.ParseModel("none")
+	r := mustSolve(t, mustModel(t, testSet(4), Options{Baseline: none, Blank: blank}), s, Factors{})
+	for k, a := range r.Amounts {
+		if math.Abs(a.Conc-truth[k]) > 4*a.SE {
+			t.Errorf("%s = %g +- %g, want %g", a.Compound, a.Conc, a.SE, truth[k])
+		}
+	}
+	if r.Flagged() {
+		t.Errorf("flags %v", r.Flags)
+	}
+}
+
+// TestGridAndCoverage: a scan on another grid is interpolated; one that
+// does not cover the window is refused naming both ranges.
+func TestGridAndCoverage(t *testing.T) {
+	truth := []float64{5, 3, 2, 8}
+	m := mustModel(t, testSet(4), Options{WindowLo: 420, WindowHi: 760})
+	fine := mixture{conc: truth, noise: testNoise, seed: 13, grid: gridNM(380, 820, 0.5)}.spectrum()
+	r := mustSolve(t, m, fine, Factors{})
+	if r.Points != 341 {
+		t.Errorf("points %d, want 341 (420-760 nm at 1 nm)", r.Points)
+	}
+	for k, a := range r.Amounts {
+		if math.Abs(a.Conc-truth[k]) > 5*a.SE {
+			t.Errorf("%s = %g +- %g, want %g", a.Compound, a.Conc, a.SE, truth[k])
+		}
+	}
+	short := mixture{conc: truth, grid: gridNM(450, 800, 1)}.spectrum()
+	_, err := m.Solve(short, Factors{})
+	if !errors.Is(err, ErrCoverage) || !strings.Contains(err.Error(), "450-800 nm") || !strings.Contains(err.Error(), "420-760 nm") {
+		t.Errorf("short scan: %v", err)
+	}
+	if _, err := NewModel(testSet(4), Options{WindowLo: 350, WindowHi: 700}); !errors.Is(err, ErrCoverage) {
+		t.Errorf("window outside the grid: %v", err)
+	}
+}
+
+// TestDesignFlags: two nearly equal compounds make an ill-conditioned
+// design; a featureless compound is imitated by a cubic baseline.
+func TestDesignFlags(t *testing.T) {
+	set := testSet(2)
+	set.Compounds[1].Absorptivity = append([]float64(nil), set.Compounds[0].Absorptivity...)
+	for i, l := range set.Grid {
+		set.Compounds[1].Absorptivity[i] = bandsAt([]band{{432, 25, 0.05}}, l)
+	}
+	r := mustSolve(t, mustModel(t, set, Options{}), mixture{conc: []float64{5}, noise: testNoise, seed: 1}.spectrum(), Factors{})
+	if !r.HasFlag(FlagIllCond) {
+		t.Errorf("bands 2 nm apart: cond %g, flags %v", r.Cond, r.Flags)
+	}
+
+	flat := testSet(2)
+	for i, l := range flat.Grid {
+		flat.Compounds[1].Absorptivity[i] = 0.01 * math.Exp(-(l-600)/300)
+	}
+	cubic, _ := baseline.ParseModel("cubic")
+	m := mustModel(t, flat, Options{Baseline: cubic})
+	r = mustSolve(t, m, mixture{conc: []float64{5}, noise: testNoise, seed: 1}.spectrum(), Factors{})
+	if lk := m.Leakage(); !r.Amounts[1].HasFlag(FlagMimic) || !(lk[1] < 0.01) {
+		t.Errorf("featureless compound under a cubic baseline: leakage %v, flags %v", lk, r.Amounts[1].Flags)
+	}
+	none, _ := baseline.ParseModel("none")
+	r = mustSolve(t, mustModel(t, flat, Options{Baseline: none}), mixture{conc: []float64{5}, noise: testNoise, seed: 1}.spectrum(), Factors{})
+	if r.Amounts[0].HasFlag(FlagMimic) || r.Amounts[1].HasFlag(FlagMimic) {
+		t.Errorf("no baseline terms, yet flags %v / %v", r.Amounts[0].Flags, r.Amounts[1].Flags)
+	}
+}
+
+// TestReuseAndClones: a Result reused gives the same answer, and clones
+// on several goroutines agree with one model run serially.
+func TestReuseAndClones(t *testing.T) {
+	m := mustModel(t, testSet(4), Options{Shift: true})
+	var ss []*spectrum.Spectrum
+	for i := range 40 {
+		mx := mixture{conc: []float64{5, 3, 2, 8}, shift: 0.3, noise: testNoise, seed: uint64(i)}
+		if i%5 == 0 {
+			mx.conc = []float64{5, 3, 2, 32} // some with a mask
+		}
+		ss = append(ss, mx.spectrum())
+	}
+	want := make([]*Result, len(ss))
+	for i, s := range ss {
+		want[i] = mustSolve(t, m, s, Factors{})
+	}
+	var r Result
+	for _, i := range []int{3, 5, 3} {
+		if err := m.SolveTo(&r, ss[i], Factors{}); err != nil {
+			t.Fatal(err)
+		}
+		if !reflect.DeepEqual(&r, want[i]) {
+			t.Fatalf("reused result for sample %d differs", i)
+		}
+	}
+	got := make([]*Result, len(ss))
+	var wg sync.WaitGroup
+	for w := range 4 {
+		c := m.Clone()
+		wg.Go(func() {
+			for i := w; i < len(ss); i += 4 {
+				r, err := c.Solve(ss[i], Factors{})
+				if err != nil {
+					t.Error(err)
+					return
+				}
+				got[i] = r
+			}
+		})
+	}
+	wg.Wait()
+	for i := range ss {
+		if !reflect.DeepEqual(got[i], want[i]) {
+			t.Errorf("clone result %d differs", i)
+		}
+	}
+}
+
+// TestPretreatment: the set's pre-treatment is applied to samples, which
+// must then cover the whole reference grid.
+func TestPretreatment(t *testing.T) {
+	set := testSet(4)
+	st, err := baseline.ParseStep("sg:11,3")
+	if err != nil {
+		t.Fatal(err)
+	}
+	set.Pretreat = []baseline.Step{st}
+	for k := range set.Compounds {
+		a, err := st.Apply(set.Grid, set.Compounds[k].Absorptivity)
+		if err != nil {
+			t.Fatal(err)
+		}
+		set.Compounds[k].Absorptivity = a
+	}
+	truth := []float64{5, 3, 2, 8}
+	m := mustModel(t, set, Options{WindowLo: 450, WindowHi: 750})
+	r := mustSolve(t, m, mixture{conc: truth, noise: testNoise, seed: 14}.spectrum(), Factors{})
+	for k, a := range r.Amounts {
+		if math.Abs(a.Conc-truth[k]) > 5*a.SE {
+			t.Errorf("%s = %g +- %g, want %g", a.Compound, a.Conc, a.SE, truth[k])
+		}
+	}
+	_, err = m.Solve(mixture{conc: truth, grid: gridNM(420, 780, 1)}.spectrum(), Factors{})
+	if !errors.Is(err, ErrCoverage) {
+		t.Errorf("partial scan with pre-treatment: %v", err)
+	}
+}
+
+// TestBadSets: inconsistent reference sets are refused with ErrSet.
+func TestBadSets(t *testing.T) {
+	for name, edit := range map[string]func(s *reference.Set){
+		"no compounds": func(s *reference.Set) { s.Compounds = nil },
+		"short noise":  func(s *reference.Set) { s.Noise = s.Noise[1:] },
+		"NaN eps":      func(s *reference.Set) { s.Compounds[0].Absorptivity[7] = math.NaN() },
+		"zero path":    func(s *reference.Set) { s.PathCM = 0 },
+		"twice":        func(s *reference.Set) { s.Compounds[1].Name = s.Compounds[0].Name },
+	} {
+		s := testSet(2)
+		edit(s)
+		if _, err := NewModel(s, Options{}); !errors.Is(err, ErrSet) {
+			t.Errorf("%s: err %v, want ErrSet", name, err)
+		}
+	}
+}
