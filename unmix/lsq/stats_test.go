@@ -319,3 +319,48 @@ func TestCloneConcurrent(t *testing.T) {
 		t.Error(e)
 	}
 }
+
+// TestLackOfFit: white noise at the stated level passes; a missing
+// component gives structured, excessive residuals. The chi-square limit
+// is checked against the upper 1 % point of chi-square with 20 degrees of
+// freedom, 37.566 (standard statistical tables, e.g. NIST/SEMATECH
+// e-Handbook of Statistical Methods, table 1.3.6.7.4; recalled from memory).
+func TestLackOfFit(t *testing.T) {
+	const n = 23
+	x := coverageDesign(n)
+	rng := rand.New(rand.NewPCG(11, 11))
+	sigma := make([]float64, n)
+	y := make([]float64, n)
+	missing := make([]float64, n)
+	for i := range n {
+		sigma[i] = 1e-3
+		l := float64(i) / (n - 1)
+		y[i] = 0.5*x.At(i, 0) + 0.3*x.At(i, 1) + 1e-3*rng.NormFloat64()
+		missing[i] = y[i] + 0.05*math.Exp(-0.5*math.Pow((l-0.8)/0.05, 2))
+	}
+	s, err := NewSolver(x, []bool{true, true, false}, Options{Sigma: sigma})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var res Result
+	if err := s.Solve(&res, y); err != nil {
+		t.Fatal(err)
+	}
+	lf := res.LackOfFit()
+	if math.Abs(lf.ChiSqLimit*20-37.566) > 0.001 {
+		t.Errorf("chi-square limit for 20 DoF = %.4f, want 37.566/20", lf.ChiSqLimit*20)
+	}
+	if lf.Verdict != Sound {
+		t.Errorf("white noise: %+v (DW %g, chi2 %g)", lf, res.DW, res.ChiSqRed)
+	}
+	if err := s.Solve(&res, missing); err != nil {
+		t.Fatal(err)
+	}
+	lf = res.LackOfFit()
+	if lf.Verdict != Refuse || !lf.Excess || !lf.Structured {
+		t.Errorf("missing component: %+v (DW %g, chi2 %g)", lf, res.DW, res.ChiSqRed)
+	}
+	if res.WorstHi < 16 {
+		t.Errorf("worst band %d..%d, want it near row 18", res.WorstLo, res.WorstHi)
+	}
+}
