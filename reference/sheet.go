@@ -87,7 +87,8 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 	r.Comma = comma
 	r.Comment = '#'
 	r.FieldsPerRecord = -1
-	r.TrimLeadingSpace = true
+	// Leading blanks are trimmed, but not tabs when tab separates fields.
+	r.TrimLeadingSpace = comma != '\t'
 	var records [][]string
 	var lines []int
 	for {

@@ -1,0 +1,232 @@
+package reference
+
+import (
+	"crypto/sha256"
+	"encoding/hex"
+	"errors"
+	"fmt"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"huesolve/spectrum"
+)
+
+// writeScan writes a two-column absorbance scan with the spectrum writer.
+func writeScan(t testing.TB, path string, wl, v []float64) {
+	t.Helper()
+	writeTable(t, path, wl, map[string][]float64{"": v})
+}
+
+// writeTable writes one or more scans (a wide table when several).
+func writeTable(t testing.TB, path string, wl []float64, cols map[string][]float64) {
+	t.Helper()
+	var ss []*spectrum.Spectrum
+	for _, name := range sortedKeys(cols) {
+		ss = append(ss, &spectrum.Spectrum{Name: name, Wavelengths: wl, Values: cols[name], Quantity: spectrum.Absorbance})
+	}
+	f, err := os.Create(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer f.Close()
+	if err := spectrum.WriteDelimited(f, ss, spectrum.WriteOptions{}); err != nil {
+		t.Fatal(err)
+	}
+}
+
+func sortedKeys(m map[string][]float64) []string {
+	var k []string
+	for s := range m {
+		k = append(k, s)
+	}
+	for i := range k {
+		for j := i + 1; j < len(k); j++ {
+			if k[j] < k[i] {
+				k[i], k[j] = k[j], k[i]
+			}
+		}
+	}
+	return k
+}
+
+// sheetDir writes invented scans (a band at 500 nm, absorbance 0.1 per
+// unit) for the tests of ReadSheet and returns the folder.
+func sheetDir(t testing.TB) string {
+	t.Helper()
+	dir := t.TempDir()
+	wl := linGrid(450, 5, 21)
+	shape := band(wl, 500, 20, 0.1)
+	writeScan(t, filepath.Join(dir, "blank.csv"), wl, make([]float64, len(wl)))
+	for _, c := range []float64{1, 2, 3, 4} {
+		writeScan(t, filepath.Join(dir, fmt.Sprintf("s%g.csv", c)), wl, scale(append([]float64(nil), shape...), c))
+	}
+	writeTable(t, filepath.Join(dir, "wide.csv"), wl, map[string][]float64{
+		"mix-a": scale(append([]float64(nil), shape...), 5),
+		"mix-b": scale(append([]float64(nil), shape...), 6),
+	})
+	if err := os.Mkdir(filepath.Join(dir, "folder"), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	return dir
+}
+
+func writeSheet(t *testing.T, dir, name, text string) string {
+	t.Helper()
+	p := filepath.Join(dir, name)
+	if err := os.WriteFile(p, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
+func TestReadSheet(t *testing.T) {
+	dir := sheetDir(t)
+	for _, c := range []struct {
+		name, text string
+	}{
+		{"comma", "# invented standards\nscan,column,dye (mg/L),note\nblank.csv,,0,solvent only\n\ns1.csv,,1,\ns2.csv,,2,\nwide.csv,mix-b,6,\nwide.csv,1,5,first scan\n"},
+		{"semicolon decimal comma", "scan;column;dye (mg/L)\nblank.csv;;0\ns1.csv;;1,0\ns2.csv;;2\nwide.csv;mix-b;6\nwide.csv;1;5,0\n"},
+		{"tab quoted", "scan\tcolumn\tdye (mg/L)\n\"blank.csv\"\t\t0\ns1.csv\t\t1\ns2.csv\t\t2\nwide.csv\tMIX-B\t6\nwide.csv\tmix-a\t5\n"},
+	} {
+		t.Run(c.name, func(t *testing.T) {
+			var warned []string
+			sh, err := ReadSheet(writeSheet(t, dir, "sheet.txt", c.text), SheetOptions{Warn: func(m string) { warned = append(warned, m) }})
+			if err != nil {
+				t.Fatal(err)
+			}
+			if len(sh.Compounds) != 1 || sh.Compounds[0] != "dye" || sh.Units[0] != "mg/L" {
+				t.Fatalf("compounds %q units %q", sh.Compounds, sh.Units)
+			}
+			if len(sh.Blanks) != 1 || len(sh.Standards) != 4 {
+				t.Fatalf("%d blanks, %d standards; want 1, 4", len(sh.Blanks), len(sh.Standards))
+			}
+			wantConc := []float64{1, 2, 6, 5}
+			for i, r := range sh.Standards {
+				if r.Conc[0] != wantConc[i] {
+					t.Errorf("standard %d: conc %g, want %g", i, r.Conc[0], wantConc[i])
+				}
+				// The scan's peak is 0.1 per unit at 500 nm.
+				if got := r.Scan.Values[10]; relErr(got, 0.1*wantConc[i]) > 1e-12 {
+					t.Errorf("standard %d (%s %s): peak %g, want %g", i, r.File, r.Column, got, 0.1*wantConc[i])
+				}
+				raw, _ := os.ReadFile(r.Path)
+				sum := sha256.Sum256(raw)
+				if r.SHA256 != hex.EncodeToString(sum[:]) {
+					t.Errorf("standard %d: sha256 %s", i, r.SHA256)
+				}
+			}
+			if sh.Standards[0].Line != map[string]int{"comma": 5, "semicolon decimal comma": 3, "tab quoted": 3}[c.name] {
+				t.Errorf("first standard on line %d", sh.Standards[0].Line)
+			}
+		})
+	}
+}
+
+func TestReadSheetUnits(t *testing.T) {
+	dir := sheetDir(t)
+	text := "scan,dye,other (µmol/L)\nblank.csv,0,0\ns1.csv,1,0\ns2.csv,0,2\ns3.csv,3,0\n"
+	var warned []string
+	sh, err := ReadSheet(writeSheet(t, dir, "u.csv", text), SheetOptions{Warn: func(m string) { warned = append(warned, m) }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if sh.Units[0] != "" || sh.Units[1] != "µmol/L" {
+		t.Errorf("units %q", sh.Units)
+	}
+	if len(warned) != 1 || !strings.Contains(warned[0], "no concentration unit stated for dye") || !strings.Contains(warned[0], "u.csv:1") {
+		t.Errorf("warnings %q", warned)
+	}
+	sh, err = ReadSheet(filepath.Join(dir, "u.csv"), SheetOptions{Unit: "mg/L"})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if sh.Units[0] != "mg/L" || sh.Units[1] != "µmol/L" {
+		t.Errorf("with Unit option: units %q", sh.Units)
+	}
+}
+
+func TestReadSheetErrors(t *testing.T) {
+	dir := sheetDir(t)
+	cases := []struct {
+		name, text string
+		want       error
+		where      string // "sheet:line[:column]" the message must hold
+		says       string
+	}{
+		{"missing file", "scan,dye\nblank.csv,0\nnone.csv,1\n", ErrScanFile, "bad.csv:3:1", "none.csv does not exist"},
+		{"folder", "scan,dye\nfolder,1\ns1.csv,2\n", ErrScanFile, "bad.csv:2:1", "is a folder"},
+		{"sheet itself", "scan,dye\nbad.csv,1\ns1.csv,2\n", ErrScanFile, "bad.csv:2:1", "names itself"},
+		{"negative", "scan,dye\ns1.csv,1\ns2.csv,-2\n", ErrConcentration, "bad.csv:3:2", "negative"},
+		{"text", "scan,dye\ns1.csv,1\ns2.csv,two\n", ErrConcentration, "bad.csv:3:2", "not a number"},
+		{"nan", "scan,dye\ns1.csv,NaN\ns2.csv,2\n", ErrConcentration, "bad.csv:2:2", "not a number"},
+		{"empty cell", "scan,dye\ns1.csv,\ns2.csv,2\n", ErrConcentration, "bad.csv:2:2", "write 0"},
+		{"unknown column", "scan,column,dye\ns1.csv,,1\nwide.csv,mix-z,5\n", ErrScanFile, "bad.csv:3:2", `no scan named "mix-z"`},
+		{"column number", "scan,column,dye\ns1.csv,,1\nwide.csv,3,5\n", ErrScanFile, "bad.csv:3:2", "holds 2 scans"},
+		{"wide without column", "scan,dye\ns1.csv,1\nwide.csv,5\n", ErrScanFile, "bad.csv:3:1", "holds 2 scans"},
+		{"duplicate compound", "scan,Dye (mg/L),dye\ns1.csv,1,1\ns2.csv,2,2\n", ErrSheetHeader, "bad.csv:1:3", "named twice"},
+		{"no scan column", "file,dye\ns1.csv,1\n", ErrSheetHeader, "bad.csv:1", "named scan"},
+		{"no compounds", "scan,column\ns1.csv,\n", ErrSheetHeader, "bad.csv:1", "no compound columns"},
+		{"empty brackets", "scan,dye ()\ns1.csv,1\n", ErrSheetHeader, "bad.csv:1:2", "empty brackets"},
+		{"never varies", "scan,dye,other\nblank.csv,0,0\ns1.csv,1,0\ns2.csv,2,0\n", ErrNoVariation, "bad.csv", "other is 0 in every row"},
+		{"blanks only", "scan,dye\nblank.csv,0\n", ErrConcentration, "bad.csv", "no standards"},
+		{"extra field", "scan,dye\ns1.csv,1,9\ns2.csv,2\n", nil, "bad.csv:2:3", "header names 2 columns"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			p := writeSheet(t, dir, "bad.csv", c.text)
+			_, err := ReadSheet(p, SheetOptions{})
+			if err == nil {
+				t.Fatal("no error")
+			}
+			if c.want != nil && !errors.Is(err, c.want) {
+				t.Errorf("error %v, want %v", err, c.want)
+			}
+			var pe *spectrum.ParseError
+			if !errors.As(err, &pe) {
+				t.Errorf("error %T is not a *spectrum.ParseError", err)
+			}
+			msg := err.Error()
+			if !strings.Contains(msg, c.where) || !strings.Contains(msg, c.says) {
+				t.Errorf("error %q, want it to name %q and say %q", msg, c.where, c.says)
+			}
+		})
+	}
+}
+
+// FuzzReadSheet feeds arbitrary sheets (naming the scans of sheetDir) to
+// ReadSheet: it must never panic, and a sheet it accepts must have a
+// finite, non-negative concentration for every compound of every row.
+func FuzzReadSheet(f *testing.F) {
+	for _, s := range []string{
+		"scan,dye (mg/L)\nblank.csv,0\ns1.csv,1\ns2.csv,2\n",
+		"scan;column;dye\ns1.csv;;1,5\nwide.csv;mix-a;2\n",
+		"# c\nscan\tdye\tnote\ns1.csv\t1\tx\ns2.csv\t3\t\n",
+		"scan,dye,dye\n",
+		"\"scan\",\"a (\"\"u\"\")\"\ns1.csv,1e400\n",
+	} {
+		f.Add(s)
+	}
+	dir := sheetDir(f)
+	f.Fuzz(func(t *testing.T, text string) {
+		p := filepath.Join(dir, "fuzz.csv")
+		if err := os.WriteFile(p, []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		sh, err := ReadSheet(p, SheetOptions{})
+		if err != nil {
+			return
+		}
+		for _, r := range append(sh.Standards, sh.Blanks...) {
+			if len(r.Conc) != len(sh.Compounds) || r.Scan == nil {
+				t.Fatalf("row %d: %d concentrations for %d compounds", r.Line, len(r.Conc), len(sh.Compounds))
+			}
+			for _, v := range r.Conc {
+				if !finite(v) || v < 0 {
+					t.Fatalf("row %d: concentration %v accepted", r.Line, v)
+				}
+			}
+		}
+	})
+}
