@@ -172,6 +172,15 @@ func TestALSErrors(t *testing.T) {
 			}
 		})
 	}
+	// lambda far too large for the data: the condition estimate (about
+	// 10 lambda/p for these 500 points) exceeds alsCondLimit.
+	_, _, yy, _ := readALS(t)
+	if _, _, err := ALSBaseline(nil, yy, 1e13, 0.01); !errors.Is(err, ErrData) {
+		t.Errorf("lambda 1e13: %v, want ErrData (ill-conditioned)", err)
+	}
+	if _, _, err := ALSBaseline(nil, yy, 1e9, 0.001); err != nil {
+		t.Errorf("lambda 1e9, p 0.001: %v", err)
+	}
 	// A straight line is its own background for any lambda: the second
 	// differences vanish, so z = y solves the system with zero residual.
 	line := []float64{0.1, 0.2, 0.3, 0.4, 0.5, 0.6}

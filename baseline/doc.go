@@ -20,8 +20,9 @@
 //     columns are close to orthogonal on any fairly even grid and the
 //     design stays well conditioned (raw powers of wavelength in nm would
 //     not be). Their coefficients are free in sign. On an even grid the
-//     "offset" coefficient is the mean background level over the range
-//     and "slope" is the rise from the middle to the long-wavelength end.
+//     "offset" coefficient is close to the mean background level over the
+//     range, and "slope" is the rise from the middle to the
+//     long-wavelength end.
 //   - The scattering term is (λ/c)^-P, P = 4 by default (Rayleigh-like
 //     scattering by particles much smaller than the wavelength; larger
 //     particles give smaller exponents). It equals 1 at the middle c of
