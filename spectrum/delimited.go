@@ -76,9 +76,9 @@ type delimReader struct {
 	firstLine  int // line of the first data row
 	lastLine   int
 
-	wl   []float64 // wavelengths in file order
-	vals []float64 // row-major, ncols-1 per row
-	dir  int       // +1 ascending, -1 descending, 0 unknown
+	wl     []float64   // wavelengths in file order
+	chunks [][]float64 // values, row-major, ncols-1 per row, whole rows per chunk
+	dir    int         // +1 ascending, -1 descending, 0 unknown
 }
 
 func (d *delimReader) errAt(line, col int, err error) error {
@@ -121,7 +121,7 @@ func (d *delimReader) read(lr *lineReader) error {
 			if h := d.opt.sizeHint; h > 0 && ncols > 1 {
 				rows := h/int64(len(line)+1) + 16
 				if est := rows * int64(ncols-1); est > 0 && est < 1<<28 {
-					d.vals = make([]float64, 0, est+est/16)
+					d.chunks = [][]float64{make([]float64, 0, est+est/16)}
 					d.wl = make([]float64, 0, rows+rows/16)
 				}
 			}
@@ -229,7 +229,20 @@ func (d *delimReader) addRow(row []float64, line int) error {
 		}
 	}
 	d.wl = append(d.wl, w)
-	d.vals = append(d.vals, row[1:]...)
+	v := row[1:]
+	k := len(d.chunks) - 1
+	if k < 0 || len(d.chunks[k])+len(v) > cap(d.chunks[k]) {
+		// A new chunk, twice the last (at most maxChunk values, at
+		// least one row): rows are never copied as the table grows.
+		c := firstChunk
+		if k >= 0 {
+			c = min(2*cap(d.chunks[k]), maxChunk)
+		}
+		c = max(c/len(v), 1) * len(v)
+		d.chunks = append(d.chunks, make([]float64, 0, c))
+		k++
+	}
+	d.chunks[k] = append(d.chunks[k], v...)
 	return nil
 }
 
@@ -259,13 +272,18 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 	}
 	// Column-major values from one backing array.
 	var vals []float64
-	if ns == 1 {
-		vals = d.vals[:nr:nr]
+	if ns == 1 && len(d.chunks) == 1 {
+		vals = d.chunks[0][:nr:nr]
 	} else {
 		vals = make([]float64, nr*ns)
-		transpose(vals, d.vals, nr, ns)
+		r0 := 0
+		for _, c := range d.chunks {
+			r := len(c) / ns
+			transpose(vals[r0:], c, r, ns, nr)
+			r0 += r
+		}
 	}
-	d.vals = nil
+	d.chunks = nil
 	if d.dir < 0 {
 		reverse(wl)
 		for j := 0; j < ns; j++ {
@@ -738,9 +756,16 @@ func wavelengthUnit(cell string) int {
 	return unitNM
 }
 
+// Sizes of the chunks that hold values while a table is read.
+const (
+	firstChunk = 512     // values in the first chunk
+	maxChunk   = 1 << 20 // most values in one chunk (8 MiB)
+)
+
 // transpose writes the nr x nc row-major src into dst as column-major
-// (dst[j*nr+i] = src[i*nc+j]), in tiles for the cache.
-func transpose(dst, src []float64, nr, nc int) {
+// with column stride ld (dst[j*ld+i] = src[i*nc+j]), in tiles for the
+// cache.
+func transpose(dst, src []float64, nr, nc, ld int) {
 	const tile = 32
 	for i0 := 0; i0 < nr; i0 += tile {
 		i1 := min(i0+tile, nr)
@@ -749,7 +774,7 @@ func transpose(dst, src []float64, nr, nc int) {
 			for i := i0; i < i1; i++ {
 				r := src[i*nc : i*nc+nc]
 				for j := j0; j < j1; j++ {
-					dst[j*nr+i] = r[j]
+					dst[j*ld+i] = r[j]
 				}
 			}
 		}
