@@ -284,7 +284,7 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 			continue
 		}
 		pending[out.Seq] = out
-		for {
+		for ctx.Err() == nil {
 			o, ok := pending[next]
 			if !ok {
 				break

@@ -92,7 +92,7 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 			a = 0
 		}
 		a = math.Min(a, sh.ceiling)
-		w.sig[r] = sh.noise[r] * math.Sqrt(1+math.Pow(10, 2*(a-WeightKneeA)))
+		w.sig[r] = sh.noise[r] * math.Sqrt(1+math.Exp(2*math.Ln10*(a-WeightKneeA)))
 	}
 
 	// The design for this mask.

@@ -153,32 +153,21 @@ func (s *Solver) stats(dst *Result, y []float64, mean float64) {
 	f := s.f
 	n := f.n
 	r := dst.Residual
-	bw := BandWidth(n)
-	var rss, wrss, tss, dw, yw, win float64
-	bestWin, bestLo := math.Inf(-1), 0
+	var rss, wrss, tss, dw, yw float64
 	if f.invSigma == nil {
 		prev := r[0]
 		for i, e := range r {
-			e2 := e * e
-			rss += e2
+			rss += e * e
 			d := y[i] - mean
 			tss += d * d
 			yw += y[i] * y[i]
 			de := e - prev
 			dw += de * de
 			prev = e
-			win += e2
-			if i >= bw {
-				o := r[i-bw]
-				win -= o * o
-			}
-			if i >= bw-1 && win > bestWin {
-				bestWin, bestLo = win, i-bw+1
-			}
 		}
 		wrss = rss
 	} else {
-		is := f.invSigma
+		is := f.invSigma[:n]
 		prev := r[0] * is[0]
 		for i, e := range r {
 			rss += e * e
@@ -187,21 +176,13 @@ func (s *Solver) stats(dst *Result, y []float64, mean float64) {
 			v := y[i] * is[i]
 			yw += v * v
 			e *= is[i]
-			e2 := e * e
-			wrss += e2
+			wrss += e * e
 			de := e - prev
 			dw += de * de
 			prev = e
-			win += e2
-			if i >= bw {
-				o := r[i-bw] * is[i-bw]
-				win -= o * o
-			}
-			if i >= bw-1 && win > bestWin {
-				bestWin, bestLo = win, i-bw+1
-			}
 		}
 	}
+	dst.WorstLo, dst.WorstHi = worstBand(r, f.invSigma, BandWidth(n))
 	s.ws.ywss = yw
 	dst.RSS = rss
 	dst.WRSS = wrss
@@ -214,7 +195,31 @@ func (s *Solver) stats(dst *Result, y []float64, mean float64) {
 	if wrss > 0 {
 		dst.DW = dw / wrss
 	}
-	dst.WorstLo, dst.WorstHi = bestLo, bestLo+bw-1
+}
+
+// worstBand returns the first and last row of the window of bw rows with
+// the largest sum of squared weighted residuals (r_i * invSigma_i; the
+// first such window on ties).
+func worstBand(r, invSigma []float64, bw int) (lo, hi int) {
+	sq := func(i int) float64 {
+		e := r[i]
+		if invSigma != nil {
+			e *= invSigma[i]
+		}
+		return e * e
+	}
+	var win float64
+	for i := range bw {
+		win += sq(i)
+	}
+	best, bestLo := win, 0
+	for i := bw; i < len(r); i++ {
+		win += sq(i) - sq(i-bw)
+		if win > best {
+			best, bestLo = win, i-bw+1
+		}
+	}
+	return bestLo, bestLo + bw - 1
 }
 
 // uncertainty fills Scale, ChiSqRed, SE, Lo and Hi from the passive set in
