@@ -34,7 +34,7 @@ func ExampleModel_Solve() {
 		// 4 mg/L gold, no indigo, an offset of 0.02, a ripple and a
 		// slight tilt the offset term cannot follow: unconstrained, it
 		// would give indigo a negative amount.
-		sample.Values = append(sample.Values, 4*band(450, l)+0.02+0.0005*math.Sin(float64(i)) + 0.00001*(l-550))
+		sample.Values = append(sample.Values, 4*band(450, l)+0.02+0.0005*math.Sin(float64(i))+0.00001*(l-550))
 	}
 	m, err := unmix.NewModel(set, unmix.Options{}) // default baseline: an offset
 	if err != nil {
