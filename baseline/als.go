@@ -62,6 +62,11 @@ const alsInvIter = 6
 // [ErrData]; weights still changing at the cap wrap [ErrNoConvergence]
 // and dst then holds the last estimate.
 func ALSBaseline(dst, y []float64, lambda, p float64) ([]float64, int, error) {
+	return alsBaseline(dst, y, lambda, p, alsMaxIter)
+}
+
+// alsBaseline is ALSBaseline with the iteration cap as a parameter.
+func alsBaseline(dst, y []float64, lambda, p float64, maxIter int) ([]float64, int, error) {
 	if err := (Step{Kind: KindALS, Lambda: lambda, P: p}).Check(); err != nil {
 		return nil, 0, err
 	}
@@ -96,7 +101,7 @@ func ALSBaseline(dst, y []float64, lambda, p float64) ([]float64, int, error) {
 	tie := alsTieTol * math.Max(floats.Max(y), -floats.Min(y))
 	var factor blas64.TriangularBand
 	var anorm float64
-	it := 1
+	it, converged := 1, false
 	for ; ; it++ {
 		copy(band, penalty)
 		for i := range n {
@@ -120,16 +125,20 @@ func ALSBaseline(dst, y []float64, lambda, p float64) ([]float64, int, error) {
 				changed = true
 			}
 		}
-		if !changed || it == alsMaxIter {
+		if !changed {
+			converged = true
+			break
+		}
+		if it == maxIter {
 			break
 		}
 	}
 	if c := anorm * invNormEstimate(factor); c > alsCondLimit {
 		return nil, it, fmt.Errorf("%w: asymmetric least squares system is ill-conditioned (condition about %.2g; lower lambda %g)", ErrData, c, lambda)
 	}
-	if it == alsMaxIter {
+	if !converged {
 		// The weights changed on the last pass: no fixed point.
-		return dst, it, fmt.Errorf("%w: weights still changing after %d iterations (lambda %g, p %g)", ErrNoConvergence, alsMaxIter, lambda, p)
+		return dst, it, fmt.Errorf("%w: weights still changing after %d iterations (lambda %g, p %g)", ErrNoConvergence, maxIter, lambda, p)
 	}
 	return dst, it, nil
 }

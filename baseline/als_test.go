@@ -181,6 +181,12 @@ func TestALSErrors(t *testing.T) {
 	if _, _, err := ALSBaseline(nil, yy, 1e9, 0.001); err != nil {
 		t.Errorf("lambda 1e9, p 0.001: %v", err)
 	}
+	// The cap: the fixture case needs 6 passes, so 2 must fail and still
+	// hand back the estimate.
+	z2, it, err := alsBaseline(nil, yy, 1e5, 0.01, 2)
+	if !errors.Is(err, ErrNoConvergence) || it != 2 || len(z2) != len(yy) {
+		t.Errorf("cap 2: %d passes, %d values, %v; want ErrNoConvergence after 2", it, len(z2), err)
+	}
 	// A straight line is its own background for any lambda: the second
 	// differences vanish, so z = y solves the system with zero residual.
 	line := []float64{0.1, 0.2, 0.3, 0.4, 0.5, 0.6}
