@@ -11,6 +11,7 @@ import (
 
 	"huesolve/baseline"
 	"huesolve/reference"
+	"huesolve/unmix"
 )
 
 // Tolerances.
@@ -124,7 +125,7 @@ func newDesign(set *reference.Set, idx []int, model baseline.Model, path, sigma 
 	}
 	cols, _, names := model.Columns(d.wl)
 	d.nuis, d.nuisName = cols, names
-	s, err := noiseRows(set, idx, sigma)
+	s, err := noiseRows(set, idx, sigma, nil)
 	if err != nil {
 		return nil, err
 	}
@@ -132,9 +133,12 @@ func newDesign(set *reference.Set, idx []int, model baseline.Model, path, sigma 
 	return d, nil
 }
 
-// noiseRows returns the noise SD on rows idx: sigma if > 0, else the set's
-// noise model floored at noiseFloorFrac times its median over the rows.
-func noiseRows(set *reference.Set, idx []int, sigma float64) ([]float64, error) {
+// noiseRows returns the noise SD on rows idx: sigma if > 0, else the
+// set's noise model as solve uses it (unmix's sigma(l) = noise(l)
+// sqrt(1 + 10^(2 (A(l) - unmix.WeightKneeA)))) at the expected absorbance
+// absorb (nil: zero, a blank), floored at unmix.NoiseFloorAU and at
+// noiseFloorFrac times its median over the rows.
+func noiseRows(set *reference.Set, idx []int, sigma float64, absorb []float64) ([]float64, error) {
 	out := make([]float64, len(idx))
 	if sigma > 0 {
 		for r := range out {
@@ -152,11 +156,13 @@ func noiseRows(set *reference.Set, idx []int, sigma float64) ([]float64, error) 
 	if !(med > 0) {
 		return nil, ErrNoNoise
 	}
-	floor := noiseFloorFrac * med
+	floor := math.Max(noiseFloorFrac*med, unmix.NoiseFloorAU)
 	for r, v := range out {
-		if v < floor {
-			out[r] = floor
+		a := 0.0
+		if absorb != nil {
+			a = math.Max(absorb[r], 0)
 		}
+		out[r] = math.Max(v, floor) * math.Sqrt(1+math.Exp(2*math.Ln10*(a-unmix.WeightKneeA)))
 	}
 	return out, nil
 }

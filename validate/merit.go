@@ -38,7 +38,9 @@ type MeritOptions struct {
 	// PathCM is the sample path length (0: the set's).
 	PathCM float64
 	// Sigma, if > 0, is the noise SD of a sample reading (absorbance) at
-	// every wavelength; 0 uses the set's noise model.
+	// every wavelength; 0 uses the set's noise model as solve uses it at
+	// zero absorbance (a blank): noise(l) sqrt(1 + 10^(-2 WeightKneeA)),
+	// see package unmix.
 	Sigma float64
 	// Weighted computes the standard errors and limits for a fit
 	// weighted by the noise model (1/σ²) instead of an unweighted one.

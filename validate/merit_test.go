@@ -10,6 +10,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/unmix"
 )
 
 var noBaseline = baseline.Model{Degree: -1}
@@ -168,7 +169,7 @@ func TestNetAnalyteSignalByHand(t *testing.T) {
 	set := memSet([]float64{500, 510, 520}, []string{"one", "two"},
 		[][]float64{{2, 1, 0}, {0, 1, 1}}, 0.01)
 	for _, weighted := range []bool{false, true} {
-		m, err := FiguresOfMerit(set, MeritOptions{Baseline: noBaseline, PathCM: 2, Weighted: weighted})
+		m, err := FiguresOfMerit(set, MeritOptions{Baseline: noBaseline, PathCM: 2, Weighted: weighted, Sigma: 0.01})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -196,7 +197,9 @@ func TestNetAnalyteSignalByHand(t *testing.T) {
 // With noise that differs between wavelengths, the blank-level standard
 // error must equal the sandwich form sqrt(diag(S⁺ Σ S⁺ᵀ)) for an
 // unweighted fit and sqrt(diag((SᵀΣ⁻¹S)⁻¹)) for a weighted one; here both
-// are computed directly with gonum's general solvers as the reference.
+// are computed directly with gonum's general solvers as the reference. Σ is
+// the set's noise as solve uses it at A = 0 (see unmix: the noise times
+// sqrt(1 + 10^(-2 WeightKneeA))).
 func TestStandardErrorMatchesDirect(t *testing.T) {
 	g := grid(400, 600, 2)
 	a := gauss(g, 470, 25, 1)
@@ -205,6 +208,11 @@ func TestStandardErrorMatchesDirect(t *testing.T) {
 	set := memSet(g, []string{"a", "b", "c"}, [][]float64{a, b, c}, 0)
 	for i, w := range g {
 		set.Noise[i] = 0.001 * (1 + 3*math.Exp(-0.5*math.Pow((w-500)/30, 2)))
+	}
+	blankFactor := math.Sqrt(1 + math.Pow(10, -2*unmix.WeightKneeA))
+	noise := make([]float64, len(g))
+	for i, v := range set.Noise {
+		noise[i] = v * blankFactor
 	}
 	model := baseline.Model{Degree: 1}
 	cols, _, _ := model.Columns(g)
@@ -228,7 +236,7 @@ func TestStandardErrorMatchesDirect(t *testing.T) {
 	for i := range g {
 		row := Xw.RawRowView(i)
 		for j := range row {
-			row[j] /= set.Noise[i]
+			row[j] /= noise[i]
 		}
 	}
 	var svd mat.SVD
@@ -249,7 +257,7 @@ func TestStandardErrorMatchesDirect(t *testing.T) {
 				}
 			} else {
 				for i := range g {
-					p := pinv.At(n, i) * set.Noise[i]
+					p := pinv.At(n, i) * noise[i]
 					want += p * p
 				}
 			}

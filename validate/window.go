@@ -38,7 +38,9 @@ type WindowOptions struct {
 	// PathCM is the sample path length (0: the set's).
 	PathCM float64
 	// Sigma, if > 0, replaces the set's noise model by a constant noise
-	// SD (absorbance).
+	// SD (absorbance). Otherwise the set's noise model is used as solve
+	// uses it, growing as 10^A above unmix.WeightKneeA, at the expected
+	// absorbance of a sample at Levels.
 	Sigma float64
 	// Weighted predicts errors for a fit weighted by the noise model;
 	// otherwise for an unweighted fit (whose errors then follow the
@@ -188,6 +190,7 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 	// Expected absorbance at the levels, for the ceiling.
 	above := make([]bool, len(all))
 	var rows []int
+	var absorb []float64
 	for r, i := range all {
 		var a float64
 		for k, c := range set.Compounds {
@@ -196,6 +199,7 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 		above[r] = set.Ceiling > 0 && a > set.Ceiling
 		if !above[r] {
 			rows = append(rows, i)
+			absorb = append(absorb, a)
 		}
 	}
 	lo0, hi0 := set.Grid[all[0]], set.Grid[all[len(all)-1]]
@@ -216,7 +220,7 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 	for r, i := range rows {
 		wl[r] = set.Grid[i]
 	}
-	sigma, err := noiseRows(set, rows, opt.Sigma)
+	sigma, err := noiseRows(set, rows, opt.Sigma, absorb)
 	if err != nil {
 		return nil, err
 	}

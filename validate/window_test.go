@@ -70,7 +70,8 @@ func TestAdviseWindowAgreesWithMerits(t *testing.T) {
 	}
 	for _, weighted := range []bool{false, true} {
 		model := baseline.Model{Degree: 1}
-		adv, err := AdviseWindow(set, WindowOptions{Baseline: model, Weighted: weighted, StepNM: 20, MinWidthNM: 60})
+		// Levels near zero: the noise model at A = 0, as in the merits.
+		adv, err := AdviseWindow(set, WindowOptions{Baseline: model, Weighted: weighted, StepNM: 20, MinWidthNM: 60, Levels: []float64{1e-9, 1e-9}})
 		if err != nil {
 			t.Fatal(err)
 		}
