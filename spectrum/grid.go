@@ -3,11 +3,76 @@ package spectrum
 import (
 	"fmt"
 	"sort"
+	"strings"
+
+	"gonum.org/v1/gonum/interp"
 )
+
+// gridSlack is the relative slack, as a fraction of the measured span, by
+// which a requested grid may reach past the measured range and still count
+// as inside it: wavelengths read from files are rounded, so a grid from
+// one file may overshoot another's end by a rounding error. Such points
+// take the end value; nothing is extrapolated.
+const gridSlack = 1e-9
+
+// Interpolation selects how resampling fills values between measured
+// wavelengths.
+//
+// Linear is the default and the safe choice: it never overshoots and is
+// exact where the new grid hits measured points. A cubic pays where a
+// coarse scan (steps of 2 nm or more) is resampled onto a finer grid
+// across bands only a few steps wide: linear interpolation then cuts the
+// tops off peaks and fills valleys. NaturalCubic is the smoothest (C2)
+// curve through the points but may ring (overshoot, even below zero) next
+// to sharp steps; MonotoneCubic (Fritsch-Butland piecewise cubic Hermite)
+// is C1 and never leaves the range of neighbouring points, so it cannot
+// invent negative absorbance or ringing.
+type Interpolation int
+
+const (
+	// Linear interpolates linearly between neighbouring points.
+	Linear Interpolation = iota
+	// NaturalCubic is the cubic spline with zero second derivative at both
+	// ends.
+	NaturalCubic
+	// MonotoneCubic is the monotone piecewise cubic of F. N. Fritsch and
+	// J. Butland, SIAM J. Sci. Stat. Comput. 5 (1984) 300-304.
+	MonotoneCubic
+)
+
+// String returns the name ParseInterpolation reads.
+func (m Interpolation) String() string {
+	switch m {
+	case Linear:
+		return "linear"
+	case NaturalCubic:
+		return "spline"
+	case MonotoneCubic:
+		return "monotone"
+	}
+	return fmt.Sprintf("Interpolation(%d)", int(m))
+}
+
+// ParseInterpolation reads "linear", "spline" (natural cubic) or
+// "monotone" (monotone cubic); case is ignored.
+func ParseInterpolation(s string) (Interpolation, error) {
+	switch strings.ToLower(strings.TrimSpace(s)) {
+	case "linear", "":
+		return Linear, nil
+	case "spline", "cubic", "natural":
+		return NaturalCubic, nil
+	case "monotone", "pchip":
+		return MonotoneCubic, nil
+	}
+	return Linear, fmt.Errorf("spectrum: unknown interpolation %q (want linear, spline or monotone)", s)
+}
 
 // Crop returns the part of s with lo <= wavelength <= hi as a new spectrum.
 // It is an error if fewer than two points remain.
 func (s *Spectrum) Crop(lo, hi float64) (*Spectrum, error) {
+	if len(s.Wavelengths) == 0 {
+		return nil, fmt.Errorf("spectrum: %s: crop of an empty spectrum: %w", s.Source, ErrEmpty)
+	}
 	i := sort.SearchFloat64s(s.Wavelengths, lo)
 	j := sort.Search(len(s.Wavelengths), func(k int) bool { return s.Wavelengths[k] > hi })
 	if j-i < 2 {
@@ -24,30 +89,92 @@ func (s *Spectrum) Crop(lo, hi float64) (*Spectrum, error) {
 // strictly increasing and lie within the measured range of s (never
 // extrapolated: a grid point outside it is an error naming both ranges).
 func (s *Spectrum) Resample(grid []float64) (*Spectrum, error) {
+	return s.ResampleWith(grid, Linear)
+}
+
+// ResampleWith is Resample with a choice of interpolation.
+func (s *Spectrum) ResampleWith(grid []float64, m Interpolation) (*Spectrum, error) {
+	if err := CheckGrid(grid); err != nil {
+		return nil, fmt.Errorf("spectrum: %s: target grid: %w", s.Source, err)
+	}
 	c := *s
 	c.Wavelengths = append([]float64(nil), grid...)
 	c.Values = make([]float64, len(grid))
-	if err := ResampleTo(c.Values, s.Wavelengths, s.Values, grid); err != nil {
+	if err := ResampleToWith(c.Values, s.Wavelengths, s.Values, grid, m); err != nil {
 		return nil, fmt.Errorf("spectrum: %s: %w", s.Source, err)
 	}
 	return &c, nil
 }
 
+// ResampleToWith is ResampleTo with a choice of interpolation. It panics
+// if len(dst) != len(grid) or len(wl) != len(y).
+func ResampleToWith(dst, wl, y, grid []float64, m Interpolation) error {
+	if m == Linear {
+		return ResampleTo(dst, wl, y, grid)
+	}
+	if len(dst) != len(grid) || len(wl) != len(y) {
+		panic("spectrum: ResampleToWith length mismatch")
+	}
+	if err := checkInside(wl, grid); err != nil {
+		return err
+	}
+	var p interface {
+		Fit(x, y []float64) error
+		Predict(x float64) float64
+	}
+	switch m {
+	case NaturalCubic:
+		if len(wl) < 3 {
+			return ResampleTo(dst, wl, y, grid) // the natural spline of two points is the line
+		}
+		p = &interp.NaturalCubic{}
+	case MonotoneCubic:
+		p = &interp.FritschButland{}
+	default:
+		return fmt.Errorf("spectrum: unknown interpolation %v", m)
+	}
+	if err := CheckGrid(wl); err != nil {
+		return err
+	}
+	if err := p.Fit(wl, y); err != nil {
+		return fmt.Errorf("spectrum: %v interpolation: %w", m, err)
+	}
+	lo, hi := wl[0], wl[len(wl)-1]
+	for i, g := range grid {
+		dst[i] = p.Predict(min(max(g, lo), hi))
+	}
+	return nil
+}
+
+// checkInside reports an error wrapping ErrOutOfRange, naming both ranges,
+// unless grid lies within wl (up to gridSlack).
+func checkInside(wl, grid []float64) error {
+	if len(wl) < 2 || len(grid) == 0 {
+		return fmt.Errorf("resample needs at least two points: %w", ErrEmpty)
+	}
+	if err := CheckGrid(grid); err != nil {
+		return fmt.Errorf("target grid: %w", err)
+	}
+	lo, hi := wl[0], wl[len(wl)-1]
+	slack := gridSlack * (hi - lo)
+	if grid[0] < lo-slack || grid[len(grid)-1] > hi+slack {
+		return fmt.Errorf("requested %g-%g nm but the scan covers %g-%g nm: %w", grid[0], grid[len(grid)-1], lo, hi, ErrOutOfRange)
+	}
+	return nil
+}
+
 // ResampleTo writes into dst the linear interpolation of (wl, y) at grid.
 // wl and grid must be strictly increasing and grid must lie within
-// [wl[0], wl[len-1]] (up to a relative slack of 1e-9 of the span, so a
-// grid read from a file with rounded wavelengths still matches).
+// [wl[0], wl[len-1]] (up to gridSlack of the span, so a grid read from a
+// file with rounded wavelengths still matches); otherwise the error wraps
+// ErrOutOfRange and names both ranges. It panics if len(dst) != len(grid)
+// or len(wl) != len(y).
 func ResampleTo(dst, wl, y, grid []float64) error {
 	if len(dst) != len(grid) || len(wl) != len(y) {
 		panic("spectrum: ResampleTo length mismatch")
 	}
-	if len(wl) < 2 || len(grid) == 0 {
-		return fmt.Errorf("resample needs at least two points: %w", ErrEmpty)
-	}
-	lo, hi := wl[0], wl[len(wl)-1]
-	slack := 1e-9 * (hi - lo)
-	if grid[0] < lo-slack || grid[len(grid)-1] > hi+slack {
-		return fmt.Errorf("requested %g-%g nm but the scan covers %g-%g nm: %w", grid[0], grid[len(grid)-1], lo, hi, ErrOutOfRange)
+	if err := checkInside(wl, grid); err != nil {
+		return err
 	}
 	k := 0
 	for i, g := range grid {
@@ -89,6 +216,11 @@ func SameGrid(a, b []float64) bool {
 func CommonRange(ss []*Spectrum) (lo, hi float64, err error) {
 	if len(ss) == 0 {
 		return 0, 0, fmt.Errorf("spectrum: common range of no spectra: %w", ErrEmpty)
+	}
+	for _, s := range ss {
+		if len(s.Wavelengths) == 0 {
+			return 0, 0, fmt.Errorf("spectrum: %s: %w", s.Source, ErrEmpty)
+		}
 	}
 	lo, hi = ss[0].Wavelengths[0], ss[0].Wavelengths[len(ss[0].Wavelengths)-1]
 	for _, s := range ss[1:] {
