@@ -6,6 +6,7 @@ import (
 	"slices"
 
 	"gonum.org/v1/gonum/blas/blas64"
+	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
 )
@@ -149,32 +150,25 @@ func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
 		}
 		f.known = !opt.ScaleSE
 	}
-	// Column scales of the weighted design.
+	// Column scales of the weighted design (overflow-safe 2-norms).
 	f.d = make([]float64, p)
+	invD := make([]float64, p)
+	wcol := make([]float64, n)
 	for j := range p {
 		col := f.x[j*n : (j+1)*n]
-		// Scaled sum of squares, safe from overflow.
-		scale, ssq := 0.0, 1.0
-		for i, v := range col {
-			if f.invSigma != nil {
-				v *= f.invSigma[i]
-			}
-			if v == 0 {
-				continue
-			}
-			a := math.Abs(v)
-			if scale < a {
-				ssq = 1 + ssq*(scale/a)*(scale/a)
-				scale = a
-			} else {
-				ssq += (a / scale) * (a / scale)
-			}
+		if f.invSigma != nil {
+			floats.MulTo(wcol, col, f.invSigma)
+			col = wcol
 		}
-		d := scale * math.Sqrt(ssq)
-		if d == 0 || math.IsInf(d, 0) {
+		d := floats.Norm(col, 2)
+		if math.IsInf(d, 0) || math.IsNaN(d) {
+			return nil, fmt.Errorf("lsq: column %d overflows when weighted by 1/sigma: %w", j, ErrNonFinite)
+		}
+		if d == 0 {
 			return nil, &RankError{Columns: []int{j}, Cond: math.Inf(1), Rows: n, Cols: p}
 		}
 		f.d[j] = d
+		invD[j] = 1 / d
 	}
 	if n < p {
 		all := make([]int, p)
@@ -200,13 +194,13 @@ func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
 
 	// Scaled weighted design in factor order, row-major n×p.
 	a := make([]float64, n*p)
-	for i := range n {
-		w := 1.0
-		if f.invSigma != nil {
-			w = f.invSigma[i]
-		}
-		for k, j := range f.perm {
-			a[i*p+k] = f.x[j*n+i] * w / f.d[j]
+	for k, j := range f.perm {
+		col := f.x[j*n : (j+1)*n]
+		for i, v := range col {
+			if f.invSigma != nil {
+				v *= f.invSigma[i]
+			}
+			a[i*p+k] = v * invD[j]
 		}
 	}
 	A := blas64.General{Rows: n, Cols: p, Stride: p, Data: a}
@@ -268,24 +262,23 @@ func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
 
 	// Q' W^(1/2), stored by rows of Q'.
 	f.qtw = make([]float64, p*n)
-	for i := range n {
-		w := 1.0
-		if f.invSigma != nil {
-			w = f.invSigma[i]
+	for k := range p {
+		row := f.qtw[k*n : (k+1)*n]
+		for i := range row {
+			row[i] = a[i*p+k]
 		}
-		for k := range p {
-			f.qtw[k*n+i] = a[i*p+k] * w
+		if f.invSigma != nil {
+			floats.Mul(row, f.invSigma)
 		}
 	}
 	// Gradient rows in original order: g_j = sum_i x_ij r_i / (d_j sigma_i^2).
 	f.gcol = make([]float64, p*n)
 	for j := range p {
-		for i := range n {
-			w := 1.0
-			if f.invSigma != nil {
-				w = f.invSigma[i] * f.invSigma[i]
-			}
-			f.gcol[j*n+i] = f.x[j*n+i] * w / f.d[j]
+		g := f.gcol[j*n : (j+1)*n]
+		floats.ScaleTo(g, invD[j], f.x[j*n:(j+1)*n])
+		if f.invSigma != nil {
+			floats.Mul(g, f.invSigma)
+			floats.Mul(g, f.invSigma)
 		}
 	}
 	// R_SS.
