@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"image/color"
 	"io"
+	"math"
 	"path/filepath"
 	"strings"
 	"unicode"
@@ -129,7 +130,11 @@ func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, er
 	col := Colour(k)
 
 	line = plot.New()
-	line.Title.Text = fmt.Sprintf("%s at %g nm: A = %.4g c %+.3g, R² = %.5f", c.Name, c.PeakNM, l.Slope, l.Intercept, l.R2)
+	sign := "+"
+	if l.Intercept < 0 {
+		sign = "−"
+	}
+	line.Title.Text = fmt.Sprintf("%s at %g nm: A = %.4g·c %s %.2g, R² = %.5f", c.Name, c.PeakNM, l.Slope, sign, math.Abs(l.Intercept), l.R2)
 	if l.Curved {
 		line.Title.Text += " (curved)"
 	}
@@ -161,6 +166,9 @@ func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, er
 	}
 	line.Legend.Top = true
 	line.Legend.Left = true
+	// Show the origin: the line's intercept is read there.
+	line.X.Min = 0
+	line.Y.Min = min(line.Y.Min, 0, l.Intercept)
 
 	resid = plot.New()
 	resid.X.Label.Text = line.X.Label.Text
@@ -175,6 +183,7 @@ func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, er
 	}
 	rs.Color = col
 	resid.Add(zero, rs)
+	resid.X.Min = 0
 	return line, resid, nil
 }
 

@@ -1,0 +1,144 @@
+package main
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strings"
+
+	"github.com/olekukonko/tablewriter"
+	"github.com/olekukonko/tablewriter/tw"
+	"github.com/spf13/cobra"
+
+	"huesolve/reference"
+)
+
+func init() { commands = append(commands, newInspectCmd) }
+
+// inspectSection writes one section of the inspect report after the
+// summary. Other command files add theirs to inspectSections in an init
+// function, so the sections grow without touching this file.
+type inspectSection func(w io.Writer, set *reference.Set, path string) error
+
+// inspectSections are the extra sections of inspect, in order.
+var inspectSections []inspectSection
+
+const inspectLong = `Print what a reference set file holds: for each compound its band
+maximum, peak absorptivity with standard error, R² of the calibration line,
+linear range and flags, with the conditions the set was built under.
+
+The file is refused if it was truncated, changed after it was saved
+(checksum), or written by a newer huesolve.`
+
+func newInspectCmd() *cobra.Command {
+	return &cobra.Command{
+		Use:   "inspect REFSET",
+		Short: "Show what a reference set holds and how sound its calibration is",
+		Long:  inspectLong,
+		Args: func(cmd *cobra.Command, args []string) error {
+			if len(args) != 1 {
+				return usagef("inspect takes one reference set file, got %d arguments", len(args))
+			}
+			return nil
+		},
+		RunE: func(cmd *cobra.Command, args []string) error {
+			set, err := reference.Load(args[0])
+			if err != nil {
+				return err
+			}
+			w := cmd.OutOrStdout()
+			if err := writeSetSummary(w, set); err != nil {
+				return err
+			}
+			for _, sec := range inspectSections {
+				fmt.Fprintln(w)
+				if err := sec(w, set, args[0]); err != nil {
+					return err
+				}
+			}
+			return nil
+		},
+	}
+}
+
+// writeSetSummary prints the conditions of a set, one table row per
+// compound and the legend of the flags that occur. calibrate and inspect
+// print the same.
+func writeSetSummary(w io.Writer, set *reference.Set) error {
+	model := "with intercept"
+	if !set.Intercept {
+		model = "through the origin"
+	}
+	pv := set.Provenance
+	fmt.Fprintf(w, "Reference set: %d compound(s), %g-%g nm (%d points), path %g cm, ceiling A = %g",
+		len(set.Compounds), set.Grid[0], set.Grid[len(set.Grid)-1], len(set.Grid), set.PathCM, set.Ceiling)
+	if set.Floor > 0 {
+		fmt.Fprintf(w, ", floor A = %g", set.Floor)
+	}
+	fmt.Fprintf(w, ", fit %s\n", model)
+	blank := pv.Blank
+	if blank == "" {
+		blank = "none"
+	}
+	fmt.Fprintf(w, "Built %s by %s %s from %s: %d standard scans, blank: %s\n",
+		pv.Created, pv.Tool, pv.Version, pv.Sheet, len(pv.Standards), blank)
+	if len(set.Pretreat) > 0 {
+		var steps []string
+		for _, s := range set.Pretreat {
+			steps = append(steps, s.String())
+		}
+		fmt.Fprintf(w, "Pre-treatment: %s\n", strings.Join(steps, ", "))
+	}
+	fmt.Fprintln(w)
+
+	t := tablewriter.NewTable(w, tablewriter.WithHeaderAutoFormat(tw.Off))
+	t.Header("Compound", "Band max (nm)", "Absorptivity ± SE (per unit per cm)", "R²", "Levels", "Linear range", "Flags")
+	seen := map[string]bool{}
+	for _, r := range set.Summary() {
+		unit := r.Unit
+		if unit == "" {
+			unit = "(no unit)"
+		}
+		flags := "-"
+		if len(r.Flags) > 0 {
+			flags = strings.Join(r.Flags, " ")
+			for _, f := range r.Flags {
+				seen[f] = true
+			}
+		}
+		if err := t.Append([]string{
+			r.Compound,
+			fmt.Sprintf("%g", r.PeakNM),
+			plusMinus(r.Peak, r.PeakSE),
+			fmt.Sprintf("%.5f", r.R2),
+			fmt.Sprintf("%d", r.Levels),
+			fmt.Sprintf("%g-%g %s", r.RangeLo, r.RangeHi, unit),
+			flags,
+		}); err != nil {
+			return fmt.Errorf("summary table: %w", err)
+		}
+	}
+	if err := t.Render(); err != nil {
+		return fmt.Errorf("summary table: %w", err)
+	}
+	if len(seen) > 0 {
+		fmt.Fprintln(w, "\nFlags:")
+		for _, f := range reference.Flags {
+			if seen[f.Code] {
+				fmt.Fprintf(w, "  %-14s %s\n", f.Code, f.Meaning)
+			}
+		}
+	}
+	return nil
+}
+
+// plusMinus writes v ± se with se to two significant digits and v to the
+// same decimal place.
+func plusMinus(v, se float64) string {
+	if !(se > 0) || math.IsInf(se, 0) {
+		return fmt.Sprintf("%.4g", v)
+	}
+	d := 1 - int(math.Floor(math.Log10(se)))
+	d = max(0, min(d, 12))
+	return fmt.Sprintf("%.*f ± %.*f", d, v, d, se)
+}

@@ -1,0 +1,81 @@
+package main
+
+import (
+	"bytes"
+	"fmt"
+	"io"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"huesolve/reference"
+)
+
+func TestInspect(t *testing.T) {
+	dir, sheet := calCase(t)
+	refs := filepath.Join(dir, "refs.json")
+	if _, e, code := run(t, "calibrate", sheet, "-o", refs); code != exitOK {
+		t.Fatalf("calibrate: exit %d: %s", code, e)
+	}
+	raw, err := os.ReadFile(refs)
+	if err != nil {
+		t.Fatal(err)
+	}
+
+	// A section added by another command file is printed after the summary.
+	saved := inspectSections
+	t.Cleanup(func() { inspectSections = saved })
+	inspectSections = append(inspectSections, func(w io.Writer, set *reference.Set, path string) error {
+		_, err := fmt.Fprintf(w, "extra section: %d compounds in %s\n", len(set.Compounds), filepath.Base(path))
+		return err
+	})
+	out, _, code := run(t, "inspect", refs)
+	if code != exitOK || !strings.Contains(out, "extra section: 2 compounds in refs.json") || strings.Index(out, "extra") < strings.Index(out, "yellow") {
+		t.Errorf("inspect with a section: exit %d\n%s", code, out)
+	}
+	inspectSections = saved
+
+	write := func(name string, b []byte) string {
+		p := filepath.Join(dir, name)
+		if err := os.WriteFile(p, b, 0o644); err != nil {
+			t.Fatal(err)
+		}
+		return p
+	}
+	cases := []struct {
+		name, path, says string
+	}{
+		{"missing", filepath.Join(dir, "none.json"), "none.json"},
+		{"edited", write("edited.json", bytes.Replace(raw, []byte(`"path_cm": 1`), []byte(`"path_cm": 1.5`), 1)), "checksum"},
+		{"truncated", write("cut.json", raw[:len(raw)*2/3]), "ends early"},
+		{"newer", write("new.json", bytes.Replace(raw, []byte(`"schema": 1`), []byte(`"schema": 7`), 1)), "newer"},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			out, errOut, code := run(t, "inspect", c.path)
+			if code != exitFailure || out != "" || !strings.Contains(errOut, c.says) || !strings.Contains(errOut, filepath.Base(c.path)) {
+				t.Errorf("inspect %s: exit %d, stdout %q, stderr %q; want exit 1 naming the file and saying %q", c.name, code, out, errOut, c.says)
+			}
+		})
+	}
+	if _, _, code := run(t, "inspect"); code != exitUsage {
+		t.Errorf("inspect without a file: exit %d, want %d", code, exitUsage)
+	}
+}
+
+func TestPlusMinus(t *testing.T) {
+	for _, c := range []struct {
+		v, se float64
+		want  string
+	}{
+		{0.04001, 5.6e-5, "0.040010 ± 0.000056"},
+		{12.345, 0.21, "12.35 ± 0.21"},
+		{1234.5, 12, "1234 ± 12"},
+		{0.5, 0, "0.5"},
+	} {
+		if got := plusMinus(c.v, c.se); got != c.want {
+			t.Errorf("plusMinus(%g, %g) = %q, want %q", c.v, c.se, got, c.want)
+		}
+	}
+}
