@@ -55,8 +55,9 @@ type Step struct {
 
 // ParseStep reads the command-line form: "zero:LO-HI", "als:LAMBDA,P",
 // "sg:WINDOW,ORDER[,DERIV]". Case and spaces around the parts are
-// ignored. The parameters are checked as by [Step.Check]; errors wrap
-// [ErrStep] and quote the input.
+// ignored. The parameters are checked as by [Step.Check], and a
+// Savitzky-Golay filter must also be one [NewSavitzkyGolay] accepts;
+// errors wrap [ErrStep] and quote the input.
 func ParseStep(s string) (Step, error) {
 	kind, args, ok := strings.Cut(strings.TrimSpace(s), ":")
 	kind = strings.ToLower(strings.TrimSpace(kind))
@@ -115,6 +116,13 @@ func ParseStep(s string) (Step, error) {
 	}
 	if err := st.Check(); err != nil {
 		return Step{}, fmt.Errorf("%w (in %q)", err, s)
+	}
+	if st.Kind == KindSG {
+		// Refuse filters whose weights cannot be used (see
+		// NewSavitzkyGolay) now rather than at the first spectrum.
+		if _, err := NewSavitzkyGolay(st.Window, st.Order, st.Deriv); err != nil {
+			return Step{}, fmt.Errorf("%w (in %q)", err, s)
+		}
 	}
 	return st, nil
 }

@@ -43,6 +43,8 @@ func TestParseStep(t *testing.T) {
 		{in: "sg:7,4,3", err: true},
 		{in: "sg:5,2,1,0", err: true},
 		{in: "sg:5.0,2", err: true},
+		{in: "sg:51,50,1", err: true}, // noise gain near 1e12
+		{in: "sg:51,50", want: Step{Kind: KindSG, Window: 51, Order: 50}, str: "sg:51,50"},
 		{in: "smooth:5,2", err: true},
 	} {
 		t.Run(tc.in, func(t *testing.T) {
