@@ -92,6 +92,15 @@ type Result struct {
 	// Scale is the residual variance s^2 the standard errors were scaled
 	// by: WRSS/DoF, or 1 when Sigma is known and ScaleSE is false.
 	Scale float64
+
+	// Unconstrained holds the ordinary (weighted) least-squares
+	// coefficients with every constraint dropped, and UnconstrainedSE
+	// their standard errors (s^2 from that fit's residual on n - p
+	// degrees of freedom, or 1 when Sigma is known and ScaleSE is false;
+	// NaN when n == p and the noise is estimated). For a coefficient held
+	// at zero they say how far below zero the data would put it. They
+	// equal Coef and SE when nothing is at the bound.
+	Unconstrained, UnconstrainedSE []float64
 }
 
 // Errors.

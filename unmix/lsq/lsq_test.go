@@ -46,6 +46,43 @@ func TestOLSGoesNegative(t *testing.T) {
 	if err := s.Solve(&res, y); err != nil {
 		t.Fatal(err)
 	}
+	// The unconstrained estimate reported beside it is the OLS one, with
+	// the OLS standard error sqrt(s^2 [(X'X)^-1]_jj), with (X'X)^-1 =
+	// R^-1 R^-T from gonum's QR (mat.QR, mat.TriDense.InverseTri).
+	for j := range 3 {
+		if w := ols.AtVec(j); math.Abs(res.Unconstrained[j]-w) > 1e-10*math.Abs(w) {
+			t.Errorf("Unconstrained[%d] = %.15g, want OLS %.15g", j, res.Unconstrained[j], w)
+		}
+	}
+	var qrx mat.QR
+	qrx.Factorize(x)
+	var rd mat.Dense
+	qrx.RTo(&rd)
+	rx := mat.NewTriDense(3, mat.Upper, nil)
+	for i := range 3 {
+		for j := i; j < 3; j++ {
+			rx.SetTri(i, j, rd.At(i, j))
+		}
+	}
+	var rinv mat.TriDense
+	if err := rinv.InverseTri(rx); err != nil {
+		t.Fatal(err)
+	}
+	var inv mat.Dense
+	inv.Mul(&rinv, rinv.T())
+	var fitted mat.VecDense
+	fitted.MulVec(x, &ols)
+	var rssOLS float64
+	for i := range n {
+		d := y[i] - fitted.AtVec(i)
+		rssOLS += d * d
+	}
+	for j := range 3 {
+		w := math.Sqrt(rssOLS / float64(n-3) * inv.At(j, j))
+		if math.Abs(res.UnconstrainedSE[j]-w) > 1e-8*w {
+			t.Errorf("UnconstrainedSE[%d] = %.15g, want %.15g", j, res.UnconstrainedSE[j], w)
+		}
+	}
 	if res.Coef[1] != 0 || !res.AtBound[1] || res.SE[1] != 0 {
 		t.Errorf("NNLS second coefficient %g (at bound %v, SE %g), want exactly 0 at the bound with SE 0",
 			res.Coef[1], res.AtBound[1], res.SE[1])

@@ -37,6 +37,8 @@ func (r *Result) size(n, p int) {
 	r.Lo = fit(r.Lo, p)
 	r.Hi = fit(r.Hi, p)
 	r.Residual = fit(r.Residual, n)
+	r.Unconstrained = fit(r.Unconstrained, p)
+	r.UnconstrainedSE = fit(r.UnconstrainedSE, p)
 	if cap(r.AtBound) >= p {
 		r.AtBound = r.AtBound[:p]
 	} else {
@@ -114,6 +116,9 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 
 	// Residual statistics in one pass.
 	s.stats(dst, y, sumY/float64(n))
+	if math.IsInf(ws.ywss, 0) {
+		return fmt.Errorf("lsq: sum of squares of y overflows: %w", ErrNonFinite)
+	}
 	dst.DoF = n - len(passive)
 
 	// KKT certificate: g = X_s' W^(1/2) (W^(1/2) r), from the original columns.
@@ -134,6 +139,7 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 	dst.Iterations = iter
 
 	s.uncertainty(dst)
+	s.unconstrained(dst)
 
 	switch {
 	case capped:
@@ -270,5 +276,41 @@ func (s *Solver) uncertainty(dst *Result) {
 		dst.SE[j] = se
 		dst.Lo[j] = dst.Coef[j] - q*se
 		dst.Hi[j] = dst.Coef[j] + q*se
+	}
+}
+
+// unconstrained fills Unconstrained and UnconstrainedSE: R b_u = z, and
+// the residual sum of squares of that fit, ||(I - QQ') W^(1/2) y||^2,
+// obtained as WRSS - ||z - R b_s||^2 (the part of the constrained fit's
+// residual that lies in the column space).
+func (s *Solver) unconstrained(dst *Result) {
+	f, ws := s.f, &s.ws
+	p, n := f.p, f.n
+	if len(ws.aidx) == p {
+		copy(dst.Unconstrained, dst.Coef)
+		copy(dst.UnconstrainedSE, dst.SE)
+		return
+	}
+	backSub(ws.bu, f.r, p, ws.z, p)
+	var inCol float64
+	for i := range p {
+		sum := ws.z[i]
+		for j := i; j < p; j++ {
+			sum -= f.r[i*p+j] * ws.bs[j]
+		}
+		inCol += sum * sum
+	}
+	var s2 float64
+	switch {
+	case f.known:
+		s2 = 1
+	case n > p:
+		s2 = math.Max(0, dst.WRSS-inCol) / float64(n-p)
+	default:
+		s2 = math.NaN()
+	}
+	for k, j := range f.perm {
+		dst.Unconstrained[j] = ws.bu[k] / f.d[j]
+		dst.UnconstrainedSE[j] = math.Sqrt(s2*f.rinvRow2[k]) / f.d[j]
 	}
 }

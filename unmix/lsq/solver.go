@@ -90,6 +90,7 @@ type workspace struct {
 	tinv     []float64 // p×p scratch for T^-1
 	d2       []float64 // len p: diag((T'T)^-1) in factor order
 	ywss     float64   // ||W^(1/2) y||^2 of the last solve
+	bu       []float64 // len p: unconstrained scaled coefficients, factor order
 	tq       []float64 // 0.975 quantiles of Student t by degrees of freedom (0: not yet computed)
 }
 
@@ -342,6 +343,7 @@ func (ws *workspace) init(f *factor) {
 	ws.rhs = make([]float64, p)
 	ws.tinv = make([]float64, p*p)
 	ws.d2 = make([]float64, p)
+	ws.bu = make([]float64, p)
 	ws.tq = make([]float64, f.n+1)
 }
 
