@@ -5,6 +5,7 @@ import (
 	"math"
 
 	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/mat"
 )
 
 // GridTolerance bounds the unevenness of a grid that Savitzky-Golay
@@ -70,13 +71,18 @@ func NewSavitzkyGolay(window, order, deriv int) (*SavitzkyGolay, error) {
 	}
 	// q[k], d1[k], d2[k]: values, first and second derivatives in x of
 	// the k-th orthonormal polynomial at the window's points.
-	q := make([][]float64, order+1)
-	d1 := make([][]float64, order+1)
-	d2 := make([][]float64, order+1)
-	for k := range q {
-		q[k] = make([]float64, window)
-		d1[k] = make([]float64, window)
-		d2[k] = make([]float64, window)
+	// Each is a row view into one (order+1) x window matrix.
+	var q, d1, d2 [][]float64
+	var qm, d1m, d2m *mat.Dense
+	for _, p := range []struct {
+		rows *[][]float64
+		m    **mat.Dense
+	}{{&q, &qm}, {&d1, &d1m}, {&d2, &d2m}} {
+		data := make([]float64, (order+1)*window)
+		*p.m = mat.NewDense(order+1, window, data)
+		for k := 0; k <= order; k++ {
+			*p.rows = append(*p.rows, data[k*window:(k+1)*window])
+		}
 	}
 	for i := range q[0] {
 		q[0][i] = 1 / math.Sqrt(float64(window))
@@ -112,15 +118,13 @@ func NewSavitzkyGolay(window, order, deriv int) (*SavitzkyGolay, error) {
 		}
 		beta = next
 	}
-	dv := [][][]float64{q, d1, d2}[deriv]
-	scale := 1 / math.Pow(float64(m), float64(deriv))
+	dv := []*mat.Dense{qm, d1m, d2m}[deriv]
 	f := &SavitzkyGolay{window: window, order: order, deriv: deriv, weights: make([]float64, window*window)}
+	wm := mat.NewDense(window, window, f.weights)
+	wm.Mul(dv.T(), qm)
+	wm.Scale(1/math.Pow(float64(m), float64(deriv)), wm)
 	for t := range window {
-		row := f.weights[t*window : (t+1)*window]
-		for k := 0; k <= order; k++ {
-			floats.AddScaled(row, scale*dv[k][t], q[k])
-		}
-		if g := floats.Norm(row, 2); !(g <= sgMaxNoiseGain) {
+		if g := floats.Norm(wm.RawRowView(t), 2); !(g <= sgMaxNoiseGain) {
 			return nil, fmt.Errorf("%w: Savitzky-Golay: order %d on %d points gives derivative weights that amplify noise %.2g times (limit %g); lower the order or widen the window", ErrStep, order, window, g, float64(sgMaxNoiseGain))
 		}
 	}

@@ -160,7 +160,7 @@ func (s Step) String() string {
 //
 //	zero: LO and HI finite, LO <= HI
 //	als:  LAMBDA finite and > 0, 0 < P < 1
-//	sg:   WINDOW odd and >= 3, 0 <= ORDER < WINDOW, 0 <= DERIV <= min(2, ORDER)
+//	sg:   WINDOW odd, 3..1001, 0 <= ORDER < WINDOW, 0 <= DERIV <= min(2, ORDER)
 //
 // and that the fields the kind does not use are zero. Errors wrap
 // [ErrStep].
@@ -200,12 +200,17 @@ func (s Step) Check() error {
 	return nil
 }
 
+// maxWindow bounds a Savitzky-Golay window. The filter keeps window²
+// weights (8 MB at this size); wider windows have no use on spectra of a
+// few thousand points and would let a typing error exhaust memory.
+const maxWindow = 1001
+
 // checkSG checks Savitzky-Golay parameters; it returns "" if they are
 // valid and a description of the fault otherwise.
 func checkSG(window, order, deriv int) string {
 	switch {
-	case window < 3 || window%2 == 0:
-		return fmt.Sprintf("window %d must be odd and at least 3", window)
+	case window < 3 || window%2 == 0 || window > maxWindow:
+		return fmt.Sprintf("window %d must be odd, from 3 to %d", window, maxWindow)
 	case order < 0 || order >= window:
 		return fmt.Sprintf("order %d must lie in 0..%d (below the window)", order, window-1)
 	case deriv < 0 || deriv > 2:

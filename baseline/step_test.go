@@ -1,6 +1,7 @@
 package baseline
 
 import (
+	"encoding/json"
 	"errors"
 	"math"
 	"testing"
@@ -44,6 +45,8 @@ func TestParseStep(t *testing.T) {
 		{in: "sg:5,2,1,0", err: true},
 		{in: "sg:5.0,2", err: true},
 		{in: "sg:51,50,1", err: true}, // noise gain near 1e12
+		{in: "sg:1003,2", err: true},
+		{in: "sg:99999999999,2", err: true},
 		{in: "sg:51,50", want: Step{Kind: KindSG, Window: 51, Order: 50}, str: "sg:51,50"},
 		{in: "smooth:5,2", err: true},
 	} {
@@ -212,4 +215,29 @@ func FuzzParseModel(f *testing.F) {
 			t.Fatalf("ParseModel(%q) accepted a model Check rejects: %v", s, err)
 		}
 	})
+}
+
+// TestStepJSON: steps survive the JSON of a saved reference set.
+func TestStepJSON(t *testing.T) {
+	in := []Step{
+		{Kind: KindZero, Lo: 700, Hi: 750},
+		{Kind: KindALS, Lambda: 1e5, P: 0.01},
+		{Kind: KindSG, Window: 11, Order: 3, Deriv: 2},
+	}
+	data, err := json.Marshal(in)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var out []Step
+	if err := json.Unmarshal(data, &out); err != nil {
+		t.Fatal(err)
+	}
+	if len(out) != len(in) {
+		t.Fatalf("%s read back as %+v", data, out)
+	}
+	for i := range in {
+		if out[i] != in[i] {
+			t.Errorf("%s: step %d read back as %+v, want %+v", data, i, out[i], in[i])
+		}
+	}
 }
