@@ -340,7 +340,10 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 		}
 		mf, ok := fits[string(key)]
 		if !ok {
-			mf = newMaskFit(fit, keep, j, m, intercept)
+			var err error
+			if mf, err = newMaskFit(fit, keep, j, m, intercept); err != nil {
+				return nil, fmt.Errorf("reference: build: %s: least squares at %g nm: %w", sh.Path, grid[j], err)
+			}
 			fits[string(key)] = mf
 		}
 		if mf.solver == nil {
@@ -483,8 +486,9 @@ type maskFit struct {
 }
 
 // newMaskFit sets up the fit for the rows kept at wavelength j. The solver
-// is nil when the rows cannot determine the coefficients.
-func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) *maskFit {
+// is nil when the rows cannot determine the coefficients (too few rows, or
+// rank deficient once readings above the ceiling are left out).
+func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, error) {
 	mf := &maskFit{}
 	for i := range fit {
 		if keep[i][j] {
@@ -508,7 +512,7 @@ func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) *maskFit {
 		nc++
 	}
 	if len(mf.comps) == 0 || len(mf.rows) <= nc {
-		return mf
+		return mf, nil
 	}
 	x := mat.NewDense(len(mf.rows), nc, nil)
 	for r, i := range mf.rows {
@@ -520,13 +524,16 @@ func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) *maskFit {
 		}
 	}
 	s, err := lsq.NewSolver(x, make([]bool, nc), lsq.Options{})
-	if err != nil {
+	if errors.Is(err, lsq.ErrRankDeficient) {
 		// Rank deficient on this subset of rows: nothing is usable here.
-		return mf
+		return mf, nil
+	}
+	if err != nil {
+		return nil, err
 	}
 	mf.solver = s
 	mf.y = make([]float64, len(mf.rows))
-	return mf
+	return mf, nil
 }
 
 // checkDesign refuses a concentration design (with its intercept column)

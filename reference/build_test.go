@@ -520,3 +520,21 @@ func TestBuildPretreat(t *testing.T) {
 		t.Errorf("pretreat kept as %v", set.Pretreat)
 	}
 }
+
+// BenchmarkBuild times Build on pure-standard designs of three compounds
+// over grids of several sizes.
+func BenchmarkBuild(b *testing.B) {
+	for _, n := range []int{101, 401, 1601} {
+		b.Run(fmt.Sprintf("points=%d", n), func(b *testing.B) {
+			grid := linGrid(400, 400/float64(n-1), n)
+			conc := pureDesign()
+			sh := memSheet(mixNames, grid, conc, synth(conc, trueK(grid), 0.01, 0.001, rand.New(rand.NewPCG(1, 1))))
+			for b.Loop() {
+				if _, err := Build(sh, Options{Now: fixedNow}); err != nil {
+					b.Fatal(err)
+				}
+			}
+			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/float64(n), "ns/wavelength")
+		})
+	}
+}
