@@ -45,9 +45,11 @@ const (
 	// (Belsley, Kuh & Welsch, Regression Diagnostics, Wiley 1980; recalled
 	// from memory). Warn above 100.
 	CondWarn = 100.0
-	// CondRefuse: relative errors in the data are amplified up to Cond
-	// times in the coefficients; at 1e6 an absorbance noise of 1e-4
-	// relative leaves no significant digit (common practice).
+	// CondRefuse: relative errors in the data can be amplified up to
+	// Cond times in the coefficients (first-order perturbation bound);
+	// at 1e6 a relative noise of 1e-4, typical of a good absorbance
+	// reading, may become a relative error of 100 in a coefficient
+	// (common practice).
 	CondRefuse = 1e6
 	// VIFWarn: a variance inflation factor above 10 is the usual rule of
 	// thumb for serious collinearity (common practice; Marquardt 1970,

@@ -62,7 +62,30 @@
 // with q the 0.975 quantile of Student's t on n - |A| degrees of freedom
 // (the standard normal quantile when the noise level is known).
 // Coefficients held at zero are marked AtBound, with SE 0: the
-// linearised covariance says nothing about them.
+// linearised covariance says nothing about them. Beside the constrained
+// fit, Result.Unconstrained and UnconstrainedSE give the ordinary least
+// squares estimate (R b_u = z, at p^2 flops) so that a caller can show how
+// far below zero the data would put a coefficient held at the bound.
+//
+// # Residual diagnostics
+//
+// Each Result carries the residual, its RMS, R^2 about the mean of y, the
+// reduced chi-square against Sigma, the Durbin-Watson statistic
+//
+//	DW = sum_(i=2..n) (e_i - e_(i-1))^2 / sum_i e_i^2,   e_i = r_i / sigma_i,
+//
+// over row order (Durbin & Watson, Biometrika 37, 1950), and the band of
+// [BandWidth] rows with the largest mean squared e_i. [Result.LackOfFit]
+// turns DW and the reduced chi-square into a verdict.
+//
+// # Cost
+//
+// For n rows and p columns, NewSolver costs O(n p^2) (QR) plus O(p^3);
+// each Solve with a fixed design costs about 4 n p flops (Q'y, residual,
+// KKT gradient) plus O(n) for the statistics and O(p^3) for the active
+// set and standard errors. Weights that change from one y to the next
+// (Options.Sigma) are part of the factorisation, so they need a new
+// Solver per y: O(n p^2) per spectrum instead of O(n p).
 //
 // # Conditioning
 //

@@ -15,13 +15,18 @@ const Confidence = 0.95
 // noise level is known.
 var zQuantile = distuv.UnitNormal.Quantile(0.5 + Confidence/2)
 
+// Width of the worst-residual band (common practice for a local
+// lack-of-fit window: a twentieth of a spectrum, at least five points).
+const (
+	BandMinRows  = 5  // fewest rows in the band
+	BandFraction = 20 // the band spans rows/BandFraction rows when that is more
+)
+
 // BandWidth is the number of rows of the sliding window in which
 // Result.WorstLo..WorstHi is the band of largest mean squared weighted
-// residual: max(5, n/20) rows for n rows (a twentieth of a spectrum, at
-// least five points; common practice for a local lack-of-fit window),
-// never more than n.
+// residual: max(BandMinRows, n/BandFraction) for n rows, never more than n.
 func BandWidth(n int) int {
-	return min(n, max(5, n/20))
+	return min(n, max(BandMinRows, n/BandFraction))
 }
 
 // size makes the result's slices fit n rows and p columns.
