@@ -28,9 +28,9 @@ const sgMaxNoiseGain = 1e6
 
 // SavitzkyGolay is a Savitzky-Golay filter (A. Savitzky & M. J. E. Golay,
 // Anal. Chem. 36 (1964) 1627; corrections by J. Steinier, Y. Termonia &
-// J. Deltour, Anal. Chem. 44 (1972) 1906): a polynomial of degree Order
-// fitted by least squares to Window consecutive points, evaluated (or
-// differentiated Deriv times) at the window's centre. The weights are
+// J. Deltour, Anal. Chem. 44 (1972) 1906): a polynomial of degree order
+// fitted by least squares to window consecutive points, evaluated (or
+// differentiated deriv times) at the window's centre. The weights are
 // computed once by NewSavitzkyGolay; a filter may be used for many
 // spectra and by several goroutines at once.
 type SavitzkyGolay struct {
@@ -53,7 +53,8 @@ type SavitzkyGolay struct {
 //
 //	c_t(i) = Σ_(k=0..order) q_k(x_i) q_k^(deriv)(x_t) / m^deriv
 //
-// with the derivatives q_k' and q_k” carried along the same recurrence.
+// with the first and second derivatives of q_k carried along the same
+// recurrence.
 // The basis is orthonormal whatever the window and order, so no normal
 // equations are formed and no ill-conditioned Vandermonde matrix is
 // solved. At orders close to the window the derivative weights themselves
@@ -69,21 +70,13 @@ func NewSavitzkyGolay(window, order, deriv int) (*SavitzkyGolay, error) {
 	for i := range x {
 		x[i] = float64(i-m) / float64(m)
 	}
-	// q[k], d1[k], d2[k]: values, first and second derivatives in x of
-	// the k-th orthonormal polynomial at the window's points.
-	// Each is a row view into one (order+1) x window matrix.
-	var q, d1, d2 [][]float64
-	var qm, d1m, d2m *mat.Dense
-	for _, p := range []struct {
-		rows *[][]float64
-		m    **mat.Dense
-	}{{&q, &qm}, {&d1, &d1m}, {&d2, &d2m}} {
-		data := make([]float64, (order+1)*window)
-		*p.m = mat.NewDense(order+1, window, data)
-		for k := 0; k <= order; k++ {
-			*p.rows = append(*p.rows, data[k*window:(k+1)*window])
-		}
-	}
+	// Row k of qm, d1m, d2m holds the values and the first and second
+	// derivatives in x of the k-th orthonormal polynomial at the window's
+	// points; q, d1, d2 are views of those rows.
+	qm := mat.NewDense(order+1, window, nil)
+	d1m := mat.NewDense(order+1, window, nil)
+	d2m := mat.NewDense(order+1, window, nil)
+	q, d1, d2 := rowViews(qm), rowViews(d1m), rowViews(d2m)
 	for i := range q[0] {
 		q[0][i] = 1 / math.Sqrt(float64(window))
 	}
@@ -131,6 +124,16 @@ func NewSavitzkyGolay(window, order, deriv int) (*SavitzkyGolay, error) {
 	return f, nil
 }
 
+// rowViews returns views of the rows of a.
+func rowViews(a *mat.Dense) [][]float64 {
+	r, _ := a.Dims()
+	rows := make([][]float64, r)
+	for i := range rows {
+		rows[i] = a.RawRowView(i)
+	}
+	return rows
+}
+
 // Window returns the filter's window, order and derivative.
 func (f *SavitzkyGolay) Window() (window, order, deriv int) { return f.window, f.order, f.deriv }
 
@@ -148,7 +151,8 @@ func (f *SavitzkyGolay) WeightsAt(q int) []float64 {
 	return append([]float64(nil), f.weights[(q+m)*f.window:(q+m+1)*f.window]...)
 }
 
-// FilterTo writes the filtered y to dst, which must have len(y). step is
+// FilterTo writes the filtered y to dst, which must have len(y) and must
+// not overlap y. step is
 // the signed spacing of the (even) grid, in the unit the derivative is
 // wanted per; derivatives are divided by step^deriv, and step is not used
 // for smoothing.
@@ -175,13 +179,7 @@ func (f *SavitzkyGolay) FilterTo(dst, y []float64, step float64) error {
 		}
 		scale = 1 / math.Pow(step, float64(f.deriv))
 	}
-	dot := func(row []float64, seg []float64) float64 {
-		var s float64
-		for i, c := range row {
-			s += c * seg[i]
-		}
-		return s * scale
-	}
+	dot := func(row []float64, seg []float64) float64 { return floats.Dot(row, seg) * scale }
 	centre := f.weights[m*w : (m+1)*w]
 	for j := m; j < n-m; j++ {
 		dst[j] = dot(centre, y[j-m:j+m+1])

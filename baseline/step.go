@@ -230,7 +230,9 @@ func checkSG(window, order, deriv int) string {
 // with [ErrEmptyRegion] if no grid point lies in its region; ALS fails with
 // [ErrNoConvergence] if its weights keep changing. Savitzky-Golay
 // derivatives are per nm, with the sign of the grid's direction taken
-// into account. Errors name the step; no partial result is returned.
+// into account. A result that overflows (values near the float64 limit,
+// or a derivative on a grid of absurdly small step) fails with [ErrData].
+// Errors name the step; no partial result is returned.
 func (s Step) Apply(wl, y []float64) ([]float64, error) {
 	if err := s.Check(); err != nil {
 		return nil, err
@@ -250,6 +252,11 @@ func (s Step) Apply(wl, y []float64) ([]float64, error) {
 	}
 	if err != nil {
 		return nil, fmt.Errorf("%s: %w", s, err)
+	}
+	for i, v := range out {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return nil, fmt.Errorf("%s: %w: result overflows at %g nm (point %d)", s, ErrData, wl[i], i)
+		}
 	}
 	return out, nil
 }

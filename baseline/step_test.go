@@ -140,6 +140,11 @@ func TestApplyDataErrors(t *testing.T) {
 			t.Errorf("%s: %v, want ErrData", tc.name, err)
 		}
 	}
+	// Finite input whose second derivative per nm overflows.
+	tiny := []float64{0, 1e-300, 2e-300, 3e-300, 4e-300}
+	if _, err := (Step{Kind: KindSG, Window: 5, Order: 2, Deriv: 2}).Apply(tiny, []float64{1, 0, 1, 0, 1}); !errors.Is(err, ErrData) {
+		t.Errorf("overflowing derivative: %v, want ErrData", err)
+	}
 	als := Step{Kind: KindALS, Lambda: 10, P: 0.01}
 	if _, err := als.Apply([]float64{1, 3, 2, 4}, []float64{1, 2, 3, 4}); !errors.Is(err, ErrData) {
 		t.Errorf("ALS on an unsorted grid: %v, want ErrData", err)
