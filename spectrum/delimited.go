@@ -358,7 +358,7 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 		}
 		name := ""
 		if cellsOK {
-			name = names[j+1]
+			name = strings.Join(strings.Fields(names[j+1]), " ")
 		}
 		if name == "" {
 			if ns == 1 {
@@ -720,9 +720,13 @@ func cellQuantityAndName(cell string) (Quantity, string) {
 	return q, c
 }
 
-// onlyQuantityWords reports whether every word of s is a quantity word.
+// onlyQuantityWords reports whether s has words and all are quantity
+// words.
 func onlyQuantityWords(s string) bool {
 	words, _ := headerWords(s)
+	if len(words) == 0 {
+		return false
+	}
 	for _, w := range words {
 		switch w {
 		case "%t", "t%", "%", "percent", "pct", "transmittance", "transmission", "trans", "t",

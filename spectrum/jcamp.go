@@ -383,7 +383,7 @@ func (j *jcampReader) spectrum() (*Spectrum, error) {
 	}
 	name := ""
 	if rec := j.labels["TITLE"]; rec != nil {
-		name = strings.TrimSpace(strings.SplitN(rec.value, "\n", 2)[0])
+		name = strings.Join(strings.Fields(strings.SplitN(rec.value, "\n", 2)[0]), " ")
 	}
 	s := &Spectrum{
 		Name:        name,

@@ -156,11 +156,10 @@ func WriteJCAMP(w io.Writer, s *Spectrum, opt JCAMPOptions) error {
 	wl := s.Wavelengths
 	first, last := wl[0], wl[n-1]
 	delta := (last - first) / float64(n-1)
-	uniform := true
-	for i, x := range wl {
-		if math.Abs(x-(first+float64(i)*delta)) > gridUniformTol*delta {
+	uniform := delta > 0 && !math.IsInf(delta, 0)
+	for i := 0; uniform && i < n; i++ {
+		if !(math.Abs(wl[i]-(first+float64(i)*delta)) <= gridUniformTol*delta) {
 			uniform = false
-			break
 		}
 	}
 
