@@ -11,6 +11,7 @@ import (
 
 	"gonum.org/v1/plot"
 	"gonum.org/v1/plot/vg"
+	"gonum.org/v1/plot/vg/draw"
 
 	"huesolve/internal/atomicfile"
 )
@@ -46,6 +47,64 @@ func SavePlot(p *plot.Plot, path string, w, h vg.Length) error {
 	}
 	return atomicfile.Write(path, func(out io.Writer) error {
 		_, err := wt.WriteTo(out)
+		return err
+	})
+}
+
+// SaveStacked draws plots one above the other on a w x h figure, each
+// taking a share of the height proportional to its weight, with their
+// data areas aligned left and right so the x axes line up, and writes the
+// figure to path atomically (format from the extension: png, svg or pdf).
+func SaveStacked(path string, w, h vg.Length, plots []*plot.Plot, weights []float64) error {
+	if len(plots) == 0 || len(plots) != len(weights) {
+		return fmt.Errorf("report: plot %s: %d panels with %d weights", path, len(plots), len(weights))
+	}
+	ext := strings.ToLower(strings.TrimPrefix(filepath.Ext(path), "."))
+	switch ext {
+	case "png", "svg", "pdf":
+	default:
+		return fmt.Errorf("report: plot %s: unknown image format %q (want png or svg)", path, ext)
+	}
+	cw, err := draw.NewFormattedCanvas(w, h, ext)
+	if err != nil {
+		return fmt.Errorf("report: plot %s: %w", path, err)
+	}
+	dc := draw.New(cw)
+	pad := 2 * vg.Millimeter
+	total := 0.0
+	for _, wt := range weights {
+		total += wt
+	}
+	area := dc.Rectangle
+	area.Min.X += pad
+	area.Max.X -= pad
+	area.Min.Y += pad
+	area.Max.Y -= pad
+	height := area.Max.Y - area.Min.Y
+	canvases := make([]draw.Canvas, len(plots))
+	top := area.Max.Y
+	var left, right vg.Length
+	for i, p := range plots {
+		hi := vg.Length(weights[i] / total * float64(height))
+		c := draw.Canvas{Canvas: dc.Canvas, Rectangle: vg.Rectangle{
+			Min: vg.Point{X: area.Min.X, Y: top - hi},
+			Max: vg.Point{X: area.Max.X, Y: top},
+		}}
+		top -= hi
+		canvases[i] = c
+		da := p.DataCanvas(c)
+		left = max(left, da.Min.X-c.Min.X)
+		right = max(right, c.Max.X-da.Max.X)
+	}
+	for i, p := range plots {
+		c := canvases[i]
+		da := p.DataCanvas(c)
+		c.Min.X += left - (da.Min.X - c.Min.X)
+		c.Max.X -= right - (c.Max.X - da.Max.X)
+		p.Draw(c)
+	}
+	return atomicfile.Write(path, func(out io.Writer) error {
+		_, err := cw.WriteTo(out)
 		return err
 	})
 }

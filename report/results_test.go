@@ -1,0 +1,259 @@
+package report
+
+import (
+	"bytes"
+	"encoding/csv"
+	"encoding/json"
+	"errors"
+	"image/png"
+	"math"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+	"unicode/utf8"
+
+	"huesolve/unmix"
+)
+
+var testLayout = Layout{Compounds: []string{"amber", "teal"}, Units: []string{"mg/L", "mg/L"}, Baseline: []string{"offset"}}
+
+// testResult is a hand-made result with an undefined Durbin-Watson
+// statistic and awkward characters in its name.
+func testResult(name string) *unmix.Result {
+	r := &unmix.Result{
+		Sample: name, Source: "runs/a.csv column 2",
+		Amounts: []unmix.Amount{
+			{Compound: "amber", Unit: "mg/L", Conc: 4.98820789, SE: 0.0073392, Lo: 4.97378, Hi: 5.00264, LOD: 0.0245, LOQ: 0.0743},
+			{Compound: "teal", Unit: "mg/L", Conc: 0, SE: 0, Lo: 0, Hi: 0.0031, LOD: 0.0157, LOQ: 0.0475, Free: -0.0042, FreeSE: 0.0047,
+				Flags: []unmix.Flag{unmix.FlagZero}},
+		},
+		Baseline: map[string]float64{"offset": 0.0101832},
+		Flags:    []unmix.Flag{unmix.FlagSaturated, unmix.FlagDilute},
+		RMS:      0.0019884, ChiSqRed: 0.96566, DW: math.NaN(), R2: 0.99988, Cond: 3.4799,
+		Points: 380, Dropped: 21, Dilution: 10, PathCM: 1, SuggestDilution: 2.5, ShiftNM: -0,
+	}
+	return r
+}
+
+func TestNum(t *testing.T) {
+	for _, c := range []struct {
+		v    float64
+		want string
+	}{
+		{0, "0"}, {math.Copysign(0, -1), "0"}, {1.23456789, "1.23457"}, {-2e-7, "-2e-07"},
+		{123456789, "1.23457e+08"}, {math.NaN(), "n/a"}, {math.Inf(-1), "n/a"},
+	} {
+		if got := num(c.v); got != c.want {
+			t.Errorf("num(%g) = %q, want %q", c.v, got, c.want)
+		}
+	}
+	for _, c := range []struct {
+		c, se float64
+		want  string
+	}{
+		{4.98820789, 0.0073392, "4.9882 ± 0.0073"}, {123.456, 12.3, "123 ± 12"}, {0, 0, "0"},
+		{0.5, math.NaN(), "0.5"}, {math.Inf(1), 1, "n/a"},
+	} {
+		if got := ConcText(c.c, c.se); got != c.want {
+			t.Errorf("ConcText(%g, %g) = %q, want %q", c.c, c.se, got, c.want)
+		}
+	}
+}
+
+func TestCSVWriter(t *testing.T) {
+	var b bytes.Buffer
+	w := NewCSVWriter(&b, testLayout)
+	for _, n := range []string{"S1", `odd, "name"`} {
+		if err := w.Write(testResult(n)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := w.Fail("x.csv", errors.New("bad")); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(b.String(), "NaN") || strings.Contains(b.String(), "Inf") {
+		t.Errorf("non-finite number written:\n%s", b.String())
+	}
+	recs, err := csv.NewReader(&b).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(recs) != 3 || recs[2][0] != `odd, "name"` {
+		t.Fatalf("records %q", recs)
+	}
+	col := map[string]int{}
+	for i, h := range recs[0] {
+		col[h] = i
+	}
+	for h, want := range map[string]string{
+		"amber_conc": "4.98821", "amber_se": "0.0073392", "teal_flags": "zero", "durbin_watson": "n/a",
+		"baseline_offset": "0.0101832", "flags": "sat dilute", "suggest_dilution": "2.5", "points_dropped": "21", "shift_nm": "0",
+	} {
+		i, ok := col[h]
+		if !ok || recs[1][i] != want {
+			t.Errorf("column %s = %q, want %q", h, recs[1][i], want)
+		}
+	}
+	// An empty run still has a header.
+	b.Reset()
+	if err := NewCSVWriter(&b, testLayout).Close(); err != nil || !strings.HasPrefix(b.String(), "sample,source,amber_conc") {
+		t.Errorf("empty CSV: %q, %v", b.String(), err)
+	}
+}
+
+func TestJSONWriter(t *testing.T) {
+	var b bytes.Buffer
+	w := NewJSONWriter(&b, testLayout)
+	for _, n := range []string{"S1", "tab\there \"q\" <lod> \x01 \xff"} {
+		if err := w.Write(testResult(n)); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := w.Fail("bad.csv", errors.New(`bad.csv:3:2: "x" is not a number`)); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	var doc struct {
+		Format    string
+		Compounds []struct{ Name, Unit string }
+		Samples   []struct {
+			Sample  string
+			Amounts []map[string]any
+			Flags   []string
+			DW      *float64 `json:"durbin_watson"`
+			NA      []string `json:"unavailable"`
+		}
+		Failed []struct{ Source, Error string }
+	}
+	if err := json.Unmarshal(b.Bytes(), &doc); err != nil {
+		t.Fatalf("not JSON: %v\n%s", err, b.String())
+	}
+	if doc.Format != "huesolve-results" || len(doc.Samples) != 2 || len(doc.Failed) != 1 || doc.Compounds[1].Name != "teal" {
+		t.Fatalf("document %+v", doc)
+	}
+	s := doc.Samples[1]
+	if s.Sample != "tab\there \"q\" <lod> \x01 \ufffd" {
+		t.Errorf("name round trip: %q", s.Sample)
+	}
+	if s.DW != nil || len(s.NA) != 1 || s.NA[0] != "durbin_watson" {
+		t.Errorf("undefined DW: %v, unavailable %v", s.DW, s.NA)
+	}
+	if _, ok := s.Amounts[0]["unconstrained"]; ok {
+		t.Error("unconstrained estimate given for a compound not held at zero")
+	}
+	if v := s.Amounts[1]["unconstrained"]; v != -0.0042 {
+		t.Errorf("unconstrained estimate of the held compound = %v", v)
+	}
+	if !utf8.Valid(b.Bytes()) || strings.Contains(b.String(), "NaN") {
+		t.Error("invalid UTF-8 or NaN in output")
+	}
+	// Empty run: still a complete document.
+	b.Reset()
+	if err := NewJSONWriter(&b, testLayout).Close(); err != nil || !json.Valid(b.Bytes()) {
+		t.Errorf("empty JSON %q, %v", b.String(), err)
+	}
+}
+
+func TestTableWriter(t *testing.T) {
+	for _, width := range []int{160, 80, 40} {
+		var b bytes.Buffer
+		w := NewTableWriter(&b, testLayout, width)
+		for _, n := range []string{"S1", "a-rather-long-sample-name-from-the-autosampler-017"} {
+			if err := w.Write(testResult(n)); err != nil {
+				t.Fatal(err)
+			}
+		}
+		if err := w.Fail("x", errors.New("bad")); err != nil {
+			t.Fatal(err)
+		}
+		if err := w.Close(); err != nil {
+			t.Fatal(err)
+		}
+		out := b.String()
+		lines := strings.Split(out, "\n")
+		widest := 0
+		for _, l := range lines {
+			if strings.HasPrefix(l, "  ") { // legend
+				continue
+			}
+			widest = max(widest, utf8.RuneCountInString(l))
+		}
+		if width >= 80 && widest > width {
+			t.Errorf("width %d: table is %d wide:\n%s", width, widest, out)
+		}
+		for _, want := range []string{"4.9882 ± 0.0073", "0 zero", "amber (mg/L)", "dilute 2.5x", "zero ", "held at zero", "1 input(s) could not be solved"} {
+			if !strings.Contains(out, want) {
+				t.Errorf("width %d: %q missing:\n%s", width, want, out)
+			}
+		}
+		if width == 160 && !strings.Contains(out, "DW") {
+			t.Errorf("width 160 dropped the DW column:\n%s", out)
+		}
+		if width == 80 && strings.Contains(out, "DW") {
+			t.Errorf("width 80 kept the DW column:\n%s", out)
+		}
+	}
+}
+
+func TestSamplePlot(t *testing.T) {
+	r := testResult("S/1 ok")
+	if _, _, err := SamplePlots(r, nil); !errors.Is(err, ErrNoCurves) {
+		t.Errorf("no curves: %v", err)
+	}
+	n := 50
+	r.Contributions = make([][]float64, 2)
+	for i := range n {
+		l := 450 + 2*float64(i)
+		a := math.Exp(-0.5 * math.Pow((l-500)/20, 2))
+		b := 0.5 * math.Exp(-0.5*math.Pow((l-530)/15, 2))
+		e := 0.002 * math.Sin(float64(i))
+		r.Grid = append(r.Grid, l)
+		r.Contributions[0] = append(r.Contributions[0], a)
+		r.Contributions[1] = append(r.Contributions[1], b)
+		r.BaselineCurve = append(r.BaselineCurve, 0.01)
+		r.Fitted = append(r.Fitted, a+b+0.01)
+		r.Measured = append(r.Measured, a+b+0.01+e)
+		r.Residual = append(r.Residual, e)
+		r.Noise = append(r.Noise, 0.002)
+	}
+	dir := t.TempDir()
+	for _, f := range []string{"png", "svg"} {
+		path := SamplePlotPath(dir, 7, r.Sample, f)
+		if filepath.Base(path) != "0007-s-1-ok."+f {
+			t.Errorf("plot path %s", path)
+		}
+		if err := SaveSamplePlot(r, testLayout.Compounds, path); err != nil {
+			t.Fatal(err)
+		}
+		data, err := os.ReadFile(path)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if f == "png" {
+			img, err := png.Decode(bytes.NewReader(data))
+			if err != nil {
+				t.Fatal(err)
+			}
+			if b := img.Bounds(); b.Dx() < 400 || b.Dy() < 300 {
+				t.Errorf("png %v", b)
+			}
+		} else if !bytes.Contains(data, []byte("<svg")) || !bytes.Contains(data, []byte("amber")) {
+			t.Errorf("svg lacks the legend")
+		}
+	}
+	if err := SaveSamplePlot(r, nil, filepath.Join(dir, "x.gif")); err == nil {
+		t.Error("gif accepted")
+	}
+	ents, _ := os.ReadDir(dir)
+	for _, e := range ents {
+		if strings.HasPrefix(e.Name(), ".") {
+			t.Errorf("temporary file left: %s", e.Name())
+		}
+	}
+}

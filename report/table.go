@@ -1,0 +1,225 @@
+package report
+
+import (
+	"fmt"
+	"io"
+	"math"
+	"strconv"
+	"strings"
+	"unicode/utf8"
+
+	"github.com/olekukonko/tablewriter"
+	"github.com/olekukonko/tablewriter/tw"
+
+	"huesolve/unmix"
+)
+
+// DefaultWidth is the table width when the terminal's is not known.
+const DefaultWidth = 100
+
+// Sample names are cut to softNameWidth before fit figures are dropped
+// to fit a terminal, and to minNameWidth after.
+const (
+	softNameWidth = 24
+	minNameWidth  = 12
+)
+
+// TableWriter collects results and, on Close, prints a table sized for a
+// terminal of the given width: one row per sample with each compound's
+// concentration +- standard error (digits matched to the error) and its
+// flags, the fit figures that fit (reduced chi-square, RMS residual,
+// Durbin-Watson, dropped first as space runs out), the sample's flags,
+// and a legend of the flags that appear. Rows are kept as text until
+// Close, so for very large batches prefer CSV or JSON.
+type TableWriter struct {
+	w      io.Writer
+	l      Layout
+	width  int
+	rows   [][]string
+	seen   map[unmix.Flag]bool
+	failed int
+}
+
+// NewTableWriter returns a table writer; width 0 means DefaultWidth.
+func NewTableWriter(w io.Writer, l Layout, width int) *TableWriter {
+	if width <= 0 {
+		width = DefaultWidth
+	}
+	return &TableWriter{w: w, l: l, width: width, seen: map[unmix.Flag]bool{}}
+}
+
+// fit-figure columns, in the order they are given up when space runs out
+// (last first).
+var figureCols = []string{"chi2/dof", "RMS", "DW"}
+
+// Write adds a sample's row.
+func (t *TableWriter) Write(r *unmix.Result) error {
+	row := []string{r.Sample}
+	for k, n := range t.l.Compounds {
+		a := amountOf(r, k, n)
+		if a == nil {
+			row = append(row, NA)
+			continue
+		}
+		cell := ConcText(a.Conc, a.SE)
+		if len(a.Flags) > 0 {
+			cell += " " + joinFlags(a.Flags, ",")
+			for _, f := range a.Flags {
+				t.seen[f] = true
+			}
+		}
+		row = append(row, cell)
+	}
+	row = append(row, fixed(r.ChiSqRed, 2), sig(r.RMS, 2), fixed(r.DW, 2))
+	flags := joinFlags(r.Flags, ",")
+	for _, f := range r.Flags {
+		t.seen[f] = true
+	}
+	if r.SuggestDilution > 0 {
+		flags += fmt.Sprintf(" (dilute %sx)", num(r.SuggestDilution))
+	}
+	t.rows = append(t.rows, append(row, flags))
+	return nil
+}
+
+// Fail counts a failed sample; the command reports the reason on stderr.
+func (t *TableWriter) Fail(string, error) error {
+	t.failed++
+	return nil
+}
+
+// Close renders the table and the legend.
+func (t *TableWriter) Close() error {
+	header := []string{"Sample"}
+	for k, n := range t.l.Compounds {
+		if k < len(t.l.Units) && t.l.Units[k] != "" {
+			n += " (" + t.l.Units[k] + ")"
+		}
+		header = append(header, n)
+	}
+	header = append(header, figureCols...)
+	header = append(header, "Flags")
+	nc := len(t.l.Compounds)
+
+	// Columns kept, and the sample column's width, to fit t.width.
+	keep := make([]bool, len(header))
+	for i := range keep {
+		keep[i] = true
+	}
+	widths := make([]int, len(header))
+	for i, h := range header {
+		widths[i] = utf8.RuneCountInString(h)
+	}
+	for _, row := range t.rows {
+		for i, c := range row {
+			widths[i] = max(widths[i], utf8.RuneCountInString(c))
+		}
+	}
+	total := func() int {
+		n := 1
+		for i, w := range widths {
+			if keep[i] {
+				n += w + 3
+			}
+		}
+		return n
+	}
+	// Shorten long sample names first, then give up fit figures, then
+	// shorten names further.
+	shorten := func(least int) {
+		if over := total() - t.width; over > 0 && widths[0] > least {
+			widths[0] = max(least, widths[0]-over)
+		}
+	}
+	shorten(softNameWidth)
+	for drop := len(figureCols) - 1; drop >= 0 && total() > t.width; drop-- {
+		keep[1+nc+drop] = false
+	}
+	shorten(minNameWidth)
+	nameW := widths[0]
+
+	table := tablewriter.NewTable(t.w,
+		tablewriter.WithHeaderAutoFormat(tw.Off),
+		tablewriter.WithRowAutoWrap(tw.WrapNone),
+		tablewriter.WithHeaderAutoWrap(tw.WrapNone),
+		tablewriter.WithTrimSpace(tw.Off),
+	)
+	pick := func(cells []string) []string {
+		out := make([]string, 0, len(cells))
+		for i, c := range cells {
+			if !keep[i] {
+				continue
+			}
+			if i == 0 {
+				c = cut(c, nameW)
+			}
+			out = append(out, c)
+		}
+		return out
+	}
+	table.Header(pick(header))
+	for _, row := range t.rows {
+		if err := table.Append(pick(row)); err != nil {
+			return fmt.Errorf("report: table: %w", err)
+		}
+	}
+	if err := table.Render(); err != nil {
+		return fmt.Errorf("report: table: %w", err)
+	}
+	var b strings.Builder
+	if len(t.seen) > 0 {
+		b.WriteString("Flags (! needs attention):\n")
+		var fs []unmix.Flag
+		for _, f := range unmix.AllFlags() {
+			if t.seen[f] {
+				fs = append(fs, f)
+			}
+		}
+		b.WriteString(unmix.Legend(fs...))
+	}
+	if t.failed > 0 {
+		fmt.Fprintf(&b, "%d input(s) could not be solved; the reasons are on stderr.\n", t.failed)
+	}
+	_, err := io.WriteString(t.w, b.String())
+	return err
+}
+
+// ConcText formats a concentration with its standard error, giving the
+// concentration the decimals of the error's second significant digit:
+// "4.9882 ± 0.0073". A zero or undefined error gives the value alone.
+func ConcText(c, se float64) string {
+	if !finite(c) {
+		return NA
+	}
+	if !(se > 0) || !finite(se) {
+		return num(c)
+	}
+	dec := max(0, 1-int(math.Floor(math.Log10(se))))
+	dec = min(dec, 12)
+	return strconv.FormatFloat(c, 'f', dec, 64) + " ± " + strconv.FormatFloat(se, 'f', dec, 64)
+}
+
+// fixed formats v with d decimals ("n/a" if not finite).
+func fixed(v float64, d int) string {
+	if !finite(v) {
+		return NA
+	}
+	return strconv.FormatFloat(v, 'f', d, 64)
+}
+
+// sig formats v with d significant digits ("n/a" if not finite).
+func sig(v float64, d int) string {
+	if !finite(v) {
+		return NA
+	}
+	return strconv.FormatFloat(v, 'g', d, 64)
+}
+
+// cut shortens s to n runes, ending in "…" when cut.
+func cut(s string, n int) string {
+	if utf8.RuneCountInString(s) <= n {
+		return s
+	}
+	r := []rune(s)
+	return string(r[:n-1]) + "…"
+}
