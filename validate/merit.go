@@ -17,7 +17,7 @@ import (
 // LOD = 3.3 σ/S, LOQ = 10 σ/S).
 const (
 	LODFactor = 3.3
-	LOQFactor = 10
+	LOQFactor = 10.0
 )
 
 // DefaultMinSelectivity is the selectivity below which a compound is

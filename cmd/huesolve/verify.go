@@ -1,0 +1,450 @@
+package main
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+	"strings"
+
+	"github.com/olekukonko/tablewriter"
+	"github.com/spf13/cobra"
+
+	"huesolve/baseline"
+	"huesolve/internal/atomicfile"
+	"huesolve/reference"
+	"huesolve/report"
+	"huesolve/spectrum"
+	"huesolve/unmix"
+	"huesolve/validate"
+)
+
+func init() { commands = append(commands, newVerifyCmd) }
+
+// verifyOptions are the flags of verify.
+type verifyOptions struct {
+	window         string
+	baseline       string
+	weighted       bool
+	blank          string
+	unit           string
+	quantity       string
+	recovery       string
+	maxRSD         float64
+	minSelectivity float64
+	crossval       string
+	crossvalBy     string
+	format         string
+	out            string
+	plots          string
+	plotFormat     string
+}
+
+const verifyLong = `Solve check standards of known composition against a reference set, as if
+they were samples, and judge how well their known concentrations come back.
+
+CHECKS is a standards sheet in the same format as for calibrate: a "scan"
+column, an optional "column" column, and one column per compound of the
+reference set with its known concentration. Each check standard is blank
+corrected (with --blank, or else with the mean of the sheet's blank rows, if
+any), solved with the same model options as solve, and compared:
+
+  recovery   100 × found / known, for each standard holding the compound
+  mean recovery and RSD of the recoveries (sample SD over the mean)
+  bias       mean of found - known over the standards holding it
+  RMSEP      root mean square of found - known over all check standards
+
+A compound passes when its mean recovery lies within --recovery, the RSD of
+its recoveries is at most --max-rsd (judged with two or more standards
+holding it), and, in every check standard that does not hold it, the result
+is at most its quantitation limit (|found| <= LOQ). ICH Q2(R2) sets no fixed
+acceptance numbers; the defaults, 98-102 % and 2 %, are common practice for
+assays of a main component: set them to what your validation plan says.
+
+Before solving, every compound's selectivity is computed for the model's
+window and baseline (net analyte signal); a compound that other compounds or
+the baseline terms can imitate is refused with the reason.
+
+With --crossval SHEET (the calibration standards sheet the set was built
+from), each standard, or with --crossval-by level each composition with its
+replicates, is left out in turn, the reference set rebuilt from the rest
+with the options the set records (grid, path, ceiling, intercept,
+pre-treatment) and the left-out scan solved: RMSECV per compound.
+
+Output: tables on standard output, or --format csv|json; -o FILE writes it
+to a file instead (atomically). --plots DIR writes, per compound, found
+against known with a recovery panel.
+
+Exit codes: 0 every compound passed, 4 some compound failed acceptance,
+1 the checks could not be solved, 2 bad command line.
+
+Caution: results support, but do not replace, a validated analytical method.
+For food, drug, water or other regulated testing follow local regulations,
+the validated procedure and the responsible licensed professional.`
+
+func newVerifyCmd() *cobra.Command {
+	o := &verifyOptions{}
+	cmd := &cobra.Command{
+		Use:   "verify REFSET CHECKS",
+		Short: "Judge recovery of check standards of known composition",
+		Long:  verifyLong,
+		Args:  cobra.ExactArgs(2),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runVerify(cmd, o, args[0], args[1])
+		},
+	}
+	f := cmd.Flags()
+	f.StringVar(&o.window, "window", "", "wavelength window `LO-HI` in nm for the fit (default: the whole reference grid)")
+	f.StringVar(&o.baseline, "baseline", valDefaultBaseline, "baseline `MODEL`: none, offset, linear, quadratic or cubic, optionally +scatter")
+	f.BoolVar(&o.weighted, "weighted", false, "weight wavelengths by the reference set's noise model")
+	f.StringVar(&o.blank, "blank", "", "blank scan `FILE` subtracted from every check standard")
+	f.StringVar(&o.unit, "unit", "", "concentration unit for compounds whose header gives none")
+	f.StringVar(&o.quantity, "quantity", "", "what the scan files hold when they do not say: absorbance, %T or T")
+	f.StringVar(&o.recovery, "recovery", "98-102", "acceptance range of the mean recovery, `LO-HI` in percent")
+	f.Float64Var(&o.maxRSD, "max-rsd", validate.DefaultMaxRSD, "largest acceptable RSD of the recoveries, percent")
+	f.Float64Var(&o.minSelectivity, "min-selectivity", validate.DefaultMinSelectivity, "selectivity below which a compound is refused")
+	f.StringVar(&o.crossval, "crossval", "", "cross-validate the calibration from its standards `SHEET`")
+	f.StringVar(&o.crossvalBy, "crossval-by", "level", "leave out one composition with its replicates (level) or one standard at a time (standard)")
+	f.StringVar(&o.format, "format", "table", "output format: table, csv or json")
+	f.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output")
+	f.StringVar(&o.plots, "plots", "", "write found-vs-known plots into `DIR`")
+	f.StringVar(&o.plotFormat, "plot-format", "png", "plot format: png or svg")
+	return cmd
+}
+
+// verifyReport is what verify writes as JSON.
+type verifyReport struct {
+	Reference string                    `json:"reference_set"`
+	Checks    string                    `json:"checks"`
+	Window    [2]float64                `json:"window_nm"`
+	Baseline  string                    `json:"baseline"`
+	Weighted  bool                      `json:"weighted"`
+	Result    *validate.Verification    `json:"verification"`
+	CrossVal  *validate.CrossValidation `json:"cross_validation,omitempty"`
+}
+
+func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string) error {
+	errw := cmd.ErrOrStderr()
+	warn := func(msg string) { fmt.Fprintln(errw, "huesolve: note:", msg) }
+
+	// Flags.
+	mopt := unmix.Options{Weighted: o.weighted}
+	var err error
+	if o.window != "" {
+		if mopt.WindowLo, mopt.WindowHi, err = calParseWindow(o.window); err != nil {
+			return err
+		}
+	}
+	if mopt.Baseline, err = baseline.ParseModel(o.baseline); err != nil {
+		return usagef("--baseline %q: %v", o.baseline, err)
+	}
+	q, err := spectrum.ParseQuantity(o.quantity)
+	if err != nil {
+		return usagef("--quantity: %v", err)
+	}
+	lim := validate.Limits{MaxRSD: o.maxRSD}
+	if lim.RecoveryLo, lim.RecoveryHi, err = valParsePercentRange(o.recovery); err != nil {
+		return err
+	}
+	if !(o.maxRSD > 0) || o.maxRSD > 100 {
+		return usagef("--max-rsd %g: want a percentage above 0", o.maxRSD)
+	}
+	if !(o.minSelectivity > 0) || o.minSelectivity >= 1 {
+		return usagef("--min-selectivity %g: want a number between 0 and 1", o.minSelectivity)
+	}
+	format, err := valParseFormat(o.format)
+	if err != nil {
+		return err
+	}
+	var byLevel bool
+	switch o.crossvalBy {
+	case "level":
+		byLevel = true
+	case "standard":
+	default:
+		return usagef("--crossval-by %q: want level or standard", o.crossvalBy)
+	}
+	pf := strings.ToLower(o.plotFormat)
+	if pf != "png" && pf != "svg" {
+		return usagef("--plot-format %q: want png or svg", o.plotFormat)
+	}
+
+	// Inputs.
+	set, err := reference.Load(refPath)
+	if err != nil {
+		return err
+	}
+	sh, err := valReadCheckSheet(checksPath, reference.SheetOptions{Unit: o.unit, Quantity: q, Warn: warn})
+	if err != nil {
+		return err
+	}
+	if o.blank != "" {
+		b, _, err := calReadBlank(o.blank, q, warn)
+		if err != nil {
+			return err
+		}
+		mopt.Blank = b
+	}
+	if mopt.Blank == nil && len(sh.Blanks) == 0 {
+		warn("no blank given and no blank rows in " + checksPath + ": check standards are solved as read, so the baseline terms must take up the solvent and cell")
+	}
+
+	// Work.
+	v, err := validate.Verify(set, sh, validate.VerifyOptions{Model: mopt, Limits: lim, MinSelectivity: o.minSelectivity})
+	if err != nil {
+		return err
+	}
+	var cv *validate.CrossValidation
+	if o.crossval != "" {
+		cal, err := reference.ReadSheet(o.crossval, reference.SheetOptions{Unit: o.unit, Quantity: q, Warn: warn})
+		if err != nil {
+			return err
+		}
+		// The calibration sheet's blank rows are the blank it was
+		// built with; without them, the --blank scan serves.
+		bopt := validate.BuildOptionsFor(set)
+		if len(cal.Blanks) == 0 {
+			bopt.Blank = mopt.Blank
+		}
+		cmopt := mopt
+		cmopt.Blank = nil
+		cv, err = validate.CrossValidate(set, cal, validate.CrossValOptions{Build: bopt, Model: cmopt, ByLevel: byLevel})
+		if err != nil {
+			return err
+		}
+		for _, f := range cv.Failed {
+			warn("cross-validation: " + f)
+		}
+	}
+
+	// Output.
+	rep := verifyReport{Reference: refPath, Checks: checksPath, Window: [2]float64{v.Merits.WindowLo, v.Merits.WindowHi},
+		Baseline: v.Merits.Baseline, Weighted: o.weighted, Result: v, CrossVal: cv}
+	write := func(w io.Writer) error {
+		switch format {
+		case "json":
+			enc := json.NewEncoder(w)
+			enc.SetIndent("", "  ")
+			return enc.Encode(rep)
+		case "csv":
+			return writeVerifyCSV(w, v, cv)
+		default:
+			return writeVerifyTable(w, &rep)
+		}
+	}
+	if o.out != "" {
+		if err := atomicfile.Write(o.out, write); err != nil {
+			return err
+		}
+		fmt.Fprintf(errw, "huesolve: verification written to %s\n", o.out)
+	} else if err := write(cmd.OutOrStdout()); err != nil {
+		return err
+	}
+	if o.plots != "" {
+		if err := os.MkdirAll(o.plots, 0o755); err != nil {
+			return fmt.Errorf("plots: %w", err)
+		}
+		files, err := report.WriteVerifyPlots(v, cv, o.plots, pf)
+		if err != nil {
+			return err
+		}
+		fmt.Fprintf(errw, "huesolve: %d plots written to %s\n", len(files), o.plots)
+	}
+	failed := 0
+	for _, c := range v.Compounds {
+		if !c.Pass {
+			failed++
+		}
+	}
+	if failed > 0 {
+		return &exitError{code: exitFlagged, msg: fmt.Sprintf("%d of %d compounds failed acceptance", failed, len(v.Compounds))}
+	}
+	fmt.Fprintf(errw, "huesolve: all %d compounds passed acceptance\n", len(v.Compounds))
+	return nil
+}
+
+// valReadCheckSheet reads a check-standard sheet, explaining the one rule of
+// the standards-sheet reader that does not fit check standards.
+func valReadCheckSheet(path string, opt reference.SheetOptions) (*reference.Sheet, error) {
+	sh, err := reference.ReadSheet(path, opt)
+	if errors.Is(err, reference.ErrNoVariation) {
+		return nil, fmt.Errorf("%w\n(the sheet reader asks every compound to vary, as calibration needs; for check standards add a row for a blank or another level)", err)
+	}
+	return sh, err
+}
+
+// valParsePercentRange reads "LO-HI" in percent.
+func valParsePercentRange(s string) (lo, hi float64, err error) {
+	a, b, ok := strings.Cut(strings.TrimSpace(s), "-")
+	if ok {
+		lo, err = strconv.ParseFloat(strings.TrimSpace(a), 64)
+		if err == nil {
+			hi, err = strconv.ParseFloat(strings.TrimSpace(b), 64)
+		}
+	}
+	if !ok || err != nil || !(lo > 0) || !(hi > lo) || hi > 1e4 {
+		return 0, 0, usagef("--recovery %q: want LO-HI in percent with 0 < LO < HI, e.g. 98-102", s)
+	}
+	return lo, hi, nil
+}
+
+// valParseFormat checks an output format name.
+func valParseFormat(s string) (string, error) {
+	switch f := strings.ToLower(s); f {
+	case "table", "csv", "json":
+		return f, nil
+	}
+	return "", usagef("--format %q: want table, csv or json", s)
+}
+
+// num formats a number for tables.
+func valNum(v float64) string { return strconv.FormatFloat(v, 'g', 5, 64) }
+
+func writeVerifyTable(w io.Writer, rep *verifyReport) error {
+	v := rep.Result
+	fit := "unweighted"
+	if rep.Weighted {
+		fit = "weighted"
+	}
+	fmt.Fprintf(w, "Check standards %s against %s: window %g-%g nm, baseline %s, %s fit, blank: %s\n\n",
+		rep.Checks, rep.Reference, rep.Window[0], rep.Window[1], rep.Baseline, fit, v.Blank)
+	t := tablewriter.NewWriter(w)
+	t.Header("Standard", "Compound", "Known", "Found ± SE", "Recovery (%)", "Within limits")
+	for _, r := range v.Rows {
+		rec, ok := "-", "yes"
+		if r.Recovery != nil {
+			rec = fmt.Sprintf("%.2f", *r.Recovery)
+		}
+		if !r.Pass {
+			ok = "no"
+		}
+		if r.Recovery == nil {
+			ok += " (|found| vs LOQ " + valNum(r.LOQ) + ")"
+		}
+		unit := ""
+		if r.Unit != "" {
+			unit = " " + r.Unit
+		}
+		if err := t.Append([]string{r.Standard, r.Compound, valNum(r.Known) + unit,
+			fmt.Sprintf("%s ± %.2g", valNum(r.Found), r.SE), rec, ok}); err != nil {
+			return fmt.Errorf("verify table: %w", err)
+		}
+	}
+	if err := t.Render(); err != nil {
+		return fmt.Errorf("verify table: %w", err)
+	}
+	fmt.Fprintln(w)
+	t = tablewriter.NewWriter(w)
+	head := []string{"Compound", "Holding/without", "Mean recovery (%)", "RSD (%)", "Bias", "RMSEP"}
+	var rmsecv map[string]float64
+	if rep.CrossVal != nil {
+		head = append(head, "RMSECV")
+		rmsecv = map[string]float64{}
+		for k, n := range rep.CrossVal.Compounds {
+			rmsecv[n] = rep.CrossVal.RMSECV[k]
+		}
+	}
+	head = append(head, "Verdict")
+	t.Header(head)
+	for _, c := range v.Compounds {
+		mean, rsd := "-", "-"
+		if c.Holding > 0 {
+			mean = fmt.Sprintf("%.2f", c.MeanRecovery)
+		}
+		if c.RSDJudged {
+			rsd = fmt.Sprintf("%.2f", c.RSD)
+		}
+		bias := "-"
+		if c.Holding > 0 {
+			bias = valNum(c.Bias)
+		}
+		row := []string{c.Compound, fmt.Sprintf("%d/%d", c.Holding, c.Absent), mean, rsd, bias, valNum(c.RMSEP)}
+		if rmsecv != nil {
+			row = append(row, valNum(rmsecv[c.Compound]))
+		}
+		verdict := "pass"
+		if !c.Pass {
+			verdict = "FAIL: " + strings.Join(c.Why, "; ")
+		}
+		row = append(row, verdict)
+		if err := t.Append(row); err != nil {
+			return fmt.Errorf("verify table: %w", err)
+		}
+	}
+	if err := t.Render(); err != nil {
+		return fmt.Errorf("verify table: %w", err)
+	}
+	fmt.Fprintf(w, "Limits: mean recovery %g-%g %%, RSD <= %g %%, compounds not in a standard found at most at their LOQ.\n",
+		v.Limits.RecoveryLo, v.Limits.RecoveryHi, v.Limits.MaxRSD)
+	if cv := rep.CrossVal; cv != nil {
+		by := "one standard"
+		if cv.ByLevel {
+			by = "one composition (with its replicates)"
+		}
+		fmt.Fprintf(w, "RMSECV: %d folds leaving out %s at a time, %d standards predicted", cv.Folds, by, len(cv.Predictions))
+		if len(cv.Failed) > 0 {
+			fmt.Fprintf(w, ", %d folds failed (see stderr)", len(cv.Failed))
+		}
+		fmt.Fprintln(w, ".")
+	}
+	fmt.Fprintln(w)
+	return valWriteMerits(w, v.Merits)
+}
+
+// writeVerifyCSV writes one row per standard and compound (record
+// "check"), one per compound (record "compound") and, with
+// cross-validation, one per predicted calibration standard and compound
+// (record "crossval").
+func writeVerifyCSV(w io.Writer, v *validate.Verification, cv *validate.CrossValidation) error {
+	cw := csv.NewWriter(w)
+	head := []string{"record", "standard", "compound", "unit", "known", "found", "se", "error", "recovery_pct", "loq",
+		"mean_recovery_pct", "rsd_pct", "bias", "rmsep", "rmsecv", "pass", "why"}
+	if err := cw.Write(head); err != nil {
+		return err
+	}
+	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
+	for _, r := range v.Rows {
+		rec := ""
+		if r.Recovery != nil {
+			rec = f(*r.Recovery)
+		}
+		if err := cw.Write([]string{"check", r.Standard, r.Compound, r.Unit, f(r.Known), f(r.Found), f(r.SE), f(r.Error), rec, f(r.LOQ),
+			"", "", "", "", "", strconv.FormatBool(r.Pass), ""}); err != nil {
+			return err
+		}
+	}
+	rmsecv := map[string]string{}
+	if cv != nil {
+		for k, n := range cv.Compounds {
+			rmsecv[n] = f(cv.RMSECV[k])
+		}
+	}
+	for _, c := range v.Compounds {
+		mean, rsd, bias := "", "", ""
+		if c.Holding > 0 {
+			mean, bias = f(c.MeanRecovery), f(c.Bias)
+		}
+		if c.RSDJudged {
+			rsd = f(c.RSD)
+		}
+		if err := cw.Write([]string{"compound", "", c.Compound, c.Unit, "", "", "", "", "", "",
+			mean, rsd, bias, f(c.RMSEP), rmsecv[c.Compound], strconv.FormatBool(c.Pass), strings.Join(c.Why, "; ")}); err != nil {
+			return err
+		}
+	}
+	if cv != nil {
+		for _, p := range cv.Predictions {
+			for k, n := range cv.Compounds {
+				if err := cw.Write([]string{"crossval", p.Standard, n, cv.Units[k], f(p.Known[k]), f(p.Found[k]), "",
+					f(p.Found[k] - p.Known[k]), "", "", "", "", "", "", "", "", ""}); err != nil {
+					return err
+				}
+			}
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}

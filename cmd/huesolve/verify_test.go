@@ -1,0 +1,247 @@
+package main
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"math"
+	"math/rand/v2"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"huesolve/reference"
+	"huesolve/spectrum"
+)
+
+// valDyes is the invented absorptivity of two test dyes (per mg/L per cm)
+// on grid wl.
+func valDyes(wl []float64) [2][]float64 {
+	var k [2][]float64
+	for j, b := range [][3]float64{{470, 25, 0.040}, {540, 30, 0.030}} {
+		k[j] = make([]float64, len(wl))
+		for i, w := range wl {
+			d := (w - b[0]) / b[1]
+			k[j][i] = b[2] * math.Exp(-d*d/2)
+		}
+	}
+	return k
+}
+
+// valCase writes an invented calibration and check-standard case into a
+// temporary folder: scans of a solvent (A = 0.02) with the two dyes and
+// noise of SD 0.0005 on 400-700 nm; standards.csv (two blanks and each dye
+// alone at five levels), refs.json built from it, and a checks sheet whose
+// declared concentrations are those of the scans times declare (1: true).
+func valCase(t *testing.T, declare float64) (dir, refs, checks string) {
+	t.Helper()
+	dir = t.TempDir()
+	var wl []float64
+	for w := 400.0; w <= 700; w += 2 {
+		wl = append(wl, w)
+	}
+	k := valDyes(wl)
+	rng := rand.New(rand.NewPCG(3, 5))
+	write := func(name string, c0, c1 float64) {
+		v := make([]float64, len(wl))
+		for i := range v {
+			v[i] = 0.02 + c0*k[0][i] + c1*k[1][i] + 0.0005*rng.NormFloat64()
+		}
+		f, err := os.Create(filepath.Join(dir, name))
+		if err != nil {
+			t.Fatal(err)
+		}
+		defer f.Close()
+		s := &spectrum.Spectrum{Name: strings.TrimSuffix(name, ".csv"), Wavelengths: wl, Values: v, Quantity: spectrum.Absorbance}
+		if err := spectrum.WriteDelimited(f, []*spectrum.Spectrum{s}, spectrum.WriteOptions{Comments: []string{"invented test data"}}); err != nil {
+			t.Fatal(err)
+		}
+	}
+	var b strings.Builder
+	b.WriteString("scan,red (mg/L),yellow (mg/L)\n")
+	for i := 1; i <= 2; i++ {
+		name := fmt.Sprintf("blank%d.csv", i)
+		write(name, 0, 0)
+		fmt.Fprintf(&b, "%s,0,0\n", name)
+	}
+	for _, lv := range []float64{2, 4, 6, 8, 10} {
+		for j := range 2 {
+			name := fmt.Sprintf("std-%d-%g.csv", j, lv)
+			c := [2]float64{}
+			c[j] = lv
+			write(name, c[0], c[1])
+			fmt.Fprintf(&b, "%s,%g,%g\n", name, c[0], c[1])
+		}
+	}
+	std := filepath.Join(dir, "standards.csv")
+	if err := os.WriteFile(std, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	sh, err := reference.ReadSheet(std, reference.SheetOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	set, err := reference.Build(sh, reference.Options{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	refs = filepath.Join(dir, "refs.json")
+	if err := set.Save(refs); err != nil {
+		t.Fatal(err)
+	}
+	b.Reset()
+	b.WriteString("scan,red (mg/L),yellow (mg/L)\n")
+	write("chk-blank.csv", 0, 0)
+	b.WriteString("chk-blank.csv,0,0\n")
+	for i, c := range [][2]float64{{5, 5}, {5, 5}, {8, 2}, {0, 6}} {
+		name := fmt.Sprintf("chk-%d.csv", i+1)
+		write(name, c[0], c[1])
+		fmt.Fprintf(&b, "%s,%g,%g\n", name, c[0]*declare, c[1]*declare)
+	}
+	checks = filepath.Join(dir, "checks.csv")
+	if err := os.WriteFile(checks, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return dir, refs, checks
+}
+
+func TestVerifyPasses(t *testing.T) {
+	dir, refs, checks := valCase(t, 1)
+	plots := filepath.Join(dir, "plots")
+	out, errOut, code := run(t, "verify", refs, checks, "--plots", plots)
+	if code != exitOK {
+		t.Fatalf("exit %d, stderr:\n%s\nstdout:\n%s", code, errOut, out)
+	}
+	for _, want := range []string{"chk-1.csv", "red", "yellow", "mean recovery", "pass", "figures of merit", "mean of 1 blank row(s)"} {
+		if !strings.Contains(strings.ToLower(out), want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+	for _, f := range []string{"verify-red.png", "verify-yellow.png"} {
+		if st, err := os.Stat(filepath.Join(plots, f)); err != nil || st.Size() == 0 {
+			t.Errorf("plot %s: %v", f, err)
+		}
+	}
+}
+
+// Declared concentrations 5 % below what was put in the scans give
+// recoveries near 105 %: acceptance fails, exit code 4.
+func TestVerifyFailsExit4(t *testing.T) {
+	_, refs, checks := valCase(t, 0.95)
+	out, errOut, code := run(t, "verify", refs, checks)
+	if code != exitFlagged {
+		t.Fatalf("exit %d, want %d; stderr:\n%s", code, exitFlagged, errOut)
+	}
+	if !strings.Contains(out, "FAIL: mean recovery 10") || !strings.Contains(errOut, "2 of 2 compounds failed acceptance") {
+		t.Errorf("stdout:\n%s\nstderr:\n%s", out, errOut)
+	}
+	// The same with a wide enough recovery range passes.
+	_, errOut, code = run(t, "verify", refs, checks, "--recovery", "95-110", "--max-rsd", "5")
+	if code != exitOK {
+		t.Errorf("with 95-110 %%: exit %d, stderr:\n%s", code, errOut)
+	}
+}
+
+func TestVerifyJSONAndCSV(t *testing.T) {
+	dir, refs, checks := valCase(t, 1)
+	outFile := filepath.Join(dir, "v.json")
+	_, errOut, code := run(t, "verify", refs, checks, "--format", "json", "-o", outFile, "--crossval", filepath.Join(dir, "standards.csv"))
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	raw, err := os.ReadFile(outFile)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var rep struct {
+		Verification struct {
+			Pass      bool
+			Compounds []struct {
+				Compound        string
+				MeanRecoveryPct float64 `json:"mean_recovery_pct"`
+			}
+			Checks []struct{ Standard string }
+		}
+		CrossValidation struct {
+			Folds       int
+			RMSECV      []float64 `json:"rmsecv"`
+			Predictions []struct{ Standard string }
+		} `json:"cross_validation"`
+	}
+	if err := json.Unmarshal(raw, &rep); err != nil {
+		t.Fatalf("%v\n%s", err, raw)
+	}
+	v := rep.Verification
+	if !v.Pass || len(v.Compounds) != 2 || len(v.Checks) != 8 {
+		t.Errorf("pass %v, %d compounds, %d check rows; want true, 2, 8 (4 standards × 2)", v.Pass, len(v.Compounds), len(v.Checks))
+	}
+	for _, c := range v.Compounds {
+		if math.Abs(c.MeanRecoveryPct-100) > 2 {
+			t.Errorf("%s: mean recovery %g %%", c.Compound, c.MeanRecoveryPct)
+		}
+	}
+	cv := rep.CrossValidation
+	if cv.Folds != 10 || len(cv.Predictions) != 10 || len(cv.RMSECV) != 2 {
+		t.Errorf("cross-validation: %d folds, %d predictions, %d RMSECV; want 10, 10, 2", cv.Folds, len(cv.Predictions), len(cv.RMSECV))
+	}
+	for _, r := range cv.RMSECV {
+		// Noise 0.0005 A on bands of 0.03-0.04 A per mg/L: errors of a
+		// few 0.01 mg/L at most.
+		if !(r > 0) || r > 0.1 {
+			t.Errorf("RMSECV %g mg/L, want small and positive", r)
+		}
+	}
+
+	out, errOut, code := run(t, "verify", refs, checks, "--format", "csv")
+	if code != exitOK {
+		t.Fatalf("csv: exit %d: %s", code, errOut)
+	}
+	recs, err := csv.NewReader(strings.NewReader(out)).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(recs) != 1+8+2 || recs[0][0] != "record" || recs[1][0] != "check" || recs[9][0] != "compound" {
+		t.Errorf("csv: %d records:\n%s", len(recs), out)
+	}
+}
+
+func TestVerifyRefusesDuplicateCompound(t *testing.T) {
+	dir, refs, checks := valCase(t, 1)
+	set, err := reference.Load(refs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	set.Compounds[1].Absorptivity = append([]float64(nil), set.Compounds[0].Absorptivity...)
+	dup := filepath.Join(dir, "dup.json")
+	if err := set.Save(dup); err != nil {
+		t.Fatal(err)
+	}
+	_, errOut, code := run(t, "verify", dup, checks)
+	if code != exitFailure || !strings.Contains(errOut, "cannot be quantified") || !strings.Contains(errOut, "copy of") {
+		t.Errorf("exit %d, stderr %q; want exit 1 refusing the copied compound", code, errOut)
+	}
+}
+
+func TestVerifyBadFlags(t *testing.T) {
+	_, refs, checks := valCase(t, 1)
+	for _, args := range [][]string{
+		{"--recovery", "102-98"},
+		{"--recovery", "abc"},
+		{"--max-rsd", "0"},
+		{"--format", "xml"},
+		{"--crossval-by", "day"},
+		{"--baseline", "wiggly"},
+		{"--window", "700-400"},
+		{"--plot-format", "gif"},
+	} {
+		_, errOut, code := run(t, append([]string{"verify", refs, checks}, args...)...)
+		if code != exitUsage {
+			t.Errorf("%v: exit %d, want %d (stderr %q)", args, code, exitUsage, errOut)
+		}
+	}
+	_, errOut, code := run(t, "verify", refs, filepath.Join(t.TempDir(), "missing.csv"))
+	if code != exitFailure || !strings.Contains(errOut, "missing.csv") {
+		t.Errorf("missing sheet: exit %d, stderr %q", code, errOut)
+	}
+}
