@@ -210,7 +210,7 @@ func demoSteps(dir string, sc *demo.Scenario) []demoStep {
 		},
 		{
 			title: "check the method on check standards of known composition",
-			args:  []string{"verify", refs, p(demo.ChecksSheet)},
+			args:  []string{"verify", refs, p(demo.ChecksSheet), "--crossval", p(demo.StandardsSheet)},
 			want:  []int{exitOK, exitFlagged},
 		},
 		{

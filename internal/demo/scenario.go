@@ -132,6 +132,8 @@ type Scenario struct {
 	Grid []float64
 	// Standards are the calibration standards, blanks first.
 	Standards []Scan
+	// Blank is the blank scanned with the production samples.
+	Blank Scan
 	// Checks are the check standards of known composition.
 	Checks []Scan
 	// Samples are the production samples.
@@ -213,7 +215,10 @@ func New() *Scenario {
 			Note: "mixed standard"},
 	)
 
-	// Check standards: independently prepared mixtures, in one wide table.
+	// Check standards: independently prepared mixtures, in one wide table
+	// that starts with a blank scanned in the same run.
+	sc.Checks = append(sc.Checks, Scan{Name: "blank", File: "checks/check-run.csv", Column: "blank",
+		Form: Wide, Conc: conc(), Dilution: 1, PathCM: 1, Note: "uncoloured product base"})
 	for i, c := range [][]float64{
 		conc(10, 5, 5, 1.5), conc(10, 5, 5, 1.5),
 		conc(4, 12, 3, 0), conc(4, 12, 3, 0),
@@ -224,7 +229,10 @@ func New() *Scenario {
 			Form: Wide, Conc: c, Dilution: 1, PathCM: 1})
 	}
 
-	// Production samples.
+	// Production samples, with a blank of the product base scanned in
+	// the same run.
+	sc.Blank = Scan{Name: "blank", File: BlankFile, Conc: conc(), Dilution: 1, PathCM: 1,
+		Note: "uncoloured product base, scanned with the samples"}
 	s := func(name string, form Form, c []float64, trouble Trouble, note string) Scan {
 		file := "samples/" + name + ".csv"
 		switch form {

@@ -20,6 +20,7 @@ const (
 	SampleSheet    = "samples.csv"        // per-sample dilution and path length
 	TruthFile      = "invented-truth.csv" // the concentrations the scenario put in
 	SamplesDir     = "samples"            // production sample scans
+	BlankFile      = "blank.csv"          // blank scanned with the samples
 )
 
 // log10e is 1/ln(10) = 0.4343: absorbance noise per unit of relative
@@ -68,8 +69,8 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	// Scans. Wide tables gather their columns first.
 	wide := map[string][]*Scan{}
 	var wideOrder []string
-	all := make([]*Scan, 0, len(sc.Standards)+len(sc.Checks)+len(sc.Samples))
-	for _, group := range [][]Scan{sc.Standards, sc.Checks, sc.Samples} {
+	all := make([]*Scan, 0, len(sc.Standards)+len(sc.Checks)+len(sc.Samples)+1)
+	for _, group := range [][]Scan{sc.Standards, sc.Checks, {sc.Blank}, sc.Samples} {
 		for i := range group {
 			all = append(all, &group[i])
 		}
@@ -139,9 +140,6 @@ func (sc *Scenario) SampleFiles() []string {
 	return out
 }
 
-// BlankFile returns the relative path of the first blank standard.
-func (sc *Scenario) BlankFile() string { return sc.Standards[0].File }
-
 func num(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 
 func (sc *Scenario) header() string {
@@ -173,7 +171,7 @@ func (sc *Scenario) wideTable(scans []*Scan) []byte {
 	b.WriteString(sc.comment("absorbance scans, one per column"))
 	b.WriteString("wavelength_nm")
 	for i, s := range scans {
-		b.WriteString("," + s.Column)
+		b.WriteString("," + s.Column + " (absorbance)")
 		cols[i] = sc.Measure(s)
 	}
 	b.WriteString("\n")
