@@ -1,0 +1,371 @@
+package main
+
+import (
+	"bufio"
+	"errors"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+	"strings"
+	"sync"
+	"time"
+
+	"github.com/schollz/progressbar/v3"
+	"github.com/spf13/cobra"
+	"golang.org/x/term"
+
+	"huesolve/baseline"
+	"huesolve/internal/atomicfile"
+	"huesolve/reference"
+	"huesolve/report"
+	"huesolve/spectrum"
+	"huesolve/unmix"
+)
+
+func init() { commands = append(commands, newSolveCmd) }
+
+// solveOptions are the flags of solve.
+type solveOptions struct {
+	window     string
+	baseline   string
+	weighted   bool
+	shift      bool
+	maxShift   float64
+	ceiling    float64
+	blank      string
+	dilution   float64
+	pathCM     float64
+	samples    string
+	quantity   string
+	format     string
+	out        string
+	plots      string
+	plotFormat string
+	jobs       int
+}
+
+// solveProgressMin is the number of samples from which solve shows a
+// progress bar (on a terminal only): shorter runs finish before a bar
+// would tell anything.
+const solveProgressMin = 200
+
+const solveLong = `Unmix sample scans into concentrations with a reference set made by
+calibrate.
+
+Each SCAN is a file, a folder (its files, not recursive) or a quoted glob
+pattern; a file may hold one scan or a wide table of many. Every scan is
+converted to absorbance, brought onto the reference grid by linear
+interpolation (never extrapolated: a scan must cover the window), corrected
+by the blank (--blank), given the reference set's pre-treatment, cropped to
+the window, and fitted by non-negative least squares: each compound's
+absorptivity times the path length (concentrations >= 0), plus the baseline
+terms (--baseline).
+
+Points whose absorbance reads above the ceiling (the reference set's, or
+--ceiling) are left out and counted; when more than 5 % are lost the sample
+is flagged "dilute" with a dilution factor that brings its highest band
+below the ceiling. --weighted weights wavelengths by the reference set's
+noise, taken to grow as 10^A above A = 1 where little light reaches the
+detector. --shift estimates a wavelength shift between the instrument that
+made the references and the sample's (up to --max-shift nm; reported in nm,
+positive when the sample's bands lie at longer wavelengths).
+
+Concentrations are in the reference set's units for the original sample:
+the fitted amount times the dilution factor, times the reference path over
+the sample's path. Give them with --dilution and --path-cm for all samples,
+or per sample with --samples SHEET: delimited text with a header row naming
+the columns sample, dilution and/or path_cm; "sample" matches a scan's name
+(its column header in a wide table) or its file name with or without
+extension. Empty cells and samples not in the sheet take the flag values.
+
+For each sample: concentration, standard error and 95 % interval of every
+compound, its detection and quantitation limits (3.3 and 10 times the noise
+over the net analyte signal), the fit figures (RMS residual, reduced
+chi-square against the noise model, Durbin-Watson, R², condition number,
+baseline terms, points used and dropped, shift) and flags:
+
+` + "{{LEGEND}}" + `
+"!" marks flags that count a sample as flagged. Thresholds: reduced
+chi-square above 4 (misfit), Durbin-Watson below 1 (pattern), condition
+number above 30 (illcond), baseline leakage below 0.5 (mimic).
+
+Output: a table on standard output sized for the terminal, or --format csv or
+json; -o FILE writes it to a file, complete or not at all. --plots DIR writes
+one figure per sample: measured and fitted spectra, each compound's part,
+the baseline, and the residual against the expected noise band. A file that
+cannot be read is reported on standard error and skipped; the others go on.
+Results come in the order of the inputs whatever the number of workers (-j).
+A one-line summary goes to standard error.
+
+Exit codes:
+  0  every input read and solved, no sample flagged
+  1  failure: nothing could be solved (bad reference set, options, output)
+  2  bad command line
+  3  some files or samples could not be read or solved (listed on stderr)
+  4  everything was solved, but some samples carry a "!" flag
+  130 interrupted: nothing was written to -o FILE
+
+Caution: results support, but do not replace, a validated analytical method.
+For food, drug, water or other regulated testing follow local regulations,
+the validated procedure and the responsible licensed professional.`
+
+func newSolveCmd() *cobra.Command {
+	o := &solveOptions{}
+	cmd := &cobra.Command{
+		Use:   "solve REFSET SCAN...",
+		Short: "Unmix sample scans into concentrations with uncertainties and flags",
+		Long:  strings.Replace(solveLong, "{{LEGEND}}", strings.TrimRight(unmix.Legend(), "\n"), 1),
+		Args: func(cmd *cobra.Command, args []string) error {
+			if len(args) < 2 {
+				return usagef("solve takes a reference set and at least one scan, got %d arguments", len(args))
+			}
+			return nil
+		},
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runSolve(cmd, o, args[0], args[1:])
+		},
+	}
+	f := cmd.Flags()
+	f.StringVar(&o.window, "window", "", "wavelength window `LO-HI` in nm for the fit (default: the whole reference grid)")
+	f.StringVar(&o.baseline, "baseline", "offset", "baseline `MODEL`: none, offset, linear, quadratic or cubic, optionally +scatter[=POWER]")
+	f.BoolVar(&o.weighted, "weighted", false, "weight wavelengths by the reference set's noise model")
+	f.BoolVar(&o.shift, "shift", false, "estimate a wavelength shift of each sample")
+	f.Float64Var(&o.maxShift, "max-shift", unmix.DefaultMaxShiftNM, "largest shift in nm that --shift may find")
+	f.Float64Var(&o.ceiling, "ceiling", 0, "absorbance above which points are left out (default: the reference set's)")
+	f.StringVar(&o.blank, "blank", "", "blank scan `FILE` subtracted from every sample")
+	f.Float64Var(&o.dilution, "dilution", 1, "dilution factor of every sample (the sample sheet overrides it)")
+	f.Float64Var(&o.pathCM, "path-cm", 0, "cell path length in cm (default: the reference set's; the sample sheet overrides it)")
+	f.StringVar(&o.samples, "samples", "", "sample `SHEET` with columns sample, dilution, path_cm")
+	f.StringVar(&o.quantity, "quantity", "", "what the scan files hold when they do not say: absorbance, %T or T")
+	f.StringVar(&o.format, "format", "table", "output format: table, csv or json")
+	f.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output")
+	f.StringVar(&o.plots, "plots", "", "write one figure per sample into `DIR`")
+	f.StringVar(&o.plotFormat, "plot-format", "png", "figure format: png or svg")
+	f.IntVarP(&o.jobs, "jobs", "j", 0, "number of samples solved in parallel (default: all cores)")
+	return cmd
+}
+
+func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []string) error {
+	errw := &lockedWriter{w: cmd.ErrOrStderr()}
+	warn := func(msg string) { fmt.Fprintln(errw, "huesolve: note:", msg) }
+
+	// Flags.
+	mopt := unmix.Options{Weighted: o.weighted, Shift: o.shift, MaxShiftNM: o.maxShift, Ceiling: o.ceiling}
+	var err error
+	if o.window != "" {
+		if mopt.WindowLo, mopt.WindowHi, err = calParseWindow(o.window); err != nil {
+			return err
+		}
+	}
+	if mopt.Baseline, err = baseline.ParseModel(o.baseline); err != nil {
+		return usagef("--baseline %q: %v", o.baseline, err)
+	}
+	q, err := spectrum.ParseQuantity(o.quantity)
+	if err != nil {
+		return usagef("--quantity: %v", err)
+	}
+	format := strings.ToLower(o.format)
+	if format != report.FormatTable && format != report.FormatCSV && format != report.FormatJSON {
+		return usagef("--format %q: want table, csv or json", o.format)
+	}
+	plotFormat := strings.ToLower(o.plotFormat)
+	if plotFormat != "png" && plotFormat != "svg" {
+		return usagef("--plot-format %q: want png or svg", o.plotFormat)
+	}
+	if !(o.maxShift > 0) || o.maxShift > 50 {
+		return usagef("--max-shift %g: want a number of nm between 0 and 50", o.maxShift)
+	}
+	if !(o.dilution > 0) || o.dilution > 1e9 {
+		return usagef("--dilution %g: want a positive factor", o.dilution)
+	}
+	if o.pathCM < 0 || o.pathCM > 1e3 || o.pathCM != o.pathCM {
+		return usagef("--path-cm %g: want a positive length in cm", o.pathCM)
+	}
+	if o.ceiling < 0 || o.ceiling != o.ceiling {
+		return usagef("--ceiling %g: want a positive absorbance", o.ceiling)
+	}
+	if o.jobs < 0 {
+		return usagef("-j %d: want a positive number of workers", o.jobs)
+	}
+	ropt := spectrum.ReadOptions{Quantity: q, Warn: warn}
+
+	// Reference set, blank, model, sample sheet.
+	set, err := reference.Load(refPath)
+	if err != nil {
+		return err
+	}
+	if o.blank != "" {
+		bs, err := spectrum.ReadFile(o.blank, ropt)
+		if err != nil {
+			return fmt.Errorf("blank: %w", err)
+		}
+		if len(bs) != 1 {
+			return fmt.Errorf("blank %s holds %d scans; give a file with one", o.blank, len(bs))
+		}
+		mopt.Blank = bs[0]
+	}
+	mopt.KeepCurves = o.plots != ""
+	model, err := unmix.NewModel(set, mopt)
+	if err != nil {
+		return err
+	}
+	var sheet *unmix.SampleSheet
+	if o.samples != "" {
+		if sheet, err = unmix.ReadSampleSheet(o.samples); err != nil {
+			return err
+		}
+	}
+	if o.plots != "" {
+		if err := os.MkdirAll(o.plots, 0o755); err != nil {
+			return fmt.Errorf("--plots: %w", err)
+		}
+	}
+
+	var unmatched int
+	var mu sync.Mutex
+	batch := &unmix.Batch{
+		Model:   model,
+		Workers: o.jobs,
+		Read:    ropt,
+		Factors: func(s *spectrum.Spectrum) (unmix.Factors, error) {
+			f, ok := sheet.Lookup(s)
+			if sheet != nil && !ok {
+				mu.Lock()
+				unmatched++
+				mu.Unlock()
+			}
+			if f.Dilution == 0 {
+				f.Dilution = o.dilution
+			}
+			if f.PathCM == 0 {
+				f.PathCM = o.pathCM
+			}
+			return f, nil
+		},
+	}
+	names := model.Compounds()
+	if o.plots != "" {
+		batch.Each = func(seq int, r *unmix.Result) error {
+			return report.SaveSamplePlot(r, names, report.SamplePlotPath(o.plots, seq+1, r.Sample, plotFormat))
+		}
+	}
+	inputs := unmix.ExpandInputs(scans)
+
+	// Progress on a terminal only.
+	var bar *progressbar.ProgressBar
+	if f, ok := cmd.ErrOrStderr().(*os.File); ok && term.IsTerminal(int(f.Fd())) {
+		batch.Progress = func(done, known int) {
+			if bar == nil && known >= solveProgressMin {
+				bar = progressbar.NewOptions(known, progressbar.OptionSetWriter(errw), progressbar.OptionSetDescription("solving"),
+					progressbar.OptionShowCount(), progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
+			}
+			if bar != nil {
+				bar.ChangeMax(known)
+				_ = bar.Set(done)
+			}
+		}
+	}
+
+	layout := report.LayoutOf(model)
+	width := outputWidth(cmd.OutOrStdout(), o.out)
+	var sum unmix.Summary
+	solveAll := func(w io.Writer) error {
+		rw, err := report.NewResultWriter(format, w, layout, width)
+		if err != nil {
+			return err
+		}
+		sum, err = batch.Run(cmd.Context(), inputs, func(out unmix.Outcome) error {
+			if out.Err != nil {
+				what := out.File
+				if out.Result != nil {
+					what = out.Result.Sample + " (" + out.File + ")"
+				}
+				if out.Unread {
+					fmt.Fprintf(errw, "huesolve: skipped %s: %v\n", out.File, out.Err)
+				} else {
+					fmt.Fprintf(errw, "huesolve: %s: %v\n", what, out.Err)
+				}
+				if err := rw.Fail(what, out.Err); err != nil {
+					return err
+				}
+			}
+			if out.Result != nil {
+				return rw.Write(out.Result)
+			}
+			return nil
+		})
+		if bar != nil {
+			_ = bar.Finish()
+		}
+		if err != nil {
+			return err
+		}
+		return rw.Close()
+	}
+	if o.out != "" {
+		err = atomicfile.Write(o.out, solveAll)
+	} else {
+		bw := bufio.NewWriter(cmd.OutOrStdout())
+		err = solveAll(bw)
+		if ferr := bw.Flush(); err == nil {
+			err = ferr
+		}
+	}
+	if errors.Is(err, cmd.Context().Err()) && cmd.Context().Err() != nil {
+		msg := fmt.Sprintf("interrupted after %d of the samples read so far", sum.Emitted)
+		if o.out != "" {
+			msg += "; nothing written to " + o.out
+		} else {
+			msg += "; the output above is incomplete"
+		}
+		return &exitError{code: exitInterrupt, msg: msg}
+	}
+	if err != nil {
+		return err
+	}
+	if unmatched > 0 {
+		warn(fmt.Sprintf("%d sample(s) not in the sample sheet %s took --dilution %g and the default path", unmatched, o.samples, o.dilution))
+	}
+	line := fmt.Sprintf("huesolve: %d sample(s) solved from %d input(s): %d flagged, %d failed, %d input(s) unreadable",
+		sum.Solved, sum.Files, sum.Flagged, sum.Failed, sum.Unreadable)
+	if o.out != "" {
+		line += "; results in " + o.out
+	}
+	fmt.Fprintln(errw, line)
+	switch {
+	case sum.Unreadable > 0 || sum.Failed > 0:
+		return &exitError{code: exitSkipped}
+	case sum.Flagged > 0:
+		return &exitError{code: exitFlagged}
+	}
+	return nil
+}
+
+// outputWidth is the width to size a table for: the terminal's when
+// standard output is one, else $COLUMNS, else report.DefaultWidth.
+func outputWidth(w io.Writer, out string) int {
+	if out == "" {
+		if f, ok := w.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
+			if cols, _, err := term.GetSize(int(f.Fd())); err == nil && cols > 0 {
+				return cols
+			}
+		}
+	}
+	if c, err := strconv.Atoi(os.Getenv("COLUMNS")); err == nil && c > 0 {
+		return c
+	}
+	return report.DefaultWidth
+}
+
+// lockedWriter serialises writes from the batch's goroutines.
+type lockedWriter struct {
+	mu sync.Mutex
+	w  io.Writer
+}
+
+func (l *lockedWriter) Write(p []byte) (int, error) {
+	l.mu.Lock()
+	defer l.mu.Unlock()
+	return l.w.Write(p)
+}
