@@ -327,8 +327,9 @@ func TestJCAMPWriteForms(t *testing.T) {
 		t.Fatal(err)
 	}
 	out := b.String()
-	// 0.5 %T is written as transmittance 0.005 = 5000000 x 1e-9.
-	for _, want := range []string{"##YUNITS=TRANSMITTANCE\n", "##YFACTOR=1e-09\n", "\n400 E000000%U\n403 E000000\n##END="} {
+	// 0.5 %T is written as transmittance 0.005 = 5 x 0.001 (the common
+	// trailing zeros of 5000000 x 1e-9 dropped).
+	for _, want := range []string{"##YUNITS=TRANSMITTANCE\n", "##YFACTOR=0.001\n", "\n400 E%U\n403 E\n##END="} {
 		if !strings.Contains(out, want) {
 			t.Errorf("output lacks %q:\n%s", want, out)
 		}

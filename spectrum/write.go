@@ -203,6 +203,21 @@ func WriteJCAMP(w io.Writer, s *Spectrum, opt JCAMPOptions) error {
 		for i, v := range y {
 			ints[i] = int64(math.Round(v / yf))
 		}
+		// Drop trailing zeros common to every value (data with fewer
+		// digits than jcampDigits): shorter lines, the same numbers.
+		if m > 0 {
+			e := int(math.Floor(math.Log10(m))) - (jcampDigits - 1)
+			k := 0
+			for k < jcampDigits-1 && allDivisible(ints, 10) {
+				for i := range ints {
+					ints[i] /= 10
+				}
+				k++
+			}
+			if k > 0 {
+				yf, _ = strconv.ParseFloat(g(math.Pow(10, float64(e+k))), 64)
+			}
+		}
 	}
 	firsty := y[0]
 	if opt.Compressed {
@@ -217,6 +232,16 @@ func WriteJCAMP(w io.Writer, s *Spectrum, opt JCAMPOptions) error {
 	}
 	bw.WriteString("##END=\n")
 	return bw.Flush()
+}
+
+// allDivisible reports whether every element of v is a multiple of d.
+func allDivisible(v []int64, d int64) bool {
+	for _, x := range v {
+		if x%d != 0 {
+			return false
+		}
+	}
+	return true
 }
 
 func oneLine(s, def string) string {

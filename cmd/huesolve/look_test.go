@@ -1,0 +1,66 @@
+package main
+
+import (
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+const spectraDir = "../../testdata/spectra"
+
+func TestLookTable(t *testing.T) {
+	wide := filepath.Join(spectraDir, "same-wide.tsv")
+	jdx := filepath.Join(spectraDir, "same-scan.jdx")
+	out, errOut, code := run(t, "look", wide, jdx)
+	if code != exitOK || errOut != "" {
+		t.Fatalf("look: code %d, stderr %q", code, errOut)
+	}
+	for _, want := range []string{
+		wide + ": 3 spectra", jdx + ": 1 spectrum",
+		"spectrum", "range nm", "step nm",
+		"mix B", "41", "400-600", "absorbance",
+		"same scan",
+		"0.6602", // largest value of the scan in testdata/spectra/same-scan.csv
+	} {
+		if !strings.Contains(out, want) {
+			t.Errorf("look output lacks %q:\n%s", want, out)
+		}
+	}
+}
+
+func TestLookPlain(t *testing.T) {
+	f := filepath.Join(spectraDir, "same-scan.csv")
+	out, _, code := run(t, "look", "--plain", f)
+	want := f + "\tsame-scan\t41\t400-600\t5\tabsorbance\t0.01\t0.6602\n"
+	if code != exitOK || out != want {
+		t.Errorf("look --plain = %q (code %d), want %q", out, code, want)
+	}
+}
+
+func TestLookWarnsAndSkips(t *testing.T) {
+	bad := filepath.Join(spectraDir, "bad", "ragged.csv")
+	good := filepath.Join(spectraDir, "bad", "zero-percent-t.csv")
+	out, errOut, code := run(t, "look", "--plain", bad, good)
+	if code != exitSkipped {
+		t.Errorf("exit code %d, want %d", code, exitSkipped)
+	}
+	if !strings.Contains(errOut, bad+":4:3: ragged row") || !strings.Contains(errOut, "1 of 2 files could not be read") {
+		t.Errorf("stderr %q", errOut)
+	}
+	if !strings.Contains(out, "%T") {
+		t.Errorf("stdout %q", out)
+	}
+	// --quantity on a file that does not say: no "does not say" warning.
+	_, errOut, _ = run(t, "look", filepath.Join(spectraDir, "same-scan.csv"), "--quantity", "T")
+	if !strings.Contains(errOut, "another quantity") {
+		t.Errorf("--quantity over a header word: stderr %q", errOut)
+	}
+	_, _, code = run(t, "look", "--quantity", "ppm", good)
+	if code != exitUsage {
+		t.Errorf("bad --quantity: code %d", code)
+	}
+	_, errOut, code = run(t, "look", spectraDir)
+	if code != exitFailure || !strings.Contains(errOut, "is a directory") {
+		t.Errorf("directory: code %d, stderr %q", code, errOut)
+	}
+}
