@@ -6,6 +6,7 @@ import (
 	"strings"
 
 	"github.com/olekukonko/tablewriter"
+	"github.com/olekukonko/tablewriter/tw"
 
 	"huesolve/baseline"
 	"huesolve/reference"
@@ -46,7 +47,7 @@ func valWriteMerits(w io.Writer, m *validate.Merits) error {
 	fmt.Fprintf(w, "Figures of merit (net analyte signal) over %g-%g nm (%d points), baseline %s, %s,\n",
 		m.WindowLo, m.WindowHi, m.Points, m.Baseline, fit)
 	fmt.Fprintf(w, "path %g cm, noise %.2g A (RMS), condition number %s:\n\n", m.PathCM, m.Sigma, valCondText(m.Cond, m.Singular))
-	t := tablewriter.NewWriter(w)
+	t := valTable(w)
 	t.Header("Compound", "Sensitivity (A per unit)", "Selectivity", "LOD", "LOQ", "Quantifiable")
 	for _, c := range m.Compounds {
 		unit := c.Unit
@@ -76,6 +77,11 @@ func valWriteMerits(w io.Writer, m *validate.Merits) error {
 		fmt.Fprintf(w, "Not quantifiable in this design:\n%s\n", strings.Join(refused, "\n"))
 	}
 	return nil
+}
+
+// valTable is a table whose headers are printed as written.
+func valTable(w io.Writer) *tablewriter.Table {
+	return tablewriter.NewTable(w, tablewriter.WithHeaderAutoFormat(tw.Off))
 }
 
 // valCondText prints a condition number, or says the design is singular.

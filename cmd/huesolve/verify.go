@@ -10,7 +10,6 @@ import (
 	"strconv"
 	"strings"
 
-	"github.com/olekukonko/tablewriter"
 	"github.com/spf13/cobra"
 
 	"huesolve/baseline"
@@ -311,7 +310,7 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 	}
 	fmt.Fprintf(w, "Check standards %s against %s: window %g-%g nm, baseline %s, %s fit, blank: %s\n\n",
 		rep.Checks, rep.Reference, rep.Window[0], rep.Window[1], rep.Baseline, fit, v.Blank)
-	t := tablewriter.NewWriter(w)
+	t := valTable(w)
 	t.Header("Standard", "Compound", "Known", "Found ± SE", "Recovery (%)", "Within limits")
 	for _, r := range v.Rows {
 		rec, ok := "-", "yes"
@@ -337,7 +336,7 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 		return fmt.Errorf("verify table: %w", err)
 	}
 	fmt.Fprintln(w)
-	t = tablewriter.NewWriter(w)
+	t = valTable(w)
 	head := []string{"Compound", "Holding/without", "Mean recovery (%)", "RSD (%)", "Bias", "RMSEP"}
 	var rmsecv map[string]float64
 	if rep.CrossVal != nil {

@@ -1,0 +1,371 @@
+package main
+
+import (
+	"encoding/csv"
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+	"strings"
+	"time"
+
+	"github.com/spf13/cobra"
+
+	"huesolve/baseline"
+	"huesolve/internal/atomicfile"
+	"huesolve/reference"
+	"huesolve/report"
+	"huesolve/validate"
+)
+
+func init() { commands = append(commands, newWindowCmd) }
+
+// windowOptions are the flags of window.
+type windowOptions struct {
+	baseline   string
+	weighted   bool
+	searchIn   string
+	step       float64
+	minWidth   float64
+	maxWidth   float64
+	levels     []string
+	equivalent float64
+	noise      float64
+	pathCM     float64
+	top        int
+	format     string
+	out        string
+	plots      string
+	plotFormat string
+}
+
+const windowLong = `Advise on the wavelength window for solving samples against a reference set.
+
+Every window whose edges lie on a grid of --step nm over the usable range
+(or --search LO-HI) and that is at least --min-width nm wide is tried. For
+each, the design of the fit is formed (each compound's absorptivity × path,
+plus the --baseline terms) and huesolve reports its condition number and
+each compound's predicted standard error, from the reference set's noise
+model as solve uses it (noise growing as 10^A above A = 1) at a sample
+holding every compound at its --level (default: the middle of its
+calibrated range). No sample is needed: the prediction comes from the
+design alone, by one small singular value decomposition per window.
+
+The recommended window is the one whose worst compound's predicted error,
+relative to its level, is smallest; among windows within --equivalent
+percent of that smallest error the best conditioned one is taken, since a
+band that only makes compounds harder to tell apart buys no real precision
+and amplifies model errors (a small shift, a baseline the terms cannot
+follow). Wavelengths where the expected absorbance passes the set's ceiling
+are left out, as solve would.
+
+With a correct noise model and weights (--weighted), adding wavelengths
+never raises the predicted error, so the advice then mostly weighs
+conditioning and saturation; in the unweighted fit (solve's default),
+strongly absorbing, noisy regions can cost precision.
+
+Output: the best windows as a table with the figures of merit of the
+recommended window, or --format csv (every window tried) or json; -o FILE
+writes to a file (atomically). --plots DIR writes the worst predicted error
+and the condition number against window start, one line per width.
+
+Caution: results support, but do not replace, a validated analytical method.
+For food, drug, water or other regulated testing follow local regulations,
+the validated procedure and the responsible licensed professional.`
+
+func newWindowCmd() *cobra.Command {
+	o := &windowOptions{}
+	cmd := &cobra.Command{
+		Use:   "window REFSET",
+		Short: "Advise on the wavelength window from predicted errors and conditioning",
+		Long:  windowLong,
+		Args:  cobra.ExactArgs(1),
+		RunE: func(cmd *cobra.Command, args []string) error {
+			return runWindow(cmd, o, args[0])
+		},
+	}
+	f := cmd.Flags()
+	f.StringVar(&o.baseline, "baseline", valDefaultBaseline, "baseline `MODEL`: none, offset, linear, quadratic or cubic, optionally +scatter")
+	f.BoolVar(&o.weighted, "weighted", false, "predict errors for a fit weighted by the noise model")
+	f.StringVar(&o.searchIn, "search", "", "search windows only within `LO-HI` nm (default: the whole usable grid)")
+	f.Float64Var(&o.step, "step", validate.DefaultStepNM, "spacing of window edges, nm")
+	f.Float64Var(&o.minWidth, "min-width", validate.DefaultMinWidthNM, "narrowest window, nm")
+	f.Float64Var(&o.maxWidth, "max-width", 0, "widest window, nm (0: no limit)")
+	f.StringArrayVar(&o.levels, "level", nil, "concentration `NAME=C` at which a compound's error is judged, repeatable (default: middle of its calibrated range)")
+	f.Float64Var(&o.equivalent, "equivalent", 100*validate.DefaultEquivalent, "predicted errors within this many percent of the best count as equal (0: take the strict minimum)")
+	f.Float64Var(&o.noise, "noise", 0, "noise SD of a reading in absorbance, replacing the set's noise model (0: use the set's)")
+	f.Float64Var(&o.pathCM, "path-cm", 0, "sample path length, cm (0: the reference set's)")
+	f.IntVar(&o.top, "top", 10, "number of windows in the table")
+	f.StringVar(&o.format, "format", "table", "output format: table, csv or json")
+	f.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output")
+	f.StringVar(&o.plots, "plots", "", "write plots of predicted error and condition number into `DIR`")
+	f.StringVar(&o.plotFormat, "plot-format", "png", "plot format: png or svg")
+	return cmd
+}
+
+// windowReport is what window writes as JSON.
+type windowReport struct {
+	Reference   string                 `json:"reference_set"`
+	Recommended [2]float64             `json:"recommended_nm"`
+	Advice      *validate.WindowAdvice `json:"advice"`
+	Merits      *validate.Merits       `json:"figures_of_merit"`
+}
+
+func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
+	errw := cmd.ErrOrStderr()
+	opt := validate.WindowOptions{
+		Weighted: o.weighted, StepNM: o.step, MinWidthNM: o.minWidth, MaxWidthNM: o.maxWidth,
+		Sigma: o.noise, PathCM: o.pathCM,
+	}
+	var err error
+	if opt.Baseline, err = baseline.ParseModel(o.baseline); err != nil {
+		return usagef("--baseline %q: %v", o.baseline, err)
+	}
+	if o.searchIn != "" {
+		if opt.Lo, opt.Hi, err = winParseRange(o.searchIn); err != nil {
+			return err
+		}
+	}
+	switch {
+	case !(o.step > 0) || o.step > 1e4:
+		return usagef("--step %g: want a positive number of nm", o.step)
+	case !(o.minWidth > 0) || o.minWidth > 1e5:
+		return usagef("--min-width %g: want a positive number of nm", o.minWidth)
+	case !(o.maxWidth >= 0) || (o.maxWidth > 0 && o.maxWidth < o.minWidth):
+		return usagef("--max-width %g: want 0 or at least --min-width (%g)", o.maxWidth, o.minWidth)
+	case !(o.equivalent >= 0) || o.equivalent > 1000:
+		return usagef("--equivalent %g: want a percentage, 0 or more", o.equivalent)
+	case !(o.noise >= 0) || o.noise > 10:
+		return usagef("--noise %g: want an absorbance SD, 0 or more", o.noise)
+	case !(o.pathCM >= 0) || o.pathCM > 1e3:
+		return usagef("--path-cm %g: want a path length in cm", o.pathCM)
+	case o.top < 1:
+		return usagef("--top %d: want at least 1", o.top)
+	}
+	opt.Equivalent = o.equivalent / 100
+	if o.equivalent == 0 {
+		opt.Equivalent = -1
+	}
+	format, err := valParseFormat(o.format)
+	if err != nil {
+		return err
+	}
+	pf := strings.ToLower(o.plotFormat)
+	if pf != "png" && pf != "svg" {
+		return usagef("--plot-format %q: want png or svg", o.plotFormat)
+	}
+
+	set, err := reference.Load(refPath)
+	if err != nil {
+		return err
+	}
+	if len(o.levels) > 0 {
+		if opt.Levels, err = winLevels(set, o.levels); err != nil {
+			return err
+		}
+	}
+	start := time.Now()
+	adv, err := validate.AdviseWindow(set, opt)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(errw, "huesolve: %d windows tried in %.2f s\n", len(adv.Candidates), time.Since(start).Seconds())
+	best := adv.Candidates[adv.Best]
+	merits, err := validate.FiguresOfMerit(set, validate.MeritOptions{
+		WindowLo: best.Lo, WindowHi: best.Hi, Baseline: opt.Baseline, PathCM: o.pathCM,
+		Sigma: o.noise, Weighted: o.weighted,
+	})
+	if err != nil {
+		return err
+	}
+	rep := windowReport{Reference: refPath, Recommended: [2]float64{best.Lo, best.Hi}, Advice: adv, Merits: merits}
+	write := func(w io.Writer) error {
+		switch format {
+		case "json":
+			enc := json.NewEncoder(w)
+			enc.SetIndent("", "  ")
+			return enc.Encode(rep)
+		case "csv":
+			return writeWindowCSV(w, adv)
+		default:
+			return writeWindowTable(w, &rep, o.top)
+		}
+	}
+	if o.out != "" {
+		if err := atomicfile.Write(o.out, write); err != nil {
+			return err
+		}
+		fmt.Fprintf(errw, "huesolve: window advice written to %s\n", o.out)
+	} else if err := write(cmd.OutOrStdout()); err != nil {
+		return err
+	}
+	if o.plots != "" {
+		if err := os.MkdirAll(o.plots, 0o755); err != nil {
+			return fmt.Errorf("plots: %w", err)
+		}
+		files, err := report.WriteWindowPlots(adv, o.plots, pf)
+		if err != nil {
+			return err
+		}
+		fmt.Fprintf(errw, "huesolve: %d plots written to %s\n", len(files), o.plots)
+	}
+	fmt.Fprintf(errw, "huesolve: recommended window %g-%g nm (give --window %g-%g to solve and verify)\n", best.Lo, best.Hi, best.Lo, best.Hi)
+	return nil
+}
+
+// winParseRange reads the --search range "LO-HI" in nm.
+func winParseRange(s string) (lo, hi float64, err error) {
+	a, b, ok := strings.Cut(strings.TrimSpace(s), "-")
+	if ok {
+		lo, err = strconv.ParseFloat(strings.TrimSpace(a), 64)
+		if err == nil {
+			hi, err = strconv.ParseFloat(strings.TrimSpace(b), 64)
+		}
+	}
+	if !ok || err != nil || !(lo > 0) || !(hi > lo) || hi > 1e6 {
+		return 0, 0, usagef("--search %q: want LO-HI in nm with 0 < LO < HI, e.g. 400-700", s)
+	}
+	return lo, hi, nil
+}
+
+// winLevels reads NAME=C flags into one level per compound of set (0 for
+// compounds not named).
+func winLevels(set *reference.Set, flags []string) ([]float64, error) {
+	lv := make([]float64, len(set.Compounds))
+	for _, f := range flags {
+		name, val, ok := strings.Cut(f, "=")
+		c, err := strconv.ParseFloat(strings.TrimSpace(val), 64)
+		if !ok || err != nil || !(c > 0) || c > 1e12 {
+			return nil, usagef("--level %q: want NAME=CONCENTRATION with a positive concentration", f)
+		}
+		k := -1
+		for i, cmp := range set.Compounds {
+			if strings.EqualFold(cmp.Name, strings.TrimSpace(name)) {
+				k = i
+			}
+		}
+		if k < 0 {
+			var names []string
+			for _, cmp := range set.Compounds {
+				names = append(names, cmp.Name)
+			}
+			return nil, usagef("--level %q: the reference set has no compound %q (it has %s)", f, name, strings.Join(names, ", "))
+		}
+		lv[k] = c
+	}
+	return lv, nil
+}
+
+func writeWindowTable(w io.Writer, rep *windowReport, top int) error {
+	adv := rep.Advice
+	fit := "unweighted fit"
+	if adv.Weighted {
+		fit = "weighted fit"
+	}
+	var lv []string
+	for k, n := range adv.Compounds {
+		lv = append(lv, strings.TrimSpace(fmt.Sprintf("%s %s %s", n, valNum(adv.Levels[k]), adv.Units[k])))
+	}
+	maxW := ""
+	if adv.MaxWidthNM > 0 {
+		maxW = fmt.Sprintf(" and at most %g nm", adv.MaxWidthNM)
+	}
+	fmt.Fprintf(w, "Windows of %s: edges every %g nm, %g nm wide or more%s; baseline %s, %s;\n",
+		rep.Reference, adv.StepNM, adv.MinWidthNM, maxW, adv.Baseline, fit)
+	fmt.Fprintf(w, "errors judged at %s. %d windows tried, %d tell every compound apart.\n\n",
+		strings.Join(lv, ", "), len(adv.Candidates), len(adv.Ranked))
+	best := adv.Candidates[adv.Best]
+	fmt.Fprintf(w, "Recommended: %g-%g nm (%d points), worst predicted error %.3g %% (%s), condition number %.3g.\n",
+		best.Lo, best.Hi, best.Points, 100*best.Worst, best.WorstCompound, best.Cond)
+	if adv.Best != adv.Ranked[0] {
+		b0 := adv.Candidates[adv.Ranked[0]]
+		fmt.Fprintf(w, "(%g-%g nm has the smallest worst error, %.3g %%, but is within %g %% of it with condition number %.3g.)\n",
+			b0.Lo, b0.Hi, 100*b0.Worst, 100*adv.Equivalent, b0.Cond)
+	}
+	fmt.Fprintln(w)
+
+	t := valTable(w)
+	head := []string{"", "Window (nm)", "Points", "Cond", "Worst SE (%)"}
+	for k, n := range adv.Compounds {
+		head = append(head, "SE "+n+unitSuffix(adv.Units[k]))
+	}
+	t.Header(head)
+	rows := []int{adv.Best}
+	for _, i := range adv.Ranked {
+		if len(rows) >= top {
+			break
+		}
+		if i != adv.Best {
+			rows = append(rows, i)
+		}
+	}
+	for _, i := range rows {
+		c := adv.Candidates[i]
+		mark := ""
+		if i == adv.Best {
+			mark = "best"
+		}
+		row := []string{mark, fmt.Sprintf("%g-%g", c.Lo, c.Hi), strconv.Itoa(c.Points), fmt.Sprintf("%.3g", c.Cond),
+			fmt.Sprintf("%.3g (%s)", 100*c.Worst, c.WorstCompound)}
+		for _, se := range c.SE {
+			row = append(row, fmt.Sprintf("%.3g", se))
+		}
+		if err := t.Append(row); err != nil {
+			return fmt.Errorf("window table: %w", err)
+		}
+	}
+	if err := t.Render(); err != nil {
+		return fmt.Errorf("window table: %w", err)
+	}
+	fmt.Fprintln(w, "Worst SE: the largest predicted standard error relative to its compound's level.")
+	fmt.Fprintln(w)
+	return valWriteMerits(w, rep.Merits)
+}
+
+func unitSuffix(u string) string {
+	if u == "" {
+		return ""
+	}
+	return " (" + u + ")"
+}
+
+// writeWindowCSV writes one row per window tried.
+func writeWindowCSV(w io.Writer, adv *validate.WindowAdvice) error {
+	cw := csv.NewWriter(w)
+	head := []string{"lo_nm", "hi_nm", "points", "dropped", "condition_number", "singular", "worst_relative_se", "worst_compound"}
+	for _, n := range adv.Compounds {
+		head = append(head, "se_"+n)
+	}
+	for _, n := range adv.Compounds {
+		head = append(head, "relative_se_"+n)
+	}
+	head = append(head, "recommended")
+	if err := cw.Write(head); err != nil {
+		return err
+	}
+	f := func(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
+	for i, c := range adv.Candidates {
+		row := []string{f(c.Lo), f(c.Hi), strconv.Itoa(c.Points), strconv.Itoa(c.Dropped), f(c.Cond), strconv.FormatBool(c.Singular)}
+		if c.Singular {
+			row = append(row, "", "")
+			for range 2 * len(adv.Compounds) {
+				row = append(row, "")
+			}
+		} else {
+			row = append(row, f(c.Worst), c.WorstCompound)
+			for _, v := range c.SE {
+				row = append(row, f(v))
+			}
+			for _, v := range c.RelSE {
+				row = append(row, f(v))
+			}
+		}
+		row = append(row, strconv.FormatBool(i == adv.Best))
+		if err := cw.Write(row); err != nil {
+			return err
+		}
+	}
+	cw.Flush()
+	return cw.Error()
+}
