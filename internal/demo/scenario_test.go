@@ -6,6 +6,8 @@ import (
 	"os"
 	"path/filepath"
 	"testing"
+
+	"huesolve/spectrum"
 )
 
 func TestWriteIsDeterministic(t *testing.T) {
@@ -158,6 +160,54 @@ func TestScenarioShape(t *testing.T) {
 	for _, tr := range []Trouble{Normal, NearLimit, TooStrong, Turbid, UnlistedDye} {
 		if !seen[tr] {
 			t.Errorf("no sample with trouble %q", tr)
+		}
+	}
+}
+
+// TestFilesReadBack reads every scan the scenario wrote with the spectrum
+// readers and compares it with the model's readings, within the rounding
+// of the written numbers.
+func TestFilesReadBack(t *testing.T) {
+	dir := t.TempDir()
+	sc := New()
+	if _, err := sc.Write(dir); err != nil {
+		t.Fatal(err)
+	}
+	for _, group := range [][]Scan{sc.Standards, sc.Checks, {sc.Blank}, sc.Samples} {
+		for i := range group {
+			s := &group[i]
+			ss, err := spectrum.ReadFile(filepath.Join(dir, s.File), spectrum.ReadOptions{
+				Warn: func(msg string) { t.Errorf("%s: warning: %s", s.Name, msg) }})
+			if err != nil {
+				t.Fatalf("%s: %v", s.Name, err)
+			}
+			var got *spectrum.Spectrum
+			for _, x := range ss {
+				if s.Column == "" || x.Name == s.Column {
+					got = x
+				}
+			}
+			if got == nil {
+				t.Fatalf("%s: no spectrum named %q in %s", s.Name, s.Column, s.File)
+			}
+			if err := got.ToAbsorbance(); err != nil {
+				t.Fatal(err)
+			}
+			want := sc.Measure(s)
+			if !spectrum.SameGrid(got.Wavelengths, sc.Grid) {
+				t.Fatalf("%s: grid %g-%g nm, %d points", s.Name, got.Wavelengths[0], got.Wavelengths[len(got.Wavelengths)-1], got.Len())
+			}
+			for k := range want {
+				// Rounding: 5e-6 A; %T to 1e-4 of a value near 100·10^-A
+				// gives dA = 0.434·5e-5/%T.
+				tol := 5.1e-6
+				if s.Form == PercentT {
+					tol = log10e * 0.5 / pctTDigits / (100 * math.Pow(10, -want[k])) * 1.01
+				}
+				if d := math.Abs(got.Values[k] - want[k]); d > tol {
+					t.Fatalf("%s at %g nm: read %g, model %g", s.Name, sc.Grid[k], got.Values[k], want[k])
+				}
+			}
 		}
 	}
 }

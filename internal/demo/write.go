@@ -11,6 +11,7 @@ import (
 	"strconv"
 
 	"huesolve/internal/atomicfile"
+	"huesolve/spectrum"
 )
 
 // Names of the files the scenario writes, relative to its folder.
@@ -76,7 +77,8 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 		}
 	}
 	for _, s := range all {
-		var data []byte
+		var buf bytes.Buffer
+		var err error
 		switch s.Form {
 		case Wide:
 			if _, ok := wide[s.File]; !ok {
@@ -85,23 +87,35 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 			wide[s.File] = append(wide[s.File], s)
 			continue
 		case TwoColumn:
-			data = sc.twoColumn(s.Name, "absorbance", sc.Measure(s), 5)
+			err = spectrum.WriteDelimited(&buf, []*spectrum.Spectrum{sc.spectrum(s, spectrum.Absorbance)},
+				spectrum.WriteOptions{Comments: []string{sc.comment("scan " + s.Name)}})
 		case PercentT:
-			a := sc.Measure(s)
-			for i := range a {
-				a[i] = 100 * math.Pow(10, -a[i])
-			}
-			data = sc.twoColumn(s.Name, "%T", a, 4)
+			err = spectrum.WriteDelimited(&buf, []*spectrum.Spectrum{sc.spectrum(s, spectrum.PercentT)},
+				spectrum.WriteOptions{Comments: []string{sc.comment("scan " + s.Name + ", percent transmittance")}})
 		case JCAMP:
-			data = sc.jcamp(s.Name, sc.Measure(s))
+			err = spectrum.WriteJCAMP(&buf, sc.spectrum(s, spectrum.Absorbance),
+				spectrum.JCAMPOptions{Compressed: true, Origin: sc.Lab + " (invented demo data)", Owner: "public domain"})
 		}
-		if err := put(s.File, data); err != nil {
-			return written, err
+		if err == nil {
+			err = put(s.File, buf.Bytes())
+		}
+		if err != nil {
+			return written, fmt.Errorf("demo: %s: %w", s.File, err)
 		}
 	}
 	for _, f := range wideOrder {
-		if err := put(f, sc.wideTable(wide[f])); err != nil {
-			return written, err
+		var ss []*spectrum.Spectrum
+		for _, s := range wide[f] {
+			ss = append(ss, sc.spectrum(s, spectrum.Absorbance))
+		}
+		var buf bytes.Buffer
+		err := spectrum.WriteDelimited(&buf, ss, spectrum.WriteOptions{
+			Comments: []string{sc.comment("absorbance scans, one per column")}})
+		if err == nil {
+			err = put(f, buf.Bytes())
+		}
+		if err != nil {
+			return written, fmt.Errorf("demo: %s: %w", f, err)
 		}
 	}
 
@@ -152,42 +166,42 @@ func (sc *Scenario) header() string {
 
 // comment is the first line of every scan and standards sheet.
 func (sc *Scenario) comment(what string) string {
-	return "# " + sc.Lab + " (invented demo data): " + what + "\n"
+	return sc.Lab + " (invented demo data): " + what
 }
 
-func (sc *Scenario) twoColumn(name, quantity string, v []float64, prec int) []byte {
-	var b bytes.Buffer
-	b.WriteString(sc.comment("scan " + name + ", 1 nm steps"))
-	b.WriteString("wavelength_nm," + quantity + "\n")
-	for i, nm := range sc.Grid {
-		fmt.Fprintf(&b, "%s,%.*f\n", num(nm), prec, v[i])
-	}
-	return b.Bytes()
-}
+// Reading precision of the invented instrument: absorbance to 1e-5,
+// percent transmittance to 1e-4, as decimal places. Values are rounded as
+// math.Round(v·10^d)/10^d, which gives the double nearest the decimal.
+const (
+	absDigits  = 1e5
+	pctTDigits = 1e4
+)
 
-func (sc *Scenario) wideTable(scans []*Scan) []byte {
-	cols := make([][]float64, len(scans))
-	var b bytes.Buffer
-	b.WriteString(sc.comment("absorbance scans, one per column"))
-	b.WriteString("wavelength_nm")
-	for i, s := range scans {
-		b.WriteString("," + s.Column + " (absorbance)")
-		cols[i] = sc.Measure(s)
-	}
-	b.WriteString("\n")
-	for i, nm := range sc.Grid {
-		b.WriteString(num(nm))
-		for _, c := range cols {
-			fmt.Fprintf(&b, ",%.5f", c[i])
+// spectrum returns the scan as measured, rounded to the instrument's
+// reading precision, in quantity q (Absorbance or PercentT).
+func (sc *Scenario) spectrum(s *Scan, q spectrum.Quantity) *spectrum.Spectrum {
+	v := sc.Measure(s)
+	scale := absDigits
+	if q == spectrum.PercentT {
+		scale = pctTDigits
+		for i := range v {
+			v[i] = 100 * math.Pow(10, -v[i])
 		}
-		b.WriteString("\n")
 	}
-	return b.Bytes()
+	for i := range v {
+		v[i] = math.Round(v[i]*scale) / scale
+	}
+	name := s.Name
+	if s.Column != "" {
+		name = s.Column
+	}
+	return &spectrum.Spectrum{Name: name, Wavelengths: sc.Grid, Values: v, Quantity: q,
+		Source: spectrum.Source{File: s.File}}
 }
 
 func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
 	var b bytes.Buffer
-	b.WriteString(sc.comment(what))
+	b.WriteString("# " + sc.comment(what) + "\n")
 	b.WriteString("scan")
 	if withColumn {
 		b.WriteString(",column")
@@ -216,28 +230,5 @@ func (sc *Scenario) truth() []byte {
 		}
 		fmt.Fprintf(&b, ",%s,%s,%s,%q\n", num(s.Unlisted), num(s.Turbidity), s.Trouble, s.Note)
 	}
-	return b.Bytes()
-}
-
-// jcamp writes a JCAMP-DX 4.24 UV/VIS spectrum in AFFN form (McDonald &
-// Wilks, Appl. Spectrosc. 42 (1988) 151), ten values a line.
-func (sc *Scenario) jcamp(title string, a []float64) []byte {
-	const yfactor = 1e-5
-	var b bytes.Buffer
-	first, last := sc.Grid[0], sc.Grid[len(sc.Grid)-1]
-	fmt.Fprintf(&b, "##TITLE=%s\n##JCAMP-DX=4.24\n##DATA TYPE=UV/VIS SPECTRUM\n", title)
-	fmt.Fprintf(&b, "##ORIGIN=%s (invented demo data)\n##OWNER=public domain\n", sc.Lab)
-	fmt.Fprintf(&b, "##XUNITS=NANOMETERS\n##YUNITS=ABSORBANCE\n##XFACTOR=1\n##YFACTOR=%g\n", yfactor)
-	fmt.Fprintf(&b, "##FIRSTX=%s\n##LASTX=%s\n##NPOINTS=%d\n##FIRSTY=%.5f\n", num(first), num(last), len(a),
-		math.Round(a[0]/yfactor)*yfactor)
-	b.WriteString("##XYDATA=(X++(Y..Y))\n")
-	for i := 0; i < len(a); i += 10 {
-		b.WriteString(num(sc.Grid[i]))
-		for j := i; j < min(i+10, len(a)); j++ {
-			fmt.Fprintf(&b, " %d", int64(math.Round(a[j]/yfactor)))
-		}
-		b.WriteString("\n")
-	}
-	b.WriteString("##END=\n")
 	return b.Bytes()
 }
