@@ -63,6 +63,9 @@ func (r *Result) size(n, p int) {
 // With a Result reused from an earlier call, Solve allocates nothing.
 func (s *Solver) Solve(dst *Result, y []float64) error {
 	f, ws := s.f, &s.ws
+	if f == nil {
+		return fmt.Errorf("lsq: solver has no design (failed Reset): %w", ErrShape)
+	}
 	n, p, nf := f.n, f.p, f.nf
 	if len(y) != n {
 		return fmt.Errorf("lsq: y has %d rows, the design has %d: %w", len(y), n, ErrShape)

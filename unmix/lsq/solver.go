@@ -4,9 +4,11 @@ import (
 	"fmt"
 	"math"
 	"slices"
+	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/lapack"
 	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
 )
@@ -51,6 +53,15 @@ const (
 // eps is the float64 machine epsilon (unit roundoff times two).
 const eps = 0x1p-52
 
+// safeMin and safeMax bound a 2-norm computed as the square root of a
+// plain sum of squares: inside them no square underflowed to lose
+// accuracy or overflowed (1e-150 and 1e150 squared stay well inside the
+// normal float64 range).
+const (
+	safeMin = 1e-150
+	safeMax = 1e150
+)
+
 // factor is the read-only part of a Solver, shared by its clones.
 type factor struct {
 	n, p   int
@@ -75,6 +86,10 @@ type factor struct {
 	tol     float64
 	maxIter int
 	known   bool // Sigma given and ScaleSE false: the noise variance is known
+	shared  atomic.Bool // cloned: Reset must not reuse this storage
+
+	// Set-up scratch, kept for Reset.
+	invD, wcol, qa, tau, work, sv, svA []float64
 }
 
 // workspace is the per-Solver scratch.
@@ -117,69 +132,119 @@ type Solver struct {
 //
 // The cost is one thin QR, O(n p^2), and an SVD of the p×p factor.
 func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
+	s := &Solver{}
+	if err := s.Reset(x, nonneg, opt); err != nil {
+		return nil, err
+	}
+	return s, nil
+}
+
+// Reset factors a new design into s, as NewSolver does, for the case in
+// which the design or the weights change from one y to the next (the
+// accurate path: O(n p^2) per y). It reuses the storage of s when s has
+// not been cloned and the sizes allow, so that a loop of Reset and Solve
+// allocates almost nothing in steady state (two small objects inside
+// gonum's SVD); clones made earlier keep the old factorisation. On error s has no design and Solve fails until a
+// successful Reset.
+func (s *Solver) Reset(x *mat.Dense, nonneg []bool, opt Options) error {
+	f := s.f
+	if f == nil || f.shared.Load() {
+		f = &factor{}
+	}
+	s.f = nil
+	if err := f.setup(x, nonneg, opt); err != nil {
+		return err
+	}
+	s.f = f
+	s.ws.init(f)
+	return nil
+}
+
+// grow returns buf resized to n, reusing its storage if it can.
+func grow[T any](buf []T, n int) []T {
+	if cap(buf) >= n {
+		return buf[:n]
+	}
+	return make([]T, n)
+}
+
+// setup fills f for the design x; see NewSolver.
+func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 	n, p := x.Dims()
 	if n == 0 || p == 0 {
-		return nil, fmt.Errorf("lsq: empty design (%d×%d): %w", n, p, ErrShape)
+		return fmt.Errorf("lsq: empty design (%d×%d): %w", n, p, ErrShape)
 	}
 	if len(nonneg) != p {
-		return nil, fmt.Errorf("lsq: %d constraint flags for %d columns: %w", len(nonneg), p, ErrShape)
+		return fmt.Errorf("lsq: %d constraint flags for %d columns: %w", len(nonneg), p, ErrShape)
 	}
 	if opt.Sigma != nil && len(opt.Sigma) != n {
-		return nil, fmt.Errorf("lsq: %d sigma values for %d rows: %w", len(opt.Sigma), n, ErrShape)
+		return fmt.Errorf("lsq: %d sigma values for %d rows: %w", len(opt.Sigma), n, ErrShape)
 	}
 	if opt.Tol < 0 || math.IsNaN(opt.Tol) || opt.MaxIter < 0 {
-		return nil, fmt.Errorf("lsq: negative tolerance or iteration cap: %w", ErrShape)
+		return fmt.Errorf("lsq: negative tolerance or iteration cap: %w", ErrShape)
 	}
-	f := &factor{n: n, p: p, nonneg: slices.Clone(nonneg)}
-	f.x = make([]float64, n*p)
+	f.n, f.p = n, p
+	f.nonneg = grow(f.nonneg, p)
+	copy(f.nonneg, nonneg)
+	f.x = grow(f.x, n*p)
 	for i := range n {
 		row := x.RawRowView(i)
 		for j, v := range row {
 			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return nil, fmt.Errorf("lsq: design row %d, column %d is %v: %w", i, j, v, ErrNonFinite)
+				return fmt.Errorf("lsq: design row %d, column %d is %v: %w", i, j, v, ErrNonFinite)
 			}
 			f.x[j*n+i] = v
 		}
 	}
+	f.invSigma = f.invSigma[:0]
+	f.known = false
 	if opt.Sigma != nil {
-		f.invSigma = make([]float64, n)
+		f.invSigma = grow(f.invSigma, n)
 		for i, s := range opt.Sigma {
 			if !(s > 0) || math.IsInf(s, 0) {
-				return nil, fmt.Errorf("lsq: sigma of row %d is %v, want positive and finite: %w", i, s, ErrNonFinite)
+				return fmt.Errorf("lsq: sigma of row %d is %v, want positive and finite: %w", i, s, ErrNonFinite)
 			}
 			f.invSigma[i] = 1 / s
 		}
 		f.known = !opt.ScaleSE
 	}
+	if len(f.invSigma) == 0 {
+		f.invSigma = nil
+	}
 	// Column scales of the weighted design (overflow-safe 2-norms).
-	f.d = make([]float64, p)
-	invD := make([]float64, p)
-	wcol := make([]float64, n)
+	f.d = grow(f.d, p)
+	f.invD = grow(f.invD, p)
+	f.wcol = grow(f.wcol, n)
 	for j := range p {
 		col := f.x[j*n : (j+1)*n]
 		if f.invSigma != nil {
-			floats.MulTo(wcol, col, f.invSigma)
-			col = wcol
+			floats.MulTo(f.wcol, col, f.invSigma)
+			col = f.wcol
 		}
-		d := floats.Norm(col, 2)
+		// Plain sum of squares when it is safely inside the range of
+		// float64; the overflow-safe scaled norm otherwise.
+		d := math.Sqrt(floats.Dot(col, col))
+		if !(d > safeMin && d < safeMax) {
+			d = floats.Norm(col, 2)
+		}
 		if math.IsInf(d, 0) || math.IsNaN(d) {
-			return nil, fmt.Errorf("lsq: column %d overflows when weighted by 1/sigma: %w", j, ErrNonFinite)
+			return fmt.Errorf("lsq: column %d overflows when weighted by 1/sigma: %w", j, ErrNonFinite)
 		}
 		if d == 0 {
-			return nil, &RankError{Columns: []int{j}, Cond: math.Inf(1), Rows: n, Cols: p}
+			return &RankError{Columns: []int{j}, Cond: math.Inf(1), Rows: n, Cols: p}
 		}
 		f.d[j] = d
-		invD[j] = 1 / d
+		f.invD[j] = 1 / d
 	}
 	if n < p {
 		all := make([]int, p)
 		for j := range all {
 			all[j] = j
 		}
-		return nil, &RankError{Columns: all, Cond: math.Inf(1), Rows: n, Cols: p}
+		return &RankError{Columns: all, Cond: math.Inf(1), Rows: n, Cols: p}
 	}
 	// Free columns first, then the non-negative ones, each in original order.
-	f.perm = make([]int, 0, p)
+	f.perm = grow(f.perm, p)[:0]
 	for j := range p {
 		if !nonneg[j] {
 			f.perm = append(f.perm, j)
@@ -194,75 +259,61 @@ func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
 	f.nn = p - f.nf
 
 	// Scaled weighted design in factor order, row-major n×p.
-	a := make([]float64, n*p)
+	a := grow(f.qa, n*p)
+	f.qa = a
 	for k, j := range f.perm {
 		col := f.x[j*n : (j+1)*n]
 		for i, v := range col {
 			if f.invSigma != nil {
 				v *= f.invSigma[i]
 			}
-			a[i*p+k] = v * invD[j]
+			a[i*p+k] = v * f.invD[j]
 		}
 	}
 	A := blas64.General{Rows: n, Cols: p, Stride: p, Data: a}
-	tau := make([]float64, p)
-	work := make([]float64, 1)
-	lapack64.Geqrf(A, tau, work, -1)
-	lwork := max(int(work[0]), n, p)
-	work = make([]float64, lwork)
-	lapack64.Geqrf(A, tau, work, lwork)
-	f.r = make([]float64, p*p)
+	f.tau = grow(f.tau, p)
+	if len(f.work) == 0 {
+		f.work = make([]float64, 1)
+	}
+	lapack64.Geqrf(A, f.tau, f.work, -1)
+	lwork := max(int(f.work[0]), n, p)
+	lapack64.Orgqr(A, f.tau, f.work, -1)
+	lwork = max(lwork, int(f.work[0]))
+	f.work = grow(f.work, lwork)
+	lapack64.Geqrf(A, f.tau, f.work, lwork)
+	f.r = grow(f.r, p*p)
+	clear(f.r)
 	for i := range p {
 		for j := i; j < p; j++ {
 			f.r[i*p+j] = a[i*p+j]
 		}
 	}
-	lapack64.Orgqr(A, tau, work, lwork)
-	// Ensure work is large enough was checked by Orgqr (lwork >= p).
+	lapack64.Orgqr(A, f.tau, f.work, lwork)
 
-	// Singular values of R (those of X_s) and null vectors.
-	var svd mat.SVD
-	rm := mat.NewDense(p, p, slices.Clone(f.r))
-	if !svd.Factorize(rm, mat.SVDThinV) {
-		return nil, fmt.Errorf("lsq: singular value decomposition of the design failed: %w", ErrRankDeficient)
+	// Singular values of R (those of X_s), without vectors; the null
+	// vectors are computed only for the error report.
+	f.sv = grow(f.sv, p)
+	f.svA = grow(f.svA, p*p)
+	copy(f.svA, f.r)
+	none := blas64.General{Stride: 1}
+	lapack64.Gesvd(lapack.SVDNone, lapack.SVDNone, blas64.General{Rows: p, Cols: p, Stride: p, Data: f.svA}, none, none, f.sv, f.work, -1)
+	if lw := int(f.work[0]); lw > len(f.work) {
+		f.work = grow(f.work, lw)
 	}
-	sv := svd.Values(nil)
+	copy(f.svA, f.r)
+	if !lapack64.Gesvd(lapack.SVDNone, lapack.SVDNone, blas64.General{Rows: p, Cols: p, Stride: p, Data: f.svA}, none, none, f.sv, f.work, len(f.work)) {
+		return fmt.Errorf("lsq: singular value decomposition of the design failed: %w", ErrRankDeficient)
+	}
+	sv := f.sv
 	f.normXs = sv[0]
 	smin := sv[p-1]
 	f.cond = sv[0] / smin
 	if smin <= rankEpsFactor*float64(max(n, p))*eps*sv[0] {
-		var v mat.Dense
-		svd.VTo(&v)
-		in := make([]bool, p)
-		for c := range p {
-			if sv[c] > rankEpsFactor*float64(max(n, p))*eps*sv[0] {
-				continue
-			}
-			vmax := 0.0
-			for k := range p {
-				vmax = math.Max(vmax, math.Abs(v.At(k, c)))
-			}
-			for k := range p {
-				if math.Abs(v.At(k, c)) >= nullShare*vmax {
-					in[f.perm[k]] = true
-				}
-			}
-		}
-		var cols []int
-		for j, ok := range in {
-			if ok {
-				cols = append(cols, j)
-			}
-		}
-		cond := f.cond
-		if smin == 0 {
-			cond = math.Inf(1)
-		}
-		return nil, &RankError{Columns: cols, Cond: cond, Rows: n, Cols: p}
+		return f.rankError()
 	}
 
 	// Q' W^(1/2), stored by rows of Q'.
-	f.qtw = make([]float64, p*n)
+	f.qtw = grow(f.qtw, p*n)
 	for k := range p {
 		row := f.qtw[k*n : (k+1)*n]
 		for i := range row {
@@ -273,29 +324,32 @@ func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
 		}
 	}
 	// Gradient rows in original order: g_j = sum_i x_ij r_i / (d_j sigma_i^2).
-	f.gcol = make([]float64, p*n)
+	f.gcol = grow(f.gcol, p*n)
+	if f.invSigma != nil {
+		floats.MulTo(f.wcol, f.invSigma, f.invSigma)
+	}
 	for j := range p {
 		g := f.gcol[j*n : (j+1)*n]
-		floats.ScaleTo(g, invD[j], f.x[j*n:(j+1)*n])
 		if f.invSigma != nil {
-			floats.Mul(g, f.invSigma)
-			floats.Mul(g, f.invSigma)
+			floats.MulTo(g, f.x[j*n:(j+1)*n], f.wcol)
+			floats.Scale(f.invD[j], g)
+		} else {
+			floats.ScaleTo(g, f.invD[j], f.x[j*n:(j+1)*n])
 		}
 	}
 	// R_SS.
-	f.rss = make([]float64, f.nn*f.nn)
+	f.rss = grow(f.rss, f.nn*f.nn)
 	for i := range f.nn {
 		for j := range f.nn {
 			f.rss[i*f.nn+j] = f.r[(f.nf+i)*p+f.nf+j]
 		}
 	}
 	// diag((X_s'X_s)^-1) = squared row norms of R^-1.
-	f.rinvRow2 = make([]float64, p)
-	tinv := make([]float64, p*p)
-	triInv(tinv, f.r, p, p)
-	rowNorms2(f.rinvRow2, tinv, p)
-	f.vif = make([]float64, p)
-	f.leak = make([]float64, p)
+	f.rinvRow2 = grow(f.rinvRow2, p)
+	triInv(f.svA, f.r, p, p)
+	rowNorms2(f.rinvRow2, f.svA, p)
+	f.vif = grow(f.vif, p)
+	f.leak = grow(f.leak, p)
 	for k, j := range f.perm {
 		f.vif[j] = f.rinvRow2[k]
 		if k < f.nf {
@@ -321,34 +375,79 @@ func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
 	if f.maxIter == 0 {
 		f.maxIter = max(IterPerColumn*p, minIter)
 	}
-	s := &Solver{f: f}
-	s.ws.init(f)
-	return s, nil
+	return nil
 }
 
+// rankError builds the RankError of a numerically rank-deficient design
+// from the right singular vectors of R belonging to singular values below
+// the rank threshold: the columns with a share of such a null vector.
+func (f *factor) rankError() error {
+	n, p := f.n, f.p
+	var svd mat.SVD
+	if !svd.Factorize(mat.NewDense(p, p, slices.Clone(f.r)), mat.SVDThinV) {
+		return fmt.Errorf("lsq: singular value decomposition of the design failed: %w", ErrRankDeficient)
+	}
+	sv := svd.Values(nil)
+	var v mat.Dense
+	svd.VTo(&v)
+	in := make([]bool, p)
+	for c := range p {
+		if sv[c] > rankEpsFactor*float64(max(n, p))*eps*sv[0] {
+			continue
+		}
+		vmax := 0.0
+		for k := range p {
+			vmax = math.Max(vmax, math.Abs(v.At(k, c)))
+		}
+		for k := range p {
+			if math.Abs(v.At(k, c)) >= nullShare*vmax {
+				in[f.perm[k]] = true
+			}
+		}
+	}
+	var cols []int
+	for j, ok := range in {
+		if ok {
+			cols = append(cols, j)
+		}
+	}
+	cond := f.cond
+	if sv[p-1] == 0 {
+		cond = math.Inf(1)
+	}
+	return &RankError{Columns: cols, Cond: cond, Rows: n, Cols: p}
+}
+
+// init sizes the workspace for f, reusing storage where it can. The
+// quantile cache is kept when the number of rows is unchanged.
 func (ws *workspace) init(f *factor) {
 	p, nn := f.p, f.nn
-	ws.z = make([]float64, p)
-	ws.bs = make([]float64, p)
-	ws.g = make([]float64, p)
-	ws.x = make([]float64, nn)
-	ws.s = make([]float64, nn)
-	ws.w = make([]float64, nn)
-	ws.res = make([]float64, nn)
-	ws.inP = make([]bool, nn)
-	ws.rej = make([]bool, nn)
-	ws.pidx = make([]int, 0, nn)
-	ws.aidx = make([]int, 0, p)
-	ws.m = make([]float64, p*p)
-	ws.rhs = make([]float64, p)
-	ws.tinv = make([]float64, p*p)
-	ws.d2 = make([]float64, p)
-	ws.bu = make([]float64, p)
-	ws.tq = make([]float64, f.n+1)
+	ws.z = grow(ws.z, p)
+	ws.bs = grow(ws.bs, p)
+	ws.g = grow(ws.g, p)
+	ws.x = grow(ws.x, nn)
+	ws.s = grow(ws.s, nn)
+	ws.w = grow(ws.w, nn)
+	ws.res = grow(ws.res, nn)
+	ws.inP = grow(ws.inP, nn)
+	ws.rej = grow(ws.rej, nn)
+	ws.pidx = grow(ws.pidx, nn)[:0]
+	ws.aidx = grow(ws.aidx, p)[:0]
+	ws.m = grow(ws.m, p*p)
+	ws.rhs = grow(ws.rhs, p)
+	ws.tinv = grow(ws.tinv, p*p)
+	ws.d2 = grow(ws.d2, p)
+	ws.bu = grow(ws.bu, p)
+	if len(ws.tq) != f.n+1 {
+		ws.tq = make([]float64, f.n+1)
+	}
 }
 
 // Clone returns a Solver sharing the factorisation with fresh workspace.
+//
+// Clone panics if s has no design (after a failed Reset).
 func (s *Solver) Clone() *Solver {
+	s.f.shared.Store(true)
 	c := &Solver{f: s.f}
 	c.ws.init(s.f)
 	return c
