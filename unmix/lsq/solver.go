@@ -85,7 +85,7 @@ type factor struct {
 
 	tol     float64
 	maxIter int
-	known   bool // Sigma given and ScaleSE false: the noise variance is known
+	known   bool        // Sigma given and ScaleSE false: the noise variance is known
 	shared  atomic.Bool // cloned: Reset must not reuse this storage
 
 	// Set-up scratch, kept for Reset.
