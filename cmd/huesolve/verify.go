@@ -28,6 +28,9 @@ type verifyOptions struct {
 	window         string
 	baseline       string
 	weighted       bool
+	shift          bool
+	maxShift       float64
+	ceiling        float64
 	blank          string
 	unit           string
 	quantity       string
@@ -99,6 +102,9 @@ func newVerifyCmd() *cobra.Command {
 	f.StringVar(&o.window, "window", "", "wavelength window `LO-HI` in nm for the fit (default: the whole reference grid)")
 	f.StringVar(&o.baseline, "baseline", valDefaultBaseline, "baseline `MODEL`: none, offset, linear, quadratic or cubic, optionally +scatter")
 	f.BoolVar(&o.weighted, "weighted", false, "weight wavelengths by the reference set's noise model")
+	f.BoolVar(&o.shift, "shift", false, "estimate a wavelength shift of each check standard")
+	f.Float64Var(&o.maxShift, "max-shift", unmix.DefaultMaxShiftNM, "largest shift in nm that --shift may find")
+	f.Float64Var(&o.ceiling, "ceiling", 0, "absorbance above which points are left out (default: the reference set's)")
 	f.StringVar(&o.blank, "blank", "", "blank scan `FILE` subtracted from every check standard")
 	f.StringVar(&o.unit, "unit", "", "concentration unit for compounds whose header gives none")
 	f.StringVar(&o.quantity, "quantity", "", "what the scan files hold when they do not say: absorbance, %T or T")
@@ -130,7 +136,7 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	warn := func(msg string) { fmt.Fprintln(errw, "huesolve: note:", msg) }
 
 	// Flags.
-	mopt := unmix.Options{Weighted: o.weighted}
+	mopt := unmix.Options{Weighted: o.weighted, Shift: o.shift, MaxShiftNM: o.maxShift, Ceiling: o.ceiling}
 	var err error
 	if o.window != "" {
 		if mopt.WindowLo, mopt.WindowHi, err = calParseWindow(o.window); err != nil {
@@ -150,6 +156,12 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	}
 	if !(o.maxRSD > 0) || o.maxRSD > 100 {
 		return usagef("--max-rsd %g: want a percentage above 0", o.maxRSD)
+	}
+	if !(o.maxShift > 0) || o.maxShift > 100 {
+		return usagef("--max-shift %g: want a positive number of nm", o.maxShift)
+	}
+	if !(o.ceiling >= 0) || o.ceiling > 10 {
+		return usagef("--ceiling %g: want a positive absorbance (0: the reference set's)", o.ceiling)
 	}
 	if !(o.minSelectivity > 0) || o.minSelectivity >= 1 {
 		return usagef("--min-selectivity %g: want a number between 0 and 1", o.minSelectivity)
