@@ -129,7 +129,7 @@ func TestSolverCondScaled(t *testing.T) {
 	}
 }
 
-// TestVIFLeakage checks VIF and leakage against their definitions computed
+// TestVIFLeakage checks VIF, sensitivity and leakage against their definitions computed
 // independently with gonum: VIF_j = 1/(1 - R_j^2), R_j^2 the uncentred
 // fraction of x_j explained by the other columns (least squares by
 // mat.QR), and leakage ||x_k - proj_free x_k|| / ||x_k||.
@@ -177,6 +177,19 @@ func TestVIFLeakage(t *testing.T) {
 		want := 1 / explained(j, others)
 		if math.Abs(vif[j]-want) > 1e-9*want {
 			t.Errorf("VIF[%d] = %.12g, want %.12g", j, vif[j], want)
+		}
+	}
+	sen := s.Sensitivity()
+	for j := range 4 {
+		var others []int
+		for k := range 4 {
+			if k != j {
+				others = append(others, k)
+			}
+		}
+		want := mat.Norm(x.ColView(j), 2) * math.Sqrt(explained(j, others))
+		if math.Abs(sen[j]-want) > 1e-9*want {
+			t.Errorf("Sensitivity[%d] = %.12g, want %.12g", j, sen[j], want)
 		}
 	}
 	for j := range 4 {

@@ -479,6 +479,22 @@ func (s *Solver) VIF() []float64 { return slices.Clone(s.f.vif) }
 // Columns are weighted as in the fit. The slice is a fresh copy.
 func (s *Solver) Leakage() []float64 { return slices.Clone(s.f.leak) }
 
+// Sensitivity returns, for each column j, the norm of its net part: the
+// component of the weighted column W^(1/2) x_j orthogonal to all the other
+// columns (net analyte signal; Lorber, Anal. Chem. 58, 1986, 1167):
+//
+//	SEN_j = ||(I - X_-j X_-j^+) W^(1/2) x_j|| = d_j / sqrt(VIF_j) = 1 / ||row j of (W^(1/2) X)^+||,
+//
+// so that the standard error of coefficient j from noise of unit variance
+// in the weighted rows is 1/SEN_j. The slice is a fresh copy.
+func (s *Solver) Sensitivity() []float64 {
+	out := make([]float64, s.f.p)
+	for j := range out {
+		out[j] = s.f.d[j] / math.Sqrt(s.f.vif[j])
+	}
+	return out
+}
+
 // Scales returns the column scales d_j = ||W^(1/2) x_j||, the norms the
 // columns were divided by before factorising. The slice is a fresh copy.
 func (s *Solver) Scales() []float64 { return slices.Clone(s.f.d) }
