@@ -105,7 +105,10 @@ func (d *delimReader) read(lr *lineReader) error {
 			continue
 		}
 		if !started {
-			delim, ncols, ok := detectRow(t)
+			delim, ncols, ok, mixed := detectRow(t)
+			if mixed > 0 {
+				return d.errAt(n, mixed, errMixedMark)
+			}
 			if !ok {
 				d.header = string(t)
 				d.headerLine = n
@@ -499,10 +502,13 @@ func (d *delimReader) headerCells() ([]string, bool) {
 }
 
 // detectRow reports whether t is a numeric row of at least two fields and
-// with which delimiter.
-func detectRow(t []byte) (delim byte, ncols int, ok bool) {
+// with which delimiter. A row that would be numeric but mixes decimal
+// points and decimal commas returns ok false and, in mixed, the 1-based
+// field where the second convention appears.
+func detectRow(t []byte) (delim byte, ncols int, ok bool, mixed int) {
 	try := func(delim byte) (int, bool) {
 		n := 0
+		mixedAt := 0
 		var mark byte
 		rest := t
 		for {
@@ -534,8 +540,8 @@ func detectRow(t []byte) (delim byte, ncols int, ok bool) {
 				return 0, false
 			}
 			if m != 0 {
-				if mark != 0 && m != mark {
-					return 0, false
+				if mark != 0 && m != mark && mixedAt == 0 {
+					mixedAt = n + 1
 				}
 				mark = m
 			}
@@ -543,6 +549,12 @@ func detectRow(t []byte) (delim byte, ncols int, ok bool) {
 			if rest == nil {
 				break
 			}
+		}
+		if mixedAt > 0 && n >= 2 {
+			if mixed == 0 {
+				mixed = mixedAt
+			}
+			return 0, false
 		}
 		return n, n >= 2
 	}
@@ -559,10 +571,10 @@ func detectRow(t []byte) (delim byte, ncols int, ok bool) {
 	cands = append(cands, whitespace)
 	for _, c := range cands {
 		if n, ok := try(c); ok {
-			return c, n, true
+			return c, n, true, 0
 		}
 	}
-	return 0, 0, false
+	return 0, 0, false, mixed
 }
 
 func trimBlank(b []byte) []byte {

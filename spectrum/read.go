@@ -66,7 +66,7 @@ const (
 	DefaultMaxColumns = 1 << 20
 	// MaxJCAMPPoints is the largest NPOINTS a JCAMP-DX file may declare;
 	// no UV-Vis scan comes near it.
-	MaxJCAMPPoints = 1 << 24
+	MaxJCAMPPoints = 1 << 22
 )
 
 func (o *ReadOptions) maxLine() int {
@@ -146,7 +146,9 @@ func unwrapPathError(err error) error {
 }
 
 // looksJCAMP reports whether the first non-blank line of head starts with
-// "##" (after an optional UTF-8 byte order mark and leading blanks).
+// "##" (after an optional UTF-8 byte order mark and leading blanks) and
+// holds a labelled record ("##LABEL=..."); a "## note" line without '='
+// is a comment of delimited text.
 func looksJCAMP(head []byte) bool {
 	head = bytes.TrimPrefix(head, utf8BOM)
 	for len(head) > 0 {
@@ -155,7 +157,13 @@ func looksJCAMP(head []byte) bool {
 			head = head[1:]
 			continue
 		}
-		return bytes.HasPrefix(head, []byte("##"))
+		if !bytes.HasPrefix(head, []byte("##")) {
+			return false
+		}
+		if k := bytes.IndexByte(head, '\n'); k >= 0 {
+			head = head[:k]
+		}
+		return bytes.IndexByte(head, '=') >= 0
 	}
 	return false
 }

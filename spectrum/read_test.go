@@ -417,3 +417,31 @@ func TestNumberParser(t *testing.T) {
 		t.Errorf("decimal comma: %v %q %v", v, m, err)
 	}
 }
+
+func TestFirstRowMixedMarks(t *testing.T) {
+	// The first data row mixes a decimal point and a decimal comma: an
+	// error there, not a header.
+	_, err := ReadDelimited(strings.NewReader("nm;A\n400.5;0,1\n401.5;0,2\n"), "m.csv", ReadOptions{})
+	var pe *ParseError
+	if !errors.As(err, &pe) || pe.Line != 2 || pe.Column != 2 || !errors.Is(err, errMixedMark) {
+		t.Errorf("mixed first row: %v", err)
+	}
+}
+
+func TestDetectFormat(t *testing.T) {
+	for _, c := range []struct {
+		head  string
+		jcamp bool
+	}{
+		{"##TITLE=x\n", true},
+		{"\ufeff\r\n  ##TITLE= x\r\n", true},
+		{"## exported by a lab tool\n400,1\n", false},
+		{"# comment\n##TITLE=x\n", false},
+		{"400,1\n", false},
+		{"", false},
+	} {
+		if got := looksJCAMP([]byte(c.head)); got != c.jcamp {
+			t.Errorf("looksJCAMP(%q) = %v", c.head, got)
+		}
+	}
+}
