@@ -26,7 +26,8 @@ const (
 	// error of a standard deviation from ν degrees of freedom is about
 	// 1/√(2ν) (0.16 for ν = 20). Among windows whose worst predicted
 	// error is within this margin of the smallest, the best conditioned
-	// one is recommended.
+	// one is recommended if its condition number is smaller by more than
+	// the same margin.
 	DefaultEquivalent = 0.10
 )
 
@@ -119,10 +120,11 @@ var ErrNoWindow = errors.New("validate: no window of the allowed widths tells ev
 // over the usable grid, MinWidthNM <= Hi - Lo (<= MaxWidthNM if set), and
 // predicts for each the
 // condition number of the design and every compound's standard error at
-// its level from the noise model. It recommends, among the windows whose
-// worst relative error is within the Equivalent margin of the smallest,
-// the one with the smallest condition number (so a band that only adds
-// collinearity is left out).
+// its level from the noise model. It recommends the window with the
+// smallest worst relative error, unless a window within the Equivalent
+// margin of that error has a condition number smaller by more than the
+// same margin: then the best conditioned such window (so a band that only
+// adds collinearity is left out).
 //
 // With weights from a correct noise model, adding wavelengths never raises
 // the predicted error of a fixed model; the window then matters through
@@ -279,14 +281,18 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 		}
 		return a.Cond < b.Cond
 	})
-	limit := adv.Candidates[adv.Ranked[0]].Worst * (1 + eq)
+	// Among windows within the margin of the smallest worst error, a
+	// better conditioned one is preferred only when it improves the
+	// condition number by more than the same margin.
+	first := adv.Candidates[adv.Ranked[0]]
+	limit := first.Worst * (1 + eq)
 	adv.Best = adv.Ranked[0]
 	for _, i := range adv.Ranked {
 		c := adv.Candidates[i]
 		if c.Worst > limit {
 			break
 		}
-		if c.Cond < adv.Candidates[adv.Best].Cond {
+		if c.Cond*(1+eq) < first.Cond && c.Cond < adv.Candidates[adv.Best].Cond {
 			adv.Best = i
 		}
 	}

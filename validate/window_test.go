@@ -149,3 +149,36 @@ func BenchmarkAdviseWindow(b *testing.B) {
 		})
 	}
 }
+
+// The margin rule: A and B share a band at 450 nm (height 0.6, width
+// 20 nm) and have their own at 590 and 650 nm (invented test data). Taking
+// in the shared band lowers the predicted errors a little (it pins the sum
+// A + B) but makes the design worse conditioned. The strict minimum takes
+// the whole grid; with the default 10 % margin the advisor keeps to the
+// bands that tell A and B apart, at a worst error within the margin and a
+// condition number lower by more than it.
+func TestAdviseWindowMarginPrefersConditioning(t *testing.T) {
+	g := grid(400, 700, 1)
+	a := add(gauss(g, 450, 20, 0.6), 1, gauss(g, 590, 15, 1))
+	b := add(gauss(g, 450, 20, 0.6), 1, gauss(g, 650, 15, 1))
+	set := memSet(g, []string{"A", "B"}, [][]float64{a, b}, 0.001)
+	def, err := AdviseWindow(set, WindowOptions{Baseline: noBaseline})
+	if err != nil {
+		t.Fatal(err)
+	}
+	strict, err := AdviseWindow(set, WindowOptions{Baseline: noBaseline, Equivalent: -1})
+	if err != nil {
+		t.Fatal(err)
+	}
+	d, s := def.Candidates[def.Best], strict.Candidates[strict.Best]
+	t.Logf("margin 10 %%: %g-%g nm cond %.3g worst %.4g; strict: %g-%g nm cond %.3g worst %.4g", d.Lo, d.Hi, d.Cond, d.Worst, s.Lo, s.Hi, s.Cond, s.Worst)
+	if s.Lo > 420 {
+		t.Errorf("strict minimum %g-%g nm, want it to take in the shared band", s.Lo, s.Hi)
+	}
+	if d.Lo < 480 {
+		t.Errorf("with the margin: %g-%g nm, want it clear of the shared band", d.Lo, d.Hi)
+	}
+	if d.Worst > 1.1*s.Worst || d.Cond*1.1 > s.Cond {
+		t.Errorf("with the margin: worst %g (strict %g), cond %g (strict %g): outside the rule", d.Worst, s.Worst, d.Cond, s.Cond)
+	}
+}
