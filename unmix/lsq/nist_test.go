@@ -167,8 +167,7 @@ func TestNISTLinear(t *testing.T) {
 
 // TestNorrisDurbinWatson checks the Durbin-Watson statistic of the Norris
 // fit in data order: 1.27150897125921, computed exactly from the NIST
-// certified fit (not a NIST value; /work/shared refdata README, copied
-// into the header note of this test).
+// certified fit (not a NIST value; testdata/nist/README.md).
 func TestNorrisDurbinWatson(t *testing.T) {
 	d := readSTRD(t, "Norris.dat")
 	s, err := NewSolver(d.design(), []bool{false, false}, Options{})
@@ -186,8 +185,8 @@ func TestNorrisDurbinWatson(t *testing.T) {
 }
 
 // TestDesignCond checks Cond2 on the unscaled NIST designs against values
-// computed at high precision (conditioning table in testdata/hilbert,
-// "computed here, not NIST values").
+// computed at high precision (testdata/hilbert/conditioning.md and
+// testdata/nist/README.md: "computed here, not NIST values").
 func TestDesignCond(t *testing.T) {
 	for _, c := range []struct {
 		name string
