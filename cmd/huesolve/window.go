@@ -53,11 +53,11 @@ calibrated range). No sample is needed: the prediction comes from the
 design alone, by one small singular value decomposition per window.
 
 The recommended window is the one whose worst compound's predicted error,
-relative to its level, is smallest; among windows within --equivalent
-percent of that smallest error the best conditioned one is taken, since a
-band that only makes compounds harder to tell apart buys no real precision
-and amplifies model errors (a small shift, a baseline the terms cannot
-follow). Wavelengths where the expected absorbance passes the set's ceiling
+relative to its level, is smallest, unless a window within --equivalent
+percent of that error has a condition number lower by more than the same
+margin: then the best conditioned such window is taken, since a band that
+only makes compounds harder to tell apart buys little real precision and
+amplifies model errors (a small shift, a baseline the terms cannot follow). Wavelengths where the expected absorbance passes the set's ceiling
 are left out, as solve would.
 
 With a correct noise model and weights (--weighted), adding wavelengths
@@ -280,8 +280,8 @@ func writeWindowTable(w io.Writer, rep *windowReport, top int) error {
 		best.Lo, best.Hi, best.Points, 100*best.Worst, best.WorstCompound, best.Cond)
 	if adv.Best != adv.Ranked[0] {
 		b0 := adv.Candidates[adv.Ranked[0]]
-		fmt.Fprintf(w, "(%g-%g nm has the smallest worst error, %.3g %%, but is within %g %% of it with condition number %.3g.)\n",
-			b0.Lo, b0.Hi, 100*b0.Worst, 100*adv.Equivalent, b0.Cond)
+		fmt.Fprintf(w, "(%g-%g nm has the smallest worst error, %.3g %%, with condition number %.3g; the recommended window is within %g %% of that error and better conditioned.)\n",
+			b0.Lo, b0.Hi, 100*b0.Worst, b0.Cond, 100*adv.Equivalent)
 	}
 	fmt.Fprintln(w)
 
