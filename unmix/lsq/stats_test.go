@@ -364,3 +364,29 @@ func TestLackOfFit(t *testing.T) {
 		t.Errorf("worst band %d..%d, want it near row 18", res.WorstLo, res.WorstHi)
 	}
 }
+
+// TestCertificateCatchesEarlyStop: with a stopping tolerance far too loose
+// the active-set iteration stops before the optimum; the KKT residual
+// recomputed from the original data must expose it (Status Inaccurate,
+// ErrInaccurate), while the answer stays feasible.
+func TestCertificateCatchesEarlyStop(t *testing.T) {
+	x := coverageDesign(30)
+	y := make([]float64, 30)
+	for i := range y {
+		y[i] = 0.5*x.At(i, 0) + 0.1*x.At(i, 1) + 0.01
+	}
+	s, err := NewSolver(x, []bool{true, true, false}, Options{Tol: 0.5})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var res Result
+	err = s.Solve(&res, y)
+	if !errors.Is(err, ErrInaccurate) || res.Status != Inaccurate || res.KKT <= KKTTol {
+		t.Fatalf("err %v, status %v, KKT %g", err, res.Status, res.KKT)
+	}
+	for j, b := range res.Coef[:2] {
+		if b < 0 {
+			t.Errorf("coef[%d] = %g", j, b)
+		}
+	}
+}
