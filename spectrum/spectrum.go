@@ -5,7 +5,32 @@
 //
 // Wavelengths are in nanometres and strictly increasing once a spectrum has
 // been loaded. Errors caused by files name the file, line and column (see
-// [ParseError]).
+// [ParseError]); no reader returns NaN or Inf.
+//
+// # File formats
+//
+// [ReadFile] chooses the reader from the content: JCAMP-DX when the first
+// non-blank line is a "##LABEL=" record, delimited text otherwise.
+//
+// [ReadDelimited] reads a two-column scan (wavelength, value) or a wide
+// table (wavelength, then one column per spectrum) separated by commas,
+// semicolons, tabs or blanks, with decimal points or (when the separator
+// is not a comma) decimal commas. The header (the last text line before
+// the numbers) names the spectra and may say what the values are:
+// "absorbance", "%T", "transmittance" or a bracketed "[A]", "(T)".
+// [WriteDelimited] writes the same layout back, exactly.
+//
+// [ReadJCAMP] reads one UV-Vis spectrum from a JCAMP-DX 4.24/5.x file
+// (##XYDATA=(X++(Y..Y)) in AFFN or ASDF compression, or
+// ##XYPOINTS=(XY..XY)); [WriteJCAMP] writes one, plain or compressed.
+//
+// # Adding a file format
+//
+// Write ReadX(r io.Reader, file string, opt ReadOptions) ([]*Spectrum,
+// error) returning *ParseError values for every problem in the file and
+// spectra that pass [Spectrum.Check]; let ReadFile recognise it by content;
+// add its bad files to the catalogue in testdata/spectra/bad and a fuzz
+// test seeded from them.
 package spectrum
 
 import (
