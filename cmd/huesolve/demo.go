@@ -1,13 +1,18 @@
 package main
 
 import (
+	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
 	"os"
 	"path/filepath"
+	"slices"
+	"strconv"
 	"strings"
 
+	"github.com/olekukonko/tablewriter"
+	"github.com/olekukonko/tablewriter/tw"
 	"github.com/spf13/cobra"
 
 	"huesolve/internal/demo"
@@ -63,11 +68,13 @@ func newDemoCmd() *cobra.Command {
 // demoResultsDir is where the demo's commands write, relative to DIR.
 const demoResultsDir = "results"
 
-// demoStep is one command the demo runs as a user would.
+// demoStep is one or more command lines the demo runs as a user would.
 type demoStep struct {
 	title string
-	args  []string // absolute paths inside the demo folder
-	// want lists the exit codes this step is expected to end with.
+	// runs are the command lines, with absolute paths inside the demo
+	// folder.
+	runs [][]string
+	// want lists the exit codes the command lines are expected to end with.
 	want []int
 	// note is printed after the output: what to look at.
 	note string
@@ -93,33 +100,38 @@ func runDemo(cmd *cobra.Command, opt demoOptions) error {
 	if err := os.MkdirAll(filepath.Join(dir, demoResultsDir), 0o755); err != nil {
 		return err
 	}
-	steps := demoSteps(dir, sc)
+	steps := demoSteps(dir)
 	root := newRootCmd()
 	var missing []string
 	for i, st := range steps {
-		name := st.args[0]
 		fmt.Fprintf(out, "\n== Step %d of %d: %s\n", i+1, len(steps), st.title)
-		fmt.Fprintf(out, "$ huesolve %s\n", displayArgs(dir, st.args))
-		if c, _, err := root.Find(st.args[:1]); err != nil || c == root || c.Name() != name {
-			fmt.Fprintf(out, "(the %s command is not in this build yet; step skipped)\n", name)
-			missing = append(missing, name)
-			continue
-		}
-		if err := cmd.Context().Err(); err != nil {
-			return err
-		}
-		code := Execute(st.args, strings.NewReader(""), out, cmd.ErrOrStderr())
-		if !containsInt(st.want, code) {
-			return fmt.Errorf("demo: step %d (huesolve %s) ended with exit code %d", i+1, name, code)
+		for _, args := range st.runs {
+			name := args[0]
+			fmt.Fprintf(out, "$ huesolve %s\n", displayArgs(dir, args))
+			if c, _, err := root.Find(args[:1]); err != nil || c == root || c.Name() != name {
+				fmt.Fprintf(out, "(the %s command is not in this build; skipped)\n", name)
+				missing = append(missing, name)
+				continue
+			}
+			if err := cmd.Context().Err(); err != nil {
+				return err
+			}
+			code := Execute(args, strings.NewReader(""), out, cmd.ErrOrStderr())
+			if !slices.Contains(st.want, code) {
+				return fmt.Errorf("demo: step %d (huesolve %s) ended with exit code %d", i+1, name, code)
+			}
 		}
 		if st.note != "" {
 			fmt.Fprintln(out, st.note)
 		}
 	}
-	fmt.Fprint(out, demoClosing(dir))
 	if len(missing) > 0 {
-		return &exitError{code: exitFailure, msg: "demo: not in this build yet: " + strings.Join(missing, ", ")}
+		return &exitError{code: exitFailure, msg: "demo: not in this build: " + strings.Join(missing, ", ")}
 	}
+	if err := demoCompare(out, dir, sc); err != nil {
+		return err
+	}
+	fmt.Fprint(out, demoClosing(dir))
 	return nil
 }
 
@@ -183,56 +195,165 @@ func displayArgs(dir string, args []string) string {
 	return strings.Join(shown, " ")
 }
 
-func containsInt(list []int, v int) bool {
-	for _, x := range list {
-		if x == v {
-			return true
-		}
-	}
-	return false
-}
-
-// demoSteps lists the commands the demo runs.
-func demoSteps(dir string, sc *demo.Scenario) []demoStep {
+// demoSteps lists the commands the demo runs, with paths inside dir.
+func demoSteps(dir string) []demoStep {
 	p := func(rel string) string { return filepath.Join(dir, filepath.FromSlash(rel)) }
 	res := func(rel string) string { return p(demoResultsDir + "/" + rel) }
 	refs := res("refs.json")
-	return []demoStep{
-		{
-			title: "build the reference set from the standards",
-			args:  []string{"calibrate", p(demo.StandardsSheet), "-o", refs},
-			want:  []int{exitOK, exitFlagged},
-		},
-		{
-			title: "look at the reference set: figures of merit per dye",
-			args:  []string{"inspect", refs},
-			want:  []int{exitOK},
-		},
-		{
-			title: "check the method on check standards of known composition",
-			args:  []string{"verify", refs, p(demo.ChecksSheet), "--crossval", p(demo.StandardsSheet)},
-			want:  []int{exitOK, exitFlagged},
-		},
-		{
-			title: "solve the production samples",
-			args:  []string{"solve", refs, p(demo.SamplesDir)},
-			want:  []int{exitOK, exitFlagged},
-		},
+	solve := func(extra ...string) []string {
+		return append([]string{"solve", refs, p(demo.SamplesDir), "--blank", p(demo.BlankFile),
+			"--samples", p(demo.SampleSheet)}, extra...)
 	}
+	return []demoStep{{
+		title: "build the reference set from the standards",
+		runs: [][]string{{"calibrate", p(demo.StandardsSheet), "-o", refs,
+			"--plots", res("plots/calibration")}},
+		want: []int{exitOK},
+		note: `Each dye's absorptivity spectrum came out of the standards with its standard
+error; R² near 1 and no flags mean straight calibration lines over the levels
+(Mandel's test found no curvature). Plots: results/plots/calibration.`,
+	}, {
+		title: "how well can the dyes be told apart?",
+		runs:  [][]string{{"inspect", refs}},
+		want:  []int{exitOK},
+		note: `Selectivity below 1 measures the overlap: Corvasine (orange) and Scarlane (red)
+share much of their bands, so a single-wavelength standard curve would mix them
+up. The full-spectrum fit still gives each a detection limit far below the
+lowest standard.`,
+	}, {
+		title: "which wavelength window to fit?",
+		runs:  [][]string{{"window", refs, "--plots", res("plots/window")}},
+		want:  []int{exitOK},
+		note: `Here nearly any wide window does equally well, so the demo fits the whole
+range; with narrower or noisier bands the advice matters more.`,
+	}, {
+		title: "check the method on check standards of known composition",
+		runs: [][]string{
+			{"verify", refs, p(demo.ChecksSheet), "--crossval", p(demo.StandardsSheet),
+				"--plots", res("plots/verify")},
+			{"verify", refs, p(demo.ChecksSheet), "--format", "json", "-o", res("verify.json")},
+		},
+		want: []int{exitOK},
+		note: `Every dye came back within the acceptance limits, and leaving each standard
+level out of the calibration in turn (RMSECV) gives errors of the same size:
+the reference set can be used for samples.`,
+	}, {
+		title: "solve the production samples",
+		runs: [][]string{
+			solve("--plots", res("plots/samples")),
+			solve("--format", "csv", "-o", res("samples.csv")),
+			solve("--format", "json", "-o", res("samples.json")),
+		},
+		want: []int{exitFlagged},
+		note: `Exit code 4: some samples are flagged, as they should be.
+  lot-105     a trace of Ambrelin, found but below the quantitation limit (<loq)
+  lot-106     too dark: readings above the ceiling were left out (sat), and the
+              tool asks for a dilution (dilute); lot-106-d5 is the same batch
+              diluted 1+4 and scanned again, with no flag
+  lot-107     turbid: the haze rises towards the blue, which an offset cannot
+              follow (misfit, pattern); see the next step
+  lot-108     holds a violet dye that is not in the reference set: no choice of
+              the four dyes fits it (misfit, pattern), so its numbers are wrong
+              and must not be reported
+Plots of every fit: results/plots/samples.`,
+	}, {
+		title: "refit the turbid sample with a scattering term",
+		runs: [][]string{{"solve", refs, p(demo.SamplesDir + "/lot-107.csv"), "--blank", p(demo.BlankFile),
+			"--baseline", "offset+scatter"}},
+		want: []int{exitOK},
+		note: `With a λ^-4 scattering term in the baseline the turbid sample fits to the
+noise and its dyes come out right. Filtering or centrifuging the solution
+before scanning is still the better cure.`,
+	}}
+}
+
+// demoResults is the part of the solve JSON file the demo compares.
+type demoResults struct {
+	Format  string `json:"format"`
+	Samples []struct {
+		Sample  string `json:"sample"`
+		Amounts []struct {
+			Compound string   `json:"compound"`
+			Conc     float64  `json:"conc"`
+			SE       float64  `json:"se"`
+			Flags    []string `json:"flags"`
+		} `json:"amounts"`
+		Flags []string `json:"flags"`
+	} `json:"samples"`
+}
+
+// readDemoResults reads a solve JSON file.
+func readDemoResults(path string) (*demoResults, error) {
+	data, err := os.ReadFile(path)
+	if err != nil {
+		return nil, fmt.Errorf("demo: %w", err)
+	}
+	var r demoResults
+	if err := json.Unmarshal(data, &r); err != nil {
+		return nil, fmt.Errorf("demo: %s: %w", path, err)
+	}
+	return &r, nil
+}
+
+// demoCompare prints, for every sample, what solve found beside what the
+// demo put in.
+func demoCompare(w io.Writer, dir string, sc *demo.Scenario) error {
+	res, err := readDemoResults(filepath.Join(dir, demoResultsDir, "samples.json"))
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(w, "\n== Found (results/samples.json) against put in (%s), mg/L\n", demo.TruthFile)
+	header := []string{"Sample"}
+	for _, d := range sc.Dyes {
+		header = append(header, d.Name)
+	}
+	header = append(header, "Sample flags")
+	table := tablewriter.NewTable(w,
+		tablewriter.WithHeaderAutoFormat(tw.Off),
+		tablewriter.WithRowAutoWrap(tw.WrapNone),
+	)
+	table.Header(header)
+	for _, r := range res.Samples {
+		s := sc.Sample(r.Sample)
+		if s == nil {
+			return fmt.Errorf("demo: results/samples.json: sample %q is not one of the demo's", r.Sample)
+		}
+		row := []string{r.Sample}
+		for k, d := range sc.Dyes {
+			cell := "-"
+			for _, a := range r.Amounts {
+				if a.Compound == d.Name {
+					cell = strconv.FormatFloat(a.Conc, 'f', 2, 64) + " / " + strconv.FormatFloat(s.Conc[k], 'g', -1, 64)
+				}
+			}
+			row = append(row, cell)
+		}
+		row = append(row, strings.Join(r.Flags, ","))
+		if err := table.Append(row); err != nil {
+			return fmt.Errorf("demo: table: %w", err)
+		}
+	}
+	if err := table.Render(); err != nil {
+		return fmt.Errorf("demo: table: %w", err)
+	}
+	fmt.Fprintln(w, "Each cell: found / put in. lot-107 is shown from the offset-only fit of step 5.")
+	return nil
 }
 
 func demoClosing(dir string) string {
 	return fmt.Sprintf(`
-What you are looking at: %s holds the invented scans and sheets, and
-results/ what the commands wrote. Compare the solved concentrations with
-invented-truth.csv, and see how each troubled sample was flagged.
+What you are looking at: %s holds the invented scans and sheets;
+results/ holds what the commands wrote (the reference set refs.json,
+verify.json, samples.csv and samples.json) and plots/ the figures.
 
 To run the same job on your own data:
-  huesolve calibrate STANDARDS-SHEET -o refs.json
+  huesolve look SCAN...                       check that your files read as you expect
+  huesolve calibrate STANDARDS-SHEET -o refs.json --plots plots
   huesolve inspect refs.json
+  huesolve window refs.json
   huesolve verify refs.json CHECKS-SHEET
-  huesolve solve refs.json SCANS...
-See README.md for the file formats and what each flag means.
+  huesolve solve refs.json SCAN... --blank BLANK --samples SAMPLE-SHEET -o results.csv --format csv
+README.md describes the file formats, every option and what each flag means.
 
 Caution: results support, but do not replace, a validated analytical method.
 For food, drug, water or other regulated testing follow local regulations,

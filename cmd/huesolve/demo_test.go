@@ -1,8 +1,10 @@
 package main
 
 import (
+	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strings"
 	"testing"
 
@@ -44,5 +46,113 @@ func TestDemoRefusesForeignFolder(t *testing.T) {
 	}
 	if _, err := os.Stat(filepath.Join(dir, demo.StandardsSheet)); err == nil {
 		t.Error("files were written into a folder holding other files")
+	}
+}
+
+// Tolerances of the demo check.
+const (
+	// demoSEs bounds |found - put in| in standard errors of the result.
+	demoSEs = 4
+	// demoRel adds a share of the true value for calibration error, which
+	// the per-sample standard error leaves out.
+	demoRel = 0.005
+)
+
+// TestDemoRecoversTruth runs the whole demo and compares solve's results
+// with the concentrations the scenario put in (the invented truth), and
+// checks that each troubled sample carries the flags it should.
+func TestDemoRecoversTruth(t *testing.T) {
+	dir := filepath.Join(t.TempDir(), "case")
+	out, errOut, code := run(t, "demo", dir)
+	if code != exitOK {
+		t.Fatalf("demo: exit code %d\nstderr:\n%s\nstdout:\n%s", code, errOut, out)
+	}
+	for _, f := range []string{
+		"results/refs.json", "results/verify.json", "results/samples.csv", "results/samples.json",
+		"results/plots/calibration/absorptivity.png", "results/plots/window/window-error.png",
+		"results/plots/verify/verify-scarlane.png", "results/plots/samples/0001-lot-101.png",
+	} {
+		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
+			t.Errorf("demo did not write %s: %v", f, err)
+		}
+	}
+	sc := demo.New()
+	res, err := readDemoResults(filepath.Join(dir, "results", "samples.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(res.Samples) != len(sc.Samples) {
+		t.Fatalf("samples.json holds %d samples, the demo made %d", len(res.Samples), len(sc.Samples))
+	}
+	sampleFlags := map[string][]string{}
+	amountFlags := map[string][]string{} // "sample/compound"
+	for _, r := range res.Samples {
+		s := sc.Sample(r.Sample)
+		if s == nil {
+			t.Fatalf("samples.json: unknown sample %q", r.Sample)
+		}
+		sampleFlags[r.Sample] = r.Flags
+		if len(r.Amounts) != len(sc.Dyes) {
+			t.Fatalf("%s: %d amounts, want %d", r.Sample, len(r.Amounts), len(sc.Dyes))
+		}
+		for k, a := range r.Amounts {
+			if a.Compound != sc.Dyes[k].Name {
+				t.Fatalf("%s: amount %d is %s, want %s", r.Sample, k, a.Compound, sc.Dyes[k].Name)
+			}
+			amountFlags[r.Sample+"/"+a.Compound] = a.Flags
+			if s.Trouble != demo.Normal && s.Trouble != demo.DilutedAgain && s.Trouble != demo.NearLimit {
+				continue
+			}
+			want := s.Conc[k]
+			if tol := demoSEs*a.SE + demoRel*want; math.Abs(a.Conc-want) > tol {
+				t.Errorf("%s %s = %.4f ± %.4f mg/L, put in %g (tolerance %.4f)", r.Sample, a.Compound, a.Conc, a.SE, want, tol)
+			}
+		}
+	}
+	warning := map[string]bool{"over": true, "mimic": true, "dilute": true, "misfit": true,
+		"pattern": true, "shift-max": true, "illcond": true, "noconv": true}
+	for _, s := range sc.Samples {
+		fl := sampleFlags[s.Name]
+		has := func(f string) bool { return slices.Contains(fl, f) }
+		switch s.Trouble {
+		case demo.Normal, demo.DilutedAgain:
+			for _, f := range fl {
+				if warning[f] {
+					t.Errorf("%s (a normal sample) is flagged %s", s.Name, f)
+				}
+			}
+		case demo.NearLimit:
+			f := amountFlags[s.Name+"/"+sc.Dyes[0].Name]
+			if !slices.Contains(f, "<loq") && !slices.Contains(f, "<lod") {
+				t.Errorf("%s: %s flags %v, want <loq or <lod", s.Name, sc.Dyes[0].Name, f)
+			}
+		case demo.TooStrong:
+			if !has("sat") || !has("dilute") {
+				t.Errorf("%s: flags %v, want sat and dilute", s.Name, fl)
+			}
+		case demo.Turbid, demo.UnlistedDye:
+			if !has("misfit") && !has("pattern") {
+				t.Errorf("%s: flags %v, want misfit or pattern", s.Name, fl)
+			}
+		}
+	}
+
+	// The demo's advice for the turbid sample: a scattering term fixes it.
+	turbid := filepath.Join(dir, "results", "turbid.json")
+	_, errOut, code = run(t, "solve", filepath.Join(dir, "results", "refs.json"),
+		filepath.Join(dir, "samples", "lot-107.csv"), "--blank", filepath.Join(dir, demo.BlankFile),
+		"--baseline", "offset+scatter", "--format", "json", "-o", turbid)
+	if code != exitOK {
+		t.Fatalf("turbid refit: exit code %d, stderr %q", code, errOut)
+	}
+	tr, err := readDemoResults(turbid)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := sc.Sample("lot-107")
+	for k, a := range tr.Samples[0].Amounts {
+		if tol := demoSEs*a.SE + demoRel*s.Conc[k]; math.Abs(a.Conc-s.Conc[k]) > tol {
+			t.Errorf("lot-107 with scatter term: %s = %.4f ± %.4f, put in %g", a.Compound, a.Conc, a.SE, s.Conc[k])
+		}
 	}
 }
