@@ -187,7 +187,36 @@ func newLineReader(r io.Reader, file string, maxLine int, sizeHint int64) *lineR
 		initial = int(sizeHint) + 1
 	}
 	sc.Buffer(make([]byte, initial), maxLine+2) // +2 for the CRLF
+	sc.Split(scanLines)
 	return &lineReader{sc: sc, file: file, max: maxLine}
+}
+
+// scanLines is bufio.ScanLines that also ends a line at a lone CR (files
+// from old instruments end lines with CR only).
+func scanLines(data []byte, atEOF bool) (advance int, token []byte, err error) {
+	if atEOF && len(data) == 0 {
+		return 0, nil, nil
+	}
+	end := bytes.IndexByte(data, '\n')
+	scope := data
+	if end >= 0 {
+		scope = data[:end]
+	}
+	if r := bytes.IndexByte(scope, '\r'); r >= 0 && r != len(scope)-1 || (r >= 0 && end < 0) {
+		// A CR before the last byte of the line: a line of its own.
+		// (A CR at the very end of the buffer may be the start of CRLF.)
+		if end < 0 && r == len(data)-1 && !atEOF {
+			return 0, nil, nil
+		}
+		return r + 1, data[:r], nil
+	}
+	if end >= 0 {
+		return end + 1, bytes.TrimSuffix(data[:end], []byte{'\r'}), nil
+	}
+	if atEOF {
+		return len(data), data, nil
+	}
+	return 0, nil, nil
 }
 
 // next returns the next line, or ok=false at the end of input (err tells

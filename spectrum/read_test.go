@@ -3,12 +3,14 @@ package spectrum
 import (
 	"bytes"
 	"errors"
+	"io"
 	"math"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
+	"testing/iotest"
 	"unsafe"
 )
 
@@ -443,5 +445,29 @@ func TestDetectFormat(t *testing.T) {
 		if got := looksJCAMP([]byte(c.head)); got != c.jcamp {
 			t.Errorf("looksJCAMP(%q) = %v", c.head, got)
 		}
+	}
+}
+
+func TestLineEnds(t *testing.T) {
+	for _, in := range []string{
+		"nm,A\n400,1\n401,2\n",
+		"nm,A\r\n400,1\r\n401,2\r\n",
+		"nm,A\r400,1\r401,2\r",
+		"nm,A\r400,1\r401,2",
+		"nm,A\n400,1\r\n401,2",
+	} {
+		// iotest-like one-byte reads exercise every split point.
+		for _, r := range []io.Reader{strings.NewReader(in), iotest.OneByteReader(strings.NewReader(in))} {
+			ss, err := ReadDelimited(r, "le.csv", ReadOptions{})
+			if err != nil || !equalFloats(ss[0].Values, []float64{1, 2}) {
+				t.Errorf("line ends %q: %v %v", in, ss, err)
+			}
+		}
+	}
+	// Line numbers count CR-only lines.
+	_, err := ReadDelimited(strings.NewReader("nm,A\r400,1\r401,x\r"), "le.csv", ReadOptions{})
+	var pe *ParseError
+	if !errors.As(err, &pe) || pe.Line != 3 {
+		t.Errorf("CR-only error line: %v", err)
 	}
 }
