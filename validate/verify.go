@@ -282,8 +282,21 @@ func Verify(set *reference.Set, sheet *reference.Sheet, opt VerifyOptions) (*Ver
 	if err != nil {
 		return nil, err
 	}
+	lo, hi := opt.Model.WindowLo, opt.Model.WindowHi
+	if opt.Model.Shift && len(set.Grid) > 1 {
+		// The sample model keeps the maximum shift clear of the grid's
+		// ends; so do the merits.
+		if lo == 0 && hi == 0 {
+			lo, hi = set.Grid[0], set.Grid[len(set.Grid)-1]
+		}
+		ms := opt.Model.MaxShiftNM
+		if ms == 0 {
+			ms = unmix.DefaultMaxShiftNM
+		}
+		lo, hi = math.Max(lo, set.Grid[0]+ms), math.Min(hi, set.Grid[len(set.Grid)-1]-ms)
+	}
 	merits, err := FiguresOfMerit(set, MeritOptions{
-		WindowLo: opt.Model.WindowLo, WindowHi: opt.Model.WindowHi, Baseline: opt.Model.Baseline,
+		WindowLo: lo, WindowHi: hi, Baseline: opt.Model.Baseline,
 		Weighted: opt.Model.Weighted, MinSelectivity: opt.MinSelectivity,
 	})
 	if err != nil {
