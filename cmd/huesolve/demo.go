@@ -100,6 +100,7 @@ func runDemo(cmd *cobra.Command, opt demoOptions) error {
 	if err := os.MkdirAll(filepath.Join(dir, demoResultsDir), 0o755); err != nil {
 		return err
 	}
+	fmt.Fprintf(out, "Each step shows its command line after \"$\"; to repeat one yourself, change into %s first.\n", dir)
 	steps := demoSteps(dir)
 	root := newRootCmd()
 	var missing []string
@@ -145,49 +146,53 @@ func demoDir(dir string) (string, error) {
 		}
 		return d, nil
 	}
-	abs, err := filepath.Abs(dir)
-	if err != nil {
-		return "", fmt.Errorf("demo: %w", err)
-	}
-	entries, err := os.ReadDir(abs)
+	dir = filepath.Clean(dir)
+	entries, err := os.ReadDir(dir)
 	switch {
 	case errors.Is(err, os.ErrNotExist):
-		if err := os.MkdirAll(abs, 0o755); err != nil {
+		if err := os.MkdirAll(dir, 0o755); err != nil {
 			return "", fmt.Errorf("demo: %w", err)
 		}
-		return abs, nil
+		return dir, nil
 	case err != nil:
 		return "", fmt.Errorf("demo: %w", err)
 	}
 	if len(entries) > 0 {
-		if _, err := os.Stat(filepath.Join(abs, demo.TruthFile)); err != nil {
+		if _, err := os.Stat(filepath.Join(dir, demo.TruthFile)); err != nil {
 			return "", usagef("demo: %s is not empty and holds no earlier demo; give a new or empty folder", dir)
 		}
 	}
-	return abs, nil
+	return dir, nil
 }
 
 func describeDemoFiles(w io.Writer, sc *demo.Scenario) {
 	fmt.Fprintf(w, "  %-20s %d calibration scans: blanks, each dye alone at six levels in duplicate, two mixtures\n",
 		demo.StandardsSheet, len(sc.Standards))
-	fmt.Fprintf(w, "  %-20s %d check standards of known composition, in one wide table\n", demo.ChecksSheet, len(sc.Checks))
+	checks := 0
+	for _, c := range sc.Checks {
+		if slices.ContainsFunc(c.Conc, func(v float64) bool { return v != 0 }) {
+			checks++
+		}
+	}
+	fmt.Fprintf(w, "  %-20s %d check standards of known composition and their blank, in one wide table\n", demo.ChecksSheet, checks)
 	fmt.Fprintf(w, "  %-20s %d production samples: two-column CSV, a wide table, a %%T file, a JCAMP-DX file\n",
 		demo.SamplesDir+"/", len(sc.Samples))
+	fmt.Fprintf(w, "  %-20s blank of the product base, scanned with the samples\n", demo.BlankFile)
 	fmt.Fprintf(w, "  %-20s dilution factor and path length of each sample\n", demo.SampleSheet)
 	fmt.Fprintf(w, "  %-20s the concentrations the demo put in (a real lab would not have this file)\n", demo.TruthFile)
 }
 
-// displayArgs shows args as typed from inside the demo folder.
+// displayArgs shows args as typed from inside the demo folder dir.
 func displayArgs(dir string, args []string) string {
 	shown := make([]string, len(args))
+	prefix := dir + string(filepath.Separator)
 	for i, a := range args {
-		if r, err := filepath.Rel(dir, a); err == nil && filepath.IsAbs(a) && !strings.HasPrefix(r, "..") {
-			a = filepath.ToSlash(r)
-			if a == "." {
-				a = "./"
-			}
+		if a == dir {
+			a = "."
+		} else if strings.HasPrefix(a, prefix) {
+			a = filepath.ToSlash(strings.TrimPrefix(a, prefix))
 		}
-		if strings.ContainsAny(a, " \t'\"*?") {
+		if strings.ContainsAny(a, " \t'\"*?$") {
 			a = "'" + strings.ReplaceAll(a, "'", `'\''`) + "'"
 		}
 		shown[i] = a
