@@ -27,7 +27,8 @@ func givensSubset(mm, rhs, a []float64, k, lda int, cols []int, b []float64) {
 				continue
 			}
 			hi := mm[(r-1)*m+c]
-			h := math.Hypot(hi, lo)
+			// Entries are bounded by the unit column norms: no overflow.
+			h := math.Sqrt(hi*hi + lo*lo)
 			cs, sn := hi/h, lo/h
 			mm[(r-1)*m+c] = h
 			mm[r*m+c] = 0

@@ -115,11 +115,19 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 
 	// Residual from the original data.
 	r := dst.Residual
-	copy(r, y)
+	first := true
 	for j := range p {
 		if b := dst.Coef[j]; b != 0 {
-			floats.AddScaled(r, -b, f.x[j*n:(j+1)*n])
+			if first {
+				floats.AddScaledTo(r, y, -b, f.x[j*n:(j+1)*n])
+				first = false
+			} else {
+				floats.AddScaled(r, -b, f.x[j*n:(j+1)*n])
+			}
 		}
+	}
+	if first {
+		copy(r, y)
 	}
 
 	// Residual statistics in one pass.
@@ -167,11 +175,14 @@ func (s *Solver) stats(dst *Result, y []float64, mean float64) {
 	f := s.f
 	n := f.n
 	r := dst.Residual
+	e2 := s.ws.e2
 	var rss, wrss, tss, dw, yw float64
 	if f.invSigma == nil {
 		prev := r[0]
 		for i, e := range r {
-			rss += e * e
+			q := e * e
+			e2[i] = q
+			rss += q
 			d := y[i] - mean
 			tss += d * d
 			yw += y[i] * y[i]
@@ -190,13 +201,15 @@ func (s *Solver) stats(dst *Result, y []float64, mean float64) {
 			v := y[i] * is[i]
 			yw += v * v
 			e *= is[i]
-			wrss += e * e
+			q := e * e
+			e2[i] = q
+			wrss += q
 			de := e - prev
 			dw += de * de
 			prev = e
 		}
 	}
-	dst.WorstLo, dst.WorstHi = worstBand(r, f.invSigma, BandWidth(n))
+	dst.WorstLo, dst.WorstHi = worstBand(e2, BandWidth(n))
 	s.ws.ywss = yw
 	dst.RSS = rss
 	dst.WRSS = wrss
@@ -212,23 +225,16 @@ func (s *Solver) stats(dst *Result, y []float64, mean float64) {
 }
 
 // worstBand returns the first and last row of the window of bw rows with
-// the largest sum of squared weighted residuals (r_i * invSigma_i; the
-// first such window on ties).
-func worstBand(r, invSigma []float64, bw int) (lo, hi int) {
-	sq := func(i int) float64 {
-		e := r[i]
-		if invSigma != nil {
-			e *= invSigma[i]
-		}
-		return e * e
-	}
+// the largest sum of e2 (the squared weighted residuals; the first such
+// window on ties).
+func worstBand(e2 []float64, bw int) (lo, hi int) {
 	var win float64
-	for i := range bw {
-		win += sq(i)
+	for _, v := range e2[:bw] {
+		win += v
 	}
 	best, bestLo := win, 0
-	for i := bw; i < len(r); i++ {
-		win += sq(i) - sq(i-bw)
+	for i := bw; i < len(e2); i++ {
+		win += e2[i] - e2[i-bw]
 		if win > best {
 			best, bestLo = win, i-bw+1
 		}

@@ -106,6 +106,7 @@ type workspace struct {
 	d2       []float64 // len p: diag((T'T)^-1) in factor order
 	ywss     float64   // ||W^(1/2) y||^2 of the last solve
 	bu       []float64 // len p: unconstrained scaled coefficients, factor order
+	e2       []float64 // len n: squared weighted residuals
 	tq       []float64 // 0.975 quantiles of Student t by degrees of freedom (0: not yet computed)
 }
 
@@ -438,6 +439,7 @@ func (ws *workspace) init(f *factor) {
 	ws.tinv = grow(ws.tinv, p*p)
 	ws.d2 = grow(ws.d2, p)
 	ws.bu = grow(ws.bu, p)
+	ws.e2 = grow(ws.e2, f.n)
 	if len(ws.tq) != f.n+1 {
 		ws.tq = make([]float64, f.n+1)
 	}
