@@ -85,7 +85,8 @@
 // KKT gradient) plus O(n) for the statistics and O(p^3) for the active
 // set and standard errors. Weights that change from one y to the next
 // (Options.Sigma) are part of the factorisation, so they need a new
-// Solver per y: O(n p^2) per spectrum instead of O(n p).
+// factorisation per y: O(n p^2) per spectrum instead of O(n p), with
+// [Solver.Reset] reusing the storage of one Solver.
 //
 // # Conditioning
 //

@@ -130,7 +130,7 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 		copy(r, y)
 	}
 
-	// Residual statistics in one pass.
+	// Residual statistics.
 	s.stats(dst, y, sumY/float64(n))
 	if math.IsInf(ws.ywss, 0) {
 		return fmt.Errorf("lsq: sum of squares of y overflows: %w", ErrNonFinite)
