@@ -27,6 +27,10 @@ type SheetOptions struct {
 	Quantity spectrum.Quantity
 	// Warn receives warnings; nil discards them.
 	Warn func(msg string)
+	// Checks reads a sheet of check standards: a compound may then hold
+	// the same concentration in every row (replicates of one mixture),
+	// which a calibration sheet may not.
+	Checks bool
 }
 
 // Row is one row of a standards sheet with its scan loaded.
@@ -277,8 +281,10 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 	if len(sh.Standards) == 0 {
 		return nil, perr(0, 0, "%w: no standards: every row has all concentrations zero (blanks only)", ErrConcentration)
 	}
-	if err := sh.checkVariation(); err != nil {
-		return nil, err
+	if !opt.Checks {
+		if err := sh.checkVariation(); err != nil {
+			return nil, err
+		}
 	}
 	return sh, nil
 }

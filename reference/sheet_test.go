@@ -195,6 +195,23 @@ func TestReadSheetErrors(t *testing.T) {
 	}
 }
 
+// TestReadSheetChecksAllowConstant: a check-standard sheet may hold
+// replicates of one mixture, which a calibration sheet may not.
+func TestReadSheetChecksAllowConstant(t *testing.T) {
+	dir := sheetDir(t)
+	p := writeSheet(t, dir, "checks.csv", "scan,dye\ns1.csv,1\ns2.csv,1\n")
+	if _, err := ReadSheet(p, SheetOptions{}); !errors.Is(err, ErrNoVariation) {
+		t.Fatalf("calibration sheet: err = %v, want ErrNoVariation", err)
+	}
+	sh, err := ReadSheet(p, SheetOptions{Checks: true})
+	if err != nil {
+		t.Fatalf("check sheet: %v", err)
+	}
+	if len(sh.Standards) != 2 {
+		t.Fatalf("check sheet has %d standards, want 2", len(sh.Standards))
+	}
+}
+
 // FuzzReadSheet feeds arbitrary sheets (naming the scans of sheetDir) to
 // ReadSheet: it must never panic, and a sheet it accepts must have a
 // finite, non-negative concentration for every compound of every row.

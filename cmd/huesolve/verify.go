@@ -3,7 +3,6 @@ package main
 import (
 	"encoding/csv"
 	"encoding/json"
-	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -277,14 +276,11 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	return nil
 }
 
-// valReadCheckSheet reads a check-standard sheet, explaining the one rule of
-// the standards-sheet reader that does not fit check standards.
+// valReadCheckSheet reads a check-standard sheet: replicates of a single
+// mixture are allowed there, unlike in a calibration sheet.
 func valReadCheckSheet(path string, opt reference.SheetOptions) (*reference.Sheet, error) {
-	sh, err := reference.ReadSheet(path, opt)
-	if errors.Is(err, reference.ErrNoVariation) {
-		return nil, fmt.Errorf("%w\n(the sheet reader asks every compound to vary, as calibration needs; for check standards add a row for a blank or another level)", err)
-	}
-	return sh, err
+	opt.Checks = true
+	return reference.ReadSheet(path, opt)
 }
 
 // valParsePercentRange reads "LO-HI" in percent.
