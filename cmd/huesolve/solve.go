@@ -281,8 +281,10 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 				if out.Result != nil {
 					what = out.Result.Sample + " (" + out.File + ")"
 				}
-				if out.Unread {
-					fmt.Fprintf(errw, "huesolve: skipped %s: %v\n", out.File, out.Err)
+				if msg := out.Err.Error(); out.Unread && strings.HasPrefix(msg, out.File+":") {
+					fmt.Fprintf(errw, "huesolve: skipped %s\n", msg)
+				} else if out.Unread {
+					fmt.Fprintf(errw, "huesolve: skipped %s: %s\n", out.File, msg)
 				} else {
 					fmt.Fprintf(errw, "huesolve: %s: %v\n", what, out.Err)
 				}
