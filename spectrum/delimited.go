@@ -386,31 +386,32 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 		d.opt.warnf(d.file, "the header states another quantity for %s; reading %s as requested", columnList(overridden, ns), d.opt.Quantity)
 	}
 	if len(unstated) > 0 {
-		d.opt.warnf(d.file, "the header does not say whether %s holds absorbance, %%T or T; reading absorbance (state it with a header word or the quantity option)", columnList(unstated, ns))
+		d.opt.warnf(d.file, "the header does not say whether %s are absorbance, %%T or T; reading absorbance (state it with a header word or the quantity option)", columnList(unstated, ns))
 	}
 	if c := odd[looksPct]; len(c) > 0 {
-		d.opt.warnf(d.file, "WARNING: in %s nearly all values lie between %g and %g, which looks like percent transmittance, not absorbance; if so, say %%T in the header or with the quantity option, or every result will be wrong", columnList(c, ns), pctTLow, pctTHigh)
+		d.opt.warnf(d.file, "WARNING: nearly all of %s lie between %g and %g, which looks like percent transmittance, not absorbance; if so, say %%T in the header or with the quantity option, or every result will be wrong", columnList(c, ns), pctTLow, pctTHigh)
 	}
 	if c := odd[looksPctNotFraction]; len(c) > 0 {
-		d.opt.warnf(d.file, "WARNING: in %s values read as transmittance fraction (0..1) mostly exceed %g; they look like percent transmittance", columnList(c, ns), fractionTMax)
+		d.opt.warnf(d.file, "WARNING: %s, read as transmittance fraction (0..1), mostly exceed %g; they look like percent transmittance", columnList(c, ns), fractionTMax)
 	}
 	return out, nil
 }
 
-// columnList names columns for a message: "the values", "column 3",
-// "columns 2, 3, 4" or "1000 columns (2, 3, 4, ...)".
+// columnList names columns for a message: "the values", "the values in
+// column 3", "the values in columns 2, 3, 4" or "the values in 1000
+// columns (2, 3, 4, 5, 6, ...)".
 func columnList(cols []int, ns int) string {
 	if ns == 1 {
 		return "the values"
 	}
 	if len(cols) == 1 {
-		return "column " + strconv.Itoa(cols[0])
+		return "the values in column " + strconv.Itoa(cols[0])
 	}
 	var b strings.Builder
 	if len(cols) > 5 {
-		fmt.Fprintf(&b, "%d columns (", len(cols))
+		fmt.Fprintf(&b, "the values in %d columns (", len(cols))
 	} else {
-		b.WriteString("columns ")
+		b.WriteString("the values in columns ")
 	}
 	for i, c := range cols {
 		if i == 5 {
