@@ -156,3 +156,24 @@ func TestDemoRecoversTruth(t *testing.T) {
 		}
 	}
 }
+
+// TestDemoDefaultFolder checks that without DIR the demo makes a fresh
+// temporary folder and names it.
+func TestDemoDefaultFolder(t *testing.T) {
+	tmp := t.TempDir()
+	t.Setenv("TMPDIR", tmp)
+	out, errOut, code := run(t, "demo", "--files-only")
+	if code != exitOK {
+		t.Fatalf("exit code %d, stderr %q", code, errOut)
+	}
+	made, err := filepath.Glob(filepath.Join(tmp, "huesolve-demo-*"))
+	if err != nil || len(made) != 1 {
+		t.Fatalf("folders made in TMPDIR: %v (%v)", made, err)
+	}
+	if !strings.Contains(out, made[0]) {
+		t.Errorf("output does not name %s:\n%s", made[0], out)
+	}
+	if _, err := os.Stat(filepath.Join(made[0], demo.StandardsSheet)); err != nil {
+		t.Error(err)
+	}
+}
