@@ -210,6 +210,14 @@ func demoSteps(dir string) []demoStep {
 			"--samples", p(demo.SampleSheet)}, extra...)
 	}
 	return []demoStep{{
+		title: "check how scan files in other formats read",
+		runs: [][]string{{"look", p(demo.SamplesDir + "/lot-112.jdx"), p(demo.SamplesDir + "/lot-113-pct-t.csv"),
+			p(demo.SamplesDir + "/run-2.csv")}},
+		want: []int{exitOK},
+		note: `A JCAMP-DX file, a file of percent transmittance (turned into absorbance
+when used) and a wide table holding three samples: all read on the same
+350-750 nm grid.`,
+	}, {
 		title: "build the reference set from the standards",
 		runs: [][]string{{"calibrate", p(demo.StandardsSheet), "-o", refs,
 			"--plots", res("plots/calibration")}},
@@ -341,7 +349,7 @@ func demoCompare(w io.Writer, dir string, sc *demo.Scenario) error {
 	if err := table.Render(); err != nil {
 		return fmt.Errorf("demo: table: %w", err)
 	}
-	fmt.Fprintln(w, "Each cell: found / put in. lot-107 is shown from the offset-only fit of step 5.")
+	fmt.Fprintln(w, "Each cell: found / put in. lot-107 is shown from the offset-only fit of step 6.")
 	return nil
 }
 
