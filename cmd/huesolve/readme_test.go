@@ -1,7 +1,9 @@
 package main
 
 import (
+	"flag"
 	"os"
+	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
@@ -14,6 +16,9 @@ import (
 
 // readmePath is the README, relative to this package's folder.
 const readmePath = "../../README.md"
+
+var updateReadme = flag.Bool("update-readme", false,
+	"refresh the demo output pasted in README.md (the lines it already shows, with today's numbers)")
 
 // readmeLine is one line of the README with its line number.
 type readmeLine struct {
@@ -91,6 +96,10 @@ func normalise(s string) string {
 // and table widths, in order, with "…" marking cuts), then runs every
 // "$ huesolve ..." line of the walkthrough again from inside the demo
 // folder, as the demo tells the user they can.
+//
+// When only numbers or table widths changed, go test ./cmd/huesolve -run
+// ReadmeWalkthrough -update-readme rewrites the pasted lines from today's
+// run; changed wording needs the output pasted again by hand.
 func TestReadmeWalkthrough(t *testing.T) {
 	lines := readReadme(t)
 	walk := readmeSection(lines, "## The demo, step by step")
@@ -111,17 +120,23 @@ func TestReadmeWalkthrough(t *testing.T) {
 		t.Fatal("the walkthrough does not show the command \"huesolve demo plumwick\"")
 	}
 
+	readmeAbs, err := filepath.Abs(readmePath)
+	if err != nil {
+		t.Fatal(err)
+	}
 	t.Chdir(t.TempDir())
 	out, errOut, code := run(t, "demo", "plumwick")
 	if code != exitOK {
 		t.Fatalf("demo plumwick: exit code %d\nstderr:\n%s", code, errOut)
 	}
-	var got []string
+	var got, raw []string
 	for _, l := range strings.Split(out, "\n") {
 		if n := normalise(l); n != "" {
 			got = append(got, n)
+			raw = append(raw, l)
 		}
 	}
+	fresh := map[int]string{} // README line number -> the demo's line today
 	k := 0
 	for _, l := range pasted {
 		want := normalise(l.text)
@@ -135,7 +150,25 @@ func TestReadmeWalkthrough(t *testing.T) {
 			t.Fatalf("README.md:%d: %q is not in the demo's output (in this order); run the demo and paste its output again.\nDemo output:\n%s",
 				l.n, l.text, out)
 		}
+		fresh[l.n] = raw[k]
 		k++
+	}
+	if *updateReadme {
+		var b strings.Builder
+		for i, l := range lines {
+			if i > 0 {
+				b.WriteByte('\n')
+			}
+			if f, ok := fresh[l.n]; ok {
+				b.WriteString(f)
+			} else {
+				b.WriteString(l.text)
+			}
+		}
+		if err := os.WriteFile(readmeAbs, []byte(b.String()), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		t.Logf("refreshed %d pasted lines of %s", len(fresh), readmeAbs)
 	}
 
 	t.Chdir("plumwick")
