@@ -2,9 +2,11 @@ package report
 
 import (
 	"bufio"
-	"encoding/csv"
 	"io"
+	"math"
 	"strconv"
+	"strings"
+	"unicode"
 	"unicode/utf8"
 
 	"huesolve/unmix"
@@ -17,18 +19,19 @@ import (
 // points_dropped, shift_nm, dilution, path_cm, suggest_dilution, one
 // baseline_TERM per baseline term, and flags. Numbers have 6 significant
 // digits; an undefined number is written "n/a"; flags are separated by
-// spaces. Failed samples are not written (Fail does nothing): the command
-// reports them on stderr.
+// spaces; fields are quoted as RFC 4180 (and encoding/csv) do. Failed
+// samples are not written (Fail does nothing): the command reports them
+// on stderr.
 type CSVWriter struct {
-	w      *csv.Writer
+	w      *bufio.Writer
 	l      Layout
-	row    []string
+	buf    []byte
 	header bool
 }
 
 // NewCSVWriter returns a CSV writer for results of layout l.
 func NewCSVWriter(w io.Writer, l Layout) *CSVWriter {
-	return &CSVWriter{w: csv.NewWriter(w), l: l}
+	return &CSVWriter{w: bufio.NewWriter(w), l: l}
 }
 
 // Header returns the column names.
@@ -52,40 +55,85 @@ func (c *CSVWriter) writeHeader() error {
 		return nil
 	}
 	c.header = true
-	return c.w.Write(c.Header())
+	var b []byte
+	for i, h := range c.Header() {
+		if i > 0 {
+			b = append(b, ',')
+		}
+		b = appendCSVField(b, h)
+	}
+	_, err := c.w.Write(append(b, '\n'))
+	return err
+}
+
+// AppendResult appends r's row, with its line end, to dst. It does not
+// touch the writer, so it may run concurrently (see Encoder).
+func (c *CSVWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
+	b := appendCSVField(dst, r.Sample)
+	b = append(b, ',')
+	b = appendCSVField(b, r.Source)
+	field := func(v float64) {
+		b = append(b, ',')
+		b = appendNum(b, v)
+	}
+	for k, n := range c.l.Compounds {
+		a := amountOf(r, k, n)
+		if a == nil {
+			b = append(b, ",n/a,n/a,n/a,n/a,n/a,n/a,,"...)
+			continue
+		}
+		field(a.Conc)
+		field(a.SE)
+		field(a.Lo)
+		field(a.Hi)
+		field(a.LOD)
+		field(a.LOQ)
+		b = append(b, ',')
+		b = appendCSVField(b, a.Unit)
+		b = append(b, ',')
+		b = appendCSVField(b, joinFlags(a.Flags, " "))
+	}
+	field(r.RMS)
+	field(r.ChiSqRed)
+	field(r.DW)
+	field(r.R2)
+	field(r.Cond)
+	b = append(b, ',')
+	b = strconv.AppendInt(b, int64(r.Points), 10)
+	b = append(b, ',')
+	b = strconv.AppendInt(b, int64(r.Dropped), 10)
+	field(r.ShiftNM)
+	field(r.Dilution)
+	field(r.PathCM)
+	b = append(b, ',')
+	if r.SuggestDilution > 0 {
+		b = appendNum(b, r.SuggestDilution)
+	}
+	for _, t := range c.l.Baseline {
+		v, ok := r.Baseline[t]
+		if !ok {
+			v = math.NaN()
+		}
+		field(v)
+	}
+	b = append(b, ',')
+	b = appendCSVField(b, joinFlags(r.Flags, " "))
+	return append(b, '\n')
 }
 
 // Write writes one sample's row (and the header before the first).
 func (c *CSVWriter) Write(r *unmix.Result) error {
+	c.buf = c.AppendResult(c.buf[:0], r)
+	return c.WriteEncoded(c.buf)
+}
+
+// WriteEncoded writes a row made by AppendResult.
+func (c *CSVWriter) WriteEncoded(row []byte) error {
 	if err := c.writeHeader(); err != nil {
 		return err
 	}
-	row := append(c.row[:0], r.Sample, r.Source)
-	for k, n := range c.l.Compounds {
-		a := amountOf(r, k, n)
-		if a == nil {
-			row = append(row, NA, NA, NA, NA, NA, NA, "", "")
-			continue
-		}
-		row = append(row, num(a.Conc), num(a.SE), num(a.Lo), num(a.Hi), num(a.LOD), num(a.LOQ), a.Unit, joinFlags(a.Flags, " "))
-	}
-	sugg := ""
-	if r.SuggestDilution > 0 {
-		sugg = num(r.SuggestDilution)
-	}
-	row = append(row, num(r.RMS), num(r.ChiSqRed), num(r.DW), num(r.R2), num(r.Cond),
-		strconv.Itoa(r.Points), strconv.Itoa(r.Dropped), num(r.ShiftNM), num(r.Dilution), num(r.PathCM), sugg)
-	for _, b := range c.l.Baseline {
-		v, ok := r.Baseline[b]
-		if !ok {
-			row = append(row, NA)
-			continue
-		}
-		row = append(row, num(v))
-	}
-	row = append(row, joinFlags(r.Flags, " "))
-	c.row = row
-	return c.w.Write(row)
+	_, err := c.w.Write(row)
+	return err
 }
 
 // Fail does nothing: CSV files hold solved samples only.
@@ -96,8 +144,47 @@ func (c *CSVWriter) Close() error {
 	if err := c.writeHeader(); err != nil {
 		return err
 	}
-	c.w.Flush()
-	return c.w.Error()
+	return c.w.Flush()
+}
+
+// appendCSVField appends f, quoted when it holds a comma, a quote, a line
+// break or leading space (the rule of encoding/csv).
+func appendCSVField(b []byte, f string) []byte {
+	need := f == `\.`
+	if f != "" {
+		r, _ := utf8.DecodeRuneInString(f)
+		need = need || unicode.IsSpace(r) || strings.ContainsAny(f, ",\"\r\n")
+	}
+	if !need {
+		return append(b, f...)
+	}
+	b = append(b, '"')
+	for i := 0; i < len(f); i++ {
+		if f[i] == '"' {
+			b = append(b, '"')
+		}
+		b = append(b, f[i])
+	}
+	return append(b, '"')
+}
+
+// appendNum appends num(v) without allocating.
+func appendNum(b []byte, v float64) []byte {
+	if !finite(v) {
+		return append(b, NA...)
+	}
+	if v == 0 {
+		return append(b, '0')
+	}
+	return strconv.AppendFloat(b, v, 'g', numDigits, 64)
+}
+
+// Encoder is implemented by result writers whose records can be
+// formatted concurrently: AppendResult may run on any goroutine, and
+// WriteEncoded then writes its bytes in order.
+type Encoder interface {
+	AppendResult(dst []byte, r *unmix.Result) []byte
+	WriteEncoded(rec []byte) error
 }
 
 // JSONWriter writes one JSON document:
@@ -161,16 +248,33 @@ func (j *JSONWriter) start() error {
 
 // Write writes one sample object.
 func (j *JSONWriter) Write(r *unmix.Result) error {
+	j.buf = j.AppendResult(j.buf[:0], r)
+	return j.WriteEncoded(j.buf)
+}
+
+// WriteEncoded writes a sample object made by AppendResult.
+func (j *JSONWriter) WriteEncoded(obj []byte) error {
 	if j.n == 0 {
 		if err := j.start(); err != nil {
 			return err
 		}
 	}
-	b := j.buf[:0]
-	if j.n > 0 {
-		b = append(b, ',')
+	sep := ",\n  "
+	if j.n == 0 {
+		sep = "\n  "
 	}
 	j.n++
+	if _, err := j.w.WriteString(sep); err != nil {
+		return err
+	}
+	_, err := j.w.Write(obj)
+	return err
+}
+
+// AppendResult appends r's JSON object to dst. It does not touch the
+// writer, so it may run concurrently (see Encoder).
+func (j *JSONWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
+	b := dst
 	var na []string
 	// field writes "name": v, or lists label (name if empty) as
 	// unavailable when v is not finite.
@@ -185,9 +289,9 @@ func (j *JSONWriter) Write(r *unmix.Result) error {
 		b = append(b, ", \""...)
 		b = append(b, name...)
 		b = append(b, "\": "...)
-		b = append(b, num(v)...)
+		b = appendNum(b, v)
 	}
-	b = append(b, "\n  {\"sample\": "...)
+	b = append(b, "{\"sample\": "...)
 	b = appendString(b, r.Sample)
 	b = append(b, `, "source": `...)
 	b = appendString(b, r.Source)
@@ -231,7 +335,7 @@ func (j *JSONWriter) Write(r *unmix.Result) error {
 			first = false
 			b = appendString(b, t)
 			b = append(b, ": "...)
-			b = append(b, num(v)...)
+			b = appendNum(b, v)
 		}
 		b = append(b, '}')
 	}
@@ -261,10 +365,7 @@ func (j *JSONWriter) Write(r *unmix.Result) error {
 		}
 		b = append(b, ']')
 	}
-	b = append(b, '}')
-	j.buf = b
-	_, err := j.w.Write(b)
-	return err
+	return append(b, '}')
 }
 
 // Fail records a failed sample or file, written at the end.

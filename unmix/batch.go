@@ -88,6 +88,9 @@ type Outcome struct {
 	// set).
 	Err    error
 	Unread bool
+	// Encoded holds what Batch.Encode made of Result (nil without it).
+	// Like Result it is reused after emit returns.
+	Encoded []byte
 }
 
 // Summary counts a batch.
@@ -115,20 +118,30 @@ type Batch struct {
 	// An error fails that sample.
 	Factors func(s *spectrum.Spectrum) (Factors, error)
 	// Each, if not nil, is called in the worker right after a sample is
-	// solved (plots, say); it may run concurrently for different samples.
-	// An error is reported in the outcome and counts the sample failed.
-	Each func(r *Result) error
+	// solved (plots, say), with the sample's sequence number (as in
+	// Outcome.Seq); it may run concurrently for different samples. An
+	// error is reported in the outcome and counts the sample failed.
+	Each func(seq int, r *Result) error
+	// Encode, if not nil, formats each solved sample in the worker, so
+	// that output formatting runs in parallel too; the bytes come in
+	// Outcome.Encoded. It must be safe for concurrent use.
+	Encode func(dst []byte, r *Result) []byte
 	// Progress, if not nil, is called from the emitting goroutine after
 	// each outcome, with the samples done and the samples known so far.
 	Progress func(done, known int)
 }
 
+// job is a chunk of consecutive samples of one file (or a file that
+// failed to read), the first numbered seq.
 type job struct {
 	seq  int
 	file string
-	s    *spectrum.Spectrum
+	ss   []*spectrum.Spectrum
 	err  error
 }
+
+// maxChunk is the most samples handed to a worker at once.
+const maxChunk = 64
 
 type fileRead struct {
 	ss  []*spectrum.Spectrum
@@ -202,8 +215,10 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 		})
 	}
 
-	// Stage 2: dispatch samples in order with sequence numbers.
-	jobs := make(chan job, 4*workers)
+	// Stage 2: dispatch samples in order with sequence numbers, in
+	// chunks of consecutive samples so that hand-offs between goroutines
+	// stay rare next to the solving (a solve takes some 15 µs).
+	jobs := make(chan job, 2*workers)
 	known := make(chan int, len(inputs)+1)
 	total, complete := 0, false // written before jobs is closed
 	go func() {
@@ -229,14 +244,17 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 				continue
 			}
 			known <- len(fr.ss)
-			for j, s := range fr.ss {
-				fr.ss[j] = nil // let the worker's copy be the last reference
+			size := min(maxChunk, max(1, len(fr.ss)/(4*workers)))
+			for lo := 0; lo < len(fr.ss); lo += size {
+				hi := min(lo+size, len(fr.ss))
+				chunk := slices.Clone(fr.ss[lo:hi])
+				clear(fr.ss[lo:hi]) // the chunk holds the last references
 				select {
-				case jobs <- job{seq: seq, file: inputs[i].Path, s: s}:
+				case jobs <- job{seq: seq, file: inputs[i].Path, ss: chunk}:
 				case <-ctx.Done():
 					return
 				}
-				seq++
+				seq += len(chunk)
 			}
 			<-tokens
 		}
@@ -244,7 +262,7 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 	}()
 
 	// Stage 3: solve.
-	results := make(chan Outcome, 4*workers)
+	results := make(chan []Outcome, 2*workers)
 	pool := sync.Pool{New: func() any { return new(Result) }}
 	var sw sync.WaitGroup
 	for wi := range workers {
@@ -254,17 +272,23 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 		}
 		sw.Go(func() {
 			for j := range jobs {
-				out := Outcome{Seq: j.seq, File: j.file}
-				switch {
-				case ctx.Err() != nil:
+				if ctx.Err() != nil {
 					continue
-				case j.err != nil:
-					out.Err, out.Unread = j.err, true
-				default:
-					out.Err = b.solveOne(m, &pool, j.s, &out)
+				}
+				var outs []Outcome
+				if j.err != nil {
+					outs = []Outcome{{Seq: j.seq, File: j.file, Err: j.err, Unread: true}}
+				} else {
+					outs = make([]Outcome, len(j.ss))
+					for k, s := range j.ss {
+						o := &outs[k]
+						o.Seq, o.File = j.seq+k, j.file
+						o.Err = b.solveOne(m, &pool, o.Seq, s, o)
+						j.ss[k] = nil
+					}
 				}
 				select {
-				case results <- out:
+				case results <- outs:
 				case <-ctx.Done():
 				}
 			}
@@ -275,44 +299,50 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 		close(results)
 	}()
 
-	// Stage 4: emit in order.
-	pending := map[int]Outcome{}
+	// Stage 4: emit in order. Chunks hold consecutive sequence numbers,
+	// so they are keyed by their first.
+	pending := map[int][]Outcome{}
 	next, knownN := 0, 0
 	var emitErr error
-	for out := range results {
+	for outs := range results {
 		if emitErr != nil || ctx.Err() != nil {
 			continue
 		}
-		pending[out.Seq] = out
-		for ctx.Err() == nil {
-			o, ok := pending[next]
+		pending[outs[0].Seq] = outs
+		for ctx.Err() == nil && emitErr == nil {
+			chunk, ok := pending[next]
 			if !ok {
 				break
 			}
 			delete(pending, next)
-			next++
-			count(&sum, o)
-			if err := emit(o); err != nil {
-				emitErr = err
-				cancel()
-				break
-			}
-			sum.Emitted++
-			if o.Result != nil {
-				*o.Result = Result{Amounts: o.Result.Amounts, Flags: o.Result.Flags, Baseline: o.Result.Baseline}
-				pool.Put(o.Result)
-			}
-			if b.Progress != nil {
-			drain:
-				for {
-					select {
-					case k := <-known:
-						knownN += k
-					default:
-						break drain
-					}
+			for _, o := range chunk {
+				if ctx.Err() != nil {
+					break
 				}
-				b.Progress(next, knownN)
+				next++
+				count(&sum, o)
+				if err := emit(o); err != nil {
+					emitErr = err
+					cancel()
+					break
+				}
+				sum.Emitted++
+				if o.Result != nil {
+					*o.Result = Result{Amounts: o.Result.Amounts, Flags: o.Result.Flags, Baseline: o.Result.Baseline, encoded: o.Result.encoded}
+					pool.Put(o.Result)
+				}
+				if b.Progress != nil {
+				drain:
+					for {
+						select {
+						case k := <-known:
+							knownN += k
+						default:
+							break drain
+						}
+					}
+					b.Progress(next, knownN)
+				}
 			}
 		}
 	}
@@ -331,7 +361,7 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 }
 
 // solveOne solves s into a pooled Result and runs the Each hook.
-func (b *Batch) solveOne(m *Model, pool *sync.Pool, s *spectrum.Spectrum, out *Outcome) error {
+func (b *Batch) solveOne(m *Model, pool *sync.Pool, seq int, s *spectrum.Spectrum, out *Outcome) error {
 	f := Factors{}
 	if b.Factors != nil {
 		var err error
@@ -345,8 +375,12 @@ func (b *Batch) solveOne(m *Model, pool *sync.Pool, s *spectrum.Spectrum, out *O
 		return err
 	}
 	out.Result = r
+	if b.Encode != nil {
+		out.Encoded = b.Encode(r.encoded[:0], r)
+		r.encoded = out.Encoded
+	}
 	if b.Each != nil {
-		if err := b.Each(r); err != nil {
+		if err := b.Each(seq, r); err != nil {
 			return err
 		}
 	}

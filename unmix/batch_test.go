@@ -132,7 +132,7 @@ func TestBatchEachAndFactors(t *testing.T) {
 		}
 		return Factors{Dilution: 2}, nil
 	}
-	b.Each = func(r *Result) error {
+	b.Each = func(_ int, r *Result) error {
 		if strings.HasSuffix(r.Sample, "#2") {
 			return errors.New("plot failed")
 		}

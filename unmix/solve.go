@@ -6,6 +6,8 @@ import (
 	"math"
 	"slices"
 
+	"gonum.org/v1/gonum/floats"
+
 	"huesolve/baseline"
 	"huesolve/spectrum"
 	"huesolve/unmix/lsq"
@@ -26,7 +28,7 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	sh, w := m.sh, &m.ws
 	name := sampleName(s)
 	fail := func(err error) error { return fmt.Errorf("unmix: %s: %w", name, err) }
-	if err := s.Check(); err != nil {
+	if err := m.check(s); err != nil {
 		return err
 	}
 	dil, path := f.Dilution, f.PathCM
@@ -48,12 +50,16 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 
 	// Absorbance on the scan's own grid; unreadable (too dark) points are +Inf.
 	w.abs = grow(w.abs, s.Len())
-	for i, v := range s.Values {
-		a, err := spectrum.ToAbsorbance(s.Quantity, v)
-		if err != nil {
-			a = math.Inf(1)
+	if s.Quantity == spectrum.Absorbance || s.Quantity == spectrum.Unstated {
+		copy(w.abs, s.Values)
+	} else {
+		for i, v := range s.Values {
+			a, err := spectrum.ToAbsorbance(s.Quantity, v)
+			if err != nil {
+				a = math.Inf(1)
+			}
+			w.abs[i] = a
 		}
-		w.abs[i] = a
 	}
 	nw := sh.whi - sh.wlo
 	w.raw = grow(w.raw, nw)
@@ -92,7 +98,7 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 			a = 0
 		}
 		a = math.Min(a, sh.ceiling)
-		w.sig[r] = sh.noise[r] * math.Sqrt(1+math.Exp(2*math.Ln10*(a-WeightKneeA)))
+		w.sig[r] = sh.noise[r] * sh.growth(a)
 	}
 
 	// The design for this mask.
@@ -170,6 +176,21 @@ func (m *Model) sample(wl []float64, delta float64) error {
 			return fmt.Errorf("pre-treatment gave %d values for %d wavelengths", len(t), len(w.net))
 		}
 		copy(w.net, t)
+	}
+	return nil
+}
+
+// check verifies a scan as spectrum.Check does, skipping the grid when it
+// is the slice last found equal to the set grid.
+func (m *Model) check(s *spectrum.Spectrum) error {
+	wl := s.Wavelengths
+	if len(wl) == 0 || len(wl) != len(s.Values) || len(m.ws.gridOK) != len(wl) || &m.ws.gridOK[0] != &wl[0] {
+		return s.Check()
+	}
+	for _, v := range s.Values {
+		if math.IsNaN(v) || math.IsInf(v, 0) {
+			return s.Check() // for its message
+		}
 	}
 	return nil
 }
@@ -334,6 +355,7 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 		ShiftNM:  shift,
 		Dilution: dil,
 		PathCM:   path,
+		encoded:  dst.encoded,
 	}
 	if len(sh.names) > 0 {
 		if dst.Baseline == nil {
@@ -353,18 +375,24 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 		// and the estimate itself: row k of the pseudo-inverse.
 		row := d.pinv[k*n : (k+1)*n]
 		s0, free := 0.0, 0.0
-		for i, r := range d.rows {
-			v := row[i]
-			y := w.y[i]
-			if weighted {
-				y /= w.sig[r]
-			} else {
-				v *= w.sig[r]
+		if weighted {
+			s0 = floats.Norm(row, 2)
+		} else {
+			for i, r := range d.rows {
+				v := row[i] * w.sig[r]
+				s0 += v * v
 			}
-			s0 += v * v
-			free += row[i] * y
+			s0 = math.Sqrt(s0)
 		}
-		s0 = math.Sqrt(s0)
+		if res.AtBound[k] {
+			for i, r := range d.rows {
+				y := w.y[i]
+				if weighted {
+					y /= w.sig[r]
+				}
+				free += row[i] * y
+			}
+		}
 		coef := res.Coef[k]
 		se := res.SE[k]
 		if weighted {

@@ -275,6 +275,11 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		if err != nil {
 			return err
 		}
+		enc, _ := rw.(report.Encoder)
+		batch.Encode = nil
+		if enc != nil {
+			batch.Encode = enc.AppendResult // formats in the workers
+		}
 		sum, err = batch.Run(cmd.Context(), inputs, func(out unmix.Outcome) error {
 			if out.Err != nil {
 				what := out.File
@@ -292,7 +297,10 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 					return err
 				}
 			}
-			if out.Result != nil {
+			switch {
+			case out.Encoded != nil && enc != nil:
+				return enc.WriteEncoded(out.Encoded)
+			case out.Result != nil:
 				return rw.Write(out.Result)
 			}
 			return nil

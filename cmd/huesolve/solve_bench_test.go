@@ -9,9 +9,9 @@ import (
 	"os"
 	"path/filepath"
 	"runtime"
+	"runtime/metrics"
 	"strconv"
 	"strings"
-	"sync"
 	"sync/atomic"
 	"testing"
 	"time"
@@ -29,21 +29,13 @@ const (
 	wideHi    = 750.0
 )
 
-var (
-	wideOnce sync.Once
-	wideDir  string
-	wideErr  error
-)
-
 // wideInput writes refs.json and wide.csv (rows: wavelengths, columns:
-// scans) once per test binary run.
+// scans) into a temporary folder removed when b ends.
 func wideInput(b *testing.B) (ref, table string) {
 	b.Helper()
-	wideOnce.Do(func() {
-		wideDir, wideErr = os.MkdirTemp("", "huesolve-wide-")
-		if wideErr != nil {
-			return
-		}
+	wideDir := b.TempDir()
+	var wideErr error
+	func() {
 		var g []float64
 		for l := wideLo; l <= wideHi; l++ {
 			g = append(g, l)
@@ -109,15 +101,16 @@ func wideInput(b *testing.B) (ref, table string) {
 		if err := f.Close(); err != nil && wideErr == nil {
 			wideErr = err
 		}
-	})
+	}()
 	if wideErr != nil {
 		b.Fatal(wideErr)
 	}
 	return filepath.Join(wideDir, "refs.json"), filepath.Join(wideDir, "wide.csv")
 }
 
-// heapPeak samples the live heap every millisecond while f runs and
-// returns the largest value seen, in MB.
+// heapPeak samples the live heap (runtime/metrics, which does not stop
+// the world) every millisecond while f runs and returns the largest value
+// seen, in MB.
 func heapPeak(f func()) float64 {
 	runtime.GC()
 	var peak atomic.Uint64
@@ -125,13 +118,13 @@ func heapPeak(f func()) float64 {
 	done := make(chan struct{})
 	go func() {
 		defer close(done)
-		var ms runtime.MemStats
+		sample := []metrics.Sample{{Name: "/memory/classes/heap/objects:bytes"}}
 		t := time.NewTicker(time.Millisecond)
 		defer t.Stop()
 		for {
-			runtime.ReadMemStats(&ms)
-			if ms.HeapAlloc > peak.Load() {
-				peak.Store(ms.HeapAlloc)
+			metrics.Read(sample)
+			if v := sample[0].Value.Uint64(); v > peak.Load() {
+				peak.Store(v)
 			}
 			select {
 			case <-stop:
