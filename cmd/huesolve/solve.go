@@ -323,7 +323,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		}
 	}
 	if errors.Is(err, cmd.Context().Err()) && cmd.Context().Err() != nil {
-		msg := fmt.Sprintf("interrupted after %d of the samples read so far", sum.Emitted)
+		msg := fmt.Sprintf("interrupted after %d sample(s) had been solved and reported", sum.Emitted)
 		if o.out != "" {
 			msg += "; nothing written to " + o.out
 		} else {

@@ -2,6 +2,8 @@ package main
 
 import (
 	"bytes"
+	"context"
+	"errors"
 	"flag"
 	"fmt"
 	"math"
@@ -336,6 +338,36 @@ func TestSolveUsage(t *testing.T) {
 	for _, want := range []string{"Exit codes:", "3  some files", "misfit", "Caution"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("help lacks %q", want)
+		}
+	}
+}
+
+// TestSolveInterrupted: a cancelled run (as on Ctrl-C) says so and leaves
+// no output file.
+func TestSolveInterrupted(t *testing.T) {
+	dir := t.TempDir()
+	ref := writeSolveSet(t, dir)
+	scan := writeScans(t, filepath.Join(dir, "a.csv"), solveScan("A1", []float64{5, 3, 0, 8}, 0, 1))
+	out := filepath.Join(dir, "r.json")
+	root := newRootCmd()
+	var stdout, stderr bytes.Buffer
+	root.SetArgs([]string{"solve", ref, scan, "--format", "json", "-o", out})
+	root.SetOut(&stdout)
+	root.SetErr(&stderr)
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	err := root.ExecuteContext(ctx)
+	var ee *exitError
+	if !errors.As(err, &ee) || ee.code != exitInterrupt || !strings.Contains(ee.msg, "nothing written to "+out) {
+		t.Fatalf("cancelled run: %v", err)
+	}
+	if _, err := os.Stat(out); !os.IsNotExist(err) {
+		t.Errorf("%s written by an interrupted run", out)
+	}
+	ents, _ := os.ReadDir(dir)
+	for _, e := range ents {
+		if strings.HasPrefix(e.Name(), ".") {
+			t.Errorf("temporary file %s left", e.Name())
 		}
 	}
 }
