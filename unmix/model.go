@@ -295,6 +295,7 @@ type workspace struct {
 	blk    []float64 // blank on the work grid at the current shift
 	y      []float64 // fit rows
 	sig    []float64 // noise sigma on the window
+	sr     []float64 // noise sigma on the fit rows
 	g      []float64 // shift direction on the fit rows
 	rows   []int
 	key    []byte

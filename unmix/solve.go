@@ -92,12 +92,13 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 
 	// Noise model on the window, from the raw absorbance.
 	w.sig = grow(w.sig, nwin)
-	for r := range nwin {
-		a := w.raw[off+r]
-		if !(a >= 0) {
+	raw := w.raw[off : off+nwin]
+	for r, a := range raw {
+		if !(a >= 0) { // also NaN
 			a = 0
+		} else if a > sh.ceiling {
+			a = sh.ceiling
 		}
-		a = math.Min(a, sh.ceiling)
 		w.sig[r] = sh.noise[r] * sh.growth(a)
 	}
 
@@ -319,10 +320,15 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 	scale := dil * m.set.PathCM / path // fitted (reference path, in the cell) -> sample
 	cell := m.set.PathCM / path        // fitted -> concentration in the cell
 
-	// Reduced chi-square against the noise model.
-	chi := 0.0
+	// Noise on the fit rows, and the reduced chi-square against it.
+	w.sr = grow(w.sr, n)
+	sr := w.sr
 	for i, r := range d.rows {
-		e := res.Residual[i] / w.sig[r]
+		sr[i] = w.sig[r]
+	}
+	chi := 0.0
+	for i, e := range res.Residual[:n] {
+		e /= sr[i]
 		chi += e * e
 	}
 	dof := res.DoF
@@ -378,19 +384,19 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 		if weighted {
 			s0 = floats.Norm(row, 2)
 		} else {
-			for i, r := range d.rows {
-				v := row[i] * w.sig[r]
+			for i, v := range row {
+				v *= sr[i]
 				s0 += v * v
 			}
 			s0 = math.Sqrt(s0)
 		}
 		if res.AtBound[k] {
-			for i, r := range d.rows {
+			for i, v := range row {
 				y := w.y[i]
 				if weighted {
-					y /= w.sig[r]
+					y /= sr[i]
 				}
-				free += row[i] * y
+				free += v * y
 			}
 		}
 		coef := res.Coef[k]
