@@ -215,3 +215,32 @@ func TestSampleSheet(t *testing.T) {
 		}
 	}
 }
+
+// FuzzSampleSheet: any input gives a sheet or an error naming the file,
+// never a panic.
+func FuzzSampleSheet(f *testing.F) {
+	for _, s := range []string{
+		"sample,dilution,path_cm\nA1,10,\nrun2.csv,,0.5\n",
+		"# c\nSample;Dilution\n\"B 3\";2.5\n",
+		"sample\tpath_cm\nx\t1e-3\n",
+		"sample,dilution\nA,NaN\n",
+		"",
+	} {
+		f.Add(s)
+	}
+	f.Fuzz(func(t *testing.T, text string) {
+		sh, err := ParseSampleSheet(strings.NewReader(text), "fuzz.csv")
+		if err != nil {
+			if !strings.HasPrefix(err.Error(), "fuzz.csv") {
+				t.Fatalf("error %q does not name the file", err)
+			}
+			return
+		}
+		for name := range sh.rows {
+			fs, ok := sh.Lookup(&spectrum.Spectrum{Name: name})
+			if !ok || fs.Dilution < 0 || fs.PathCM < 0 {
+				t.Fatalf("Lookup(%q) = %+v, %v", name, fs, ok)
+			}
+		}
+	})
+}
