@@ -472,3 +472,48 @@ func TestBadSets(t *testing.T) {
 		}
 	}
 }
+
+// TestOptionCombinations: weights, shift, a blank, a window and a mask
+// together still recover a shifted, partly saturated sample.
+func TestOptionCombinations(t *testing.T) {
+	truth := []float64{5, 3, 2, 27} // teal peaks at 2.16 AU: a few points dropped
+	blank := mixture{conc: []float64{0, 0, 0, 0}, offset: 0.04, seed: 21}.spectrum()
+	mx := mixture{conc: truth, offset: 0.04, shift: 0.8, noise: testNoise, seed: 22}
+	lin, _ := baseline.ParseModel("linear")
+	for _, weighted := range []bool{false, true} {
+		m := mustModel(t, testSet(4), Options{Weighted: weighted, Shift: true, Blank: blank, Baseline: lin, WindowLo: 410, WindowHi: 780, KeepCurves: true})
+		r := mustSolve(t, m, mx.spectrum(), Factors{Dilution: 2})
+		if r.Dropped == 0 || math.Abs(r.ShiftNM-0.8) > 0.2 {
+			t.Errorf("weighted=%v: dropped %d, shift %g", weighted, r.Dropped, r.ShiftNM)
+		}
+		for k, a := range r.Amounts {
+			if math.Abs(a.Conc-2*truth[k]) > 0.02*2*truth[k] {
+				t.Errorf("weighted=%v: %s = %g, want %g", weighted, a.Compound, a.Conc, 2*truth[k])
+			}
+		}
+		if len(r.Grid) != r.Points || len(r.Contributions) != 4 || len(r.Noise) != r.Points {
+			t.Errorf("weighted=%v: curves of %d points for %d used", weighted, len(r.Grid), r.Points)
+		}
+		for i := range r.Grid {
+			sum := r.BaselineCurve[i]
+			for _, c := range r.Contributions {
+				sum += c[i]
+			}
+			if math.Abs(sum-r.Fitted[i]) > 1e-9 || math.Abs(r.Measured[i]-r.Fitted[i]-r.Residual[i]) > 1e-9 {
+				t.Fatalf("weighted=%v: curves do not add up at %g nm", weighted, r.Grid[i])
+			}
+		}
+	}
+}
+
+// TestGrowthTable: the tabulated noise growth matches the formula.
+func TestGrowthTable(t *testing.T) {
+	m := mustModel(t, testSet(1), Options{})
+	worst := 0.0
+	for a := 0.0; a <= m.Ceiling(); a += 0.0007 {
+		worst = math.Max(worst, math.Abs(m.sh.growth(a)/growthExact(a)-1))
+	}
+	if worst > 1e-6 {
+		t.Errorf("tabulated noise growth off by %g relative", worst)
+	}
+}
