@@ -167,9 +167,9 @@ type Amount struct {
 	LOD float64 `json:"lod"`
 	LOQ float64 `json:"loq"`
 	// Free and FreeSE are the unconstrained (ordinary least squares)
-	// estimate and its standard error from the noise model; reported for
-	// compounds held at zero, where they show how far below zero the data
-	// would push.
+	// estimate and its standard error from the noise model, for every
+	// compound; the result files show them where a compound is held at
+	// zero, to tell how far below zero the data would push.
 	Free   float64 `json:"unconstrained"`
 	FreeSE float64 `json:"unconstrained_se"`
 }

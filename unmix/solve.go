@@ -390,14 +390,12 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 			}
 			s0 = math.Sqrt(s0)
 		}
-		if res.AtBound[k] {
+		if weighted {
 			for i, v := range row {
-				y := w.y[i]
-				if weighted {
-					y /= sr[i]
-				}
-				free += v * y
+				free += v * w.y[i] / sr[i]
 			}
+		} else {
+			free = floats.Dot(row, w.y[:n])
 		}
 		coef := res.Coef[k]
 		se := res.SE[k]
