@@ -14,7 +14,10 @@ import (
 
 // CSVWriter writes one row per sample. The columns are: sample, source;
 // for each compound NAME: NAME_conc, NAME_se, NAME_ci95_lo, NAME_ci95_hi,
-// NAME_lod, NAME_loq, NAME_unit, NAME_flags; then rms_residual,
+// NAME_lod, NAME_loq, NAME_unconstrained, NAME_unconstrained_se (the
+// ordinary least squares estimate and its standard error, given only
+// where the compound is held at zero), NAME_unit, NAME_flags; then
+// rms_residual,
 // reduced_chi_square, durbin_watson, r2, condition_number, points_used,
 // points_dropped, shift_nm, dilution, path_cm, suggest_dilution, one
 // baseline_TERM per baseline term, and flags. Numbers have 6 significant
@@ -38,7 +41,7 @@ func NewCSVWriter(w io.Writer, l Layout) *CSVWriter {
 func (c *CSVWriter) Header() []string {
 	h := []string{"sample", "source"}
 	for _, n := range c.l.Compounds {
-		for _, s := range []string{"conc", "se", "ci95_lo", "ci95_hi", "lod", "loq", "unit", "flags"} {
+		for _, s := range []string{"conc", "se", "ci95_lo", "ci95_hi", "lod", "loq", "unconstrained", "unconstrained_se", "unit", "flags"} {
 			h = append(h, n+"_"+s)
 		}
 	}
@@ -79,7 +82,7 @@ func (c *CSVWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 	for k, n := range c.l.Compounds {
 		a := amountOf(r, k, n)
 		if a == nil {
-			b = append(b, ",n/a,n/a,n/a,n/a,n/a,n/a,,"...)
+			b = append(b, ",n/a,n/a,n/a,n/a,n/a,n/a,,,,"...)
 			continue
 		}
 		field(a.Conc)
@@ -88,6 +91,12 @@ func (c *CSVWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 		field(a.Hi)
 		field(a.LOD)
 		field(a.LOQ)
+		if a.HasFlag(unmix.FlagZero) {
+			field(a.Free)
+			field(a.FreeSE)
+		} else {
+			b = append(b, ",,"...)
+		}
 		b = append(b, ',')
 		b = appendCSVField(b, a.Unit)
 		b = append(b, ',')

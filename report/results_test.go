@@ -91,7 +91,7 @@ func TestCSVWriter(t *testing.T) {
 	}
 	for h, want := range map[string]string{
 		"amber_conc": "4.98821", "amber_se": "0.0073392", "teal_flags": "zero", "durbin_watson": "n/a",
-		"baseline_offset": "0.0101832", "flags": "sat dilute", "suggest_dilution": "2.5", "points_dropped": "21", "shift_nm": "0",
+		"baseline_offset": "0.0101832", "flags": "sat dilute", "teal_unconstrained": "-0.0042", "amber_unconstrained": "", "suggest_dilution": "2.5", "points_dropped": "21", "shift_nm": "0",
 	} {
 		i, ok := col[h]
 		if !ok || recs[1][i] != want {
