@@ -210,6 +210,10 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if err != nil {
 		return err
 	}
+	if n := model.Excluded(); n > 0 {
+		warn(fmt.Sprintf("%d of the %d window points are left out of every fit: a compound's absorptivity is not known there (fewer than 3 standards below the ceiling)",
+			n, len(model.Window())))
+	}
 	var sheet *unmix.SampleSheet
 	if o.samples != "" {
 		if sheet, err = unmix.ReadSampleSheet(o.samples); err != nil {

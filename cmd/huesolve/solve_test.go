@@ -371,3 +371,28 @@ func TestSolveInterrupted(t *testing.T) {
 		}
 	}
 }
+
+// TestSolveExcludedPoints: wavelengths where a compound's absorptivity is
+// not usable are left out of every fit, and solve says so.
+func TestSolveExcludedPoints(t *testing.T) {
+	dir := t.TempDir()
+	ref := writeSolveSet(t, dir)
+	set, err := reference.Load(ref)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i := 10; i < 15; i++ {
+		set.Compounds[3].Usable[i] = false
+	}
+	if err := set.Save(ref); err != nil {
+		t.Fatal(err)
+	}
+	scan := writeScans(t, filepath.Join(dir, "a.csv"), solveScan("A1", []float64{5, 3, 1, 8}, 0, 1))
+	out, errOut, code := run(t, "solve", ref, scan, "--format", "csv")
+	if code != exitOK || !strings.Contains(errOut, "5 of the 151 window points are left out of every fit") {
+		t.Errorf("exit %d, stderr:\n%s", code, errOut)
+	}
+	if !strings.Contains(out, ",146,0,") {
+		t.Errorf("points used should be 146:\n%s", out)
+	}
+}
