@@ -3,6 +3,7 @@ package unmix
 import (
 	"errors"
 	"math"
+	"math/rand/v2"
 	"reflect"
 	"strings"
 	"sync"
@@ -10,6 +11,7 @@ import (
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
+	"gonum.org/v1/gonum/stat"
 
 	"huesolve/baseline"
 	"huesolve/reference"
@@ -515,5 +517,78 @@ func TestGrowthTable(t *testing.T) {
 	}
 	if worst > 1e-6 {
 		t.Errorf("tabulated noise growth off by %g relative", worst)
+	}
+}
+
+// TestCalibrationError simulates the whole chain: pure standards with
+// noise give the absorptivities (least squares through the origin, per
+// wavelength), a noisy sample is solved against them, 1500 times. The
+// spread of the results must match the reported standard error. The
+// absorptivities' own error adds sigma^2 sum c_k^2/Q_k (S'S)^-1 to the
+// variance (methods notes, classical least squares), here a factor 1.45;
+// it also adds the same sigma^2 sum c_k^2/Q_k to every residual point, so
+// the residual-scaled standard error (unweighted) and the Birge ratio
+// sqrt(chi-square) (weighted) already carry it and no separate term may
+// be added (adding one overstates the SE 1.2-fold, which this test
+// catches). The SD of 1500 values has a relative standard error of
+// 1/sqrt(2*1499) = 1.8 %; the tolerance is 6 %.
+func TestCalibrationError(t *testing.T) {
+	const (
+		sigma = 0.002
+		reps  = 1500
+		tol   = 0.06
+	)
+	g := gridNM(400, 700, 3)
+	levels := []float64{2, 4, 6, 8, 10}
+	truth := []float64{8, 6}
+	rng := rand.New(rand.NewPCG(3, 4))
+	var stds []reference.Standard
+	for k := range 2 {
+		for _, c := range levels {
+			conc := make([]float64, 2)
+			conc[k] = c
+			stds = append(stds, reference.Standard{Conc: conc})
+		}
+	}
+	none, _ := baseline.ParseModel("none")
+	for _, weighted := range []bool{false, true} {
+		var got [2][]float64
+		var se [2]float64
+		for range reps {
+			set := &reference.Set{Grid: g, PathCM: 1, Ceiling: 2, Noise: make([]float64, len(g)),
+				Provenance: reference.Provenance{Standards: stds}}
+			for k := range 2 {
+				eps := make([]float64, len(g))
+				for i, l := range g {
+					num, q := 0.0, 0.0
+					for _, c := range levels {
+						a := c*bandsAt(testBands[k+1], l) + sigma*rng.NormFloat64()
+						num += c * a
+						q += c * c
+					}
+					eps[i] = num / q
+				}
+				set.Compounds = append(set.Compounds, reference.Compound{Name: testNames[k], Absorptivity: eps})
+			}
+			for i := range g {
+				set.Noise[i] = sigma
+			}
+			m := mustModel(t, set, Options{Baseline: none, Weighted: weighted})
+			s := &spectrum.Spectrum{Wavelengths: g, Quantity: spectrum.Absorbance, Values: make([]float64, len(g))}
+			for i, l := range g {
+				s.Values[i] = truth[0]*bandsAt(testBands[1], l) + truth[1]*bandsAt(testBands[2], l) + sigma*rng.NormFloat64()
+			}
+			r := mustSolve(t, m, s, Factors{})
+			for k := range 2 {
+				got[k] = append(got[k], r.Amounts[k].Conc)
+				se[k] += r.Amounts[k].SE / reps
+			}
+		}
+		for k := range 2 {
+			sd := stat.StdDev(got[k], nil)
+			if math.Abs(se[k]/sd-1) > tol {
+				t.Errorf("weighted=%v %s: mean reported SE %.4g, SD of %d results %.4g", weighted, testNames[k], se[k], reps, sd)
+			}
+		}
 	}
 }
