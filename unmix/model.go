@@ -29,6 +29,20 @@
 // 1/sigma^2; either way the reduced chi-square, the detection limits and
 // the plotted noise band use sigma.
 //
+// # Uncertainty
+//
+// Unweighted, standard errors are the least-squares ones scaled by the
+// residual variance; weighted, they come from the noise model, scaled up
+// by sqrt(chi-square) when that exceeds 1. Either way they carry the
+// error the absorptivities bring from calibration, which adds to the
+// residual as it adds to the variance of the concentrations (a simulation
+// in the tests checks this). Intervals are c +- t(0.975, DoF) SE, cut at
+// zero; a compound held at zero reports [0, max(0, u + t SE_u)] with u
+// the unconstrained estimate. Detection and quantitation limits are 3.3
+// and 10 times the noise-model standard deviation of the unconstrained
+// estimate (sigma / net analyte signal for constant noise). Per-compound
+// calibration intercepts (Compound.Intercept) are not used.
+//
 // # Cost
 //
 // The design is factorised once per model. A sample with points above the
