@@ -592,3 +592,29 @@ func TestCalibrationError(t *testing.T) {
 		}
 	}
 }
+
+// TestPathLengthBeerLambert: by A = eps b c (Beer-Lambert, definition), a
+// sample scanned in a 2 cm cell reads twice the absorbance of its 1 cm
+// scan; given its path length it solves to the same concentration.
+func TestPathLengthBeerLambert(t *testing.T) {
+	truth := []float64{5, 3, 2, 8}
+	m := mustModel(t, testSet(4), Options{})
+	one := mixture{conc: truth, noise: testNoise, seed: 7}.spectrum()
+	two := one.Clone()
+	for i := range two.Values {
+		two.Values[i] *= 2
+	}
+	r1 := mustSolve(t, m, one, Factors{PathCM: 1})
+	r2 := mustSolve(t, m, two, Factors{PathCM: 2})
+	for k := range truth {
+		a, b := r1.Amounts[k], r2.Amounts[k]
+		if math.Abs(a.Conc-b.Conc) > 1e-9*math.Abs(a.Conc) || math.Abs(a.SE-b.SE) > 1e-9*a.SE {
+			t.Errorf("%s: 1 cm %g ± %g, 2 cm %g ± %g, want equal", a.Compound, a.Conc, a.SE, b.Conc, b.SE)
+		}
+	}
+	// Without the path length the 2 cm scan reads as twice as concentrated.
+	r3 := mustSolve(t, m, two, Factors{})
+	if c := r3.Amounts[0].Conc / r1.Amounts[0].Conc; math.Abs(c-2) > 1e-9 {
+		t.Errorf("2 cm scan taken as 1 cm: ratio %g, want 2", c)
+	}
+}
