@@ -7,6 +7,8 @@ import (
 	"fmt"
 	"io"
 	"os"
+
+	"huesolve/internal/bytesize"
 )
 
 // ParseError is a problem at a place in a file. Line and Column are
@@ -50,6 +52,10 @@ type ReadOptions struct {
 	// MaxColumns bounds the number of columns of a delimited table; a
 	// wider table is an error. Zero means DefaultMaxColumns.
 	MaxColumns int
+	// MaxFileBytes bounds the size of a file ReadFile reads; a larger
+	// file is refused before it is read (a pipe, whose size is not known,
+	// fails when it passes the bound). Zero means DefaultMaxFileBytes.
+	MaxFileBytes int64
 
 	// sizeHint is the input size in bytes when known (ReadFile sets it);
 	// it only sizes buffers.
@@ -67,6 +73,11 @@ const (
 	// MaxJCAMPPoints is the largest NPOINTS a JCAMP-DX file may declare;
 	// no UV-Vis scan comes near it.
 	MaxJCAMPPoints = 1 << 22
+	// DefaultMaxFileBytes is the largest file ReadFile reads (1 GiB):
+	// a wide table of 100,000 scans of 1,000 wavelengths written with
+	// 10 characters a number. The numbers parsed from it take at most
+	// about as much memory again.
+	DefaultMaxFileBytes int64 = 1 << 30
 )
 
 func (o *ReadOptions) maxLine() int {
@@ -81,6 +92,13 @@ func (o *ReadOptions) maxCols() int {
 		return o.MaxColumns
 	}
 	return DefaultMaxColumns
+}
+
+func (o *ReadOptions) maxFile() int64 {
+	if o.MaxFileBytes > 0 {
+		return o.MaxFileBytes
+	}
+	return DefaultMaxFileBytes
 }
 
 func (o *ReadOptions) warnf(file, format string, a ...any) {
@@ -101,8 +119,10 @@ const detectPeek = 64 << 10
 // delimited text otherwise). Values are left in the quantity the file
 // holds; call ToAbsorbance to convert.
 //
-// A directory, a missing or unreadable file is an error naming the path;
-// problems inside the file are *ParseError values.
+// A directory, a missing or unreadable file, or one larger than
+// opt.MaxFileBytes (an error wrapping ErrTooLarge, given before anything
+// is read) is an error naming the path; problems inside the file are
+// *ParseError values.
 func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 	f, err := os.Open(path)
 	if err != nil {
@@ -119,12 +139,22 @@ func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 	if !st.Mode().IsRegular() && st.Mode()&os.ModeNamedPipe == 0 && st.Mode()&os.ModeCharDevice == 0 {
 		return nil, fmt.Errorf("spectrum: %s is not a regular file", path)
 	}
-	opt.sizeHint = st.Size()
+	limit := opt.maxFile()
+	var in io.Reader = f
+	if st.Mode().IsRegular() {
+		if st.Size() > limit {
+			return nil, fmt.Errorf("spectrum: %s is %s, more than the %s a spectrum file may hold: %w (is this a spectrum file? split a bigger table into several files)",
+				path, bytesize.Text(st.Size()), bytesize.Text(limit), ErrTooLarge)
+		}
+		opt.sizeHint = st.Size()
+	} else {
+		in = &capReader{r: f, left: limit, limit: limit}
+	}
 	size := detectPeek
 	if s := st.Size(); s > 0 && s < int64(size) {
 		size = max(int(s), 16)
 	}
-	br := bufio.NewReaderSize(f, size)
+	br := bufio.NewReaderSize(in, size)
 	head, err := br.Peek(size)
 	if err != nil && err != io.EOF && !errors.Is(err, bufio.ErrBufferFull) {
 		return nil, fmt.Errorf("spectrum: cannot read %s: %w", path, unwrapPathError(err))
@@ -133,6 +163,32 @@ func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 		return ReadJCAMP(br, path, opt)
 	}
 	return ReadDelimited(br, path, opt)
+}
+
+// capReader passes at most limit bytes of r and then fails with
+// ErrTooLarge, for inputs whose size is not known beforehand.
+type capReader struct {
+	r     io.Reader
+	left  int64
+	limit int64
+}
+
+func (c *capReader) Read(p []byte) (int, error) {
+	if c.left <= 0 {
+		// One byte more tells a stream that ends exactly at the limit
+		// from a longer one.
+		var one [1]byte
+		if n, err := c.r.Read(one[:]); n == 0 {
+			return 0, err
+		}
+		return 0, fmt.Errorf("more than %s: %w", bytesize.Text(c.limit), ErrTooLarge)
+	}
+	if int64(len(p)) > c.left {
+		p = p[:c.left]
+	}
+	n, err := c.r.Read(p)
+	c.left -= int64(n)
+	return n, err
 }
 
 // unwrapPathError drops the *os.PathError layer, whose text repeats the

@@ -128,6 +128,9 @@ var (
 	ErrNotSupported = errors.New("not supported")
 	// ErrEmpty marks a file or table with no data.
 	ErrEmpty = errors.New("no data")
+	// ErrTooLarge marks an input beyond the size a reader accepts
+	// (ReadOptions.MaxFileBytes).
+	ErrTooLarge = errors.New("input too large")
 )
 
 // Len is the number of points.
