@@ -12,6 +12,7 @@ import (
 
 	"huesolve/baseline"
 	"huesolve/internal/atomicfile"
+	"huesolve/internal/bytesize"
 )
 
 // SchemaVersion is the version of the reference-set file format written by
@@ -312,16 +313,34 @@ func checkSlice(what string, v []float64, n int) error {
 	return nil
 }
 
+// MaxSetBytes is the largest reference-set file Load reads (256 MiB): a
+// set of 50 compounds on 10,000 wavelengths takes some 40 MiB.
+const MaxSetBytes = 256 << 20
+
 // Load reads a reference set, refusing files that are truncated, whose
 // checksum does not match, or whose schema is newer than SchemaVersion.
-// Errors name the file and wrap ErrTruncated, ErrChecksum, ErrNewerSchema,
-// ErrNotSet or ErrInvalid.
+// A UTF-8 byte order mark, as some editors add, is ignored (the checksum
+// is over the content, not the layout). Errors name the file and wrap
+// ErrTruncated, ErrChecksum, ErrNewerSchema, ErrNotSet or ErrInvalid; a
+// folder, or a file larger than MaxSetBytes, is refused before reading
+// (ErrNotSet).
 func Load(path string) (*Set, error) {
+	fail := func(err error) (*Set, error) { return nil, fmt.Errorf("reference: %s: %w", path, err) }
+	st, err := os.Stat(path)
+	switch {
+	case err != nil:
+		return nil, fmt.Errorf("reference: %w", err)
+	case st.IsDir():
+		return fail(fmt.Errorf("%w: it is a folder", ErrNotSet))
+	case st.Mode().IsRegular() && st.Size() > MaxSetBytes:
+		return fail(fmt.Errorf("%w: the file is %s, more than the %s a reference set may take", ErrNotSet,
+			bytesize.Text(st.Size()), bytesize.Text(MaxSetBytes)))
+	}
 	data, err := os.ReadFile(path)
 	if err != nil {
 		return nil, fmt.Errorf("reference: %w", err)
 	}
-	fail := func(err error) (*Set, error) { return nil, fmt.Errorf("reference: %s: %w", path, err) }
+	data = bytes.TrimPrefix(data, []byte("\ufeff"))
 	if len(bytes.TrimSpace(data)) == 0 {
 		return fail(fmt.Errorf("%w: the file is empty", ErrTruncated))
 	}

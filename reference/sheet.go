@@ -13,7 +13,9 @@ import (
 	"path/filepath"
 	"strconv"
 	"strings"
+	"unicode/utf8"
 
+	"huesolve/internal/bytesize"
 	"huesolve/spectrum"
 )
 
@@ -79,12 +81,28 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 	if warn == nil {
 		warn = func(string) {}
 	}
+	perr := func(line, col int, format string, a ...any) error {
+		return &spectrum.ParseError{File: path, Line: line, Column: col, Err: fmt.Errorf(format, a...)}
+	}
+	sheetSt, err := os.Stat(path)
+	switch {
+	case err != nil:
+		return nil, fmt.Errorf("reference: standards sheet: %w", err)
+	case sheetSt.IsDir():
+		return nil, perr(0, 0, "%w: the standards sheet is a folder; give the sheet file", ErrSheetHeader)
+	case sheetSt.Mode().IsRegular() && sheetSt.Size() > MaxSheetBytes:
+		return nil, perr(0, 0, "%w: the file is %s, more than the %s a standards sheet may take (is it a sheet?)",
+			ErrSheetHeader, bytesize.Text(sheetSt.Size()), bytesize.Text(MaxSheetBytes))
+	}
 	data, err := os.ReadFile(path)
 	if err != nil {
 		return nil, fmt.Errorf("reference: standards sheet: %w", err)
 	}
-	perr := func(line, col int, format string, a ...any) error {
-		return &spectrum.ParseError{File: path, Line: line, Column: col, Err: fmt.Errorf(format, a...)}
+	data = bytes.TrimPrefix(data, []byte("\ufeff"))
+	if !utf8.Valid(data) {
+		line := 1 + bytes.Count(data[:firstInvalid(data)], []byte("\n"))
+		warn(fmt.Sprintf("%s:%d: the sheet is not UTF-8 text; read it as Latin-1 (save it as UTF-8 to be sure of names and units)", path, line))
+		data = latin1ToUTF8(data)
 	}
 	comma := sniffDelimiter(data)
 	r := csv.NewReader(bytes.NewReader(data))
@@ -237,18 +255,15 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 			case st.IsDir():
 				return nil, perr(line, scanCol+1, "%w: %s is a folder, not a scan file", ErrScanFile, p)
 			}
-			if a, _ := filepath.Abs(p); a == sheetAbs {
+			if a, _ := filepath.Abs(p); a == sheetAbs || os.SameFile(st, sheetSt) {
 				return nil, perr(line, scanCol+1, "%w: the sheet names itself as a scan", ErrScanFile)
 			}
-			raw, err := os.ReadFile(p)
-			if err != nil {
-				return nil, perr(line, scanCol+1, "%w: %v", ErrScanFile, err)
-			}
-			sum := sha256.Sum256(raw)
-			ld.sum = hex.EncodeToString(sum[:])
 			ld.scans, err = spectrum.ReadFile(p, spectrum.ReadOptions{Quantity: opt.Quantity, Warn: opt.Warn})
 			if err != nil {
 				return nil, perr(line, scanCol+1, "%w: %w", ErrScanFile, err)
+			}
+			if ld.sum, err = FileSHA256(p); err != nil {
+				return nil, perr(line, scanCol+1, "%w: %v", ErrScanFile, err)
 			}
 			if len(ld.scans) == 0 {
 				return nil, perr(line, scanCol+1, "%w: %s holds no scan", ErrScanFile, p)
@@ -342,6 +357,47 @@ func pickScan(scans []*spectrum.Spectrum, col string) (*spectrum.Spectrum, error
 		return scans[n-1], nil
 	}
 	return nil, fmt.Errorf("no scan named %q in the file; it holds %s", col, names())
+}
+
+// MaxSheetBytes is the largest standards sheet ReadSheet reads (64 MiB,
+// hundreds of thousands of rows).
+const MaxSheetBytes = 64 << 20
+
+// FileSHA256 returns the SHA-256 of a file's content in lower-case hex,
+// reading it in pieces (memory does not grow with the file).
+func FileSHA256(path string) (string, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return "", err
+	}
+	defer f.Close()
+	h := sha256.New()
+	if _, err := io.Copy(h, f); err != nil {
+		return "", fmt.Errorf("%s: %w", path, err)
+	}
+	return hex.EncodeToString(h.Sum(nil)), nil
+}
+
+// firstInvalid is the offset of the first byte of data that is not part
+// of valid UTF-8.
+func firstInvalid(data []byte) int {
+	for i := 0; i < len(data); {
+		r, n := utf8.DecodeRune(data[i:])
+		if r == utf8.RuneError && n <= 1 {
+			return i
+		}
+		i += n
+	}
+	return len(data)
+}
+
+// latin1ToUTF8 reads each byte as the ISO 8859-1 character of that code.
+func latin1ToUTF8(b []byte) []byte {
+	out := make([]byte, 0, len(b)+len(b)/8)
+	for _, c := range b {
+		out = utf8.AppendRune(out, rune(c))
+	}
+	return out
 }
 
 // sniffDelimiter picks the field separator from the first line that is

@@ -1,8 +1,6 @@
 package main
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"fmt"
 	"os"
 	"strconv"
@@ -207,10 +205,6 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 
 // calReadBlank reads a separate blank scan file holding one scan.
 func calReadBlank(path string, q spectrum.Quantity, warn func(string)) (*spectrum.Spectrum, string, error) {
-	raw, err := os.ReadFile(path)
-	if err != nil {
-		return nil, "", fmt.Errorf("blank: %w", err)
-	}
 	ss, err := spectrum.ReadFile(path, spectrum.ReadOptions{Quantity: q, Warn: warn})
 	if err != nil {
 		return nil, "", fmt.Errorf("blank: %w", err)
@@ -222,6 +216,9 @@ func calReadBlank(path string, q spectrum.Quantity, warn func(string)) (*spectru
 	if err := b.ToAbsorbance(); err != nil {
 		return nil, "", fmt.Errorf("blank: %w", err)
 	}
-	sum := sha256.Sum256(raw)
-	return b, hex.EncodeToString(sum[:]), nil
+	sum, err := reference.FileSHA256(path)
+	if err != nil {
+		return nil, "", fmt.Errorf("blank: %w", err)
+	}
+	return b, sum, nil
 }
