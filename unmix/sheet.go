@@ -2,6 +2,7 @@ package unmix
 
 import (
 	"bufio"
+	"errors"
 	"fmt"
 	"io"
 	"math"
@@ -10,13 +11,15 @@ import (
 	"strconv"
 	"strings"
 
+	"huesolve/internal/bytesize"
 	"huesolve/spectrum"
 )
 
 // SampleSheet gives per-sample dilution factors and path lengths, read
 // from delimited text with a header naming the columns "sample" and at
 // least one of "dilution" and "path_cm" (any order, case ignored; comma,
-// semicolon or tab separated; lines starting with # are comments). An
+// semicolon or tab separated, a decimal comma accepted when the separator
+// is not a comma; lines starting with # are comments). An
 // empty cell means the default (1 for dilution, the reference set's path
 // for path_cm).
 type SampleSheet struct {
@@ -29,13 +32,33 @@ type sheetRow struct {
 	line int
 }
 
-// ReadSampleSheet reads a sample sheet file.
+// Limits of a sample sheet.
+const (
+	// MaxSampleSheetBytes is the largest sample sheet ReadSampleSheet
+	// reads (64 MiB, a million samples and more).
+	MaxSampleSheetBytes = 64 << 20
+	// maxSheetLine is the longest line of a sample sheet (64 KiB).
+	maxSheetLine = 64 << 10
+)
+
+// ReadSampleSheet reads a sample sheet file. A folder, or a file larger
+// than MaxSampleSheetBytes, is refused before reading.
 func ReadSampleSheet(path string) (*SampleSheet, error) {
 	f, err := os.Open(path)
 	if err != nil {
 		return nil, fmt.Errorf("unmix: sample sheet: %w", err)
 	}
 	defer f.Close()
+	st, err := f.Stat()
+	switch {
+	case err != nil:
+		return nil, fmt.Errorf("unmix: sample sheet: %w", err)
+	case st.IsDir():
+		return nil, fmt.Errorf("unmix: sample sheet %s is a folder; give the sheet file", path)
+	case st.Mode().IsRegular() && st.Size() > MaxSampleSheetBytes:
+		return nil, fmt.Errorf("unmix: sample sheet %s is %s, more than the %s a sample sheet may take",
+			path, bytesize.Text(st.Size()), bytesize.Text(MaxSampleSheetBytes))
+	}
 	return ParseSampleSheet(f, path)
 }
 
@@ -43,6 +66,7 @@ func ReadSampleSheet(path string) (*SampleSheet, error) {
 // which are *spectrum.ParseError values with line and column.
 func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 	sc := bufio.NewScanner(r)
+	sc.Buffer(make([]byte, 0, 4096), maxSheetLine)
 	sh := &SampleSheet{File: file, rows: map[string]sheetRow{}}
 	perr := func(line, col int, format string, a ...any) error {
 		return &spectrum.ParseError{File: file, Line: line, Column: col, Err: fmt.Errorf(format, a...)}
@@ -103,7 +127,11 @@ func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 			if v == "" {
 				continue
 			}
-			x, err := strconv.ParseFloat(v, 64)
+			num := v
+			if sep != "," && strings.Count(num, ",") == 1 && !strings.Contains(num, ".") {
+				num = strings.Replace(num, ",", ".", 1) // decimal comma
+			}
+			x, err := strconv.ParseFloat(num, 64)
 			if err != nil || !(x > 0) || math.IsInf(x, 0) {
 				return nil, perr(line, c.i+1, "%s %q is not a positive number", c.what, v)
 			}
@@ -112,6 +140,9 @@ func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 		sh.rows[name] = sheetRow{f: f, line: line}
 	}
 	if err := sc.Err(); err != nil {
+		if errors.Is(err, bufio.ErrTooLong) {
+			return nil, perr(line+1, 0, "line longer than %s: is this a sample sheet?", bytesize.Text(maxSheetLine))
+		}
 		return nil, perr(line+1, 0, "%v", err)
 	}
 	if sep == "" {

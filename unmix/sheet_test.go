@@ -1,0 +1,49 @@
+package unmix
+
+import (
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+
+	"huesolve/spectrum"
+)
+
+// TestSampleSheetRobust: a sheet from a Windows spreadsheet (byte order
+// mark, CRLF, semicolons and decimal commas) reads; an over-long line,
+// a folder and a file too large to be a sheet are refused with the
+// file named.
+func TestSampleSheetRobust(t *testing.T) {
+	sh, err := ParseSampleSheet(strings.NewReader("\ufeffsample;dilution;path_cm\r\nA1;2,5;0,5\r\nB2;10;\r\n"), "win.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if f, ok := sh.Lookup(&spectrum.Spectrum{Name: "A1"}); !ok || f.Dilution != 2.5 || f.PathCM != 0.5 {
+		t.Errorf("A1: %+v %v", f, ok)
+	}
+	if f, ok := sh.Lookup(&spectrum.Spectrum{Name: "B2"}); !ok || f.Dilution != 10 {
+		t.Errorf("B2: %+v %v", f, ok)
+	}
+	// With commas separating fields, "2,5" is two fields, not 2.5.
+	if _, err := ParseSampleSheet(strings.NewReader("sample,dilution\nA,2.5.1\n"), "c.csv"); err == nil || !strings.HasPrefix(err.Error(), "c.csv:2:2:") {
+		t.Errorf("bad number: %v", err)
+	}
+	long := "sample,dilution\nA," + strings.Repeat("1", maxSheetLine) + "\n"
+	if _, err := ParseSampleSheet(strings.NewReader(long), "long.csv"); err == nil || !strings.HasPrefix(err.Error(), "long.csv:2: line longer than 64 KiB") {
+		t.Errorf("long line: %v", err)
+	}
+	dir := t.TempDir()
+	if _, err := ReadSampleSheet(dir); err == nil || !strings.Contains(err.Error(), "is a folder") {
+		t.Errorf("folder: %v", err)
+	}
+	big := filepath.Join(dir, "big.csv")
+	if err := os.WriteFile(big, []byte("sample,dilution\nA,2\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.Truncate(big, 2<<30); err != nil {
+		t.Skipf("no sparse files here: %v", err)
+	}
+	if _, err := ReadSampleSheet(big); err == nil || !strings.Contains(err.Error(), big+" is 2 GiB, more than the 64 MiB") {
+		t.Errorf("2 GiB sheet: %v", err)
+	}
+}
