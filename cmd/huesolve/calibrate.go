@@ -5,6 +5,7 @@ import (
 	"os"
 	"strconv"
 	"strings"
+	"time"
 
 	"github.com/spf13/cobra"
 
@@ -62,6 +63,9 @@ R², lack of fit against replicates, and Mandel's test for curvature
 The reference set is written to the --output file (JSON, with a checksum).
 A summary table goes to standard output. Exit code 4 means the set was
 written but some compound is flagged: read the legend under the table.
+The set records when it was made; with the environment variable
+SOURCE_DATE_EPOCH (seconds since 1970-01-01 UTC) that time is used
+instead of the clock, so the same inputs give a byte-identical file.
 
 Caution: results support, but do not replace, a validated analytical method.
 For food, drug, water or other regulated testing follow local regulations,
@@ -127,9 +131,13 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if err != nil {
 		return usagef("--quantity: %v", err)
 	}
+	now, err := sourceDateEpoch()
+	if err != nil {
+		return err
+	}
 	opt := reference.Options{
 		PathCM: o.pathCM, Ceiling: o.ceiling, Floor: o.floor,
-		ThroughOrigin: o.throughOrigin, Warn: warn, Version: version,
+		ThroughOrigin: o.throughOrigin, Warn: warn, Version: version, Now: now,
 	}
 	switch {
 	case !(o.pathCM > 0) || o.pathCM > 1e3:
@@ -221,4 +229,22 @@ func calReadBlank(path string, q spectrum.Quantity, warn func(string)) (*spectru
 		return nil, "", fmt.Errorf("blank: %w", err)
 	}
 	return b, sum, nil
+}
+
+// sourceDateEpoch reads the environment variable SOURCE_DATE_EPOCH (the
+// reproducible-builds.org convention: a whole number of seconds since
+// 1970-01-01 UTC) and returns a clock fixed at that time, or nil (the
+// real clock) when it is unset or empty. A malformed value is an error,
+// as the convention asks.
+func sourceDateEpoch() (func() time.Time, error) {
+	v := os.Getenv("SOURCE_DATE_EPOCH")
+	if v == "" {
+		return nil, nil
+	}
+	sec, err := strconv.ParseInt(v, 10, 64)
+	if err != nil || sec < 0 || sec > 253402300799 { // up to 9999-12-31T23:59:59Z
+		return nil, fmt.Errorf("SOURCE_DATE_EPOCH=%q: want a whole number of seconds since 1970-01-01 UTC", v)
+	}
+	t := time.Unix(sec, 0).UTC()
+	return func() time.Time { return t }, nil
 }
