@@ -172,6 +172,7 @@ func TestReadmeWalkthrough(t *testing.T) {
 	}
 
 	t.Chdir("plumwick")
+	checkReadmeCSVFields(t, lines, filepath.Join("results", "samples.csv"))
 	ran := 0
 	for _, l := range pasted {
 		rest, ok := strings.CutPrefix(l.text, "$ huesolve ")
@@ -331,6 +332,66 @@ func TestReadmeFlagTable(t *testing.T) {
 		code := strings.SplitN(strings.TrimPrefix(l.text, "| `"), "`", 2)[0]
 		if !known[code] {
 			t.Errorf("README.md:%d: flag %q is not one huesolve gives", l.n, code)
+		}
+	}
+}
+
+var codeSpan = regexp.MustCompile("`([A-Za-z0-9_]+)`")
+
+// checkReadmeCSVFields checks that the README's list of solve's CSV
+// columns (the paragraph starting "`solve --format csv` writes") is the
+// header of the CSV file solve wrote, with compound names as NAME and
+// baseline terms as TERM.
+func checkReadmeCSVFields(t *testing.T, lines []readmeLine, csvPath string) {
+	t.Helper()
+	documented := map[string]bool{}
+	in := false
+	for _, l := range lines {
+		if strings.HasPrefix(l.text, "`solve --format csv` writes") {
+			in = true
+		} else if in && strings.TrimSpace(l.text) == "" {
+			break
+		}
+		if in {
+			for _, m := range codeSpan.FindAllStringSubmatch(l.text, -1) {
+				documented[m[1]] = true
+			}
+		}
+	}
+	if len(documented) == 0 {
+		t.Fatal("README: no paragraph starting \"`solve --format csv` writes\"")
+	}
+	data, err := os.ReadFile(csvPath)
+	if err != nil {
+		t.Fatal(err)
+	}
+	header, _, _ := strings.Cut(string(data), "\n")
+	res, err := readDemoResults(filepath.Join(filepath.Dir(csvPath), "samples.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	var names []string
+	for _, a := range res.Samples[0].Amounts {
+		names = append(names, a.Compound)
+	}
+	actual := map[string]bool{}
+	for _, col := range strings.Split(strings.TrimSpace(header), ",") {
+		for _, n := range names {
+			if rest, ok := strings.CutPrefix(col, n+"_"); ok {
+				col = "NAME_" + rest
+			}
+		}
+		if strings.HasPrefix(col, "baseline_") {
+			col = "baseline_TERM"
+		}
+		actual[col] = true
+		if !documented[col] {
+			t.Errorf("README: solve's CSV column %s is not documented", col)
+		}
+	}
+	for f := range documented {
+		if !actual[f] {
+			t.Errorf("README: documents CSV column %s, which solve does not write", f)
 		}
 	}
 }
