@@ -1,6 +1,7 @@
 package validate
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -78,6 +79,13 @@ type CrossValidation struct {
 // returned only when no fold succeeds, or the sheet does not name the
 // set's compounds.
 func CrossValidate(set *reference.Set, sheet *reference.Sheet, opt CrossValOptions) (*CrossValidation, error) {
+	return CrossValidateContext(context.Background(), set, sheet, opt)
+}
+
+// CrossValidateContext is CrossValidate that stops when ctx is done,
+// between folds: the error then wraps ctx.Err() and says how many folds
+// had been done.
+func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *reference.Sheet, opt CrossValOptions) (*CrossValidation, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
 	}
@@ -105,6 +113,9 @@ func CrossValidate(set *reference.Set, sheet *reference.Sheet, opt CrossValOptio
 	cv.Folds = len(folds)
 	var preds []Prediction
 	for f, rows := range folds {
+		if err := ctx.Err(); err != nil {
+			return nil, fmt.Errorf("validate: cross-validation stopped after %d of %d folds: %w", f, len(folds), err)
+		}
 		sub := *sheet
 		sub.Standards = nil
 		for i, r := range sheet.Standards {

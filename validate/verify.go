@@ -1,6 +1,7 @@
 package validate
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -275,6 +276,13 @@ type VerifyOptions struct {
 // wrapping ErrNotSelective). Errors from solving a standard name the
 // sheet and line.
 func Verify(set *reference.Set, sheet *reference.Sheet, opt VerifyOptions) (*Verification, error) {
+	return VerifyContext(context.Background(), set, sheet, opt)
+}
+
+// VerifyContext is Verify that stops when ctx is done, between check
+// standards: the error then wraps ctx.Err() and says how many check
+// standards had been solved.
+func VerifyContext(ctx context.Context, set *reference.Set, sheet *reference.Sheet, opt VerifyOptions) (*Verification, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
 	}
@@ -329,6 +337,9 @@ func Verify(set *reference.Set, sheet *reference.Sheet, opt VerifyOptions) (*Ver
 	}
 	var checks []Check
 	for _, r := range rows {
+		if err := ctx.Err(); err != nil {
+			return nil, fmt.Errorf("validate: stopped after %d of %d check standards: %w", len(checks), len(rows), err)
+		}
 		res, err := model.Solve(r.Scan, unmix.Factors{})
 		if err != nil {
 			return nil, fmt.Errorf("validate: %s:%d: check standard %s: %w", sheet.Path, r.Line, rowName(r), err)

@@ -106,6 +106,13 @@ func newRootCmd() *cobra.Command {
 func Execute(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
+	// The first Ctrl-C asks the command to stop cleanly; after it the
+	// signals have their default effect again, so a second one ends a
+	// command that does not stop at once.
+	go func() {
+		<-ctx.Done()
+		stop()
+	}()
 	root := newRootCmd()
 	root.SetArgs(args)
 	root.SetIn(stdin)

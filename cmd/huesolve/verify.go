@@ -3,6 +3,7 @@ package main
 import (
 	"encoding/csv"
 	"encoding/json"
+	"errors"
 	"fmt"
 	"io"
 	"os"
@@ -80,7 +81,8 @@ to a file instead (atomically). --plots DIR writes, per compound, found
 against known with a recovery panel.
 
 Exit codes: 0 every compound passed, 4 some compound failed acceptance,
-1 the checks could not be solved, 2 bad command line.
+1 the checks could not be solved, 2 bad command line, 130 interrupted
+(Ctrl-C; it says how far it got, and nothing is written).
 
 Caution: results support, but do not replace, a validated analytical method.
 For food, drug, water or other regulated testing follow local regulations,
@@ -203,9 +205,22 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	}
 
 	// Work.
-	v, err := validate.Verify(set, sh, validate.VerifyOptions{Model: mopt, Limits: lim, MinSelectivity: o.minSelectivity})
+	ctx := cmd.Context()
+	interrupted := func(err error) error {
+		if ctx.Err() == nil || !errors.Is(err, ctx.Err()) {
+			return err
+		}
+		msg := "interrupted: " + strings.TrimPrefix(err.Error(), "validate: ")
+		if o.out != "" {
+			msg += "; nothing written to " + o.out
+		} else {
+			msg += "; nothing printed"
+		}
+		return &exitError{code: exitInterrupt, msg: msg}
+	}
+	v, err := validate.VerifyContext(ctx, set, sh, validate.VerifyOptions{Model: mopt, Limits: lim, MinSelectivity: o.minSelectivity})
 	if err != nil {
-		return err
+		return interrupted(err)
 	}
 	var cv *validate.CrossValidation
 	if o.crossval != "" {
@@ -221,9 +236,9 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 		}
 		cmopt := mopt
 		cmopt.Blank = nil
-		cv, err = validate.CrossValidate(set, cal, validate.CrossValOptions{Build: bopt, Model: cmopt, ByLevel: byLevel})
+		cv, err = validate.CrossValidateContext(ctx, set, cal, validate.CrossValOptions{Build: bopt, Model: cmopt, ByLevel: byLevel})
 		if err != nil {
-			return err
+			return interrupted(err)
 		}
 		for _, f := range cv.Failed {
 			warn("cross-validation: " + f)
