@@ -91,6 +91,9 @@ type Outcome struct {
 	// Encoded holds what Batch.Encode made of Result (nil without it).
 	// Like Result it is reused after emit returns.
 	Encoded []byte
+	// Checked: with Batch.CheckOnly, the sample was read and could be
+	// solved.
+	Checked bool
 }
 
 // Summary counts a batch.
@@ -102,6 +105,7 @@ type Summary struct {
 	Failed     int // samples that could not be solved, or whose Each hook failed
 	Flagged    int // solved samples carrying a warning flag
 	Emitted    int // outcomes passed to emit (in order) before the end or an interruption
+	Checked    int // samples read and checked (Batch.CheckOnly) that could be solved
 }
 
 // Batch solves many scans with one model on several workers.
@@ -129,6 +133,11 @@ type Batch struct {
 	// Progress, if not nil, is called from the emitting goroutine after
 	// each outcome, with the samples done and the samples known so far.
 	Progress func(done, known int)
+	// CheckOnly reads every sample and checks it (Model.Check) without
+	// solving it: outcomes carry no Result, Checked is set for a sample
+	// that could be solved, and Err for one that could not. Factors is
+	// called as usual; Each and Encode are not.
+	CheckOnly bool
 }
 
 // job is a chunk of consecutive samples of one file (or a file that
@@ -369,6 +378,11 @@ func (b *Batch) solveOne(m *Model, pool *sync.Pool, seq int, s *spectrum.Spectru
 			return err
 		}
 	}
+	if b.CheckOnly {
+		err := m.Check(s, f)
+		out.Checked = err == nil
+		return err
+	}
 	r := pool.Get().(*Result)
 	if err := m.SolveTo(r, s, f); err != nil {
 		pool.Put(r)
@@ -392,6 +406,9 @@ func count(sum *Summary, o Outcome) {
 	switch {
 	case o.Unread:
 		sum.Unreadable++
+	case o.Checked:
+		sum.Samples++
+		sum.Checked++
 	case o.Result == nil:
 		sum.Samples++
 		sum.Failed++

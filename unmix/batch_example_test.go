@@ -61,5 +61,5 @@ func ExampleBatch_Run() {
 	// 1 S2: 4.00 mg/L
 	// 2 S3: 8.00 mg/L
 	// 3 broken.csv: broken.csv:2:1: not a number
-	// {Files:2 Unreadable:1 Samples:3 Solved:3 Failed:0 Flagged:0 Emitted:4} <nil>
+	// {Files:2 Unreadable:1 Samples:3 Solved:3 Failed:0 Flagged:0 Emitted:4 Checked:0} <nil>
 }

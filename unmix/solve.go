@@ -28,24 +28,9 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	sh, w := m.sh, &m.ws
 	name := sampleName(s)
 	fail := func(err error) error { return fmt.Errorf("unmix: %s: %w", name, err) }
-	if err := m.check(s); err != nil {
+	dil, path, err := m.prepare(s, f)
+	if err != nil {
 		return err
-	}
-	dil, path := f.Dilution, f.PathCM
-	if dil == 0 {
-		dil = 1
-	}
-	if path == 0 {
-		path = m.set.PathCM
-	}
-	if !(dil > 0) || math.IsInf(dil, 0) {
-		return fail(fmt.Errorf("%w: dilution factor %g", ErrFactor, dil))
-	}
-	if !(path > 0) || math.IsInf(path, 0) {
-		return fail(fmt.Errorf("%w: path length %g cm", ErrFactor, path))
-	}
-	if err := covers(s.Wavelengths, sh.needLo, sh.needHi); err != nil {
-		return fail(err)
 	}
 
 	// Absorbance on the scan's own grid; unreadable (too dark) points are +Inf.
@@ -104,7 +89,6 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 
 	// The design for this mask.
 	var d *design
-	var err error
 	if m.opt.Weighted {
 		sig := make([]float64, len(w.rows))
 		for i, r := range w.rows {
@@ -140,6 +124,43 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	}
 	m.fill(dst, d, s, name, dil, path, dropped, shift, noConv)
 	return nil
+}
+
+// Check tells whether s could be solved with factors f, without solving
+// it: its values are finite and its grid sound (spectrum.Check), the
+// factors are valid and the scan covers the range the model needs. The
+// errors are those SolveTo gives for the same faults. Whether too many
+// points lie above the ceiling is not checked: that takes the fit's
+// first steps.
+func (m *Model) Check(s *spectrum.Spectrum, f Factors) error {
+	_, _, err := m.prepare(s, f)
+	return err
+}
+
+// prepare checks s and f for SolveTo and returns the dilution and path
+// with defaults applied.
+func (m *Model) prepare(s *spectrum.Spectrum, f Factors) (dil, path float64, err error) {
+	fail := func(err error) error { return fmt.Errorf("unmix: %s: %w", sampleName(s), err) }
+	if err := m.check(s); err != nil {
+		return 0, 0, err
+	}
+	dil, path = f.Dilution, f.PathCM
+	if dil == 0 {
+		dil = 1
+	}
+	if path == 0 {
+		path = m.set.PathCM
+	}
+	if !(dil > 0) || math.IsInf(dil, 0) {
+		return 0, 0, fail(fmt.Errorf("%w: dilution factor %g", ErrFactor, dil))
+	}
+	if !(path > 0) || math.IsInf(path, 0) {
+		return 0, 0, fail(fmt.Errorf("%w: path length %g cm", ErrFactor, path))
+	}
+	if err := covers(s.Wavelengths, m.sh.needLo, m.sh.needHi); err != nil {
+		return 0, 0, fail(err)
+	}
+	return dil, path, nil
 }
 
 // sample fills w.raw, w.blk and w.net on the work grid for a shift delta:

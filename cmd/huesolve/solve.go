@@ -43,6 +43,7 @@ type solveOptions struct {
 	plots      string
 	plotFormat string
 	jobs       int
+	checkOnly  bool
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -98,6 +99,12 @@ cannot be read is reported on standard error and skipped; the others go on.
 Results come in the order of the inputs whatever the number of workers (-j).
 A one-line summary goes to standard error.
 
+--check-only reads every scan and checks that it could be solved (values,
+wavelength grid, coverage of the window, sample sheet factors) without
+solving: a quick look through a large batch before the real run, and a
+measure of how long reading alone takes. Problems go to standard error,
+with the summary; nothing is written to standard output.
+
 Exit codes:
   0  every input read and solved, no sample flagged
   1  failure: nothing could be solved (bad reference set, options, output)
@@ -143,6 +150,7 @@ func newSolveCmd() *cobra.Command {
 	f.StringVar(&o.plots, "plots", "", "write one figure per sample into `DIR`")
 	f.StringVar(&o.plotFormat, "plot-format", "png", "figure format: png or svg")
 	f.IntVarP(&o.jobs, "jobs", "j", 0, "number of samples solved in parallel (default: all cores)")
+	f.BoolVar(&o.checkOnly, "check-only", false, "read and check every scan without solving it")
 	return cmd
 }
 
@@ -187,6 +195,9 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	}
 	if o.jobs < 0 {
 		return usagef("-j %d: want a positive number of workers", o.jobs)
+	}
+	if o.checkOnly && (o.out != "" || o.plots != "") {
+		return usagef("--check-only writes no results: leave out -o and --plots")
 	}
 	ropt := spectrum.ReadOptions{Quantity: q, Warn: warn}
 
@@ -271,6 +282,10 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		}
 	}
 
+	if o.checkOnly {
+		return runSolveCheck(cmd, batch, inputs, errw)
+	}
+
 	layout := report.LayoutOf(model)
 	width := outputWidth(cmd.OutOrStdout(), o.out)
 	var sum unmix.Summary
@@ -352,6 +367,36 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		return &exitError{code: exitSkipped}
 	case sum.Flagged > 0:
 		return &exitError{code: exitFlagged}
+	}
+	return nil
+}
+
+// runSolveCheck runs the batch with CheckOnly: each problem and a summary
+// line go to errw.
+func runSolveCheck(cmd *cobra.Command, batch *unmix.Batch, inputs []unmix.Input, errw io.Writer) error {
+	batch.CheckOnly = true
+	sum, err := batch.Run(cmd.Context(), inputs, func(out unmix.Outcome) error {
+		switch {
+		case out.Err == nil:
+		case out.Unread && strings.HasPrefix(out.Err.Error(), out.File+":"):
+			fmt.Fprintf(errw, "huesolve: cannot read %v\n", out.Err)
+		case out.Unread:
+			fmt.Fprintf(errw, "huesolve: cannot read %s: %v\n", out.File, out.Err)
+		default:
+			fmt.Fprintf(errw, "huesolve: %s: %v\n", out.File, out.Err)
+		}
+		return nil
+	})
+	if err != nil && cmd.Context().Err() != nil && errors.Is(err, cmd.Context().Err()) {
+		return &exitError{code: exitInterrupt, msg: fmt.Sprintf("interrupted after %d sample(s) had been checked", sum.Emitted)}
+	}
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(errw, "huesolve: %d sample(s) read from %d input(s): %d ready to solve, %d cannot be solved, %d input(s) unreadable\n",
+		sum.Samples, sum.Files, sum.Checked, sum.Failed, sum.Unreadable)
+	if sum.Unreadable > 0 || sum.Failed > 0 {
+		return &exitError{code: exitSkipped}
 	}
 	return nil
 }
