@@ -187,6 +187,10 @@ func Assess(names, units []string, checks []Check, lim Limits) (*Verification, e
 			sumSq += e * e
 			if c.Known[k] > 0 {
 				r := 100 * c.Found[k] / c.Known[k]
+				if math.IsInf(r, 0) {
+					return nil, fmt.Errorf("validate: check %s: known %s %g is too small for a recovery (100 × found %g / known overflows)",
+						c.Name, names[k], c.Known[k], c.Found[k])
+				}
 				row.Recovery = &r
 				row.Pass = r >= lim.RecoveryLo && r <= lim.RecoveryHi
 				rec = append(rec, r)
@@ -206,13 +210,16 @@ func Assess(names, units []string, checks []Check, lim Limits) (*Verification, e
 		if len(rec) > 0 {
 			cv.Bias = sumErr / float64(len(rec))
 			mean, sd := meanSD(rec)
+			if math.IsInf(mean, 0) || math.IsNaN(sd) || math.IsInf(sd, 0) {
+				return nil, fmt.Errorf("validate: %s: recoveries too large to average (known concentrations far below the results?)", names[k])
+			}
 			cv.MeanRecovery = mean
 			if len(rec) >= 2 {
 				cv.RSDJudged = true
 				cv.RSD = 100 * sd / math.Abs(mean)
-				if mean == 0 {
+				if mean == 0 || math.IsInf(cv.RSD, 0) {
 					cv.RSD = 0
-					cv.Why = append(cv.Why, "mean recovery is 0 %")
+					cv.Why = append(cv.Why, fmt.Sprintf("mean recovery is %.2g %%: no RSD", mean))
 					cv.Pass = false
 				}
 			}
