@@ -75,7 +75,7 @@ func TestFileTooLarge(t *testing.T) {
 	_, err := ReadFile(p, ReadOptions{})
 	var after runtime.MemStats
 	runtime.ReadMemStats(&after)
-	if !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), p+" is 5 GiB, more than the 1 GiB") {
+	if !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), p+": the file is 5 GiB, more than the 1 GiB") {
 		t.Fatalf("5 GiB file: %v", err)
 	}
 	if grew := after.TotalAlloc - before.TotalAlloc; grew > 1<<20 {
@@ -86,7 +86,7 @@ func TestFileTooLarge(t *testing.T) {
 	if err := os.WriteFile(small, []byte("nm,A\n400,1\n401,2\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := ReadFile(small, ReadOptions{MaxFileBytes: 10}); !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), "17 bytes, more than the 10 bytes") {
+	if _, err := ReadFile(small, ReadOptions{MaxFileBytes: 10}); !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), "small.csv: the file is 17 bytes, more than the 10 bytes") {
 		t.Errorf("limit of 10 bytes: %v", err)
 	}
 	if ss, err := ReadFile(small, ReadOptions{MaxFileBytes: 17}); err != nil || len(ss) != 1 {

@@ -119,10 +119,10 @@ const detectPeek = 64 << 10
 // delimited text otherwise). Values are left in the quantity the file
 // holds; call ToAbsorbance to convert.
 //
-// A directory, a missing or unreadable file, or one larger than
-// opt.MaxFileBytes (an error wrapping ErrTooLarge, given before anything
-// is read) is an error naming the path; problems inside the file are
-// *ParseError values.
+// A directory, a missing or unreadable file is an error naming the path;
+// problems inside the file are *ParseError values, and so is a file larger
+// than opt.MaxFileBytes (wrapping ErrTooLarge, refused before anything is
+// read).
 func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 	f, err := os.Open(path)
 	if err != nil {
@@ -143,8 +143,8 @@ func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 	var in io.Reader = f
 	if st.Mode().IsRegular() {
 		if st.Size() > limit {
-			return nil, fmt.Errorf("spectrum: %s is %s, more than the %s a spectrum file may hold: %w (is this a spectrum file? split a bigger table into several files)",
-				path, bytesize.Text(st.Size()), bytesize.Text(limit), ErrTooLarge)
+			return nil, &ParseError{File: path, Err: fmt.Errorf("the file is %s, more than the %s a spectrum file may hold (%w: is it a spectrum file? split a bigger table into several files)",
+				bytesize.Text(st.Size()), bytesize.Text(limit), ErrTooLarge)}
 		}
 		opt.sizeHint = st.Size()
 	} else {
