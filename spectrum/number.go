@@ -55,45 +55,46 @@ func parseNumber(b []byte, allowComma bool) (v float64, mark byte, err error) {
 		neg = b[0] == '-'
 		i++
 	}
+	// Digits go into mant while it has room for one more (at most 19
+	// significant digits; leading zeros leave mant at 0 and cost
+	// nothing); later digits only move the decimal exponent.
+	const room = 1e18
 	var mant uint64
-	nd := 0    // significant digits kept in mant
 	exp10 := 0 // decimal exponent adjustment
 	trunc := false
-	sawDigit := false
-	sawMark := false
+	start := i
 	for ; i < n; i++ {
-		c := b[i]
-		if c >= '0' && c <= '9' {
-			sawDigit = true
-			if nd == 0 && c == '0' {
-				if sawMark {
-					exp10--
-				}
-				continue
-			}
-			if nd < 19 {
-				mant = mant*10 + uint64(c-'0')
-				nd++
-				if sawMark {
-					exp10--
-				}
-			} else {
-				if c != '0' {
-					trunc = true
-				}
-				if !sawMark {
-					exp10++
-				}
-			}
-			continue
+		c := b[i] - '0'
+		if c > 9 {
+			break
 		}
-		if (c == '.' || (c == ',' && allowComma)) && !sawMark {
-			sawMark = true
-			mark = c
-			continue
+		if mant < room {
+			mant = mant*10 + uint64(c)
+		} else {
+			exp10++
+			trunc = trunc || c != 0
 		}
-		break
 	}
+	digits := i - start
+	if i < n && (b[i] == '.' || (b[i] == ',' && allowComma)) {
+		mark = b[i]
+		i++
+		start = i
+		for ; i < n; i++ {
+			c := b[i] - '0'
+			if c > 9 {
+				break
+			}
+			if mant < room {
+				mant = mant*10 + uint64(c)
+				exp10--
+			} else {
+				trunc = trunc || c != 0
+			}
+		}
+		digits += i - start
+	}
+	sawDigit := digits > 0
 	if !sawDigit {
 		return 0, 0, badNumber(b, i)
 	}
