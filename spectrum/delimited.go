@@ -160,6 +160,25 @@ func (d *delimReader) parseRow(t []byte, line int, row []float64) ([]float64, er
 	col := 0
 	rest := t
 	for {
+		if d.delim != whitespace && col < d.ncols {
+			// Fast path: a plain number right up to the delimiter or
+			// the end of the line. Anything else (blanks, quotes, a
+			// bad number) takes the general path below, which also
+			// words the errors.
+			v, mark, k, err := scanNumber(rest, d.allowComma)
+			if err == nil && (k == len(rest) || rest[k] == d.delim) && (mark == 0 || mark == d.mark) {
+				row = append(row, v)
+				col++
+				if k == len(rest) {
+					break
+				}
+				rest = rest[k+1:]
+				if col == d.ncols && len(trimBlank(rest)) == 0 {
+					break // one trailing delimiter is tolerated
+				}
+				continue
+			}
+		}
 		var f []byte
 		last := false
 		if d.delim == whitespace {

@@ -45,9 +45,21 @@ var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 // go to strconv.ParseFloat, so every result is the correctly rounded
 // float64 that strconv would give.
 func parseNumber(b []byte, allowComma bool) (v float64, mark byte, err error) {
+	v, mark, k, err := scanNumber(b, allowComma)
+	if err == nil && k < len(b) {
+		return 0, 0, badNumber(b, k)
+	}
+	return v, mark, err
+}
+
+// scanNumber parses the number at the start of b as parseNumber does and
+// returns, with it, the number of bytes it took; what follows is left to
+// the caller. The errors are parseNumber's for a field that starts like
+// b (they quote all of b).
+func scanNumber(b []byte, allowComma bool) (v float64, mark byte, k int, err error) {
 	n := len(b)
 	if n == 0 {
-		return 0, 0, errEmptyField
+		return 0, 0, 0, errEmptyField
 	}
 	i := 0
 	neg := false
@@ -96,7 +108,7 @@ func parseNumber(b []byte, allowComma bool) (v float64, mark byte, err error) {
 	}
 	sawDigit := digits > 0
 	if !sawDigit {
-		return 0, 0, badNumber(b, i)
+		return 0, 0, 0, badNumber(b, i)
 	}
 	if i < n && (b[i] == 'e' || b[i] == 'E') {
 		j := i + 1
@@ -106,7 +118,7 @@ func parseNumber(b []byte, allowComma bool) (v float64, mark byte, err error) {
 			j++
 		}
 		if j >= n || b[j] < '0' || b[j] > '9' {
-			return 0, 0, badNumber(b, min(j, n-1))
+			return 0, 0, 0, badNumber(b, min(j, n-1))
 		}
 		e := 0
 		for ; j < n && b[j] >= '0' && b[j] <= '9'; j++ {
@@ -119,9 +131,6 @@ func parseNumber(b []byte, allowComma bool) (v float64, mark byte, err error) {
 		}
 		exp10 += e
 		i = j
-	}
-	if i < n {
-		return 0, 0, badNumber(b, i)
 	}
 	if !trunc && mant < 1<<53 {
 		f := float64(mant)
@@ -139,35 +148,35 @@ func parseNumber(b []byte, allowComma bool) (v float64, mark byte, err error) {
 		if neg {
 			f = -f
 		}
-		return f, mark, nil
+		return f, mark, i, nil
 	}
 slow:
 	var buf [64]byte
 	s := buf[:0]
-	if n > len(buf) {
-		s = make([]byte, 0, n)
+	if i > len(buf) {
+		s = make([]byte, 0, i)
 	}
-	s = append(s, b...)
+	s = append(s, b[:i]...)
 	if mark == ',' {
-		for k := range s {
-			if s[k] == ',' {
-				s[k] = '.'
+		for j := range s {
+			if s[j] == ',' {
+				s[j] = '.'
 			}
 		}
 	}
 	f, perr := strconv.ParseFloat(unsafe.String(unsafe.SliceData(s), len(s)), 64)
 	if perr != nil && (math.IsInf(f, 0) || math.IsNaN(f)) {
-		return 0, 0, errNonFinite
+		return 0, 0, 0, errNonFinite
 	}
 	if perr != nil {
 		var ne *strconv.NumError
 		if !errors.As(perr, &ne) || ne.Err != strconv.ErrRange {
-			return 0, 0, &numError{field: string(b), pos: 0}
+			return 0, 0, 0, &numError{field: string(b[:i]), pos: 0}
 		}
 		// Underflow: strconv returns the nearest float64 (0 or a
 		// subnormal) together with ErrRange; that value is right.
 	}
-	return f, mark, nil
+	return f, mark, i, nil
 }
 
 // badNumber builds the error for a field that failed at offset pos, naming
