@@ -65,6 +65,11 @@ type Check struct {
 	// LOQ is the quantitation limit of each result (used to judge
 	// compounds the standard does not hold).
 	LOQ []float64
+	// Flags, if not nil, holds per compound the warning flags of its
+	// result (the sample's and the compound's own), shown with the row:
+	// a recovery from an ill-conditioned or misfitting solve is not to
+	// be trusted as it stands.
+	Flags [][]string
 }
 
 // CheckRow is one compound in one check standard.
@@ -86,6 +91,9 @@ type CheckRow struct {
 	// for information; the verdict is on the mean); for Known = 0,
 	// |Error| <= LOQ.
 	Pass bool `json:"pass"`
+	// Flags are the warning flags of the result (see package unmix),
+	// e.g. "illcond" or "misfit"; they do not change Pass.
+	Flags []string `json:"flags,omitempty"`
 }
 
 // CompoundVerdict sums up one compound over all check standards.
@@ -184,6 +192,9 @@ func Assess(names, units []string, checks []Check, lim Limits) (*Verification, e
 			e := c.Found[k] - c.Known[k]
 			row := CheckRow{Standard: c.Name, Compound: names[k], Unit: unit, Known: c.Known[k],
 				Found: c.Found[k], SE: c.SE[k], Error: e, LOQ: c.LOQ[k]}
+			if k < len(c.Flags) {
+				row.Flags = c.Flags[k]
+			}
 			sumSq += e * e
 			if c.Known[k] > 0 {
 				r := 100 * c.Found[k] / c.Known[k]
@@ -367,11 +378,19 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *reference.She
 // by col) with a result (set order).
 func checkFrom(name string, conc []float64, col []int, res *unmix.Result) Check {
 	n := len(col)
-	c := Check{Name: name, Known: make([]float64, n), Found: make([]float64, n), SE: make([]float64, n), LOQ: make([]float64, n)}
+	c := Check{Name: name, Known: make([]float64, n), Found: make([]float64, n), SE: make([]float64, n), LOQ: make([]float64, n),
+		Flags: make([][]string, n)}
 	for k := range n {
 		c.Known[k] = conc[col[k]]
 		a := res.Amounts[k]
 		c.Found[k], c.SE[k], c.LOQ[k] = a.Conc, a.SE, a.LOQ
+		for _, fs := range [][]unmix.Flag{res.Flags, a.Flags} {
+			for _, f := range fs {
+				if f.Warning() {
+					c.Flags[k] = append(c.Flags[k], string(f))
+				}
+			}
+		}
 	}
 	return c
 }

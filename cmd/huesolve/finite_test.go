@@ -33,7 +33,7 @@ func checkFinite(t *testing.T, what, out string) {
 //   - standards without noise (the calibration fits exactly: zero
 //     residual, so lack-of-fit and curvature tests divide 0 by 0);
 //   - a reference set of two compounds whose bands lie 1 nm apart (an
-//     ill-conditioned design: solve must say so in the row);
+//     ill-conditioned design: solve and verify must say so in the row);
 //   - samples that are exactly a mixture, exactly zero and exactly
 //     constant (zero residual, zero total variation);
 //   - a check standard declared at a concentration near the smallest
@@ -159,6 +159,25 @@ func TestNonFiniteNeverPrinted(t *testing.T) {
 			t.Fatalf("verify: exit %d\n%s", code, errOut)
 		}
 		checkFinite(t, "verify "+format, out)
+	}
+	// Against the ill-conditioned set, each check row says so.
+	out, errOut, code = run(t, "verify", twin, checks, "--format", "csv")
+	if code == exitUsage || code == exitFailure {
+		t.Fatalf("verify twin: exit %d\n%s", code, errOut)
+	}
+	checkFinite(t, "verify twin csv", out)
+	rows := 0
+	for _, row := range strings.Split(strings.TrimSpace(out), "\n")[1:] {
+		if !strings.HasPrefix(row, "check,") {
+			continue
+		}
+		rows++
+		if !strings.HasSuffix(row, "illcond") && !strings.Contains(row, "illcond ") {
+			t.Errorf("verify twin: a check row of the ill-conditioned design does not say so: %s", row)
+		}
+	}
+	if rows != 6 {
+		t.Errorf("verify twin: %d check rows, want 6:\n%s", rows, out)
 	}
 	tiny := filepath.Join(dir, "tiny.csv")
 	if err := os.WriteFile(tiny, []byte("scan,amber (mg/L),blue (mg/L)\nc1.csv,5,5\nc3.csv,5e-324,4\n"), 0o644); err != nil {

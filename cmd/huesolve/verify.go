@@ -346,6 +346,9 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 		if r.Recovery == nil {
 			ok += " (|found| vs LOQ " + valNum(r.LOQ) + ")"
 		}
+		if len(r.Flags) > 0 {
+			ok += ", flagged " + strings.Join(r.Flags, " ")
+		}
 		unit := ""
 		if r.Unit != "" {
 			unit = " " + r.Unit
@@ -419,11 +422,12 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 // writeVerifyCSV writes one row per standard and compound (record
 // "check"), one per compound (record "compound") and, with
 // cross-validation, one per predicted calibration standard and compound
-// (record "crossval").
+// (record "crossval"). The last column, flags, holds a check row's
+// warning flags (e.g. illcond, misfit).
 func writeVerifyCSV(w io.Writer, v *validate.Verification, cv *validate.CrossValidation) error {
 	cw := csv.NewWriter(w)
 	head := []string{"record", "standard", "compound", "unit", "known", "found", "se", "error", "recovery_pct", "loq",
-		"mean_recovery_pct", "rsd_pct", "bias", "rmsep", "rmsecv", "pass", "why"}
+		"mean_recovery_pct", "rsd_pct", "bias", "rmsep", "rmsecv", "pass", "why", "flags"}
 	if err := cw.Write(head); err != nil {
 		return err
 	}
@@ -434,7 +438,7 @@ func writeVerifyCSV(w io.Writer, v *validate.Verification, cv *validate.CrossVal
 			rec = f(*r.Recovery)
 		}
 		if err := cw.Write([]string{"check", r.Standard, r.Compound, r.Unit, f(r.Known), f(r.Found), f(r.SE), f(r.Error), rec, f(r.LOQ),
-			"", "", "", "", "", strconv.FormatBool(r.Pass), ""}); err != nil {
+			"", "", "", "", "", strconv.FormatBool(r.Pass), "", strings.Join(r.Flags, " ")}); err != nil {
 			return err
 		}
 	}
@@ -453,7 +457,7 @@ func writeVerifyCSV(w io.Writer, v *validate.Verification, cv *validate.CrossVal
 			rsd = f(c.RSD)
 		}
 		if err := cw.Write([]string{"compound", "", c.Compound, c.Unit, "", "", "", "", "", "",
-			mean, rsd, bias, f(c.RMSEP), rmsecv[c.Compound], strconv.FormatBool(c.Pass), strings.Join(c.Why, "; ")}); err != nil {
+			mean, rsd, bias, f(c.RMSEP), rmsecv[c.Compound], strconv.FormatBool(c.Pass), strings.Join(c.Why, "; "), ""}); err != nil {
 			return err
 		}
 	}
@@ -461,7 +465,7 @@ func writeVerifyCSV(w io.Writer, v *validate.Verification, cv *validate.CrossVal
 		for _, p := range cv.Predictions {
 			for k, n := range cv.Compounds {
 				if err := cw.Write([]string{"crossval", p.Standard, n, cv.Units[k], f(p.Known[k]), f(p.Found[k]), "",
-					f(p.Found[k] - p.Known[k]), "", "", "", "", "", "", "", "", ""}); err != nil {
+					f(p.Found[k] - p.Known[k]), "", "", "", "", "", "", "", "", "", ""}); err != nil {
 					return err
 				}
 			}
