@@ -54,7 +54,8 @@ type ReadOptions struct {
 	MaxColumns int
 	// MaxFileBytes bounds the size of a file ReadFile reads; a larger
 	// file is refused before it is read (a pipe, whose size is not known,
-	// fails when it passes the bound). Zero means DefaultMaxFileBytes.
+	// or a file that grows while it is read, fails when it passes the
+	// bound). Zero means DefaultMaxFileBytes.
 	MaxFileBytes int64
 
 	// sizeHint is the input size in bytes when known (ReadFile sets it);
@@ -140,15 +141,15 @@ func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 		return nil, fmt.Errorf("spectrum: %s is not a regular file", path)
 	}
 	limit := opt.maxFile()
-	var in io.Reader = f
+	// The cap also holds for a pipe, whose size is not known, and for a
+	// file that grows while it is read.
+	in := &capReader{r: f, left: limit, limit: limit}
 	if st.Mode().IsRegular() {
 		if st.Size() > limit {
 			return nil, &ParseError{File: path, Err: fmt.Errorf("the file is %s, more than the %s a spectrum file may hold (%w: is it a spectrum file? split a bigger table into several files)",
 				bytesize.Text(st.Size()), bytesize.Text(limit), ErrTooLarge)}
 		}
 		opt.sizeHint = st.Size()
-	} else {
-		in = &capReader{r: f, left: limit, limit: limit}
 	}
 	size := detectPeek
 	if s := st.Size(); s > 0 && s < int64(size) {
