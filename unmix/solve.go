@@ -405,11 +405,7 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 		if weighted {
 			s0 = floats.Norm(row, 2)
 		} else {
-			for i, v := range row {
-				v *= sr[i]
-				s0 += v * v
-			}
-			s0 = math.Sqrt(s0)
+			s0 = math.Sqrt(sumSqScaled(row, sr))
 		}
 		if weighted {
 			for i, v := range row {
@@ -545,6 +541,26 @@ func (m *Model) curves(dst *Result, d *design) {
 			dst.BaselineCurve[i] += w.res.Coef[j] * sh.cols[j][r]
 		}
 	}
+}
+
+// sumSqScaled returns Σ (x_i s_i)², in four interleaved sums so that the
+// additions do not wait on each other.
+func sumSqScaled(x, s []float64) float64 {
+	s = s[:len(x)]
+	var a0, a1, a2, a3 float64
+	i := 0
+	for ; i+4 <= len(x); i += 4 {
+		v0, v1, v2, v3 := x[i]*s[i], x[i+1]*s[i+1], x[i+2]*s[i+2], x[i+3]*s[i+3]
+		a0 += v0 * v0
+		a1 += v1 * v1
+		a2 += v2 * v2
+		a3 += v3 * v3
+	}
+	for ; i < len(x); i++ {
+		v := x[i] * s[i]
+		a0 += v * v
+	}
+	return (a0 + a1) + (a2 + a3)
 }
 
 // sampleName is the spectrum's name, else its source.
