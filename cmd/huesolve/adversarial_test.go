@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
 	"testing"
 )
@@ -226,5 +227,39 @@ func TestScanTextVariants(t *testing.T) {
 		if c.warn != "" && !strings.Contains(errOut, c.warn) {
 			t.Errorf("%s: no warning %q:\n%s", c.name, c.warn, errOut)
 		}
+	}
+}
+
+// TestLookWideTable: look reads a table of 100,000 scans and lists the
+// first 40 of them.
+func TestLookWideTable(t *testing.T) {
+	const n = 100000
+	var b bytes.Buffer
+	b.WriteString("nm")
+	for j := range n {
+		b.WriteString(",S" + strconv.Itoa(j+1) + " [A]")
+	}
+	for _, w := range []string{"\n400", "\n401", "\n402"} {
+		b.WriteString(w)
+		for j := range n {
+			b.WriteString("," + strconv.Itoa(j%3) + ".5")
+		}
+	}
+	b.WriteByte('\n')
+	p := filepath.Join(t.TempDir(), "wide.csv")
+	if err := os.WriteFile(p, b.Bytes(), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out, errOut, code := run(t, "look", p, "--plain")
+	if code != exitOK || errOut != "" {
+		t.Fatalf("exit %d, stderr %q", code, errOut)
+	}
+	lines := strings.Split(strings.TrimSpace(out), "\n")
+	if len(lines) != 40 || !strings.Contains(lines[39], "\tS40\t3\t400-402\t1\tabsorbance\t0.5\t0.5") {
+		t.Errorf("%d lines, last %q", len(lines), lines[len(lines)-1])
+	}
+	out, _, code = run(t, "look", p)
+	if code != exitOK || !strings.Contains(out, "100000 spectra") || !strings.Contains(out, "and 99960 more") {
+		t.Errorf("table: exit %d\n%s", code, out)
 	}
 }
