@@ -738,7 +738,10 @@ func cellQuantityAndName(cell string) (Quantity, string) {
 		if k := strings.LastIndexByte(c, open); k >= 0 {
 			if q := quantityFromText(c[k:]); q != Unstated {
 				name := strings.TrimSpace(c[:k])
-				if onlyQuantityWords(name) {
+				// "Transmittance (%)" is a quantity, not a name; "A!A
+				// [absorbance]" is named A!A (its words alone say
+				// nothing).
+				if onlyQuantityWords(name) && quantityFromText(name) != Unstated {
 					name = ""
 				}
 				return q, name

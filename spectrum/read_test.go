@@ -310,6 +310,8 @@ func TestHeaderWords(t *testing.T) {
 		{"transmittance", Transmittance, ""},
 		{"dye T", Unstated, "dye T"},
 		{"x [transmittance]", Transmittance, "x"},
+		{"A!A [absorbance]", Absorbance, "A!A"}, // found by FuzzReadDelimited
+		{"Absorbance (A)", Absorbance, ""},
 		{"", Unstated, ""},
 	} {
 		q, name := cellQuantityAndName(c.cell)
