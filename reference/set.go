@@ -7,6 +7,7 @@ import (
 	"encoding/json"
 	"errors"
 	"fmt"
+	"io"
 	"math"
 	"os"
 
@@ -336,7 +337,10 @@ func Load(path string) (*Set, error) {
 		return fail(fmt.Errorf("%w: the file is %s, more than the %s a reference set may take", ErrNotSet,
 			bytesize.Text(st.Size()), bytesize.Text(MaxSetBytes)))
 	}
-	data, err := os.ReadFile(path)
+	data, err := readUpTo(path, MaxSetBytes)
+	if errors.Is(err, errTooLarge) {
+		return fail(fmt.Errorf("%w: more than the %s a reference set may take", ErrNotSet, bytesize.Text(MaxSetBytes)))
+	}
 	if err != nil {
 		return nil, fmt.Errorf("reference: %w", err)
 	}
@@ -384,6 +388,28 @@ func Load(path string) (*Set, error) {
 		return fail(err)
 	}
 	return s, nil
+}
+
+// errTooLarge: readUpTo found more than its limit.
+var errTooLarge = errors.New("too large")
+
+// readUpTo reads the file at path, failing with errTooLarge once it holds
+// more than limit bytes (a pipe, or a file growing while it is read, is
+// not trusted to be small because a size check passed).
+func readUpTo(path string, limit int64) ([]byte, error) {
+	f, err := os.Open(path)
+	if err != nil {
+		return nil, err
+	}
+	defer f.Close()
+	data, err := io.ReadAll(io.LimitReader(f, limit+1))
+	if err != nil {
+		return nil, err
+	}
+	if int64(len(data)) > limit {
+		return nil, errTooLarge
+	}
+	return data, nil
 }
 
 // Save checks s (see Validate), sets its Schema to SchemaVersion and its

@@ -94,7 +94,10 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 		return nil, perr(0, 0, "%w: the file is %s, more than the %s a standards sheet may take (is it a sheet?)",
 			ErrSheetHeader, bytesize.Text(sheetSt.Size()), bytesize.Text(MaxSheetBytes))
 	}
-	data, err := os.ReadFile(path)
+	data, err := readUpTo(path, MaxSheetBytes)
+	if errors.Is(err, errTooLarge) {
+		return nil, perr(0, 0, "%w: more than the %s a standards sheet may take (is it a sheet?)", ErrSheetHeader, bytesize.Text(MaxSheetBytes))
+	}
 	if err != nil {
 		return nil, fmt.Errorf("reference: standards sheet: %w", err)
 	}
