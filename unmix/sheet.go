@@ -59,7 +59,26 @@ func ReadSampleSheet(path string) (*SampleSheet, error) {
 		return nil, fmt.Errorf("unmix: sample sheet %s is %s, more than the %s a sample sheet may take",
 			path, bytesize.Text(st.Size()), bytesize.Text(MaxSampleSheetBytes))
 	}
-	return ParseSampleSheet(f, path)
+	return ParseSampleSheet(&sheetCap{r: f, left: MaxSampleSheetBytes}, path)
+}
+
+// sheetCap fails a read once more than MaxSampleSheetBytes came through
+// (a pipe, or a file growing while it is read).
+type sheetCap struct {
+	r    io.Reader
+	left int64
+}
+
+func (c *sheetCap) Read(p []byte) (int, error) {
+	if c.left < 0 {
+		return 0, fmt.Errorf("more than the %s a sample sheet may take", bytesize.Text(MaxSampleSheetBytes))
+	}
+	if int64(len(p)) > c.left+1 {
+		p = p[:c.left+1]
+	}
+	n, err := c.r.Read(p)
+	c.left -= int64(n)
+	return n, err
 }
 
 // ParseSampleSheet reads a sample sheet from r; file names it in errors,
