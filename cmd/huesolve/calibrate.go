@@ -4,7 +4,6 @@ import (
 	"fmt"
 	"os"
 	"strconv"
-	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -12,7 +11,6 @@ import (
 	"huesolve/baseline"
 	"huesolve/reference"
 	"huesolve/report"
-	"huesolve/spectrum"
 )
 
 func init() { commands = append(commands, newCalibrateCmd) }
@@ -27,10 +25,8 @@ type calibrateOptions struct {
 	floor         float64
 	throughOrigin bool
 	pretreat      []string
-	unit          string
-	quantity      string
-	plots         string
-	plotFormat    string
+	scans         scanFlags
+	output        outputFlags
 }
 
 const calibrateLong = `Build a reference set from calibration standards.
@@ -67,9 +63,7 @@ The set records when it was made; with the environment variable
 SOURCE_DATE_EPOCH (seconds since 1970-01-01 UTC) that time is used
 instead of the clock, so the same inputs give a byte-identical file.
 
-Caution: results support, but do not replace, a validated analytical method.
-For food, drug, water or other regulated testing follow local regulations,
-the validated procedure and the responsible licensed professional.`
+` + caution
 
 func newCalibrateCmd() *cobra.Command {
 	o := &calibrateOptions{}
@@ -89,34 +83,16 @@ func newCalibrateCmd() *cobra.Command {
 	}
 	f := cmd.Flags()
 	f.StringVarP(&o.out, "output", "o", "", "reference set file to write (JSON)")
-	f.StringVar(&o.blank, "blank", "", "blank scan `FILE` subtracted from every standard (instead of the sheet's blank rows)")
+	o.scans.add(f)
+	o.scans.addUnit(f)
+	o.output.addPlots(f, "plots of the absorptivities and calibration lines")
 	f.StringVar(&o.window, "window", "", "wavelength window `LO-HI` in nm (default: the range all scans share)")
 	f.Float64Var(&o.pathCM, "path-cm", reference.DefaultPathCM, "cuvette path length of the standards, cm")
 	f.Float64Var(&o.ceiling, "ceiling", reference.DefaultCeiling, "absorbance above which readings are left out")
 	f.Float64Var(&o.floor, "floor", 0, "detector floor: absorbance below which a band is not seen (0: none)")
 	f.BoolVar(&o.throughOrigin, "through-origin", false, "fit absorbance = absorptivity × path × concentration with no intercept")
 	f.StringArrayVar(&o.pretreat, "pretreat", nil, "pre-treatment `STEP`, repeatable, applied in order: zero:LO-HI, als:LAMBDA,P or sg:WINDOW,ORDER[,DERIV]")
-	f.StringVar(&o.unit, "unit", "", "concentration unit for compounds whose header gives none, e.g. mg/L")
-	f.StringVar(&o.quantity, "quantity", "", "what the scan files hold when they do not say: absorbance, %T or T")
-	f.StringVar(&o.plots, "plots", "", "write plots of the absorptivities and calibration lines into `DIR`")
-	f.StringVar(&o.plotFormat, "plot-format", "png", "plot format: png or svg")
 	return cmd
-}
-
-// calParseWindow reads "LO-HI" (or "LO:HI") in nm.
-func calParseWindow(s string) (lo, hi float64, err error) {
-	s = strings.TrimSpace(s)
-	sep := strings.IndexAny(s[min(1, len(s)):], "-:")
-	if sep < 0 {
-		return 0, 0, usagef("--window %q: want LO-HI in nm, e.g. 400-700", s)
-	}
-	sep += min(1, len(s))
-	lo, err1 := strconv.ParseFloat(strings.TrimSpace(s[:sep]), 64)
-	hi, err2 := strconv.ParseFloat(strings.TrimSpace(s[sep+1:]), 64)
-	if err1 != nil || err2 != nil || !(lo > 0) || !(hi > lo) || hi > 1e6 {
-		return 0, 0, usagef("--window %q: want LO-HI in nm with 0 < LO < HI, e.g. 400-700", s)
-	}
-	return lo, hi, nil
 }
 
 func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) error {
@@ -127,9 +103,9 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if o.out == "" {
 		return usagef("calibrate needs --output FILE for the reference set")
 	}
-	q, err := spectrum.ParseQuantity(o.quantity)
+	q, err := o.scans.parseQuantity()
 	if err != nil {
-		return usagef("--quantity: %v", err)
+		return err
 	}
 	now, err := sourceDateEpoch()
 	if err != nil {
@@ -148,7 +124,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		return usagef("--floor %g: want 0 <= floor < ceiling (%g)", o.floor, o.ceiling)
 	}
 	if o.window != "" {
-		if opt.WindowLo, opt.WindowHi, err = calParseWindow(o.window); err != nil {
+		if opt.WindowLo, opt.WindowHi, err = parseWindowFlag(o.window); err != nil {
 			return err
 		}
 	}
@@ -159,22 +135,17 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		}
 		opt.Pretreat = append(opt.Pretreat, st)
 	}
-	pf := strings.ToLower(o.plotFormat)
-	if pf != "png" && pf != "svg" {
-		return usagef("--plot-format %q: want png or svg", o.plotFormat)
+	if err := o.output.checkPlots(); err != nil {
+		return err
 	}
 
 	// Inputs.
-	sh, err := reference.ReadSheet(sheetPath, reference.SheetOptions{Unit: o.unit, Quantity: q, Warn: warn})
+	sh, err := reference.ReadSheet(sheetPath, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
 	if err != nil {
 		return err
 	}
-	if o.blank != "" {
-		b, sum, err := calReadBlank(o.blank, q, warn)
-		if err != nil {
-			return err
-		}
-		opt.Blank, opt.BlankSHA256 = b, sum
+	if opt.Blank, opt.BlankSHA256, err = o.scans.readBlank(q, warn); err != nil {
+		return err
 	}
 
 	// Build, save, report.
@@ -189,15 +160,11 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		return err
 	}
 	fmt.Fprintf(errw, "huesolve: reference set written to %s\n", o.out)
-	if o.plots != "" {
-		if err := os.MkdirAll(o.plots, 0o755); err != nil {
-			return fmt.Errorf("plots: %w", err)
-		}
-		files, err := report.WriteCalibrationPlots(set, o.plots, pf)
-		if err != nil {
-			return err
-		}
-		fmt.Fprintf(errw, "huesolve: %d plots written to %s\n", len(files), o.plots)
+	err = o.output.writePlots(cmd, func(dir, format string) ([]string, error) {
+		return report.WriteCalibrationPlots(set, dir, format)
+	})
+	if err != nil {
+		return err
 	}
 	flagged := 0
 	for _, c := range set.Compounds {
@@ -209,26 +176,6 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		return &exitError{code: exitFlagged, msg: fmt.Sprintf("%d of %d compounds flagged (see the legend under the table); the set was written", flagged, len(set.Compounds))}
 	}
 	return nil
-}
-
-// calReadBlank reads a separate blank scan file holding one scan.
-func calReadBlank(path string, q spectrum.Quantity, warn func(string)) (*spectrum.Spectrum, string, error) {
-	ss, err := spectrum.ReadFile(path, spectrum.ReadOptions{Quantity: q, Warn: warn})
-	if err != nil {
-		return nil, "", fmt.Errorf("blank: %w", err)
-	}
-	if len(ss) != 1 {
-		return nil, "", fmt.Errorf("blank: %s holds %d scans; give a file with one", path, len(ss))
-	}
-	b := ss[0]
-	if err := b.ToAbsorbance(); err != nil {
-		return nil, "", fmt.Errorf("blank: %w", err)
-	}
-	sum, err := reference.FileSHA256(path)
-	if err != nil {
-		return nil, "", fmt.Errorf("blank: %w", err)
-	}
-	return b, sum, nil
 }
 
 // sourceDateEpoch reads the environment variable SOURCE_DATE_EPOCH (the

@@ -17,11 +17,11 @@ func init() { commands = append(commands, newConvertCmd) }
 
 // convertOptions are the flags of huesolve convert.
 type convertOptions struct {
-	out      string
-	to       string
-	as       string
-	quantity string
-	pick     string
+	out   string
+	to    string
+	as    string
+	scans scanFlags
+	pick  string
 }
 
 // Output formats of convert.
@@ -62,7 +62,7 @@ everything was written; "-o -" writes to standard output.`,
 	f.StringVarP(&o.out, "output", "o", "", "file to write (required; - for standard output)")
 	f.StringVar(&o.to, "to", "", "output format: csv, tsv, jcamp or jcamp-compressed (default: from the output file's extension)")
 	f.StringVar(&o.as, "as", "", "convert the values before writing: absorbance")
-	f.StringVar(&o.quantity, "quantity", "", "what the input values are when the file does not say: absorbance, %T or T")
+	o.scans.addQuantity(f)
 	f.StringVar(&o.pick, "spectrum", "", "write only this spectrum of the input (its name or its number, counting from 1)")
 	return cmd
 }
@@ -84,9 +84,9 @@ func runConvert(stdout, errw io.Writer, in string, o convertOptions) error {
 	if o.out == "" {
 		return usagef("convert needs an output file: -o OUT (or -o - for standard output)")
 	}
-	q, err := spectrum.ParseQuantity(o.quantity)
+	q, err := o.scans.parseQuantity()
 	if err != nil {
-		return usagef("--quantity: %v", err)
+		return err
 	}
 	format := strings.ToLower(o.to)
 	if format == "" {

@@ -38,9 +38,7 @@ DIR must be new or empty (or a folder an earlier demo wrote). Without DIR a
 fresh temporary folder is made and its name printed. The commands' results
 and plots go to DIR/results.
 
-Caution: results support, but do not replace, a validated analytical method.
-For food, drug, water or other regulated testing follow local regulations,
-the validated procedure and the responsible licensed professional.`
+` + caution
 
 type demoOptions struct {
 	dir       string

@@ -18,9 +18,9 @@ func init() { commands = append(commands, newLookCmd) }
 
 // lookOptions are the flags of huesolve look.
 type lookOptions struct {
-	quantity string
-	all      bool
-	plain    bool
+	scans scanFlags
+	all   bool
+	plain bool
 }
 
 // lookRowsShown is how many spectra of one file look lists unless --all.
@@ -44,15 +44,15 @@ look exits with code 3.`,
   huesolve look --quantity %T export.csv`,
 		Args: cobra.MinimumNArgs(1),
 		RunE: func(cmd *cobra.Command, args []string) error {
-			q, err := spectrum.ParseQuantity(o.quantity)
+			q, err := o.scans.parseQuantity()
 			if err != nil {
-				return usagef("--quantity: %v", err)
+				return err
 			}
 			return runLook(cmd.OutOrStdout(), cmd.ErrOrStderr(), args, q, o)
 		},
 	}
 	f := cmd.Flags()
-	f.StringVar(&o.quantity, "quantity", "", "what the values are when the file does not say: absorbance, %T or T")
+	o.scans.addQuantity(f)
 	f.BoolVar(&o.all, "all", false, fmt.Sprintf("list every spectrum of a wide table (default: the first %d)", lookRowsShown))
 	f.BoolVar(&o.plain, "plain", false, "print plain tab-separated rows (for scripts) instead of boxed tables")
 	return cmd

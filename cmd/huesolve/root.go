@@ -68,7 +68,12 @@ Exit codes:
   3  done, but some input files could not be read (they are listed on stderr)
   4  done, all inputs read, but some results are flagged or failed acceptance
 
-Caution: results support, but do not replace, a validated analytical method.
+` + caution
+
+// caution ends the help of every command that gives results (and the
+// demo's closing words): where results could hurt someone, they defer to
+// regulations, validated methods and licensed professionals.
+const caution = `Caution: results support, but do not replace, a validated analytical method.
 For food, drug, water or other regulated testing follow local regulations,
 the validated procedure and the responsible licensed professional.`
 

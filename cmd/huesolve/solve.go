@@ -15,7 +15,6 @@ import (
 	"github.com/spf13/cobra"
 	"golang.org/x/term"
 
-	"huesolve/baseline"
 	"huesolve/internal/atomicfile"
 	"huesolve/reference"
 	"huesolve/report"
@@ -27,23 +26,14 @@ func init() { commands = append(commands, newSolveCmd) }
 
 // solveOptions are the flags of solve.
 type solveOptions struct {
-	window     string
-	baseline   string
-	weighted   bool
-	shift      bool
-	maxShift   float64
-	ceiling    float64
-	blank      string
-	dilution   float64
-	pathCM     float64
-	samples    string
-	quantity   string
-	format     string
-	out        string
-	plots      string
-	plotFormat string
-	jobs       int
-	checkOnly  bool
+	fit       fitFlags
+	scans     scanFlags
+	output    outputFlags
+	dilution  float64
+	pathCM    float64
+	samples   string
+	jobs      int
+	checkOnly bool
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -113,9 +103,7 @@ Exit codes:
   4  everything was solved, but some samples carry a "!" flag
   130 interrupted: nothing was written to -o FILE
 
-Caution: results support, but do not replace, a validated analytical method.
-For food, drug, water or other regulated testing follow local regulations,
-the validated procedure and the responsible licensed professional.`
+` + caution
 
 func newSolveCmd() *cobra.Command {
 	o := &solveOptions{}
@@ -134,21 +122,12 @@ func newSolveCmd() *cobra.Command {
 		},
 	}
 	f := cmd.Flags()
-	f.StringVar(&o.window, "window", "", "wavelength window `LO-HI` in nm for the fit (default: the whole reference grid)")
-	f.StringVar(&o.baseline, "baseline", "offset", "baseline `MODEL`: none, offset, linear, quadratic or cubic, optionally +scatter[=POWER]")
-	f.BoolVar(&o.weighted, "weighted", false, "weight wavelengths by the reference set's noise model")
-	f.BoolVar(&o.shift, "shift", false, "estimate a wavelength shift of each sample")
-	f.Float64Var(&o.maxShift, "max-shift", unmix.DefaultMaxShiftNM, "largest shift in nm that --shift may find")
-	f.Float64Var(&o.ceiling, "ceiling", 0, "absorbance above which points are left out (default: the reference set's)")
-	f.StringVar(&o.blank, "blank", "", "blank scan `FILE` subtracted from every sample")
+	o.fit.add(f)
+	o.scans.add(f)
+	o.output.add(f, "one figure per sample")
 	f.Float64Var(&o.dilution, "dilution", 1, "dilution factor of every sample (the sample sheet overrides it)")
 	f.Float64Var(&o.pathCM, "path-cm", 0, "cell path length in cm (default: the reference set's; the sample sheet overrides it)")
 	f.StringVar(&o.samples, "samples", "", "sample `SHEET` with columns sample, dilution, path_cm")
-	f.StringVar(&o.quantity, "quantity", "", "what the scan files hold when they do not say: absorbance, %T or T")
-	f.StringVar(&o.format, "format", "table", "output format: table, csv or json")
-	f.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output")
-	f.StringVar(&o.plots, "plots", "", "write one figure per sample into `DIR`")
-	f.StringVar(&o.plotFormat, "plot-format", "png", "figure format: png or svg")
 	f.IntVarP(&o.jobs, "jobs", "j", 0, "number of samples solved in parallel (default: all cores)")
 	f.BoolVar(&o.checkOnly, "check-only", false, "read and check every scan without solving it")
 	return cmd
@@ -159,30 +138,9 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	warn := func(msg string) { fmt.Fprintln(errw, "huesolve: note:", msg) }
 
 	// Flags.
-	mopt := unmix.Options{Weighted: o.weighted, Shift: o.shift, MaxShiftNM: o.maxShift, Ceiling: o.ceiling}
-	var err error
-	if o.window != "" {
-		if mopt.WindowLo, mopt.WindowHi, err = calParseWindow(o.window); err != nil {
-			return err
-		}
-	}
-	if mopt.Baseline, err = baseline.ParseModel(o.baseline); err != nil {
-		return usagef("--baseline %q: %v", o.baseline, err)
-	}
-	q, err := spectrum.ParseQuantity(o.quantity)
+	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
 	if err != nil {
-		return usagef("--quantity: %v", err)
-	}
-	format := strings.ToLower(o.format)
-	if format != report.FormatTable && format != report.FormatCSV && format != report.FormatJSON {
-		return usagef("--format %q: want table, csv or json", o.format)
-	}
-	plotFormat := strings.ToLower(o.plotFormat)
-	if plotFormat != "png" && plotFormat != "svg" {
-		return usagef("--plot-format %q: want png or svg", o.plotFormat)
-	}
-	if !(o.maxShift > 0) || o.maxShift > 50 {
-		return usagef("--max-shift %g: want a number of nm between 0 and 50", o.maxShift)
+		return err
 	}
 	if !(o.dilution > 0) || o.dilution > 1e9 {
 		return usagef("--dilution %g: want a positive factor", o.dilution)
@@ -190,13 +148,10 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if o.pathCM < 0 || o.pathCM > 1e3 || o.pathCM != o.pathCM {
 		return usagef("--path-cm %g: want a positive length in cm", o.pathCM)
 	}
-	if o.ceiling < 0 || o.ceiling != o.ceiling {
-		return usagef("--ceiling %g: want a positive absorbance", o.ceiling)
-	}
 	if o.jobs < 0 {
 		return usagef("-j %d: want a positive number of workers", o.jobs)
 	}
-	if o.checkOnly && (o.out != "" || o.plots != "") {
+	if o.checkOnly && (o.output.out != "" || o.output.plots != "") {
 		return usagef("--check-only writes no results: leave out -o and --plots")
 	}
 	ropt := spectrum.ReadOptions{Quantity: q, Warn: warn}
@@ -206,17 +161,10 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if err != nil {
 		return err
 	}
-	if o.blank != "" {
-		bs, err := spectrum.ReadFile(o.blank, ropt)
-		if err != nil {
-			return fmt.Errorf("blank: %w", err)
-		}
-		if len(bs) != 1 {
-			return fmt.Errorf("blank %s holds %d scans; give a file with one", o.blank, len(bs))
-		}
-		mopt.Blank = bs[0]
+	if mopt.Blank, _, err = o.scans.readBlank(q, warn); err != nil {
+		return err
 	}
-	mopt.KeepCurves = o.plots != ""
+	mopt.KeepCurves = o.output.plots != ""
 	model, err := unmix.NewModel(set, mopt)
 	if err != nil {
 		return err
@@ -231,9 +179,9 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 			return err
 		}
 	}
-	if o.plots != "" {
-		if err := os.MkdirAll(o.plots, 0o755); err != nil {
-			return fmt.Errorf("--plots: %w", err)
+	if o.output.plots != "" {
+		if err := o.output.makePlotDir(); err != nil {
+			return err
 		}
 	}
 
@@ -260,9 +208,9 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		},
 	}
 	names := model.Compounds()
-	if o.plots != "" {
+	if o.output.plots != "" {
 		batch.Each = func(seq int, r *unmix.Result) error {
-			return report.SaveSamplePlot(r, names, report.SamplePlotPath(o.plots, seq+1, r.Sample, plotFormat))
+			return report.SaveSamplePlot(r, names, report.SamplePlotPath(o.output.plots, seq+1, r.Sample, o.output.plotFormat))
 		}
 	}
 	inputs := unmix.ExpandInputs(scans)
@@ -287,10 +235,10 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	}
 
 	layout := report.LayoutOf(model)
-	width := outputWidth(cmd.OutOrStdout(), o.out)
+	width := outputWidth(cmd.OutOrStdout(), o.output.out)
 	var sum unmix.Summary
 	solveAll := func(w io.Writer) error {
-		rw, err := report.NewResultWriter(format, w, layout, width)
+		rw, err := report.NewResultWriter(o.output.format, w, layout, width)
 		if err != nil {
 			return err
 		}
@@ -332,8 +280,8 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		}
 		return rw.Close()
 	}
-	if o.out != "" {
-		err = atomicfile.Write(o.out, solveAll)
+	if o.output.out != "" {
+		err = atomicfile.Write(o.output.out, solveAll)
 	} else {
 		bw := bufio.NewWriter(cmd.OutOrStdout())
 		err = solveAll(bw)
@@ -343,8 +291,8 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	}
 	if errors.Is(err, cmd.Context().Err()) && cmd.Context().Err() != nil {
 		msg := fmt.Sprintf("interrupted after %d sample(s) had been solved and reported", sum.Emitted)
-		if o.out != "" {
-			msg += "; nothing written to " + o.out
+		if o.output.out != "" {
+			msg += "; nothing written to " + o.output.out
 		} else {
 			msg += "; the output above is incomplete"
 		}
@@ -358,8 +306,8 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	}
 	line := fmt.Sprintf("huesolve: %d sample(s) solved from %d input(s): %d flagged, %d failed, %d input(s) unreadable",
 		sum.Solved, sum.Files, sum.Flagged, sum.Failed, sum.Unreadable)
-	if o.out != "" {
-		line += "; results in " + o.out
+	if o.output.out != "" {
+		line += "; results in " + o.output.out
 	}
 	fmt.Fprintln(errw, line)
 	switch {

@@ -2,22 +2,16 @@ package main
 
 import (
 	"encoding/csv"
-	"encoding/json"
 	"errors"
 	"fmt"
 	"io"
-	"os"
 	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
 
-	"huesolve/baseline"
-	"huesolve/internal/atomicfile"
 	"huesolve/reference"
 	"huesolve/report"
-	"huesolve/spectrum"
-	"huesolve/unmix"
 	"huesolve/validate"
 )
 
@@ -25,24 +19,14 @@ func init() { commands = append(commands, newVerifyCmd) }
 
 // verifyOptions are the flags of verify.
 type verifyOptions struct {
-	window         string
-	baseline       string
-	weighted       bool
-	shift          bool
-	maxShift       float64
-	ceiling        float64
-	blank          string
-	unit           string
-	quantity       string
+	fit            fitFlags
+	scans          scanFlags
+	output         outputFlags
 	recovery       string
 	maxRSD         float64
 	minSelectivity float64
 	crossval       string
 	crossvalBy     string
-	format         string
-	out            string
-	plots          string
-	plotFormat     string
 }
 
 const verifyLong = `Solve check standards of known composition against a reference set, as if
@@ -84,9 +68,7 @@ Exit codes: 0 every compound passed, 4 some compound failed acceptance,
 1 the checks could not be solved, 2 bad command line, 130 interrupted
 (Ctrl-C; it says how far it got, and nothing is written).
 
-Caution: results support, but do not replace, a validated analytical method.
-For food, drug, water or other regulated testing follow local regulations,
-the validated procedure and the responsible licensed professional.`
+` + caution
 
 func newVerifyCmd() *cobra.Command {
 	o := &verifyOptions{}
@@ -100,24 +82,15 @@ func newVerifyCmd() *cobra.Command {
 		},
 	}
 	f := cmd.Flags()
-	f.StringVar(&o.window, "window", "", "wavelength window `LO-HI` in nm for the fit (default: the whole reference grid)")
-	f.StringVar(&o.baseline, "baseline", valDefaultBaseline, "baseline `MODEL`: none, offset, linear, quadratic or cubic, optionally +scatter")
-	f.BoolVar(&o.weighted, "weighted", false, "weight wavelengths by the reference set's noise model")
-	f.BoolVar(&o.shift, "shift", false, "estimate a wavelength shift of each check standard")
-	f.Float64Var(&o.maxShift, "max-shift", unmix.DefaultMaxShiftNM, "largest shift in nm that --shift may find")
-	f.Float64Var(&o.ceiling, "ceiling", 0, "absorbance above which points are left out (default: the reference set's)")
-	f.StringVar(&o.blank, "blank", "", "blank scan `FILE` subtracted from every check standard")
-	f.StringVar(&o.unit, "unit", "", "concentration unit for compounds whose header gives none")
-	f.StringVar(&o.quantity, "quantity", "", "what the scan files hold when they do not say: absorbance, %T or T")
+	o.fit.add(f)
+	o.scans.add(f)
+	o.scans.addUnit(f)
+	o.output.add(f, "found-vs-known plots")
 	f.StringVar(&o.recovery, "recovery", "98-102", "acceptance range of the mean recovery, `LO-HI` in percent")
 	f.Float64Var(&o.maxRSD, "max-rsd", validate.DefaultMaxRSD, "largest acceptable RSD of the recoveries, percent")
 	f.Float64Var(&o.minSelectivity, "min-selectivity", validate.DefaultMinSelectivity, "selectivity below which a compound is refused")
 	f.StringVar(&o.crossval, "crossval", "", "cross-validate the calibration from its standards `SHEET`")
 	f.StringVar(&o.crossvalBy, "crossval-by", "level", "leave out one composition with its replicates (level) or one standard at a time (standard)")
-	f.StringVar(&o.format, "format", "table", "output format: table, csv or json")
-	f.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output")
-	f.StringVar(&o.plots, "plots", "", "write found-vs-known plots into `DIR`")
-	f.StringVar(&o.plotFormat, "plot-format", "png", "plot format: png or svg")
 	return cmd
 }
 
@@ -137,19 +110,9 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	warn := func(msg string) { fmt.Fprintln(errw, "huesolve: note:", msg) }
 
 	// Flags.
-	mopt := unmix.Options{Weighted: o.weighted, Shift: o.shift, MaxShiftNM: o.maxShift, Ceiling: o.ceiling}
-	var err error
-	if o.window != "" {
-		if mopt.WindowLo, mopt.WindowHi, err = calParseWindow(o.window); err != nil {
-			return err
-		}
-	}
-	if mopt.Baseline, err = baseline.ParseModel(o.baseline); err != nil {
-		return usagef("--baseline %q: %v", o.baseline, err)
-	}
-	q, err := spectrum.ParseQuantity(o.quantity)
+	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
 	if err != nil {
-		return usagef("--quantity: %v", err)
+		return err
 	}
 	lim := validate.Limits{MaxRSD: o.maxRSD}
 	if lim.RecoveryLo, lim.RecoveryHi, err = valParsePercentRange(o.recovery); err != nil {
@@ -158,18 +121,8 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	if !(o.maxRSD > 0) || o.maxRSD > 100 {
 		return usagef("--max-rsd %g: want a percentage above 0", o.maxRSD)
 	}
-	if !(o.maxShift > 0) || o.maxShift > 100 {
-		return usagef("--max-shift %g: want a positive number of nm", o.maxShift)
-	}
-	if !(o.ceiling >= 0) || o.ceiling > 10 {
-		return usagef("--ceiling %g: want a positive absorbance (0: the reference set's)", o.ceiling)
-	}
 	if !(o.minSelectivity > 0) || o.minSelectivity >= 1 {
 		return usagef("--min-selectivity %g: want a number between 0 and 1", o.minSelectivity)
-	}
-	format, err := valParseFormat(o.format)
-	if err != nil {
-		return err
 	}
 	var byLevel bool
 	switch o.crossvalBy {
@@ -179,26 +132,18 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	default:
 		return usagef("--crossval-by %q: want level or standard", o.crossvalBy)
 	}
-	pf := strings.ToLower(o.plotFormat)
-	if pf != "png" && pf != "svg" {
-		return usagef("--plot-format %q: want png or svg", o.plotFormat)
-	}
 
 	// Inputs.
 	set, err := reference.Load(refPath)
 	if err != nil {
 		return err
 	}
-	sh, err := valReadCheckSheet(checksPath, reference.SheetOptions{Unit: o.unit, Quantity: q, Warn: warn})
+	sh, err := valReadCheckSheet(checksPath, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
 	if err != nil {
 		return err
 	}
-	if o.blank != "" {
-		b, _, err := calReadBlank(o.blank, q, warn)
-		if err != nil {
-			return err
-		}
-		mopt.Blank = b
+	if mopt.Blank, _, err = o.scans.readBlank(q, warn); err != nil {
+		return err
 	}
 	if mopt.Blank == nil && len(sh.Blanks) == 0 {
 		warn("no blank given and no blank rows in " + checksPath + ": check standards are solved as read, so the baseline terms must take up the solvent and cell")
@@ -211,8 +156,8 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 			return err
 		}
 		msg := "interrupted: " + strings.TrimPrefix(err.Error(), "validate: ")
-		if o.out != "" {
-			msg += "; nothing written to " + o.out
+		if o.output.out != "" {
+			msg += "; nothing written to " + o.output.out
 		} else {
 			msg += "; nothing printed"
 		}
@@ -224,7 +169,7 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	}
 	var cv *validate.CrossValidation
 	if o.crossval != "" {
-		cal, err := reference.ReadSheet(o.crossval, reference.SheetOptions{Unit: o.unit, Quantity: q, Warn: warn})
+		cal, err := reference.ReadSheet(o.crossval, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
 		if err != nil {
 			return err
 		}
@@ -247,36 +192,18 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 
 	// Output.
 	rep := verifyReport{Reference: refPath, Checks: checksPath, Window: [2]float64{v.Merits.WindowLo, v.Merits.WindowHi},
-		Baseline: v.Merits.Baseline, Weighted: o.weighted, Result: v, CrossVal: cv}
-	write := func(w io.Writer) error {
-		switch format {
-		case "json":
-			enc := json.NewEncoder(w)
-			enc.SetIndent("", "  ")
-			return enc.Encode(rep)
-		case "csv":
-			return writeVerifyCSV(w, v, cv)
-		default:
-			return writeVerifyTable(w, &rep)
-		}
-	}
-	if o.out != "" {
-		if err := atomicfile.Write(o.out, write); err != nil {
-			return err
-		}
-		fmt.Fprintf(errw, "huesolve: verification written to %s\n", o.out)
-	} else if err := write(cmd.OutOrStdout()); err != nil {
+		Baseline: v.Merits.Baseline, Weighted: o.fit.weighted, Result: v, CrossVal: cv}
+	err = o.output.write(cmd, "verification", rep,
+		func(w io.Writer) error { return writeVerifyCSV(w, v, cv) },
+		func(w io.Writer) error { return writeVerifyTable(w, &rep) })
+	if err != nil {
 		return err
 	}
-	if o.plots != "" {
-		if err := os.MkdirAll(o.plots, 0o755); err != nil {
-			return fmt.Errorf("plots: %w", err)
-		}
-		files, err := report.WriteVerifyPlots(v, cv, o.plots, pf)
-		if err != nil {
-			return err
-		}
-		fmt.Fprintf(errw, "huesolve: %d plots written to %s\n", len(files), o.plots)
+	err = o.output.writePlots(cmd, func(dir, format string) ([]string, error) {
+		return report.WriteVerifyPlots(v, cv, dir, format)
+	})
+	if err != nil {
+		return err
 	}
 	failed := 0
 	for _, c := range v.Compounds {
@@ -298,28 +225,9 @@ func valReadCheckSheet(path string, opt reference.SheetOptions) (*reference.Shee
 	return reference.ReadSheet(path, opt)
 }
 
-// valParsePercentRange reads "LO-HI" in percent.
+// valParsePercentRange reads the --recovery range "LO-HI" in percent.
 func valParsePercentRange(s string) (lo, hi float64, err error) {
-	a, b, ok := strings.Cut(strings.TrimSpace(s), "-")
-	if ok {
-		lo, err = strconv.ParseFloat(strings.TrimSpace(a), 64)
-		if err == nil {
-			hi, err = strconv.ParseFloat(strings.TrimSpace(b), 64)
-		}
-	}
-	if !ok || err != nil || !(lo > 0) || !(hi > lo) || hi > 1e4 {
-		return 0, 0, usagef("--recovery %q: want LO-HI in percent with 0 < LO < HI, e.g. 98-102", s)
-	}
-	return lo, hi, nil
-}
-
-// valParseFormat checks an output format name.
-func valParseFormat(s string) (string, error) {
-	switch f := strings.ToLower(s); f {
-	case "table", "csv", "json":
-		return f, nil
-	}
-	return "", usagef("--format %q: want table, csv or json", s)
+	return parseRangeFlag("--recovery", s, "percent", "98-102", 1e4)
 }
 
 // num formats a number for tables.

@@ -2,18 +2,14 @@ package main
 
 import (
 	"encoding/csv"
-	"encoding/json"
 	"fmt"
 	"io"
-	"os"
 	"strconv"
 	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
 
-	"huesolve/baseline"
-	"huesolve/internal/atomicfile"
 	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/validate"
@@ -23,8 +19,8 @@ func init() { commands = append(commands, newWindowCmd) }
 
 // windowOptions are the flags of window.
 type windowOptions struct {
-	baseline   string
-	weighted   bool
+	fit        fitFlags
+	output     outputFlags
 	searchIn   string
 	step       float64
 	minWidth   float64
@@ -34,10 +30,6 @@ type windowOptions struct {
 	noise      float64
 	pathCM     float64
 	top        int
-	format     string
-	out        string
-	plots      string
-	plotFormat string
 }
 
 const windowLong = `Advise on the wavelength window for solving samples against a reference set.
@@ -70,9 +62,7 @@ recommended window, or --format csv (every window tried) or json; -o FILE
 writes to a file (atomically). --plots DIR writes the worst predicted error
 and the condition number against window start, one line per width.
 
-Caution: results support, but do not replace, a validated analytical method.
-For food, drug, water or other regulated testing follow local regulations,
-the validated procedure and the responsible licensed professional.`
+` + caution
 
 func newWindowCmd() *cobra.Command {
 	o := &windowOptions{}
@@ -86,8 +76,8 @@ func newWindowCmd() *cobra.Command {
 		},
 	}
 	f := cmd.Flags()
-	f.StringVar(&o.baseline, "baseline", valDefaultBaseline, "baseline `MODEL`: none, offset, linear, quadratic or cubic, optionally +scatter")
-	f.BoolVar(&o.weighted, "weighted", false, "predict errors for a fit weighted by the noise model")
+	o.fit.addDesign(f)
+	o.output.add(f, "plots of predicted error and condition number")
 	f.StringVar(&o.searchIn, "search", "", "search windows only within `LO-HI` nm (default: the whole usable grid)")
 	f.Float64Var(&o.step, "step", validate.DefaultStepNM, "spacing of window edges, nm")
 	f.Float64Var(&o.minWidth, "min-width", validate.DefaultMinWidthNM, "narrowest window, nm")
@@ -97,10 +87,6 @@ func newWindowCmd() *cobra.Command {
 	f.Float64Var(&o.noise, "noise", 0, "noise SD of a reading in absorbance, replacing the set's noise model (0: use the set's)")
 	f.Float64Var(&o.pathCM, "path-cm", 0, "sample path length, cm (0: the reference set's)")
 	f.IntVar(&o.top, "top", 10, "number of windows in the table")
-	f.StringVar(&o.format, "format", "table", "output format: table, csv or json")
-	f.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output")
-	f.StringVar(&o.plots, "plots", "", "write plots of predicted error and condition number into `DIR`")
-	f.StringVar(&o.plotFormat, "plot-format", "png", "plot format: png or svg")
 	return cmd
 }
 
@@ -115,12 +101,12 @@ type windowReport struct {
 func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	errw := cmd.ErrOrStderr()
 	opt := validate.WindowOptions{
-		Weighted: o.weighted, StepNM: o.step, MinWidthNM: o.minWidth, MaxWidthNM: o.maxWidth,
+		Weighted: o.fit.weighted, StepNM: o.step, MinWidthNM: o.minWidth, MaxWidthNM: o.maxWidth,
 		Sigma: o.noise, PathCM: o.pathCM,
 	}
 	var err error
-	if opt.Baseline, err = baseline.ParseModel(o.baseline); err != nil {
-		return usagef("--baseline %q: %v", o.baseline, err)
+	if opt.Baseline, err = o.fit.baselineModel(); err != nil {
+		return err
 	}
 	if o.searchIn != "" {
 		if opt.Lo, opt.Hi, err = winParseRange(o.searchIn); err != nil {
@@ -147,13 +133,8 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	if o.equivalent == 0 {
 		opt.Equivalent = -1
 	}
-	format, err := valParseFormat(o.format)
-	if err != nil {
+	if err := o.output.check(); err != nil {
 		return err
-	}
-	pf := strings.ToLower(o.plotFormat)
-	if pf != "png" && pf != "svg" {
-		return usagef("--plot-format %q: want png or svg", o.plotFormat)
 	}
 
 	set, err := reference.Load(refPath)
@@ -174,41 +155,23 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	best := adv.Candidates[adv.Best]
 	merits, err := validate.FiguresOfMerit(set, validate.MeritOptions{
 		WindowLo: best.Lo, WindowHi: best.Hi, Baseline: opt.Baseline, PathCM: o.pathCM,
-		Sigma: o.noise, Weighted: o.weighted,
+		Sigma: o.noise, Weighted: o.fit.weighted,
 	})
 	if err != nil {
 		return err
 	}
 	rep := windowReport{Reference: refPath, Recommended: [2]float64{best.Lo, best.Hi}, Advice: adv, Merits: merits}
-	write := func(w io.Writer) error {
-		switch format {
-		case "json":
-			enc := json.NewEncoder(w)
-			enc.SetIndent("", "  ")
-			return enc.Encode(rep)
-		case "csv":
-			return writeWindowCSV(w, adv)
-		default:
-			return writeWindowTable(w, &rep, o.top)
-		}
-	}
-	if o.out != "" {
-		if err := atomicfile.Write(o.out, write); err != nil {
-			return err
-		}
-		fmt.Fprintf(errw, "huesolve: window advice written to %s\n", o.out)
-	} else if err := write(cmd.OutOrStdout()); err != nil {
+	err = o.output.write(cmd, "window advice", rep,
+		func(w io.Writer) error { return writeWindowCSV(w, adv) },
+		func(w io.Writer) error { return writeWindowTable(w, &rep, o.top) })
+	if err != nil {
 		return err
 	}
-	if o.plots != "" {
-		if err := os.MkdirAll(o.plots, 0o755); err != nil {
-			return fmt.Errorf("plots: %w", err)
-		}
-		files, err := report.WriteWindowPlots(adv, o.plots, pf)
-		if err != nil {
-			return err
-		}
-		fmt.Fprintf(errw, "huesolve: %d plots written to %s\n", len(files), o.plots)
+	err = o.output.writePlots(cmd, func(dir, format string) ([]string, error) {
+		return report.WriteWindowPlots(adv, dir, format)
+	})
+	if err != nil {
+		return err
 	}
 	fmt.Fprintf(errw, "huesolve: recommended window %g-%g nm (give --window %g-%g to solve and verify)\n", best.Lo, best.Hi, best.Lo, best.Hi)
 	return nil
@@ -216,17 +179,7 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 
 // winParseRange reads the --search range "LO-HI" in nm.
 func winParseRange(s string) (lo, hi float64, err error) {
-	a, b, ok := strings.Cut(strings.TrimSpace(s), "-")
-	if ok {
-		lo, err = strconv.ParseFloat(strings.TrimSpace(a), 64)
-		if err == nil {
-			hi, err = strconv.ParseFloat(strings.TrimSpace(b), 64)
-		}
-	}
-	if !ok || err != nil || !(lo > 0) || !(hi > lo) || hi > 1e6 {
-		return 0, 0, usagef("--search %q: want LO-HI in nm with 0 < LO < HI, e.g. 400-700", s)
-	}
-	return lo, hi, nil
+	return parseRangeFlag("--search", s, "nm", "400-700", 1e6)
 }
 
 // winLevels reads NAME=C flags into one level per compound of set (0 for

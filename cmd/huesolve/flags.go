@@ -1,0 +1,286 @@
+package main
+
+// Flags shared by several commands: the options of the fit (solve, verify
+// and, for the design alone, window), how scan files are read (blank,
+// quantity, unit) and where results go (format, -o, plots). Each command
+// binds the groups that apply to it, so a flag has the same name, default,
+// help text and checks wherever it appears.
+
+import (
+	"encoding/json"
+	"fmt"
+	"io"
+	"os"
+	"strconv"
+	"strings"
+
+	"github.com/spf13/cobra"
+	"github.com/spf13/pflag"
+
+	"huesolve/baseline"
+	"huesolve/internal/atomicfile"
+	"huesolve/reference"
+	"huesolve/report"
+	"huesolve/spectrum"
+	"huesolve/unmix"
+)
+
+// Bounds on the fit flags. They catch typing mistakes, not chemistry.
+const (
+	// maxShiftLimitNM bounds --max-shift: a shift between instruments is
+	// a few nm; tens of nm is a wrong reference set, not a shift.
+	maxShiftLimitNM = 50
+	// maxCeilingA bounds --ceiling: no spectrophotometer reads
+	// absorbances near 10 (1e-10 of the light).
+	maxCeilingA = 10
+)
+
+// fitFlags are the options of the sample fit.
+type fitFlags struct {
+	window   string
+	baseline string
+	weighted bool
+	shift    bool
+	maxShift float64
+	ceiling  float64
+}
+
+// addDesign binds --baseline and --weighted, which fix the design of the
+// fit (window predicts errors from them).
+func (f *fitFlags) addDesign(fs *pflag.FlagSet) {
+	fs.StringVar(&f.baseline, "baseline", valDefaultBaseline, "baseline `MODEL`: none, offset, linear, quadratic or cubic, optionally +scatter[=POWER]")
+	fs.BoolVar(&f.weighted, "weighted", false, "weight wavelengths by the reference set's noise model")
+}
+
+// add binds every fit flag (solve, verify).
+func (f *fitFlags) add(fs *pflag.FlagSet) {
+	f.addDesign(fs)
+	fs.StringVar(&f.window, "window", "", "wavelength window `LO-HI` in nm for the fit (default: the whole reference grid)")
+	fs.BoolVar(&f.shift, "shift", false, "estimate a wavelength shift of each scan")
+	fs.Float64Var(&f.maxShift, "max-shift", unmix.DefaultMaxShiftNM, "largest shift in nm that --shift may find")
+	fs.Float64Var(&f.ceiling, "ceiling", 0, "absorbance above which points are left out (default: the reference set's)")
+}
+
+// baselineModel parses --baseline.
+func (f *fitFlags) baselineModel() (baseline.Model, error) {
+	m, err := baseline.ParseModel(f.baseline)
+	if err != nil {
+		return m, usagef("--baseline %q: %v", f.baseline, err)
+	}
+	return m, nil
+}
+
+// options checks the flags bound by add and returns them as model options
+// (no blank yet).
+func (f *fitFlags) options() (unmix.Options, error) {
+	opt := unmix.Options{Weighted: f.weighted, Shift: f.shift, MaxShiftNM: f.maxShift, Ceiling: f.ceiling}
+	var err error
+	if f.window != "" {
+		if opt.WindowLo, opt.WindowHi, err = parseWindowFlag(f.window); err != nil {
+			return opt, err
+		}
+	}
+	if opt.Baseline, err = f.baselineModel(); err != nil {
+		return opt, err
+	}
+	if !(f.maxShift > 0) || f.maxShift > maxShiftLimitNM {
+		return opt, usagef("--max-shift %g: want a number of nm above 0 and at most %d", f.maxShift, maxShiftLimitNM)
+	}
+	if !(f.ceiling >= 0) || f.ceiling > maxCeilingA {
+		return opt, usagef("--ceiling %g: want an absorbance above 0 and at most %d (0: the reference set's)", f.ceiling, maxCeilingA)
+	}
+	return opt, nil
+}
+
+// checkFitCommand checks the flag groups that solve and verify share and
+// returns the model options (no blank yet) and the quantity of unlabelled
+// scan files.
+func checkFitCommand(fit *fitFlags, scans *scanFlags, out *outputFlags) (unmix.Options, spectrum.Quantity, error) {
+	opt, err := fit.options()
+	if err != nil {
+		return opt, 0, err
+	}
+	q, err := scans.parseQuantity()
+	if err != nil {
+		return opt, q, err
+	}
+	return opt, q, out.check()
+}
+
+// parseWindowFlag reads the --window range "LO-HI" (or "LO:HI") in nm.
+func parseWindowFlag(s string) (lo, hi float64, err error) {
+	return parseRangeFlag("--window", s, "nm", "400-700", 1e6)
+}
+
+// parseRangeFlag reads the range "LO-HI" (or "LO:HI") given to flag,
+// with 0 < LO < HI <= max; unit and example go into the message.
+func parseRangeFlag(flag, s, unit, example string, max float64) (lo, hi float64, err error) {
+	s = strings.TrimSpace(s)
+	sep := strings.IndexAny(s[min(1, len(s)):], "-:")
+	if sep < 0 {
+		return 0, 0, usagef("%s %q: want LO-HI in %s, e.g. %s", flag, s, unit, example)
+	}
+	sep += min(1, len(s))
+	lo, err1 := strconv.ParseFloat(strings.TrimSpace(s[:sep]), 64)
+	hi, err2 := strconv.ParseFloat(strings.TrimSpace(s[sep+1:]), 64)
+	if err1 != nil || err2 != nil || !(lo > 0) || !(hi > lo) || hi > max {
+		return 0, 0, usagef("%s %q: want LO-HI in %s with 0 < LO < HI, e.g. %s", flag, s, unit, example)
+	}
+	return lo, hi, nil
+}
+
+// scanFlags say how scan files are read: a separate blank, the quantity of
+// unlabelled files and the unit of unlabelled compounds.
+type scanFlags struct {
+	blank    string
+	quantity string
+	unit     string
+}
+
+// add binds --blank and --quantity.
+func (s *scanFlags) add(fs *pflag.FlagSet) {
+	fs.StringVar(&s.blank, "blank", "", "blank scan `FILE` subtracted from every scan (for a standards sheet: instead of its blank rows)")
+	s.addQuantity(fs)
+}
+
+// addQuantity binds --quantity only (look, convert).
+func (s *scanFlags) addQuantity(fs *pflag.FlagSet) {
+	fs.StringVar(&s.quantity, "quantity", "", "what the scan files hold when they do not say: absorbance, %T or T")
+}
+
+// addUnit binds --unit (commands that read a standards sheet).
+func (s *scanFlags) addUnit(fs *pflag.FlagSet) {
+	fs.StringVar(&s.unit, "unit", "", "concentration unit for compounds whose header gives none, e.g. mg/L")
+}
+
+// parseQuantity parses --quantity.
+func (s *scanFlags) parseQuantity() (spectrum.Quantity, error) {
+	q, err := spectrum.ParseQuantity(s.quantity)
+	if err != nil {
+		return q, usagef("--quantity: %v", err)
+	}
+	return q, nil
+}
+
+// readBlank reads the --blank file (nil when none is given) as absorbance,
+// with its SHA-256.
+func (s *scanFlags) readBlank(q spectrum.Quantity, warn func(string)) (*spectrum.Spectrum, string, error) {
+	if s.blank == "" {
+		return nil, "", nil
+	}
+	ss, err := spectrum.ReadFile(s.blank, spectrum.ReadOptions{Quantity: q, Warn: warn})
+	if err != nil {
+		return nil, "", fmt.Errorf("blank: %w", err)
+	}
+	if len(ss) != 1 {
+		return nil, "", fmt.Errorf("blank: %s holds %d scans; give a file with one", s.blank, len(ss))
+	}
+	b := ss[0]
+	if err := b.ToAbsorbance(); err != nil {
+		return nil, "", fmt.Errorf("blank: %w", err)
+	}
+	sum, err := reference.FileSHA256(s.blank)
+	if err != nil {
+		return nil, "", fmt.Errorf("blank: %w", err)
+	}
+	return b, sum, nil
+}
+
+// outputFlags say where results go: the format and file of the output,
+// and the folder and format of the plots.
+type outputFlags struct {
+	format     string
+	out        string
+	plots      string
+	plotFormat string
+}
+
+// add binds --format, -o/--output, --plots and --plot-format; plotsHelp
+// says what the command draws, e.g. "one figure per sample".
+func (o *outputFlags) add(fs *pflag.FlagSet, plotsHelp string) {
+	fs.StringVar(&o.format, "format", report.FormatTable, "output format: table, csv or json")
+	fs.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output")
+	o.addPlots(fs, plotsHelp)
+}
+
+// addPlots binds --plots and --plot-format only (calibrate, whose -o is
+// the reference set).
+func (o *outputFlags) addPlots(fs *pflag.FlagSet, plotsHelp string) {
+	fs.StringVar(&o.plots, "plots", "", "write "+plotsHelp+" into `DIR`")
+	fs.StringVar(&o.plotFormat, "plot-format", "png", "plot format: png or svg")
+}
+
+// check validates --format and --plot-format and leaves them in lower
+// case.
+func (o *outputFlags) check() error {
+	switch f := strings.ToLower(o.format); f {
+	case report.FormatTable, report.FormatCSV, report.FormatJSON:
+		o.format = f
+	default:
+		return usagef("--format %q: want table, csv or json", o.format)
+	}
+	return o.checkPlots()
+}
+
+// checkPlots validates --plot-format and leaves it in lower case.
+func (o *outputFlags) checkPlots() error {
+	switch f := strings.ToLower(o.plotFormat); f {
+	case "png", "svg":
+		o.plotFormat = f
+	default:
+		return usagef("--plot-format %q: want png or svg", o.plotFormat)
+	}
+	return nil
+}
+
+// write writes the output in the chosen format: data as indented JSON,
+// or what writeCSV or writeTable write. With -o FILE the file is written
+// complete or not at all, and standard error says so, naming what it
+// holds; else the output goes to standard output.
+func (o *outputFlags) write(cmd *cobra.Command, what string, data any, writeCSV, writeTable func(io.Writer) error) error {
+	fn := func(w io.Writer) error {
+		switch o.format {
+		case report.FormatJSON:
+			enc := json.NewEncoder(w)
+			enc.SetIndent("", "  ")
+			return enc.Encode(data)
+		case report.FormatCSV:
+			return writeCSV(w)
+		default:
+			return writeTable(w)
+		}
+	}
+	if o.out == "" {
+		return fn(cmd.OutOrStdout())
+	}
+	if err := atomicfile.Write(o.out, fn); err != nil {
+		return err
+	}
+	fmt.Fprintf(cmd.ErrOrStderr(), "huesolve: %s written to %s\n", what, o.out)
+	return nil
+}
+
+// makePlotDir creates the --plots folder.
+func (o *outputFlags) makePlotDir() error {
+	if err := os.MkdirAll(o.plots, 0o755); err != nil {
+		return fmt.Errorf("--plots: %w", err)
+	}
+	return nil
+}
+
+// writePlots draws the plots with draw into the --plots folder, if one
+// is given, and says how many were written.
+func (o *outputFlags) writePlots(cmd *cobra.Command, draw func(dir, format string) ([]string, error)) error {
+	if o.plots == "" {
+		return nil
+	}
+	if err := o.makePlotDir(); err != nil {
+		return err
+	}
+	files, err := draw(o.plots, o.plotFormat)
+	if err != nil {
+		return err
+	}
+	fmt.Fprintf(cmd.ErrOrStderr(), "huesolve: %d plots written to %s\n", len(files), o.plots)
+	return nil
+}
