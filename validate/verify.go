@@ -27,11 +27,12 @@ const (
 type Limits struct {
 	// RecoveryLo and RecoveryHi bound the mean recovery of each compound
 	// (percent).
-	RecoveryLo, RecoveryHi float64
+	RecoveryLo float64 `json:"recovery_lo_pct"`
+	RecoveryHi float64 `json:"recovery_hi_pct"`
 	// MaxRSD bounds the relative standard deviation of the recoveries
 	// (percent); it is judged when at least two check standards hold the
 	// compound.
-	MaxRSD float64
+	MaxRSD float64 `json:"max_rsd_pct"`
 }
 
 func (l Limits) withDefaults() (Limits, error) {

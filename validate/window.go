@@ -1,10 +1,12 @@
 package validate
 
 import (
+	"encoding/json"
 	"errors"
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
@@ -101,7 +103,10 @@ type WindowAdvice struct {
 	StepNM     float64   `json:"step_nm"`
 	MinWidthNM float64   `json:"min_width_nm"`
 	MaxWidthNM float64   `json:"max_width_nm,omitempty"`
-	Equivalent float64   `json:"equivalent"`
+	// Equivalent is the margin in use, as a fraction of the smallest
+	// worst error (0.1: 10 %); JSON gives it in percent, as
+	// equivalent_pct.
+	Equivalent float64 `json:"-"`
 	// Edges are the candidate window edges (nm).
 	Edges []float64 `json:"edges_nm"`
 	// Candidates are all windows tried, by Lo then Hi.
@@ -111,6 +116,27 @@ type WindowAdvice struct {
 	Ranked []int `json:"-"`
 	// Best indexes the recommended candidate.
 	Best int `json:"best"`
+}
+
+// MarshalJSON encodes the advice with the margin in percent
+// ("equivalent_pct"), like every other percentage in huesolve's JSON.
+func (a WindowAdvice) MarshalJSON() ([]byte, error) {
+	type plain WindowAdvice // without this method
+	return json.Marshal(struct {
+		plain
+		EquivalentPct float64 `json:"equivalent_pct"`
+	}{plain(a), percentOf(a.Equivalent)})
+}
+
+// percentOf gives a fraction in percent, rounded to 12 significant digits
+// so that a margin given as 7 % (0.07) reads back as 7, not
+// 7.000000000000001.
+func percentOf(f float64) float64 {
+	p, err := strconv.ParseFloat(strconv.FormatFloat(100*f, 'g', 12, 64), 64)
+	if err != nil {
+		return 100 * f
+	}
+	return p
 }
 
 // ErrNoWindow: no candidate window determines every compound.

@@ -1,7 +1,9 @@
 package validate
 
 import (
+	"encoding/json"
 	"errors"
+	"strings"
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
@@ -180,5 +182,24 @@ func TestAdviseWindowMarginPrefersConditioning(t *testing.T) {
 	}
 	if d.Worst > 1.1*s.Worst || d.Cond*1.1 > s.Cond {
 		t.Errorf("with the margin: worst %g (strict %g), cond %g (strict %g): outside the rule", d.Worst, s.Worst, d.Cond, s.Cond)
+	}
+}
+
+// The JSON form gives the margin in percent, as the --equivalent flag
+// takes it, and keeps the other fields.
+func TestWindowAdviceJSONMarginInPercent(t *testing.T) {
+	for _, c := range []struct {
+		frac float64
+		want string
+	}{{0.1, `"equivalent_pct":10`}, {0.07, `"equivalent_pct":7`}, {0, `"equivalent_pct":0`}} {
+		b, err := json.Marshal(&WindowAdvice{StepNM: 5, Equivalent: c.frac, Best: 3})
+		if err != nil {
+			t.Fatal(err)
+		}
+		s := string(b)
+		if !strings.Contains(s, c.want) || !strings.Contains(s, `"step_nm":5`) || !strings.Contains(s, `"best":3`) ||
+			strings.Contains(s, `"equivalent":`) || strings.Contains(s, `"Equivalent"`) {
+			t.Errorf("margin %g: %s, want %s and the other fields", c.frac, s, c.want)
+		}
 	}
 }

@@ -162,6 +162,11 @@ func TestVerifyJSONAndCSV(t *testing.T) {
 				MeanRecoveryPct float64 `json:"mean_recovery_pct"`
 			}
 			Checks []struct{ Standard string }
+			Limits struct {
+				RecoveryLo float64 `json:"recovery_lo_pct"`
+				RecoveryHi float64 `json:"recovery_hi_pct"`
+				MaxRSD     float64 `json:"max_rsd_pct"`
+			}
 		}
 		CrossValidation struct {
 			Folds       int
@@ -173,6 +178,12 @@ func TestVerifyJSONAndCSV(t *testing.T) {
 		t.Fatalf("%v\n%s", err, raw)
 	}
 	v := rep.Verification
+	if l := v.Limits; l.RecoveryLo != 98 || l.RecoveryHi != 102 || l.MaxRSD != 2 {
+		t.Errorf("limits %+v, want recovery_lo_pct 98, recovery_hi_pct 102, max_rsd_pct 2 (the defaults)", l)
+	}
+	if strings.Contains(string(raw), `"RecoveryLo"`) {
+		t.Errorf("the JSON uses a Go field name:\n%s", raw)
+	}
 	if !v.Pass || len(v.Compounds) != 2 || len(v.Checks) != 8 {
 		t.Errorf("pass %v, %d compounds, %d check rows; want true, 2, 8 (4 standards × 2)", v.Pass, len(v.Compounds), len(v.Checks))
 	}
