@@ -354,6 +354,34 @@ func TestJCAMPWriteForms(t *testing.T) {
 	}
 }
 
+// Compressed output states FIRSTY, MINY and MAXY as the decimal numbers
+// its table holds (integer × YFACTOR), in their shortest form: 8378 ×
+// 1e-05 is "0.08378", never the float64 product 0.08378000000000001. The
+// reader checks FIRSTY against the first Y times YFACTOR and accepts it.
+func TestJCAMPCompressedHeaderNumbers(t *testing.T) {
+	s := &Spectrum{Name: "short", Wavelengths: []float64{400, 401, 402, 403},
+		Values: []float64{0.08378, 0.35, 0.07, 0.2}, Quantity: Absorbance}
+	var b bytes.Buffer
+	if err := WriteJCAMP(&b, s, JCAMPOptions{Compressed: true}); err != nil {
+		t.Fatal(err)
+	}
+	out := b.String()
+	for _, want := range []string{"##YFACTOR=1e-05\n", "##FIRSTY=0.08378\n", "##MINY=0.07\n", "##MAXY=0.35\n"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("output lacks %q:\n%s", want, out)
+		}
+	}
+	got, err := ReadJCAMP(strings.NewReader(out), "short.jdx", ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for i, v := range got[0].Values {
+		if math.Abs(v-s.Values[i]) > 1e-12 {
+			t.Errorf("Y[%d] = %v, want %v", i, v, s.Values[i])
+		}
+	}
+}
+
 func TestSQZEncoding(t *testing.T) {
 	for _, c := range []struct {
 		v   int64

@@ -186,12 +186,13 @@ func WriteJCAMP(w io.Writer, s *Spectrum, opt JCAMPOptions) error {
 		bw.WriteString("##END=\n")
 		return bw.Flush()
 	}
-	yf := 1.0
+	yf, ye := 1.0, 0 // YFACTOR = 10^ye
 	var ints []int64
 	if opt.Compressed {
 		m := max(math.Abs(miny), math.Abs(maxy))
 		if m > 0 {
 			e := int(math.Floor(math.Log10(m))) - (jcampDigits - 1)
+			ye = e
 			yf = math.Pow(10, float64(e))
 			if yf == 0 || math.IsInf(yf, 0) || math.IsInf(m/yf, 0) {
 				return fmt.Errorf("spectrum: %s: values span beyond what JCAMP-DX integers can hold: %w", s.Source, ErrNotSupported)
@@ -215,16 +216,24 @@ func WriteJCAMP(w io.Writer, s *Spectrum, opt JCAMPOptions) error {
 				k++
 			}
 			if k > 0 {
-				yf, _ = strconv.ParseFloat(g(math.Pow(10, float64(e+k))), 64)
+				ye = e + k
+				yf, _ = strconv.ParseFloat(g(math.Pow(10, float64(ye))), 64)
 			}
 		}
 	}
-	firsty := y[0]
+	firsty, ymin, ymax := g(y[0]), g(miny), g(maxy)
 	if opt.Compressed {
-		firsty = float64(ints[0]) * yf
+		// FIRSTY, MINY and MAXY describe the numbers the table holds:
+		// integer × 10^ye exactly, not the product in float64
+		// (8378 × 1e-05 = 0.08378000000000001).
+		lo, hi := ints[0], ints[0]
+		for _, v := range ints {
+			lo, hi = min(lo, v), max(hi, v)
+		}
+		firsty, ymin, ymax = scaledInt(ints[0], ye), scaledInt(lo, ye), scaledInt(hi, ye)
 	}
 	fmt.Fprintf(bw, "##XFACTOR=1\n##YFACTOR=%s\n##FIRSTX=%s\n##LASTX=%s\n##DELTAX=%s\n##NPOINTS=%d\n##FIRSTY=%s\n##MINY=%s\n##MAXY=%s\n##XYDATA=(X++(Y..Y))\n",
-		g(yf), g(first), g(last), g(delta), n, g(firsty), g(miny), g(maxy))
+		g(yf), g(first), g(last), g(delta), n, firsty, ymin, ymax)
 	if opt.Compressed {
 		writeDIF(bw, wl, ints)
 	} else {
@@ -232,6 +241,16 @@ func WriteJCAMP(w io.Writer, s *Spectrum, opt JCAMPOptions) error {
 	}
 	bw.WriteString("##END=\n")
 	return bw.Flush()
+}
+
+// scaledInt prints v × 10^e in the shortest form that reads back as the
+// float64 nearest to that decimal value.
+func scaledInt(v int64, e int) string {
+	f, err := strconv.ParseFloat(strconv.FormatInt(v, 10)+"e"+strconv.Itoa(e), 64)
+	if err != nil { // out of range: cannot happen for the factors chosen above
+		f = float64(v) * math.Pow(10, float64(e))
+	}
+	return fmtG(f)
 }
 
 // allDivisible reports whether every element of v is a multiple of d.
