@@ -27,7 +27,8 @@ var ErrNoMatch = errors.New("no file matches")
 // ExpandInputs turns command-line arguments into files: a folder gives its
 // regular, non-hidden files (not recursive), a pattern with *, ? or [
 // gives its matches, anything else is taken as a file (a missing file
-// fails when read). Each group is sorted by name; the order of the
+// fails when read). Each group is sorted by name in natural order (runs
+// of digits compare as numbers: s2 before s10); the order of the
 // arguments is kept.
 func ExpandInputs(args []string) []Input {
 	var out []Input
@@ -45,7 +46,7 @@ func ExpandInputs(args []string) []Input {
 			if len(m) == 0 {
 				out = append(out, Input{Path: a, Err: fmt.Errorf("%w pattern %q", ErrNoMatch, a)})
 			}
-			slices.Sort(m)
+			slices.SortFunc(m, NaturalCompare)
 			for _, p := range m {
 				out = append(out, Input{Path: p})
 			}
@@ -61,18 +62,72 @@ func ExpandInputs(args []string) []Input {
 			out = append(out, Input{Path: a, Err: fmt.Errorf("folder %s: %w", a, err)})
 			continue
 		}
-		n := 0
+		var names []string
 		for _, e := range ents {
 			if e.Type().IsRegular() && !strings.HasPrefix(e.Name(), ".") {
-				out = append(out, Input{Path: filepath.Join(a, e.Name())})
-				n++
+				names = append(names, e.Name())
 			}
 		}
+		slices.SortFunc(names, NaturalCompare)
+		for _, nm := range names {
+			out = append(out, Input{Path: filepath.Join(a, nm)})
+		}
+		n := len(names)
 		if n == 0 {
 			out = append(out, Input{Path: a, Err: fmt.Errorf("%w in folder %s", ErrNoMatch, a)})
 		}
 	}
 	return out
+}
+
+// NaturalCompare orders names as a person would: runs of decimal digits
+// compare by their value ("s2" < "s10" < "s11"), everything else byte by
+// byte; names equal that way (s01, s1) fall back to plain order so the
+// order is total.
+func NaturalCompare(a, b string) int {
+	i, j := 0, 0
+	for i < len(a) && j < len(b) {
+		ca, cb := a[i], b[j]
+		if isDigit(ca) && isDigit(cb) {
+			si, sj := i, j
+			for i < len(a) && isDigit(a[i]) {
+				i++
+			}
+			for j < len(b) && isDigit(b[j]) {
+				j++
+			}
+			da := strings.TrimLeft(a[si:i], "0")
+			db := strings.TrimLeft(b[sj:j], "0")
+			if len(da) != len(db) {
+				return cmpInt(len(da), len(db))
+			}
+			if c := strings.Compare(da, db); c != 0 {
+				return c
+			}
+			continue
+		}
+		if ca != cb {
+			return cmpInt(int(ca), int(cb))
+		}
+		i++
+		j++
+	}
+	if c := cmpInt(len(a)-i, len(b)-j); c != 0 {
+		return c
+	}
+	return strings.Compare(a, b)
+}
+
+func isDigit(c byte) bool { return c >= '0' && c <= '9' }
+
+func cmpInt(a, b int) int {
+	switch {
+	case a < b:
+		return -1
+	case a > b:
+		return 1
+	}
+	return 0
 }
 
 // Outcome is one sample solved, or one file or sample that failed.

@@ -8,6 +8,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 
@@ -21,11 +22,18 @@ import (
 // semicolon or tab separated, a decimal comma accepted when the separator
 // is not a comma; lines starting with # are comments). An
 // empty cell means the default (1 for dilution, the reference set's path
-// for path_cm).
+// for path_cm). Columns headed note or comment are ignored; any other
+// column is refused, so that a misspelt header ("path" for "path_cm")
+// cannot be dropped without a word.
 type SampleSheet struct {
-	File string
-	rows map[string]sheetRow
+	File  string
+	rows  map[string]sheetRow
+	order []string // sample names in sheet order
 }
+
+// sheetColumns are the columns a sample sheet may have, as the error for
+// an unknown one lists them.
+const sheetColumns = "sample, dilution, path_cm (and note or comment, ignored)"
 
 type sheetRow struct {
 	f    Factors
@@ -108,14 +116,24 @@ func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 				}
 			}
 			for i, h := range strings.Split(text, sep) {
-				switch strings.ToLower(strings.TrimSpace(h)) {
+				word := strings.ToLower(strings.Trim(strings.TrimSpace(h), `"`))
+				var dst *int
+				switch word {
 				case "sample":
-					iSample = i
+					dst = &iSample
 				case "dilution":
-					iDil = i
+					dst = &iDil
 				case "path_cm":
-					iPath = i
+					dst = &iPath
+				case "note", "comment":
+					continue
+				default:
+					return nil, perr(line, i+1, "unknown column %q; a sample sheet has the columns %s", strings.TrimSpace(h), sheetColumns)
 				}
+				if *dst >= 0 {
+					return nil, perr(line, i+1, "column %q given twice (first in column %d)", word, *dst+1)
+				}
+				*dst = i
 			}
 			if iSample < 0 || (iDil < 0 && iPath < 0) {
 				return nil, perr(line, 0, "header needs columns sample and dilution and/or path_cm, got %q", text)
@@ -157,6 +175,7 @@ func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 			*c.dst = x
 		}
 		sh.rows[name] = sheetRow{f: f, line: line}
+		sh.order = append(sh.order, name)
 	}
 	if err := sc.Err(); err != nil {
 		if errors.Is(err, bufio.ErrTooLong) {
@@ -173,8 +192,16 @@ func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 // Lookup finds the factors of a scan: by its name, else by its file's
 // base name with and without extension. Zero fields mean "default".
 func (sh *SampleSheet) Lookup(s *spectrum.Spectrum) (Factors, bool) {
+	f, _, ok := sh.Match(s)
+	return f, ok
+}
+
+// Match is Lookup that also returns the sheet's name of the row that
+// matched ("" when none did), so that a caller can tell which rows of the
+// sheet were never used.
+func (sh *SampleSheet) Match(s *spectrum.Spectrum) (Factors, string, bool) {
 	if sh == nil {
-		return Factors{}, false
+		return Factors{}, "", false
 	}
 	base := filepath.Base(s.Source.File)
 	for _, k := range []string{s.Name, base, strings.TrimSuffix(base, filepath.Ext(base))} {
@@ -182,10 +209,26 @@ func (sh *SampleSheet) Lookup(s *spectrum.Spectrum) (Factors, bool) {
 			continue
 		}
 		if r, ok := sh.rows[k]; ok {
-			return r.f, true
+			return r.f, k, true
 		}
 	}
-	return Factors{}, false
+	return Factors{}, "", false
+}
+
+// Names returns the sample names of the sheet in sheet order.
+func (sh *SampleSheet) Names() []string {
+	if sh == nil {
+		return nil
+	}
+	return slices.Clone(sh.order)
+}
+
+// Line returns the sheet line of the row named name (0 if none).
+func (sh *SampleSheet) Line(name string) int {
+	if sh == nil {
+		return 0
+	}
+	return sh.rows[name].line
 }
 
 // Len is the number of samples in the sheet.

@@ -47,3 +47,59 @@ func TestSampleSheetRobust(t *testing.T) {
 		t.Errorf("2 GiB sheet: %v", err)
 	}
 }
+
+// TestSampleSheetColumns: an unknown column (a misspelt path_cm) is
+// refused naming sheet, line and column and listing the known columns; a
+// note column is ignored; Match names the row used and Names lists them
+// in sheet order.
+func TestSampleSheetColumns(t *testing.T) {
+	_, err := ParseSampleSheet(strings.NewReader("sample,dilution,path\ns10,4,0.5\n"), "ss.csv")
+	if err == nil || !strings.HasPrefix(err.Error(), `ss.csv:1:3: unknown column "path"`) || !strings.Contains(err.Error(), "sample, dilution, path_cm") {
+		t.Errorf("unknown column: %v", err)
+	}
+	_, err = ParseSampleSheet(strings.NewReader("sample,dilution,Dilution\ns10,4,5\n"), "ss.csv")
+	if err == nil || !strings.HasPrefix(err.Error(), `ss.csv:1:3: column "dilution" given twice`) {
+		t.Errorf("twice: %v", err)
+	}
+	sh, err := ParseSampleSheet(strings.NewReader("# lab sheet\nnote,sample,dilution\nfirst,s10,4\n,s1O,2\n"), "ss.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := strings.Join(sh.Names(), " "); got != "s10 s1O" {
+		t.Errorf("names %q", got)
+	}
+	if sh.Line("s1O") != 4 {
+		t.Errorf("line of s1O: %d", sh.Line("s1O"))
+	}
+	f, k, ok := sh.Match(&spectrum.Spectrum{Source: spectrum.Source{File: "smp/s10.csv"}})
+	if !ok || k != "s10" || f.Dilution != 4 {
+		t.Errorf("match s10: %+v %q %v", f, k, ok)
+	}
+	if _, k, ok := sh.Match(&spectrum.Spectrum{Name: "s1"}); ok || k != "" {
+		t.Errorf("s1 matched %q", k)
+	}
+}
+
+// TestNaturalOrder: folders and patterns expand in natural order, so
+// s2 comes before s10 (plain byte order would give s1, s10, s11, s2).
+func TestNaturalOrder(t *testing.T) {
+	dir := t.TempDir()
+	for _, n := range []string{"s10.csv", "s2.csv", "s1.csv", "s11.csv", "blank.csv", "s02b.csv"} {
+		if err := os.WriteFile(filepath.Join(dir, n), nil, 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	want := "blank.csv s1.csv s2.csv s02b.csv s10.csv s11.csv"
+	for _, arg := range []string{dir, filepath.Join(dir, "*.csv")} {
+		var got []string
+		for _, in := range ExpandInputs([]string{arg}) {
+			got = append(got, filepath.Base(in.Path))
+		}
+		if strings.Join(got, " ") != want {
+			t.Errorf("%s: %v, want %s", arg, got, want)
+		}
+	}
+	if NaturalCompare("s01", "s1") == 0 || NaturalCompare("a", "a") != 0 || NaturalCompare("x9", "x10") >= 0 {
+		t.Error("NaturalCompare is not a total order as documented")
+	}
+}
