@@ -5,6 +5,7 @@ import (
 	"encoding/csv"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"image/png"
 	"math"
 	"os"
@@ -187,10 +188,13 @@ func TestTableWriter(t *testing.T) {
 		if width >= 80 && widest > width {
 			t.Errorf("width %d: table is %d wide:\n%s", width, widest, out)
 		}
-		for _, want := range []string{"4.9882 ± 0.0073", "0 zero", "amber (mg/L)", "dilute 2.5x", "zero ", "held at zero", "1 input(s) could not be solved"} {
+		for _, want := range []string{"4.9882 ± 0.0073", "0 zero", "amber (mg/L)", "dilute 2.5x", "zero ", "held at zero"} {
 			if !strings.Contains(out, want) {
 				t.Errorf("width %d: %q missing:\n%s", width, want, out)
 			}
+		}
+		if strings.Contains(out, "could not be solved") {
+			t.Errorf("width %d: failures belong on stderr, not in the table:\n%s", width, out)
 		}
 		if width == 160 && !strings.Contains(out, "DW") {
 			t.Errorf("width 160 dropped the DW column:\n%s", out)
@@ -250,10 +254,57 @@ func TestSamplePlot(t *testing.T) {
 	if err := SaveSamplePlot(r, nil, filepath.Join(dir, "x.gif")); err == nil {
 		t.Error("gif accepted")
 	}
+
+	// Points 20-24 (490-498 nm) read above the ceiling: the figure shades
+	// them and names them in the legend.
+	cut := func(v []float64) []float64 { return append(append([]float64(nil), v[:20]...), v[25:]...) }
+	r.Grid, r.Measured, r.Fitted, r.Residual = cut(r.Grid), cut(r.Measured), cut(r.Fitted), cut(r.Residual)
+	r.BaselineCurve, r.Noise = cut(r.BaselineCurve), cut(r.Noise)
+	for k := range r.Contributions {
+		r.Contributions[k] = cut(r.Contributions[k])
+	}
+	r.Gaps = []unmix.Gap{{LoNM: 490, HiNM: 498, Saturated: true}}
+	path := filepath.Join(dir, "gap.svg")
+	if err := SaveSamplePlot(r, testLayout.Compounds, path); err != nil {
+		t.Fatal(err)
+	}
+	if data, err := os.ReadFile(path); err != nil || !bytes.Contains(data, []byte(saturatedLabel)) {
+		t.Errorf("svg with a gap lacks %q (%v)", saturatedLabel, err)
+	}
 	ents, _ := os.ReadDir(dir)
 	for _, e := range ents {
 		if strings.HasPrefix(e.Name(), ".") {
 			t.Errorf("temporary file left: %s", e.Name())
+		}
+	}
+}
+
+// Lines break at every gap and nowhere else; each gap's band reaches
+// halfway to the fitted points beside it.
+func TestSamplePlotGaps(t *testing.T) {
+	grid := []float64{400, 401, 405, 406, 407, 409}
+	gaps := []unmix.Gap{{LoNM: 402, HiNM: 404, Saturated: true}, {LoNM: 408, HiNM: 408}, {LoNM: 410, HiNM: 411, Saturated: true}}
+	got := segments(grid, gaps)
+	want := [][2]int{{0, 2}, {2, 5}, {5, 6}}
+	if fmt.Sprint(got) != fmt.Sprint(want) {
+		t.Errorf("segments %v, want %v", got, want)
+	}
+	if s := segments(grid, nil); fmt.Sprint(s) != "[[0 6]]" {
+		t.Errorf("no gaps: segments %v", s)
+	}
+	bands := gapBands(grid, gaps)
+	wantB := []struct {
+		lo, hi float64
+		label  string
+		first  bool
+	}{{401.5, 404.5, saturatedLabel, true}, {407.5, 408.5, uncalibratedLabel, true}, {409.5, 411.5, saturatedLabel, false}}
+	if len(bands) != len(wantB) {
+		t.Fatalf("%d bands, want %d", len(bands), len(wantB))
+	}
+	for i, w := range wantB {
+		b := bands[i]
+		if b.lo != w.lo || b.hi != w.hi || b.label != w.label || b.first != w.first {
+			t.Errorf("band %d = %g-%g %q first %v, want %g-%g %q first %v", i, b.lo, b.hi, b.label, b.first, w.lo, w.hi, w.label, w.first)
 		}
 	}
 }

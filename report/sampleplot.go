@@ -36,6 +36,16 @@ var (
 	residColour    = color.RGBA{R: 0x33, G: 0x33, B: 0x33, A: 0xff}
 	baselineColour = color.RGBA{R: 0x80, G: 0x80, B: 0x80, A: 0xff}
 	noiseColour    = color.RGBA{R: 0xcf, G: 0xe3, B: 0xf0, A: 0xff} // pale sky
+	// Shading of the stretches the fit left out: above the ceiling (pale
+	// apricot) and where no compound is calibrated (pale grey).
+	saturatedColour    = color.RGBA{R: 0xfb, G: 0xe3, B: 0xd0, A: 0xff}
+	uncalibratedColour = color.RGBA{R: 0xe8, G: 0xe8, B: 0xe8, A: 0xff}
+)
+
+// Legend labels of the shaded stretches.
+const (
+	saturatedLabel    = "above the ceiling: left out"
+	uncalibratedLabel = "not calibrated: left out"
 )
 
 // ErrNoCurves: the result was solved without unmix.Options.KeepCurves.
@@ -65,10 +75,36 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 	fail := func(err error) (*plot.Plot, *plot.Plot, error) {
 		return nil, nil, fmt.Errorf("report: plot of %s: %w", r.Sample, err)
 	}
+	// Lines break where the fit left points out, rather than run
+	// straight across; the stretches are shaded in both panels.
+	segs := segments(r.Grid, r.Gaps)
+	bands := gapBands(r.Grid, r.Gaps)
+	lines := func(p *plot.Plot, y []float64, style func(*plotter.Line)) (*plotter.Line, error) {
+		var first *plotter.Line
+		for _, sg := range segs {
+			pts := make(plotter.XYs, 0, sg[1]-sg[0])
+			for i := sg[0]; i < sg[1]; i++ {
+				pts = append(pts, plotter.XY{X: r.Grid[i], Y: y[i]})
+			}
+			l, err := plotter.NewLine(pts)
+			if err != nil {
+				return nil, err
+			}
+			style(l)
+			p.Add(l)
+			if first == nil {
+				first = l
+			}
+		}
+		return first, nil
+	}
 
 	spectra = plot.New()
 	spectra.Title.Text = sampleTitle(r)
 	spectra.Y.Label.Text = "Absorbance"
+	for _, b := range bands {
+		spectra.Add(b)
+	}
 	spectra.Add(plotter.NewGrid())
 	meas, err := plotter.NewScatter(xy(r.Measured))
 	if err != nil {
@@ -81,14 +117,14 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 		if len(c) != n {
 			return fail(errors.New("contribution of unequal length"))
 		}
-		l, err := plotter.NewLine(xy(c))
+		l, err := lines(spectra, c, func(l *plotter.Line) {
+			l.Color = Colour(k)
+			l.Width = vg.Points(1.2)
+			l.Dashes = []vg.Length{vg.Points(5), vg.Points(2)}
+		})
 		if err != nil {
 			return fail(err)
 		}
-		l.Color = Colour(k)
-		l.Width = vg.Points(1.2)
-		l.Dashes = []vg.Length{vg.Points(5), vg.Points(2)}
-		spectra.Add(l)
 		name := fmt.Sprintf("compound %d", k+1)
 		if k < len(names) {
 			name = names[k]
@@ -99,24 +135,29 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 		spectra.Legend.Add(name, l)
 	}
 	if anyNonZero(r.BaselineCurve) {
-		b, err := plotter.NewLine(xy(r.BaselineCurve))
+		b, err := lines(spectra, r.BaselineCurve, func(l *plotter.Line) {
+			l.Color = baselineColour
+			l.Width = vg.Points(1)
+			l.Dashes = []vg.Length{vg.Points(1.5), vg.Points(2)}
+		})
 		if err != nil {
 			return fail(err)
 		}
-		b.Color = baselineColour
-		b.Width = vg.Points(1)
-		b.Dashes = []vg.Length{vg.Points(1.5), vg.Points(2)}
-		spectra.Add(b)
 		spectra.Legend.Add("baseline", b)
 	}
-	fit, err := plotter.NewLine(xy(r.Fitted))
+	fit, err := lines(spectra, r.Fitted, func(l *plotter.Line) {
+		l.Color = fittedColour
+		l.Width = vg.Points(1.3)
+	})
 	if err != nil {
 		return fail(err)
 	}
-	fit.Color = fittedColour
-	fit.Width = vg.Points(1.3)
-	spectra.Add(fit)
 	spectra.Legend.Add("fitted", fit)
+	for _, b := range bands {
+		if b.first {
+			spectra.Legend.Add(b.label, b)
+		}
+	}
 	spectra.Legend.Top = true
 	spectra.Legend.TextStyle.Font.Size = vg.Points(8)
 	spectra.X.Tick.Label.Font.Size = 0 // the residual panel carries the wavelength axis
@@ -124,34 +165,43 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 	resid = plot.New()
 	resid.X.Label.Text = "Wavelength (nm)"
 	resid.Y.Label.Text = "Residual"
-	band := make(plotter.XYs, 0, 2*n)
-	for i := range n {
-		band = append(band, plotter.XY{X: r.Grid[i], Y: noiseBandK * r.Noise[i]})
+	for _, b := range bands {
+		resid.Add(b)
 	}
-	for i := n - 1; i >= 0; i-- {
-		band = append(band, plotter.XY{X: r.Grid[i], Y: -noiseBandK * r.Noise[i]})
+	var noiseBand *plotter.Polygon
+	for _, sg := range segs {
+		band := make(plotter.XYs, 0, 2*(sg[1]-sg[0]))
+		for i := sg[0]; i < sg[1]; i++ {
+			band = append(band, plotter.XY{X: r.Grid[i], Y: noiseBandK * r.Noise[i]})
+		}
+		for i := sg[1] - 1; i >= sg[0]; i-- {
+			band = append(band, plotter.XY{X: r.Grid[i], Y: -noiseBandK * r.Noise[i]})
+		}
+		poly, err := plotter.NewPolygon(band)
+		if err != nil {
+			return fail(err)
+		}
+		poly.Color = noiseColour
+		poly.LineStyle.Width = 0
+		resid.Add(poly)
+		if noiseBand == nil {
+			noiseBand = poly
+		}
 	}
-	poly, err := plotter.NewPolygon(band)
-	if err != nil {
-		return fail(err)
-	}
-	poly.Color = noiseColour
-	poly.LineStyle.Width = 0
-	resid.Add(poly)
-	resid.Legend.Add(fmt.Sprintf("±%g σ expected noise", noiseBandK), poly)
+	resid.Legend.Add(fmt.Sprintf("±%g σ expected noise", noiseBandK), noiseBand)
 	zero, err := plotter.NewLine(plotter.XYs{{X: r.Grid[0], Y: 0}, {X: r.Grid[n-1], Y: 0}})
 	if err != nil {
 		return fail(err)
 	}
 	zero.Color = baselineColour
 	zero.Width = vg.Points(0.5)
-	rl, err := plotter.NewLine(xy(r.Residual))
-	if err != nil {
+	resid.Add(zero)
+	if _, err := lines(resid, r.Residual, func(l *plotter.Line) {
+		l.Color = residColour
+		l.Width = vg.Points(0.8)
+	}); err != nil {
 		return fail(err)
 	}
-	rl.Color = residColour
-	rl.Width = vg.Points(0.8)
-	resid.Add(zero, rl)
 	resid.Legend.Top = true
 	resid.Legend.TextStyle.Font.Size = vg.Points(8)
 	// Keep the axis symmetric about zero.
@@ -162,9 +212,91 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 	if lim > 0 {
 		resid.Y.Min, resid.Y.Max = -1.15*lim, 1.15*lim
 	}
-	spectra.X.Min, spectra.X.Max = r.Grid[0], r.Grid[n-1]
-	resid.X.Min, resid.X.Max = r.Grid[0], r.Grid[n-1]
+	xmin, xmax := r.Grid[0], r.Grid[n-1]
+	for _, b := range bands {
+		xmin, xmax = math.Min(xmin, b.lo), math.Max(xmax, b.hi)
+	}
+	spectra.X.Min, spectra.X.Max = xmin, xmax
+	resid.X.Min, resid.X.Max = xmin, xmax
 	return spectra, resid, nil
+}
+
+// segments splits the fitted points grid into runs [from, to) with no
+// gap between neighbours.
+func segments(grid []float64, gaps []unmix.Gap) [][2]int {
+	var out [][2]int
+	start, g := 0, 0
+	for i := 1; i < len(grid); i++ {
+		for g < len(gaps) && gaps[g].HiNM < grid[i-1] {
+			g++
+		}
+		if g < len(gaps) && gaps[g].LoNM > grid[i-1] && gaps[g].HiNM < grid[i] {
+			out = append(out, [2]int{start, i})
+			start = i
+		}
+	}
+	if len(grid) > 0 {
+		out = append(out, [2]int{start, len(grid)})
+	}
+	return out
+}
+
+// gapBand shades one stretch the fit left out, across the whole height of
+// a panel.
+type gapBand struct {
+	lo, hi float64 // nm
+	colour color.Color
+	label  string
+	first  bool // the first band of its kind: it goes in the legend
+}
+
+// gapBands returns a band per gap, reaching halfway to the fitted points
+// on either side (the whole step when a gap ends the window).
+func gapBands(grid []float64, gaps []unmix.Gap) []*gapBand {
+	var out []*gapBand
+	seen := map[bool]bool{}
+	for _, g := range gaps {
+		prev, next := math.NaN(), math.NaN()
+		for _, x := range grid {
+			if x < g.LoNM {
+				prev = x
+			} else if x > g.HiNM {
+				next = x
+				break
+			}
+		}
+		hl, hr := (g.LoNM-prev)/2, (next-g.HiNM)/2
+		switch {
+		case math.IsNaN(hl) && math.IsNaN(hr):
+			hl, hr = 0, 0
+		case math.IsNaN(hl):
+			hl = hr
+		case math.IsNaN(hr):
+			hr = hl
+		}
+		b := &gapBand{lo: g.LoNM - hl, hi: g.HiNM + hr, colour: uncalibratedColour, label: uncalibratedLabel, first: !seen[g.Saturated]}
+		if g.Saturated {
+			b.colour, b.label = saturatedColour, saturatedLabel
+		}
+		seen[g.Saturated] = true
+		out = append(out, b)
+	}
+	return out
+}
+
+// Plot fills the band from the bottom to the top of the panel.
+func (b *gapBand) Plot(c draw.Canvas, p *plot.Plot) {
+	x, _ := p.Transforms(&c)
+	x0, x1 := max(x(b.lo), c.Min.X), min(x(b.hi), c.Max.X)
+	if x1 <= x0 {
+		return
+	}
+	c.FillPolygon(b.colour, []vg.Point{{X: x0, Y: c.Min.Y}, {X: x1, Y: c.Min.Y}, {X: x1, Y: c.Max.Y}, {X: x0, Y: c.Max.Y}})
+}
+
+// Thumbnail draws the band's legend entry.
+func (b *gapBand) Thumbnail(c *draw.Canvas) {
+	c.FillPolygon(b.colour, []vg.Point{{X: c.Min.X, Y: c.Min.Y}, {X: c.Max.X, Y: c.Min.Y}, {X: c.Max.X, Y: c.Max.Y}, {X: c.Min.X, Y: c.Max.Y}})
 }
 
 // sampleTitle is the figure title: sample, key figures and flags.

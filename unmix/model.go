@@ -219,6 +219,10 @@ type Result struct {
 	Contributions [][]float64 `json:"-"`
 	BaselineCurve []float64   `json:"-"`
 	Noise         []float64   `json:"-"`
+	// Gaps are the stretches of the window the fit left out, in
+	// wavelength order (with Options.KeepCurves): plots break their
+	// lines there instead of drawing across.
+	Gaps []Gap `json:"-"`
 
 	encoded []byte // Batch.Encode's buffer, kept with the pooled Result
 }
@@ -488,6 +492,15 @@ func (m *Model) BaselineTerms() []string { return slices.Clone(m.sh.names) }
 
 // Window returns the wavelengths of the fit window.
 func (m *Model) Window() []float64 { return slices.Clone(m.sh.grid[m.sh.lo:m.sh.hi]) }
+
+// Gap is a run of consecutive window points left out of a fit.
+type Gap struct {
+	// LoNM and HiNM are the first and last wavelength left out.
+	LoNM, HiNM float64
+	// Saturated: the points read above the absorbance ceiling; else a
+	// compound's absorptivity is not known there (Model.Excluded).
+	Saturated bool
+}
 
 // Excluded is the number of window points left out for every sample
 // because a compound's absorptivity is not known there.

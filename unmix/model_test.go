@@ -618,3 +618,48 @@ func TestPathLengthBeerLambert(t *testing.T) {
 		t.Errorf("2 cm scan taken as 1 cm: ratio %g, want 2", c)
 	}
 }
+
+// TestSaturationGaps: with curves kept, the points above the ceiling are
+// one saturated gap, spanning exactly the wavelengths that read above it,
+// and no curve point lies inside it.
+func TestSaturationGaps(t *testing.T) {
+	mx := mixture{conc: []float64{5, 3, 2, 35}, noise: testNoise, seed: 9}
+	s := mx.spectrum()
+	r := mustSolve(t, mustModel(t, testSet(4), Options{KeepCurves: true}), s, Factors{})
+	lo, hi := math.Inf(1), math.Inf(-1)
+	for i, a := range s.Values {
+		if a > 2 {
+			lo, hi = math.Min(lo, s.Wavelengths[i]), math.Max(hi, s.Wavelengths[i])
+		}
+	}
+	if len(r.Gaps) != 1 || !r.Gaps[0].Saturated || r.Gaps[0].LoNM != lo || r.Gaps[0].HiNM != hi {
+		t.Fatalf("gaps %+v, want one saturated gap %g-%g nm", r.Gaps, lo, hi)
+	}
+	for _, l := range r.Grid {
+		if l >= lo && l <= hi {
+			t.Errorf("curve point at %g nm inside the gap", l)
+		}
+	}
+	r = mustSolve(t, mustModel(t, testSet(4), Options{KeepCurves: true}), mixture{conc: []float64{5, 3, 2, 8}, seed: 9}.spectrum(), Factors{})
+	if len(r.Gaps) != 0 {
+		t.Errorf("no point above the ceiling: gaps %+v", r.Gaps)
+	}
+}
+
+// TestGaps groups left-out rows into runs, telling saturated rows (usable
+// but not fitted) from rows no compound is calibrated at.
+func TestGaps(t *testing.T) {
+	wl := []float64{400, 401, 402, 403, 404, 405, 406, 407}
+	rows0 := []int{0, 1, 2, 3, 5, 6} // 4 and 7 not calibrated
+	rows := []int{0, 3, 6}           // 1, 2 and 5 above the ceiling
+	got := gaps(nil, wl, rows, rows0)
+	want := []Gap{{401, 402, true}, {404, 404, false}, {405, 405, true}, {407, 407, false}}
+	if len(got) != len(want) {
+		t.Fatalf("gaps %+v, want %+v", got, want)
+	}
+	for i := range want {
+		if got[i] != want[i] {
+			t.Errorf("gap %d = %+v, want %+v", i, got[i], want[i])
+		}
+	}
+}

@@ -492,7 +492,7 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 		m.curves(dst, d)
 	} else {
 		dst.Grid, dst.Measured, dst.Fitted, dst.Residual = nil, nil, nil, nil
-		dst.Contributions, dst.BaselineCurve, dst.Noise = nil, nil, nil
+		dst.Contributions, dst.BaselineCurve, dst.Noise, dst.Gaps = nil, nil, nil, nil
 	}
 }
 
@@ -541,6 +541,36 @@ func (m *Model) curves(dst *Result, d *design) {
 			dst.BaselineCurve[i] += w.res.Coef[j] * sh.cols[j][r]
 		}
 	}
+	dst.Gaps = gaps(nil, wl, d.rows, sh.rows0)
+}
+
+// gaps appends to dst the runs of window points (wavelengths wl) that are
+// not among the fitted rows: saturated where they are usable rows
+// (rows0) the fit left out, else not calibrated. rows and rows0 are
+// ascending and rows is a subset of rows0.
+func gaps(dst []Gap, wl []float64, rows, rows0 []int) []Gap {
+	i, i0 := 0, 0
+	open := false
+	for r := range wl {
+		used := i < len(rows) && rows[i] == r
+		usable := i0 < len(rows0) && rows0[i0] == r
+		if used {
+			i++
+		}
+		if usable {
+			i0++
+		}
+		switch {
+		case used:
+			open = false
+		case open && dst[len(dst)-1].Saturated == usable:
+			dst[len(dst)-1].HiNM = wl[r]
+		default:
+			dst = append(dst, Gap{LoNM: wl[r], HiNM: wl[r], Saturated: usable})
+			open = true
+		}
+	}
+	return dst
 }
 
 // sumSqScaled returns Σ (x_i s_i)², in four interleaved sums so that the
