@@ -44,9 +44,11 @@ const whitespace = ' '
 // be ascending or descending (the result is ascending) and are shared by
 // all spectra of one table (read-only).
 //
-// What the values are comes from opt.Quantity, else from quantity words
-// in the header (absorbance, abs, A; %T, percent transmittance;
-// transmittance, T), else they are read as absorbance with a warning.
+// What the values are comes from quantity words in the header
+// (absorbance, abs, A; %T, percent transmittance; transmittance, T), else
+// from opt.Quantity, else they are read as absorbance with a warning. A
+// header word that contradicts opt.Quantity wins, with a warning naming
+// the file and columns.
 //
 // Every problem in the file (no data, ragged rows, text in numbers,
 // NaN/Inf, duplicate or out-of-order wavelengths, mixed decimal marks, an
@@ -328,10 +330,28 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 	if !cellsOK && d.header != "" {
 		whole = quantityFromText(d.header)
 	}
+	// In a table of several spectra, a column headed by a lone letter
+	// ("a", "T") names a sample (columns a, b, c), unless every spectrum
+	// column carries the same letter (an export repeating its quantity).
+	// One spectrum column headed "A" is absorbance.
+	letterNames := false
+	if cellsOK && ns > 1 {
+		letterNames = !sameLoneLetter(cells[1:])
+	}
 	stated := 0
 	for j := range qs {
 		if cellsOK {
-			qs[j], names[j+1] = cellQuantityAndName(cells[j+1])
+			if letterNames && isLoneLetter(cells[j+1]) {
+				qs[j], names[j+1] = Unstated, strings.TrimSpace(cells[j+1])
+			} else {
+				qs[j], names[j+1] = cellQuantityAndName(cells[j+1])
+				if letterNames && names[j+1] == "" {
+					// "A [%T]": sample A in %T.
+					if k := strings.LastIndexAny(cells[j+1], "[("); k > 0 && isLoneLetter(cells[j+1][:k]) {
+						names[j+1] = strings.TrimSpace(cells[j+1][:k])
+					}
+				}
+			}
 		} else {
 			qs[j] = whole
 		}
@@ -364,15 +384,19 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 		base = "<input>"
 	}
 	out := make([]*Spectrum, ns)
-	var overridden, unstated []int
+	// Columns whose header states a quantity other than the requested
+	// one, by the quantity stated: the file wins.
+	contradicted := map[Quantity][]int{}
+	var unstated []int
 	var odd [3][]int // columns failing plausibility, by kind
 	for j := 0; j < ns; j++ {
 		q := qs[j]
 		if d.opt.Quantity != Unstated {
-			if q != Unstated && q != d.opt.Quantity {
-				overridden = append(overridden, j+2)
+			if q == Unstated {
+				q = d.opt.Quantity
+			} else if q != d.opt.Quantity {
+				contradicted[q] = append(contradicted[q], j+2)
 			}
-			q = d.opt.Quantity
 		}
 		if q == Unstated {
 			q = Absorbance
@@ -401,8 +425,11 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 		}
 		out[j] = s
 	}
-	if len(overridden) > 0 {
-		d.opt.warnf(d.file, "the header states another quantity for %s; reading %s as requested", columnList(overridden, ns), d.opt.Quantity)
+	for _, q := range []Quantity{Absorbance, PercentT, Transmittance} {
+		if cols := contradicted[q]; len(cols) > 0 {
+			d.opt.warnf(d.file, "the header states %s for %s, not the %s requested; reading %s as the file says (the requested quantity applies only to files that do not say)",
+				q, columnList(cols, ns), d.opt.Quantity, q)
+		}
 	}
 	if len(unstated) > 0 {
 		d.opt.warnf(d.file, "the header does not say whether %s are absorbance, %%T or T; reading absorbance (state it with a header word or the quantity option)", columnList(unstated, ns))
@@ -753,6 +780,28 @@ func cellQuantityAndName(cell string) (Quantity, string) {
 		return q, ""
 	}
 	return q, c
+}
+
+// isLoneLetter reports whether a header cell is nothing but one of the
+// single letters that can mean a quantity (A for absorbance, T for
+// transmittance), in either case.
+func isLoneLetter(cell string) bool {
+	switch strings.TrimSpace(cell) {
+	case "a", "A", "t", "T":
+		return true
+	}
+	return false
+}
+
+// sameLoneLetter reports whether every cell is the same lone quantity
+// letter (ignoring case).
+func sameLoneLetter(cells []string) bool {
+	for _, c := range cells {
+		if !isLoneLetter(c) || !strings.EqualFold(strings.TrimSpace(c), strings.TrimSpace(cells[0])) {
+			return false
+		}
+	}
+	return len(cells) > 0
 }
 
 // onlyQuantityWords reports whether s has words and all are quantity

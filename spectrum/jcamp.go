@@ -43,8 +43,11 @@ const (
 // YUNITS ABSORBANCE gives Absorbance; "% TRANSMITTANCE" or PERCENT
 // TRANSMITTANCE gives PercentT; TRANSMITTANCE is a fraction (0..1) as the
 // standard says, unless the values exceed 2, in which case they are taken
-// as percent (files in the wild do this) with a warning. opt.Quantity
-// overrides YUNITS. Missing YUNITS reads absorbance with a warning.
+// as percent (files in the wild do this) with a warning; a requested
+// opt.Quantity of %T or T settles which. YUNITS that state a quantity win
+// over opt.Quantity (a contradiction is warned about); opt.Quantity
+// applies when YUNITS is missing or names neither absorbance nor
+// transmittance. Missing YUNITS otherwise reads absorbance with a warning.
 //
 // Compound files (LINK, BLOCKS), NTUPLES, peak tables and NMR or mass
 // spectra are refused with an error wrapping ErrNotSupported. Every other
@@ -401,6 +404,25 @@ func (j *jcampReader) spectrum() (*Spectrum, error) {
 	return s, nil
 }
 
+// decodedPoints decodes the whole XYDATA table again without the NPOINTS
+// bound (only up to MaxJCAMPPoints) and returns how many Y values it
+// holds, or 0 when it cannot be decoded; it explains a table that does
+// not fit NPOINTS. The lines are already in memory, so this costs no more
+// than the first pass.
+func (j *jcampReader) decodedPoints() int {
+	d := asdfDecoder{limit: MaxJCAMPPoints}
+	for _, dl := range j.lines {
+		if _, _, err := d.line(j.buf[dl.off:dl.end]); err != nil {
+			return 0
+		}
+	}
+	return len(d.ys)
+}
+
+// fmtShort formats a number read from or derived from a file header for a
+// message: at most 6 significant digits (437.736, not 437.7358490566038).
+func fmtShort(v float64) string { return strconv.FormatFloat(v, 'g', 6, 64) }
+
 // quantity decides what the Y values are.
 func (j *jcampReader) quantity(y []float64) (Quantity, error) {
 	rec := j.labels["YUNITS"]
@@ -418,7 +440,11 @@ func (j *jcampReader) quantity(y []float64) (Quantity, error) {
 		q = PercentT
 	case strings.Contains(u, "TRANSMI"):
 		q = Transmittance
-		if j.opt.Quantity == Unstated && floatsMax(y) > fractionTMax {
+		if j.opt.Quantity == PercentT {
+			// TRANSMITTANCE without saying fraction or percent: the
+			// requested %T only says which, it contradicts nothing.
+			q = PercentT
+		} else if j.opt.Quantity != Transmittance && floatsMax(y) > fractionTMax {
 			q = PercentT
 			j.opt.warnf(j.file, "line %d: YUNITS=%s but values reach %s: reading them as percent transmittance", rec.line, rec.value, fmtG(floatsMax(y)))
 		}
@@ -428,10 +454,14 @@ func (j *jcampReader) quantity(y []float64) (Quantity, error) {
 		}
 	}
 	if j.opt.Quantity != Unstated {
-		if q != Unstated && q != j.opt.Quantity {
-			j.opt.warnf(j.file, "line %d: YUNITS=%s but %s was requested; reading %s", rec.line, rec.value, j.opt.Quantity, j.opt.Quantity)
+		if q == Unstated {
+			return j.opt.Quantity, nil
 		}
-		return j.opt.Quantity, nil
+		if q != j.opt.Quantity {
+			j.opt.warnf(j.file, "line %d: YUNITS=%s states %s, not the %s requested; reading %s as the file says (the requested quantity applies only to files that do not say)",
+				rec.line, rec.value, q, j.opt.Quantity, q)
+		}
+		return q, nil
 	}
 	if q == Unstated {
 		j.opt.warnf(j.file, "no ##YUNITS=; reading the values as absorbance (state it with the quantity option)")
@@ -510,13 +540,19 @@ func (j *jcampReader) xydata(xf, yf float64) (x, y []float64, err error) {
 		}
 		want := firstX + float64(k)*deltaX
 		if got := lx * xf; math.Abs(got-want) > jcampXCheck*math.Abs(deltaX) {
-			return nil, nil, j.errAt(dl.line, 1, "line X %s (x XFACTOR = %s) should be near %s for point %d as FIRSTX, LASTX and NPOINTS say",
-				fmtG(lx), fmtG(got), fmtG(want), k+1)
+			if n := j.decodedPoints(); n > 0 && n != npts {
+				// The table holds another number of points than
+				// NPOINTS: that, not this line, is what is wrong.
+				return nil, nil, j.errAt(nrec.line, 0, "##NPOINTS=%d disagrees with ##FIRSTX=%s, ##LASTX=%s and the data: the table holds %d decoded points (a step of %s from FIRSTX to LASTX), and line %d starts at X %s where %d points would put %s",
+					npts, fmtShort(firstX), fmtShort(lastX), n, fmtShort((lastX-firstX)/float64(n-1)), dl.line, fmtShort(got), npts, fmtShort(want))
+			}
+			return nil, nil, j.errAt(dl.line, 1, "line X %s (x XFACTOR = %s) should be near %s for point %d as ##FIRSTX=%s, ##LASTX=%s and ##NPOINTS=%d say",
+				fmtShort(lx), fmtShort(got), fmtShort(want), k+1, fmtShort(firstX), fmtShort(lastX), npts)
 		}
 	}
 	if len(d.ys) != npts {
-		return nil, nil, j.errAt(nrec.line, 0, "##NPOINTS=%d but the table (lines %d-%d) holds %d points",
-			npts, j.lines[0].line, j.lines[len(j.lines)-1].line, len(d.ys))
+		return nil, nil, j.errAt(nrec.line, 0, "##NPOINTS=%d disagrees with the data: the table (lines %d-%d) holds %d decoded points from ##FIRSTX=%s to ##LASTX=%s",
+			npts, j.lines[0].line, j.lines[len(j.lines)-1].line, len(d.ys), fmtShort(firstX), fmtShort(lastX))
 	}
 	y = d.ys
 	if fy, rec, ok, err := j.number("FIRSTY"); err != nil {

@@ -187,6 +187,26 @@ func TestJCAMPUnits(t *testing.T) {
 	if err != nil || s.Quantity != PercentT {
 		t.Errorf("%% TRANSMITTANCE: %v %v", s, err)
 	}
+	// YUNITS that state a quantity win over the requested one, with a
+	// warning naming the file and line; the request settles fraction or
+	// percent of a bare TRANSMITTANCE, and applies when YUNITS is missing.
+	abs := "##XUNITS=NANOMETERS\n##YUNITS=ABSORBANCE\n##XFACTOR=1\n##YFACTOR=1\n##FIRSTX=400\n##LASTX=401\n##NPOINTS=2\n##XYDATA=(X++(Y..Y))\n"
+	s, warns, err = readJ(t, jdx(abs, "400 1 2\n"), ReadOptions{Quantity: PercentT})
+	if err != nil || s.Quantity != Absorbance || len(warns) != 1 || !strings.Contains(warns[0], "YUNITS=ABSORBANCE states absorbance, not the %T requested") {
+		t.Errorf("ABSORBANCE with %%T requested: %v %v %q", s, err, warns)
+	}
+	s, warns, err = readJ(t, jdx(strings.Replace(abs, "ABSORBANCE", "TRANSMITTANCE", 1), "400 50 60\n"), ReadOptions{Quantity: PercentT})
+	if err != nil || s.Quantity != PercentT || len(warns) != 0 {
+		t.Errorf("TRANSMITTANCE with %%T requested: %v %v %q", s, err, warns)
+	}
+	s, warns, err = readJ(t, jdx(strings.Replace(abs, "ABSORBANCE", "TRANSMITTANCE", 1), "400 0.5 0.6\n"), ReadOptions{Quantity: Absorbance})
+	if err != nil || s.Quantity != Transmittance || len(warns) != 1 || !strings.Contains(warns[0], "not the absorbance requested") {
+		t.Errorf("TRANSMITTANCE with absorbance requested: %v %v %q", s, err, warns)
+	}
+	s, warns, err = readJ(t, jdx(strings.Replace(abs, "##YUNITS=ABSORBANCE\n", "", 1), "400 50 60\n"), ReadOptions{Quantity: PercentT})
+	if err != nil || s.Quantity != PercentT || len(warns) != 0 {
+		t.Errorf("no YUNITS, %%T requested: %v %v %q", s, err, warns)
+	}
 	// Unknown units.
 	_, _, err = readJ(t, jdx("##XUNITS=SECONDS\n##YUNITS=ABSORBANCE\n##XFACTOR=1\n##YFACTOR=1\n##FIRSTX=400\n##LASTX=401\n##NPOINTS=2\n##XYDATA=(X++(Y..Y))\n", "400 1 2\n"), ReadOptions{})
 	if !errors.Is(err, ErrNotSupported) {

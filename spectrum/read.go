@@ -40,8 +40,11 @@ func (e *ParseError) Unwrap() error { return e.Err }
 
 // ReadOptions control the readers.
 type ReadOptions struct {
-	// Quantity overrides what the file says the values are. Unstated
-	// means: take it from the header, else read absorbance and warn.
+	// Quantity says what the values are in files that do not say (no
+	// quantity word in the header, no JCAMP-DX YUNITS). A file that
+	// states its quantity keeps it; when that contradicts Quantity, a
+	// warning names the file. Unstated means: take it from the file,
+	// else read absorbance and warn.
 	Quantity Quantity
 	// Warn receives warnings (already prefixed with the file name). Nil
 	// discards them.

@@ -38,7 +38,10 @@ var badFiles = []struct {
 	{"non-utf8.csv", 4, 2, `unexpected "\xb7"`, nil},
 	{"truncated.jdx", 13, 0, "without ##END=", nil},
 	{"dif-check.jdx", 13, 5, "Y-value check failed", errYCheck},
-	{"lying-npoints.jdx", 10, 0, "##NPOINTS=9 but the table (lines 12-14) holds 7 points", nil},
+	{"lying-npoints.jdx", 10, 0, "##NPOINTS=9 disagrees with the data: the table (lines 12-14) holds 7 decoded points from ##FIRSTX=400 to ##LASTX=408", nil},
+	// 6 points 2 nm apart from 400 to 410; NPOINTS=8 would put the
+	// second line's 406 at 400 + 3 x 10/7 = 404.286.
+	{"npoints-vs-step.jdx", 10, 0, "##NPOINTS=8 disagrees with ##FIRSTX=400, ##LASTX=410 and the data: the table holds 6 decoded points (a step of 2 from FIRSTX to LASTX), and line 13 starts at X 406 where 8 points would put 404.286", nil},
 	{"multi-block.jdx", 12, 0, "second block", ErrNotSupported},
 	{"nmr.jdx", 3, 0, "NMR", ErrNotSupported},
 	{"link.jdx", 3, 0, "compound file", ErrNotSupported},
@@ -271,10 +274,26 @@ func TestQuantityWarnings(t *testing.T) {
 	if ss[0].Name != "sample" {
 		t.Errorf("name %q", ss[0].Name)
 	}
-	// The option overrides the header, with a warning.
+	// A header word wins over the option, with a warning naming the
+	// file (and the %T-looking values are still pointed out).
 	ss, warns = readString(t, "nm,A\n400,95\n401,80\n", ReadOptions{Quantity: PercentT})
-	if ss[0].Quantity != PercentT || len(warns) != 1 || !strings.Contains(warns[0], "another quantity") {
-		t.Errorf("override: %v, %q", ss[0].Quantity, warns)
+	if ss[0].Quantity != Absorbance || len(warns) != 2 || !strings.HasPrefix(warns[0], "in.txt: ") ||
+		!strings.Contains(warns[0], "states absorbance") || !strings.Contains(warns[0], "not the %T requested") {
+		t.Errorf("header over option: %v, %q", ss[0].Quantity, warns)
+	}
+	ss, warns = readString(t, "nm,s1 [%T],s2 [%T]\n400,95,90\n401,80,70\n", ReadOptions{Quantity: Absorbance})
+	if ss[0].Quantity != PercentT || ss[1].Quantity != PercentT || len(warns) != 1 || !strings.Contains(warns[0], "columns 2, 3") {
+		t.Errorf("%%T header, absorbance option: %v %v, %q", ss[0].Quantity, ss[1].Quantity, warns)
+	}
+	// Only the columns that do not say take the option.
+	ss, warns = readString(t, "nm,s1 [absorbance],s2 [%T]\n400,0.5,90\n401,0.4,70\n", ReadOptions{Quantity: Absorbance})
+	if ss[0].Quantity != Absorbance || ss[1].Quantity != PercentT || len(warns) != 1 || !strings.Contains(warns[0], "column 3") {
+		t.Errorf("mixed header: %v %v, %q", ss[0].Quantity, ss[1].Quantity, warns)
+	}
+	// The option agreeing with the header: no warning.
+	ss, warns = readString(t, "nm,%T\n400,95\n401,80\n", ReadOptions{Quantity: PercentT})
+	if ss[0].Quantity != PercentT || len(warns) != 0 {
+		t.Errorf("agreeing option: %v, %q", ss[0].Quantity, warns)
 	}
 	// The option alone: no warning.
 	ss, warns = readString(t, "400 95\n401 80\n", ReadOptions{Quantity: PercentT})
@@ -285,6 +304,37 @@ func TestQuantityWarnings(t *testing.T) {
 	_, warns = readString(t, "nm,T\n400,95\n401,80\n", ReadOptions{})
 	if len(warns) != 1 || !strings.Contains(warns[0], "look like percent") {
 		t.Errorf("fraction: %q", warns)
+	}
+}
+
+// TestLoneLetterColumns: a lone "A" heads the values of a two-column file
+// (absorbance) but names a sample among several columns, unless every
+// column repeats it.
+func TestLoneLetterColumns(t *testing.T) {
+	for _, c := range []struct {
+		in    string
+		names []string
+		qs    []Quantity
+		warns int
+	}{
+		{"nm,A\n400,0.5\n401,0.4\n", []string{"in"}, []Quantity{Absorbance}, 0},
+		{"nm,a\n400,0.5\n401,0.4\n", []string{"in"}, []Quantity{Absorbance}, 0},
+		{"nm,T\n400,0.5\n401,0.4\n", []string{"in"}, []Quantity{Transmittance}, 0},
+		{"nm,a,b,c\n400,0.5,0.1,0.2\n401,0.4,0.1,0.2\n", []string{"a", "b", "c"}, []Quantity{Absorbance, Absorbance, Absorbance}, 1},
+		{"nm,A,B\n400,0.5,0.1\n401,0.4,0.1\n", []string{"A", "B"}, []Quantity{Absorbance, Absorbance}, 1},
+		{"nm,A,A\n400,0.5,0.1\n401,0.4,0.1\n", []string{"in.txt#col2", "in.txt#col3"}, []Quantity{Absorbance, Absorbance}, 0},
+		{"nm,A [%T],B [%T]\n400,50,60\n401,40,60\n", []string{"A", "B"}, []Quantity{PercentT, PercentT}, 0},
+	} {
+		ss, warns := readString(t, c.in, ReadOptions{})
+		if len(ss) != len(c.names) || len(warns) != c.warns {
+			t.Errorf("%q: %d spectra, warnings %q", c.in, len(ss), warns)
+			continue
+		}
+		for i, s := range ss {
+			if s.Name != c.names[i] || s.Quantity != c.qs[i] {
+				t.Errorf("%q: spectrum %d = %q %v, want %q %v", c.in, i, s.Name, s.Quantity, c.names[i], c.qs[i])
+			}
+		}
 	}
 }
 

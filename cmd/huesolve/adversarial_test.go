@@ -65,7 +65,7 @@ func TestHostileScanFiles(t *testing.T) {
 	cases := []struct{ file, says string }{
 		{longLine, "long-line.csv:3: line longer than 67108864 bytes"},
 		{huge, "huge.csv: the file is 5 GiB, more than the 1 GiB a spectrum file may hold"},
-		{liar, "liar.jdx:10: ##NPOINTS=4000000 but the table (lines 12-12) holds 3 points"},
+		{liar, "liar.jdx:10: ##NPOINTS=4000000 disagrees with the data: the table (lines 12-12) holds 3 decoded points"},
 		{bigLiar, "big-liar.jdx:10: ##NPOINTS=1000000000000 exceeds the 4194304 points"},
 		{tooWide, "too-wide.csv:1:1048577: table has 1048577 columns, more than the 1048576"},
 		{filepath.Join(dir, "missing.csv"), "missing.csv: no such file"},

@@ -50,10 +50,12 @@ func TestLookWarnsAndSkips(t *testing.T) {
 	if !strings.Contains(out, "%T") {
 		t.Errorf("stdout %q", out)
 	}
-	// --quantity on a file that does not say: no "does not say" warning.
-	_, errOut, _ = run(t, "look", filepath.Join(spectraDir, "same-scan.csv"), "--quantity", "T")
-	if !strings.Contains(errOut, "another quantity") {
-		t.Errorf("--quantity over a header word: stderr %q", errOut)
+	// --quantity against a header word: the file wins, with a warning
+	// naming the file.
+	out, errOut, _ = run(t, "look", filepath.Join(spectraDir, "same-scan.csv"), "--quantity", "T")
+	if !strings.Contains(errOut, "same-scan.csv: the header states absorbance") || !strings.Contains(errOut, "not the transmittance requested") ||
+		!strings.Contains(out, "absorbance") {
+		t.Errorf("--quantity against a header word: stdout %q, stderr %q", out, errOut)
 	}
 	_, _, code = run(t, "look", "--quantity", "ppm", good)
 	if code != exitUsage {
