@@ -2,9 +2,12 @@ package atomicfile
 
 import (
 	"errors"
+	"fmt"
 	"io"
+	"io/fs"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
 )
 
@@ -44,5 +47,46 @@ func TestWriteKeepsOldOnFailure(t *testing.T) {
 	ents, _ := os.ReadDir(dir)
 	if len(ents) != 1 {
 		t.Fatalf("directory holds %d entries, want only the target (temporary file left behind)", len(ents))
+	}
+}
+
+func TestWriteMissingFolderSaysSo(t *testing.T) {
+	dir := t.TempDir()
+	p := filepath.Join(dir, "out", "refs.json")
+	err := WriteBytes(p, []byte("x"))
+	if err == nil {
+		t.Fatal("no error writing into a missing folder")
+	}
+	want := "cannot write " + p + ": the folder " + filepath.Join(dir, "out") + " does not exist"
+	if !strings.Contains(err.Error(), want) || strings.Contains(err.Error(), ".tmp-") {
+		t.Fatalf("err = %q, want it to contain %q and no temporary file name", err, want)
+	}
+	if !errors.Is(err, fs.ErrNotExist) {
+		t.Errorf("err = %v does not match fs.ErrNotExist", err)
+	}
+}
+
+func TestWriteIntoFileAsFolder(t *testing.T) {
+	dir := t.TempDir()
+	f := filepath.Join(dir, "plain")
+	if err := WriteBytes(f, []byte("x")); err != nil {
+		t.Fatal(err)
+	}
+	err := WriteBytes(filepath.Join(f, "out.csv"), []byte("y"))
+	if err == nil || !strings.Contains(err.Error(), f+" is a file, not a folder") {
+		t.Fatalf("err = %v, want it to say %s is a file", err, f)
+	}
+}
+
+func TestHideTempKeepsCause(t *testing.T) {
+	name := "/x/.out.csv.tmp-123"
+	base := &fs.PathError{Op: "write", Path: name, Err: errors.New("no space left on device")}
+	err := hideTemp(fmt.Errorf("report: table: %w", base), name)
+	if err.Error() != "report: table: no space left on device" {
+		t.Errorf("hideTemp = %q", err)
+	}
+	var pe *fs.PathError
+	if !errors.As(err, &pe) {
+		t.Error("hideTemp lost the *fs.PathError for errors.As")
 	}
 }
