@@ -16,8 +16,10 @@ const (
 	// FlagBelowLOQ: the concentration is at or above the detection limit
 	// but below the quantitation limit (10 sigma / sensitivity).
 	FlagBelowLOQ Flag = "<loq"
-	// FlagOverRange: the concentration in the cell is above the highest
-	// standard of the reference set (the result is extrapolated).
+	// FlagOverRange: the concentration in the cell is above the
+	// calibrated range: the top of the compound's stated linear range
+	// when that ends below the highest standard, else the highest
+	// standard (the result is extrapolated).
 	FlagOverRange Flag = "over"
 	// FlagMimic: the baseline terms can imitate this compound's spectrum
 	// (leakage below LeakLimit), so baseline and compound trade off.
@@ -28,17 +30,22 @@ const (
 const (
 	// FlagSaturated: points above the absorbance ceiling were left out.
 	FlagSaturated Flag = "sat"
-	// FlagDilute: so many points were left out that the sample should be
-	// diluted; Result.SuggestDilution gives the factor.
+	// FlagDilute: so many points were left out (more than DropLimitFrac
+	// of the window, or any reading at 0 %T or below) that the sample
+	// should be diluted; Result.SuggestDilution gives the factor.
 	FlagDilute Flag = "dilute"
 	// FlagMisfit: the residual is well above the expected noise (reduced
 	// chi-square above PoorFitChiSq).
 	FlagMisfit Flag = "misfit"
 	// FlagPattern: the residual has structure along the wavelength axis
 	// (Durbin-Watson below PatternDW): a missing compound, a shift or a
-	// baseline the model cannot follow.
+	// baseline the model cannot follow. Not raised when the reference
+	// set's pre-treatment includes Savitzky-Golay smoothing or a
+	// derivative, which correlates neighbouring residuals by itself.
 	FlagPattern Flag = "pattern"
-	// FlagShift: a wavelength shift was estimated and applied.
+	// FlagShift: the estimated wavelength shift is at least ShiftNoteNM
+	// and more than ShiftSigmas standard errors from zero (it is applied
+	// whether flagged or not).
 	FlagShift Flag = "shift"
 	// FlagShiftMax: the estimated shift reached the allowed limit; the
 	// true shift may be larger.
@@ -61,13 +68,13 @@ var legend = []struct {
 	{FlagZero, false, "held at zero by the non-negativity constraint"},
 	{FlagBelowLOD, false, "below the detection limit"},
 	{FlagBelowLOQ, false, "below the quantitation limit"},
-	{FlagOverRange, true, "above the highest standard (extrapolated)"},
+	{FlagOverRange, true, "above the calibrated range (extrapolated)"},
 	{FlagMimic, true, "the baseline terms can imitate this compound"},
 	{FlagSaturated, false, "points above the absorbance ceiling left out"},
-	{FlagDilute, true, "too many points above the ceiling: dilute and scan again"},
+	{FlagDilute, true, "too many points above the ceiling, or too dark to read: dilute and scan again"},
 	{FlagMisfit, true, "residual well above the expected noise"},
 	{FlagPattern, true, "structured residual (Durbin-Watson)"},
-	{FlagShift, false, "wavelength shift estimated and applied"},
+	{FlagShift, false, "significant wavelength shift, estimated and applied"},
 	{FlagShiftMax, true, "wavelength shift at the allowed limit"},
 	{FlagIllCond, true, "ill-conditioned design"},
 	{FlagNoConverge, true, "fit not certified optimal (iteration cap or KKT check)"},

@@ -97,7 +97,11 @@ const (
 	// PatternDW is the Durbin-Watson statistic below which a residual is
 	// flagged FlagPattern. White residuals give about 2 +- 2/sqrt(n)
 	// (Durbin & Watson 1950); 1 is far below that for n >= 50 and is still
-	// reached by mildly correlated instrument noise only rarely.
+	// reached by mildly correlated instrument noise only rarely. Not
+	// applied when the reference set's pre-treatment includes
+	// Savitzky-Golay smoothing or a derivative: the filter makes
+	// neighbouring residuals correlated, so even a perfect fit reads far
+	// below 2 (see Model.DurbinWatsonFlagged).
 	PatternDW = 1.0
 	// CondLimit is the condition number (unit-norm columns) above which
 	// the design is flagged FlagIllCond. Belsley, Kuh & Welsch,
@@ -115,8 +119,14 @@ const (
 	// ShiftMaxIter caps the shift iterations.
 	ShiftMaxIter = 12
 	// ShiftNoteNM is the smallest estimated shift that is flagged
-	// FlagShift.
-	ShiftNoteNM = 0.05
+	// FlagShift: smaller shifts are within what wavelength settings of
+	// UV-Vis instruments repeat to (about 0.1 nm, common practice).
+	ShiftNoteNM = 0.1
+	// ShiftSigmas: a shift is flagged FlagShift only when it is also more
+	// than this many standard errors of its estimate (Result.ShiftSE)
+	// away from zero, so that noise alone flags it with a probability
+	// near 5 % (two-sided normal quantile 1.96, rounded up).
+	ShiftSigmas = 2.0
 	// LODFactor and LOQFactor multiply sigma / sensitivity (ICH Q2).
 	LODFactor = 3.3
 	LOQFactor = 10.0
@@ -203,12 +213,26 @@ type Result struct {
 	Points   int                `json:"points_used"`
 	Dropped  int                `json:"points_dropped"`
 	ShiftNM  float64            `json:"shift_nm"`
+	// ShiftSE is the standard error of ShiftNM (0 when no shift was
+	// estimated): the residual SD over the norm of the shift direction
+	// left after projecting out the design.
+	ShiftSE float64 `json:"shift_se_nm,omitempty"`
 	// Dilution and PathCM are the factors applied.
 	Dilution float64 `json:"dilution"`
 	PathCM   float64 `json:"path_cm"`
-	// SuggestDilution, when FlagDilute is set, is a dilution factor that
-	// brings the sample's highest band below the ceiling (0 otherwise).
+	// SuggestDilution, when FlagDilute or an amount's FlagOverRange is
+	// set, is a further dilution factor (a step of 1, 1.5, 2, 2.5, 3, 4,
+	// 5, 6, 8 times a power of ten) that brings both the sample's highest
+	// band below the ceiling and every compound's concentration in the
+	// cell to at most the top of its calibrated range (0 otherwise).
 	SuggestDilution float64 `json:"suggest_dilution,omitempty"`
+	// DarkNM is the first wavelength of the scan read at 0 %T or below
+	// (transmittance that cannot be turned into absorbance) among the
+	// points the fit needed, and DarkPoints the number of window points
+	// lost to such readings; 0 when there are none. Such a sample is
+	// flagged FlagSaturated and FlagDilute whatever the count.
+	DarkNM     float64 `json:"-"`
+	DarkPoints int     `json:"-"`
 	// Curves for plots (not in JSON): grid, measured, fitted, residual,
 	// per-compound contributions, baseline, expected noise. Filled only
 	// with Options.KeepCurves, on the points used by the fit.
@@ -261,7 +285,8 @@ type shared struct {
 	names   []string // baseline term names
 	noise   []float64
 	ceiling float64
-	maxStd  []float64
+	maxStd  []float64 // highest concentration in the cell not flagged FlagOverRange
+	smooth  bool      // pre-treatment correlates neighbouring residuals (Savitzky-Golay)
 	blankWL []float64 // blank in absorbance on its own grid
 	blankA  []float64
 	blank0  []float64 // blank on the work grid, unshifted
@@ -319,6 +344,12 @@ type workspace struct {
 	key    []byte
 	res    lsq.Result
 	gridOK []float64 // last sample grid found equal to the set grid
+	// darkNM and darkPts: the first wavelength of the current scan read
+	// at 0 %T or below that the fit needed, and the window points lost
+	// to such readings (0 if none).
+	darkNM   float64
+	darkPts  int
+	shiftDen float64 // squared norm of the projected shift direction
 }
 
 // NewModel checks the options against the set and builds the design. It
@@ -377,6 +408,11 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 		return nil, fmt.Errorf("unmix: window %g-%g nm holds %d reference points: %w", wlo, whi, max(sh.hi-sh.lo, 0), ErrCoverage)
 	}
 	wl := g[sh.lo:sh.hi]
+	for _, st := range set.Pretreat {
+		if st.Kind == baseline.KindSG {
+			sh.smooth = true
+		}
+	}
 	if len(set.Pretreat) > 0 {
 		sh.wlo, sh.whi = 0, len(g)
 		sh.needLo, sh.needHi = glo, ghi
@@ -410,7 +446,7 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 		}
 		sh.cols = append(sh.cols, col)
 		sh.nonneg = append(sh.nonneg, true)
-		sh.maxStd = append(sh.maxStd, c.MaxStandard)
+		sh.maxStd = append(sh.maxStd, upperLimit(c))
 	}
 	if err := opt.Baseline.Check(wl); err != nil {
 		return nil, fmt.Errorf("unmix: %w", err)
@@ -449,6 +485,24 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	m.init(sh.base)
 	return m, nil
 }
+
+// upperLimit is the highest concentration of c a result may have in the
+// cell without FlagOverRange: the top of the linear range where the
+// calibration states one below the highest standard, else the highest
+// standard (0: unknown, never flagged).
+func upperLimit(c reference.Compound) float64 {
+	hi := c.MaxStandard
+	if r := c.Linearity.RangeHi; r > 0 && !math.IsInf(r, 0) && (hi <= 0 || r < hi) {
+		hi = r
+	}
+	return hi
+}
+
+// DurbinWatsonFlagged reports whether a low Durbin-Watson statistic
+// raises FlagPattern with this model: not when the reference set's
+// pre-treatment smooths or differentiates (Savitzky-Golay), which
+// correlates neighbouring residuals by construction.
+func (m *Model) DurbinWatsonFlagged() bool { return !m.sh.smooth }
 
 // init gives a model its own caches and workspace.
 func (m *Model) init(base *design) {

@@ -35,6 +35,7 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 
 	// Absorbance on the scan's own grid; unreadable (too dark) points are +Inf.
 	w.abs = grow(w.abs, s.Len())
+	firstDark := -1
 	if s.Quantity == spectrum.Absorbance || s.Quantity == spectrum.Unstated {
 		copy(w.abs, s.Values)
 	} else {
@@ -42,6 +43,9 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 			a, err := spectrum.ToAbsorbance(s.Quantity, v)
 			if err != nil {
 				a = math.Inf(1)
+				if firstDark < 0 || m.darkNeeded(s.Wavelengths, i) && !m.darkNeeded(s.Wavelengths, firstDark) {
+					firstDark = i
+				}
 			}
 			w.abs[i] = a
 		}
@@ -60,19 +64,30 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	w.rows = w.rows[:0]
 	w.key = w.key[:0]
 	dropped := 0
+	w.darkPts, w.darkNM = 0, 0
 	for _, r := range sh.rows0 {
 		a := w.raw[off+r]
 		if a > sh.ceiling || math.IsInf(a, 0) || math.IsNaN(a) {
 			dropped++
+			if math.IsInf(a, 0) || math.IsNaN(a) {
+				w.darkPts++
+			}
 			w.key = append(w.key, byte(r>>16), byte(r>>8), byte(r))
 			continue
 		}
 		w.rows = append(w.rows, r)
 	}
+	if w.darkPts > 0 && firstDark >= 0 {
+		w.darkNM = s.Wavelengths[firstDark]
+	}
 	p := len(sh.cols)
 	if len(w.rows) < p+minDoF {
-		return fail(fmt.Errorf("%w: %d of %d points are above the ceiling A = %g; dilute at least %gx and scan again",
-			ErrTooDark, dropped, len(sh.rows0), sh.ceiling, niceUp(maxFinite(w.raw[off:off+nwin])/sh.ceiling)))
+		dark := ""
+		if w.darkPts > 0 {
+			dark = fmt.Sprintf(" (%s: %d of them read 0 %%T or below, from %g nm: too dark to read)", s.Source.File, w.darkPts, w.darkNM)
+		}
+		return fail(fmt.Errorf("%w: %d of %d points are above the ceiling A = %g%s; dilute at least %gx and scan again",
+			ErrTooDark, dropped, len(sh.rows0), sh.ceiling, dark, niceUp(maxFinite(w.raw[off:off+nwin])/sh.ceiling)))
 	}
 
 	// Noise model on the window, from the raw absorbance.
@@ -117,6 +132,7 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		return fail(err)
 	}
 	shift := 0.0
+	w.shiftDen = 0
 	if m.opt.Shift {
 		if shift, noConv, err = m.estimateShift(d, s.Wavelengths); err != nil {
 			return fail(err)
@@ -312,6 +328,7 @@ func (m *Model) estimateShift(d *design, wl []float64) (float64, bool, error) {
 			num += mg * res
 			den += mg * mg
 		}
+		w.shiftDen = den
 		if !(den > 0) {
 			break
 		}
@@ -453,23 +470,48 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 		}
 	}
 
-	// Sample flags.
+	// Sample flags. A reading at 0 %T or below in the window forces sat
+	// and dilute: the sample is too dark to read there, however few such
+	// points there are.
+	dst.DarkNM, dst.DarkPoints = w.darkNM, w.darkPts
+	dilute := false
 	if dropped > 0 {
 		dst.Flags = append(dst.Flags, FlagSaturated)
-		if float64(dropped) > DropLimitFrac*float64(len(sh.rows0)) {
+		if float64(dropped) > DropLimitFrac*float64(len(sh.rows0)) || w.darkPts > 0 {
 			dst.Flags = append(dst.Flags, FlagDilute)
-			dst.SuggestDilution = niceUp(m.predictedMax() / sh.ceiling)
+			dilute = true
 		}
+	}
+	over := 0.0 // largest concentration in the cell over its upper limit
+	for k := range sh.ncomp {
+		if sh.maxStd[k] > 0 {
+			over = math.Max(over, res.Coef[k]*cell/sh.maxStd[k])
+		}
+	}
+	if dilute || over > 1 {
+		dst.SuggestDilution = suggestDilution(m.predictedMax()/sh.ceiling, over, dilute)
 	}
 	if chiRed > PoorFitChiSq {
 		dst.Flags = append(dst.Flags, FlagMisfit)
 	}
-	if res.DW < PatternDW {
+	if res.DW < PatternDW && !sh.smooth {
 		dst.Flags = append(dst.Flags, FlagPattern)
 	}
-	if m.opt.Shift && math.Abs(shift) >= ShiftNoteNM {
-		dst.Flags = append(dst.Flags, FlagShift)
-		if math.Abs(shift) >= m.opt.MaxShiftNM-ShiftTolNM {
+	if m.opt.Shift {
+		if w.shiftDen > 0 && dof > 0 {
+			// Residual SD of the fit (in units of the noise model when
+			// weighted, at least 1 as for the compounds' errors).
+			s2 := sumSq(res.Residual[:n]) / float64(dof)
+			if weighted {
+				s2 = math.Max(chiRed, 1)
+			}
+			dst.ShiftSE = math.Sqrt(s2 / w.shiftDen)
+		}
+		atMax := math.Abs(shift) >= m.opt.MaxShiftNM-ShiftTolNM
+		if atMax || (math.Abs(shift) >= ShiftNoteNM && math.Abs(shift) > ShiftSigmas*dst.ShiftSE) {
+			dst.Flags = append(dst.Flags, FlagShift)
+		}
+		if atMax {
 			dst.Flags = append(dst.Flags, FlagShiftMax)
 		}
 	}
@@ -571,6 +613,54 @@ func gaps(dst []Gap, wl []float64, rows, rows0 []int) []Gap {
 		}
 	}
 	return dst
+}
+
+// suggestDilution is the dilution to suggest: the nice factor above
+// ceilF (the highest predicted absorbance over the ceiling) when the
+// sample is flagged dilute, and the nice factor at or above over (the
+// largest concentration in the cell over its compound's upper limit),
+// whichever is larger.
+func suggestDilution(ceilF, over float64, dilute bool) float64 {
+	f := 0.0
+	if dilute {
+		f = niceUp(ceilF)
+	}
+	if over > 1 {
+		f = math.Max(f, niceAtLeast(over))
+	}
+	return f
+}
+
+// niceAtLeast is the smallest nice factor (as niceUp) at or above f.
+func niceAtLeast(f float64) float64 {
+	if v := niceUp(f / (1 + niceSlack)); v >= f {
+		return v
+	}
+	return niceUp(f)
+}
+
+// niceSlack is the relative amount by which a ratio may exceed a nice
+// factor and still be met by it (rounding of the fitted amounts).
+const niceSlack = 1e-9
+
+// darkNeeded reports whether scan point i (wavelengths wl) lies in or
+// next to the fit window, so that its reading reaches the fit.
+func (m *Model) darkNeeded(wl []float64, i int) bool {
+	lo, hi := m.sh.grid[m.sh.lo], m.sh.grid[m.sh.hi-1]
+	prev, next := wl[max(i-1, 0)], wl[min(i+1, len(wl)-1)]
+	if prev > next {
+		prev, next = next, prev
+	}
+	return next >= lo && prev <= hi
+}
+
+// sumSq returns the sum of squares of x.
+func sumSq(x []float64) float64 {
+	s := 0.0
+	for _, v := range x {
+		s += v * v
+	}
+	return s
 }
 
 // sumSqScaled returns Σ (x_i s_i)², in four interleaved sums so that the
