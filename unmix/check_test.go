@@ -3,6 +3,7 @@ package unmix
 import (
 	"context"
 	"errors"
+	"math"
 	"strings"
 	"testing"
 
@@ -53,5 +54,25 @@ func TestBatchCheckOnly(t *testing.T) {
 	}
 	if !checked[0] || !checked[1] || checked[2] || !errors.Is(errs[2], ErrFactor) || checked[3] || !checked[4] || !errors.Is(errs[5], ErrCoverage) {
 		t.Errorf("checked %v, errors %v", checked, errs)
+	}
+}
+
+// TestCheckTooDark: Check refuses what SolveTo would refuse for too many
+// points above the ceiling (a %T file read as absorbance, say), with the
+// same error, and passes a sample SolveTo can fit.
+func TestCheckTooDark(t *testing.T) {
+	m := mustModel(t, testSet(4), Options{})
+	good := mixture{conc: []float64{5, 3, 2, 8}, noise: testNoise, seed: 31}.spectrum()
+	if err := m.Check(good, Factors{}); err != nil {
+		t.Errorf("good sample: %v", err)
+	}
+	pt := good.Clone()
+	for i, a := range good.Values {
+		pt.Values[i] = 100 * math.Pow(10, -a) // %T values, taken as absorbance
+	}
+	cerr := m.Check(pt, Factors{})
+	_, serr := m.Solve(pt, Factors{})
+	if !errors.Is(cerr, ErrTooDark) || serr == nil || cerr.Error() != serr.Error() {
+		t.Errorf("%%T read as absorbance: Check %v, Solve %v", cerr, serr)
 	}
 }

@@ -33,62 +33,12 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		return err
 	}
 
-	// Absorbance on the scan's own grid; unreadable (too dark) points are +Inf.
-	w.abs = grow(w.abs, s.Len())
-	firstDark := -1
-	if s.Quantity == spectrum.Absorbance || s.Quantity == spectrum.Unstated {
-		copy(w.abs, s.Values)
-	} else {
-		for i, v := range s.Values {
-			a, err := spectrum.ToAbsorbance(s.Quantity, v)
-			if err != nil {
-				a = math.Inf(1)
-				if firstDark < 0 || m.darkNeeded(s.Wavelengths, i) && !m.darkNeeded(s.Wavelengths, firstDark) {
-					firstDark = i
-				}
-			}
-			w.abs[i] = a
-		}
-	}
-	nw := sh.whi - sh.wlo
-	w.raw = grow(w.raw, nw)
-	w.net = grow(w.net, nw)
-	w.blk = grow(w.blk, nw)
-	nwin := sh.hi - sh.lo
-	off := sh.lo - sh.wlo // window row r is work index off+r
-	if err := m.sample(s.Wavelengths, 0); err != nil {
+	dropped, err := m.readMask(s)
+	if err != nil {
 		return fail(err)
 	}
-
-	// Saturation mask, from the unshifted raw absorbance.
-	w.rows = w.rows[:0]
-	w.key = w.key[:0]
-	dropped := 0
-	w.darkPts, w.darkNM = 0, 0
-	for _, r := range sh.rows0 {
-		a := w.raw[off+r]
-		if a > sh.ceiling || math.IsInf(a, 0) || math.IsNaN(a) {
-			dropped++
-			if math.IsInf(a, 0) || math.IsNaN(a) {
-				w.darkPts++
-			}
-			w.key = append(w.key, byte(r>>16), byte(r>>8), byte(r))
-			continue
-		}
-		w.rows = append(w.rows, r)
-	}
-	if w.darkPts > 0 && firstDark >= 0 {
-		w.darkNM = s.Wavelengths[firstDark]
-	}
-	p := len(sh.cols)
-	if len(w.rows) < p+minDoF {
-		dark := ""
-		if w.darkPts > 0 {
-			dark = fmt.Sprintf(" (%s: %d of them read 0 %%T or below, from %g nm: too dark to read)", s.Source.File, w.darkPts, w.darkNM)
-		}
-		return fail(fmt.Errorf("%w: %d of %d points are above the ceiling A = %g%s; dilute at least %gx and scan again",
-			ErrTooDark, dropped, len(sh.rows0), sh.ceiling, dark, niceUp(maxFinite(w.raw[off:off+nwin])/sh.ceiling)))
-	}
+	nwin := sh.hi - sh.lo
+	off := sh.lo - sh.wlo // window row r is work index off+r
 
 	// Noise model on the window, from the raw absorbance.
 	w.sig = grow(w.sig, nwin)
@@ -142,15 +92,88 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	return nil
 }
 
+// readMask turns s into absorbance on the work grid (w.raw, w.net) and
+// finds the window rows at or below the ceiling (w.rows, w.key), the
+// readings too dark to convert (w.darkNM, w.darkPts); it returns the
+// number of rows left out, or ErrTooDark when too few remain to fit.
+func (m *Model) readMask(s *spectrum.Spectrum) (int, error) {
+	sh, w := m.sh, &m.ws
+	// Absorbance on the scan's own grid; unreadable (too dark) points are +Inf.
+	w.abs = grow(w.abs, s.Len())
+	firstDark := -1
+	if s.Quantity == spectrum.Absorbance || s.Quantity == spectrum.Unstated {
+		copy(w.abs, s.Values)
+	} else {
+		for i, v := range s.Values {
+			a, err := spectrum.ToAbsorbance(s.Quantity, v)
+			if err != nil {
+				a = math.Inf(1)
+				if firstDark < 0 || m.darkNeeded(s.Wavelengths, i) && !m.darkNeeded(s.Wavelengths, firstDark) {
+					firstDark = i
+				}
+			}
+			w.abs[i] = a
+		}
+	}
+	nw := sh.whi - sh.wlo
+	w.raw = grow(w.raw, nw)
+	w.net = grow(w.net, nw)
+	w.blk = grow(w.blk, nw)
+	nwin := sh.hi - sh.lo
+	off := sh.lo - sh.wlo // window row r is work index off+r
+	if err := m.sample(s.Wavelengths, 0); err != nil {
+		return 0, err
+	}
+
+	// Saturation mask, from the unshifted raw absorbance.
+	w.rows = w.rows[:0]
+	w.key = w.key[:0]
+	dropped := 0
+	w.darkPts, w.darkNM = 0, 0
+	for _, r := range sh.rows0 {
+		a := w.raw[off+r]
+		if a > sh.ceiling || math.IsInf(a, 0) || math.IsNaN(a) {
+			dropped++
+			if math.IsInf(a, 0) || math.IsNaN(a) {
+				w.darkPts++
+			}
+			w.key = append(w.key, byte(r>>16), byte(r>>8), byte(r))
+			continue
+		}
+		w.rows = append(w.rows, r)
+	}
+	if w.darkPts > 0 && firstDark >= 0 {
+		w.darkNM = s.Wavelengths[firstDark]
+	}
+	p := len(sh.cols)
+	if len(w.rows) < p+minDoF {
+		dark := ""
+		if w.darkPts > 0 {
+			dark = fmt.Sprintf(" (%s: %d of them read 0 %%T or below, from %g nm: too dark to read)", s.Source.File, w.darkPts, w.darkNM)
+		}
+		return 0, fmt.Errorf("%w: %d of %d points are above the ceiling A = %g%s; dilute at least %gx and scan again",
+			ErrTooDark, dropped, len(sh.rows0), sh.ceiling, dark, niceUp(maxFinite(w.raw[off:off+nwin])/sh.ceiling))
+	}
+	return dropped, nil
+}
+
+
+
 // Check tells whether s could be solved with factors f, without solving
 // it: its values are finite and its grid sound (spectrum.Check), the
-// factors are valid and the scan covers the range the model needs. The
-// errors are those SolveTo gives for the same faults. Whether too many
-// points lie above the ceiling is not checked: that takes the fit's
-// first steps.
+// factors are valid, the scan covers the range the model needs, and
+// enough of its points lie below the absorbance ceiling to fit (a file
+// of %T read as absorbance fails here as it would in SolveTo). The
+// errors are those SolveTo gives for the same faults; the fit itself is
+// not made.
 func (m *Model) Check(s *spectrum.Spectrum, f Factors) error {
-	_, _, err := m.prepare(s, f)
-	return err
+	if _, _, err := m.prepare(s, f); err != nil {
+		return err
+	}
+	if _, err := m.readMask(s); err != nil {
+		return fmt.Errorf("unmix: %s: %w", sampleName(s), err)
+	}
+	return nil
 }
 
 // prepare checks s and f for SolveTo and returns the dilution and path
