@@ -157,8 +157,6 @@ func (m *Model) readMask(s *spectrum.Spectrum) (int, error) {
 	return dropped, nil
 }
 
-
-
 // Check tells whether s could be solved with factors f, without solving
 // it: its values are finite and its grid sound (spectrum.Check), the
 // factors are valid, the scan covers the range the model needs, and
