@@ -308,3 +308,30 @@ func TestSamplePlotGaps(t *testing.T) {
 		}
 	}
 }
+
+// TestTableShiftAndEmpty: the shift flag carries its value in the table's
+// flag cell, and a table with no sample solved prints nothing.
+func TestTableShiftAndEmpty(t *testing.T) {
+	var b bytes.Buffer
+	w := NewTableWriter(&b, testLayout, 160)
+	r := testResult("S1")
+	r.Flags = []unmix.Flag{unmix.FlagSaturated, unmix.FlagShift}
+	r.ShiftNM, r.SuggestDilution = 0.8312, 0
+	if err := w.Write(r); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	if !strings.Contains(b.String(), "sat,shift +0.83 nm") {
+		t.Errorf("shift value missing from the flag cell:\n%s", b.String())
+	}
+	b.Reset()
+	w = NewTableWriter(&b, testLayout, 160)
+	if err := w.Fail("x", errors.New("bad")); err != nil {
+		t.Fatal(err)
+	}
+	if err := w.Close(); err != nil || b.Len() != 0 {
+		t.Errorf("nothing solved: %v, output %q", err, b.String())
+	}
+}

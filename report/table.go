@@ -71,7 +71,7 @@ func (t *TableWriter) Write(r *unmix.Result) error {
 		row = append(row, cell)
 	}
 	row = append(row, fixed(r.ChiSqRed, 2), sig(r.RMS, 2), fixed(r.DW, 2))
-	flags := joinFlags(r.Flags, ",")
+	flags := sampleFlagsText(r)
 	for _, f := range r.Flags {
 		t.seen[f] = true
 	}
@@ -82,14 +82,34 @@ func (t *TableWriter) Write(r *unmix.Result) error {
 	return nil
 }
 
+// sampleFlagsText is the sample's flags for the table, the shift flag
+// carrying the estimated shift: "sat,shift +0.83 nm".
+func sampleFlagsText(r *unmix.Result) string {
+	var b strings.Builder
+	for i, f := range r.Flags {
+		if i > 0 {
+			b.WriteByte(',')
+		}
+		b.WriteString(string(f))
+		if f == unmix.FlagShift {
+			fmt.Fprintf(&b, " %+.2f nm", r.ShiftNM)
+		}
+	}
+	return b.String()
+}
+
 // Fail counts a failed sample; the command reports the reason on stderr.
 func (t *TableWriter) Fail(string, error) error {
 	t.failed++
 	return nil
 }
 
-// Close renders the table and the legend.
+// Close renders the table and the legend; with no sample solved it
+// writes nothing (the reasons are on standard error).
 func (t *TableWriter) Close() error {
+	if len(t.rows) == 0 {
+		return nil
+	}
 	header := []string{"Sample"}
 	for k, n := range t.l.Compounds {
 		if k < len(t.l.Units) && t.l.Units[k] != "" {
@@ -176,9 +196,6 @@ func (t *TableWriter) Close() error {
 			}
 		}
 		b.WriteString(unmix.Legend(fs...))
-	}
-	if t.failed > 0 {
-		fmt.Fprintf(&b, "%d input(s) could not be solved; the reasons are on stderr.\n", t.failed)
 	}
 	_, err := io.WriteString(t.w, b.String())
 	return err
