@@ -19,8 +19,9 @@ import (
 // where the compound is held at zero), NAME_unit, NAME_flags; then
 // rms_residual,
 // reduced_chi_square, durbin_watson, r2, condition_number, points_used,
-// points_dropped, shift_nm, dilution, path_cm, suggest_dilution, one
-// baseline_TERM per baseline term, and flags. Numbers have 6 significant
+// points_dropped, shift_nm, shift_se_nm (empty when no shift was
+// estimated), dilution, path_cm, suggest_dilution, one baseline_TERM per
+// baseline term, and flags. Numbers have 6 significant
 // digits; an undefined number is written "n/a"; flags are separated by
 // spaces; fields are quoted as RFC 4180 (and encoding/csv) do. Failed
 // samples are not written (Fail does nothing): the command reports them
@@ -46,7 +47,7 @@ func (c *CSVWriter) Header() []string {
 		}
 	}
 	h = append(h, "rms_residual", "reduced_chi_square", "durbin_watson", "r2", "condition_number",
-		"points_used", "points_dropped", "shift_nm", "dilution", "path_cm", "suggest_dilution")
+		"points_used", "points_dropped", "shift_nm", "shift_se_nm", "dilution", "path_cm", "suggest_dilution")
 	for _, b := range c.l.Baseline {
 		h = append(h, "baseline_"+b)
 	}
@@ -112,6 +113,11 @@ func (c *CSVWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 	b = append(b, ',')
 	b = strconv.AppendInt(b, int64(r.Dropped), 10)
 	field(r.ShiftNM)
+	if r.ShiftSE > 0 {
+		field(r.ShiftSE)
+	} else {
+		b = append(b, ',')
+	}
 	field(r.Dilution)
 	field(r.PathCM)
 	b = append(b, ',')
@@ -205,8 +211,10 @@ type Encoder interface {
 //
 // Field order is fixed and numbers have 6 significant digits, so the
 // same results give the same bytes. An undefined number is left out and
-// its name listed in the sample's "unavailable" array. The unconstrained
-// estimate of a compound is given only where it is held at zero.
+// its name listed in the sample's "unavailable" array (present only when
+// something is left out). The unconstrained estimate of a compound is
+// given only where it is held at zero, shift_se_nm only where a shift
+// was estimated. "flags" is always written, [] when there are none.
 type JSONWriter struct {
 	w      *bufio.Writer
 	l      Layout
@@ -358,6 +366,9 @@ func (j *JSONWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 	b = append(b, `, "points_dropped": `...)
 	b = strconv.AppendInt(b, int64(r.Dropped), 10)
 	field("shift_nm", "", r.ShiftNM)
+	if r.ShiftSE > 0 {
+		field("shift_se_nm", "", r.ShiftSE)
+	}
 	field("dilution", "", r.Dilution)
 	field("path_cm", "", r.PathCM)
 	if r.SuggestDilution > 0 {
@@ -411,10 +422,8 @@ func (j *JSONWriter) Close() error {
 	return j.w.Flush()
 }
 
+// appendFlags appends `, "flags": [...]`, empty brackets when fs is.
 func appendFlags(b []byte, fs []unmix.Flag) []byte {
-	if len(fs) == 0 {
-		return b
-	}
 	b = append(b, `, "flags": [`...)
 	for i, f := range fs {
 		if i > 0 {

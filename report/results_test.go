@@ -154,6 +154,20 @@ func TestJSONWriter(t *testing.T) {
 	if !utf8.Valid(b.Bytes()) || strings.Contains(b.String(), "NaN") {
 		t.Error("invalid UTF-8 or NaN in output")
 	}
+	// "flags" is always there, [] when empty; shift_se_nm only where a
+	// shift was estimated.
+	if f, ok := s.Amounts[0]["flags"].([]any); !ok || len(f) != 0 {
+		t.Errorf("amount without flags: %v", s.Amounts[0]["flags"])
+	}
+	if strings.Contains(b.String(), "shift_se_nm") {
+		t.Error("shift_se_nm written without a shift estimated")
+	}
+	r := testResult("S3")
+	r.Flags, r.ShiftNM, r.ShiftSE = nil, 0.2, 0.05
+	obj := string(NewJSONWriter(&b, testLayout).AppendResult(nil, r))
+	if !strings.Contains(obj, `"shift_nm": 0.2, "shift_se_nm": 0.05,`) || !strings.Contains(obj, `"suggest_dilution": 2.5, "flags": [], "unavailable"`) {
+		t.Errorf("sample without flags, with a shift: %s", obj)
+	}
 	// Empty run: still a complete document.
 	b.Reset()
 	if err := NewJSONWriter(&b, testLayout).Close(); err != nil || !json.Valid(b.Bytes()) {
