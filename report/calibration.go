@@ -34,7 +34,11 @@ func AbsorptivityPlot(set *reference.Set) (*plot.Plot, error) {
 	p := plot.New()
 	p.Title.Text = "Absorptivity spectra (band: ±2 SE)"
 	p.X.Label.Text = "Wavelength (nm)"
-	p.Y.Label.Text = "Absorptivity (per unit concentration per cm)"
+	units := make([]string, len(set.Compounds))
+	for k, c := range set.Compounds {
+		units[k] = c.Unit
+	}
+	p.Y.Label.Text = "Absorptivity (" + AbsorptivityUnit(CommonUnit(units)) + ")"
 	p.Add(plotter.NewGrid())
 	for k, c := range set.Compounds {
 		col := Colour(k)

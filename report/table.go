@@ -50,7 +50,7 @@ func NewTableWriter(w io.Writer, l Layout, width int) *TableWriter {
 
 // fit-figure columns, in the order they are given up when space runs out
 // (last first).
-var figureCols = []string{"chi2/dof", "RMS", "DW"}
+var figureCols = []string{"χ²/dof", "RMS", "DW"}
 
 // Write adds a sample's row.
 func (t *TableWriter) Write(r *unmix.Result) error {

@@ -11,6 +11,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"huesolve/reference"
+	"huesolve/report"
 )
 
 func init() { commands = append(commands, newInspectCmd) }
@@ -91,10 +92,16 @@ func writeSetSummary(w io.Writer, set *reference.Set) error {
 	}
 	fmt.Fprintln(w)
 
+	sum := set.Summary()
+	units := make([]string, len(sum))
+	for i, r := range sum {
+		units[i] = r.Unit
+	}
 	t := tablewriter.NewTable(w, tablewriter.WithHeaderAutoFormat(tw.Off))
-	t.Header("Compound", "Band max (nm)", "Absorptivity ± SE (per unit per cm)", "R²", "Levels", "Linear range", "Flags")
+	t.Header("Compound", "Band max (nm)", "Absorptivity ± SE ("+report.AbsorptivityUnit(report.CommonUnit(units))+")",
+		"R²", "Levels", "Linear range", "Flags")
 	seen := map[string]bool{}
-	for _, r := range set.Summary() {
+	for _, r := range sum {
 		unit := r.Unit
 		if unit == "" {
 			unit = "(no unit)"

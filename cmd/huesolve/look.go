@@ -86,7 +86,7 @@ func runLook(out, errw io.Writer, files []string, q spectrum.Quantity, o lookOpt
 }
 
 func printLook(out io.Writer, file string, ss []*spectrum.Spectrum, o lookOptions, gap bool) error {
-	header := []string{"spectrum", "points", "range nm", "step nm", "quantity", "min", "max"}
+	header := []string{"Spectrum", "Points", "Range (nm)", "Step (nm)", "Quantity", "Min", "Max"}
 	shown := ss
 	if !o.all && len(ss) > lookRowsShown {
 		shown = ss[:lookRowsShown]

@@ -10,6 +10,7 @@ import (
 
 	"huesolve/baseline"
 	"huesolve/reference"
+	"huesolve/report"
 	"huesolve/validate"
 )
 
@@ -47,8 +48,12 @@ func valWriteMerits(w io.Writer, m *validate.Merits) error {
 	fmt.Fprintf(w, "Figures of merit (net analyte signal) over %g-%g nm (%d points), baseline %s, %s,\n",
 		m.WindowLo, m.WindowHi, m.Points, m.Baseline, fit)
 	fmt.Fprintf(w, "path %g cm, noise %.2g A (RMS), condition number %s:\n\n", m.PathCM, m.Sigma, valCondText(m.Cond, m.Singular))
+	units := make([]string, len(m.Compounds))
+	for i, c := range m.Compounds {
+		units[i] = c.Unit
+	}
 	t := valTable(w)
-	t.Header("Compound", "Sensitivity (A per unit)", "Selectivity", "LOD", "LOQ", "Quantifiable")
+	t.Header("Compound", "Sensitivity ("+report.SensitivityUnit(report.CommonUnit(units))+")", "Selectivity", "LOD", "LOQ", "Quantifiable")
 	for _, c := range m.Compounds {
 		unit := c.Unit
 		if unit != "" {

@@ -239,7 +239,7 @@ func writeWindowTable(w io.Writer, rep *windowReport, top int) error {
 	fmt.Fprintln(w)
 
 	t := valTable(w)
-	head := []string{"", "Window (nm)", "Points", "Cond", "Worst SE (%)"}
+	head := []string{"", "Window (nm)", "Points", "Condition no.", "Worst SE (%)"}
 	for k, n := range adv.Compounds {
 		head = append(head, "SE "+n+unitSuffix(adv.Units[k]))
 	}
