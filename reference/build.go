@@ -5,6 +5,8 @@ import (
 	"fmt"
 	"math"
 	"sort"
+	"strconv"
+	"strings"
 	"time"
 
 	"gonum.org/v1/gonum/mat"
@@ -295,153 +297,106 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 		}
 	}
 
-	// Per-wavelength least squares, one solver per distinct row mask.
-	set := &Set{
-		Schema:    SchemaVersion,
-		Grid:      grid,
-		Compounds: make([]Compound, m),
-		Noise:     make([]float64, p),
-		PathCM:    path,
-		Ceiling:   ceiling,
-		Floor:     floor,
-		Intercept: intercept,
-		Pretreat:  append([]baseline.Step(nil), opt.Pretreat...),
+	// Per-wavelength least squares on all rows, then again without the
+	// standards above a compound's linear range (or above what the
+	// ceiling let through at its band maximum) until nothing more is
+	// left out: the absorptivities rest on the range the set states.
+	fp := fitParams{sh: sh, fit: fit, abs: abs, keep: keep, grid: grid, path: path,
+		ceiling: ceiling, floor: floor, intercept: intercept}
+	use := make([]bool, n)
+	for i := range use {
+		use[i] = true
 	}
-	kraw := make([][]float64, m) // fitted K*b, absorbance per unit concentration
-	var icpt []float64
-	if intercept {
-		icpt = make([]float64, p)
+	res, err := fp.run(use)
+	if err != nil {
+		return nil, err
 	}
-	for k := range set.Compounds {
-		c := &set.Compounds[k]
-		c.Name, c.Unit = sh.Compounds[k], sh.Units[k]
-		c.Absorptivity = make([]float64, p)
-		c.SE = make([]float64, p)
-		c.Usable = make([]bool, p)
-		kraw[k] = make([]float64, p)
-	}
-	fits := map[string]*maskFit{}
-	key := make([]byte, n)
-	solved := make([]bool, p)
-	leftOut := 0
-	for j := range p {
-		for i := range n {
-			key[i] = '0'
-			if keep[i][j] {
-				key[i] = '1'
-			} else {
-				leftOut++
-				for k := range m {
-					if fit[i].Conc[k] > 0 {
-						set.Compounds[k].LeftOut++
-					}
+	everCurved := make([]bool, m)
+	everClipped := make([]bool, m)
+	leftOutRows := make([][]int, m) // per compound: fit rows it caused to be left out
+	noLinear := make([]bool, m)
+	for range len(fit) {
+		for k := range m {
+			everCurved[k] = everCurved[k] || res.set.Compounds[k].Linearity.Curved
+			everClipped[k] = everClipped[k] || res.clipped[k]
+		}
+		next := append([]bool(nil), use...)
+		var cutBy [][]int
+		changed := false
+		for k := range m {
+			c := &res.set.Compounds[k]
+			l := c.Linearity
+			// Curved even on the lowest levels Mandel's test can judge
+			// (3): no linear range to fit within; the lowest levels are
+			// still the nearest to one, so the fit keeps to them.
+			noLinear[k] = l.Curved && curvedWithinRange(l)
+			cut := l.RangeHi
+			var rows []int
+			for i, r := range fit {
+				if next[i] && r.Conc[k] > cut {
+					next[i] = false
+					rows = append(rows, i)
 				}
 			}
+			cutBy = append(cutBy, rows)
+			changed = changed || len(rows) > 0
 		}
-		mf, ok := fits[string(key)]
-		if !ok {
-			var err error
-			if mf, err = newMaskFit(fit, keep, j, m, intercept); err != nil {
-				return nil, fmt.Errorf("reference: build: %s: least squares at %g nm: %w", sh.Path, grid[j], err)
-			}
-			fits[string(key)] = mf
+		if !changed {
+			break
 		}
-		if mf.solver == nil {
-			continue
+		if err := checkKept(fit, next, sh.Compounds, intercept); err != nil {
+			warn("%s: the absorptivities could not be refitted within the linear range (%v); they rest on all standards, so results above the stated linear range are biased", sh.Path, err)
+			break
 		}
-		for r, i := range mf.rows {
-			mf.y[r] = abs.At(i, j)
-		}
-		if err := mf.solver.Solve(&mf.res, mf.y); err != nil {
-			return nil, fmt.Errorf("reference: build: least squares at %g nm: %w", grid[j], err)
-		}
-		if mf.res.DoF <= 0 {
-			continue
-		}
-		solved[j] = true
-		for q, k := range mf.comps {
-			c := &set.Compounds[k]
-			kraw[k][j] = mf.res.Coef[q]
-			c.Absorptivity[j] = mf.res.Coef[q] / path
-			c.SE[j] = mf.res.SE[q] / path
-			c.Usable[j] = mf.levelsOK[q]
-		}
-		if intercept {
-			icpt[j] = mf.res.Coef[len(mf.comps)]
-		}
-		set.Noise[j] = math.Sqrt(mf.res.RSS / float64(mf.res.DoF))
-	}
-	if leftOut > 0 {
-		warn("%d readings above the ceiling (A > %g) were left out of the fit", leftOut, ceiling)
-	}
-	nsolved, worst := 0, 0.0
-	for j, ok := range solved {
-		if ok {
-			nsolved++
-			worst = max(worst, set.Noise[j])
-		}
-	}
-	if nsolved == 0 {
-		return nil, fmt.Errorf("reference: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
-			sh.Path, ErrTooFewStandards, ceiling)
-	}
-	if nsolved < p {
-		for j, ok := range solved {
-			if !ok {
-				set.Noise[j] = worst
-			}
-		}
-		warn("at %d of %d wavelengths too few standards stayed under the ceiling to fit; no compound is usable there (noise set to the largest found, %.3g)",
-			p-nsolved, p, worst)
-	}
-
-	// Per compound: band maximum, standards range, linearity.
-	for k := range set.Compounds {
-		c := &set.Compounds[k]
-		if intercept {
-			c.Intercept = icpt
-		}
-		jp := -1
-		for j := range p {
-			if c.Usable[j] && (jp < 0 || c.Absorptivity[j] > c.Absorptivity[jp]) {
-				jp = j
-			}
-		}
-		if jp < 0 {
-			return nil, fmt.Errorf("reference: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
-				sh.Path, ErrTooFewStandards, c.Name, minLevels, ceiling)
-		}
-		c.PeakNM = grid[jp]
-		c.MinStandard, c.MaxStandard = math.Inf(1), 0
-		for _, r := range fit {
-			if v := r.Conc[k]; v > 0 {
-				c.MinStandard = min(c.MinStandard, v)
-				c.MaxStandard = max(c.MaxStandard, v)
-			}
-		}
-		var pts []Point
-		clipped := false
-		for i, r := range fit {
-			if r.Conc[k] == 0 && !allZero(r.Conc) {
-				continue
-			}
-			y := abs.At(i, jp)
-			for l := range m {
-				if l != k {
-					y -= r.Conc[l] * kraw[l][jp]
-				}
-			}
-			pts = append(pts, Point{Conc: r.Conc[k], Absorbance: y, Used: keep[i][jp]})
-			if !keep[i][jp] {
-				clipped = true
-			}
-		}
-		lin, err := lineTest(pts, floor)
+		nres, err := fp.run(next)
 		if err != nil {
-			return nil, fmt.Errorf("reference: build: %s: %s at %g nm: %w", sh.Path, c.Name, c.PeakNM, err)
+			warn("%s: the absorptivities could not be refitted within the linear range (%v); they rest on all standards, so results above the stated linear range are biased", sh.Path, err)
+			break
 		}
-		c.Linearity = lin
-		c.Flags = compoundFlags(lin, clipped, floor)
+		for k := range m {
+			leftOutRows[k] = append(leftOutRows[k], cutBy[k]...)
+		}
+		use, res = next, nres
+	}
+	set := res.set
+	set.Pretreat = append([]baseline.Step(nil), opt.Pretreat...)
+	if res.leftOut > 0 {
+		warn("%d readings above the ceiling (A > %g) were left out of the fit", res.leftOut, ceiling)
+	}
+	if res.unsolved > 0 {
+		warn("at %d of %d wavelengths too few standards stayed under the ceiling to fit; no compound is usable there (noise set to the largest found, %.3g)",
+			res.unsolved, p, res.worst)
+	}
+	for k := range set.Compounds {
+		c := &set.Compounds[k]
+		c.Flags = compoundFlags(c.Linearity, everClipped[k], floor)
+		if everCurved[k] && !hasString(c.Flags, FlagCurved) {
+			c.Flags = append([]string{FlagCurved}, c.Flags...)
+		}
+		if noLinear[k] {
+			warn("%s: the calibration line at %g nm bends even over its lowest levels %s: it cannot be quantified linearly with these standards, and its results are approximate (add lower levels, closer together)",
+				c.Name, c.PeakNM, levelList(c.Linearity))
+		}
+		if rows := leftOutRows[k]; len(rows) > 0 {
+			var levels []float64
+			seen := map[float64]bool{}
+			for _, i := range rows {
+				r := fit[i]
+				c.StandardsLeftOut = append(c.StandardsLeftOut, Standard{File: r.File, Column: r.Column, SHA256: r.SHA256,
+					Conc: append([]float64(nil), r.Conc...), Line: r.Line})
+				if v := r.Conc[k]; !seen[v] {
+					seen[v] = true
+					levels = append(levels, v)
+				}
+			}
+			sort.Float64s(levels)
+			why := "its calibration line bends above that by Mandel's test"
+			if !everCurved[k] {
+				why = fmt.Sprintf("higher standards read above the ceiling of A = %g at the band maximum", ceiling)
+			}
+			warn("%s: the absorptivities rest on the standards up to %s only, as %s; left out %s %s: %s",
+				c.Name, fmtNum(c.MaxStandard), why, plural(len(levels), "level", "levels"), numList(levels), rowList(rows, fit))
+		}
 	}
 
 	// Provenance.
@@ -463,6 +418,315 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 		return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
 	}
 	return set, nil
+}
+
+// fitParams are the inputs of one least-squares pass of Build.
+type fitParams struct {
+	sh                   *Sheet
+	fit                  []Row
+	abs                  *mat.Dense // blank-corrected, pre-treated, one row per fit row
+	keep                 [][]bool   // under the ceiling, per fit row and wavelength
+	grid                 []float64
+	path, ceiling, floor float64
+	intercept            bool
+}
+
+// fitResult is one pass: the set (absorptivities, noise, band maxima,
+// standards range, linearity; flags not yet set) and what the ceiling did.
+type fitResult struct {
+	set      *Set
+	clipped  []bool // per compound: standards above the ceiling at its band maximum
+	leftOut  int    // readings above the ceiling, over all wavelengths
+	unsolved int    // wavelengths where too few standards stayed under the ceiling
+	worst    float64
+}
+
+// run fits the rows marked in use: at each wavelength, one solver per
+// distinct mask of readings under the ceiling; then each compound's band
+// maximum, standards range and calibration line. Rows not in use still
+// appear in the lines' Data, as readings not used.
+func (fp *fitParams) run(use []bool) (*fitResult, error) {
+	sh, grid, path, intercept := fp.sh, fp.grid, fp.path, fp.intercept
+	m, p := len(sh.Compounds), len(grid)
+	var sel []int
+	for i, u := range use {
+		if u {
+			sel = append(sel, i)
+		}
+	}
+	n := len(sel)
+	fit := make([]Row, n)
+	keep := make([][]bool, n)
+	for r, i := range sel {
+		fit[r], keep[r] = fp.fit[i], fp.keep[i]
+	}
+	set := &Set{
+		Schema:    SchemaVersion,
+		Grid:      grid,
+		Compounds: make([]Compound, m),
+		Noise:     make([]float64, p),
+		PathCM:    path,
+		Ceiling:   fp.ceiling,
+		Floor:     fp.floor,
+		Intercept: intercept,
+	}
+	res := &fitResult{set: set, clipped: make([]bool, m)}
+	kraw := make([][]float64, m) // fitted K*b, absorbance per unit concentration
+	var icpt []float64
+	if intercept {
+		icpt = make([]float64, p)
+	}
+	for k := range set.Compounds {
+		c := &set.Compounds[k]
+		c.Name, c.Unit = sh.Compounds[k], sh.Units[k]
+		c.Absorptivity = make([]float64, p)
+		c.SE = make([]float64, p)
+		c.Usable = make([]bool, p)
+		kraw[k] = make([]float64, p)
+	}
+	fits := map[string]*maskFit{}
+	key := make([]byte, n)
+	solved := make([]bool, p)
+	for j := range p {
+		for i := range n {
+			key[i] = '0'
+			if keep[i][j] {
+				key[i] = '1'
+			} else {
+				res.leftOut++
+				for k := range m {
+					if fit[i].Conc[k] > 0 {
+						set.Compounds[k].LeftOut++
+					}
+				}
+			}
+		}
+		mf, ok := fits[string(key)]
+		if !ok {
+			var err error
+			if mf, err = newMaskFit(fit, keep, j, m, intercept); err != nil {
+				return nil, fmt.Errorf("reference: build: %s: least squares at %g nm: %w", sh.Path, grid[j], err)
+			}
+			fits[string(key)] = mf
+		}
+		if mf.solver == nil {
+			continue
+		}
+		for r, i := range mf.rows {
+			mf.y[r] = fp.abs.At(sel[i], j)
+		}
+		if err := mf.solver.Solve(&mf.res, mf.y); err != nil {
+			return nil, fmt.Errorf("reference: build: least squares at %g nm: %w", grid[j], err)
+		}
+		if mf.res.DoF <= 0 {
+			continue
+		}
+		solved[j] = true
+		for q, k := range mf.comps {
+			c := &set.Compounds[k]
+			kraw[k][j] = mf.res.Coef[q]
+			c.Absorptivity[j] = mf.res.Coef[q] / path
+			c.SE[j] = mf.res.SE[q] / path
+			c.Usable[j] = mf.levelsOK[q]
+		}
+		if intercept {
+			icpt[j] = mf.res.Coef[len(mf.comps)]
+		}
+		set.Noise[j] = math.Sqrt(mf.res.RSS / float64(mf.res.DoF))
+	}
+	nsolved := 0
+	for j, ok := range solved {
+		if ok {
+			nsolved++
+			res.worst = max(res.worst, set.Noise[j])
+		}
+	}
+	if nsolved == 0 {
+		return nil, fmt.Errorf("reference: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
+			sh.Path, ErrTooFewStandards, fp.ceiling)
+	}
+	if nsolved < p {
+		res.unsolved = p - nsolved
+		for j, ok := range solved {
+			if !ok {
+				set.Noise[j] = res.worst
+			}
+		}
+	}
+
+	// Per compound: band maximum, standards range, linearity.
+	for k := range set.Compounds {
+		c := &set.Compounds[k]
+		if intercept {
+			c.Intercept = icpt
+		}
+		jp := -1
+		for j := range p {
+			if c.Usable[j] && (jp < 0 || c.Absorptivity[j] > c.Absorptivity[jp]) {
+				jp = j
+			}
+		}
+		if jp < 0 {
+			return nil, fmt.Errorf("reference: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
+				sh.Path, ErrTooFewStandards, c.Name, minLevels, fp.ceiling)
+		}
+		c.PeakNM = grid[jp]
+		c.MinStandard, c.MaxStandard = math.Inf(1), 0
+		for _, r := range fit {
+			if v := r.Conc[k]; v > 0 {
+				c.MinStandard = min(c.MinStandard, v)
+				c.MaxStandard = max(c.MaxStandard, v)
+			}
+		}
+		var pts []Point
+		for i, r := range fp.fit {
+			if r.Conc[k] == 0 && !allZero(r.Conc) {
+				continue
+			}
+			y := fp.abs.At(i, jp)
+			for l := range m {
+				if l != k {
+					y -= r.Conc[l] * kraw[l][jp]
+				}
+			}
+			pts = append(pts, Point{Conc: r.Conc[k], Absorbance: y, Used: use[i] && fp.keep[i][jp]})
+			if use[i] && !fp.keep[i][jp] {
+				res.clipped[k] = true
+			}
+		}
+		lin, err := lineTest(pts, fp.floor)
+		if err != nil {
+			return nil, fmt.Errorf("reference: build: %s: %s at %g nm: %w", sh.Path, c.Name, c.PeakNM, err)
+		}
+		c.Linearity = lin
+	}
+	return res, nil
+}
+
+// checkKept checks that the rows kept still determine every compound:
+// each varies, there are more rows than coefficients, and the design is
+// well conditioned.
+func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
+	var rows []Row
+	for i, u := range use {
+		if u {
+			rows = append(rows, fit[i])
+		}
+	}
+	ncoef := len(names)
+	if intercept {
+		ncoef++
+	}
+	if len(rows) <= ncoef {
+		return fmt.Errorf("%w: %d standards would remain for %d coefficients per wavelength", ErrTooFewStandards, len(rows), ncoef)
+	}
+	for k, name := range names {
+		varies := false
+		for _, r := range rows[1:] {
+			if r.Conc[k] != rows[0].Conc[k] {
+				varies = true
+				break
+			}
+		}
+		if !varies {
+			return fmt.Errorf("%w: %s would be %g in every standard left", ErrNoVariation, name, rows[0].Conc[k])
+		}
+	}
+	return checkDesign(rows, names, intercept)
+}
+
+// curvedWithinRange reports whether the used readings of l up to its
+// range's top still fail Mandel's test (the range search stopped at the
+// fewest levels the test can judge).
+func curvedWithinRange(l Linearity) bool {
+	var x, y []float64
+	for _, p := range l.Data {
+		if p.Used && p.Conc <= l.RangeHi {
+			x = append(x, p.Conc)
+			y = append(y, p.Absorbance)
+		}
+	}
+	_, _, curved := mandel(x, y)
+	return curved
+}
+
+// levelList names the used non-zero levels of l within its range: "2, 5,
+// 10".
+func levelList(l Linearity) string {
+	var used []float64
+	for _, p := range l.Data {
+		if p.Used && p.Conc <= l.RangeHi {
+			used = append(used, p.Conc)
+		}
+	}
+	var x []float64
+	for v := range levelSet(used) {
+		x = append(x, v)
+	}
+	sort.Float64s(x)
+	return numList(x)
+}
+
+// fmtNum formats a concentration for a message (at most 6 significant
+// digits).
+func fmtNum(v float64) string { return strconv.FormatFloat(v, 'g', 6, 64) }
+
+// numList is "20, 40, 60".
+func numList(v []float64) string {
+	s := make([]string, len(v))
+	for i, x := range v {
+		s[i] = fmtNum(x)
+	}
+	return strings.Join(s, ", ")
+}
+
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
+}
+
+// listMax is how many files a message names before it counts the rest.
+const listMax = 5
+
+// rowList names the fit rows' scans with their sheet lines, the first
+// listMax of them: "stdc/L20a.csv (sheet line 8), ... and 3 more".
+func rowList(rows []int, fit []Row) string {
+	var b strings.Builder
+	for n, i := range rows {
+		if n == listMax {
+			fmt.Fprintf(&b, " and %d more", len(rows)-listMax)
+			break
+		}
+		if n > 0 {
+			b.WriteString(", ")
+		}
+		b.WriteString(rowName(fit[i]))
+	}
+	return b.String()
+}
+
+// rowName is a standard's scan and sheet line: "L20a.csv (sheet line 8)",
+// with the column of a wide table after the file.
+func rowName(r Row) string {
+	f := r.File
+	if r.Column != "" {
+		f += " column " + r.Column
+	}
+	if r.Line > 0 {
+		return fmt.Sprintf("%s (sheet line %d)", f, r.Line)
+	}
+	return f
+}
+
+func hasString(list []string, s string) bool {
+	for _, x := range list {
+		if x == s {
+			return true
+		}
+	}
+	return false
 }
 
 func allZero(c []float64) bool {

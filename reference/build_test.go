@@ -307,16 +307,151 @@ func TestBuildCurved(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		l := set.Compounds[0].Linearity
-		if curved := bend > 0; l.Curved != curved {
-			t.Errorf("bend %g: curved = %v (Mandel F %g, p %g), want %v", bend, l.Curved, l.MandelF, l.MandelP, curved)
+		c := set.Compounds[0]
+		l := c.Linearity
+		if curved := bend > 0; hasFlag(c.Flags, FlagCurved) != curved {
+			t.Errorf("bend %g: flags %v (Mandel F %g, p %g), want curved %v", bend, c.Flags, l.MandelF, l.MandelP, curved)
 		}
-		if bend > 0 && (l.RangeHi >= 12 || !hasFlag(set.Compounds[0].Flags, FlagCurved)) {
-			t.Errorf("bend %g: range up to %g, flags %v; want the range cut and the curved flag", bend, l.RangeHi, set.Compounds[0].Flags)
+		// The absorptivities rest on the linear range only.
+		if bend > 0 && (l.RangeHi >= 12 || c.MaxStandard != l.RangeHi || len(c.StandardsLeftOut) == 0) {
+			t.Errorf("bend %g: range up to %g, highest standard %g, %d standards left out; want the range cut and the fit within it",
+				bend, l.RangeHi, c.MaxStandard, len(c.StandardsLeftOut))
 		}
 		if bend == 0 && (l.RangeLo != 1 || l.RangeHi != 12) {
 			t.Errorf("straight: range %g-%g, want 1-12", l.RangeLo, l.RangeHi)
 		}
+	}
+}
+
+// TestBuildCurvedRefit: a response straight up to 6 and bending above
+// (invented: A = 0.1 g(c) at the band maximum, g(c) = c up to 6 and
+// c - 0.02 (c-6)^2 above) is refitted on the standards of its linear
+// range: the stored absorptivity is the slope of the straight part, a
+// sample within the range comes back, and the left-out standards are
+// named. With a second, straight compound in mixed standards, the rows
+// in which the curved one is above its range are left out for both.
+func TestBuildCurvedRefit(t *testing.T) {
+	grid := linGrid(450, 5, 21)
+	shapeA := band(grid, 500, 20, 1)
+	shapeB := band(grid, 540, 25, 1)
+	g := func(c float64) float64 {
+		if c <= 6 {
+			return c
+		}
+		return c - 0.02*(c-6)*(c-6)
+	}
+	const slope = 0.1 // absorbance per unit at the band maximum, straight part
+	levels := []float64{1, 2, 3, 4, 5, 6, 10, 14, 18}
+	rng := rand.New(rand.NewPCG(5, 5))
+	var conc, scan [][]float64
+	conc = append(conc, []float64{0, 0}, []float64{0, 0})
+	scan = append(scan, make([]float64, len(grid)), make([]float64, len(grid)))
+	for _, c := range levels {
+		for rep := range 3 {
+			// Replicate 0 pure A, 1 pure B, 2 a mixture of both.
+			ca, cb := c, 0.0
+			switch rep {
+			case 1:
+				ca, cb = 0, c/2
+			case 2:
+				cb = 3
+			}
+			row := make([]float64, len(grid))
+			for j := range row {
+				row[j] = shapeA[j]*slope*g(ca) + shapeB[j]*0.08*cb + 0.0005*rng.NormFloat64()
+			}
+			conc = append(conc, []float64{ca, cb})
+			scan = append(scan, row)
+		}
+	}
+	var warned []string
+	set, err := Build(memSheet([]string{"bent", "straight"}, grid, conc, scan),
+		Options{Ceiling: 3, Now: fixedNow, Warn: func(m string) { warned = append(warned, m) }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	a := set.Compounds[0]
+	l := a.Linearity
+	if !hasFlag(a.Flags, FlagCurved) || l.RangeHi < 6 || l.RangeHi >= 18 || a.MaxStandard != l.RangeHi {
+		t.Fatalf("flags %v, range %g-%g, highest standard %g: want curved, range ending at 6-14 and the fit within it",
+			a.Flags, l.RangeLo, l.RangeHi, a.MaxStandard)
+	}
+	for _, p := range l.Data {
+		if p.Used && p.Conc > l.RangeHi {
+			t.Errorf("reading at %g above the range %g used", p.Conc, l.RangeHi)
+		}
+	}
+	// The straight part: every standard up to RangeHi lies on A = 0.1 c
+	// only when RangeHi is 6; above, g bends by at most 0.02 (RangeHi-6)^2.
+	j := 10 // 500 nm, the band maximum of "bent"
+	if a.PeakNM != 500 {
+		t.Fatalf("band maximum %g nm, want 500", a.PeakNM)
+	}
+	bias := 0.02 * (l.RangeHi - 6) * (l.RangeHi - 6) / l.RangeHi // relative, at most
+	if got := a.Absorptivity[j]; math.Abs(got-slope) > 4*a.SE[j]+bias*slope {
+		t.Errorf("absorptivity at 500 nm %.5f ± %.5f, want the straight part's %g", got, a.SE[j], slope)
+	}
+	// A sample of 4 units (within the range) comes back: least squares of
+	// its blank-corrected scan minus the intercept on the absorptivity
+	// spectrum of "bent" (alone in the sample).
+	num, den := 0.0, 0.0
+	for i := range grid {
+		v := shapeA[i]*slope*4 - a.Intercept[i]
+		num += v * a.Absorptivity[i]
+		den += a.Absorptivity[i] * a.Absorptivity[i]
+	}
+	if c := num / den; math.Abs(c-4) > 0.02*4 {
+		t.Errorf("sample of 4 found at %.4f", c)
+	}
+	// Every row holding "bent" above the range is left out (the mixtures
+	// too), and the warning names levels and files.
+	want := 0
+	for _, c := range conc {
+		if c[0] > l.RangeHi {
+			want++
+		}
+	}
+	if len(a.StandardsLeftOut) != want {
+		t.Errorf("%d standards left out, want %d", len(a.StandardsLeftOut), want)
+	}
+	all := strings.Join(warned, "\n")
+	if !strings.Contains(all, "bent: the absorptivities rest on the standards up to") || !strings.Contains(all, "left out levels") ||
+		!strings.Contains(all, "18") || !strings.Contains(all, "(sheet line ") || !strings.Contains(all, " more") {
+		t.Errorf("warnings %q", warned)
+	}
+	if b := set.Compounds[1]; hasFlag(b.Flags, FlagCurved) || math.Abs(b.Absorptivity[18]-0.08*shapeB[18]) > 4*b.SE[18] {
+		t.Errorf("straight compound: flags %v, absorptivity at %g nm %g ± %g, want %g", b.Flags, grid[18], b.Absorptivity[18], b.SE[18], 0.08*shapeB[18])
+	}
+}
+
+// TestBuildNotLinear: a response that bends over every level keeps the
+// curved flag and is said to be not quantifiable linearly.
+func TestBuildNotLinear(t *testing.T) {
+	grid := linGrid(450, 5, 21)
+	shape := band(grid, 500, 20, 1)
+	rng := rand.New(rand.NewPCG(7, 7))
+	var conc, scan [][]float64
+	conc = append(conc, []float64{0})
+	scan = append(scan, make([]float64, len(grid)))
+	for _, c := range []float64{2, 4, 6, 8} {
+		for range 4 {
+			row := make([]float64, len(grid))
+			for j := range row {
+				// Strongly saturating: 0.3 c / (1 + 0.15 c).
+				row[j] = shape[j]*0.3*c/(1+0.15*c) + 0.0002*rng.NormFloat64()
+			}
+			conc = append(conc, []float64{c})
+			scan = append(scan, row)
+		}
+	}
+	var warned []string
+	set, err := Build(memSheet([]string{"dye"}, grid, conc, scan),
+		Options{Ceiling: 3, Now: fixedNow, Warn: func(m string) { warned = append(warned, m) }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if c := set.Compounds[0]; !hasFlag(c.Flags, FlagCurved) || !strings.Contains(strings.Join(warned, "\n"), "cannot be quantified linearly") {
+		t.Errorf("flags %v, warnings %q", c.Flags, warned)
 	}
 }
 

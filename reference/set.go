@@ -50,6 +50,12 @@ type Compound struct {
 	LeftOut int `json:"left_out,omitempty"`
 	// Flags are the quality codes of this compound (see [Flags]).
 	Flags []string `json:"flags,omitempty"`
+	// StandardsLeftOut are the standards Build left out of the whole fit
+	// (for every compound) because this compound's calibration line
+	// bends above its linear range, or the ceiling cut them at its band
+	// maximum: the absorptivities, MinStandard, MaxStandard and Linearity
+	// rest on the other standards only.
+	StandardsLeftOut []Standard `json:"standards_left_out,omitempty"`
 }
 
 // Linearity describes the calibration line of one compound at its band

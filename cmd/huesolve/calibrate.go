@@ -71,12 +71,7 @@ func newCalibrateCmd() *cobra.Command {
 		Use:   "calibrate SHEET -o REFSET",
 		Short: "Build a reference set (absorptivity spectra) from standards",
 		Long:  calibrateLong,
-		Args: func(cmd *cobra.Command, args []string) error {
-			if len(args) != 1 {
-				return usagef("calibrate takes one standards sheet, got %d arguments", len(args))
-			}
-			return nil
-		},
+		Args:  wantArgs(1, 1, "one standards sheet"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runCalibrate(cmd, o, args[0])
 		},
@@ -97,7 +92,7 @@ func newCalibrateCmd() *cobra.Command {
 
 func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) error {
 	errw := cmd.ErrOrStderr()
-	warn := func(msg string) { fmt.Fprintln(errw, "huesolve: note:", msg) }
+	warn := warnTo(errw)
 
 	// Flags.
 	if o.out == "" {
@@ -140,8 +135,14 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	}
 
 	// Inputs.
+	if err := checkNotInput("-o", o.out, sheetPath, o.scans.blank); err != nil {
+		return err
+	}
 	sh, err := reference.ReadSheet(sheetPath, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
 	if err != nil {
+		return err
+	}
+	if err := checkNotInput("-o", o.out, sheetFiles(sh)...); err != nil {
 		return err
 	}
 	if opt.Blank, opt.BlankSHA256, err = o.scans.readBlank(q, warn); err != nil {

@@ -53,14 +53,14 @@ everything was written; "-o -" writes to standard output.`,
   huesolve convert scan.jdx -o scan.csv
   huesolve convert standards.tsv -o std2.jdx --spectrum "std 2" --to jcamp-compressed
   huesolve convert percentT.csv -o absorbance.csv --as absorbance`,
-		Args: cobra.ExactArgs(1),
+		Args: wantArgs(1, 1, "one input file"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runConvert(cmd.OutOrStdout(), cmd.ErrOrStderr(), args[0], o)
 		},
 	}
 	f := cmd.Flags()
 	f.StringVarP(&o.out, "output", "o", "", "file to write (required; - for standard output)")
-	f.StringVar(&o.to, "to", "", "output format: csv, tsv, jcamp or jcamp-compressed (default: from the output file's extension)")
+	f.StringVar(&o.to, "to", "", "output format: csv, tsv, jcamp or jcamp-compressed (default: from the output file's extension; with -o -, the input's kind by its extension, else csv)")
 	f.StringVar(&o.as, "as", "", "convert the values before writing: absorbance")
 	o.scans.addQuantity(f)
 	f.StringVar(&o.pick, "spectrum", "", "write only this spectrum of the input (its name or its number, counting from 1)")
@@ -88,7 +88,17 @@ func runConvert(stdout, errw io.Writer, in string, o convertOptions) error {
 	if err != nil {
 		return err
 	}
+	if err := checkNotInput("-o", o.out, in); err != nil {
+		return err
+	}
 	format := strings.ToLower(o.to)
+	if format == "" && o.out == "-" {
+		// To standard output: the kind of the input, so that a pipe
+		// shows the file as huesolve reads it.
+		if format = convertFormatFromName(in); format == "" {
+			format = convertCSV
+		}
+	}
 	if format == "" {
 		format = convertFormatFromName(o.out)
 		if format == "" {
@@ -109,7 +119,7 @@ func runConvert(stdout, errw io.Writer, in string, o convertOptions) error {
 		return usagef("--as %q: only absorbance is offered", o.as)
 	}
 
-	ss, err := spectrum.ReadFile(in, spectrum.ReadOptions{Quantity: q, Warn: func(m string) { fmt.Fprintln(errw, "warning:", m) }})
+	ss, err := spectrum.ReadFile(in, spectrum.ReadOptions{Quantity: q, Warn: warnTo(errw)})
 	if err != nil {
 		return err
 	}
@@ -154,7 +164,7 @@ func runConvert(stdout, errw io.Writer, in string, o convertOptions) error {
 	if err := atomicfile.Write(o.out, fill); err != nil {
 		return err
 	}
-	fmt.Fprintf(errw, "wrote %d %s to %s (%s)\n", len(ss), lookPlural(len(ss), "spectrum", "spectra"), o.out, format)
+	fmt.Fprintf(errw, "huesolve: wrote %d %s to %s (%s)\n", len(ss), lookPlural(len(ss), "spectrum", "spectra"), o.out, format)
 	return nil
 }
 

@@ -51,7 +51,7 @@ func newDemoCmd() *cobra.Command {
 		Use:   "demo [DIR]",
 		Short: "Run the whole job on an invented case, written into DIR",
 		Long:  demoLong,
-		Args:  cobra.MaximumNArgs(1),
+		Args:  wantArgs(0, 1, "at most one folder"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if len(args) == 1 {
 				opt.dir = args[0]

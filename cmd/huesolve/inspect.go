@@ -36,12 +36,7 @@ func newInspectCmd() *cobra.Command {
 		Use:   "inspect REFSET",
 		Short: "Show what a reference set holds and how sound its calibration is",
 		Long:  inspectLong,
-		Args: func(cmd *cobra.Command, args []string) error {
-			if len(args) != 1 {
-				return usagef("inspect takes one reference set file, got %d arguments", len(args))
-			}
-			return nil
-		},
+		Args:  wantArgs(1, 1, "one reference set"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			set, err := reference.Load(args[0])
 			if err != nil {

@@ -12,6 +12,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"huesolve/spectrum"
+	"huesolve/unmix"
 )
 
 func init() { commands = append(commands, newLookCmd) }
@@ -29,7 +30,7 @@ const lookRowsShown = 40
 func newLookCmd() *cobra.Command {
 	var o lookOptions
 	cmd := &cobra.Command{
-		Use:   "look FILE...",
+		Use:   "look SCAN...",
 		Short: "Show what spectra a file holds and whether they read cleanly",
 		Long: `look reads each file as huesolve would (delimited text such as CSV, TSV or
 semicolon exports, or JCAMP-DX) and prints, for every spectrum found, its
@@ -37,12 +38,15 @@ name, number of points, wavelength range and step, what the values are
 (absorbance, %T or T) and their smallest and largest value. Warnings (for
 example values that look like %T but are read as absorbance) go to stderr.
 
+Each SCAN is a file, a folder (its files, not recursive) or a quoted glob
+pattern, as for solve.
+
 Use it before calibrating to check that files are read the way you expect.
 Files that cannot be read are reported with file, line and column, and
 look exits with code 3.`,
 		Example: `  huesolve look scan1.csv standards.tsv blank.jdx
   huesolve look --quantity %T export.csv`,
-		Args: cobra.MinimumNArgs(1),
+		Args: wantArgs(1, -1, "at least one scan file or folder"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			q, err := o.scans.parseQuantity()
 			if err != nil {
@@ -59,16 +63,19 @@ look exits with code 3.`,
 }
 
 // runLook prints the summary of each file.
-func runLook(out, errw io.Writer, files []string, q spectrum.Quantity, o lookOptions) error {
+func runLook(out, errw io.Writer, args []string, q spectrum.Quantity, o lookOptions) error {
 	failed := 0
-	for k, file := range files {
-		var warns []string
-		ss, err := spectrum.ReadFile(file, spectrum.ReadOptions{Quantity: q, Warn: func(m string) { warns = append(warns, m) }})
-		for _, w := range warns {
-			fmt.Fprintln(errw, "warning:", w)
+	inputs := unmix.ExpandInputs(args)
+	for k, in := range inputs {
+		file := in.Path
+		if in.Err != nil {
+			fmt.Fprintln(errw, "huesolve:", userMessage(in.Err))
+			failed++
+			continue
 		}
+		ss, err := spectrum.ReadFile(file, spectrum.ReadOptions{Quantity: q, Warn: warnTo(errw)})
 		if err != nil {
-			fmt.Fprintln(errw, "huesolve:", err)
+			fmt.Fprintln(errw, "huesolve:", userMessage(err))
 			failed++
 			continue
 		}
@@ -77,10 +84,10 @@ func runLook(out, errw io.Writer, files []string, q spectrum.Quantity, o lookOpt
 		}
 	}
 	switch {
-	case failed == len(files):
+	case failed == len(inputs):
 		return &exitError{code: exitFailure, msg: "no file could be read"}
 	case failed > 0:
-		return &exitError{code: exitSkipped, msg: fmt.Sprintf("%d of %d files could not be read", failed, len(files))}
+		return &exitError{code: exitSkipped, msg: fmt.Sprintf("%d of %d files could not be read", failed, len(inputs))}
 	}
 	return nil
 }

@@ -7,6 +7,7 @@ import (
 	"io"
 	"os"
 	"os/signal"
+	"strings"
 	"syscall"
 
 	"github.com/spf13/cobra"
@@ -88,13 +89,16 @@ func newRootCmd() *cobra.Command {
 		Version:       version,
 	}
 	root.SetVersionTemplate("huesolve {{.Version}}\n")
+	// Shell completion stays available ("huesolve completion bash") but
+	// is left out of the command list, which is about the lab work.
+	root.CompletionOptions.HiddenDefaultCmd = true
 	root.SetFlagErrorFunc(func(c *cobra.Command, err error) error {
 		return &usageError{err}
 	})
 	root.AddCommand(&cobra.Command{
 		Use:   "version",
 		Short: "Print the huesolve version",
-		Args:  cobra.NoArgs,
+		Args:  wantArgs(0, 0, "no arguments"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			fmt.Fprintf(cmd.OutOrStdout(), "huesolve %s\n", version)
 			return nil
@@ -103,7 +107,68 @@ func newRootCmd() *cobra.Command {
 	for _, c := range commands {
 		root.AddCommand(c())
 	}
+	// Any argument check left to cobra's own wording is still a bad
+	// command line (exit 2).
+	for _, c := range root.Commands() {
+		if check := c.Args; check != nil {
+			c.Args = func(cmd *cobra.Command, args []string) error {
+				if err := check(cmd, args); err != nil {
+					var ue *usageError
+					if errors.As(err, &ue) {
+						return err
+					}
+					return &usageError{err}
+				}
+				return nil
+			}
+		}
+	}
 	return root
+}
+
+// wantArgs checks that a command gets from min to max arguments (max < 0:
+// no upper limit); want says in words what it takes, e.g. "a reference
+// set and at least one scan", for the message.
+func wantArgs(min, max int, want string) cobra.PositionalArgs {
+	return func(cmd *cobra.Command, args []string) error {
+		n := len(args)
+		switch {
+		case n < min && n == 0:
+			return usagef("%s needs %s", cmd.Name(), want)
+		case n < min:
+			return usagef("%s needs %s; only %s %s given", cmd.Name(), want, argList(args), wasWere(n))
+		case max >= 0 && n > max:
+			return usagef("%s takes %s; %d %s given: %s", cmd.Name(), want, n, wasWere(n), argList(args))
+		}
+		return nil
+	}
+}
+
+// argList names the arguments, the first few only.
+func argList(args []string) string {
+	const shown = 5
+	if len(args) > shown {
+		return strings.Join(args[:shown], ", ") + ", ..."
+	}
+	return strings.Join(args, ", ")
+}
+
+// suggestion is "; did you mean look?" for the commands cobra suggests.
+func suggestion(names []string) string {
+	switch len(names) {
+	case 0:
+		return ""
+	case 1:
+		return "; did you mean " + names[0] + "?"
+	}
+	return "; did you mean one of " + strings.Join(names, ", ") + "?"
+}
+
+func wasWere(n int) string {
+	if n == 1 {
+		return "was"
+	}
+	return "were"
 }
 
 // Execute runs huesolve with args and returns the exit code. Tests call it
@@ -123,7 +188,7 @@ func Execute(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	root.SetIn(stdin)
 	root.SetOut(stdout)
 	root.SetErr(stderr)
-	err := root.ExecuteContext(ctx)
+	cmd, err := root.ExecuteContextC(ctx)
 	if err == nil {
 		return exitOK
 	}
@@ -134,10 +199,18 @@ func Execute(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		}
 		return ee.code
 	}
-	fmt.Fprintln(stderr, "huesolve:", err)
+	// cobra reports a mistyped command name itself, as a plain error
+	// over several lines.
+	if strings.HasPrefix(err.Error(), "unknown command ") && len(args) > 0 {
+		err = usagef("no command %q%s", args[0], suggestion(root.SuggestionsFor(args[0])))
+	}
+	fmt.Fprintln(stderr, "huesolve:", userMessage(err))
 	var ue *usageError
 	if errors.As(err, &ue) {
-		fmt.Fprintln(stderr, "Run 'huesolve --help' for usage.")
+		if cmd == nil {
+			cmd = root
+		}
+		fmt.Fprintf(stderr, "huesolve: run '%s --help' for usage\n", cmd.CommandPath())
 		return exitUsage
 	}
 	if errors.Is(err, context.Canceled) {

@@ -111,12 +111,7 @@ func newSolveCmd() *cobra.Command {
 		Use:   "solve REFSET SCAN...",
 		Short: "Unmix sample scans into concentrations with uncertainties and flags",
 		Long:  strings.Replace(solveLong, "{{LEGEND}}", strings.TrimRight(unmix.Legend(), "\n"), 1),
-		Args: func(cmd *cobra.Command, args []string) error {
-			if len(args) < 2 {
-				return usagef("solve takes a reference set and at least one scan, got %d arguments", len(args))
-			}
-			return nil
-		},
+		Args:  wantArgs(2, -1, "a reference set and at least one scan"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runSolve(cmd, o, args[0], args[1:])
 		},
@@ -135,7 +130,7 @@ func newSolveCmd() *cobra.Command {
 
 func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []string) error {
 	errw := &lockedWriter{w: cmd.ErrOrStderr()}
-	warn := func(msg string) { fmt.Fprintln(errw, "huesolve: note:", msg) }
+	warn := warnTo(errw)
 
 	// Flags.
 	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
@@ -155,6 +150,9 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		return usagef("--check-only writes no results: leave out -o and --plots")
 	}
 	ropt := spectrum.ReadOptions{Quantity: q, Warn: warn}
+	if err := checkNotInput("-o", o.output.out, append([]string{refPath, o.scans.blank, o.samples}, scanInputFiles(scans)...)...); err != nil {
+		return err
+	}
 
 	// Reference set, blank, model, sample sheet.
 	set, err := reference.Load(refPath)

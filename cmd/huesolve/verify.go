@@ -76,7 +76,7 @@ func newVerifyCmd() *cobra.Command {
 		Use:   "verify REFSET CHECKS",
 		Short: "Judge recovery of check standards of known composition",
 		Long:  verifyLong,
-		Args:  cobra.ExactArgs(2),
+		Args:  wantArgs(2, 2, "a reference set and a sheet of check standards"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runVerify(cmd, o, args[0], args[1])
 		},
@@ -107,7 +107,7 @@ type verifyReport struct {
 
 func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string) error {
 	errw := cmd.ErrOrStderr()
-	warn := func(msg string) { fmt.Fprintln(errw, "huesolve: note:", msg) }
+	warn := warnTo(errw)
 
 	// Flags.
 	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
@@ -134,12 +134,18 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	}
 
 	// Inputs.
+	if err := checkNotInput("-o", o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
+		return err
+	}
 	set, err := reference.Load(refPath)
 	if err != nil {
 		return err
 	}
 	sh, err := valReadCheckSheet(checksPath, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
 	if err != nil {
+		return err
+	}
+	if err := checkNotInput("-o", o.output.out, sheetFiles(sh)...); err != nil {
 		return err
 	}
 	if mopt.Blank, _, err = o.scans.readBlank(q, warn); err != nil {

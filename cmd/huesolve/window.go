@@ -70,7 +70,7 @@ func newWindowCmd() *cobra.Command {
 		Use:   "window REFSET",
 		Short: "Advise on the wavelength window from predicted errors and conditioning",
 		Long:  windowLong,
-		Args:  cobra.ExactArgs(1),
+		Args:  wantArgs(1, 1, "one reference set"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			return runWindow(cmd, o, args[0])
 		},
@@ -137,6 +137,9 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 		return err
 	}
 
+	if err := checkNotInput("-o", o.output.out, refPath); err != nil {
+		return err
+	}
 	set, err := reference.Load(refPath)
 	if err != nil {
 		return err
