@@ -5,7 +5,8 @@ import "math"
 // Flag codes of a compound, in the order they are listed.
 const (
 	// FlagCurved: Mandel's test prefers a quadratic to the line at the
-	// band maximum (TestLevel).
+	// band maximum (TestLevel) over all standards; Build then refits on
+	// the standards within the linear range.
 	FlagCurved = "curved"
 	// FlagLackOfFit: the lack-of-fit test against replicates fails at
 	// TestLevel.
@@ -14,7 +15,7 @@ const (
 	// common practice).
 	FlagFewLevels = "few-levels"
 	// FlagAboveCeiling: some standards read above the ceiling at the band
-	// maximum and were left out.
+	// maximum; Build leaves them out of the whole fit.
 	FlagAboveCeiling = "above-ceiling"
 	// FlagBelowFloor: the lowest standards read below the detector floor
 	// at the band maximum; the range starts higher.
@@ -23,10 +24,10 @@ const (
 
 // Flags lists every flag code with its meaning, in display order.
 var Flags = []struct{ Code, Meaning string }{
-	{FlagCurved, "Mandel's test (ISO 8466-1, F at 99 %) prefers a quadratic: the line bends at high concentration; use the stated linear range"},
+	{FlagCurved, "Mandel's test (ISO 8466-1, F at 99 %) prefers a quadratic: the line bends at high concentration; the absorptivities rest on the standards within the stated linear range only"},
 	{FlagLackOfFit, "replicates show the line misses the level means (lack-of-fit F test at 99 %)"},
 	{FlagFewLevels, "fewer than 5 concentration levels (5 or more spanning the range is common practice)"},
-	{FlagAboveCeiling, "some standards read above the absorbance ceiling at the band maximum and were left out"},
+	{FlagAboveCeiling, "some standards read above the absorbance ceiling at the band maximum and were left out of the whole fit"},
 	{FlagBelowFloor, "the lowest standards read below the detector floor at the band maximum"},
 }
 
