@@ -592,7 +592,7 @@ func TestBuildErrors(t *testing.T) {
 				c = append(c, []float64{v, 2 * v, 5 - 0.5*v})
 			}
 			return c
-		}, nil, ErrDesign, "linearly dependent"},
+		}, nil, ErrDesign, "concentrations of red, yellow, blue and the intercept are linearly dependent"},
 		{"nearly same ratio", func() [][]float64 {
 			var c [][]float64
 			for i, v := range []float64{1, 2, 3, 4, 5, 6, 7} {

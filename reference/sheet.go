@@ -194,12 +194,12 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 		case u == "":
 			noUnit = append(noUnit, sh.Compounds[k])
 		case opt.Unit != "" && u != opt.Unit:
-			warn(fmt.Sprintf("%s:%d: compound %q has unit %q in the header; the unit %q given as an option is not used for it",
+			warn(fmt.Sprintf("%s:%d: compound %q has unit %q in the header; the unit %q given with --unit is not used for it",
 				path, hline, sh.Compounds[k], u, opt.Unit))
 		}
 	}
 	if len(noUnit) > 0 {
-		warn(fmt.Sprintf("%s:%d: no concentration unit stated for %s: the numbers are carried as given (write the unit in the header as \"name (mg/L)\" or give one as an option)",
+		warn(fmt.Sprintf("%s:%d: no concentration unit stated for %s: the numbers are carried as given (write the unit in the header as \"name (mg/L)\" or give one with --unit)",
 			path, hline, strings.Join(noUnit, ", ")))
 	}
 

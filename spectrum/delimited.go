@@ -432,13 +432,13 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 		}
 	}
 	if len(unstated) > 0 {
-		d.opt.warnf(d.file, "the header does not say whether %s are absorbance, %%T or T; reading absorbance (state it with a header word or the quantity option)", columnList(unstated, ns))
+		d.opt.warnf(d.file, "the header does not say whether %s are absorbance, %%T or T; reading absorbance (state it with a header word or --quantity)", columnList(unstated, ns))
 	}
 	if c := odd[looksPct]; len(c) > 0 {
-		d.opt.warnf(d.file, "WARNING: nearly all of %s lie between %g and %g, which looks like percent transmittance, not absorbance; if so, say %%T in the header or with the quantity option, or every result will be wrong", columnList(c, ns), pctTLow, pctTHigh)
+		d.opt.warnf(d.file, "nearly all of %s lie between %g and %g, which looks like percent transmittance, not absorbance; if so, say %%T in the header or give --quantity %%T, or every result will be wrong", columnList(c, ns), pctTLow, pctTHigh)
 	}
 	if c := odd[looksPctNotFraction]; len(c) > 0 {
-		d.opt.warnf(d.file, "WARNING: %s, read as transmittance fraction (0..1), mostly exceed %g; they look like percent transmittance", columnList(c, ns), fractionTMax)
+		d.opt.warnf(d.file, "%s, read as transmittance fraction (0..1), mostly exceed %g; they look like percent transmittance (--quantity %%T)", columnList(c, ns), fractionTMax)
 	}
 	return out, nil
 }

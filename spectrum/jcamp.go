@@ -397,9 +397,9 @@ func (j *jcampReader) spectrum() (*Spectrum, error) {
 	}
 	switch implausible(s) {
 	case looksPct:
-		j.opt.warnf(j.file, "WARNING: nearly all values lie between %g and %g, which looks like percent transmittance, not absorbance; if so, give the quantity option, or every result will be wrong", pctTLow, pctTHigh)
+		j.opt.warnf(j.file, "nearly all values lie between %g and %g, which looks like percent transmittance, not absorbance; if so, give --quantity %%T, or every result will be wrong", pctTLow, pctTHigh)
 	case looksPctNotFraction:
-		j.opt.warnf(j.file, "WARNING: values read as transmittance fraction (0..1) mostly exceed %g; they look like percent transmittance", fractionTMax)
+		j.opt.warnf(j.file, "values read as transmittance fraction (0..1) mostly exceed %g; they look like percent transmittance (--quantity %%T)", fractionTMax)
 	}
 	return s, nil
 }
@@ -450,7 +450,7 @@ func (j *jcampReader) quantity(y []float64) (Quantity, error) {
 		}
 	default:
 		if j.opt.Quantity == Unstated {
-			return Unstated, j.notSupported(rec.line, "YUNITS=%s is neither absorbance nor transmittance; if the values are one of them, say which with the quantity option", rec.value)
+			return Unstated, j.notSupported(rec.line, "YUNITS=%s is neither absorbance nor transmittance; if the values are one of them, say which with --quantity", rec.value)
 		}
 	}
 	if j.opt.Quantity != Unstated {
@@ -464,7 +464,7 @@ func (j *jcampReader) quantity(y []float64) (Quantity, error) {
 		return q, nil
 	}
 	if q == Unstated {
-		j.opt.warnf(j.file, "no ##YUNITS=; reading the values as absorbance (state it with the quantity option)")
+		j.opt.warnf(j.file, "no ##YUNITS=; reading the values as absorbance (state it with --quantity)")
 		q = Absorbance
 	}
 	return q, nil

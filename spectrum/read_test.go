@@ -268,7 +268,7 @@ func TestQuantityWarnings(t *testing.T) {
 	}
 	// Values that look like %T read as absorbance: a loud warning.
 	ss, warns = readString(t, "nm,sample\n400,95\n401,80.5\n402,40\n403,12\n", ReadOptions{})
-	if len(warns) != 2 || !strings.Contains(warns[1], "WARNING") || !strings.Contains(warns[1], "percent transmittance") {
+	if len(warns) != 2 || strings.Contains(warns[1], "WARNING") || !strings.Contains(warns[1], "--quantity %T") || !strings.Contains(warns[1], "percent transmittance") {
 		t.Errorf("%%T-looking values: warnings %q", warns)
 	}
 	if ss[0].Name != "sample" {

@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 	"sync"
+	"sync/atomic"
 	"time"
 
 	"github.com/schollz/progressbar/v3"
@@ -131,6 +132,10 @@ func newSolveCmd() *cobra.Command {
 func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []string) error {
 	errw := &lockedWriter{w: cmd.ErrOrStderr()}
 	warn := warnTo(errw)
+	var warnings atomic.Int64 // warnings given, for --check-only's summary
+	say := warn
+	warn = func(msg string) { warnings.Add(1); say(msg) }
+	note := func(msg string) { fmt.Fprintln(errw, "huesolve: note:", msg) }
 
 	// Flags.
 	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
@@ -183,19 +188,15 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		}
 	}
 
-	var unmatched int
-	var mu sync.Mutex
+	inputs := unmix.ExpandInputs(scans)
+	solveSetNotes(set, model, o.scans.blank, inputs, note, warn)
+	track := newSheetTracker(sheet)
 	batch := &unmix.Batch{
 		Model:   model,
 		Workers: o.jobs,
 		Read:    ropt,
 		Factors: func(s *spectrum.Spectrum) (unmix.Factors, error) {
-			f, ok := sheet.Lookup(s)
-			if sheet != nil && !ok {
-				mu.Lock()
-				unmatched++
-				mu.Unlock()
-			}
+			f := track.lookup(s)
 			if f.Dilution == 0 {
 				f.Dilution = o.dilution
 			}
@@ -211,7 +212,6 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 			return report.SaveSamplePlot(r, names, report.SamplePlotPath(o.output.plots, seq+1, r.Sample, o.output.plotFormat))
 		}
 	}
-	inputs := unmix.ExpandInputs(scans)
 
 	// Progress on a terminal only.
 	var bar *progressbar.ProgressBar
@@ -229,8 +229,12 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	}
 
 	if o.checkOnly {
-		return runSolveCheck(cmd, batch, inputs, errw)
+		return runSolveCheck(cmd, batch, inputs, errw, func() int64 {
+			track.report(warn, o.dilution, o.pathCM)
+			return warnings.Load()
+		})
 	}
+	seen := newOutcomeNotes()
 
 	layout := report.LayoutOf(model)
 	width := outputWidth(cmd.OutOrStdout(), o.output.out)
@@ -246,6 +250,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 			batch.Encode = enc.AppendResult // formats in the workers
 		}
 		sum, err = batch.Run(cmd.Context(), inputs, func(out unmix.Outcome) error {
+			seen.add(out, warn)
 			if out.Err != nil {
 				what := out.File
 				if out.Result != nil {
@@ -299,9 +304,8 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if err != nil {
 		return err
 	}
-	if unmatched > 0 {
-		warn(fmt.Sprintf("%d sample(s) not in the sample sheet %s took --dilution %g and the default path", unmatched, o.samples, o.dilution))
-	}
+	track.report(warn, o.dilution, o.pathCM)
+	seen.report(warn)
 	line := fmt.Sprintf("huesolve: %d sample(s) solved from %d input(s): %d flagged, %d failed, %d input(s) unreadable",
 		sum.Solved, sum.Files, sum.Flagged, sum.Failed, sum.Unreadable)
 	if o.output.out != "" {
@@ -309,6 +313,8 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	}
 	fmt.Fprintln(errw, line)
 	switch {
+	case sum.Solved == 0 && sum.Unreadable+sum.Failed > 0:
+		return &exitError{code: exitFailure, msg: "nothing could be solved: the reasons are above"}
 	case sum.Unreadable > 0 || sum.Failed > 0:
 		return &exitError{code: exitSkipped}
 	case sum.Flagged > 0:
@@ -318,8 +324,10 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 }
 
 // runSolveCheck runs the batch with CheckOnly: each problem and a summary
-// line go to errw.
-func runSolveCheck(cmd *cobra.Command, batch *unmix.Batch, inputs []unmix.Input, errw io.Writer) error {
+// line go to errw. after runs when the batch is done and returns the
+// number of warnings given, which the summary counts: a check never says
+// "ready" without a word when solving would warn.
+func runSolveCheck(cmd *cobra.Command, batch *unmix.Batch, inputs []unmix.Input, errw io.Writer, after func() int64) error {
 	batch.CheckOnly = true
 	sum, err := batch.Run(cmd.Context(), inputs, func(out unmix.Outcome) error {
 		switch {
@@ -339,8 +347,13 @@ func runSolveCheck(cmd *cobra.Command, batch *unmix.Batch, inputs []unmix.Input,
 	if err != nil {
 		return err
 	}
-	fmt.Fprintf(errw, "huesolve: %d sample(s) read from %d input(s): %d ready to solve, %d cannot be solved, %d input(s) unreadable\n",
+	nw := after()
+	line := fmt.Sprintf("huesolve: %d sample(s) read from %d input(s): %d ready to solve, %d cannot be solved, %d input(s) unreadable",
 		sum.Samples, sum.Files, sum.Checked, sum.Failed, sum.Unreadable)
+	if nw > 0 {
+		line += fmt.Sprintf("; %d warning(s) above, which solving would give too", nw)
+	}
+	fmt.Fprintln(errw, line)
 	if sum.Unreadable > 0 || sum.Failed > 0 {
 		return &exitError{code: exitSkipped}
 	}
