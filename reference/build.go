@@ -844,7 +844,7 @@ func checkDesign(fit []Row, names []string, intercept bool) error {
 }
 
 func designNames(names []string, intercept bool) string {
-	s := fmt.Sprint(names)
+	s := strings.Join(names, ", ")
 	if intercept {
 		s += " and the intercept"
 	}
@@ -916,6 +916,45 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 			moved, len(rows), len(grid), sh.Standards[0].File, grid[0], grid[len(grid)-1])
 	}
 	return grid, nil
+}
+
+// narrowNote says which scans limit the shared range lo-hi to less than
+// the first standard's grid (first): those starting at lo or ending at
+// hi, each with its own range, and the range the other scans share.
+func narrowNote(sheet string, rows []Row, blank *spectrum.Spectrum, first []float64, lo, hi float64) string {
+	s := gridSlack * (first[len(first)-1] - first[0])
+	cutLo, cutHi := lo > first[0]+s, hi < first[len(first)-1]-s
+	limits := func(wl []float64) bool {
+		return cutLo && wl[0] >= lo-s || cutHi && wl[len(wl)-1] <= hi+s
+	}
+	var names []string
+	otherLo, otherHi := math.Inf(-1), math.Inf(1)
+	span := func(wl []float64) string { return fmt.Sprintf("%g-%g nm", wl[0], wl[len(wl)-1]) }
+	for _, r := range rows {
+		wl := r.Scan.Wavelengths
+		if limits(wl) {
+			n := r.File
+			if r.Column != "" {
+				n += " column " + r.Column
+			}
+			names = append(names, fmt.Sprintf("%s (%s line %d, %s)", n, sheet, r.Line, span(wl)))
+			continue
+		}
+		otherLo, otherHi = max(otherLo, wl[0]), min(otherHi, wl[len(wl)-1])
+	}
+	if blank != nil {
+		if wl := blank.Wavelengths; limits(wl) {
+			names = append(names, fmt.Sprintf("the blank %s (%s)", blank.Source, span(wl)))
+		} else {
+			otherLo, otherHi = max(otherLo, wl[0]), min(otherHi, wl[len(wl)-1])
+		}
+	}
+	total := len(names)
+	if total > listMax {
+		names = append(names[:listMax], fmt.Sprintf("and %d more", total-listMax))
+	}
+	return fmt.Sprintf("the grid is limited to %g-%g nm, the range all scans share, by %s %s; the other scans share %g-%g nm (leave out or rescan %s, or choose --window)",
+		lo, hi, plural(total, "the scan", "the scans"), strings.Join(names, ", "), otherLo, otherHi, plural(total, "it", "them"))
 }
 
 // onGrid returns the values of s on grid: copied when s holds those
