@@ -1,0 +1,177 @@
+package main
+
+// Notes and warnings of solve that need more than one line of code: what
+// the reference set and the options imply for the results, which rows of
+// the sample sheet were used, samples sharing a name, and scans too dark
+// to read.
+
+import (
+	"fmt"
+	"os"
+	"strings"
+	"sync"
+
+	"huesolve/reference"
+	"huesolve/spectrum"
+	"huesolve/unmix"
+)
+
+// listCut is the most names a note lists before it gives the rest as a
+// count ("and 12 more").
+const listCut = 10
+
+// nameList joins names, cut after listCut with a count of the rest.
+func nameList(names []string) string {
+	if len(names) <= listCut {
+		return strings.Join(names, ", ")
+	}
+	return fmt.Sprintf("%s and %d more", strings.Join(names[:listCut], ", "), len(names)-listCut)
+}
+
+// solveSetNotes tells, before solving, what the reference set and the
+// options imply: no blank, compounds whose calibration was flagged, and a
+// smoothing pre-treatment that takes the Durbin-Watson flag out of play.
+func solveSetNotes(set *reference.Set, model *unmix.Model, blank string, inputs []unmix.Input, note, warn func(string)) {
+	if blank == "" {
+		note("no --blank given: the samples are fitted as read, without a blank subtracted")
+	} else if bi, err := os.Stat(blank); err == nil {
+		for _, in := range inputs {
+			if fi, err := os.Stat(in.Path); err == nil && os.SameFile(bi, fi) {
+				warn(fmt.Sprintf("the blank %s is also among the scans to solve: it is solved as a sample too", blank))
+				break
+			}
+		}
+	}
+	var flagged []string
+	for _, c := range set.Compounds {
+		var fs []string
+		for _, f := range c.Flags {
+			if f == reference.FlagCurved || f == reference.FlagLackOfFit {
+				fs = append(fs, f)
+			}
+		}
+		if len(fs) > 0 {
+			flagged = append(flagged, c.Name+" ("+strings.Join(fs, ", ")+")")
+		}
+	}
+	if len(flagged) > 0 {
+		warn(fmt.Sprintf("the reference set's calibration flags %s: results hold only within the stated linear range, and those above it are flagged over",
+			nameList(flagged)))
+	}
+	if !model.DurbinWatsonFlagged() {
+		var steps []string
+		for _, st := range set.Pretreat {
+			steps = append(steps, st.String())
+		}
+		note(fmt.Sprintf("the reference set's pre-treatment (%s) smooths the scans, which makes neighbouring residuals correlated: Durbin-Watson is reported but does not raise the pattern flag",
+			strings.Join(steps, ", ")))
+	}
+}
+
+// sheetTracker looks up each sample in the sample sheet (nil: no sheet)
+// and remembers which rows were used and which samples took the
+// defaults. Safe for concurrent use.
+type sheetTracker struct {
+	sheet     *unmix.SampleSheet
+	mu        sync.Mutex
+	used      map[string]bool
+	defaulted []string
+}
+
+func newSheetTracker(sh *unmix.SampleSheet) *sheetTracker {
+	return &sheetTracker{sheet: sh, used: map[string]bool{}}
+}
+
+// lookup returns the sheet's factors of s (zero fields: defaults).
+func (t *sheetTracker) lookup(s *spectrum.Spectrum) unmix.Factors {
+	if t.sheet == nil {
+		return unmix.Factors{}
+	}
+	f, row, ok := t.sheet.Match(s)
+	t.mu.Lock()
+	defer t.mu.Unlock()
+	if ok {
+		t.used[row] = true
+	} else {
+		name := s.Name
+		if name == "" {
+			name = s.Source.String()
+		}
+		t.defaulted = append(t.defaulted, name)
+	}
+	return f
+}
+
+// report warns about samples the sheet does not name and sheet rows no
+// sample matched (a typing error in either, most often).
+func (t *sheetTracker) report(warn func(string), dilution, pathCM float64) {
+	if t.sheet == nil {
+		return
+	}
+	t.mu.Lock()
+	defer t.mu.Unlock()
+	if len(t.defaulted) > 0 {
+		path := "the reference set's path"
+		if pathCM > 0 {
+			path = fmt.Sprintf("--path-cm %g", pathCM)
+		}
+		warn(fmt.Sprintf("%d sample(s) not in the sample sheet %s took --dilution %g and %s: %s",
+			len(t.defaulted), t.sheet.File, dilution, path, nameList(t.defaulted)))
+	}
+	var unused []string
+	for _, n := range t.sheet.Names() {
+		if !t.used[n] {
+			unused = append(unused, fmt.Sprintf("%s (line %d)", n, t.sheet.Line(n)))
+		}
+	}
+	if len(unused) > 0 {
+		warn(fmt.Sprintf("%d row(s) of the sample sheet %s matched no sample: %s", len(unused), t.sheet.File, nameList(unused)))
+	}
+}
+
+// outcomeNotes watches the outcomes in order: it warns at once about a
+// sample with readings too dark to convert, and remembers sample names to
+// report those given by more than one scan.
+type outcomeNotes struct {
+	first map[string]string // sample name -> first file
+	dups  map[string][]string
+	order []string
+}
+
+func newOutcomeNotes() *outcomeNotes {
+	return &outcomeNotes{first: map[string]string{}, dups: map[string][]string{}}
+}
+
+// add takes one outcome (in input order).
+func (n *outcomeNotes) add(out unmix.Outcome, warn func(string)) {
+	r := out.Result
+	if r == nil {
+		return
+	}
+	if r.DarkPoints > 0 {
+		warn(fmt.Sprintf("%s: %s reads 0 %%T or below from %g nm (%d point(s) of the window): too dark to read there; those points are left out and the sample is flagged sat and dilute",
+			out.File, r.Sample, r.DarkNM, r.DarkPoints))
+	}
+	if f, ok := n.first[r.Sample]; !ok {
+		n.first[r.Sample] = out.File
+	} else {
+		if len(n.dups[r.Sample]) == 0 {
+			n.order = append(n.order, r.Sample)
+			n.dups[r.Sample] = []string{f}
+		}
+		n.dups[r.Sample] = append(n.dups[r.Sample], out.File)
+	}
+}
+
+// report warns about sample names given by more than one scan.
+func (n *outcomeNotes) report(warn func(string)) {
+	if len(n.order) == 0 {
+		return
+	}
+	var items []string
+	for _, s := range n.order {
+		items = append(items, fmt.Sprintf("%s (%s)", s, strings.Join(n.dups[s], ", ")))
+	}
+	warn(fmt.Sprintf("%d sample name(s) come from more than one scan, so their rows cannot be told apart by name: %s",
+		len(n.order), nameList(items)))
+}
