@@ -251,6 +251,14 @@ type Result struct {
 	encoded []byte // Batch.Encode's buffer, kept with the pooled Result
 }
 
+// windowError is NewModel's error for a window that reaches outside the
+// reference grid: its message names the window as the cause, and it is
+// ErrCoverage for errors.Is.
+type windowError struct{ msg string }
+
+func (e *windowError) Error() string        { return e.msg }
+func (e *windowError) Is(target error) bool { return target == ErrCoverage }
+
 // Errors returned by NewModel and Solve, tested with errors.Is.
 var (
 	// ErrSet: the reference set is unusable (inconsistent lengths,
@@ -396,7 +404,11 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	}
 	slack := gridSlack * (ghi - glo)
 	if wlo < glo-slack || whi > ghi+slack {
-		return nil, fmt.Errorf("unmix: window %g-%g nm reaches outside the reference grid %g-%g nm: %w", wlo, whi, glo, ghi, ErrCoverage)
+		how := "lies partly"
+		if whi <= glo || wlo >= ghi {
+			how = "lies"
+		}
+		return nil, &windowError{fmt.Sprintf("unmix: the window %g-%g nm %s outside the reference grid %g-%g nm: choose a window within %g-%g nm", wlo, whi, how, glo, ghi, glo, ghi)}
 	}
 	if opt.Shift {
 		wlo = max(wlo, glo+sh.opt.MaxShiftNM)

@@ -345,8 +345,15 @@ func TestGridAndCoverage(t *testing.T) {
 	if !errors.Is(err, ErrCoverage) || !strings.Contains(err.Error(), "450-800 nm") || !strings.Contains(err.Error(), "420-760 nm") {
 		t.Errorf("short scan: %v", err)
 	}
-	if _, err := NewModel(testSet(4), Options{WindowLo: 350, WindowHi: 700}); !errors.Is(err, ErrCoverage) {
+	// The window is the cause: the message says so and gives both ranges,
+	// not the wording of a scan that falls short.
+	if _, err := NewModel(testSet(4), Options{WindowLo: 350, WindowHi: 700}); !errors.Is(err, ErrCoverage) ||
+		!strings.Contains(err.Error(), "window 350-700 nm lies partly outside the reference grid 400-800 nm") || strings.Contains(err.Error(), "scan") {
 		t.Errorf("window outside the grid: %v", err)
+	}
+	if _, err := NewModel(testSet(4), Options{WindowLo: 200, WindowHi: 300}); !errors.Is(err, ErrCoverage) ||
+		!strings.Contains(err.Error(), "window 200-300 nm lies outside the reference grid 400-800 nm") {
+		t.Errorf("window wholly outside the grid: %v", err)
 	}
 }
 
