@@ -889,7 +889,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 			return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
 		}
 		if lo > first[0] || hi < first[len(first)-1] {
-			warn("the scans share %g-%g nm only; the grid is limited to that range", lo, hi)
+			warn("%s", narrowNote(rows, opt.Blank, first, lo, hi))
 		}
 	}
 	s := gridSlack * (first[len(first)-1] - first[0])
@@ -903,17 +903,18 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		return nil, fmt.Errorf("reference: build: %w: %s has %d points within %g-%g nm; need at least 2",
 			ErrWindow, sh.Standards[0].File, len(grid), lo, hi)
 	}
-	moved := 0
-	for _, r := range rows {
+	var moved []int
+	for i, r := range rows {
 		if _, resampled, err := onGrid(r.Scan, grid); err != nil {
 			return nil, &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: err}
 		} else if resampled {
-			moved++
+			moved = append(moved, i)
 		}
 	}
-	if moved > 0 {
-		warn("%d of %d scans were on other wavelength grids and were interpolated linearly onto the %d points of %s (%g-%g nm)",
-			moved, len(rows), len(grid), sh.Standards[0].File, grid[0], grid[len(grid)-1])
+	if len(moved) > 0 {
+		warn("%d of %d scans %s on other wavelength grids and %s interpolated linearly onto the %d points (%g-%g nm) of %s: %s",
+			len(moved), len(rows), plural(len(moved), "was", "were"), plural(len(moved), "was", "were"),
+			len(grid), grid[0], grid[len(grid)-1], rowName(sh.Standards[0]), rowList(moved, rows))
 	}
 	return grid, nil
 }
@@ -921,7 +922,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 // narrowNote says which scans limit the shared range lo-hi to less than
 // the first standard's grid (first): those starting at lo or ending at
 // hi, each with its own range, and the range the other scans share.
-func narrowNote(sheet string, rows []Row, blank *spectrum.Spectrum, first []float64, lo, hi float64) string {
+func narrowNote(rows []Row, blank *spectrum.Spectrum, first []float64, lo, hi float64) string {
 	s := gridSlack * (first[len(first)-1] - first[0])
 	cutLo, cutHi := lo > first[0]+s, hi < first[len(first)-1]-s
 	limits := func(wl []float64) bool {
@@ -937,7 +938,7 @@ func narrowNote(sheet string, rows []Row, blank *spectrum.Spectrum, first []floa
 			if r.Column != "" {
 				n += " column " + r.Column
 			}
-			names = append(names, fmt.Sprintf("%s (%s line %d, %s)", n, sheet, r.Line, span(wl)))
+			names = append(names, fmt.Sprintf("%s (sheet line %d, %s)", n, r.Line, span(wl)))
 			continue
 		}
 		otherLo, otherHi = max(otherLo, wl[0]), min(otherHi, wl[len(wl)-1])
@@ -953,8 +954,8 @@ func narrowNote(sheet string, rows []Row, blank *spectrum.Spectrum, first []floa
 	if total > listMax {
 		names = append(names[:listMax], fmt.Sprintf("and %d more", total-listMax))
 	}
-	return fmt.Sprintf("the grid is limited to %g-%g nm, the range all scans share, by %s %s; the other scans share %g-%g nm (leave out or rescan %s, or choose --window)",
-		lo, hi, plural(total, "the scan", "the scans"), strings.Join(names, ", "), otherLo, otherHi, plural(total, "it", "them"))
+	return fmt.Sprintf("the grid is limited to %g-%g nm, the range all scans share, by %s %s; the other scans share %g-%g nm (leave out or rescan %s, or give a window within %g-%g nm)",
+		lo, hi, plural(total, "the scan", "the scans"), strings.Join(names, ", "), otherLo, otherHi, plural(total, "it", "them"), lo, hi)
 }
 
 // onGrid returns the values of s on grid: copied when s holds those

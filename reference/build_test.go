@@ -455,6 +455,46 @@ func TestBuildNotLinear(t *testing.T) {
 	}
 }
 
+// TestBuildNarrowScans: a standard or two covering less than the others
+// limit the grid; the note names them, their sheet lines and ranges, and
+// the range the others share. Many are counted after the first five.
+func TestBuildNarrowScans(t *testing.T) {
+	wide := linGrid(400, 2, 151) // 400-700 nm
+	k := [][]float64{band(wide, 550, 30, 0.1)}
+	conc := [][]float64{{0}, {1}, {2}, {3}, {4}, {5}, {6}, {7}, {8}, {9}, {10}}
+	narrow := func(sh *Sheet, i int, lo, hi float64) {
+		g := linGrid(lo, 2, int((hi-lo)/2)+1)
+		sh.Standards[i].Scan = &spectrum.Spectrum{Wavelengths: g, Values: scale(band(g, 550, 30, 0.1), conc[i+1][0])}
+	}
+	sh := memSheet([]string{"dye"}, wide, conc, synth(conc, k, 0, 0, nil))
+	narrow(sh, 3, 450, 650)
+	narrow(sh, 6, 420, 700)
+	var warned []string
+	set, err := Build(sh, Options{Now: fixedNow, Warn: func(m string) { warned = append(warned, m) }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if set.Grid[0] != 450 || set.Grid[len(set.Grid)-1] != 650 {
+		t.Errorf("grid %g-%g nm, want 450-650", set.Grid[0], set.Grid[len(set.Grid)-1])
+	}
+	want := "the grid is limited to 450-650 nm, the range all scans share, by the scan std-05.csv (sheet line 6, 450-650 nm); the other scans share 420-700 nm"
+	if all := strings.Join(warned, "\n"); !strings.Contains(all, want) {
+		t.Errorf("warnings %q, want %q", warned, want)
+	}
+	// Seven narrow scans: five named, two counted.
+	sh = memSheet([]string{"dye"}, wide, conc, synth(conc, k, 0, 0, nil))
+	for i := 1; i < 8; i++ {
+		narrow(sh, i, 450, 700)
+	}
+	warned = nil
+	if _, err := Build(sh, Options{Now: fixedNow, Warn: func(m string) { warned = append(warned, m) }}); err != nil {
+		t.Fatal(err)
+	}
+	if all := strings.Join(warned, "\n"); !strings.Contains(all, "std-07.csv (sheet line 8, 450-700 nm), and 2 more; the other scans share 400-700 nm") {
+		t.Errorf("warnings %q", warned)
+	}
+}
+
 func hasFlag(flags []string, f string) bool {
 	for _, x := range flags {
 		if x == f {
@@ -513,8 +553,10 @@ func TestBuildGrids(t *testing.T) {
 	if !spectrum.SameGrid(set.Grid, fine) {
 		t.Errorf("grid %g-%g nm (%d points), want the first standard's", set.Grid[0], set.Grid[len(set.Grid)-1], len(set.Grid))
 	}
-	if !strings.Contains(strings.Join(warned, "\n"), "interpolated") {
-		t.Errorf("no note of interpolation in %q", warned)
+	// The note names the scan it interpolated, with its sheet line.
+	if all := strings.Join(warned, "\n"); !strings.Contains(all, "1 of 6 scans was on other wavelength grids") ||
+		!strings.Contains(all, ": std-04.csv (sheet line 5)") {
+		t.Errorf("interpolation note %q does not name std-04.csv", warned)
 	}
 	// Window inside both.
 	set, err = Build(sh, Options{WindowLo: 450, WindowHi: 550, Now: fixedNow})
