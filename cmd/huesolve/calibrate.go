@@ -78,7 +78,7 @@ func newCalibrateCmd() *cobra.Command {
 	}
 	f := cmd.Flags()
 	f.StringVarP(&o.out, "output", "o", "", "reference set file to write (JSON)")
-	o.scans.add(f)
+	o.scans.add(f, "every standard, instead of the sheet's blank rows")
 	o.scans.addUnit(f)
 	o.output.addPlots(f, "plots of the absorptivities and calibration lines")
 	f.StringVar(&o.window, "window", "", "wavelength window `LO-HI` in nm (default: the range all scans share)")

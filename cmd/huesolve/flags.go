@@ -58,7 +58,7 @@ func (f *fitFlags) add(fs *pflag.FlagSet) {
 	fs.StringVar(&f.window, "window", "", "wavelength window `LO-HI` in nm for the fit (default: the whole reference grid)")
 	fs.BoolVar(&f.shift, "shift", false, "estimate a wavelength shift of each scan")
 	fs.Float64Var(&f.maxShift, "max-shift", unmix.DefaultMaxShiftNM, "largest shift in nm that --shift may find")
-	fs.Float64Var(&f.ceiling, "ceiling", 0, "absorbance above which points are left out (default: the reference set's)")
+	fs.Float64Var(&f.ceiling, "ceiling", 0, "absorbance above which points are left out (0 or unset: the reference set's ceiling)")
 }
 
 // baselineModel parses --baseline.
@@ -137,9 +137,10 @@ type scanFlags struct {
 	unit     string
 }
 
-// add binds --blank and --quantity.
-func (s *scanFlags) add(fs *pflag.FlagSet) {
-	fs.StringVar(&s.blank, "blank", "", "blank scan `FILE` subtracted from every scan (for a standards sheet: instead of its blank rows)")
+// add binds --blank and --quantity; from says what the blank is
+// subtracted from in this command, e.g. "every sample".
+func (s *scanFlags) add(fs *pflag.FlagSet, from string) {
+	fs.StringVar(&s.blank, "blank", "", "blank scan `FILE` subtracted from "+from)
 	s.addQuantity(fs)
 }
 

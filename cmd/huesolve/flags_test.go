@@ -11,7 +11,7 @@ import (
 // the shared groups has the same default, help text and shorthand
 // everywhere it appears.
 func TestSharedFlagsAgree(t *testing.T) {
-	shared := []string{"window", "baseline", "weighted", "shift", "max-shift", "ceiling", "blank", "quantity", "unit",
+	shared := []string{"window", "baseline", "weighted", "shift", "max-shift", "ceiling", "quantity", "unit",
 		"format", "output", "plot-format"}
 	// Flags that mean something else in a command: calibrate's -o is the
 	// reference set, its --window the range kept and its --ceiling the
@@ -78,6 +78,27 @@ func TestSharedFlagChecks(t *testing.T) {
 		}
 		if msgs[0] != msgs[1] {
 			t.Errorf("%v: solve says %q, verify %q", c.args, msgs[0], msgs[1])
+		}
+	}
+}
+
+// TestFlagHelpSaysWhat: --blank says what it is subtracted from in each
+// command, and --ceiling what 0 means.
+func TestFlagHelpSaysWhat(t *testing.T) {
+	root := newRootCmd()
+	want := map[string]string{
+		"calibrate": "subtracted from every standard, instead of the sheet's blank rows",
+		"solve":     "subtracted from every sample",
+		"verify":    "subtracted from every check standard, instead of the checks sheet's blank rows",
+	}
+	for _, c := range root.Commands() {
+		if f := c.Flags().Lookup("blank"); f != nil && !strings.HasSuffix(f.Usage, want[c.Name()]) || want[c.Name()] != "" && f == nil {
+			t.Errorf("%s --blank: %v, want it to end %q", c.Name(), f, want[c.Name()])
+		}
+		if c.Name() == "solve" || c.Name() == "verify" {
+			if f := c.Flags().Lookup("ceiling"); f == nil || !strings.Contains(f.Usage, "0 or unset: the reference set's ceiling") {
+				t.Errorf("%s --ceiling help does not say what 0 means", c.Name())
+			}
 		}
 	}
 }

@@ -119,7 +119,7 @@ func newSolveCmd() *cobra.Command {
 	}
 	f := cmd.Flags()
 	o.fit.add(f)
-	o.scans.add(f)
+	o.scans.add(f, "every sample")
 	o.output.add(f, "one figure per sample")
 	f.Float64Var(&o.dilution, "dilution", 1, "dilution factor of every sample (the sample sheet overrides it)")
 	f.Float64Var(&o.pathCM, "path-cm", 0, "cell path length in cm (default: the reference set's; the sample sheet overrides it)")

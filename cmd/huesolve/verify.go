@@ -83,7 +83,7 @@ func newVerifyCmd() *cobra.Command {
 	}
 	f := cmd.Flags()
 	o.fit.add(f)
-	o.scans.add(f)
+	o.scans.add(f, "every check standard, instead of the checks sheet's blank rows")
 	o.scans.addUnit(f)
 	o.output.add(f, "found-vs-known plots")
 	f.StringVar(&o.recovery, "recovery", "98-102", "acceptance range of the mean recovery, `LO-HI` in percent")
