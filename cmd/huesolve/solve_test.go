@@ -280,10 +280,19 @@ func TestSolveBadInputs(t *testing.T) {
 	if _, err := os.Stat(out2); !os.IsNotExist(err) {
 		t.Errorf("%s exists after a failed run", out2)
 	}
-	// Every input unreadable: exit 3, an empty but complete document.
-	stdout, _, code = run(t, "solve", ref, bad[0], "--format", "json")
-	if code != exitSkipped || !strings.Contains(stdout, `"samples": [`) || !strings.Contains(stdout, `"failed": [`) {
-		t.Errorf("all bad: exit %d, output %q", code, stdout)
+	// Every input unreadable: nothing solved is a failure (exit 1), with
+	// an empty but complete document; a table prints nothing at all.
+	stdout, errOut, code = run(t, "solve", ref, bad[0], "--format", "json")
+	if code != exitFailure || !strings.Contains(stdout, `"samples": [`) || !strings.Contains(stdout, `"failed": [`) || !strings.Contains(errOut, "nothing could be solved") {
+		t.Errorf("all bad: exit %d, output %q, stderr %q", code, stdout, errOut)
+	}
+	stdout, errOut, code = run(t, "solve", ref, bad[0], good1)
+	if code != exitSkipped || strings.Contains(stdout, "could not be solved") || !strings.Contains(errOut, "1 sample(s) solved from 2 input(s)") {
+		t.Errorf("one bad, one good: exit %d, stdout %q, stderr %q", code, stdout, errOut)
+	}
+	stdout, _, code = run(t, "solve", ref, bad[0])
+	if code != exitFailure || stdout != "" {
+		t.Errorf("all bad, table: exit %d, stdout %q", code, stdout)
 	}
 }
 

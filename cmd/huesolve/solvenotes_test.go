@@ -1,0 +1,160 @@
+package main
+
+import (
+	"math"
+	"os"
+	"path/filepath"
+	"strconv"
+	"strings"
+	"testing"
+
+	"huesolve/baseline"
+	"huesolve/reference"
+	"huesolve/spectrum"
+)
+
+// TestSolveSheetNotes: a sample sheet with a misspelt column is refused
+// naming sheet, line and column; one with a misspelt sample name makes
+// solve name the row that matched nothing and the sample that took the
+// defaults.
+func TestSolveSheetNotes(t *testing.T) {
+	dir := t.TempDir()
+	ref := writeSolveSet(t, dir)
+	scan := writeScans(t, filepath.Join(dir, "runs.csv"), solveScan("S1", []float64{5, 3, 2, 8}, 0, 1), solveScan("S10", []float64{1, 3, 2, 1}, 0, 2))
+	hdr := filepath.Join(dir, "ss-hdr.csv")
+	if err := os.WriteFile(hdr, []byte("sample,dilution,path\nS10,4,0.5\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out, errOut, code := run(t, "solve", ref, scan, "--samples", hdr)
+	if code != exitFailure || out != "" || !strings.Contains(errOut, hdr+`:1:3: unknown column "path"`) || !strings.Contains(errOut, "path_cm") {
+		t.Errorf("misspelt column: exit %d, stderr:\n%s", code, errOut)
+	}
+	typo := filepath.Join(dir, "ss-typo.csv")
+	if err := os.WriteFile(typo, []byte("sample,dilution,path_cm\nS10,4,0.5\nS1O,2,1\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, errOut, code = run(t, "solve", ref, scan, "--samples", typo)
+	for _, want := range []string{
+		"1 sample(s) not in the sample sheet " + typo + " took --dilution 1 and the reference set's path: S1\n",
+		"1 row(s) of the sample sheet " + typo + " matched no sample: S1O (line 3)\n",
+		"no --blank given",
+	} {
+		if !strings.Contains(errOut, want) {
+			t.Errorf("stderr lacks %q:\n%s", want, errOut)
+		}
+	}
+	if code != exitOK {
+		t.Errorf("exit %d", code)
+	}
+	// --check-only looks the sheet up too.
+	_, errOut, _ = run(t, "solve", ref, scan, "--samples", typo, "--check-only")
+	if !strings.Contains(errOut, "matched no sample: S1O (line 3)") || !strings.Contains(errOut, "2 warning(s) above") {
+		t.Errorf("check-only with a sheet typo:\n%s", errOut)
+	}
+}
+
+// TestSolveDarkAndDuplicates: a %T scan with a reading of 0 inside the
+// window is flagged sat and dilute, with the file and wavelength named;
+// two scans with the same sample name are warned about.
+func TestSolveDarkAndDuplicates(t *testing.T) {
+	dir := t.TempDir()
+	ref := writeSolveSet(t, dir)
+	s := solveScan("D1", []float64{5, 3, 2, 8}, 0, 1)
+	s.Quantity = spectrum.PercentT
+	for i, a := range s.Values {
+		s.Values[i] = math.Round(1e4*100*math.Pow(10, -a)) / 1e4
+		if s.Wavelengths[i] == 500 {
+			s.Values[i] = 0
+		}
+	}
+	dark := writeScans(t, filepath.Join(dir, "dark.csv"), s)
+	for _, d := range []string{"a", "b"} {
+		if err := os.Mkdir(filepath.Join(dir, d), 0o755); err != nil {
+			t.Fatal(err)
+		}
+		writeScans(t, filepath.Join(dir, d, "s4.csv"), solveScan("s4", []float64{1, 1, 1, 1}, 0, 4))
+	}
+	out, errOut, code := run(t, "solve", ref, dark, filepath.Join(dir, "a"), filepath.Join(dir, "b"))
+	if code != exitFlagged || !strings.Contains(out, "sat,dilute") {
+		t.Errorf("0 %%T at 500 nm: exit %d, table:\n%s", code, out)
+	}
+	for _, want := range []string{
+		dark + ": D1 reads 0 %T or below from 500 nm (1 point(s) of the window): too dark to read there",
+		"1 sample name(s) come from more than one scan",
+		"s4 (" + filepath.Join(dir, "a", "s4.csv") + ", " + filepath.Join(dir, "b", "s4.csv") + ")",
+	} {
+		if !strings.Contains(errOut, want) {
+			t.Errorf("stderr lacks %q:\n%s", want, errOut)
+		}
+	}
+}
+
+// TestSolveCheckOnlyWarns: an unlabelled file of %T values is read as
+// absorbance; --check-only refuses it as solve would (too dark) instead
+// of calling it ready, and its summary counts the reader's warning.
+func TestSolveCheckOnlyWarns(t *testing.T) {
+	dir := t.TempDir()
+	ref := writeSolveSet(t, dir)
+	s := solveScan("P1", []float64{5, 3, 2, 8}, 0, 1)
+	var b strings.Builder
+	b.WriteString("wavelength,P1\n")
+	for i, l := range s.Wavelengths {
+		b.WriteString(ftoa(l) + "," + ftoa(100*math.Pow(10, -s.Values[i])) + "\n")
+	}
+	p := filepath.Join(dir, "pt.csv")
+	if err := os.WriteFile(p, []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, solveErr, code := run(t, "solve", ref, p)
+	if code != exitFailure || !strings.Contains(solveErr, "dilute at least") {
+		t.Fatalf("solve of %%T read as absorbance: exit %d\n%s", code, solveErr)
+	}
+	_, errOut, code := run(t, "solve", ref, p, "--check-only")
+	if code != exitSkipped || strings.Contains(errOut, "1 ready to solve") || !strings.Contains(errOut, "too few points below the absorbance ceiling") ||
+		!strings.Contains(errOut, "warning(s) above, which solving would give too") {
+		t.Errorf("check-only: exit %d\n%s", code, errOut)
+	}
+}
+
+func ftoa(v float64) string { return strconv.FormatFloat(v, 'f', 4, 64) }
+
+// TestSolveSetNotes: compounds flagged curved or lack-of-fit in the set
+// are named before solving, and a Savitzky-Golay pre-treatment says why
+// Durbin-Watson raises no flag.
+func TestSolveSetNotes(t *testing.T) {
+	dir := t.TempDir()
+	path := writeSolveSet(t, dir)
+	set, err := reference.Load(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	set.Compounds[3].Flags = []string{reference.FlagCurved, reference.FlagFewLevels}
+	st, err := baseline.ParseStep("sg:11,2")
+	if err != nil {
+		t.Fatal(err)
+	}
+	set.Pretreat = []baseline.Step{st}
+	for k := range set.Compounds {
+		if set.Compounds[k].Absorptivity, err = st.Apply(set.Grid, set.Compounds[k].Absorptivity); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := set.Save(path); err != nil {
+		t.Fatal(err)
+	}
+	scan := writeScans(t, filepath.Join(dir, "s.csv"), solveScan("S1", []float64{5, 3, 2, 8}, 0, 1))
+	out, errOut, code := run(t, "solve", path, scan, "--blank", scan)
+	for _, want := range []string{
+		"the reference set's calibration flags teal (curved): results hold only within the stated linear range",
+		"pre-treatment (sg:11,2) smooths the scans",
+		"Durbin-Watson is reported but does not raise the pattern flag",
+		"the blank " + scan + " is also among the scans to solve",
+	} {
+		if !strings.Contains(errOut, want) {
+			t.Errorf("stderr lacks %q:\n%s", want, errOut)
+		}
+	}
+	if strings.Contains(out, "pattern") || code == exitFailure {
+		t.Errorf("exit %d, table:\n%s", code, out)
+	}
+}
