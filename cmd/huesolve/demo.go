@@ -256,8 +256,7 @@ the reference set can be used for samples.`,
 			solve("--format", "json", "-o", res("samples.json")),
 		},
 		want: []int{exitFlagged},
-		note: `Exit code 4: some samples are flagged, as they should be.
-  lot-105     a trace of Ambrelin, found but below the quantitation limit (<loq)
+		note: `Exit code 4: three samples carry a "!" flag, as they should.
   lot-106     too dark: readings above the ceiling were left out (sat), and the
               tool asks for a dilution (dilute); lot-106-d5 is the same batch
               diluted 1+4 and scanned again, with no flag
@@ -266,6 +265,8 @@ the reference set can be used for samples.`,
   lot-108     holds a violet dye that is not in the reference set: no choice of
               the four dyes fits it (misfit, pattern), so its numbers are wrong
               and must not be reported
+lot-105 carries no "!" flag: its trace of Ambrelin is found but below the
+quantitation limit (<loq), a result to report as "detected, below LOQ".
 Plots of every fit: results/plots/samples.`,
 	}, {
 		title: "refit the turbid sample with a scattering term",

@@ -1,9 +1,12 @@
 package main
 
 import (
+	"fmt"
+	"maps"
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
 	"slices"
 	"strings"
 	"testing"
@@ -135,6 +138,42 @@ func TestDemoRecoversTruth(t *testing.T) {
 				t.Errorf("%s: flags %v, want misfit or pattern", s.Name, fl)
 			}
 		}
+	}
+
+	// The narrative after step 6 lists exactly the samples that carry a
+	// "!" flag, and says how many, as solve's summary counts them.
+	flagged := map[string]bool{}
+	for key, fl := range amountFlags {
+		for _, f := range fl {
+			if warning[f] {
+				flagged[strings.Split(key, "/")[0]] = true
+			}
+		}
+	}
+	for name, fl := range sampleFlags {
+		for _, f := range fl {
+			if warning[f] {
+				flagged[name] = true
+			}
+		}
+	}
+	start := strings.Index(out, "Exit code 4:")
+	end := strings.Index(out, "Plots of every fit")
+	if start < 0 || end < start {
+		t.Fatalf("demo output lacks the exit-code-4 paragraph:\n%s", out)
+	}
+	para := out[start:end]
+	listed := map[string]bool{}
+	for _, m := range regexp.MustCompile(`(?m)^  (lot-\S+) `).FindAllStringSubmatch(para, -1) {
+		listed[m[1]] = true
+	}
+	if !maps.Equal(listed, flagged) {
+		t.Errorf("step 6 lists %v as flagged, samples.json flags %v:\n%s", slices.Sorted(maps.Keys(listed)), slices.Sorted(maps.Keys(flagged)), para)
+	}
+	words := []string{"no", "one", "two", "three", "four", "five", "six"}
+	if n := len(flagged); n >= len(words) || !strings.Contains(para, words[n]+" samples carry") && !strings.Contains(para, words[n]+" sample carries") ||
+		!strings.Contains(errOut, fmt.Sprintf(": %d flagged,", n)) {
+		t.Errorf("step 6 does not say %d samples are flagged as the summary does:\n%s\nstderr:\n%s", n, para, errOut)
 	}
 
 	// The demo's advice for the turbid sample: a scattering term fixes it.
