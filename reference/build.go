@@ -43,6 +43,13 @@ const (
 	// uncertainty of the order of a whole absorbance unit: this project's
 	// choice.
 	maxDesignCond = 1e3
+	// warnDesignCond is the condition number of the column-scaled
+	// concentration design above which Build warns that compounds vary
+	// nearly together: condition indexes above 30 signal moderate to
+	// strong dependence (Belsley, Kuh & Welsch, Regression Diagnostics,
+	// 1980; recalled from memory), the limit solve applies to the
+	// spectra.
+	warnDesignCond = 30.0
 	// rankTol is the smallest singular value of the column-scaled design,
 	// relative to the largest, below which columns count as linearly
 	// dependent (a few hundred ulps).
@@ -208,8 +215,13 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 		return nil, fmt.Errorf("reference: build: %s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
 			sh.Path, ErrTooFewStandards, len(fit), ncoef, ncoef+1)
 	}
-	if err := checkDesign(fit, sh.Compounds, intercept); err != nil {
+	dcond, err := checkDesign(fit, sh.Compounds, intercept)
+	if err != nil {
 		return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
+	}
+	if dcond > warnDesignCond {
+		warn("%s: the concentrations of %s vary nearly together across the standards (condition number %.3g, above %g): their absorptivities are uncertain; add standards that vary each compound on its own",
+			sh.Path, designNames(sh.Compounds, intercept), dcond, warnDesignCond)
 	}
 
 	// Common grid.
@@ -632,7 +644,8 @@ func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
 			return fmt.Errorf("%w: %s would be %g in every standard left", ErrNoVariation, name, rows[0].Conc[k])
 		}
 	}
-	return checkDesign(rows, names, intercept)
+	_, err := checkDesign(rows, names, intercept)
+	return err
 }
 
 // curvedWithinRange reports whether the used readings of l up to its
@@ -802,8 +815,8 @@ func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, e
 
 // checkDesign refuses a concentration design (with its intercept column)
 // that is rank deficient or badly conditioned once each column is scaled
-// to unit length.
-func checkDesign(fit []Row, names []string, intercept bool) error {
+// to unit length, and returns its condition number.
+func checkDesign(fit []Row, names []string, intercept bool) (float64, error) {
 	m := len(names)
 	nc := m
 	if intercept {
@@ -830,17 +843,18 @@ func checkDesign(fit []Row, names []string, intercept bool) error {
 	}
 	var svd mat.SVD
 	if !svd.Factorize(x, mat.SVDNone) {
-		return fmt.Errorf("%w: the singular value decomposition of the design failed", ErrDesign)
+		return 0, fmt.Errorf("%w: the singular value decomposition of the design failed", ErrDesign)
 	}
 	sv := svd.Values(nil)
 	hint := "vary each compound on its own, for example with pure standards of each"
 	if sv[len(sv)-1] <= rankTol*sv[0] {
-		return fmt.Errorf("%w: the concentrations of %s are linearly dependent across the standards (%s)", ErrDesign, designNames(names, intercept), hint)
+		return math.Inf(1), fmt.Errorf("%w: the concentrations of %s are linearly dependent across the standards (%s)", ErrDesign, designNames(names, intercept), hint)
 	}
-	if c := sv[0] / sv[len(sv)-1]; c > maxDesignCond {
-		return fmt.Errorf("%w: the concentrations of %s vary too nearly together (condition number %.3g, limit %g; %s)", ErrDesign, designNames(names, intercept), c, maxDesignCond, hint)
+	c := sv[0] / sv[len(sv)-1]
+	if c > maxDesignCond {
+		return c, fmt.Errorf("%w: the concentrations of %s vary too nearly together (condition number %.3g, limit %g; %s)", ErrDesign, designNames(names, intercept), c, maxDesignCond, hint)
 	}
-	return nil
+	return c, nil
 }
 
 func designNames(names []string, intercept bool) string {

@@ -495,6 +495,47 @@ func TestBuildNarrowScans(t *testing.T) {
 	}
 }
 
+// TestBuildNearlyCollinearDesign: concentrations that rise nearly
+// together in every standard are accepted (condition number below the
+// refusal limit) with a warning; the pure standards of the other tests
+// get none.
+func TestBuildNearlyCollinearDesign(t *testing.T) {
+	grid := linGrid(400, 5, 41)
+	k := trueK(grid)[:2]
+	var conc [][]float64
+	conc = append(conc, []float64{0, 0})
+	for i := 1; i <= 8; i++ {
+		// 5 % apart: the eight standards' column-scaled design with its
+		// intercept has condition number 48.3 (NumPy 1.24.2 SVD, run by
+		// hand; the blank row is not in the fit).
+		d := 0.05
+		if i%2 == 0 {
+			d = -d
+		}
+		conc = append(conc, []float64{float64(i), float64(i) * (1 + d)})
+	}
+	rng := rand.New(rand.NewPCG(9, 9))
+	var warned []string
+	_, err := Build(memSheet(mixNames[:2], grid, conc, synth(conc, k, 0, 0.0005, rng)),
+		Options{Now: fixedNow, Warn: func(m string) { warned = append(warned, m) }})
+	if err != nil {
+		t.Fatal(err)
+	}
+	all := strings.Join(warned, "\n")
+	if !strings.Contains(all, "standards.csv: the concentrations of red, yellow and the intercept vary nearly together across the standards (condition number 48.3, above 30)") {
+		t.Errorf("no warning of a nearly collinear design in %q", warned)
+	}
+	conc = [][]float64{{0, 0}, {1, 0}, {2, 0}, {3, 0}, {0, 1}, {0, 2}, {0, 3}}
+	warned = nil
+	if _, err := Build(memSheet(mixNames[:2], grid, conc, synth(conc, k, 0, 0.0005, rng)),
+		Options{Now: fixedNow, Warn: func(m string) { warned = append(warned, m) }}); err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(strings.Join(warned, "\n"), "nearly together") {
+		t.Errorf("pure standards warned about: %q", warned)
+	}
+}
+
 func hasFlag(flags []string, f string) bool {
 	for _, x := range flags {
 		if x == f {
