@@ -6,6 +6,8 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -160,5 +162,84 @@ func TestWindowBadFlags(t *testing.T) {
 		if code != exitUsage {
 			t.Errorf("%v: exit %d, want %d (stderr %q)", args, code, exitUsage, errOut)
 		}
+	}
+}
+
+// TestReadmeWindowCSVColumns: the README lists exactly the columns that
+// window --format csv writes, and says its relative errors are fractions
+// (checked against the table, which shows percent).
+func TestReadmeWindowCSVColumns(t *testing.T) {
+	var text strings.Builder
+	for _, l := range readReadme(t) {
+		text.WriteString(l.text + "\n")
+	}
+	readme := text.String()
+	start := strings.Index(readme, "`window --format csv` writes")
+	end := strings.Index(readme[max(start, 0):], "`--format json`")
+	if start < 0 || end < 0 {
+		t.Fatal("README: no paragraph starting \"`window --format csv` writes\"")
+	}
+	para := readme[start : start+end]
+	documented := map[string]bool{}
+	for _, m := range codeSpan.FindAllStringSubmatch(para, -1) {
+		if !strings.Contains(m[1], " ") {
+			documented[m[1]] = true
+		}
+	}
+	if !strings.Contains(para, "fractions of the level, not percent") {
+		t.Errorf("README does not say the relative errors are fractions:\n%s", para)
+	}
+
+	_, refs, _ := valCase(t, 1)
+	out, errOut, code := run(t, "window", refs, "--format", "csv")
+	if code != exitOK {
+		t.Fatalf("window: exit %d\n%s", code, errOut)
+	}
+	rows, err := csv.NewReader(strings.NewReader(out)).ReadAll()
+	if err != nil {
+		t.Fatal(err)
+	}
+	actual := map[string]bool{}
+	for _, col := range rows[0] {
+		for _, n := range []string{"red", "yellow"} {
+			for _, pre := range []string{"se_", "relative_se_"} {
+				if col == pre+n {
+					col = pre + "NAME"
+				}
+			}
+		}
+		actual[col] = true
+		if !documented[col] {
+			t.Errorf("README: window's CSV column %s is not documented", col)
+		}
+	}
+	for f := range documented {
+		if !actual[f] {
+			t.Errorf("README: documents window CSV column %s, which window does not write", f)
+		}
+	}
+
+	// The recommended row's worst_relative_se is the table's percent / 100.
+	col := map[string]int{}
+	for i, c := range rows[0] {
+		col[c] = i
+	}
+	var frac float64
+	for _, r := range rows[1:] {
+		if r[col["recommended"]] == "true" {
+			frac, err = strconv.ParseFloat(r[col["worst_relative_se"]], 64)
+			if err != nil {
+				t.Fatal(err)
+			}
+		}
+	}
+	table, _, _ := run(t, "window", refs)
+	m := regexp.MustCompile(`worst predicted error ([0-9.]+) %`).FindStringSubmatch(table)
+	if m == nil {
+		t.Fatalf("table lacks the recommended window's worst error:\n%s", table)
+	}
+	pct, _ := strconv.ParseFloat(m[1], 64)
+	if math.Abs(100*frac-pct) > 0.01*pct {
+		t.Errorf("worst_relative_se %g is not the table's %g %% as a fraction", frac, pct)
 	}
 }
