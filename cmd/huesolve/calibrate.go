@@ -11,6 +11,8 @@ import (
 	"huesolve/baseline"
 	"huesolve/reference"
 	"huesolve/report"
+	"huesolve/unmix"
+	"huesolve/validate"
 )
 
 func init() { commands = append(commands, newCalibrateCmd) }
@@ -154,6 +156,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if err != nil {
 		return err
 	}
+	calWarnCollinear(set, warn)
 	if err := set.Save(o.out); err != nil {
 		return err
 	}
@@ -177,6 +180,22 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		return &exitError{code: exitFlagged, msg: fmt.Sprintf("%d of %d compounds flagged (see the legend under the table); the set was written", flagged, len(set.Compounds))}
 	}
 	return nil
+}
+
+// calWarnCollinear warns when the set's absorptivity spectra are so alike
+// that solve would flag every sample illcond: the condition number of the
+// whole grid with an offset baseline, unweighted, as inspect shows it.
+func calWarnCollinear(set *reference.Set, warn func(string)) {
+	bl, err := baseline.ParseModel(valDefaultBaseline)
+	if err != nil {
+		return
+	}
+	m, err := validate.FiguresOfMerit(set, validate.MeritOptions{Baseline: bl})
+	if err != nil || !(m.Singular || m.Cond > unmix.CondLimit) {
+		return
+	}
+	warn(fmt.Sprintf("the absorptivity spectra of the compounds are nearly collinear over %g-%g nm: condition number %s with an offset baseline, above %g, so solve will flag every sample illcond and their standard errors are inflated (huesolve inspect shows which compounds overlap; huesolve window looks for a better window)",
+		m.WindowLo, m.WindowHi, valCondText(m.Cond, m.Singular), unmix.CondLimit))
 }
 
 // sourceDateEpoch reads the environment variable SOURCE_DATE_EPOCH (the

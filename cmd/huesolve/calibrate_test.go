@@ -270,3 +270,38 @@ func TestCalibrateErrors(t *testing.T) {
 		})
 	}
 }
+
+// TestCalibrateWarnsCollinear: two invented dyes whose bands lie 2 nm
+// apart give a reference set whose condition number (whole grid, offset
+// baseline, as inspect shows it) is far above the illcond limit: calibrate
+// says so. The two well-separated dyes of calCase do not.
+func TestCalibrateWarnsCollinear(t *testing.T) {
+	dir := t.TempDir()
+	wl := calGrid(400, 2, 151)
+	rng := rand.New(rand.NewPCG(4, 4))
+	ka, kb := calBand(wl, 470, 30, 0.04), calBand(wl, 472, 30, 0.04)
+	lines := []string{"scan,column,near (mg/L),nearer (mg/L)"}
+	for i, c := range [][2]float64{{0, 0}, {2, 0}, {4, 0}, {6, 0}, {8, 0}, {10, 0}, {0, 2}, {0, 4}, {0, 6}, {0, 8}, {0, 10}} {
+		v := make([]float64, len(wl))
+		for j := range v {
+			v[j] = c[0]*ka[j] + c[1]*kb[j] + 0.0005*rng.NormFloat64()
+		}
+		file := fmt.Sprintf("s%d.csv", i)
+		calWrite(t, filepath.Join(dir, file), &spectrum.Spectrum{Name: file, Wavelengths: wl, Values: v, Quantity: spectrum.Absorbance})
+		lines = append(lines, fmt.Sprintf("%s,,%g,%g", file, c[0], c[1]))
+	}
+	sheet := filepath.Join(dir, "standards.csv")
+	if err := os.WriteFile(sheet, []byte(strings.Join(lines, "\n")+"\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, errOut, code := run(t, "calibrate", sheet, "-o", filepath.Join(dir, "refs.json"))
+	if code == exitUsage || code == 1 || !strings.Contains(errOut, "huesolve: warning: the absorptivity spectra of the compounds are nearly collinear over 400-700 nm: condition number ") ||
+		!strings.Contains(errOut, "above 30") {
+		t.Errorf("exit %d, stderr %q: want a warning of nearly collinear spectra", code, errOut)
+	}
+	_, sheet = calCase(t)
+	_, errOut, _ = run(t, "calibrate", sheet, "-o", filepath.Join(t.TempDir(), "refs.json"))
+	if strings.Contains(errOut, "collinear") {
+		t.Errorf("well-separated dyes: stderr %q", errOut)
+	}
+}
