@@ -71,6 +71,9 @@ type Check struct {
 	// a recovery from an ill-conditioned or misfitting solve is not to
 	// be trusted as it stands.
 	Flags [][]string
+	// Zero, if not nil, marks per compound a result the non-negativity
+	// constraint holds at zero (unmix.FlagZero).
+	Zero []bool
 }
 
 // CheckRow is one compound in one check standard.
@@ -95,6 +98,9 @@ type CheckRow struct {
 	// Flags are the warning flags of the result (see package unmix),
 	// e.g. "illcond" or "misfit"; they do not change Pass.
 	Flags []string `json:"flags,omitempty"`
+	// HeldAtZero: the non-negativity constraint holds the result at zero
+	// (the compound is not seen; Found and SE are 0).
+	HeldAtZero bool `json:"held_at_zero,omitempty"`
 }
 
 // CompoundVerdict sums up one compound over all check standards.
@@ -196,6 +202,7 @@ func Assess(names, units []string, checks []Check, lim Limits) (*Verification, e
 			if k < len(c.Flags) {
 				row.Flags = c.Flags[k]
 			}
+			row.HeldAtZero = k < len(c.Zero) && c.Zero[k]
 			sumSq += e * e
 			if c.Known[k] > 0 {
 				r := 100 * c.Found[k] / c.Known[k]
@@ -380,11 +387,12 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *reference.She
 func checkFrom(name string, conc []float64, col []int, res *unmix.Result) Check {
 	n := len(col)
 	c := Check{Name: name, Known: make([]float64, n), Found: make([]float64, n), SE: make([]float64, n), LOQ: make([]float64, n),
-		Flags: make([][]string, n)}
+		Flags: make([][]string, n), Zero: make([]bool, n)}
 	for k := range n {
 		c.Known[k] = conc[col[k]]
 		a := res.Amounts[k]
 		c.Found[k], c.SE[k], c.LOQ[k] = a.Conc, a.SE, a.LOQ
+		c.Zero[k] = a.HasFlag(unmix.FlagZero)
 		for _, fs := range [][]unmix.Flag{res.Flags, a.Flags} {
 			for _, f := range fs {
 				if f.Warning() {

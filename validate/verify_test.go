@@ -6,6 +6,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/floats/scalar"
+
+	"huesolve/unmix"
 )
 
 // Recovery arithmetic worked by hand (definitions as in ICH Q2(R2):
@@ -109,5 +111,20 @@ func TestAssessSingleStandardAndErrors(t *testing.T) {
 		if _, err := Assess([]string{"X"}, nil, tc.checks, tc.lim); err == nil {
 			t.Errorf("%s: no error", tc.name)
 		}
+	}
+}
+
+// A result the non-negativity constraint holds at zero is marked on its
+// check row (from unmix's zero flag), so that reports can show it as solve
+// does; other rows are not.
+func TestCheckRowHeldAtZero(t *testing.T) {
+	res := &unmix.Result{Amounts: []unmix.Amount{{Conc: 0, Flags: []unmix.Flag{unmix.FlagZero}}, {Conc: 2, SE: 0.1}}}
+	c := checkFrom("c1", []float64{0, 2}, []int{0, 1}, res)
+	v, err := Assess([]string{"X", "Y"}, []string{"mg/L", "mg/L"}, []Check{c}, Limits{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if len(v.Rows) != 2 || !v.Rows[0].HeldAtZero || v.Rows[1].HeldAtZero {
+		t.Errorf("rows %+v, want X held at zero and Y not", v.Rows)
 	}
 }

@@ -12,6 +12,7 @@ import (
 
 	"huesolve/reference"
 	"huesolve/report"
+	"huesolve/unmix"
 	"huesolve/validate"
 )
 
@@ -257,8 +258,12 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 		if !r.Pass {
 			ok = "no"
 		}
-		if r.Recovery == nil {
-			ok += " (|found| vs LOQ " + valNum(r.LOQ) + ")"
+		if r.Recovery == nil { // not in the standard: judged against the LOQ
+			cmp := "≤"
+			if !r.Pass {
+				cmp = ">"
+			}
+			ok += fmt.Sprintf(" (%s LOQ %.2g)", cmp, r.LOQ)
 		}
 		if len(r.Flags) > 0 {
 			ok += ", flagged " + strings.Join(r.Flags, " ")
@@ -267,8 +272,11 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 		if r.Unit != "" {
 			unit = " " + r.Unit
 		}
-		if err := t.Append([]string{r.Standard, r.Compound, valNum(r.Known) + unit,
-			fmt.Sprintf("%s ± %.2g", valNum(r.Found), r.SE), rec, ok}); err != nil {
+		found := report.ConcText(r.Found, r.SE) // as solve prints it
+		if r.HeldAtZero {
+			found = report.ConcText(r.Found, 0) + " zero"
+		}
+		if err := t.Append([]string{r.Standard, r.Compound, valNum(r.Known) + unit, found, rec, ok}); err != nil {
 			return fmt.Errorf("verify table: %w", err)
 		}
 	}
@@ -277,7 +285,7 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 	}
 	fmt.Fprintln(w)
 	t = valTable(w)
-	head := []string{"Compound", "Holding/without", "Mean recovery (%)", "RSD (%)", "Bias", "RMSEP"}
+	head := []string{"Compound", "Standards with/without", "Mean recovery (%)", "RSD (%)", "Bias", "RMSEP"}
 	var rmsecv map[string]float64
 	if rep.CrossVal != nil {
 		head = append(head, "RMSECV")
@@ -316,7 +324,7 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 	if err := t.Render(); err != nil {
 		return fmt.Errorf("verify table: %w", err)
 	}
-	fmt.Fprintf(w, "Limits: mean recovery %g-%g %%, RSD <= %g %%, compounds not in a standard found at most at their LOQ.\n",
+	fmt.Fprintf(w, "Limits: mean recovery %g-%g %%, RSD ≤ %g %%, compounds not in a standard found at most at their LOQ.\n",
 		v.Limits.RecoveryLo, v.Limits.RecoveryHi, v.Limits.MaxRSD)
 	if cv := rep.CrossVal; cv != nil {
 		by := "one standard"
@@ -333,11 +341,22 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 	return valWriteMerits(w, v.Merits)
 }
 
+// verifyRowFlags is the flags cell of a check row: zero (held at zero)
+// first, then its warning flags.
+func verifyRowFlags(r validate.CheckRow) string {
+	fs := r.Flags
+	if r.HeldAtZero {
+		fs = append([]string{string(unmix.FlagZero)}, fs...)
+	}
+	return strings.Join(fs, " ")
+}
+
 // writeVerifyCSV writes one row per standard and compound (record
 // "check"), one per compound (record "compound") and, with
 // cross-validation, one per predicted calibration standard and compound
 // (record "crossval"). The last column, flags, holds a check row's
-// warning flags (e.g. illcond, misfit).
+// flags as solve's NAME_flags would: zero when the result is held at zero,
+// and the warning flags of its solve (e.g. illcond, misfit).
 func writeVerifyCSV(w io.Writer, v *validate.Verification, cv *validate.CrossValidation) error {
 	cw := csv.NewWriter(w)
 	head := []string{"record", "standard", "compound", "unit", "known", "found", "se", "error", "recovery_pct", "loq",
@@ -352,7 +371,7 @@ func writeVerifyCSV(w io.Writer, v *validate.Verification, cv *validate.CrossVal
 			rec = f(*r.Recovery)
 		}
 		if err := cw.Write([]string{"check", r.Standard, r.Compound, r.Unit, f(r.Known), f(r.Found), f(r.SE), f(r.Error), rec, f(r.LOQ),
-			"", "", "", "", "", strconv.FormatBool(r.Pass), "", strings.Join(r.Flags, " ")}); err != nil {
+			"", "", "", "", "", strconv.FormatBool(r.Pass), "", verifyRowFlags(r)}); err != nil {
 			return err
 		}
 	}

@@ -118,6 +118,16 @@ func TestVerifyPasses(t *testing.T) {
 			t.Errorf("output lacks %q:\n%s", want, out)
 		}
 	}
+	// chk-4 holds no red: judged against the LOQ, and shown as solve
+	// shows a result held at zero.
+	if !strings.Contains(out, "Standards with/without") || strings.Contains(out, "0 ± 0") {
+		t.Errorf("summary heading or a held-at-zero result:\n%s", out)
+	}
+	for _, l := range strings.Split(out, "\n") {
+		if strings.Contains(l, "chk-4.csv") && strings.Contains(l, " red ") && !strings.Contains(l, "yes (≤ LOQ 0.") {
+			t.Errorf("red in chk-4: %q, want it judged as yes (≤ LOQ 0.0…)", l)
+		}
+	}
 	for _, f := range []string{"verify-red.png", "verify-yellow.png"} {
 		if st, err := os.Stat(filepath.Join(plots, f)); err != nil || st.Size() == 0 {
 			t.Errorf("plot %s: %v", f, err)
@@ -214,6 +224,27 @@ func TestVerifyJSONAndCSV(t *testing.T) {
 	}
 	if len(recs) != 1+8+2 || recs[0][0] != "record" || recs[1][0] != "check" || recs[9][0] != "compound" {
 		t.Errorf("csv: %d records:\n%s", len(recs), out)
+	}
+	// A check row held at zero says so in its flags, as solve's CSV does.
+	head := recs[0]
+	col := func(name string) int {
+		for i, h := range head {
+			if h == name {
+				return i
+			}
+		}
+		t.Fatalf("csv lacks column %s", name)
+		return -1
+	}
+	found, flags := col("found"), col("flags")
+	for _, r := range recs[1:] {
+		if r[0] != "check" {
+			continue
+		}
+		zero := strings.HasPrefix(r[flags], "zero")
+		if zero != (r[found] == "0") {
+			t.Errorf("check row %v: found %s, flags %q", r[:3], r[found], r[flags])
+		}
 	}
 }
 
