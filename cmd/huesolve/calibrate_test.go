@@ -273,7 +273,7 @@ func TestCalibrateErrors(t *testing.T) {
 
 // TestCalibrateWarnsCollinear: two invented dyes whose bands lie 2 nm
 // apart give a reference set whose condition number (whole grid, offset
-// baseline, as inspect shows it) is far above the illcond limit: calibrate
+// baseline, as inspect shows it) above the illcond limit of 30: calibrate
 // says so. The two well-separated dyes of calCase do not.
 func TestCalibrateWarnsCollinear(t *testing.T) {
 	dir := t.TempDir()
