@@ -13,9 +13,9 @@
 //
 // The first line is the header:
 //
-//	scan,column,tartrazine (mg/L),sunset yellow (mg/L)
+//	scan,column,Ambrelin (mg/L),Corvasine (mg/L)
 //	blank.csv,,0,0
-//	std-t1.csv,,2,0
+//	std-a1.csv,,2,0
 //	mixes.csv,mix-3,4,6
 //
 // The columns:

@@ -184,7 +184,7 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 		return nil, perr(hline, 0, "%w: the header needs a column named scan (the scan file of each standard)", ErrSheetHeader)
 	}
 	if len(compCols) == 0 {
-		return nil, perr(hline, 0, "%w: no compound columns: after scan (and column) give one column per compound, e.g. \"tartrazine (mg/L)\"", ErrSheetHeader)
+		return nil, perr(hline, 0, "%w: no compound columns: after scan (and column) give one column per compound, e.g. \"Ambrelin (mg/L)\"", ErrSheetHeader)
 	}
 	var noUnit []string
 	for k, u := range sh.Units {

@@ -22,7 +22,7 @@ func ExampleModel_Solve() {
 	for _, c := range []struct {
 		name string
 		peak float64
-	}{{"gold", 450}, {"indigo", 550}} {
+	}{{"gold", 450}, {"violet", 550}} {
 		eps := make([]float64, len(grid))
 		for i, l := range grid {
 			eps[i] = band(c.peak, l)
@@ -31,9 +31,9 @@ func ExampleModel_Solve() {
 	}
 	for i, l := range grid {
 		set.Noise[i] = 0.001
-		// 4 mg/L gold, no indigo, an offset of 0.02, a ripple and a
+		// 4 mg/L gold, no violet, an offset of 0.02, a ripple and a
 		// slight tilt the offset term cannot follow: unconstrained, it
-		// would give indigo a negative amount.
+		// would give violet a negative amount.
 		sample.Values = append(sample.Values, 4*band(450, l)+0.02+0.0005*math.Sin(float64(i))+0.00001*(l-550))
 	}
 	m, err := unmix.NewModel(set, unmix.Options{}) // default baseline: an offset
@@ -52,6 +52,6 @@ func ExampleModel_Solve() {
 	fmt.Printf("offset %.3f, points %d\n", r.Baseline["offset"], r.Points)
 	// Output:
 	// gold: 39.61 mg/L []
-	// indigo: 0.00 mg/L [zero]
+	// violet: 0.00 mg/L [zero]
 	// offset 0.020, points 151
 }

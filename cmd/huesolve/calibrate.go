@@ -38,10 +38,10 @@ row with a column "scan" naming each standard's scan file (relative to the
 sheet's folder), an optional column "column" choosing the scan inside a
 wide-table file, and one column per compound headed "Name (unit)", e.g.
 
-  scan,column,tartrazine (mg/L),sunset yellow (mg/L)
+  scan,column,Ambrelin (mg/L),Corvasine (mg/L)
   blank.csv,,0,0
-  std-t2.csv,,2,0
-  std-s2.csv,,0,2
+  std-a2.csv,,2,0
+  std-c2.csv,,0,2
 
 A row whose concentrations are all zero is a blank: the mean of the blank
 rows is subtracted from every standard (or give a separate blank scan with
