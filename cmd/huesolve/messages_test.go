@@ -228,3 +228,20 @@ func TestConvertToStdoutDefaultFormat(t *testing.T) {
 		t.Fatalf("convert jdx -o -: exit %d, stderr %q, out starts %.80q", code, errOut, out)
 	}
 }
+
+// TestSolveSkippedLinesPlain: a scan solve cannot read is reported once,
+// without the library's package prefix, by solve and by --check-only.
+func TestSolveSkippedLinesPlain(t *testing.T) {
+	dir, refs, _ := valCase(t, 1)
+	missing := filepath.Join(dir, "missing.csv")
+	for _, extra := range [][]string{nil, {"--check-only"}} {
+		args := append([]string{"solve", refs, missing, filepath.Join(dir, "chk-1.csv")}, extra...)
+		_, errOut, code := run(t, args...)
+		if code != exitSkipped {
+			t.Errorf("%v: exit %d, want %d", extra, code, exitSkipped)
+		}
+		if strings.Contains(errOut, "spectrum:") || strings.Count(errOut, missing) != 1 {
+			t.Errorf("%v: stderr names %s %d times or leaks a package name:\n%s", extra, missing, strings.Count(errOut, missing), errOut)
+		}
+	}
+}

@@ -256,12 +256,12 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 				if out.Result != nil {
 					what = out.Result.Sample + " (" + out.File + ")"
 				}
-				if msg := out.Err.Error(); out.Unread && strings.HasPrefix(msg, out.File+":") {
+				if msg := userMessage(out.Err); out.Unread && strings.HasPrefix(msg, out.File+":") {
 					fmt.Fprintf(errw, "huesolve: skipped %s\n", msg)
 				} else if out.Unread {
 					fmt.Fprintf(errw, "huesolve: skipped %s: %s\n", out.File, msg)
 				} else {
-					fmt.Fprintf(errw, "huesolve: %s: %v\n", what, out.Err)
+					fmt.Fprintf(errw, "huesolve: %s: %s\n", what, msg)
 				}
 				if err := rw.Fail(what, out.Err); err != nil {
 					return err
@@ -270,6 +270,8 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 			switch {
 			case out.Encoded != nil && enc != nil:
 				return enc.WriteEncoded(out.Encoded)
+				} else if out.Unread && strings.Contains(msg, out.File) {
+					fmt.Fprintf(errw, "huesolve: %s (skipped)\n", msg)
 			case out.Result != nil:
 				return rw.Write(out.Result)
 			}
@@ -332,16 +334,22 @@ func runSolveCheck(cmd *cobra.Command, batch *unmix.Batch, inputs []unmix.Input,
 	sum, err := batch.Run(cmd.Context(), inputs, func(out unmix.Outcome) error {
 		switch {
 		case out.Err == nil:
-		case out.Unread && strings.HasPrefix(out.Err.Error(), out.File+":"):
-			fmt.Fprintf(errw, "huesolve: cannot read %v\n", out.Err)
+		case out.Unread && strings.HasPrefix(msg, out.File+":"):
+			fmt.Fprintf(errw, "huesolve: cannot read %s\n", msg)
+		case out.Unread && strings.Contains(msg, out.File):
+			fmt.Fprintf(errw, "huesolve: %s\n", msg)
 		case out.Unread:
-			fmt.Fprintf(errw, "huesolve: cannot read %s: %v\n", out.File, out.Err)
+			fmt.Fprintf(errw, "huesolve: cannot read %s: %s\n", out.File, msg)
 		default:
-			fmt.Fprintf(errw, "huesolve: %s: %v\n", out.File, out.Err)
+			fmt.Fprintf(errw, "huesolve: %s: %s\n", out.File, msg)
 		}
 		return nil
 	})
 	if err != nil && cmd.Context().Err() != nil && errors.Is(err, cmd.Context().Err()) {
+		var msg string
+		if out.Err != nil {
+			msg = userMessage(out.Err)
+		}
 		return &exitError{code: exitInterrupt, msg: fmt.Sprintf("interrupted after %d sample(s) had been checked", sum.Emitted)}
 	}
 	if err != nil {
