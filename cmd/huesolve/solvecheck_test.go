@@ -26,7 +26,7 @@ func TestSolveCheckOnly(t *testing.T) {
 	if code != exitSkipped || out != "" {
 		t.Errorf("bad files: exit %d, stdout %q", code, out)
 	}
-	for _, want := range []string{"ragged.csv:4:3", "short.csv: unmix: short: the scan covers 420-700 nm but the model needs 400-700 nm",
+	for _, want := range []string{"ragged.csv:4:3", "short.csv: short: the scan covers 420-700 nm but the model needs 400-700 nm",
 		"3 sample(s) read from 3 input(s): 2 ready to solve, 1 cannot be solved, 1 input(s) unreadable"} {
 		if !strings.Contains(errOut, want) {
 			t.Errorf("stderr lacks %q:\n%s", want, errOut)
