@@ -245,3 +245,30 @@ func TestSolveSkippedLinesPlain(t *testing.T) {
 		}
 	}
 }
+
+// TestWarningStyle: warnings read "huesolve: warning: ...", once, naming
+// the flag that fixes them; calibrate's note about a missing unit names
+// --unit.
+func TestWarningStyle(t *testing.T) {
+	dir := t.TempDir()
+	pct := filepath.Join(dir, "pct.csv")
+	if err := os.WriteFile(pct, []byte("nm,sample\n400,95\n401,80.5\n402,40\n403,12\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	for _, cmd := range [][]string{{"look", pct}, {"convert", pct, "-o", "-"}} {
+		_, errOut, _ := run(t, cmd...)
+		if !strings.Contains(errOut, "huesolve: warning: "+pct+": nearly all of") || strings.Contains(errOut, "WARNING") ||
+			!strings.Contains(errOut, "--quantity %T") || strings.Contains(errOut, "quantity option") {
+			t.Errorf("%s: stderr\n%s", cmd[0], errOut)
+		}
+	}
+	std, _ := calCase(t)
+	sheet := filepath.Join(std, "nounit.csv")
+	if err := os.WriteFile(sheet, []byte("scan,red\nblank-1.csv,0\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, errOut, _ := run(t, "calibrate", sheet, "-o", filepath.Join(std, "x.json"))
+	if !strings.Contains(errOut, "huesolve: warning: "+sheet+":1: no concentration unit stated for red") || !strings.Contains(errOut, "give one with --unit") {
+		t.Errorf("calibrate without a unit: stderr\n%s", errOut)
+	}
+}
