@@ -55,21 +55,28 @@ absorptivity times the path length (concentrations >= 0), plus the baseline
 terms (--baseline).
 
 Points whose absorbance reads above the ceiling (the reference set's, or
---ceiling) are left out and counted; when more than 5 % are lost the sample
-is flagged "dilute" with a dilution factor that brings its highest band
-below the ceiling. --weighted weights wavelengths by the reference set's
-noise, taken to grow as 10^A above A = 1 where little light reaches the
-detector. --shift estimates a wavelength shift between the instrument that
-made the references and the sample's (up to --max-shift nm; reported in nm,
-positive when the sample's bands lie at longer wavelengths).
+--ceiling) are left out and counted; when more than 5 % are lost, or any
+point of the window reads 0 %T or below (too dark to read: the file and
+wavelength are named), the sample is flagged "dilute" with a dilution
+factor that brings its highest band below the ceiling and every compound
+into its calibrated range (the top of its linear range where calibrate
+stated one below the highest standard; above it a result is "over").
+--weighted weights wavelengths by the reference set's noise, taken to grow
+as 10^A above A = 1 where little light reaches the detector. --shift estimates a wavelength shift between the instrument that
+made the references and the sample's (up to --max-shift nm; reported in nm
+with its standard error, positive when the sample's bands lie at longer
+wavelengths; flagged "shift" when at least 0.1 nm and more than 2 standard
+errors from zero).
 
 Concentrations are in the reference set's units for the original sample:
 the fitted amount times the dilution factor, times the reference path over
 the sample's path. Give them with --dilution and --path-cm for all samples,
 or per sample with --samples SHEET: delimited text with a header row naming
-the columns sample, dilution and/or path_cm; "sample" matches a scan's name
-(its column header in a wide table) or its file name with or without
-extension. Empty cells and samples not in the sheet take the flag values.
+the columns sample, dilution and/or path_cm (note or comment columns are
+ignored, any other is refused); "sample" matches a scan's name (its column
+header in a wide table) or its file name with or without extension. Empty
+cells and samples not in the sheet take the flag values; solve names those
+samples, and the sheet rows that matched no sample.
 
 For each sample: concentration, standard error and 95 % interval of every
 compound, its detection and quantitation limits (3.3 and 10 times the noise
@@ -79,8 +86,11 @@ baseline terms, points used and dropped, shift) and flags:
 
 ` + "{{LEGEND}}" + `
 "!" marks flags that count a sample as flagged. Thresholds: reduced
-chi-square above 4 (misfit), Durbin-Watson below 1 (pattern), condition
-number above 30 (illcond), baseline leakage below 0.5 (mimic).
+chi-square above 4 (misfit), Durbin-Watson below 1 (pattern; not raised
+when the reference set's pre-treatment includes Savitzky-Golay smoothing,
+which correlates neighbouring residuals by itself), condition number above
+30 (illcond), baseline leakage below 0.5 (mimic). README.md states the
+reduced chi-square's formula.
 
 Output: a table on standard output sized for the terminal, or --format csv or
 json; -o FILE writes it to a file, complete or not at all. --plots DIR writes
@@ -91,14 +101,16 @@ Results come in the order of the inputs whatever the number of workers (-j).
 A one-line summary goes to standard error.
 
 --check-only reads every scan and checks that it could be solved (values,
-wavelength grid, coverage of the window, sample sheet factors) without
-solving: a quick look through a large batch before the real run, and a
+wavelength grid, coverage of the window, sample sheet factors, enough
+points below the ceiling) without solving, with the warnings solving
+would give: a quick look through a large batch before the real run, and a
 measure of how long reading alone takes. Problems go to standard error,
 with the summary; nothing is written to standard output.
 
 Exit codes:
   0  every input read and solved, no sample flagged
-  1  failure: nothing could be solved (bad reference set, options, output)
+  1  failure: nothing could be solved (bad reference set, options, output,
+     or not one sample could be read and solved)
   2  bad command line
   3  some files or samples could not be read or solved (listed on stderr)
   4  everything was solved, but some samples carry a "!" flag
