@@ -237,8 +237,12 @@ func valParsePercentRange(s string) (lo, hi float64, err error) {
 	return parseRangeFlag("--recovery", s, "percent", "98-102", 1e4)
 }
 
-// num formats a number for tables.
+// valNum formats a number for tables.
 func valNum(v float64) string { return strconv.FormatFloat(v, 'g', 5, 64) }
+
+// errNum formats an error (bias, RMSEP) for tables: two significant
+// digits, like the standard errors beside the results.
+func errNum(v float64) string { return strconv.FormatFloat(v, 'g', 2, 64) }
 
 func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 	v := rep.Result
@@ -285,10 +289,15 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 	}
 	fmt.Fprintln(w)
 	t = valTable(w)
-	head := []string{"Compound", "Standards with/without", "Mean recovery (%)", "RSD (%)", "Bias", "RMSEP"}
+	units := make([]string, len(v.Compounds))
+	for i, c := range v.Compounds {
+		units[i] = c.Unit
+	}
+	cu := unitSuffix(report.CommonUnit(units)) // " (mg/L)" when all share it
+	head := []string{"Compound", "Standards with/without", "Mean recovery (%)", "RSD (%)", "Bias" + cu, "RMSEP" + cu}
 	var rmsecv map[string]float64
 	if rep.CrossVal != nil {
-		head = append(head, "RMSECV")
+		head = append(head, "RMSECV"+cu)
 		rmsecv = map[string]float64{}
 		for k, n := range rep.CrossVal.Compounds {
 			rmsecv[n] = rep.CrossVal.RMSECV[k]
@@ -304,13 +313,14 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 		if c.RSDJudged {
 			rsd = fmt.Sprintf("%.2f", c.RSD)
 		}
+		// Errors to two significant digits, as standard errors are shown.
 		bias := "-"
 		if c.Holding > 0 {
-			bias = valNum(c.Bias)
+			bias = errNum(c.Bias)
 		}
-		row := []string{c.Compound, fmt.Sprintf("%d/%d", c.Holding, c.Absent), mean, rsd, bias, valNum(c.RMSEP)}
+		row := []string{c.Compound, fmt.Sprintf("%d/%d", c.Holding, c.Absent), mean, rsd, bias, errNum(c.RMSEP)}
 		if rmsecv != nil {
-			row = append(row, valNum(rmsecv[c.Compound]))
+			row = append(row, errNum(rmsecv[c.Compound]))
 		}
 		verdict := "pass"
 		if !c.Pass {
