@@ -48,7 +48,10 @@ share one wavelength grid). A JCAMP-DX file holds one spectrum: pick it
 with --spectrum when the input holds several. jcamp writes plain numbers
 that read back exactly; jcamp-compressed writes the compact DIF form,
 keeping about 7 significant digits. The output file is replaced only when
-everything was written; "-o -" writes to standard output.`,
+everything was written, and is never the input file. The format follows
+--to, else the output file's extension; "-o -" writes to standard output,
+in the input's kind (JCAMP-DX for a .jdx input, TSV for .tsv, else CSV)
+unless --to says otherwise.`,
 		Example: `  huesolve convert export.csv -o scan.jdx
   huesolve convert scan.jdx -o scan.csv
   huesolve convert standards.tsv -o std2.jdx --spectrum "std 2" --to jcamp-compressed
