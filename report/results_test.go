@@ -340,6 +340,18 @@ func TestTableShiftAndEmpty(t *testing.T) {
 	if !strings.Contains(b.String(), "sat,shift +0.83 nm") {
 		t.Errorf("shift value missing from the flag cell:\n%s", b.String())
 	}
+	// A result over its range with no sample flag: the dilution alone,
+	// without a leading blank.
+	b.Reset()
+	w = NewTableWriter(&b, testLayout, 160)
+	r = testResult("S2")
+	r.Flags, r.SuggestDilution = nil, 2
+	if err := w.Write(r); err != nil {
+		t.Fatal(err)
+	}
+	if got := w.rows[0][len(w.rows[0])-1]; got != "(dilute 2x)" {
+		t.Errorf("flag cell %q, want %q", got, "(dilute 2x)")
+	}
 	b.Reset()
 	w = NewTableWriter(&b, testLayout, 160)
 	if err := w.Fail("x", errors.New("bad")); err != nil {

@@ -76,7 +76,7 @@ func (t *TableWriter) Write(r *unmix.Result) error {
 		t.seen[f] = true
 	}
 	if r.SuggestDilution > 0 {
-		flags += fmt.Sprintf(" (dilute %sx)", num(r.SuggestDilution))
+		flags = strings.TrimSpace(flags + fmt.Sprintf(" (dilute %sx)", num(r.SuggestDilution)))
 	}
 	t.rows = append(t.rows, append(row, flags))
 	return nil
