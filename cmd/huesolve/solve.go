@@ -95,8 +95,10 @@ reduced chi-square's formula.
 Output: a table on standard output sized for the terminal, or --format csv or
 json; -o FILE writes it to a file, complete or not at all. --plots DIR writes
 one figure per sample: measured and fitted spectra, each compound's part,
-the baseline, and the residual against the expected noise band. A file that
-cannot be read is reported on standard error and skipped; the others go on.
+the baseline, and the residual against the expected noise band; stretches
+left out of the fit (above the ceiling, or not calibrated) are shaded. A file
+that cannot be read is reported on standard error and skipped; the others go
+on.
 Results come in the order of the inputs whatever the number of workers (-j).
 A one-line summary goes to standard error.
 
