@@ -92,6 +92,13 @@ func TestSuggestDilution(t *testing.T) {
 		{2.6, 2.1, true, 3},  // ceiling wins (strictly above 2.6)
 		{0.5, 1.6, false, 2}, // over alone
 		{0.5, 1, false, 0},   // at the top standard: nothing to suggest
+		// Off scale (amounts overflowed, as with a path of 4e-324 cm):
+		// no factor can be named, so none is suggested.
+		{1.4, math.Inf(1), true, 0},
+		{0.5, math.Inf(1), false, 0},
+		{math.Inf(1), 2, true, 0},
+		{math.NaN(), 0, true, 0},
+		{0.5, 3e9, false, 0}, // beyond maxNiceFactor
 	} {
 		if got := suggestDilution(c.ceilF, c.over, c.dilute); got != c.want {
 			t.Errorf("suggestDilution(%g, %g, %v) = %g, want %g", c.ceilF, c.over, c.dilute, got, c.want)

@@ -171,6 +171,36 @@ type Factors struct {
 	PathCM   float64
 }
 
+// Plausible per-sample factors. A path or dilution outside these bounds
+// is almost surely a typing slip (a unit or an exponent wrong), and so
+// far out that the scaled amounts could overflow to infinity: Solve
+// refuses it rather than report amounts no one can use.
+const (
+	// MinPathCM and MaxPathCM bound the cell path length in cm: 1 µm
+	// (thinner than any demountable cell) to 1 m (longer than any
+	// long-path cell used for liquids).
+	MinPathCM = 1e-4
+	MaxPathCM = 100
+	// MinDilution and MaxDilution bound the dilution factor: a
+	// millionfold concentration to a billionfold dilution.
+	MinDilution = 1e-6
+	MaxDilution = 1e9
+)
+
+// CheckFactors returns an error wrapping ErrFactor when a non-zero
+// factor of f lies outside [MinDilution, MaxDilution] or
+// [MinPathCM, MaxPathCM], or is not a number. Zero fields (defaults)
+// pass.
+func CheckFactors(f Factors) error {
+	if f.Dilution != 0 && !(f.Dilution >= MinDilution && f.Dilution <= MaxDilution) {
+		return fmt.Errorf("%w: dilution factor %g is outside %g to %g", ErrFactor, f.Dilution, float64(MinDilution), float64(MaxDilution))
+	}
+	if f.PathCM != 0 && !(f.PathCM >= MinPathCM && f.PathCM <= MaxPathCM) {
+		return fmt.Errorf("%w: path length %g cm is outside %g to %g cm", ErrFactor, f.PathCM, float64(MinPathCM), float64(MaxPathCM))
+	}
+	return nil
+}
+
 // Flag is a quality flag on a sample or on one compound's amount.
 type Flag string
 

@@ -172,6 +172,12 @@ func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 			if err != nil || !(x > 0) || math.IsInf(x, 0) {
 				return nil, perr(line, c.i+1, "%s %q is not a positive number", c.what, v)
 			}
+			if err := CheckFactors(Factors{PathCM: x}); c.what == "path_cm" && err != nil {
+				return nil, perr(line, c.i+1, "path_cm %q: want %g to %g cm", v, float64(MinPathCM), float64(MaxPathCM))
+			}
+			if err := CheckFactors(Factors{Dilution: x}); c.what == "dilution" && err != nil {
+				return nil, perr(line, c.i+1, "dilution %q: want a factor from %g to %g", v, float64(MinDilution), float64(MaxDilution))
+			}
 			*c.dst = x
 		}
 		sh.rows[name] = sheetRow{f: f, line: line}

@@ -65,8 +65,8 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	} else if d = m.cache[string(w.key)]; d == nil {
 		if d, err = sh.buildDesign(slices.Clone(w.rows), nil); err != nil {
 			if errors.Is(err, errRank) {
-				return fail(fmt.Errorf("%w: with %d of %d points above the ceiling A = %g left out, the rest cannot tell the compounds apart; dilute at least %gx and scan again",
-					ErrTooDark, dropped, len(sh.rows0), sh.ceiling, niceUp(maxFinite(w.raw[off:off+nwin])/sh.ceiling)))
+				return fail(fmt.Errorf("%w: with %d of %d points above the ceiling A = %g left out, the rest cannot tell the compounds apart; %s",
+					ErrTooDark, dropped, len(sh.rows0), sh.ceiling, diluteHint(maxFinite(w.raw[off:off+nwin])/sh.ceiling)))
 			}
 			return fail(fmt.Errorf("with %d points above the ceiling left out: %w", dropped, err))
 		}
@@ -151,8 +151,8 @@ func (m *Model) readMask(s *spectrum.Spectrum) (int, error) {
 		if w.darkPts > 0 {
 			dark = fmt.Sprintf(" (%s: %d of them read 0 %%T or below, from %g nm: too dark to read)", s.Source.File, w.darkPts, w.darkNM)
 		}
-		return 0, fmt.Errorf("%w: %d of %d points are above the ceiling A = %g%s; dilute at least %gx and scan again",
-			ErrTooDark, dropped, len(sh.rows0), sh.ceiling, dark, niceUp(maxFinite(w.raw[off:off+nwin])/sh.ceiling))
+		return 0, fmt.Errorf("%w: %d of %d points are above the ceiling A = %g%s; %s",
+			ErrTooDark, dropped, len(sh.rows0), sh.ceiling, dark, diluteHint(maxFinite(w.raw[off:off+nwin])/sh.ceiling))
 	}
 	return dropped, nil
 }
@@ -188,11 +188,8 @@ func (m *Model) prepare(s *spectrum.Spectrum, f Factors) (dil, path float64, err
 	if path == 0 {
 		path = m.set.PathCM
 	}
-	if !(dil > 0) || math.IsInf(dil, 0) {
-		return 0, 0, fail(fmt.Errorf("%w: dilution factor %g", ErrFactor, dil))
-	}
-	if !(path > 0) || math.IsInf(path, 0) {
-		return 0, 0, fail(fmt.Errorf("%w: path length %g cm", ErrFactor, path))
+	if err := CheckFactors(Factors{Dilution: dil, PathCM: path}); err != nil {
+		return 0, 0, fail(err)
 	}
 	if err := covers(s.Wavelengths, m.sh.needLo, m.sh.needHi); err != nil {
 		return 0, 0, fail(err)
@@ -640,14 +637,21 @@ func gaps(dst []Gap, wl []float64, rows, rows0 []int) []Gap {
 // ceilF (the highest predicted absorbance over the ceiling) when the
 // sample is flagged dilute, and the nice factor at or above over (the
 // largest concentration in the cell over its compound's upper limit),
-// whichever is larger.
+// whichever is larger; 0 when either is needed but not finite or beyond
+// maxNiceFactor (amounts off scale).
 func suggestDilution(ceilF, over float64, dilute bool) float64 {
 	f := 0.0
 	if dilute {
-		f = niceUp(ceilF)
+		if f = niceUp(ceilF); f == 0 {
+			return 0 // off scale: no dilution can be named
+		}
 	}
 	if over > 1 {
-		f = math.Max(f, niceAtLeast(over))
+		n := niceAtLeast(over)
+		if n == 0 {
+			return 0 // off scale: no dilution can be named
+		}
+		f = math.Max(f, n)
 	}
 	return f
 }
@@ -723,23 +727,40 @@ func maxFinite(v []float64) float64 {
 	return best
 }
 
+// maxNiceFactor bounds the dilutions niceUp suggests: no step of 1, 1.5,
+// ..., 8 times a power of ten above it is offered (it is MaxDilution, the
+// largest factor a sample may be given). A larger need means the amounts
+// are off scale, and no dilution is suggested.
+const maxNiceFactor = MaxDilution
+
 // niceUp returns the smallest of 1.5, 2, 2.5, 3, 4, 5, 6, 8, 10 times a
 // power of ten that is strictly greater than f (at least 1.5): a dilution
 // a bench chemist can make that brings absorbance f x ceiling below the
-// ceiling.
+// ceiling. It returns 0 (no suggestion) when f is not a number, infinite,
+// or needs more than maxNiceFactor.
 func niceUp(f float64) float64 {
-	if !(f >= 1) || math.IsInf(f, 0) {
+	if math.IsNaN(f) || math.IsInf(f, 0) {
+		return 0
+	}
+	if f < 1 {
 		return 1.5
 	}
 	steps := []float64{1, 1.5, 2, 2.5, 3, 4, 5, 6, 8}
-	for p := 1.0; ; p *= 10 {
+	for p := 1.0; p <= maxNiceFactor; p *= 10 {
 		for _, s := range steps {
-			if v := s * p; v > f && v >= 1.5 {
+			if v := s * p; v > f && v >= 1.5 && v <= maxNiceFactor {
 				return v
 			}
 		}
-		if p > 1e12 {
-			return math.Inf(1)
-		}
 	}
+	return 0
+}
+
+// diluteHint is the advice that ends a too-dark error: dilute at least
+// niceUp(f) times, or just dilute when no factor can be named.
+func diluteHint(f float64) string {
+	if v := niceUp(f); v > 0 {
+		return fmt.Sprintf("dilute at least %gx and scan again", v)
+	}
+	return "dilute and scan again"
 }

@@ -285,3 +285,21 @@ func (o *outputFlags) writePlots(cmd *cobra.Command, draw func(dir, format strin
 	fmt.Fprintf(cmd.ErrOrStderr(), "huesolve: %d plots written to %s\n", len(files), o.plots)
 	return nil
 }
+
+// checkPathFlag refuses a --path-cm outside unmix.MinPathCM to
+// unmix.MaxPathCM; 0 (the reference set's path) passes.
+func checkPathFlag(pathCM float64) error {
+	if pathCM != 0 && unmix.CheckFactors(unmix.Factors{PathCM: pathCM}) != nil {
+		return usagef("--path-cm %g: want a path length from %g to %g cm (0: the reference set's)", pathCM, float64(unmix.MinPathCM), float64(unmix.MaxPathCM))
+	}
+	return nil
+}
+
+// checkDilutionFlag refuses a --dilution outside unmix.MinDilution to
+// unmix.MaxDilution.
+func checkDilutionFlag(dilution float64) error {
+	if unmix.CheckFactors(unmix.Factors{Dilution: dilution}) != nil || dilution == 0 {
+		return usagef("--dilution %g: want a factor from %g to %g", dilution, float64(unmix.MinDilution), float64(unmix.MaxDilution))
+	}
+	return nil
+}

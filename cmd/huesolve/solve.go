@@ -156,11 +156,11 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if err != nil {
 		return err
 	}
-	if !(o.dilution > 0) || o.dilution > 1e9 {
-		return usagef("--dilution %g: want a positive factor", o.dilution)
+	if err := checkDilutionFlag(o.dilution); err != nil {
+		return err
 	}
-	if o.pathCM < 0 || o.pathCM > 1e3 || o.pathCM != o.pathCM {
-		return usagef("--path-cm %g: want a positive length in cm", o.pathCM)
+	if err := checkPathFlag(o.pathCM); err != nil {
+		return err
 	}
 	if o.jobs < 0 {
 		return usagef("-j %d: want a positive number of workers", o.jobs)

@@ -329,6 +329,9 @@ func TestSolveUsage(t *testing.T) {
 		{"solve", ref, scan, "--window", "500"},
 		{"solve", ref, scan, "--quantity", "furlongs"},
 		{"solve", ref, scan, "--dilution", "0"},
+		{"solve", ref, scan, "--dilution", "2e9"},
+		{"solve", ref, scan, "--path-cm", "4e-324"},
+		{"solve", ref, scan, "--path-cm", "150"},
 		{"solve", ref, scan, "--max-shift", "-1"},
 		{"solve", ref, scan, "-j", "-2"},
 	} {

@@ -124,8 +124,8 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 		return usagef("--equivalent %g: want a percentage, 0 or more", o.equivalent)
 	case !(o.noise >= 0) || o.noise > 10:
 		return usagef("--noise %g: want an absorbance SD, 0 or more", o.noise)
-	case !(o.pathCM >= 0) || o.pathCM > 1e3:
-		return usagef("--path-cm %g: want a path length in cm", o.pathCM)
+	case checkPathFlag(o.pathCM) != nil:
+		return checkPathFlag(o.pathCM)
 	case o.top < 1:
 		return usagef("--top %d: want at least 1", o.top)
 	}
