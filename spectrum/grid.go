@@ -8,12 +8,12 @@ import (
 	"gonum.org/v1/gonum/interp"
 )
 
-// gridSlack is the relative slack, as a fraction of the measured span, by
+// GridSlack is the relative slack, as a fraction of the measured span, by
 // which a requested grid may reach past the measured range and still count
 // as inside it: wavelengths read from files are rounded, so a grid from
 // one file may overshoot another's end by a rounding error. Such points
 // take the end value; nothing is extrapolated.
-const gridSlack = 1e-9
+const GridSlack = 1e-9
 
 // Interpolation selects how resampling fills values between measured
 // wavelengths.
@@ -147,7 +147,7 @@ func ResampleToWith(dst, wl, y, grid []float64, m Interpolation) error {
 }
 
 // checkInside reports an error wrapping ErrOutOfRange, naming both ranges,
-// unless grid lies within wl (up to gridSlack).
+// unless grid lies within wl (up to GridSlack).
 func checkInside(wl, grid []float64) error {
 	if len(wl) < 2 || len(grid) == 0 {
 		return fmt.Errorf("resample needs at least two points: %w", ErrEmpty)
@@ -156,7 +156,7 @@ func checkInside(wl, grid []float64) error {
 		return fmt.Errorf("target grid: %w", err)
 	}
 	lo, hi := wl[0], wl[len(wl)-1]
-	slack := gridSlack * (hi - lo)
+	slack := GridSlack * (hi - lo)
 	if grid[0] < lo-slack || grid[len(grid)-1] > hi+slack {
 		return fmt.Errorf("requested %g-%g nm but the scan covers %g-%g nm: %w", grid[0], grid[len(grid)-1], lo, hi, ErrOutOfRange)
 	}
@@ -165,7 +165,7 @@ func checkInside(wl, grid []float64) error {
 
 // ResampleTo writes into dst the linear interpolation of (wl, y) at grid.
 // wl and grid must be strictly increasing and grid must lie within
-// [wl[0], wl[len-1]] (up to gridSlack of the span, so a grid read from a
+// [wl[0], wl[len-1]] (up to GridSlack of the span, so a grid read from a
 // file with rounded wavelengths still matches); otherwise the error wraps
 // ErrOutOfRange and names both ranges. It panics if len(dst) != len(grid)
 // or len(wl) != len(y).
@@ -193,8 +193,9 @@ func ResampleTo(dst, wl, y, grid []float64) error {
 	return nil
 }
 
-// SameGrid reports whether a and b hold the same wavelengths to within a
-// relative 1e-9 of their span.
+// SameGrid reports whether a and b hold the same wavelengths to within
+// GridSlack of their span (plus 1 nm, so that a single-point grid has a
+// slack too).
 func SameGrid(a, b []float64) bool {
 	if len(a) != len(b) {
 		return false
@@ -202,7 +203,7 @@ func SameGrid(a, b []float64) bool {
 	if len(a) == 0 {
 		return true
 	}
-	tol := 1e-9 * (a[len(a)-1] - a[0] + 1)
+	tol := GridSlack * (a[len(a)-1] - a[0] + 1)
 	for i := range a {
 		d := a[i] - b[i]
 		if d > tol || d < -tol {

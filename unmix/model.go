@@ -771,13 +771,13 @@ func interpShifted(dst, wl, y, grid []float64, delta float64) {
 	}
 }
 
-// tQuantile returns the two-sided 95 % Student t quantile on dof degrees
-// of freedom, cached per model clone.
+// tQuantile returns the two-sided Student t quantile of coverage
+// lsq.Confidence (95 %) on dof degrees of freedom, cached per model clone.
 func (m *Model) tQuantile(dof int) float64 {
 	if q, ok := m.tq[dof]; ok {
 		return q
 	}
-	q := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(dof)}.Quantile(0.975)
+	q := distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(dof)}.Quantile(0.5 + lsq.Confidence/2)
 	m.tq[dof] = q
 	return q
 }

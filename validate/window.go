@@ -31,6 +31,11 @@ const (
 	// one is recommended if its condition number is smaller by more than
 	// the same margin.
 	DefaultEquivalent = 0.10
+	// edgeSlack is the rounding slack, as a fraction of the edge step,
+	// allowed when comparing wavelengths with window edges: edges are
+	// built by adding steps and grid wavelengths are read from rounded
+	// text, so a point on an edge may miss it by a rounding error.
+	edgeSlack = 1e-9
 )
 
 // WindowOptions control AdviseWindow. Zero values mean the documented
@@ -233,12 +238,12 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 	lo0, hi0 := set.Grid[all[0]], set.Grid[all[len(all)-1]]
 	for k := 0; ; k++ {
 		e := lo0 + float64(k)*step
-		if e > hi0+1e-9*step {
+		if e > hi0+edgeSlack*step {
 			break
 		}
 		adv.Edges = append(adv.Edges, e)
 	}
-	if last := adv.Edges[len(adv.Edges)-1]; hi0-last > 1e-9*step {
+	if last := adv.Edges[len(adv.Edges)-1]; hi0-last > edgeSlack*step {
 		adv.Edges = append(adv.Edges, hi0)
 	}
 	if len(rows) == 0 {
@@ -262,22 +267,21 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 	for a, lo := range adv.Edges {
 		for b := a + 1; b < len(adv.Edges); b++ {
 			hi := adv.Edges[b]
-			if hi-lo < minW-1e-9*step {
+			if hi-lo < minW-edgeSlack*step {
 				continue
 			}
-			if maxW > 0 && hi-lo > maxW+1e-9*step {
+			if maxW > 0 && hi-lo > maxW+edgeSlack*step {
 				break
 			}
-			// Rows of the window: wl within [lo, hi] (with a rounding
-			// slack of 1e-9 step).
-			r0 := sort.SearchFloat64s(wl, lo-1e-9*step)
-			r1 := sort.SearchFloat64s(wl, hi+1e-9*step)
+			// Rows of the window: wl within [lo, hi] (up to edgeSlack).
+			r0 := sort.SearchFloat64s(wl, lo-edgeSlack*step)
+			r1 := sort.SearchFloat64s(wl, hi+edgeSlack*step)
 			if r1-r0 < ncol+1 {
 				continue
 			}
 			cand := Candidate{Lo: lo, Hi: hi, Points: r1 - r0}
 			for r, i := range all {
-				if above[r] && set.Grid[i] >= lo-1e-9*step && set.Grid[i] <= hi+1e-9*step {
+				if above[r] && set.Grid[i] >= lo-edgeSlack*step && set.Grid[i] <= hi+edgeSlack*step {
 					cand.Dropped++
 				}
 			}
