@@ -72,9 +72,9 @@ const (
 	// DefaultMaxShiftNM is the shift limit when Options.MaxShiftNM is 0.
 	DefaultMaxShiftNM = 3.0
 	// DefaultCeiling is the absorbance ceiling when neither the options
-	// nor the reference set give one (about 2 by common practice; see
-	// the stray-light note in the methods notes).
-	DefaultCeiling = 2.0
+	// nor the reference set give one: reference.DefaultCeiling (about 2
+	// by common practice: above it stray light bends the response).
+	DefaultCeiling = reference.DefaultCeiling
 	// NoiseFloorAU is the smallest noise sigma (absorbance units) used
 	// anywhere: it keeps weights and chi-square finite where a reference
 	// set's noise is zero (a zeroed region, say). Typical UV-Vis
@@ -92,8 +92,9 @@ const (
 	// FlagMisfit: the residual's RMS is more than twice the expected
 	// noise. (With 100 or more degrees of freedom a correct noise model
 	// gives chi-square above 1.5 with probability below 1e-4; the factor
-	// 4 leaves room for an imperfect noise model.)
-	PoorFitChiSq = 4.0
+	// 4 leaves room for an imperfect noise model.) It is the fit
+	// verdict's limit, lsq.ChiSqSevere.
+	PoorFitChiSq = lsq.ChiSqSevere
 	// PatternDW is the Durbin-Watson statistic below which a residual is
 	// flagged FlagPattern. White residuals give about 2 +- 2/sqrt(n)
 	// (Durbin & Watson 1950); 1 is far below that for n >= 50 and is still
@@ -101,8 +102,9 @@ const (
 	// applied when the reference set's pre-treatment includes
 	// Savitzky-Golay smoothing or a derivative: the filter makes
 	// neighbouring residuals correlated, so even a perfect fit reads far
-	// below 2 (see Model.DurbinWatsonFlagged).
-	PatternDW = 1.0
+	// below 2 (see Model.DurbinWatsonFlagged). It is the fit verdict's
+	// limit, lsq.DWSevere.
+	PatternDW = lsq.DWSevere
 	// CondLimit is the condition number (unit-norm columns) above which
 	// the design is flagged FlagIllCond. Belsley, Kuh & Welsch,
 	// Regression Diagnostics (1980): condition indexes above 30 signal
@@ -134,10 +136,6 @@ const (
 	minDoF = 2
 	// maskCacheSize bounds the designs cached per model clone.
 	maskCacheSize = 64
-	// gridSlack is the relative slack (of the span) allowed when checking
-	// that a scan covers the range the model needs, so wavelengths read
-	// from rounded text still match.
-	gridSlack = 1e-9
 )
 
 // Options describe the sample model. Zero values mean the documented
@@ -432,7 +430,7 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	if !(whi > wlo) {
 		return nil, fmt.Errorf("unmix: window %g-%g nm is empty", wlo, whi)
 	}
-	slack := gridSlack * (ghi - glo)
+	slack := spectrum.GridSlack * (ghi - glo)
 	if wlo < glo-slack || whi > ghi+slack {
 		how := "lies partly"
 		if whi <= glo || wlo >= ghi {
@@ -700,7 +698,7 @@ func covers(wl []float64, lo, hi float64) error {
 	if len(wl) < 2 {
 		return fmt.Errorf("%d points: %w", len(wl), ErrCoverage)
 	}
-	slack := gridSlack * (wl[len(wl)-1] - wl[0] + 1)
+	slack := spectrum.GridSlack * (wl[len(wl)-1] - wl[0] + 1)
 	if wl[0] > lo+slack || wl[len(wl)-1] < hi-slack {
 		return fmt.Errorf("the scan covers %g-%g nm but the model needs %g-%g nm: %w",
 			wl[0], wl[len(wl)-1], lo, hi, ErrCoverage)

@@ -10,14 +10,15 @@ import (
 
 	"huesolve/baseline"
 	"huesolve/reference"
+	"huesolve/unmix"
 )
 
 // ICH Q2 factors for the detection and quantitation limits from the
 // standard deviation of the response and the slope (ICH Q2(R2), 2023,
-// LOD = 3.3 σ/S, LOQ = 10 σ/S).
+// LOD = 3.3 σ/S, LOQ = 10 σ/S): the unmix package's, defined once there.
 const (
-	LODFactor = 3.3
-	LOQFactor = 10.0
+	LODFactor = unmix.LODFactor
+	LOQFactor = unmix.LOQFactor
 )
 
 // DefaultMinSelectivity is the selectivity below which a compound is
