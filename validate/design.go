@@ -41,6 +41,10 @@ var (
 	// ErrNotSelective: a compound cannot be told apart from the other
 	// compounds and baseline terms (see UnquantifiableError).
 	ErrNotSelective = errors.New("validate: compound cannot be told apart")
+	// ErrSVD: a singular value decomposition did not converge or gave
+	// a non-finite value, which LAPACK's does not on any finite matrix: a
+	// NaN or Inf reached the design.
+	ErrSVD = errors.New("validate: singular value decomposition did not converge (a value in the design is not finite)")
 )
 
 // design is the fit design over one window: compound columns b·ε, the
@@ -200,12 +204,12 @@ type projector struct {
 
 // reset factors the columns cols (each of length rows), scaled to unit
 // norm (all-zero columns are dropped), weighted row-wise by w when w is not
-// nil.
-func (p *projector) reset(rows int, cols [][]float64, w []float64) {
+// nil. It returns ErrSVD when the factorization fails.
+func (p *projector) reset(rows int, cols [][]float64, w []float64) error {
 	p.rank = 0
 	k := len(cols)
 	if k == 0 || rows == 0 {
-		return
+		return nil
 	}
 	need := rows * k
 	if cap(p.buf) < need {
@@ -236,15 +240,18 @@ func (p *projector) reset(rows int, cols [][]float64, w []float64) {
 		nz++
 	}
 	if nz == 0 {
-		return
+		return nil
 	}
 	a = a.Slice(0, rows, 0, nz).(*mat.Dense)
 	if !p.svd.Factorize(a, mat.SVDThinU) {
 		// LAPACK's SVD converges on any finite matrix; reaching here
 		// means NaN or Inf slipped past the checks.
-		panic("validate: SVD did not converge on finite data")
+		return ErrSVD
 	}
 	sv := p.svd.Values(nil)
+	if !finiteSV(sv) {
+		return ErrSVD
+	}
 	for _, s := range sv {
 		if s > rankTol*sv[0] {
 			p.rank++
@@ -255,6 +262,7 @@ func (p *projector) reset(rows int, cols [][]float64, w []float64) {
 	}
 	p.u.Reset()
 	p.svd.UTo(p.u)
+	return nil
 }
 
 // residual writes into dst the part of v orthogonal to the kept span (v
@@ -293,11 +301,12 @@ func (p *projector) residual(dst, v, w []float64) []float64 {
 
 // condScaled returns the 2-norm condition number of the columns cols
 // (weighted row-wise by w when not nil), each scaled to unit norm, and
-// whether they are singular (see clampCond).
-func condScaled(rows int, cols [][]float64, w []float64) (float64, bool) {
+// whether they are singular (see clampCond); ErrSVD when the
+// factorization fails.
+func condScaled(rows int, cols [][]float64, w []float64) (float64, bool, error) {
 	k := len(cols)
 	if k == 0 || rows == 0 {
-		return 1, false
+		return 1, false, nil
 	}
 	a := mat.NewDense(rows, k, nil)
 	for j, c := range cols {
@@ -310,7 +319,7 @@ func condScaled(rows int, cols [][]float64, w []float64) (float64, bool) {
 			ss += v * v
 		}
 		if !(ss > 0) {
-			return maxCond, true
+			return maxCond, true, nil
 		}
 		inv := 1 / math.Sqrt(ss)
 		for r := 0; r < rows; r++ {
@@ -323,10 +332,20 @@ func condScaled(rows int, cols [][]float64, w []float64) (float64, bool) {
 	}
 	var svd mat.SVD
 	if !svd.Factorize(a, mat.SVDNone) {
-		panic("validate: SVD did not converge on finite data")
+		return 0, false, ErrSVD
 	}
 	sv := svd.Values(nil)
-	return clampCond(sv[0], sv[len(sv)-1])
+	if !finiteSV(sv) {
+		return 0, false, ErrSVD
+	}
+	c, singular := clampCond(sv[0], sv[len(sv)-1])
+	return c, singular, nil
+}
+
+// finiteSV reports whether the largest singular value sv[0] (and so
+// every one) is finite: a NaN or Inf in the factored matrix shows there.
+func finiteSV(sv []float64) bool {
+	return len(sv) > 0 && !math.IsNaN(sv[0]) && !math.IsInf(sv[0], 0)
 }
 
 // clampCond turns extreme singular values into a condition number capped

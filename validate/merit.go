@@ -179,7 +179,9 @@ func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 		}
 	}
 	all := append(append([][]float64(nil), d.comp...), d.nuis...)
-	out.Cond, out.Singular = condScaled(len(idx), all, w)
+	if out.Cond, out.Singular, err = condScaled(len(idx), all, w); err != nil {
+		return nil, err
+	}
 
 	var p projector
 	nas := make([]float64, len(idx))
@@ -193,7 +195,9 @@ func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 			}
 		}
 		others = append(others, d.nuis...)
-		p.reset(len(idx), others, nil)
+		if err := p.reset(len(idx), others, nil); err != nil {
+			return nil, err
+		}
 		p.residual(nas, d.comp[n], nil)
 		norm := floats.Norm(d.comp[n], 2)
 		sen := floats.Norm(nas, 2)
@@ -203,10 +207,14 @@ func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 		}
 		m.Quantifiable = m.Selectivity >= minSel
 		if !m.Quantifiable {
-			m.Reason = whyNotSelective(set, d, n, minSel)
+			if m.Reason, err = whyNotSelective(set, d, n, minSel); err != nil {
+				return nil, err
+			}
 		} else {
 			if opt.Weighted {
-				p.reset(len(idx), others, w)
+				if err := p.reset(len(idx), others, w); err != nil {
+					return nil, err
+				}
 				p.residual(nasW, d.comp[n], w)
 				m.SE = 1 / floats.Norm(nasW, 2)
 			} else {
@@ -229,22 +237,30 @@ func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 
 // whyNotSelective names what takes away compound n's signal: nothing
 // there, the baseline terms alone, one other compound (with or without
-// the baseline terms), or several together.
-func whyNotSelective(set *reference.Set, d *design, n int, minSel float64) string {
+// the baseline terms), or several together; ErrSVD when a factorization
+// fails.
+func whyNotSelective(set *reference.Set, d *design, n int, minSel float64) (string, error) {
 	col := d.comp[n]
 	norm := floats.Norm(col, 2)
 	if !(norm > 0) {
-		return "it does not absorb in this window"
+		return "it does not absorb in this window", nil
 	}
 	var p projector
 	res := make([]float64, len(col))
+	var err error
 	sel := func(others [][]float64) float64 {
-		p.reset(len(col), others, nil)
+		if e := p.reset(len(col), others, nil); e != nil {
+			err = e
+			return math.Inf(1)
+		}
 		p.residual(res, col, nil)
 		return floats.Norm(res, 2) / norm
 	}
 	if len(d.nuis) > 0 && sel(d.nuis) < minSel {
-		return fmt.Sprintf("the baseline terms (%s) can imitate its spectrum", strings.Join(d.nuisName, ", "))
+		return fmt.Sprintf("the baseline terms (%s) can imitate its spectrum", strings.Join(d.nuisName, ", ")), nil
+	}
+	if err != nil {
+		return "", err
 	}
 	best, bestSel := -1, math.Inf(1)
 	for k := range d.comp {
@@ -256,16 +272,19 @@ func whyNotSelective(set *reference.Set, d *design, n int, minSel float64) strin
 			best, bestSel = k, s
 		}
 	}
+	if err != nil {
+		return "", err
+	}
 	if best >= 0 && bestSel < minSel {
 		if len(d.nuis) > 0 {
-			return fmt.Sprintf("its spectrum is a copy of %s's (up to scale and baseline terms)", set.Compounds[best].Name)
+			return fmt.Sprintf("its spectrum is a copy of %s's (up to scale and baseline terms)", set.Compounds[best].Name), nil
 		}
-		return fmt.Sprintf("its spectrum is a copy of %s's (up to scale)", set.Compounds[best].Name)
+		return fmt.Sprintf("its spectrum is a copy of %s's (up to scale)", set.Compounds[best].Name), nil
 	}
 	if len(d.nuis) > 0 {
-		return "a combination of the other compounds and the baseline terms can imitate its spectrum"
+		return "a combination of the other compounds and the baseline terms can imitate its spectrum", nil
 	}
-	return "a combination of the other compounds can imitate its spectrum"
+	return "a combination of the other compounds can imitate its spectrum", nil
 }
 
 // Quantifiable returns nil when every compound of set can be quantified

@@ -285,7 +285,9 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 					cand.Dropped++
 				}
 			}
-			ws.evaluate(&cand, set, rows[r0:r1], wl[r0:r1], sigma[r0:r1], opt.Baseline, path, opt.Weighted)
+			if err := ws.evaluate(&cand, set, rows[r0:r1], wl[r0:r1], sigma[r0:r1], opt.Baseline, path, opt.Weighted); err != nil {
+				return nil, fmt.Errorf("validate: window %g-%g nm: %w", lo, hi, err)
+			}
 			if !cand.Singular {
 				for k := range cand.SE {
 					cand.RelSE = append(cand.RelSE, cand.SE[k]/levels[k])
@@ -373,13 +375,13 @@ func newWindowWork(maxRows, ncol int) *windowWork {
 }
 
 // evaluate fills c.Cond, c.Singular and c.SE for the rows idx of set
-// (wavelengths wl, noise sigma).
+// (wavelengths wl, noise sigma); ErrSVD when the factorization fails.
 //
 // With X the design (weighted by 1/σ when weighted), D its column norms
 // and X D⁻¹ = U S Vᵀ, the coefficient of compound n is c_n = g·y / d_n with
 // g = U S⁻¹ Vᵀ e_n, so its variance is Σ g_i² σ_i² / d_n² (unweighted) or
 // ||S⁻¹ Vᵀ e_n||² / d_n² (weighted: whitened noise has unit variance).
-func (ws *windowWork) evaluate(c *Candidate, set *reference.Set, idx []int, wl, sigma []float64, model baseline.Model, path float64, weighted bool) {
+func (ws *windowWork) evaluate(c *Candidate, set *reference.Set, idx []int, wl, sigma []float64, model baseline.Model, path float64, weighted bool) error {
 	m := len(idx)
 	nuis, _, _ := model.Columns(wl)
 	ncol := len(set.Compounds) + len(nuis)
@@ -409,7 +411,7 @@ func (ws *windowWork) evaluate(c *Candidate, set *reference.Set, idx []int, wl, 
 		norm[j] = math.Sqrt(norm[j])
 		if !(norm[j] > 0) {
 			c.Cond, c.Singular = maxCond, true
-			return
+			return nil
 		}
 	}
 	for r := 0; r < m; r++ {
@@ -420,12 +422,15 @@ func (ws *windowWork) evaluate(c *Candidate, set *reference.Set, idx []int, wl, 
 		kind = mat.SVDThin
 	}
 	if !ws.svd.Factorize(x, kind) {
-		panic("validate: SVD did not converge on finite data")
+		return ErrSVD
 	}
 	sv := ws.svd.Values(nil)
+	if !finiteSV(sv) {
+		return ErrSVD
+	}
 	c.Cond, c.Singular = clampCond(sv[0], sv[len(sv)-1])
 	if c.Singular {
-		return
+		return nil
 	}
 	ws.v.Reset()
 	ws.svd.VTo(&ws.v)
@@ -450,6 +455,7 @@ func (ws *windowWork) evaluate(c *Candidate, set *reference.Set, idx []int, wl, 
 		}
 		c.SE[n] = math.Sqrt(vsum) / norm[n]
 	}
+	return nil
 }
 
 // Surface returns, for plotting, the edges and a matrix z[i][j] = f(c)
