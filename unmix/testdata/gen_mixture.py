@@ -19,6 +19,13 @@ columns 1 and t = (l - c)/h of package baseline). The answers:
   lod              3.3 * sqrt(sum_i (P_ki s_i)^2), P = numpy.linalg.pinv of
                    the (whitened) design, s_i = sigma_i unweighted, 1
                    weighted (net analyte signal, Lorber 1986; ICH Q2)
+  se, ci95_lo,     for unweighted cases with every compound off the bound
+  ci95_hi          and its interval above zero only: the ordinary least-squares standard errors
+                   sqrt(s^2 diag((X'X)^-1)), with s^2 = RSS/(n-p) and
+                   diag((X'X)^-1) the squared row norms of pinv(X), and
+                   the 95 % interval conc -/+ t * se with
+                   t = scipy.stats.t.ppf(0.975, n-p) (n points, p
+                   coefficients: compounds and baseline terms)
 
 with the noise model sigma_i = noise_i * sqrt(1 + 10^(2 (A_i - 1))),
 A_i the sample's absorbance clipped to [0, 2]. The data are invented
@@ -29,6 +36,7 @@ import sys
 
 import numpy as np
 import scipy
+from scipy import stats
 from scipy.optimize import lsq_linear
 
 rng = np.random.default_rng(20261202)
@@ -55,12 +63,25 @@ def case(name, conc, offset, slope, model, weighted):
     p = np.linalg.pinv(xs)
     s = np.ones_like(sig) if weighted else sig
     lod = 3.3 * np.sqrt(((p * s) ** 2).sum(axis=1))
-    return {
+    out = {
         "name": name, "baseline": model, "weighted": weighted,
         "sample": a.tolist(),
         "conc": res.x[:nc].tolist(), "baseline_coef": res.x[nc:].tolist(),
         "unconstrained": free[:nc].tolist(), "lod": lod[:nc].tolist(),
     }
+    if not weighted and (res.x[:nc] > 0).all():
+        n, k = x.shape
+        # Off the bound the bounded fit is the ordinary one.
+        assert np.allclose(res.x, free, rtol=0, atol=1e-9)
+        rss = float(((a - x @ free) ** 2).sum())
+        s2 = rss / (n - k)
+        se = np.sqrt(s2 * (p ** 2).sum(axis=1))
+        t = stats.t.ppf(0.975, n - k)
+        lo, hi = free - t * se, free + t * se
+        if (lo[:nc] > 0).all():
+            out.update({"dof": n - k, "s2": s2, "t975": t, "se": se[:nc].tolist(),
+                        "ci95_lo": lo[:nc].tolist(), "ci95_hi": hi[:nc].tolist()})
+    return out
 
 
 cases = [
@@ -68,6 +89,7 @@ cases = [
     case("absent-linear", np.array([5, 3, 0, 8]), 0.03, 1e-4, "linear", False),
     case("two-absent", np.array([0, 6, 0.0, 1.5]), 0.0, 0, "offset", False),
     case("weighted-strong", np.array([12, 8, 10, 18]), 0.02, 0, "offset", True),
+    case("four-linear", np.array([4, 6, 3, 2]), 0.015, -5e-5, "linear", False),
 ]
 json.dump({
     "source": "scipy %s / numpy %s (gen_mixture.py)" % (scipy.__version__, np.__version__),
