@@ -382,6 +382,10 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 	for k := range set.Compounds {
 		c := &set.Compounds[k]
 		c.Flags = compoundFlags(c.Linearity, everClipped[k], floor)
+		if b := c.Linearity.Band; b.TooCurved() && !c.Linearity.Curved {
+			warn("%s: the calibration line bends at %d of %d wavelengths of its band (%g-%g nm) by Mandel's test, though not at its maximum (%g nm); check the upper standards and the linear range",
+				c.Name, b.Curved, b.Tested, b.LoNM, b.HiNM, c.PeakNM)
+		}
 		if everCurved[k] && !hasString(c.Flags, FlagCurved) {
 			c.Flags = append([]string{FlagCurved}, c.Flags...)
 		}
@@ -590,26 +594,41 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 				c.MaxStandard = max(c.MaxStandard, v)
 			}
 		}
-		var pts []Point
-		for i, r := range fp.fit {
-			if r.Conc[k] == 0 && !allZero(r.Conc) {
-				continue
-			}
-			y := fp.abs.At(i, jp)
-			for l := range m {
-				if l != k {
-					y -= r.Conc[l] * kraw[l][jp]
+		// pointsAt is the calibration line of compound k at grid index
+		// j: the readings of its standards (and blanks) with the other
+		// compounds' fitted contributions removed.
+		pointsAt := func(j int) []Point {
+			var pts []Point
+			for i, r := range fp.fit {
+				if r.Conc[k] == 0 && !allZero(r.Conc) {
+					continue
 				}
+				y := fp.abs.At(i, j)
+				for l := range m {
+					if l != k {
+						y -= r.Conc[l] * kraw[l][j]
+					}
+				}
+				pts = append(pts, Point{Conc: r.Conc[k], Absorbance: y, Used: use[i] && fp.keep[i][j]})
 			}
-			pts = append(pts, Point{Conc: r.Conc[k], Absorbance: y, Used: use[i] && fp.keep[i][jp]})
-			if use[i] && !fp.keep[i][jp] {
+			return pts
+		}
+		for i, r := range fp.fit {
+			if (r.Conc[k] != 0 || allZero(r.Conc)) && use[i] && !fp.keep[i][jp] {
 				res.clipped[k] = true
 			}
 		}
-		lin, err := lineTest(pts, fp.floor)
+		lin, err := lineTest(pointsAt(jp), fp.floor)
 		if err != nil {
 			return nil, fmt.Errorf("reference: build: %s: %s at %g nm: %w", sh.Path, c.Name, c.PeakNM, err)
 		}
+		var band []int
+		for j := range p {
+			if c.Usable[j] && c.Absorptivity[j] >= BandFraction*c.Absorptivity[jp] {
+				band = append(band, j)
+			}
+		}
+		lin.Band = bandLine(grid, band, pointsAt)
 		c.Linearity = lin
 	}
 	return res, nil

@@ -44,7 +44,7 @@
 // above the absorbance ceiling left out, and a linearity check of each
 // compound at its band maximum (slope, intercept, R², residual SD,
 // lack-of-fit F test when there are replicates, and Mandel's fitting test
-// as in ISO 8466-1).
+// as in ISO 8466-1), repeated over its band ([BandLinearity]).
 //
 // # The reference-set file (schema 1)
 //

@@ -87,6 +87,37 @@ type Linearity struct {
 	RangeHi float64 `json:"range_hi"`
 	// Data are the readings behind the line, for plots.
 	Data []Point `json:"data,omitempty"`
+	// Band is the same line tested at every wavelength of the compound's
+	// band (see [BandLinearity]); nil (omitted in the file) when not
+	// computed, as in sets written before it was.
+	Band *BandLinearity `json:"band,omitempty"`
+}
+
+// BandLinearity is the calibration line of one compound fitted and tested
+// at each wavelength of its band: the usable wavelengths where its
+// absorptivity is at least [BandFraction] of its maximum. At each one the
+// line is fitted exactly as at the band maximum (same readings, with the
+// other compounds' fitted contributions removed).
+type BandLinearity struct {
+	// LoNM and HiNM are the first and last band wavelength.
+	LoNM float64 `json:"lo_nm"`
+	HiNM float64 `json:"hi_nm"`
+	// Wavelengths is the number of band wavelengths with a line fitted.
+	Wavelengths int `json:"wavelengths"`
+	// MinR2 is the lowest R² over the band, at MinR2NM.
+	MinR2   float64 `json:"min_r2"`
+	MinR2NM float64 `json:"min_r2_nm"`
+	// Tested is the number of band wavelengths where Mandel's test could
+	// be run; Curved the number where it prefers a quadratic at
+	// [TestLevel].
+	Tested int `json:"mandel_tested"`
+	Curved int `json:"mandel_curved"`
+}
+
+// TooCurved reports whether Mandel's test flags curvature at more than
+// [BandCurvedShare] of the band wavelengths where it could be run.
+func (b *BandLinearity) TooCurved() bool {
+	return b != nil && b.Tested > 0 && float64(b.Curved) > BandCurvedShare*float64(b.Tested)
 }
 
 // Point is one reading of a calibration line.
@@ -285,6 +316,12 @@ func (s *Set) Validate() error {
 			l.InterceptSE, l.R2, l.ResidualSD, l.RangeLo, l.RangeHi} {
 			if !finite(v) {
 				return bad("compound %q: a linearity figure is %v", c.Name, v)
+			}
+		}
+		if b := l.Band; b != nil {
+			if !finite(b.LoNM) || !finite(b.HiNM) || !finite(b.MinR2) || !finite(b.MinR2NM) ||
+				b.Wavelengths < 0 || b.Tested < 0 || b.Curved < 0 || b.Curved > b.Tested || b.Tested > b.Wavelengths {
+				return bad("compound %q: a band linearity figure is out of range", c.Name)
 			}
 		}
 		for _, p := range l.Data {

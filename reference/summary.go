@@ -5,8 +5,9 @@ import "math"
 // Flag codes of a compound, in the order they are listed.
 const (
 	// FlagCurved: Mandel's test prefers a quadratic to the line at the
-	// band maximum (TestLevel) over all standards; Build then refits on
-	// the standards within the linear range.
+	// band maximum (TestLevel) over all standards, or at more than
+	// BandCurvedShare of the band's wavelengths; when it does at the
+	// maximum, Build refits on the standards within the linear range.
 	FlagCurved = "curved"
 	// FlagLackOfFit: the lack-of-fit test against replicates fails at
 	// TestLevel.
@@ -24,7 +25,7 @@ const (
 
 // Flags lists every flag code with its meaning, in display order.
 var Flags = []struct{ Code, Meaning string }{
-	{FlagCurved, "Mandel's test (ISO 8466-1, F at 99 %) prefers a quadratic: the line bends at high concentration; the absorptivities rest on the standards within the stated linear range only"},
+	{FlagCurved, "Mandel's test (ISO 8466-1, F at 99 %) prefers a quadratic at the band maximum or at more than half the band's wavelengths: the line bends at high concentration; when it bends at the maximum, the absorptivities rest on the standards within the stated linear range only"},
 	{FlagLackOfFit, "replicates show the line misses the level means (lack-of-fit F test at 99 %)"},
 	{FlagFewLevels, "fewer than 5 concentration levels (5 or more spanning the range is common practice)"},
 	{FlagAboveCeiling, "some standards read above the absorbance ceiling at the band maximum and were left out of the whole fit"},
@@ -33,7 +34,7 @@ var Flags = []struct{ Code, Meaning string }{
 
 func compoundFlags(l Linearity, clipped bool, floor float64) []string {
 	var f []string
-	if l.Curved {
+	if l.Curved || l.Band.TooCurved() {
 		f = append(f, FlagCurved)
 	}
 	if !math.IsNaN(l.LackOfFitP) && l.LackOfFitP < 1-TestLevel {

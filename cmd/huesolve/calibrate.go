@@ -56,7 +56,11 @@ Readings above the absorbance ceiling (2 by default: stray light bends
 readings above about A = 2 on ordinary instruments, common practice) are
 left out. Each compound's calibration line at its band maximum is checked:
 R², lack of fit against replicates, and Mandel's test for curvature
-(ISO 8466-1), which sets the linear range.
+(ISO 8466-1), which sets the linear range. The same line is fitted and
+tested at every wavelength of the band (absorptivity at least half its
+maximum): the line under the table gives the lowest R² there and at how
+many wavelengths it bends; bending at more than half of them flags the
+compound curved too.
 
 The reference set is written to the --output file (JSON, with a checksum).
 A summary table goes to standard output. Exit code 4 means the set was

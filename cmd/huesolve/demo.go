@@ -222,7 +222,8 @@ when used) and a wide table holding three samples: all read on the same
 		want: []int{exitOK},
 		note: `Each dye's absorptivity spectrum came out of the standards with its standard
 error; R² near 1 and no flags mean straight calibration lines over the levels
-(Mandel's test found no curvature). Plots: results/plots/calibration.`,
+(Mandel's test found no curvature at the band maxima, and over the bands only at
+the odd wavelength, as chance gives at 99 %). Plots: results/plots/calibration.`,
 	}, {
 		title: "how well can the dyes be told apart?",
 		runs:  [][]string{{"inspect", refs}},

@@ -123,6 +123,7 @@ func writeSetSummary(w io.Writer, set *reference.Set) error {
 	if err := t.Render(); err != nil {
 		return fmt.Errorf("summary table: %w", err)
 	}
+	writeBandLines(w, set)
 	if len(seen) > 0 {
 		fmt.Fprintln(w, "\nFlags:")
 		for _, f := range reference.Flags {
@@ -132,6 +133,26 @@ func writeSetSummary(w io.Writer, set *reference.Set) error {
 		}
 	}
 	return nil
+}
+
+// writeBandLines prints, one line per compound, the calibration line over
+// its band: the band's range, the lowest R² and where, and at how many
+// band wavelengths Mandel's test finds curvature. Nothing for a set
+// without them.
+func writeBandLines(w io.Writer, set *reference.Set) {
+	header := false
+	for _, c := range set.Compounds {
+		b := c.Linearity.Band
+		if b == nil {
+			continue
+		}
+		if !header {
+			fmt.Fprintf(w, "Linearity over the band (absorptivity at least %g %% of its maximum):\n", 100*reference.BandFraction)
+			header = true
+		}
+		fmt.Fprintf(w, "  %s %g-%g nm: lowest R² %.5f at %g nm, curvature (Mandel, %g %%) at %d of %d wavelengths\n",
+			c.Name, b.LoNM, b.HiNM, b.MinR2, b.MinR2NM, 100*reference.TestLevel, b.Curved, b.Tested)
+	}
 }
 
 // plusMinus writes v ± se with se to two significant digits and v to the
