@@ -114,8 +114,9 @@ const (
 	CondLimit = 30.0
 	// LeakLimit: a compound whose spectrum keeps less than this fraction
 	// of its norm after projecting out the baseline terms is flagged
-	// FlagMimic (methods notes, "baseline leakage").
-	LeakLimit = 0.5
+	// FlagMimic: the baseline terms then reproduce more than 3/4 of its
+	// sum of squares (common practice). It is lsq.LeakageWarn.
+	LeakLimit = lsq.LeakageWarn
 	// ShiftTolNM ends the shift iteration when a step is smaller.
 	ShiftTolNM = 1e-3
 	// ShiftMaxIter caps the shift iterations.

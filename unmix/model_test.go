@@ -532,7 +532,8 @@ func TestGrowthTable(t *testing.T) {
 // wavelength), a noisy sample is solved against them, 1500 times. The
 // spread of the results must match the reported standard error. The
 // absorptivities' own error adds sigma^2 sum c_k^2/Q_k (S'S)^-1 to the
-// variance (methods notes, classical least squares), here a factor 1.45;
+// variance (first-order propagation of the absorptivities' error through
+// the classical least-squares solve; common practice), here a factor 1.45;
 // it also adds the same sigma^2 sum c_k^2/Q_k to every residual point, so
 // the residual-scaled standard error (unweighted) and the Birge ratio
 // sqrt(chi-square) (weighted) already carry it and no separate term may

@@ -59,8 +59,7 @@ const (
 	// about 32-fold, over that of an orthogonal design (common practice).
 	VIFRefuse = 1000.0
 	// LeakageWarn: below 0.5 the free (baseline) columns reproduce more
-	// than 3/4 of a column's sum of squares (the project's methods notes;
-	// common practice).
+	// than 3/4 of a column's sum of squares (common practice).
 	LeakageWarn = 0.5
 )
 

@@ -323,8 +323,12 @@ func TestCloneConcurrent(t *testing.T) {
 // TestLackOfFit: white noise at the stated level passes; a missing
 // component gives structured, excessive residuals. The chi-square limit
 // is checked against the upper 1 % point of chi-square with 20 degrees of
-// freedom, 37.566 (standard statistical tables, e.g. NIST/SEMATECH
-// e-Handbook of Statistical Methods, table 1.3.6.7.4; recalled from memory).
+// freedom, chi2Upper1pct20. Source: SciPy 1.10.1 (Debian's
+// python3-scipy), produced by
+//
+//	/usr/bin/python3 -c "import scipy.stats as s; print(repr(s.chi2.ppf(0.99, 20)))"
+//
+// which prints 37.56623478662507.
 func TestLackOfFit(t *testing.T) {
 	const n = 23
 	x := coverageDesign(n)
@@ -347,8 +351,9 @@ func TestLackOfFit(t *testing.T) {
 		t.Fatal(err)
 	}
 	lf := res.LackOfFit()
-	if math.Abs(lf.ChiSqLimit*20-37.566) > 0.001 {
-		t.Errorf("chi-square limit for 20 DoF = %.4f, want 37.566/20", lf.ChiSqLimit*20)
+	const chi2Upper1pct20 = 37.56623478662507
+	if math.Abs(lf.ChiSqLimit*20-chi2Upper1pct20) > 1e-9*chi2Upper1pct20 {
+		t.Errorf("chi-square limit for 20 DoF = %.15g, want %.15g/20", lf.ChiSqLimit*20, chi2Upper1pct20)
 	}
 	if lf.Verdict != Sound {
 		t.Errorf("white noise: %+v (DW %g, chi2 %g)", lf, res.DW, res.ChiSqRed)
