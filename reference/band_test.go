@@ -53,6 +53,10 @@ func TestBuildBandCurved(t *testing.T) {
 		if hasFlag(c.Flags, FlagCurved) != curved || b.TooCurved() != curved {
 			t.Errorf("bend %g: flags %v, curvature at %d of %d band wavelengths; want curved %v", bend, c.Flags, b.Curved, b.Tested, curved)
 		}
+		warned := strings.Contains(strings.Join(set.Provenance.Notes, "\n"), "though not at its maximum")
+		if warned != curved {
+			t.Errorf("bend %g: notes %q; want a warning of bending over the band %v", bend, set.Provenance.Notes, curved)
+		}
 		if curved && b.MinR2NM < 500 {
 			t.Errorf("bend %g: lowest R² %g at %g nm, want it on the bending band", bend, b.MinR2, b.MinR2NM)
 		}
