@@ -287,27 +287,44 @@ func tss(y []float64) float64 {
 
 // bandLine fits and tests the calibration line at each band wavelength:
 // js are the band's grid indices in increasing order and pointsAt returns
-// the readings at grid index j as lineTest takes them. Wavelengths where
-// too few readings stay under the ceiling for a line are skipped. It
-// returns nil when no band wavelength could be fitted.
+// the readings at grid index j as lineTest takes them. R² and Mandel's
+// test are those lineTest gives (same fits, without the lack-of-fit test
+// and the range search, which only the band maximum needs). Wavelengths
+// where too few readings stay under the ceiling for a line are skipped.
+// It returns nil when no band wavelength could be fitted.
 func bandLine(grid []float64, js []int, pointsAt func(j int) []Point) *BandLinearity {
 	var b *BandLinearity
+	var x, y []float64
 	for _, j := range js {
-		l, err := lineTest(pointsAt(j), 0)
+		x, y = x[:0], y[:0]
+		for _, p := range pointsAt(j) {
+			if p.Used {
+				x = append(x, p.Conc)
+				y = append(y, p.Absorbance)
+			}
+		}
+		if len(x) < 3 || len(levelSet(x)) < 2 {
+			continue
+		}
+		f, err := fitPoly(x, y, 1)
 		if err != nil {
 			continue
 		}
+		r2 := 0.0
+		if t := tss(y); t > 0 {
+			r2 = 1 - f.rss/t
+		}
 		if b == nil {
-			b = &BandLinearity{LoNM: grid[j], MinR2: l.R2, MinR2NM: grid[j]}
+			b = &BandLinearity{LoNM: grid[j], MinR2: r2, MinR2NM: grid[j]}
 		}
 		b.HiNM = grid[j]
 		b.Wavelengths++
-		if l.R2 < b.MinR2 {
-			b.MinR2, b.MinR2NM = l.R2, grid[j]
+		if r2 < b.MinR2 {
+			b.MinR2, b.MinR2NM = r2, grid[j]
 		}
-		if !math.IsNaN(l.MandelP) {
+		if _, p, curved := mandel(x, y); !math.IsNaN(p) {
 			b.Tested++
-			if l.Curved {
+			if curved {
 				b.Curved++
 			}
 		}
