@@ -296,6 +296,9 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 			sh.Standards = append(sh.Standards, row)
 		}
 	}
+	if len(sh.Standards) == 0 && len(sh.Blanks) == 0 {
+		return nil, perr(0, 0, "%w: no standards: the sheet has a header but no rows", ErrConcentration)
+	}
 	if len(sh.Standards) == 0 {
 		return nil, perr(0, 0, "%w: no standards: every row has all concentrations zero (blanks only)", ErrConcentration)
 	}

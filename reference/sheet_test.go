@@ -170,7 +170,9 @@ func TestReadSheetErrors(t *testing.T) {
 		{"no compounds", "scan,column\ns1.csv,\n", ErrSheetHeader, "bad.csv:1", "no compound columns"},
 		{"empty brackets", "scan,dye ()\ns1.csv,1\n", ErrSheetHeader, "bad.csv:1:2", "empty brackets"},
 		{"never varies", "scan,dye,other\nblank.csv,0,0\ns1.csv,1,0\ns2.csv,2,0\n", ErrNoVariation, "bad.csv", "other is 0 in every row"},
-		{"blanks only", "scan,dye\nblank.csv,0\n", ErrConcentration, "bad.csv", "no standards"},
+		{"blanks only", "scan,dye\nblank.csv,0\n", ErrConcentration, "bad.csv", "no standards: every row has all concentrations zero (blanks only)"},
+		{"no rows", "scan,dye\n", ErrConcentration, "bad.csv", "no standards: the sheet has a header but no rows"},
+		{"no rows but comments", "# made 2 May\nscan,dye\n\n", ErrConcentration, "bad.csv", "but no rows"},
 		{"extra field", "scan,dye\ns1.csv,1,9\ns2.csv,2\n", nil, "bad.csv:2:3", "header names 2 columns"},
 	}
 	for _, c := range cases {

@@ -222,7 +222,10 @@ type Amount struct {
 	// Free and FreeSE are the unconstrained (ordinary least squares)
 	// estimate and its standard error from the noise model, for every
 	// compound; the result files show them where a compound is held at
-	// zero, to tell how far below zero the data would push.
+	// zero, to tell how far below zero the data would push. FreeSE, like
+	// every standard error from the noise model (SE too in a weighted
+	// fit), is scaled by the Birge ratio sqrt(ChiSqRed) when ChiSqRed > 1;
+	// LOD and LOQ are not.
 	Free   float64 `json:"unconstrained"`
 	FreeSE float64 `json:"unconstrained_se"`
 }

@@ -392,7 +392,9 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 	if dof > 0 {
 		chiRed = chi / float64(dof)
 	}
-	inflate := 1.0 // Birge ratio for noise-model standard errors
+	// Birge ratio: scales every noise-model standard error (FreeSE in
+	// any fit, SE in a weighted one) when the fit is worse than the noise.
+	inflate := 1.0
 	if chiRed > 1 {
 		inflate = math.Sqrt(chiRed)
 	}

@@ -64,6 +64,12 @@ func TestConvertToAbsorbance(t *testing.T) {
 	if _, err := os.Stat(target); !os.IsNotExist(err) {
 		t.Errorf("output written despite the error")
 	}
+	// Without --as the reading is kept as it is: 0 %T is written as a
+	// transmittance of 0.
+	out, errOut, code = run(t, "convert", zero, "-o", "-", "--to", "jcamp")
+	if code != 0 || !strings.Contains(out, "##YUNITS=TRANSMITTANCE\n") || !strings.Contains(out, "400 0.5 0.1 0 0.05\n") {
+		t.Errorf("0 %%T kept as transmittance: code %d, stderr %q\n%s", code, errOut, out)
+	}
 }
 
 func TestConvertPickAndErrors(t *testing.T) {

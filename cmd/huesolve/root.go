@@ -22,7 +22,7 @@ const (
 	exitOK        = 0 // everything read, nothing flagged
 	exitFailure   = 1 // the command could not do its job
 	exitUsage     = 2 // bad command line
-	exitSkipped   = 3 // done, but some inputs could not be read and were skipped
+	exitSkipped   = 3 // done, but some inputs could not be read or solved and were skipped
 	exitFlagged   = 4 // done, all inputs read, but some results are flagged or failed acceptance
 	exitInterrupt = 130
 )
@@ -66,7 +66,7 @@ Exit codes:
   0  done, every input read and nothing flagged
   1  failure: the command could not do its job
   2  bad command line
-  3  done, but some input files could not be read (they are listed on stderr)
+  3  done, but some inputs could not be read or solved (they are listed on stderr)
   4  done, all inputs read, but some results are flagged or failed acceptance
   130 interrupted (Ctrl-C): solve and verify stop cleanly and write no -o file
 
