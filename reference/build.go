@@ -56,8 +56,8 @@ const (
 	rankTol = 1e-13
 	// gridSlack is the relative slack (of the span) allowed when checking
 	// that a scan covers the window, so wavelengths rounded in a file
-	// still match; it equals the spectrum package's own.
-	gridSlack = 1e-9
+	// still match: the spectrum package's own.
+	gridSlack = spectrum.GridSlack
 )
 
 // Version is the tool version recorded in a set's provenance when

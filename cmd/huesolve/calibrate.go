@@ -117,8 +117,8 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		ThroughOrigin: o.throughOrigin, Warn: warn, Version: version, Now: now,
 	}
 	switch {
-	case !(o.pathCM > 0) || o.pathCM > 1e3:
-		return usagef("--path-cm %g: want a positive path length in cm", o.pathCM)
+	case o.pathCM == 0 || checkPathFlag(o.pathCM) != nil:
+		return usagef("--path-cm %g: want a path length from %g to %g cm", o.pathCM, float64(unmix.MinPathCM), float64(unmix.MaxPathCM))
 	case !(o.ceiling > 0):
 		return usagef("--ceiling %g: want a positive absorbance", o.ceiling)
 	case !(o.floor >= 0) || o.floor >= o.ceiling:

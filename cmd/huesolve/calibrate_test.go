@@ -249,6 +249,8 @@ func TestCalibrateErrors(t *testing.T) {
 			[]string{"standards.csv:", "covers 400-700 nm"}},
 		{"no output", []string{"calibrate", sheet}, exitUsage, []string{"--output"}},
 		{"bad window", []string{"calibrate", sheet, "-o", refs, "--window", "700-400"}, exitUsage, []string{"--window"}},
+		{"path too long", []string{"calibrate", sheet, "-o", refs, "--path-cm", "500"}, exitUsage, []string{"--path-cm 500", "0.0001 to 100 cm"}},
+		{"path zero", []string{"calibrate", sheet, "-o", refs, "--path-cm", "0"}, exitUsage, []string{"--path-cm"}},
 		{"bad pretreat", []string{"calibrate", sheet, "-o", refs, "--pretreat", "wobble:3"}, exitUsage, []string{"--pretreat"}},
 		{"bad quantity", []string{"calibrate", sheet, "-o", refs, "--quantity", "lux"}, exitUsage, []string{"--quantity"}},
 		{"bad plot format", []string{"calibrate", sheet, "-o", refs, "--plots", dir, "--plot-format", "gif"}, exitUsage, []string{"--plot-format"}},
