@@ -3,7 +3,6 @@ package report
 import (
 	"fmt"
 	"image/color"
-	"io"
 	"math"
 	"path/filepath"
 	"strings"
@@ -14,7 +13,6 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
-	"huesolve/internal/atomicfile"
 	"huesolve/reference"
 )
 
@@ -199,22 +197,7 @@ func SaveCalibrationLinePlot(set *reference.Set, k int, path string) error {
 	if err != nil {
 		return err
 	}
-	format := strings.ToLower(strings.TrimPrefix(filepath.Ext(path), "."))
-	cw, err := draw.NewFormattedCanvas(calPlotW, calLineH, format)
-	if err != nil {
-		return fmt.Errorf("report: plot %s: %w", path, err)
-	}
-	dc := draw.New(cw)
-	tiles := draw.Tiles{Rows: 2, Cols: 1, PadX: vg.Millimeter, PadY: 3 * vg.Millimeter,
-		PadTop: 2 * vg.Millimeter, PadBottom: 2 * vg.Millimeter, PadLeft: 2 * vg.Millimeter, PadRight: 2 * vg.Millimeter}
-	plots := [][]*plot.Plot{{line}, {resid}}
-	canvases := plot.Align(plots, tiles, dc)
-	line.Draw(canvases[0][0])
-	resid.Draw(canvases[1][0])
-	return atomicfile.Write(path, func(w io.Writer) error {
-		_, err := cw.WriteTo(w)
-		return err
-	})
+	return SaveStacked(path, calPlotW, calLineH, []*plot.Plot{line, resid}, []float64{1, 1})
 }
 
 // WriteCalibrationPlots writes, into dir, absorptivity.FORMAT and one

@@ -2,7 +2,6 @@ package report
 
 import (
 	"fmt"
-	"io"
 	"math"
 	"path/filepath"
 	"sort"
@@ -13,7 +12,6 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
-	"huesolve/internal/atomicfile"
 	"huesolve/validate"
 )
 
@@ -226,26 +224,8 @@ func SaveVerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k in
 	if err != nil {
 		return err
 	}
-	format := strings.ToLower(strings.TrimPrefix(filepath.Ext(path), "."))
-	cw, err := draw.NewFormattedCanvas(valPlotW, valPlotH, format)
-	if err != nil {
-		return fmt.Errorf("report: plot %s: %w", path, err)
-	}
-	dc := draw.New(cw)
-	tiles := draw.Tiles{Rows: 2, Cols: 1, PadX: vg.Millimeter, PadY: 3 * vg.Millimeter,
-		PadTop: 4 * vg.Millimeter, PadBottom: 2 * vg.Millimeter, PadLeft: 2 * vg.Millimeter, PadRight: 2 * vg.Millimeter}
 	// The found-vs-known panel gets two thirds of the height.
-	plots := [][]*plot.Plot{{top}, {bottom}}
-	canvases := plot.Align(plots, tiles, dc)
-	split := canvases[0][0].Min.Y - (canvases[0][0].Max.Y-canvases[1][0].Min.Y)/6
-	canvases[0][0].Min.Y = split + 1.5*vg.Millimeter
-	canvases[1][0].Max.Y = split - 1.5*vg.Millimeter
-	top.Draw(canvases[0][0])
-	bottom.Draw(canvases[1][0])
-	return atomicfile.Write(path, func(w io.Writer) error {
-		_, err := cw.WriteTo(w)
-		return err
-	})
+	return SaveStacked(path, valPlotW, valPlotH, []*plot.Plot{top, bottom}, []float64{2, 1})
 }
 
 // WriteVerifyPlots writes verify-NAME.FORMAT for each compound into dir;
