@@ -218,14 +218,7 @@ func (p *projector) reset(rows int, cols [][]float64, w []float64) error {
 	a := mat.NewDense(rows, k, p.buf[:need])
 	nz := 0
 	for _, c := range cols {
-		var ss float64
-		for r := 0; r < rows; r++ {
-			v := c[r]
-			if w != nil {
-				v *= w[r]
-			}
-			ss += v * v
-		}
+		ss := weightedSumSq(c[:rows], w)
 		if !(ss > 0) {
 			continue
 		}
@@ -310,14 +303,7 @@ func condScaled(rows int, cols [][]float64, w []float64) (float64, bool, error) 
 	}
 	a := mat.NewDense(rows, k, nil)
 	for j, c := range cols {
-		var ss float64
-		for r := 0; r < rows; r++ {
-			v := c[r]
-			if w != nil {
-				v *= w[r]
-			}
-			ss += v * v
-		}
+		ss := weightedSumSq(c[:rows], w)
 		if !(ss > 0) {
 			return maxCond, true, nil
 		}
@@ -357,4 +343,16 @@ func clampCond(smax, smin float64) (float64, bool) {
 		return maxCond, singular
 	}
 	return smax / smin, singular
+}
+
+// weightedSumSq returns sum((c_r w_r)^2), or sum(c_r^2) when w is nil.
+func weightedSumSq(c, w []float64) float64 {
+	var ss float64
+	for r, v := range c {
+		if w != nil {
+			v *= w[r]
+		}
+		ss += v * v
+	}
+	return ss
 }
