@@ -386,6 +386,10 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 			warn("%s: the calibration line bends at %d of %d wavelengths of its band (%g-%g nm) by Mandel's test, though not at its maximum (%g nm); check the upper standards and the linear range",
 				c.Name, b.Curved, b.Tested, b.LoNM, b.HiNM, c.PeakNM)
 		}
+		if l := c.Linearity; l.CurvedUnconfirmed && !hasString(c.Flags, FlagCurved) {
+			warn("%s: curvature at the band maximum (%g nm) only, not confirmed at neighbouring wavelengths: likely chance at the %g %% level (Mandel p %.2g); not flagged, and the linear range keeps every level",
+				c.Name, c.PeakNM, 100*TestLevel, l.MandelP)
+		}
 		if everCurved[k] && !hasString(c.Flags, FlagCurved) {
 			c.Flags = append([]string{FlagCurved}, c.Flags...)
 		}
@@ -618,17 +622,18 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 				res.clipped[k] = true
 			}
 		}
-		lin, err := lineTest(pointsAt(jp), fp.floor)
-		if err != nil {
-			return nil, fmt.Errorf("reference: build: %s: %s at %g nm: %w", sh.Path, c.Name, c.PeakNM, err)
-		}
 		var band []int
 		for j := range p {
 			if c.Usable[j] && c.Absorptivity[j] >= BandFraction*c.Absorptivity[jp] {
 				band = append(band, j)
 			}
 		}
-		lin.Band = bandLine(grid, band, pointsAt)
+		bl := bandLine(grid, band, jp, pointsAt)
+		lin, err := lineTestAt(pointsAt(jp), fp.floor, bl.ConfirmsPeak())
+		if err != nil {
+			return nil, fmt.Errorf("reference: build: %s: %s at %g nm: %w", sh.Path, c.Name, c.PeakNM, err)
+		}
+		lin.Band = bl
 		c.Linearity = lin
 	}
 	return res, nil

@@ -320,6 +320,81 @@ func TestBuildCurved(t *testing.T) {
 		if bend == 0 && (l.RangeLo != 1 || l.RangeHi != 12) {
 			t.Errorf("straight: range %g-%g, want 1-12", l.RangeLo, l.RangeHi)
 		}
+		// Real curvature bends the line at the wavelengths next to the
+		// maximum too, so the hit there is confirmed, not merely noted.
+		if b := l.Band; bend > 0 && (b == nil || b.PeakNeighboursTested != 2 || b.PeakNeighboursCurved == 0 || l.CurvedUnconfirmed) {
+			t.Errorf("bend %g: band %+v, unconfirmed %v; want both neighbours of the maximum tested and curved there", bend, b, l.CurvedUnconfirmed)
+		}
+	}
+}
+
+// TestBuildPeakOnlyCurvature: a straight calibration whose readings at the
+// band maximum alone carry a bowed error pattern (invented: +a (c-1)(12-c)
+// on top of noise of SD 0.001, as chance deviations can line up) makes
+// Mandel's test fire at the maximum only. That hit is noted but neither
+// flags the compound nor cuts its range; the same pattern spread over the
+// maximum and its neighbours (as real curvature is) flags it.
+func TestBuildPeakOnlyCurvature(t *testing.T) {
+	grid := linGrid(450, 5, 21)
+	shape := band(grid, 500, 20, 1)
+	const jp = 10 // 500 nm, the band maximum
+	levels := []float64{1, 2, 4, 6, 8, 10, 12}
+	for _, spread := range []int{0, 1} {
+		rng := rand.New(rand.NewPCG(3, 3))
+		var conc, scan [][]float64
+		for _, c := range levels {
+			for range 3 {
+				row := make([]float64, len(grid))
+				for j := range row {
+					row[j] = 0.12*c*shape[j] + 0.001*rng.NormFloat64()
+					if j >= jp-spread && j <= jp+spread {
+						// 0.009 at most, mid-range: raises the maximum,
+						// so it stays the band maximum.
+						row[j] += 0.0003 * (c - 1) * (12 - c)
+					}
+				}
+				conc = append(conc, []float64{c})
+				scan = append(scan, row)
+			}
+		}
+		var notes []string
+		set, err := Build(memSheet([]string{"dye"}, grid, conc, scan),
+			Options{Ceiling: 3, Now: fixedNow, Warn: func(s string) { notes = append(notes, s) }})
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := set.Compounds[0]
+		l, b := c.Linearity, c.Linearity.Band
+		if c.PeakNM != 500 || b == nil || b.PeakNeighboursTested != 2 {
+			t.Fatalf("spread %d: band maximum %g nm, band %+v; want 500 nm with both neighbours tested", spread, c.PeakNM, b)
+		}
+		// The test itself fires at the maximum (with spread 1 the refit
+		// within the cut range then passes it, so only spread 0 shows it).
+		if spread == 0 && !(l.MandelP < 1-TestLevel) {
+			t.Fatalf("spread %d: Mandel p %g at the maximum, want below %g", spread, l.MandelP, 1-TestLevel)
+		}
+		joined := strings.Join(notes, "\n")
+		if spread == 0 {
+			if b.PeakNeighboursCurved != 0 {
+				t.Fatalf("spread 0: Mandel fires at %d neighbours of the maximum, want none", b.PeakNeighboursCurved)
+			}
+			if hasFlag(c.Flags, FlagCurved) || l.Curved || !l.CurvedUnconfirmed {
+				t.Errorf("maximum only: flags %v, curved %v, unconfirmed %v; want not flagged, noted", c.Flags, l.Curved, l.CurvedUnconfirmed)
+			}
+			if l.RangeHi != 12 || len(c.StandardsLeftOut) != 0 || c.MaxStandard != 12 {
+				t.Errorf("maximum only: range up to %g, %d standards left out; want every level kept", l.RangeHi, len(c.StandardsLeftOut))
+			}
+			if !strings.Contains(joined, "not confirmed at neighbouring wavelengths") {
+				t.Errorf("maximum only: notes %q; want the unconfirmed curvature noted", notes)
+			}
+		} else {
+			if !hasFlag(c.Flags, FlagCurved) || l.CurvedUnconfirmed || l.RangeHi >= 12 {
+				t.Errorf("spread over neighbours: flags %v, unconfirmed %v, range up to %g; want flagged and cut", c.Flags, l.CurvedUnconfirmed, l.RangeHi)
+			}
+			if strings.Contains(joined, "not confirmed") {
+				t.Errorf("spread over neighbours: notes %q; want no unconfirmed note", notes)
+			}
+		}
 	}
 }
 

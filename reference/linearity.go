@@ -201,6 +201,16 @@ func distinct(x []float64) int {
 // floor to the highest level that still passes Mandel's test when the
 // levels above it are dropped one at a time (down to 3 levels).
 func lineTest(pts []Point, floor float64) (Linearity, error) {
+	return lineTestAt(pts, floor, true)
+}
+
+// lineTestAt is lineTest with confirmed telling whether curvature found
+// by Mandel's test is to be believed: when it is false and the test
+// prefers a quadratic, the line is reported with CurvedUnconfirmed set,
+// Curved cleared and the range search skipped (every level stays in the
+// range). Build passes whether the band's neighbouring wavelengths bear
+// the band maximum out (see [BandLinearity.ConfirmsPeak]).
+func lineTestAt(pts []Point, floor float64, confirmed bool) (Linearity, error) {
 	var x, y []float64
 	for _, p := range pts {
 		if p.Used {
@@ -230,6 +240,9 @@ func lineTest(pts []Point, floor float64) (Linearity, error) {
 	}
 	lin.LackOfFitF, lin.LackOfFitP = lackOfFit(x, y, f.rss)
 	lin.MandelF, lin.MandelP, lin.Curved = mandel(x, y)
+	if lin.Curved && !confirmed {
+		lin.Curved, lin.CurvedUnconfirmed = false, true
+	}
 
 	// Usable range.
 	lin.RangeLo = levels[0]
@@ -292,7 +305,11 @@ func tss(y []float64) float64 {
 // and the range search, which only the band maximum needs). Wavelengths
 // where too few readings stay under the ceiling for a line are skipped.
 // It returns nil when no band wavelength could be fitted.
-func bandLine(grid []float64, js []int, pointsAt func(j int) []Point) *BandLinearity {
+//
+// jp is the grid index of the band maximum: the band wavelengths one grid
+// step either side of it are counted in PeakNeighboursTested and
+// PeakNeighboursCurved.
+func bandLine(grid []float64, js []int, jp int, pointsAt func(j int) []Point) *BandLinearity {
 	var b *BandLinearity
 	var x, y []float64
 	for _, j := range js {
@@ -326,6 +343,12 @@ func bandLine(grid []float64, js []int, pointsAt func(j int) []Point) *BandLinea
 			b.Tested++
 			if curved {
 				b.Curved++
+			}
+			if j == jp-1 || j == jp+1 {
+				b.PeakNeighboursTested++
+				if curved {
+					b.PeakNeighboursCurved++
+				}
 			}
 		}
 	}

@@ -81,7 +81,13 @@ type Linearity struct {
 	// memory and omitted in the file when there are too few points.
 	MandelF float64 `json:"mandel_f,omitempty"`
 	MandelP float64 `json:"mandel_p,omitempty"`
-	Curved  bool    `json:"curved"`
+	// Curved: Mandel's test prefers a quadratic here and the curvature is
+	// confirmed (see [BandLinearity.ConfirmsPeak]); CurvedUnconfirmed:
+	// it prefers one here only, not at the neighbouring band
+	// wavelengths, which at TestLevel is likely chance, so the line is
+	// not flagged and the range keeps every level.
+	Curved            bool `json:"curved"`
+	CurvedUnconfirmed bool `json:"curved_unconfirmed,omitempty"`
 	// Linear range: the concentrations over which the line holds.
 	RangeLo float64 `json:"range_lo"`
 	RangeHi float64 `json:"range_hi"`
@@ -112,6 +118,25 @@ type BandLinearity struct {
 	// [TestLevel].
 	Tested int `json:"mandel_tested"`
 	Curved int `json:"mandel_curved"`
+	// PeakNeighboursTested is the number of band wavelengths one grid
+	// step either side of the band maximum (0 to 2) where Mandel's test
+	// could be run; PeakNeighboursCurved the number of those where it
+	// prefers a quadratic.
+	PeakNeighboursTested int `json:"mandel_peak_neighbours_tested,omitempty"`
+	PeakNeighboursCurved int `json:"mandel_peak_neighbours_curved,omitempty"`
+}
+
+// ConfirmsPeak reports whether curvature found by Mandel's test at the
+// band maximum is borne out by the band: the test also prefers a
+// quadratic at a neighbouring band wavelength (one grid step either
+// side), or at more than [BandCurvedShare] of the band (TooCurved). At
+// TestLevel a straight line fails the test at about 1 % of wavelengths
+// by chance, while real curvature bends the line at every wavelength near
+// the maximum (their absorptivities differ little). With no band, or no
+// neighbour where the test could be run, there is nothing to weigh the
+// maximum against and its result stands (true).
+func (b *BandLinearity) ConfirmsPeak() bool {
+	return b == nil || b.PeakNeighboursTested == 0 || b.PeakNeighboursCurved > 0 || b.TooCurved()
 }
 
 // TooCurved reports whether Mandel's test flags curvature at more than
@@ -320,7 +345,9 @@ func (s *Set) Validate() error {
 		}
 		if b := l.Band; b != nil {
 			if !finite(b.LoNM) || !finite(b.HiNM) || !finite(b.MinR2) || !finite(b.MinR2NM) ||
-				b.Wavelengths < 0 || b.Tested < 0 || b.Curved < 0 || b.Curved > b.Tested || b.Tested > b.Wavelengths {
+				b.Wavelengths < 0 || b.Tested < 0 || b.Curved < 0 || b.Curved > b.Tested || b.Tested > b.Wavelengths ||
+				b.PeakNeighboursTested < 0 || b.PeakNeighboursTested > 2 || b.PeakNeighboursCurved < 0 ||
+				b.PeakNeighboursCurved > b.PeakNeighboursTested {
 				return bad("compound %q: a band linearity figure is out of range", c.Name)
 			}
 		}

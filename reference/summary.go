@@ -5,9 +5,12 @@ import "math"
 // Flag codes of a compound, in the order they are listed.
 const (
 	// FlagCurved: Mandel's test prefers a quadratic to the line at the
-	// band maximum (TestLevel) over all standards, or at more than
-	// BandCurvedShare of the band's wavelengths; when it does at the
-	// maximum, Build refits on the standards within the linear range.
+	// band maximum (TestLevel) over all standards, confirmed at a
+	// neighbouring band wavelength or by the band share
+	// (BandLinearity.ConfirmsPeak), or at more than BandCurvedShare of the
+	// band's wavelengths; when it does at the maximum, Build refits on the
+	// standards within the linear range. A hit at the maximum alone is
+	// noted (Linearity.CurvedUnconfirmed) but neither flags nor refits.
 	FlagCurved = "curved"
 	// FlagLackOfFit: the lack-of-fit test against replicates fails at
 	// TestLevel.
@@ -25,7 +28,7 @@ const (
 
 // Flags lists every flag code with its meaning, in display order.
 var Flags = []struct{ Code, Meaning string }{
-	{FlagCurved, "Mandel's test (ISO 8466-1, F at 99 %) prefers a quadratic at the band maximum or at more than half the band's wavelengths: the line bends at high concentration; when it bends at the maximum, the absorptivities rest on the standards within the stated linear range only"},
+	{FlagCurved, "Mandel's test (ISO 8466-1, F at 99 %) prefers a quadratic at the band maximum and at a neighbouring wavelength, or at more than half the band's wavelengths: the line bends at high concentration; when it bends at the maximum, the absorptivities rest on the standards within the stated linear range only (a hit at the maximum alone is likely chance and only noted)"},
 	{FlagLackOfFit, "replicates show the line misses the level means (lack-of-fit F test at 99 %)"},
 	{FlagFewLevels, "fewer than 5 concentration levels (5 or more spanning the range is common practice)"},
 	{FlagAboveCeiling, "some standards read above the absorbance ceiling at the band maximum and were left out of the whole fit"},

@@ -60,7 +60,11 @@ R², lack of fit against replicates, and Mandel's test for curvature
 tested at every wavelength of the band (absorptivity at least half its
 maximum): the line under the table gives the lowest R² there and at how
 many wavelengths it bends; bending at more than half of them flags the
-compound curved too.
+compound curved too. At 99 % the test fails a straight line at about 1 %
+of wavelengths by chance, so curvature at the band maximum counts only
+when the test also fires one grid step either side of it (or over more
+than half the band); a hit at the maximum alone is noted under the table
+and in a warning, without flag, range cut or refit.
 
 The reference set is written to the --output file (JSON, with a checksum).
 A summary table goes to standard output. Exit code 4 means the set was

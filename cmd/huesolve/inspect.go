@@ -150,8 +150,12 @@ func writeBandLines(w io.Writer, set *reference.Set) {
 			fmt.Fprintf(w, "Linearity over the band (absorptivity at least %g %% of its maximum):\n", 100*reference.BandFraction)
 			header = true
 		}
-		fmt.Fprintf(w, "  %s %g-%g nm: lowest R² %.5f at %g nm, curvature (Mandel, %g %%) at %d of %d wavelengths\n",
-			c.Name, b.LoNM, b.HiNM, b.MinR2, b.MinR2NM, 100*reference.TestLevel, b.Curved, b.Tested)
+		note := ""
+		if c.Linearity.CurvedUnconfirmed {
+			note = fmt.Sprintf("; curvature at the band maximum only, not confirmed at neighbouring wavelengths: likely chance at the %g %% level", 100*reference.TestLevel)
+		}
+		fmt.Fprintf(w, "  %s %g-%g nm: lowest R² %.5f at %g nm, curvature (Mandel, %g %%) at %d of %d wavelengths%s\n",
+			c.Name, b.LoNM, b.HiNM, b.MinR2, b.MinR2NM, 100*reference.TestLevel, b.Curved, b.Tested, note)
 	}
 }
 
