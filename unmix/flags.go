@@ -43,12 +43,13 @@ const (
 	// set's pre-treatment includes Savitzky-Golay smoothing or a
 	// derivative, which correlates neighbouring residuals by itself.
 	FlagPattern Flag = "pattern"
-	// FlagShift: the estimated wavelength shift is at least ShiftNoteNM
-	// and more than ShiftSigmas standard errors from zero (it is applied
-	// whether flagged or not).
+	// FlagShift: the estimated wavelength shift is more than ShiftSigmas
+	// standard errors from zero (so it is applied) and at least
+	// ShiftNoteNM. A shift within ShiftSigmas standard errors of zero is
+	// not determined: it is not applied (ShiftNM 0) and never flagged.
 	FlagShift Flag = "shift"
-	// FlagShiftMax: the estimated shift reached the allowed limit; the
-	// true shift may be larger.
+	// FlagShiftMax: a determined shift (see FlagShift) reached the
+	// allowed limit; the true shift may be larger.
 	FlagShiftMax Flag = "shift-max"
 	// FlagIllCond: the design is ill-conditioned (condition number above
 	// CondLimit): concentrations are sensitive to small errors.

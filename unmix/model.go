@@ -125,10 +125,12 @@ const (
 	// FlagShift: smaller shifts are within what wavelength settings of
 	// UV-Vis instruments repeat to (about 0.1 nm, common practice).
 	ShiftNoteNM = 0.1
-	// ShiftSigmas: a shift is flagged FlagShift only when it is also more
-	// than this many standard errors of its estimate (Result.ShiftSE)
-	// away from zero, so that noise alone flags it with a probability
-	// near 5 % (two-sided normal quantile 1.96, rounded up).
+	// ShiftSigmas: a shift is applied (and may be flagged) only when it
+	// is more than this many standard errors of its estimate
+	// (Result.ShiftSE) away from zero, so that noise alone moves a
+	// sample with a probability near 5 % (two-sided normal quantile
+	// 1.96, rounded up). A nearly blank sample, whose estimate wanders
+	// with a standard error of several nm, is left unshifted.
 	ShiftSigmas = 2.0
 	// LODFactor and LOQFactor multiply sigma / sensitivity (ICH Q2).
 	LODFactor = 3.3
@@ -245,9 +247,16 @@ type Result struct {
 	Points   int                `json:"points_used"`
 	Dropped  int                `json:"points_dropped"`
 	ShiftNM  float64            `json:"shift_nm"`
-	// ShiftSE is the standard error of ShiftNM (0 when no shift was
-	// estimated): the residual SD over the norm of the shift direction
-	// left after projecting out the design.
+	// ShiftNM is the applied shift: 0 when none was estimated or the
+	// estimate was within ShiftSigmas standard errors of zero (not
+	// determined; the sample is then fitted unshifted).
+	// ShiftSE is the standard error of the shift estimate (0 when no
+	// shift was estimated or it is undefined), also when the estimate
+	// was not applied: the residual SD over the norm of the shift
+	// direction left after projecting out the design. The compounds'
+	// standard errors of a shifted sample include the shift's
+	// uncertainty, and residual-based figures allow for the noise the
+	// interpolation to the shifted grid averages away.
 	ShiftSE float64 `json:"shift_se_nm,omitempty"`
 	// Dilution and PathCM are the factors applied.
 	Dilution float64 `json:"dilution"`
@@ -390,6 +399,12 @@ type workspace struct {
 	darkNM   float64
 	darkPts  int
 	shiftDen float64 // squared norm of the projected shift direction
+	shiftSE  float64 // standard error of the estimated shift (NaN if undefined)
+	// interpVar is interpNoise for the applied shift (1 when none).
+	interpVar float64
+	// pg holds b = X+ g, the compounds' (and baseline terms') response
+	// to the shift direction, from the last shift iteration.
+	pg []float64
 }
 
 // NewModel checks the options against the set and builds the design. It
@@ -735,6 +750,31 @@ func searchGT(g []float64, v float64) int {
 		i++
 	}
 	return i
+}
+
+// interpNoise is the mean, over the rows of grid listed in rows, of the
+// variance factor (1-t)^2 + t^2 that linear interpolation at grid + delta
+// between readings of wl applies to independent noise. Interpolated
+// residuals look quieter than the readings by this factor; the noise
+// itself and the parameters' scatter are not reduced, so residual-based
+// standard errors are divided by its square root.
+func interpNoise(wl, grid []float64, rows []int, delta float64) float64 {
+	n := len(wl)
+	sum := 0.0
+	for _, r := range rows {
+		x := grid[r] + delta
+		k, _ := slices.BinarySearch(wl, x)
+		v := 1.0
+		if k > 0 && k < n {
+			t := (x - wl[k-1]) / (wl[k] - wl[k-1])
+			v = (1-t)*(1-t) + t*t
+		}
+		sum += v
+	}
+	if len(rows) == 0 {
+		return 1
+	}
+	return sum / float64(len(rows))
 }
 
 // interpShifted writes into dst the linear interpolation of (wl, y) at

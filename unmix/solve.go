@@ -82,10 +82,26 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		return fail(err)
 	}
 	shift := 0.0
-	w.shiftDen = 0
+	w.shiftDen, w.shiftSE, w.interpVar = 0, 0, 1
 	if m.opt.Shift {
 		if shift, noConv, err = m.estimateShift(d, s.Wavelengths); err != nil {
 			return fail(err)
+		}
+		if shift != 0 {
+			w.interpVar = interpNoise(s.Wavelengths, sh.grid, offsetRows(d.rows, sh.lo), shift)
+		}
+		w.shiftSE = m.shiftSE(d)
+		if !shiftDetermined(shift, w.shiftSE) {
+			// Not told apart from zero: the unshifted fit stands, and
+			// the standard error says how little the data could tell.
+			shift, w.interpVar = 0, 1
+			if err := m.sample(s.Wavelengths, 0); err != nil {
+				return fail(err)
+			}
+			if noConv, err = m.fit(d); err != nil {
+				return fail(err)
+			}
+			clear(w.pg)
 		}
 	}
 	m.fill(dst, d, s, name, dil, path, dropped, shift, noConv)
@@ -329,6 +345,7 @@ func (m *Model) estimateShift(d *design, wl []float64) (float64, bool, error) {
 			}
 			pg = append(pg, v)
 		}
+		w.pg = append(w.pg[:0], pg...)
 		xr := d.x.RawMatrix()
 		num, den := 0.0, 0.0
 		for i, r := range d.rows {
@@ -367,6 +384,46 @@ func (m *Model) estimateShift(d *design, wl []float64) (float64, bool, error) {
 	return delta, noConv, nil
 }
 
+// shiftDetermined reports whether an estimated shift is told apart from
+// zero: more than ShiftSigmas standard errors from it. A shift whose
+// standard error is undefined (no signal to move) is not.
+func shiftDetermined(shift, se float64) bool {
+	return se > 0 && !math.IsInf(se, 0) && math.Abs(shift) > ShiftSigmas*se
+}
+
+// offsetRows returns rows with off added to each, in a new slice.
+func offsetRows(rows []int, off int) []int {
+	out := make([]int, len(rows))
+	for i, r := range rows {
+		out[i] = r + off
+	}
+	return out
+}
+
+// shiftSE is the standard error of the shift estimated by estimateShift
+// for the fit in w.res: the residual SD (in noise-model units and at
+// least 1 when weighted, as for the compounds) over the norm of the shift
+// direction left after projecting out the design. It is NaN when the
+// direction vanishes (nothing fitted to move) or no degrees of freedom
+// remain.
+func (m *Model) shiftSE(d *design) float64 {
+	w := &m.ws
+	n, dof := len(d.rows), w.res.DoF
+	if !(w.shiftDen > 0) || dof <= 0 {
+		return math.NaN()
+	}
+	s2 := sumSq(w.res.Residual[:n]) / float64(dof) / w.interpVar
+	if m.opt.Weighted {
+		chi := 0.0
+		for i, r := range d.rows {
+			e := w.res.Residual[i] / w.sig[r]
+			chi += e * e
+		}
+		s2 = math.Max(chi/float64(dof)/w.interpVar, 1)
+	}
+	return math.Sqrt(s2 / w.shiftDen)
+}
+
 // fill turns the solve in w.res into dst.
 func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, dil, path float64, dropped int, shift float64, noConv bool) {
 	sh, w := m.sh, &m.ws
@@ -390,7 +447,9 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 	dof := res.DoF
 	chiRed := math.NaN()
 	if dof > 0 {
-		chiRed = chi / float64(dof)
+		// A shifted sample's residual is interpolated, hence quieter
+		// than its noise by w.interpVar (1 without a shift).
+		chiRed = chi / float64(dof) / w.interpVar
 	}
 	// Birge ratio: scales every noise-model standard error (FreeSE in
 	// any fit, SE in a weighted one) when the fit is worse than the noise.
@@ -455,6 +514,14 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 		se := res.SE[k]
 		if weighted {
 			se *= inflate
+		} else {
+			se /= math.Sqrt(w.interpVar) // residual-based, see interpNoise
+		}
+		if shift != 0 && k < len(w.pg) {
+			// The shift is a fitted parameter too: with b = X+ g the
+			// compound's response to it, the partitioned inverse of
+			// [X g] adds (b_k SE_shift)^2 to the variance.
+			se = math.Hypot(se, w.pg[k]*w.shiftSE)
 		}
 		*a = Amount{
 			Compound: c.Name,
@@ -518,20 +585,16 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 		dst.Flags = append(dst.Flags, FlagPattern)
 	}
 	if m.opt.Shift {
-		if w.shiftDen > 0 && dof > 0 {
-			// Residual SD of the fit (in units of the noise model when
-			// weighted, at least 1 as for the compounds' errors).
-			s2 := sumSq(res.Residual[:n]) / float64(dof)
-			if weighted {
-				s2 = math.Max(chiRed, 1)
-			}
-			dst.ShiftSE = math.Sqrt(s2 / w.shiftDen)
+		// An undetermined shift was set to 0 in SolveTo and is never
+		// flagged; its standard error is still reported.
+		if se := w.shiftSE; se > 0 && !math.IsInf(se, 0) {
+			dst.ShiftSE = se
 		}
 		atMax := math.Abs(shift) >= m.opt.MaxShiftNM-ShiftTolNM
-		if atMax || (math.Abs(shift) >= ShiftNoteNM && math.Abs(shift) > ShiftSigmas*dst.ShiftSE) {
+		if shift != 0 && (atMax || math.Abs(shift) >= ShiftNoteNM) {
 			dst.Flags = append(dst.Flags, FlagShift)
 		}
-		if atMax {
+		if shift != 0 && atMax {
 			dst.Flags = append(dst.Flags, FlagShiftMax)
 		}
 	}

@@ -65,8 +65,11 @@ stated one below the highest standard; above it a result is "over").
 as 10^A above A = 1 where little light reaches the detector. --shift estimates a wavelength shift between the instrument that
 made the references and the sample's (up to --max-shift nm; reported in nm
 with its standard error, positive when the sample's bands lie at longer
-wavelengths; flagged "shift" when at least 0.1 nm and more than 2 standard
-errors from zero).
+wavelengths). A shift within 2 standard errors of zero is not determined
+(a nearly blank sample, say): the sample is fitted unshifted and shows
+shift 0 with the estimate's standard error. A determined shift is applied,
+its uncertainty is included in the concentrations' standard errors, and it
+is flagged "shift" from 0.1 nm on ("shift-max" at the limit).
 
 Concentrations are in the reference set's units for the original sample:
 the fitted amount times the dilution factor, times the reference path over
