@@ -218,3 +218,46 @@ func TestShiftUndetermined(t *testing.T) {
 		}
 	}
 }
+
+// TestSmoothingSaturation: with a Savitzky-Golay derivative in the set's
+// pre-treatment, the points beside a reading above the ceiling are
+// computed from the held (clipped) value; they are left out with it, so
+// a saturated sample is still recovered, and counted as dropped.
+func TestSmoothingSaturation(t *testing.T) {
+	set := testSet(4)
+	st, err := baseline.ParseStep("sg:11,2,1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	set.Pretreat = []baseline.Step{st}
+	for k := range set.Compounds {
+		if set.Compounds[k].Absorptivity, err = st.Apply(set.Grid, set.Compounds[k].Absorptivity); err != nil {
+			t.Fatal(err)
+		}
+	}
+	m := mustModel(t, set, Options{WindowLo: 450, WindowHi: 750})
+	conc := []float64{5, 3, 2, 8}
+	for k := range conc {
+		conc[k] *= 8
+	}
+	s := mixture{conc: conc, noise: testNoise, seed: 31}.spectrum()
+	over := 0
+	for i, l := range s.Wavelengths {
+		if l >= 450 && l <= 750 && s.Values[i] > set.Ceiling {
+			over++
+		}
+	}
+	r := mustSolve(t, m, s, Factors{})
+	if over == 0 || !r.HasFlag(FlagSaturated) {
+		t.Fatalf("%d points above the ceiling, flags %v: the case does not test the rule", over, r.Flags)
+	}
+	// Window 11: 5 neighbours either side of each run above the ceiling.
+	if r.Dropped < over+5 {
+		t.Errorf("%d points above the ceiling, %d dropped: the neighbours were kept", over, r.Dropped)
+	}
+	for k, a := range r.Amounts {
+		if math.Abs(a.Conc-conc[k]) > 4*a.SE+1e-9 {
+			t.Errorf("%s: %g +- %g, truth %g", a.Compound, a.Conc, a.SE, conc[k])
+		}
+	}
+}

@@ -336,6 +336,10 @@ type shared struct {
 	ceiling float64
 	maxStd  []float64 // highest concentration in the cell not flagged FlagOverRange
 	smooth  bool      // pre-treatment correlates neighbouring residuals (Savitzky-Golay)
+	// reach is how many grid points either side a reading above the
+	// ceiling spreads into through the Savitzky-Golay steps (the sum of
+	// their half-windows, as the filters are applied one after another).
+	reach   int
 	blankWL []float64 // blank in absorbance on its own grid
 	blankA  []float64
 	blank0  []float64 // blank on the work grid, unshifted
@@ -398,6 +402,7 @@ type workspace struct {
 	// to such readings (0 if none).
 	darkNM   float64
 	darkPts  int
+	tainted  []bool  // work-grid points within sh.reach of a reading above the ceiling
 	shiftDen float64 // squared norm of the projected shift direction
 	shiftSE  float64 // standard error of the estimated shift (NaN if undefined)
 	// interpVar is interpNoise for the applied shift (1 when none).
@@ -470,6 +475,7 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	for _, st := range set.Pretreat {
 		if st.Kind == baseline.KindSG {
 			sh.smooth = true
+			sh.reach += st.Window / 2
 		}
 	}
 	if len(set.Pretreat) > 0 {

@@ -141,14 +141,33 @@ func (m *Model) readMask(s *spectrum.Spectrum) (int, error) {
 		return 0, err
 	}
 
-	// Saturation mask, from the unshifted raw absorbance.
+	// Saturation mask, from the unshifted raw absorbance. With
+	// Savitzky-Golay steps a reading above the ceiling (held at it)
+	// also spoils the pre-treated values within sh.reach points of it:
+	// those are left out and counted as dropped too.
+	over := func(a float64) bool { return a > sh.ceiling || math.IsInf(a, 0) || math.IsNaN(a) }
+	w.tainted = w.tainted[:0]
+	if sh.reach > 0 {
+		w.tainted = slices.Grow(w.tainted, nw)[:nw]
+		clear(w.tainted)
+		last := -1 // last work index marked
+		for i, a := range w.raw {
+			if !over(a) {
+				continue
+			}
+			for j := max(i-sh.reach, last+1); j <= min(i+sh.reach, nw-1); j++ {
+				w.tainted[j] = true
+				last = j
+			}
+		}
+	}
 	w.rows = w.rows[:0]
 	w.key = w.key[:0]
 	dropped := 0
 	w.darkPts, w.darkNM = 0, 0
 	for _, r := range sh.rows0 {
 		a := w.raw[off+r]
-		if a > sh.ceiling || math.IsInf(a, 0) || math.IsNaN(a) {
+		if over(a) || len(w.tainted) > 0 && w.tainted[off+r] {
 			dropped++
 			if math.IsInf(a, 0) || math.IsNaN(a) {
 				w.darkPts++

@@ -55,7 +55,10 @@ absorptivity times the path length (concentrations >= 0), plus the baseline
 terms (--baseline).
 
 Points whose absorbance reads above the ceiling (the reference set's, or
---ceiling) are left out and counted; when more than 5 % are lost, or any
+--ceiling) are left out and counted; when the reference set's
+pre-treatment has Savitzky-Golay steps, so are the points within half a
+window (summed over the steps) of such a point, whose smoothed or derivative
+values used the clipped reading. When more than 5 % are lost, or any
 point of the window reads 0 %T or below (too dark to read: the file and
 wavelength are named), the sample is flagged "dilute" with a dilution
 factor that brings its highest band below the ceiling and every compound
