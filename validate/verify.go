@@ -144,6 +144,19 @@ type Verification struct {
 	Blank string `json:"blank,omitempty"`
 }
 
+// FlaggedRows returns the number of check results (one standard, one
+// compound) that carry a warning flag: results the fit does not describe
+// well, whatever their recovery. Pass does not depend on it.
+func (v *Verification) FlaggedRows() int {
+	n := 0
+	for _, r := range v.Rows {
+		if len(r.Flags) > 0 {
+			n++
+		}
+	}
+	return n
+}
+
 // Assess judges check standards against the limits. names and units are
 // the compounds in the order of the checks' slices.
 //

@@ -128,3 +128,23 @@ func TestCheckRowHeldAtZero(t *testing.T) {
 		t.Errorf("rows %+v, want X held at zero and Y not", v.Rows)
 	}
 }
+
+// TestFlaggedRows: flags counted per result (standard and compound),
+// leaving the verdict on recovery alone.
+func TestFlaggedRows(t *testing.T) {
+	loq := []float64{0.05, 0.05}
+	checks := []Check{
+		{Name: "c1", Known: []float64{10, 5}, Found: []float64{10, 5}, SE: []float64{0.1, 0.1}, LOQ: loq,
+			Flags: [][]string{{"misfit"}, {"misfit", "illcond"}}},
+		{Name: "c2", Known: []float64{10, 5}, Found: []float64{10, 5}, SE: []float64{0.1, 0.1}, LOQ: loq,
+			Flags: [][]string{nil, {"illcond"}}},
+		{Name: "c3", Known: []float64{10, 5}, Found: []float64{10, 5}, SE: []float64{0.1, 0.1}, LOQ: loq},
+	}
+	v, err := Assess([]string{"X", "Y"}, nil, checks, Limits{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if n := v.FlaggedRows(); n != 3 || !v.Pass {
+		t.Errorf("flagged rows %d, pass %v; want 3 of 6 flagged, pass", n, v.Pass)
+	}
+}

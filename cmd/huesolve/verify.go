@@ -65,9 +65,17 @@ Output: tables on standard output, or --format csv|json; -o FILE writes it
 to a file instead (atomically). --plots DIR writes, per compound, found
 against known with a recovery panel.
 
-Exit codes: 0 every compound passed, 4 some compound failed acceptance,
-1 the checks could not be solved, 2 bad command line, 130 interrupted
-(Ctrl-C; it says how far it got, and nothing is written).
+The summary table counts, per compound, the check standards with it (known
+concentration above zero: judged on recovery) and without it (known zero:
+judged against its LOQ). A check result carrying a "!" flag (as in solve,
+e.g. misfit or illcond) is one the fit does not describe well: the verdict
+still rests on recovery, but a note on standard error and under the table
+says how many carry flags, and the exit code is 4.
+
+Exit codes: 0 every compound passed and no check result carries a "!"
+flag, 4 some compound failed acceptance or some check result carries a "!"
+flag, 1 the checks could not be solved, 2 bad command line, 130
+interrupted (Ctrl-C; it says how far it got, and nothing is written).
 
 ` + caution
 
@@ -218,11 +226,25 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 			failed++
 		}
 	}
+	flagged := v.FlaggedRows()
+	if flagged > 0 {
+		warn(verifyFlaggedNote(flagged))
+	}
 	if failed > 0 {
 		return &exitError{code: exitFlagged, msg: fmt.Sprintf("%d of %d compounds failed acceptance", failed, len(v.Compounds))}
 	}
+	if flagged > 0 {
+		return &exitError{code: exitFlagged, msg: fmt.Sprintf("all %d compounds passed acceptance on recovery, but %d check results are flagged", len(v.Compounds), flagged)}
+	}
 	fmt.Fprintf(errw, "huesolve: all %d compounds passed acceptance\n", len(v.Compounds))
 	return nil
+}
+
+// verifyFlaggedNote is the note, on standard error and under the checks
+// table, that n check results carry warning flags.
+func verifyFlaggedNote(n int) string {
+	return fmt.Sprintf("%d check %s warning flags: the fit does not describe them well; see the flags with each check result",
+		n, lookPlural(n, "result carries", "results carry"))
 }
 
 // valReadCheckSheet reads a check-standard sheet: replicates of a single
@@ -287,6 +309,9 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 	if err := t.Render(); err != nil {
 		return fmt.Errorf("verify table: %w", err)
 	}
+	if n := v.FlaggedRows(); n > 0 {
+		fmt.Fprintln(w, verifyFlaggedNote(n)+".")
+	}
 	fmt.Fprintln(w)
 	t = valTable(w)
 	units := make([]string, len(v.Compounds))
@@ -334,6 +359,7 @@ func writeVerifyTable(w io.Writer, rep *verifyReport) error {
 	if err := t.Render(); err != nil {
 		return fmt.Errorf("verify table: %w", err)
 	}
+	fmt.Fprintln(w, "Standards with/without: check standards holding the compound (judged on recovery) / not holding it (judged against its LOQ).")
 	fmt.Fprintf(w, "Limits: mean recovery %g-%g %%, RSD ≤ %g %%, compounds not in a standard found at most at their LOQ.\n",
 		v.Limits.RecoveryLo, v.Limits.RecoveryHi, v.Limits.MaxRSD)
 	if cv := rep.CrossVal; cv != nil {
