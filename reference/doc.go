@@ -60,7 +60,9 @@
 //	             min_standard, max_standard, linearity (slope, intercept,
 //	             their SEs, r2, residual_sd, levels, points, lack_of_fit_f
 //	             and _p, mandel_f and _p (absent when they could not be
-//	             computed), curved, range_lo, range_hi, data), left_out,
+//	             computed), curved, curved_unconfirmed (Mandel's test
+//	             fired at the band maximum only; absent when false),
+//	             range_lo, range_hi, data, band), left_out,
 //	             flags
 //	noise        residual SD of the calibration per wavelength (absorbance
 //	             at path_cm)

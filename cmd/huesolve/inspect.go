@@ -137,8 +137,9 @@ func writeSetSummary(w io.Writer, set *reference.Set) error {
 
 // writeBandLines prints, one line per compound, the calibration line over
 // its band: the band's range, the lowest R² and where, and at how many
-// band wavelengths Mandel's test finds curvature. Nothing for a set
-// without them.
+// band wavelengths Mandel's test finds curvature, with a note when it
+// found curvature at the band maximum only (not flagged). Nothing for a
+// set without them.
 func writeBandLines(w io.Writer, set *reference.Set) {
 	header := false
 	for _, c := range set.Compounds {
