@@ -343,6 +343,9 @@ func (s *Set) Validate() error {
 				return bad("compound %q: a linearity figure is %v", c.Name, v)
 			}
 		}
+		if l.Curved && l.CurvedUnconfirmed {
+			return bad("compound %q: the line is marked both curved and curved unconfirmed", c.Name)
+		}
 		if b := l.Band; b != nil {
 			if !finite(b.LoNM) || !finite(b.HiNM) || !finite(b.MinR2) || !finite(b.MinR2NM) ||
 				b.Wavelengths < 0 || b.Tested < 0 || b.Curved < 0 || b.Curved > b.Tested || b.Tested > b.Wavelengths ||

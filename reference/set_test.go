@@ -132,3 +132,21 @@ func TestSaveRefusesNaN(t *testing.T) {
 		t.Errorf("a refused save left a file: %v", err)
 	}
 }
+
+// TestSaveRefusesBothCurved: a line cannot be both curved (confirmed) and
+// curved at its maximum only, nor have more curved neighbours of the
+// band maximum than tested ones.
+func TestSaveRefusesBothCurved(t *testing.T) {
+	for name, edit := range map[string]func(l *Linearity){
+		"both curved": func(l *Linearity) { l.Curved, l.CurvedUnconfirmed = true, true },
+		"neighbour count": func(l *Linearity) {
+			l.Band = &BandLinearity{Wavelengths: 3, Tested: 3, PeakNeighboursTested: 1, PeakNeighboursCurved: 2}
+		},
+	} {
+		s := memSet()
+		edit(&s.Compounds[0].Linearity)
+		if err := s.Save(filepath.Join(t.TempDir(), "bad.json")); !errors.Is(err, ErrInvalid) {
+			t.Errorf("%s: Save = %v, want ErrInvalid", name, err)
+		}
+	}
+}
