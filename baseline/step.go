@@ -114,8 +114,9 @@ func ParseStep(s string) (Step, error) {
 	default:
 		return Step{}, fmt.Errorf("%w %q: unknown kind %q (want zero, als or sg)", ErrStep, s, kind)
 	}
-	if err := st.Check(); err != nil {
-		return Step{}, fmt.Errorf("%w (in %q)", err, s)
+	if bad := st.problem(); bad != "" {
+		// Quoting the input once; Check would name the step again.
+		return Step{}, fmt.Errorf("%w %q: %s", ErrStep, s, bad)
 	}
 	if st.Kind == KindSG {
 		// Refuse filters whose weights cannot be used (see
@@ -165,6 +166,14 @@ func (s Step) String() string {
 // and that the fields the kind does not use are zero. Errors wrap
 // [ErrStep].
 func (s Step) Check() error {
+	if bad := s.problem(); bad != "" {
+		return fmt.Errorf("%w %s: %s", ErrStep, s, bad)
+	}
+	return nil
+}
+
+// problem says what Check finds wrong with s ("" when nothing).
+func (s Step) problem() string {
 	fin := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 	var bad string
 	switch s.Kind {
@@ -194,10 +203,7 @@ func (s Step) Check() error {
 	default:
 		bad = fmt.Sprintf("unknown kind %q (want zero, als or sg)", s.Kind)
 	}
-	if bad != "" {
-		return fmt.Errorf("%w %s: %s", ErrStep, s, bad)
-	}
-	return nil
+	return bad
 }
 
 // maxWindow bounds a Savitzky-Golay window. The filter keeps window²

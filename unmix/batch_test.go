@@ -201,8 +201,9 @@ func TestSampleSheet(t *testing.T) {
 		}
 	}
 	for _, c := range []struct{ text, want string }{
-		{"sample,dilution\nA,zero\n", "sheet.csv:2:2: dilution \"zero\" is not a positive number"},
-		{"sample,dilution\nA,-2\n", "sheet.csv:2:2:"},
+		{"sample,dilution\nA,zero\n", "sheet.csv:2:2: dilution \"zero\" is not a number"},
+		{"sample,dilution\nA,1+3\n", "sheet.csv:2:2: dilution \"1+3\" is not a number"},
+		{"sample,dilution\nA,-2\n", "sheet.csv:2:2: dilution \"-2\" is not a positive number"},
 		{"sample,dilution\nA,NaN\n", "sheet.csv:2:2:"},
 		{"sample,dilution\nA,2e9\n", "sheet.csv:2:2: dilution \"2e9\": want a factor from 1e-06 to 1e+09"},
 		{"sample,dilution,path_cm\nA,2,4e-324\n", "sheet.csv:2:3: path_cm \"4e-324\": want 0.0001 to 100 cm"},

@@ -169,7 +169,10 @@ func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 				num = strings.Replace(num, ",", ".", 1) // decimal comma
 			}
 			x, err := strconv.ParseFloat(num, 64)
-			if err != nil || !(x > 0) || math.IsInf(x, 0) {
+			switch {
+			case err != nil && !errors.Is(err, strconv.ErrRange) || math.IsNaN(x):
+				return nil, perr(line, c.i+1, "%s %q is not a number", c.what, v)
+			case !(x > 0) || math.IsInf(x, 0):
 				return nil, perr(line, c.i+1, "%s %q is not a positive number", c.what, v)
 			}
 			if err := CheckFactors(Factors{PathCM: x}); c.what == "path_cm" && err != nil {

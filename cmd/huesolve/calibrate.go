@@ -136,7 +136,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	for _, s := range o.pretreat {
 		st, err := baseline.ParseStep(s)
 		if err != nil {
-			return usagef("--pretreat %q: %v", s, err)
+			return usagef("--pretreat: %v", err) // the error quotes the step
 		}
 		opt.Pretreat = append(opt.Pretreat, st)
 	}

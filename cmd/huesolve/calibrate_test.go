@@ -252,6 +252,7 @@ func TestCalibrateErrors(t *testing.T) {
 		{"path too long", []string{"calibrate", sheet, "-o", refs, "--path-cm", "500"}, exitUsage, []string{"--path-cm 500", "0.0001 to 100 cm"}},
 		{"path zero", []string{"calibrate", sheet, "-o", refs, "--path-cm", "0"}, exitUsage, []string{"--path-cm"}},
 		{"bad pretreat", []string{"calibrate", sheet, "-o", refs, "--pretreat", "wobble:3"}, exitUsage, []string{"--pretreat"}},
+		{"even sg window", []string{"calibrate", sheet, "-o", refs, "--pretreat", "sg:4,2"}, exitUsage, []string{`--pretreat: invalid pre-treatment "sg:4,2": window 4 must be odd`}},
 		{"bad quantity", []string{"calibrate", sheet, "-o", refs, "--quantity", "lux"}, exitUsage, []string{"--quantity"}},
 		{"bad plot format", []string{"calibrate", sheet, "-o", refs, "--plots", dir, "--plot-format", "gif"}, exitUsage, []string{"--plot-format"}},
 	}

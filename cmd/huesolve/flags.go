@@ -61,6 +61,15 @@ func (f *fitFlags) add(fs *pflag.FlagSet) {
 	fs.Float64Var(&f.ceiling, "ceiling", 0, "absorbance above which points are left out (0 or unset: the reference set's ceiling)")
 }
 
+// unusedNote returns a note when --max-shift was given without --shift,
+// which alone uses it ("" otherwise).
+func (f *fitFlags) unusedNote(cmd *cobra.Command) string {
+	if !f.shift && cmd.Flags().Changed("max-shift") {
+		return fmt.Sprintf("--max-shift %g has no effect without --shift: no shift is estimated", f.maxShift)
+	}
+	return ""
+}
+
 // baselineModel parses --baseline.
 func (f *fitFlags) baselineModel() (baseline.Model, error) {
 	m, err := baseline.ParseModel(f.baseline)

@@ -113,7 +113,8 @@ wavelength grid, coverage of the window, sample sheet factors, enough
 points below the ceiling) without solving, with the warnings solving
 would give: a quick look through a large batch before the real run, and a
 measure of how long reading alone takes. Problems go to standard error,
-with the summary; nothing is written to standard output.
+with the summary; nothing is written to standard output. The exit codes
+are those solving would give, short of 4 (no fit is made to flag).
 
 Exit codes:
   0  every input read and solved, no sample flagged
@@ -142,7 +143,7 @@ func newSolveCmd() *cobra.Command {
 	o.scans.add(f, "every sample")
 	o.output.add(f, "one figure per sample")
 	f.Float64Var(&o.dilution, "dilution", 1, "dilution factor of every sample (the sample sheet overrides it)")
-	f.Float64Var(&o.pathCM, "path-cm", 0, "cell path length in cm (default: the reference set's; the sample sheet overrides it)")
+	f.Float64Var(&o.pathCM, "path-cm", 0, "cell path length in cm (0: the reference set's; the sample sheet overrides it)")
 	f.StringVar(&o.samples, "samples", "", "sample `SHEET` with columns sample, dilution, path_cm")
 	f.IntVarP(&o.jobs, "jobs", "j", 0, "number of samples solved in parallel (default: all cores)")
 	f.BoolVar(&o.checkOnly, "check-only", false, "read and check every scan without solving it")
@@ -161,6 +162,9 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
 	if err != nil {
 		return err
+	}
+	if msg := o.fit.unusedNote(cmd); msg != "" {
+		note(msg)
 	}
 	if err := checkDilutionFlag(o.dilution); err != nil {
 		return err
@@ -227,9 +231,14 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		},
 	}
 	names := model.Compounds()
+	var plotted atomic.Int64 // plots written, for the closing message
 	if o.output.plots != "" {
 		batch.Each = func(seq int, r *unmix.Result) error {
-			return report.SaveSamplePlot(r, names, report.SamplePlotPath(o.output.plots, seq+1, r.Sample, o.output.plotFormat))
+			if err := report.SaveSamplePlot(r, names, report.SamplePlotPath(o.output.plots, seq+1, r.Sample, o.output.plotFormat)); err != nil {
+				return err
+			}
+			plotted.Add(1)
+			return nil
 		}
 	}
 
@@ -328,6 +337,9 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	}
 	track.report(warn, o.dilution, o.pathCM)
 	seen.report(warn)
+	if o.output.plots != "" {
+		fmt.Fprintf(errw, "huesolve: %d plots written to %s\n", plotted.Load(), o.output.plots)
+	}
 	line := fmt.Sprintf("huesolve: %d sample(s) solved from %d input(s): %d flagged, %d failed, %d input(s) unreadable",
 		sum.Solved, sum.Files, sum.Flagged, sum.Failed, sum.Unreadable)
 	if o.output.out != "" {
@@ -382,7 +394,11 @@ func runSolveCheck(cmd *cobra.Command, batch *unmix.Batch, inputs []unmix.Input,
 		line += fmt.Sprintf("; %d warning(s) above, which solving would give too", nw)
 	}
 	fmt.Fprintln(errw, line)
-	if sum.Unreadable > 0 || sum.Failed > 0 {
+	switch {
+	case sum.Checked == 0 && sum.Unreadable+sum.Failed > 0:
+		// As solving would: nothing could be solved is a failure.
+		return &exitError{code: exitFailure, msg: "nothing could be solved: the reasons are above"}
+	case sum.Unreadable > 0 || sum.Failed > 0:
 		return &exitError{code: exitSkipped}
 	}
 	return nil

@@ -315,6 +315,38 @@ func TestSolveTableAndPlots(t *testing.T) {
 			t.Errorf("figure %s: %v", f, err)
 		}
 	}
+	if want := "huesolve: 2 plots written to " + plots + "\n"; !strings.Contains(errOut, want) {
+		t.Errorf("stderr lacks %q:\n%s", want, errOut)
+	}
+}
+
+// TestSolveSmallMessages: the step of a bad --pretreat is quoted once;
+// --max-shift without --shift gets a note; --path-cm's help says what 0
+// means; two columns of one wide file with the same sample name are told
+// apart by column.
+func TestSolveSmallMessages(t *testing.T) {
+	dir := t.TempDir()
+	ref := writeSolveSet(t, dir)
+	wide := writeScans(t, filepath.Join(dir, "w.csv"), solveScan("S", []float64{5, 3, 2, 8}, 0, 1), solveScan("S", []float64{1, 1, 1, 1}, 0, 2))
+	_, errOut, code := run(t, "solve", ref, wide, "--max-shift", "2")
+	if code != exitOK {
+		t.Fatalf("exit %d\n%s", code, errOut)
+	}
+	for _, want := range []string{
+		"note: --max-shift 2 has no effect without --shift",
+		"S (" + wide + " column 2, " + wide + " column 3)",
+	} {
+		if !strings.Contains(errOut, want) {
+			t.Errorf("stderr lacks %q:\n%s", want, errOut)
+		}
+	}
+	if _, errOut, _ := run(t, "solve", ref, wide, "--max-shift", "2", "--shift"); strings.Contains(errOut, "no effect") {
+		t.Errorf("--max-shift with --shift noted:\n%s", errOut)
+	}
+	help, _, _ := run(t, "solve", "--help")
+	if !strings.Contains(help, "cell path length in cm (0: the reference set's") {
+		t.Errorf("--path-cm help does not say what 0 means:\n%s", help)
+	}
 }
 
 func TestSolveUsage(t *testing.T) {

@@ -133,13 +133,17 @@ func (t *sheetTracker) report(warn func(string), dilution, pathCM float64) {
 // sample with readings too dark to convert, and remembers sample names to
 // report those given by more than one scan.
 type outcomeNotes struct {
-	first map[string]string // sample name -> first file
-	dups  map[string][]string
+	first map[string]scanPlace // sample name -> first scan
+	dups  map[string][]scanPlace
 	order []string
 }
 
+// scanPlace is where a sample came from: its file, and the file with the
+// column ("file column 3") to tell apart samples of one wide file.
+type scanPlace struct{ file, source string }
+
 func newOutcomeNotes() *outcomeNotes {
-	return &outcomeNotes{first: map[string]string{}, dups: map[string][]string{}}
+	return &outcomeNotes{first: map[string]scanPlace{}, dups: map[string][]scanPlace{}}
 }
 
 // add takes one outcome (in input order).
@@ -152,14 +156,18 @@ func (n *outcomeNotes) add(out unmix.Outcome, warn func(string)) {
 		warn(fmt.Sprintf("%s: %s reads 0 %%T or below from %g nm (%d point(s) of the window): too dark to read there; those points are left out and the sample is flagged sat and dilute",
 			out.File, r.Sample, r.DarkNM, r.DarkPoints))
 	}
+	here := scanPlace{file: out.File, source: r.Source}
+	if here.source == "" {
+		here.source = out.File
+	}
 	if f, ok := n.first[r.Sample]; !ok {
-		n.first[r.Sample] = out.File
+		n.first[r.Sample] = here
 	} else {
 		if len(n.dups[r.Sample]) == 0 {
 			n.order = append(n.order, r.Sample)
-			n.dups[r.Sample] = []string{f}
+			n.dups[r.Sample] = []scanPlace{f}
 		}
-		n.dups[r.Sample] = append(n.dups[r.Sample], out.File)
+		n.dups[r.Sample] = append(n.dups[r.Sample], here)
 	}
 }
 
@@ -170,7 +178,23 @@ func (n *outcomeNotes) report(warn func(string)) {
 	}
 	var items []string
 	for _, s := range n.order {
-		items = append(items, fmt.Sprintf("%s (%s)", s, strings.Join(n.dups[s], ", ")))
+		// File names alone, unless one file gave the name twice: then
+		// the columns too.
+		places := n.dups[s]
+		files := make(map[string]bool, len(places))
+		sameFile := false
+		for _, p := range places {
+			sameFile = sameFile || files[p.file]
+			files[p.file] = true
+		}
+		where := make([]string, len(places))
+		for i, p := range places {
+			where[i] = p.file
+			if sameFile {
+				where[i] = p.source
+			}
+		}
+		items = append(items, fmt.Sprintf("%s (%s)", s, strings.Join(where, ", ")))
 	}
 	warn(fmt.Sprintf("%d sample name(s) come from more than one scan, so their rows cannot be told apart by name: %s",
 		len(n.order), nameList(items)))
