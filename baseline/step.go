@@ -339,3 +339,19 @@ func ApplyAll(steps []Step, wl, y []float64) ([]float64, error) {
 	}
 	return out, nil
 }
+
+// Reach is how many grid points either side of a reading the steps can
+// carry it: the sum of the Savitzky-Golay half-windows, since the filters
+// run one after another. A reading left out of a fit (above the ceiling,
+// say) also spoils the treated values within Reach points of it.
+// Zeroing shifts every point by one mean and asymmetric least squares
+// spreads a reading over the whole baseline; neither is counted here.
+func Reach(steps []Step) int {
+	r := 0
+	for _, st := range steps {
+		if st.Kind == KindSG {
+			r += st.Window / 2
+		}
+	}
+	return r
+}

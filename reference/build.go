@@ -301,11 +301,22 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 		}
 		abs.SetRow(i, t)
 	}
+	// A reading above the ceiling is left out, and so are the pre-treated
+	// values a smoothing step carried it into (baseline.Reach points
+	// either side), as solve does for samples.
+	reach := baseline.Reach(opt.Pretreat)
 	keep := make([][]bool, n)
 	for i := range keep {
 		keep[i] = make([]bool, p)
+		for j := range keep[i] {
+			keep[i][j] = true
+		}
 		for j, v := range raw.RawRowView(i) {
-			keep[i][j] = v <= ceiling
+			if v > ceiling {
+				for k := max(j-reach, 0); k <= min(j+reach, p-1); k++ {
+					keep[i][k] = false
+				}
+			}
 		}
 	}
 
@@ -373,7 +384,11 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 	set := res.set
 	set.Pretreat = append([]baseline.Step(nil), opt.Pretreat...)
 	if res.leftOut > 0 {
-		warn("%d readings above the ceiling (A > %g) were left out of the fit", res.leftOut, ceiling)
+		if reach > 0 {
+			warn("%d readings above the ceiling (A > %g), or within %d points of one after smoothing, were left out of the fit", res.leftOut, ceiling, reach)
+		} else {
+			warn("%d readings above the ceiling (A > %g) were left out of the fit", res.leftOut, ceiling)
+		}
 	}
 	if res.unsolved > 0 {
 		warn("at %d of %d wavelengths too few standards stayed under the ceiling to fit; no compound is usable there (noise set to the largest found, %.3g)",

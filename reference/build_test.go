@@ -831,3 +831,56 @@ func BenchmarkBuild(b *testing.B) {
 		})
 	}
 }
+
+// TestBuildSmoothingNextToCeiling: with a Savitzky-Golay step, a reading
+// above the ceiling also spoils the smoothed values next to it. Standards
+// whose top levels are clipped (a flat 2.3, as a saturated detector reads)
+// must give the same absorptivities as the unclipped standards wherever
+// the compound stays usable: noise-free data fit exactly on any subset of
+// levels, so only leaked clipped values could make them differ.
+func TestBuildSmoothingNextToCeiling(t *testing.T) {
+	grid := linGrid(400, 1, 201)
+	k := [][]float64{band(grid, 500, 20, 0.5)}
+	conc := [][]float64{{0}, {1}, {2}, {3}, {4}, {5}, {6}, {7}, {8}}
+	clean := synth(conc, k, 0, 0, nil)
+	clipped := make([][]float64, len(clean))
+	for i, row := range clean {
+		clipped[i] = append([]float64(nil), row...)
+		for j, v := range clipped[i] {
+			if v > 2 {
+				clipped[i][j] = 2.3
+			}
+		}
+	}
+	step, err := baseline.ParseStep("sg:11,2,1")
+	if err != nil {
+		t.Fatal(err)
+	}
+	opt := Options{Ceiling: 2, Pretreat: []baseline.Step{step}, ThroughOrigin: true, Now: fixedNow}
+	want, err := Build(memSheet([]string{"dye"}, grid, conc, clean), opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	got, err := Build(memSheet([]string{"dye"}, grid, conc, clipped), opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	g, w := got.Compounds[0], want.Compounds[0]
+	scale := 0.0
+	for _, v := range w.Absorptivity {
+		scale = max(scale, math.Abs(v))
+	}
+	checked := 0
+	for j := range grid {
+		if !g.Usable[j] || !w.Usable[j] {
+			continue
+		}
+		checked++
+		if d := math.Abs(g.Absorptivity[j] - w.Absorptivity[j]); d > 1e-9*scale {
+			t.Errorf("%g nm: absorptivity %g from clipped standards, %g from clean ones", grid[j], g.Absorptivity[j], w.Absorptivity[j])
+		}
+	}
+	if checked < 100 {
+		t.Errorf("only %d wavelengths compared", checked)
+	}
+}

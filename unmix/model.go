@@ -472,12 +472,8 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 		return nil, fmt.Errorf("unmix: window %g-%g nm holds %d reference points: %w", wlo, whi, max(sh.hi-sh.lo, 0), ErrCoverage)
 	}
 	wl := g[sh.lo:sh.hi]
-	for _, st := range set.Pretreat {
-		if st.Kind == baseline.KindSG {
-			sh.smooth = true
-			sh.reach += st.Window / 2
-		}
-	}
+	sh.reach = baseline.Reach(set.Pretreat)
+	sh.smooth = sh.reach > 0
 	if len(set.Pretreat) > 0 {
 		sh.wlo, sh.whi = 0, len(g)
 		sh.needLo, sh.needHi = glo, ghi
