@@ -7,6 +7,7 @@ import (
 	"gonum.org/v1/gonum/stat"
 
 	"huesolve/baseline"
+	"huesolve/reference"
 	"huesolve/spectrum"
 )
 
@@ -118,17 +119,7 @@ func TestSuggestDilution(t *testing.T) {
 // correlated, so a correct fit reads a Durbin-Watson far below 2; it is
 // reported but does not raise FlagPattern.
 func TestSmoothingNoPattern(t *testing.T) {
-	set := testSet(4)
-	st, err := baseline.ParseStep("sg:11,2")
-	if err != nil {
-		t.Fatal(err)
-	}
-	set.Pretreat = []baseline.Step{st}
-	for k := range set.Compounds {
-		if set.Compounds[k].Absorptivity, err = st.Apply(set.Grid, set.Compounds[k].Absorptivity); err != nil {
-			t.Fatal(err)
-		}
-	}
+	set := smoothedSet(t, "sg:11,2")
 	m := mustModel(t, set, Options{WindowLo: 450, WindowHi: 750})
 	if m.DurbinWatsonFlagged() {
 		t.Error("DurbinWatsonFlagged with sg pre-treatment")
@@ -224,17 +215,7 @@ func TestShiftUndetermined(t *testing.T) {
 // computed from the held (clipped) value; they are left out with it, so
 // a saturated sample is still recovered, and counted as dropped.
 func TestSmoothingSaturation(t *testing.T) {
-	set := testSet(4)
-	st, err := baseline.ParseStep("sg:11,2,1")
-	if err != nil {
-		t.Fatal(err)
-	}
-	set.Pretreat = []baseline.Step{st}
-	for k := range set.Compounds {
-		if set.Compounds[k].Absorptivity, err = st.Apply(set.Grid, set.Compounds[k].Absorptivity); err != nil {
-			t.Fatal(err)
-		}
-	}
+	set := smoothedSet(t, "sg:11,2,1")
 	m := mustModel(t, set, Options{WindowLo: 450, WindowHi: 750})
 	conc := []float64{5, 3, 2, 8}
 	for k := range conc {
@@ -260,4 +241,22 @@ func TestSmoothingSaturation(t *testing.T) {
 			t.Errorf("%s: %g +- %g, truth %g", a.Compound, a.Conc, a.SE, conc[k])
 		}
 	}
+}
+
+// smoothedSet is testSet(4) with the pre-treatment spec applied to its
+// absorptivities and recorded in the set, as calibrate would leave it.
+func smoothedSet(t *testing.T, spec string) *reference.Set {
+	t.Helper()
+	set := testSet(4)
+	st, err := baseline.ParseStep(spec)
+	if err != nil {
+		t.Fatal(err)
+	}
+	set.Pretreat = []baseline.Step{st}
+	for k := range set.Compounds {
+		if set.Compounds[k].Absorptivity, err = st.Apply(set.Grid, set.Compounds[k].Absorptivity); err != nil {
+			t.Fatal(err)
+		}
+	}
+	return set
 }

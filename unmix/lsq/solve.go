@@ -31,24 +31,14 @@ func BandWidth(n int) int {
 
 // size makes the result's slices fit n rows and p columns.
 func (r *Result) size(n, p int) {
-	fit := func(s []float64, k int) []float64 {
-		if cap(s) >= k {
-			return s[:k]
-		}
-		return make([]float64, k)
-	}
-	r.Coef = fit(r.Coef, p)
-	r.SE = fit(r.SE, p)
-	r.Lo = fit(r.Lo, p)
-	r.Hi = fit(r.Hi, p)
-	r.Residual = fit(r.Residual, n)
-	r.Unconstrained = fit(r.Unconstrained, p)
-	r.UnconstrainedSE = fit(r.UnconstrainedSE, p)
-	if cap(r.AtBound) >= p {
-		r.AtBound = r.AtBound[:p]
-	} else {
-		r.AtBound = make([]bool, p)
-	}
+	r.Coef = grow(r.Coef, p)
+	r.SE = grow(r.SE, p)
+	r.Lo = grow(r.Lo, p)
+	r.Hi = grow(r.Hi, p)
+	r.Residual = grow(r.Residual, n)
+	r.Unconstrained = grow(r.Unconstrained, p)
+	r.UnconstrainedSE = grow(r.UnconstrainedSE, p)
+	r.AtBound = grow(r.AtBound, p)
 }
 
 // Solve fits y and fills dst. It returns ErrNoConvergence (with dst
