@@ -3,11 +3,14 @@ package baseline
 import (
 	"bufio"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"strconv"
 	"strings"
 	"testing"
+
+	"huesolve/internal/near"
 )
 
 // alsFixture holds a synthetic spectrum with a known background and its
@@ -69,7 +72,8 @@ func readALS(t *testing.T) (x, background, y []float64, cases []alsCase) {
 // alsSciPyTol bounds the difference from SciPy's sparse LU solution,
 // relative to the largest background value. The system's condition
 // number reaches about 16*lambda/min(w) = 1.6e10 for lambda 1e6 and p
-// 0.001, which allows errors near 1e-6 in either solver.
+// 0.001, which allows errors near 1e-6 in either solver. Measured worst:
+// 1.9e-8; the bound leaves a factor of about 50.
 const alsSciPyTol = 1e-6
 
 // TestALSSciPy: the banded Cholesky solution and the iteration count
@@ -77,6 +81,7 @@ const alsSciPyTol = 1e-6
 // (SciPy 1.10.1, testdata/gen_als.py), for three (lambda, p) settings.
 func TestALSSciPy(t *testing.T) {
 	_, _, y, cases := readALS(t)
+	var worst float64
 	for _, c := range cases {
 		z, it, err := ALSBaseline(nil, y, c.lambda, c.p)
 		if err != nil {
@@ -85,8 +90,11 @@ func TestALSSciPy(t *testing.T) {
 		if it != c.iter {
 			t.Errorf("%s:%d: %d iterations, SciPy took %d", alsFixture, c.line, it, c.iter)
 		}
-		compareRel(t, alsFixture+":"+strconv.Itoa(c.line), z, c.z, alsSciPyTol)
+		// scipy.sparse.linalg.spsolve, the record at alsFixture:line.
+		what := fmt.Sprintf("%s:%d: ALS background (lambda %g, p %g; SciPy spsolve)", alsFixture, c.line, c.lambda, c.p)
+		worst = math.Max(worst, near.RelSlice(t, what, z, c.z, alsSciPyTol))
 	}
+	t.Logf("worst difference from SciPy relative to the largest background value: %.2g", worst)
 }
 
 // Recovery tolerances for lambda 1e5, p 0.01 on the synthetic spectrum

@@ -2,6 +2,8 @@ package report
 
 import (
 	"bytes"
+	"fmt"
+	"image/color"
 	"image/png"
 	"math"
 	"os"
@@ -70,14 +72,87 @@ func TestWriteCalibrationPlots(t *testing.T) {
 					t.Errorf("%s: %v is too small", f, r)
 				}
 			case "svg":
-				if !strings.Contains(string(b), "<svg") {
-					t.Errorf("%s is not SVG", f)
+				if i == 0 {
+					checkAbsorptivitySVG(t, f)
+				} else {
+					checkLineSVG(t, f, set, i-1)
 				}
 			}
 		}
 	}
 	if _, err := WriteCalibrationPlots(set, t.TempDir(), "bmp"); err == nil {
 		t.Error("bmp format accepted")
+	}
+}
+
+// checkAbsorptivitySVG reads back calSet's absorptivity figure: title,
+// axis labels, one legend entry per compound, one line per usable run of
+// each compound (the first has a gap at 455-465 nm, so two runs; the
+// second one) plus its legend swatch, one ±2 SE band per run.
+func checkAbsorptivitySVG(t *testing.T, path string) {
+	t.Helper()
+	d := readSVG(t, path)
+	for _, s := range []string{"Absorptivity spectra (band: ±2 SE)", "Wavelength (nm)", "Absorptivity (L/(mg·cm))"} {
+		if d.count(s) != 1 {
+			t.Errorf("%s: %d texts %q, want 1 (texts %q)", path, d.count(s), s, d.texts)
+		}
+	}
+	if n := d.count("dye A"); n != 2 {
+		t.Errorf("%s: %d legend entries \"dye A\", want 2 (one per compound)", path, n)
+	}
+	bands := 0
+	for style, n := range d.styles {
+		if strings.Contains(style, "fill-opacity") {
+			bands += n
+		}
+	}
+	for k, runs := range []int{2, 1} {
+		if n := d.paths(stroke(Colour(k), 1.2)); n != runs+1 {
+			t.Errorf("%s: compound %d: %d line paths, want %d runs and a legend swatch", path, k, n, runs)
+		}
+	}
+	if bands != 3 {
+		t.Errorf("%s: %d translucent bands, want 3 (one per run)", path, bands)
+	}
+}
+
+// checkLineSVG reads back the calibration-line figure of calSet's
+// compound k: labels of both panels, the three legend entries, the fitted
+// line (and swatch), the three used standards in the line panel, their
+// three residuals and the legend glyph, the reading left out (a cross of
+// two strokes, and its swatch), the residual panel's zero line.
+func checkLineSVG(t *testing.T, path string, set *reference.Set, k int) {
+	t.Helper()
+	d := readSVG(t, path)
+	c := set.Compounds[k]
+	for _, s := range []struct {
+		text string
+		n    int
+	}{
+		{fmt.Sprintf("dye A at %g nm: A = 0.08·c + 0.002, R² = 0.99950", c.PeakNM), 1},
+		{"Concentration (mg/L)", 2}, // both panels
+		{fmt.Sprintf("Absorbance at %g nm", c.PeakNM), 1},
+		{"Residual (absorbance)", 1},
+		{"fitted line", 1},
+		{"standards", 1},
+		{"above the ceiling (left out)", 1},
+	} {
+		if got := d.count(s.text); got != s.n {
+			t.Errorf("%s: %d texts %q, want %d (texts %q)", path, got, s.text, s.n, d.texts)
+		}
+	}
+	for _, p := range []struct {
+		what, style string
+		n           int
+	}{
+		{"fitted line and swatch", stroke(Colour(k), 0), 2},
+		{"standards: 3 readings, 3 residuals, 1 swatch", stroke(Colour(k), 0.5), 7},
+		{"left-out reading and swatch, 2 strokes each", stroke(color.Gray{Y: 0x80}, 0.5), 4},
+		{"zero line of the residuals", stroke(color.Gray{Y: 0x60}, 0), 1},
+	} {
+		if got := d.paths(p.style); got != p.n {
+			t.Errorf("%s: %d paths %q for the %s, want %d", path, got, p.style, p.what, p.n)
+		}
 	}
 }
 

@@ -261,8 +261,8 @@ func TestSamplePlot(t *testing.T) {
 			if b := img.Bounds(); b.Dx() < 400 || b.Dy() < 300 {
 				t.Errorf("png %v", b)
 			}
-		} else if !bytes.Contains(data, []byte("<svg")) || !bytes.Contains(data, []byte("amber")) {
-			t.Errorf("svg lacks the legend")
+		} else {
+			checkSampleSVG(t, path, r, 1)
 		}
 	}
 	if err := SaveSamplePlot(r, nil, filepath.Join(dir, "x.gif")); err == nil {
@@ -282,13 +282,42 @@ func TestSamplePlot(t *testing.T) {
 	if err := SaveSamplePlot(r, testLayout.Compounds, path); err != nil {
 		t.Fatal(err)
 	}
-	if data, err := os.ReadFile(path); err != nil || !bytes.Contains(data, []byte(saturatedLabel)) {
-		t.Errorf("svg with a gap lacks %q (%v)", saturatedLabel, err)
+	checkSampleSVG(t, path, r, 2)
+	if n := readSVG(t, path).count(saturatedLabel); n != 1 {
+		t.Errorf("svg with a gap: %d legend entries %q, want 1", n, saturatedLabel)
 	}
 	ents, _ := os.ReadDir(dir)
 	for _, e := range ents {
 		if strings.HasPrefix(e.Name(), ".") {
 			t.Errorf("temporary file left: %s", e.Name())
+		}
+	}
+}
+
+// checkSampleSVG reads back the figure of sample r (drawn in segs
+// stretches between gaps): title and axis labels, one legend entry per
+// compound with its concentration and for the measured, baseline and
+// fitted curves, one measured glyph per point (and swatch), and one
+// contribution line per compound and stretch (and swatch).
+func checkSampleSVG(t *testing.T, path string, r *unmix.Result, segs int) {
+	t.Helper()
+	d := readSVG(t, path)
+	texts := []string{sampleTitle(r), "Absorbance", "Wavelength (nm)", "Residual", "measured", "baseline", "fitted"}
+	for k, name := range testLayout.Compounds {
+		texts = append(texts, name+" "+ConcText(r.Amounts[k].Conc, r.Amounts[k].SE))
+	}
+	for _, s := range texts {
+		if d.count(s) != 1 {
+			t.Errorf("%s: %d texts %q, want 1 (texts %q)", path, d.count(s), s, d.texts)
+		}
+	}
+	if n := d.paths("fill:" + hex(measuredColour)); n != len(r.Grid)+1 {
+		t.Errorf("%s: %d measured glyphs, want %d points and a swatch", path, n, len(r.Grid))
+	}
+	for k := range r.Contributions {
+		style := stroke(Colour(k), 1.2) + ";stroke-dasharray:5,2"
+		if n := d.paths(style); n != segs+1 {
+			t.Errorf("%s: %d lines %q for compound %d, want %d stretches and a swatch", path, n, style, k, segs)
 		}
 	}
 }

@@ -2,6 +2,7 @@ package lsq
 
 import (
 	"bufio"
+	"fmt"
 	"math"
 	"os"
 	"regexp"
@@ -10,6 +11,8 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"huesolve/internal/near"
 )
 
 // strd is a NIST StRD linear regression data set read from testdata/nist.
@@ -97,27 +100,27 @@ func (d *strd) design() *mat.Dense {
 	return x
 }
 
-// lre is the log relative error -log10(|got - want| / |want|), capped at
-// 15 for exact agreement (NIST StRD scoring).
-func lre(got, want float64) float64 {
-	if got == want {
-		return 15
-	}
-	return math.Min(15, -math.Log10(math.Abs(got-want)/math.Abs(want)))
-}
-
-// minLRE is the number of correct significant digits demanded of every
-// certified value.
-const minLRE = 7
+// Correct significant digits (LRE, near.LRE: NIST StRD scoring) demanded
+// of every certified value (coefficients, their SDs, residual SD, R²).
+// Measured worst over both passes: Longley 10.9 (cond2 of the design
+// 4.9e9), Norris 12.5; each bound leaves about one digit for other BLAS
+// builds.
+const (
+	minLRELongley = 10.0
+	minLRENorris  = 11.5
+)
 
 // TestNISTLinear fits the NIST StRD linear least-squares data sets with
 // every coefficient free, which must reproduce ordinary least squares.
 // Source: NIST/ITL Statistical Reference Datasets, Linear Least Squares
 // Regression, certified values in the headers of testdata/nist/*.dat.
 func TestNISTLinear(t *testing.T) {
-	for _, name := range []string{"Longley.dat", "Norris.dat"} {
-		t.Run(name, func(t *testing.T) {
-			d := readSTRD(t, name)
+	for _, c := range []struct {
+		name   string
+		minLRE float64
+	}{{"Longley.dat", minLRELongley}, {"Norris.dat", minLRENorris}} {
+		t.Run(c.name, func(t *testing.T) {
+			d := readSTRD(t, c.name)
 			x := d.design()
 			_, p := x.Dims()
 			if p != len(d.coef) {
@@ -128,27 +131,25 @@ func TestNISTLinear(t *testing.T) {
 				t.Fatal(err)
 			}
 			var res Result
+			lo := near.MaxLRE + 0.0
 			for pass := range 2 { // reuse the Result: same answer
 				if err := s.Solve(&res, d.y); err != nil {
 					t.Fatal(err)
 				}
+				// NIST StRD certified values (header of testdata/nist/<name>).
+				check := func(what string, got, want float64) {
+					t.Helper()
+					lo = math.Min(lo, near.MinLRE(t, fmt.Sprintf("%s pass %d: %s (NIST certified)", c.name, pass, what), got, want, c.minLRE))
+				}
 				for j := range p {
-					if l := lre(res.Coef[j], d.coef[j]); l < minLRE {
-						t.Errorf("pass %d: B%d = %.15g, want %.15g (NIST certified): LRE %.1f", pass, j, res.Coef[j], d.coef[j], l)
-					}
-					if l := lre(res.SE[j], d.sd[j]); l < minLRE {
-						t.Errorf("pass %d: sd(B%d) = %.15g, want %.15g (NIST certified): LRE %.1f", pass, j, res.SE[j], d.sd[j], l)
-					}
+					check(fmt.Sprintf("B%d", j), res.Coef[j], d.coef[j])
+					check(fmt.Sprintf("sd(B%d)", j), res.SE[j], d.sd[j])
 					if res.AtBound[j] {
 						t.Errorf("free column %d marked at bound", j)
 					}
 				}
-				if got := math.Sqrt(res.RSS / float64(res.DoF)); lre(got, d.resSD) < minLRE {
-					t.Errorf("residual SD = %.15g, want %.15g (NIST certified)", got, d.resSD)
-				}
-				if lre(res.R2, d.r2) < minLRE {
-					t.Errorf("R2 = %.15g, want %.15g (NIST certified)", res.R2, d.r2)
-				}
+				check("residual SD", math.Sqrt(res.RSS/float64(res.DoF)), d.resSD)
+				check("R-squared", res.R2, d.r2)
 				if res.DoF != len(d.y)-p {
 					t.Errorf("DoF = %d, want %d", res.DoF, len(d.y)-p)
 				}
@@ -156,11 +157,7 @@ func TestNISTLinear(t *testing.T) {
 					t.Errorf("status %v, KKT %g", res.Status, res.KKT)
 				}
 			}
-			lo := 15.0
-			for j := range p {
-				lo = math.Min(lo, math.Min(lre(res.Coef[j], d.coef[j]), lre(res.SE[j], d.sd[j])))
-			}
-			t.Logf("%s: smallest LRE over coefficients and SDs %.1f; KKT %.2g; Cond (scaled) %.4g", name, lo, res.KKT, s.Cond())
+			t.Logf("%s: smallest LRE over the certified values %.1f (bound %.1f); KKT %.2g; Cond (scaled) %.4g", c.name, lo, c.minLRE, res.KKT, s.Cond())
 		})
 	}
 }
@@ -170,7 +167,7 @@ func TestNISTLinear(t *testing.T) {
 // coefficients B0, B1 and the data: residuals e_i = y_i - B0 - B1 x_i,
 // DW = sum (e_i - e_(i-1))^2 / sum e_i^2 (Durbin & Watson 1950). The
 // certified coefficients have 15 digits, so the reference DW is good to
-// far better than the 1e-9 asked.
+// far better than dwTol.
 func TestNorrisDurbinWatson(t *testing.T) {
 	d := readSTRD(t, "Norris.dat")
 	var num, den, prev float64
@@ -191,9 +188,12 @@ func TestNorrisDurbinWatson(t *testing.T) {
 	if err := s.Solve(&res, d.y); err != nil {
 		t.Fatal(err)
 	}
-	if math.Abs(res.DW-want) > 1e-9*want {
-		t.Errorf("Durbin-Watson = %.15g, want %.15g", res.DW, want)
-	}
+	// dwTol bounds the relative difference from the DW of the NIST
+	// certified fit. Measured: 1.3e-12; the bound leaves a factor of
+	// about 80.
+	const dwTol = 1e-10
+	d2 := near.Rel(t, "Norris Durbin-Watson (from the NIST StRD certified coefficients)", res.DW, want, dwTol)
+	t.Logf("Durbin-Watson %.15g, relative difference %.2g", res.DW, d2)
 }
 
 // designCond reads testdata/nist/cond.csv: the 2-norm condition numbers of
@@ -224,6 +224,16 @@ func designCond(t *testing.T) map[string]float64 {
 	return out
 }
 
+// Relative tolerances of Cond2 against mpmath. A double-precision SVD
+// resolves cond2 only to about 1e-16 * cond2 relative: 5e-7 for
+// Longley's design (cond2 near 4.9e9), 1e-13 for Norris (855).
+// Measured: Longley 2.9e-14, Norris 6.6e-16; the bounds leave a factor
+// of about 100 and stay within what the SVD guarantees for Norris.
+const (
+	condTolLongley = 3e-12
+	condTolNorris  = 1e-13
+)
+
 // TestDesignCond checks Cond2 on the unscaled NIST designs against the
 // values of designCond. Longley's design (cond2 near 4.9e9) is resolved
 // by a double-precision SVD only to about 1e-16 * cond2 relative.
@@ -233,8 +243,8 @@ func TestDesignCond(t *testing.T) {
 		name string
 		tol  float64
 	}{
-		{"Longley.dat", 1e-6},
-		{"Norris.dat", 1e-12},
+		{"Longley.dat", condTolLongley},
+		{"Norris.dat", condTolNorris},
 	} {
 		want, ok := table[c.name]
 		if !ok {
@@ -245,8 +255,8 @@ func TestDesignCond(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		if math.Abs(got-want) > c.tol*want {
-			t.Errorf("%s: Cond2 = %.15g, want %.15g", c.name, got, want)
-		}
+		// mpmath at 50 digits, testdata/nist/cond.csv (see designCond).
+		rd := near.Rel(t, c.name+": Cond2 of the design (mpmath)", got, want, c.tol)
+		t.Logf("%s: Cond2 %.15g, relative difference %.2g", c.name, got, rd)
 	}
 }

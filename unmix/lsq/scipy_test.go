@@ -2,11 +2,14 @@ package lsq
 
 import (
 	"encoding/json"
+	"fmt"
 	"math"
 	"os"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
+
+	"huesolve/internal/near"
 )
 
 // scipyFixture is testdata/scipy/nnls_fixture.json, written by
@@ -32,9 +35,15 @@ type scipyFixture struct {
 // with lsq_linear bvls) on the committed fixture.
 func TestSciPyNNLS(t *testing.T) {
 	const path = "../../testdata/scipy/nnls_fixture.json"
-	// scipyTol bounds max_j |x_j - x_scipy_j| / max_j |x_scipy_j|, and the
-	// relative difference of the residual norms.
-	const scipyTol = 1e-9
+	const (
+		// scipyCoefTol bounds max_j |x_j - x_scipy_j| / max_j |x_scipy_j|.
+		// Measured worst over the fixture: 4.1e-13; the bound leaves a
+		// factor of about 100.
+		scipyCoefTol = 5e-11
+		// scipyRNormTol bounds the relative difference of the residual
+		// norms. Measured worst: 1.3e-14; a factor of about 100.
+		scipyRNormTol = 1e-12
+	)
 	data, err := os.ReadFile(path)
 	if err != nil {
 		t.Fatal(err)
@@ -49,6 +58,7 @@ func TestSciPyNNLS(t *testing.T) {
 	t.Logf("fixture from SciPy %s: %d problems", fx.ScipyVersion, len(fx.Problems))
 	var res Result
 	zeros := 0
+	var worstCoef, worstRNorm float64
 	for _, pr := range fx.Problems {
 		t.Run(pr.Name, func(t *testing.T) {
 			x := mat.NewDense(pr.Rows, pr.Cols, pr.A)
@@ -59,10 +69,10 @@ func TestSciPyNNLS(t *testing.T) {
 			if err := s.Solve(&res, pr.Y); err != nil {
 				t.Fatal(err)
 			}
-			var scale, diff float64
+			// scipy.optimize.nnls, testdata/scipy/nnls_fixture.json.
+			d := near.RelSlice(t, fmt.Sprintf("coefficients (SciPy nnls; cond %.3g)", pr.Cond), res.Coef, pr.X, scipyCoefTol)
+			worstCoef = math.Max(worstCoef, d)
 			for j, w := range pr.X {
-				scale = math.Max(scale, math.Abs(w))
-				diff = math.Max(diff, math.Abs(res.Coef[j]-w))
 				if w == 0 && pr.Nonneg[j] {
 					zeros++
 					if !res.AtBound[j] {
@@ -70,14 +80,11 @@ func TestSciPyNNLS(t *testing.T) {
 					}
 				}
 			}
-			if diff > scipyTol*scale {
-				t.Errorf("coef %v\nwant %v (SciPy): max difference %.3g relative (cond %.3g)", res.Coef, pr.X, diff/scale, pr.Cond)
-			}
-			if rn := math.Sqrt(res.RSS); math.Abs(rn-pr.RNorm) > scipyTol*pr.RNorm {
-				t.Errorf("||r|| = %.15g, want %.15g (SciPy)", rn, pr.RNorm)
-			}
+			d = near.Rel(t, "residual norm (SciPy nnls)", math.Sqrt(res.RSS), pr.RNorm, scipyRNormTol)
+			worstRNorm = math.Max(worstRNorm, d)
 		})
 	}
+	t.Logf("worst relative difference from SciPy: coefficients %.2g, residual norm %.2g", worstCoef, worstRNorm)
 	if zeros < 50 {
 		t.Errorf("only %d coefficients held at zero across the fixture", zeros)
 	}
