@@ -16,13 +16,14 @@ import (
 
 // SampleSheet gives per-sample dilution factors and path lengths, read
 // from delimited text with a header naming the columns "sample" and at
-// least one of "dilution" and "path_cm" (any order, case ignored; comma,
-// semicolon or tab separated, a decimal comma accepted when the separator
-// is not a comma; lines starting with # are comments). An
-// empty cell means the default (1 for dilution, the reference set's path
-// for path_cm). Columns headed note or comment are ignored; any other
-// column is refused, so that a misspelt header ("path" for "path_cm")
-// cannot be dropped without a word.
+// least one of "dilution" and "path_cm" (any order, case ignored). The
+// text is read by internal/sheet: comma, semicolon or tab separated, a
+// decimal comma accepted when the separator is not a comma, fields quoted
+// as in CSV, lines starting with # are comments, and every row has as many
+// fields as the header. An empty cell means the default (1 for dilution,
+// the reference set's path for path_cm). Columns headed note(s) or
+// comment(s) are ignored; any other column is refused, so that a misspelt
+// header ("path" for "path_cm") cannot be dropped without a word.
 type SampleSheet struct {
 	File  string
 	rows  map[string]sheetRow
