@@ -28,6 +28,7 @@ type SampleSheet struct {
 	File  string
 	rows  map[string]sheetRow
 	order []string // sample names in sheet order
+	warns []string
 }
 
 // sheetColumns are the columns a sample sheet may have, as the error for
@@ -83,7 +84,9 @@ var sampleColumns = sheet.Columns{
 // syntax of the spectrum readers. Text that is not UTF-8 is read as
 // Latin-1.
 func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
-	text, err := sheet.Read(r, file, sheet.Options{What: "sample sheet", MaxBytes: MaxSampleSheetBytes, MaxLine: maxSheetLine})
+	var warns []string
+	text, err := sheet.Read(r, file, sheet.Options{What: "sample sheet", MaxBytes: MaxSampleSheetBytes, MaxLine: maxSheetLine,
+		Warn: func(m string) { warns = append(warns, m) }})
 	if err != nil {
 		return nil, err
 	}
@@ -96,7 +99,7 @@ func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 		return nil, text.ErrAt(text.Header.Line, 0, "header needs columns sample and dilution and/or path_cm, got %q",
 			strings.Join(text.Header.Fields, string(text.Delim)))
 	}
-	sh := &SampleSheet{File: file, rows: map[string]sheetRow{}}
+	sh := &SampleSheet{File: file, rows: map[string]sheetRow{}, warns: warns}
 	for _, rec := range text.Rows {
 		name := rec.Fields[iSample]
 		if name == "" {
@@ -184,6 +187,15 @@ func (sh *SampleSheet) Line(name string) int {
 		return 0
 	}
 	return sh.rows[name].line
+}
+
+// Warnings returns the warnings given while the sheet was read (a sheet
+// that is not UTF-8 is read as Latin-1), each naming file:line.
+func (sh *SampleSheet) Warnings() []string {
+	if sh == nil {
+		return nil
+	}
+	return slices.Clone(sh.warns)
 }
 
 // Len is the number of samples in the sheet.

@@ -134,3 +134,19 @@ func TestSampleSheetStrict(t *testing.T) {
 		t.Errorf("quoted name: %+v %v", f, ok)
 	}
 }
+
+// TestSampleSheetLatin1: a sheet that is not UTF-8 is read as Latin-1, so
+// its names match scans whose headers were read the same way, with a
+// warning naming the line.
+func TestSampleSheetLatin1(t *testing.T) {
+	sh, err := ParseSampleSheet(strings.NewReader("sample,dilution\nProbe-\xe4,2\n"), "l.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if f, ok := sh.Lookup(&spectrum.Spectrum{Name: "Probe-ä"}); !ok || f.Dilution != 2 {
+		t.Errorf("Latin-1 name: %+v %v", f, ok)
+	}
+	if w := sh.Warnings(); len(w) != 1 || !strings.HasPrefix(w[0], "l.csv:2: the sample sheet is not UTF-8") {
+		t.Errorf("warnings %q", w)
+	}
+}
