@@ -8,8 +8,11 @@
 // spreadsheet and export: fields separated by commas, semicolons or tabs
 // (the separator is taken from the header line: a tab if it has one, else
 // a semicolon if it has one, else a comma; with semicolons or tabs a
-// decimal comma such as 0,5 is read as 0.5). Fields may be quoted as in
-// CSV. Blank lines and lines starting with # are skipped.
+// decimal comma such as 0,5 is read as 0.5, and one sheet may not mix
+// decimal points and decimal commas). Fields may be quoted as in CSV.
+// Blank lines and lines starting with # are skipped; every other row has
+// as many fields as the header. The dialect is that of package
+// internal/sheet, shared with the sample sheet of package unmix.
 //
 // The first line is the header:
 //

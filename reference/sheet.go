@@ -1,21 +1,18 @@
 package reference
 
 import (
-	"bytes"
 	"crypto/sha256"
-	"encoding/csv"
 	"encoding/hex"
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
-	"unicode/utf8"
 
 	"huesolve/internal/bytesize"
+	"huesolve/internal/sheet"
 	"huesolve/spectrum"
 )
 
@@ -77,10 +74,6 @@ var (
 // ErrScanFile, ErrNoVariation or the reader's error. No partial sheet is
 // returned with an error.
 func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
-	warn := opt.Warn
-	if warn == nil {
-		warn = func(string) {}
-	}
 	perr := func(line, col int, format string, a ...any) error {
 		return &spectrum.ParseError{File: path, Line: line, Column: col, Err: fmt.Errorf(format, a...)}
 	}
@@ -101,90 +94,93 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 	if err != nil {
 		return nil, fmt.Errorf("reference: standards sheet: %w", err)
 	}
-	data = bytes.TrimPrefix(data, []byte("\ufeff"))
-	if !utf8.Valid(data) {
-		line := 1 + bytes.Count(data[:firstInvalid(data)], []byte("\n"))
-		warn(fmt.Sprintf("%s:%d: the sheet is not UTF-8 text; read it as Latin-1 (save it as UTF-8 to be sure of names and units)", path, line))
-		data = latin1ToUTF8(data)
-	}
-	comma := sniffDelimiter(data)
-	r := csv.NewReader(bytes.NewReader(data))
-	r.Comma = comma
-	r.Comment = '#'
-	r.FieldsPerRecord = -1
-	// Leading blanks are trimmed, but not tabs when tab separates fields.
-	r.TrimLeadingSpace = comma != '\t'
-	var records [][]string
-	var lines []int
-	for {
-		rec, err := r.Read()
-		if err == io.EOF {
-			break
-		}
-		if err != nil {
-			var pe *csv.ParseError
-			if errors.As(err, &pe) {
-				return nil, perr(pe.Line, pe.Column, "%w", pe.Err)
-			}
-			return nil, perr(0, 0, "%w", err)
-		}
-		line, _ := r.FieldPos(0)
-		if blankRecord(rec) {
-			continue
-		}
-		records = append(records, rec)
-		lines = append(lines, line)
-	}
-	if len(records) == 0 {
+	text, err := sheet.Parse(data, path, sheet.Options{What: "standards sheet", MaxBytes: MaxSheetBytes, Warn: opt.Warn})
+	if errors.Is(err, spectrum.ErrEmpty) {
 		return nil, perr(0, 0, "%w: the sheet has no header and no rows", ErrSheetHeader)
 	}
-
-	// Header.
-	header, hline := records[0], lines[0]
+	if err != nil {
+		return nil, err
+	}
 	sh := &Sheet{Path: path}
-	scanCol, colCol := -1, -1
-	var compCols []int
-	ignore := map[string]bool{"note": true, "notes": true, "comment": true, "comments": true}
-	seen := map[string]int{}
-	for i, h := range header {
-		h = strings.TrimSpace(h)
-		key := strings.ToLower(h)
-		switch {
-		case key == "scan":
-			if scanCol >= 0 {
-				return nil, perr(hline, i+1, "%w: two columns named scan", ErrSheetHeader)
-			}
-			scanCol = i
-		case key == "column":
-			if colCol >= 0 {
-				return nil, perr(hline, i+1, "%w: two columns named column", ErrSheetHeader)
-			}
-			colCol = i
-		case ignore[key]:
-		case h == "":
-			if columnEmpty(records[1:], i) {
-				continue // a trailing separator from a spreadsheet
-			}
-			return nil, perr(hline, i+1, "%w: column %d has values but no name", ErrSheetHeader, i+1)
-		default:
-			name, unit, err := splitUnit(h)
-			if err != nil {
-				return nil, perr(hline, i+1, "%w: %v", ErrSheetHeader, err)
-			}
-			if j, dup := seen[strings.ToLower(name)]; dup {
-				return nil, perr(hline, i+1, "%w: compound %q is named twice (columns %d and %d)", ErrSheetHeader, name, j+1, i+1)
-			}
-			seen[strings.ToLower(name)] = i
-			compCols = append(compCols, i)
-			sh.Compounds = append(sh.Compounds, name)
-			sh.Units = append(sh.Units, unit)
+	cols, err := sh.readHeader(text, opt)
+	if err != nil {
+		return nil, err
+	}
+	ld := &scanLoader{sheet: path, sheetSt: sheetSt, opt: opt, cache: map[string]loadedScans{}}
+	ld.sheetAbs, _ = filepath.Abs(path)
+	for _, rec := range text.Rows {
+		row, err := sh.readRow(text, rec, cols)
+		if err != nil {
+			return nil, err
+		}
+		if err := ld.load(&row, cols); err != nil {
+			return nil, err
+		}
+		if allZero(row.Conc) {
+			sh.Blanks = append(sh.Blanks, row)
+		} else {
+			sh.Standards = append(sh.Standards, row)
 		}
 	}
-	if scanCol < 0 {
-		return nil, perr(hline, 0, "%w: the header needs a column named scan (the scan file of each standard)", ErrSheetHeader)
+	return sh, sh.finish(opt)
+}
+
+// standardsColumns declares the columns of a standards sheet: scan and
+// column by name; every other named column is a compound.
+var standardsColumns = sheet.Columns{
+	Names:  []string{"scan", "column"},
+	Ignore: sheet.NoteColumns,
+	Others: true,
+	Wrap:   ErrSheetHeader,
+}
+
+// sheetCols are the positions of a standards sheet's columns (0-based;
+// column -1 when the sheet has none).
+type sheetCols struct {
+	scan, column int
+	comps        []int // compound columns, in Sheet.Compounds order
+}
+
+// readHeader finds the columns of the sheet, the compounds and their
+// units.
+func (sh *Sheet) readHeader(text *sheet.Sheet, opt SheetOptions) (sheetCols, error) {
+	hline := text.Header.Line
+	l, err := text.Layout(standardsColumns)
+	if err != nil {
+		return sheetCols{}, err
 	}
-	if len(compCols) == 0 {
-		return nil, perr(hline, 0, "%w: no compound columns: after scan (and column) give one column per compound, e.g. \"Ambrelin (mg/L)\"", ErrSheetHeader)
+	cols := sheetCols{scan: l.Col("scan"), column: l.Col("column")}
+	seen := map[string]int{}
+	for _, i := range l.Others {
+		h := text.Header.Fields[i]
+		name, unit, err := splitUnit(h)
+		if err != nil {
+			return sheetCols{}, text.ErrAt(hline, i+1, "%w: %v", ErrSheetHeader, err)
+		}
+		if j, dup := seen[strings.ToLower(name)]; dup {
+			return sheetCols{}, text.ErrAt(hline, i+1, "%w: compound %q is named twice (columns %d and %d)", ErrSheetHeader, name, j+1, i+1)
+		}
+		seen[strings.ToLower(name)] = i
+		cols.comps = append(cols.comps, i)
+		sh.Compounds = append(sh.Compounds, name)
+		sh.Units = append(sh.Units, unit)
+	}
+	if cols.scan < 0 {
+		return sheetCols{}, text.ErrAt(hline, 0, "%w: the header needs a column named scan (the scan file of each standard)", ErrSheetHeader)
+	}
+	if len(cols.comps) == 0 {
+		return sheetCols{}, text.ErrAt(hline, 0, "%w: no compound columns: after scan (and column) give one column per compound, e.g. \"Ambrelin (mg/L)\"", ErrSheetHeader)
+	}
+	sh.settleUnits(hline, opt)
+	return cols, nil
+}
+
+// settleUnits gives compounds without a unit the one of opt.Unit, and
+// warns about units that are missing or that differ from opt.Unit.
+func (sh *Sheet) settleUnits(hline int, opt SheetOptions) {
+	warn := opt.Warn
+	if warn == nil {
+		warn = func(string) {}
 	}
 	var noUnit []string
 	for k, u := range sh.Units {
@@ -195,119 +191,129 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 			noUnit = append(noUnit, sh.Compounds[k])
 		case opt.Unit != "" && u != opt.Unit:
 			warn(fmt.Sprintf("%s:%d: compound %q has unit %q in the header; the unit %q given with --unit is not used for it",
-				path, hline, sh.Compounds[k], u, opt.Unit))
+				sh.Path, hline, sh.Compounds[k], u, opt.Unit))
 		}
 	}
 	if len(noUnit) > 0 {
 		warn(fmt.Sprintf("%s:%d: no concentration unit stated for %s: the numbers are carried as given (write the unit in the header as \"name (mg/L)\" or give one with --unit)",
-			path, hline, strings.Join(noUnit, ", ")))
+			sh.Path, hline, strings.Join(noUnit, ", ")))
 	}
+}
 
-	// Rows.
-	sheetAbs, _ := filepath.Abs(path)
-	dir := filepath.Dir(path)
-	type loaded struct {
-		scans []*spectrum.Spectrum
-		sum   string
-	}
-	cache := map[string]loaded{}
-	for ri, rec := range records[1:] {
-		line := lines[ri+1]
-		for i := len(header); i < len(rec); i++ {
-			if strings.TrimSpace(rec[i]) != "" {
-				return nil, perr(line, i+1, "row has %d fields but the header names %d columns", len(rec), len(header))
-			}
-		}
-		field := func(i int) string {
-			if i < len(rec) {
-				return strings.TrimSpace(rec[i])
-			}
-			return ""
-		}
-		row := Row{Line: line, File: field(scanCol), Conc: make([]float64, len(compCols))}
-		if colCol >= 0 {
-			row.Column = field(colCol)
-		}
-		allZero := true
-		for k, c := range compCols {
-			v, err := parseConc(field(c), comma != ',')
-			if err != nil {
-				return nil, perr(line, c+1, "%w: %s: %v", ErrConcentration, sh.Compounds[k], err)
-			}
-			row.Conc[k] = v
-			if v != 0 {
-				allZero = false
-			}
-		}
-		if row.File == "" {
-			return nil, perr(line, scanCol+1, "%w: no scan file named", ErrScanFile)
-		}
-		p := row.File
-		if !filepath.IsAbs(p) {
-			p = filepath.Join(dir, filepath.FromSlash(p))
-		}
-		row.Path = p
-		ld, ok := cache[p]
-		if !ok {
-			st, err := os.Stat(p)
-			switch {
-			case errors.Is(err, os.ErrNotExist):
-				return nil, perr(line, scanCol+1, "%w: %s does not exist (paths are relative to the sheet's folder %s)", ErrScanFile, p, dir)
-			case err != nil:
-				return nil, perr(line, scanCol+1, "%w: %v", ErrScanFile, err)
-			case st.IsDir():
-				return nil, perr(line, scanCol+1, "%w: %s is a folder, not a scan file", ErrScanFile, p)
-			}
-			if a, _ := filepath.Abs(p); a == sheetAbs || os.SameFile(st, sheetSt) {
-				return nil, perr(line, scanCol+1, "%w: the sheet names itself as a scan", ErrScanFile)
-			}
-			ld.scans, err = spectrum.ReadFile(p, spectrum.ReadOptions{Quantity: opt.Quantity, Warn: opt.Warn})
-			if err != nil {
-				return nil, perr(line, scanCol+1, "%w: %w", ErrScanFile, err)
-			}
-			if ld.sum, err = FileSHA256(p); err != nil {
-				return nil, perr(line, scanCol+1, "%w: %v", ErrScanFile, err)
-			}
-			if len(ld.scans) == 0 {
-				return nil, perr(line, scanCol+1, "%w: %s holds no scan", ErrScanFile, p)
-			}
-			cache[p] = ld
-		}
-		row.SHA256 = ld.sum
-		sp, err := pickScan(ld.scans, row.Column)
+// readRow reads the scan file, column and concentrations of one row.
+func (sh *Sheet) readRow(text *sheet.Sheet, rec sheet.Row, cols sheetCols) (Row, error) {
+	row := Row{Line: rec.Line, File: rec.Fields[cols.scan], Column: sheet.Field(rec, cols.column), Conc: make([]float64, len(cols.comps))}
+	for k, c := range cols.comps {
+		v, err := parseConc(text, rec, c)
 		if err != nil {
-			col := scanCol + 1
-			if colCol >= 0 {
-				col = colCol + 1
-			}
-			return nil, perr(line, col, "%w: %s: %v", ErrScanFile, p, err)
+			return Row{}, text.ErrAt(rec.Line, c+1, "%w: %s: %v", ErrConcentration, sh.Compounds[k], err)
 		}
-		sp = sp.Clone()
-		if err := sp.ToAbsorbance(); err != nil {
-			return nil, perr(line, scanCol+1, "%w: %w", ErrScanFile, err)
+		row.Conc[k] = v
+	}
+	if row.File == "" {
+		return Row{}, text.ErrAt(rec.Line, cols.scan+1, "%w: no scan file named", ErrScanFile)
+	}
+	return row, nil
+}
+
+// loadedScans are the scans of one file and the file's SHA-256.
+type loadedScans struct {
+	scans []*spectrum.Spectrum
+	sum   string
+}
+
+// scanLoader loads the scans a sheet names, each file once.
+type scanLoader struct {
+	sheet    string
+	sheetAbs string
+	sheetSt  os.FileInfo
+	opt      SheetOptions
+	cache    map[string]loadedScans
+}
+
+func (ld *scanLoader) errAt(line, col int, format string, a ...any) error {
+	return &spectrum.ParseError{File: ld.sheet, Line: line, Column: col, Err: fmt.Errorf(format, a...)}
+}
+
+// load sets row's Path, SHA256 and Scan (in absorbance, checked).
+func (ld *scanLoader) load(row *Row, cols sheetCols) error {
+	line, col := row.Line, cols.scan+1
+	p := row.File
+	if !filepath.IsAbs(p) {
+		p = filepath.Join(filepath.Dir(ld.sheet), filepath.FromSlash(p))
+	}
+	row.Path = p
+	got, ok := ld.cache[p]
+	if !ok {
+		var err error
+		if got, err = ld.read(p, line, col); err != nil {
+			return err
 		}
-		if err := sp.Check(); err != nil {
-			return nil, perr(line, scanCol+1, "%w: %w", ErrScanFile, err)
+		ld.cache[p] = got
+	}
+	row.SHA256 = got.sum
+	sp, err := pickScan(got.scans, row.Column)
+	if err != nil {
+		if cols.column >= 0 {
+			col = cols.column + 1
 		}
-		row.Scan = sp
-		if allZero {
-			sh.Blanks = append(sh.Blanks, row)
-		} else {
-			sh.Standards = append(sh.Standards, row)
-		}
+		return ld.errAt(line, col, "%w: %s: %v", ErrScanFile, p, err)
+	}
+	sp = sp.Clone()
+	if err := sp.ToAbsorbance(); err != nil {
+		return ld.errAt(line, col, "%w: %w", ErrScanFile, err)
+	}
+	if err := sp.Check(); err != nil {
+		return ld.errAt(line, col, "%w: %w", ErrScanFile, err)
+	}
+	row.Scan = sp
+	return nil
+}
+
+// read reads the scan file p named on line (in column col) of the sheet.
+func (ld *scanLoader) read(p string, line, col int) (loadedScans, error) {
+	var got loadedScans
+	st, err := os.Stat(p)
+	switch {
+	case errors.Is(err, os.ErrNotExist):
+		return got, ld.errAt(line, col, "%w: %s does not exist (paths are relative to the sheet's folder %s)", ErrScanFile, p, filepath.Dir(ld.sheet))
+	case err != nil:
+		return got, ld.errAt(line, col, "%w: %v", ErrScanFile, err)
+	case st.IsDir():
+		return got, ld.errAt(line, col, "%w: %s is a folder, not a scan file", ErrScanFile, p)
+	}
+	if a, _ := filepath.Abs(p); a == ld.sheetAbs || os.SameFile(st, ld.sheetSt) {
+		return got, ld.errAt(line, col, "%w: the sheet names itself as a scan", ErrScanFile)
+	}
+	got.scans, err = spectrum.ReadFile(p, spectrum.ReadOptions{Quantity: ld.opt.Quantity, Warn: ld.opt.Warn})
+	if err != nil {
+		return got, ld.errAt(line, col, "%w: %w", ErrScanFile, err)
+	}
+	if got.sum, err = FileSHA256(p); err != nil {
+		return got, ld.errAt(line, col, "%w: %v", ErrScanFile, err)
+	}
+	if len(got.scans) == 0 {
+		return got, ld.errAt(line, col, "%w: %s holds no scan", ErrScanFile, p)
+	}
+	return got, nil
+}
+
+// finish checks the sheet as a whole: it has standards and (for a
+// calibration sheet) every compound varies.
+func (sh *Sheet) finish(opt SheetOptions) error {
+	perr := func(format string, a ...any) error {
+		return &spectrum.ParseError{File: sh.Path, Err: fmt.Errorf(format, a...)}
 	}
 	if len(sh.Standards) == 0 && len(sh.Blanks) == 0 {
-		return nil, perr(0, 0, "%w: no standards: the sheet has a header but no rows", ErrConcentration)
+		return perr("%w: no standards: the sheet has a header but no rows", ErrConcentration)
 	}
 	if len(sh.Standards) == 0 {
-		return nil, perr(0, 0, "%w: no standards: every row has all concentrations zero (blanks only)", ErrConcentration)
+		return perr("%w: no standards: every row has all concentrations zero (blanks only)", ErrConcentration)
 	}
 	if !opt.Checks {
-		if err := sh.checkVariation(); err != nil {
-			return nil, err
-		}
+		return sh.checkVariation()
 	}
-	return sh, nil
+	return nil
 }
 
 // checkVariation reports a compound whose concentration is the same in
@@ -384,47 +390,6 @@ func FileSHA256(path string) (string, error) {
 	return hex.EncodeToString(h.Sum(nil)), nil
 }
 
-// firstInvalid is the offset of the first byte of data that is not part
-// of valid UTF-8.
-func firstInvalid(data []byte) int {
-	for i := 0; i < len(data); {
-		r, n := utf8.DecodeRune(data[i:])
-		if r == utf8.RuneError && n <= 1 {
-			return i
-		}
-		i += n
-	}
-	return len(data)
-}
-
-// latin1ToUTF8 reads each byte as the ISO 8859-1 character of that code.
-func latin1ToUTF8(b []byte) []byte {
-	out := make([]byte, 0, len(b)+len(b)/8)
-	for _, c := range b {
-		out = utf8.AppendRune(out, rune(c))
-	}
-	return out
-}
-
-// sniffDelimiter picks the field separator from the first line that is
-// not blank or a comment: tab if it has one, else semicolon, else comma.
-func sniffDelimiter(data []byte) rune {
-	for _, line := range strings.Split(string(data), "\n") {
-		t := strings.TrimSpace(line)
-		if t == "" || strings.HasPrefix(t, "#") {
-			continue
-		}
-		switch {
-		case strings.Contains(line, "\t"):
-			return '\t'
-		case strings.Contains(line, ";"):
-			return ';'
-		}
-		return ','
-	}
-	return ','
-}
-
 // splitUnit splits "Name (unit)" into its parts; "Name" has no unit.
 func splitUnit(h string) (name, unit string, err error) {
 	if strings.HasSuffix(h, ")") {
@@ -446,40 +411,22 @@ func splitUnit(h string) (name, unit string, err error) {
 	return h, "", nil
 }
 
-// parseConc reads a concentration: a finite number >= 0. decimalComma
-// accepts "0,5" for 0.5 (when the sheet's separator is not a comma).
-func parseConc(s string, decimalComma bool) (float64, error) {
+// parseConc reads field c of rec as a concentration: a finite number
+// >= 0 in the sheets' number syntax.
+func parseConc(text *sheet.Sheet, rec sheet.Row, c int) (float64, error) {
+	s := rec.Fields[c]
 	if s == "" {
 		return 0, errors.New("empty cell: write 0 for a compound that is absent")
 	}
-	t := s
-	if decimalComma && strings.Count(t, ",") == 1 && !strings.Contains(t, ".") {
-		t = strings.Replace(t, ",", ".", 1)
-	}
-	v, err := strconv.ParseFloat(t, 64)
-	if err != nil || math.IsNaN(v) || math.IsInf(v, 0) || strings.ContainsAny(t, "xXpP_") {
+	v, err := text.Number(rec, c)
+	if errors.Is(err, sheet.ErrNotNumber) {
 		return 0, fmt.Errorf("%q is not a number", s)
+	}
+	if err != nil {
+		return 0, err
 	}
 	if v < 0 {
 		return 0, fmt.Errorf("%q is negative", s)
 	}
 	return v, nil
-}
-
-func blankRecord(rec []string) bool {
-	for _, f := range rec {
-		if strings.TrimSpace(f) != "" {
-			return false
-		}
-	}
-	return true
-}
-
-func columnEmpty(recs [][]string, i int) bool {
-	for _, r := range recs {
-		if i < len(r) && strings.TrimSpace(r[i]) != "" {
-			return false
-		}
-	}
-	return true
 }

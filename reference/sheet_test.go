@@ -174,6 +174,12 @@ func TestReadSheetErrors(t *testing.T) {
 		{"no rows", "scan,dye\n", ErrConcentration, "bad.csv", "no standards: the sheet has a header but no rows"},
 		{"no rows but comments", "# made 2 May\nscan,dye\n\n", ErrConcentration, "bad.csv", "but no rows"},
 		{"extra field", "scan,dye\ns1.csv,1,9\ns2.csv,2\n", nil, "bad.csv:2:3", "header names 2 columns"},
+		{"missing field", "scan,dye,other\ns1.csv,1,0\ns2.csv,2\n", nil, "bad.csv:3:3", "row has 2 fields but the header names 3 columns"},
+		{"hex", "scan,dye\ns1.csv,0x1p3\ns2.csv,2\n", ErrConcentration, "bad.csv:2:2", `"0x1p3" is not a number`},
+		{"underscore", "scan,dye\ns1.csv,1_0\ns2.csv,2\n", ErrConcentration, "bad.csv:2:2", `"1_0" is not a number`},
+		{"mixed decimal marks", "scan;dye\ns1.csv;1,5\ns2.csv;2.5\n", ErrConcentration, "bad.csv:3:2", "mixed decimal conventions"},
+		{"bare quote", "scan,dye\ns1\"x.csv,1\n", nil, "bad.csv:2:1", "not quoted"},
+		{"scan twice", "scan,Scan,dye\ns1.csv,s1.csv,1\n", ErrSheetHeader, "bad.csv:1:2", `column "scan" given twice`},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

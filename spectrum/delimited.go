@@ -109,7 +109,7 @@ func (d *delimReader) read(lr *lineReader) error {
 		if !started {
 			delim, ncols, ok, mixed := detectRow(t)
 			if mixed > 0 {
-				return d.errAt(n, mixed, errMixedMark)
+				return d.errAt(n, mixed, ErrMixedMark)
 			}
 			if !ok {
 				d.header = string(t)
@@ -219,7 +219,7 @@ func (d *delimReader) parseRow(t []byte, line int, row []float64) ([]float64, er
 			if d.mark == 0 {
 				d.mark, d.markLine = mark, line
 			} else {
-				return nil, d.errAt(line, col, fmt.Errorf("%w (%q here, %q from line %d)", errMixedMark, mark, d.mark, d.markLine))
+				return nil, d.errAt(line, col, fmt.Errorf("%w (%q here, %q from line %d)", ErrMixedMark, mark, d.mark, d.markLine))
 			}
 		}
 		row = append(row, v)
@@ -274,11 +274,25 @@ func (d *delimReader) addRow(row []float64, line int) error {
 func (d *delimReader) build() ([]*Spectrum, error) {
 	nr, ns := len(d.wl), d.ncols-1
 	cells, cellsOK := d.headerCells()
-	// Wavelength units from the first header cell.
 	unit := unitNM
 	if cellsOK {
 		unit = wavelengthUnit(cells[0])
 	}
+	if err := d.convertUnit(unit); err != nil {
+		return nil, err
+	}
+	wl, vals := d.columnMajor(nr, ns)
+	if err := CheckGrid(wl); err != nil {
+		// Only unit conversion can get here (rounding collapsed points).
+		return nil, d.errAt(d.firstLine, 1, err)
+	}
+	qs, names := d.quantities(cells, cellsOK, ns)
+	return d.spectra(wl, vals, qs, names), nil
+}
+
+// convertUnit turns the wavelength column, in unit as the first header
+// cell states it, into nm.
+func (d *delimReader) convertUnit(unit int) error {
 	wl := d.wl
 	switch unit {
 	case unitMicrometre:
@@ -288,14 +302,20 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 	case unitWavenumber:
 		for i, x := range wl {
 			if !(x > 0) {
-				return nil, d.errAt(d.firstLine+i, 1, fmt.Errorf("wavenumber %s cm-1 cannot be converted to a wavelength", fmtG(x)))
+				return d.errAt(d.firstLine+i, 1, fmt.Errorf("wavenumber %s cm-1 cannot be converted to a wavelength", fmtG(x)))
 			}
 			wl[i] = 1e7 / x
 		}
 		d.dir = -d.dir
 	}
-	// Column-major values from one backing array.
-	var vals []float64
+	return nil
+}
+
+// columnMajor moves the values into one column-major backing array (nr
+// rows, ns spectra), ascending in wavelength, and returns the
+// wavelengths and that array.
+func (d *delimReader) columnMajor(nr, ns int) (wl, vals []float64) {
+	wl = d.wl
 	if ns == 1 && len(d.chunks) == 1 {
 		vals = d.chunks[0][:nr:nr]
 	} else {
@@ -314,13 +334,12 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 			reverse(vals[j*nr : (j+1)*nr])
 		}
 	}
-	wl = wl[:nr:nr]
-	if err := CheckGrid(wl); err != nil {
-		// Only unit conversion can get here (rounding collapsed points).
-		return nil, d.errAt(d.firstLine, 1, err)
-	}
+	return wl[:nr:nr], vals
+}
 
-	// Quantities.
+// quantities reads the quantity and name of each of the ns spectrum
+// columns from the header cells (cellsOK) or the header line.
+func (d *delimReader) quantities(cells []string, cellsOK bool, ns int) ([]Quantity, []string) {
 	qs := make([]Quantity, ns)
 	var names []string
 	if cellsOK {
@@ -341,17 +360,7 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 	stated := 0
 	for j := range qs {
 		if cellsOK {
-			if letterNames && isLoneLetter(cells[j+1]) {
-				qs[j], names[j+1] = Unstated, strings.TrimSpace(cells[j+1])
-			} else {
-				qs[j], names[j+1] = cellQuantityAndName(cells[j+1])
-				if letterNames && names[j+1] == "" {
-					// "A [%T]": sample A in %T.
-					if k := strings.LastIndexAny(cells[j+1], "[("); k > 0 && isLoneLetter(cells[j+1][:k]) {
-						names[j+1] = strings.TrimSpace(cells[j+1][:k])
-					}
-				}
-			}
+			qs[j], names[j+1] = cellQuantity(cells[j+1], letterNames)
 		} else {
 			qs[j] = whole
 		}
@@ -360,25 +369,50 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 		}
 	}
 	if cellsOK && stated > 0 && stated < ns {
-		// Columns without a word take the one word the others agree on.
-		var common Quantity
-		agree := true
-		for _, q := range qs {
-			if q != Unstated {
-				if common != Unstated && q != common {
-					agree = false
-				}
-				common = q
-			}
-		}
-		if agree {
-			for j := range qs {
-				if qs[j] == Unstated {
-					qs[j] = common
-				}
-			}
+		fillAgreed(qs)
+	}
+	return qs, names
+}
+
+// cellQuantity reads the quantity and name of one spectrum column's
+// header cell; letterNames says that lone letters name samples.
+func cellQuantity(cell string, letterNames bool) (Quantity, string) {
+	if letterNames && isLoneLetter(cell) {
+		return Unstated, strings.TrimSpace(cell)
+	}
+	q, name := cellQuantityAndName(cell)
+	if letterNames && name == "" {
+		// "A [%T]": sample A in %T.
+		if k := strings.LastIndexAny(cell, "[("); k > 0 && isLoneLetter(cell[:k]) {
+			name = strings.TrimSpace(cell[:k])
 		}
 	}
+	return q, name
+}
+
+// fillAgreed gives columns without a word the one word the others agree
+// on.
+func fillAgreed(qs []Quantity) {
+	var common Quantity
+	for _, q := range qs {
+		if q != Unstated {
+			if common != Unstated && q != common {
+				return
+			}
+			common = q
+		}
+	}
+	for j := range qs {
+		if qs[j] == Unstated {
+			qs[j] = common
+		}
+	}
+}
+
+// spectra makes one spectrum per column, settles each quantity against
+// the requested one and gives the warnings.
+func (d *delimReader) spectra(wl, vals []float64, qs []Quantity, names []string) []*Spectrum {
+	nr, ns := len(wl), len(qs)
 	base := filepath.Base(d.file)
 	if d.file == "" {
 		base = "<input>"
@@ -403,7 +437,7 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 			unstated = append(unstated, j+2)
 		}
 		name := ""
-		if cellsOK {
+		if names != nil {
 			name = strings.Join(strings.Fields(names[j+1]), " ")
 		}
 		if name == "" {
@@ -425,6 +459,13 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 		}
 		out[j] = s
 	}
+	d.warnQuantities(contradicted, unstated, odd, ns)
+	return out
+}
+
+// warnQuantities gives the warnings about the spectra's quantities:
+// contradicted by the header, unstated, or implausible for their values.
+func (d *delimReader) warnQuantities(contradicted map[Quantity][]int, unstated []int, odd [3][]int, ns int) {
 	for _, q := range []Quantity{Absorbance, PercentT, Transmittance} {
 		if cols := contradicted[q]; len(cols) > 0 {
 			d.opt.warnf(d.file, "the header states %s for %s, not the %s requested; reading %s as the file says (the requested quantity applies only to files that do not say)",
@@ -440,7 +481,6 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 	if c := odd[looksPctNotFraction]; len(c) > 0 {
 		d.opt.warnf(d.file, "%s, read as transmittance fraction (0..1), mostly exceed %g; they look like percent transmittance (--quantity %%T)", columnList(c, ns), fractionTMax)
 	}
-	return out, nil
 }
 
 // columnList names columns for a message: "the values", "the values in
@@ -605,17 +645,8 @@ func detectRow(t []byte) (delim byte, ncols int, ok bool, mixed int) {
 		}
 		return n, n >= 2
 	}
-	var cands []byte
-	if bytes.IndexByte(t, '\t') >= 0 {
-		cands = append(cands, '\t')
-	}
-	if bytes.IndexByte(t, ';') >= 0 {
-		cands = append(cands, ';')
-	}
-	if bytes.IndexByte(t, ',') >= 0 {
-		cands = append(cands, ',')
-	}
-	cands = append(cands, whitespace)
+	var buf [4]byte
+	cands := append(AppendDelimiters(buf[:0], t), whitespace)
 	for _, c := range cands {
 		if n, ok := try(c); ok {
 			return c, n, true, 0
@@ -669,13 +700,7 @@ func splitQuoted(s string, delim byte) []string {
 	return append(out, strings.TrimSpace(cur.String()))
 }
 
-func latin1ToUTF8(s string) string {
-	r := make([]rune, len(s))
-	for i := 0; i < len(s); i++ {
-		r[i] = rune(s[i])
-	}
-	return string(r)
-}
+func latin1ToUTF8(s string) string { return string(Latin1ToUTF8([]byte(s))) }
 
 // headerWords splits a header cell into lower-case words; a word is a run
 // of letters, digits and '%'. bracketed reports, per word, whether it stood

@@ -11,8 +11,12 @@ import (
 var (
 	errEmptyField = errors.New("empty field where a number belongs")
 	errNonFinite  = errors.New("value is not a finite number (NaN or Inf are not accepted)")
-	errMixedMark  = errors.New("mixed decimal conventions: this number uses a different decimal mark from earlier ones")
 )
+
+// ErrMixedMark: a number uses a different decimal mark ('.' or ',') from
+// earlier numbers of the same file. The delimited readers and the sheet
+// reader (internal/sheet) wrap it.
+var ErrMixedMark = errors.New("mixed decimal conventions: this number uses a different decimal mark from earlier ones")
 
 // numError is a field that is not a number; pos is the offset of the first
 // offending byte.
@@ -45,6 +49,14 @@ var pow10 = [...]float64{1e0, 1e1, 1e2, 1e3, 1e4, 1e5, 1e6, 1e7, 1e8, 1e9, 1e10,
 // go to strconv.ParseFloat, so every result is the correctly rounded
 // float64 that strconv would give.
 func parseNumber(b []byte, allowComma bool) (v float64, mark byte, err error) {
+	return ParseNumber(b, allowComma)
+}
+
+// ParseNumber is the number syntax of every reader of the project (the
+// spectrum readers and the sheets of internal/sheet): see parseNumber. It
+// returns the decimal mark the field used (0 if none) so that a caller
+// can refuse a file mixing decimal points and decimal commas.
+func ParseNumber(b []byte, allowComma bool) (v float64, mark byte, err error) {
 	v, mark, k, err := scanNumber(b, allowComma)
 	if err == nil && k < len(b) {
 		return 0, 0, badNumber(b, k)

@@ -477,7 +477,7 @@ func TestFirstRowMixedMarks(t *testing.T) {
 	// error there, not a header.
 	_, err := ReadDelimited(strings.NewReader("nm;A\n400.5;0,1\n401.5;0,2\n"), "m.csv", ReadOptions{})
 	var pe *ParseError
-	if !errors.As(err, &pe) || pe.Line != 2 || pe.Column != 2 || !errors.Is(err, errMixedMark) {
+	if !errors.As(err, &pe) || pe.Line != 2 || pe.Column != 2 || !errors.Is(err, ErrMixedMark) {
 		t.Errorf("mixed first row: %v", err)
 	}
 }

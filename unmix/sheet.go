@@ -1,34 +1,34 @@
 package unmix
 
 import (
-	"bufio"
 	"errors"
 	"fmt"
 	"io"
-	"math"
 	"os"
 	"path/filepath"
 	"slices"
-	"strconv"
 	"strings"
 
 	"huesolve/internal/bytesize"
+	"huesolve/internal/sheet"
 	"huesolve/spectrum"
 )
 
 // SampleSheet gives per-sample dilution factors and path lengths, read
 // from delimited text with a header naming the columns "sample" and at
-// least one of "dilution" and "path_cm" (any order, case ignored; comma,
-// semicolon or tab separated, a decimal comma accepted when the separator
-// is not a comma; lines starting with # are comments). An
-// empty cell means the default (1 for dilution, the reference set's path
-// for path_cm). Columns headed note or comment are ignored; any other
-// column is refused, so that a misspelt header ("path" for "path_cm")
-// cannot be dropped without a word.
+// least one of "dilution" and "path_cm" (any order, case ignored). The
+// text is read by internal/sheet: comma, semicolon or tab separated, a
+// decimal comma accepted when the separator is not a comma, fields quoted
+// as in CSV, lines starting with # are comments, and every row has as many
+// fields as the header. An empty cell means the default (1 for dilution,
+// the reference set's path for path_cm). Columns headed note(s) or
+// comment(s) are ignored; any other column is refused, so that a misspelt
+// header ("path" for "path_cm") cannot be dropped without a word.
 type SampleSheet struct {
 	File  string
 	rows  map[string]sheetRow
 	order []string // sample names in sheet order
+	warns []string
 }
 
 // sheetColumns are the columns a sample sheet may have, as the error for
@@ -67,135 +67,84 @@ func ReadSampleSheet(path string) (*SampleSheet, error) {
 		return nil, fmt.Errorf("unmix: sample sheet %s is %s, more than the %s a sample sheet may take",
 			path, bytesize.Text(st.Size()), bytesize.Text(MaxSampleSheetBytes))
 	}
-	return ParseSampleSheet(&sheetCap{r: f, left: MaxSampleSheetBytes}, path)
+	return ParseSampleSheet(f, path)
 }
 
-// sheetCap fails a read once more than MaxSampleSheetBytes came through
-// (a pipe, or a file growing while it is read).
-type sheetCap struct {
-	r    io.Reader
-	left int64
+// sampleColumns declares the columns of a sample sheet.
+var sampleColumns = sheet.Columns{
+	Names:  []string{"sample", "dilution", "path_cm"},
+	Ignore: sheet.NoteColumns,
+	Known:  "a sample sheet has the columns " + sheetColumns,
 }
 
-func (c *sheetCap) Read(p []byte) (int, error) {
-	if c.left < 0 {
-		return 0, fmt.Errorf("more than the %s a sample sheet may take", bytesize.Text(MaxSampleSheetBytes))
-	}
-	if int64(len(p)) > c.left+1 {
-		p = p[:c.left+1]
-	}
-	n, err := c.r.Read(p)
-	c.left -= int64(n)
-	return n, err
-}
-
-// ParseSampleSheet reads a sample sheet from r; file names it in errors,
-// which are *spectrum.ParseError values with line and column.
+// ParseSampleSheet reads a sample sheet from r (at most
+// MaxSampleSheetBytes); file names it in errors, which are
+// *spectrum.ParseError values with line and column. The dialect is that
+// of package internal/sheet: quoting, strict field counts, the number
+// syntax of the spectrum readers. Text that is not UTF-8 is read as
+// Latin-1.
 func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
-	sc := bufio.NewScanner(r)
-	sc.Buffer(make([]byte, 0, 4096), maxSheetLine)
-	sh := &SampleSheet{File: file, rows: map[string]sheetRow{}}
-	perr := func(line, col int, format string, a ...any) error {
-		return &spectrum.ParseError{File: file, Line: line, Column: col, Err: fmt.Errorf(format, a...)}
+	var warns []string
+	text, err := sheet.Read(r, file, sheet.Options{What: "sample sheet", MaxBytes: MaxSampleSheetBytes, MaxLine: maxSheetLine,
+		Warn: func(m string) { warns = append(warns, m) }})
+	if err != nil {
+		return nil, err
 	}
-	line := 0
-	var sep string
-	iSample, iDil, iPath := -1, -1, -1
-	for sc.Scan() {
-		line++
-		text := strings.TrimSpace(strings.TrimPrefix(sc.Text(), "\ufeff"))
-		if text == "" || strings.HasPrefix(text, "#") {
-			continue
-		}
-		if sep == "" {
-			sep = ","
-			for _, c := range []string{"\t", ";", ","} {
-				if strings.Contains(text, c) {
-					sep = c
-					break
-				}
-			}
-			for i, h := range strings.Split(text, sep) {
-				word := strings.ToLower(strings.Trim(strings.TrimSpace(h), `"`))
-				var dst *int
-				switch word {
-				case "sample":
-					dst = &iSample
-				case "dilution":
-					dst = &iDil
-				case "path_cm":
-					dst = &iPath
-				case "note", "comment":
-					continue
-				default:
-					return nil, perr(line, i+1, "unknown column %q; a sample sheet has the columns %s", strings.TrimSpace(h), sheetColumns)
-				}
-				if *dst >= 0 {
-					return nil, perr(line, i+1, "column %q given twice (first in column %d)", word, *dst+1)
-				}
-				*dst = i
-			}
-			if iSample < 0 || (iDil < 0 && iPath < 0) {
-				return nil, perr(line, 0, "header needs columns sample and dilution and/or path_cm, got %q", text)
-			}
-			continue
-		}
-		cells := strings.Split(text, sep)
-		cell := func(i int) string {
-			if i < 0 || i >= len(cells) {
-				return ""
-			}
-			return strings.TrimSpace(cells[i])
-		}
-		name := strings.Trim(cell(iSample), `"`)
+	l, err := text.Layout(sampleColumns)
+	if err != nil {
+		return nil, err
+	}
+	iSample, iDil, iPath := l.Col("sample"), l.Col("dilution"), l.Col("path_cm")
+	if iSample < 0 || (iDil < 0 && iPath < 0) {
+		return nil, text.ErrAt(text.Header.Line, 0, "header needs columns sample and dilution and/or path_cm, got %q",
+			strings.Join(text.Header.Fields, string(text.Delim)))
+	}
+	sh := &SampleSheet{File: file, rows: map[string]sheetRow{}, warns: warns}
+	for _, rec := range text.Rows {
+		name := rec.Fields[iSample]
 		if name == "" {
-			return nil, perr(line, iSample+1, "empty sample name")
+			return nil, text.ErrAt(rec.Line, iSample+1, "empty sample name")
 		}
 		if prev, dup := sh.rows[name]; dup {
-			return nil, perr(line, iSample+1, "sample %q already given on line %d", name, prev.line)
+			return nil, text.ErrAt(rec.Line, iSample+1, "sample %q already given on line %d", name, prev.line)
 		}
 		var f Factors
-		for _, c := range []struct {
-			i    int
-			dst  *float64
-			what string
-		}{{iDil, &f.Dilution, "dilution"}, {iPath, &f.PathCM, "path_cm"}} {
-			v := cell(c.i)
-			if v == "" {
-				continue
-			}
-			num := v
-			if sep != "," && strings.Count(num, ",") == 1 && !strings.Contains(num, ".") {
-				num = strings.Replace(num, ",", ".", 1) // decimal comma
-			}
-			x, err := strconv.ParseFloat(num, 64)
-			switch {
-			case err != nil && !errors.Is(err, strconv.ErrRange) || math.IsNaN(x):
-				return nil, perr(line, c.i+1, "%s %q is not a number", c.what, v)
-			case !(x > 0) || math.IsInf(x, 0):
-				return nil, perr(line, c.i+1, "%s %q is not a positive number", c.what, v)
-			}
-			if err := CheckFactors(Factors{PathCM: x}); c.what == "path_cm" && err != nil {
-				return nil, perr(line, c.i+1, "path_cm %q: want %g to %g cm", v, float64(MinPathCM), float64(MaxPathCM))
-			}
-			if err := CheckFactors(Factors{Dilution: x}); c.what == "dilution" && err != nil {
-				return nil, perr(line, c.i+1, "dilution %q: want a factor from %g to %g", v, float64(MinDilution), float64(MaxDilution))
-			}
-			*c.dst = x
+		if f.Dilution, err = sampleFactor(text, rec, iDil, "dilution"); err != nil {
+			return nil, err
 		}
-		sh.rows[name] = sheetRow{f: f, line: line}
+		if f.PathCM, err = sampleFactor(text, rec, iPath, "path_cm"); err != nil {
+			return nil, err
+		}
+		sh.rows[name] = sheetRow{f: f, line: rec.Line}
 		sh.order = append(sh.order, name)
 	}
-	if err := sc.Err(); err != nil {
-		if errors.Is(err, bufio.ErrTooLong) {
-			return nil, perr(line+1, 0, "line longer than %s: is this a sample sheet?", bytesize.Text(maxSheetLine))
-		}
-		return nil, perr(line+1, 0, "%v", err)
-	}
-	if sep == "" {
-		return nil, perr(0, 0, "%w", spectrum.ErrEmpty)
-	}
 	return sh, nil
+}
+
+// sampleFactor reads the dilution or path_cm (what) in column col of rec:
+// 0 (the default) when the sheet has no such column or the cell is
+// empty, else a positive number within the limits of CheckFactors.
+func sampleFactor(text *sheet.Sheet, rec sheet.Row, col int, what string) (float64, error) {
+	v := sheet.Field(rec, col)
+	if v == "" {
+		return 0, nil
+	}
+	x, err := text.Number(rec, col)
+	switch {
+	case errors.Is(err, sheet.ErrNotNumber):
+		return 0, text.ErrAt(rec.Line, col+1, "%s %q is not a number", what, v)
+	case err != nil:
+		return 0, text.ErrAt(rec.Line, col+1, "%s %q: %w", what, v, err)
+	case !(x > 0):
+		return 0, text.ErrAt(rec.Line, col+1, "%s %q is not a positive number", what, v)
+	}
+	if err := CheckFactors(Factors{PathCM: x}); what == "path_cm" && err != nil {
+		return 0, text.ErrAt(rec.Line, col+1, "path_cm %q: want %g to %g cm", v, float64(MinPathCM), float64(MaxPathCM))
+	}
+	if err := CheckFactors(Factors{Dilution: x}); what == "dilution" && err != nil {
+		return 0, text.ErrAt(rec.Line, col+1, "dilution %q: want a factor from %g to %g", v, float64(MinDilution), float64(MaxDilution))
+	}
+	return x, nil
 }
 
 // Lookup finds the factors of a scan: by its name, else by its file's
@@ -238,6 +187,15 @@ func (sh *SampleSheet) Line(name string) int {
 		return 0
 	}
 	return sh.rows[name].line
+}
+
+// Warnings returns the warnings given while the sheet was read (a sheet
+// that is not UTF-8 is read as Latin-1), each naming file:line.
+func (sh *SampleSheet) Warnings() []string {
+	if sh == nil {
+		return nil
+	}
+	return slices.Clone(sh.warns)
 }
 
 // Len is the number of samples in the sheet.

@@ -103,3 +103,50 @@ func TestNaturalOrder(t *testing.T) {
 		t.Error("NaturalCompare is not a total order as documented")
 	}
 }
+
+// TestSampleSheetStrict: the sample sheet reads its text as the standards
+// sheet does (internal/sheet): a row with more or fewer fields than the
+// header, and numbers outside the spectrum readers' syntax (hexadecimal,
+// digit separators, Inf), are refused naming file:line:column; so is a
+// sheet mixing decimal points and decimal commas.
+func TestSampleSheetStrict(t *testing.T) {
+	for _, c := range []struct{ text, want string }{
+		{"sample,dilution,path_cm\nlot-101,2,5,1\n", "s.csv:2:4: row has 4 fields but the header names 3 columns"},
+		{"sample,dilution,path_cm\nlot-101,2\n", "s.csv:2:3: row has 2 fields but the header names 3 columns"},
+		{"sample,dilution\nA,0x1p3\n", `s.csv:2:2: dilution "0x1p3" is not a number`},
+		{"sample,dilution\nA,1_0\n", `s.csv:2:2: dilution "1_0" is not a number`},
+		{"sample,path_cm\nA,inf\n", `s.csv:2:2: path_cm "inf" is not a number`},
+		{"sample;dilution\nA;2,5\nB;2.5\n", `s.csv:3:2: dilution "2.5": mixed decimal conventions`},
+		{"sample,dilution\nA\"1,2\n", `s.csv:2:1: a " inside a field that is not quoted`},
+	} {
+		_, err := ParseSampleSheet(strings.NewReader(c.text), "s.csv")
+		if err == nil || !strings.HasPrefix(err.Error(), c.want) {
+			t.Errorf("ParseSampleSheet(%q) error %v, want prefix %q", c.text, err, c.want)
+		}
+	}
+	// Quoting as in CSV: a quoted name may hold the separator; notes and
+	// comments columns are dropped like the standards sheet's.
+	sh, err := ParseSampleSheet(strings.NewReader("sample,dilution,notes\n\"mix 1, rerun\",4,\"diluted 1:4\"\n"), "s.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if f, ok := sh.Lookup(&spectrum.Spectrum{Name: "mix 1, rerun"}); !ok || f.Dilution != 4 {
+		t.Errorf("quoted name: %+v %v", f, ok)
+	}
+}
+
+// TestSampleSheetLatin1: a sheet that is not UTF-8 is read as Latin-1, so
+// its names match scans whose headers were read the same way, with a
+// warning naming the line.
+func TestSampleSheetLatin1(t *testing.T) {
+	sh, err := ParseSampleSheet(strings.NewReader("sample,dilution\nProbe-\xe4,2\n"), "l.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if f, ok := sh.Lookup(&spectrum.Spectrum{Name: "Probe-ä"}); !ok || f.Dilution != 2 {
+		t.Errorf("Latin-1 name: %+v %v", f, ok)
+	}
+	if w := sh.Warnings(); len(w) != 1 || !strings.HasPrefix(w[0], "l.csv:2: the sample sheet is not UTF-8") {
+		t.Errorf("warnings %q", w)
+	}
+}
