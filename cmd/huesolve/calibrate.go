@@ -168,7 +168,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if err := set.Save(o.out); err != nil {
 		return err
 	}
-	if err := writeSetSummary(cmd.OutOrStdout(), set); err != nil {
+	if err := report.WriteSetSummary(cmd.OutOrStdout(), set); err != nil {
 		return err
 	}
 	fmt.Fprintf(errw, "huesolve: reference set written to %s\n", o.out)
@@ -203,7 +203,7 @@ func calWarnCollinear(set *reference.Set, warn func(string)) {
 		return
 	}
 	warn(fmt.Sprintf("the absorptivity spectra of the compounds are nearly collinear over %g-%g nm: condition number %s with an offset baseline, above %g, so solve will flag every sample illcond and their standard errors are inflated (huesolve inspect shows which compounds overlap; huesolve window looks for a better window)",
-		m.WindowLo, m.WindowHi, valCondText(m.Cond, m.Singular), unmix.CondLimit))
+		m.WindowLo, m.WindowHi, report.CondText(m.Cond, m.Singular), unmix.CondLimit))
 }
 
 // sourceDateEpoch reads the environment variable SOURCE_DATE_EPOCH (the

@@ -167,7 +167,7 @@ func runConvert(stdout, errw io.Writer, in string, o convertOptions) error {
 	if err := atomicfile.Write(o.out, fill); err != nil {
 		return err
 	}
-	fmt.Fprintf(errw, "huesolve: wrote %d %s to %s (%s)\n", len(ss), lookPlural(len(ss), "spectrum", "spectra"), o.out, format)
+	fmt.Fprintf(errw, "huesolve: wrote %d %s to %s (%s)\n", len(ss), plural(len(ss), "spectrum", "spectra"), o.out, format)
 	return nil
 }
 

@@ -63,19 +63,3 @@ func TestInspect(t *testing.T) {
 		t.Errorf("inspect without a file: exit %d, want %d", code, exitUsage)
 	}
 }
-
-func TestPlusMinus(t *testing.T) {
-	for _, c := range []struct {
-		v, se float64
-		want  string
-	}{
-		{0.04001, 5.6e-5, "0.040010 ± 0.000056"},
-		{12.345, 0.21, "12.35 ± 0.21"},
-		{1234.5, 12, "1234 ± 12"},
-		{0.5, 0, "0.5"},
-	} {
-		if got := plusMinus(c.v, c.se); got != c.want {
-			t.Errorf("plusMinus(%g, %g) = %q, want %q", c.v, c.se, got, c.want)
-		}
-	}
-}

@@ -79,3 +79,11 @@ func dropRepeats(msg string) string {
 	}
 	return strings.Join(out, ": ")
 }
+
+// plural is one when n is 1, else many.
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
+}
