@@ -214,13 +214,13 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 
 	inputs := unmix.ExpandInputs(scans)
 	solveSetNotes(set, model, o.scans.blank, inputs, note, warn)
-	track := newSheetTracker(sheet)
+	track := unmix.NewSheetUse(sheet)
 	batch := &unmix.Batch{
 		Model:   model,
 		Workers: o.jobs,
 		Read:    ropt,
 		Factors: func(s *spectrum.Spectrum) (unmix.Factors, error) {
-			f := track.lookup(s)
+			f := track.Factors(s)
 			if f.Dilution == 0 {
 				f.Dilution = o.dilution
 			}
@@ -259,7 +259,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 
 	if o.checkOnly {
 		return runSolveCheck(cmd, batch, inputs, errw, func() int64 {
-			track.report(warn, o.dilution, o.pathCM)
+			sheetNotes(track, sheet, warn, o.dilution, o.pathCM)
 			return warnings.Load()
 		})
 	}
@@ -335,7 +335,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if err != nil {
 		return err
 	}
-	track.report(warn, o.dilution, o.pathCM)
+	sheetNotes(track, sheet, warn, o.dilution, o.pathCM)
 	seen.report(warn)
 	if o.output.plots != "" {
 		fmt.Fprintf(errw, "huesolve: %d plots written to %s\n", plotted.Load(), o.output.plots)
