@@ -15,8 +15,6 @@ import (
 	"huesolve/validate"
 )
 
-func init() { commands = append(commands, newCalibrateCmd) }
-
 // calibrateOptions are the flags of calibrate.
 type calibrateOptions struct {
 	out           string

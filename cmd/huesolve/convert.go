@@ -13,8 +13,6 @@ import (
 	"huesolve/spectrum"
 )
 
-func init() { commands = append(commands, newConvertCmd) }
-
 // convertOptions are the flags of huesolve convert.
 type convertOptions struct {
 	out   string

@@ -35,6 +35,11 @@ const (
 	maxCeilingA = 10
 )
 
+// valDefaultBaseline is the baseline model solve, verify and window use
+// when none is given, and inspect and calibrate judge the set with: an
+// offset.
+const valDefaultBaseline = "offset"
+
 // fitFlags are the options of the sample fit.
 type fitFlags struct {
 	window   string

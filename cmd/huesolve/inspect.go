@@ -6,19 +6,21 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"huesolve/baseline"
 	"huesolve/reference"
 	"huesolve/report"
+	"huesolve/validate"
 )
 
-func init() { commands = append(commands, newInspectCmd) }
-
 // inspectSection writes one section of the inspect report after the
-// summary. Other command files add theirs to inspectSections in an init
-// function, so the sections grow without touching this file.
+// summary.
 type inspectSection func(w io.Writer, set *reference.Set, path string) error
 
-// inspectSections are the extra sections of inspect, in order.
-var inspectSections []inspectSection
+// inspectSections are the sections of inspect after the summary, in the
+// order they are printed.
+var inspectSections = []inspectSection{
+	inspectMerits,
+}
 
 const inspectLong = `Print what a reference set file holds: for each compound its band
 maximum, peak absorptivity with standard error, R² of the calibration line,
@@ -51,4 +53,23 @@ func newInspectCmd() *cobra.Command {
 			return nil
 		},
 	}
+}
+
+// inspectMerits is the figures-of-merit section of inspect: computed over
+// the whole grid with the default baseline of solve and verify (an
+// offset), unweighted.
+func inspectMerits(w io.Writer, set *reference.Set, _ string) error {
+	bl, err := baseline.ParseModel(valDefaultBaseline)
+	if err != nil {
+		return err
+	}
+	m, err := validate.FiguresOfMerit(set, validate.MeritOptions{Baseline: bl})
+	if err != nil {
+		return fmt.Errorf("figures of merit: %w", err)
+	}
+	if err := report.WriteMerits(w, m); err != nil {
+		return err
+	}
+	fmt.Fprintln(w, "For another window or baseline model: huesolve window REFSET (it also advises on the window).")
+	return nil
 }

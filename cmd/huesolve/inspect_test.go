@@ -23,7 +23,7 @@ func TestInspect(t *testing.T) {
 		t.Fatal(err)
 	}
 
-	// A section added by another command file is printed after the summary.
+	// A section added to inspectSections is printed after the summary.
 	saved := inspectSections
 	t.Cleanup(func() { inspectSections = saved })
 	inspectSections = append(inspectSections, func(w io.Writer, set *reference.Set, path string) error {
@@ -61,5 +61,20 @@ func TestInspect(t *testing.T) {
 	}
 	if _, _, code := run(t, "inspect"); code != exitUsage {
 		t.Errorf("inspect without a file: exit %d, want %d", code, exitUsage)
+	}
+}
+
+// inspect shows the figures of merit after the summary.
+func TestInspectShowsMerits(t *testing.T) {
+	_, refs, _ := valCase(t, 1)
+	out, errOut, code := run(t, "inspect", refs)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	low := strings.ToLower(out)
+	for _, want := range []string{"figures of merit (net analyte signal) over 400-700 nm", "selectivity", "lod", "loq", "baseline offset"} {
+		if !strings.Contains(low, want) {
+			t.Errorf("inspect output lacks %q:\n%s", want, out)
+		}
 	}
 }

@@ -11,8 +11,6 @@ import (
 	"huesolve/unmix"
 )
 
-func init() { commands = append(commands, newLookCmd) }
-
 // lookOptions are the flags of huesolve look.
 type lookOptions struct {
 	scans scanFlags

@@ -23,8 +23,6 @@ import (
 	"huesolve/unmix"
 )
 
-func init() { commands = append(commands, newSolveCmd) }
-
 // solveOptions are the flags of solve.
 type solveOptions struct {
 	fit       fitFlags

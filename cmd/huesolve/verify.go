@@ -13,8 +13,6 @@ import (
 	"huesolve/validate"
 )
 
-func init() { commands = append(commands, newVerifyCmd) }
-
 // verifyOptions are the flags of verify.
 type verifyOptions struct {
 	fit            fitFlags

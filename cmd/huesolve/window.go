@@ -14,8 +14,6 @@ import (
 	"huesolve/validate"
 )
 
-func init() { commands = append(commands, newWindowCmd) }
-
 // windowOptions are the flags of window.
 type windowOptions struct {
 	fit        fitFlags
