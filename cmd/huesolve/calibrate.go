@@ -11,6 +11,7 @@ import (
 	"huesolve/baseline"
 	"huesolve/reference"
 	"huesolve/report"
+	"huesolve/spectrum"
 	"huesolve/unmix"
 	"huesolve/validate"
 )
@@ -101,44 +102,8 @@ func newCalibrateCmd() *cobra.Command {
 func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) error {
 	errw := cmd.ErrOrStderr()
 	warn := warnTo(errw)
-
-	// Flags.
-	if o.out == "" {
-		return usagef("calibrate needs --output FILE for the reference set")
-	}
-	q, err := o.scans.parseQuantity()
+	opt, q, err := o.check(warn)
 	if err != nil {
-		return err
-	}
-	now, err := sourceDateEpoch()
-	if err != nil {
-		return err
-	}
-	opt := reference.Options{
-		PathCM: o.pathCM, Ceiling: o.ceiling, Floor: o.floor,
-		ThroughOrigin: o.throughOrigin, Warn: warn, Version: version, Now: now,
-	}
-	switch {
-	case o.pathCM == 0 || checkPathFlag(o.pathCM) != nil:
-		return usagef("--path-cm %g: want a path length from %g to %g cm", o.pathCM, float64(unmix.MinPathCM), float64(unmix.MaxPathCM))
-	case !(o.ceiling > 0):
-		return usagef("--ceiling %g: want a positive absorbance", o.ceiling)
-	case !(o.floor >= 0) || o.floor >= o.ceiling:
-		return usagef("--floor %g: want 0 <= floor < ceiling (%g)", o.floor, o.ceiling)
-	}
-	if o.window != "" {
-		if opt.WindowLo, opt.WindowHi, err = parseWindowFlag(o.window); err != nil {
-			return err
-		}
-	}
-	for _, s := range o.pretreat {
-		st, err := baseline.ParseStep(s)
-		if err != nil {
-			return usagef("--pretreat: %v", err) // the error quotes the step
-		}
-		opt.Pretreat = append(opt.Pretreat, st)
-	}
-	if err := o.output.checkPlots(); err != nil {
 		return err
 	}
 
@@ -186,6 +151,48 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		return &exitError{code: exitFlagged, msg: fmt.Sprintf("%d of %d compounds flagged (see the legend under the table); the set was written", flagged, len(set.Compounds))}
 	}
 	return nil
+}
+
+// check reads the flags of calibrate into the build options (all but the
+// blank) and the quantity of the scans.
+func (o *calibrateOptions) check(warn func(string)) (reference.Options, spectrum.Quantity, error) {
+	var opt reference.Options
+	if o.out == "" {
+		return opt, 0, usagef("calibrate needs --output FILE for the reference set")
+	}
+	q, err := o.scans.parseQuantity()
+	if err != nil {
+		return opt, q, err
+	}
+	now, err := sourceDateEpoch()
+	if err != nil {
+		return opt, q, err
+	}
+	opt = reference.Options{
+		PathCM: o.pathCM, Ceiling: o.ceiling, Floor: o.floor,
+		ThroughOrigin: o.throughOrigin, Warn: warn, Version: version, Now: now,
+	}
+	switch {
+	case o.pathCM == 0 || checkPathFlag(o.pathCM) != nil:
+		return opt, q, usagef("--path-cm %g: want a path length from %g to %g cm", o.pathCM, float64(unmix.MinPathCM), float64(unmix.MaxPathCM))
+	case !(o.ceiling > 0):
+		return opt, q, usagef("--ceiling %g: want a positive absorbance", o.ceiling)
+	case !(o.floor >= 0) || o.floor >= o.ceiling:
+		return opt, q, usagef("--floor %g: want 0 <= floor < ceiling (%g)", o.floor, o.ceiling)
+	}
+	if o.window != "" {
+		if opt.WindowLo, opt.WindowHi, err = parseWindowFlag(o.window); err != nil {
+			return opt, q, err
+		}
+	}
+	for _, s := range o.pretreat {
+		st, err := baseline.ParseStep(s)
+		if err != nil {
+			return opt, q, usagef("--pretreat: %v", err) // the error quotes the step
+		}
+		opt.Pretreat = append(opt.Pretreat, st)
+	}
+	return opt, q, o.output.checkPlots()
 }
 
 // calWarnCollinear warns when the set's absorptivity spectra are so alike

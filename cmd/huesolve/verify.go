@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -10,6 +11,8 @@ import (
 
 	"huesolve/reference"
 	"huesolve/report"
+	"huesolve/spectrum"
+	"huesolve/unmix"
 	"huesolve/validate"
 )
 
@@ -99,97 +102,25 @@ func newVerifyCmd() *cobra.Command {
 }
 
 func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string) error {
-	errw := cmd.ErrOrStderr()
-	warn := warnTo(errw)
-
-	// Flags.
-	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
+	warn := warnTo(cmd.ErrOrStderr())
+	mopt, q, vopt, err := o.check()
 	if err != nil {
 		return err
 	}
-	lim := validate.Limits{MaxRSD: o.maxRSD}
-	if lim.RecoveryLo, lim.RecoveryHi, err = valParsePercentRange(o.recovery); err != nil {
-		return err
-	}
-	if !(o.maxRSD > 0) || o.maxRSD > 100 {
-		return usagef("--max-rsd %g: want a percentage above 0", o.maxRSD)
-	}
-	if !(o.minSelectivity > 0) || o.minSelectivity >= 1 {
-		return usagef("--min-selectivity %g: want a number between 0 and 1", o.minSelectivity)
-	}
-	var byLevel bool
-	switch o.crossvalBy {
-	case "level":
-		byLevel = true
-	case "standard":
-	default:
-		return usagef("--crossval-by %q: want level or standard", o.crossvalBy)
-	}
-
-	// Inputs.
-	if err := checkNotInput("-o", o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
-		return err
-	}
-	set, err := reference.Load(refPath)
+	set, sh, err := o.load(refPath, checksPath, &mopt, q, warn)
 	if err != nil {
 		return err
 	}
-	sh, err := valReadCheckSheet(checksPath, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
-	if err != nil {
-		return err
-	}
-	if err := checkNotInput("-o", o.output.out, sheetFiles(sh)...); err != nil {
-		return err
-	}
-	if mopt.Blank, _, err = o.scans.readBlank(q, warn); err != nil {
-		return err
-	}
-	if mopt.Blank == nil && len(sh.Blanks) == 0 {
-		warn("no blank given and no blank rows in " + checksPath + ": check standards are solved as read, so the baseline terms must take up the solvent and cell")
-	}
-
-	// Work.
 	ctx := cmd.Context()
-	interrupted := func(err error) error {
-		if ctx.Err() == nil || !errors.Is(err, ctx.Err()) {
-			return err
-		}
-		msg := "interrupted: " + strings.TrimPrefix(err.Error(), "validate: ")
-		if o.output.out != "" {
-			msg += "; nothing written to " + o.output.out
-		} else {
-			msg += "; nothing printed"
-		}
-		return &exitError{code: exitInterrupt, msg: msg}
-	}
-	v, err := validate.VerifyContext(ctx, set, sh, validate.VerifyOptions{Model: mopt, Limits: lim, MinSelectivity: o.minSelectivity})
+	vopt.Model = mopt
+	v, err := validate.VerifyContext(ctx, set, sh, vopt)
 	if err != nil {
-		return interrupted(err)
+		return o.interrupted(ctx, err)
 	}
-	var cv *validate.CrossValidation
-	if o.crossval != "" {
-		cal, err := reference.ReadSheet(o.crossval, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
-		if err != nil {
-			return err
-		}
-		// The calibration sheet's blank rows are the blank it was
-		// built with; without them, the --blank scan serves.
-		bopt := validate.BuildOptionsFor(set)
-		if len(cal.Blanks) == 0 {
-			bopt.Blank = mopt.Blank
-		}
-		cmopt := mopt
-		cmopt.Blank = nil
-		cv, err = validate.CrossValidateContext(ctx, set, cal, validate.CrossValOptions{Build: bopt, Model: cmopt, ByLevel: byLevel})
-		if err != nil {
-			return interrupted(err)
-		}
-		for _, f := range cv.Failed {
-			warn("cross-validation: " + f)
-		}
+	cv, err := o.crossValidate(ctx, set, mopt, q, warn)
+	if err != nil {
+		return err
 	}
-
-	// Output.
 	rep := report.VerifyReport{Reference: refPath, Checks: checksPath, Window: [2]float64{v.Merits.WindowLo, v.Merits.WindowHi},
 		Baseline: v.Merits.Baseline, Weighted: o.fit.weighted, Result: v, CrossVal: cv}
 	err = o.output.write(cmd, "verification", rep,
@@ -204,6 +135,103 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	if err != nil {
 		return err
 	}
+	return verifyVerdict(cmd.ErrOrStderr(), v, warn)
+}
+
+// check reads the flags of verify into the model options, the quantity
+// of the scans and the acceptance limits.
+func (o *verifyOptions) check() (unmix.Options, spectrum.Quantity, validate.VerifyOptions, error) {
+	vopt := validate.VerifyOptions{Limits: validate.Limits{MaxRSD: o.maxRSD}, MinSelectivity: o.minSelectivity}
+	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
+	if err != nil {
+		return mopt, q, vopt, err
+	}
+	if vopt.Limits.RecoveryLo, vopt.Limits.RecoveryHi, err = valParsePercentRange(o.recovery); err != nil {
+		return mopt, q, vopt, err
+	}
+	switch {
+	case !(o.maxRSD > 0) || o.maxRSD > 100:
+		return mopt, q, vopt, usagef("--max-rsd %g: want a percentage above 0", o.maxRSD)
+	case !(o.minSelectivity > 0) || o.minSelectivity >= 1:
+		return mopt, q, vopt, usagef("--min-selectivity %g: want a number between 0 and 1", o.minSelectivity)
+	case o.crossvalBy != "level" && o.crossvalBy != "standard":
+		return mopt, q, vopt, usagef("--crossval-by %q: want level or standard", o.crossvalBy)
+	}
+	return mopt, q, vopt, nil
+}
+
+// load reads the reference set, the checks sheet and the blank (into
+// mopt), warning when there is no blank at all.
+func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q spectrum.Quantity, warn func(string)) (*reference.Set, *reference.Sheet, error) {
+	if err := checkNotInput("-o", o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
+		return nil, nil, err
+	}
+	set, err := reference.Load(refPath)
+	if err != nil {
+		return nil, nil, err
+	}
+	sh, err := valReadCheckSheet(checksPath, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
+	if err != nil {
+		return nil, nil, err
+	}
+	if err := checkNotInput("-o", o.output.out, sheetFiles(sh)...); err != nil {
+		return nil, nil, err
+	}
+	if mopt.Blank, _, err = o.scans.readBlank(q, warn); err != nil {
+		return nil, nil, err
+	}
+	if mopt.Blank == nil && len(sh.Blanks) == 0 {
+		warn("no blank given and no blank rows in " + checksPath + ": check standards are solved as read, so the baseline terms must take up the solvent and cell")
+	}
+	return set, sh, nil
+}
+
+// crossValidate runs the cross-validation of --crossval (nil without it).
+func (o *verifyOptions) crossValidate(ctx context.Context, set *reference.Set, mopt unmix.Options, q spectrum.Quantity, warn func(string)) (*validate.CrossValidation, error) {
+	if o.crossval == "" {
+		return nil, nil
+	}
+	cal, err := reference.ReadSheet(o.crossval, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
+	if err != nil {
+		return nil, err
+	}
+	// The calibration sheet's blank rows are the blank it was built
+	// with; without them, the --blank scan serves.
+	bopt := validate.BuildOptionsFor(set)
+	if len(cal.Blanks) == 0 {
+		bopt.Blank = mopt.Blank
+	}
+	cmopt := mopt
+	cmopt.Blank = nil
+	cv, err := validate.CrossValidateContext(ctx, set, cal, validate.CrossValOptions{Build: bopt, Model: cmopt, ByLevel: o.crossvalBy == "level"})
+	if err != nil {
+		return nil, o.interrupted(ctx, err)
+	}
+	for _, f := range cv.Failed {
+		warn("cross-validation: " + f)
+	}
+	return cv, nil
+}
+
+// interrupted turns err into exit code 130 with how far verify got when
+// it is ctx's cancellation, and leaves any other error as it is.
+func (o *verifyOptions) interrupted(ctx context.Context, err error) error {
+	if ctx.Err() == nil || !errors.Is(err, ctx.Err()) {
+		return err
+	}
+	msg := "interrupted: " + strings.TrimPrefix(err.Error(), "validate: ")
+	if o.output.out != "" {
+		msg += "; nothing written to " + o.output.out
+	} else {
+		msg += "; nothing printed"
+	}
+	return &exitError{code: exitInterrupt, msg: msg}
+}
+
+// verifyVerdict says on errw whether every compound passed, and gives
+// the exit code: 4 when some compound failed or a check result is
+// flagged.
+func verifyVerdict(errw io.Writer, v *validate.Verification, warn func(string)) error {
 	failed := 0
 	for _, c := range v.Compounds {
 		if !c.Pass {

@@ -89,43 +89,10 @@ func newWindowCmd() *cobra.Command {
 
 func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	errw := cmd.ErrOrStderr()
-	opt := validate.WindowOptions{
-		Weighted: o.fit.weighted, StepNM: o.step, MinWidthNM: o.minWidth, MaxWidthNM: o.maxWidth,
-		Sigma: o.noise, PathCM: o.pathCM,
-	}
-	var err error
-	if opt.Baseline, err = o.fit.baselineModel(); err != nil {
+	opt, err := o.check()
+	if err != nil {
 		return err
 	}
-	if o.searchIn != "" {
-		if opt.Lo, opt.Hi, err = winParseRange(o.searchIn); err != nil {
-			return err
-		}
-	}
-	switch {
-	case !(o.step > 0) || o.step > 1e4:
-		return usagef("--step %g: want a positive number of nm", o.step)
-	case !(o.minWidth > 0) || o.minWidth > 1e5:
-		return usagef("--min-width %g: want a positive number of nm", o.minWidth)
-	case !(o.maxWidth >= 0) || (o.maxWidth > 0 && o.maxWidth < o.minWidth):
-		return usagef("--max-width %g: want 0 or at least --min-width (%g)", o.maxWidth, o.minWidth)
-	case !(o.equivalent >= 0) || o.equivalent > 1000:
-		return usagef("--equivalent %g: want a percentage, 0 or more", o.equivalent)
-	case !(o.noise >= 0) || o.noise > 10:
-		return usagef("--noise %g: want an absorbance SD, 0 or more", o.noise)
-	case checkPathFlag(o.pathCM) != nil:
-		return checkPathFlag(o.pathCM)
-	case o.top < 1:
-		return usagef("--top %d: want at least 1", o.top)
-	}
-	opt.Equivalent = o.equivalent / 100
-	if o.equivalent == 0 {
-		opt.Equivalent = -1
-	}
-	if err := o.output.check(); err != nil {
-		return err
-	}
-
 	if err := checkNotInput("-o", o.output.out, refPath); err != nil {
 		return err
 	}
@@ -167,6 +134,45 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	}
 	fmt.Fprintf(errw, "huesolve: recommended window %g-%g nm (give --window %g-%g to solve and verify)\n", best.Lo, best.Hi, best.Lo, best.Hi)
 	return nil
+}
+
+// check reads the flags of window into the search's options (all but
+// the levels, which need the reference set).
+func (o *windowOptions) check() (validate.WindowOptions, error) {
+	opt := validate.WindowOptions{
+		Weighted: o.fit.weighted, StepNM: o.step, MinWidthNM: o.minWidth, MaxWidthNM: o.maxWidth,
+		Sigma: o.noise, PathCM: o.pathCM,
+	}
+	var err error
+	if opt.Baseline, err = o.fit.baselineModel(); err != nil {
+		return opt, err
+	}
+	if o.searchIn != "" {
+		if opt.Lo, opt.Hi, err = winParseRange(o.searchIn); err != nil {
+			return opt, err
+		}
+	}
+	switch {
+	case !(o.step > 0) || o.step > 1e4:
+		return opt, usagef("--step %g: want a positive number of nm", o.step)
+	case !(o.minWidth > 0) || o.minWidth > 1e5:
+		return opt, usagef("--min-width %g: want a positive number of nm", o.minWidth)
+	case !(o.maxWidth >= 0) || (o.maxWidth > 0 && o.maxWidth < o.minWidth):
+		return opt, usagef("--max-width %g: want 0 or at least --min-width (%g)", o.maxWidth, o.minWidth)
+	case !(o.equivalent >= 0) || o.equivalent > 1000:
+		return opt, usagef("--equivalent %g: want a percentage, 0 or more", o.equivalent)
+	case !(o.noise >= 0) || o.noise > 10:
+		return opt, usagef("--noise %g: want an absorbance SD, 0 or more", o.noise)
+	case checkPathFlag(o.pathCM) != nil:
+		return opt, checkPathFlag(o.pathCM)
+	case o.top < 1:
+		return opt, usagef("--top %d: want at least 1", o.top)
+	}
+	opt.Equivalent = o.equivalent / 100
+	if o.equivalent == 0 {
+		opt.Equivalent = -1
+	}
+	return opt, o.output.check()
 }
 
 // winParseRange reads the --search range "LO-HI" in nm.
