@@ -19,7 +19,6 @@ import (
 // calibrateOptions are the flags of calibrate.
 type calibrateOptions struct {
 	out           string
-	blank         string
 	window        string
 	pathCM        float64
 	ceiling       float64

@@ -229,7 +229,7 @@ func newSolveJob(stderr io.Writer) *solveJob {
 	j := &solveJob{errw: &lockedWriter{w: stderr}, seen: newOutcomeNotes()}
 	say := warnTo(j.errw)
 	j.warn = func(msg string) { j.warnings.Add(1); say(msg) }
-	j.note = func(msg string) { fmt.Fprintln(j.errw, "huesolve: note:", msg) }
+	j.note = noteTo(j.errw)
 	return j
 }
 
