@@ -13,6 +13,7 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
+	"huesolve/internal/pkgerr"
 	"huesolve/unmix"
 )
 
@@ -49,7 +50,7 @@ const (
 )
 
 // ErrNoCurves: the result was solved without unmix.Options.KeepCurves.
-var ErrNoCurves = errors.New("report: result holds no curves (solve with curves kept)")
+var ErrNoCurves = pkgerr.New("report", "result holds no curves (solve with curves kept)")
 
 // SamplePlots draws one sample: the measured spectrum (dots), the fitted
 // spectrum, each compound's contribution and the baseline in the top
@@ -62,17 +63,17 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 	}
 	for _, c := range [][]float64{r.Measured, r.Fitted, r.Residual, r.BaselineCurve, r.Noise} {
 		if len(c) != n {
-			return nil, nil, fmt.Errorf("report: %s: curves of unequal length", r.Sample)
+			return nil, nil, pkgerr.Errorf("report", "%s: curves of unequal length", r.Sample)
 		}
 	}
 	// Lines break where the fit left points out, rather than run
 	// straight across; the stretches are shaded in both panels.
 	sp := &samplePlot{r: r, segs: segments(r.Grid, r.Gaps), bands: gapBands(r.Grid, r.Gaps)}
 	if spectra, err = sp.spectraPanel(names); err != nil {
-		return nil, nil, fmt.Errorf("report: plot of %s: %w", r.Sample, err)
+		return nil, nil, pkgerr.Errorf("report", "plot of %s: %w", r.Sample, err)
 	}
 	if resid, err = sp.residualPanel(); err != nil {
-		return nil, nil, fmt.Errorf("report: plot of %s: %w", r.Sample, err)
+		return nil, nil, pkgerr.Errorf("report", "plot of %s: %w", r.Sample, err)
 	}
 	xmin, xmax := r.Grid[0], r.Grid[n-1]
 	for _, b := range sp.bands {

@@ -187,7 +187,7 @@ func (o *calibrateOptions) check(warn func(string)) (reference.Options, spectrum
 	for _, s := range o.pretreat {
 		st, err := baseline.ParseStep(s)
 		if err != nil {
-			return opt, q, usagef("--pretreat: %v", err) // the error quotes the step
+			return opt, q, usagef("--pretreat: %w", err) // the error quotes the step
 		}
 		opt.Pretreat = append(opt.Pretreat, st)
 	}
