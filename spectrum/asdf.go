@@ -150,6 +150,8 @@ type asdfDecoder struct {
 }
 
 // errYCheck marks a Y-value check that failed.
+//
+//lint:ignore ST1005 Y is the name of the JCAMP-DX ordinate, written as the standard writes it
 var errYCheck = errors.New("Y-value check failed")
 
 // line decodes one line: an X value, then Y values in any ASDF form. It
