@@ -1,13 +1,14 @@
 package baseline
 
 import (
-	"errors"
 	"fmt"
 	"math"
 	"strconv"
 	"strings"
 
 	"gonum.org/v1/gonum/floats"
+
+	"huesolve/internal/pkgerr"
 )
 
 // DefaultScatterPower is the exponent of the scattering term when none is
@@ -23,7 +24,7 @@ const maxScatterPower = 8
 // ErrModel reports an invalid [Model]: a degree outside -1..3, a
 // scattering power that is not positive and finite, or a grid the
 // columns cannot be built on.
-var ErrModel = errors.New("baseline: invalid model")
+var ErrModel = pkgerr.New("baseline", "invalid model")
 
 // Model chooses the nuisance columns added to a fit.
 //

@@ -6,6 +6,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"huesolve/internal/pkgerr"
 )
 
 // Step kinds.
@@ -19,18 +21,18 @@ const (
 // and the details; test with errors.Is.
 var (
 	// ErrStep: the step's kind or parameters are invalid.
-	ErrStep = errors.New("baseline: invalid pre-treatment")
+	ErrStep = pkgerr.New("baseline", "invalid pre-treatment")
 	// ErrData: the spectrum cannot be treated (lengths differ, too few
 	// points, a value is NaN or infinite, the grid is not monotonic).
-	ErrData = errors.New("baseline: spectrum cannot be treated")
+	ErrData = pkgerr.New("baseline", "spectrum cannot be treated")
 	// ErrEmptyRegion: a zeroing region holds no grid points.
-	ErrEmptyRegion = errors.New("baseline: zeroing region holds no grid points")
+	ErrEmptyRegion = pkgerr.New("baseline", "zeroing region holds no grid points")
 	// ErrUnevenGrid: a Savitzky-Golay step met a grid whose spacing is
 	// not constant within GridTolerance.
-	ErrUnevenGrid = errors.New("baseline: wavelength grid is not evenly spaced")
+	ErrUnevenGrid = pkgerr.New("baseline", "wavelength grid is not evenly spaced")
 	// ErrNoConvergence: the asymmetric least squares weights did not
 	// settle within the iteration cap.
-	ErrNoConvergence = errors.New("baseline: asymmetric least squares did not converge")
+	ErrNoConvergence = pkgerr.New("baseline", "asymmetric least squares did not converge")
 )
 
 // regionSlack widens a zeroing region on both sides (nm). It bounds the

@@ -13,6 +13,7 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 )
 
@@ -54,13 +55,13 @@ func AbsorptivityPlot(set *reference.Set) (*plot.Plot, error) {
 			}
 			poly, err := plotter.NewPolygon(band)
 			if err != nil {
-				return nil, fmt.Errorf("report: absorptivity band of %s: %w", c.Name, err)
+				return nil, pkgerr.Errorf("report", "absorptivity band of %s: %w", c.Name, err)
 			}
 			poly.Color = fade(col)
 			poly.LineStyle.Width = 0
 			line, err := plotter.NewLine(mid)
 			if err != nil {
-				return nil, fmt.Errorf("report: absorptivity of %s: %w", c.Name, err)
+				return nil, pkgerr.Errorf("report", "absorptivity of %s: %w", c.Name, err)
 			}
 			line.Color = col
 			line.Width = vg.Points(1.2)
@@ -107,7 +108,7 @@ func fade(c color.Color) color.Color {
 // residuals of the readings from the line.
 func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, err error) {
 	if k < 0 || k >= len(set.Compounds) {
-		return nil, nil, fmt.Errorf("report: compound %d of %d", k, len(set.Compounds))
+		return nil, nil, pkgerr.Errorf("report", "compound %d of %d", k, len(set.Compounds))
 	}
 	c := set.Compounds[k]
 	l := c.Linearity
@@ -127,7 +128,7 @@ func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, er
 		}
 	}
 	if len(used) == 0 {
-		return nil, nil, fmt.Errorf("report: %s has no calibration readings to plot", c.Name)
+		return nil, nil, pkgerr.Errorf("report", "%s has no calibration readings to plot", c.Name)
 	}
 	col := Colour(k)
 
@@ -151,7 +152,7 @@ func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, er
 	line.Legend.Add("fitted line", fit)
 	sc, err := plotter.NewScatter(used)
 	if err != nil {
-		return nil, nil, fmt.Errorf("report: %s: %w", c.Name, err)
+		return nil, nil, pkgerr.Errorf("report", "%s: %w", c.Name, err)
 	}
 	sc.Color = col
 	line.Add(sc)
@@ -159,7 +160,7 @@ func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, er
 	if len(dropped) > 0 {
 		ds, err := plotter.NewScatter(dropped)
 		if err != nil {
-			return nil, nil, fmt.Errorf("report: %s: %w", c.Name, err)
+			return nil, nil, pkgerr.Errorf("report", "%s: %w", c.Name, err)
 		}
 		ds.Color = color.Gray{Y: 0x80}
 		ds.Shape = draw.CrossGlyph{}
@@ -181,7 +182,7 @@ func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, er
 	zero.Color = color.Gray{Y: 0x60}
 	rs, err := plotter.NewScatter(res)
 	if err != nil {
-		return nil, nil, fmt.Errorf("report: %s: %w", c.Name, err)
+		return nil, nil, pkgerr.Errorf("report", "%s: %w", c.Name, err)
 	}
 	rs.Color = col
 	resid.Add(zero, rs)
@@ -206,7 +207,7 @@ func SaveCalibrationLinePlot(set *reference.Set, k int, path string) error {
 func WriteCalibrationPlots(set *reference.Set, dir, format string) ([]string, error) {
 	format = strings.ToLower(format)
 	if format != "png" && format != "svg" {
-		return nil, fmt.Errorf("report: plot format %q: want png or svg", format)
+		return nil, pkgerr.Errorf("report", "plot format %q: want png or svg", format)
 	}
 	var files []string
 	p, err := AbsorptivityPlot(set)

@@ -3,7 +3,6 @@
 package report
 
 import (
-	"fmt"
 	"image/color"
 	"io"
 	"path/filepath"
@@ -14,6 +13,7 @@ import (
 	"gonum.org/v1/plot/vg/draw"
 
 	"huesolve/internal/atomicfile"
+	"huesolve/internal/pkgerr"
 )
 
 // Palette is huesolve's own set of line colours for compounds, chosen to
@@ -39,11 +39,11 @@ func SavePlot(p *plot.Plot, path string, w, h vg.Length) error {
 	switch ext {
 	case "png", "svg", "pdf":
 	default:
-		return fmt.Errorf("report: plot %s: unknown image format %q (want png or svg)", path, ext)
+		return pkgerr.Errorf("report", "plot %s: unknown image format %q (want png or svg)", path, ext)
 	}
 	wt, err := p.WriterTo(w, h, ext)
 	if err != nil {
-		return fmt.Errorf("report: plot %s: %w", path, err)
+		return pkgerr.Errorf("report", "plot %s: %w", path, err)
 	}
 	return atomicfile.Write(path, func(out io.Writer) error {
 		_, err := wt.WriteTo(out)
@@ -57,17 +57,17 @@ func SavePlot(p *plot.Plot, path string, w, h vg.Length) error {
 // figure to path atomically (format from the extension: png, svg or pdf).
 func SaveStacked(path string, w, h vg.Length, plots []*plot.Plot, weights []float64) error {
 	if len(plots) == 0 || len(plots) != len(weights) {
-		return fmt.Errorf("report: plot %s: %d panels with %d weights", path, len(plots), len(weights))
+		return pkgerr.Errorf("report", "plot %s: %d panels with %d weights", path, len(plots), len(weights))
 	}
 	ext := strings.ToLower(strings.TrimPrefix(filepath.Ext(path), "."))
 	switch ext {
 	case "png", "svg", "pdf":
 	default:
-		return fmt.Errorf("report: plot %s: unknown image format %q (want png or svg)", path, ext)
+		return pkgerr.Errorf("report", "plot %s: unknown image format %q (want png or svg)", path, ext)
 	}
 	cw, err := draw.NewFormattedCanvas(w, h, ext)
 	if err != nil {
-		return fmt.Errorf("report: plot %s: %w", path, err)
+		return pkgerr.Errorf("report", "plot %s: %w", path, err)
 	}
 	dc := draw.New(cw)
 	pad := 2 * vg.Millimeter

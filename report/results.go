@@ -1,12 +1,12 @@
 package report
 
 import (
-	"fmt"
 	"io"
 	"math"
 	"strconv"
 	"strings"
 
+	"huesolve/internal/pkgerr"
 	"huesolve/unmix"
 )
 
@@ -51,7 +51,7 @@ func NewResultWriter(format string, w io.Writer, l Layout, width int) (ResultWri
 	case FormatJSON:
 		return NewJSONWriter(w, l), nil
 	}
-	return nil, fmt.Errorf("report: unknown format %q (want table, csv or json)", format)
+	return nil, pkgerr.Errorf("report", "unknown format %q (want table, csv or json)", format)
 }
 
 // NA is written in place of a number that is not defined (a NaN or an

@@ -13,6 +13,7 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
+	"huesolve/internal/pkgerr"
 	"huesolve/unmix"
 )
 
@@ -49,7 +50,7 @@ const (
 )
 
 // ErrNoCurves: the result was solved without unmix.Options.KeepCurves.
-var ErrNoCurves = errors.New("report: result holds no curves (solve with curves kept)")
+var ErrNoCurves = pkgerr.New("report", "result holds no curves (solve with curves kept)")
 
 // SamplePlots draws one sample: the measured spectrum (dots), the fitted
 // spectrum, each compound's contribution and the baseline in the top
@@ -62,68 +63,127 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 	}
 	for _, c := range [][]float64{r.Measured, r.Fitted, r.Residual, r.BaselineCurve, r.Noise} {
 		if len(c) != n {
-			return nil, nil, fmt.Errorf("report: %s: curves of unequal length", r.Sample)
+			return nil, nil, pkgerr.Errorf("report", "%s: curves of unequal length", r.Sample)
 		}
-	}
-	xy := func(y []float64) plotter.XYs {
-		out := make(plotter.XYs, n)
-		for i := range n {
-			out[i] = plotter.XY{X: r.Grid[i], Y: y[i]}
-		}
-		return out
-	}
-	fail := func(err error) (*plot.Plot, *plot.Plot, error) {
-		return nil, nil, fmt.Errorf("report: plot of %s: %w", r.Sample, err)
 	}
 	// Lines break where the fit left points out, rather than run
 	// straight across; the stretches are shaded in both panels.
-	segs := segments(r.Grid, r.Gaps)
-	bands := gapBands(r.Grid, r.Gaps)
-	lines := func(p *plot.Plot, y []float64, style func(*plotter.Line)) (*plotter.Line, error) {
-		var first *plotter.Line
-		for _, sg := range segs {
-			pts := make(plotter.XYs, 0, sg[1]-sg[0])
-			for i := sg[0]; i < sg[1]; i++ {
-				pts = append(pts, plotter.XY{X: r.Grid[i], Y: y[i]})
-			}
-			l, err := plotter.NewLine(pts)
-			if err != nil {
-				return nil, err
-			}
-			style(l)
-			p.Add(l)
-			if first == nil {
-				first = l
-			}
-		}
-		return first, nil
+	sp := &samplePlot{r: r, segs: segments(r.Grid, r.Gaps), bands: gapBands(r.Grid, r.Gaps)}
+	if spectra, err = sp.spectraPanel(names); err != nil {
+		return nil, nil, pkgerr.Errorf("report", "plot of %s: %w", r.Sample, err)
 	}
+	if resid, err = sp.residualPanel(); err != nil {
+		return nil, nil, pkgerr.Errorf("report", "plot of %s: %w", r.Sample, err)
+	}
+	xmin, xmax := r.Grid[0], r.Grid[n-1]
+	for _, b := range sp.bands {
+		xmin, xmax = math.Min(xmin, b.lo), math.Max(xmax, b.hi)
+	}
+	spectra.X.Min, spectra.X.Max = xmin, xmax
+	resid.X.Min, resid.X.Max = xmin, xmax
+	return spectra, resid, nil
+}
 
-	spectra = plot.New()
+// samplePlot is one sample's figure being drawn: the result, the runs of
+// fitted points and the shaded stretches between them.
+type samplePlot struct {
+	r     *unmix.Result
+	segs  [][2]int
+	bands []*gapBand
+}
+
+// lines adds y to p as one line per run of fitted points, styled by
+// style, and returns the first for the legend.
+func (sp *samplePlot) lines(p *plot.Plot, y []float64, style func(*plotter.Line)) (*plotter.Line, error) {
+	var first *plotter.Line
+	for _, sg := range sp.segs {
+		pts := make(plotter.XYs, 0, sg[1]-sg[0])
+		for i := sg[0]; i < sg[1]; i++ {
+			pts = append(pts, plotter.XY{X: sp.r.Grid[i], Y: y[i]})
+		}
+		l, err := plotter.NewLine(pts)
+		if err != nil {
+			return nil, err
+		}
+		style(l)
+		p.Add(l)
+		if first == nil {
+			first = l
+		}
+	}
+	return first, nil
+}
+
+// spectraPanel is the top panel: measured dots, each compound's part, the
+// baseline, the fitted spectrum and the shaded stretches.
+func (sp *samplePlot) spectraPanel(names []string) (*plot.Plot, error) {
+	r := sp.r
+	spectra := plot.New()
 	spectra.Title.Text = sampleTitle(r)
 	spectra.Y.Label.Text = "Absorbance"
-	for _, b := range bands {
+	for _, b := range sp.bands {
 		spectra.Add(b)
 	}
 	spectra.Add(plotter.NewGrid())
-	meas, err := plotter.NewScatter(xy(r.Measured))
+	pts := make(plotter.XYs, len(r.Grid))
+	for i := range pts {
+		pts[i] = plotter.XY{X: r.Grid[i], Y: r.Measured[i]}
+	}
+	meas, err := plotter.NewScatter(pts)
 	if err != nil {
-		return fail(err)
+		return nil, err
 	}
 	meas.GlyphStyle = draw.GlyphStyle{Color: measuredColour, Radius: vg.Points(1.5), Shape: draw.CircleGlyph{}}
 	spectra.Add(meas)
 	spectra.Legend.Add("measured", meas)
-	for k, c := range r.Contributions {
-		if len(c) != n {
-			return fail(errors.New("contribution of unequal length"))
+	if err := sp.addContributions(spectra, names); err != nil {
+		return nil, err
+	}
+	if anyNonZero(r.BaselineCurve) {
+		b, err := sp.lines(spectra, r.BaselineCurve, func(l *plotter.Line) {
+			l.Color = baselineColour
+			l.Width = vg.Points(1)
+			l.Dashes = []vg.Length{vg.Points(1.5), vg.Points(2)}
+		})
+		if err != nil {
+			return nil, err
 		}
-		l, err := lines(spectra, c, func(l *plotter.Line) {
+		spectra.Legend.Add("baseline", b)
+	}
+	fit, err := sp.lines(spectra, r.Fitted, func(l *plotter.Line) {
+		l.Color = fittedColour
+		l.Width = vg.Points(1.3)
+	})
+	if err != nil {
+		return nil, err
+	}
+	spectra.Legend.Add("fitted", fit)
+	for _, b := range sp.bands {
+		if b.first {
+			spectra.Legend.Add(b.label, b)
+		}
+	}
+	spectra.Legend.Top = true
+	spectra.Legend.TextStyle.Font.Size = vg.Points(8)
+	spectra.X.Tick.Label.Font.Size = 0 // the residual panel carries the wavelength axis
+	return spectra, nil
+}
+
+// addContributions adds each compound's part of the fit, labelled with
+// its name and concentration.
+func (sp *samplePlot) addContributions(spectra *plot.Plot, names []string) error {
+	r := sp.r
+	for k, c := range r.Contributions {
+		if len(c) != len(r.Grid) {
+			return errors.New("contribution of unequal length")
+		}
+		l, err := sp.lines(spectra, c, func(l *plotter.Line) {
 			l.Color = Colour(k)
 			l.Width = vg.Points(1.2)
 			l.Dashes = []vg.Length{vg.Points(5), vg.Points(2)}
 		})
 		if err != nil {
-			return fail(err)
+			return err
 		}
 		name := fmt.Sprintf("compound %d", k+1)
 		if k < len(names) {
@@ -134,42 +194,22 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 		}
 		spectra.Legend.Add(name, l)
 	}
-	if anyNonZero(r.BaselineCurve) {
-		b, err := lines(spectra, r.BaselineCurve, func(l *plotter.Line) {
-			l.Color = baselineColour
-			l.Width = vg.Points(1)
-			l.Dashes = []vg.Length{vg.Points(1.5), vg.Points(2)}
-		})
-		if err != nil {
-			return fail(err)
-		}
-		spectra.Legend.Add("baseline", b)
-	}
-	fit, err := lines(spectra, r.Fitted, func(l *plotter.Line) {
-		l.Color = fittedColour
-		l.Width = vg.Points(1.3)
-	})
-	if err != nil {
-		return fail(err)
-	}
-	spectra.Legend.Add("fitted", fit)
-	for _, b := range bands {
-		if b.first {
-			spectra.Legend.Add(b.label, b)
-		}
-	}
-	spectra.Legend.Top = true
-	spectra.Legend.TextStyle.Font.Size = vg.Points(8)
-	spectra.X.Tick.Label.Font.Size = 0 // the residual panel carries the wavelength axis
+	return nil
+}
 
-	resid = plot.New()
+// residualPanel is the bottom panel: the residual against the band of
+// expected noise, on an axis symmetric about zero.
+func (sp *samplePlot) residualPanel() (*plot.Plot, error) {
+	r := sp.r
+	n := len(r.Grid)
+	resid := plot.New()
 	resid.X.Label.Text = "Wavelength (nm)"
 	resid.Y.Label.Text = "Residual"
-	for _, b := range bands {
+	for _, b := range sp.bands {
 		resid.Add(b)
 	}
 	var noiseBand *plotter.Polygon
-	for _, sg := range segs {
+	for _, sg := range sp.segs {
 		band := make(plotter.XYs, 0, 2*(sg[1]-sg[0]))
 		for i := sg[0]; i < sg[1]; i++ {
 			band = append(band, plotter.XY{X: r.Grid[i], Y: noiseBandK * r.Noise[i]})
@@ -179,7 +219,7 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 		}
 		poly, err := plotter.NewPolygon(band)
 		if err != nil {
-			return fail(err)
+			return nil, err
 		}
 		poly.Color = noiseColour
 		poly.LineStyle.Width = 0
@@ -191,16 +231,16 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 	resid.Legend.Add(fmt.Sprintf("±%g σ expected noise", noiseBandK), noiseBand)
 	zero, err := plotter.NewLine(plotter.XYs{{X: r.Grid[0], Y: 0}, {X: r.Grid[n-1], Y: 0}})
 	if err != nil {
-		return fail(err)
+		return nil, err
 	}
 	zero.Color = baselineColour
 	zero.Width = vg.Points(0.5)
 	resid.Add(zero)
-	if _, err := lines(resid, r.Residual, func(l *plotter.Line) {
+	if _, err := sp.lines(resid, r.Residual, func(l *plotter.Line) {
 		l.Color = residColour
 		l.Width = vg.Points(0.8)
 	}); err != nil {
-		return fail(err)
+		return nil, err
 	}
 	resid.Legend.Top = true
 	resid.Legend.TextStyle.Font.Size = vg.Points(8)
@@ -212,13 +252,7 @@ func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, er
 	if lim > 0 {
 		resid.Y.Min, resid.Y.Max = -1.15*lim, 1.15*lim
 	}
-	xmin, xmax := r.Grid[0], r.Grid[n-1]
-	for _, b := range bands {
-		xmin, xmax = math.Min(xmin, b.lo), math.Max(xmax, b.hi)
-	}
-	spectra.X.Min, spectra.X.Max = xmin, xmax
-	resid.X.Min, resid.X.Max = xmin, xmax
-	return spectra, resid, nil
+	return resid, nil
 }
 
 // segments splits the fitted points grid into runs [from, to) with no

@@ -11,6 +11,7 @@ import (
 	"github.com/olekukonko/tablewriter"
 	"github.com/olekukonko/tablewriter/tw"
 
+	"huesolve/internal/pkgerr"
 	"huesolve/unmix"
 )
 
@@ -180,11 +181,11 @@ func (t *TableWriter) Close() error {
 	table.Header(pick(header))
 	for _, row := range t.rows {
 		if err := table.Append(pick(row)); err != nil {
-			return fmt.Errorf("report: table: %w", err)
+			return pkgerr.Errorf("report", "table: %w", err)
 		}
 	}
 	if err := table.Render(); err != nil {
-		return fmt.Errorf("report: table: %w", err)
+		return pkgerr.Errorf("report", "table: %w", err)
 	}
 	var b strings.Builder
 	if len(t.seen) > 0 {

@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/plot/vg"
 	"gonum.org/v1/plot/vg/draw"
 
+	"huesolve/internal/pkgerr"
 	"huesolve/validate"
 )
 
@@ -32,7 +33,7 @@ const (
 // as rings.
 func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (*plot.Plot, error) {
 	if k < 0 || k >= len(v.Compounds) {
-		return nil, fmt.Errorf("report: verify plot: compound %d of %d", k, len(v.Compounds))
+		return nil, pkgerr.Errorf("report", "verify plot: compound %d of %d", k, len(v.Compounds))
 	}
 	cmp := v.Compounds[k]
 	var pts plotter.XYs
@@ -83,7 +84,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 	hi *= 1.1
 	ident, err := plotter.NewLine(plotter.XYs{{X: 0, Y: 0}, {X: hi, Y: hi}})
 	if err != nil {
-		return nil, fmt.Errorf("report: verify plot of %s: %w", cmp.Compound, err)
+		return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 	}
 	ident.Color = Colour(4)
 	p.Add(ident)
@@ -91,7 +92,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 	for i, lim := range []float64{v.Limits.RecoveryLo, v.Limits.RecoveryHi} {
 		l, err := plotter.NewLine(plotter.XYs{{X: 0, Y: 0}, {X: hi, Y: hi * lim / 100}})
 		if err != nil {
-			return nil, fmt.Errorf("report: verify plot of %s: %w", cmp.Compound, err)
+			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
 		l.Color = Colour(4)
 		l.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
@@ -103,7 +104,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 	if len(cvPts) > 0 {
 		sc, err := plotter.NewScatter(cvPts)
 		if err != nil {
-			return nil, fmt.Errorf("report: verify plot of %s: %w", cmp.Compound, err)
+			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
 		sc.Shape = draw.RingGlyph{}
 		sc.Color = Colour(1)
@@ -114,7 +115,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 	if len(pts) > 0 {
 		sc, err := plotter.NewScatter(pts)
 		if err != nil {
-			return nil, fmt.Errorf("report: verify plot of %s: %w", cmp.Compound, err)
+			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
 		sc.Shape = draw.CircleGlyph{}
 		sc.Color = Colour(0)
@@ -124,7 +125,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 			plotter.YErrorer
 		}{pts, errs})
 		if err != nil {
-			return nil, fmt.Errorf("report: verify plot of %s: %w", cmp.Compound, err)
+			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
 		bars.Color = Colour(0)
 		p.Add(bars, sc)
@@ -142,7 +143,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 // nil, the cross-validated calibration standards), with the limits.
 func RecoveryPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (*plot.Plot, error) {
 	if k < 0 || k >= len(v.Compounds) {
-		return nil, fmt.Errorf("report: recovery plot: compound %d of %d", k, len(v.Compounds))
+		return nil, pkgerr.Errorf("report", "recovery plot: compound %d of %d", k, len(v.Compounds))
 	}
 	cmp := v.Compounds[k]
 	var pts, cvPts plotter.XYs
@@ -183,7 +184,7 @@ func RecoveryPlot(v *validate.Verification, cv *validate.CrossValidation, k int)
 	for _, y := range []float64{v.Limits.RecoveryLo, 100, v.Limits.RecoveryHi} {
 		l, err := plotter.NewLine(plotter.XYs{{X: 0, Y: y}, {X: xmax, Y: y}})
 		if err != nil {
-			return nil, fmt.Errorf("report: recovery plot of %s: %w", cmp.Compound, err)
+			return nil, pkgerr.Errorf("report", "recovery plot of %s: %w", cmp.Compound, err)
 		}
 		l.Color = Colour(4)
 		if y != 100 {
@@ -197,7 +198,7 @@ func RecoveryPlot(v *validate.Verification, cv *validate.CrossValidation, k int)
 		}
 		sc, err := plotter.NewScatter(set)
 		if err != nil {
-			return nil, fmt.Errorf("report: recovery plot of %s: %w", cmp.Compound, err)
+			return nil, pkgerr.Errorf("report", "recovery plot of %s: %w", cmp.Compound, err)
 		}
 		sc.Radius = vg.Points(3)
 		if i == 0 {
@@ -233,7 +234,7 @@ func SaveVerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k in
 func WriteVerifyPlots(v *validate.Verification, cv *validate.CrossValidation, dir, format string) ([]string, error) {
 	format = strings.ToLower(format)
 	if format != "png" && format != "svg" {
-		return nil, fmt.Errorf("report: plot format %q: want png or svg", format)
+		return nil, pkgerr.Errorf("report", "plot format %q: want png or svg", format)
 	}
 	var files []string
 	used := map[string]bool{}
@@ -264,7 +265,7 @@ func uniqueName(base string, used map[string]bool) string {
 // one's), both on log scales, with the recommended window marked.
 func WindowPlots(adv *validate.WindowAdvice) (errPlot, condPlot *plot.Plot, err error) {
 	if adv.Best < 0 || adv.Best >= len(adv.Candidates) {
-		return nil, nil, fmt.Errorf("report: window plot: no recommended window")
+		return nil, nil, pkgerr.Errorf("report", "window plot: no recommended window")
 	}
 	best := adv.Candidates[adv.Best]
 	widthOf := func(c validate.Candidate) float64 { return math.Round((c.Hi-c.Lo)*1e6) / 1e6 }
@@ -310,7 +311,7 @@ func WindowPlots(adv *validate.WindowAdvice) (errPlot, condPlot *plot.Plot, err 
 			for _, run := range runs {
 				l, s, err := plotter.NewLinePoints(run)
 				if err != nil {
-					return nil, fmt.Errorf("report: window plot: %w", err)
+					return nil, pkgerr.Errorf("report", "window plot: %w", err)
 				}
 				l.Color, s.Color = Colour(i), Colour(i)
 				s.Radius = vg.Points(1.5)
@@ -323,7 +324,7 @@ func WindowPlots(adv *validate.WindowAdvice) (errPlot, condPlot *plot.Plot, err 
 		}
 		mark, err := plotter.NewScatter(plotter.XYs{{X: best.Lo, Y: f(best)}})
 		if err != nil {
-			return nil, fmt.Errorf("report: window plot: %w", err)
+			return nil, pkgerr.Errorf("report", "window plot: %w", err)
 		}
 		mark.Shape = draw.RingGlyph{}
 		mark.Radius = vg.Points(6)
@@ -375,7 +376,7 @@ func pickWidths(ws []float64, must float64, n int) []float64 {
 func WriteWindowPlots(adv *validate.WindowAdvice, dir, format string) ([]string, error) {
 	format = strings.ToLower(format)
 	if format != "png" && format != "svg" {
-		return nil, fmt.Errorf("report: plot format %q: want png or svg", format)
+		return nil, pkgerr.Errorf("report", "plot format %q: want png or svg", format)
 	}
 	ep, cp, err := WindowPlots(adv)
 	if err != nil {

@@ -6,6 +6,8 @@ import (
 	"strings"
 
 	"gonum.org/v1/gonum/interp"
+
+	"huesolve/internal/pkgerr"
 )
 
 // GridSlack is the relative slack, as a fraction of the measured span, by
@@ -64,19 +66,19 @@ func ParseInterpolation(s string) (Interpolation, error) {
 	case "monotone", "pchip":
 		return MonotoneCubic, nil
 	}
-	return Linear, fmt.Errorf("spectrum: unknown interpolation %q (want linear, spline or monotone)", s)
+	return Linear, pkgerr.Errorf("spectrum", "unknown interpolation %q (want linear, spline or monotone)", s)
 }
 
 // Crop returns the part of s with lo <= wavelength <= hi as a new spectrum.
 // It is an error if fewer than two points remain.
 func (s *Spectrum) Crop(lo, hi float64) (*Spectrum, error) {
 	if len(s.Wavelengths) == 0 {
-		return nil, fmt.Errorf("spectrum: %s: crop of an empty spectrum: %w", s.Source, ErrEmpty)
+		return nil, pkgerr.Errorf("spectrum", "%s: crop of an empty spectrum: %w", s.Source, ErrEmpty)
 	}
 	i := sort.SearchFloat64s(s.Wavelengths, lo)
 	j := sort.Search(len(s.Wavelengths), func(k int) bool { return s.Wavelengths[k] > hi })
 	if j-i < 2 {
-		return nil, fmt.Errorf("spectrum: %s: window %g-%g nm keeps %d points of %g-%g nm: %w",
+		return nil, pkgerr.Errorf("spectrum", "%s: window %g-%g nm keeps %d points of %g-%g nm: %w",
 			s.Source, lo, hi, max(j-i, 0), s.Wavelengths[0], s.Wavelengths[len(s.Wavelengths)-1], ErrOutOfRange)
 	}
 	c := *s
@@ -95,13 +97,13 @@ func (s *Spectrum) Resample(grid []float64) (*Spectrum, error) {
 // ResampleWith is Resample with a choice of interpolation.
 func (s *Spectrum) ResampleWith(grid []float64, m Interpolation) (*Spectrum, error) {
 	if err := CheckGrid(grid); err != nil {
-		return nil, fmt.Errorf("spectrum: %s: target grid: %w", s.Source, err)
+		return nil, pkgerr.Errorf("spectrum", "%s: target grid: %w", s.Source, err)
 	}
 	c := *s
 	c.Wavelengths = append([]float64(nil), grid...)
 	c.Values = make([]float64, len(grid))
 	if err := ResampleToWith(c.Values, s.Wavelengths, s.Values, grid, m); err != nil {
-		return nil, fmt.Errorf("spectrum: %s: %w", s.Source, err)
+		return nil, pkgerr.Errorf("spectrum", "%s: %w", s.Source, err)
 	}
 	return &c, nil
 }
@@ -131,13 +133,13 @@ func ResampleToWith(dst, wl, y, grid []float64, m Interpolation) error {
 	case MonotoneCubic:
 		p = &interp.FritschButland{}
 	default:
-		return fmt.Errorf("spectrum: unknown interpolation %v", m)
+		return pkgerr.Errorf("spectrum", "unknown interpolation %v", m)
 	}
 	if err := CheckGrid(wl); err != nil {
 		return err
 	}
 	if err := p.Fit(wl, y); err != nil {
-		return fmt.Errorf("spectrum: %v interpolation: %w", m, err)
+		return pkgerr.Errorf("spectrum", "%v interpolation: %w", m, err)
 	}
 	lo, hi := wl[0], wl[len(wl)-1]
 	for i, g := range grid {
@@ -216,11 +218,11 @@ func SameGrid(a, b []float64) bool {
 // CommonRange returns the wavelength range covered by every spectrum.
 func CommonRange(ss []*Spectrum) (lo, hi float64, err error) {
 	if len(ss) == 0 {
-		return 0, 0, fmt.Errorf("spectrum: common range of no spectra: %w", ErrEmpty)
+		return 0, 0, pkgerr.Errorf("spectrum", "common range of no spectra: %w", ErrEmpty)
 	}
 	for _, s := range ss {
 		if len(s.Wavelengths) == 0 {
-			return 0, 0, fmt.Errorf("spectrum: %s: %w", s.Source, ErrEmpty)
+			return 0, 0, pkgerr.Errorf("spectrum", "%s: %w", s.Source, ErrEmpty)
 		}
 	}
 	lo, hi = ss[0].Wavelengths[0], ss[0].Wavelengths[len(ss[0].Wavelengths)-1]
@@ -229,7 +231,7 @@ func CommonRange(ss []*Spectrum) (lo, hi float64, err error) {
 		hi = min(hi, s.Wavelengths[len(s.Wavelengths)-1])
 	}
 	if hi <= lo {
-		return 0, 0, fmt.Errorf("spectrum: the scans share no wavelength range: %w", ErrOutOfRange)
+		return 0, 0, pkgerr.Errorf("spectrum", "the scans share no wavelength range: %w", ErrOutOfRange)
 	}
 	return lo, hi, nil
 }

@@ -9,6 +9,7 @@ import (
 	"os"
 
 	"huesolve/internal/bytesize"
+	"huesolve/internal/pkgerr"
 )
 
 // ParseError is a problem at a place in a file. Line and Column are
@@ -130,18 +131,18 @@ const detectPeek = 64 << 10
 func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 	f, err := os.Open(path)
 	if err != nil {
-		return nil, fmt.Errorf("spectrum: cannot read %s: %w", path, unwrapPathError(err))
+		return nil, pkgerr.Errorf("spectrum", "cannot read %s: %w", path, unwrapPathError(err))
 	}
 	defer f.Close()
 	st, err := f.Stat()
 	if err != nil {
-		return nil, fmt.Errorf("spectrum: cannot read %s: %w", path, unwrapPathError(err))
+		return nil, pkgerr.Errorf("spectrum", "cannot read %s: %w", path, unwrapPathError(err))
 	}
 	if st.IsDir() {
-		return nil, fmt.Errorf("spectrum: %s is a directory, not a spectrum file", path)
+		return nil, pkgerr.Errorf("spectrum", "%s is a directory, not a spectrum file", path)
 	}
 	if !st.Mode().IsRegular() && st.Mode()&os.ModeNamedPipe == 0 && st.Mode()&os.ModeCharDevice == 0 {
-		return nil, fmt.Errorf("spectrum: %s is not a regular file", path)
+		return nil, pkgerr.Errorf("spectrum", "%s is not a regular file", path)
 	}
 	limit := opt.maxFile()
 	// The cap also holds for a pipe, whose size is not known, and for a
@@ -161,7 +162,7 @@ func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 	br := bufio.NewReaderSize(in, size)
 	head, err := br.Peek(size)
 	if err != nil && err != io.EOF && !errors.Is(err, bufio.ErrBufferFull) {
-		return nil, fmt.Errorf("spectrum: cannot read %s: %w", path, unwrapPathError(err))
+		return nil, pkgerr.Errorf("spectrum", "cannot read %s: %w", path, unwrapPathError(err))
 	}
 	if looksJCAMP(head) {
 		return ReadJCAMP(br, path, opt)

@@ -38,6 +38,8 @@ import (
 	"fmt"
 	"math"
 	"strings"
+
+	"huesolve/internal/pkgerr"
 )
 
 // Quantity says what the values of a spectrum are.
@@ -82,7 +84,7 @@ func ParseQuantity(s string) (Quantity, error) {
 	case "", "auto":
 		return Unstated, nil
 	}
-	return Unstated, fmt.Errorf("spectrum: unknown quantity %q (want absorbance, %%T or T)", s)
+	return Unstated, pkgerr.Errorf("spectrum", "unknown quantity %q (want absorbance, %%T or T)", s)
 }
 
 // Source records where a spectrum came from.
@@ -148,17 +150,17 @@ func (s *Spectrum) Clone() *Spectrum {
 // values, strictly increasing finite wavelengths.
 func (s *Spectrum) Check() error {
 	if len(s.Values) == 0 {
-		return fmt.Errorf("spectrum: %s: %w", s.Source, ErrEmpty)
+		return pkgerr.Errorf("spectrum", "%s: %w", s.Source, ErrEmpty)
 	}
 	if len(s.Values) != len(s.Wavelengths) {
-		return fmt.Errorf("spectrum: %s: %d values for %d wavelengths", s.Source, len(s.Values), len(s.Wavelengths))
+		return pkgerr.Errorf("spectrum", "%s: %d values for %d wavelengths", s.Source, len(s.Values), len(s.Wavelengths))
 	}
 	if err := CheckGrid(s.Wavelengths); err != nil {
-		return fmt.Errorf("spectrum: %s: %w", s.Source, err)
+		return pkgerr.Errorf("spectrum", "%s: %w", s.Source, err)
 	}
 	for i, v := range s.Values {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("spectrum: %s: value at %g nm is %v", s.Source, s.Wavelengths[i], v)
+			return pkgerr.Errorf("spectrum", "%s: value at %g nm is %v", s.Source, s.Wavelengths[i], v)
 		}
 	}
 	return nil
@@ -217,6 +219,12 @@ func (e *ValueError) Error() string {
 }
 
 func (e *ValueError) Unwrap() error { return e.Err }
+
+// Unprefixed is the error's text without the package prefix (see
+// pkgerr.Plain).
+func (e *ValueError) Unprefixed() string {
+	return fmt.Sprintf("%s at %g nm: %v", e.Source, e.Wavelength, e.Err)
+}
 
 // ToAbsorbance converts s in place to absorbance. On a transmittance of
 // zero or below it returns a *ValueError wrapping ErrTooDark naming the

@@ -7,6 +7,8 @@ import (
 	"math"
 	"strconv"
 	"strings"
+
+	"huesolve/internal/pkgerr"
 )
 
 // WriteOptions control WriteDelimited.
@@ -33,14 +35,14 @@ const WavelengthHeader = "wavelength (nm)"
 // Check; otherwise nothing is written and an error is returned.
 func WriteDelimited(w io.Writer, ss []*Spectrum, opt WriteOptions) error {
 	if len(ss) == 0 {
-		return fmt.Errorf("spectrum: nothing to write: %w", ErrEmpty)
+		return pkgerr.Errorf("spectrum", "nothing to write: %w", ErrEmpty)
 	}
 	delim := opt.Delimiter
 	if delim == 0 {
 		delim = ','
 	}
 	if delim != ',' && delim != ';' && delim != '\t' {
-		return fmt.Errorf("spectrum: delimiter %q: use ',', ';' or tab", delim)
+		return pkgerr.Errorf("spectrum", "delimiter %q: use ',', ';' or tab", delim)
 	}
 	wl := ss[0].Wavelengths
 	for _, s := range ss {
@@ -48,7 +50,7 @@ func WriteDelimited(w io.Writer, ss []*Spectrum, opt WriteOptions) error {
 			return err
 		}
 		if !SameGrid(wl, s.Wavelengths) {
-			return fmt.Errorf("spectrum: %s (%s) is not on the wavelength grid of %s; resample first: %w", s.Name, s.Source, ss[0].Name, ErrGrid)
+			return pkgerr.Errorf("spectrum", "%s (%s) is not on the wavelength grid of %s; resample first: %w", s.Name, s.Source, ss[0].Name, ErrGrid)
 		}
 	}
 	bw := bufio.NewWriterSize(w, 64<<10)
@@ -139,7 +141,7 @@ func WriteJCAMP(w io.Writer, s *Spectrum, opt JCAMPOptions) error {
 	}
 	n := s.Len()
 	if n < 2 {
-		return fmt.Errorf("spectrum: %s: JCAMP-DX needs at least two points: %w", s.Source, ErrEmpty)
+		return pkgerr.Errorf("spectrum", "%s: JCAMP-DX needs at least two points: %w", s.Source, ErrEmpty)
 	}
 	y := s.Values
 	yunits := "ABSORBANCE"
@@ -195,7 +197,7 @@ func WriteJCAMP(w io.Writer, s *Spectrum, opt JCAMPOptions) error {
 			ye = e
 			yf = math.Pow(10, float64(e))
 			if yf == 0 || math.IsInf(yf, 0) || math.IsInf(m/yf, 0) {
-				return fmt.Errorf("spectrum: %s: values span beyond what JCAMP-DX integers can hold: %w", s.Source, ErrNotSupported)
+				return pkgerr.Errorf("spectrum", "%s: values span beyond what JCAMP-DX integers can hold: %w", s.Source, ErrNotSupported)
 			}
 			// Parse back what is written, so reader and writer agree.
 			yf, _ = strconv.ParseFloat(g(yf), 64)

@@ -11,16 +11,14 @@ import (
 	"huesolve/baseline"
 	"huesolve/reference"
 	"huesolve/report"
+	"huesolve/spectrum"
 	"huesolve/unmix"
 	"huesolve/validate"
 )
 
-func init() { commands = append(commands, newCalibrateCmd) }
-
 // calibrateOptions are the flags of calibrate.
 type calibrateOptions struct {
 	out           string
-	blank         string
 	window        string
 	pathCM        float64
 	ceiling       float64
@@ -103,44 +101,8 @@ func newCalibrateCmd() *cobra.Command {
 func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) error {
 	errw := cmd.ErrOrStderr()
 	warn := warnTo(errw)
-
-	// Flags.
-	if o.out == "" {
-		return usagef("calibrate needs --output FILE for the reference set")
-	}
-	q, err := o.scans.parseQuantity()
+	opt, q, err := o.check(warn)
 	if err != nil {
-		return err
-	}
-	now, err := sourceDateEpoch()
-	if err != nil {
-		return err
-	}
-	opt := reference.Options{
-		PathCM: o.pathCM, Ceiling: o.ceiling, Floor: o.floor,
-		ThroughOrigin: o.throughOrigin, Warn: warn, Version: version, Now: now,
-	}
-	switch {
-	case o.pathCM == 0 || checkPathFlag(o.pathCM) != nil:
-		return usagef("--path-cm %g: want a path length from %g to %g cm", o.pathCM, float64(unmix.MinPathCM), float64(unmix.MaxPathCM))
-	case !(o.ceiling > 0):
-		return usagef("--ceiling %g: want a positive absorbance", o.ceiling)
-	case !(o.floor >= 0) || o.floor >= o.ceiling:
-		return usagef("--floor %g: want 0 <= floor < ceiling (%g)", o.floor, o.ceiling)
-	}
-	if o.window != "" {
-		if opt.WindowLo, opt.WindowHi, err = parseWindowFlag(o.window); err != nil {
-			return err
-		}
-	}
-	for _, s := range o.pretreat {
-		st, err := baseline.ParseStep(s)
-		if err != nil {
-			return usagef("--pretreat: %v", err) // the error quotes the step
-		}
-		opt.Pretreat = append(opt.Pretreat, st)
-	}
-	if err := o.output.checkPlots(); err != nil {
 		return err
 	}
 
@@ -168,7 +130,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if err := set.Save(o.out); err != nil {
 		return err
 	}
-	if err := writeSetSummary(cmd.OutOrStdout(), set); err != nil {
+	if err := report.WriteSetSummary(cmd.OutOrStdout(), set); err != nil {
 		return err
 	}
 	fmt.Fprintf(errw, "huesolve: reference set written to %s\n", o.out)
@@ -190,6 +152,48 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	return nil
 }
 
+// check reads the flags of calibrate into the build options (all but the
+// blank) and the quantity of the scans.
+func (o *calibrateOptions) check(warn func(string)) (reference.Options, spectrum.Quantity, error) {
+	var opt reference.Options
+	if o.out == "" {
+		return opt, 0, usagef("calibrate needs --output FILE for the reference set")
+	}
+	q, err := o.scans.parseQuantity()
+	if err != nil {
+		return opt, q, err
+	}
+	now, err := sourceDateEpoch()
+	if err != nil {
+		return opt, q, err
+	}
+	opt = reference.Options{
+		PathCM: o.pathCM, Ceiling: o.ceiling, Floor: o.floor,
+		ThroughOrigin: o.throughOrigin, Warn: warn, Version: version, Now: now,
+	}
+	switch {
+	case o.pathCM == 0 || checkPathFlag(o.pathCM) != nil:
+		return opt, q, usagef("--path-cm %g: want a path length from %g to %g cm", o.pathCM, float64(unmix.MinPathCM), float64(unmix.MaxPathCM))
+	case !(o.ceiling > 0):
+		return opt, q, usagef("--ceiling %g: want a positive absorbance", o.ceiling)
+	case !(o.floor >= 0) || o.floor >= o.ceiling:
+		return opt, q, usagef("--floor %g: want 0 <= floor < ceiling (%g)", o.floor, o.ceiling)
+	}
+	if o.window != "" {
+		if opt.WindowLo, opt.WindowHi, err = parseWindowFlag(o.window); err != nil {
+			return opt, q, err
+		}
+	}
+	for _, s := range o.pretreat {
+		st, err := baseline.ParseStep(s)
+		if err != nil {
+			return opt, q, usagef("--pretreat: %w", err) // the error quotes the step
+		}
+		opt.Pretreat = append(opt.Pretreat, st)
+	}
+	return opt, q, o.output.checkPlots()
+}
+
 // calWarnCollinear warns when the set's absorptivity spectra are so alike
 // that solve would flag every sample illcond: the condition number of the
 // whole grid with an offset baseline, unweighted, as inspect shows it.
@@ -203,7 +207,7 @@ func calWarnCollinear(set *reference.Set, warn func(string)) {
 		return
 	}
 	warn(fmt.Sprintf("the absorptivity spectra of the compounds are nearly collinear over %g-%g nm: condition number %s with an offset baseline, above %g, so solve will flag every sample illcond and their standard errors are inflated (huesolve inspect shows which compounds overlap; huesolve window looks for a better window)",
-		m.WindowLo, m.WindowHi, valCondText(m.Cond, m.Singular), unmix.CondLimit))
+		m.WindowLo, m.WindowHi, report.CondText(m.Cond, m.Singular), unmix.CondLimit))
 }
 
 // sourceDateEpoch reads the environment variable SOURCE_DATE_EPOCH (the

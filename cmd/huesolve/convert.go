@@ -13,8 +13,6 @@ import (
 	"huesolve/spectrum"
 )
 
-func init() { commands = append(commands, newConvertCmd) }
-
 // convertOptions are the flags of huesolve convert.
 type convertOptions struct {
 	out   string
@@ -94,7 +92,32 @@ func runConvert(stdout, errw io.Writer, in string, o convertOptions) error {
 	if err := checkNotInput("-o", o.out, in); err != nil {
 		return err
 	}
-	format := strings.ToLower(o.to)
+	format, toAbs, err := o.format(in)
+	if err != nil {
+		return err
+	}
+	ss, err := convertRead(in, q, o.pick, toAbs, errw)
+	if err != nil {
+		return err
+	}
+	if (format == convertJCAMP || format == convertJCAMPCompressed) && len(ss) > 1 {
+		return usagef("%s holds %d spectra but a JCAMP-DX file holds one: choose one with --spectrum (name or number)", in, len(ss))
+	}
+	fill := convertWriter(format, in, ss)
+	if o.out == "-" {
+		return fill(stdout)
+	}
+	if err := atomicfile.Write(o.out, fill); err != nil {
+		return err
+	}
+	fmt.Fprintf(errw, "huesolve: wrote %d %s to %s (%s)\n", len(ss), plural(len(ss), "spectrum", "spectra"), o.out, format)
+	return nil
+}
+
+// format reads --to (else the output's extension, else for standard
+// output the input's kind) and --as.
+func (o convertOptions) format(in string) (format string, toAbs bool, err error) {
+	format = strings.ToLower(o.to)
 	if format == "" && o.out == "-" {
 		// To standard output: the kind of the input, so that a pipe
 		// shows the file as huesolve reads it.
@@ -105,31 +128,35 @@ func runConvert(stdout, errw io.Writer, in string, o convertOptions) error {
 	if format == "" {
 		format = convertFormatFromName(o.out)
 		if format == "" {
-			return usagef("cannot tell the output format from %q: give --to csv, tsv, jcamp or jcamp-compressed", o.out)
+			return "", false, usagef("cannot tell the output format from %q: give --to csv, tsv, jcamp or jcamp-compressed", o.out)
 		}
 	}
 	switch format {
 	case convertCSV, convertTSV, convertJCAMP, convertJCAMPCompressed:
 	default:
-		return usagef("--to %q: want csv, tsv, jcamp or jcamp-compressed", o.to)
+		return "", false, usagef("--to %q: want csv, tsv, jcamp or jcamp-compressed", o.to)
 	}
-	toAbs := false
 	switch strings.ToLower(o.as) {
 	case "":
 	case "absorbance", "a", "abs":
 		toAbs = true
 	default:
-		return usagef("--as %q: only absorbance is offered", o.as)
+		return "", false, usagef("--as %q: only absorbance is offered", o.as)
 	}
+	return format, toAbs, nil
+}
 
+// convertRead reads the input, keeps the --spectrum picked (all when
+// pick is empty) and converts to absorbance with --as absorbance.
+func convertRead(in string, q spectrum.Quantity, pick string, toAbs bool, errw io.Writer) ([]*spectrum.Spectrum, error) {
 	ss, err := spectrum.ReadFile(in, spectrum.ReadOptions{Quantity: q, Warn: warnTo(errw)})
 	if err != nil {
-		return err
+		return nil, err
 	}
-	if o.pick != "" {
-		s, err := convertPick(ss, o.pick, in)
+	if pick != "" {
+		s, err := convertPick(ss, pick, in)
 		if err != nil {
-			return err
+			return nil, err
 		}
 		ss = []*spectrum.Spectrum{s}
 	}
@@ -137,15 +164,17 @@ func runConvert(stdout, errw io.Writer, in string, o convertOptions) error {
 		for k, s := range ss {
 			c := s.Clone()
 			if err := c.ToAbsorbance(); err != nil {
-				return err
+				return nil, err
 			}
 			ss[k] = c
 		}
 	}
-	if (format == convertJCAMP || format == convertJCAMPCompressed) && len(ss) > 1 {
-		return usagef("%s holds %d spectra but a JCAMP-DX file holds one: choose one with --spectrum (name or number)", in, len(ss))
-	}
-	fill := func(w io.Writer) error {
+	return ss, nil
+}
+
+// convertWriter writes ss in format, naming the input in a comment.
+func convertWriter(format, in string, ss []*spectrum.Spectrum) func(io.Writer) error {
+	return func(w io.Writer) error {
 		switch format {
 		case convertCSV, convertTSV:
 			delim := byte(',')
@@ -161,14 +190,6 @@ func runConvert(stdout, errw io.Writer, in string, o convertOptions) error {
 			})
 		}
 	}
-	if o.out == "-" {
-		return fill(stdout)
-	}
-	if err := atomicfile.Write(o.out, fill); err != nil {
-		return err
-	}
-	fmt.Fprintf(errw, "huesolve: wrote %d %s to %s (%s)\n", len(ss), lookPlural(len(ss), "spectrum", "spectra"), o.out, format)
-	return nil
 }
 
 // convertPick finds a spectrum by name or 1-based number.

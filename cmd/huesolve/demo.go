@@ -18,8 +18,6 @@ import (
 	"huesolve/internal/demo"
 )
 
-func init() { commands = append(commands, newDemoCmd) }
-
 const demoLong = `demo writes a complete invented case into DIR and runs the whole job on it,
 printing each command line before its output, so you can see what huesolve
 does before you point it at your own scans.

@@ -35,6 +35,11 @@ const (
 	maxCeilingA = 10
 )
 
+// valDefaultBaseline is the baseline model solve, verify and window use
+// when none is given, and inspect and calibrate judge the set with: an
+// offset.
+const valDefaultBaseline = "offset"
+
 // fitFlags are the options of the sample fit.
 type fitFlags struct {
 	window   string
@@ -74,7 +79,7 @@ func (f *fitFlags) unusedNote(cmd *cobra.Command) string {
 func (f *fitFlags) baselineModel() (baseline.Model, error) {
 	m, err := baseline.ParseModel(f.baseline)
 	if err != nil {
-		return m, usagef("--baseline %q: %v", f.baseline, err)
+		return m, usagef("--baseline %q: %w", f.baseline, err)
 	}
 	return m, nil
 }
@@ -167,7 +172,7 @@ func (s *scanFlags) addUnit(fs *pflag.FlagSet) {
 func (s *scanFlags) parseQuantity() (spectrum.Quantity, error) {
 	q, err := spectrum.ParseQuantity(s.quantity)
 	if err != nil {
-		return q, usagef("--quantity: %v", err)
+		return q, usagef("--quantity: %w", err)
 	}
 	return q, nil
 }

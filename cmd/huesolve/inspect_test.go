@@ -23,7 +23,7 @@ func TestInspect(t *testing.T) {
 		t.Fatal(err)
 	}
 
-	// A section added by another command file is printed after the summary.
+	// A section added to inspectSections is printed after the summary.
 	saved := inspectSections
 	t.Cleanup(func() { inspectSections = saved })
 	inspectSections = append(inspectSections, func(w io.Writer, set *reference.Set, path string) error {
@@ -64,18 +64,17 @@ func TestInspect(t *testing.T) {
 	}
 }
 
-func TestPlusMinus(t *testing.T) {
-	for _, c := range []struct {
-		v, se float64
-		want  string
-	}{
-		{0.04001, 5.6e-5, "0.040010 ± 0.000056"},
-		{12.345, 0.21, "12.35 ± 0.21"},
-		{1234.5, 12, "1234 ± 12"},
-		{0.5, 0, "0.5"},
-	} {
-		if got := plusMinus(c.v, c.se); got != c.want {
-			t.Errorf("plusMinus(%g, %g) = %q, want %q", c.v, c.se, got, c.want)
+// inspect shows the figures of merit after the summary.
+func TestInspectShowsMerits(t *testing.T) {
+	_, refs, _ := valCase(t, 1)
+	out, errOut, code := run(t, "inspect", refs)
+	if code != exitOK {
+		t.Fatalf("exit %d: %s", code, errOut)
+	}
+	low := strings.ToLower(out)
+	for _, want := range []string{"figures of merit (net analyte signal) over 400-700 nm", "selectivity", "lod", "loq", "baseline offset"} {
+		if !strings.Contains(low, want) {
+			t.Errorf("inspect output lacks %q:\n%s", want, out)
 		}
 	}
 }

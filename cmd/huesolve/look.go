@@ -3,19 +3,13 @@ package main
 import (
 	"fmt"
 	"io"
-	"math"
-	"strconv"
-	"strings"
 
-	"github.com/olekukonko/tablewriter"
-	"github.com/olekukonko/tablewriter/tw"
 	"github.com/spf13/cobra"
 
+	"huesolve/report"
 	"huesolve/spectrum"
 	"huesolve/unmix"
 )
-
-func init() { commands = append(commands, newLookCmd) }
 
 // lookOptions are the flags of huesolve look.
 type lookOptions struct {
@@ -23,9 +17,6 @@ type lookOptions struct {
 	all   bool
 	plain bool
 }
-
-// lookRowsShown is how many spectra of one file look lists unless --all.
-const lookRowsShown = 40
 
 func newLookCmd() *cobra.Command {
 	var o lookOptions
@@ -57,7 +48,7 @@ look exits with code 3.`,
 	}
 	f := cmd.Flags()
 	o.scans.addQuantity(f)
-	f.BoolVar(&o.all, "all", false, fmt.Sprintf("list every spectrum of a wide table (default: the first %d)", lookRowsShown))
+	f.BoolVar(&o.all, "all", false, fmt.Sprintf("list every spectrum of a wide table (default: the first %d)", report.LookRowsShown))
 	f.BoolVar(&o.plain, "plain", false, "print plain tab-separated rows (for scripts) instead of boxed tables")
 	return cmd
 }
@@ -79,7 +70,7 @@ func runLook(out, errw io.Writer, args []string, q spectrum.Quantity, o lookOpti
 			failed++
 			continue
 		}
-		if err := printLook(out, file, ss, o, k > 0); err != nil {
+		if err := report.WriteLook(out, file, ss, report.LookOptions{All: o.all, Plain: o.plain, Gap: k > 0}); err != nil {
 			return err
 		}
 	}
@@ -90,90 +81,4 @@ func runLook(out, errw io.Writer, args []string, q spectrum.Quantity, o lookOpti
 		return &exitError{code: exitSkipped, msg: fmt.Sprintf("%d of %d files could not be read", failed, len(inputs))}
 	}
 	return nil
-}
-
-func printLook(out io.Writer, file string, ss []*spectrum.Spectrum, o lookOptions, gap bool) error {
-	header := []string{"Spectrum", "Points", "Range (nm)", "Step (nm)", "Quantity", "Min", "Max"}
-	shown := ss
-	if !o.all && len(ss) > lookRowsShown {
-		shown = ss[:lookRowsShown]
-	}
-	rows := make([][]string, 0, len(shown))
-	for _, s := range shown {
-		lo, hi := lookMinMax(s.Values)
-		wl := s.Wavelengths
-		rows = append(rows, []string{
-			s.Name,
-			strconv.Itoa(s.Len()),
-			fmt.Sprintf("%s-%s", lookNum(wl[0]), lookNum(wl[len(wl)-1])),
-			lookStep(wl),
-			s.Quantity.String(),
-			lookNum(lo),
-			lookNum(hi),
-		})
-	}
-	if o.plain {
-		for _, r := range rows {
-			if _, err := fmt.Fprintf(out, "%s\t%s\n", file, strings.Join(r, "\t")); err != nil {
-				return err
-			}
-		}
-		return nil
-	}
-	if gap {
-		fmt.Fprintln(out)
-	}
-	fmt.Fprintf(out, "%s: %d %s\n", file, len(ss), lookPlural(len(ss), "spectrum", "spectra"))
-	t := tablewriter.NewTable(out, tablewriter.WithHeaderAutoFormat(tw.Off))
-	t.Header(header)
-	for _, r := range rows {
-		if err := t.Append(r); err != nil {
-			return err
-		}
-	}
-	if err := t.Render(); err != nil {
-		return err
-	}
-	if len(shown) < len(ss) {
-		fmt.Fprintf(out, "... and %d more (use --all to list them)\n", len(ss)-len(shown))
-	}
-	return nil
-}
-
-// lookStepTol is the relative spread of wavelength steps still called even.
-const lookStepTol = 1e-6
-
-// stepText describes the wavelength steps: "0.5" when even, else the
-// smallest and largest step.
-func lookStep(wl []float64) string {
-	if len(wl) < 2 {
-		return "-"
-	}
-	lo, hi := math.Inf(1), math.Inf(-1)
-	for i := 1; i < len(wl); i++ {
-		d := wl[i] - wl[i-1]
-		lo, hi = min(lo, d), max(hi, d)
-	}
-	if hi-lo <= lookStepTol*hi {
-		return lookNum((wl[len(wl)-1] - wl[0]) / float64(len(wl)-1))
-	}
-	return fmt.Sprintf("%s-%s uneven", lookNum(lo), lookNum(hi))
-}
-
-func lookMinMax(v []float64) (lo, hi float64) {
-	lo, hi = math.Inf(1), math.Inf(-1)
-	for _, x := range v {
-		lo, hi = min(lo, x), max(hi, x)
-	}
-	return lo, hi
-}
-
-// num formats a number for tables with up to 6 significant digits.
-func lookNum(v float64) string { return strconv.FormatFloat(v, 'g', 6, 64) }
-
-func lookPlural(n int, one, many string) string {
-	if n == 1 {
-		return one
-	}
-	return many
 }

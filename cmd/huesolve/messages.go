@@ -15,6 +15,8 @@ import (
 	"regexp"
 	"strings"
 	"syscall"
+
+	"huesolve/internal/pkgerr"
 )
 
 // warnTo returns the warning callback of a command: each message becomes
@@ -29,17 +31,20 @@ func noteTo(w io.Writer) func(string) {
 	return func(msg string) { fmt.Fprintln(w, "huesolve: note:", msg) }
 }
 
-// packagePrefix matches the package prefixes of this project's libraries
-// (and the "build" step of reference) where a message or one of its
-// wrapped parts begins.
-var packagePrefix = regexp.MustCompile(`(^|: )(?:(?:reference: build|reference|spectrum|unmix|lsq|validate|report|baseline|atomicfile|bytesize): )+`)
+// packagePrefix matches the package prefixes of the libraries whose
+// errors do not yet mark their prefix with pkgerr (and the "build" step
+// of reference) where a message or one of its wrapped parts begins.
+// spectrum, baseline and report mark theirs: pkgerr.Plain leaves them
+// out.
+var packagePrefix = regexp.MustCompile(`(^|: )(?:(?:reference: build|reference|unmix|lsq|validate|atomicfile|bytesize): )+`)
 
 // userMessage is err as one readable line: package prefixes of the
-// libraries left out, the operating system's file errors said in plain
-// words ("x.json does not exist" rather than "stat x.json: no such file
-// or directory"), and a part repeated right after itself said once.
+// libraries left out (pkgerr.Plain, then packagePrefix for the rest),
+// the operating system's file errors said in plain words ("x.json does
+// not exist" rather than "stat x.json: no such file or directory"), and a
+// part repeated right after itself said once.
 func userMessage(err error) string {
-	msg := err.Error()
+	msg := pkgerr.Plain(err)
 	for e := err; e != nil; e = errors.Unwrap(e) {
 		var pe *fs.PathError
 		if !errors.As(e, &pe) {
@@ -78,4 +83,12 @@ func dropRepeats(msg string) string {
 		}
 	}
 	return strings.Join(out, ": ")
+}
+
+// plural is one when n is 1, else many.
+func plural(n int, one, many string) string {
+	if n == 1 {
+		return one
+	}
+	return many
 }

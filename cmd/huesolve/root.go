@@ -43,10 +43,6 @@ func (e *usageError) Unwrap() error { return e.err }
 
 func usagef(format string, a ...any) error { return &usageError{fmt.Errorf(format, a...)} }
 
-// commands holds the constructors of the subcommands; each command file
-// adds its own in an init function, so files do not touch each other.
-var commands []func() *cobra.Command
-
 const rootLong = `huesolve finds the concentration of each coloured compound in a mixture
 from its UV-Vis absorbance scan, when the compounds' bands overlap so that a
 single-wavelength standard curve would give wrong answers.
@@ -105,9 +101,18 @@ func newRootCmd() *cobra.Command {
 			return nil
 		},
 	})
-	for _, c := range commands {
-		root.AddCommand(c())
-	}
+	// One constructor per command file, in the order of the lab work
+	// (help lists them alphabetically).
+	root.AddCommand(
+		newDemoCmd(),
+		newLookCmd(),
+		newConvertCmd(),
+		newCalibrateCmd(),
+		newInspectCmd(),
+		newWindowCmd(),
+		newVerifyCmd(),
+		newSolveCmd(),
+	)
 	// Any argument check left to cobra's own wording is still a bad
 	// command line (exit 2).
 	for _, c := range root.Commands() {

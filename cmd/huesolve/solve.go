@@ -23,8 +23,6 @@ import (
 	"huesolve/unmix"
 )
 
-func init() { commands = append(commands, newSolveCmd) }
-
 // solveOptions are the flags of solve.
 type solveOptions struct {
 	fit       fitFlags
@@ -151,179 +149,24 @@ func newSolveCmd() *cobra.Command {
 }
 
 func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []string) error {
-	errw := &lockedWriter{w: cmd.ErrOrStderr()}
-	warn := warnTo(errw)
-	var warnings atomic.Int64 // warnings given, for --check-only's summary
-	say := warn
-	warn = func(msg string) { warnings.Add(1); say(msg) }
-	note := func(msg string) { fmt.Fprintln(errw, "huesolve: note:", msg) }
-
-	// Flags.
-	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
+	j := newSolveJob(cmd.ErrOrStderr())
+	mopt, q, err := o.check(cmd, j.note, refPath, scans)
 	if err != nil {
 		return err
 	}
-	if msg := o.fit.unusedNote(cmd); msg != "" {
-		note(msg)
-	}
-	if err := checkDilutionFlag(o.dilution); err != nil {
+	if err := j.load(o, refPath, scans, mopt, q); err != nil {
 		return err
 	}
-	if err := checkPathFlag(o.pathCM); err != nil {
-		return err
-	}
-	if o.jobs < 0 {
-		return usagef("-j %d: want a positive number of workers", o.jobs)
-	}
-	if o.checkOnly && (o.output.out != "" || o.output.plots != "") {
-		return usagef("--check-only writes no results: leave out -o and --plots")
-	}
-	ropt := spectrum.ReadOptions{Quantity: q, Warn: warn}
-	if err := checkNotInput("-o", o.output.out, append([]string{refPath, o.scans.blank, o.samples}, scanInputFiles(scans)...)...); err != nil {
-		return err
-	}
-
-	// Reference set, blank, model, sample sheet.
-	set, err := reference.Load(refPath)
-	if err != nil {
-		return err
-	}
-	if mopt.Blank, _, err = o.scans.readBlank(q, warn); err != nil {
-		return err
-	}
-	mopt.KeepCurves = o.output.plots != ""
-	model, err := unmix.NewModel(set, mopt)
-	if err != nil {
-		return err
-	}
-	if n := model.Excluded(); n > 0 {
-		warn(fmt.Sprintf("%d of the %d window points are left out of every fit: a compound's absorptivity is not known there (fewer than 3 standards below the ceiling)",
-			n, len(model.Window())))
-	}
-	var sheet *unmix.SampleSheet
-	if o.samples != "" {
-		if sheet, err = unmix.ReadSampleSheet(o.samples); err != nil {
-			return err
-		}
-	}
-	if o.output.plots != "" {
-		if err := o.output.makePlotDir(); err != nil {
-			return err
-		}
-	}
-
-	inputs := unmix.ExpandInputs(scans)
-	solveSetNotes(set, model, o.scans.blank, inputs, note, warn)
-	track := newSheetTracker(sheet)
-	batch := &unmix.Batch{
-		Model:   model,
-		Workers: o.jobs,
-		Read:    ropt,
-		Factors: func(s *spectrum.Spectrum) (unmix.Factors, error) {
-			f := track.lookup(s)
-			if f.Dilution == 0 {
-				f.Dilution = o.dilution
-			}
-			if f.PathCM == 0 {
-				f.PathCM = o.pathCM
-			}
-			return f, nil
-		},
-	}
-	names := model.Compounds()
-	var plotted atomic.Int64 // plots written, for the closing message
-	if o.output.plots != "" {
-		batch.Each = func(seq int, r *unmix.Result) error {
-			if err := report.SaveSamplePlot(r, names, report.SamplePlotPath(o.output.plots, seq+1, r.Sample, o.output.plotFormat)); err != nil {
-				return err
-			}
-			plotted.Add(1)
-			return nil
-		}
-	}
-
-	// Progress on a terminal only.
-	var bar *progressbar.ProgressBar
-	if f, ok := cmd.ErrOrStderr().(*os.File); ok && term.IsTerminal(int(f.Fd())) {
-		batch.Progress = func(done, known int) {
-			if bar == nil && known >= solveProgressMin {
-				bar = progressbar.NewOptions(known, progressbar.OptionSetWriter(errw), progressbar.OptionSetDescription("solving"),
-					progressbar.OptionShowCount(), progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
-			}
-			if bar != nil {
-				bar.ChangeMax(known)
-				_ = bar.Set(done)
-			}
-		}
-	}
-
+	j.newBatch(o, q)
+	j.showProgress(cmd)
 	if o.checkOnly {
-		return runSolveCheck(cmd, batch, inputs, errw, func() int64 {
-			track.report(warn, o.dilution, o.pathCM)
-			return warnings.Load()
+		return runSolveCheck(cmd, j.batch, j.inputs, j.errw, func() int64 {
+			sheetNotes(j.track, j.sheet, j.warn, o.dilution, o.pathCM)
+			return j.warnings.Load()
 		})
 	}
-	seen := newOutcomeNotes()
-
-	layout := report.LayoutOf(model)
-	width := outputWidth(cmd.OutOrStdout(), o.output.out)
-	var sum unmix.Summary
-	solveAll := func(w io.Writer) error {
-		rw, err := report.NewResultWriter(o.output.format, w, layout, width)
-		if err != nil {
-			return err
-		}
-		enc, _ := rw.(report.Encoder)
-		batch.Encode = nil
-		if enc != nil {
-			batch.Encode = enc.AppendResult // formats in the workers
-		}
-		sum, err = batch.Run(cmd.Context(), inputs, func(out unmix.Outcome) error {
-			seen.add(out, warn)
-			if out.Err != nil {
-				what := out.File
-				if out.Result != nil {
-					what = out.Result.Sample + " (" + out.File + ")"
-				}
-				if msg := userMessage(out.Err); out.Unread && strings.HasPrefix(msg, out.File+":") {
-					fmt.Fprintf(errw, "huesolve: skipped %s\n", msg)
-				} else if out.Unread && strings.Contains(msg, out.File) {
-					fmt.Fprintf(errw, "huesolve: %s (skipped)\n", msg)
-				} else if out.Unread {
-					fmt.Fprintf(errw, "huesolve: skipped %s: %s\n", out.File, msg)
-				} else {
-					fmt.Fprintf(errw, "huesolve: %s: %s\n", what, msg)
-				}
-				if err := rw.Fail(what, out.Err); err != nil {
-					return err
-				}
-			}
-			switch {
-			case out.Encoded != nil && enc != nil:
-				return enc.WriteEncoded(out.Encoded)
-			case out.Result != nil:
-				return rw.Write(out.Result)
-			}
-			return nil
-		})
-		if bar != nil {
-			_ = bar.Finish()
-		}
-		if err != nil {
-			return err
-		}
-		return rw.Close()
-	}
-	if o.output.out != "" {
-		err = atomicfile.Write(o.output.out, solveAll)
-	} else {
-		bw := bufio.NewWriter(cmd.OutOrStdout())
-		err = solveAll(bw)
-		if ferr := bw.Flush(); err == nil {
-			err = ferr
-		}
-	}
-	if errors.Is(err, cmd.Context().Err()) && cmd.Context().Err() != nil {
+	sum, err := j.solve(cmd, o)
+	if ctx := cmd.Context(); errors.Is(err, ctx.Err()) && ctx.Err() != nil {
 		msg := fmt.Sprintf("interrupted after %d sample(s) had been solved and reported", sum.Emitted)
 		if o.output.out != "" {
 			msg += "; nothing written to " + o.output.out
@@ -335,17 +178,235 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if err != nil {
 		return err
 	}
-	track.report(warn, o.dilution, o.pathCM)
-	seen.report(warn)
+	return j.finish(o, sum)
+}
+
+// check reads the flags of solve into the model options and the quantity
+// of the scans; note tells what a flag given does not do.
+func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath string, scans []string) (unmix.Options, spectrum.Quantity, error) {
+	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
+	if err != nil {
+		return mopt, q, err
+	}
+	if msg := o.fit.unusedNote(cmd); msg != "" {
+		note(msg)
+	}
+	if err := checkDilutionFlag(o.dilution); err != nil {
+		return mopt, q, err
+	}
+	if err := checkPathFlag(o.pathCM); err != nil {
+		return mopt, q, err
+	}
+	if o.jobs < 0 {
+		return mopt, q, usagef("-j %d: want a positive number of workers", o.jobs)
+	}
+	if o.checkOnly && (o.output.out != "" || o.output.plots != "") {
+		return mopt, q, usagef("--check-only writes no results: leave out -o and --plots")
+	}
+	err = checkNotInput("-o", o.output.out, append([]string{refPath, o.scans.blank, o.samples}, scanInputFiles(scans)...)...)
+	return mopt, q, err
+}
+
+// solveJob is one run of solve: what it talks on standard error through,
+// the model, the inputs and the batch that solves them.
+type solveJob struct {
+	errw     *lockedWriter
+	warn     func(string) // warnings, counted
+	note     func(string)
+	warnings atomic.Int64 // warnings given, for --check-only's summary
+	plotted  atomic.Int64 // plots written, for the closing message
+
+	model  *unmix.Model
+	sheet  *unmix.SampleSheet
+	track  *unmix.SheetUse
+	inputs []unmix.Input
+	batch  *unmix.Batch
+	bar    *progressbar.ProgressBar
+	seen   *outcomeNotes
+}
+
+func newSolveJob(stderr io.Writer) *solveJob {
+	j := &solveJob{errw: &lockedWriter{w: stderr}, seen: newOutcomeNotes()}
+	say := warnTo(j.errw)
+	j.warn = func(msg string) { j.warnings.Add(1); say(msg) }
+	j.note = noteTo(j.errw)
+	return j
+}
+
+// load reads the reference set, the blank and the sample sheet, makes the
+// model and the plot folder.
+func (j *solveJob) load(o *solveOptions, refPath string, scans []string, mopt unmix.Options, q spectrum.Quantity) error {
+	set, err := reference.Load(refPath)
+	if err != nil {
+		return err
+	}
+	if mopt.Blank, _, err = o.scans.readBlank(q, j.warn); err != nil {
+		return err
+	}
+	mopt.KeepCurves = o.output.plots != ""
+	if j.model, err = unmix.NewModel(set, mopt); err != nil {
+		return err
+	}
+	if n := j.model.Excluded(); n > 0 {
+		j.warn(fmt.Sprintf("%d of the %d window points are left out of every fit: a compound's absorptivity is not known there (fewer than 3 standards below the ceiling)",
+			n, len(j.model.Window())))
+	}
+	if o.samples != "" {
+		if j.sheet, err = unmix.ReadSampleSheet(o.samples); err != nil {
+			return err
+		}
+	}
 	if o.output.plots != "" {
-		fmt.Fprintf(errw, "huesolve: %d plots written to %s\n", plotted.Load(), o.output.plots)
+		if err := o.output.makePlotDir(); err != nil {
+			return err
+		}
+	}
+	j.inputs = unmix.ExpandInputs(scans)
+	solveSetNotes(set, j.model, o.scans.blank, j.inputs, j.note, j.warn)
+	return nil
+}
+
+// newBatch makes the batch: factors from the sample sheet or the flags,
+// and a plot per sample with --plots.
+func (j *solveJob) newBatch(o *solveOptions, q spectrum.Quantity) {
+	j.track = unmix.NewSheetUse(j.sheet)
+	j.batch = &unmix.Batch{
+		Model:   j.model,
+		Workers: o.jobs,
+		Read:    spectrum.ReadOptions{Quantity: q, Warn: j.warn},
+		Factors: func(s *spectrum.Spectrum) (unmix.Factors, error) {
+			f := j.track.Factors(s)
+			if f.Dilution == 0 {
+				f.Dilution = o.dilution
+			}
+			if f.PathCM == 0 {
+				f.PathCM = o.pathCM
+			}
+			return f, nil
+		},
+	}
+	if o.output.plots == "" {
+		return
+	}
+	names := j.model.Compounds()
+	j.batch.Each = func(seq int, r *unmix.Result) error {
+		if err := report.SaveSamplePlot(r, names, report.SamplePlotPath(o.output.plots, seq+1, r.Sample, o.output.plotFormat)); err != nil {
+			return err
+		}
+		j.plotted.Add(1)
+		return nil
+	}
+}
+
+// showProgress shows a progress bar on a terminal only.
+func (j *solveJob) showProgress(cmd *cobra.Command) {
+	f, ok := cmd.ErrOrStderr().(*os.File)
+	if !ok || !term.IsTerminal(int(f.Fd())) {
+		return
+	}
+	j.batch.Progress = func(done, known int) {
+		if j.bar == nil && known >= solveProgressMin {
+			j.bar = progressbar.NewOptions(known, progressbar.OptionSetWriter(j.errw), progressbar.OptionSetDescription("solving"),
+				progressbar.OptionShowCount(), progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
+		}
+		if j.bar != nil {
+			j.bar.ChangeMax(known)
+			_ = j.bar.Set(done)
+		}
+	}
+}
+
+// solve runs the batch and writes the results to -o FILE (complete or
+// not at all) or standard output.
+func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (unmix.Summary, error) {
+	layout := report.LayoutOf(j.model)
+	width := outputWidth(cmd.OutOrStdout(), o.output.out)
+	var sum unmix.Summary
+	solveAll := func(w io.Writer) error {
+		rw, err := report.NewResultWriter(o.output.format, w, layout, width)
+		if err != nil {
+			return err
+		}
+		enc, _ := rw.(report.Encoder)
+		j.batch.Encode = nil
+		if enc != nil {
+			j.batch.Encode = enc.AppendResult // formats in the workers
+		}
+		sum, err = j.batch.Run(cmd.Context(), j.inputs, func(out unmix.Outcome) error {
+			return j.emit(out, rw, enc)
+		})
+		if j.bar != nil {
+			_ = j.bar.Finish()
+		}
+		if err != nil {
+			return err
+		}
+		return rw.Close()
+	}
+	if o.output.out != "" {
+		err := atomicfile.Write(o.output.out, solveAll)
+		return sum, err
+	}
+	bw := bufio.NewWriter(cmd.OutOrStdout())
+	err := solveAll(bw)
+	if ferr := bw.Flush(); err == nil {
+		err = ferr
+	}
+	return sum, err
+}
+
+// emit takes one outcome, in input order: its notes, its failure on
+// standard error, its result to rw.
+func (j *solveJob) emit(out unmix.Outcome, rw report.ResultWriter, enc report.Encoder) error {
+	j.seen.add(out, j.warn)
+	if out.Err != nil {
+		what := out.File
+		if out.Result != nil {
+			what = out.Result.Sample + " (" + out.File + ")"
+		}
+		fmt.Fprintln(j.errw, solveFailure(out, what))
+		if err := rw.Fail(what, out.Err); err != nil {
+			return err
+		}
+	}
+	switch {
+	case out.Encoded != nil && enc != nil:
+		return enc.WriteEncoded(out.Encoded)
+	case out.Result != nil:
+		return rw.Write(out.Result)
+	}
+	return nil
+}
+
+// solveFailure is the line on standard error for an outcome that failed:
+// a file that could not be read is said skipped, naming the file once.
+func solveFailure(out unmix.Outcome, what string) string {
+	msg := userMessage(out.Err)
+	switch {
+	case out.Unread && strings.HasPrefix(msg, out.File+":"):
+		return "huesolve: skipped " + msg
+	case out.Unread && strings.Contains(msg, out.File):
+		return "huesolve: " + msg + " (skipped)"
+	case out.Unread:
+		return "huesolve: skipped " + out.File + ": " + msg
+	}
+	return "huesolve: " + what + ": " + msg
+}
+
+// finish gives the warnings kept for the end, the closing summary line,
+// and the exit code.
+func (j *solveJob) finish(o *solveOptions, sum unmix.Summary) error {
+	sheetNotes(j.track, j.sheet, j.warn, o.dilution, o.pathCM)
+	j.seen.report(j.warn)
+	if o.output.plots != "" {
+		fmt.Fprintf(j.errw, "huesolve: %d plots written to %s\n", j.plotted.Load(), o.output.plots)
 	}
 	line := fmt.Sprintf("huesolve: %d sample(s) solved from %d input(s): %d flagged, %d failed, %d input(s) unreadable",
 		sum.Solved, sum.Files, sum.Flagged, sum.Failed, sum.Unreadable)
 	if o.output.out != "" {
 		line += "; results in " + o.output.out
 	}
-	fmt.Fprintln(errw, line)
+	fmt.Fprintln(j.errw, line)
 	switch {
 	case sum.Solved == 0 && sum.Unreadable+sum.Failed > 0:
 		return &exitError{code: exitFailure, msg: "nothing could be solved: the reasons are above"}

@@ -9,10 +9,8 @@ import (
 	"fmt"
 	"os"
 	"strings"
-	"sync"
 
 	"huesolve/reference"
-	"huesolve/spectrum"
 	"huesolve/unmix"
 )
 
@@ -68,64 +66,27 @@ func solveSetNotes(set *reference.Set, model *unmix.Model, blank string, inputs 
 	}
 }
 
-// sheetTracker looks up each sample in the sample sheet (nil: no sheet)
-// and remembers which rows were used and which samples took the
-// defaults. Safe for concurrent use.
-type sheetTracker struct {
-	sheet     *unmix.SampleSheet
-	mu        sync.Mutex
-	used      map[string]bool
-	defaulted []string
-}
-
-func newSheetTracker(sh *unmix.SampleSheet) *sheetTracker {
-	return &sheetTracker{sheet: sh, used: map[string]bool{}}
-}
-
-// lookup returns the sheet's factors of s (zero fields: defaults).
-func (t *sheetTracker) lookup(s *spectrum.Spectrum) unmix.Factors {
-	if t.sheet == nil {
-		return unmix.Factors{}
-	}
-	f, row, ok := t.sheet.Match(s)
-	t.mu.Lock()
-	defer t.mu.Unlock()
-	if ok {
-		t.used[row] = true
-	} else {
-		name := s.Name
-		if name == "" {
-			name = s.Source.String()
-		}
-		t.defaulted = append(t.defaulted, name)
-	}
-	return f
-}
-
-// report warns about samples the sheet does not name and sheet rows no
-// sample matched (a typing error in either, most often).
-func (t *sheetTracker) report(warn func(string), dilution, pathCM float64) {
-	if t.sheet == nil {
+// sheetNotes warns, after a run with a sample sheet (nil: none), about
+// samples the sheet does not name and sheet rows no sample matched (a
+// typing error in either, most often).
+func sheetNotes(use *unmix.SheetUse, sheet *unmix.SampleSheet, warn func(string), dilution, pathCM float64) {
+	if sheet == nil {
 		return
 	}
-	t.mu.Lock()
-	defer t.mu.Unlock()
-	if len(t.defaulted) > 0 {
+	if defaulted := use.Defaulted(); len(defaulted) > 0 {
 		path := "the reference set's path"
 		if pathCM > 0 {
 			path = fmt.Sprintf("--path-cm %g", pathCM)
 		}
 		warn(fmt.Sprintf("%d sample(s) not in the sample sheet %s took --dilution %g and %s: %s",
-			len(t.defaulted), t.sheet.File, dilution, path, nameList(t.defaulted)))
+			len(defaulted), sheet.File, dilution, path, nameList(defaulted)))
 	}
 	var unused []string
-	for _, n := range t.sheet.Names() {
-		if !t.used[n] {
-			unused = append(unused, fmt.Sprintf("%s (line %d)", n, t.sheet.Line(n)))
-		}
+	for _, n := range use.Unused() {
+		unused = append(unused, fmt.Sprintf("%s (line %d)", n, sheet.Line(n)))
 	}
 	if len(unused) > 0 {
-		warn(fmt.Sprintf("%d row(s) of the sample sheet %s matched no sample: %s", len(unused), t.sheet.File, nameList(unused)))
+		warn(fmt.Sprintf("%d row(s) of the sample sheet %s matched no sample: %s", len(unused), sheet.File, nameList(unused)))
 	}
 }
 

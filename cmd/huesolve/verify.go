@@ -1,22 +1,20 @@
 package main
 
 import (
-	"encoding/csv"
+	"context"
 	"errors"
 	"fmt"
 	"io"
-	"strconv"
 	"strings"
 
 	"github.com/spf13/cobra"
 
 	"huesolve/reference"
 	"huesolve/report"
+	"huesolve/spectrum"
 	"huesolve/unmix"
 	"huesolve/validate"
 )
-
-func init() { commands = append(commands, newVerifyCmd) }
 
 // verifyOptions are the flags of verify.
 type verifyOptions struct {
@@ -103,114 +101,31 @@ func newVerifyCmd() *cobra.Command {
 	return cmd
 }
 
-// verifyReport is what verify writes as JSON.
-type verifyReport struct {
-	Reference string                    `json:"reference_set"`
-	Checks    string                    `json:"checks"`
-	Window    [2]float64                `json:"window_nm"`
-	Baseline  string                    `json:"baseline"`
-	Weighted  bool                      `json:"weighted"`
-	Result    *validate.Verification    `json:"verification"`
-	CrossVal  *validate.CrossValidation `json:"cross_validation,omitempty"`
-}
-
 func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string) error {
-	errw := cmd.ErrOrStderr()
-	warn := warnTo(errw)
-
-	// Flags.
-	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
+	warn := warnTo(cmd.ErrOrStderr())
+	mopt, q, vopt, err := o.check()
 	if err != nil {
 		return err
 	}
-	lim := validate.Limits{MaxRSD: o.maxRSD}
-	if lim.RecoveryLo, lim.RecoveryHi, err = valParsePercentRange(o.recovery); err != nil {
-		return err
-	}
-	if !(o.maxRSD > 0) || o.maxRSD > 100 {
-		return usagef("--max-rsd %g: want a percentage above 0", o.maxRSD)
-	}
-	if !(o.minSelectivity > 0) || o.minSelectivity >= 1 {
-		return usagef("--min-selectivity %g: want a number between 0 and 1", o.minSelectivity)
-	}
-	var byLevel bool
-	switch o.crossvalBy {
-	case "level":
-		byLevel = true
-	case "standard":
-	default:
-		return usagef("--crossval-by %q: want level or standard", o.crossvalBy)
-	}
-
-	// Inputs.
-	if err := checkNotInput("-o", o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
-		return err
-	}
-	set, err := reference.Load(refPath)
+	set, sh, err := o.load(refPath, checksPath, &mopt, q, warn)
 	if err != nil {
 		return err
 	}
-	sh, err := valReadCheckSheet(checksPath, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
-	if err != nil {
-		return err
-	}
-	if err := checkNotInput("-o", o.output.out, sheetFiles(sh)...); err != nil {
-		return err
-	}
-	if mopt.Blank, _, err = o.scans.readBlank(q, warn); err != nil {
-		return err
-	}
-	if mopt.Blank == nil && len(sh.Blanks) == 0 {
-		warn("no blank given and no blank rows in " + checksPath + ": check standards are solved as read, so the baseline terms must take up the solvent and cell")
-	}
-
-	// Work.
 	ctx := cmd.Context()
-	interrupted := func(err error) error {
-		if ctx.Err() == nil || !errors.Is(err, ctx.Err()) {
-			return err
-		}
-		msg := "interrupted: " + strings.TrimPrefix(err.Error(), "validate: ")
-		if o.output.out != "" {
-			msg += "; nothing written to " + o.output.out
-		} else {
-			msg += "; nothing printed"
-		}
-		return &exitError{code: exitInterrupt, msg: msg}
-	}
-	v, err := validate.VerifyContext(ctx, set, sh, validate.VerifyOptions{Model: mopt, Limits: lim, MinSelectivity: o.minSelectivity})
+	vopt.Model = mopt
+	v, err := validate.VerifyContext(ctx, set, sh, vopt)
 	if err != nil {
-		return interrupted(err)
+		return o.interrupted(ctx, err)
 	}
-	var cv *validate.CrossValidation
-	if o.crossval != "" {
-		cal, err := reference.ReadSheet(o.crossval, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
-		if err != nil {
-			return err
-		}
-		// The calibration sheet's blank rows are the blank it was
-		// built with; without them, the --blank scan serves.
-		bopt := validate.BuildOptionsFor(set)
-		if len(cal.Blanks) == 0 {
-			bopt.Blank = mopt.Blank
-		}
-		cmopt := mopt
-		cmopt.Blank = nil
-		cv, err = validate.CrossValidateContext(ctx, set, cal, validate.CrossValOptions{Build: bopt, Model: cmopt, ByLevel: byLevel})
-		if err != nil {
-			return interrupted(err)
-		}
-		for _, f := range cv.Failed {
-			warn("cross-validation: " + f)
-		}
+	cv, err := o.crossValidate(ctx, set, mopt, q, warn)
+	if err != nil {
+		return err
 	}
-
-	// Output.
-	rep := verifyReport{Reference: refPath, Checks: checksPath, Window: [2]float64{v.Merits.WindowLo, v.Merits.WindowHi},
+	rep := report.VerifyReport{Reference: refPath, Checks: checksPath, Window: [2]float64{v.Merits.WindowLo, v.Merits.WindowHi},
 		Baseline: v.Merits.Baseline, Weighted: o.fit.weighted, Result: v, CrossVal: cv}
 	err = o.output.write(cmd, "verification", rep,
-		func(w io.Writer) error { return writeVerifyCSV(w, v, cv) },
-		func(w io.Writer) error { return writeVerifyTable(w, &rep) })
+		func(w io.Writer) error { return report.WriteVerifyCSV(w, v, cv) },
+		func(w io.Writer) error { return report.WriteVerifyTable(w, &rep) })
 	if err != nil {
 		return err
 	}
@@ -220,6 +135,103 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	if err != nil {
 		return err
 	}
+	return verifyVerdict(cmd.ErrOrStderr(), v, warn)
+}
+
+// check reads the flags of verify into the model options, the quantity
+// of the scans and the acceptance limits.
+func (o *verifyOptions) check() (unmix.Options, spectrum.Quantity, validate.VerifyOptions, error) {
+	vopt := validate.VerifyOptions{Limits: validate.Limits{MaxRSD: o.maxRSD}, MinSelectivity: o.minSelectivity}
+	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
+	if err != nil {
+		return mopt, q, vopt, err
+	}
+	if vopt.Limits.RecoveryLo, vopt.Limits.RecoveryHi, err = valParsePercentRange(o.recovery); err != nil {
+		return mopt, q, vopt, err
+	}
+	switch {
+	case !(o.maxRSD > 0) || o.maxRSD > 100:
+		return mopt, q, vopt, usagef("--max-rsd %g: want a percentage above 0", o.maxRSD)
+	case !(o.minSelectivity > 0) || o.minSelectivity >= 1:
+		return mopt, q, vopt, usagef("--min-selectivity %g: want a number between 0 and 1", o.minSelectivity)
+	case o.crossvalBy != "level" && o.crossvalBy != "standard":
+		return mopt, q, vopt, usagef("--crossval-by %q: want level or standard", o.crossvalBy)
+	}
+	return mopt, q, vopt, nil
+}
+
+// load reads the reference set, the checks sheet and the blank (into
+// mopt), warning when there is no blank at all.
+func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q spectrum.Quantity, warn func(string)) (*reference.Set, *reference.Sheet, error) {
+	if err := checkNotInput("-o", o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
+		return nil, nil, err
+	}
+	set, err := reference.Load(refPath)
+	if err != nil {
+		return nil, nil, err
+	}
+	sh, err := valReadCheckSheet(checksPath, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
+	if err != nil {
+		return nil, nil, err
+	}
+	if err := checkNotInput("-o", o.output.out, sheetFiles(sh)...); err != nil {
+		return nil, nil, err
+	}
+	if mopt.Blank, _, err = o.scans.readBlank(q, warn); err != nil {
+		return nil, nil, err
+	}
+	if mopt.Blank == nil && len(sh.Blanks) == 0 {
+		warn("no blank given and no blank rows in " + checksPath + ": check standards are solved as read, so the baseline terms must take up the solvent and cell")
+	}
+	return set, sh, nil
+}
+
+// crossValidate runs the cross-validation of --crossval (nil without it).
+func (o *verifyOptions) crossValidate(ctx context.Context, set *reference.Set, mopt unmix.Options, q spectrum.Quantity, warn func(string)) (*validate.CrossValidation, error) {
+	if o.crossval == "" {
+		return nil, nil
+	}
+	cal, err := reference.ReadSheet(o.crossval, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
+	if err != nil {
+		return nil, err
+	}
+	// The calibration sheet's blank rows are the blank it was built
+	// with; without them, the --blank scan serves.
+	bopt := validate.BuildOptionsFor(set)
+	if len(cal.Blanks) == 0 {
+		bopt.Blank = mopt.Blank
+	}
+	cmopt := mopt
+	cmopt.Blank = nil
+	cv, err := validate.CrossValidateContext(ctx, set, cal, validate.CrossValOptions{Build: bopt, Model: cmopt, ByLevel: o.crossvalBy == "level"})
+	if err != nil {
+		return nil, o.interrupted(ctx, err)
+	}
+	for _, f := range cv.Failed {
+		warn("cross-validation: " + f)
+	}
+	return cv, nil
+}
+
+// interrupted turns err into exit code 130 with how far verify got when
+// it is ctx's cancellation, and leaves any other error as it is.
+func (o *verifyOptions) interrupted(ctx context.Context, err error) error {
+	if ctx.Err() == nil || !errors.Is(err, ctx.Err()) {
+		return err
+	}
+	msg := "interrupted: " + strings.TrimPrefix(err.Error(), "validate: ")
+	if o.output.out != "" {
+		msg += "; nothing written to " + o.output.out
+	} else {
+		msg += "; nothing printed"
+	}
+	return &exitError{code: exitInterrupt, msg: msg}
+}
+
+// verifyVerdict says on errw whether every compound passed, and gives
+// the exit code: 4 when some compound failed or a check result is
+// flagged.
+func verifyVerdict(errw io.Writer, v *validate.Verification, warn func(string)) error {
 	failed := 0
 	for _, c := range v.Compounds {
 		if !c.Pass {
@@ -228,7 +240,7 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	}
 	flagged := v.FlaggedRows()
 	if flagged > 0 {
-		warn(verifyFlaggedNote(flagged))
+		warn(report.VerifyFlaggedNote(flagged))
 	}
 	if failed > 0 {
 		return &exitError{code: exitFlagged, msg: fmt.Sprintf("%d of %d compounds failed acceptance", failed, len(v.Compounds))}
@@ -238,13 +250,6 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	}
 	fmt.Fprintf(errw, "huesolve: all %d compounds passed acceptance\n", len(v.Compounds))
 	return nil
-}
-
-// verifyFlaggedNote is the note, on standard error and under the checks
-// table, that n check results carry warning flags.
-func verifyFlaggedNote(n int) string {
-	return fmt.Sprintf("%d check %s warning flags: the fit does not describe them well; see the flags with each check result",
-		n, lookPlural(n, "result carries", "results carry"))
 }
 
 // valReadCheckSheet reads a check-standard sheet: replicates of a single
@@ -257,189 +262,4 @@ func valReadCheckSheet(path string, opt reference.SheetOptions) (*reference.Shee
 // valParsePercentRange reads the --recovery range "LO-HI" in percent.
 func valParsePercentRange(s string) (lo, hi float64, err error) {
 	return parseRangeFlag("--recovery", s, "percent", "98-102", 1e4)
-}
-
-// valNum formats a number for tables.
-func valNum(v float64) string { return strconv.FormatFloat(v, 'g', 5, 64) }
-
-// errNum formats an error (bias, RMSEP) for tables: two significant
-// digits, like the standard errors beside the results.
-func errNum(v float64) string { return strconv.FormatFloat(v, 'g', 2, 64) }
-
-func writeVerifyTable(w io.Writer, rep *verifyReport) error {
-	v := rep.Result
-	fit := "unweighted"
-	if rep.Weighted {
-		fit = "weighted"
-	}
-	fmt.Fprintf(w, "Check standards %s against %s: window %g-%g nm, baseline %s, %s fit, blank: %s\n\n",
-		rep.Checks, rep.Reference, rep.Window[0], rep.Window[1], rep.Baseline, fit, v.Blank)
-	t := valTable(w)
-	t.Header("Standard", "Compound", "Known", "Found ± SE", "Recovery (%)", "Within limits")
-	for _, r := range v.Rows {
-		rec, ok := "-", "yes"
-		if r.Recovery != nil {
-			rec = fmt.Sprintf("%.2f", *r.Recovery)
-		}
-		if !r.Pass {
-			ok = "no"
-		}
-		if r.Recovery == nil { // not in the standard: judged against the LOQ
-			cmp := "≤"
-			if !r.Pass {
-				cmp = ">"
-			}
-			ok += fmt.Sprintf(" (%s LOQ %.2g)", cmp, r.LOQ)
-		}
-		if len(r.Flags) > 0 {
-			ok += ", flagged " + strings.Join(r.Flags, " ")
-		}
-		unit := ""
-		if r.Unit != "" {
-			unit = " " + r.Unit
-		}
-		found := report.ConcText(r.Found, r.SE) // as solve prints it
-		if r.HeldAtZero {
-			found = report.ConcText(r.Found, 0) + " zero"
-		}
-		if err := t.Append([]string{r.Standard, r.Compound, valNum(r.Known) + unit, found, rec, ok}); err != nil {
-			return fmt.Errorf("verify table: %w", err)
-		}
-	}
-	if err := t.Render(); err != nil {
-		return fmt.Errorf("verify table: %w", err)
-	}
-	if n := v.FlaggedRows(); n > 0 {
-		fmt.Fprintln(w, verifyFlaggedNote(n)+".")
-	}
-	fmt.Fprintln(w)
-	t = valTable(w)
-	units := make([]string, len(v.Compounds))
-	for i, c := range v.Compounds {
-		units[i] = c.Unit
-	}
-	cu := unitSuffix(report.CommonUnit(units)) // " (mg/L)" when all share it
-	head := []string{"Compound", "Standards with/without", "Mean recovery (%)", "RSD (%)", "Bias" + cu, "RMSEP" + cu}
-	var rmsecv map[string]float64
-	if rep.CrossVal != nil {
-		head = append(head, "RMSECV"+cu)
-		rmsecv = map[string]float64{}
-		for k, n := range rep.CrossVal.Compounds {
-			rmsecv[n] = rep.CrossVal.RMSECV[k]
-		}
-	}
-	head = append(head, "Verdict")
-	t.Header(head)
-	for _, c := range v.Compounds {
-		mean, rsd := "-", "-"
-		if c.Holding > 0 {
-			mean = fmt.Sprintf("%.2f", c.MeanRecovery)
-		}
-		if c.RSDJudged {
-			rsd = fmt.Sprintf("%.2f", c.RSD)
-		}
-		// Errors to two significant digits, as standard errors are shown.
-		bias := "-"
-		if c.Holding > 0 {
-			bias = errNum(c.Bias)
-		}
-		row := []string{c.Compound, fmt.Sprintf("%d/%d", c.Holding, c.Absent), mean, rsd, bias, errNum(c.RMSEP)}
-		if rmsecv != nil {
-			row = append(row, errNum(rmsecv[c.Compound]))
-		}
-		verdict := "pass"
-		if !c.Pass {
-			verdict = "FAIL: " + strings.Join(c.Why, "; ")
-		}
-		row = append(row, verdict)
-		if err := t.Append(row); err != nil {
-			return fmt.Errorf("verify table: %w", err)
-		}
-	}
-	if err := t.Render(); err != nil {
-		return fmt.Errorf("verify table: %w", err)
-	}
-	fmt.Fprintln(w, "Standards with/without: check standards holding the compound (judged on recovery) / not holding it (judged against its LOQ).")
-	fmt.Fprintf(w, "Limits: mean recovery %g-%g %%, RSD ≤ %g %%, compounds not in a standard found at most at their LOQ.\n",
-		v.Limits.RecoveryLo, v.Limits.RecoveryHi, v.Limits.MaxRSD)
-	if cv := rep.CrossVal; cv != nil {
-		by := "one standard"
-		if cv.ByLevel {
-			by = "one composition (with its replicates)"
-		}
-		fmt.Fprintf(w, "RMSECV: %d folds leaving out %s at a time, %d standards predicted", cv.Folds, by, len(cv.Predictions))
-		if len(cv.Failed) > 0 {
-			fmt.Fprintf(w, ", %d folds failed (see stderr)", len(cv.Failed))
-		}
-		fmt.Fprintln(w, ".")
-	}
-	fmt.Fprintln(w)
-	return valWriteMerits(w, v.Merits)
-}
-
-// verifyRowFlags is the flags cell of a check row: zero (held at zero)
-// first, then its warning flags.
-func verifyRowFlags(r validate.CheckRow) string {
-	fs := r.Flags
-	if r.HeldAtZero {
-		fs = append([]string{string(unmix.FlagZero)}, fs...)
-	}
-	return strings.Join(fs, " ")
-}
-
-// writeVerifyCSV writes one row per standard and compound (record
-// "check"), one per compound (record "compound") and, with
-// cross-validation, one per predicted calibration standard and compound
-// (record "crossval"). The last column, flags, holds a check row's
-// flags as solve's NAME_flags would: zero when the result is held at zero,
-// and the warning flags of its solve (e.g. illcond, misfit).
-func writeVerifyCSV(w io.Writer, v *validate.Verification, cv *validate.CrossValidation) error {
-	cw := csv.NewWriter(w)
-	head := []string{"record", "standard", "compound", "unit", "known", "found", "se", "error", "recovery_pct", "loq",
-		"mean_recovery_pct", "rsd_pct", "bias", "rmsep", "rmsecv", "pass", "why", "flags"}
-	if err := cw.Write(head); err != nil {
-		return err
-	}
-	f := func(x float64) string { return strconv.FormatFloat(x, 'g', -1, 64) }
-	for _, r := range v.Rows {
-		rec := ""
-		if r.Recovery != nil {
-			rec = f(*r.Recovery)
-		}
-		if err := cw.Write([]string{"check", r.Standard, r.Compound, r.Unit, f(r.Known), f(r.Found), f(r.SE), f(r.Error), rec, f(r.LOQ),
-			"", "", "", "", "", strconv.FormatBool(r.Pass), "", verifyRowFlags(r)}); err != nil {
-			return err
-		}
-	}
-	rmsecv := map[string]string{}
-	if cv != nil {
-		for k, n := range cv.Compounds {
-			rmsecv[n] = f(cv.RMSECV[k])
-		}
-	}
-	for _, c := range v.Compounds {
-		mean, rsd, bias := "", "", ""
-		if c.Holding > 0 {
-			mean, bias = f(c.MeanRecovery), f(c.Bias)
-		}
-		if c.RSDJudged {
-			rsd = f(c.RSD)
-		}
-		if err := cw.Write([]string{"compound", "", c.Compound, c.Unit, "", "", "", "", "", "",
-			mean, rsd, bias, f(c.RMSEP), rmsecv[c.Compound], strconv.FormatBool(c.Pass), strings.Join(c.Why, "; "), ""}); err != nil {
-			return err
-		}
-	}
-	if cv != nil {
-		for _, p := range cv.Predictions {
-			for k, n := range cv.Compounds {
-				if err := cw.Write([]string{"crossval", p.Standard, n, cv.Units[k], f(p.Known[k]), f(p.Found[k]), "",
-					f(p.Found[k] - p.Known[k]), "", "", "", "", "", "", "", "", "", ""}); err != nil {
-					return err
-				}
-			}
-		}
-	}
-	cw.Flush()
-	return cw.Error()
 }

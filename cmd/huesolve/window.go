@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/csv"
 	"fmt"
 	"io"
 	"strconv"
@@ -14,8 +13,6 @@ import (
 	"huesolve/report"
 	"huesolve/validate"
 )
-
-func init() { commands = append(commands, newWindowCmd) }
 
 // windowOptions are the flags of window.
 type windowOptions struct {
@@ -90,53 +87,12 @@ func newWindowCmd() *cobra.Command {
 	return cmd
 }
 
-// windowReport is what window writes as JSON.
-type windowReport struct {
-	Reference   string                 `json:"reference_set"`
-	Recommended [2]float64             `json:"recommended_nm"`
-	Advice      *validate.WindowAdvice `json:"advice"`
-	Merits      *validate.Merits       `json:"figures_of_merit"`
-}
-
 func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	errw := cmd.ErrOrStderr()
-	opt := validate.WindowOptions{
-		Weighted: o.fit.weighted, StepNM: o.step, MinWidthNM: o.minWidth, MaxWidthNM: o.maxWidth,
-		Sigma: o.noise, PathCM: o.pathCM,
-	}
-	var err error
-	if opt.Baseline, err = o.fit.baselineModel(); err != nil {
+	opt, err := o.check()
+	if err != nil {
 		return err
 	}
-	if o.searchIn != "" {
-		if opt.Lo, opt.Hi, err = winParseRange(o.searchIn); err != nil {
-			return err
-		}
-	}
-	switch {
-	case !(o.step > 0) || o.step > 1e4:
-		return usagef("--step %g: want a positive number of nm", o.step)
-	case !(o.minWidth > 0) || o.minWidth > 1e5:
-		return usagef("--min-width %g: want a positive number of nm", o.minWidth)
-	case !(o.maxWidth >= 0) || (o.maxWidth > 0 && o.maxWidth < o.minWidth):
-		return usagef("--max-width %g: want 0 or at least --min-width (%g)", o.maxWidth, o.minWidth)
-	case !(o.equivalent >= 0) || o.equivalent > 1000:
-		return usagef("--equivalent %g: want a percentage, 0 or more", o.equivalent)
-	case !(o.noise >= 0) || o.noise > 10:
-		return usagef("--noise %g: want an absorbance SD, 0 or more", o.noise)
-	case checkPathFlag(o.pathCM) != nil:
-		return checkPathFlag(o.pathCM)
-	case o.top < 1:
-		return usagef("--top %d: want at least 1", o.top)
-	}
-	opt.Equivalent = o.equivalent / 100
-	if o.equivalent == 0 {
-		opt.Equivalent = -1
-	}
-	if err := o.output.check(); err != nil {
-		return err
-	}
-
 	if err := checkNotInput("-o", o.output.out, refPath); err != nil {
 		return err
 	}
@@ -163,10 +119,10 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	if err != nil {
 		return err
 	}
-	rep := windowReport{Reference: refPath, Recommended: [2]float64{best.Lo, best.Hi}, Advice: adv, Merits: merits}
+	rep := report.WindowReport{Reference: refPath, Recommended: [2]float64{best.Lo, best.Hi}, Advice: adv, Merits: merits}
 	err = o.output.write(cmd, "window advice", rep,
-		func(w io.Writer) error { return writeWindowCSV(w, adv) },
-		func(w io.Writer) error { return writeWindowTable(w, &rep, o.top) })
+		func(w io.Writer) error { return report.WriteWindowCSV(w, adv) },
+		func(w io.Writer) error { return report.WriteWindowTable(w, &rep, o.top) })
 	if err != nil {
 		return err
 	}
@@ -178,6 +134,45 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	}
 	fmt.Fprintf(errw, "huesolve: recommended window %g-%g nm (give --window %g-%g to solve and verify)\n", best.Lo, best.Hi, best.Lo, best.Hi)
 	return nil
+}
+
+// check reads the flags of window into the search's options (all but
+// the levels, which need the reference set).
+func (o *windowOptions) check() (validate.WindowOptions, error) {
+	opt := validate.WindowOptions{
+		Weighted: o.fit.weighted, StepNM: o.step, MinWidthNM: o.minWidth, MaxWidthNM: o.maxWidth,
+		Sigma: o.noise, PathCM: o.pathCM,
+	}
+	var err error
+	if opt.Baseline, err = o.fit.baselineModel(); err != nil {
+		return opt, err
+	}
+	if o.searchIn != "" {
+		if opt.Lo, opt.Hi, err = winParseRange(o.searchIn); err != nil {
+			return opt, err
+		}
+	}
+	switch {
+	case !(o.step > 0) || o.step > 1e4:
+		return opt, usagef("--step %g: want a positive number of nm", o.step)
+	case !(o.minWidth > 0) || o.minWidth > 1e5:
+		return opt, usagef("--min-width %g: want a positive number of nm", o.minWidth)
+	case !(o.maxWidth >= 0) || (o.maxWidth > 0 && o.maxWidth < o.minWidth):
+		return opt, usagef("--max-width %g: want 0 or at least --min-width (%g)", o.maxWidth, o.minWidth)
+	case !(o.equivalent >= 0) || o.equivalent > 1000:
+		return opt, usagef("--equivalent %g: want a percentage, 0 or more", o.equivalent)
+	case !(o.noise >= 0) || o.noise > 10:
+		return opt, usagef("--noise %g: want an absorbance SD, 0 or more", o.noise)
+	case checkPathFlag(o.pathCM) != nil:
+		return opt, checkPathFlag(o.pathCM)
+	case o.top < 1:
+		return opt, usagef("--top %d: want at least 1", o.top)
+	}
+	opt.Equivalent = o.equivalent / 100
+	if o.equivalent == 0 {
+		opt.Equivalent = -1
+	}
+	return opt, o.output.check()
 }
 
 // winParseRange reads the --search range "LO-HI" in nm.
@@ -211,117 +206,4 @@ func winLevels(set *reference.Set, flags []string) ([]float64, error) {
 		lv[k] = c
 	}
 	return lv, nil
-}
-
-func writeWindowTable(w io.Writer, rep *windowReport, top int) error {
-	adv := rep.Advice
-	fit := "unweighted fit"
-	if adv.Weighted {
-		fit = "weighted fit"
-	}
-	var lv []string
-	for k, n := range adv.Compounds {
-		lv = append(lv, strings.TrimSpace(fmt.Sprintf("%s %s %s", n, valNum(adv.Levels[k]), adv.Units[k])))
-	}
-	maxW := ""
-	if adv.MaxWidthNM > 0 {
-		maxW = fmt.Sprintf(" and at most %g nm", adv.MaxWidthNM)
-	}
-	fmt.Fprintf(w, "Windows of %s: edges every %g nm, %g nm wide or more%s; baseline %s, %s;\n",
-		rep.Reference, adv.StepNM, adv.MinWidthNM, maxW, adv.Baseline, fit)
-	fmt.Fprintf(w, "errors judged at %s. %d windows tried, %d tell every compound apart.\n\n",
-		strings.Join(lv, ", "), len(adv.Candidates), len(adv.Ranked))
-	best := adv.Candidates[adv.Best]
-	fmt.Fprintf(w, "Recommended: %g-%g nm (%d points), worst predicted error %.3g %% (%s), condition number %.3g.\n",
-		best.Lo, best.Hi, best.Points, 100*best.Worst, best.WorstCompound, best.Cond)
-	if adv.Best != adv.Ranked[0] {
-		b0 := adv.Candidates[adv.Ranked[0]]
-		fmt.Fprintf(w, "(%g-%g nm has the smallest worst error, %.3g %%, with condition number %.3g; the recommended window is within %g %% of that error and better conditioned.)\n",
-			b0.Lo, b0.Hi, 100*b0.Worst, b0.Cond, 100*adv.Equivalent)
-	}
-	fmt.Fprintln(w)
-
-	t := valTable(w)
-	head := []string{"", "Window (nm)", "Points", "Condition no.", "Worst SE (%)"}
-	for k, n := range adv.Compounds {
-		head = append(head, "SE "+n+unitSuffix(adv.Units[k]))
-	}
-	t.Header(head)
-	rows := []int{adv.Best}
-	for _, i := range adv.Ranked {
-		if len(rows) >= top {
-			break
-		}
-		if i != adv.Best {
-			rows = append(rows, i)
-		}
-	}
-	for _, i := range rows {
-		c := adv.Candidates[i]
-		mark := ""
-		if i == adv.Best {
-			mark = "best"
-		}
-		row := []string{mark, fmt.Sprintf("%g-%g", c.Lo, c.Hi), strconv.Itoa(c.Points), fmt.Sprintf("%.3g", c.Cond),
-			fmt.Sprintf("%.3g (%s)", 100*c.Worst, c.WorstCompound)}
-		for _, se := range c.SE {
-			row = append(row, fmt.Sprintf("%.3g", se))
-		}
-		if err := t.Append(row); err != nil {
-			return fmt.Errorf("window table: %w", err)
-		}
-	}
-	if err := t.Render(); err != nil {
-		return fmt.Errorf("window table: %w", err)
-	}
-	fmt.Fprintln(w, "Worst SE: the largest predicted standard error relative to its compound's level.")
-	fmt.Fprintln(w)
-	return valWriteMerits(w, rep.Merits)
-}
-
-func unitSuffix(u string) string {
-	if u == "" {
-		return ""
-	}
-	return " (" + u + ")"
-}
-
-// writeWindowCSV writes one row per window tried.
-func writeWindowCSV(w io.Writer, adv *validate.WindowAdvice) error {
-	cw := csv.NewWriter(w)
-	head := []string{"lo_nm", "hi_nm", "points", "dropped", "condition_number", "singular", "worst_relative_se", "worst_compound"}
-	for _, n := range adv.Compounds {
-		head = append(head, "se_"+n)
-	}
-	for _, n := range adv.Compounds {
-		head = append(head, "relative_se_"+n)
-	}
-	head = append(head, "recommended")
-	if err := cw.Write(head); err != nil {
-		return err
-	}
-	f := func(x float64) string { return strconv.FormatFloat(x, 'g', 6, 64) }
-	for i, c := range adv.Candidates {
-		row := []string{f(c.Lo), f(c.Hi), strconv.Itoa(c.Points), strconv.Itoa(c.Dropped), f(c.Cond), strconv.FormatBool(c.Singular)}
-		if c.Singular {
-			row = append(row, "", "")
-			for range 2 * len(adv.Compounds) {
-				row = append(row, "")
-			}
-		} else {
-			row = append(row, f(c.Worst), c.WorstCompound)
-			for _, v := range c.SE {
-				row = append(row, f(v))
-			}
-			for _, v := range c.RelSE {
-				row = append(row, f(v))
-			}
-		}
-		row = append(row, strconv.FormatBool(i == adv.Best))
-		if err := cw.Write(row); err != nil {
-			return err
-		}
-	}
-	cw.Flush()
-	return cw.Error()
 }

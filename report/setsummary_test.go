@@ -1,4 +1,4 @@
-package main
+package report
 
 import (
 	"strings"
@@ -25,6 +25,22 @@ func TestBandLineNotesUnconfirmed(t *testing.T) {
 		noted := strings.Contains(out, "curvature at the band maximum only, not confirmed at neighbouring wavelengths: likely chance at the 99 % level")
 		if noted != unconfirmed {
 			t.Errorf("unconfirmed %v: band line %q", unconfirmed, out)
+		}
+	}
+}
+
+func TestPlusMinus(t *testing.T) {
+	for _, c := range []struct {
+		v, se float64
+		want  string
+	}{
+		{0.04001, 5.6e-5, "0.040010 ± 0.000056"},
+		{12.345, 0.21, "12.35 ± 0.21"},
+		{1234.5, 12, "1234 ± 12"},
+		{0.5, 0, "0.5"},
+	} {
+		if got := plusMinus(c.v, c.se); got != c.want {
+			t.Errorf("plusMinus(%g, %g) = %q, want %q", c.v, c.se, got, c.want)
 		}
 	}
 }

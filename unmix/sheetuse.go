@@ -1,0 +1,68 @@
+package unmix
+
+import (
+	"sync"
+
+	"huesolve/spectrum"
+)
+
+// SheetUse looks samples up in a sample sheet while a batch runs and
+// remembers which rows matched a sample and which samples the sheet does
+// not name, so that a caller can report both afterwards (a typing error
+// in the sheet or a file name, most often). It is safe for concurrent
+// use, as Batch.Factors is called from the workers. With a nil sheet it
+// matches nothing and records nothing.
+type SheetUse struct {
+	sheet     *SampleSheet
+	mu        sync.Mutex
+	used      map[string]bool
+	defaulted []string
+}
+
+// NewSheetUse returns a SheetUse of sh (nil: no sheet).
+func NewSheetUse(sh *SampleSheet) *SheetUse {
+	return &SheetUse{sheet: sh, used: map[string]bool{}}
+}
+
+// Factors returns the sheet's factors of s (zero fields: defaults) and
+// records the row that matched, or s as a sample the sheet does not name.
+func (u *SheetUse) Factors(s *spectrum.Spectrum) Factors {
+	if u.sheet == nil {
+		return Factors{}
+	}
+	f, row, ok := u.sheet.Match(s)
+	u.mu.Lock()
+	defer u.mu.Unlock()
+	if ok {
+		u.used[row] = true
+	} else {
+		name := s.Name
+		if name == "" {
+			name = s.Source.String()
+		}
+		u.defaulted = append(u.defaulted, name)
+	}
+	return f
+}
+
+// Defaulted returns the samples looked up that the sheet does not name
+// (their names, or their source when unnamed), in lookup order.
+func (u *SheetUse) Defaulted() []string {
+	u.mu.Lock()
+	defer u.mu.Unlock()
+	return append([]string(nil), u.defaulted...)
+}
+
+// Unused returns the sheet's sample names that matched no sample looked
+// up, in sheet order.
+func (u *SheetUse) Unused() []string {
+	u.mu.Lock()
+	defer u.mu.Unlock()
+	var unused []string
+	for _, n := range u.sheet.Names() {
+		if !u.used[n] {
+			unused = append(unused, n)
+		}
+	}
+	return unused
+}
