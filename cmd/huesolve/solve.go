@@ -255,6 +255,9 @@ func (j *solveJob) load(o *solveOptions, refPath string, scans []string, mopt un
 		if j.sheet, err = unmix.ReadSampleSheet(o.samples); err != nil {
 			return err
 		}
+		for _, w := range j.sheet.Warnings() {
+			j.warn(w)
+		}
 	}
 	if o.output.plots != "" {
 		if err := o.output.makePlotDir(); err != nil {

@@ -159,3 +159,19 @@ func TestSolveSetNotes(t *testing.T) {
 		t.Errorf("exit %d, table:\n%s", code, out)
 	}
 }
+
+// TestSolveSheetLatin1: a sample sheet that is not UTF-8 is read as
+// Latin-1 and solve says so on stderr, naming the sheet.
+func TestSolveSheetLatin1(t *testing.T) {
+	dir := t.TempDir()
+	ref := writeSolveSet(t, dir)
+	scan := writeScans(t, filepath.Join(dir, "runs.csv"), solveScan("S1", []float64{5, 3, 2, 8}, 0, 1))
+	sheet := filepath.Join(dir, "ss-latin1.csv")
+	if err := os.WriteFile(sheet, []byte("sample,dilution,note\nS1,2,lot \xb5\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, errOut, code := run(t, "solve", ref, scan, "--samples", sheet)
+	if code != exitOK || !strings.Contains(errOut, "huesolve: warning: "+sheet) || !strings.Contains(errOut, "Latin-1") {
+		t.Errorf("Latin-1 sample sheet: exit %d, stderr:\n%s", code, errOut)
+	}
+}
