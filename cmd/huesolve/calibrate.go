@@ -9,6 +9,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"huesolve/baseline"
+	"huesolve/calibration"
 	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/unmix"
@@ -116,7 +117,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if err != nil {
 		return err
 	}
-	opt := reference.Options{
+	opt := calibration.Options{
 		PathCM: o.pathCM, Ceiling: o.ceiling, Floor: o.floor,
 		ThroughOrigin: o.throughOrigin, Warn: warn, Version: version, Now: now,
 	}
@@ -160,7 +161,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	}
 
 	// Build, save, report.
-	set, err := reference.Build(sh, opt)
+	set, err := calibration.Build(sh, opt)
 	if err != nil {
 		return err
 	}

@@ -175,7 +175,7 @@ func TestUserMessage(t *testing.T) {
 		err  error
 		want string
 	}{
-		{fmt.Errorf("reference: build: std.csv: %w", errors.New("reference: too few standards")), "std.csv: too few standards"},
+		{fmt.Errorf("calibration: build: std.csv: %w", errors.New("reference: too few standards")), "std.csv: too few standards"},
 		{fmt.Errorf("blank: %w", fmt.Errorf("spectrum: %w", pe)), "blank: x.csv does not exist"},
 		{fmt.Errorf("unmix: a.csv: a.csv: bad value"), "a.csv: bad value"},
 		// Words that only look like a package name stay.

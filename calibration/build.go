@@ -1,4 +1,4 @@
-package reference
+package calibration
 
 import (
 	"errors"
@@ -12,20 +12,12 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix/lsq"
 )
 
 const (
-	// DefaultCeiling is the absorbance above which readings are left out
-	// when no ceiling is given. Stray light bends readings above about
-	// A = 2 on ordinary instruments: common practice, not a property of
-	// any one instrument.
-	DefaultCeiling = 2.0
-	// DefaultPathCM is the path length when none is given: the common
-	// 1 cm cuvette.
-	DefaultPathCM = 1.0
-
 	// minLevels is the fewest distinct non-zero concentrations of a
 	// compound that must remain under the ceiling at a wavelength for its
 	// absorptivity there to be usable; two levels always fit a line
@@ -133,7 +125,7 @@ var (
 // condition number above 1e3: ErrDesign), a scan not covering the window
 // (ErrWindow), fewer standards than coefficients plus one
 // (ErrTooFewStandards).
-func Build(sh *Sheet, opt Options) (*Set, error) {
+func Build(sh *reference.Sheet, opt Options) (*reference.Set, error) {
 	var notes []string
 	warn := func(format string, a ...any) {
 		msg := fmt.Sprintf(format, a...)
@@ -143,55 +135,55 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 		}
 	}
 	if sh == nil || len(sh.Standards) == 0 {
-		return nil, fmt.Errorf("reference: build: %w: the sheet has no standards", ErrTooFewStandards)
+		return nil, fmt.Errorf("calibration: build: %w: the sheet has no standards", ErrTooFewStandards)
 	}
 	m := len(sh.Compounds)
 	if m == 0 {
-		return nil, fmt.Errorf("reference: build: %s: no compounds", sh.Path)
+		return nil, fmt.Errorf("calibration: build: %s: no compounds", sh.Path)
 	}
 	if len(sh.Units) != m {
-		return nil, fmt.Errorf("reference: build: %s: %d units for %d compounds", sh.Path, len(sh.Units), m)
+		return nil, fmt.Errorf("calibration: build: %s: %d units for %d compounds", sh.Path, len(sh.Units), m)
 	}
-	rowErr := func(r Row, err error) error {
+	rowErr := func(r reference.Row, err error) error {
 		return &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: err}
 	}
 
 	// Options and their defaults.
 	path := opt.PathCM
 	if path == 0 {
-		path = DefaultPathCM
+		path = reference.DefaultPathCM
 	}
 	ceiling := opt.Ceiling
 	if ceiling == 0 {
-		ceiling = DefaultCeiling
+		ceiling = reference.DefaultCeiling
 	}
 	floor := opt.Floor
 	switch {
 	case !finite(path) || path <= 0:
-		return nil, fmt.Errorf("reference: build: path length %g cm must be positive", path)
+		return nil, fmt.Errorf("calibration: build: path length %g cm must be positive", path)
 	case !finite(ceiling) || !finite(floor) || floor < 0 || ceiling <= floor:
-		return nil, fmt.Errorf("reference: build: ceiling %g and floor %g: need 0 <= floor < ceiling", ceiling, floor)
+		return nil, fmt.Errorf("calibration: build: ceiling %g and floor %g: need 0 <= floor < ceiling", ceiling, floor)
 	}
 	intercept := !opt.ThroughOrigin
 
 	// The rows that enter the fit.
-	fit := append([]Row(nil), sh.Standards...)
+	fit := append([]reference.Row(nil), sh.Standards...)
 	if opt.Blank != nil {
 		fit = append(fit, sh.Blanks...)
 	}
-	for _, r := range append(append([]Row(nil), fit...), sh.Blanks...) {
+	for _, r := range append(append([]reference.Row(nil), fit...), sh.Blanks...) {
 		if r.Scan == nil {
-			return nil, rowErr(r, fmt.Errorf("%w: %s: no scan loaded", ErrScanFile, r.File))
+			return nil, rowErr(r, fmt.Errorf("%w: %s: no scan loaded", reference.ErrScanFile, r.File))
 		}
 		if err := r.Scan.Check(); err != nil {
 			return nil, rowErr(r, err)
 		}
 		if len(r.Conc) != m {
-			return nil, rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", ErrConcentration, len(r.Conc), m))
+			return nil, rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", reference.ErrConcentration, len(r.Conc), m))
 		}
 		for k, v := range r.Conc {
 			if !finite(v) || v < 0 {
-				return nil, rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", ErrConcentration, sh.Compounds[k], v))
+				return nil, rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", reference.ErrConcentration, sh.Compounds[k], v))
 			}
 		}
 	}
@@ -204,7 +196,7 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 			}
 		}
 		if !varies {
-			return nil, fmt.Errorf("reference: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, ErrNoVariation, name, fit[0].Conc[k])
+			return nil, fmt.Errorf("calibration: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, reference.ErrNoVariation, name, fit[0].Conc[k])
 		}
 	}
 	ncoef := m
@@ -212,12 +204,12 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 		ncoef++
 	}
 	if len(fit) <= ncoef {
-		return nil, fmt.Errorf("reference: build: %s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
+		return nil, fmt.Errorf("calibration: build: %s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
 			sh.Path, ErrTooFewStandards, len(fit), ncoef, ncoef+1)
 	}
 	dcond, err := checkDesign(fit, sh.Compounds, intercept)
 	if err != nil {
-		return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
+		return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
 	}
 	if dcond > warnDesignCond {
 		warn("%s: the concentrations of %s vary nearly together across the standards (condition number %.3g, above %g): their absorptivities are uncertain; add standards that vary each compound on its own",
@@ -231,7 +223,7 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 	}
 	p := len(grid)
 	var blank []float64
-	prov := Provenance{Tool: "huesolve", Version: opt.Version, Sheet: sh.Path}
+	prov := reference.Provenance{Tool: "huesolve", Version: opt.Version, Sheet: sh.Path}
 	if prov.Version == "" {
 		prov.Version = Version
 	}
@@ -239,10 +231,10 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 	case opt.Blank != nil:
 		b := opt.Blank.Clone()
 		if err := b.ToAbsorbance(); err != nil {
-			return nil, fmt.Errorf("reference: blank: %w", err)
+			return nil, fmt.Errorf("calibration: blank: %w", err)
 		}
 		if blank, _, err = onGrid(b, grid); err != nil {
-			return nil, fmt.Errorf("reference: blank %s: %w", b.Source, err)
+			return nil, fmt.Errorf("calibration: blank %s: %w", b.Source, err)
 		}
 		prov.Blank = b.Source.File
 		if prov.Blank == "" {
@@ -401,12 +393,12 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 			warn("%s: the calibration line bends at %d of %d wavelengths of its band (%g-%g nm) by Mandel's test, though not at its maximum (%g nm); check the upper standards and the linear range",
 				c.Name, b.Curved, b.Tested, b.LoNM, b.HiNM, c.PeakNM)
 		}
-		if l := c.Linearity; l.CurvedUnconfirmed && !hasString(c.Flags, FlagCurved) {
+		if l := c.Linearity; l.CurvedUnconfirmed && !hasString(c.Flags, reference.FlagCurved) {
 			warn("%s: curvature at the band maximum (%g nm) only, not confirmed at neighbouring wavelengths: likely chance at the %g %% level (Mandel p %.2g); not flagged, and the linear range keeps every level",
-				c.Name, c.PeakNM, 100*TestLevel, l.MandelP)
+				c.Name, c.PeakNM, 100*reference.TestLevel, l.MandelP)
 		}
-		if everCurved[k] && !hasString(c.Flags, FlagCurved) {
-			c.Flags = append([]string{FlagCurved}, c.Flags...)
+		if everCurved[k] && !hasString(c.Flags, reference.FlagCurved) {
+			c.Flags = append([]string{reference.FlagCurved}, c.Flags...)
 		}
 		if noLinear[k] {
 			warn("%s: the calibration line at %g nm bends even over its lowest levels %s: it cannot be quantified linearly with these standards, and its results are approximate (add lower levels, closer together)",
@@ -417,7 +409,7 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 			seen := map[float64]bool{}
 			for _, i := range rows {
 				r := fit[i]
-				c.StandardsLeftOut = append(c.StandardsLeftOut, Standard{File: r.File, Column: r.Column, SHA256: r.SHA256,
+				c.StandardsLeftOut = append(c.StandardsLeftOut, reference.Standard{File: r.File, Column: r.Column, SHA256: r.SHA256,
 					Conc: append([]float64(nil), r.Conc...), Line: r.Line})
 				if v := r.Conc[k]; !seen[v] {
 					seen[v] = true
@@ -440,8 +432,8 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 		now = opt.Now
 	}
 	prov.Created = now().UTC().Format(time.RFC3339)
-	for _, r := range append(append([]Row(nil), sh.Standards...), sh.Blanks...) {
-		prov.Standards = append(prov.Standards, Standard{
+	for _, r := range append(append([]reference.Row(nil), sh.Standards...), sh.Blanks...) {
+		prov.Standards = append(prov.Standards, reference.Standard{
 			File: r.File, Column: r.Column, SHA256: r.SHA256,
 			Conc: append([]float64(nil), r.Conc...), Line: r.Line,
 		})
@@ -450,15 +442,15 @@ func Build(sh *Sheet, opt Options) (*Set, error) {
 	prov.Notes = notes
 	set.Provenance = prov
 	if err := set.Validate(); err != nil {
-		return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
+		return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
 	}
 	return set, nil
 }
 
 // fitParams are the inputs of one least-squares pass of Build.
 type fitParams struct {
-	sh                   *Sheet
-	fit                  []Row
+	sh                   *reference.Sheet
+	fit                  []reference.Row
 	abs                  *mat.Dense // blank-corrected, pre-treated, one row per fit row
 	keep                 [][]bool   // under the ceiling, per fit row and wavelength
 	grid                 []float64
@@ -469,7 +461,7 @@ type fitParams struct {
 // fitResult is one pass: the set (absorptivities, noise, band maxima,
 // standards range, linearity; flags not yet set) and what the ceiling did.
 type fitResult struct {
-	set      *Set
+	set      *reference.Set
 	clipped  []bool // per compound: standards above the ceiling at its band maximum
 	leftOut  int    // readings above the ceiling, over all wavelengths
 	unsolved int    // wavelengths where too few standards stayed under the ceiling
@@ -490,15 +482,15 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 		}
 	}
 	n := len(sel)
-	fit := make([]Row, n)
+	fit := make([]reference.Row, n)
 	keep := make([][]bool, n)
 	for r, i := range sel {
 		fit[r], keep[r] = fp.fit[i], fp.keep[i]
 	}
-	set := &Set{
-		Schema:    SchemaVersion,
+	set := &reference.Set{
+		Schema:    reference.SchemaVersion,
 		Grid:      grid,
-		Compounds: make([]Compound, m),
+		Compounds: make([]reference.Compound, m),
 		Noise:     make([]float64, p),
 		PathCM:    path,
 		Ceiling:   fp.ceiling,
@@ -540,7 +532,7 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 		if !ok {
 			var err error
 			if mf, err = newMaskFit(fit, keep, j, m, intercept); err != nil {
-				return nil, fmt.Errorf("reference: build: %s: least squares at %g nm: %w", sh.Path, grid[j], err)
+				return nil, fmt.Errorf("calibration: build: %s: least squares at %g nm: %w", sh.Path, grid[j], err)
 			}
 			fits[string(key)] = mf
 		}
@@ -551,7 +543,7 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 			mf.y[r] = fp.abs.At(sel[i], j)
 		}
 		if err := mf.solver.Solve(&mf.res, mf.y); err != nil {
-			return nil, fmt.Errorf("reference: build: least squares at %g nm: %w", grid[j], err)
+			return nil, fmt.Errorf("calibration: build: least squares at %g nm: %w", grid[j], err)
 		}
 		if mf.res.DoF <= 0 {
 			continue
@@ -577,7 +569,7 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 		}
 	}
 	if nsolved == 0 {
-		return nil, fmt.Errorf("reference: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
+		return nil, fmt.Errorf("calibration: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
 			sh.Path, ErrTooFewStandards, fp.ceiling)
 	}
 	if nsolved < p {
@@ -602,7 +594,7 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 			}
 		}
 		if jp < 0 {
-			return nil, fmt.Errorf("reference: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
+			return nil, fmt.Errorf("calibration: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
 				sh.Path, ErrTooFewStandards, c.Name, minLevels, fp.ceiling)
 		}
 		c.PeakNM = grid[jp]
@@ -616,8 +608,8 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 		// pointsAt is the calibration line of compound k at grid index
 		// j: the readings of its standards (and blanks) with the other
 		// compounds' fitted contributions removed.
-		pointsAt := func(j int) []Point {
-			var pts []Point
+		pointsAt := func(j int) []reference.Point {
+			var pts []reference.Point
 			for i, r := range fp.fit {
 				if r.Conc[k] == 0 && !allZero(r.Conc) {
 					continue
@@ -628,7 +620,7 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 						y -= r.Conc[l] * kraw[l][j]
 					}
 				}
-				pts = append(pts, Point{Conc: r.Conc[k], Absorbance: y, Used: use[i] && fp.keep[i][j]})
+				pts = append(pts, reference.Point{Conc: r.Conc[k], Absorbance: y, Used: use[i] && fp.keep[i][j]})
 			}
 			return pts
 		}
@@ -639,14 +631,14 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 		}
 		var band []int
 		for j := range p {
-			if c.Usable[j] && c.Absorptivity[j] >= BandFraction*c.Absorptivity[jp] {
+			if c.Usable[j] && c.Absorptivity[j] >= reference.BandFraction*c.Absorptivity[jp] {
 				band = append(band, j)
 			}
 		}
 		bl := bandLine(grid, band, jp, pointsAt)
 		lin, err := lineTestAt(pointsAt(jp), fp.floor, bl.ConfirmsPeak())
 		if err != nil {
-			return nil, fmt.Errorf("reference: build: %s: %s at %g nm: %w", sh.Path, c.Name, c.PeakNM, err)
+			return nil, fmt.Errorf("calibration: build: %s: %s at %g nm: %w", sh.Path, c.Name, c.PeakNM, err)
 		}
 		lin.Band = bl
 		c.Linearity = lin
@@ -657,8 +649,8 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 // checkKept checks that the rows kept still determine every compound:
 // each varies, there are more rows than coefficients, and the design is
 // well conditioned.
-func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
-	var rows []Row
+func checkKept(fit []reference.Row, use []bool, names []string, intercept bool) error {
+	var rows []reference.Row
 	for i, u := range use {
 		if u {
 			rows = append(rows, fit[i])
@@ -680,7 +672,7 @@ func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
 			}
 		}
 		if !varies {
-			return fmt.Errorf("%w: %s would be %g in every standard left", ErrNoVariation, name, rows[0].Conc[k])
+			return fmt.Errorf("%w: %s would be %g in every standard left", reference.ErrNoVariation, name, rows[0].Conc[k])
 		}
 	}
 	_, err := checkDesign(rows, names, intercept)
@@ -690,7 +682,7 @@ func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
 // curvedWithinRange reports whether the used readings of l up to its
 // range's top still fail Mandel's test (the range search stopped at the
 // fewest levels the test can judge).
-func curvedWithinRange(l Linearity) bool {
+func curvedWithinRange(l reference.Linearity) bool {
 	var x, y []float64
 	for _, p := range l.Data {
 		if p.Used && p.Conc <= l.RangeHi {
@@ -704,7 +696,7 @@ func curvedWithinRange(l Linearity) bool {
 
 // levelList names the used non-zero levels of l within its range: "2, 5,
 // 10".
-func levelList(l Linearity) string {
+func levelList(l reference.Linearity) string {
 	var used []float64
 	for _, p := range l.Data {
 		if p.Used && p.Conc <= l.RangeHi {
@@ -744,7 +736,7 @@ const listMax = 5
 
 // rowList names the fit rows' scans with their sheet lines, the first
 // listMax of them: "stdc/L20a.csv (sheet line 8), ... and 3 more".
-func rowList(rows []int, fit []Row) string {
+func rowList(rows []int, fit []reference.Row) string {
 	var b strings.Builder
 	for n, i := range rows {
 		if n == listMax {
@@ -761,7 +753,7 @@ func rowList(rows []int, fit []Row) string {
 
 // rowName is a standard's scan and sheet line: "L20a.csv (sheet line 8)",
 // with the column of a wide table after the file.
-func rowName(r Row) string {
+func rowName(r reference.Row) string {
 	f := r.File
 	if r.Column != "" {
 		f += " column " + r.Column
@@ -804,7 +796,7 @@ type maskFit struct {
 // newMaskFit sets up the fit for the rows kept at wavelength j. The solver
 // is nil when the rows cannot determine the coefficients (too few rows, or
 // rank deficient once readings above the ceiling are left out).
-func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, error) {
+func newMaskFit(fit []reference.Row, keep [][]bool, j, m int, intercept bool) (*maskFit, error) {
 	mf := &maskFit{}
 	for i := range fit {
 		if keep[i][j] {
@@ -855,7 +847,7 @@ func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, e
 // checkDesign refuses a concentration design (with its intercept column)
 // that is rank deficient or badly conditioned once each column is scaled
 // to unit length, and returns its condition number.
-func checkDesign(fit []Row, names []string, intercept bool) (float64, error) {
+func checkDesign(fit []reference.Row, names []string, intercept bool) (float64, error) {
 	m := len(names)
 	nc := m
 	if intercept {
@@ -906,14 +898,14 @@ func designNames(names []string, intercept bool) string {
 
 // commonGrid chooses the grid: the first standard's wavelengths within the
 // window, or within the range all scans share.
-func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([]float64, error) {
-	rows := append(append([]Row(nil), fit...), sh.Blanks...)
+func commonGrid(sh *reference.Sheet, fit []reference.Row, opt Options, warn func(string, ...any)) ([]float64, error) {
+	rows := append(append([]reference.Row(nil), fit...), sh.Blanks...)
 	first := sh.Standards[0].Scan.Wavelengths
 	var lo, hi float64
 	if opt.WindowLo != 0 || opt.WindowHi != 0 {
 		lo, hi = opt.WindowLo, opt.WindowHi
 		if !finite(lo) || !finite(hi) || lo >= hi || lo < 0 {
-			return nil, fmt.Errorf("reference: build: %w: window %g-%g nm is empty", ErrWindow, lo, hi)
+			return nil, fmt.Errorf("calibration: build: %w: window %g-%g nm is empty", ErrWindow, lo, hi)
 		}
 		covers := func(wl []float64) bool {
 			s := gridSlack * (wl[len(wl)-1] - wl[0])
@@ -926,7 +918,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 			}
 		}
 		if b := opt.Blank; b != nil && !covers(b.Wavelengths) {
-			return nil, fmt.Errorf("reference: build: %w: blank %s covers %g-%g nm, the window is %g-%g nm",
+			return nil, fmt.Errorf("calibration: build: %w: blank %s covers %g-%g nm, the window is %g-%g nm",
 				ErrWindow, b.Source, b.Wavelengths[0], b.Wavelengths[len(b.Wavelengths)-1], lo, hi)
 		}
 	} else {
@@ -939,7 +931,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		}
 		var err error
 		if lo, hi, err = spectrum.CommonRange(ss); err != nil {
-			return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
+			return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
 		}
 		if lo > first[0] || hi < first[len(first)-1] {
 			warn("%s", narrowNote(rows, opt.Blank, first, lo, hi))
@@ -953,7 +945,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		}
 	}
 	if len(grid) < 2 {
-		return nil, fmt.Errorf("reference: build: %w: %s has %d points within %g-%g nm; need at least 2",
+		return nil, fmt.Errorf("calibration: build: %w: %s has %d points within %g-%g nm; need at least 2",
 			ErrWindow, sh.Standards[0].File, len(grid), lo, hi)
 	}
 	var moved []int
@@ -975,7 +967,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 // narrowNote says which scans limit the shared range lo-hi to less than
 // the first standard's grid (first): those starting at lo or ending at
 // hi, each with its own range, and the range the other scans share.
-func narrowNote(rows []Row, blank *spectrum.Spectrum, first []float64, lo, hi float64) string {
+func narrowNote(rows []reference.Row, blank *spectrum.Spectrum, first []float64, lo, hi float64) string {
 	s := gridSlack * (first[len(first)-1] - first[0])
 	cutLo, cutHi := lo > first[0]+s, hi < first[len(first)-1]-s
 	limits := func(wl []float64) bool {
@@ -1025,3 +1017,5 @@ func onGrid(s *spectrum.Spectrum, grid []float64) (v []float64, resampled bool, 
 	}
 	return v, true, nil
 }
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }

@@ -1,4 +1,4 @@
-package reference
+package calibration
 
 import (
 	"bufio"
@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"gonum.org/v1/gonum/stat/distuv"
+	"huesolve/reference"
 )
 
 // readNorris reads testdata/reference/Norris.dat (NIST StRD, columns y x).
@@ -82,10 +83,10 @@ func readFixture(t *testing.T) fixture {
 	return fx
 }
 
-func points(x, y []float64) []Point {
-	p := make([]Point, len(x))
+func points(x, y []float64) []reference.Point {
+	p := make([]reference.Point, len(x))
 	for i := range x {
-		p[i] = Point{Conc: x[i], Absorbance: y[i], Used: true}
+		p[i] = reference.Point{Conc: x[i], Absorbance: y[i], Used: true}
 	}
 	return p
 }
@@ -195,9 +196,9 @@ func TestMandelCritical(t *testing.T) {
 	fx := readFixture(t)
 	for _, dof := range []int{18, 33} {
 		want := fx.value[fmt.Sprintf("crit f99_1_%d", dof)]
-		got := distuv.F{D1: 1, D2: float64(dof)}.Quantile(TestLevel)
+		got := distuv.F{D1: 1, D2: float64(dof)}.Quantile(reference.TestLevel)
 		if e := relErr(got, want); e > 1e-8 {
-			t.Errorf("F(1, %d) at %g = %.12g, want %.12g from SciPy", dof, TestLevel, got, want)
+			t.Errorf("F(1, %d) at %g = %.12g, want %.12g from SciPy", dof, reference.TestLevel, got, want)
 		}
 	}
 }
