@@ -126,67 +126,127 @@ var (
 // (ErrWindow), fewer standards than coefficients plus one
 // (ErrTooFewStandards).
 func Build(sh *reference.Sheet, opt Options) (*reference.Set, error) {
-	var notes []string
-	warn := func(format string, a ...any) {
-		msg := fmt.Sprintf(format, a...)
-		notes = append(notes, msg)
-		if opt.Warn != nil {
-			opt.Warn(msg)
-		}
+	b := &builder{sh: sh, opt: opt}
+	if err := b.checkSheet(); err != nil {
+		return nil, err
 	}
-	if sh == nil || len(sh.Standards) == 0 {
-		return nil, fmt.Errorf("calibration: build: %w: the sheet has no standards", ErrTooFewStandards)
+	if err := b.defaults(); err != nil {
+		return nil, err
 	}
-	m := len(sh.Compounds)
-	if m == 0 {
-		return nil, fmt.Errorf("calibration: build: %s: no compounds", sh.Path)
+	if err := b.rows(); err != nil {
+		return nil, err
 	}
-	if len(sh.Units) != m {
-		return nil, fmt.Errorf("calibration: build: %s: %d units for %d compounds", sh.Path, len(sh.Units), m)
+	if err := b.gridAndBlank(); err != nil {
+		return nil, err
 	}
-	rowErr := func(r reference.Row, err error) error {
-		return &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: err}
+	if err := b.readings(); err != nil {
+		return nil, err
 	}
+	res, err := b.fitWithinRange()
+	if err != nil {
+		return nil, err
+	}
+	set := res.set
+	set.Pretreat = append([]baseline.Step(nil), opt.Pretreat...)
+	b.ceilingNotes(res)
+	for k := range set.Compounds {
+		b.finishCompound(&set.Compounds[k], k)
+	}
+	return b.finish(set)
+}
+
+// builder is the state of one Build, filled in section by section.
+type builder struct {
+	sh    *reference.Sheet
+	opt   Options
+	notes []string // the warnings given, for the provenance
+	m     int      // compounds
 
 	// Options and their defaults.
-	path := opt.PathCM
-	if path == 0 {
-		path = reference.DefaultPathCM
-	}
-	ceiling := opt.Ceiling
-	if ceiling == 0 {
-		ceiling = reference.DefaultCeiling
-	}
-	floor := opt.Floor
-	switch {
-	case !finite(path) || path <= 0:
-		return nil, fmt.Errorf("calibration: build: path length %g cm must be positive", path)
-	case !finite(ceiling) || !finite(floor) || floor < 0 || ceiling <= floor:
-		return nil, fmt.Errorf("calibration: build: ceiling %g and floor %g: need 0 <= floor < ceiling", ceiling, floor)
-	}
-	intercept := !opt.ThroughOrigin
+	path, ceiling, floor float64
+	intercept            bool
 
-	// The rows that enter the fit.
-	fit := append([]reference.Row(nil), sh.Standards...)
-	if opt.Blank != nil {
-		fit = append(fit, sh.Blanks...)
+	fit   []reference.Row // the rows that enter the fit
+	grid  []float64
+	blank []float64 // nil when the absorbances are used as read
+	prov  reference.Provenance
+
+	abs   *mat.Dense // blank-corrected, pre-treated, one row per fit row
+	keep  [][]bool   // under the ceiling, per fit row and wavelength
+	reach int        // points a smoothing step carries a reading
+
+	// What the refits within the linear range did, per compound.
+	everCurved  []bool
+	everClipped []bool
+	leftOutRows [][]int // fit rows it caused to be left out
+	noLinear    []bool
+}
+
+// warn keeps a note on what Build did and passes it to Options.Warn.
+func (b *builder) warn(format string, a ...any) {
+	msg := fmt.Sprintf(format, a...)
+	b.notes = append(b.notes, msg)
+	if b.opt.Warn != nil {
+		b.opt.Warn(msg)
 	}
-	for _, r := range append(append([]reference.Row(nil), fit...), sh.Blanks...) {
-		if r.Scan == nil {
-			return nil, rowErr(r, fmt.Errorf("%w: %s: no scan loaded", reference.ErrScanFile, r.File))
-		}
-		if err := r.Scan.Check(); err != nil {
-			return nil, rowErr(r, err)
-		}
-		if len(r.Conc) != m {
-			return nil, rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", reference.ErrConcentration, len(r.Conc), m))
-		}
-		for k, v := range r.Conc {
-			if !finite(v) || v < 0 {
-				return nil, rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", reference.ErrConcentration, sh.Compounds[k], v))
-			}
+}
+
+// rowErr places err at the sheet row r.
+func (b *builder) rowErr(r reference.Row, err error) error {
+	return &spectrum.ParseError{File: b.sh.Path, Line: r.Line, Err: err}
+}
+
+// checkSheet checks that the sheet has standards, compounds and units.
+func (b *builder) checkSheet() error {
+	sh := b.sh
+	if sh == nil || len(sh.Standards) == 0 {
+		return fmt.Errorf("calibration: build: %w: the sheet has no standards", ErrTooFewStandards)
+	}
+	b.m = len(sh.Compounds)
+	if b.m == 0 {
+		return fmt.Errorf("calibration: build: %s: no compounds", sh.Path)
+	}
+	if len(sh.Units) != b.m {
+		return fmt.Errorf("calibration: build: %s: %d units for %d compounds", sh.Path, len(sh.Units), b.m)
+	}
+	return nil
+}
+
+// defaults sets the options and their defaults, and checks them.
+func (b *builder) defaults() error {
+	b.path = b.opt.PathCM
+	if b.path == 0 {
+		b.path = reference.DefaultPathCM
+	}
+	b.ceiling = b.opt.Ceiling
+	if b.ceiling == 0 {
+		b.ceiling = reference.DefaultCeiling
+	}
+	b.floor = b.opt.Floor
+	switch {
+	case !finite(b.path) || b.path <= 0:
+		return fmt.Errorf("calibration: build: path length %g cm must be positive", b.path)
+	case !finite(b.ceiling) || !finite(b.floor) || b.floor < 0 || b.ceiling <= b.floor:
+		return fmt.Errorf("calibration: build: ceiling %g and floor %g: need 0 <= floor < ceiling", b.ceiling, b.floor)
+	}
+	b.intercept = !b.opt.ThroughOrigin
+	return nil
+}
+
+// rows chooses the rows that enter the fit, checks each of them and the
+// concentration design they make.
+func (b *builder) rows() error {
+	sh := b.sh
+	b.fit = append([]reference.Row(nil), sh.Standards...)
+	if b.opt.Blank != nil {
+		b.fit = append(b.fit, sh.Blanks...)
+	}
+	for _, r := range append(append([]reference.Row(nil), b.fit...), sh.Blanks...) {
+		if err := b.checkRow(r); err != nil {
+			return err
 		}
 	}
+	fit := b.fit
 	for k, name := range sh.Compounds {
 		varies := false
 		for _, r := range fit[1:] {
@@ -196,128 +256,191 @@ func Build(sh *reference.Sheet, opt Options) (*reference.Set, error) {
 			}
 		}
 		if !varies {
-			return nil, fmt.Errorf("calibration: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, reference.ErrNoVariation, name, fit[0].Conc[k])
+			return fmt.Errorf("calibration: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, reference.ErrNoVariation, name, fit[0].Conc[k])
 		}
 	}
-	ncoef := m
-	if intercept {
+	ncoef := b.m
+	if b.intercept {
 		ncoef++
 	}
 	if len(fit) <= ncoef {
-		return nil, fmt.Errorf("calibration: build: %s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
+		return fmt.Errorf("calibration: build: %s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
 			sh.Path, ErrTooFewStandards, len(fit), ncoef, ncoef+1)
 	}
-	dcond, err := checkDesign(fit, sh.Compounds, intercept)
+	dcond, err := checkDesign(fit, sh.Compounds, b.intercept)
 	if err != nil {
-		return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
+		return fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
 	}
 	if dcond > warnDesignCond {
-		warn("%s: the concentrations of %s vary nearly together across the standards (condition number %.3g, above %g): their absorptivities are uncertain; add standards that vary each compound on its own",
-			sh.Path, designNames(sh.Compounds, intercept), dcond, warnDesignCond)
+		b.warn("%s: the concentrations of %s vary nearly together across the standards (condition number %.3g, above %g): their absorptivities are uncertain; add standards that vary each compound on its own",
+			sh.Path, designNames(sh.Compounds, b.intercept), dcond, warnDesignCond)
 	}
+	return nil
+}
 
-	// Common grid.
-	grid, err := commonGrid(sh, fit, opt, warn)
-	if err != nil {
-		return nil, err
+// checkRow checks that row r has a valid scan and a finite, non-negative
+// concentration of every compound.
+func (b *builder) checkRow(r reference.Row) error {
+	if r.Scan == nil {
+		return b.rowErr(r, fmt.Errorf("%w: %s: no scan loaded", reference.ErrScanFile, r.File))
 	}
-	p := len(grid)
-	var blank []float64
-	prov := reference.Provenance{Tool: "huesolve", Version: opt.Version, Sheet: sh.Path}
-	if prov.Version == "" {
-		prov.Version = Version
+	if err := r.Scan.Check(); err != nil {
+		return b.rowErr(r, err)
+	}
+	if len(r.Conc) != b.m {
+		return b.rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", reference.ErrConcentration, len(r.Conc), b.m))
+	}
+	for k, v := range r.Conc {
+		if !finite(v) || v < 0 {
+			return b.rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", reference.ErrConcentration, b.sh.Compounds[k], v))
+		}
+	}
+	return nil
+}
+
+// gridAndBlank chooses the common grid and puts the blank on it, noting
+// where it came from in the provenance.
+func (b *builder) gridAndBlank() error {
+	sh, opt := b.sh, b.opt
+	grid, err := commonGrid(sh, b.fit, opt, b.warn)
+	if err != nil {
+		return err
+	}
+	b.grid = grid
+	b.prov = reference.Provenance{Tool: "huesolve", Version: opt.Version, Sheet: sh.Path}
+	if b.prov.Version == "" {
+		b.prov.Version = Version
 	}
 	switch {
 	case opt.Blank != nil:
-		b := opt.Blank.Clone()
-		if err := b.ToAbsorbance(); err != nil {
-			return nil, fmt.Errorf("calibration: blank: %w", err)
-		}
-		if blank, _, err = onGrid(b, grid); err != nil {
-			return nil, fmt.Errorf("calibration: blank %s: %w", b.Source, err)
-		}
-		prov.Blank = b.Source.File
-		if prov.Blank == "" {
-			prov.Blank = b.Name
-		}
-		prov.BlankSHA256 = opt.BlankSHA256
+		return b.separateBlank()
 	case len(sh.Blanks) > 0:
-		blank = make([]float64, p)
-		for _, r := range sh.Blanks {
-			v, _, err := onGrid(r.Scan, grid)
-			if err != nil {
-				return nil, rowErr(r, err)
-			}
-			for j := range blank {
-				blank[j] += v[j]
-			}
+		return b.sheetBlank()
+	case b.intercept:
+		b.warn("no blank given and no blank rows in %s: absorbances are used as read (the intercept takes up the solvent and cell)", sh.Path)
+	default:
+		b.warn("no blank given and no blank rows in %s: absorbances are used as read, so the solvent and cell count as analyte absorbance in a through-origin fit", sh.Path)
+	}
+	return nil
+}
+
+// separateBlank puts Options.Blank on the grid.
+func (b *builder) separateBlank() error {
+	bl := b.opt.Blank.Clone()
+	if err := bl.ToAbsorbance(); err != nil {
+		return fmt.Errorf("calibration: blank: %w", err)
+	}
+	var err error
+	if b.blank, _, err = onGrid(bl, b.grid); err != nil {
+		return fmt.Errorf("calibration: blank %s: %w", bl.Source, err)
+	}
+	b.prov.Blank = bl.Source.File
+	if b.prov.Blank == "" {
+		b.prov.Blank = bl.Name
+	}
+	b.prov.BlankSHA256 = b.opt.BlankSHA256
+	return nil
+}
+
+// sheetBlank makes the blank the mean of the sheet's blank rows.
+func (b *builder) sheetBlank() error {
+	blanks := b.sh.Blanks
+	blank := make([]float64, len(b.grid))
+	for _, r := range blanks {
+		v, _, err := onGrid(r.Scan, b.grid)
+		if err != nil {
+			return b.rowErr(r, err)
 		}
 		for j := range blank {
-			blank[j] /= float64(len(sh.Blanks))
-		}
-		prov.Blank = "sheet rows"
-	default:
-		if intercept {
-			warn("no blank given and no blank rows in %s: absorbances are used as read (the intercept takes up the solvent and cell)", sh.Path)
-		} else {
-			warn("no blank given and no blank rows in %s: absorbances are used as read, so the solvent and cell count as analyte absorbance in a through-origin fit", sh.Path)
+			blank[j] += v[j]
 		}
 	}
+	for j := range blank {
+		blank[j] /= float64(len(blanks))
+	}
+	b.blank = blank
+	b.prov.Blank = "sheet rows"
+	return nil
+}
 
-	// Raw readings, ceiling mask, corrected and pre-treated absorbances.
-	n := len(fit)
+// readings puts the fit rows on the grid: raw readings, ceiling mask,
+// corrected and pre-treated absorbances.
+func (b *builder) readings() error {
+	n, p := len(b.fit), len(b.grid)
 	raw := mat.NewDense(n, p, nil)
-	abs := mat.NewDense(n, p, nil)
-	for i, r := range fit {
-		v, _, err := onGrid(r.Scan, grid)
+	b.abs = mat.NewDense(n, p, nil)
+	for i, r := range b.fit {
+		v, _, err := onGrid(r.Scan, b.grid)
 		if err != nil {
-			return nil, rowErr(r, err)
+			return b.rowErr(r, err)
 		}
 		raw.SetRow(i, v)
-		if blank != nil {
+		if b.blank != nil {
 			for j := range v {
-				v[j] -= blank[j]
+				v[j] -= b.blank[j]
 			}
 		}
-		t, err := baseline.ApplyAll(opt.Pretreat, grid, v)
+		t, err := b.pretreat(r, v)
 		if err != nil {
-			return nil, rowErr(r, fmt.Errorf("pre-treatment of %s: %w", r.File, err))
+			return err
 		}
-		if len(t) != p {
-			return nil, rowErr(r, fmt.Errorf("pre-treatment of %s returned %d points for %d", r.File, len(t), p))
-		}
-		for j, x := range t {
-			if !finite(x) {
-				return nil, rowErr(r, fmt.Errorf("pre-treatment of %s gave %v at %g nm", r.File, x, grid[j]))
-			}
-		}
-		abs.SetRow(i, t)
+		b.abs.SetRow(i, t)
 	}
 	// A reading above the ceiling is left out, and so are the pre-treated
 	// values a smoothing step carried it into (baseline.Reach points
 	// either side), as solve does for samples.
-	reach := baseline.Reach(opt.Pretreat)
-	keep := make([][]bool, n)
-	for i := range keep {
-		keep[i] = make([]bool, p)
-		for j := range keep[i] {
-			keep[i][j] = true
+	b.reach = baseline.Reach(b.opt.Pretreat)
+	b.keep = make([][]bool, n)
+	for i := range b.keep {
+		b.keep[i] = underCeiling(raw.RawRowView(i), b.ceiling, b.reach)
+	}
+	return nil
+}
+
+// pretreat applies the pre-treatment steps to the blank-corrected
+// readings v of row r and checks what they return.
+func (b *builder) pretreat(r reference.Row, v []float64) ([]float64, error) {
+	t, err := baseline.ApplyAll(b.opt.Pretreat, b.grid, v)
+	if err != nil {
+		return nil, b.rowErr(r, fmt.Errorf("pre-treatment of %s: %w", r.File, err))
+	}
+	if len(t) != len(b.grid) {
+		return nil, b.rowErr(r, fmt.Errorf("pre-treatment of %s returned %d points for %d", r.File, len(t), len(b.grid)))
+	}
+	for j, x := range t {
+		if !finite(x) {
+			return nil, b.rowErr(r, fmt.Errorf("pre-treatment of %s gave %v at %g nm", r.File, x, b.grid[j]))
 		}
-		for j, v := range raw.RawRowView(i) {
-			if v > ceiling {
-				for k := max(j-reach, 0); k <= min(j+reach, p-1); k++ {
-					keep[i][k] = false
-				}
+	}
+	return t, nil
+}
+
+// underCeiling marks the readings raw kept: false at a reading above the
+// ceiling and within reach points of one.
+func underCeiling(raw []float64, ceiling float64, reach int) []bool {
+	p := len(raw)
+	keep := make([]bool, p)
+	for j := range keep {
+		keep[j] = true
+	}
+	for j, v := range raw {
+		if v > ceiling {
+			for k := max(j-reach, 0); k <= min(j+reach, p-1); k++ {
+				keep[k] = false
 			}
 		}
 	}
+	return keep
+}
 
-	// Per-wavelength least squares on all rows, then again without the
-	// standards above a compound's linear range (or above what the
-	// ceiling let through at its band maximum) until nothing more is
-	// left out: the absorptivities rest on the range the set states.
-	fp := fitParams{sh: sh, fit: fit, abs: abs, keep: keep, grid: grid, path: path,
-		ceiling: ceiling, floor: floor, intercept: intercept}
+// fitWithinRange fits per-wavelength least squares on all rows, then
+// again without the standards above a compound's linear range (or above
+// what the ceiling let through at its band maximum) until nothing more is
+// left out: the absorptivities rest on the range the set states.
+func (b *builder) fitWithinRange() (*fitResult, error) {
+	fp := fitParams{sh: b.sh, fit: b.fit, abs: b.abs, keep: b.keep, grid: b.grid, path: b.path,
+		ceiling: b.ceiling, floor: b.floor, intercept: b.intercept}
+	n, m := len(b.fit), b.m
 	use := make([]bool, n)
 	for i := range use {
 		use[i] = true
@@ -326,110 +449,135 @@ func Build(sh *reference.Sheet, opt Options) (*reference.Set, error) {
 	if err != nil {
 		return nil, err
 	}
-	everCurved := make([]bool, m)
-	everClipped := make([]bool, m)
-	leftOutRows := make([][]int, m) // per compound: fit rows it caused to be left out
-	noLinear := make([]bool, m)
-	for range len(fit) {
+	b.everCurved = make([]bool, m)
+	b.everClipped = make([]bool, m)
+	b.leftOutRows = make([][]int, m)
+	b.noLinear = make([]bool, m)
+	for range n {
 		for k := range m {
-			everCurved[k] = everCurved[k] || res.set.Compounds[k].Linearity.Curved
-			everClipped[k] = everClipped[k] || res.clipped[k]
+			b.everCurved[k] = b.everCurved[k] || res.set.Compounds[k].Linearity.Curved
+			b.everClipped[k] = b.everClipped[k] || res.clipped[k]
 		}
-		next := append([]bool(nil), use...)
-		var cutBy [][]int
-		changed := false
-		for k := range m {
-			c := &res.set.Compounds[k]
-			l := c.Linearity
-			// Curved even on the lowest levels Mandel's test can judge
-			// (3): no linear range to fit within; the lowest levels are
-			// still the nearest to one, so the fit keeps to them.
-			noLinear[k] = l.Curved && curvedWithinRange(l)
-			cut := l.RangeHi
-			var rows []int
-			for i, r := range fit {
-				if next[i] && r.Conc[k] > cut {
-					next[i] = false
-					rows = append(rows, i)
-				}
-			}
-			cutBy = append(cutBy, rows)
-			changed = changed || len(rows) > 0
-		}
+		next, cutBy, changed := b.cutAboveRange(res, use)
 		if !changed {
 			break
 		}
-		if err := checkKept(fit, next, sh.Compounds, intercept); err != nil {
-			warn("%s: the absorptivities could not be refitted within the linear range (%v); they rest on all standards, so results above the stated linear range are biased", sh.Path, err)
+		if err := checkKept(b.fit, next, b.sh.Compounds, b.intercept); err != nil {
+			b.refitFailed(err)
 			break
 		}
 		nres, err := fp.run(next)
 		if err != nil {
-			warn("%s: the absorptivities could not be refitted within the linear range (%v); they rest on all standards, so results above the stated linear range are biased", sh.Path, err)
+			b.refitFailed(err)
 			break
 		}
 		for k := range m {
-			leftOutRows[k] = append(leftOutRows[k], cutBy[k]...)
+			b.leftOutRows[k] = append(b.leftOutRows[k], cutBy[k]...)
 		}
 		use, res = next, nres
 	}
-	set := res.set
-	set.Pretreat = append([]baseline.Step(nil), opt.Pretreat...)
+	return res, nil
+}
+
+// cutAboveRange leaves out of the rows in use those above each compound's
+// linear range in res, returning the rows kept, the rows each compound
+// cut and whether any were cut.
+func (b *builder) cutAboveRange(res *fitResult, use []bool) (next []bool, cutBy [][]int, changed bool) {
+	next = append([]bool(nil), use...)
+	for k := range b.m {
+		l := res.set.Compounds[k].Linearity
+		// Curved even on the lowest levels Mandel's test can judge
+		// (3): no linear range to fit within; the lowest levels are
+		// still the nearest to one, so the fit keeps to them.
+		b.noLinear[k] = l.Curved && curvedWithinRange(l)
+		cut := l.RangeHi
+		var rows []int
+		for i, r := range b.fit {
+			if next[i] && r.Conc[k] > cut {
+				next[i] = false
+				rows = append(rows, i)
+			}
+		}
+		cutBy = append(cutBy, rows)
+		changed = changed || len(rows) > 0
+	}
+	return next, cutBy, changed
+}
+
+// refitFailed warns that the refit within the linear range failed with err.
+func (b *builder) refitFailed(err error) {
+	b.warn("%s: the absorptivities could not be refitted within the linear range (%v); they rest on all standards, so results above the stated linear range are biased", b.sh.Path, err)
+}
+
+// ceilingNotes says how many readings the ceiling left out and at how
+// many wavelengths nothing could be fitted.
+func (b *builder) ceilingNotes(res *fitResult) {
 	if res.leftOut > 0 {
-		if reach > 0 {
-			warn("%d readings above the ceiling (A > %g), or within %d points of one after smoothing, were left out of the fit", res.leftOut, ceiling, reach)
+		if b.reach > 0 {
+			b.warn("%d readings above the ceiling (A > %g), or within %d points of one after smoothing, were left out of the fit", res.leftOut, b.ceiling, b.reach)
 		} else {
-			warn("%d readings above the ceiling (A > %g) were left out of the fit", res.leftOut, ceiling)
+			b.warn("%d readings above the ceiling (A > %g) were left out of the fit", res.leftOut, b.ceiling)
 		}
 	}
 	if res.unsolved > 0 {
-		warn("at %d of %d wavelengths too few standards stayed under the ceiling to fit; no compound is usable there (noise set to the largest found, %.3g)",
-			res.unsolved, p, res.worst)
+		b.warn("at %d of %d wavelengths too few standards stayed under the ceiling to fit; no compound is usable there (noise set to the largest found, %.3g)",
+			res.unsolved, len(b.grid), res.worst)
 	}
-	for k := range set.Compounds {
-		c := &set.Compounds[k]
-		c.Flags = compoundFlags(c.Linearity, everClipped[k], floor)
-		if b := c.Linearity.Band; b.TooCurved() && !c.Linearity.Curved {
-			warn("%s: the calibration line bends at %d of %d wavelengths of its band (%g-%g nm) by Mandel's test, though not at its maximum (%g nm); check the upper standards and the linear range",
-				c.Name, b.Curved, b.Tested, b.LoNM, b.HiNM, c.PeakNM)
-		}
-		if l := c.Linearity; l.CurvedUnconfirmed && !hasString(c.Flags, reference.FlagCurved) {
-			warn("%s: curvature at the band maximum (%g nm) only, not confirmed at neighbouring wavelengths: likely chance at the %g %% level (Mandel p %.2g); not flagged, and the linear range keeps every level",
-				c.Name, c.PeakNM, 100*reference.TestLevel, l.MandelP)
-		}
-		if everCurved[k] && !hasString(c.Flags, reference.FlagCurved) {
-			c.Flags = append([]string{reference.FlagCurved}, c.Flags...)
-		}
-		if noLinear[k] {
-			warn("%s: the calibration line at %g nm bends even over its lowest levels %s: it cannot be quantified linearly with these standards, and its results are approximate (add lower levels, closer together)",
-				c.Name, c.PeakNM, levelList(c.Linearity))
-		}
-		if rows := leftOutRows[k]; len(rows) > 0 {
-			var levels []float64
-			seen := map[float64]bool{}
-			for _, i := range rows {
-				r := fit[i]
-				c.StandardsLeftOut = append(c.StandardsLeftOut, reference.Standard{File: r.File, Column: r.Column, SHA256: r.SHA256,
-					Conc: append([]float64(nil), r.Conc...), Line: r.Line})
-				if v := r.Conc[k]; !seen[v] {
-					seen[v] = true
-					levels = append(levels, v)
-				}
-			}
-			sort.Float64s(levels)
-			why := "its calibration line bends above that by Mandel's test"
-			if !everCurved[k] {
-				why = fmt.Sprintf("higher standards read above the ceiling of A = %g at the band maximum", ceiling)
-			}
-			warn("%s: the absorptivities rest on the standards up to %s only, as %s; left out %s %s: %s",
-				c.Name, fmtNum(c.MaxStandard), why, plural(len(levels), "level", "levels"), numList(levels), rowList(rows, fit))
-		}
-	}
+}
 
-	// Provenance.
+// finishCompound sets the flags of compound k (c) and warns about its
+// calibration line and the standards left out for it.
+func (b *builder) finishCompound(c *reference.Compound, k int) {
+	c.Flags = compoundFlags(c.Linearity, b.everClipped[k], b.floor)
+	if bl := c.Linearity.Band; bl.TooCurved() && !c.Linearity.Curved {
+		b.warn("%s: the calibration line bends at %d of %d wavelengths of its band (%g-%g nm) by Mandel's test, though not at its maximum (%g nm); check the upper standards and the linear range",
+			c.Name, bl.Curved, bl.Tested, bl.LoNM, bl.HiNM, c.PeakNM)
+	}
+	if l := c.Linearity; l.CurvedUnconfirmed && !hasString(c.Flags, reference.FlagCurved) {
+		b.warn("%s: curvature at the band maximum (%g nm) only, not confirmed at neighbouring wavelengths: likely chance at the %g %% level (Mandel p %.2g); not flagged, and the linear range keeps every level",
+			c.Name, c.PeakNM, 100*reference.TestLevel, l.MandelP)
+	}
+	if b.everCurved[k] && !hasString(c.Flags, reference.FlagCurved) {
+		c.Flags = append([]string{reference.FlagCurved}, c.Flags...)
+	}
+	if b.noLinear[k] {
+		b.warn("%s: the calibration line at %g nm bends even over its lowest levels %s: it cannot be quantified linearly with these standards, and its results are approximate (add lower levels, closer together)",
+			c.Name, c.PeakNM, levelList(c.Linearity))
+	}
+	if rows := b.leftOutRows[k]; len(rows) > 0 {
+		b.standardsLeftOut(c, k, rows)
+	}
+}
+
+// standardsLeftOut records the fit rows left out for compound k (c) and
+// says why.
+func (b *builder) standardsLeftOut(c *reference.Compound, k int, rows []int) {
+	var levels []float64
+	seen := map[float64]bool{}
+	for _, i := range rows {
+		r := b.fit[i]
+		c.StandardsLeftOut = append(c.StandardsLeftOut, reference.Standard{File: r.File, Column: r.Column, SHA256: r.SHA256,
+			Conc: append([]float64(nil), r.Conc...), Line: r.Line})
+		if v := r.Conc[k]; !seen[v] {
+			seen[v] = true
+			levels = append(levels, v)
+		}
+	}
+	sort.Float64s(levels)
+	why := "its calibration line bends above that by Mandel's test"
+	if !b.everCurved[k] {
+		why = fmt.Sprintf("higher standards read above the ceiling of A = %g at the band maximum", b.ceiling)
+	}
+	b.warn("%s: the absorptivities rest on the standards up to %s only, as %s; left out %s %s: %s",
+		c.Name, fmtNum(c.MaxStandard), why, plural(len(levels), "level", "levels"), numList(levels), rowList(rows, b.fit))
+}
+
+// finish completes the provenance and checks the set.
+func (b *builder) finish(set *reference.Set) (*reference.Set, error) {
+	sh, prov := b.sh, b.prov
 	now := time.Now
-	if opt.Now != nil {
-		now = opt.Now
+	if b.opt.Now != nil {
+		now = b.opt.Now
 	}
 	prov.Created = now().UTC().Format(time.RFC3339)
 	for _, r := range append(append([]reference.Row(nil), sh.Standards...), sh.Blanks...) {
@@ -439,7 +587,7 @@ func Build(sh *reference.Sheet, opt Options) (*reference.Set, error) {
 		})
 	}
 	sort.SliceStable(prov.Standards, func(a, b int) bool { return prov.Standards[a].Line < prov.Standards[b].Line })
-	prov.Notes = notes
+	prov.Notes = b.notes
 	set.Provenance = prov
 	if err := set.Validate(); err != nil {
 		return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
@@ -468,99 +616,159 @@ type fitResult struct {
 	worst    float64
 }
 
+// pass is the state of one run of fitParams.
+type pass struct {
+	*fitParams
+	use   []bool
+	sel   []int           // indexes of the fit rows in use
+	rows  []reference.Row // the fit rows in use
+	masks [][]bool        // their keep masks
+	res   *fitResult
+	kraw  [][]float64 // fitted K*b per compound, absorbance per unit concentration
+	icpt  []float64   // fitted intercept, when there is one
+}
+
 // run fits the rows marked in use: at each wavelength, one solver per
 // distinct mask of readings under the ceiling; then each compound's band
 // maximum, standards range and calibration line. Rows not in use still
 // appear in the lines' Data, as readings not used.
 func (fp *fitParams) run(use []bool) (*fitResult, error) {
-	sh, grid, path, intercept := fp.sh, fp.grid, fp.path, fp.intercept
-	m, p := len(sh.Compounds), len(grid)
-	var sel []int
-	for i, u := range use {
-		if u {
-			sel = append(sel, i)
+	ps := fp.newPass(use)
+	solved, err := ps.solveWavelengths()
+	if err != nil {
+		return nil, err
+	}
+	if err := ps.fillUnsolved(solved); err != nil {
+		return nil, err
+	}
+	// Per compound: band maximum, standards range, linearity.
+	for k := range ps.res.set.Compounds {
+		if err := ps.compoundLine(k); err != nil {
+			return nil, err
 		}
 	}
-	n := len(sel)
-	fit := make([]reference.Row, n)
-	keep := make([][]bool, n)
-	for r, i := range sel {
-		fit[r], keep[r] = fp.fit[i], fp.keep[i]
+	return ps.res, nil
+}
+
+// newPass selects the rows in use and makes the set to fill.
+func (fp *fitParams) newPass(use []bool) *pass {
+	m, p := len(fp.sh.Compounds), len(fp.grid)
+	ps := &pass{fitParams: fp, use: use}
+	for i, u := range use {
+		if u {
+			ps.sel = append(ps.sel, i)
+		}
+	}
+	n := len(ps.sel)
+	ps.rows = make([]reference.Row, n)
+	ps.masks = make([][]bool, n)
+	for r, i := range ps.sel {
+		ps.rows[r], ps.masks[r] = fp.fit[i], fp.keep[i]
 	}
 	set := &reference.Set{
 		Schema:    reference.SchemaVersion,
-		Grid:      grid,
+		Grid:      fp.grid,
 		Compounds: make([]reference.Compound, m),
 		Noise:     make([]float64, p),
-		PathCM:    path,
+		PathCM:    fp.path,
 		Ceiling:   fp.ceiling,
 		Floor:     fp.floor,
-		Intercept: intercept,
+		Intercept: fp.intercept,
 	}
-	res := &fitResult{set: set, clipped: make([]bool, m)}
-	kraw := make([][]float64, m) // fitted K*b, absorbance per unit concentration
-	var icpt []float64
-	if intercept {
-		icpt = make([]float64, p)
+	ps.res = &fitResult{set: set, clipped: make([]bool, m)}
+	ps.kraw = make([][]float64, m)
+	if fp.intercept {
+		ps.icpt = make([]float64, p)
 	}
 	for k := range set.Compounds {
 		c := &set.Compounds[k]
-		c.Name, c.Unit = sh.Compounds[k], sh.Units[k]
+		c.Name, c.Unit = fp.sh.Compounds[k], fp.sh.Units[k]
 		c.Absorptivity = make([]float64, p)
 		c.SE = make([]float64, p)
 		c.Usable = make([]bool, p)
-		kraw[k] = make([]float64, p)
+		ps.kraw[k] = make([]float64, p)
 	}
+	return ps
+}
+
+// solveWavelengths fits each wavelength and reports where the fit had
+// degrees of freedom left.
+func (ps *pass) solveWavelengths() ([]bool, error) {
+	p := len(ps.grid)
 	fits := map[string]*maskFit{}
-	key := make([]byte, n)
+	key := make([]byte, len(ps.rows))
 	solved := make([]bool, p)
 	for j := range p {
-		for i := range n {
-			key[i] = '0'
-			if keep[i][j] {
-				key[i] = '1'
-			} else {
-				res.leftOut++
-				for k := range m {
-					if fit[i].Conc[k] > 0 {
-						set.Compounds[k].LeftOut++
-					}
-				}
-			}
-		}
+		ps.maskKey(key, j)
 		mf, ok := fits[string(key)]
 		if !ok {
 			var err error
-			if mf, err = newMaskFit(fit, keep, j, m, intercept); err != nil {
-				return nil, fmt.Errorf("calibration: build: %s: least squares at %g nm: %w", sh.Path, grid[j], err)
+			if mf, err = newMaskFit(ps.rows, ps.masks, j, len(ps.res.set.Compounds), ps.intercept); err != nil {
+				return nil, fmt.Errorf("calibration: build: %s: least squares at %g nm: %w", ps.sh.Path, ps.grid[j], err)
 			}
 			fits[string(key)] = mf
 		}
 		if mf.solver == nil {
 			continue
 		}
-		for r, i := range mf.rows {
-			mf.y[r] = fp.abs.At(sel[i], j)
+		var err error
+		if solved[j], err = ps.solveAt(mf, j); err != nil {
+			return nil, err
 		}
-		if err := mf.solver.Solve(&mf.res, mf.y); err != nil {
-			return nil, fmt.Errorf("calibration: build: least squares at %g nm: %w", grid[j], err)
-		}
-		if mf.res.DoF <= 0 {
+	}
+	return solved, nil
+}
+
+// maskKey writes the mask of the rows in use at wavelength j into key
+// ('1' kept, '0' above the ceiling) and counts the readings left out.
+func (ps *pass) maskKey(key []byte, j int) {
+	set := ps.res.set
+	for i := range ps.rows {
+		key[i] = '0'
+		if ps.masks[i][j] {
+			key[i] = '1'
 			continue
 		}
-		solved[j] = true
-		for q, k := range mf.comps {
-			c := &set.Compounds[k]
-			kraw[k][j] = mf.res.Coef[q]
-			c.Absorptivity[j] = mf.res.Coef[q] / path
-			c.SE[j] = mf.res.SE[q] / path
-			c.Usable[j] = mf.levelsOK[q]
+		ps.res.leftOut++
+		for k := range set.Compounds {
+			if ps.rows[i].Conc[k] > 0 {
+				set.Compounds[k].LeftOut++
+			}
 		}
-		if intercept {
-			icpt[j] = mf.res.Coef[len(mf.comps)]
-		}
-		set.Noise[j] = math.Sqrt(mf.res.RSS / float64(mf.res.DoF))
 	}
+}
+
+// solveAt fits wavelength j with mf and stores the coefficients; false
+// when no degrees of freedom are left for the noise.
+func (ps *pass) solveAt(mf *maskFit, j int) (bool, error) {
+	set := ps.res.set
+	for r, i := range mf.rows {
+		mf.y[r] = ps.abs.At(ps.sel[i], j)
+	}
+	if err := mf.solver.Solve(&mf.res, mf.y); err != nil {
+		return false, fmt.Errorf("calibration: build: least squares at %g nm: %w", ps.grid[j], err)
+	}
+	if mf.res.DoF <= 0 {
+		return false, nil
+	}
+	for q, k := range mf.comps {
+		c := &set.Compounds[k]
+		ps.kraw[k][j] = mf.res.Coef[q]
+		c.Absorptivity[j] = mf.res.Coef[q] / ps.path
+		c.SE[j] = mf.res.SE[q] / ps.path
+		c.Usable[j] = mf.levelsOK[q]
+	}
+	if ps.intercept {
+		ps.icpt[j] = mf.res.Coef[len(mf.comps)]
+	}
+	set.Noise[j] = math.Sqrt(mf.res.RSS / float64(mf.res.DoF))
+	return true, nil
+}
+
+// fillUnsolved sets the noise where nothing was solved to the largest
+// found; an error when nothing was solved.
+func (ps *pass) fillUnsolved(solved []bool) error {
+	res, set := ps.res, ps.res.set
 	nsolved := 0
 	for j, ok := range solved {
 		if ok {
@@ -569,81 +777,85 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 		}
 	}
 	if nsolved == 0 {
-		return nil, fmt.Errorf("calibration: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
-			sh.Path, ErrTooFewStandards, fp.ceiling)
+		return fmt.Errorf("calibration: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
+			ps.sh.Path, ErrTooFewStandards, ps.ceiling)
 	}
-	if nsolved < p {
-		res.unsolved = p - nsolved
+	if nsolved < len(solved) {
+		res.unsolved = len(solved) - nsolved
 		for j, ok := range solved {
 			if !ok {
 				set.Noise[j] = res.worst
 			}
 		}
 	}
+	return nil
+}
 
-	// Per compound: band maximum, standards range, linearity.
-	for k := range set.Compounds {
-		c := &set.Compounds[k]
-		if intercept {
-			c.Intercept = icpt
-		}
-		jp := -1
-		for j := range p {
-			if c.Usable[j] && (jp < 0 || c.Absorptivity[j] > c.Absorptivity[jp]) {
-				jp = j
-			}
-		}
-		if jp < 0 {
-			return nil, fmt.Errorf("calibration: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
-				sh.Path, ErrTooFewStandards, c.Name, minLevels, fp.ceiling)
-		}
-		c.PeakNM = grid[jp]
-		c.MinStandard, c.MaxStandard = math.Inf(1), 0
-		for _, r := range fit {
-			if v := r.Conc[k]; v > 0 {
-				c.MinStandard = min(c.MinStandard, v)
-				c.MaxStandard = max(c.MaxStandard, v)
-			}
-		}
-		// pointsAt is the calibration line of compound k at grid index
-		// j: the readings of its standards (and blanks) with the other
-		// compounds' fitted contributions removed.
-		pointsAt := func(j int) []reference.Point {
-			var pts []reference.Point
-			for i, r := range fp.fit {
-				if r.Conc[k] == 0 && !allZero(r.Conc) {
-					continue
-				}
-				y := fp.abs.At(i, j)
-				for l := range m {
-					if l != k {
-						y -= r.Conc[l] * kraw[l][j]
-					}
-				}
-				pts = append(pts, reference.Point{Conc: r.Conc[k], Absorbance: y, Used: use[i] && fp.keep[i][j]})
-			}
-			return pts
-		}
-		for i, r := range fp.fit {
-			if (r.Conc[k] != 0 || allZero(r.Conc)) && use[i] && !fp.keep[i][jp] {
-				res.clipped[k] = true
-			}
-		}
-		var band []int
-		for j := range p {
-			if c.Usable[j] && c.Absorptivity[j] >= reference.BandFraction*c.Absorptivity[jp] {
-				band = append(band, j)
-			}
-		}
-		bl := bandLine(grid, band, jp, pointsAt)
-		lin, err := lineTestAt(pointsAt(jp), fp.floor, bl.ConfirmsPeak())
-		if err != nil {
-			return nil, fmt.Errorf("calibration: build: %s: %s at %g nm: %w", sh.Path, c.Name, c.PeakNM, err)
-		}
-		lin.Band = bl
-		c.Linearity = lin
+// compoundLine finds compound k's band maximum and standards range, and
+// fits and tests its calibration line there and over its band.
+func (ps *pass) compoundLine(k int) error {
+	c := &ps.res.set.Compounds[k]
+	if ps.intercept {
+		c.Intercept = ps.icpt
 	}
-	return res, nil
+	jp := -1
+	for j := range ps.grid {
+		if c.Usable[j] && (jp < 0 || c.Absorptivity[j] > c.Absorptivity[jp]) {
+			jp = j
+		}
+	}
+	if jp < 0 {
+		return fmt.Errorf("calibration: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
+			ps.sh.Path, ErrTooFewStandards, c.Name, minLevels, ps.ceiling)
+	}
+	c.PeakNM = ps.grid[jp]
+	c.MinStandard, c.MaxStandard = math.Inf(1), 0
+	for _, r := range ps.rows {
+		if v := r.Conc[k]; v > 0 {
+			c.MinStandard = min(c.MinStandard, v)
+			c.MaxStandard = max(c.MaxStandard, v)
+		}
+	}
+	for i, r := range ps.fit {
+		if (r.Conc[k] != 0 || allZero(r.Conc)) && ps.use[i] && !ps.keep[i][jp] {
+			ps.res.clipped[k] = true
+		}
+	}
+	var band []int
+	for j := range ps.grid {
+		if c.Usable[j] && c.Absorptivity[j] >= reference.BandFraction*c.Absorptivity[jp] {
+			band = append(band, j)
+		}
+	}
+	pointsAt := func(j int) []reference.Point { return ps.pointsAt(k, j) }
+	bl := bandLine(ps.grid, band, jp, pointsAt)
+	lin, err := lineTestAt(pointsAt(jp), ps.floor, bl.ConfirmsPeak())
+	if err != nil {
+		return fmt.Errorf("calibration: build: %s: %s at %g nm: %w", ps.sh.Path, c.Name, c.PeakNM, err)
+	}
+	lin.Band = bl
+	c.Linearity = lin
+	return nil
+}
+
+// pointsAt is the calibration line of compound k at grid index j: the
+// readings of its standards (and blanks) with the other compounds' fitted
+// contributions removed.
+func (ps *pass) pointsAt(k, j int) []reference.Point {
+	var pts []reference.Point
+	for i, r := range ps.fit {
+		if r.Conc[k] == 0 && !allZero(r.Conc) {
+			continue
+		}
+		y := ps.abs.At(i, j)
+		for l := range ps.kraw {
+			if l != k {
+				y -= r.Conc[l] * ps.kraw[l][j]
+			}
+		}
+		pts = append(pts, reference.Point{Conc: r.Conc[k], Absorbance: y, Used: ps.use[i] && ps.keep[i][j]})
+	}
+	return pts
 }
 
 // checkKept checks that the rows kept still determine every compound:
