@@ -11,8 +11,8 @@ import (
 	"github.com/olekukonko/tablewriter/tw"
 	"github.com/spf13/cobra"
 
+	"huesolve/batch"
 	"huesolve/spectrum"
-	"huesolve/unmix"
 )
 
 func init() { commands = append(commands, newLookCmd) }
@@ -65,7 +65,7 @@ look exits with code 3.`,
 // runLook prints the summary of each file.
 func runLook(out, errw io.Writer, args []string, q spectrum.Quantity, o lookOptions) error {
 	failed := 0
-	inputs := unmix.ExpandInputs(args)
+	inputs := batch.ExpandInputs(args)
 	for k, in := range inputs {
 		file := in.Path
 		if in.Err != nil {

@@ -32,7 +32,7 @@ func noteTo(w io.Writer) func(string) {
 // packagePrefix matches the package prefixes of this project's libraries
 // (and the "build" step of calibration) where a message or one of its
 // wrapped parts begins.
-var packagePrefix = regexp.MustCompile(`(^|: )(?:(?:calibration: build|calibration|reference|spectrum|unmix|lsq|validate|report|baseline|atomicfile|bytesize): )+`)
+var packagePrefix = regexp.MustCompile(`(^|: )(?:(?:calibration: build|calibration|reference|spectrum|unmix|batch|lsq|validate|report|baseline|atomicfile|bytesize): )+`)
 
 // userMessage is err as one readable line: package prefixes of the
 // libraries left out, the operating system's file errors said in plain

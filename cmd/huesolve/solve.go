@@ -16,6 +16,7 @@ import (
 	"github.com/spf13/cobra"
 	"golang.org/x/term"
 
+	"huesolve/batch"
 	"huesolve/internal/atomicfile"
 	"huesolve/reference"
 	"huesolve/report"
@@ -212,10 +213,10 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		}
 	}
 
-	inputs := unmix.ExpandInputs(scans)
+	inputs := batch.ExpandInputs(scans)
 	solveSetNotes(set, model, o.scans.blank, inputs, note, warn)
 	track := newSheetTracker(sheet)
-	batch := &unmix.Batch{
+	runner := &batch.Batch{
 		Model:   model,
 		Workers: o.jobs,
 		Read:    ropt,
@@ -233,7 +234,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	names := model.Compounds()
 	var plotted atomic.Int64 // plots written, for the closing message
 	if o.output.plots != "" {
-		batch.Each = func(seq int, r *unmix.Result) error {
+		runner.Each = func(seq int, r *unmix.Result) error {
 			if err := report.SaveSamplePlot(r, names, report.SamplePlotPath(o.output.plots, seq+1, r.Sample, o.output.plotFormat)); err != nil {
 				return err
 			}
@@ -245,7 +246,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	// Progress on a terminal only.
 	var bar *progressbar.ProgressBar
 	if f, ok := cmd.ErrOrStderr().(*os.File); ok && term.IsTerminal(int(f.Fd())) {
-		batch.Progress = func(done, known int) {
+		runner.Progress = func(done, known int) {
 			if bar == nil && known >= solveProgressMin {
 				bar = progressbar.NewOptions(known, progressbar.OptionSetWriter(errw), progressbar.OptionSetDescription("solving"),
 					progressbar.OptionShowCount(), progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
@@ -258,7 +259,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	}
 
 	if o.checkOnly {
-		return runSolveCheck(cmd, batch, inputs, errw, func() int64 {
+		return runSolveCheck(cmd, runner, inputs, errw, func() int64 {
 			track.report(warn, o.dilution, o.pathCM)
 			return warnings.Load()
 		})
@@ -267,18 +268,18 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 
 	layout := report.LayoutOf(model)
 	width := outputWidth(cmd.OutOrStdout(), o.output.out)
-	var sum unmix.Summary
+	var sum batch.Summary
 	solveAll := func(w io.Writer) error {
 		rw, err := report.NewResultWriter(o.output.format, w, layout, width)
 		if err != nil {
 			return err
 		}
 		enc, _ := rw.(report.Encoder)
-		batch.Encode = nil
+		runner.Encode = nil
 		if enc != nil {
-			batch.Encode = enc.AppendResult // formats in the workers
+			runner.Encode = enc.AppendResult // formats in the workers
 		}
-		sum, err = batch.Run(cmd.Context(), inputs, func(out unmix.Outcome) error {
+		sum, err = runner.Run(cmd.Context(), inputs, func(out batch.Outcome) error {
 			seen.add(out, warn)
 			if out.Err != nil {
 				what := out.File
@@ -361,9 +362,9 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 // line go to errw. after runs when the batch is done and returns the
 // number of warnings given, which the summary counts: a check never says
 // "ready" without a word when solving would warn.
-func runSolveCheck(cmd *cobra.Command, batch *unmix.Batch, inputs []unmix.Input, errw io.Writer, after func() int64) error {
-	batch.CheckOnly = true
-	sum, err := batch.Run(cmd.Context(), inputs, func(out unmix.Outcome) error {
+func runSolveCheck(cmd *cobra.Command, runner *batch.Batch, inputs []batch.Input, errw io.Writer, after func() int64) error {
+	runner.CheckOnly = true
+	sum, err := runner.Run(cmd.Context(), inputs, func(out batch.Outcome) error {
 		var msg string
 		if out.Err != nil {
 			msg = userMessage(out.Err)
