@@ -145,8 +145,16 @@ func lackOfFit(x, y []float64, rss float64) (f, p float64) {
 	if m < 3 || n-m < 1 {
 		return math.NaN(), math.NaN()
 	}
+	// The groups are summed in order of concentration: a map's order
+	// changes from run to run, and with it the last bits of the sum.
+	levels := make([]float64, 0, m)
+	for v := range groups {
+		levels = append(levels, v)
+	}
+	sort.Float64s(levels)
 	pe := 0.0
-	for _, g := range groups {
+	for _, v := range levels {
+		g := groups[v]
 		mean := 0.0
 		for _, v := range g {
 			mean += v
