@@ -7,8 +7,9 @@ const (
 	// neighbouring band wavelength or by the band share
 	// (BandLinearity.ConfirmsPeak), or at more than BandCurvedShare of the
 	// band's wavelengths; when it does at the maximum, calibration.Build
-	// refits on the standards within the linear range. A hit at the maximum alone is
-	// noted (Linearity.CurvedUnconfirmed) but neither flags nor refits.
+	// refits on the standards within the linear range. A hit at the
+	// maximum alone is noted (Linearity.CurvedUnconfirmed) but neither
+	// flags nor refits.
 	FlagCurved = "curved"
 	// FlagLackOfFit: the lack-of-fit test against replicates fails at
 	// TestLevel.
