@@ -1,6 +1,7 @@
-// Package reference builds, saves and loads reference sets: the
+// Package reference holds reference sets, saves and loads them: the
 // absorptivity spectrum of each pure compound with its standard error and
-// the noise model, made from calibration standards of known concentration.
+// the noise model, made from calibration standards of known concentration
+// (package calibration builds them), and reads the standards sheet.
 //
 // # The standards sheet
 //
@@ -41,7 +42,7 @@
 //
 // # How a set is built
 //
-// See [Build]: common grid, blank correction, pre-treatment, least squares
+// See [huesolve/calibration.Build]: common grid, blank correction, pre-treatment, least squares
 // of absorbance on concentration at each wavelength (the K-matrix
 // calibration, pure standards being its diagonal special case), readings
 // above the absorbance ceiling left out, and a linearity check of each

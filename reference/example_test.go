@@ -7,6 +7,7 @@ import (
 	"path/filepath"
 	"time"
 
+	"huesolve/calibration"
 	"huesolve/reference"
 	"huesolve/spectrum"
 )
@@ -33,27 +34,8 @@ func exampleSheet() *reference.Sheet {
 	return sh
 }
 
-func ExampleBuild() {
-	set, err := reference.Build(exampleSheet(), reference.Options{
-		PathCM: 1,
-		Now:    func() time.Time { return time.Date(2026, 3, 1, 9, 0, 0, 0, time.UTC) },
-	})
-	if err != nil {
-		fmt.Println(err)
-		return
-	}
-	for _, r := range set.Summary() {
-		fmt.Printf("%s: band maximum %g nm, absorptivity %.4f per %s per cm, R² %.4f, range %g-%g, flags %v\n",
-			r.Compound, r.PeakNM, r.Peak, r.Unit, r.R2, r.RangeLo, r.RangeHi, r.Flags)
-	}
-	fmt.Println("blank:", set.Provenance.Blank, "created:", set.Provenance.Created)
-	// Output:
-	// dye: band maximum 500 nm, absorptivity 0.0500 per mg/L per cm, R² 1.0000, range 2-10, flags []
-	// blank: sheet rows created: 2026-03-01T09:00:00Z
-}
-
 func ExampleLoad() {
-	set, err := reference.Build(exampleSheet(), reference.Options{
+	set, err := calibration.Build(exampleSheet(), calibration.Options{
 		Now: func() time.Time { return time.Date(2026, 3, 1, 9, 0, 0, 0, time.UTC) },
 	})
 	if err != nil {

@@ -47,6 +47,16 @@ type Row struct {
 }
 
 // Sheet is a parsed standards sheet with its scans loaded.
+// IsBlank reports whether the row is a blank: every concentration zero.
+func (r Row) IsBlank() bool {
+	for _, v := range r.Conc {
+		if v != 0 {
+			return false
+		}
+	}
+	return true
+}
+
 type Sheet struct {
 	Path      string   // the sheet file as given
 	Compounds []string // compound names, in column order
@@ -116,7 +126,7 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 		if err := ld.load(&row, cols); err != nil {
 			return nil, err
 		}
-		if allZero(row.Conc) {
+		if row.IsBlank() {
 			sh.Blanks = append(sh.Blanks, row)
 		} else {
 			sh.Standards = append(sh.Standards, row)

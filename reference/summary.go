@@ -1,16 +1,15 @@
 package reference
 
-import "math"
-
 // Flag codes of a compound, in the order they are listed.
 const (
 	// FlagCurved: Mandel's test prefers a quadratic to the line at the
 	// band maximum (TestLevel) over all standards, confirmed at a
 	// neighbouring band wavelength or by the band share
 	// (BandLinearity.ConfirmsPeak), or at more than BandCurvedShare of the
-	// band's wavelengths; when it does at the maximum, Build refits on the
-	// standards within the linear range. A hit at the maximum alone is
-	// noted (Linearity.CurvedUnconfirmed) but neither flags nor refits.
+	// band's wavelengths; when it does at the maximum, calibration.Build
+	// refits on the standards within the linear range. A hit at the
+	// maximum alone is noted (Linearity.CurvedUnconfirmed) but neither
+	// flags nor refits.
 	FlagCurved = "curved"
 	// FlagLackOfFit: the lack-of-fit test against replicates fails at
 	// TestLevel.
@@ -19,7 +18,7 @@ const (
 	// common practice).
 	FlagFewLevels = "few-levels"
 	// FlagAboveCeiling: some standards read above the ceiling at the band
-	// maximum; Build leaves them out of the whole fit.
+	// maximum; calibration.Build leaves them out of the whole fit.
 	FlagAboveCeiling = "above-ceiling"
 	// FlagBelowFloor: the lowest standards read below the detector floor
 	// at the band maximum; the range starts higher.
@@ -33,34 +32,6 @@ var Flags = []struct{ Code, Meaning string }{
 	{FlagFewLevels, "fewer than 5 concentration levels (5 or more spanning the range is common practice)"},
 	{FlagAboveCeiling, "some standards read above the absorbance ceiling at the band maximum and were left out of the whole fit"},
 	{FlagBelowFloor, "the lowest standards read below the detector floor at the band maximum"},
-}
-
-func compoundFlags(l Linearity, clipped bool, floor float64) []string {
-	var f []string
-	if l.Curved || l.Band.TooCurved() {
-		f = append(f, FlagCurved)
-	}
-	if !math.IsNaN(l.LackOfFitP) && l.LackOfFitP < 1-TestLevel {
-		f = append(f, FlagLackOfFit)
-	}
-	if l.Levels < usualLevels {
-		f = append(f, FlagFewLevels)
-	}
-	if clipped {
-		f = append(f, FlagAboveCeiling)
-	}
-	if floor > 0 && len(l.Data) > 0 {
-		lowest := math.Inf(1)
-		for _, p := range l.Data {
-			if p.Conc > 0 {
-				lowest = min(lowest, p.Conc)
-			}
-		}
-		if l.RangeLo > lowest {
-			f = append(f, FlagBelowFloor)
-		}
-	}
-	return f
 }
 
 // SummaryRow is one compound's line of the summary table.

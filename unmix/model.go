@@ -288,8 +288,6 @@ type Result struct {
 	// wavelength order (with Options.KeepCurves): plots break their
 	// lines there instead of drawing across.
 	Gaps []Gap `json:"-"`
-
-	encoded []byte // Batch.Encode's buffer, kept with the pooled Result
 }
 
 // windowError is NewModel's error for a window that reaches outside the

@@ -80,30 +80,6 @@ func TestSampleSheetColumns(t *testing.T) {
 	}
 }
 
-// TestNaturalOrder: folders and patterns expand in natural order, so
-// s2 comes before s10 (plain byte order would give s1, s10, s11, s2).
-func TestNaturalOrder(t *testing.T) {
-	dir := t.TempDir()
-	for _, n := range []string{"s10.csv", "s2.csv", "s1.csv", "s11.csv", "blank.csv", "s02b.csv"} {
-		if err := os.WriteFile(filepath.Join(dir, n), nil, 0o644); err != nil {
-			t.Fatal(err)
-		}
-	}
-	want := "blank.csv s1.csv s2.csv s02b.csv s10.csv s11.csv"
-	for _, arg := range []string{dir, filepath.Join(dir, "*.csv")} {
-		var got []string
-		for _, in := range ExpandInputs([]string{arg}) {
-			got = append(got, filepath.Base(in.Path))
-		}
-		if strings.Join(got, " ") != want {
-			t.Errorf("%s: %v, want %s", arg, got, want)
-		}
-	}
-	if NaturalCompare("s01", "s1") == 0 || NaturalCompare("a", "a") != 0 || NaturalCompare("x9", "x10") >= 0 {
-		t.Error("NaturalCompare is not a total order as documented")
-	}
-}
-
 // TestSampleSheetStrict: the sample sheet reads its text as the standards
 // sheet does (internal/sheet): a row with more or fewer fields than the
 // header, and numbers outside the spectrum readers' syntax (hexadecimal,

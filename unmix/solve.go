@@ -497,7 +497,6 @@ func (m *Model) fill(dst *Result, d *design, s *spectrum.Spectrum, name string, 
 		ShiftNM:  shift,
 		Dilution: dil,
 		PathCM:   path,
-		encoded:  dst.encoded,
 	}
 	if len(sh.names) > 0 {
 		if dst.Baseline == nil {

@@ -8,6 +8,7 @@ import (
 	"slices"
 	"strings"
 
+	"huesolve/calibration"
 	"huesolve/reference"
 	"huesolve/unmix"
 )
@@ -16,7 +17,7 @@ import (
 type CrossValOptions struct {
 	// Build are the options each fold's reference set is built with;
 	// BuildOptionsFor gives those a saved set was built with.
-	Build reference.Options
+	Build calibration.Options
 	// Model is the sample model the left-out standards are solved with.
 	// When Model.Blank is nil, Build.Blank is used, or else the mean of
 	// the sheet's blank rows, the same blank the standards were
@@ -27,12 +28,12 @@ type CrossValOptions struct {
 	ByLevel bool
 }
 
-// BuildOptionsFor returns the reference.Options that reproduce how set
+// BuildOptionsFor returns the calibration.Options that reproduce how set
 // was built, as far as the set records it: window (its grid), path
 // length, ceiling, floor, intercept and pre-treatment. A separate blank
 // scan is not recorded; give it in Build.Blank.
-func BuildOptionsFor(set *reference.Set) reference.Options {
-	o := reference.Options{
+func BuildOptionsFor(set *reference.Set) calibration.Options {
+	o := calibration.Options{
 		PathCM: set.PathCM, Ceiling: set.Ceiling, Floor: set.Floor,
 		ThroughOrigin: !set.Intercept, Pretreat: set.Pretreat,
 	}
@@ -68,7 +69,7 @@ type CrossValidation struct {
 
 // CrossValidate leaves out one standard (or, ByLevel, one composition with
 // its replicates) of the calibration sheet at a time, builds a reference
-// set from the remaining rows with reference.Build, solves the left-out
+// set from the remaining rows with calibration.Build, solves the left-out
 // scans with unmix and compares with their known concentrations:
 //
 //	RMSECV_k = sqrt( Σ_i (ĉ_ik - c_ik)² / N )
@@ -130,7 +131,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *refere
 		fail := func(err error) {
 			cv.Failed = append(cv.Failed, fmt.Sprintf("leaving out %s: %v", strings.Join(left, ", "), err))
 		}
-		fs, err := reference.Build(&sub, opt.Build)
+		fs, err := calibration.Build(&sub, opt.Build)
 		if err != nil {
 			fail(err)
 			continue

@@ -10,6 +10,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/calibration"
 	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix"
@@ -59,7 +60,7 @@ func tinySheet() (*reference.Sheet, *mat.Dense, *mat.Dense) {
 // least-squares solver; RMSECV_k = √(Σ (ĉ - c)² / N).
 func TestCrossValidateAgainstDirect(t *testing.T) {
 	sh, conc, a := tinySheet()
-	set, err := reference.Build(sh, reference.Options{ThroughOrigin: true})
+	set, err := calibration.Build(sh, calibration.Options{ThroughOrigin: true})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -147,8 +148,8 @@ func TestCrossValidateFailures(t *testing.T) {
 		}
 		odd.Standards = append(odd.Standards, r)
 	}
-	opt := CrossValOptions{Build: reference.Options{ThroughOrigin: true}, Model: unmix.Options{Baseline: baseline.Model{Degree: -1}}}
-	set, err := reference.Build(&odd, opt.Build)
+	opt := CrossValOptions{Build: calibration.Options{ThroughOrigin: true}, Model: unmix.Options{Baseline: baseline.Model{Degree: -1}}}
+	set, err := calibration.Build(&odd, opt.Build)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -161,7 +162,7 @@ func TestCrossValidateFailures(t *testing.T) {
 	}
 	three := *sh
 	three.Standards = sh.Standards[:3]
-	set3, err := reference.Build(&three, opt.Build)
+	set3, err := calibration.Build(&three, opt.Build)
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -179,101 +179,131 @@ func Assess(names, units []string, checks []Check, lim Limits) (*Verification, e
 	if err != nil {
 		return nil, err
 	}
-	if len(checks) == 0 {
-		return nil, errors.New("validate: no check standards")
-	}
-	n := len(names)
-	for _, c := range checks {
-		if len(c.Known) != n || len(c.Found) != n || len(c.SE) != n || len(c.LOQ) != n {
-			return nil, fmt.Errorf("validate: check %s: %d known, %d found, %d SE, %d LOQ values for %d compounds",
-				c.Name, len(c.Known), len(c.Found), len(c.SE), len(c.LOQ), n)
-		}
-		for k := range n {
-			if v := c.Known[k]; !(v >= 0) || math.IsInf(v, 0) {
-				return nil, fmt.Errorf("validate: check %s: known %s %g is not a non-negative number", c.Name, names[k], v)
-			}
-			for _, v := range []float64{c.Found[k], c.SE[k], c.LOQ[k]} {
-				if math.IsNaN(v) || math.IsInf(v, 0) {
-					return nil, fmt.Errorf("validate: check %s: result for %s is not finite", c.Name, names[k])
-				}
-			}
-		}
+	if err := checkChecks(names, checks); err != nil {
+		return nil, err
 	}
 	v := &Verification{Limits: lim, Pass: true}
-	for k := range n {
+	for k := range names {
 		unit := ""
 		if k < len(units) {
 			unit = units[k]
 		}
-		cv := CompoundVerdict{Compound: names[k], Unit: unit, Standards: len(checks)}
-		var rec []float64
-		var sumErr, sumSq float64
-		for _, c := range checks {
-			e := c.Found[k] - c.Known[k]
-			row := CheckRow{Standard: c.Name, Compound: names[k], Unit: unit, Known: c.Known[k],
-				Found: c.Found[k], SE: c.SE[k], Error: e, LOQ: c.LOQ[k]}
-			if k < len(c.Flags) {
-				row.Flags = c.Flags[k]
-			}
-			row.HeldAtZero = k < len(c.Zero) && c.Zero[k]
-			sumSq += e * e
-			if c.Known[k] > 0 {
-				r := 100 * c.Found[k] / c.Known[k]
-				if math.IsInf(r, 0) {
-					return nil, fmt.Errorf("validate: check %s: known %s %g is too small for a recovery (100 × found %g / known overflows)",
-						c.Name, names[k], c.Known[k], c.Found[k])
-				}
-				row.Recovery = &r
-				row.Pass = r >= lim.RecoveryLo && r <= lim.RecoveryHi
-				rec = append(rec, r)
-				sumErr += e
-			} else {
-				cv.Absent++
-				row.Pass = math.Abs(e) <= c.LOQ[k]
-				if !row.Pass {
-					cv.AbsentFail++
-				}
-			}
-			v.Rows = append(v.Rows, row)
+		cv, rows, err := assessCompound(names[k], unit, k, checks, lim)
+		if err != nil {
+			return nil, err
 		}
-		cv.Holding = len(rec)
-		cv.RMSEP = math.Sqrt(sumSq / float64(len(checks)))
-		cv.Pass = true
-		if len(rec) > 0 {
-			cv.Bias = sumErr / float64(len(rec))
-			mean, sd := meanSD(rec)
-			if math.IsInf(mean, 0) || math.IsNaN(sd) || math.IsInf(sd, 0) {
-				return nil, fmt.Errorf("validate: %s: recoveries too large to average (known concentrations far below the results?)", names[k])
-			}
-			cv.MeanRecovery = mean
-			if len(rec) >= 2 {
-				cv.RSDJudged = true
-				cv.RSD = 100 * sd / math.Abs(mean)
-				if mean == 0 || math.IsInf(cv.RSD, 0) {
-					cv.RSD = 0
-					cv.Why = append(cv.Why, fmt.Sprintf("mean recovery is %.2g %%: no RSD", mean))
-					cv.Pass = false
-				}
-			}
-			if mean < lim.RecoveryLo || mean > lim.RecoveryHi {
-				cv.Pass = false
-				cv.Why = append(cv.Why, fmt.Sprintf("mean recovery %.2f %% outside %g-%g %%", mean, lim.RecoveryLo, lim.RecoveryHi))
-			}
-			if cv.RSDJudged && cv.RSD > lim.MaxRSD {
-				cv.Pass = false
-				cv.Why = append(cv.Why, fmt.Sprintf("RSD %.2f %% above %g %%", cv.RSD, lim.MaxRSD))
-			}
-		}
-		if cv.AbsentFail > 0 {
-			cv.Pass = false
-			cv.Why = append(cv.Why, fmt.Sprintf("found above the LOQ in %d of %d standards without it", cv.AbsentFail, cv.Absent))
-		}
+		v.Rows = append(v.Rows, rows...)
 		if !cv.Pass {
 			v.Pass = false
 		}
 		v.Compounds = append(v.Compounds, cv)
 	}
 	return v, nil
+}
+
+// checkChecks refuses check results of the wrong length, negative or
+// non-finite known concentrations and non-finite results.
+func checkChecks(names []string, checks []Check) error {
+	if len(checks) == 0 {
+		return errors.New("validate: no check standards")
+	}
+	n := len(names)
+	for _, c := range checks {
+		if len(c.Known) != n || len(c.Found) != n || len(c.SE) != n || len(c.LOQ) != n {
+			return fmt.Errorf("validate: check %s: %d known, %d found, %d SE, %d LOQ values for %d compounds",
+				c.Name, len(c.Known), len(c.Found), len(c.SE), len(c.LOQ), n)
+		}
+		for k := range n {
+			if v := c.Known[k]; !(v >= 0) || math.IsInf(v, 0) {
+				return fmt.Errorf("validate: check %s: known %s %g is not a non-negative number", c.Name, names[k], v)
+			}
+			for _, v := range []float64{c.Found[k], c.SE[k], c.LOQ[k]} {
+				if math.IsNaN(v) || math.IsInf(v, 0) {
+					return fmt.Errorf("validate: check %s: result for %s is not finite", c.Name, names[k])
+				}
+			}
+		}
+	}
+	return nil
+}
+
+// assessCompound judges compound k (name, unit) over the check standards:
+// its verdict and one row per standard.
+func assessCompound(name, unit string, k int, checks []Check, lim Limits) (CompoundVerdict, []CheckRow, error) {
+	cv := CompoundVerdict{Compound: name, Unit: unit, Standards: len(checks)}
+	var rows []CheckRow
+	var rec []float64
+	var sumErr, sumSq float64
+	for _, c := range checks {
+		e := c.Found[k] - c.Known[k]
+		row := CheckRow{Standard: c.Name, Compound: name, Unit: unit, Known: c.Known[k],
+			Found: c.Found[k], SE: c.SE[k], Error: e, LOQ: c.LOQ[k]}
+		if k < len(c.Flags) {
+			row.Flags = c.Flags[k]
+		}
+		row.HeldAtZero = k < len(c.Zero) && c.Zero[k]
+		sumSq += e * e
+		if c.Known[k] > 0 {
+			r := 100 * c.Found[k] / c.Known[k]
+			if math.IsInf(r, 0) {
+				return cv, nil, fmt.Errorf("validate: check %s: known %s %g is too small for a recovery (100 × found %g / known overflows)",
+					c.Name, name, c.Known[k], c.Found[k])
+			}
+			row.Recovery = &r
+			row.Pass = r >= lim.RecoveryLo && r <= lim.RecoveryHi
+			rec = append(rec, r)
+			sumErr += e
+		} else {
+			cv.Absent++
+			row.Pass = math.Abs(e) <= c.LOQ[k]
+			if !row.Pass {
+				cv.AbsentFail++
+			}
+		}
+		rows = append(rows, row)
+	}
+	cv.Holding = len(rec)
+	cv.RMSEP = math.Sqrt(sumSq / float64(len(checks)))
+	cv.Pass = true
+	if len(rec) > 0 {
+		cv.Bias = sumErr / float64(len(rec))
+		if err := cv.judgeRecoveries(rec, lim); err != nil {
+			return cv, nil, err
+		}
+	}
+	if cv.AbsentFail > 0 {
+		cv.Pass = false
+		cv.Why = append(cv.Why, fmt.Sprintf("found above the LOQ in %d of %d standards without it", cv.AbsentFail, cv.Absent))
+	}
+	return cv, rows, nil
+}
+
+// judgeRecoveries sets the mean recovery and RSD of the recoveries rec
+// and judges them against the limits.
+func (cv *CompoundVerdict) judgeRecoveries(rec []float64, lim Limits) error {
+	mean, sd := meanSD(rec)
+	if math.IsInf(mean, 0) || math.IsNaN(sd) || math.IsInf(sd, 0) {
+		return fmt.Errorf("validate: %s: recoveries too large to average (known concentrations far below the results?)", cv.Compound)
+	}
+	cv.MeanRecovery = mean
+	if len(rec) >= 2 {
+		cv.RSDJudged = true
+		cv.RSD = 100 * sd / math.Abs(mean)
+		if mean == 0 || math.IsInf(cv.RSD, 0) {
+			cv.RSD = 0
+			cv.Why = append(cv.Why, fmt.Sprintf("mean recovery is %.2g %%: no RSD", mean))
+			cv.Pass = false
+		}
+	}
+	if mean < lim.RecoveryLo || mean > lim.RecoveryHi {
+		cv.Pass = false
+		cv.Why = append(cv.Why, fmt.Sprintf("mean recovery %.2f %% outside %g-%g %%", mean, lim.RecoveryLo, lim.RecoveryHi))
+	}
+	if cv.RSDJudged && cv.RSD > lim.MaxRSD {
+		cv.Pass = false
+		cv.Why = append(cv.Why, fmt.Sprintf("RSD %.2f %% above %g %%", cv.RSD, lim.MaxRSD))
+	}
+	return nil
 }
 
 // meanSD returns the mean and sample standard deviation (n - 1) of x; the

@@ -174,137 +174,210 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 	if err := checkSet(set); err != nil {
 		return nil, err
 	}
-	path := opt.PathCM
-	if path == 0 {
-		path = set.PathCM
+	s := &windowSearch{set: set, opt: opt}
+	if err := s.settings(); err != nil {
+		return nil, err
 	}
-	if !(path > 0) || math.IsInf(path, 0) {
-		return nil, fmt.Errorf("validate: path length %g cm is not a positive number", path)
-	}
-	step, minW, eq := opt.StepNM, opt.MinWidthNM, opt.Equivalent
-	if step == 0 {
-		step = DefaultStepNM
-	}
-	if minW == 0 {
-		minW = DefaultMinWidthNM
-	}
-	switch {
-	case eq == 0:
-		eq = DefaultEquivalent
-	case eq < 0:
-		eq = 0
-	}
-	maxW := opt.MaxWidthNM
-	if !(step > 0) || math.IsInf(step, 0) || !(minW > 0) || math.IsInf(minW, 0) || math.IsNaN(eq) || math.IsInf(eq, 0) {
-		return nil, fmt.Errorf("validate: window step %g nm, minimum width %g nm and margin %g must be positive and finite", step, minW, eq)
-	}
-	if maxW < 0 || math.IsNaN(maxW) || (maxW > 0 && maxW < minW) {
-		return nil, fmt.Errorf("validate: maximum window width %g nm must be positive and at least the minimum %g nm", maxW, minW)
-	}
-	ncomp := len(set.Compounds)
 	levels, err := windowLevels(set, opt.Levels)
 	if err != nil {
 		return nil, err
 	}
+	s.levels = levels
 	adv := &WindowAdvice{
-		Levels: levels, Baseline: opt.Baseline.String(), Weighted: opt.Weighted, PathCM: path,
-		StepNM: step, MinWidthNM: minW, MaxWidthNM: maxW, Equivalent: eq, Best: -1,
+		Levels: levels, Baseline: opt.Baseline.String(), Weighted: opt.Weighted, PathCM: s.path,
+		StepNM: s.step, MinWidthNM: s.minW, MaxWidthNM: s.maxW, Equivalent: s.eq, Best: -1,
 	}
 	for _, c := range set.Compounds {
 		adv.Compounds = append(adv.Compounds, c.Name)
 		adv.Units = append(adv.Units, c.Unit)
 	}
+	if err := s.rows(adv); err != nil {
+		return nil, err
+	}
+	if err := s.scan(adv); err != nil {
+		return nil, err
+	}
+	if err := s.rank(adv); err != nil {
+		return nil, err
+	}
+	return adv, nil
+}
 
+// windowSearch is the state of one AdviseWindow.
+type windowSearch struct {
+	set *reference.Set
+	opt WindowOptions
+
+	// The options with their defaults.
+	path, step, minW, maxW, eq float64
+	levels                     []float64
+
+	all   []int     // usable grid rows in the search range
+	above []bool    // per all entry: expected absorbance above the ceiling
+	idx   []int     // the grid rows kept (not above)
+	wl    []float64 // their wavelengths
+	sigma []float64 // their noise
+	ncol  int       // columns of the design
+	lo0   float64   // the search range
+	hi0   float64
+}
+
+// settings fills in the path, edge step, widths and margin, and checks
+// them.
+func (s *windowSearch) settings() error {
+	opt := s.opt
+	s.path = opt.PathCM
+	if s.path == 0 {
+		s.path = s.set.PathCM
+	}
+	if !(s.path > 0) || math.IsInf(s.path, 0) {
+		return fmt.Errorf("validate: path length %g cm is not a positive number", s.path)
+	}
+	s.step, s.minW, s.eq = opt.StepNM, opt.MinWidthNM, opt.Equivalent
+	if s.step == 0 {
+		s.step = DefaultStepNM
+	}
+	if s.minW == 0 {
+		s.minW = DefaultMinWidthNM
+	}
+	switch {
+	case s.eq == 0:
+		s.eq = DefaultEquivalent
+	case s.eq < 0:
+		s.eq = 0
+	}
+	s.maxW = opt.MaxWidthNM
+	step, minW, maxW, eq := s.step, s.minW, s.maxW, s.eq
+	if !(step > 0) || math.IsInf(step, 0) || !(minW > 0) || math.IsInf(minW, 0) || math.IsNaN(eq) || math.IsInf(eq, 0) {
+		return fmt.Errorf("validate: window step %g nm, minimum width %g nm and margin %g must be positive and finite", step, minW, eq)
+	}
+	if maxW < 0 || math.IsNaN(maxW) || (maxW > 0 && maxW < minW) {
+		return fmt.Errorf("validate: maximum window width %g nm must be positive and at least the minimum %g nm", maxW, minW)
+	}
+	return nil
+}
+
+// rows finds the usable rows in the search range, those whose expected
+// absorbance at the levels stays under the ceiling with their noise, and
+// the candidate edges.
+func (s *windowSearch) rows(adv *WindowAdvice) error {
+	set := s.set
 	// Rows: usable, in the search range.
-	all := usableRows(set, opt.Lo, opt.Hi)
-	if len(all) < 2 {
-		return nil, fmt.Errorf("%w: %d", ErrWindow, len(all))
+	s.all = usableRows(set, s.opt.Lo, s.opt.Hi)
+	if len(s.all) < 2 {
+		return fmt.Errorf("%w: %d", ErrWindow, len(s.all))
 	}
 	// Expected absorbance at the levels, for the ceiling.
-	above := make([]bool, len(all))
-	var rows []int
+	s.above = make([]bool, len(s.all))
 	var absorb []float64
-	for r, i := range all {
+	for r, i := range s.all {
 		var a float64
 		for k, c := range set.Compounds {
-			a += path * c.Absorptivity[i] * levels[k]
+			a += s.path * c.Absorptivity[i] * s.levels[k]
 		}
-		above[r] = set.Ceiling > 0 && a > set.Ceiling
-		if !above[r] {
-			rows = append(rows, i)
+		s.above[r] = set.Ceiling > 0 && a > set.Ceiling
+		if !s.above[r] {
+			s.idx = append(s.idx, i)
 			absorb = append(absorb, a)
 		}
 	}
-	lo0, hi0 := set.Grid[all[0]], set.Grid[all[len(all)-1]]
+	s.lo0, s.hi0 = set.Grid[s.all[0]], set.Grid[s.all[len(s.all)-1]]
+	adv.Edges = windowEdges(s.lo0, s.hi0, s.step)
+	if len(s.idx) == 0 {
+		return fmt.Errorf("%w: every wavelength is above the ceiling at the levels", ErrWindow)
+	}
+	s.wl = make([]float64, len(s.idx))
+	for r, i := range s.idx {
+		s.wl[r] = set.Grid[i]
+	}
+	var err error
+	if s.sigma, err = noiseRows(set, s.idx, s.opt.Sigma, absorb); err != nil {
+		return err
+	}
+	if err := s.opt.Baseline.Check(s.wl); err != nil {
+		return fmt.Errorf("validate: baseline model: %w", err)
+	}
+	s.ncol = len(set.Compounds) + s.opt.Baseline.NumColumns()
+	return nil
+}
+
+// windowEdges are the edges every step from lo0, with hi0 as the last.
+func windowEdges(lo0, hi0, step float64) []float64 {
+	var edges []float64
 	for k := 0; ; k++ {
 		e := lo0 + float64(k)*step
 		if e > hi0+edgeSlack*step {
 			break
 		}
-		adv.Edges = append(adv.Edges, e)
+		edges = append(edges, e)
 	}
-	if last := adv.Edges[len(adv.Edges)-1]; hi0-last > edgeSlack*step {
-		adv.Edges = append(adv.Edges, hi0)
+	if last := edges[len(edges)-1]; hi0-last > edgeSlack*step {
+		edges = append(edges, hi0)
 	}
-	if len(rows) == 0 {
-		return nil, fmt.Errorf("%w: every wavelength is above the ceiling at the levels", ErrWindow)
-	}
-	wl := make([]float64, len(rows))
-	for r, i := range rows {
-		wl[r] = set.Grid[i]
-	}
-	sigma, err := noiseRows(set, rows, opt.Sigma, absorb)
-	if err != nil {
-		return nil, err
-	}
-	if err := opt.Baseline.Check(wl); err != nil {
-		return nil, fmt.Errorf("validate: baseline model: %w", err)
-	}
-	nnuis := opt.Baseline.NumColumns()
-	ncol := ncomp + nnuis
+	return edges
+}
 
-	ws := newWindowWork(len(rows), ncol)
+// scan evaluates every window between two edges of the allowed widths
+// with enough points, into adv.Candidates.
+func (s *windowSearch) scan(adv *WindowAdvice) error {
+	slack := edgeSlack * s.step
+	ws := newWindowWork(len(s.idx), s.ncol)
 	for a, lo := range adv.Edges {
 		for b := a + 1; b < len(adv.Edges); b++ {
 			hi := adv.Edges[b]
-			if hi-lo < minW-edgeSlack*step {
+			if hi-lo < s.minW-slack {
 				continue
 			}
-			if maxW > 0 && hi-lo > maxW+edgeSlack*step {
+			if s.maxW > 0 && hi-lo > s.maxW+slack {
 				break
 			}
 			// Rows of the window: wl within [lo, hi] (up to edgeSlack).
-			r0 := sort.SearchFloat64s(wl, lo-edgeSlack*step)
-			r1 := sort.SearchFloat64s(wl, hi+edgeSlack*step)
-			if r1-r0 < ncol+1 {
+			r0 := sort.SearchFloat64s(s.wl, lo-slack)
+			r1 := sort.SearchFloat64s(s.wl, hi+slack)
+			if r1-r0 < s.ncol+1 {
 				continue
 			}
-			cand := Candidate{Lo: lo, Hi: hi, Points: r1 - r0}
-			for r, i := range all {
-				if above[r] && set.Grid[i] >= lo-edgeSlack*step && set.Grid[i] <= hi+edgeSlack*step {
-					cand.Dropped++
-				}
-			}
-			if err := ws.evaluate(&cand, set, rows[r0:r1], wl[r0:r1], sigma[r0:r1], opt.Baseline, path, opt.Weighted); err != nil {
-				return nil, fmt.Errorf("validate: window %g-%g nm: %w", lo, hi, err)
-			}
-			if !cand.Singular {
-				for k := range cand.SE {
-					cand.RelSE = append(cand.RelSE, cand.SE[k]/levels[k])
-				}
-				w := floats.MaxIdx(cand.RelSE)
-				cand.Worst, cand.WorstCompound = cand.RelSE[w], set.Compounds[w].Name
+			cand, err := s.candidate(ws, lo, hi, r0, r1)
+			if err != nil {
+				return err
 			}
 			adv.Candidates = append(adv.Candidates, cand)
 		}
 	}
+	return nil
+}
+
+// candidate evaluates the window lo-hi nm, whose kept rows are r0 to r1.
+func (s *windowSearch) candidate(ws *windowWork, lo, hi float64, r0, r1 int) (Candidate, error) {
+	set, slack := s.set, edgeSlack*s.step
+	cand := Candidate{Lo: lo, Hi: hi, Points: r1 - r0}
+	for r, i := range s.all {
+		if s.above[r] && set.Grid[i] >= lo-slack && set.Grid[i] <= hi+slack {
+			cand.Dropped++
+		}
+	}
+	if err := ws.evaluate(&cand, set, s.idx[r0:r1], s.wl[r0:r1], s.sigma[r0:r1], s.opt.Baseline, s.path, s.opt.Weighted); err != nil {
+		return cand, fmt.Errorf("validate: window %g-%g nm: %w", lo, hi, err)
+	}
+	if !cand.Singular {
+		for k := range cand.SE {
+			cand.RelSE = append(cand.RelSE, cand.SE[k]/s.levels[k])
+		}
+		w := floats.MaxIdx(cand.RelSE)
+		cand.Worst, cand.WorstCompound = cand.RelSE[w], set.Compounds[w].Name
+	}
+	return cand, nil
+}
+
+// rank orders the candidates that are not singular and picks the best.
+func (s *windowSearch) rank(adv *WindowAdvice) error {
 	for i, c := range adv.Candidates {
 		if !c.Singular {
 			adv.Ranked = append(adv.Ranked, i)
 		}
 	}
 	if len(adv.Ranked) == 0 {
-		return nil, fmt.Errorf("%w (%d windows of %g nm or more in %g-%g nm tried)", ErrNoWindow, len(adv.Candidates), minW, lo0, hi0)
+		return fmt.Errorf("%w (%d windows of %g nm or more in %g-%g nm tried)", ErrNoWindow, len(adv.Candidates), s.minW, s.lo0, s.hi0)
 	}
 	sort.SliceStable(adv.Ranked, func(i, j int) bool {
 		a, b := adv.Candidates[adv.Ranked[i]], adv.Candidates[adv.Ranked[j]]
@@ -317,18 +390,18 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 	// better conditioned one is preferred only when it improves the
 	// condition number by more than the same margin.
 	first := adv.Candidates[adv.Ranked[0]]
-	limit := first.Worst * (1 + eq)
+	limit := first.Worst * (1 + s.eq)
 	adv.Best = adv.Ranked[0]
 	for _, i := range adv.Ranked {
 		c := adv.Candidates[i]
 		if c.Worst > limit {
 			break
 		}
-		if c.Cond*(1+eq) < first.Cond && c.Cond < adv.Candidates[adv.Best].Cond {
+		if c.Cond*(1+s.eq) < first.Cond && c.Cond < adv.Candidates[adv.Best].Cond {
 			adv.Best = i
 		}
 	}
-	return adv, nil
+	return nil
 }
 
 // windowLevels fills in default levels and checks given ones.

@@ -9,6 +9,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"huesolve/baseline"
+	"huesolve/calibration"
 	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/spectrum"
@@ -122,7 +123,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	}
 
 	// Build, save, report.
-	set, err := reference.Build(sh, opt)
+	set, err := calibration.Build(sh, opt)
 	if err != nil {
 		return err
 	}
@@ -154,8 +155,8 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 
 // check reads the flags of calibrate into the build options (all but the
 // blank) and the quantity of the scans.
-func (o *calibrateOptions) check(warn func(string)) (reference.Options, spectrum.Quantity, error) {
-	var opt reference.Options
+func (o *calibrateOptions) check(warn func(string)) (calibration.Options, spectrum.Quantity, error) {
+	var opt calibration.Options
 	if o.out == "" {
 		return opt, 0, usagef("calibrate needs --output FILE for the reference set")
 	}
@@ -167,7 +168,7 @@ func (o *calibrateOptions) check(warn func(string)) (reference.Options, spectrum
 	if err != nil {
 		return opt, q, err
 	}
-	opt = reference.Options{
+	opt = calibration.Options{
 		PathCM: o.pathCM, Ceiling: o.ceiling, Floor: o.floor,
 		ThroughOrigin: o.throughOrigin, Warn: warn, Version: version, Now: now,
 	}

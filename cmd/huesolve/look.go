@@ -6,9 +6,9 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"huesolve/batch"
 	"huesolve/report"
 	"huesolve/spectrum"
-	"huesolve/unmix"
 )
 
 // lookOptions are the flags of huesolve look.
@@ -56,7 +56,7 @@ look exits with code 3.`,
 // runLook prints the summary of each file.
 func runLook(out, errw io.Writer, args []string, q spectrum.Quantity, o lookOptions) error {
 	failed := 0
-	inputs := unmix.ExpandInputs(args)
+	inputs := batch.ExpandInputs(args)
 	for k, in := range inputs {
 		file := in.Path
 		if in.Err != nil {

@@ -4,8 +4,8 @@ import (
 	"os"
 	"path/filepath"
 
+	"huesolve/batch"
 	"huesolve/reference"
-	"huesolve/unmix"
 )
 
 // checkNotInput refuses, as a usage error, an output file that is one of
@@ -47,7 +47,7 @@ func checkNotInput(flag, out string, inputs ...string) error {
 // glob pattern. It reads folder listings only, never the files.
 func scanInputFiles(args []string) []string {
 	var files []string
-	for _, in := range unmix.ExpandInputs(args) {
+	for _, in := range batch.ExpandInputs(args) {
 		if in.Err == nil {
 			files = append(files, in.Path)
 		}

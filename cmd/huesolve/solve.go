@@ -16,6 +16,7 @@ import (
 	"github.com/spf13/cobra"
 	"golang.org/x/term"
 
+	"huesolve/batch"
 	"huesolve/internal/atomicfile"
 	"huesolve/reference"
 	"huesolve/report"
@@ -219,8 +220,8 @@ type solveJob struct {
 	model  *unmix.Model
 	sheet  *unmix.SampleSheet
 	track  *unmix.SheetUse
-	inputs []unmix.Input
-	batch  *unmix.Batch
+	inputs []batch.Input
+	batch  *batch.Batch
 	bar    *progressbar.ProgressBar
 	seen   *outcomeNotes
 }
@@ -264,7 +265,7 @@ func (j *solveJob) load(o *solveOptions, refPath string, scans []string, mopt un
 			return err
 		}
 	}
-	j.inputs = unmix.ExpandInputs(scans)
+	j.inputs = batch.ExpandInputs(scans)
 	solveSetNotes(set, j.model, o.scans.blank, j.inputs, j.note, j.warn)
 	return nil
 }
@@ -273,7 +274,7 @@ func (j *solveJob) load(o *solveOptions, refPath string, scans []string, mopt un
 // and a plot per sample with --plots.
 func (j *solveJob) newBatch(o *solveOptions, q spectrum.Quantity) {
 	j.track = unmix.NewSheetUse(j.sheet)
-	j.batch = &unmix.Batch{
+	j.batch = &batch.Batch{
 		Model:   j.model,
 		Workers: o.jobs,
 		Read:    spectrum.ReadOptions{Quantity: q, Warn: j.warn},
@@ -321,10 +322,10 @@ func (j *solveJob) showProgress(cmd *cobra.Command) {
 
 // solve runs the batch and writes the results to -o FILE (complete or
 // not at all) or standard output.
-func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (unmix.Summary, error) {
+func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, error) {
 	layout := report.LayoutOf(j.model)
 	width := outputWidth(cmd.OutOrStdout(), o.output.out)
-	var sum unmix.Summary
+	var sum batch.Summary
 	solveAll := func(w io.Writer) error {
 		rw, err := report.NewResultWriter(o.output.format, w, layout, width)
 		if err != nil {
@@ -335,7 +336,7 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (unmix.Summary, er
 		if enc != nil {
 			j.batch.Encode = enc.AppendResult // formats in the workers
 		}
-		sum, err = j.batch.Run(cmd.Context(), j.inputs, func(out unmix.Outcome) error {
+		sum, err = j.batch.Run(cmd.Context(), j.inputs, func(out batch.Outcome) error {
 			return j.emit(out, rw, enc)
 		})
 		if j.bar != nil {
@@ -360,7 +361,7 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (unmix.Summary, er
 
 // emit takes one outcome, in input order: its notes, its failure on
 // standard error, its result to rw.
-func (j *solveJob) emit(out unmix.Outcome, rw report.ResultWriter, enc report.Encoder) error {
+func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.Encoder) error {
 	j.seen.add(out, j.warn)
 	if out.Err != nil {
 		what := out.File
@@ -383,7 +384,7 @@ func (j *solveJob) emit(out unmix.Outcome, rw report.ResultWriter, enc report.En
 
 // solveFailure is the line on standard error for an outcome that failed:
 // a file that could not be read is said skipped, naming the file once.
-func solveFailure(out unmix.Outcome, what string) string {
+func solveFailure(out batch.Outcome, what string) string {
 	msg := userMessage(out.Err)
 	switch {
 	case out.Unread && strings.HasPrefix(msg, out.File+":"):
@@ -398,7 +399,7 @@ func solveFailure(out unmix.Outcome, what string) string {
 
 // finish gives the warnings kept for the end, the closing summary line,
 // and the exit code.
-func (j *solveJob) finish(o *solveOptions, sum unmix.Summary) error {
+func (j *solveJob) finish(o *solveOptions, sum batch.Summary) error {
 	sheetNotes(j.track, j.sheet, j.warn, o.dilution, o.pathCM)
 	j.seen.report(j.warn)
 	if o.output.plots != "" {
@@ -425,9 +426,9 @@ func (j *solveJob) finish(o *solveOptions, sum unmix.Summary) error {
 // line go to errw. after runs when the batch is done and returns the
 // number of warnings given, which the summary counts: a check never says
 // "ready" without a word when solving would warn.
-func runSolveCheck(cmd *cobra.Command, batch *unmix.Batch, inputs []unmix.Input, errw io.Writer, after func() int64) error {
-	batch.CheckOnly = true
-	sum, err := batch.Run(cmd.Context(), inputs, func(out unmix.Outcome) error {
+func runSolveCheck(cmd *cobra.Command, runner *batch.Batch, inputs []batch.Input, errw io.Writer, after func() int64) error {
+	runner.CheckOnly = true
+	sum, err := runner.Run(cmd.Context(), inputs, func(out batch.Outcome) error {
 		var msg string
 		if out.Err != nil {
 			msg = userMessage(out.Err)

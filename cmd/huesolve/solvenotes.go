@@ -10,6 +10,7 @@ import (
 	"os"
 	"strings"
 
+	"huesolve/batch"
 	"huesolve/reference"
 	"huesolve/unmix"
 )
@@ -29,7 +30,7 @@ func nameList(names []string) string {
 // solveSetNotes tells, before solving, what the reference set and the
 // options imply: no blank, compounds whose calibration was flagged, and a
 // smoothing pre-treatment that takes the Durbin-Watson flag out of play.
-func solveSetNotes(set *reference.Set, model *unmix.Model, blank string, inputs []unmix.Input, note, warn func(string)) {
+func solveSetNotes(set *reference.Set, model *unmix.Model, blank string, inputs []batch.Input, note, warn func(string)) {
 	if blank == "" {
 		note("no --blank given: the samples are fitted as read, without a blank subtracted")
 	} else if bi, err := os.Stat(blank); err == nil {
@@ -108,7 +109,7 @@ func newOutcomeNotes() *outcomeNotes {
 }
 
 // add takes one outcome (in input order).
-func (n *outcomeNotes) add(out unmix.Outcome, warn func(string)) {
+func (n *outcomeNotes) add(out batch.Outcome, warn func(string)) {
 	r := out.Result
 	if r == nil {
 		return

@@ -11,6 +11,7 @@ import (
 	"strings"
 	"testing"
 
+	"huesolve/calibration"
 	"huesolve/reference"
 	"huesolve/spectrum"
 )
@@ -92,7 +93,7 @@ func valCaseNoise(t *testing.T, declare, checkSD float64) (dir, refs, checks str
 	if err != nil {
 		t.Fatal(err)
 	}
-	set, err := reference.Build(sh, reference.Options{})
+	set, err := calibration.Build(sh, calibration.Options{})
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -1,4 +1,4 @@
-package reference
+package calibration
 
 import (
 	"errors"
@@ -12,20 +12,12 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix/lsq"
 )
 
 const (
-	// DefaultCeiling is the absorbance above which readings are left out
-	// when no ceiling is given. Stray light bends readings above about
-	// A = 2 on ordinary instruments: common practice, not a property of
-	// any one instrument.
-	DefaultCeiling = 2.0
-	// DefaultPathCM is the path length when none is given: the common
-	// 1 cm cuvette.
-	DefaultPathCM = 1.0
-
 	// minLevels is the fewest distinct non-zero concentrations of a
 	// compound that must remain under the ceiling at a wavelength for its
 	// absorptivity there to be usable; two levels always fit a line
@@ -133,332 +125,40 @@ var (
 // condition number above 1e3: ErrDesign), a scan not covering the window
 // (ErrWindow), fewer standards than coefficients plus one
 // (ErrTooFewStandards).
-func Build(sh *Sheet, opt Options) (*Set, error) {
-	var notes []string
-	warn := func(format string, a ...any) {
-		msg := fmt.Sprintf(format, a...)
-		notes = append(notes, msg)
-		if opt.Warn != nil {
-			opt.Warn(msg)
-		}
-	}
-	if sh == nil || len(sh.Standards) == 0 {
-		return nil, fmt.Errorf("reference: build: %w: the sheet has no standards", ErrTooFewStandards)
-	}
-	m := len(sh.Compounds)
-	if m == 0 {
-		return nil, fmt.Errorf("reference: build: %s: no compounds", sh.Path)
-	}
-	if len(sh.Units) != m {
-		return nil, fmt.Errorf("reference: build: %s: %d units for %d compounds", sh.Path, len(sh.Units), m)
-	}
-	rowErr := func(r Row, err error) error {
-		return &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: err}
-	}
-
-	// Options and their defaults.
-	path := opt.PathCM
-	if path == 0 {
-		path = DefaultPathCM
-	}
-	ceiling := opt.Ceiling
-	if ceiling == 0 {
-		ceiling = DefaultCeiling
-	}
-	floor := opt.Floor
-	switch {
-	case !finite(path) || path <= 0:
-		return nil, fmt.Errorf("reference: build: path length %g cm must be positive", path)
-	case !finite(ceiling) || !finite(floor) || floor < 0 || ceiling <= floor:
-		return nil, fmt.Errorf("reference: build: ceiling %g and floor %g: need 0 <= floor < ceiling", ceiling, floor)
-	}
-	intercept := !opt.ThroughOrigin
-
-	// The rows that enter the fit.
-	fit := append([]Row(nil), sh.Standards...)
-	if opt.Blank != nil {
-		fit = append(fit, sh.Blanks...)
-	}
-	for _, r := range append(append([]Row(nil), fit...), sh.Blanks...) {
-		if r.Scan == nil {
-			return nil, rowErr(r, fmt.Errorf("%w: %s: no scan loaded", ErrScanFile, r.File))
-		}
-		if err := r.Scan.Check(); err != nil {
-			return nil, rowErr(r, err)
-		}
-		if len(r.Conc) != m {
-			return nil, rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", ErrConcentration, len(r.Conc), m))
-		}
-		for k, v := range r.Conc {
-			if !finite(v) || v < 0 {
-				return nil, rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", ErrConcentration, sh.Compounds[k], v))
-			}
-		}
-	}
-	for k, name := range sh.Compounds {
-		varies := false
-		for _, r := range fit[1:] {
-			if r.Conc[k] != fit[0].Conc[k] {
-				varies = true
-				break
-			}
-		}
-		if !varies {
-			return nil, fmt.Errorf("reference: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, ErrNoVariation, name, fit[0].Conc[k])
-		}
-	}
-	ncoef := m
-	if intercept {
-		ncoef++
-	}
-	if len(fit) <= ncoef {
-		return nil, fmt.Errorf("reference: build: %s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
-			sh.Path, ErrTooFewStandards, len(fit), ncoef, ncoef+1)
-	}
-	dcond, err := checkDesign(fit, sh.Compounds, intercept)
-	if err != nil {
-		return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
-	}
-	if dcond > warnDesignCond {
-		warn("%s: the concentrations of %s vary nearly together across the standards (condition number %.3g, above %g): their absorptivities are uncertain; add standards that vary each compound on its own",
-			sh.Path, designNames(sh.Compounds, intercept), dcond, warnDesignCond)
-	}
-
-	// Common grid.
-	grid, err := commonGrid(sh, fit, opt, warn)
-	if err != nil {
+func Build(sh *reference.Sheet, opt Options) (*reference.Set, error) {
+	b := &builder{sh: sh, opt: opt}
+	if err := b.checkSheet(); err != nil {
 		return nil, err
 	}
-	p := len(grid)
-	var blank []float64
-	prov := Provenance{Tool: "huesolve", Version: opt.Version, Sheet: sh.Path}
-	if prov.Version == "" {
-		prov.Version = Version
-	}
-	switch {
-	case opt.Blank != nil:
-		b := opt.Blank.Clone()
-		if err := b.ToAbsorbance(); err != nil {
-			return nil, fmt.Errorf("reference: blank: %w", err)
-		}
-		if blank, _, err = onGrid(b, grid); err != nil {
-			return nil, fmt.Errorf("reference: blank %s: %w", b.Source, err)
-		}
-		prov.Blank = b.Source.File
-		if prov.Blank == "" {
-			prov.Blank = b.Name
-		}
-		prov.BlankSHA256 = opt.BlankSHA256
-	case len(sh.Blanks) > 0:
-		blank = make([]float64, p)
-		for _, r := range sh.Blanks {
-			v, _, err := onGrid(r.Scan, grid)
-			if err != nil {
-				return nil, rowErr(r, err)
-			}
-			for j := range blank {
-				blank[j] += v[j]
-			}
-		}
-		for j := range blank {
-			blank[j] /= float64(len(sh.Blanks))
-		}
-		prov.Blank = "sheet rows"
-	default:
-		if intercept {
-			warn("no blank given and no blank rows in %s: absorbances are used as read (the intercept takes up the solvent and cell)", sh.Path)
-		} else {
-			warn("no blank given and no blank rows in %s: absorbances are used as read, so the solvent and cell count as analyte absorbance in a through-origin fit", sh.Path)
-		}
-	}
-
-	// Raw readings, ceiling mask, corrected and pre-treated absorbances.
-	n := len(fit)
-	raw := mat.NewDense(n, p, nil)
-	abs := mat.NewDense(n, p, nil)
-	for i, r := range fit {
-		v, _, err := onGrid(r.Scan, grid)
-		if err != nil {
-			return nil, rowErr(r, err)
-		}
-		raw.SetRow(i, v)
-		if blank != nil {
-			for j := range v {
-				v[j] -= blank[j]
-			}
-		}
-		t, err := baseline.ApplyAll(opt.Pretreat, grid, v)
-		if err != nil {
-			return nil, rowErr(r, fmt.Errorf("pre-treatment of %s: %w", r.File, err))
-		}
-		if len(t) != p {
-			return nil, rowErr(r, fmt.Errorf("pre-treatment of %s returned %d points for %d", r.File, len(t), p))
-		}
-		for j, x := range t {
-			if !finite(x) {
-				return nil, rowErr(r, fmt.Errorf("pre-treatment of %s gave %v at %g nm", r.File, x, grid[j]))
-			}
-		}
-		abs.SetRow(i, t)
-	}
-	// A reading above the ceiling is left out, and so are the pre-treated
-	// values a smoothing step carried it into (baseline.Reach points
-	// either side), as solve does for samples.
-	reach := baseline.Reach(opt.Pretreat)
-	keep := make([][]bool, n)
-	for i := range keep {
-		keep[i] = make([]bool, p)
-		for j := range keep[i] {
-			keep[i][j] = true
-		}
-		for j, v := range raw.RawRowView(i) {
-			if v > ceiling {
-				for k := max(j-reach, 0); k <= min(j+reach, p-1); k++ {
-					keep[i][k] = false
-				}
-			}
-		}
-	}
-
-	// Per-wavelength least squares on all rows, then again without the
-	// standards above a compound's linear range (or above what the
-	// ceiling let through at its band maximum) until nothing more is
-	// left out: the absorptivities rest on the range the set states.
-	fp := fitParams{sh: sh, fit: fit, abs: abs, keep: keep, grid: grid, path: path,
-		ceiling: ceiling, floor: floor, intercept: intercept}
-	use := make([]bool, n)
-	for i := range use {
-		use[i] = true
-	}
-	res, err := fp.run(use)
-	if err != nil {
+	if err := b.defaults(); err != nil {
 		return nil, err
 	}
-	everCurved := make([]bool, m)
-	everClipped := make([]bool, m)
-	leftOutRows := make([][]int, m) // per compound: fit rows it caused to be left out
-	noLinear := make([]bool, m)
-	for range len(fit) {
-		for k := range m {
-			everCurved[k] = everCurved[k] || res.set.Compounds[k].Linearity.Curved
-			everClipped[k] = everClipped[k] || res.clipped[k]
-		}
-		next := append([]bool(nil), use...)
-		var cutBy [][]int
-		changed := false
-		for k := range m {
-			c := &res.set.Compounds[k]
-			l := c.Linearity
-			// Curved even on the lowest levels Mandel's test can judge
-			// (3): no linear range to fit within; the lowest levels are
-			// still the nearest to one, so the fit keeps to them.
-			noLinear[k] = l.Curved && curvedWithinRange(l)
-			cut := l.RangeHi
-			var rows []int
-			for i, r := range fit {
-				if next[i] && r.Conc[k] > cut {
-					next[i] = false
-					rows = append(rows, i)
-				}
-			}
-			cutBy = append(cutBy, rows)
-			changed = changed || len(rows) > 0
-		}
-		if !changed {
-			break
-		}
-		if err := checkKept(fit, next, sh.Compounds, intercept); err != nil {
-			warn("%s: the absorptivities could not be refitted within the linear range (%v); they rest on all standards, so results above the stated linear range are biased", sh.Path, err)
-			break
-		}
-		nres, err := fp.run(next)
-		if err != nil {
-			warn("%s: the absorptivities could not be refitted within the linear range (%v); they rest on all standards, so results above the stated linear range are biased", sh.Path, err)
-			break
-		}
-		for k := range m {
-			leftOutRows[k] = append(leftOutRows[k], cutBy[k]...)
-		}
-		use, res = next, nres
+	if err := b.rows(); err != nil {
+		return nil, err
+	}
+	if err := b.gridAndBlank(); err != nil {
+		return nil, err
+	}
+	if err := b.readings(); err != nil {
+		return nil, err
+	}
+	res, err := b.fitWithinRange()
+	if err != nil {
+		return nil, err
 	}
 	set := res.set
 	set.Pretreat = append([]baseline.Step(nil), opt.Pretreat...)
-	if res.leftOut > 0 {
-		if reach > 0 {
-			warn("%d readings above the ceiling (A > %g), or within %d points of one after smoothing, were left out of the fit", res.leftOut, ceiling, reach)
-		} else {
-			warn("%d readings above the ceiling (A > %g) were left out of the fit", res.leftOut, ceiling)
-		}
-	}
-	if res.unsolved > 0 {
-		warn("at %d of %d wavelengths too few standards stayed under the ceiling to fit; no compound is usable there (noise set to the largest found, %.3g)",
-			res.unsolved, p, res.worst)
-	}
+	b.ceilingNotes(res)
 	for k := range set.Compounds {
-		c := &set.Compounds[k]
-		c.Flags = compoundFlags(c.Linearity, everClipped[k], floor)
-		if b := c.Linearity.Band; b.TooCurved() && !c.Linearity.Curved {
-			warn("%s: the calibration line bends at %d of %d wavelengths of its band (%g-%g nm) by Mandel's test, though not at its maximum (%g nm); check the upper standards and the linear range",
-				c.Name, b.Curved, b.Tested, b.LoNM, b.HiNM, c.PeakNM)
-		}
-		if l := c.Linearity; l.CurvedUnconfirmed && !hasString(c.Flags, FlagCurved) {
-			warn("%s: curvature at the band maximum (%g nm) only, not confirmed at neighbouring wavelengths: likely chance at the %g %% level (Mandel p %.2g); not flagged, and the linear range keeps every level",
-				c.Name, c.PeakNM, 100*TestLevel, l.MandelP)
-		}
-		if everCurved[k] && !hasString(c.Flags, FlagCurved) {
-			c.Flags = append([]string{FlagCurved}, c.Flags...)
-		}
-		if noLinear[k] {
-			warn("%s: the calibration line at %g nm bends even over its lowest levels %s: it cannot be quantified linearly with these standards, and its results are approximate (add lower levels, closer together)",
-				c.Name, c.PeakNM, levelList(c.Linearity))
-		}
-		if rows := leftOutRows[k]; len(rows) > 0 {
-			var levels []float64
-			seen := map[float64]bool{}
-			for _, i := range rows {
-				r := fit[i]
-				c.StandardsLeftOut = append(c.StandardsLeftOut, Standard{File: r.File, Column: r.Column, SHA256: r.SHA256,
-					Conc: append([]float64(nil), r.Conc...), Line: r.Line})
-				if v := r.Conc[k]; !seen[v] {
-					seen[v] = true
-					levels = append(levels, v)
-				}
-			}
-			sort.Float64s(levels)
-			why := "its calibration line bends above that by Mandel's test"
-			if !everCurved[k] {
-				why = fmt.Sprintf("higher standards read above the ceiling of A = %g at the band maximum", ceiling)
-			}
-			warn("%s: the absorptivities rest on the standards up to %s only, as %s; left out %s %s: %s",
-				c.Name, fmtNum(c.MaxStandard), why, plural(len(levels), "level", "levels"), numList(levels), rowList(rows, fit))
-		}
+		b.finishCompound(&set.Compounds[k], k)
 	}
-
-	// Provenance.
-	now := time.Now
-	if opt.Now != nil {
-		now = opt.Now
-	}
-	prov.Created = now().UTC().Format(time.RFC3339)
-	for _, r := range append(append([]Row(nil), sh.Standards...), sh.Blanks...) {
-		prov.Standards = append(prov.Standards, Standard{
-			File: r.File, Column: r.Column, SHA256: r.SHA256,
-			Conc: append([]float64(nil), r.Conc...), Line: r.Line,
-		})
-	}
-	sort.SliceStable(prov.Standards, func(a, b int) bool { return prov.Standards[a].Line < prov.Standards[b].Line })
-	prov.Notes = notes
-	set.Provenance = prov
-	if err := set.Validate(); err != nil {
-		return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
-	}
-	return set, nil
+	return b.finish(set)
 }
 
 // fitParams are the inputs of one least-squares pass of Build.
 type fitParams struct {
-	sh                   *Sheet
-	fit                  []Row
+	sh                   *reference.Sheet
+	fit                  []reference.Row
 	abs                  *mat.Dense // blank-corrected, pre-treated, one row per fit row
 	keep                 [][]bool   // under the ceiling, per fit row and wavelength
 	grid                 []float64
@@ -469,11 +169,23 @@ type fitParams struct {
 // fitResult is one pass: the set (absorptivities, noise, band maxima,
 // standards range, linearity; flags not yet set) and what the ceiling did.
 type fitResult struct {
-	set      *Set
+	set      *reference.Set
 	clipped  []bool // per compound: standards above the ceiling at its band maximum
 	leftOut  int    // readings above the ceiling, over all wavelengths
 	unsolved int    // wavelengths where too few standards stayed under the ceiling
 	worst    float64
+}
+
+// pass is the state of one run of fitParams.
+type pass struct {
+	*fitParams
+	use   []bool
+	sel   []int           // indexes of the fit rows in use
+	rows  []reference.Row // the fit rows in use
+	masks [][]bool        // their keep masks
+	res   *fitResult
+	kraw  [][]float64 // fitted K*b per compound, absorbance per unit concentration
+	icpt  []float64   // fitted intercept, when there is one
 }
 
 // run fits the rows marked in use: at each wavelength, one solver per
@@ -481,94 +193,142 @@ type fitResult struct {
 // maximum, standards range and calibration line. Rows not in use still
 // appear in the lines' Data, as readings not used.
 func (fp *fitParams) run(use []bool) (*fitResult, error) {
-	sh, grid, path, intercept := fp.sh, fp.grid, fp.path, fp.intercept
-	m, p := len(sh.Compounds), len(grid)
-	var sel []int
-	for i, u := range use {
-		if u {
-			sel = append(sel, i)
+	ps := fp.newPass(use)
+	solved, err := ps.solveWavelengths()
+	if err != nil {
+		return nil, err
+	}
+	if err := ps.fillUnsolved(solved); err != nil {
+		return nil, err
+	}
+	// Per compound: band maximum, standards range, linearity.
+	for k := range ps.res.set.Compounds {
+		if err := ps.compoundLine(k); err != nil {
+			return nil, err
 		}
 	}
-	n := len(sel)
-	fit := make([]Row, n)
-	keep := make([][]bool, n)
-	for r, i := range sel {
-		fit[r], keep[r] = fp.fit[i], fp.keep[i]
+	return ps.res, nil
+}
+
+// newPass selects the rows in use and makes the set to fill.
+func (fp *fitParams) newPass(use []bool) *pass {
+	m, p := len(fp.sh.Compounds), len(fp.grid)
+	ps := &pass{fitParams: fp, use: use}
+	for i, u := range use {
+		if u {
+			ps.sel = append(ps.sel, i)
+		}
 	}
-	set := &Set{
-		Schema:    SchemaVersion,
-		Grid:      grid,
-		Compounds: make([]Compound, m),
+	n := len(ps.sel)
+	ps.rows = make([]reference.Row, n)
+	ps.masks = make([][]bool, n)
+	for r, i := range ps.sel {
+		ps.rows[r], ps.masks[r] = fp.fit[i], fp.keep[i]
+	}
+	set := &reference.Set{
+		Schema:    reference.SchemaVersion,
+		Grid:      fp.grid,
+		Compounds: make([]reference.Compound, m),
 		Noise:     make([]float64, p),
-		PathCM:    path,
+		PathCM:    fp.path,
 		Ceiling:   fp.ceiling,
 		Floor:     fp.floor,
-		Intercept: intercept,
+		Intercept: fp.intercept,
 	}
-	res := &fitResult{set: set, clipped: make([]bool, m)}
-	kraw := make([][]float64, m) // fitted K*b, absorbance per unit concentration
-	var icpt []float64
-	if intercept {
-		icpt = make([]float64, p)
+	ps.res = &fitResult{set: set, clipped: make([]bool, m)}
+	ps.kraw = make([][]float64, m)
+	if fp.intercept {
+		ps.icpt = make([]float64, p)
 	}
 	for k := range set.Compounds {
 		c := &set.Compounds[k]
-		c.Name, c.Unit = sh.Compounds[k], sh.Units[k]
+		c.Name, c.Unit = fp.sh.Compounds[k], fp.sh.Units[k]
 		c.Absorptivity = make([]float64, p)
 		c.SE = make([]float64, p)
 		c.Usable = make([]bool, p)
-		kraw[k] = make([]float64, p)
+		ps.kraw[k] = make([]float64, p)
 	}
+	return ps
+}
+
+// solveWavelengths fits each wavelength and reports where the fit had
+// degrees of freedom left.
+func (ps *pass) solveWavelengths() ([]bool, error) {
+	p := len(ps.grid)
 	fits := map[string]*maskFit{}
-	key := make([]byte, n)
+	key := make([]byte, len(ps.rows))
 	solved := make([]bool, p)
 	for j := range p {
-		for i := range n {
-			key[i] = '0'
-			if keep[i][j] {
-				key[i] = '1'
-			} else {
-				res.leftOut++
-				for k := range m {
-					if fit[i].Conc[k] > 0 {
-						set.Compounds[k].LeftOut++
-					}
-				}
-			}
-		}
+		ps.maskKey(key, j)
 		mf, ok := fits[string(key)]
 		if !ok {
 			var err error
-			if mf, err = newMaskFit(fit, keep, j, m, intercept); err != nil {
-				return nil, fmt.Errorf("reference: build: %s: least squares at %g nm: %w", sh.Path, grid[j], err)
+			if mf, err = newMaskFit(ps.rows, ps.masks, j, len(ps.res.set.Compounds), ps.intercept); err != nil {
+				return nil, fmt.Errorf("calibration: build: %s: least squares at %g nm: %w", ps.sh.Path, ps.grid[j], err)
 			}
 			fits[string(key)] = mf
 		}
 		if mf.solver == nil {
 			continue
 		}
-		for r, i := range mf.rows {
-			mf.y[r] = fp.abs.At(sel[i], j)
+		var err error
+		if solved[j], err = ps.solveAt(mf, j); err != nil {
+			return nil, err
 		}
-		if err := mf.solver.Solve(&mf.res, mf.y); err != nil {
-			return nil, fmt.Errorf("reference: build: least squares at %g nm: %w", grid[j], err)
-		}
-		if mf.res.DoF <= 0 {
+	}
+	return solved, nil
+}
+
+// maskKey writes the mask of the rows in use at wavelength j into key
+// ('1' kept, '0' above the ceiling) and counts the readings left out.
+func (ps *pass) maskKey(key []byte, j int) {
+	set := ps.res.set
+	for i := range ps.rows {
+		key[i] = '0'
+		if ps.masks[i][j] {
+			key[i] = '1'
 			continue
 		}
-		solved[j] = true
-		for q, k := range mf.comps {
-			c := &set.Compounds[k]
-			kraw[k][j] = mf.res.Coef[q]
-			c.Absorptivity[j] = mf.res.Coef[q] / path
-			c.SE[j] = mf.res.SE[q] / path
-			c.Usable[j] = mf.levelsOK[q]
+		ps.res.leftOut++
+		for k := range set.Compounds {
+			if ps.rows[i].Conc[k] > 0 {
+				set.Compounds[k].LeftOut++
+			}
 		}
-		if intercept {
-			icpt[j] = mf.res.Coef[len(mf.comps)]
-		}
-		set.Noise[j] = math.Sqrt(mf.res.RSS / float64(mf.res.DoF))
 	}
+}
+
+// solveAt fits wavelength j with mf and stores the coefficients; false
+// when no degrees of freedom are left for the noise.
+func (ps *pass) solveAt(mf *maskFit, j int) (bool, error) {
+	set := ps.res.set
+	for r, i := range mf.rows {
+		mf.y[r] = ps.abs.At(ps.sel[i], j)
+	}
+	if err := mf.solver.Solve(&mf.res, mf.y); err != nil {
+		return false, fmt.Errorf("calibration: build: least squares at %g nm: %w", ps.grid[j], err)
+	}
+	if mf.res.DoF <= 0 {
+		return false, nil
+	}
+	for q, k := range mf.comps {
+		c := &set.Compounds[k]
+		ps.kraw[k][j] = mf.res.Coef[q]
+		c.Absorptivity[j] = mf.res.Coef[q] / ps.path
+		c.SE[j] = mf.res.SE[q] / ps.path
+		c.Usable[j] = mf.levelsOK[q]
+	}
+	if ps.intercept {
+		ps.icpt[j] = mf.res.Coef[len(mf.comps)]
+	}
+	set.Noise[j] = math.Sqrt(mf.res.RSS / float64(mf.res.DoF))
+	return true, nil
+}
+
+// fillUnsolved sets the noise where nothing was solved to the largest
+// found; an error when nothing was solved.
+func (ps *pass) fillUnsolved(solved []bool) error {
+	res, set := ps.res, ps.res.set
 	nsolved := 0
 	for j, ok := range solved {
 		if ok {
@@ -577,88 +337,92 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 		}
 	}
 	if nsolved == 0 {
-		return nil, fmt.Errorf("reference: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
-			sh.Path, ErrTooFewStandards, fp.ceiling)
+		return fmt.Errorf("calibration: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
+			ps.sh.Path, ErrTooFewStandards, ps.ceiling)
 	}
-	if nsolved < p {
-		res.unsolved = p - nsolved
+	if nsolved < len(solved) {
+		res.unsolved = len(solved) - nsolved
 		for j, ok := range solved {
 			if !ok {
 				set.Noise[j] = res.worst
 			}
 		}
 	}
+	return nil
+}
 
-	// Per compound: band maximum, standards range, linearity.
-	for k := range set.Compounds {
-		c := &set.Compounds[k]
-		if intercept {
-			c.Intercept = icpt
-		}
-		jp := -1
-		for j := range p {
-			if c.Usable[j] && (jp < 0 || c.Absorptivity[j] > c.Absorptivity[jp]) {
-				jp = j
-			}
-		}
-		if jp < 0 {
-			return nil, fmt.Errorf("reference: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
-				sh.Path, ErrTooFewStandards, c.Name, minLevels, fp.ceiling)
-		}
-		c.PeakNM = grid[jp]
-		c.MinStandard, c.MaxStandard = math.Inf(1), 0
-		for _, r := range fit {
-			if v := r.Conc[k]; v > 0 {
-				c.MinStandard = min(c.MinStandard, v)
-				c.MaxStandard = max(c.MaxStandard, v)
-			}
-		}
-		// pointsAt is the calibration line of compound k at grid index
-		// j: the readings of its standards (and blanks) with the other
-		// compounds' fitted contributions removed.
-		pointsAt := func(j int) []Point {
-			var pts []Point
-			for i, r := range fp.fit {
-				if r.Conc[k] == 0 && !allZero(r.Conc) {
-					continue
-				}
-				y := fp.abs.At(i, j)
-				for l := range m {
-					if l != k {
-						y -= r.Conc[l] * kraw[l][j]
-					}
-				}
-				pts = append(pts, Point{Conc: r.Conc[k], Absorbance: y, Used: use[i] && fp.keep[i][j]})
-			}
-			return pts
-		}
-		for i, r := range fp.fit {
-			if (r.Conc[k] != 0 || allZero(r.Conc)) && use[i] && !fp.keep[i][jp] {
-				res.clipped[k] = true
-			}
-		}
-		var band []int
-		for j := range p {
-			if c.Usable[j] && c.Absorptivity[j] >= BandFraction*c.Absorptivity[jp] {
-				band = append(band, j)
-			}
-		}
-		bl := bandLine(grid, band, jp, pointsAt)
-		lin, err := lineTestAt(pointsAt(jp), fp.floor, bl.ConfirmsPeak())
-		if err != nil {
-			return nil, fmt.Errorf("reference: build: %s: %s at %g nm: %w", sh.Path, c.Name, c.PeakNM, err)
-		}
-		lin.Band = bl
-		c.Linearity = lin
+// compoundLine finds compound k's band maximum and standards range, and
+// fits and tests its calibration line there and over its band.
+func (ps *pass) compoundLine(k int) error {
+	c := &ps.res.set.Compounds[k]
+	if ps.intercept {
+		c.Intercept = ps.icpt
 	}
-	return res, nil
+	jp := -1
+	for j := range ps.grid {
+		if c.Usable[j] && (jp < 0 || c.Absorptivity[j] > c.Absorptivity[jp]) {
+			jp = j
+		}
+	}
+	if jp < 0 {
+		return fmt.Errorf("calibration: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
+			ps.sh.Path, ErrTooFewStandards, c.Name, minLevels, ps.ceiling)
+	}
+	c.PeakNM = ps.grid[jp]
+	c.MinStandard, c.MaxStandard = math.Inf(1), 0
+	for _, r := range ps.rows {
+		if v := r.Conc[k]; v > 0 {
+			c.MinStandard = min(c.MinStandard, v)
+			c.MaxStandard = max(c.MaxStandard, v)
+		}
+	}
+	for i, r := range ps.fit {
+		if (r.Conc[k] != 0 || r.IsBlank()) && ps.use[i] && !ps.keep[i][jp] {
+			ps.res.clipped[k] = true
+		}
+	}
+	var band []int
+	for j := range ps.grid {
+		if c.Usable[j] && c.Absorptivity[j] >= reference.BandFraction*c.Absorptivity[jp] {
+			band = append(band, j)
+		}
+	}
+	pointsAt := func(j int) []reference.Point { return ps.pointsAt(k, j) }
+	bl := bandLine(ps.grid, band, jp, pointsAt)
+	lin, err := lineTestAt(pointsAt(jp), ps.floor, bl.ConfirmsPeak())
+	if err != nil {
+		return fmt.Errorf("calibration: build: %s: %s at %g nm: %w", ps.sh.Path, c.Name, c.PeakNM, err)
+	}
+	lin.Band = bl
+	c.Linearity = lin
+	return nil
+}
+
+// pointsAt is the calibration line of compound k at grid index j: the
+// readings of its standards (and blanks) with the other compounds' fitted
+// contributions removed.
+func (ps *pass) pointsAt(k, j int) []reference.Point {
+	var pts []reference.Point
+	for i, r := range ps.fit {
+		if r.Conc[k] == 0 && !r.IsBlank() {
+			continue
+		}
+		y := ps.abs.At(i, j)
+		for l := range ps.kraw {
+			if l != k {
+				y -= r.Conc[l] * ps.kraw[l][j]
+			}
+		}
+		pts = append(pts, reference.Point{Conc: r.Conc[k], Absorbance: y, Used: ps.use[i] && ps.keep[i][j]})
+	}
+	return pts
 }
 
 // checkKept checks that the rows kept still determine every compound:
 // each varies, there are more rows than coefficients, and the design is
 // well conditioned.
-func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
-	var rows []Row
+func checkKept(fit []reference.Row, use []bool, names []string, intercept bool) error {
+	var rows []reference.Row
 	for i, u := range use {
 		if u {
 			rows = append(rows, fit[i])
@@ -680,7 +444,7 @@ func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
 			}
 		}
 		if !varies {
-			return fmt.Errorf("%w: %s would be %g in every standard left", ErrNoVariation, name, rows[0].Conc[k])
+			return fmt.Errorf("%w: %s would be %g in every standard left", reference.ErrNoVariation, name, rows[0].Conc[k])
 		}
 	}
 	_, err := checkDesign(rows, names, intercept)
@@ -690,7 +454,7 @@ func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
 // curvedWithinRange reports whether the used readings of l up to its
 // range's top still fail Mandel's test (the range search stopped at the
 // fewest levels the test can judge).
-func curvedWithinRange(l Linearity) bool {
+func curvedWithinRange(l reference.Linearity) bool {
 	var x, y []float64
 	for _, p := range l.Data {
 		if p.Used && p.Conc <= l.RangeHi {
@@ -704,7 +468,7 @@ func curvedWithinRange(l Linearity) bool {
 
 // levelList names the used non-zero levels of l within its range: "2, 5,
 // 10".
-func levelList(l Linearity) string {
+func levelList(l reference.Linearity) string {
 	var used []float64
 	for _, p := range l.Data {
 		if p.Used && p.Conc <= l.RangeHi {
@@ -744,7 +508,7 @@ const listMax = 5
 
 // rowList names the fit rows' scans with their sheet lines, the first
 // listMax of them: "stdc/L20a.csv (sheet line 8), ... and 3 more".
-func rowList(rows []int, fit []Row) string {
+func rowList(rows []int, fit []reference.Row) string {
 	var b strings.Builder
 	for n, i := range rows {
 		if n == listMax {
@@ -761,7 +525,7 @@ func rowList(rows []int, fit []Row) string {
 
 // rowName is a standard's scan and sheet line: "L20a.csv (sheet line 8)",
 // with the column of a wide table after the file.
-func rowName(r Row) string {
+func rowName(r reference.Row) string {
 	f := r.File
 	if r.Column != "" {
 		f += " column " + r.Column
@@ -804,7 +568,7 @@ type maskFit struct {
 // newMaskFit sets up the fit for the rows kept at wavelength j. The solver
 // is nil when the rows cannot determine the coefficients (too few rows, or
 // rank deficient once readings above the ceiling are left out).
-func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, error) {
+func newMaskFit(fit []reference.Row, keep [][]bool, j, m int, intercept bool) (*maskFit, error) {
 	mf := &maskFit{}
 	for i := range fit {
 		if keep[i][j] {
@@ -855,7 +619,7 @@ func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, e
 // checkDesign refuses a concentration design (with its intercept column)
 // that is rank deficient or badly conditioned once each column is scaled
 // to unit length, and returns its condition number.
-func checkDesign(fit []Row, names []string, intercept bool) (float64, error) {
+func checkDesign(fit []reference.Row, names []string, intercept bool) (float64, error) {
 	m := len(names)
 	nc := m
 	if intercept {
@@ -906,14 +670,14 @@ func designNames(names []string, intercept bool) string {
 
 // commonGrid chooses the grid: the first standard's wavelengths within the
 // window, or within the range all scans share.
-func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([]float64, error) {
-	rows := append(append([]Row(nil), fit...), sh.Blanks...)
+func commonGrid(sh *reference.Sheet, fit []reference.Row, opt Options, warn func(string, ...any)) ([]float64, error) {
+	rows := append(append([]reference.Row(nil), fit...), sh.Blanks...)
 	first := sh.Standards[0].Scan.Wavelengths
 	var lo, hi float64
 	if opt.WindowLo != 0 || opt.WindowHi != 0 {
 		lo, hi = opt.WindowLo, opt.WindowHi
 		if !finite(lo) || !finite(hi) || lo >= hi || lo < 0 {
-			return nil, fmt.Errorf("reference: build: %w: window %g-%g nm is empty", ErrWindow, lo, hi)
+			return nil, fmt.Errorf("calibration: build: %w: window %g-%g nm is empty", ErrWindow, lo, hi)
 		}
 		covers := func(wl []float64) bool {
 			s := gridSlack * (wl[len(wl)-1] - wl[0])
@@ -926,7 +690,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 			}
 		}
 		if b := opt.Blank; b != nil && !covers(b.Wavelengths) {
-			return nil, fmt.Errorf("reference: build: %w: blank %s covers %g-%g nm, the window is %g-%g nm",
+			return nil, fmt.Errorf("calibration: build: %w: blank %s covers %g-%g nm, the window is %g-%g nm",
 				ErrWindow, b.Source, b.Wavelengths[0], b.Wavelengths[len(b.Wavelengths)-1], lo, hi)
 		}
 	} else {
@@ -939,7 +703,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		}
 		var err error
 		if lo, hi, err = spectrum.CommonRange(ss); err != nil {
-			return nil, fmt.Errorf("reference: build: %s: %w", sh.Path, err)
+			return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
 		}
 		if lo > first[0] || hi < first[len(first)-1] {
 			warn("%s", narrowNote(rows, opt.Blank, first, lo, hi))
@@ -953,7 +717,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		}
 	}
 	if len(grid) < 2 {
-		return nil, fmt.Errorf("reference: build: %w: %s has %d points within %g-%g nm; need at least 2",
+		return nil, fmt.Errorf("calibration: build: %w: %s has %d points within %g-%g nm; need at least 2",
 			ErrWindow, sh.Standards[0].File, len(grid), lo, hi)
 	}
 	var moved []int
@@ -975,7 +739,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 // narrowNote says which scans limit the shared range lo-hi to less than
 // the first standard's grid (first): those starting at lo or ending at
 // hi, each with its own range, and the range the other scans share.
-func narrowNote(rows []Row, blank *spectrum.Spectrum, first []float64, lo, hi float64) string {
+func narrowNote(rows []reference.Row, blank *spectrum.Spectrum, first []float64, lo, hi float64) string {
 	s := gridSlack * (first[len(first)-1] - first[0])
 	cutLo, cutHi := lo > first[0]+s, hi < first[len(first)-1]-s
 	limits := func(wl []float64) bool {
@@ -1025,3 +789,5 @@ func onGrid(s *spectrum.Spectrum, grid []float64) (v []float64, resampled bool, 
 	}
 	return v, true, nil
 }
+
+func finite(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }

@@ -1,4 +1,4 @@
-package reference
+package calibration
 
 import (
 	"errors"
@@ -11,6 +11,7 @@ import (
 
 	"huesolve/baseline"
 	"huesolve/internal/near"
+	"huesolve/reference"
 	"huesolve/spectrum"
 )
 
@@ -34,10 +35,10 @@ func linGrid(lo, step float64, n int) []float64 {
 
 // memSheet makes a sheet in memory: row i has concentrations conc[i] and
 // absorbances scan[i] on grid.
-func memSheet(names []string, grid []float64, conc, scan [][]float64) *Sheet {
-	sh := &Sheet{Path: "standards.csv", Compounds: names, Units: make([]string, len(names))}
+func memSheet(names []string, grid []float64, conc, scan [][]float64) *reference.Sheet {
+	sh := &reference.Sheet{Path: "standards.csv", Compounds: names, Units: make([]string, len(names))}
 	for i := range conc {
-		r := Row{
+		r := reference.Row{
 			File: fmt.Sprintf("std-%02d.csv", i+1), Line: i + 2, Conc: conc[i],
 			Scan: &spectrum.Spectrum{Wavelengths: grid, Values: scan[i], Quantity: spectrum.Absorbance,
 				Source: spectrum.Source{File: fmt.Sprintf("std-%02d.csv", i+1)}},
@@ -207,7 +208,7 @@ func TestBuildPureVsMixed(t *testing.T) {
 	k := trueK(grid)
 	const noise = 0.001
 	rng := rand.New(rand.NewPCG(1, 1))
-	var sets [2]*Set
+	var sets [2]*reference.Set
 	for d, conc := range [][][]float64{pureDesign(), mixedDesign()} {
 		sh := memSheet(mixNames, grid, conc, synth(conc, k, 0.03, noise, rng))
 		s, err := Build(sh, Options{Now: fixedNow})
@@ -230,7 +231,7 @@ func TestBuildPureVsMixed(t *testing.T) {
 			a, b := sets[0].Compounds[q], sets[1].Compounds[q]
 			z := (a.Absorptivity[j] - b.Absorptivity[j]) / math.Hypot(a.SE[j], b.SE[j])
 			worst = max(worst, math.Abs(z))
-			for _, s := range []Compound{a, b} {
+			for _, s := range []reference.Compound{a, b} {
 				if zz := (s.Absorptivity[j] - k[q][j]) / s.SE[j]; math.Abs(zz) > 5 {
 					t.Errorf("%s at %g nm: K %g is %.1f SE from the truth %g", s.Name, grid[j], s.Absorptivity[j], zz, k[q][j])
 				}
@@ -310,7 +311,7 @@ func TestBuildCurved(t *testing.T) {
 		}
 		c := set.Compounds[0]
 		l := c.Linearity
-		if curved := bend > 0; hasFlag(c.Flags, FlagCurved) != curved {
+		if curved := bend > 0; hasFlag(c.Flags, reference.FlagCurved) != curved {
 			t.Errorf("bend %g: flags %v (Mandel F %g, p %g), want curved %v", bend, c.Flags, l.MandelF, l.MandelP, curved)
 		}
 		// The absorptivities rest on the linear range only.
@@ -371,15 +372,15 @@ func TestBuildPeakOnlyCurvature(t *testing.T) {
 		}
 		// The test itself fires at the maximum (with spread 1 the refit
 		// within the cut range then passes it, so only spread 0 shows it).
-		if spread == 0 && !(l.MandelP < 1-TestLevel) {
-			t.Fatalf("spread %d: Mandel p %g at the maximum, want below %g", spread, l.MandelP, 1-TestLevel)
+		if spread == 0 && !(l.MandelP < 1-reference.TestLevel) {
+			t.Fatalf("spread %d: Mandel p %g at the maximum, want below %g", spread, l.MandelP, 1-reference.TestLevel)
 		}
 		joined := strings.Join(notes, "\n")
 		if spread == 0 {
 			if b.PeakNeighboursCurved != 0 {
 				t.Fatalf("spread 0: Mandel fires at %d neighbours of the maximum, want none", b.PeakNeighboursCurved)
 			}
-			if hasFlag(c.Flags, FlagCurved) || l.Curved || !l.CurvedUnconfirmed {
+			if hasFlag(c.Flags, reference.FlagCurved) || l.Curved || !l.CurvedUnconfirmed {
 				t.Errorf("maximum only: flags %v, curved %v, unconfirmed %v; want not flagged, noted", c.Flags, l.Curved, l.CurvedUnconfirmed)
 			}
 			if l.RangeHi != 12 || len(c.StandardsLeftOut) != 0 || c.MaxStandard != 12 {
@@ -389,7 +390,7 @@ func TestBuildPeakOnlyCurvature(t *testing.T) {
 				t.Errorf("maximum only: notes %q; want the unconfirmed curvature noted", notes)
 			}
 		} else {
-			if !hasFlag(c.Flags, FlagCurved) || l.CurvedUnconfirmed || l.RangeHi >= 12 {
+			if !hasFlag(c.Flags, reference.FlagCurved) || l.CurvedUnconfirmed || l.RangeHi >= 12 {
 				t.Errorf("spread over neighbours: flags %v, unconfirmed %v, range up to %g; want flagged and cut", c.Flags, l.CurvedUnconfirmed, l.RangeHi)
 			}
 			if strings.Contains(joined, "not confirmed") {
@@ -448,7 +449,7 @@ func TestBuildCurvedRefit(t *testing.T) {
 	}
 	a := set.Compounds[0]
 	l := a.Linearity
-	if !hasFlag(a.Flags, FlagCurved) || l.RangeHi < 6 || l.RangeHi >= 18 || a.MaxStandard != l.RangeHi {
+	if !hasFlag(a.Flags, reference.FlagCurved) || l.RangeHi < 6 || l.RangeHi >= 18 || a.MaxStandard != l.RangeHi {
 		t.Fatalf("flags %v, range %g-%g, highest standard %g: want curved, range ending at 6-14 and the fit within it",
 			a.Flags, l.RangeLo, l.RangeHi, a.MaxStandard)
 	}
@@ -495,7 +496,7 @@ func TestBuildCurvedRefit(t *testing.T) {
 		!strings.Contains(all, "18") || !strings.Contains(all, "(sheet line ") || !strings.Contains(all, " more") {
 		t.Errorf("warnings %q", warned)
 	}
-	if b := set.Compounds[1]; hasFlag(b.Flags, FlagCurved) || math.Abs(b.Absorptivity[18]-0.08*shapeB[18]) > 4*b.SE[18] {
+	if b := set.Compounds[1]; hasFlag(b.Flags, reference.FlagCurved) || math.Abs(b.Absorptivity[18]-0.08*shapeB[18]) > 4*b.SE[18] {
 		t.Errorf("straight compound: flags %v, absorptivity at %g nm %g ± %g, want %g", b.Flags, grid[18], b.Absorptivity[18], b.SE[18], 0.08*shapeB[18])
 	}
 }
@@ -526,7 +527,7 @@ func TestBuildNotLinear(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if c := set.Compounds[0]; !hasFlag(c.Flags, FlagCurved) || !strings.Contains(strings.Join(warned, "\n"), "cannot be quantified linearly") {
+	if c := set.Compounds[0]; !hasFlag(c.Flags, reference.FlagCurved) || !strings.Contains(strings.Join(warned, "\n"), "cannot be quantified linearly") {
 		t.Errorf("flags %v, warnings %q", c.Flags, warned)
 	}
 }
@@ -538,7 +539,7 @@ func TestBuildNarrowScans(t *testing.T) {
 	wide := linGrid(400, 2, 151) // 400-700 nm
 	k := [][]float64{band(wide, 550, 30, 0.1)}
 	conc := [][]float64{{0}, {1}, {2}, {3}, {4}, {5}, {6}, {7}, {8}, {9}, {10}}
-	narrow := func(sh *Sheet, i int, lo, hi float64) {
+	narrow := func(sh *reference.Sheet, i int, lo, hi float64) {
 		g := linGrid(lo, 2, int((hi-lo)/2)+1)
 		sh.Standards[i].Scan = &spectrum.Spectrum{Wavelengths: g, Values: scale(band(g, 550, 30, 0.1), conc[i+1][0])}
 	}
@@ -640,7 +641,7 @@ func TestBuildCeiling(t *testing.T) {
 		t.Errorf("usable at 500 nm with 2 levels under the ceiling")
 	}
 	// Far out on the band every level is under the ceiling.
-	if !c.Usable[0] || c.LeftOut == 0 || !hasFlag(c.Flags, FlagAboveCeiling) {
+	if !c.Usable[0] || c.LeftOut == 0 || !hasFlag(c.Flags, reference.FlagAboveCeiling) {
 		t.Errorf("usable[450 nm] %v, left out %d, flags %v", c.Usable[0], c.LeftOut, c.Flags)
 	}
 	if c.PeakNM == 500 {
@@ -730,11 +731,11 @@ func TestBuildErrors(t *testing.T) {
 	cases := []struct {
 		name string
 		conc func() [][]float64
-		edit func(sh *Sheet, opt *Options)
+		edit func(sh *reference.Sheet, opt *Options)
 		want error
 		in   string // the message must name this
 	}{
-		{"negative", base, func(sh *Sheet, _ *Options) { sh.Standards[3].Conc[1] = -1 }, ErrConcentration, "standards.csv:7"},
+		{"negative", base, func(sh *reference.Sheet, _ *Options) { sh.Standards[3].Conc[1] = -1 }, reference.ErrConcentration, "standards.csv:7"},
 		{"never varies", func() [][]float64 {
 			c := base()
 			for i := range c {
@@ -744,7 +745,7 @@ func TestBuildErrors(t *testing.T) {
 				}
 			}
 			return c
-		}, nil, ErrNoVariation, "blue"},
+		}, nil, reference.ErrNoVariation, "blue"},
 		{"same ratio", func() [][]float64 {
 			var c [][]float64
 			for _, v := range []float64{0, 1, 2, 3, 4, 5, 6} {
@@ -759,7 +760,7 @@ func TestBuildErrors(t *testing.T) {
 			}
 			return c
 		}, nil, ErrDesign, "condition number"},
-		{"window", base, func(_ *Sheet, opt *Options) { opt.WindowLo, opt.WindowHi = 380, 550 }, ErrWindow, "standards.csv:4: scan does not cover the window: std-03.csv covers 400-600 nm"},
+		{"window", base, func(_ *reference.Sheet, opt *Options) { opt.WindowLo, opt.WindowHi = 380, 550 }, ErrWindow, "standards.csv:4: scan does not cover the window: std-03.csv covers 400-600 nm"},
 		{"too few", func() [][]float64 { return [][]float64{{1, 0, 0}, {0, 1, 0}, {0, 0, 1}, {1, 1, 1}} }, nil, ErrTooFewStandards, "standards"},
 	}
 	for _, c := range cases {

@@ -1,4 +1,4 @@
-package reference
+package calibration
 
 import (
 	"bufio"
@@ -10,6 +10,7 @@ import (
 	"testing"
 
 	"huesolve/internal/near"
+	"huesolve/reference"
 )
 
 // readNorris reads testdata/reference/Norris.dat (NIST StRD, columns y x).
@@ -82,10 +83,10 @@ func readFixture(t *testing.T) fixture {
 	return fx
 }
 
-func points(x, y []float64) []Point {
-	p := make([]Point, len(x))
+func points(x, y []float64) []reference.Point {
+	p := make([]reference.Point, len(x))
 	for i := range x {
-		p[i] = Point{Conc: x[i], Absorbance: y[i], Used: true}
+		p[i] = reference.Point{Conc: x[i], Absorbance: y[i], Used: true}
 	}
 	return p
 }
@@ -267,7 +268,7 @@ func TestMandelCritical(t *testing.T) {
 				xmax, ymax = max(xmax, math.Abs(v)), max(ymax, math.Abs(c.y[i]))
 			}
 			// at fits the line to y + a (x/xmax)^2.
-			at := func(a float64) Linearity {
+			at := func(a float64) reference.Linearity {
 				y := make([]float64, len(c.y))
 				for i, v := range c.x {
 					y[i] = c.y[i] + a*(v/xmax)*(v/xmax)
@@ -288,7 +289,7 @@ func TestMandelCritical(t *testing.T) {
 				}
 			}
 			// solve bisects for the term that puts F at target.
-			solve := func(target float64) Linearity {
+			solve := func(target float64) reference.Linearity {
 				a, b := lo, hi
 				for range 200 {
 					m := (a + b) / 2
@@ -310,8 +311,8 @@ func TestMandelCritical(t *testing.T) {
 				t.Errorf("F = %.12g just above the SciPy F(1, %d) 99 %% point %.12g: not flagged curved (p %g)", above.MandelF, dof, crit, above.MandelP)
 			}
 			at99 := solve(crit)
-			d := near.Rel(t, fmt.Sprintf("Mandel's p at the SciPy F(1, %d) 99 %% point", dof), at99.MandelP, 1-TestLevel, mandelLevelTol)
-			t.Logf("F(1, %d) 99 %% point %.15g (SciPy): p there %.15g, relative difference from %g %.2g", dof, crit, at99.MandelP, 1-TestLevel, d)
+			d := near.Rel(t, fmt.Sprintf("Mandel's p at the SciPy F(1, %d) 99 %% point", dof), at99.MandelP, 1-reference.TestLevel, mandelLevelTol)
+			t.Logf("F(1, %d) 99 %% point %.15g (SciPy): p there %.15g, relative difference from %g %.2g", dof, crit, at99.MandelP, 1-reference.TestLevel, d)
 		})
 	}
 }

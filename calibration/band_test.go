@@ -1,4 +1,4 @@
-package reference
+package calibration
 
 import (
 	"encoding/json"
@@ -6,13 +6,15 @@ import (
 	"math/rand/v2"
 	"strings"
 	"testing"
+
+	"huesolve/reference"
 )
 
 // bandSheet makes invented pure standards of one compound with a narrow
 // band at 450 nm that is straight in concentration, A = 0.12 c g1, and a
 // broad second band at 520 nm (0.7 of the height) that bends,
 // 0.7 (0.12 c - bend c^2) g2, plus noise of SD 0.001. No blanks.
-func bandSheet(bend float64) (*Sheet, []float64, [][]float64, [][]float64) {
+func bandSheet(bend float64) (*reference.Sheet, []float64, [][]float64, [][]float64) {
 	grid := linGrid(420, 2, 71)
 	g1 := band(grid, 450, 4, 1)
 	g2 := band(grid, 520, 15, 0.7)
@@ -50,7 +52,7 @@ func TestBuildBandCurved(t *testing.T) {
 			t.Fatalf("bend %g: band %+v, want it to span 450-520 nm with every wavelength tested", bend, b)
 		}
 		curved := bend > 0
-		if hasFlag(c.Flags, FlagCurved) != curved || b.TooCurved() != curved {
+		if hasFlag(c.Flags, reference.FlagCurved) != curved || b.TooCurved() != curved {
 			t.Errorf("bend %g: flags %v, curvature at %d of %d band wavelengths; want curved %v", bend, c.Flags, b.Curved, b.Tested, curved)
 		}
 		warned := strings.Contains(strings.Join(set.Provenance.Notes, "\n"), "though not at its maximum")
@@ -79,16 +81,16 @@ func TestBandAgreesWithMaximum(t *testing.T) {
 	}
 	c := set.Compounds[0]
 	b := c.Linearity.Band
-	at := func(nm float64) Linearity {
+	at := func(nm float64) reference.Linearity {
 		j := -1
 		for i, w := range grid {
 			if w == nm {
 				j = i
 			}
 		}
-		pts := make([]Point, len(conc))
+		pts := make([]reference.Point, len(conc))
 		for i := range conc {
-			pts[i] = Point{Conc: conc[i][0], Absorbance: scan[i][j], Used: true}
+			pts[i] = reference.Point{Conc: conc[i][0], Absorbance: scan[i][j], Used: true}
 		}
 		l, err := lineTest(pts, 0)
 		if err != nil {
@@ -106,7 +108,7 @@ func TestBandAgreesWithMaximum(t *testing.T) {
 	}
 	n, curved := 0, 0
 	for j, w := range grid {
-		if w < b.LoNM || w > b.HiNM || !c.Usable[j] || c.Absorptivity[j] < BandFraction*peakOf(c) {
+		if w < b.LoNM || w > b.HiNM || !c.Usable[j] || c.Absorptivity[j] < reference.BandFraction*peakOf(c) {
 			continue
 		}
 		n++
@@ -124,7 +126,7 @@ func TestBandAgreesWithMaximum(t *testing.T) {
 }
 
 // peakOf is the largest absorptivity of c.
-func peakOf(c Compound) float64 {
+func peakOf(c reference.Compound) float64 {
 	m := 0.0
 	for _, v := range c.Absorptivity {
 		m = max(m, v)
@@ -145,7 +147,7 @@ func TestBandJSON(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	var back Linearity
+	var back reference.Linearity
 	if err := json.Unmarshal(b, &back); err != nil {
 		t.Fatal(err)
 	}
@@ -159,7 +161,7 @@ func TestBandJSON(t *testing.T) {
 	if strings.Contains(string(b), `"band"`) {
 		t.Errorf("a line without band figures writes %s", b)
 	}
-	back = Linearity{}
+	back = reference.Linearity{}
 	if err := json.Unmarshal(b, &back); err != nil || back.Band != nil {
 		t.Errorf("read back band %+v, err %v; want nil", back.Band, err)
 	}

@@ -1,10 +1,11 @@
-package unmix_test
+package batch_test
 
 import (
 	"context"
 	"fmt"
 	"math"
 
+	"huesolve/batch"
 	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix"
@@ -46,8 +47,8 @@ func ExampleBatch_Run() {
 		}
 		return ss, nil
 	}
-	b := &unmix.Batch{Model: m, Workers: 2, ReadFile: read}
-	sum, err := b.Run(context.Background(), unmix.ExpandInputs([]string{"wide.csv", "broken.csv"}), func(o unmix.Outcome) error {
+	b := &batch.Batch{Model: m, Workers: 2, ReadFile: read}
+	sum, err := b.Run(context.Background(), batch.ExpandInputs([]string{"wide.csv", "broken.csv"}), func(o batch.Outcome) error {
 		if o.Err != nil {
 			fmt.Printf("%d %s: %v\n", o.Seq, o.File, o.Err)
 			return nil

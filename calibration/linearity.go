@@ -1,4 +1,4 @@
-package reference
+package calibration
 
 import (
 	"fmt"
@@ -7,27 +7,9 @@ import (
 
 	"gonum.org/v1/gonum/mat"
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"huesolve/reference"
 )
-
-// TestLevel is the confidence level of the linearity tests: Mandel's
-// fitting test compares its statistic with the F distribution at 99 %
-// (1 and N-3 degrees of freedom), as ISO 8466-1 does (recalled from
-// memory); the lack-of-fit test uses the same level.
-const TestLevel = 0.99
-
-// BandFraction sets the extent of a compound's band for the linearity
-// check over the band: the wavelengths where its absorptivity is at least
-// this fraction of its maximum. Half the maximum (the band's full width at
-// half maximum) is common practice for where a band ends.
-const BandFraction = 0.5
-
-// BandCurvedShare is the share of the band wavelengths above which
-// curvature flagged there by Mandel's test marks the compound curved even
-// when its band maximum passes. Half is this project's choice: at 99 % a
-// straight line is flagged at about 1 % of wavelengths by chance, so a
-// majority of the band bending is curvature, not noise, while a short
-// stretch (an edge, a neighbouring band) does not condemn the compound.
-const BandCurvedShare = 0.5
 
 // exactFitTol bounds the residual sum of squares of a straight line,
 // relative to the total sum of squares, below which the line counts as an
@@ -57,7 +39,7 @@ func fitPoly(x, y []float64, degree int) (lineFit, error) {
 		scale = max(scale, math.Abs(v))
 	}
 	if scale == 0 {
-		return lineFit{}, fmt.Errorf("%w: every concentration is zero", ErrNoVariation)
+		return lineFit{}, fmt.Errorf("%w: every concentration is zero", reference.ErrNoVariation)
 	}
 	// A power of two keeps the scaling exact.
 	_, e := math.Frexp(scale)
@@ -145,7 +127,7 @@ func mandel(x, y []float64) (f, p float64, curved bool) {
 	}
 	f = ds2 / s22
 	p = distuv.F{D1: 1, D2: float64(l2.dof)}.Survival(f)
-	return f, p, p < 1-TestLevel
+	return f, p, p < 1-reference.TestLevel
 }
 
 // lackOfFit tests the straight line against pure error from replicates:
@@ -163,8 +145,16 @@ func lackOfFit(x, y []float64, rss float64) (f, p float64) {
 	if m < 3 || n-m < 1 {
 		return math.NaN(), math.NaN()
 	}
+	// The groups are summed in order of concentration: a map's order
+	// changes from run to run, and with it the last bits of the sum.
+	levels := make([]float64, 0, m)
+	for v := range groups {
+		levels = append(levels, v)
+	}
+	sort.Float64s(levels)
 	pe := 0.0
-	for _, g := range groups {
+	for _, v := range levels {
+		g := groups[v]
 		mean := 0.0
 		for _, v := range g {
 			mean += v
@@ -200,7 +190,7 @@ func distinct(x []float64) int {
 // usable range runs from the lowest non-zero level whose reading reaches
 // floor to the highest level that still passes Mandel's test when the
 // levels above it are dropped one at a time (down to 3 levels).
-func lineTest(pts []Point, floor float64) (Linearity, error) {
+func lineTest(pts []reference.Point, floor float64) (reference.Linearity, error) {
 	return lineTestAt(pts, floor, true)
 }
 
@@ -209,8 +199,8 @@ func lineTest(pts []Point, floor float64) (Linearity, error) {
 // prefers a quadratic, the line is reported with CurvedUnconfirmed set,
 // Curved cleared and the range search skipped (every level stays in the
 // range). Build passes whether the band's neighbouring wavelengths bear
-// the band maximum out (see [BandLinearity.ConfirmsPeak]).
-func lineTestAt(pts []Point, floor float64, confirmed bool) (Linearity, error) {
+// the band maximum out (see [reference.BandLinearity.ConfirmsPeak]).
+func lineTestAt(pts []reference.Point, floor float64, confirmed bool) (reference.Linearity, error) {
 	var x, y []float64
 	for _, p := range pts {
 		if p.Used {
@@ -218,7 +208,7 @@ func lineTestAt(pts []Point, floor float64, confirmed bool) (Linearity, error) {
 			y = append(y, p.Absorbance)
 		}
 	}
-	lin := Linearity{Data: pts, Points: len(x)}
+	lin := reference.Linearity{Data: pts, Points: len(x)}
 	var levels []float64
 	for v := range levelSet(x) {
 		levels = append(levels, v)
@@ -309,8 +299,8 @@ func tss(y []float64) float64 {
 // jp is the grid index of the band maximum: the band wavelengths one grid
 // step either side of it are counted in PeakNeighboursTested and
 // PeakNeighboursCurved.
-func bandLine(grid []float64, js []int, jp int, pointsAt func(j int) []Point) *BandLinearity {
-	var b *BandLinearity
+func bandLine(grid []float64, js []int, jp int, pointsAt func(j int) []reference.Point) *reference.BandLinearity {
+	var b *reference.BandLinearity
 	var x, y []float64
 	for _, j := range js {
 		x, y = x[:0], y[:0]
@@ -332,7 +322,7 @@ func bandLine(grid []float64, js []int, jp int, pointsAt func(j int) []Point) *B
 			r2 = 1 - f.rss/t
 		}
 		if b == nil {
-			b = &BandLinearity{LoNM: grid[j], MinR2: r2, MinR2NM: grid[j]}
+			b = &reference.BandLinearity{LoNM: grid[j], MinR2: r2, MinR2NM: grid[j]}
 		}
 		b.HiNM = grid[j]
 		b.Wavelengths++

@@ -1,4 +1,4 @@
-package unmix
+package batch
 
 import (
 	"context"
@@ -11,6 +11,7 @@ import (
 	"testing"
 
 	"huesolve/spectrum"
+	"huesolve/unmix"
 )
 
 // fakeFiles serves spectra from memory: file i holds n_i scans; names in
@@ -73,7 +74,7 @@ func TestBatchOrderAndFailures(t *testing.T) {
 	inputs := []Input{{Path: "a.csv"}, {Path: "wide.csv"}, {Path: "bad.csv"}, {Path: "none*.csv", Err: ErrNoMatch}, {Path: "b.csv"}, {Path: "c.csv"}}
 	var first []record
 	for _, workers := range []int{1, 2, 4, 7} {
-		b := &Batch{Model: mustModel(t, testSet(4), Options{}), Workers: workers,
+		b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: workers,
 			ReadFile: fakeFiles(sizes, map[string]bool{"bad.csv": true})}
 		got, sum, err := runBatch(t, context.Background(), b, inputs, 0)
 		if err != nil {
@@ -101,7 +102,7 @@ func TestBatchOrderAndFailures(t *testing.T) {
 
 func TestBatchStops(t *testing.T) {
 	sizes := map[string]int{"wide.csv": 200}
-	b := &Batch{Model: mustModel(t, testSet(4), Options{}), Workers: 3, ReadFile: fakeFiles(sizes, nil)}
+	b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: 3, ReadFile: fakeFiles(sizes, nil)}
 	got, sum, err := runBatch(t, context.Background(), b, []Input{{Path: "wide.csv"}}, 10)
 	if !errors.Is(err, errStop) || len(got) != 10 || sum.Emitted != 9 {
 		t.Errorf("emit error: err %v, %d outcomes, emitted %d", err, len(got), sum.Emitted)
@@ -125,14 +126,14 @@ func TestBatchStops(t *testing.T) {
 
 func TestBatchEachAndFactors(t *testing.T) {
 	sizes := map[string]int{"x.csv": 4}
-	b := &Batch{Model: mustModel(t, testSet(4), Options{}), Workers: 2, ReadFile: fakeFiles(sizes, nil)}
-	b.Factors = func(s *spectrum.Spectrum) (Factors, error) {
+	b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: 2, ReadFile: fakeFiles(sizes, nil)}
+	b.Factors = func(s *spectrum.Spectrum) (unmix.Factors, error) {
 		if strings.HasSuffix(s.Name, "#1") {
-			return Factors{}, errors.New("no factors")
+			return unmix.Factors{}, errors.New("no factors")
 		}
-		return Factors{Dilution: 2}, nil
+		return unmix.Factors{Dilution: 2}, nil
 	}
-	b.Each = func(_ int, r *Result) error {
+	b.Each = func(_ int, r *unmix.Result) error {
 		if strings.HasSuffix(r.Sample, "#2") {
 			return errors.New("plot failed")
 		}
@@ -176,76 +177,73 @@ func TestExpandInputs(t *testing.T) {
 	}
 }
 
-func TestSampleSheet(t *testing.T) {
-	text := "# dilutions\nSample;Dilution;Path_cm\nA1;10;\nrun2.csv;;0.5\n\"B 3\";2.5;0.2\n"
-	sh, err := ParseSampleSheet(strings.NewReader(text), "sheet.csv")
-	if err != nil {
-		t.Fatal(err)
-	}
-	for _, c := range []struct {
-		name, file string
-		want       Factors
-		ok         bool
-	}{
-		{"A1", "x.csv", Factors{Dilution: 10}, true},
-		{"", "data/run2.csv", Factors{PathCM: 0.5}, true},
-		{"col", "data/run2.csv", Factors{PathCM: 0.5}, true},
-		{"B 3", "y.csv", Factors{Dilution: 2.5, PathCM: 0.2}, true},
-		{"Q", "data/A1.txt", Factors{Dilution: 10}, true},
-		{"Q", "q.csv", Factors{}, false},
-	} {
-		s := &spectrum.Spectrum{Name: c.name, Source: spectrum.Source{File: c.file}}
-		f, ok := sh.Lookup(s)
-		if f != c.want || ok != c.ok {
-			t.Errorf("Lookup(%q, %q) = %+v, %v, want %+v, %v", c.name, c.file, f, ok, c.want, c.ok)
+// TestNaturalOrder: folders and patterns expand in natural order, so
+// s2 comes before s10 (plain byte order would give s1, s10, s11, s2).
+func TestNaturalOrder(t *testing.T) {
+	dir := t.TempDir()
+	for _, n := range []string{"s10.csv", "s2.csv", "s1.csv", "s11.csv", "blank.csv", "s02b.csv"} {
+		if err := os.WriteFile(filepath.Join(dir, n), nil, 0o644); err != nil {
+			t.Fatal(err)
 		}
 	}
-	for _, c := range []struct{ text, want string }{
-		{"sample,dilution\nA,zero\n", "sheet.csv:2:2: dilution \"zero\" is not a number"},
-		{"sample,dilution\nA,1+3\n", "sheet.csv:2:2: dilution \"1+3\" is not a number"},
-		{"sample,dilution\nA,-2\n", "sheet.csv:2:2: dilution \"-2\" is not a positive number"},
-		{"sample,dilution\nA,NaN\n", "sheet.csv:2:2:"},
-		{"sample,dilution\nA,2e9\n", "sheet.csv:2:2: dilution \"2e9\": want a factor from 1e-06 to 1e+09"},
-		{"sample,dilution,path_cm\nA,2,4e-324\n", "sheet.csv:2:3: path_cm \"4e-324\": want 0.0001 to 100 cm"},
-		{"sample;path_cm\nA;150\n", "sheet.csv:2:2: path_cm \"150\""},
-		{"name,dilution\nA,2\n", "sheet.csv:1:1: unknown column \"name\""},
-		{"sample,note\nA,x\n", "sheet.csv:1: header needs"},
-		{"sample,path_cm\nA,1\nA,2\n", "sheet.csv:3:1: sample \"A\" already given on line 2"},
-		{"sample,path_cm\n,1\n", "sheet.csv:2:1: empty sample name"},
-		{"", "sheet.csv: no data"},
-	} {
-		_, err := ParseSampleSheet(strings.NewReader(c.text), "sheet.csv")
-		if err == nil || !strings.HasPrefix(err.Error(), c.want) {
-			t.Errorf("ParseSampleSheet(%q) error %v, want prefix %q", c.text, err, c.want)
+	want := "blank.csv s1.csv s2.csv s02b.csv s10.csv s11.csv"
+	for _, arg := range []string{dir, filepath.Join(dir, "*.csv")} {
+		var got []string
+		for _, in := range ExpandInputs([]string{arg}) {
+			got = append(got, filepath.Base(in.Path))
 		}
+		if strings.Join(got, " ") != want {
+			t.Errorf("%s: %v, want %s", arg, got, want)
+		}
+	}
+	if NaturalCompare("s01", "s1") == 0 || NaturalCompare("a", "a") != 0 || NaturalCompare("x9", "x10") >= 0 {
+		t.Error("NaturalCompare is not a total order as documented")
 	}
 }
 
-// FuzzSampleSheet: any input gives a sheet or an error naming the file,
-// never a panic.
-func FuzzSampleSheet(f *testing.F) {
-	for _, s := range []string{
-		"sample,dilution,path_cm\nA1,10,\nrun2.csv,,0.5\n",
-		"# c\nSample;Dilution\n\"B 3\";2.5\n",
-		"sample\tpath_cm\nx\t1e-3\n",
-		"sample,dilution\nA,NaN\n",
-		"",
-	} {
-		f.Add(s)
+// TestBatchCheckOnly: with CheckOnly every sample is read and checked but
+// not solved; a scan that does not cover the window, one with a bad
+// factor and an unreadable file are reported as solving would report
+// them.
+func TestBatchCheckOnly(t *testing.T) {
+	sizes := map[string]int{"a.csv": 3, "b.csv": 2}
+	read := fakeFiles(sizes, map[string]bool{"bad.csv": true})
+	b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: 2, CheckOnly: true,
+		ReadFile: func(path string, opt spectrum.ReadOptions) ([]*spectrum.Spectrum, error) {
+			ss, err := read(path, opt)
+			if path == "b.csv" && err == nil {
+				short := ss[1].Clone()
+				short.Wavelengths, short.Values = short.Wavelengths[5:], short.Values[5:]
+				ss[1] = short
+			}
+			return ss, err
+		},
+		Factors: func(s *spectrum.Spectrum) (unmix.Factors, error) {
+			if strings.HasSuffix(s.Name, "a.csv#2") {
+				return unmix.Factors{Dilution: -1}, nil
+			}
+			return unmix.Factors{}, nil
+		},
+		Each: func(int, *unmix.Result) error { t.Error("Each called in a check-only run"); return nil },
 	}
-	f.Fuzz(func(t *testing.T, text string) {
-		sh, err := ParseSampleSheet(strings.NewReader(text), "fuzz.csv")
-		if err != nil {
-			if !strings.HasPrefix(err.Error(), "fuzz.csv") {
-				t.Fatalf("error %q does not name the file", err)
-			}
-			return
+	var errs []error
+	var checked []bool
+	sum, err := b.Run(context.Background(), []Input{{Path: "a.csv"}, {Path: "bad.csv"}, {Path: "b.csv"}}, func(o Outcome) error {
+		if o.Result != nil {
+			t.Errorf("outcome %d has a result", o.Seq)
 		}
-		for name := range sh.rows {
-			fs, ok := sh.Lookup(&spectrum.Spectrum{Name: name})
-			if !ok || fs.Dilution < 0 || fs.PathCM < 0 {
-				t.Fatalf("Lookup(%q) = %+v, %v", name, fs, ok)
-			}
-		}
+		errs = append(errs, o.Err)
+		checked = append(checked, o.Checked)
+		return nil
 	})
+	if err != nil {
+		t.Fatal(err)
+	}
+	want := Summary{Files: 3, Unreadable: 1, Samples: 5, Checked: 3, Failed: 2, Emitted: 6}
+	if sum != want {
+		t.Errorf("summary %+v, want %+v", sum, want)
+	}
+	if !checked[0] || !checked[1] || checked[2] || !errors.Is(errs[2], unmix.ErrFactor) || checked[3] || !checked[4] || !errors.Is(errs[5], unmix.ErrCoverage) {
+		t.Errorf("checked %v, errors %v", checked, errs)
+	}
 }

@@ -1,4 +1,9 @@
-package unmix
+// Package batch runs a sample model over many scans: it expands the
+// command line's files, folders and patterns into inputs, reads them ahead
+// in parallel, solves their samples on several workers with one
+// unmix.Model each, and hands the outcomes on in input order (so the
+// output is the same for any number of workers), with progress.
+package batch
 
 import (
 	"context"
@@ -12,6 +17,7 @@ import (
 	"sync"
 
 	"huesolve/spectrum"
+	"huesolve/unmix"
 )
 
 // Input is one file to read, or a command-line argument that named no file
@@ -137,7 +143,7 @@ type Outcome struct {
 	// File is the input file.
 	File string
 	// Result is the solved sample; nil when reading or solving failed.
-	Result *Result
+	Result *unmix.Result
 	// Err says what failed: reading the file (Result nil, Unread true),
 	// solving the sample (Result nil), or the Batch.Each hook (Result
 	// set).
@@ -149,6 +155,8 @@ type Outcome struct {
 	// Checked: with Batch.CheckOnly, the sample was read and could be
 	// solved.
 	Checked bool
+
+	slot *slot // holds Result, back to the pool once emitted
 }
 
 // Summary counts a batch.
@@ -166,7 +174,7 @@ type Summary struct {
 // Batch solves many scans with one model on several workers.
 type Batch struct {
 	// Model is cloned for each worker.
-	Model *Model
+	Model *unmix.Model
 	// Workers is the number of solving goroutines (0: GOMAXPROCS).
 	Workers int
 	// Read are the reader options for every file.
@@ -175,16 +183,16 @@ type Batch struct {
 	ReadFile func(path string, opt spectrum.ReadOptions) ([]*spectrum.Spectrum, error)
 	// Factors gives each sample its dilution and path; nil means defaults.
 	// An error fails that sample.
-	Factors func(s *spectrum.Spectrum) (Factors, error)
+	Factors func(s *spectrum.Spectrum) (unmix.Factors, error)
 	// Each, if not nil, is called in the worker right after a sample is
 	// solved (plots, say), with the sample's sequence number (as in
 	// Outcome.Seq); it may run concurrently for different samples. An
 	// error is reported in the outcome and counts the sample failed.
-	Each func(seq int, r *Result) error
+	Each func(seq int, r *unmix.Result) error
 	// Encode, if not nil, formats each solved sample in the worker, so
 	// that output formatting runs in parallel too; the bytes come in
 	// Outcome.Encoded. It must be safe for concurrent use.
-	Encode func(dst []byte, r *Result) []byte
+	Encode func(dst []byte, r *unmix.Result) []byte
 	// Progress, if not nil, is called from the emitting goroutine after
 	// each outcome, with the samples done and the samples known so far.
 	Progress func(done, known int)
@@ -212,6 +220,32 @@ type fileRead struct {
 	err error
 }
 
+// run is the state of one Batch.Run: the channels between its stages.
+type run struct {
+	b       *Batch
+	inputs  []Input
+	workers int
+	ctx     context.Context
+	cancel  context.CancelFunc
+
+	ready  []chan fileRead // per input, its file once read
+	tokens chan struct{}   // files read ahead and not yet dispatched
+	known  chan int        // samples found in each file, for Progress
+	jobs   chan job
+	// total and complete are written by the dispatcher before it closes
+	// jobs: the samples numbered, and whether every input was dispatched.
+	total    int
+	complete bool
+	results  chan []Outcome
+	pool     sync.Pool // of *slot
+}
+
+// slot is a pooled Result with the buffer Encode last wrote into.
+type slot struct {
+	r   unmix.Result
+	enc []byte
+}
+
 // Run reads the inputs, solves every sample and calls emit with each
 // outcome in input order (file order, then the order of the scans in each
 // file), whatever the number of workers. emit runs in the caller's
@@ -224,209 +258,259 @@ type fileRead struct {
 // is returned); the Summary then counts what was emitted before the stop,
 // and no outcome after it is emitted.
 func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) error) (Summary, error) {
-	sum := Summary{Files: len(inputs)}
 	workers := b.Workers
 	if workers <= 0 {
 		workers = runtime.GOMAXPROCS(0)
 	}
-	read := b.ReadFile
-	if read == nil {
-		read = spectrum.ReadFile
-	}
 	parent := ctx
 	ctx, cancel := context.WithCancel(parent)
 	defer cancel()
+	r := &run{b: b, inputs: inputs, workers: workers, ctx: ctx, cancel: cancel}
+	r.pool.New = func() any { return new(slot) }
+	r.jobs = make(chan job, 2*workers)
+	r.known = make(chan int, len(inputs)+1)
 
-	// Stage 1: read files ahead in parallel. Tokens are taken in file
-	// order, so the next file the dispatcher waits for always has one.
-	ready := make([]chan fileRead, len(inputs))
-	for i := range ready {
-		ready[i] = make(chan fileRead, 1)
-	}
-	lookahead := workers + 1
-	tokens := make(chan struct{}, lookahead)
-	files := make(chan int)
 	var wg sync.WaitGroup
-	go func() {
-		defer close(files)
-		for i := range inputs {
-			select {
-			case tokens <- struct{}{}:
-			case <-ctx.Done():
-				return
-			}
-			select {
-			case files <- i:
-			case <-ctx.Done():
-				return
-			}
-		}
-	}()
-	for range min(workers, max(len(inputs), 1)) {
-		wg.Go(func() {
-			for i := range files {
-				in := inputs[i]
-				if in.Err != nil {
-					ready[i] <- fileRead{err: in.Err}
-					continue
-				}
-				ss, err := read(in.Path, b.Read)
-				if err == nil && len(ss) == 0 {
-					err = fmt.Errorf("%s: %w", in.Path, spectrum.ErrEmpty)
-				}
-				ready[i] <- fileRead{ss: ss, err: err}
-			}
-		})
-	}
-
-	// Stage 2: dispatch samples in order with sequence numbers, in
-	// chunks of consecutive samples so that hand-offs between goroutines
-	// stay rare next to the solving (a solve takes some 15 µs).
-	jobs := make(chan job, 2*workers)
-	known := make(chan int, len(inputs)+1)
-	total, complete := 0, false // written before jobs is closed
-	go func() {
-		defer close(jobs)
-		seq := 0
-		defer func() { total = seq }()
-		for i := range inputs {
-			var fr fileRead
-			select {
-			case fr = <-ready[i]:
-			case <-ctx.Done():
-				return
-			}
-			if fr.err != nil {
-				known <- 1
-				select {
-				case jobs <- job{seq: seq, file: inputs[i].Path, err: fr.err}:
-				case <-ctx.Done():
-					return
-				}
-				seq++
-				<-tokens
-				continue
-			}
-			known <- len(fr.ss)
-			size := min(maxChunk, max(1, len(fr.ss)/(4*workers)))
-			for lo := 0; lo < len(fr.ss); lo += size {
-				hi := min(lo+size, len(fr.ss))
-				chunk := slices.Clone(fr.ss[lo:hi])
-				clear(fr.ss[lo:hi]) // the chunk holds the last references
-				select {
-				case jobs <- job{seq: seq, file: inputs[i].Path, ss: chunk}:
-				case <-ctx.Done():
-					return
-				}
-				seq += len(chunk)
-			}
-			<-tokens
-		}
-		complete = true
-	}()
-
-	// Stage 3: solve.
-	results := make(chan []Outcome, 2*workers)
-	pool := sync.Pool{New: func() any { return new(Result) }}
-	var sw sync.WaitGroup
-	for wi := range workers {
-		m := b.Model
-		if wi > 0 {
-			m = b.Model.Clone()
-		}
-		sw.Go(func() {
-			for j := range jobs {
-				if ctx.Err() != nil {
-					continue
-				}
-				var outs []Outcome
-				if j.err != nil {
-					outs = []Outcome{{Seq: j.seq, File: j.file, Err: j.err, Unread: true}}
-				} else {
-					outs = make([]Outcome, len(j.ss))
-					for k, s := range j.ss {
-						o := &outs[k]
-						o.Seq, o.File = j.seq+k, j.file
-						o.Err = b.solveOne(m, &pool, o.Seq, s, o)
-						j.ss[k] = nil
-					}
-				}
-				select {
-				case results <- outs:
-				case <-ctx.Done():
-				}
-			}
-		})
-	}
-	go func() {
-		sw.Wait()
-		close(results)
-	}()
-
-	// Stage 4: emit in order. Chunks hold consecutive sequence numbers,
-	// so they are keyed by their first.
-	pending := map[int][]Outcome{}
-	next, knownN := 0, 0
-	var emitErr error
-	for outs := range results {
-		if emitErr != nil || ctx.Err() != nil {
-			continue
-		}
-		pending[outs[0].Seq] = outs
-		for ctx.Err() == nil && emitErr == nil {
-			chunk, ok := pending[next]
-			if !ok {
-				break
-			}
-			delete(pending, next)
-			for _, o := range chunk {
-				if ctx.Err() != nil {
-					break
-				}
-				next++
-				count(&sum, o)
-				if err := emit(o); err != nil {
-					emitErr = err
-					cancel()
-					break
-				}
-				sum.Emitted++
-				if o.Result != nil {
-					*o.Result = Result{Amounts: o.Result.Amounts, Flags: o.Result.Flags, Baseline: o.Result.Baseline, encoded: o.Result.encoded}
-					pool.Put(o.Result)
-				}
-				if b.Progress != nil {
-				drain:
-					for {
-						select {
-						case k := <-known:
-							knownN += k
-						default:
-							break drain
-						}
-					}
-					b.Progress(next, knownN)
-				}
-			}
-		}
-	}
+	r.readAhead(&wg)
+	go r.dispatch()
+	r.solve()
+	sum, next, emitErr := r.emitInOrder(emit)
 	if emitErr != nil {
 		return sum, emitErr
 	}
-	if !complete || next < total {
+	if !r.complete || next < r.total {
 		if err := parent.Err(); err != nil {
 			return sum, err
 		}
-		return sum, errors.New("unmix: batch stopped early")
+		return sum, errors.New("batch: stopped early")
 	}
 	cancel()
 	wg.Wait()
 	return sum, nil
 }
 
+// readAhead starts stage 1: read files ahead in parallel. Tokens are taken
+// in file order, so the next file the dispatcher waits for always has one.
+// The readers are counted in wg.
+func (r *run) readAhead(wg *sync.WaitGroup) {
+	read := r.b.ReadFile
+	if read == nil {
+		read = spectrum.ReadFile
+	}
+	r.ready = make([]chan fileRead, len(r.inputs))
+	for i := range r.ready {
+		r.ready[i] = make(chan fileRead, 1)
+	}
+	lookahead := r.workers + 1
+	r.tokens = make(chan struct{}, lookahead)
+	files := make(chan int)
+	go func() {
+		defer close(files)
+		for i := range r.inputs {
+			select {
+			case r.tokens <- struct{}{}:
+			case <-r.ctx.Done():
+				return
+			}
+			select {
+			case files <- i:
+			case <-r.ctx.Done():
+				return
+			}
+		}
+	}()
+	for range min(r.workers, max(len(r.inputs), 1)) {
+		wg.Go(func() {
+			for i := range files {
+				in := r.inputs[i]
+				if in.Err != nil {
+					r.ready[i] <- fileRead{err: in.Err}
+					continue
+				}
+				ss, err := read(in.Path, r.b.Read)
+				if err == nil && len(ss) == 0 {
+					err = fmt.Errorf("%s: %w", in.Path, spectrum.ErrEmpty)
+				}
+				r.ready[i] <- fileRead{ss: ss, err: err}
+			}
+		})
+	}
+	r.jobs = make(chan job, 2*r.workers)
+	r.known = make(chan int, len(r.inputs)+1)
+}
+
+// dispatch is stage 2: it hands out samples in order with sequence
+// numbers, in chunks of consecutive samples so that hand-offs between
+// goroutines stay rare next to the solving (a solve takes some 15 µs).
+func (r *run) dispatch() {
+	defer close(r.jobs)
+	seq := 0
+	defer func() { r.total = seq }()
+	for i := range r.inputs {
+		var fr fileRead
+		select {
+		case fr = <-r.ready[i]:
+		case <-r.ctx.Done():
+			return
+		}
+		var ok bool
+		if seq, ok = r.dispatchFile(r.inputs[i].Path, fr, seq); !ok {
+			return
+		}
+		<-r.tokens
+	}
+	r.complete = true
+}
+
+// dispatchFile hands out the samples of one file read (or its failure),
+// numbering them from seq; it returns the next number, and false when
+// the run was cancelled.
+func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
+	if fr.err != nil {
+		r.known <- 1
+		select {
+		case r.jobs <- job{seq: seq, file: file, err: fr.err}:
+		case <-r.ctx.Done():
+			return seq, false
+		}
+		return seq + 1, true
+	}
+	r.known <- len(fr.ss)
+	size := min(maxChunk, max(1, len(fr.ss)/(4*r.workers)))
+	for lo := 0; lo < len(fr.ss); lo += size {
+		hi := min(lo+size, len(fr.ss))
+		chunk := slices.Clone(fr.ss[lo:hi])
+		clear(fr.ss[lo:hi]) // the chunk holds the last references
+		select {
+		case r.jobs <- job{seq: seq, file: file, ss: chunk}:
+		case <-r.ctx.Done():
+			return seq, false
+		}
+		seq += len(chunk)
+	}
+	return seq, true
+}
+
+// solve starts stage 3: the workers, each with its own model, solve the
+// jobs; results is closed when they are all done.
+func (r *run) solve() {
+	r.results = make(chan []Outcome, 2*r.workers)
+	var sw sync.WaitGroup
+	for wi := range r.workers {
+		m := r.b.Model
+		if wi > 0 {
+			m = r.b.Model.Clone()
+		}
+		sw.Go(func() {
+			for j := range r.jobs {
+				if r.ctx.Err() != nil {
+					continue
+				}
+				select {
+				case r.results <- r.solveJob(m, j):
+				case <-r.ctx.Done():
+				}
+			}
+		})
+	}
+	go func() {
+		sw.Wait()
+		close(r.results)
+	}()
+}
+
+// solveJob solves the samples of j with m.
+func (r *run) solveJob(m *unmix.Model, j job) []Outcome {
+	if j.err != nil {
+		return []Outcome{{Seq: j.seq, File: j.file, Err: j.err, Unread: true}}
+	}
+	outs := make([]Outcome, len(j.ss))
+	for k, s := range j.ss {
+		o := &outs[k]
+		o.Seq, o.File = j.seq+k, j.file
+		o.Err = r.b.solveOne(m, &r.pool, o.Seq, s, o)
+		j.ss[k] = nil
+	}
+	return outs
+}
+
+// emitInOrder is stage 4: it passes the outcomes to emit in order and
+// counts them. Chunks hold consecutive sequence numbers, so they are keyed
+// by their first. It returns the summary, the number of outcomes passed
+// on and emit's error.
+func (r *run) emitInOrder(emit func(Outcome) error) (Summary, int, error) {
+	e := emitter{run: r, emit: emit, sum: Summary{Files: len(r.inputs)}}
+	pending := map[int][]Outcome{}
+	for outs := range r.results {
+		if e.err != nil || r.ctx.Err() != nil {
+			continue
+		}
+		pending[outs[0].Seq] = outs
+		for r.ctx.Err() == nil && e.err == nil {
+			chunk, ok := pending[e.next]
+			if !ok {
+				break
+			}
+			delete(pending, e.next)
+			e.chunk(chunk)
+		}
+	}
+	return e.sum, e.next, e.err
+}
+
+// emitter is the state of stage 4.
+type emitter struct {
+	*run
+	emit   func(Outcome) error
+	sum    Summary
+	next   int   // sequence number of the next outcome to emit
+	knownN int   // samples known so far
+	err    error // emit's error
+}
+
+// chunk emits the outcomes of one chunk until the run is cancelled or
+// emit fails.
+func (e *emitter) chunk(chunk []Outcome) {
+	for _, o := range chunk {
+		if e.ctx.Err() != nil {
+			break
+		}
+		e.next++
+		count(&e.sum, o)
+		if err := e.emit(o); err != nil {
+			e.err = err
+			e.cancel()
+			break
+		}
+		e.sum.Emitted++
+		if s := o.slot; s != nil {
+			s.r = unmix.Result{Amounts: s.r.Amounts, Flags: s.r.Flags, Baseline: s.r.Baseline}
+			e.pool.Put(s)
+		}
+		if e.b.Progress != nil {
+			e.progress()
+		}
+	}
+}
+
+// progress counts the samples the dispatcher found so far and calls
+// Progress.
+func (e *emitter) progress() {
+drain:
+	for {
+		select {
+		case k := <-e.known:
+			e.knownN += k
+		default:
+			break drain
+		}
+	}
+	e.b.Progress(e.next, e.knownN)
+}
+
 // solveOne solves s into a pooled Result and runs the Each hook.
-func (b *Batch) solveOne(m *Model, pool *sync.Pool, seq int, s *spectrum.Spectrum, out *Outcome) error {
-	f := Factors{}
+func (b *Batch) solveOne(m *unmix.Model, pool *sync.Pool, seq int, s *spectrum.Spectrum, out *Outcome) error {
+	f := unmix.Factors{}
 	if b.Factors != nil {
 		var err error
 		if f, err = b.Factors(s); err != nil {
@@ -438,15 +522,16 @@ func (b *Batch) solveOne(m *Model, pool *sync.Pool, seq int, s *spectrum.Spectru
 		out.Checked = err == nil
 		return err
 	}
-	r := pool.Get().(*Result)
+	sl := pool.Get().(*slot)
+	r := &sl.r
 	if err := m.SolveTo(r, s, f); err != nil {
-		pool.Put(r)
+		pool.Put(sl)
 		return err
 	}
-	out.Result = r
+	out.Result, out.slot = r, sl
 	if b.Encode != nil {
-		out.Encoded = b.Encode(r.encoded[:0], r)
-		r.encoded = out.Encoded
+		out.Encoded = b.Encode(sl.enc[:0], r)
+		sl.enc = out.Encoded
 	}
 	if b.Each != nil {
 		if err := b.Each(seq, r); err != nil {

@@ -1,0 +1,453 @@
+package calibration
+
+import (
+	"fmt"
+	"sort"
+	"time"
+
+	"gonum.org/v1/gonum/mat"
+
+	"huesolve/baseline"
+	"huesolve/reference"
+	"huesolve/spectrum"
+)
+
+// builder is the state of one Build, filled in section by section.
+type builder struct {
+	sh    *reference.Sheet
+	opt   Options
+	notes []string // the warnings given, for the provenance
+	m     int      // compounds
+
+	// Options and their defaults.
+	path, ceiling, floor float64
+	intercept            bool
+
+	fit   []reference.Row // the rows that enter the fit
+	grid  []float64
+	blank []float64 // nil when the absorbances are used as read
+	prov  reference.Provenance
+
+	abs   *mat.Dense // blank-corrected, pre-treated, one row per fit row
+	keep  [][]bool   // under the ceiling, per fit row and wavelength
+	reach int        // points a smoothing step carries a reading
+
+	// What the refits within the linear range did, per compound.
+	everCurved  []bool
+	everClipped []bool
+	leftOutRows [][]int // fit rows it caused to be left out
+	noLinear    []bool
+}
+
+// warn keeps a note on what Build did and passes it to Options.Warn.
+func (b *builder) warn(format string, a ...any) {
+	msg := fmt.Sprintf(format, a...)
+	b.notes = append(b.notes, msg)
+	if b.opt.Warn != nil {
+		b.opt.Warn(msg)
+	}
+}
+
+// rowErr places err at the sheet row r.
+func (b *builder) rowErr(r reference.Row, err error) error {
+	return &spectrum.ParseError{File: b.sh.Path, Line: r.Line, Err: err}
+}
+
+// checkSheet checks that the sheet has standards, compounds and units.
+func (b *builder) checkSheet() error {
+	sh := b.sh
+	if sh == nil || len(sh.Standards) == 0 {
+		return fmt.Errorf("calibration: build: %w: the sheet has no standards", ErrTooFewStandards)
+	}
+	b.m = len(sh.Compounds)
+	if b.m == 0 {
+		return fmt.Errorf("calibration: build: %s: no compounds", sh.Path)
+	}
+	if len(sh.Units) != b.m {
+		return fmt.Errorf("calibration: build: %s: %d units for %d compounds", sh.Path, len(sh.Units), b.m)
+	}
+	return nil
+}
+
+// defaults sets the options and their defaults, and checks them.
+func (b *builder) defaults() error {
+	b.path = b.opt.PathCM
+	if b.path == 0 {
+		b.path = reference.DefaultPathCM
+	}
+	b.ceiling = b.opt.Ceiling
+	if b.ceiling == 0 {
+		b.ceiling = reference.DefaultCeiling
+	}
+	b.floor = b.opt.Floor
+	switch {
+	case !finite(b.path) || b.path <= 0:
+		return fmt.Errorf("calibration: build: path length %g cm must be positive", b.path)
+	case !finite(b.ceiling) || !finite(b.floor) || b.floor < 0 || b.ceiling <= b.floor:
+		return fmt.Errorf("calibration: build: ceiling %g and floor %g: need 0 <= floor < ceiling", b.ceiling, b.floor)
+	}
+	b.intercept = !b.opt.ThroughOrigin
+	return nil
+}
+
+// rows chooses the rows that enter the fit, checks each of them and the
+// concentration design they make.
+func (b *builder) rows() error {
+	sh := b.sh
+	b.fit = append([]reference.Row(nil), sh.Standards...)
+	if b.opt.Blank != nil {
+		b.fit = append(b.fit, sh.Blanks...)
+	}
+	for _, r := range append(append([]reference.Row(nil), b.fit...), sh.Blanks...) {
+		if err := b.checkRow(r); err != nil {
+			return err
+		}
+	}
+	fit := b.fit
+	for k, name := range sh.Compounds {
+		varies := false
+		for _, r := range fit[1:] {
+			if r.Conc[k] != fit[0].Conc[k] {
+				varies = true
+				break
+			}
+		}
+		if !varies {
+			return fmt.Errorf("calibration: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, reference.ErrNoVariation, name, fit[0].Conc[k])
+		}
+	}
+	ncoef := b.m
+	if b.intercept {
+		ncoef++
+	}
+	if len(fit) <= ncoef {
+		return fmt.Errorf("calibration: build: %s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
+			sh.Path, ErrTooFewStandards, len(fit), ncoef, ncoef+1)
+	}
+	dcond, err := checkDesign(fit, sh.Compounds, b.intercept)
+	if err != nil {
+		return fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
+	}
+	if dcond > warnDesignCond {
+		b.warn("%s: the concentrations of %s vary nearly together across the standards (condition number %.3g, above %g): their absorptivities are uncertain; add standards that vary each compound on its own",
+			sh.Path, designNames(sh.Compounds, b.intercept), dcond, warnDesignCond)
+	}
+	return nil
+}
+
+// checkRow checks that row r has a valid scan and a finite, non-negative
+// concentration of every compound.
+func (b *builder) checkRow(r reference.Row) error {
+	if r.Scan == nil {
+		return b.rowErr(r, fmt.Errorf("%w: %s: no scan loaded", reference.ErrScanFile, r.File))
+	}
+	if err := r.Scan.Check(); err != nil {
+		return b.rowErr(r, err)
+	}
+	if len(r.Conc) != b.m {
+		return b.rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", reference.ErrConcentration, len(r.Conc), b.m))
+	}
+	for k, v := range r.Conc {
+		if !finite(v) || v < 0 {
+			return b.rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", reference.ErrConcentration, b.sh.Compounds[k], v))
+		}
+	}
+	return nil
+}
+
+// gridAndBlank chooses the common grid and puts the blank on it, noting
+// where it came from in the provenance.
+func (b *builder) gridAndBlank() error {
+	sh, opt := b.sh, b.opt
+	grid, err := commonGrid(sh, b.fit, opt, b.warn)
+	if err != nil {
+		return err
+	}
+	b.grid = grid
+	b.prov = reference.Provenance{Tool: "huesolve", Version: opt.Version, Sheet: sh.Path}
+	if b.prov.Version == "" {
+		b.prov.Version = Version
+	}
+	switch {
+	case opt.Blank != nil:
+		return b.separateBlank()
+	case len(sh.Blanks) > 0:
+		return b.sheetBlank()
+	case b.intercept:
+		b.warn("no blank given and no blank rows in %s: absorbances are used as read (the intercept takes up the solvent and cell)", sh.Path)
+	default:
+		b.warn("no blank given and no blank rows in %s: absorbances are used as read, so the solvent and cell count as analyte absorbance in a through-origin fit", sh.Path)
+	}
+	return nil
+}
+
+// separateBlank puts Options.Blank on the grid.
+func (b *builder) separateBlank() error {
+	bl := b.opt.Blank.Clone()
+	if err := bl.ToAbsorbance(); err != nil {
+		return fmt.Errorf("calibration: blank: %w", err)
+	}
+	var err error
+	if b.blank, _, err = onGrid(bl, b.grid); err != nil {
+		return fmt.Errorf("calibration: blank %s: %w", bl.Source, err)
+	}
+	b.prov.Blank = bl.Source.File
+	if b.prov.Blank == "" {
+		b.prov.Blank = bl.Name
+	}
+	b.prov.BlankSHA256 = b.opt.BlankSHA256
+	return nil
+}
+
+// sheetBlank makes the blank the mean of the sheet's blank rows.
+func (b *builder) sheetBlank() error {
+	blanks := b.sh.Blanks
+	blank := make([]float64, len(b.grid))
+	for _, r := range blanks {
+		v, _, err := onGrid(r.Scan, b.grid)
+		if err != nil {
+			return b.rowErr(r, err)
+		}
+		for j := range blank {
+			blank[j] += v[j]
+		}
+	}
+	for j := range blank {
+		blank[j] /= float64(len(blanks))
+	}
+	b.blank = blank
+	b.prov.Blank = "sheet rows"
+	return nil
+}
+
+// readings puts the fit rows on the grid: raw readings, ceiling mask,
+// corrected and pre-treated absorbances.
+func (b *builder) readings() error {
+	n, p := len(b.fit), len(b.grid)
+	raw := mat.NewDense(n, p, nil)
+	b.abs = mat.NewDense(n, p, nil)
+	for i, r := range b.fit {
+		v, _, err := onGrid(r.Scan, b.grid)
+		if err != nil {
+			return b.rowErr(r, err)
+		}
+		raw.SetRow(i, v)
+		if b.blank != nil {
+			for j := range v {
+				v[j] -= b.blank[j]
+			}
+		}
+		t, err := b.pretreat(r, v)
+		if err != nil {
+			return err
+		}
+		b.abs.SetRow(i, t)
+	}
+	// A reading above the ceiling is left out, and so are the pre-treated
+	// values a smoothing step carried it into (baseline.Reach points
+	// either side), as solve does for samples.
+	b.reach = baseline.Reach(b.opt.Pretreat)
+	b.keep = make([][]bool, n)
+	for i := range b.keep {
+		b.keep[i] = underCeiling(raw.RawRowView(i), b.ceiling, b.reach)
+	}
+	return nil
+}
+
+// pretreat applies the pre-treatment steps to the blank-corrected
+// readings v of row r and checks what they return.
+func (b *builder) pretreat(r reference.Row, v []float64) ([]float64, error) {
+	t, err := baseline.ApplyAll(b.opt.Pretreat, b.grid, v)
+	if err != nil {
+		return nil, b.rowErr(r, fmt.Errorf("pre-treatment of %s: %w", r.File, err))
+	}
+	if len(t) != len(b.grid) {
+		return nil, b.rowErr(r, fmt.Errorf("pre-treatment of %s returned %d points for %d", r.File, len(t), len(b.grid)))
+	}
+	for j, x := range t {
+		if !finite(x) {
+			return nil, b.rowErr(r, fmt.Errorf("pre-treatment of %s gave %v at %g nm", r.File, x, b.grid[j]))
+		}
+	}
+	return t, nil
+}
+
+// underCeiling marks the readings raw kept: false at a reading above the
+// ceiling and within reach points of one.
+func underCeiling(raw []float64, ceiling float64, reach int) []bool {
+	p := len(raw)
+	keep := make([]bool, p)
+	for j := range keep {
+		keep[j] = true
+	}
+	for j, v := range raw {
+		if v > ceiling {
+			for k := max(j-reach, 0); k <= min(j+reach, p-1); k++ {
+				keep[k] = false
+			}
+		}
+	}
+	return keep
+}
+
+// fitWithinRange fits per-wavelength least squares on all rows, then
+// again without the standards above a compound's linear range (or above
+// what the ceiling let through at its band maximum) until nothing more is
+// left out: the absorptivities rest on the range the set states.
+func (b *builder) fitWithinRange() (*fitResult, error) {
+	fp := fitParams{sh: b.sh, fit: b.fit, abs: b.abs, keep: b.keep, grid: b.grid, path: b.path,
+		ceiling: b.ceiling, floor: b.floor, intercept: b.intercept}
+	n, m := len(b.fit), b.m
+	use := make([]bool, n)
+	for i := range use {
+		use[i] = true
+	}
+	res, err := fp.run(use)
+	if err != nil {
+		return nil, err
+	}
+	b.everCurved = make([]bool, m)
+	b.everClipped = make([]bool, m)
+	b.leftOutRows = make([][]int, m)
+	b.noLinear = make([]bool, m)
+	for range n {
+		for k := range m {
+			b.everCurved[k] = b.everCurved[k] || res.set.Compounds[k].Linearity.Curved
+			b.everClipped[k] = b.everClipped[k] || res.clipped[k]
+		}
+		next, cutBy, changed := b.cutAboveRange(res, use)
+		if !changed {
+			break
+		}
+		if err := checkKept(b.fit, next, b.sh.Compounds, b.intercept); err != nil {
+			b.refitFailed(err)
+			break
+		}
+		nres, err := fp.run(next)
+		if err != nil {
+			b.refitFailed(err)
+			break
+		}
+		for k := range m {
+			b.leftOutRows[k] = append(b.leftOutRows[k], cutBy[k]...)
+		}
+		use, res = next, nres
+	}
+	return res, nil
+}
+
+// cutAboveRange leaves out of the rows in use those above each compound's
+// linear range in res, returning the rows kept, the rows each compound
+// cut and whether any were cut.
+func (b *builder) cutAboveRange(res *fitResult, use []bool) (next []bool, cutBy [][]int, changed bool) {
+	next = append([]bool(nil), use...)
+	for k := range b.m {
+		l := res.set.Compounds[k].Linearity
+		// Curved even on the lowest levels Mandel's test can judge
+		// (3): no linear range to fit within; the lowest levels are
+		// still the nearest to one, so the fit keeps to them.
+		b.noLinear[k] = l.Curved && curvedWithinRange(l)
+		cut := l.RangeHi
+		var rows []int
+		for i, r := range b.fit {
+			if next[i] && r.Conc[k] > cut {
+				next[i] = false
+				rows = append(rows, i)
+			}
+		}
+		cutBy = append(cutBy, rows)
+		changed = changed || len(rows) > 0
+	}
+	return next, cutBy, changed
+}
+
+// refitFailed warns that the refit within the linear range failed with err.
+func (b *builder) refitFailed(err error) {
+	b.warn("%s: the absorptivities could not be refitted within the linear range (%v); they rest on all standards, so results above the stated linear range are biased", b.sh.Path, err)
+}
+
+// ceilingNotes says how many readings the ceiling left out and at how
+// many wavelengths nothing could be fitted.
+func (b *builder) ceilingNotes(res *fitResult) {
+	if res.leftOut > 0 {
+		if b.reach > 0 {
+			b.warn("%d readings above the ceiling (A > %g), or within %d points of one after smoothing, were left out of the fit", res.leftOut, b.ceiling, b.reach)
+		} else {
+			b.warn("%d readings above the ceiling (A > %g) were left out of the fit", res.leftOut, b.ceiling)
+		}
+	}
+	if res.unsolved > 0 {
+		b.warn("at %d of %d wavelengths too few standards stayed under the ceiling to fit; no compound is usable there (noise set to the largest found, %.3g)",
+			res.unsolved, len(b.grid), res.worst)
+	}
+}
+
+// finishCompound sets the flags of compound k (c) and warns about its
+// calibration line and the standards left out for it.
+func (b *builder) finishCompound(c *reference.Compound, k int) {
+	c.Flags = compoundFlags(c.Linearity, b.everClipped[k], b.floor)
+	if bl := c.Linearity.Band; bl.TooCurved() && !c.Linearity.Curved {
+		b.warn("%s: the calibration line bends at %d of %d wavelengths of its band (%g-%g nm) by Mandel's test, though not at its maximum (%g nm); check the upper standards and the linear range",
+			c.Name, bl.Curved, bl.Tested, bl.LoNM, bl.HiNM, c.PeakNM)
+	}
+	if l := c.Linearity; l.CurvedUnconfirmed && !hasString(c.Flags, reference.FlagCurved) {
+		b.warn("%s: curvature at the band maximum (%g nm) only, not confirmed at neighbouring wavelengths: likely chance at the %g %% level (Mandel p %.2g); not flagged, and the linear range keeps every level",
+			c.Name, c.PeakNM, 100*reference.TestLevel, l.MandelP)
+	}
+	if b.everCurved[k] && !hasString(c.Flags, reference.FlagCurved) {
+		c.Flags = append([]string{reference.FlagCurved}, c.Flags...)
+	}
+	if b.noLinear[k] {
+		b.warn("%s: the calibration line at %g nm bends even over its lowest levels %s: it cannot be quantified linearly with these standards, and its results are approximate (add lower levels, closer together)",
+			c.Name, c.PeakNM, levelList(c.Linearity))
+	}
+	if rows := b.leftOutRows[k]; len(rows) > 0 {
+		b.standardsLeftOut(c, k, rows)
+	}
+}
+
+// standardsLeftOut records the fit rows left out for compound k (c) and
+// says why.
+func (b *builder) standardsLeftOut(c *reference.Compound, k int, rows []int) {
+	var levels []float64
+	seen := map[float64]bool{}
+	for _, i := range rows {
+		r := b.fit[i]
+		c.StandardsLeftOut = append(c.StandardsLeftOut, reference.Standard{File: r.File, Column: r.Column, SHA256: r.SHA256,
+			Conc: append([]float64(nil), r.Conc...), Line: r.Line})
+		if v := r.Conc[k]; !seen[v] {
+			seen[v] = true
+			levels = append(levels, v)
+		}
+	}
+	sort.Float64s(levels)
+	why := "its calibration line bends above that by Mandel's test"
+	if !b.everCurved[k] {
+		why = fmt.Sprintf("higher standards read above the ceiling of A = %g at the band maximum", b.ceiling)
+	}
+	b.warn("%s: the absorptivities rest on the standards up to %s only, as %s; left out %s %s: %s",
+		c.Name, fmtNum(c.MaxStandard), why, plural(len(levels), "level", "levels"), numList(levels), rowList(rows, b.fit))
+}
+
+// finish completes the provenance and checks the set.
+func (b *builder) finish(set *reference.Set) (*reference.Set, error) {
+	sh, prov := b.sh, b.prov
+	now := time.Now
+	if b.opt.Now != nil {
+		now = b.opt.Now
+	}
+	prov.Created = now().UTC().Format(time.RFC3339)
+	for _, r := range append(append([]reference.Row(nil), sh.Standards...), sh.Blanks...) {
+		prov.Standards = append(prov.Standards, reference.Standard{
+			File: r.File, Column: r.Column, SHA256: r.SHA256,
+			Conc: append([]float64(nil), r.Conc...), Line: r.Line,
+		})
+	}
+	sort.SliceStable(prov.Standards, func(a, b int) bool { return prov.Standards[a].Line < prov.Standards[b].Line })
+	prov.Notes = b.notes
+	set.Provenance = prov
+	if err := set.Validate(); err != nil {
+		return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
+	}
+	return set, nil
+}
