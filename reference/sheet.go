@@ -11,7 +11,6 @@ import (
 	"strconv"
 	"strings"
 
-	"huesolve/internal/bytesize"
 	"huesolve/internal/sheet"
 	"huesolve/spectrum"
 )
@@ -87,24 +86,7 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 	perr := func(line, col int, format string, a ...any) error {
 		return &spectrum.ParseError{File: path, Line: line, Column: col, Err: fmt.Errorf(format, a...)}
 	}
-	sheetSt, err := os.Stat(path)
-	switch {
-	case err != nil:
-		return nil, fmt.Errorf("reference: standards sheet: %w", err)
-	case sheetSt.IsDir():
-		return nil, perr(0, 0, "%w: the standards sheet is a folder; give the sheet file", ErrSheetHeader)
-	case sheetSt.Mode().IsRegular() && sheetSt.Size() > MaxSheetBytes:
-		return nil, perr(0, 0, "%w: the file is %s, more than the %s a standards sheet may take (is it a sheet?)",
-			ErrSheetHeader, bytesize.Text(sheetSt.Size()), bytesize.Text(MaxSheetBytes))
-	}
-	data, err := readUpTo(path, MaxSheetBytes)
-	if errors.Is(err, errTooLarge) {
-		return nil, perr(0, 0, "%w: more than the %s a standards sheet may take (is it a sheet?)", ErrSheetHeader, bytesize.Text(MaxSheetBytes))
-	}
-	if err != nil {
-		return nil, fmt.Errorf("reference: standards sheet: %w", err)
-	}
-	text, err := sheet.Parse(data, path, sheet.Options{What: "standards sheet", MaxBytes: MaxSheetBytes, Warn: opt.Warn})
+	text, sheetSt, err := sheet.Open(path, sheet.Options{What: "standards sheet", MaxBytes: MaxSheetBytes, Warn: opt.Warn, Wrap: ErrSheetHeader})
 	if errors.Is(err, spectrum.ErrEmpty) {
 		return nil, perr(0, 0, "%w: the sheet has no header and no rows", ErrSheetHeader)
 	}

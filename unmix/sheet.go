@@ -2,14 +2,11 @@ package unmix
 
 import (
 	"errors"
-	"fmt"
 	"io"
-	"os"
 	"path/filepath"
 	"slices"
 	"strings"
 
-	"huesolve/internal/bytesize"
 	"huesolve/internal/sheet"
 	"huesolve/spectrum"
 )
@@ -49,25 +46,22 @@ const (
 	maxSheetLine = 64 << 10
 )
 
-// ReadSampleSheet reads a sample sheet file. A folder, or a file larger
-// than MaxSampleSheetBytes, is refused before reading.
+// ReadSampleSheet reads a sample sheet file with sheet.Open: a folder,
+// or a file larger than MaxSampleSheetBytes, is refused before reading.
 func ReadSampleSheet(path string) (*SampleSheet, error) {
-	f, err := os.Open(path)
+	var warns []string
+	text, _, err := sheet.Open(path, sampleOptions(&warns))
 	if err != nil {
-		return nil, fmt.Errorf("unmix: sample sheet: %w", err)
+		return nil, err
 	}
-	defer f.Close()
-	st, err := f.Stat()
-	switch {
-	case err != nil:
-		return nil, fmt.Errorf("unmix: sample sheet: %w", err)
-	case st.IsDir():
-		return nil, fmt.Errorf("unmix: sample sheet %s is a folder; give the sheet file", path)
-	case st.Mode().IsRegular() && st.Size() > MaxSampleSheetBytes:
-		return nil, fmt.Errorf("unmix: sample sheet %s is %s, more than the %s a sample sheet may take",
-			path, bytesize.Text(st.Size()), bytesize.Text(MaxSampleSheetBytes))
-	}
-	return ParseSampleSheet(f, path)
+	return newSampleSheet(text, warns)
+}
+
+// sampleOptions are the sheet options of a sample sheet; warnings are
+// appended to warns.
+func sampleOptions(warns *[]string) sheet.Options {
+	return sheet.Options{What: "sample sheet", MaxBytes: MaxSampleSheetBytes, MaxLine: maxSheetLine,
+		Warn: func(m string) { *warns = append(*warns, m) }}
 }
 
 // sampleColumns declares the columns of a sample sheet.
@@ -85,11 +79,15 @@ var sampleColumns = sheet.Columns{
 // Latin-1.
 func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 	var warns []string
-	text, err := sheet.Read(r, file, sheet.Options{What: "sample sheet", MaxBytes: MaxSampleSheetBytes, MaxLine: maxSheetLine,
-		Warn: func(m string) { warns = append(warns, m) }})
+	text, err := sheet.Read(r, file, sampleOptions(&warns))
 	if err != nil {
 		return nil, err
 	}
+	return newSampleSheet(text, warns)
+}
+
+// newSampleSheet reads the columns and rows of a parsed sample sheet.
+func newSampleSheet(text *sheet.Sheet, warns []string) (*SampleSheet, error) {
 	l, err := text.Layout(sampleColumns)
 	if err != nil {
 		return nil, err
@@ -99,7 +97,7 @@ func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 		return nil, text.ErrAt(text.Header.Line, 0, "header needs columns sample and dilution and/or path_cm, got %q",
 			strings.Join(text.Header.Fields, string(text.Delim)))
 	}
-	sh := &SampleSheet{File: file, rows: map[string]sheetRow{}, warns: warns}
+	sh := &SampleSheet{File: text.File, rows: map[string]sheetRow{}, warns: warns}
 	for _, rec := range text.Rows {
 		name := rec.Fields[iSample]
 		if name == "" {

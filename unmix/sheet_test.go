@@ -33,7 +33,7 @@ func TestSampleSheetRobust(t *testing.T) {
 		t.Errorf("long line: %v", err)
 	}
 	dir := t.TempDir()
-	if _, err := ReadSampleSheet(dir); err == nil || !strings.Contains(err.Error(), "is a folder") {
+	if _, err := ReadSampleSheet(dir); err == nil || !strings.HasPrefix(err.Error(), dir+": the sample sheet is a folder; give the sheet file") {
 		t.Errorf("folder: %v", err)
 	}
 	big := filepath.Join(dir, "big.csv")
@@ -43,7 +43,7 @@ func TestSampleSheetRobust(t *testing.T) {
 	if err := os.Truncate(big, 2<<30); err != nil {
 		t.Skipf("no sparse files here: %v", err)
 	}
-	if _, err := ReadSampleSheet(big); err == nil || !strings.Contains(err.Error(), big+" is 2 GiB, more than the 64 MiB") {
+	if _, err := ReadSampleSheet(big); err == nil || !strings.Contains(err.Error(), big+": the file is 2 GiB, more than the 64 MiB a sample sheet may take") {
 		t.Errorf("2 GiB sheet: %v", err)
 	}
 }

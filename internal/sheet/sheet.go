@@ -23,6 +23,9 @@
 //   - A sheet holds at most Options.MaxBytes bytes and lines of at most
 //     Options.MaxLine bytes.
 //
+// A sheet file is read with Open (a folder refused, the size cap checked
+// before reading); Read and Parse take a reader or bytes.
+//
 // Column names are matched with case and surrounding blanks ignored.
 // Errors about the text are *spectrum.ParseError values naming file, line
 // and column (the field's number, as a spreadsheet counts them).
@@ -49,6 +52,9 @@ type Options struct {
 	// Warn receives warnings, already prefixed with file:line; nil
 	// discards them.
 	Warn func(msg string)
+	// Wrap, if not nil, is wrapped by the errors about the sheet as a
+	// whole: a folder given as the sheet (Open), a sheet above MaxBytes.
+	Wrap error
 }
 
 // Default limits.
@@ -93,7 +99,7 @@ func Read(r io.Reader, file string, opt Options) (*Sheet, error) {
 		return nil, &spectrum.ParseError{File: file, Err: err}
 	}
 	if int64(len(data)) > limit {
-		return nil, &spectrum.ParseError{File: file, Err: &tooLarge{limit: limit, what: opt.what()}}
+		return nil, opt.fileErr(file, &tooLarge{limit: limit, what: opt.what()})
 	}
 	return Parse(data, file, opt)
 }
@@ -102,7 +108,7 @@ func Read(r io.Reader, file string, opt Options) (*Sheet, error) {
 // no header is an error wrapping spectrum.ErrEmpty.
 func Parse(data []byte, file string, opt Options) (*Sheet, error) {
 	if int64(len(data)) > opt.maxBytes() {
-		return nil, &spectrum.ParseError{File: file, Err: &tooLarge{limit: opt.maxBytes(), what: opt.what()}}
+		return nil, opt.fileErr(file, &tooLarge{limit: opt.maxBytes(), what: opt.what()})
 	}
 	text, bad := spectrum.DecodeText(data)
 	if bad >= 0 {
@@ -176,13 +182,17 @@ func (sh *Sheet) ErrAt(line, col int, format string, a ...any) error {
 }
 
 // tooLarge is the error for a sheet above its size limit; it is
-// ErrTooLarge.
+// ErrTooLarge. size is the file's size when it was known before
+// reading, else 0.
 type tooLarge struct {
-	limit int64
-	what  string
+	limit, size int64
+	what        string
 }
 
 func (e *tooLarge) Error() string {
+	if e.size > 0 {
+		return fmt.Sprintf("the file is %s, more than the %s a %s may take (is it a sheet?)", bytesize.Text(e.size), bytesize.Text(e.limit), e.what)
+	}
 	return fmt.Sprintf("more than the %s a %s may take (is it a sheet?)", bytesize.Text(e.limit), e.what)
 }
 
