@@ -14,7 +14,7 @@ import (
 // band at 450 nm that is straight in concentration, A = 0.12 c g1, and a
 // broad second band at 520 nm (0.7 of the height) that bends,
 // 0.7 (0.12 c - bend c^2) g2, plus noise of SD 0.001. No blanks.
-func bandSheet(bend float64) (*reference.Sheet, []float64, [][]float64, [][]float64) {
+func bandSheet(bend float64) (*Sheet, []float64, [][]float64, [][]float64) {
 	grid := linGrid(420, 2, 71)
 	g1 := band(grid, 450, 4, 1)
 	g2 := band(grid, 520, 15, 0.7)

@@ -125,7 +125,7 @@ var (
 // condition number above 1e3: ErrDesign), a scan not covering the window
 // (ErrWindow), fewer standards than coefficients plus one
 // (ErrTooFewStandards).
-func Build(sh *reference.Sheet, opt Options) (*reference.Set, error) {
+func Build(sh *Sheet, opt Options) (*reference.Set, error) {
 	b := &builder{sh: sh, opt: opt}
 	if err := b.checkSheet(); err != nil {
 		return nil, err
@@ -157,8 +157,8 @@ func Build(sh *reference.Sheet, opt Options) (*reference.Set, error) {
 
 // fitParams are the inputs of one least-squares pass of Build.
 type fitParams struct {
-	sh                   *reference.Sheet
-	fit                  []reference.Row
+	sh                   *Sheet
+	fit                  []Row
 	abs                  *mat.Dense // blank-corrected, pre-treated, one row per fit row
 	keep                 [][]bool   // under the ceiling, per fit row and wavelength
 	grid                 []float64
@@ -180,9 +180,9 @@ type fitResult struct {
 type pass struct {
 	*fitParams
 	use   []bool
-	sel   []int           // indexes of the fit rows in use
-	rows  []reference.Row // the fit rows in use
-	masks [][]bool        // their keep masks
+	sel   []int    // indexes of the fit rows in use
+	rows  []Row    // the fit rows in use
+	masks [][]bool // their keep masks
 	res   *fitResult
 	kraw  [][]float64 // fitted K*b per compound, absorbance per unit concentration
 	icpt  []float64   // fitted intercept, when there is one
@@ -220,7 +220,7 @@ func (fp *fitParams) newPass(use []bool) *pass {
 		}
 	}
 	n := len(ps.sel)
-	ps.rows = make([]reference.Row, n)
+	ps.rows = make([]Row, n)
 	ps.masks = make([][]bool, n)
 	for r, i := range ps.sel {
 		ps.rows[r], ps.masks[r] = fp.fit[i], fp.keep[i]
@@ -421,8 +421,8 @@ func (ps *pass) pointsAt(k, j int) []reference.Point {
 // checkKept checks that the rows kept still determine every compound:
 // each varies, there are more rows than coefficients, and the design is
 // well conditioned.
-func checkKept(fit []reference.Row, use []bool, names []string, intercept bool) error {
-	var rows []reference.Row
+func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
+	var rows []Row
 	for i, u := range use {
 		if u {
 			rows = append(rows, fit[i])
@@ -444,7 +444,7 @@ func checkKept(fit []reference.Row, use []bool, names []string, intercept bool) 
 			}
 		}
 		if !varies {
-			return fmt.Errorf("%w: %s would be %g in every standard left", reference.ErrNoVariation, name, rows[0].Conc[k])
+			return fmt.Errorf("%w: %s would be %g in every standard left", ErrNoVariation, name, rows[0].Conc[k])
 		}
 	}
 	_, err := checkDesign(rows, names, intercept)
@@ -508,7 +508,7 @@ const listMax = 5
 
 // rowList names the fit rows' scans with their sheet lines, the first
 // listMax of them: "stdc/L20a.csv (sheet line 8), ... and 3 more".
-func rowList(rows []int, fit []reference.Row) string {
+func rowList(rows []int, fit []Row) string {
 	var b strings.Builder
 	for n, i := range rows {
 		if n == listMax {
@@ -525,7 +525,7 @@ func rowList(rows []int, fit []reference.Row) string {
 
 // rowName is a standard's scan and sheet line: "L20a.csv (sheet line 8)",
 // with the column of a wide table after the file.
-func rowName(r reference.Row) string {
+func rowName(r Row) string {
 	f := r.File
 	if r.Column != "" {
 		f += " column " + r.Column
@@ -568,7 +568,7 @@ type maskFit struct {
 // newMaskFit sets up the fit for the rows kept at wavelength j. The solver
 // is nil when the rows cannot determine the coefficients (too few rows, or
 // rank deficient once readings above the ceiling are left out).
-func newMaskFit(fit []reference.Row, keep [][]bool, j, m int, intercept bool) (*maskFit, error) {
+func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, error) {
 	mf := &maskFit{}
 	for i := range fit {
 		if keep[i][j] {
@@ -619,7 +619,7 @@ func newMaskFit(fit []reference.Row, keep [][]bool, j, m int, intercept bool) (*
 // checkDesign refuses a concentration design (with its intercept column)
 // that is rank deficient or badly conditioned once each column is scaled
 // to unit length, and returns its condition number.
-func checkDesign(fit []reference.Row, names []string, intercept bool) (float64, error) {
+func checkDesign(fit []Row, names []string, intercept bool) (float64, error) {
 	m := len(names)
 	nc := m
 	if intercept {
@@ -670,8 +670,8 @@ func designNames(names []string, intercept bool) string {
 
 // commonGrid chooses the grid: the first standard's wavelengths within the
 // window, or within the range all scans share.
-func commonGrid(sh *reference.Sheet, fit []reference.Row, opt Options, warn func(string, ...any)) ([]float64, error) {
-	rows := append(append([]reference.Row(nil), fit...), sh.Blanks...)
+func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([]float64, error) {
+	rows := append(append([]Row(nil), fit...), sh.Blanks...)
 	first := sh.Standards[0].Scan.Wavelengths
 	var lo, hi float64
 	if opt.WindowLo != 0 || opt.WindowHi != 0 {
@@ -739,7 +739,7 @@ func commonGrid(sh *reference.Sheet, fit []reference.Row, opt Options, warn func
 // narrowNote says which scans limit the shared range lo-hi to less than
 // the first standard's grid (first): those starting at lo or ending at
 // hi, each with its own range, and the range the other scans share.
-func narrowNote(rows []reference.Row, blank *spectrum.Spectrum, first []float64, lo, hi float64) string {
+func narrowNote(rows []Row, blank *spectrum.Spectrum, first []float64, lo, hi float64) string {
 	s := gridSlack * (first[len(first)-1] - first[0])
 	cutLo, cutHi := lo > first[0]+s, hi < first[len(first)-1]-s
 	limits := func(wl []float64) bool {

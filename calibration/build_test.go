@@ -35,10 +35,10 @@ func linGrid(lo, step float64, n int) []float64 {
 
 // memSheet makes a sheet in memory: row i has concentrations conc[i] and
 // absorbances scan[i] on grid.
-func memSheet(names []string, grid []float64, conc, scan [][]float64) *reference.Sheet {
-	sh := &reference.Sheet{Path: "standards.csv", Compounds: names, Units: make([]string, len(names))}
+func memSheet(names []string, grid []float64, conc, scan [][]float64) *Sheet {
+	sh := &Sheet{Path: "standards.csv", Compounds: names, Units: make([]string, len(names))}
 	for i := range conc {
-		r := reference.Row{
+		r := Row{
 			File: fmt.Sprintf("std-%02d.csv", i+1), Line: i + 2, Conc: conc[i],
 			Scan: &spectrum.Spectrum{Wavelengths: grid, Values: scan[i], Quantity: spectrum.Absorbance,
 				Source: spectrum.Source{File: fmt.Sprintf("std-%02d.csv", i+1)}},
@@ -539,7 +539,7 @@ func TestBuildNarrowScans(t *testing.T) {
 	wide := linGrid(400, 2, 151) // 400-700 nm
 	k := [][]float64{band(wide, 550, 30, 0.1)}
 	conc := [][]float64{{0}, {1}, {2}, {3}, {4}, {5}, {6}, {7}, {8}, {9}, {10}}
-	narrow := func(sh *reference.Sheet, i int, lo, hi float64) {
+	narrow := func(sh *Sheet, i int, lo, hi float64) {
 		g := linGrid(lo, 2, int((hi-lo)/2)+1)
 		sh.Standards[i].Scan = &spectrum.Spectrum{Wavelengths: g, Values: scale(band(g, 550, 30, 0.1), conc[i+1][0])}
 	}
@@ -731,11 +731,11 @@ func TestBuildErrors(t *testing.T) {
 	cases := []struct {
 		name string
 		conc func() [][]float64
-		edit func(sh *reference.Sheet, opt *Options)
+		edit func(sh *Sheet, opt *Options)
 		want error
 		in   string // the message must name this
 	}{
-		{"negative", base, func(sh *reference.Sheet, _ *Options) { sh.Standards[3].Conc[1] = -1 }, reference.ErrConcentration, "standards.csv:7"},
+		{"negative", base, func(sh *Sheet, _ *Options) { sh.Standards[3].Conc[1] = -1 }, ErrConcentration, "standards.csv:7"},
 		{"never varies", func() [][]float64 {
 			c := base()
 			for i := range c {
@@ -745,7 +745,7 @@ func TestBuildErrors(t *testing.T) {
 				}
 			}
 			return c
-		}, nil, reference.ErrNoVariation, "blue"},
+		}, nil, ErrNoVariation, "blue"},
 		{"same ratio", func() [][]float64 {
 			var c [][]float64
 			for _, v := range []float64{0, 1, 2, 3, 4, 5, 6} {
@@ -760,7 +760,7 @@ func TestBuildErrors(t *testing.T) {
 			}
 			return c
 		}, nil, ErrDesign, "condition number"},
-		{"window", base, func(_ *reference.Sheet, opt *Options) { opt.WindowLo, opt.WindowHi = 380, 550 }, ErrWindow, "standards.csv:4: scan does not cover the window: std-03.csv covers 400-600 nm"},
+		{"window", base, func(_ *Sheet, opt *Options) { opt.WindowLo, opt.WindowHi = 380, 550 }, ErrWindow, "standards.csv:4: scan does not cover the window: std-03.csv covers 400-600 nm"},
 		{"too few", func() [][]float64 { return [][]float64{{1, 0, 0}, {0, 1, 0}, {0, 0, 1}, {1, 1, 1}} }, nil, ErrTooFewStandards, "standards"},
 	}
 	for _, c := range cases {

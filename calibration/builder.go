@@ -14,7 +14,7 @@ import (
 
 // builder is the state of one Build, filled in section by section.
 type builder struct {
-	sh    *reference.Sheet
+	sh    *Sheet
 	opt   Options
 	notes []string // the warnings given, for the provenance
 	m     int      // compounds
@@ -23,7 +23,7 @@ type builder struct {
 	path, ceiling, floor float64
 	intercept            bool
 
-	fit   []reference.Row // the rows that enter the fit
+	fit   []Row // the rows that enter the fit
 	grid  []float64
 	blank []float64 // nil when the absorbances are used as read
 	prov  reference.Provenance
@@ -49,7 +49,7 @@ func (b *builder) warn(format string, a ...any) {
 }
 
 // rowErr places err at the sheet row r.
-func (b *builder) rowErr(r reference.Row, err error) error {
+func (b *builder) rowErr(r Row, err error) error {
 	return &spectrum.ParseError{File: b.sh.Path, Line: r.Line, Err: err}
 }
 
@@ -94,11 +94,11 @@ func (b *builder) defaults() error {
 // concentration design they make.
 func (b *builder) rows() error {
 	sh := b.sh
-	b.fit = append([]reference.Row(nil), sh.Standards...)
+	b.fit = append([]Row(nil), sh.Standards...)
 	if b.opt.Blank != nil {
 		b.fit = append(b.fit, sh.Blanks...)
 	}
-	for _, r := range append(append([]reference.Row(nil), b.fit...), sh.Blanks...) {
+	for _, r := range append(append([]Row(nil), b.fit...), sh.Blanks...) {
 		if err := b.checkRow(r); err != nil {
 			return err
 		}
@@ -113,7 +113,7 @@ func (b *builder) rows() error {
 			}
 		}
 		if !varies {
-			return fmt.Errorf("calibration: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, reference.ErrNoVariation, name, fit[0].Conc[k])
+			return fmt.Errorf("calibration: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, ErrNoVariation, name, fit[0].Conc[k])
 		}
 	}
 	ncoef := b.m
@@ -137,19 +137,19 @@ func (b *builder) rows() error {
 
 // checkRow checks that row r has a valid scan and a finite, non-negative
 // concentration of every compound.
-func (b *builder) checkRow(r reference.Row) error {
+func (b *builder) checkRow(r Row) error {
 	if r.Scan == nil {
-		return b.rowErr(r, fmt.Errorf("%w: %s: no scan loaded", reference.ErrScanFile, r.File))
+		return b.rowErr(r, fmt.Errorf("%w: %s: no scan loaded", ErrScanFile, r.File))
 	}
 	if err := r.Scan.Check(); err != nil {
 		return b.rowErr(r, err)
 	}
 	if len(r.Conc) != b.m {
-		return b.rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", reference.ErrConcentration, len(r.Conc), b.m))
+		return b.rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", ErrConcentration, len(r.Conc), b.m))
 	}
 	for k, v := range r.Conc {
 		if !finite(v) || v < 0 {
-			return b.rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", reference.ErrConcentration, b.sh.Compounds[k], v))
+			return b.rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", ErrConcentration, b.sh.Compounds[k], v))
 		}
 	}
 	return nil
@@ -256,7 +256,7 @@ func (b *builder) readings() error {
 
 // pretreat applies the pre-treatment steps to the blank-corrected
 // readings v of row r and checks what they return.
-func (b *builder) pretreat(r reference.Row, v []float64) ([]float64, error) {
+func (b *builder) pretreat(r Row, v []float64) ([]float64, error) {
 	t, err := baseline.ApplyAll(b.opt.Pretreat, b.grid, v)
 	if err != nil {
 		return nil, b.rowErr(r, fmt.Errorf("pre-treatment of %s: %w", r.File, err))
@@ -437,7 +437,7 @@ func (b *builder) finish(set *reference.Set) (*reference.Set, error) {
 		now = b.opt.Now
 	}
 	prov.Created = now().UTC().Format(time.RFC3339)
-	for _, r := range append(append([]reference.Row(nil), sh.Standards...), sh.Blanks...) {
+	for _, r := range append(append([]Row(nil), sh.Standards...), sh.Blanks...) {
 		prov.Standards = append(prov.Standards, reference.Standard{
 			File: r.File, Column: r.Column, SHA256: r.SHA256,
 			Conc: append([]float64(nil), r.Conc...), Line: r.Line,

@@ -39,7 +39,7 @@ func fitPoly(x, y []float64, degree int) (lineFit, error) {
 		scale = max(scale, math.Abs(v))
 	}
 	if scale == 0 {
-		return lineFit{}, fmt.Errorf("%w: every concentration is zero", reference.ErrNoVariation)
+		return lineFit{}, fmt.Errorf("%w: every concentration is zero", ErrNoVariation)
 	}
 	// A power of two keeps the scaling exact.
 	_, e := math.Frexp(scale)

@@ -14,16 +14,16 @@ import (
 
 // exampleSheet is an invented one-dye calibration: a blank and five
 // standards whose band peaks at 500 nm with 0.05 absorbance per mg/L.
-func exampleSheet() *reference.Sheet {
+func exampleSheet() *calibration.Sheet {
 	grid := []float64{480, 490, 500, 510, 520}
 	shape := []float64{0.4, 0.8, 1, 0.8, 0.4}
-	sh := &reference.Sheet{Path: "standards.csv", Compounds: []string{"dye"}, Units: []string{"mg/L"}}
+	sh := &calibration.Sheet{Path: "standards.csv", Compounds: []string{"dye"}, Units: []string{"mg/L"}}
 	for i, c := range []float64{0, 2, 4, 6, 8, 10} {
 		v := make([]float64, len(grid))
 		for j := range v {
 			v[j] = 0.01 + 0.05*c*shape[j] // 0.01 from solvent and cell
 		}
-		r := reference.Row{File: fmt.Sprintf("s%d.csv", i), Line: i + 2, Conc: []float64{c},
+		r := calibration.Row{File: fmt.Sprintf("s%d.csv", i), Line: i + 2, Conc: []float64{c},
 			Scan: &spectrum.Spectrum{Wavelengths: grid, Values: v, Quantity: spectrum.Absorbance}}
 		if c == 0 {
 			sh.Blanks = append(sh.Blanks, r)

@@ -79,14 +79,14 @@ type CrossValidation struct {
 // is listed in Failed and its standards are not predicted; an error is
 // returned only when no fold succeeds, or the sheet does not name the
 // set's compounds.
-func CrossValidate(set *reference.Set, sheet *reference.Sheet, opt CrossValOptions) (*CrossValidation, error) {
+func CrossValidate(set *reference.Set, sheet *calibration.Sheet, opt CrossValOptions) (*CrossValidation, error) {
 	return CrossValidateContext(context.Background(), set, sheet, opt)
 }
 
 // CrossValidateContext is CrossValidate that stops when ctx is done,
 // between folds: the error then wraps ctx.Err() and says how many folds
 // had been done.
-func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *reference.Sheet, opt CrossValOptions) (*CrossValidation, error) {
+func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibration.Sheet, opt CrossValOptions) (*CrossValidation, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
 	}
@@ -190,7 +190,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *refere
 
 // foldsOf groups standard indices: one per standard, or by identical
 // composition.
-func foldsOf(rows []reference.Row, byLevel bool) [][]int {
+func foldsOf(rows []calibration.Row, byLevel bool) [][]int {
 	var folds [][]int
 	if !byLevel {
 		for i := range rows {

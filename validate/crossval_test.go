@@ -11,7 +11,6 @@ import (
 
 	"huesolve/baseline"
 	"huesolve/calibration"
-	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix"
 )
@@ -19,7 +18,7 @@ import (
 // tinySheet: two compounds, eight mixed standards (two pairs of
 // replicates), six wavelengths, absorbance = C K + noise (invented test
 // data, fixed seed).
-func tinySheet() (*reference.Sheet, *mat.Dense, *mat.Dense) {
+func tinySheet() (*calibration.Sheet, *mat.Dense, *mat.Dense) {
 	wl := []float64{400, 420, 440, 460, 480, 500}
 	k := mat.NewDense(2, 6, []float64{
 		0.10, 0.08, 0.05, 0.02, 0.01, 0.005,
@@ -38,14 +37,14 @@ func tinySheet() (*reference.Sheet, *mat.Dense, *mat.Dense) {
 	rng := rand.New(rand.NewPCG(1, 1))
 	var a mat.Dense
 	a.Mul(conc, k)
-	sh := &reference.Sheet{Path: "tiny.csv", Compounds: []string{"P", "Q"}, Units: []string{"mg/L", "mg/L"}}
+	sh := &calibration.Sheet{Path: "tiny.csv", Compounds: []string{"P", "Q"}, Units: []string{"mg/L", "mg/L"}}
 	for i := range 8 {
 		row := a.RawRowView(i)
 		for j := range row {
 			row[j] += 0.002 * rng.NormFloat64()
 		}
 		name := "s" + string(rune('1'+i))
-		sh.Standards = append(sh.Standards, reference.Row{
+		sh.Standards = append(sh.Standards, calibration.Row{
 			File: name + ".csv", Line: i + 2, Conc: []float64{conc.At(i, 0), conc.At(i, 1)},
 			Scan: &spectrum.Spectrum{Name: name, Wavelengths: wl, Values: append([]float64(nil), row...),
 				Quantity: spectrum.Absorbance, Source: spectrum.Source{File: name + ".csv"}},

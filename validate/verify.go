@@ -7,6 +7,7 @@ import (
 	"math"
 	"strings"
 
+	"huesolve/calibration"
 	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix"
@@ -344,14 +345,14 @@ type VerifyOptions struct {
 // cannot quantify in the model's design is refused first (an error
 // wrapping ErrNotSelective). Errors from solving a standard name the
 // sheet and line.
-func Verify(set *reference.Set, sheet *reference.Sheet, opt VerifyOptions) (*Verification, error) {
+func Verify(set *reference.Set, sheet *calibration.Sheet, opt VerifyOptions) (*Verification, error) {
 	return VerifyContext(context.Background(), set, sheet, opt)
 }
 
 // VerifyContext is Verify that stops when ctx is done, between check
 // standards: the error then wraps ctx.Err() and says how many check
 // standards had been solved.
-func VerifyContext(ctx context.Context, set *reference.Set, sheet *reference.Sheet, opt VerifyOptions) (*Verification, error) {
+func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.Sheet, opt VerifyOptions) (*Verification, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
 	}
@@ -383,7 +384,7 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *reference.She
 		return nil, err
 	}
 	mopt := opt.Model
-	rows := append([]reference.Row(nil), sheet.Standards...)
+	rows := append([]calibration.Row(nil), sheet.Standards...)
 	blank := "none"
 	switch {
 	case mopt.Blank != nil:
@@ -448,7 +449,7 @@ func checkFrom(name string, conc []float64, col []int, res *unmix.Result) Check 
 }
 
 // rowName is the column name of a wide-table row, else the file.
-func rowName(r reference.Row) string {
+func rowName(r calibration.Row) string {
 	if r.Column != "" {
 		return r.Column
 	}
@@ -464,7 +465,7 @@ func setNames(set *reference.Set) (names, units []string) {
 }
 
 // matchCompounds returns, for each compound of set, its column in sheet.
-func matchCompounds(set *reference.Set, sheet *reference.Sheet) ([]int, error) {
+func matchCompounds(set *reference.Set, sheet *calibration.Sheet) ([]int, error) {
 	idx := make(map[string]int, len(sheet.Compounds))
 	for i, n := range sheet.Compounds {
 		idx[strings.ToLower(n)] = i
@@ -492,7 +493,7 @@ func matchCompounds(set *reference.Set, sheet *reference.Sheet) ([]int, error) {
 
 // MeanBlank returns the mean of the blank rows' scans on the first one's
 // grid (the others interpolated onto it, never extrapolated).
-func MeanBlank(rows []reference.Row) (*spectrum.Spectrum, error) {
+func MeanBlank(rows []calibration.Row) (*spectrum.Spectrum, error) {
 	if len(rows) == 0 {
 		return nil, errors.New("no blank rows")
 	}

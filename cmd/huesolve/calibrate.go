@@ -111,7 +111,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if err := checkNotInput("-o", o.out, sheetPath, o.scans.blank); err != nil {
 		return err
 	}
-	sh, err := reference.ReadSheet(sheetPath, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
+	sh, err := calibration.ReadSheet(sheetPath, calibration.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
 	if err != nil {
 		return err
 	}

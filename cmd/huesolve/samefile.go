@@ -5,7 +5,7 @@ import (
 	"path/filepath"
 
 	"huesolve/batch"
-	"huesolve/reference"
+	"huesolve/calibration"
 )
 
 // checkNotInput refuses, as a usage error, an output file that is one of
@@ -57,9 +57,9 @@ func scanInputFiles(args []string) []string {
 
 // sheetFiles lists the scan files a standards or check sheet names, as
 // opened.
-func sheetFiles(sh *reference.Sheet) []string {
+func sheetFiles(sh *calibration.Sheet) []string {
 	var files []string
-	for _, rows := range [][]reference.Row{sh.Standards, sh.Blanks} {
+	for _, rows := range [][]calibration.Row{sh.Standards, sh.Blanks} {
 		for _, r := range rows {
 			files = append(files, r.Path)
 		}

@@ -9,6 +9,7 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"huesolve/calibration"
 	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/spectrum"
@@ -162,7 +163,7 @@ func (o *verifyOptions) check() (unmix.Options, spectrum.Quantity, validate.Veri
 
 // load reads the reference set, the checks sheet and the blank (into
 // mopt), warning when there is no blank at all.
-func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q spectrum.Quantity, warn func(string)) (*reference.Set, *reference.Sheet, error) {
+func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q spectrum.Quantity, warn func(string)) (*reference.Set, *calibration.Sheet, error) {
 	if err := checkNotInput("-o", o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
 		return nil, nil, err
 	}
@@ -170,7 +171,7 @@ func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q 
 	if err != nil {
 		return nil, nil, err
 	}
-	sh, err := valReadCheckSheet(checksPath, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
+	sh, err := valReadCheckSheet(checksPath, calibration.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
 	if err != nil {
 		return nil, nil, err
 	}
@@ -191,7 +192,7 @@ func (o *verifyOptions) crossValidate(ctx context.Context, set *reference.Set, m
 	if o.crossval == "" {
 		return nil, nil
 	}
-	cal, err := reference.ReadSheet(o.crossval, reference.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
+	cal, err := calibration.ReadSheet(o.crossval, calibration.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
 	if err != nil {
 		return nil, err
 	}
@@ -254,9 +255,9 @@ func verifyVerdict(errw io.Writer, v *validate.Verification, warn func(string)) 
 
 // valReadCheckSheet reads a check-standard sheet: replicates of a single
 // mixture are allowed there, unlike in a calibration sheet.
-func valReadCheckSheet(path string, opt reference.SheetOptions) (*reference.Sheet, error) {
+func valReadCheckSheet(path string, opt calibration.SheetOptions) (*calibration.Sheet, error) {
 	opt.Checks = true
-	return reference.ReadSheet(path, opt)
+	return calibration.ReadSheet(path, opt)
 }
 
 // valParsePercentRange reads the --recovery range "LO-HI" in percent.

@@ -89,7 +89,7 @@ func valCaseNoise(t *testing.T, declare, checkSD float64) (dir, refs, checks str
 	if err := os.WriteFile(std, []byte(b.String()), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	sh, err := reference.ReadSheet(std, reference.SheetOptions{})
+	sh, err := calibration.ReadSheet(std, calibration.SheetOptions{})
 	if err != nil {
 		t.Fatal(err)
 	}

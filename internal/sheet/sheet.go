@@ -1,5 +1,5 @@
 // Package sheet reads the delimited-text sheets a chemist keeps in a
-// spreadsheet (the standards sheet of package reference, the sample sheet
+// spreadsheet (the standards sheet of package calibration, the sample sheet
 // of package unmix): one dialect for all of them.
 //
 // The dialect:

@@ -1,17 +1,15 @@
-package reference
+package calibration
 
 import (
-	"crypto/sha256"
-	"encoding/hex"
 	"errors"
 	"fmt"
-	"io"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
 
 	"huesolve/internal/sheet"
+	"huesolve/reference"
 	"huesolve/spectrum"
 )
 
@@ -45,7 +43,6 @@ type Row struct {
 	SHA256 string
 }
 
-// Sheet is a parsed standards sheet with its scans loaded.
 // IsBlank reports whether the row is a blank: every concentration zero.
 func (r Row) IsBlank() bool {
 	for _, v := range r.Conc {
@@ -56,6 +53,7 @@ func (r Row) IsBlank() bool {
 	return true
 }
 
+// Sheet is a parsed standards sheet with its scans loaded.
 type Sheet struct {
 	Path      string   // the sheet file as given
 	Compounds []string // compound names, in column order
@@ -281,7 +279,7 @@ func (ld *scanLoader) read(p string, line, col int) (loadedScans, error) {
 	if err != nil {
 		return got, ld.errAt(line, col, "%w: %w", ErrScanFile, err)
 	}
-	if got.sum, err = FileSHA256(p); err != nil {
+	if got.sum, err = reference.FileSHA256(p); err != nil {
 		return got, ld.errAt(line, col, "%w: %v", ErrScanFile, err)
 	}
 	if len(got.scans) == 0 {
@@ -366,21 +364,6 @@ func pickScan(scans []*spectrum.Spectrum, col string) (*spectrum.Spectrum, error
 // MaxSheetBytes is the largest standards sheet ReadSheet reads (64 MiB,
 // hundreds of thousands of rows).
 const MaxSheetBytes = 64 << 20
-
-// FileSHA256 returns the SHA-256 of a file's content in lower-case hex,
-// reading it in pieces (memory does not grow with the file).
-func FileSHA256(path string) (string, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return "", err
-	}
-	defer f.Close()
-	h := sha256.New()
-	if _, err := io.Copy(h, f); err != nil {
-		return "", fmt.Errorf("%s: %w", path, err)
-	}
-	return hex.EncodeToString(h.Sum(nil)), nil
-}
 
 // splitUnit splits "Name (unit)" into its parts; "Name" has no unit.
 func splitUnit(h string) (name, unit string, err error) {
