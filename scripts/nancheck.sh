@@ -43,16 +43,16 @@ baseline | sg.go | dst\[j\] = dot\(centre, | dst[j] = NAN * dot(centre, | TestSc
 baseline | sg.go | dst\[j\] = dot\(f\.weights\[j\*w | dst[j] = NAN * dot(f.weights[j*w | TestSciPy
 baseline | als.go | return dst, it, nil | dst[len(dst)/2] = NAN; return dst, it, nil | TestALSSciPy
 baseline | model.go | col\[i\] = legendre\(d, t\) | col[i] = NAN * legendre(d, t) | TestColumnsValues
-reference | linearity.go | f\.coef\[q\] = b\.At\(q, 0\) / p | f.coef[q] = NAN * b.At(q, 0) / p | TestLineNorris
-reference | linearity.go | f\.se\[q\] = math\.Sqrt\(s2\*sum\) / p | f.se[q] = NAN * math.Sqrt(s2*sum) / p | TestLineNorris
-reference | linearity.go | lin\.ResidualSD = math\.Sqrt | lin.ResidualSD = NAN * math.Sqrt | TestLineNorris
-reference | linearity.go | lin\.R2 = 1 - f\.rss/t | lin.R2 = NAN * (1 - f.rss/t) | TestLineNorris
-reference | linearity.go | f\.coef\[q\] = b\.At\(q, 0\) / p | f.coef[q] = NAN * b.At(q, 0) / p | TestBuildNorris
-reference | linearity.go | \bf = ds2 / s22 | f = NAN * ds2 / s22 | TestLineTests
-reference | linearity.go | p = distuv\.F\{D1: 1, D2: float64\(l2\.dof\)\}\.Survival\(f\) | p = NAN * distuv.F{D1: 1, D2: float64(l2.dof)}.Survival(f) | TestLineTests
-reference | linearity.go | p = distuv\.F\{D1: 1, D2: float64\(l2\.dof\)\}\.Survival\(f\) | p = NAN * distuv.F{D1: 1, D2: float64(l2.dof)}.Survival(f) | TestMandelCritical
-reference | linearity.go | \bf = \(lof / float64\(m-2\)\) | f = NAN * (lof / float64(m-2)) | TestLineTests
-reference | linearity.go | return f, distuv\.F\{D1: float64\(m - 2\) | return f, NAN * distuv.F{D1: float64(m - 2) | TestLineTests
+calibration | linearity.go | f\.coef\[q\] = b\.At\(q, 0\) / p | f.coef[q] = NAN * b.At(q, 0) / p | TestLineNorris
+calibration | linearity.go | f\.se\[q\] = math\.Sqrt\(s2\*sum\) / p | f.se[q] = NAN * math.Sqrt(s2*sum) / p | TestLineNorris
+calibration | linearity.go | lin\.ResidualSD = math\.Sqrt | lin.ResidualSD = NAN * math.Sqrt | TestLineNorris
+calibration | linearity.go | lin\.R2 = 1 - f\.rss/t | lin.R2 = NAN * (1 - f.rss/t) | TestLineNorris
+calibration | linearity.go | f\.coef\[q\] = b\.At\(q, 0\) / p | f.coef[q] = NAN * b.At(q, 0) / p | TestBuildNorris
+calibration | linearity.go | \bf = ds2 / s22 | f = NAN * ds2 / s22 | TestLineTests
+calibration | linearity.go | p = distuv\.F\{D1: 1, D2: float64\(l2\.dof\)\}\.Survival\(f\) | p = NAN * distuv.F{D1: 1, D2: float64(l2.dof)}.Survival(f) | TestLineTests
+calibration | linearity.go | p = distuv\.F\{D1: 1, D2: float64\(l2\.dof\)\}\.Survival\(f\) | p = NAN * distuv.F{D1: 1, D2: float64(l2.dof)}.Survival(f) | TestMandelCritical
+calibration | linearity.go | \bf = \(lof / float64\(m-2\)\) | f = NAN * (lof / float64(m-2)) | TestLineTests
+calibration | linearity.go | return f, distuv\.F\{D1: float64\(m - 2\) | return f, NAN * distuv.F{D1: float64(m - 2) | TestLineTests
 unmix | solve.go | Conc:\s+coef \* scale, | Conc: NAN * coef * scale, | TestAgainstSciPy
 unmix | solve.go | SE:\s+se \* scale, | SE: NAN * se * scale, | TestAgainstSciPy
 unmix | solve.go | LOD:\s+LODFactor \* s0 \* scale, | LOD: NAN * LODFactor * s0 * scale, | TestAgainstSciPy
