@@ -325,9 +325,10 @@ func (s *Set) ComputeChecksum() (string, error) {
 // least two points, every per-wavelength slice on that grid, finite numbers
 // (no NaN or Inf except the optional test statistics), a non-negative
 // noise model, a positive path length and a ceiling above the floor.
-// Compounds must have distinct, non-empty names. SE and Usable may be
-// empty (a set made in memory: not recorded, every wavelength usable);
-// when present they must match the grid. It is the one check of a set:
+// Compounds must have distinct, non-empty names. Noise, SE and Usable
+// may be empty and the ceiling 0 (a set made in memory: no noise model,
+// not recorded, every wavelength usable, the default ceiling); when
+// present they must match the grid. Build always records all of them. It is the one check of a set:
 // Load, Save and Build call it, and so do the packages that solve with a
 // set (unmix, validate). Errors wrap ErrInvalid.
 func (s *Set) Validate() error {
@@ -360,8 +361,10 @@ func (s *Set) validateGrid() error {
 	if len(s.Compounds) == 0 {
 		return invalid("no compounds")
 	}
-	if err := checkSlice("noise", s.Noise, n); err != nil {
-		return invalid("%v", err)
+	if len(s.Noise) > 0 {
+		if err := checkSlice("noise", s.Noise, n); err != nil {
+			return invalid("%v", err)
+		}
 	}
 	for _, v := range s.Noise {
 		if v < 0 {
@@ -371,7 +374,7 @@ func (s *Set) validateGrid() error {
 	if !finite(s.PathCM) || s.PathCM <= 0 {
 		return invalid("path length %g cm is not positive", s.PathCM)
 	}
-	if !finite(s.Ceiling) || !finite(s.Floor) || s.Floor < 0 || s.Ceiling <= s.Floor {
+	if !finite(s.Ceiling) || !finite(s.Floor) || s.Floor < 0 || s.Ceiling < 0 || s.Ceiling != 0 && s.Ceiling <= s.Floor {
 		return invalid("ceiling %g and floor %g: need 0 <= floor < ceiling", s.Ceiling, s.Floor)
 	}
 	return nil

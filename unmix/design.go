@@ -49,6 +49,27 @@ func WindowRange(grid []float64, loNM, hiNM float64) (lo, hi int) {
 	return searchGE(grid, loNM-slack), searchGT(grid, hiNM+slack)
 }
 
+// UsableRows returns the rows of the window [lo, hi) of set's grid
+// (0 = lo) where every compound's absorptivity is usable
+// (reference.Compound.Usable; no marks: everywhere), increasing: the rows
+// a design keeps.
+func UsableRows(set *reference.Set, lo, hi int) []int {
+	g := set.Grid
+	var rows []int
+	for r := range hi - lo {
+		ok := true
+		for _, c := range set.Compounds {
+			if len(c.Usable) == len(g) && !c.Usable[lo+r] {
+				ok = false
+			}
+		}
+		if ok {
+			rows = append(rows, r)
+		}
+	}
+	return rows
+}
+
 // NewDesign builds the design of set (which must pass Validate) on the
 // window [lo, hi) of its grid, for a cell of pathCM and the baseline
 // model. Errors, without a package prefix, are those of model.Check on
@@ -60,18 +81,7 @@ func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM floa
 		return nil, fmt.Errorf("window rows %d-%d of a %d-point grid: %w", lo, hi, len(g), ErrCoverage)
 	}
 	wl := g[lo:hi]
-	d := &Design{Lo: lo, Hi: hi, NComp: len(set.Compounds)}
-	for r := range wl {
-		ok := true
-		for _, c := range set.Compounds {
-			if len(c.Usable) == len(g) && !c.Usable[lo+r] {
-				ok = false
-			}
-		}
-		if ok {
-			d.Rows = append(d.Rows, r)
-		}
-	}
+	d := &Design{Lo: lo, Hi: hi, NComp: len(set.Compounds), Rows: UsableRows(set, lo, hi)}
 	for _, c := range set.Compounds {
 		col := make([]float64, len(wl))
 		for r := range wl {

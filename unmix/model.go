@@ -113,6 +113,9 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	if err := set.Validate(); err != nil {
 		return nil, fmt.Errorf("unmix: %w: %w", ErrSet, err)
 	}
+	if len(set.Noise) == 0 {
+		return nil, fmt.Errorf("unmix: %w: the set has no noise model", ErrSet)
+	}
 	sh := &shared{set: set, opt: opt, grid: set.Grid, ncomp: len(set.Compounds)}
 	if err := sh.limits(); err != nil {
 		return nil, err

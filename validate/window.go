@@ -13,6 +13,7 @@ import (
 
 	"huesolve/baseline"
 	"huesolve/reference"
+	"huesolve/unmix/lsq"
 )
 
 // Defaults of the window search.
@@ -428,7 +429,7 @@ func (ws *windowWork) evaluate(c *Candidate, set *reference.Set, idx []int, wl, 
 	if !finiteSV(sv) {
 		return ErrSVD
 	}
-	c.Cond, c.Singular = clampCond(sv[0], sv[len(sv)-1])
+	c.Cond, c.Singular = clampCond(sv[0], sv[len(sv)-1], lsq.RankTol(m, ncol))
 	if c.Singular {
 		return nil
 	}
