@@ -261,7 +261,7 @@ func upperLimit(c reference.Compound) float64 {
 // correlates neighbouring residuals by construction.
 func (m *Model) DurbinWatsonFlagged() bool { return !m.sh.smooth }
 
-// init gives a model its own caches and workspace.
+// init gives a model its own caches and scratch storage.
 func (m *Model) init(base *design) {
 	m.base = base
 	m.cache = map[string]*design{"": base}
@@ -269,7 +269,7 @@ func (m *Model) init(base *design) {
 	m.buf = scratch{}
 }
 
-// Clone returns a model sharing the design with fresh workspace, for
+// Clone returns a model sharing the design with fresh scratch storage, for
 // another goroutine.
 func (m *Model) Clone() *Model {
 	c := &Model{set: m.set, opt: m.opt, sh: m.sh}

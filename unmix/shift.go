@@ -75,7 +75,10 @@ func (m *Model) estimateShift(sc *scan) error {
 		}
 		num, den := 0.0, 0.0
 		for i, r := range d.rows {
-			fit := floats.Dot(xr.Data[i*xr.Stride:i*xr.Stride+p], sc.pg)
+			fit := 0.0
+			for k, v := range xr.Data[i*xr.Stride : i*xr.Stride+p] {
+				fit += v * sc.pg[k]
+			}
 			mg, res := g[i]-fit, sc.res.Residual[i]
 			if weighted {
 				mg /= sc.sig[r]
