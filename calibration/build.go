@@ -29,23 +29,14 @@ const (
 	// memory).
 	usualLevels = 5
 	// maxDesignCond bounds the 2-norm condition number of the
-	// concentration design with each column scaled to unit length.
-	// Standard errors of the absorptivities grow roughly in proportion to
-	// it, so beyond 1e3 an absorbance noise of 0.001 becomes an
-	// uncertainty of the order of a whole absorbance unit: this project's
-	// choice.
-	maxDesignCond = 1e3
+	// concentration design with each column scaled to unit length: the
+	// project's refusal limit, lsq.CondRefuse.
+	maxDesignCond = lsq.CondRefuse
 	// warnDesignCond is the condition number of the column-scaled
 	// concentration design above which Build warns that compounds vary
-	// nearly together: condition indexes above 30 signal moderate to
-	// strong dependence (Belsley, Kuh & Welsch, Regression Diagnostics,
-	// 1980; recalled from memory), the limit solve applies to the
-	// spectra.
-	warnDesignCond = 30.0
-	// rankTol is the smallest singular value of the column-scaled design,
-	// relative to the largest, below which columns count as linearly
-	// dependent (a few hundred ulps).
-	rankTol = 1e-13
+	// nearly together: the project's warning limit, lsq.CondWarn, which
+	// solve applies to the spectra.
+	warnDesignCond = lsq.CondWarn
 	// gridSlack is the relative slack (of the span) allowed when checking
 	// that a scan covers the window, so wavelengths rounded in a file
 	// still match: the spectrum package's own.
@@ -650,7 +641,7 @@ func checkDesign(fit []Row, names []string, intercept bool) (float64, error) {
 	}
 	sv := svd.Values(nil)
 	hint := "vary each compound on its own, for example with pure standards of each"
-	if sv[len(sv)-1] <= rankTol*sv[0] {
+	if sv[len(sv)-1] <= lsq.RankTol(x.Dims())*sv[0] {
 		return math.Inf(1), fmt.Errorf("%w: the concentrations of %s are linearly dependent across the standards (%s)", ErrDesign, designNames(names, intercept), hint)
 	}
 	c := sv[0] / sv[len(sv)-1]

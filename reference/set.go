@@ -252,6 +252,48 @@ type Set struct {
 	Checksum string `json:"checksum"`
 }
 
+// The noise model of a sample reading: the one rule unmix (weights,
+// chi-square, detection limits, noise band) and validate (figures of
+// merit, window advice) both use.
+//
+//	sigma_i(A) = max(Noise_i, NoiseFloorAU) * sqrt(1 + 10^(2 (A - WeightKneeA)))
+//
+// The floor is absolute, not relative to the set's median noise: a
+// quiet stretch of a set with large median noise keeps its own, smaller,
+// noise, as the fit sees it, so that a detection limit from a solve and
+// one from the figures of merit agree for the same design.
+const (
+	// NoiseFloorAU is the smallest noise sigma (absorbance units) used
+	// anywhere: it keeps weights and chi-square finite where a reference
+	// set's noise is zero (a zeroed region, say). Typical UV-Vis
+	// photometric noise is near 1e-4 AU (common practice), so the floor
+	// does not bind on real data.
+	NoiseFloorAU = 1e-5
+	// WeightKneeA is the absorbance above which the noise model grows as
+	// 10^A (below it the calibration noise holds). Photometric noise
+	// takes over near A = 1 on common instruments (common practice):
+	// s_A = 0.434 s_T / T for constant transmittance noise s_T.
+	WeightKneeA = 1.0
+)
+
+// NoiseFloor is the calibration noise at grid point i with the floor
+// applied: max(Noise[i], NoiseFloorAU).
+func (s *Set) NoiseFloor(i int) float64 { return math.Max(s.Noise[i], NoiseFloorAU) }
+
+// NoiseGrowth is the factor sqrt(1 + 10^(2 (a - WeightKneeA))) by which
+// the noise of a reading of absorbance a exceeds the calibration noise.
+// A negative a or NaN counts as 0.
+func NoiseGrowth(a float64) float64 {
+	if !(a > 0) {
+		a = 0
+	}
+	return math.Sqrt(1 + math.Exp(2*math.Ln10*(a-WeightKneeA)))
+}
+
+// Sigma is the noise SD of a reading of absorbance a at grid point i:
+// NoiseFloor(i) * NoiseGrowth(a).
+func (s *Set) Sigma(i int, a float64) float64 { return s.NoiseFloor(i) * NoiseGrowth(a) }
+
 // Sentinel causes of Load errors, tested with errors.Is.
 var (
 	// ErrTruncated: the file ends before the JSON document does.
@@ -281,92 +323,138 @@ func (s *Set) ComputeChecksum() (string, error) {
 
 // Validate checks the invariants of a set: a strictly increasing grid of at
 // least two points, every per-wavelength slice on that grid, finite numbers
-// (no NaN or Inf except the optional test statistics), a positive path
-// length and a ceiling above the floor. Errors wrap ErrInvalid.
+// (no NaN or Inf except the optional test statistics), a non-negative
+// noise model, a positive path length and a ceiling above the floor.
+// Compounds must have distinct, non-empty names. Noise, SE and Usable
+// may be empty and the ceiling 0 (a set made in memory: no noise model,
+// not recorded, every wavelength usable, the default ceiling); when
+// present they must match the grid. Build always records all of them. It is the one check of a set:
+// Load, Save and Build call it, and so do the packages that solve with a
+// set (unmix, validate). Errors wrap ErrInvalid.
 func (s *Set) Validate() error {
-	bad := func(format string, a ...any) error {
-		return fmt.Errorf("%w: %s", ErrInvalid, fmt.Sprintf(format, a...))
+	if err := s.validateGrid(); err != nil {
+		return err
 	}
+	if err := s.validateCompounds(); err != nil {
+		return err
+	}
+	return s.validateStandards()
+}
+
+// invalid returns an error wrapping ErrInvalid.
+func invalid(format string, a ...any) error {
+	return fmt.Errorf("%w: %s", ErrInvalid, fmt.Sprintf(format, a...))
+}
+
+// validateGrid checks the grid, the noise model, the path length, the
+// ceiling and floor, and that there are compounds.
+func (s *Set) validateGrid() error {
 	n := len(s.Grid)
 	if n < 2 {
-		return bad("grid has %d points, need at least 2", n)
+		return invalid("grid has %d points, need at least 2", n)
 	}
 	for i, w := range s.Grid {
 		if !finite(w) || (i > 0 && w <= s.Grid[i-1]) {
-			return bad("grid is not finite and strictly increasing at point %d (%g nm)", i+1, w)
+			return invalid("grid is not finite and strictly increasing at point %d (%g nm)", i+1, w)
 		}
 	}
 	if len(s.Compounds) == 0 {
-		return bad("no compounds")
+		return invalid("no compounds")
 	}
-	if err := checkSlice("noise", s.Noise, n); err != nil {
-		return bad("%v", err)
+	if len(s.Noise) > 0 {
+		if err := checkSlice("noise", s.Noise, n); err != nil {
+			return invalid("%v", err)
+		}
 	}
 	for _, v := range s.Noise {
 		if v < 0 {
-			return bad("negative noise %g", v)
+			return invalid("negative noise %g", v)
 		}
 	}
 	if !finite(s.PathCM) || s.PathCM <= 0 {
-		return bad("path length %g cm is not positive", s.PathCM)
+		return invalid("path length %g cm is not positive", s.PathCM)
 	}
-	if !finite(s.Ceiling) || !finite(s.Floor) || s.Floor < 0 || s.Ceiling <= s.Floor {
-		return bad("ceiling %g and floor %g: need 0 <= floor < ceiling", s.Ceiling, s.Floor)
+	if !finite(s.Ceiling) || !finite(s.Floor) || s.Floor < 0 || s.Ceiling < 0 || s.Ceiling != 0 && s.Ceiling <= s.Floor {
+		return invalid("ceiling %g and floor %g: need 0 <= floor < ceiling", s.Ceiling, s.Floor)
 	}
+	return nil
+}
+
+// validateCompounds checks each compound: a unique name, its
+// per-wavelength slices and its linearity figures.
+func (s *Set) validateCompounds() error {
+	n := len(s.Grid)
 	seen := map[string]bool{}
 	for _, c := range s.Compounds {
 		if c.Name == "" {
-			return bad("a compound has no name")
+			return invalid("a compound has no name")
 		}
 		if seen[c.Name] {
-			return bad("compound %q appears twice", c.Name)
+			return invalid("compound %q appears twice", c.Name)
 		}
 		seen[c.Name] = true
 		if err := checkSlice("absorptivity", c.Absorptivity, n); err != nil {
-			return bad("compound %q: %v", c.Name, err)
+			return invalid("compound %q: %v", c.Name, err)
 		}
-		if err := checkSlice("absorptivity SE", c.SE, n); err != nil {
-			return bad("compound %q: %v", c.Name, err)
+		if len(c.SE) > 0 {
+			if err := checkSlice("absorptivity SE", c.SE, n); err != nil {
+				return invalid("compound %q: %v", c.Name, err)
+			}
 		}
-		if len(c.Usable) != n {
-			return bad("compound %q: %d usable marks for %d wavelengths", c.Name, len(c.Usable), n)
+		if len(c.Usable) != 0 && len(c.Usable) != n {
+			return invalid("compound %q: %d usable marks for %d wavelengths", c.Name, len(c.Usable), n)
 		}
 		if s.Intercept && c.Intercept != nil {
 			if err := checkSlice("intercept", c.Intercept, n); err != nil {
-				return bad("compound %q: %v", c.Name, err)
+				return invalid("compound %q: %v", c.Name, err)
 			}
 		}
-		l := c.Linearity
-		for _, v := range []float64{c.PeakNM, c.MinStandard, c.MaxStandard, l.Slope, l.Intercept, l.SlopeSE,
-			l.InterceptSE, l.R2, l.ResidualSD, l.RangeLo, l.RangeHi} {
-			if !finite(v) {
-				return bad("compound %q: a linearity figure is %v", c.Name, v)
-			}
-		}
-		if l.Curved && l.CurvedUnconfirmed {
-			return bad("compound %q: the line is marked both curved and curved unconfirmed", c.Name)
-		}
-		if b := l.Band; b != nil {
-			if !finite(b.LoNM) || !finite(b.HiNM) || !finite(b.MinR2) || !finite(b.MinR2NM) ||
-				b.Wavelengths < 0 || b.Tested < 0 || b.Curved < 0 || b.Curved > b.Tested || b.Tested > b.Wavelengths ||
-				b.PeakNeighboursTested < 0 || b.PeakNeighboursTested > 2 || b.PeakNeighboursCurved < 0 ||
-				b.PeakNeighboursCurved > b.PeakNeighboursTested {
-				return bad("compound %q: a band linearity figure is out of range", c.Name)
-			}
-		}
-		for _, p := range l.Data {
-			if !finite(p.Conc) || !finite(p.Absorbance) {
-				return bad("compound %q: a calibration point is not finite", c.Name)
-			}
+		if err := c.validateLinearity(); err != nil {
+			return err
 		}
 	}
+	return nil
+}
+
+// validateLinearity checks the finite figures of c's calibration line
+// and the counts of its band test.
+func (c *Compound) validateLinearity() error {
+	l := c.Linearity
+	for _, v := range []float64{c.PeakNM, c.MinStandard, c.MaxStandard, l.Slope, l.Intercept, l.SlopeSE,
+		l.InterceptSE, l.R2, l.ResidualSD, l.RangeLo, l.RangeHi} {
+		if !finite(v) {
+			return invalid("compound %q: a linearity figure is %v", c.Name, v)
+		}
+	}
+	if l.Curved && l.CurvedUnconfirmed {
+		return invalid("compound %q: the line is marked both curved and curved unconfirmed", c.Name)
+	}
+	if b := l.Band; b != nil {
+		if !finite(b.LoNM) || !finite(b.HiNM) || !finite(b.MinR2) || !finite(b.MinR2NM) ||
+			b.Wavelengths < 0 || b.Tested < 0 || b.Curved < 0 || b.Curved > b.Tested || b.Tested > b.Wavelengths ||
+			b.PeakNeighboursTested < 0 || b.PeakNeighboursTested > 2 || b.PeakNeighboursCurved < 0 ||
+			b.PeakNeighboursCurved > b.PeakNeighboursTested {
+			return invalid("compound %q: a band linearity figure is out of range", c.Name)
+		}
+	}
+	for _, p := range l.Data {
+		if !finite(p.Conc) || !finite(p.Absorbance) {
+			return invalid("compound %q: a calibration point is not finite", c.Name)
+		}
+	}
+	return nil
+}
+
+// validateStandards checks the standards of the provenance: one finite,
+// non-negative concentration per compound.
+func (s *Set) validateStandards() error {
 	for i, st := range s.Provenance.Standards {
 		if len(st.Conc) != len(s.Compounds) {
-			return bad("standard %d (%s) has %d concentrations for %d compounds", i+1, st.File, len(st.Conc), len(s.Compounds))
+			return invalid("standard %d (%s) has %d concentrations for %d compounds", i+1, st.File, len(st.Conc), len(s.Compounds))
 		}
 		for _, v := range st.Conc {
 			if !finite(v) || v < 0 {
-				return bad("standard %d (%s) has concentration %v", i+1, st.File, v)
+				return invalid("standard %d (%s) has concentration %v", i+1, st.File, v)
 			}
 		}
 	}

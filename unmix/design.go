@@ -5,33 +5,159 @@ import (
 	"fmt"
 	"math"
 
-	"gonum.org/v1/gonum/blas"
-	"gonum.org/v1/gonum/blas/blas64"
-	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
 
+	"huesolve/baseline"
+	"huesolve/reference"
+	"huesolve/spectrum"
 	"huesolve/unmix/lsq"
 )
 
-// rankTol bounds the smallest diagonal element of R, relative to the
-// largest, below which the design's columns count as linearly dependent
-// (a few hundred times the float64 epsilon, so that only columns equal to
-// rounding are caught; milder collinearity is reported by the condition
-// number and FlagIllCond instead).
-const rankTol = 1e-13
+// Design is the fit design of a reference set on a window of its grid:
+// the rows kept, the compound columns b*eps and the nuisance columns of
+// the baseline model. It is the one builder of the design: NewModel fits
+// samples with it, and package validate computes the figures of merit
+// and window advice on it, so that both see the same rows and columns.
+// The weights come from the set's noise model (reference.Set.Sigma).
+type Design struct {
+	// Lo and Hi are the window [Lo, Hi) on the set grid; window row r is
+	// grid point Lo+r.
+	Lo, Hi int
+	// Rows are the window rows where every compound's absorptivity is
+	// usable (reference.Compound.Usable), increasing.
+	Rows []int
+	// Cols are the columns on the whole window (Hi-Lo values each): one
+	// per compound, path * absorptivity, then the baseline terms.
+	Cols [][]float64
+	// NonNeg marks the columns constrained to be >= 0 (the compounds and
+	// the scattering term).
+	NonNeg []bool
+	// NComp is the number of compound columns.
+	NComp int
+	// Terms are the names of the baseline columns.
+	Terms []string
+}
 
-// design is the fit for one set of rows (a mask): the solver, the
-// pseudo-inverse used for detection limits, the unconstrained estimate and
-// the shift step, and the conditioning figures.
+// WindowRange returns the window [lo, hi) of grid holding loNM..hiNM
+// (both 0: the whole grid), with a slack of spectrum.GridSlack of the
+// grid's span so that wavelengths rounded in files still match.
+func WindowRange(grid []float64, loNM, hiNM float64) (lo, hi int) {
+	if loNM == 0 && hiNM == 0 || len(grid) == 0 {
+		return 0, len(grid)
+	}
+	slack := spectrum.GridSlack * (grid[len(grid)-1] - grid[0])
+	return searchGE(grid, loNM-slack), searchGT(grid, hiNM+slack)
+}
+
+// UsableRows returns the rows of the window [lo, hi) of set's grid
+// (0 = lo) where every compound's absorptivity is usable
+// (reference.Compound.Usable; no marks: everywhere), increasing: the rows
+// a design keeps.
+func UsableRows(set *reference.Set, lo, hi int) []int {
+	g := set.Grid
+	var rows []int
+	for r := range hi - lo {
+		ok := true
+		for _, c := range set.Compounds {
+			if len(c.Usable) == len(g) && !c.Usable[lo+r] {
+				ok = false
+			}
+		}
+		if ok {
+			rows = append(rows, r)
+		}
+	}
+	return rows
+}
+
+// NewDesign builds the design of set (which must pass Validate) on the
+// window [lo, hi) of its grid, for a cell of pathCM and the baseline
+// model. Errors, without a package prefix, are those of model.Check on
+// the window's wavelengths and a baseline that gives columns of the
+// wrong sizes.
+func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM float64) (*Design, error) {
+	g := set.Grid
+	if lo < 0 || hi > len(g) || hi <= lo {
+		return nil, fmt.Errorf("window rows %d-%d of a %d-point grid: %w", lo, hi, len(g), ErrCoverage)
+	}
+	wl := g[lo:hi]
+	d := &Design{Lo: lo, Hi: hi, NComp: len(set.Compounds), Rows: UsableRows(set, lo, hi)}
+	for _, c := range set.Compounds {
+		col := make([]float64, len(wl))
+		for r := range wl {
+			col[r] = c.Absorptivity[lo+r] * pathCM
+		}
+		d.Cols = append(d.Cols, col)
+		d.NonNeg = append(d.NonNeg, true)
+	}
+	if err := model.Check(wl); err != nil {
+		return nil, err
+	}
+	bcols, bnn, bnames := model.Columns(wl)
+	if len(bcols) != len(bnn) || len(bcols) != len(bnames) {
+		return nil, fmt.Errorf("baseline %q gave %d columns, %d signs, %d names", model, len(bcols), len(bnn), len(bnames))
+	}
+	for j, c := range bcols {
+		if len(c) != len(wl) {
+			return nil, fmt.Errorf("baseline term %s has %d values for %d wavelengths", bnames[j], len(c), len(wl))
+		}
+	}
+	d.Cols = append(d.Cols, bcols...)
+	d.NonNeg = append(d.NonNeg, bnn...)
+	d.Terms = bnames
+	return d, nil
+}
+
+// Matrix returns the design on the given window rows (nil: d.Rows) as a
+// rows × columns matrix.
+func (d *Design) Matrix(rows []int) *mat.Dense {
+	if rows == nil {
+		rows = d.Rows
+	}
+	p := len(d.Cols)
+	x := mat.NewDense(len(rows), p, nil)
+	raw := x.RawMatrix()
+	for i, r := range rows {
+		row := raw.Data[i*raw.Stride : i*raw.Stride+p]
+		for j, c := range d.Cols {
+			row[j] = c[r]
+		}
+	}
+	return x
+}
+
+// design is the fit for one set of rows (a mask): the solver, which
+// keeps the pseudo-inverse for detection limits and the shift, and the
+// conditioning figures.
 type design struct {
 	rows   []int // window rows used, increasing
 	x      *mat.Dense
 	solver *lsq.Solver
-	// pinv is the p x n pseudo-inverse of the design (whitened by sigma
-	// when the fit is weighted), row-major: pinv[k*n+i].
-	pinv []float64
-	cond float64
-	leak []float64
+	cond   float64
+	leak   []float64
+}
+
+// visible returns errRank when a compound's column in x holds, to
+// rounding (lsq.RankTol), none of its spectrum: its norm is at most
+// RankTol times the norm of its column over the whole grid. The solver
+// scales columns to unit norm, so it would fit such a column; but what is
+// left of the compound is rounding, not signal (a scan so dark that only
+// the far tails of its band are read).
+func (sh *shared) visible(x *mat.Dense) error {
+	n, p := x.Dims()
+	tol := lsq.RankTol(n, p)
+	raw := x.RawMatrix()
+	for k := range sh.ncomp {
+		ss := 0.0
+		for i := range n {
+			v := raw.Data[i*raw.Stride+k]
+			ss += v * v
+		}
+		if math.Sqrt(ss) <= tol*sh.fullNorm[k] {
+			return fmt.Errorf("%w (%s absorbs nowhere on the points used)", errRank, sh.set.Compounds[k].Name)
+		}
+	}
+	return nil
 }
 
 // errRank reports linearly dependent columns.
@@ -44,88 +170,16 @@ func (sh *shared) buildDesign(rows []int, sigma []float64) (*design, error) {
 	if n < p+minDoF {
 		return nil, fmt.Errorf("%d usable points for %d coefficients", n, p)
 	}
-	x := mat.NewDense(n, p, nil)
-	raw := x.RawMatrix()
-	for i, r := range rows {
-		row := raw.Data[i*raw.Stride : i*raw.Stride+p]
-		for j, c := range sh.cols {
-			row[j] = c[r]
-		}
+	x := sh.design.Matrix(rows)
+	if err := sh.visible(x); err != nil {
+		return nil, err
 	}
-	opt := lsq.Options{}
-	if sigma != nil {
-		opt.Sigma = sigma
-	}
-	solver, err := lsq.NewSolver(x, sh.nonneg, opt)
+	solver, err := lsq.NewSolver(x, sh.nonneg, lsq.Options{Sigma: sigma, PseudoInverse: true})
 	if err != nil {
 		if errors.Is(err, lsq.ErrRankDeficient) {
 			return nil, fmt.Errorf("%w (%s)", errRank, err)
 		}
 		return nil, err
 	}
-	d := &design{rows: rows, x: x, solver: solver}
-	var xw *mat.Dense = x
-	if sigma != nil {
-		xw = mat.NewDense(n, p, nil)
-		wr := xw.RawMatrix()
-		for i := range n {
-			for j := range p {
-				wr.Data[i*wr.Stride+j] = raw.Data[i*raw.Stride+j] / sigma[i]
-			}
-		}
-	}
-	if d.pinv, err = pseudoInverse(xw); err != nil {
-		return nil, err
-	}
-	d.cond = solver.Cond()
-	d.leak = solver.Leakage()
-	return d, nil
-}
-
-// pseudoInverse returns the p x n pseudo-inverse of the full-column-rank
-// n x p matrix x, row-major, as R^-1 Q' from a thin Householder QR
-// (never through x'x).
-func pseudoInverse(x *mat.Dense) ([]float64, error) {
-	n, p := x.Dims()
-	a := mat.DenseCopyOf(x).RawMatrix()
-	tau := make([]float64, p)
-	work := make([]float64, 1)
-	lapack64.Geqrf(a, tau, work, -1)
-	lw := max(int(work[0]), n)
-	lapack64.Orgqr(a, tau, work, -1)
-	lw = max(lw, int(work[0]))
-	work = make([]float64, lw)
-	lapack64.Geqrf(a, tau, work, lw)
-
-	r := blas64.Triangular{Uplo: blas.Upper, Diag: blas.NonUnit, N: p, Stride: p, Data: make([]float64, p*p)}
-	dmax := 0.0
-	for i := range p {
-		for j := i; j < p; j++ {
-			r.Data[i*p+j] = a.Data[i*a.Stride+j]
-		}
-		dmax = math.Max(dmax, math.Abs(r.Data[i*p+i]))
-	}
-	for i := range p {
-		if !(math.Abs(r.Data[i*p+i]) > rankTol*dmax) {
-			return nil, errRank
-		}
-	}
-	if !lapack64.Trtri(r) {
-		return nil, errRank
-	}
-	lapack64.Orgqr(a, tau, work, lw) // a now holds the thin Q (n x p)
-	pinv := make([]float64, p*n)
-	for k := range p {
-		out := pinv[k*n : (k+1)*n]
-		for j := k; j < p; j++ {
-			rk := r.Data[k*p+j]
-			if rk == 0 {
-				continue
-			}
-			for i := range n {
-				out[i] += rk * a.Data[i*a.Stride+j]
-			}
-		}
-	}
-	return pinv, nil
+	return &design{rows: rows, x: x, solver: solver, cond: solver.Cond(), leak: solver.Leakage()}, nil
 }

@@ -12,20 +12,7 @@ import (
 	"huesolve/baseline"
 	"huesolve/reference"
 	"huesolve/unmix"
-)
-
-// Tolerances.
-const (
-	// rankTol bounds the singular values, relative to the largest, that
-	// are kept when projecting onto the span of other columns (each
-	// scaled to unit norm). Columns that are copies of each other up to
-	// rounding give singular values near 1e-16; real but poorly resolved
-	// compounds sit far above 1e-10.
-	rankTol = 1e-10
-	// noiseFloorFrac bounds how small a per-wavelength noise value may be
-	// relative to the median of the window: a wavelength where the
-	// calibration happened to fit exactly must not get infinite weight.
-	noiseFloorFrac = 1e-3
+	"huesolve/unmix/lsq"
 )
 
 // maxCond is the largest condition number reported: 1/ε for float64.
@@ -58,90 +45,76 @@ type design struct {
 	sigma    []float64 // noise SD per row (absorbance)
 }
 
-// usableRows returns the indices of grid points in [lo, hi] (lo = hi = 0:
-// the whole grid) where every compound is usable and the noise model is
-// finite.
+// usableRows returns the indices of grid points in [lo, hi] nm (lo = hi
+// = 0: the whole grid) that a design keeps: those unmix.UsableRows keeps
+// in the window unmix.WindowRange gives, as solve does.
 func usableRows(set *reference.Set, lo, hi float64) []int {
-	g := set.Grid
-	if lo == 0 && hi == 0 && len(g) > 0 {
-		lo, hi = g[0], g[len(g)-1]
+	i0, i1 := unmix.WindowRange(set.Grid, lo, hi)
+	if i1 <= i0 {
+		return nil
 	}
-	var idx []int
-	for i, w := range g {
-		if w < lo || w > hi {
-			continue
-		}
-		ok := true
-		for _, c := range set.Compounds {
-			if len(c.Usable) == len(g) && !c.Usable[i] {
-				ok = false
-				break
-			}
-			if a := c.Absorptivity[i]; math.IsNaN(a) || math.IsInf(a, 0) {
-				ok = false
-				break
-			}
-		}
-		if ok && len(set.Noise) == len(g) {
-			if n := set.Noise[i]; math.IsNaN(n) || math.IsInf(n, 0) || n < 0 {
-				ok = false
-			}
-		}
-		if ok {
-			idx = append(idx, i)
-		}
+	rows := unmix.UsableRows(set, i0, i1)
+	for r := range rows {
+		rows[r] += i0
 	}
-	return idx
+	return rows
 }
 
-// checkSet reports a set that cannot be worked with.
+// checkSet reports a set that cannot be worked with: nil, or failing the
+// one check of a set, reference.Set.Validate.
 func checkSet(set *reference.Set) error {
-	if set == nil || len(set.Compounds) == 0 {
-		return errors.New("validate: the reference set has no compounds")
+	if set == nil {
+		return errors.New("validate: no reference set")
 	}
-	for _, c := range set.Compounds {
-		if len(c.Absorptivity) != len(set.Grid) {
-			return fmt.Errorf("validate: compound %s has %d absorptivities for %d wavelengths", c.Name, len(c.Absorptivity), len(set.Grid))
-		}
+	if err := set.Validate(); err != nil {
+		return fmt.Errorf("validate: %w", err)
 	}
 	return nil
 }
 
-// newDesign builds the design on the rows idx of set. path is the path
-// length in cm; sigma > 0 replaces the set's noise model by a constant.
-func newDesign(set *reference.Set, idx []int, model baseline.Model, path, sigma float64) (*design, error) {
-	d := &design{idx: idx, wl: make([]float64, len(idx))}
-	for r, i := range idx {
-		d.wl[r] = set.Grid[i]
-	}
-	for _, c := range set.Compounds {
-		col := make([]float64, len(idx))
-		for r, i := range idx {
-			col[r] = path * c.Absorptivity[i]
-		}
-		d.comp = append(d.comp, col)
-	}
-	if len(d.wl) == 0 {
+// newDesign builds the design of set on the window loNM..hiNM (both 0:
+// the whole grid) with unmix.NewDesign, the builder solve uses, on the
+// rows it keeps. path is the path length in cm; sigma > 0 replaces the
+// set's noise model by a constant.
+func newDesign(set *reference.Set, loNM, hiNM float64, model baseline.Model, path, sigma float64) (*design, error) {
+	lo, hi := unmix.WindowRange(set.Grid, loNM, hiNM)
+	if hi <= lo {
 		return nil, ErrWindow
 	}
-	if err := model.Check(d.wl); err != nil {
-		return nil, fmt.Errorf("validate: baseline model on %g-%g nm: %w", d.wl[0], d.wl[len(d.wl)-1], err)
-	}
-	cols, _, names := model.Columns(d.wl)
-	d.nuis, d.nuisName = cols, names
-	s, err := noiseRows(set, idx, sigma, nil)
+	ud, err := unmix.NewDesign(set, lo, hi, model, path)
 	if err != nil {
+		return nil, fmt.Errorf("validate: baseline model on %g-%g nm: %w", set.Grid[lo], set.Grid[hi-1], err)
+	}
+	if len(ud.Rows) == 0 {
+		return nil, ErrWindow
+	}
+	d := &design{idx: make([]int, len(ud.Rows)), wl: make([]float64, len(ud.Rows)), nuisName: ud.Terms}
+	for r, w := range ud.Rows {
+		d.idx[r] = lo + w
+		d.wl[r] = set.Grid[lo+w]
+	}
+	for j, c := range ud.Cols {
+		col := make([]float64, len(ud.Rows))
+		for r, w := range ud.Rows {
+			col[r] = c[w]
+		}
+		if j < ud.NComp {
+			d.comp = append(d.comp, col)
+		} else {
+			d.nuis = append(d.nuis, col)
+		}
+	}
+	if d.sigma, err = noiseRows(set, d.idx, sigma, nil); err != nil {
 		return nil, err
 	}
-	d.sigma = s
 	return d, nil
 }
 
-// noiseRows returns the noise SD on rows idx: sigma if > 0, else the
-// set's noise model as solve uses it (unmix's sigma(l) = noise(l)
-// sqrt(1 + 10^(2 (A(l) - unmix.WeightKneeA)))) at the expected absorbance
-// absorb (nil: zero, a blank), floored at unmix.NoiseFloorAU and at
-// noiseFloorFrac times its median over the rows.
+// noiseRows returns the noise SD on the grid points idx: sigma if > 0,
+// else the set's noise model as solve uses it, reference.Set.Sigma (floor
+// included), at the expected absorbance absorb (nil: zero, a blank). A
+// set whose noise is missing or zero at most of the points has no usable
+// noise model (ErrNoNoise).
 func noiseRows(set *reference.Set, idx []int, sigma float64, absorb []float64) ([]float64, error) {
 	out := make([]float64, len(idx))
 	if sigma > 0 {
@@ -156,17 +129,15 @@ func noiseRows(set *reference.Set, idx []int, sigma float64, absorb []float64) (
 	for r, i := range idx {
 		out[r] = set.Noise[i]
 	}
-	med := median(out)
-	if !(med > 0) {
+	if !(median(out) > 0) {
 		return nil, ErrNoNoise
 	}
-	floor := math.Max(noiseFloorFrac*med, unmix.NoiseFloorAU)
-	for r, v := range out {
+	for r, i := range idx {
 		a := 0.0
 		if absorb != nil {
-			a = math.Max(absorb[r], 0)
+			a = absorb[r]
 		}
-		out[r] = math.Max(v, floor) * math.Sqrt(1+math.Exp(2*math.Ln10*(a-unmix.WeightKneeA)))
+		out[r] = set.Sigma(i, a)
 	}
 	return out, nil
 }
@@ -245,8 +216,9 @@ func (p *projector) reset(rows int, cols [][]float64, w []float64) error {
 	if !finiteSV(sv) {
 		return ErrSVD
 	}
+	tol := lsq.RankTol(rows, nz)
 	for _, s := range sv {
-		if s > rankTol*sv[0] {
+		if s > tol*sv[0] {
 			p.rank++
 		}
 	}
@@ -324,7 +296,7 @@ func condScaled(rows int, cols [][]float64, w []float64) (float64, bool, error) 
 	if !finiteSV(sv) {
 		return 0, false, ErrSVD
 	}
-	c, singular := clampCond(sv[0], sv[len(sv)-1])
+	c, singular := clampCond(sv[0], sv[len(sv)-1], lsq.RankTol(rows, k))
 	return c, singular, nil
 }
 
@@ -336,9 +308,10 @@ func finiteSV(sv []float64) bool {
 
 // clampCond turns extreme singular values into a condition number capped
 // at maxCond, and reports a singular design: smallest singular value at or
-// below rankTol times the largest (columns scaled to unit norm).
-func clampCond(smax, smin float64) (float64, bool) {
-	singular := !(smin > rankTol*smax)
+// below tol (lsq.RankTol of the design's size) times the largest (columns
+// scaled to unit norm).
+func clampCond(smax, smin, tol float64) (float64, bool) {
+	singular := !(smin > tol*smax)
 	if !(smin > 0) || smax/smin >= maxCond {
 		return maxCond, singular
 	}

@@ -85,8 +85,8 @@ type Merits struct {
 	// Cond is the condition number of the whole design (compounds and
 	// baseline terms, columns scaled to unit norm, weighted when
 	// Weighted), at most 1/ε; Singular is true when the smallest singular
-	// value is at or below 1e-10 of the largest (the columns are linearly
-	// dependent to rounding).
+	// value is at or below lsq.RankTol of the largest (the columns are
+	// linearly dependent to rounding).
 	Cond     float64 `json:"condition_number"`
 	Singular bool    `json:"singular"`
 	// MinSelectivity is the refusal threshold that was applied.
@@ -157,11 +157,11 @@ func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 	if minSel == 0 {
 		minSel = DefaultMinSelectivity
 	}
-	idx := usableRows(set, opt.WindowLo, opt.WindowHi)
-	d, err := newDesign(set, idx, opt.Baseline, path, opt.Sigma)
+	d, err := newDesign(set, opt.WindowLo, opt.WindowHi, opt.Baseline, path, opt.Sigma)
 	if err != nil {
 		return nil, err
 	}
+	idx := d.idx
 	ncol := len(d.comp) + len(d.nuis)
 	if len(idx) < ncol+1 {
 		return nil, fmt.Errorf("%w: %d in %g-%g nm for %d columns", ErrWindow, len(idx), opt.WindowLo, opt.WindowHi, ncol)

@@ -13,6 +13,8 @@ import (
 
 	"huesolve/baseline"
 	"huesolve/reference"
+	"huesolve/unmix"
+	"huesolve/unmix/lsq"
 )
 
 // Defaults of the window search.
@@ -174,135 +176,132 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 	if err := checkSet(set); err != nil {
 		return nil, err
 	}
-	s := &windowSearch{set: set, opt: opt}
-	if err := s.settings(); err != nil {
-		return nil, err
-	}
-	levels, err := windowLevels(set, opt.Levels)
+	ws, adv, err := newWindowSearch(set, opt)
 	if err != nil {
 		return nil, err
 	}
-	s.levels = levels
+	if err := ws.rows(); err != nil {
+		return nil, err
+	}
+	adv.Edges = ws.edges()
+	if len(ws.wl) == 0 {
+		return nil, fmt.Errorf("%w: every wavelength is above the ceiling at the levels", ErrWindow)
+	}
+	if err := opt.Baseline.Check(ws.wl); err != nil {
+		return nil, fmt.Errorf("validate: baseline model: %w", err)
+	}
+	if err := ws.candidates(adv); err != nil {
+		return nil, err
+	}
+	if err := rankWindows(adv); err != nil {
+		lo0, hi0 := set.Grid[ws.all[0]], set.Grid[ws.all[len(ws.all)-1]]
+		return nil, fmt.Errorf("%w (%d windows of %g nm or more in %g-%g nm tried)", err, len(adv.Candidates), ws.minW, lo0, hi0)
+	}
+	return adv, nil
+}
+
+// windowSearch is the state of one AdviseWindow: the settings with
+// defaults applied and the rows the windows are cut from.
+type windowSearch struct {
+	set              *reference.Set
+	opt              WindowOptions
+	path, step, minW float64
+	maxW             float64
+	levels           []float64
+	all              []int     // usable grid points in the search range
+	above            []bool    // per all: above the ceiling at the levels
+	keep             []int     // the points of all not above
+	wl               []float64 // their wavelengths
+	sigma            []float64 // per grid point: the noise model at the levels (kept points only)
+}
+
+// newWindowSearch applies the defaults of opt and checks them; it returns
+// the search and the advice with its settings filled in.
+func newWindowSearch(set *reference.Set, opt WindowOptions) (*windowSearch, *WindowAdvice, error) {
+	ws := &windowSearch{set: set, opt: opt, path: opt.PathCM, step: opt.StepNM, minW: opt.MinWidthNM, maxW: opt.MaxWidthNM}
+	if ws.path == 0 {
+		ws.path = set.PathCM
+	}
+	if !(ws.path > 0) || math.IsInf(ws.path, 0) {
+		return nil, nil, fmt.Errorf("validate: path length %g cm is not a positive number", ws.path)
+	}
+	if ws.step == 0 {
+		ws.step = DefaultStepNM
+	}
+	if ws.minW == 0 {
+		ws.minW = DefaultMinWidthNM
+	}
+	eq := opt.Equivalent
+	switch {
+	case eq == 0:
+		eq = DefaultEquivalent
+	case eq < 0:
+		eq = 0
+	}
+	step, minW, maxW := ws.step, ws.minW, ws.maxW
+	if !(step > 0) || math.IsInf(step, 0) || !(minW > 0) || math.IsInf(minW, 0) || math.IsNaN(eq) || math.IsInf(eq, 0) {
+		return nil, nil, fmt.Errorf("validate: window step %g nm, minimum width %g nm and margin %g must be positive and finite", step, minW, eq)
+	}
+	if maxW < 0 || math.IsNaN(maxW) || (maxW > 0 && maxW < minW) {
+		return nil, nil, fmt.Errorf("validate: maximum window width %g nm must be positive and at least the minimum %g nm", maxW, minW)
+	}
+	levels, err := windowLevels(set, opt.Levels)
+	if err != nil {
+		return nil, nil, err
+	}
+	ws.levels = levels
 	adv := &WindowAdvice{
-		Levels: levels, Baseline: opt.Baseline.String(), Weighted: opt.Weighted, PathCM: s.path,
-		StepNM: s.step, MinWidthNM: s.minW, MaxWidthNM: s.maxW, Equivalent: s.eq, Best: -1,
+		Levels: levels, Baseline: opt.Baseline.String(), Weighted: opt.Weighted, PathCM: ws.path,
+		StepNM: step, MinWidthNM: minW, MaxWidthNM: maxW, Equivalent: eq, Best: -1,
 	}
 	for _, c := range set.Compounds {
 		adv.Compounds = append(adv.Compounds, c.Name)
 		adv.Units = append(adv.Units, c.Unit)
 	}
-	if err := s.rows(adv); err != nil {
-		return nil, err
-	}
-	if err := s.scan(adv); err != nil {
-		return nil, err
-	}
-	if err := s.rank(adv); err != nil {
-		return nil, err
-	}
-	return adv, nil
+	return ws, adv, nil
 }
 
-// windowSearch is the state of one AdviseWindow.
-type windowSearch struct {
-	set *reference.Set
-	opt WindowOptions
-
-	// The options with their defaults.
-	path, step, minW, maxW, eq float64
-	levels                     []float64
-
-	all   []int     // usable grid rows in the search range
-	above []bool    // per all entry: expected absorbance above the ceiling
-	idx   []int     // the grid rows kept (not above)
-	wl    []float64 // their wavelengths
-	sigma []float64 // their noise
-	ncol  int       // columns of the design
-	lo0   float64   // the search range
-	hi0   float64
-}
-
-// settings fills in the path, edge step, widths and margin, and checks
-// them.
-func (s *windowSearch) settings() error {
-	opt := s.opt
-	s.path = opt.PathCM
-	if s.path == 0 {
-		s.path = s.set.PathCM
+// rows finds the usable points of the search range, those above the
+// ceiling at the levels, and the noise model at the others.
+func (ws *windowSearch) rows() error {
+	set := ws.set
+	ws.all = usableRows(set, ws.opt.Lo, ws.opt.Hi)
+	if len(ws.all) < 2 {
+		return fmt.Errorf("%w: %d", ErrWindow, len(ws.all))
 	}
-	if !(s.path > 0) || math.IsInf(s.path, 0) {
-		return fmt.Errorf("validate: path length %g cm is not a positive number", s.path)
-	}
-	s.step, s.minW, s.eq = opt.StepNM, opt.MinWidthNM, opt.Equivalent
-	if s.step == 0 {
-		s.step = DefaultStepNM
-	}
-	if s.minW == 0 {
-		s.minW = DefaultMinWidthNM
-	}
-	switch {
-	case s.eq == 0:
-		s.eq = DefaultEquivalent
-	case s.eq < 0:
-		s.eq = 0
-	}
-	s.maxW = opt.MaxWidthNM
-	step, minW, maxW, eq := s.step, s.minW, s.maxW, s.eq
-	if !(step > 0) || math.IsInf(step, 0) || !(minW > 0) || math.IsInf(minW, 0) || math.IsNaN(eq) || math.IsInf(eq, 0) {
-		return fmt.Errorf("validate: window step %g nm, minimum width %g nm and margin %g must be positive and finite", step, minW, eq)
-	}
-	if maxW < 0 || math.IsNaN(maxW) || (maxW > 0 && maxW < minW) {
-		return fmt.Errorf("validate: maximum window width %g nm must be positive and at least the minimum %g nm", maxW, minW)
-	}
-	return nil
-}
-
-// rows finds the usable rows in the search range, those whose expected
-// absorbance at the levels stays under the ceiling with their noise, and
-// the candidate edges.
-func (s *windowSearch) rows(adv *WindowAdvice) error {
-	set := s.set
-	// Rows: usable, in the search range.
-	s.all = usableRows(set, s.opt.Lo, s.opt.Hi)
-	if len(s.all) < 2 {
-		return fmt.Errorf("%w: %d", ErrWindow, len(s.all))
-	}
-	// Expected absorbance at the levels, for the ceiling.
-	s.above = make([]bool, len(s.all))
+	ws.above = make([]bool, len(ws.all))
 	var absorb []float64
-	for r, i := range s.all {
+	for r, i := range ws.all {
 		var a float64
 		for k, c := range set.Compounds {
-			a += s.path * c.Absorptivity[i] * s.levels[k]
+			a += ws.path * c.Absorptivity[i] * ws.levels[k]
 		}
-		s.above[r] = set.Ceiling > 0 && a > set.Ceiling
-		if !s.above[r] {
-			s.idx = append(s.idx, i)
+		ws.above[r] = set.Ceiling > 0 && a > set.Ceiling
+		if !ws.above[r] {
+			ws.keep = append(ws.keep, i)
+			ws.wl = append(ws.wl, set.Grid[i])
 			absorb = append(absorb, a)
 		}
 	}
-	s.lo0, s.hi0 = set.Grid[s.all[0]], set.Grid[s.all[len(s.all)-1]]
-	adv.Edges = windowEdges(s.lo0, s.hi0, s.step)
-	if len(s.idx) == 0 {
-		return fmt.Errorf("%w: every wavelength is above the ceiling at the levels", ErrWindow)
+	if len(ws.keep) == 0 {
+		return nil
 	}
-	s.wl = make([]float64, len(s.idx))
-	for r, i := range s.idx {
-		s.wl[r] = set.Grid[i]
-	}
-	var err error
-	if s.sigma, err = noiseRows(set, s.idx, s.opt.Sigma, absorb); err != nil {
+	sigma, err := noiseRows(set, ws.keep, ws.opt.Sigma, absorb)
+	if err != nil {
 		return err
 	}
-	if err := s.opt.Baseline.Check(s.wl); err != nil {
-		return fmt.Errorf("validate: baseline model: %w", err)
+	ws.sigma = make([]float64, len(set.Grid))
+	for r, i := range ws.keep {
+		ws.sigma[i] = sigma[r]
 	}
-	s.ncol = len(set.Compounds) + s.opt.Baseline.NumColumns()
 	return nil
 }
 
-// windowEdges are the edges every step from lo0, with hi0 as the last.
-func windowEdges(lo0, hi0, step float64) []float64 {
+// edges are the candidate window edges: every step from the first usable
+// point, and the last usable point.
+func (ws *windowSearch) edges() []float64 {
+	lo0, hi0 := ws.set.Grid[ws.all[0]], ws.set.Grid[ws.all[len(ws.all)-1]]
+	step := ws.step
 	var edges []float64
 	for k := 0; ; k++ {
 		e := lo0 + float64(k)*step
@@ -317,29 +316,42 @@ func windowEdges(lo0, hi0, step float64) []float64 {
 	return edges
 }
 
-// scan evaluates every window between two edges of the allowed widths
-// with enough points, into adv.Candidates.
-func (s *windowSearch) scan(adv *WindowAdvice) error {
-	slack := edgeSlack * s.step
-	ws := newWindowWork(len(s.idx), s.ncol)
+// candidates evaluates every window between two edges of the allowed
+// widths that keeps more points than columns into adv.Candidates.
+func (ws *windowSearch) candidates(adv *WindowAdvice) error {
+	set, step := ws.set, ws.step
+	ncol := len(set.Compounds) + ws.opt.Baseline.NumColumns()
+	work := newWindowWork(len(ws.keep), ncol)
 	for a, lo := range adv.Edges {
 		for b := a + 1; b < len(adv.Edges); b++ {
 			hi := adv.Edges[b]
-			if hi-lo < s.minW-slack {
+			if hi-lo < ws.minW-edgeSlack*step {
 				continue
 			}
-			if s.maxW > 0 && hi-lo > s.maxW+slack {
+			if ws.maxW > 0 && hi-lo > ws.maxW+edgeSlack*step {
 				break
 			}
-			// Rows of the window: wl within [lo, hi] (up to edgeSlack).
-			r0 := sort.SearchFloat64s(s.wl, lo-slack)
-			r1 := sort.SearchFloat64s(s.wl, hi+slack)
-			if r1-r0 < s.ncol+1 {
+			// Points of the window: wavelengths within [lo, hi] (up to edgeSlack).
+			r0 := sort.SearchFloat64s(ws.wl, lo-edgeSlack*step)
+			r1 := sort.SearchFloat64s(ws.wl, hi+edgeSlack*step)
+			if r1-r0 < ncol+1 {
 				continue
 			}
-			cand, err := s.candidate(ws, lo, hi, r0, r1)
-			if err != nil {
-				return err
+			cand := Candidate{Lo: lo, Hi: hi, Points: r1 - r0}
+			for r, i := range ws.all {
+				if ws.above[r] && set.Grid[i] >= lo-edgeSlack*step && set.Grid[i] <= hi+edgeSlack*step {
+					cand.Dropped++
+				}
+			}
+			if err := work.evaluate(&cand, ws, ws.keep[r0:r1]); err != nil {
+				return fmt.Errorf("validate: window %g-%g nm: %w", lo, hi, err)
+			}
+			if !cand.Singular {
+				for k := range cand.SE {
+					cand.RelSE = append(cand.RelSE, cand.SE[k]/ws.levels[k])
+				}
+				w := floats.MaxIdx(cand.RelSE)
+				cand.Worst, cand.WorstCompound = cand.RelSE[w], set.Compounds[w].Name
 			}
 			adv.Candidates = append(adv.Candidates, cand)
 		}
@@ -347,37 +359,16 @@ func (s *windowSearch) scan(adv *WindowAdvice) error {
 	return nil
 }
 
-// candidate evaluates the window lo-hi nm, whose kept rows are r0 to r1.
-func (s *windowSearch) candidate(ws *windowWork, lo, hi float64, r0, r1 int) (Candidate, error) {
-	set, slack := s.set, edgeSlack*s.step
-	cand := Candidate{Lo: lo, Hi: hi, Points: r1 - r0}
-	for r, i := range s.all {
-		if s.above[r] && set.Grid[i] >= lo-slack && set.Grid[i] <= hi+slack {
-			cand.Dropped++
-		}
-	}
-	if err := ws.evaluate(&cand, set, s.idx[r0:r1], s.wl[r0:r1], s.sigma[r0:r1], s.opt.Baseline, s.path, s.opt.Weighted); err != nil {
-		return cand, fmt.Errorf("validate: window %g-%g nm: %w", lo, hi, err)
-	}
-	if !cand.Singular {
-		for k := range cand.SE {
-			cand.RelSE = append(cand.RelSE, cand.SE[k]/s.levels[k])
-		}
-		w := floats.MaxIdx(cand.RelSE)
-		cand.Worst, cand.WorstCompound = cand.RelSE[w], set.Compounds[w].Name
-	}
-	return cand, nil
-}
-
-// rank orders the candidates that are not singular and picks the best.
-func (s *windowSearch) rank(adv *WindowAdvice) error {
+// rankWindows ranks the candidates that are not singular and picks the
+// recommended one; ErrNoWindow when every candidate is singular.
+func rankWindows(adv *WindowAdvice) error {
 	for i, c := range adv.Candidates {
 		if !c.Singular {
 			adv.Ranked = append(adv.Ranked, i)
 		}
 	}
 	if len(adv.Ranked) == 0 {
-		return fmt.Errorf("%w (%d windows of %g nm or more in %g-%g nm tried)", ErrNoWindow, len(adv.Candidates), s.minW, s.lo0, s.hi0)
+		return ErrNoWindow
 	}
 	sort.SliceStable(adv.Ranked, func(i, j int) bool {
 		a, b := adv.Candidates[adv.Ranked[i]], adv.Candidates[adv.Ranked[j]]
@@ -389,15 +380,16 @@ func (s *windowSearch) rank(adv *WindowAdvice) error {
 	// Among windows within the margin of the smallest worst error, a
 	// better conditioned one is preferred only when it improves the
 	// condition number by more than the same margin.
+	eq := adv.Equivalent
 	first := adv.Candidates[adv.Ranked[0]]
-	limit := first.Worst * (1 + s.eq)
+	limit := first.Worst * (1 + eq)
 	adv.Best = adv.Ranked[0]
 	for _, i := range adv.Ranked {
 		c := adv.Candidates[i]
 		if c.Worst > limit {
 			break
 		}
-		if c.Cond*(1+s.eq) < first.Cond && c.Cond < adv.Candidates[adv.Best].Cond {
+		if c.Cond*(1+eq) < first.Cond && c.Cond < adv.Candidates[adv.Best].Cond {
 			adv.Best = i
 		}
 	}
@@ -436,6 +428,7 @@ type windowWork struct {
 	u, v mat.Dense
 	h    []float64
 	g    []float64
+	rows []int
 }
 
 func newWindowWork(maxRows, ncol int) *windowWork {
@@ -447,28 +440,39 @@ func newWindowWork(maxRows, ncol int) *windowWork {
 	}
 }
 
-// evaluate fills c.Cond, c.Singular and c.SE for the rows idx of set
-// (wavelengths wl, noise sigma); ErrSVD when the factorization fails.
+// evaluate fills c.Cond, c.Singular and c.SE for the window [c.Lo, c.Hi]
+// fitted on the grid points keep (those of the window not above the
+// ceiling); ErrSVD when the factorization fails. The design is solve's,
+// unmix.NewDesign on the window (baseline terms over the whole window),
+// on those points.
 //
 // With X the design (weighted by 1/σ when weighted), D its column norms
 // and X D⁻¹ = U S Vᵀ, the coefficient of compound n is c_n = g·y / d_n with
 // g = U S⁻¹ Vᵀ e_n, so its variance is Σ g_i² σ_i² / d_n² (unweighted) or
 // ||S⁻¹ Vᵀ e_n||² / d_n² (weighted: whitened noise has unit variance).
-func (ws *windowWork) evaluate(c *Candidate, set *reference.Set, idx []int, wl, sigma []float64, model baseline.Model, path float64, weighted bool) error {
-	m := len(idx)
-	nuis, _, _ := model.Columns(wl)
-	ncol := len(set.Compounds) + len(nuis)
+func (ws *windowWork) evaluate(c *Candidate, s *windowSearch, keep []int) error {
+	set, weighted := s.set, s.opt.Weighted
+	slack := edgeSlack * s.step
+	i0 := sort.SearchFloat64s(set.Grid, c.Lo-slack)
+	i1 := sort.SearchFloat64s(set.Grid, c.Hi+slack)
+	ud, err := unmix.NewDesign(set, i0, i1, s.opt.Baseline, s.path)
+	if err != nil {
+		return err
+	}
+	rows := ws.rows[:0]
+	for _, i := range keep {
+		rows = append(rows, i-i0)
+	}
+	ws.rows = rows
+	m, ncol := len(rows), len(ud.Cols)
 	x := mat.NewDense(m, ncol, ws.buf[:m*ncol])
-	for r, i := range idx {
+	for r, w := range rows {
 		row := x.RawRowView(r)
-		for k, comp := range set.Compounds {
-			row[k] = path * comp.Absorptivity[i]
-		}
-		for j, col := range nuis {
-			row[len(set.Compounds)+j] = col[r]
+		for j, col := range ud.Cols {
+			row[j] = col[w]
 		}
 		if weighted {
-			floats.Scale(1/sigma[r], row)
+			floats.Scale(1/s.sigma[i0+w], row)
 		}
 	}
 	norm := ws.norm[:ncol]
@@ -501,7 +505,7 @@ func (ws *windowWork) evaluate(c *Candidate, set *reference.Set, idx []int, wl, 
 	if !finiteSV(sv) {
 		return ErrSVD
 	}
-	c.Cond, c.Singular = clampCond(sv[0], sv[len(sv)-1])
+	c.Cond, c.Singular = clampCond(sv[0], sv[len(sv)-1], lsq.RankTol(m, ncol))
 	if c.Singular {
 		return nil
 	}
@@ -524,7 +528,8 @@ func (ws *windowWork) evaluate(c *Candidate, set *reference.Set, idx []int, wl, 
 		var vsum float64
 		for r := 0; r < m; r++ {
 			gi := floats.Dot(ws.u.RawRowView(r), h)
-			vsum += gi * gi * sigma[r] * sigma[r]
+			sr := s.sigma[keep[r]]
+			vsum += gi * gi * sr * sr
 		}
 		c.SE[n] = math.Sqrt(vsum) / norm[n]
 	}

@@ -60,6 +60,9 @@ type Options struct {
 	// MaxIter caps active-set iterations; 0 means the package default,
 	// which scales with the number of columns ([IterPerColumn] per column).
 	MaxIter int
+	// PseudoInverse keeps the pseudo-inverse of the design for
+	// [Solver.PseudoInverseRow] (p n numbers, O(n p^2) flops at set-up).
+	PseudoInverse bool
 }
 
 // Result holds one solve. Slices are reused when the same Result is

@@ -41,16 +41,20 @@ func (v Verdict) String() string {
 // [Solver.VIF], [Solver.Leakage]).
 const (
 	// CondWarn: condition numbers (condition indexes) of a column-scaled
-	// design above 30 mark moderate, above 100 strong near-dependences
+	// design above 30 signal moderate to strong near-dependences
 	// (Belsley, Kuh & Welsch, Regression Diagnostics, Wiley 1980; recalled
-	// from memory). Warn above 100.
-	CondWarn = 100.0
+	// from memory). Two unit columns at condition 30 correlate at 0.998,
+	// inflating variances about 250-fold. The project's one warning
+	// limit: solve flags a sample's design above it (unmix.CondLimit) and
+	// calibrate warns about a concentration design above it.
+	CondWarn = 30.0
 	// CondRefuse: relative errors in the data can be amplified up to
 	// Cond times in the coefficients (first-order perturbation bound);
-	// at 1e6 a relative noise of 1e-4, typical of a good absorbance
-	// reading, may become a relative error of 100 in a coefficient
-	// (common practice).
-	CondRefuse = 1e6
+	// beyond 1e3 an absorbance noise of 0.001 becomes an uncertainty of
+	// the order of a whole absorbance unit. The project's one refusal
+	// limit (a project choice): calibrate refuses a concentration design
+	// above it.
+	CondRefuse = 1e3
 	// VIFWarn: a variance inflation factor above 10 is the usual rule of
 	// thumb for serious collinearity (common practice; Marquardt 1970,
 	// recalled from memory).

@@ -37,11 +37,7 @@ const (
 	// problems with a degenerate start still have room.
 	minIter = 10
 
-	// rankEpsFactor: a design whose smallest singular value (column-scaled
-	// and weighted) is at most rankEpsFactor * max(rows, cols) * eps times
-	// the largest is rank deficient. This is the usual numerical-rank rule
-	// (Golub & Van Loan, Matrix Computations, section 5.4; the default of
-	// numpy.linalg.matrix_rank; recalled from memory).
+	// rankEpsFactor scales the numerical-rank rule of [RankTol].
 	rankEpsFactor = 1.0
 
 	// nullShare: a column is named in a RankError when its entry in a null
@@ -52,6 +48,19 @@ const (
 
 // eps is the float64 machine epsilon (unit roundoff times two).
 const eps = 0x1p-52
+
+// RankTol is the project's one rank tolerance: a design of rows × cols
+// whose columns are scaled to unit norm (and rows weighted) is rank
+// deficient when its smallest singular value is at most RankTol(rows,
+// cols) times the largest, that is max(rows, cols) * eps. This is the
+// usual numerical-rank rule (Golub & Van Loan, Matrix Computations,
+// section 5.4; the default of numpy.linalg.matrix_rank; recalled from
+// memory): only columns dependent to rounding are caught, milder
+// collinearity is graded by the condition number ([CondWarn],
+// [CondRefuse]). lsq, unmix, validate and reference all use it.
+func RankTol(rows, cols int) float64 {
+	return rankEpsFactor * float64(max(rows, cols)) * eps
+}
 
 // safeMin and safeMax bound a 2-norm computed as the square root of a
 // plain sum of squares: inside them no square underflowed to lose
@@ -75,6 +84,7 @@ type factor struct {
 	r        []float64 // p×p upper-triangular R, row-major, factor order
 	rss      []float64 // nn×nn copy of R_SS
 	rinvRow2 []float64 // squared row norms of R^-1, factor order: diag((X_s'X_s)^-1)
+	pinv     []float64 // p×n pseudo-inverse D^-1 R^-1 Q' W^(1/2), original order; empty unless asked
 	d        []float64 // column scales, original order
 	invSigma []float64 // nil when unweighted
 
@@ -169,8 +179,47 @@ func grow[T any](buf []T, n int) []T {
 	return make([]T, n)
 }
 
-// setup fills f for the design x; see NewSolver.
+// setup fills f for the design x; see NewSolver. Each step is one
+// method, in order: check and copy the input, scale the columns, order
+// them free first, factor (QR, singular values, rank), and derive the
+// products each solve uses and the conditioning figures.
 func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
+	if err := f.load(x, nonneg, opt); err != nil {
+		return err
+	}
+	if err := f.scaleColumns(); err != nil {
+		return err
+	}
+	if f.n < f.p {
+		all := make([]int, f.p)
+		for j := range all {
+			all[j] = j
+		}
+		return &RankError{Columns: all, Cond: math.Inf(1), Rows: f.n, Cols: f.p}
+	}
+	f.order()
+	a := f.factorQR()
+	if err := f.singularValues(); err != nil {
+		return err
+	}
+	f.products(a)
+	f.diagnostics()
+	f.pseudoInverse(opt.PseudoInverse)
+
+	f.tol = opt.Tol
+	if f.tol == 0 {
+		f.tol = DefaultTol
+	}
+	f.maxIter = opt.MaxIter
+	if f.maxIter == 0 {
+		f.maxIter = max(IterPerColumn*f.p, minIter)
+	}
+	return nil
+}
+
+// load checks the sizes and values of the input and copies the design
+// (column-major) and the inverse noise levels into f.
+func (f *factor) load(x *mat.Dense, nonneg []bool, opt Options) error {
 	n, p := x.Dims()
 	if n == 0 || p == 0 {
 		return fmt.Errorf("lsq: empty design (%d×%d): %w", n, p, ErrShape)
@@ -212,7 +261,13 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 	if len(f.invSigma) == 0 {
 		f.invSigma = nil
 	}
-	// Column scales of the weighted design (overflow-safe 2-norms).
+	return nil
+}
+
+// scaleColumns sets the column scales of the weighted design
+// (overflow-safe 2-norms); a zero column is a RankError.
+func (f *factor) scaleColumns() error {
+	n, p := f.n, f.p
 	f.d = grow(f.d, p)
 	f.invD = grow(f.invD, p)
 	f.wcol = grow(f.wcol, n)
@@ -237,29 +292,33 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 		f.d[j] = d
 		f.invD[j] = 1 / d
 	}
-	if n < p {
-		all := make([]int, p)
-		for j := range all {
-			all[j] = j
-		}
-		return &RankError{Columns: all, Cond: math.Inf(1), Rows: n, Cols: p}
-	}
-	// Free columns first, then the non-negative ones, each in original order.
+	return nil
+}
+
+// order puts the free columns first, then the non-negative ones, each in
+// original order (f.perm, f.nf, f.nn).
+func (f *factor) order() {
+	p := f.p
 	f.perm = grow(f.perm, p)[:0]
 	for j := range p {
-		if !nonneg[j] {
+		if !f.nonneg[j] {
 			f.perm = append(f.perm, j)
 		}
 	}
 	f.nf = len(f.perm)
 	for j := range p {
-		if nonneg[j] {
+		if f.nonneg[j] {
 			f.perm = append(f.perm, j)
 		}
 	}
 	f.nn = p - f.nf
+}
 
-	// Scaled weighted design in factor order, row-major n×p.
+// factorQR takes the thin QR of the scaled weighted design in factor
+// order: R into f.r, and the thin Q (row-major n×p) in the returned
+// slice, which is f.qa.
+func (f *factor) factorQR() []float64 {
+	n, p := f.n, f.p
 	a := grow(f.qa, n*p)
 	f.qa = a
 	for k, j := range f.perm {
@@ -290,9 +349,15 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 		}
 	}
 	lapack64.Orgqr(A, f.tau, f.work, lwork)
+	return a
+}
 
-	// Singular values of R (those of X_s), without vectors; the null
-	// vectors are computed only for the error report.
+// singularValues computes the singular values of R (those of X_s),
+// without vectors, sets the norm and condition number, and returns a
+// RankError when the design is numerically rank deficient (see RankTol);
+// the null vectors are computed only for that error.
+func (f *factor) singularValues() error {
+	n, p := f.n, f.p
 	f.sv = grow(f.sv, p)
 	f.svA = grow(f.svA, p*p)
 	copy(f.svA, f.r)
@@ -309,11 +374,16 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 	f.normXs = sv[0]
 	smin := sv[p-1]
 	f.cond = sv[0] / smin
-	if smin <= rankEpsFactor*float64(max(n, p))*eps*sv[0] {
+	if smin <= RankTol(n, p)*sv[0] {
 		return f.rankError()
 	}
+	return nil
+}
 
-	// Q' W^(1/2), stored by rows of Q'.
+// products stores what each solve uses: Q' W^(1/2) by rows of Q' (from
+// the thin Q in a), the gradient rows in original order, and R_SS.
+func (f *factor) products(a []float64) {
+	n, p := f.n, f.p
 	f.qtw = grow(f.qtw, p*n)
 	for k := range p {
 		row := f.qtw[k*n : (k+1)*n]
@@ -338,14 +408,18 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 			floats.ScaleTo(g, f.invD[j], f.x[j*n:(j+1)*n])
 		}
 	}
-	// R_SS.
 	f.rss = grow(f.rss, f.nn*f.nn)
 	for i := range f.nn {
 		for j := range f.nn {
 			f.rss[i*f.nn+j] = f.r[(f.nf+i)*p+f.nf+j]
 		}
 	}
-	// diag((X_s'X_s)^-1) = squared row norms of R^-1.
+}
+
+// diagnostics leaves R^-1 in f.svA and sets diag((X_s'X_s)^-1) (the
+// squared row norms of R^-1), the VIF and the leakage of each column.
+func (f *factor) diagnostics() {
+	p := f.p
 	f.rinvRow2 = grow(f.rinvRow2, p)
 	triInv(f.svA, f.r, p, p)
 	rowNorms2(f.rinvRow2, f.svA, p)
@@ -367,16 +441,30 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 		}
 		f.leak[j] = math.Sqrt(proj / all)
 	}
+}
 
-	f.tol = opt.Tol
-	if f.tol == 0 {
-		f.tol = DefaultTol
+// pseudoInverse sets f.pinv, when asked (else empty), to the p×n matrix
+// P = D^-1 R^-1 Q' W^(1/2) in original column order, row-major: the
+// unconstrained (weighted) least-squares estimate is b_u = P y, so row j
+// gives coefficient j's response to each reading. It needs R^-1 in f.svA
+// (diagnostics).
+func (f *factor) pseudoInverse(want bool) {
+	n, p := f.n, f.p
+	if !want {
+		f.pinv = f.pinv[:0]
+		return
 	}
-	f.maxIter = opt.MaxIter
-	if f.maxIter == 0 {
-		f.maxIter = max(IterPerColumn*p, minIter)
+	f.pinv = grow(f.pinv, p*n)
+	clear(f.pinv)
+	for k, j := range f.perm {
+		out := f.pinv[j*n : (j+1)*n]
+		for m := k; m < p; m++ {
+			if v := f.svA[k*p+m]; v != 0 {
+				floats.AddScaled(out, v, f.qtw[m*n:(m+1)*n])
+			}
+		}
+		floats.Scale(f.invD[j], out)
 	}
-	return nil
 }
 
 // rankError builds the RankError of a numerically rank-deficient design
@@ -393,7 +481,7 @@ func (f *factor) rankError() error {
 	svd.VTo(&v)
 	in := make([]bool, p)
 	for c := range p {
-		if sv[c] > rankEpsFactor*float64(max(n, p))*eps*sv[0] {
+		if sv[c] > RankTol(n, p)*sv[0] {
 			continue
 		}
 		vmax := 0.0
@@ -495,6 +583,21 @@ func (s *Solver) Sensitivity() []float64 {
 		out[j] = s.f.d[j] / math.Sqrt(s.f.vif[j])
 	}
 	return out
+}
+
+// PseudoInverseRow returns row j of the pseudo-inverse P = (W^(1/2) X)^+
+// W^(1/2) of the design, whose product with y is the unconstrained
+// (weighted) least-squares estimate of coefficient j: the coefficient's
+// response to each reading, so that its standard deviation under
+// independent noise sigma_i is sqrt(sum (P_ji sigma_i)^2) (a detection
+// limit). It is nil unless the Solver was made with
+// Options.PseudoInverse. The slice is a view: do not modify it.
+func (s *Solver) PseudoInverseRow(j int) []float64 {
+	if len(s.f.pinv) == 0 {
+		return nil
+	}
+	n := s.f.n
+	return s.f.pinv[j*n : (j+1)*n : (j+1)*n]
 }
 
 // Scales returns the column scales d_j = ||W^(1/2) x_j||, the norms the

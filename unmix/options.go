@@ -1,0 +1,164 @@
+package unmix
+
+import (
+	"errors"
+	"fmt"
+
+	"huesolve/baseline"
+	"huesolve/reference"
+	"huesolve/spectrum"
+	"huesolve/unmix/lsq"
+)
+
+// Defaults and limits. Each tolerance says what it bounds.
+const (
+	// DefaultMaxShiftNM is the shift limit when Options.MaxShiftNM is 0.
+	DefaultMaxShiftNM = 3.0
+	// DefaultCeiling is the absorbance ceiling when neither the options
+	// nor the reference set give one: reference.DefaultCeiling (about 2
+	// by common practice: above it stray light bends the response).
+	DefaultCeiling = reference.DefaultCeiling
+	// NoiseFloorAU is the floor of the noise model, defined once in
+	// package reference (see reference.Set.Sigma).
+	NoiseFloorAU = reference.NoiseFloorAU
+	// WeightKneeA is the knee of the noise model, defined once in
+	// package reference (see reference.Set.Sigma).
+	WeightKneeA = reference.WeightKneeA
+	// DropLimitFrac is the fraction of window points above the ceiling
+	// beyond which the sample is flagged FlagDilute.
+	DropLimitFrac = 0.05
+	// PoorFitChiSq is the reduced chi-square above which a fit is flagged
+	// FlagMisfit: the residual's RMS is more than twice the expected
+	// noise. (With 100 or more degrees of freedom a correct noise model
+	// gives chi-square above 1.5 with probability below 1e-4; the factor
+	// 4 leaves room for an imperfect noise model.) It is the fit
+	// verdict's limit, lsq.ChiSqSevere.
+	PoorFitChiSq = lsq.ChiSqSevere
+	// PatternDW is the Durbin-Watson statistic below which a residual is
+	// flagged FlagPattern. White residuals give about 2 +- 2/sqrt(n)
+	// (Durbin & Watson 1950); 1 is far below that for n >= 50 and is still
+	// reached by mildly correlated instrument noise only rarely. Not
+	// applied when the reference set's pre-treatment includes
+	// Savitzky-Golay smoothing or a derivative: the filter makes
+	// neighbouring residuals correlated, so even a perfect fit reads far
+	// below 2 (see Model.DurbinWatsonFlagged). It is the fit verdict's
+	// limit, lsq.DWSevere.
+	PatternDW = lsq.DWSevere
+	// CondLimit is the condition number (unit-norm columns) above which
+	// the design is flagged FlagIllCond: the project's warning limit,
+	// lsq.CondWarn (condition indexes above 30 signal moderate to strong
+	// dependence).
+	CondLimit = lsq.CondWarn
+	// LeakLimit: a compound whose spectrum keeps less than this fraction
+	// of its norm after projecting out the baseline terms is flagged
+	// FlagMimic: the baseline terms then reproduce more than 3/4 of its
+	// sum of squares (common practice). It is lsq.LeakageWarn.
+	LeakLimit = lsq.LeakageWarn
+	// ShiftTolNM ends the shift iteration when a step is smaller.
+	ShiftTolNM = 1e-3
+	// ShiftMaxIter caps the shift iterations.
+	ShiftMaxIter = 12
+	// ShiftNoteNM is the smallest estimated shift that is flagged
+	// FlagShift: smaller shifts are within what wavelength settings of
+	// UV-Vis instruments repeat to (about 0.1 nm, common practice).
+	ShiftNoteNM = 0.1
+	// ShiftSigmas: a shift is applied (and may be flagged) only when it
+	// is more than this many standard errors of its estimate
+	// (Result.ShiftSE) away from zero, so that noise alone moves a
+	// sample with a probability near 5 % (two-sided normal quantile
+	// 1.96, rounded up). A nearly blank sample, whose estimate wanders
+	// with a standard error of several nm, is left unshifted.
+	ShiftSigmas = 2.0
+	// LODFactor and LOQFactor multiply sigma / sensitivity (ICH Q2).
+	LODFactor = 3.3
+	LOQFactor = 10.0
+	// minDoF is the fewest residual degrees of freedom a fit may have.
+	minDoF = 2
+	// maskCacheSize bounds the designs cached per model clone.
+	maskCacheSize = 64
+)
+
+// Options describe the sample model. Zero values mean the documented
+// defaults.
+type Options struct {
+	// WindowLo, WindowHi crop the fit to a wavelength window (nm); both 0
+	// means the whole reference grid.
+	WindowLo, WindowHi float64
+	// Baseline chooses the nuisance terms.
+	Baseline baseline.Model
+	// Weighted weights points by the reference set's noise model, with
+	// noise growing as 10^A at high absorbance.
+	Weighted bool
+	// Shift estimates a small wavelength shift of the sample, limited to
+	// +-MaxShiftNM (default 3 nm).
+	Shift      bool
+	MaxShiftNM float64
+	// Ceiling overrides the reference set's absorbance ceiling (0: use the set's).
+	Ceiling float64
+	// Blank, if not nil, is subtracted from every sample (absorbance).
+	Blank *spectrum.Spectrum
+	// KeepCurves fills the plot curves of each Result (Grid, Measured,
+	// ...). Off, a solve allocates only the Result itself.
+	KeepCurves bool
+}
+
+// Factors are per-sample: dilution factor (1 if 0) and path length in cm
+// (the reference set's if 0).
+type Factors struct {
+	Dilution float64
+	PathCM   float64
+}
+
+// Plausible per-sample factors. A path or dilution outside these bounds
+// is almost surely a typing slip (a unit or an exponent wrong), and so
+// far out that the scaled amounts could overflow to infinity: Solve
+// refuses it rather than report amounts no one can use.
+const (
+	// MinPathCM and MaxPathCM bound the cell path length in cm: 1 µm
+	// (thinner than any demountable cell) to 1 m (longer than any
+	// long-path cell used for liquids).
+	MinPathCM = 1e-4
+	MaxPathCM = 100
+	// MinDilution and MaxDilution bound the dilution factor: a
+	// millionfold concentration to a billionfold dilution.
+	MinDilution = 1e-6
+	MaxDilution = 1e9
+)
+
+// CheckFactors returns an error wrapping ErrFactor when a non-zero
+// factor of f lies outside [MinDilution, MaxDilution] or
+// [MinPathCM, MaxPathCM], or is not a number. Zero fields (defaults)
+// pass.
+func CheckFactors(f Factors) error {
+	if f.Dilution != 0 && !(f.Dilution >= MinDilution && f.Dilution <= MaxDilution) {
+		return fmt.Errorf("%w: dilution factor %g is outside %g to %g", ErrFactor, f.Dilution, float64(MinDilution), float64(MaxDilution))
+	}
+	if f.PathCM != 0 && !(f.PathCM >= MinPathCM && f.PathCM <= MaxPathCM) {
+		return fmt.Errorf("%w: path length %g cm is outside %g to %g cm", ErrFactor, f.PathCM, float64(MinPathCM), float64(MaxPathCM))
+	}
+	return nil
+}
+
+// windowError is NewModel's error for a window that reaches outside the
+// reference grid: its message names the window as the cause, and it is
+// ErrCoverage for errors.Is.
+type windowError struct{ msg string }
+
+func (e *windowError) Error() string        { return e.msg }
+func (e *windowError) Is(target error) bool { return target == ErrCoverage }
+
+// Errors returned by NewModel and Solve, tested with errors.Is.
+var (
+	// ErrSet: the reference set is unusable (inconsistent lengths,
+	// non-finite numbers, no compounds, no noise model).
+	ErrSet = errors.New("unusable reference set")
+	// ErrCoverage: a scan or blank does not cover the wavelengths the
+	// model needs.
+	ErrCoverage = errors.New("scan does not cover the model's wavelengths")
+	// ErrTooDark: so many points are above the ceiling that no fit is
+	// possible.
+	ErrTooDark = errors.New("too few points below the absorbance ceiling")
+	// ErrFactor: a dilution factor or path length is not a positive
+	// finite number.
+	ErrFactor = errors.New("bad sample factor")
+)

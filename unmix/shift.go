@@ -1,0 +1,172 @@
+package unmix
+
+import (
+	"math"
+	"slices"
+
+	"gonum.org/v1/gonum/floats"
+)
+
+// fitShift estimates the scan's shift, refits at it when it is told
+// apart from zero, and else refits unshifted; it sets sc.shift,
+// sc.shiftSE, sc.interpVar and sc.pg.
+func (m *Model) fitShift(sc *scan) error {
+	sh := m.sh
+	if err := m.estimateShift(sc); err != nil {
+		return err
+	}
+	if sc.shift != 0 {
+		sc.interpVar = interpNoise(sc.s.Wavelengths, sh.grid, offsetRows(sc.d.rows, sh.lo), sc.shift)
+	}
+	sc.shiftSE = m.shiftSE(sc)
+	if shiftDetermined(sc.shift, sc.shiftSE) {
+		return nil
+	}
+	// Not told apart from zero: the unshifted fit stands, and the
+	// standard error says how little the data could tell.
+	sc.shift, sc.interpVar = 0, 1
+	if err := m.resample(sc, 0); err != nil {
+		return err
+	}
+	if err := m.fit(sc); err != nil {
+		return err
+	}
+	clear(sc.pg)
+	return nil
+}
+
+// estimateShift iterates the shift: with the sample read at l + delta and
+// fitted, the remaining shift is the coefficient gamma of the derivative
+// g = sum_k c_k d(b eps_k)/dl of the fitted compound spectrum, found by
+// projecting g and the residual onto the complement of the design,
+//
+//	gamma = <M g, r> / <M g, M g>,  M = I - X P,
+//
+// (whitened by the noise when weighted; P the design's pseudo-inverse,
+// lsq.Solver.PseudoInverseRow), and the sample is read again at
+// delta - gamma (first-order Taylor term; the fixed point is exact up to
+// interpolation error). It sets sc.shift in nm, positive when the
+// sample's bands lie at longer wavelengths than the references', with
+// sc.shiftDen and sc.pg = P g from the last iteration.
+func (m *Model) estimateShift(sc *scan) error {
+	sh, b := m.sh, &m.buf
+	d := sc.d
+	n, p := len(d.rows), len(sh.cols)
+	b.g = grow(b.g, n)
+	g := b.g
+	b.pg = grow(b.pg, p)
+	sc.pg = b.pg
+	lim := m.opt.MaxShiftNM
+	weighted := m.opt.Weighted
+	delta := 0.0
+	xr := d.x.RawMatrix()
+	for range ShiftMaxIter {
+		// g on the fit rows.
+		for i, r := range d.rows {
+			v := 0.0
+			for k := range sh.ncomp {
+				v += sc.res.Coef[k] * sh.dcols[k][r]
+			}
+			g[i] = v
+		}
+		// P g, then M g = g - X (P g) and <Mg, r>, whitened when weighted.
+		for k := range p {
+			sc.pg[k] = floats.Dot(d.solver.PseudoInverseRow(k), g)
+		}
+		num, den := 0.0, 0.0
+		for i, r := range d.rows {
+			fit := 0.0
+			for k, v := range xr.Data[i*xr.Stride : i*xr.Stride+p] {
+				fit += v * sc.pg[k]
+			}
+			mg, res := g[i]-fit, sc.res.Residual[i]
+			if weighted {
+				mg /= sc.sig[r]
+				res /= sc.sig[r]
+			}
+			num += mg * res
+			den += mg * mg
+		}
+		sc.shiftDen = den
+		if !(den > 0) {
+			break
+		}
+		next := math.Max(-lim, math.Min(lim, delta-num/den))
+		if math.Abs(next-delta) < ShiftTolNM {
+			break
+		}
+		delta = next
+		if err := m.resample(sc, delta); err != nil {
+			return err
+		}
+		if err := m.fit(sc); err != nil {
+			return err
+		}
+	}
+	sc.shift = delta
+	return nil
+}
+
+// shiftDetermined reports whether an estimated shift is told apart from
+// zero: more than ShiftSigmas standard errors from it. A shift whose
+// standard error is undefined (no signal to move) is not.
+func shiftDetermined(shift, se float64) bool {
+	return se > 0 && !math.IsInf(se, 0) && math.Abs(shift) > ShiftSigmas*se
+}
+
+// offsetRows returns rows with off added to each, in a new slice.
+func offsetRows(rows []int, off int) []int {
+	out := make([]int, len(rows))
+	for i, r := range rows {
+		out[i] = r + off
+	}
+	return out
+}
+
+// shiftSE is the standard error of the shift estimated by estimateShift
+// for the fit in sc.res: the residual SD (in noise-model units and at
+// least 1 when weighted, as for the compounds) over the norm of the shift
+// direction left after projecting out the design. It is NaN when the
+// direction vanishes (nothing fitted to move) or no degrees of freedom
+// remain.
+func (m *Model) shiftSE(sc *scan) float64 {
+	n, dof := len(sc.d.rows), sc.res.DoF
+	if !(sc.shiftDen > 0) || dof <= 0 {
+		return math.NaN()
+	}
+	s2 := sumSq(sc.res.Residual[:n]) / float64(dof) / sc.interpVar
+	if m.opt.Weighted {
+		chi := 0.0
+		for i, r := range sc.d.rows {
+			e := sc.res.Residual[i] / sc.sig[r]
+			chi += e * e
+		}
+		s2 = math.Max(chi/float64(dof)/sc.interpVar, 1)
+	}
+	return math.Sqrt(s2 / sc.shiftDen)
+}
+
+// interpNoise is the mean, over the rows of grid listed in rows, of the
+// variance factor (1-t)^2 + t^2 that linear interpolation at grid + delta
+// between readings of wl applies to independent noise. Interpolated
+// residuals look quieter than the readings by this factor; the noise
+// itself and the parameters' scatter are not reduced, so residual-based
+// standard errors are divided by its square root.
+func interpNoise(wl, grid []float64, rows []int, delta float64) float64 {
+	n := len(wl)
+	sum := 0.0
+	for _, r := range rows {
+		x := grid[r] + delta
+		k, _ := slices.BinarySearch(wl, x)
+		v := 1.0
+		if k > 0 && k < n {
+			t := (x - wl[k-1]) / (wl[k] - wl[k-1])
+			v = (1-t)*(1-t) + t*t
+		}
+		sum += v
+	}
+	if len(rows) == 0 {
+		return 1
+	}
+	return sum / float64(len(rows))
+}
