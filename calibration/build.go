@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix/lsq"
@@ -78,6 +79,10 @@ type Options struct {
 	// tests.
 	Now func() time.Time
 }
+
+// buildPkg is the prefix of Build's errors, "calibration: build": the
+// package and its step, which pkgerr.Plain leaves out as one.
+const buildPkg = "calibration: build"
 
 // Sentinel causes of Build errors, tested with errors.Is.
 var (
@@ -255,7 +260,7 @@ func (ps *pass) solveWavelengths() ([]bool, error) {
 		if !ok {
 			var err error
 			if mf, err = newMaskFit(ps.rows, ps.masks, j, len(ps.res.set.Compounds), ps.intercept); err != nil {
-				return nil, fmt.Errorf("calibration: build: %s: least squares at %g nm: %w", ps.sh.Path, ps.grid[j], err)
+				return nil, pkgerr.Errorf(buildPkg, "%s: least squares at %g nm: %w", ps.sh.Path, ps.grid[j], err)
 			}
 			fits[string(key)] = mf
 		}
@@ -297,7 +302,7 @@ func (ps *pass) solveAt(mf *maskFit, j int) (bool, error) {
 		mf.y[r] = ps.abs.At(ps.sel[i], j)
 	}
 	if err := mf.solver.Solve(&mf.res, mf.y); err != nil {
-		return false, fmt.Errorf("calibration: build: least squares at %g nm: %w", ps.grid[j], err)
+		return false, pkgerr.Errorf(buildPkg, "least squares at %g nm: %w", ps.grid[j], err)
 	}
 	if mf.res.DoF <= 0 {
 		return false, nil
@@ -328,7 +333,7 @@ func (ps *pass) fillUnsolved(solved []bool) error {
 		}
 	}
 	if nsolved == 0 {
-		return fmt.Errorf("calibration: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
+		return pkgerr.Errorf(buildPkg, "%s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
 			ps.sh.Path, ErrTooFewStandards, ps.ceiling)
 	}
 	if nsolved < len(solved) {
@@ -356,7 +361,7 @@ func (ps *pass) compoundLine(k int) error {
 		}
 	}
 	if jp < 0 {
-		return fmt.Errorf("calibration: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
+		return pkgerr.Errorf(buildPkg, "%s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
 			ps.sh.Path, ErrTooFewStandards, c.Name, minLevels, ps.ceiling)
 	}
 	c.PeakNM = ps.grid[jp]
@@ -382,7 +387,7 @@ func (ps *pass) compoundLine(k int) error {
 	bl := bandLine(ps.grid, band, jp, pointsAt)
 	lin, err := lineTestAt(pointsAt(jp), ps.floor, bl.ConfirmsPeak())
 	if err != nil {
-		return fmt.Errorf("calibration: build: %s: %s at %g nm: %w", ps.sh.Path, c.Name, c.PeakNM, err)
+		return pkgerr.Errorf(buildPkg, "%s: %s at %g nm: %w", ps.sh.Path, c.Name, c.PeakNM, err)
 	}
 	lin.Band = bl
 	c.Linearity = lin
@@ -668,7 +673,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 	if opt.WindowLo != 0 || opt.WindowHi != 0 {
 		lo, hi = opt.WindowLo, opt.WindowHi
 		if !finite(lo) || !finite(hi) || lo >= hi || lo < 0 {
-			return nil, fmt.Errorf("calibration: build: %w: window %g-%g nm is empty", ErrWindow, lo, hi)
+			return nil, pkgerr.Errorf(buildPkg, "%w: window %g-%g nm is empty", ErrWindow, lo, hi)
 		}
 		covers := func(wl []float64) bool {
 			s := gridSlack * (wl[len(wl)-1] - wl[0])
@@ -681,7 +686,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 			}
 		}
 		if b := opt.Blank; b != nil && !covers(b.Wavelengths) {
-			return nil, fmt.Errorf("calibration: build: %w: blank %s covers %g-%g nm, the window is %g-%g nm",
+			return nil, pkgerr.Errorf(buildPkg, "%w: blank %s covers %g-%g nm, the window is %g-%g nm",
 				ErrWindow, b.Source, b.Wavelengths[0], b.Wavelengths[len(b.Wavelengths)-1], lo, hi)
 		}
 	} else {
@@ -694,7 +699,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		}
 		var err error
 		if lo, hi, err = spectrum.CommonRange(ss); err != nil {
-			return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
+			return nil, pkgerr.Errorf(buildPkg, "%s: %w", sh.Path, err)
 		}
 		if lo > first[0] || hi < first[len(first)-1] {
 			warn("%s", narrowNote(rows, opt.Blank, first, lo, hi))
@@ -708,7 +713,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		}
 	}
 	if len(grid) < 2 {
-		return nil, fmt.Errorf("calibration: build: %w: %s has %d points within %g-%g nm; need at least 2",
+		return nil, pkgerr.Errorf(buildPkg, "%w: %s has %d points within %g-%g nm; need at least 2",
 			ErrWindow, sh.Standards[0].File, len(grid), lo, hi)
 	}
 	var moved []int

@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/spectrum"
 )
@@ -57,14 +58,14 @@ func (b *builder) rowErr(r Row, err error) error {
 func (b *builder) checkSheet() error {
 	sh := b.sh
 	if sh == nil || len(sh.Standards) == 0 {
-		return fmt.Errorf("calibration: build: %w: the sheet has no standards", ErrTooFewStandards)
+		return pkgerr.Errorf(buildPkg, "%w: the sheet has no standards", ErrTooFewStandards)
 	}
 	b.m = len(sh.Compounds)
 	if b.m == 0 {
-		return fmt.Errorf("calibration: build: %s: no compounds", sh.Path)
+		return pkgerr.Errorf(buildPkg, "%s: no compounds", sh.Path)
 	}
 	if len(sh.Units) != b.m {
-		return fmt.Errorf("calibration: build: %s: %d units for %d compounds", sh.Path, len(sh.Units), b.m)
+		return pkgerr.Errorf(buildPkg, "%s: %d units for %d compounds", sh.Path, len(sh.Units), b.m)
 	}
 	return nil
 }
@@ -82,9 +83,9 @@ func (b *builder) defaults() error {
 	b.floor = b.opt.Floor
 	switch {
 	case !finite(b.path) || b.path <= 0:
-		return fmt.Errorf("calibration: build: path length %g cm must be positive", b.path)
+		return pkgerr.Errorf(buildPkg, "path length %g cm must be positive", b.path)
 	case !finite(b.ceiling) || !finite(b.floor) || b.floor < 0 || b.ceiling <= b.floor:
-		return fmt.Errorf("calibration: build: ceiling %g and floor %g: need 0 <= floor < ceiling", b.ceiling, b.floor)
+		return pkgerr.Errorf(buildPkg, "ceiling %g and floor %g: need 0 <= floor < ceiling", b.ceiling, b.floor)
 	}
 	b.intercept = !b.opt.ThroughOrigin
 	return nil
@@ -113,7 +114,7 @@ func (b *builder) rows() error {
 			}
 		}
 		if !varies {
-			return fmt.Errorf("calibration: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, ErrNoVariation, name, fit[0].Conc[k])
+			return pkgerr.Errorf(buildPkg, "%s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, ErrNoVariation, name, fit[0].Conc[k])
 		}
 	}
 	ncoef := b.m
@@ -121,12 +122,12 @@ func (b *builder) rows() error {
 		ncoef++
 	}
 	if len(fit) <= ncoef {
-		return fmt.Errorf("calibration: build: %s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
+		return pkgerr.Errorf(buildPkg, "%s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
 			sh.Path, ErrTooFewStandards, len(fit), ncoef, ncoef+1)
 	}
 	dcond, err := checkDesign(fit, sh.Compounds, b.intercept)
 	if err != nil {
-		return fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
+		return pkgerr.Errorf(buildPkg, "%s: %w", sh.Path, err)
 	}
 	if dcond > warnDesignCond {
 		b.warn("%s: the concentrations of %s vary nearly together across the standards (condition number %.3g, above %g): their absorptivities are uncertain; add standards that vary each compound on its own",
@@ -185,11 +186,11 @@ func (b *builder) gridAndBlank() error {
 func (b *builder) separateBlank() error {
 	bl := b.opt.Blank.Clone()
 	if err := bl.ToAbsorbance(); err != nil {
-		return fmt.Errorf("calibration: blank: %w", err)
+		return pkgerr.Errorf("calibration", "blank: %w", err)
 	}
 	var err error
 	if b.blank, _, err = onGrid(bl, b.grid); err != nil {
-		return fmt.Errorf("calibration: blank %s: %w", bl.Source, err)
+		return pkgerr.Errorf("calibration", "blank %s: %w", bl.Source, err)
 	}
 	b.prov.Blank = bl.Source.File
 	if b.prov.Blank == "" {
@@ -447,7 +448,7 @@ func (b *builder) finish(set *reference.Set) (*reference.Set, error) {
 	prov.Notes = b.notes
 	set.Provenance = prov
 	if err := set.Validate(); err != nil {
-		return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
+		return nil, pkgerr.Errorf(buildPkg, "%s: %w", sh.Path, err)
 	}
 	return set, nil
 }

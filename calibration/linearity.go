@@ -56,7 +56,7 @@ func fitPoly(x, y []float64, degree int) (lineFit, error) {
 	qr.Factorize(a)
 	var b mat.Dense
 	if err := qr.SolveTo(&b, false, mat.NewVecDense(n, append([]float64(nil), y...))); err != nil {
-		return lineFit{}, fmt.Errorf("%w: %v", ErrDesign, err)
+		return lineFit{}, fmt.Errorf("%w: %w", ErrDesign, err)
 	}
 	f := lineFit{coef: make([]float64, nc), se: make([]float64, nc), dof: n - nc}
 	for i := range n {
@@ -80,7 +80,7 @@ func fitPoly(x, y []float64, degree int) (lineFit, error) {
 	}
 	var ri mat.TriDense
 	if err := ri.InverseTri(r); err != nil {
-		return lineFit{}, fmt.Errorf("%w: %v", ErrDesign, err)
+		return lineFit{}, fmt.Errorf("%w: %w", ErrDesign, err)
 	}
 	s2 := f.rss / float64(f.dof)
 	for q := range nc {

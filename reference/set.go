@@ -14,6 +14,7 @@ import (
 	"huesolve/baseline"
 	"huesolve/internal/atomicfile"
 	"huesolve/internal/bytesize"
+	"huesolve/internal/pkgerr"
 )
 
 // SchemaVersion is the version of the reference-set file format written by
@@ -315,7 +316,7 @@ func (s *Set) ComputeChecksum() (string, error) {
 	c.Checksum = ""
 	b, err := json.Marshal(&c)
 	if err != nil {
-		return "", fmt.Errorf("reference: encode set: %w", err)
+		return "", pkgerr.Errorf("reference", "encode set: %w", err)
 	}
 	sum := sha256.Sum256(b)
 	return hex.EncodeToString(sum[:]), nil
@@ -487,11 +488,11 @@ const MaxSetBytes = 256 << 20
 // folder, or a file larger than MaxSetBytes, is refused before reading
 // (ErrNotSet).
 func Load(path string) (*Set, error) {
-	fail := func(err error) (*Set, error) { return nil, fmt.Errorf("reference: %s: %w", path, err) }
+	fail := func(err error) (*Set, error) { return nil, pkgerr.Errorf("reference", "%s: %w", path, err) }
 	st, err := os.Stat(path)
 	switch {
 	case err != nil:
-		return nil, fmt.Errorf("reference: %w", err)
+		return nil, pkgerr.Errorf("reference", "%w", err)
 	case st.IsDir():
 		return fail(fmt.Errorf("%w: it is a folder", ErrNotSet))
 	case st.Mode().IsRegular() && st.Size() > MaxSetBytes:
@@ -503,7 +504,7 @@ func Load(path string) (*Set, error) {
 		return fail(fmt.Errorf("%w: more than the %s a reference set may take", ErrNotSet, bytesize.Text(MaxSetBytes)))
 	}
 	if err != nil {
-		return nil, fmt.Errorf("reference: %w", err)
+		return nil, pkgerr.Errorf("reference", "%w", err)
 	}
 	data = bytes.TrimPrefix(data, []byte("\ufeff"))
 	if len(bytes.TrimSpace(data)) == 0 {
@@ -519,9 +520,9 @@ func Load(path string) (*Set, error) {
 				return fail(ErrTruncated)
 			}
 			line := 1 + bytes.Count(data[:se.Offset], []byte("\n"))
-			return fail(fmt.Errorf("%w: not valid JSON at line %d: %v", ErrNotSet, line, se))
+			return fail(fmt.Errorf("%w: not valid JSON at line %d: %w", ErrNotSet, line, se))
 		}
-		return fail(fmt.Errorf("%w: %v", ErrNotSet, err))
+		return fail(fmt.Errorf("%w: %w", ErrNotSet, err))
 	}
 	switch {
 	case head.Schema == nil:
@@ -533,7 +534,7 @@ func Load(path string) (*Set, error) {
 	}
 	s := new(Set)
 	if err := json.Unmarshal(data, s); err != nil {
-		return fail(fmt.Errorf("%w: %v", ErrNotSet, err))
+		return fail(fmt.Errorf("%w: %w", ErrNotSet, err))
 	}
 	if s.Checksum == "" {
 		return fail(fmt.Errorf("%w: the file has no checksum", ErrChecksum))
@@ -579,20 +580,20 @@ func readUpTo(path string, limit int64) ([]byte, error) {
 func (s *Set) Save(path string) error {
 	s.Schema = SchemaVersion
 	if err := s.Validate(); err != nil {
-		return fmt.Errorf("reference: save %s: %w", path, err)
+		return pkgerr.Errorf("reference", "save %s: %w", path, err)
 	}
 	sum, err := s.ComputeChecksum()
 	if err != nil {
-		return fmt.Errorf("reference: save %s: %w", path, err)
+		return pkgerr.Errorf("reference", "save %s: %w", path, err)
 	}
 	s.Checksum = sum
 	b, err := json.MarshalIndent(s, "", "  ")
 	if err != nil {
-		return fmt.Errorf("reference: save %s: %w", path, err)
+		return pkgerr.Errorf("reference", "save %s: %w", path, err)
 	}
 	b = append(b, '\n')
 	if err := atomicfile.WriteBytes(path, b); err != nil {
-		return fmt.Errorf("reference: %w", err)
+		return pkgerr.Errorf("reference", "%w", err)
 	}
 	return nil
 }

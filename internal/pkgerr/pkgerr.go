@@ -12,6 +12,8 @@ import (
 )
 
 // Error is an error of package Pkg: its text is Pkg + ": " + Err's text.
+// Pkg may name a step within the package as well ("calibration: build"),
+// left out with it.
 type Error struct {
 	Pkg string
 	Err error
