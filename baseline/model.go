@@ -182,15 +182,16 @@ func (m Model) Check(wl []float64) error {
 // polynomial columns are free in sign, the scattering column is
 // non-negative. Each column is a new slice of len(wl).
 //
-// Columns panics if m.Check(wl) fails for a non-empty wl: callers check
-// grids that come from files with Check first.
-func (m Model) Columns(wl []float64) (cols [][]float64, nonneg []bool, names []string) {
+// Columns returns the error of m.Check(wl) (of the model's own
+// parameters for an empty wl), wrapping ErrModel, and no columns.
+func (m Model) Columns(wl []float64) (cols [][]float64, nonneg []bool, names []string, err error) {
 	if len(wl) > 0 {
-		if err := m.Check(wl); err != nil {
-			panic(err)
-		}
-	} else if err := m.checkParams(); err != nil {
-		panic(err)
+		err = m.Check(wl)
+	} else {
+		err = m.checkParams()
+	}
+	if err != nil {
+		return nil, nil, nil, err
 	}
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, v := range wl {
@@ -221,7 +222,7 @@ func (m Model) Columns(wl []float64) (cols [][]float64, nonneg []bool, names []s
 		nonneg = append(nonneg, true)
 		names = append(names, "scatter")
 	}
-	return cols, nonneg, names
+	return cols, nonneg, names, nil
 }
 
 // legendre is the Legendre polynomial of degree d <= 3 at t.
