@@ -44,9 +44,9 @@ const (
 	gridSlack = spectrum.GridSlack
 )
 
-// Version is the tool version recorded in a set's provenance when
+// defaultVersion is the tool version recorded in a set's provenance when
 // Options.Version is empty.
-var Version = "dev"
+const defaultVersion = "dev"
 
 // Options control Build. Zero values mean the documented defaults.
 type Options struct {
@@ -73,7 +73,7 @@ type Options struct {
 	// Warn receives notes on what Build did (grids interpolated, readings
 	// left out); nil discards them. They are also kept in the provenance.
 	Warn func(msg string)
-	// Version is the tool version for the provenance (default Version).
+	// Version is the tool version for the provenance (default "dev").
 	Version string
 	// Now gives the creation time (default time.Now), for reproducible
 	// tests.

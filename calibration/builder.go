@@ -167,7 +167,7 @@ func (b *builder) gridAndBlank() error {
 	b.grid = grid
 	b.prov = reference.Provenance{Tool: "huesolve", Version: opt.Version, Sheet: sh.Path}
 	if b.prov.Version == "" {
-		b.prov.Version = Version
+		b.prov.Version = defaultVersion
 	}
 	switch {
 	case opt.Blank != nil:

@@ -119,7 +119,7 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 // column by name; every other named column is a compound.
 var standardsColumns = sheet.Columns{
 	Names:  []string{"scan", "column"},
-	Ignore: sheet.NoteColumns,
+	Ignore: sheet.NoteColumns(),
 	Others: true,
 	Wrap:   ErrSheetHeader,
 }

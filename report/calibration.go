@@ -40,7 +40,7 @@ func AbsorptivityPlot(set *reference.Set) (*plot.Plot, error) {
 	p.Y.Label.Text = "Absorptivity (" + AbsorptivityUnit(CommonUnit(units)) + ")"
 	p.Add(plotter.NewGrid())
 	for k, c := range set.Compounds {
-		col := Colour(k)
+		col := colour(k)
 		first := true
 		for _, run := range usableRuns(c.Usable) {
 			lo, hi := run[0], run[1]
@@ -130,7 +130,7 @@ func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, er
 	if len(used) == 0 {
 		return nil, nil, pkgerr.Errorf("report", "%s has no calibration readings to plot", c.Name)
 	}
-	col := Colour(k)
+	col := colour(k)
 
 	line = plot.New()
 	sign := "+"

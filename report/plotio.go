@@ -16,9 +16,9 @@ import (
 	"huesolve/internal/pkgerr"
 )
 
-// Palette is huesolve's own set of line colours for compounds, chosen to
+// palette is huesolve's own set of line colours for compounds, chosen to
 // stay distinct in print and for common colour-vision deficiencies.
-var Palette = []color.Color{
+var palette = []color.Color{
 	color.RGBA{R: 0x1b, G: 0x4f, B: 0x72, A: 0xff}, // deep blue
 	color.RGBA{R: 0xc0, G: 0x6c, B: 0x00, A: 0xff}, // ochre
 	color.RGBA{R: 0x2e, G: 0x8b, B: 0x57, A: 0xff}, // sea green
@@ -29,8 +29,8 @@ var Palette = []color.Color{
 	color.RGBA{R: 0x99, G: 0x88, B: 0x33, A: 0xff}, // olive
 }
 
-// Colour returns the palette colour for series i, cycling.
-func Colour(i int) color.Color { return Palette[i%len(Palette)] }
+// colour returns the palette colour for series i, cycling.
+func colour(i int) color.Color { return palette[i%len(palette)] }
 
 // SavePlot writes p to path atomically; the format comes from the
 // extension (.png or .svg; .pdf also works).

@@ -315,7 +315,7 @@ func checkSampleSVG(t *testing.T, path string, r *unmix.Result, segs int) {
 		t.Errorf("%s: %d measured glyphs, want %d points and a swatch", path, n, len(r.Grid))
 	}
 	for k := range r.Contributions {
-		style := stroke(Colour(k), 1.2) + ";stroke-dasharray:5,2"
+		style := stroke(colour(k), 1.2) + ";stroke-dasharray:5,2"
 		if n := d.paths(style); n != segs+1 {
 			t.Errorf("%s: %d lines %q for compound %d, want %d stretches and a swatch", path, n, style, k, segs)
 		}

@@ -178,7 +178,7 @@ func (sp *samplePlot) addContributions(spectra *plot.Plot, names []string) error
 			return errors.New("contribution of unequal length")
 		}
 		l, err := sp.lines(spectra, c, func(l *plotter.Line) {
-			l.Color = Colour(k)
+			l.Color = colour(k)
 			l.Width = vg.Points(1.2)
 			l.Dashes = []vg.Length{vg.Points(5), vg.Points(2)}
 		})

@@ -86,7 +86,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 	if err != nil {
 		return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 	}
-	ident.Color = Colour(4)
+	ident.Color = colour(4)
 	p.Add(ident)
 	p.Legend.Add("found = known", ident)
 	for i, lim := range []float64{v.Limits.RecoveryLo, v.Limits.RecoveryHi} {
@@ -94,7 +94,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 		if err != nil {
 			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
-		l.Color = Colour(4)
+		l.Color = colour(4)
 		l.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
 		p.Add(l)
 		if i == 0 {
@@ -107,7 +107,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
 		sc.Shape = draw.RingGlyph{}
-		sc.Color = Colour(1)
+		sc.Color = colour(1)
 		sc.Radius = vg.Points(3)
 		p.Add(sc)
 		p.Legend.Add("calibration standards, cross-validated", sc)
@@ -118,7 +118,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
 		sc.Shape = draw.CircleGlyph{}
-		sc.Color = Colour(0)
+		sc.Color = colour(0)
 		sc.Radius = vg.Points(3)
 		bars, err := plotter.NewYErrorBars(struct {
 			plotter.XYer
@@ -127,7 +127,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 		if err != nil {
 			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
-		bars.Color = Colour(0)
+		bars.Color = colour(0)
 		p.Add(bars, sc)
 		p.Legend.Add("check standards (±2 SE)", sc)
 	}
@@ -186,7 +186,7 @@ func RecoveryPlot(v *validate.Verification, cv *validate.CrossValidation, k int)
 		if err != nil {
 			return nil, pkgerr.Errorf("report", "recovery plot of %s: %w", cmp.Compound, err)
 		}
-		l.Color = Colour(4)
+		l.Color = colour(4)
 		if y != 100 {
 			l.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
 		}
@@ -202,9 +202,9 @@ func RecoveryPlot(v *validate.Verification, cv *validate.CrossValidation, k int)
 		}
 		sc.Radius = vg.Points(3)
 		if i == 0 {
-			sc.Shape, sc.Color = draw.RingGlyph{}, Colour(1)
+			sc.Shape, sc.Color = draw.RingGlyph{}, colour(1)
 		} else {
-			sc.Shape, sc.Color = draw.CircleGlyph{}, Colour(0)
+			sc.Shape, sc.Color = draw.CircleGlyph{}, colour(0)
 		}
 		p.Add(sc)
 	}
@@ -313,7 +313,7 @@ func WindowPlots(adv *validate.WindowAdvice) (errPlot, condPlot *plot.Plot, err 
 				if err != nil {
 					return nil, pkgerr.Errorf("report", "window plot: %w", err)
 				}
-				l.Color, s.Color = Colour(i), Colour(i)
+				l.Color, s.Color = colour(i), colour(i)
 				s.Radius = vg.Points(1.5)
 				p.Add(l, s)
 				if first {
@@ -328,7 +328,7 @@ func WindowPlots(adv *validate.WindowAdvice) (errPlot, condPlot *plot.Plot, err 
 		}
 		mark.Shape = draw.RingGlyph{}
 		mark.Radius = vg.Points(6)
-		mark.Color = Colour(5)
+		mark.Color = colour(5)
 		p.Add(mark)
 		p.Legend.Add(fmt.Sprintf("recommended %g-%g nm", best.Lo, best.Hi), mark)
 		p.Legend.Top = true

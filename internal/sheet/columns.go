@@ -5,9 +5,10 @@ import (
 	"strings"
 )
 
-// NoteColumns are the names of columns every sheet reads and drops: free
-// text for the people who keep the sheet.
-var NoteColumns = []string{"note", "notes", "comment", "comments"}
+// NoteColumns returns the names of columns every sheet reads and drops:
+// free text for the people who keep the sheet. Each call gives a new
+// slice.
+func NoteColumns() []string { return []string{"note", "notes", "comment", "comments"} }
 
 // Columns declares the columns of a kind of sheet. A sheet matches its
 // header against them with Sheet.Layout.

@@ -198,7 +198,7 @@ func TestNumber(t *testing.T) {
 // only when it is empty.
 func TestLayout(t *testing.T) {
 	errHead := errors.New("bad header")
-	cols := Columns{Names: []string{"sample", "dilution"}, Ignore: NoteColumns, Known: "a test sheet has sample, dilution", Wrap: errHead}
+	cols := Columns{Names: []string{"sample", "dilution"}, Ignore: NoteColumns(), Known: "a test sheet has sample, dilution", Wrap: errHead}
 	sh, err := Parse([]byte(" Sample ,Notes,DILUTION,\nA,x,2,\n"), "l.csv", Options{})
 	if err != nil {
 		t.Fatal(err)
