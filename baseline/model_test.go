@@ -41,8 +41,8 @@ func TestParseModel(t *testing.T) {
 		t.Run(tc.in, func(t *testing.T) {
 			got, err := ParseModel(tc.in)
 			if tc.err {
-				if !errors.Is(err, ErrModel) {
-					t.Errorf("ParseModel(%q) = %+v, %v; want ErrModel", tc.in, got, err)
+				if !errors.Is(err, errModel) {
+					t.Errorf("ParseModel(%q) = %+v, %v; want errModel", tc.in, got, err)
 				}
 				return
 			}
@@ -209,7 +209,7 @@ func TestModelCheck(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			err := tc.m.Check(tc.wl)
-			if (err == nil) != tc.ok || (err != nil && !errors.Is(err, ErrModel)) {
+			if (err == nil) != tc.ok || (err != nil && !errors.Is(err, errModel)) {
 				t.Errorf("Check = %v, want ok %v", err, tc.ok)
 			}
 		})
@@ -223,8 +223,8 @@ func TestModelCheck(t *testing.T) {
 		{"degree out of range on no grid", Model{Degree: 4}, nil},
 	} {
 		cols, nonneg, names, err := tc.m.Columns(tc.wl)
-		if !errors.Is(err, ErrModel) || cols != nil || nonneg != nil || names != nil {
-			t.Errorf("%s: Columns = %d columns, error %v; want none and ErrModel", tc.name, len(cols), err)
+		if !errors.Is(err, errModel) || cols != nil || nonneg != nil || names != nil {
+			t.Errorf("%s: Columns = %d columns, error %v; want none and errModel", tc.name, len(cols), err)
 		}
 	}
 }

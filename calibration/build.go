@@ -86,12 +86,12 @@ const buildPkg = "calibration: build"
 
 // Sentinel causes of Build errors, tested with errors.Is.
 var (
-	// ErrDesign: the concentrations cannot separate the compounds.
-	ErrDesign = errors.New("the concentration design cannot separate the compounds")
-	// ErrWindow: a scan does not cover the window, or the window is empty.
-	ErrWindow = errors.New("scan does not cover the window")
-	// ErrTooFewStandards: not enough standards, levels or readings.
-	ErrTooFewStandards = errors.New("too few standards")
+	// errDesign: the concentrations cannot separate the compounds.
+	errDesign = errors.New("the concentration design cannot separate the compounds")
+	// errWindow: a scan does not cover the window, or the window is empty.
+	errWindow = errors.New("scan does not cover the window")
+	// errTooFewStandards: not enough standards, levels or readings.
+	errTooFewStandards = errors.New("too few standards")
 )
 
 // Build makes a reference set from a standards sheet with its scans
@@ -118,9 +118,9 @@ var (
 // Errors name the sheet row or file where one is to blame: a negative or
 // non-finite concentration, a compound that never varies, a design that
 // cannot separate the compounds (rank deficient, or column-scaled
-// condition number above 1e3: ErrDesign), a scan not covering the window
-// (ErrWindow), fewer standards than coefficients plus one
-// (ErrTooFewStandards).
+// condition number above 1e3: errDesign), a scan not covering the window
+// (errWindow), fewer standards than coefficients plus one
+// (errTooFewStandards).
 func Build(sh *Sheet, opt Options) (*reference.Set, error) {
 	b := &builder{sh: sh, opt: opt}
 	if err := b.checkSheet(); err != nil {
@@ -334,7 +334,7 @@ func (ps *pass) fillUnsolved(solved []bool) error {
 	}
 	if nsolved == 0 {
 		return pkgerr.Errorf(buildPkg, "%s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
-			ps.sh.Path, ErrTooFewStandards, ps.ceiling)
+			ps.sh.Path, errTooFewStandards, ps.ceiling)
 	}
 	if nsolved < len(solved) {
 		res.unsolved = len(solved) - nsolved
@@ -362,7 +362,7 @@ func (ps *pass) compoundLine(k int) error {
 	}
 	if jp < 0 {
 		return pkgerr.Errorf(buildPkg, "%s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
-			ps.sh.Path, ErrTooFewStandards, c.Name, minLevels, ps.ceiling)
+			ps.sh.Path, errTooFewStandards, c.Name, minLevels, ps.ceiling)
 	}
 	c.PeakNM = ps.grid[jp]
 	c.MinStandard, c.MaxStandard = math.Inf(1), 0
@@ -429,7 +429,7 @@ func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
 		ncoef++
 	}
 	if len(rows) <= ncoef {
-		return fmt.Errorf("%w: %d standards would remain for %d coefficients per wavelength", ErrTooFewStandards, len(rows), ncoef)
+		return fmt.Errorf("%w: %d standards would remain for %d coefficients per wavelength", errTooFewStandards, len(rows), ncoef)
 	}
 	for k, name := range names {
 		varies := false
@@ -440,7 +440,7 @@ func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
 			}
 		}
 		if !varies {
-			return fmt.Errorf("%w: %s would be %g in every standard left", ErrNoVariation, name, rows[0].Conc[k])
+			return fmt.Errorf("%w: %s would be %g in every standard left", errNoVariation, name, rows[0].Conc[k])
 		}
 	}
 	_, err := checkDesign(rows, names, intercept)
@@ -642,16 +642,16 @@ func checkDesign(fit []Row, names []string, intercept bool) (float64, error) {
 	}
 	var svd mat.SVD
 	if !svd.Factorize(x, mat.SVDNone) {
-		return 0, fmt.Errorf("%w: the singular value decomposition of the design failed", ErrDesign)
+		return 0, fmt.Errorf("%w: the singular value decomposition of the design failed", errDesign)
 	}
 	sv := svd.Values(nil)
 	hint := "vary each compound on its own, for example with pure standards of each"
 	if sv[len(sv)-1] <= lsq.RankTol(x.Dims())*sv[0] {
-		return math.Inf(1), fmt.Errorf("%w: the concentrations of %s are linearly dependent across the standards (%s)", ErrDesign, designNames(names, intercept), hint)
+		return math.Inf(1), fmt.Errorf("%w: the concentrations of %s are linearly dependent across the standards (%s)", errDesign, designNames(names, intercept), hint)
 	}
 	c := sv[0] / sv[len(sv)-1]
 	if c > maxDesignCond {
-		return c, fmt.Errorf("%w: the concentrations of %s vary too nearly together (condition number %.3g, limit %g; %s)", ErrDesign, designNames(names, intercept), c, maxDesignCond, hint)
+		return c, fmt.Errorf("%w: the concentrations of %s vary too nearly together (condition number %.3g, limit %g; %s)", errDesign, designNames(names, intercept), c, maxDesignCond, hint)
 	}
 	return c, nil
 }
@@ -673,7 +673,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 	if opt.WindowLo != 0 || opt.WindowHi != 0 {
 		lo, hi = opt.WindowLo, opt.WindowHi
 		if !finite(lo) || !finite(hi) || lo >= hi || lo < 0 {
-			return nil, pkgerr.Errorf(buildPkg, "%w: window %g-%g nm is empty", ErrWindow, lo, hi)
+			return nil, pkgerr.Errorf(buildPkg, "%w: window %g-%g nm is empty", errWindow, lo, hi)
 		}
 		covers := func(wl []float64) bool {
 			s := gridSlack * (wl[len(wl)-1] - wl[0])
@@ -682,12 +682,12 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		for _, r := range rows {
 			if wl := r.Scan.Wavelengths; !covers(wl) {
 				return nil, &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: fmt.Errorf("%w: %s covers %g-%g nm, the window is %g-%g nm",
-					ErrWindow, r.File, wl[0], wl[len(wl)-1], lo, hi)}
+					errWindow, r.File, wl[0], wl[len(wl)-1], lo, hi)}
 			}
 		}
 		if b := opt.Blank; b != nil && !covers(b.Wavelengths) {
 			return nil, pkgerr.Errorf(buildPkg, "%w: blank %s covers %g-%g nm, the window is %g-%g nm",
-				ErrWindow, b.Source, b.Wavelengths[0], b.Wavelengths[len(b.Wavelengths)-1], lo, hi)
+				errWindow, b.Source, b.Wavelengths[0], b.Wavelengths[len(b.Wavelengths)-1], lo, hi)
 		}
 	} else {
 		ss := make([]*spectrum.Spectrum, 0, len(rows)+1)
@@ -714,7 +714,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 	}
 	if len(grid) < 2 {
 		return nil, pkgerr.Errorf(buildPkg, "%w: %s has %d points within %g-%g nm; need at least 2",
-			ErrWindow, sh.Standards[0].File, len(grid), lo, hi)
+			errWindow, sh.Standards[0].File, len(grid), lo, hi)
 	}
 	var moved []int
 	for i, r := range rows {

@@ -58,7 +58,7 @@ func (b *builder) rowErr(r Row, err error) error {
 func (b *builder) checkSheet() error {
 	sh := b.sh
 	if sh == nil || len(sh.Standards) == 0 {
-		return pkgerr.Errorf(buildPkg, "%w: the sheet has no standards", ErrTooFewStandards)
+		return pkgerr.Errorf(buildPkg, "%w: the sheet has no standards", errTooFewStandards)
 	}
 	b.m = len(sh.Compounds)
 	if b.m == 0 {
@@ -114,7 +114,7 @@ func (b *builder) rows() error {
 			}
 		}
 		if !varies {
-			return pkgerr.Errorf(buildPkg, "%s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, ErrNoVariation, name, fit[0].Conc[k])
+			return pkgerr.Errorf(buildPkg, "%s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, errNoVariation, name, fit[0].Conc[k])
 		}
 	}
 	ncoef := b.m
@@ -123,7 +123,7 @@ func (b *builder) rows() error {
 	}
 	if len(fit) <= ncoef {
 		return pkgerr.Errorf(buildPkg, "%s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
-			sh.Path, ErrTooFewStandards, len(fit), ncoef, ncoef+1)
+			sh.Path, errTooFewStandards, len(fit), ncoef, ncoef+1)
 	}
 	dcond, err := checkDesign(fit, sh.Compounds, b.intercept)
 	if err != nil {
@@ -140,17 +140,17 @@ func (b *builder) rows() error {
 // concentration of every compound.
 func (b *builder) checkRow(r Row) error {
 	if r.Scan == nil {
-		return b.rowErr(r, fmt.Errorf("%w: %s: no scan loaded", ErrScanFile, r.File))
+		return b.rowErr(r, fmt.Errorf("%w: %s: no scan loaded", errScanFile, r.File))
 	}
 	if err := r.Scan.Check(); err != nil {
 		return b.rowErr(r, err)
 	}
 	if len(r.Conc) != b.m {
-		return b.rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", ErrConcentration, len(r.Conc), b.m))
+		return b.rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", errConcentration, len(r.Conc), b.m))
 	}
 	for k, v := range r.Conc {
 		if !finite(v) || v < 0 {
-			return b.rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", ErrConcentration, b.sh.Compounds[k], v))
+			return b.rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", errConcentration, b.sh.Compounds[k], v))
 		}
 	}
 	return nil

@@ -32,9 +32,9 @@ var palette = []color.Color{
 // colour returns the palette colour for series i, cycling.
 func colour(i int) color.Color { return palette[i%len(palette)] }
 
-// SavePlot writes p to path atomically; the format comes from the
+// savePlot writes p to path atomically; the format comes from the
 // extension (.png or .svg; .pdf also works).
-func SavePlot(p *plot.Plot, path string, w, h vg.Length) error {
+func savePlot(p *plot.Plot, path string, w, h vg.Length) error {
 	ext := strings.ToLower(strings.TrimPrefix(filepath.Ext(path), "."))
 	switch ext {
 	case "png", "svg", "pdf":
@@ -51,11 +51,11 @@ func SavePlot(p *plot.Plot, path string, w, h vg.Length) error {
 	})
 }
 
-// SaveStacked draws plots one above the other on a w x h figure, each
+// saveStacked draws plots one above the other on a w x h figure, each
 // taking a share of the height proportional to its weight, with their
 // data areas aligned left and right so the x axes line up, and writes the
 // figure to path atomically (format from the extension: png, svg or pdf).
-func SaveStacked(path string, w, h vg.Length, plots []*plot.Plot, weights []float64) error {
+func saveStacked(path string, w, h vg.Length, plots []*plot.Plot, weights []float64) error {
 	if len(plots) == 0 || len(plots) != len(weights) {
 		return pkgerr.Errorf("report", "plot %s: %d panels with %d weights", path, len(plots), len(weights))
 	}

@@ -19,14 +19,14 @@ import (
 	"strings"
 )
 
-// Unit is the concentration unit of every dye in the scenario.
-const Unit = "mg/L"
+// concUnit is the concentration unit of every dye in the scenario.
+const concUnit = "mg/L"
 
 // Grid limits and step of every scan, in nm.
 const (
-	GridLoNM   = 350
-	GridHiNM   = 750
-	GridStepNM = 1
+	gridLoNM   = 350
+	gridHiNM   = 750
+	gridStepNM = 1
 )
 
 // Band is one absorption band: an asymmetric Gaussian with its maximum
@@ -179,7 +179,7 @@ func New() *Scenario {
 		Seed1:       20261202,
 		Seed2:       7,
 	}
-	for nm := GridLoNM; nm <= GridHiNM; nm += GridStepNM {
+	for nm := gridLoNM; nm <= gridHiNM; nm += gridStepNM {
 		sc.Grid = append(sc.Grid, float64(nm))
 	}
 	nd := len(sc.Dyes)
@@ -304,7 +304,7 @@ func (sc *Scenario) TrueAbsorbance(s *Scan, nm float64) float64 {
 
 // background is the absorbance of the uncoloured product base per cm.
 func (sc *Scenario) background(nm float64) float64 {
-	return sc.BaseFlat + sc.BaseUVAbs*math.Exp(-(nm-GridLoNM)/sc.BaseUVDecay)
+	return sc.BaseFlat + sc.BaseUVAbs*math.Exp(-(nm-gridLoNM)/sc.BaseUVDecay)
 }
 
 // Sample returns the production sample called name, or nil.

@@ -159,7 +159,7 @@ func num(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 func (sc *Scenario) header() string {
 	var b bytes.Buffer
 	for _, d := range sc.Dyes {
-		fmt.Fprintf(&b, ",%s (%s)", d.Name, Unit)
+		fmt.Fprintf(&b, ",%s (%s)", d.Name, concUnit)
 	}
 	return b.String()
 }
@@ -222,7 +222,7 @@ func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
 
 func (sc *Scenario) truth() []byte {
 	var b bytes.Buffer
-	b.WriteString("sample" + sc.header() + fmt.Sprintf(",%s (%s),turbidity_400nm,trouble,note\n", sc.Extra.Name, Unit))
+	b.WriteString("sample" + sc.header() + fmt.Sprintf(",%s (%s),turbidity_400nm,trouble,note\n", sc.Extra.Name, concUnit))
 	for _, s := range sc.Samples {
 		b.WriteString(s.Name)
 		for _, c := range s.Conc {
