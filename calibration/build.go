@@ -373,7 +373,7 @@ func (ps *pass) compoundLine(k int) error {
 		}
 	}
 	for i, r := range ps.fit {
-		if (r.Conc[k] != 0 || r.IsBlank()) && ps.use[i] && !ps.keep[i][jp] {
+		if (r.Conc[k] != 0 || r.isBlank()) && ps.use[i] && !ps.keep[i][jp] {
 			ps.res.clipped[k] = true
 		}
 	}
@@ -400,7 +400,7 @@ func (ps *pass) compoundLine(k int) error {
 func (ps *pass) pointsAt(k, j int) []reference.Point {
 	var pts []reference.Point
 	for i, r := range ps.fit {
-		if r.Conc[k] == 0 && !r.IsBlank() {
+		if r.Conc[k] == 0 && !r.isBlank() {
 			continue
 		}
 		y := ps.abs.At(i, j)

@@ -43,8 +43,8 @@ type Row struct {
 	SHA256 string
 }
 
-// IsBlank reports whether the row is a blank: every concentration zero.
-func (r Row) IsBlank() bool {
+// isBlank reports whether the row is a blank: every concentration zero.
+func (r Row) isBlank() bool {
 	for _, v := range r.Conc {
 		if v != 0 {
 			return false
@@ -106,7 +106,7 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 		if err := ld.load(&row, cols); err != nil {
 			return nil, err
 		}
-		if row.IsBlank() {
+		if row.isBlank() {
 			sh.Blanks = append(sh.Blanks, row)
 		} else {
 			sh.Standards = append(sh.Standards, row)

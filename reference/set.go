@@ -309,9 +309,9 @@ var (
 	errInvalid = errors.New("invalid reference set")
 )
 
-// ComputeChecksum returns the SHA-256, in lower-case hex, of the canonical
+// computeChecksum returns the SHA-256, in lower-case hex, of the canonical
 // content of s: its compact JSON encoding with the Checksum field empty.
-func (s *Set) ComputeChecksum() (string, error) {
+func (s *Set) computeChecksum() (string, error) {
 	c := *s
 	c.Checksum = ""
 	b, err := json.Marshal(&c)
@@ -539,7 +539,7 @@ func Load(path string) (*Set, error) {
 	if s.Checksum == "" {
 		return fail(fmt.Errorf("%w: the file has no checksum", errChecksum))
 	}
-	sum, err := s.ComputeChecksum()
+	sum, err := s.computeChecksum()
 	if err != nil {
 		return fail(err)
 	}
@@ -582,7 +582,7 @@ func (s *Set) Save(path string) error {
 	if err := s.Validate(); err != nil {
 		return pkgerr.Errorf("reference", "save %s: %w", path, err)
 	}
-	sum, err := s.ComputeChecksum()
+	sum, err := s.computeChecksum()
 	if err != nil {
 		return pkgerr.Errorf("reference", "save %s: %w", path, err)
 	}

@@ -2,7 +2,6 @@ package spectrum
 
 import (
 	"fmt"
-	"sort"
 
 	"gonum.org/v1/gonum/interp"
 
@@ -53,24 +52,6 @@ func (m Interpolation) String() string {
 		return "monotone"
 	}
 	return fmt.Sprintf("Interpolation(%d)", int(m))
-}
-
-// Crop returns the part of s with lo <= wavelength <= hi as a new spectrum.
-// It is an error if fewer than two points remain.
-func (s *Spectrum) Crop(lo, hi float64) (*Spectrum, error) {
-	if len(s.Wavelengths) == 0 {
-		return nil, pkgerr.Errorf("spectrum", "%s: crop of an empty spectrum: %w", s.Source, ErrEmpty)
-	}
-	i := sort.SearchFloat64s(s.Wavelengths, lo)
-	j := sort.Search(len(s.Wavelengths), func(k int) bool { return s.Wavelengths[k] > hi })
-	if j-i < 2 {
-		return nil, pkgerr.Errorf("spectrum", "%s: window %g-%g nm keeps %d points of %g-%g nm: %w",
-			s.Source, lo, hi, max(j-i, 0), s.Wavelengths[0], s.Wavelengths[len(s.Wavelengths)-1], errOutOfRange)
-	}
-	c := *s
-	c.Wavelengths = append([]float64(nil), s.Wavelengths[i:j]...)
-	c.Values = append([]float64(nil), s.Values[i:j]...)
-	return &c, nil
 }
 
 // Resample returns s linearly interpolated onto grid, which must be

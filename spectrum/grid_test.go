@@ -33,22 +33,6 @@ func TestCheckGrid(t *testing.T) {
 	}
 }
 
-func TestCrop(t *testing.T) {
-	s := &Spectrum{Wavelengths: []float64{400, 401, 402, 403, 404}, Values: []float64{0, 1, 2, 3, 4}, Source: Source{File: "f.csv"}}
-	c, err := s.Crop(400.5, 403)
-	if err != nil || !equalFloats(c.Wavelengths, []float64{401, 402, 403}) || !equalFloats(c.Values, []float64{1, 2, 3}) {
-		t.Errorf("Crop = %v, %v", c, err)
-	}
-	c.Values[0] = 99
-	if s.Values[1] != 1 {
-		t.Error("Crop shares values with the original")
-	}
-	_, err = s.Crop(403.5, 410)
-	if !errors.Is(err, errOutOfRange) || !strings.Contains(err.Error(), "f.csv") || !strings.Contains(err.Error(), "400-404 nm") {
-		t.Errorf("narrow crop: %v", err)
-	}
-}
-
 func TestResampleLinear(t *testing.T) {
 	s := &Spectrum{Wavelengths: []float64{400, 402, 404}, Values: []float64{1, 3, 2}, Source: Source{File: "f.csv"}}
 	r, err := s.Resample([]float64{400, 401, 402, 403.5, 404})

@@ -278,11 +278,11 @@ func New() *Scenario {
 	return sc
 }
 
-// TrueAbsorbance returns the noise-free absorbance of scan at grid point
+// trueAbsorbance returns the noise-free absorbance of scan at grid point
 // nm, before the instrument's stray light: dyes, the unlisted dye and
 // turbidity scaled by path length and dilution, plus the product-base
 // background.
-func (sc *Scenario) TrueAbsorbance(s *Scan, nm float64) float64 {
+func (sc *Scenario) trueAbsorbance(s *Scan, nm float64) float64 {
 	dil := s.Dilution
 	if dil == 0 {
 		dil = 1

@@ -70,14 +70,14 @@ func TestMeasureNoiseFree(t *testing.T) {
 	sc := New()
 	sc.NoiseFloor, sc.NoiseT, sc.OffsetSD, sc.StrayLight = 0, 0, 0, 0
 	s := Scan{Name: "x", Conc: []float64{3, 5, 7, 1}, Dilution: 2, PathCM: 0.5}
-	got := sc.Measure(&s)
+	got := sc.measure(&s)
 	for i, nm := range sc.Grid {
 		var want float64
 		for k, d := range sc.Dyes {
 			want += d.Absorptivity(nm) * s.Conc[k]
 		}
 		want = want*0.5/2 + 0.5*sc.background(nm)
-		// Measure goes through T = 10^-A and back: a few ulps.
+		// measure goes through T = 10^-A and back: a few ulps.
 		if math.Abs(got[i]-want) > 1e-12 {
 			t.Fatalf("A(%g nm) = %g, want %g", nm, got[i], want)
 		}
@@ -91,10 +91,10 @@ func TestMeasureNoise(t *testing.T) {
 	sc := New()
 	sc.OffsetSD = 0
 	blank := sc.Standards[0]
-	got := sc.Measure(&blank)
+	got := sc.measure(&blank)
 	var ss float64
 	for i, nm := range sc.Grid {
-		d := got[i] - sc.TrueAbsorbance(&blank, nm)
+		d := got[i] - sc.trueAbsorbance(&blank, nm)
 		ss += d * d
 	}
 	sd := math.Sqrt(ss / float64(len(got)))
@@ -133,7 +133,7 @@ func TestScenarioShape(t *testing.T) {
 	peak := func(s *Scan) float64 {
 		m := 0.0
 		for _, nm := range sc.Grid {
-			m = max(m, sc.TrueAbsorbance(s, nm))
+			m = max(m, sc.trueAbsorbance(s, nm))
 		}
 		return m
 	}
@@ -193,7 +193,7 @@ func TestFilesReadBack(t *testing.T) {
 			if err := got.ToAbsorbance(); err != nil {
 				t.Fatal(err)
 			}
-			want := sc.Measure(s)
+			want := sc.measure(s)
 			if !spectrum.SameGrid(got.Wavelengths, sc.Grid) {
 				t.Fatalf("%s: grid %g-%g nm, %d points", s.Name, got.Wavelengths[0], got.Wavelengths[len(got.Wavelengths)-1], got.Len())
 			}

@@ -28,19 +28,19 @@ const (
 // transmittance noise, since dA = -log10(e) dT/T.
 const log10e = 0.43429448190325176
 
-// Measure returns the scan's absorbance readings on the grid as the
+// measure returns the scan's absorbance readings on the grid as the
 // scenario's instrument would report them: the true absorbance bent by
 // stray light, plus photometric noise and a random offset. The random
 // numbers come from a PCG seeded by the scenario seeds and the scan name,
 // so a scan reads the same on every run whatever else the scenario holds.
-func (sc *Scenario) Measure(s *Scan) []float64 {
+func (sc *Scenario) measure(s *Scan) []float64 {
 	h := fnv.New64a()
 	h.Write([]byte(s.Name))
 	rng := rand.New(rand.NewPCG(sc.Seed1, sc.Seed2^h.Sum64()))
 	offset := sc.OffsetSD * rng.NormFloat64()
 	out := make([]float64, len(sc.Grid))
 	for i, nm := range sc.Grid {
-		t := math.Pow(10, -sc.TrueAbsorbance(s, nm))
+		t := math.Pow(10, -sc.trueAbsorbance(s, nm))
 		a := -math.Log10((t + sc.StrayLight) / (1 + sc.StrayLight))
 		tn := log10e * sc.NoiseT * math.Pow(10, a)
 		sd := math.Sqrt(sc.NoiseFloor*sc.NoiseFloor + tn*tn)
@@ -140,20 +140,6 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	return written, nil
 }
 
-// SampleFiles returns the distinct sample scan files (relative paths) in
-// scenario order.
-func (sc *Scenario) SampleFiles() []string {
-	seen := map[string]bool{}
-	var out []string
-	for _, s := range sc.Samples {
-		if !seen[s.File] {
-			seen[s.File] = true
-			out = append(out, s.File)
-		}
-	}
-	return out
-}
-
 func num(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 
 func (sc *Scenario) header() string {
@@ -180,7 +166,7 @@ const (
 // spectrum returns the scan as measured, rounded to the instrument's
 // reading precision, in quantity q (Absorbance or PercentT).
 func (sc *Scenario) spectrum(s *Scan, q spectrum.Quantity) *spectrum.Spectrum {
-	v := sc.Measure(s)
+	v := sc.measure(s)
 	scale := absDigits
 	if q == spectrum.PercentT {
 		scale = pctTDigits
