@@ -68,7 +68,7 @@ func TestWriteCoversEverySheetEntry(t *testing.T) {
 // plus the product-base background.
 func TestMeasureNoiseFree(t *testing.T) {
 	sc := New()
-	sc.NoiseFloor, sc.NoiseT, sc.OffsetSD, sc.StrayLight = 0, 0, 0, 0
+	sc.noiseFloor, sc.noiseT, sc.offsetSD, sc.strayLight = 0, 0, 0, 0
 	s := Scan{Name: "x", Conc: []float64{3, 5, 7, 1}, Dilution: 2, PathCM: 0.5}
 	got := sc.measure(&s)
 	for i, nm := range sc.Grid {
@@ -89,7 +89,7 @@ func TestMeasureNoiseFree(t *testing.T) {
 // points: the SD estimate lies within ±12 % with probability above 0.99).
 func TestMeasureNoise(t *testing.T) {
 	sc := New()
-	sc.OffsetSD = 0
+	sc.offsetSD = 0
 	blank := sc.Standards[0]
 	got := sc.measure(&blank)
 	var ss float64
@@ -98,8 +98,8 @@ func TestMeasureNoise(t *testing.T) {
 		ss += d * d
 	}
 	sd := math.Sqrt(ss / float64(len(got)))
-	if math.Abs(sd/sc.NoiseFloor-1) > 0.12 {
-		t.Errorf("blank noise SD = %g, want about %g", sd, sc.NoiseFloor)
+	if math.Abs(sd/sc.noiseFloor-1) > 0.12 {
+		t.Errorf("blank noise SD = %g, want about %g", sd, sc.noiseFloor)
 	}
 }
 
@@ -201,7 +201,7 @@ func TestFilesReadBack(t *testing.T) {
 				// Rounding: 5e-6 A; %T to 1e-4 of a value near 100·10^-A
 				// gives dA = 0.434·5e-5/%T.
 				tol := 5.1e-6
-				if s.Form == PercentT {
+				if s.form == percentT {
 					tol = log10e * 0.5 / pctTDigits / (100 * math.Pow(10, -want[k])) * 1.01
 				}
 				if d := math.Abs(got.Values[k] - want[k]); d > tol {

@@ -36,14 +36,14 @@ const log10e = 0.43429448190325176
 func (sc *Scenario) measure(s *Scan) []float64 {
 	h := fnv.New64a()
 	h.Write([]byte(s.Name))
-	rng := rand.New(rand.NewPCG(sc.Seed1, sc.Seed2^h.Sum64()))
-	offset := sc.OffsetSD * rng.NormFloat64()
+	rng := rand.New(rand.NewPCG(sc.seed1, sc.seed2^h.Sum64()))
+	offset := sc.offsetSD * rng.NormFloat64()
 	out := make([]float64, len(sc.Grid))
 	for i, nm := range sc.Grid {
 		t := math.Pow(10, -sc.trueAbsorbance(s, nm))
-		a := -math.Log10((t + sc.StrayLight) / (1 + sc.StrayLight))
-		tn := log10e * sc.NoiseT * math.Pow(10, a)
-		sd := math.Sqrt(sc.NoiseFloor*sc.NoiseFloor + tn*tn)
+		a := -math.Log10((t + sc.strayLight) / (1 + sc.strayLight))
+		tn := log10e * sc.noiseT * math.Pow(10, a)
+		sd := math.Sqrt(sc.noiseFloor*sc.noiseFloor + tn*tn)
 		out[i] = a + offset + sd*rng.NormFloat64()
 	}
 	return out
@@ -79,20 +79,20 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	for _, s := range all {
 		var buf bytes.Buffer
 		var err error
-		switch s.Form {
-		case Wide:
+		switch s.form {
+		case formWide:
 			if _, ok := wide[s.File]; !ok {
 				wideOrder = append(wideOrder, s.File)
 			}
 			wide[s.File] = append(wide[s.File], s)
 			continue
-		case TwoColumn:
+		case twoColumn:
 			err = spectrum.WriteDelimited(&buf, []*spectrum.Spectrum{sc.spectrum(s, spectrum.Absorbance)},
 				spectrum.WriteOptions{Comments: []string{sc.comment("scan " + s.Name)}})
-		case PercentT:
+		case percentT:
 			err = spectrum.WriteDelimited(&buf, []*spectrum.Spectrum{sc.spectrum(s, spectrum.PercentT)},
 				spectrum.WriteOptions{Comments: []string{sc.comment("scan " + s.Name + ", percent transmittance")}})
-		case JCAMP:
+		case jcamp:
 			err = spectrum.WriteJCAMP(&buf, sc.spectrum(s, spectrum.Absorbance),
 				spectrum.JCAMPOptions{Compressed: true, Origin: sc.Lab + " (invented demo data)", Owner: "public domain"})
 		}
@@ -208,13 +208,13 @@ func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
 
 func (sc *Scenario) truth() []byte {
 	var b bytes.Buffer
-	b.WriteString("sample" + sc.header() + fmt.Sprintf(",%s (%s),turbidity_400nm,trouble,note\n", sc.Extra.Name, concUnit))
+	b.WriteString("sample" + sc.header() + fmt.Sprintf(",%s (%s),turbidity_400nm,trouble,note\n", sc.extra.Name, concUnit))
 	for _, s := range sc.Samples {
 		b.WriteString(s.Name)
 		for _, c := range s.Conc {
 			b.WriteString("," + num(c))
 		}
-		fmt.Fprintf(&b, ",%s,%s,%s,%q\n", num(s.Unlisted), num(s.Turbidity), s.Trouble, s.Note)
+		fmt.Fprintf(&b, ",%s,%s,%s,%q\n", num(s.unlisted), num(s.turbidity), s.Trouble, s.Note)
 	}
 	return b.Bytes()
 }
