@@ -67,7 +67,7 @@ func alsBackground(dst, y []float64, lambda, p float64) ([]float64, int, error) 
 
 // alsBaseline is alsBackground with the iteration cap as a parameter.
 func alsBaseline(dst, y []float64, lambda, p float64, maxIter int) ([]float64, int, error) {
-	if err := (Step{Kind: kindALS, Lambda: lambda, P: p}).Check(); err != nil {
+	if err := (Step{Kind: kindALS, Lambda: lambda, P: p}).check(); err != nil {
 		return nil, 0, err
 	}
 	if len(y) < 3 {

@@ -159,7 +159,7 @@ func (s Step) String() string {
 	return fmt.Sprintf("%s:?", s.Kind)
 }
 
-// Check reports whether the step's parameters are valid:
+// check reports whether the step's parameters are valid:
 //
 //	zero: LO and HI finite, LO <= HI
 //	als:  LAMBDA finite and > 0, 0 < P < 1
@@ -167,7 +167,7 @@ func (s Step) String() string {
 //
 // and that the fields the kind does not use are zero. Errors wrap
 // errStep.
-func (s Step) Check() error {
+func (s Step) check() error {
 	if bad := s.problem(); bad != "" {
 		return fmt.Errorf("%w %s: %s", errStep, s, bad)
 	}
@@ -242,7 +242,7 @@ func checkSG(window, order, deriv int) string {
 // or a derivative on a grid of absurdly small step) fails with errData.
 // Errors name the step; no partial result is returned.
 func (s Step) Apply(wl, y []float64) ([]float64, error) {
-	if err := s.Check(); err != nil {
+	if err := s.check(); err != nil {
 		return nil, err
 	}
 	if err := checkData(wl, y); err != nil {

@@ -76,7 +76,7 @@ func TestStepCheckStrayFields(t *testing.T) {
 		{Kind: "Zero", Lo: 1, Hi: 2},
 		{},
 	} {
-		if err := s.Check(); !errors.Is(err, errStep) {
+		if err := s.check(); !errors.Is(err, errStep) {
 			t.Errorf("%+v.Check() = %v, want errStep", s, err)
 		}
 		if _, err := s.Apply([]float64{1, 2, 3}, []float64{1, 2, 3}); !errors.Is(err, errStep) {

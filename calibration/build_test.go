@@ -42,7 +42,7 @@ func memSheet(names []string, grid []float64, conc, scan [][]float64) *Sheet {
 			File: fmt.Sprintf("std-%02d.csv", i+1), Line: i + 2, Conc: conc[i],
 			Scan: &spectrum.Spectrum{Wavelengths: grid, Values: scan[i], Quantity: spectrum.Absorbance,
 				Source: spectrum.Source{File: fmt.Sprintf("std-%02d.csv", i+1)}},
-			SHA256: strings.Repeat("0", 64),
+			scanSHA256: strings.Repeat("0", 64),
 		}
 		if allZero(conc[i]) {
 			sh.Blanks = append(sh.Blanks, r)

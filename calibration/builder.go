@@ -414,7 +414,7 @@ func (b *builder) standardsLeftOut(c *reference.Compound, k int, rows []int) {
 	seen := map[float64]bool{}
 	for _, i := range rows {
 		r := b.fit[i]
-		c.StandardsLeftOut = append(c.StandardsLeftOut, reference.Standard{File: r.File, Column: r.Column, SHA256: r.SHA256,
+		c.StandardsLeftOut = append(c.StandardsLeftOut, reference.Standard{File: r.File, Column: r.Column, SHA256: r.scanSHA256,
 			Conc: append([]float64(nil), r.Conc...), Line: r.Line})
 		if v := r.Conc[k]; !seen[v] {
 			seen[v] = true
@@ -440,7 +440,7 @@ func (b *builder) finish(set *reference.Set) (*reference.Set, error) {
 	prov.Created = now().UTC().Format(time.RFC3339)
 	for _, r := range append(append([]Row(nil), sh.Standards...), sh.Blanks...) {
 		prov.Standards = append(prov.Standards, reference.Standard{
-			File: r.File, Column: r.Column, SHA256: r.SHA256,
+			File: r.File, Column: r.Column, SHA256: r.scanSHA256,
 			Conc: append([]float64(nil), r.Conc...), Line: r.Line,
 		})
 	}

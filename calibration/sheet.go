@@ -39,8 +39,8 @@ type Row struct {
 	Conc []float64
 	// Scan is the standard's spectrum, in absorbance.
 	Scan *spectrum.Spectrum
-	// SHA256 is the hash of the scan file, lower-case hex.
-	SHA256 string
+	// scanSHA256 is the hash of the scan file, lower-case hex.
+	scanSHA256 string
 }
 
 // isBlank reports whether the row is a blank: every concentration zero.
@@ -241,7 +241,7 @@ func (ld *scanLoader) load(row *Row, cols sheetCols) error {
 		}
 		ld.cache[p] = got
 	}
-	row.SHA256 = got.sum
+	row.scanSHA256 = got.sum
 	sp, err := pickScan(got.scans, row.Column)
 	if err != nil {
 		if cols.column >= 0 {

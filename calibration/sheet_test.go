@@ -113,8 +113,8 @@ func TestReadSheet(t *testing.T) {
 				}
 				raw, _ := os.ReadFile(r.Path)
 				sum := sha256.Sum256(raw)
-				if r.SHA256 != hex.EncodeToString(sum[:]) {
-					t.Errorf("standard %d: sha256 %s", i, r.SHA256)
+				if r.scanSHA256 != hex.EncodeToString(sum[:]) {
+					t.Errorf("standard %d: sha256 %s", i, r.scanSHA256)
 				}
 			}
 			if sh.Standards[0].Line != map[string]int{"comma": 5, "semicolon decimal comma": 3, "tab quoted": 3}[c.name] {

@@ -38,8 +38,8 @@ func NewCSVWriter(w io.Writer, l Layout) *CSVWriter {
 	return &CSVWriter{w: bufio.NewWriter(w), l: l}
 }
 
-// Header returns the column names.
-func (c *CSVWriter) Header() []string {
+// columns returns the column names.
+func (c *CSVWriter) columns() []string {
 	h := []string{"sample", "source"}
 	for _, n := range c.l.Compounds {
 		for _, s := range []string{"conc", "se", "ci95_lo", "ci95_hi", "lod", "loq", "unconstrained", "unconstrained_se", "unit", "flags"} {
@@ -60,7 +60,7 @@ func (c *CSVWriter) writeHeader() error {
 	}
 	c.header = true
 	var b []byte
-	for i, h := range c.Header() {
+	for i, h := range c.columns() {
 		if i > 0 {
 			b = append(b, ',')
 		}

@@ -55,8 +55,8 @@ type Dye struct {
 	Levels []float64
 }
 
-// Absorptivity returns the dye's absorptivity (L mg⁻¹ cm⁻¹) at nm.
-func (d Dye) Absorptivity(nm float64) float64 {
+// absorptivity returns the dye's absorptivity (L mg⁻¹ cm⁻¹) at nm.
+func (d Dye) absorptivity(nm float64) float64 {
 	var a float64
 	for _, b := range d.bands {
 		a += b.At(nm)
@@ -97,10 +97,10 @@ type Scan struct {
 	// Name is the sample or scan name: the file base name, or the column
 	// name in a wide table.
 	Name string
-	// File is the path relative to the scenario folder.
-	File string
-	// Column is the column name within a wide table ("" otherwise).
-	Column string
+	// file is the path relative to the scenario folder.
+	file string
+	// column is the column name within a wide table ("" otherwise).
+	column string
 	form   scanForm
 	// Conc holds the concentration of each dye in Scenario.Dyes order, in
 	// mg/L, in the product (for samples: before any dilution).
@@ -112,8 +112,8 @@ type Scan struct {
 	turbidity float64
 	// Dilution is the dilution factor applied before scanning (1: none).
 	Dilution float64
-	// PathCM is the cell path length in cm.
-	PathCM float64
+	// pathCM is the cell path length in cm.
+	pathCM float64
 	// Trouble says what is wrong with a production sample.
 	Trouble Trouble
 	// Note tells the story of the sample in a few words.
@@ -128,12 +128,12 @@ type Scenario struct {
 	Dyes []Dye
 	// extra is a dye the references do not hold.
 	extra Dye
-	// Grid is the wavelength grid of every scan (nm).
-	Grid []float64
+	// grid is the wavelength grid of every scan (nm).
+	grid []float64
 	// Standards are the calibration standards, blanks first.
 	Standards []Scan
-	// Blank is the blank scanned with the production samples.
-	Blank Scan
+	// blank is the blank scanned with the production samples.
+	blank Scan
 	// Checks are the check standards of known composition.
 	Checks []Scan
 	// Samples are the production samples.
@@ -180,7 +180,7 @@ func New() *Scenario {
 		seed2:       7,
 	}
 	for nm := gridLoNM; nm <= gridHiNM; nm += gridStepNM {
-		sc.Grid = append(sc.Grid, float64(nm))
+		sc.grid = append(sc.grid, float64(nm))
 	}
 	nd := len(sc.Dyes)
 	conc := func(vals ...float64) []float64 {
@@ -193,8 +193,8 @@ func New() *Scenario {
 	// each dye alone at six levels in duplicate, and two mixed standards.
 	for i := 1; i <= 2; i++ {
 		sc.Standards = append(sc.Standards, Scan{
-			Name: "blank-" + strconv.Itoa(i), File: "standards/blank-" + strconv.Itoa(i) + ".csv",
-			Conc: conc(), Dilution: 1, PathCM: 1, Note: "uncoloured product base"})
+			Name: "blank-" + strconv.Itoa(i), file: "standards/blank-" + strconv.Itoa(i) + ".csv",
+			Conc: conc(), Dilution: 1, pathCM: 1, Note: "uncoloured product base"})
 	}
 	for k, d := range sc.Dyes {
 		for _, lv := range d.Levels {
@@ -203,35 +203,35 @@ func New() *Scenario {
 				c := conc()
 				c[k] = lv
 				sc.Standards = append(sc.Standards, Scan{
-					Name: name, File: "standards/" + name + ".csv",
-					Conc: c, Dilution: 1, PathCM: 1})
+					Name: name, file: "standards/" + name + ".csv",
+					Conc: c, Dilution: 1, pathCM: 1})
 			}
 		}
 	}
 	sc.Standards = append(sc.Standards,
-		Scan{Name: "mix-1", File: "standards/mix-1.csv", Conc: conc(8, 0, 0, 2), Dilution: 1, PathCM: 1,
+		Scan{Name: "mix-1", file: "standards/mix-1.csv", Conc: conc(8, 0, 0, 2), Dilution: 1, pathCM: 1,
 			Note: "mixed standard"},
-		Scan{Name: "mix-2", File: "standards/mix-2.csv", Conc: conc(0, 6, 6, 0), Dilution: 1, PathCM: 1,
+		Scan{Name: "mix-2", file: "standards/mix-2.csv", Conc: conc(0, 6, 6, 0), Dilution: 1, pathCM: 1,
 			Note: "mixed standard"},
 	)
 
 	// Check standards: independently prepared mixtures, in one wide table
 	// that starts with a blank scanned in the same run.
-	sc.Checks = append(sc.Checks, Scan{Name: "blank", File: "checks/check-run.csv", Column: "blank",
-		form: formWide, Conc: conc(), Dilution: 1, PathCM: 1, Note: "uncoloured product base"})
+	sc.Checks = append(sc.Checks, Scan{Name: "blank", file: "checks/check-run.csv", column: "blank",
+		form: formWide, Conc: conc(), Dilution: 1, pathCM: 1, Note: "uncoloured product base"})
 	for i, c := range [][]float64{
 		conc(10, 5, 5, 1.5), conc(10, 5, 5, 1.5),
 		conc(4, 12, 3, 0), conc(4, 12, 3, 0),
 		conc(0, 3, 14, 3), conc(0, 3, 14, 3),
 	} {
 		name := "chk-" + strconv.Itoa(i/2+1) + string(rune('a'+i%2))
-		sc.Checks = append(sc.Checks, Scan{Name: name, File: "checks/check-run.csv", Column: name,
-			form: formWide, Conc: c, Dilution: 1, PathCM: 1})
+		sc.Checks = append(sc.Checks, Scan{Name: name, file: "checks/check-run.csv", column: name,
+			form: formWide, Conc: c, Dilution: 1, pathCM: 1})
 	}
 
 	// Production samples, with a blank of the product base scanned in
 	// the same run.
-	sc.Blank = Scan{Name: "blank", File: BlankFile, Conc: conc(), Dilution: 1, PathCM: 1,
+	sc.blank = Scan{Name: "blank", file: BlankFile, Conc: conc(), Dilution: 1, pathCM: 1,
 		Note: "uncoloured product base, scanned with the samples"}
 	s := func(name string, form scanForm, c []float64, trouble Trouble, note string) Scan {
 		file := "samples/" + name + ".csv"
@@ -247,7 +247,7 @@ func New() *Scenario {
 		if form == formWide {
 			col = name
 		}
-		return Scan{Name: name, File: file, Column: col, form: form, Conc: c, Dilution: 1, PathCM: 1,
+		return Scan{Name: name, file: file, column: col, form: form, Conc: c, Dilution: 1, pathCM: 1,
 			Trouble: trouble, Note: note}
 	}
 	lime := s("lot-104", twoColumn, conc(18, 0, 0, 3.6), Normal, "lime; diluted 1+1 before scanning")
@@ -290,16 +290,16 @@ func (sc *Scenario) trueAbsorbance(s *Scan, nm float64) float64 {
 	var a float64
 	for k, d := range sc.Dyes {
 		if s.Conc[k] != 0 {
-			a += d.Absorptivity(nm) * s.Conc[k]
+			a += d.absorptivity(nm) * s.Conc[k]
 		}
 	}
-	a += sc.extra.Absorptivity(nm) * s.unlisted
-	a = a * s.PathCM / dil
+	a += sc.extra.absorptivity(nm) * s.unlisted
+	a = a * s.pathCM / dil
 	if s.turbidity != 0 {
 		r := 400 / nm
 		a += s.turbidity * r * r * r * r
 	}
-	return a + sc.background(nm)*s.PathCM
+	return a + sc.background(nm)*s.pathCM
 }
 
 // background is the absorbance of the uncoloured product base per cm.

@@ -38,8 +38,8 @@ func (sc *Scenario) measure(s *Scan) []float64 {
 	h.Write([]byte(s.Name))
 	rng := rand.New(rand.NewPCG(sc.seed1, sc.seed2^h.Sum64()))
 	offset := sc.offsetSD * rng.NormFloat64()
-	out := make([]float64, len(sc.Grid))
-	for i, nm := range sc.Grid {
+	out := make([]float64, len(sc.grid))
+	for i, nm := range sc.grid {
 		t := math.Pow(10, -sc.trueAbsorbance(s, nm))
 		a := -math.Log10((t + sc.strayLight) / (1 + sc.strayLight))
 		tn := log10e * sc.noiseT * math.Pow(10, a)
@@ -71,7 +71,7 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	wide := map[string][]*Scan{}
 	var wideOrder []string
 	all := make([]*Scan, 0, len(sc.Standards)+len(sc.Checks)+len(sc.Samples)+1)
-	for _, group := range [][]Scan{sc.Standards, sc.Checks, {sc.Blank}, sc.Samples} {
+	for _, group := range [][]Scan{sc.Standards, sc.Checks, {sc.blank}, sc.Samples} {
 		for i := range group {
 			all = append(all, &group[i])
 		}
@@ -81,10 +81,10 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 		var err error
 		switch s.form {
 		case formWide:
-			if _, ok := wide[s.File]; !ok {
-				wideOrder = append(wideOrder, s.File)
+			if _, ok := wide[s.file]; !ok {
+				wideOrder = append(wideOrder, s.file)
 			}
-			wide[s.File] = append(wide[s.File], s)
+			wide[s.file] = append(wide[s.file], s)
 			continue
 		case twoColumn:
 			err = spectrum.WriteDelimited(&buf, []*spectrum.Spectrum{sc.spectrum(s, spectrum.Absorbance)},
@@ -97,10 +97,10 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 				spectrum.JCAMPOptions{Compressed: true, Origin: sc.Lab + " (invented demo data)", Owner: "public domain"})
 		}
 		if err == nil {
-			err = put(s.File, buf.Bytes())
+			err = put(s.file, buf.Bytes())
 		}
 		if err != nil {
-			return written, fmt.Errorf("demo: %s: %w", s.File, err)
+			return written, fmt.Errorf("demo: %s: %w", s.file, err)
 		}
 	}
 	for _, f := range wideOrder {
@@ -129,7 +129,7 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	var b bytes.Buffer
 	b.WriteString("sample,dilution,path_cm\n")
 	for _, s := range sc.Samples {
-		fmt.Fprintf(&b, "%s,%s,%s\n", s.Name, num(s.Dilution), num(s.PathCM))
+		fmt.Fprintf(&b, "%s,%s,%s\n", s.Name, num(s.Dilution), num(s.pathCM))
 	}
 	if err := put(SampleSheet, b.Bytes()); err != nil {
 		return written, err
@@ -178,11 +178,11 @@ func (sc *Scenario) spectrum(s *Scan, q spectrum.Quantity) *spectrum.Spectrum {
 		v[i] = math.Round(v[i]*scale) / scale
 	}
 	name := s.Name
-	if s.Column != "" {
-		name = s.Column
+	if s.column != "" {
+		name = s.column
 	}
-	return &spectrum.Spectrum{Name: name, Wavelengths: sc.Grid, Values: v, Quantity: q,
-		Source: spectrum.Source{File: s.File}}
+	return &spectrum.Spectrum{Name: name, Wavelengths: sc.grid, Values: v, Quantity: q,
+		Source: spectrum.Source{File: s.file}}
 }
 
 func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
@@ -194,9 +194,9 @@ func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
 	}
 	b.WriteString(sc.header() + "\n")
 	for _, s := range scans {
-		b.WriteString(s.File)
+		b.WriteString(s.file)
 		if withColumn {
-			b.WriteString("," + s.Column)
+			b.WriteString("," + s.column)
 		}
 		for _, c := range s.Conc {
 			b.WriteString("," + num(c))
