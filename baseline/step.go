@@ -57,7 +57,7 @@ type Step struct {
 
 // ParseStep reads the command-line form: "zero:LO-HI", "als:LAMBDA,P",
 // "sg:WINDOW,ORDER[,DERIV]". Case and spaces around the parts are
-// ignored. The parameters are checked as by [Step.Check], and a
+// ignored. The parameters are checked as by Step.check, and a
 // Savitzky-Golay filter must also be one newSavitzkyGolay accepts;
 // errors wrap errStep and quote the input.
 func ParseStep(s string) (Step, error) {
