@@ -195,8 +195,10 @@ func (f *savitzkyGolay) FilterTo(dst, y []float64, step float64) error {
 // Savitzky-Golay filter at the window's centre, listed from offset -m to
 // m (m = window/2): the filtered value at point j is Σ c_i y_(j+i). A
 // derivative is per sample step (divide by step^deriv for spacing step)
-// and the second derivative includes the factor 2!. Errors are those of
-// newSavitzkyGolay.
+// and the second derivative includes the factor 2!. window must be odd
+// and at least 3, 0 <= order < window, and deriv 0 (smoothing), 1 or 2
+// and at most order; derivative weights that would multiply white noise
+// by more than a million are refused.
 func SavitzkyGolayWeights(window, order, deriv int) ([]float64, error) {
 	f, err := newSavitzkyGolay(window, order, deriv)
 	if err != nil {

@@ -51,15 +51,15 @@ type ReadOptions struct {
 	// discards them.
 	Warn func(msg string)
 	// MaxLineBytes bounds the length of one line; a longer line is an
-	// error. Zero means defaultMaxLineBytes.
+	// error. Zero means 64 MiB.
 	MaxLineBytes int
 	// MaxColumns bounds the number of columns of a delimited table; a
-	// wider table is an error. Zero means defaultMaxColumns.
+	// wider table is an error. Zero means 1,048,576 (2^20).
 	MaxColumns int
 	// MaxFileBytes bounds the size of a file ReadFile reads; a larger
 	// file is refused before it is read (a pipe, whose size is not known,
 	// or a file that grows while it is read, fails when it passes the
-	// bound). Zero means defaultMaxFileBytes.
+	// bound). Zero means 1 GiB.
 	MaxFileBytes int64
 
 	// sizeHint is the input size in bytes when known (ReadFile sets it);

@@ -45,9 +45,9 @@ import (
 type Options struct {
 	// What names the kind of sheet in messages ("sample sheet").
 	What string
-	// MaxBytes bounds the size of the sheet; zero means defaultMaxBytes.
+	// MaxBytes bounds the size of the sheet; zero means 64 MiB.
 	MaxBytes int64
-	// MaxLine bounds the length of one line; zero means defaultMaxLine.
+	// MaxLine bounds the length of one line; zero means 64 KiB.
 	MaxLine int
 	// Warn receives warnings, already prefixed with file:line; nil
 	// discards them.
