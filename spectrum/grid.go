@@ -137,7 +137,8 @@ func checkInside(wl, grid []float64) error {
 // [wl[0], wl[len-1]] (up to GridSlack of the span, so a grid read from a
 // file with rounded wavelengths still matches); otherwise the error wraps
 // errOutOfRange and names both ranges. It panics if len(dst) != len(grid)
-// or len(wl) != len(y).
+// or len(wl) != len(y): the caller sizes dst and pairs wl with y, so a
+// mismatch is a programming error, never a property of the input.
 func ResampleTo(dst, wl, y, grid []float64) error {
 	if len(dst) != len(grid) || len(wl) != len(y) {
 		panic("spectrum: ResampleTo length mismatch")
