@@ -85,7 +85,7 @@ func ParseStep(s string) (Step, error) {
 		lo, err1 := parseFloat(args[:cut])
 		hi, err2 := parseFloat(args[cut+1:])
 		if err := errors.Join(err1, err2); err != nil {
-			return Step{}, fmt.Errorf("%w %q: %v", errStep, s, err)
+			return Step{}, fmt.Errorf("%w %q: %w", errStep, s, err)
 		}
 		st = Step{Kind: kindZero, Lo: lo, Hi: hi}
 	case kindALS:
@@ -96,7 +96,7 @@ func ParseStep(s string) (Step, error) {
 		lambda, err1 := parseFloat(f[0])
 		p, err2 := parseFloat(f[1])
 		if err := errors.Join(err1, err2); err != nil {
-			return Step{}, fmt.Errorf("%w %q: %v", errStep, s, err)
+			return Step{}, fmt.Errorf("%w %q: %w", errStep, s, err)
 		}
 		st = Step{Kind: kindALS, Lambda: lambda, P: p}
 	case kindSG:

@@ -247,7 +247,7 @@ func (ld *scanLoader) load(row *Row, cols sheetCols) error {
 		if cols.column >= 0 {
 			col = cols.column + 1
 		}
-		return ld.errAt(line, col, "%w: %s: %v", errScanFile, p, err)
+		return ld.errAt(line, col, "%w: %s: %w", errScanFile, p, err)
 	}
 	sp = sp.Clone()
 	if err := sp.ToAbsorbance(); err != nil {

@@ -296,7 +296,7 @@ func (j *jcampReader) number(label string) (v float64, rec *jcampRecord, ok bool
 	f := strings.TrimSpace(rec.value)
 	v, _, err = parseNumber([]byte(f), false)
 	if err != nil {
-		return 0, rec, false, j.errAt(rec.line, 0, "##%s=%s: %v", rec.raw, clip(f), err)
+		return 0, rec, false, j.errAt(rec.line, 0, "##%s=%s: %w", rec.raw, clip(f), err)
 	}
 	return v, rec, true, nil
 }
@@ -527,7 +527,7 @@ func (j *jcampReader) xydata(xf, yf float64) (x, y []float64, err error) {
 			if errors.As(err, &ce) {
 				return nil, nil, j.errAt(dl.line, ce.col, "%w", ce.err)
 			}
-			return nil, nil, j.errAt(dl.line, 0, "%v", err)
+			return nil, nil, j.errAt(dl.line, 0, "%w", err)
 		}
 		if len(d.ys) > npts {
 			return nil, nil, j.errAt(dl.line, 0, "the table holds more points than ##NPOINTS=%d", npts)
@@ -604,7 +604,7 @@ func (j *jcampReader) xypoints(xf, yf float64) (x, y []float64, err error) {
 				if line[pos] == '?' {
 					err = fmt.Errorf("missing value '?': %w", errNotSupported)
 				}
-				return nil, nil, j.errAt(dl.line, pos+1, "%v", err)
+				return nil, nil, j.errAt(dl.line, pos+1, "%w", err)
 			}
 			if !odd {
 				if len(x) >= limit {
