@@ -39,7 +39,7 @@ const alsCondLimit = 1e14
 // the inverse, so a few passes settle the estimate to a few per cent.
 const alsInvIter = 6
 
-// ALSBaseline estimates a smooth background z under y by asymmetric least
+// alsBackground estimates a smooth background z under y by asymmetric least
 // squares (P. H. C. Eilers & H. F. M. Boelens, "Baseline correction with
 // asymmetric least squares smoothing", 2005): it minimises
 //
@@ -56,22 +56,22 @@ const alsInvIter = 6
 //
 // The background is written to dst (allocated if nil or of the wrong
 // length) and returned with the number of iterations. Errors: lambda not
-// positive and finite or p outside (0, 1) wrap [ErrStep]; fewer than 3
-// points or a non-finite y wrap [ErrData]; a system too ill-conditioned
+// positive and finite or p outside (0, 1) wrap errStep; fewer than 3
+// points or a non-finite y wrap errData; a system too ill-conditioned
 // to solve (lambda far too large for the number of points) wraps
-// [ErrData]; weights still changing at the cap wrap [ErrNoConvergence]
+// errData; weights still changing at the cap wrap errNoConvergence
 // and dst then holds the last estimate.
-func ALSBaseline(dst, y []float64, lambda, p float64) ([]float64, int, error) {
+func alsBackground(dst, y []float64, lambda, p float64) ([]float64, int, error) {
 	return alsBaseline(dst, y, lambda, p, alsMaxIter)
 }
 
-// alsBaseline is ALSBaseline with the iteration cap as a parameter.
+// alsBaseline is alsBackground with the iteration cap as a parameter.
 func alsBaseline(dst, y []float64, lambda, p float64, maxIter int) ([]float64, int, error) {
-	if err := (Step{Kind: KindALS, Lambda: lambda, P: p}).Check(); err != nil {
+	if err := (Step{Kind: kindALS, Lambda: lambda, P: p}).check(); err != nil {
 		return nil, 0, err
 	}
 	if len(y) < 3 {
-		return nil, 0, fmt.Errorf("%w: asymmetric least squares needs at least 3 points, have %d", ErrData, len(y))
+		return nil, 0, fmt.Errorf("%w: asymmetric least squares needs at least 3 points, have %d", errData, len(y))
 	}
 	if err := checkData(y, y); err != nil {
 		return nil, 0, err
@@ -111,7 +111,7 @@ func alsBaseline(dst, y []float64, lambda, p float64, maxIter int) ([]float64, i
 		anorm = bandNorm(band, n)
 		var ok bool
 		if factor, ok = lapack64.Pbtrf(a); !ok {
-			return nil, it, fmt.Errorf("%w: asymmetric least squares system is not positive definite (lambda %g too large?)", ErrData, lambda)
+			return nil, it, fmt.Errorf("%w: asymmetric least squares system is not positive definite (lambda %g too large?)", errData, lambda)
 		}
 		lapack64.Pbtrs(factor, z)
 		changed := false
@@ -134,11 +134,11 @@ func alsBaseline(dst, y []float64, lambda, p float64, maxIter int) ([]float64, i
 		}
 	}
 	if c := anorm * invNormEstimate(factor); c > alsCondLimit {
-		return nil, it, fmt.Errorf("%w: asymmetric least squares system is ill-conditioned (condition about %.2g; lower lambda %g)", ErrData, c, lambda)
+		return nil, it, fmt.Errorf("%w: asymmetric least squares system is ill-conditioned (condition about %.2g; lower lambda %g)", errData, c, lambda)
 	}
 	if !converged {
 		// The weights changed on the last pass: no fixed point.
-		return dst, it, fmt.Errorf("%w: weights still changing after %d iterations (lambda %g, p %g)", ErrNoConvergence, maxIter, lambda, p)
+		return dst, it, fmt.Errorf("%w: weights still changing after %d iterations (lambda %g, p %g)", errNoConvergence, maxIter, lambda, p)
 	}
 	return dst, it, nil
 }
@@ -187,7 +187,7 @@ func alsSubtract(wl, y []float64, lambda, p float64) ([]float64, error) {
 	if err := checkMonotonic(wl); err != nil {
 		return nil, err
 	}
-	z, _, err := ALSBaseline(nil, y, lambda, p)
+	z, _, err := alsBackground(nil, y, lambda, p)
 	if err != nil {
 		return nil, err
 	}

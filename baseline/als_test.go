@@ -83,7 +83,7 @@ func TestALSSciPy(t *testing.T) {
 	_, _, y, cases := readALS(t)
 	var worst float64
 	for _, c := range cases {
-		z, it, err := ALSBaseline(nil, y, c.lambda, c.p)
+		z, it, err := alsBackground(nil, y, c.lambda, c.p)
 		if err != nil {
 			t.Fatalf("%s:%d: %v", alsFixture, c.line, err)
 		}
@@ -114,7 +114,7 @@ const (
 // stated tolerances, and Apply leaves the bands on a flat zero line.
 func TestALSRecovery(t *testing.T) {
 	x, background, y, _ := readALS(t)
-	z, _, err := ALSBaseline(nil, y, 1e5, 0.01)
+	z, _, err := alsBackground(nil, y, 1e5, 0.01)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -135,7 +135,7 @@ func TestALSRecovery(t *testing.T) {
 		t.Errorf("|z - background|: max %.4g, inside %.4g, RMS %.4g; want <= %g, %g, %g",
 			worst, inner, rms, alsRecoveryMax, alsRecoveryIn, alsRecoveryRMS)
 	}
-	treated, err := Step{Kind: KindALS, Lambda: 1e5, P: 0.01}.Apply(x, y)
+	treated, err := Step{Kind: kindALS, Lambda: 1e5, P: 0.01}.Apply(x, y)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -167,38 +167,38 @@ func TestALSErrors(t *testing.T) {
 		lambda, p float64
 		want      error
 	}{
-		{"two points", []float64{1, 2}, 10, 0.01, ErrData},
-		{"lambda 0", y, 0, 0.01, ErrStep},
-		{"p 1", y, 10, 1, ErrStep},
-		{"NaN", []float64{1, math.NaN(), 3}, 10, 0.01, ErrData},
+		{"two points", []float64{1, 2}, 10, 0.01, errData},
+		{"lambda 0", y, 0, 0.01, errStep},
+		{"p 1", y, 10, 1, errStep},
+		{"NaN", []float64{1, math.NaN(), 3}, 10, 0.01, errData},
 		{"ok", y, 10, 0.01, nil},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
-			_, _, err := ALSBaseline(nil, tc.y, tc.lambda, tc.p)
+			_, _, err := alsBackground(nil, tc.y, tc.lambda, tc.p)
 			if !errors.Is(err, tc.want) || (tc.want == nil) != (err == nil) {
-				t.Errorf("ALSBaseline = %v, want %v", err, tc.want)
+				t.Errorf("alsBackground = %v, want %v", err, tc.want)
 			}
 		})
 	}
 	// lambda far too large for the data: the condition estimate (about
 	// 10 lambda/p for these 500 points) exceeds alsCondLimit.
 	_, _, yy, _ := readALS(t)
-	if _, _, err := ALSBaseline(nil, yy, 1e13, 0.01); !errors.Is(err, ErrData) {
-		t.Errorf("lambda 1e13: %v, want ErrData (ill-conditioned)", err)
+	if _, _, err := alsBackground(nil, yy, 1e13, 0.01); !errors.Is(err, errData) {
+		t.Errorf("lambda 1e13: %v, want errData (ill-conditioned)", err)
 	}
-	if _, _, err := ALSBaseline(nil, yy, 1e9, 0.001); err != nil {
+	if _, _, err := alsBackground(nil, yy, 1e9, 0.001); err != nil {
 		t.Errorf("lambda 1e9, p 0.001: %v", err)
 	}
 	// The cap: the fixture case needs 6 passes, so 2 must fail and still
 	// hand back the estimate.
 	z2, it, err := alsBaseline(nil, yy, 1e5, 0.01, 2)
-	if !errors.Is(err, ErrNoConvergence) || it != 2 || len(z2) != len(yy) {
-		t.Errorf("cap 2: %d passes, %d values, %v; want ErrNoConvergence after 2", it, len(z2), err)
+	if !errors.Is(err, errNoConvergence) || it != 2 || len(z2) != len(yy) {
+		t.Errorf("cap 2: %d passes, %d values, %v; want errNoConvergence after 2", it, len(z2), err)
 	}
 	// A straight line is its own background for any lambda: the second
 	// differences vanish, so z = y solves the system with zero residual.
 	line := []float64{0.1, 0.2, 0.3, 0.4, 0.5, 0.6}
-	z, _, err := ALSBaseline(nil, line, 1e4, 0.01)
+	z, _, err := alsBackground(nil, line, 1e4, 0.01)
 	if err != nil {
 		t.Fatal(err)
 	}

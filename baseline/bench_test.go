@@ -26,7 +26,7 @@ func BenchmarkALS(b *testing.B) {
 			dst := make([]float64, n)
 			iters := 0
 			for b.Loop() {
-				_, it, err := ALSBaseline(dst, y, 1e5, 0.01)
+				_, it, err := alsBackground(dst, y, 1e5, 0.01)
 				if err != nil {
 					b.Fatal(err)
 				}
@@ -41,7 +41,7 @@ func BenchmarkSavitzkyGolay(b *testing.B) {
 	for _, w := range []int{11, 51} {
 		b.Run(fmt.Sprintf("n=2000/window=%d", w), func(b *testing.B) {
 			_, y := benchSpectrum(2000)
-			f, err := NewSavitzkyGolay(w, 3, 1)
+			f, err := newSavitzkyGolay(w, 3, 1)
 			if err != nil {
 				b.Fatal(err)
 			}
@@ -57,7 +57,7 @@ func BenchmarkSavitzkyGolay(b *testing.B) {
 
 func BenchmarkStepApplySG(b *testing.B) {
 	wl, y := benchSpectrum(2000)
-	st := Step{Kind: KindSG, Window: 21, Order: 3, Deriv: 2}
+	st := Step{Kind: kindSG, Window: 21, Order: 3, Deriv: 2}
 	for b.Loop() {
 		if _, err := st.Apply(wl, y); err != nil {
 			b.Fatal(err)

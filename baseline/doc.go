@@ -77,7 +77,7 @@
 //     sharpen overlapping bands. Trade-off: smoothing with a window wider
 //     than about half a band's width flattens and broadens the band, and
 //     derivatives amplify noise, more so for the second derivative and
-//     small windows. The grid must be even (see [GridTolerance]). At the
+//     small windows. The grid must be even (see gridTolerance). At the
 //     ends, where a centred window does not fit, the polynomial fitted to
 //     the first (last) WINDOW points is evaluated at the first (last)
 //     WINDOW/2 points, so a polynomial of degree <= ORDER passes through

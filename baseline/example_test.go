@@ -15,7 +15,10 @@ func ExampleParseModel() {
 	fmt.Println(m)
 	// The middle of 300..500 nm is 400 nm: t runs from -1 to 1, and the
 	// scattering column is 1 at 400 nm.
-	cols, nonneg, names := m.Columns([]float64{300, 350, 400, 450, 500})
+	cols, nonneg, names, err := m.Columns([]float64{300, 350, 400, 450, 500})
+	if err != nil {
+		log.Fatal(err)
+	}
 	for j, c := range cols {
 		fmt.Printf("%-7s non-negative=%-5v %.4f\n", names[j], nonneg[j], c)
 	}

@@ -35,10 +35,10 @@ const invarianceTol = 1e-9
 // and returns the result and the column names.
 func fitMixture(t *testing.T, wl, y []float64, m baseline.Model) (*lsq.Result, []string) {
 	t.Helper()
-	if err := m.Check(wl); err != nil {
+	cols, nonneg, names, err := m.Columns(wl)
+	if err != nil {
 		t.Fatal(err)
 	}
-	cols, nonneg, names := m.Columns(wl)
 	p := len(bandCentre) + len(cols)
 	x := mat.NewDense(len(wl), p, nil)
 	nn := make([]bool, p)

@@ -11,20 +11,20 @@ import (
 	"huesolve/internal/pkgerr"
 )
 
-// DefaultScatterPower is the exponent of the scattering term when none is
+// defaultScatterPower is the exponent of the scattering term when none is
 // given: λ^-4, Rayleigh scattering by particles much smaller than the
 // wavelength (common practice).
-const DefaultScatterPower = 4
+const defaultScatterPower = 4
 
 // maxScatterPower bounds the user-set scattering exponent. Physical
 // turbidity exponents lie between about 0 and 4 (common practice); the
 // bound only guards the column against overflow and typing errors.
 const maxScatterPower = 8
 
-// ErrModel reports an invalid [Model]: a degree outside -1..3, a
+// errModel reports an invalid [Model]: a degree outside -1..3, a
 // scattering power that is not positive and finite, or a grid the
 // columns cannot be built on.
-var ErrModel = pkgerr.New("baseline", "invalid model")
+var errModel = pkgerr.New("baseline", "invalid model")
 
 // Model chooses the nuisance columns added to a fit.
 //
@@ -36,7 +36,7 @@ type Model struct {
 	Degree int `json:"degree"`
 	// Scatter adds a column proportional to wavelength^-ScatterPower,
 	// constrained non-negative. ScatterPower 0 means
-	// DefaultScatterPower.
+	// defaultScatterPower.
 	Scatter      bool    `json:"scatter"`
 	ScatterPower float64 `json:"scatter_power,omitempty"`
 }
@@ -51,7 +51,7 @@ var columnNames = [...]string{"offset", "slope", "curve2", "curve3"}
 // "quadratic", "cubic", optionally followed by "+scatter" or
 // "+scatter=P" (P the power, default 4). Case and surrounding spaces are
 // ignored. The returned model has ScatterPower set whenever Scatter is.
-// Errors wrap [ErrModel] and quote the input.
+// Errors wrap errModel and quote the input.
 func ParseModel(s string) (Model, error) {
 	in := strings.ToLower(strings.TrimSpace(s))
 	base, rest, hasPlus := strings.Cut(in, "+")
@@ -63,24 +63,24 @@ func ParseModel(s string) (Model, error) {
 		}
 	}
 	if m.Degree == -2 {
-		return Model{}, fmt.Errorf("%w %q: want none, offset, linear, quadratic or cubic, optionally +scatter or +scatter=POWER", ErrModel, s)
+		return Model{}, fmt.Errorf("%w %q: want none, offset, linear, quadratic or cubic, optionally +scatter or +scatter=POWER", errModel, s)
 	}
 	if !hasPlus {
 		return m, nil
 	}
 	term, val, hasVal := strings.Cut(strings.TrimSpace(rest), "=")
 	if strings.TrimSpace(term) != "scatter" {
-		return Model{}, fmt.Errorf("%w %q: unknown term %q after '+' (want scatter or scatter=POWER)", ErrModel, s, strings.TrimSpace(rest))
+		return Model{}, fmt.Errorf("%w %q: unknown term %q after '+' (want scatter or scatter=POWER)", errModel, s, strings.TrimSpace(rest))
 	}
 	m.Scatter = true
-	m.ScatterPower = DefaultScatterPower
+	m.ScatterPower = defaultScatterPower
 	if hasVal {
 		p, err := strconv.ParseFloat(strings.TrimSpace(val), 64)
 		if err != nil {
-			return Model{}, fmt.Errorf("%w %q: scattering power %q is not a number", ErrModel, s, val)
+			return Model{}, fmt.Errorf("%w %q: scattering power %q is not a number", errModel, s, val)
 		}
 		if p == 0 {
-			return Model{}, fmt.Errorf("%w %q: scattering power must be positive", ErrModel, s)
+			return Model{}, fmt.Errorf("%w %q: scattering power must be positive", errModel, s)
 		}
 		m.ScatterPower = p
 	}
@@ -101,7 +101,7 @@ func (m Model) String() string {
 	}
 	if m.Scatter {
 		b.WriteString("+scatter")
-		if p := m.power(); p != DefaultScatterPower {
+		if p := m.power(); p != defaultScatterPower {
 			b.WriteString("=" + strconv.FormatFloat(p, 'g', -1, 64))
 		}
 	}
@@ -111,7 +111,7 @@ func (m Model) String() string {
 // power is the effective scattering exponent.
 func (m Model) power() float64 {
 	if m.ScatterPower == 0 {
-		return DefaultScatterPower
+		return defaultScatterPower
 	}
 	return m.ScatterPower
 }
@@ -119,12 +119,12 @@ func (m Model) power() float64 {
 // checkParams checks the model without a grid.
 func (m Model) checkParams() error {
 	if m.Degree < -1 || m.Degree > 3 {
-		return fmt.Errorf("%w: polynomial degree %d outside -1..3", ErrModel, m.Degree)
+		return fmt.Errorf("%w: polynomial degree %d outside -1..3", errModel, m.Degree)
 	}
 	if m.Scatter {
 		p := m.power()
 		if math.IsNaN(p) || p <= 0 || p > maxScatterPower {
-			return fmt.Errorf("%w: scattering power %g outside (0, %d]", ErrModel, p, maxScatterPower)
+			return fmt.Errorf("%w: scattering power %g outside (0, %d]", errModel, p, maxScatterPower)
 		}
 	}
 	return nil
@@ -144,26 +144,26 @@ func (m Model) NumColumns() int {
 
 // Check reports whether Columns can be built on the grid wl (nm): the
 // model's parameters must be valid, wl non-empty and finite, and, with
-// the scattering term, every wavelength positive. Errors wrap [ErrModel].
+// the scattering term, every wavelength positive. Errors wrap errModel.
 func (m Model) Check(wl []float64) error {
 	if err := m.checkParams(); err != nil {
 		return err
 	}
 	if len(wl) == 0 {
-		return fmt.Errorf("%w: empty wavelength grid", ErrModel)
+		return fmt.Errorf("%w: empty wavelength grid", errModel)
 	}
 	for i, v := range wl {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return fmt.Errorf("%w: wavelength %d is %v", ErrModel, i, v)
+			return fmt.Errorf("%w: wavelength %d is %v", errModel, i, v)
 		}
 		if m.Scatter && v <= 0 {
-			return fmt.Errorf("%w: scattering term needs positive wavelengths, point %d is %g nm", ErrModel, i, v)
+			return fmt.Errorf("%w: scattering term needs positive wavelengths, point %d is %g nm", errModel, i, v)
 		}
 	}
 	if m.Scatter {
 		lo, hi := floats.Min(wl), floats.Max(wl)
 		if v := math.Pow(lo/((lo+hi)/2), -m.power()); math.IsInf(v, 0) {
-			return fmt.Errorf("%w: scattering term overflows at %g nm", ErrModel, lo)
+			return fmt.Errorf("%w: scattering term overflows at %g nm", errModel, lo)
 		}
 	}
 	return nil
@@ -182,15 +182,16 @@ func (m Model) Check(wl []float64) error {
 // polynomial columns are free in sign, the scattering column is
 // non-negative. Each column is a new slice of len(wl).
 //
-// Columns panics if m.Check(wl) fails for a non-empty wl: callers check
-// grids that come from files with Check first.
-func (m Model) Columns(wl []float64) (cols [][]float64, nonneg []bool, names []string) {
+// Columns returns the error of m.Check(wl) (of the model's own
+// parameters for an empty wl), wrapping errModel, and no columns.
+func (m Model) Columns(wl []float64) (cols [][]float64, nonneg []bool, names []string, err error) {
 	if len(wl) > 0 {
-		if err := m.Check(wl); err != nil {
-			panic(err)
-		}
-	} else if err := m.checkParams(); err != nil {
-		panic(err)
+		err = m.Check(wl)
+	} else {
+		err = m.checkParams()
+	}
+	if err != nil {
+		return nil, nil, nil, err
 	}
 	lo, hi := math.Inf(1), math.Inf(-1)
 	for _, v := range wl {
@@ -221,7 +222,7 @@ func (m Model) Columns(wl []float64) (cols [][]float64, nonneg []bool, names []s
 		nonneg = append(nonneg, true)
 		names = append(names, "scatter")
 	}
-	return cols, nonneg, names
+	return cols, nonneg, names, nil
 }
 
 // legendre is the Legendre polynomial of degree d <= 3 at t.

@@ -41,8 +41,8 @@ func TestParseModel(t *testing.T) {
 		t.Run(tc.in, func(t *testing.T) {
 			got, err := ParseModel(tc.in)
 			if tc.err {
-				if !errors.Is(err, ErrModel) {
-					t.Errorf("ParseModel(%q) = %+v, %v; want ErrModel", tc.in, got, err)
+				if !errors.Is(err, errModel) {
+					t.Errorf("ParseModel(%q) = %+v, %v; want errModel", tc.in, got, err)
 				}
 				return
 			}
@@ -71,7 +71,10 @@ func TestParseModel(t *testing.T) {
 func TestColumnsValues(t *testing.T) {
 	wl := []float64{200, 300, 400, 500, 600} // c = 400, h = 200
 	m := Model{Degree: 3, Scatter: true, ScatterPower: 4}
-	cols, nonneg, names := m.Columns(wl)
+	cols, nonneg, names, err := m.Columns(wl)
+	if err != nil {
+		t.Fatal(err)
+	}
 	wantNames := []string{"offset", "slope", "curve2", "curve3", "scatter"}
 	wantNonneg := []bool{false, false, false, false, true}
 	if len(cols) != 5 || m.NumColumns() != 5 {
@@ -113,14 +116,17 @@ func TestColumnsValues(t *testing.T) {
 	}
 	t.Logf("worst relative difference %.2g", worst)
 	// Fewer terms are a prefix; "none" gives nothing.
-	if c, _, n := (Model{Degree: 1}).Columns(wl); len(c) != 2 || n[1] != "slope" {
+	if c, _, n, err := (Model{Degree: 1}).Columns(wl); err != nil || len(c) != 2 || n[1] != "slope" {
 		t.Errorf("linear: %d columns %v", len(c), n)
 	}
-	if c, _, _ := (Model{Degree: -1}).Columns(wl); len(c) != 0 {
+	if c, _, _, err := (Model{Degree: -1}).Columns(wl); err != nil || len(c) != 0 {
 		t.Errorf("none: %d columns", len(c))
 	}
 	// A one-point grid: t = 0, scatter 1.
-	c, _, _ := (Model{Degree: 3, Scatter: true}).Columns([]float64{450})
+	c, _, _, err := (Model{Degree: 3, Scatter: true}).Columns([]float64{450})
+	if err != nil {
+		t.Fatal(err)
+	}
 	if c[1][0] != 0 || c[2][0] != -0.5 || c[3][0] != 0 || c[4][0] != 1 {
 		t.Errorf("one point: %v", c)
 	}
@@ -139,7 +145,10 @@ func TestColumnsConditioning(t *testing.T) {
 	for l := 190.0; l <= 1100; l += 1 {
 		wl = append(wl, l)
 	}
-	cols, _, _ := Model{Degree: 3, Scatter: true}.Columns(wl)
+	cols, _, _, err := Model{Degree: 3, Scatter: true}.Columns(wl)
+	if err != nil {
+		t.Fatal(err)
+	}
 	build := func(cols [][]float64) *mat.Dense {
 		x := mat.NewDense(len(wl), len(cols), nil)
 		for j, c := range cols {
@@ -159,7 +168,10 @@ func TestColumnsConditioning(t *testing.T) {
 		}
 	}
 	rawCond := mat.Cond(build(raw), 2)
-	poly, _, _ := Model{Degree: 3}.Columns(wl)
+	poly, _, _, err := Model{Degree: 3}.Columns(wl)
+	if err != nil {
+		t.Fatal(err)
+	}
 	polyCond := mat.Cond(build(poly), 2)
 	t.Logf("condition: Legendre+scatter %.3g, Legendre %.3g, raw powers %.3g", got, polyCond, rawCond)
 	if got > condLimit {
@@ -197,15 +209,22 @@ func TestModelCheck(t *testing.T) {
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			err := tc.m.Check(tc.wl)
-			if (err == nil) != tc.ok || (err != nil && !errors.Is(err, ErrModel)) {
+			if (err == nil) != tc.ok || (err != nil && !errors.Is(err, errModel)) {
 				t.Errorf("Check = %v, want ok %v", err, tc.ok)
 			}
 		})
 	}
-	defer func() {
-		if recover() == nil {
-			t.Error("Columns on a bad grid did not panic")
+	for _, tc := range []struct {
+		name string
+		m    Model
+		wl   []float64
+	}{
+		{"negative wavelength", Model{Scatter: true}, []float64{-1, 400}},
+		{"degree out of range on no grid", Model{Degree: 4}, nil},
+	} {
+		cols, nonneg, names, err := tc.m.Columns(tc.wl)
+		if !errors.Is(err, errModel) || cols != nil || nonneg != nil || names != nil {
+			t.Errorf("%s: Columns = %d columns, error %v; want none and errModel", tc.name, len(cols), err)
 		}
-	}()
-	Model{Scatter: true}.Columns([]float64{-1, 400})
+	}
 }

@@ -8,13 +8,13 @@ import (
 	"gonum.org/v1/gonum/mat"
 )
 
-// GridTolerance bounds the unevenness of a grid that Savitzky-Golay
+// gridTolerance bounds the unevenness of a grid that Savitzky-Golay
 // accepts: every step may differ from the mean step by at most this
 // fraction of it. A relative spacing error e moves a derivative by about
 // e relative, so 1e-3 keeps the error from the grid below 0.1 % while
 // still accepting wavelengths written with rounding (for example 0.1 nm
 // steps printed to 4 decimals).
-const GridTolerance = 1e-3
+const gridTolerance = 1e-3
 
 // sgMaxNoiseGain bounds the white-noise gain sqrt(Σ c_i²) of every row of
 // a Savitzky-Golay filter's weights (per sample step). Derivative weights
@@ -26,14 +26,14 @@ const GridTolerance = 1e-3
 // refused rather than computed inaccurately.
 const sgMaxNoiseGain = 1e6
 
-// SavitzkyGolay is a Savitzky-Golay filter (A. Savitzky & M. J. E. Golay,
+// savitzkyGolay is a Savitzky-Golay filter (A. Savitzky & M. J. E. Golay,
 // Anal. Chem. 36 (1964) 1627; corrections by J. Steinier, Y. Termonia &
 // J. Deltour, Anal. Chem. 44 (1972) 1906): a polynomial of degree order
 // fitted by least squares to window consecutive points, evaluated (or
 // differentiated deriv times) at the window's centre. The weights are
-// computed once by NewSavitzkyGolay; a filter may be used for many
+// computed once by newSavitzkyGolay; a filter may be used for many
 // spectra and by several goroutines at once.
-type SavitzkyGolay struct {
+type savitzkyGolay struct {
 	window, order, deriv int
 	// weights holds Window rows of Window weights: row m+q evaluates the
 	// polynomial fitted to the window at offset q (-m..m) from its centre,
@@ -41,9 +41,9 @@ type SavitzkyGolay struct {
 	weights []float64
 }
 
-// NewSavitzkyGolay computes the filter's weights. window must be odd and
+// newSavitzkyGolay computes the filter's weights. window must be odd and
 // at least 3, 0 <= order < window, and deriv 0 (smoothing), 1 or 2 and
-// at most order; otherwise the error wraps [ErrStep].
+// at most order; otherwise the error wraps errStep.
 //
 // The least-squares fit is done in the basis of polynomials orthonormal
 // on the window's points (the discrete orthogonal or Gram polynomials of
@@ -60,10 +60,10 @@ type SavitzkyGolay struct {
 // solved. At orders close to the window the derivative weights themselves
 // grow large, as differentiating a high-degree fit amplifies noise; a
 // filter whose weights would multiply white noise by more than a million
-// (sgMaxNoiseGain) is refused with an error wrapping [ErrStep].
-func NewSavitzkyGolay(window, order, deriv int) (*SavitzkyGolay, error) {
+// (sgMaxNoiseGain) is refused with an error wrapping errStep.
+func newSavitzkyGolay(window, order, deriv int) (*savitzkyGolay, error) {
 	if bad := checkSG(window, order, deriv); bad != "" {
-		return nil, fmt.Errorf("%w: Savitzky-Golay: %s", ErrStep, bad)
+		return nil, fmt.Errorf("%w: Savitzky-Golay: %s", errStep, bad)
 	}
 	m := window / 2
 	x := make([]float64, window)
@@ -112,13 +112,13 @@ func NewSavitzkyGolay(window, order, deriv int) (*SavitzkyGolay, error) {
 		beta = next
 	}
 	dv := []*mat.Dense{qm, d1m, d2m}[deriv]
-	f := &SavitzkyGolay{window: window, order: order, deriv: deriv, weights: make([]float64, window*window)}
+	f := &savitzkyGolay{window: window, order: order, deriv: deriv, weights: make([]float64, window*window)}
 	wm := mat.NewDense(window, window, f.weights)
 	wm.Mul(dv.T(), qm)
 	wm.Scale(1/math.Pow(float64(m), float64(deriv)), wm)
 	for t := range window {
 		if g := floats.Norm(wm.RawRowView(t), 2); !(g <= sgMaxNoiseGain) {
-			return nil, fmt.Errorf("%w: Savitzky-Golay: order %d on %d points gives derivative weights that amplify noise %.2g times (limit %g); lower the order or widen the window", ErrStep, order, window, g, float64(sgMaxNoiseGain))
+			return nil, fmt.Errorf("%w: Savitzky-Golay: order %d on %d points gives derivative weights that amplify noise %.2g times (limit %g); lower the order or widen the window", errStep, order, window, g, float64(sgMaxNoiseGain))
 		}
 	}
 	return f, nil
@@ -135,7 +135,7 @@ func rowViews(a *mat.Dense) [][]float64 {
 }
 
 // Window returns the filter's window, order and derivative.
-func (f *SavitzkyGolay) Window() (window, order, deriv int) { return f.window, f.order, f.deriv }
+func (f *savitzkyGolay) Window() (window, order, deriv int) { return f.window, f.order, f.deriv }
 
 // WeightsAt returns the weights that evaluate the polynomial fitted to a
 // window at offset q (-m..m, m = window/2) from the window's centre,
@@ -143,7 +143,7 @@ func (f *SavitzkyGolay) Window() (window, order, deriv int) { return f.window, f
 // derivative includes the factor 2!). WeightsAt(0) are the classic
 // convolution weights; the others serve the edges. It panics if q is out
 // of range.
-func (f *SavitzkyGolay) WeightsAt(q int) []float64 {
+func (f *savitzkyGolay) WeightsAt(q int) []float64 {
 	m := f.window / 2
 	if q < -m || q > m {
 		panic(fmt.Sprintf("baseline: Savitzky-Golay offset %d outside -%d..%d", q, m, m))
@@ -163,19 +163,19 @@ func (f *SavitzkyGolay) WeightsAt(q int) []float64 {
 // degree <= order is reproduced exactly at every point.
 //
 // Errors (nothing written): len(y) < window, or a derivative with step 0
-// or non-finite, wrap [ErrData]. FilterTo panics if len(dst) != len(y).
-func (f *SavitzkyGolay) FilterTo(dst, y []float64, step float64) error {
+// or non-finite, wrap errData. FilterTo panics if len(dst) != len(y).
+func (f *savitzkyGolay) FilterTo(dst, y []float64, step float64) error {
 	n, w, m := len(y), f.window, f.window/2
 	if len(dst) != n {
 		panic("baseline: Savitzky-Golay destination length mismatch")
 	}
 	if n < w {
-		return fmt.Errorf("%w: Savitzky-Golay window of %d points is longer than the spectrum (%d points)", ErrData, w, n)
+		return fmt.Errorf("%w: Savitzky-Golay window of %d points is longer than the spectrum (%d points)", errData, w, n)
 	}
 	scale := 1.0
 	if f.deriv > 0 {
 		if step == 0 || math.IsNaN(step) || math.IsInf(step, 0) {
-			return fmt.Errorf("%w: Savitzky-Golay derivative needs a finite non-zero step, got %g", ErrData, step)
+			return fmt.Errorf("%w: Savitzky-Golay derivative needs a finite non-zero step, got %g", errData, step)
 		}
 		scale = 1 / math.Pow(step, float64(f.deriv))
 	}
@@ -195,10 +195,12 @@ func (f *SavitzkyGolay) FilterTo(dst, y []float64, step float64) error {
 // Savitzky-Golay filter at the window's centre, listed from offset -m to
 // m (m = window/2): the filtered value at point j is Σ c_i y_(j+i). A
 // derivative is per sample step (divide by step^deriv for spacing step)
-// and the second derivative includes the factor 2!. Errors are those of
-// [NewSavitzkyGolay].
+// and the second derivative includes the factor 2!. window must be odd
+// and at least 3, 0 <= order < window, and deriv 0 (smoothing), 1 or 2
+// and at most order; derivative weights that would multiply white noise
+// by more than a million are refused.
 func SavitzkyGolayWeights(window, order, deriv int) ([]float64, error) {
-	f, err := NewSavitzkyGolay(window, order, deriv)
+	f, err := newSavitzkyGolay(window, order, deriv)
 	if err != nil {
 		return nil, err
 	}
@@ -206,16 +208,16 @@ func SavitzkyGolayWeights(window, order, deriv int) ([]float64, error) {
 }
 
 // evenStep returns the mean step of wl and checks that every step is
-// within GridTolerance of it.
+// within gridTolerance of it.
 func evenStep(wl []float64) (float64, error) {
 	n := len(wl)
 	if n < 2 {
-		return 0, fmt.Errorf("%w: a grid of %d point has no step", ErrData, n)
+		return 0, fmt.Errorf("%w: a grid of %d point has no step", errData, n)
 	}
 	h := (wl[n-1] - wl[0]) / float64(n-1)
 	for i := 1; i < n; i++ {
-		if d := wl[i] - wl[i-1]; math.Abs(d-h) > GridTolerance*math.Abs(h) {
-			return 0, fmt.Errorf("%w: step %g nm between points %d and %d (%g nm) differs from the mean step %g nm by more than %g; resample to an even grid first", ErrUnevenGrid, d, i-1, i, wl[i-1], h, GridTolerance)
+		if d := wl[i] - wl[i-1]; math.Abs(d-h) > gridTolerance*math.Abs(h) {
+			return 0, fmt.Errorf("%w: step %g nm between points %d and %d (%g nm) differs from the mean step %g nm by more than %g; resample to an even grid first", ErrUnevenGrid, d, i-1, i, wl[i-1], h, gridTolerance)
 		}
 	}
 	return h, nil
@@ -227,13 +229,13 @@ func sgApply(wl, y []float64, window, order, deriv int) ([]float64, error) {
 		return nil, err
 	}
 	if len(y) < window {
-		return nil, fmt.Errorf("%w: Savitzky-Golay window of %d points is longer than the spectrum (%d points)", ErrData, window, len(y))
+		return nil, fmt.Errorf("%w: Savitzky-Golay window of %d points is longer than the spectrum (%d points)", errData, window, len(y))
 	}
 	h, err := evenStep(wl)
 	if err != nil {
 		return nil, err
 	}
-	f, err := NewSavitzkyGolay(window, order, deriv)
+	f, err := newSavitzkyGolay(window, order, deriv)
 	if err != nil {
 		return nil, err
 	}

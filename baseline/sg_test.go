@@ -128,15 +128,15 @@ func TestWeightsInvariants(t *testing.T) {
 				continue
 			}
 			for d := 0; d <= 2 && d <= o; d++ {
-				f, err := NewSavitzkyGolay(w, o, d)
+				f, err := newSavitzkyGolay(w, o, d)
 				if err != nil {
 					// Only near-interpolating derivative filters may be
 					// refused, for their noise gain.
-					if d > 0 && o > w/2 && errors.Is(err, ErrStep) {
+					if d > 0 && o > w/2 && errors.Is(err, errStep) {
 						refused++
 						continue
 					}
-					t.Fatalf("NewSavitzkyGolay(%d, %d, %d): %v", w, o, d, err)
+					t.Fatalf("newSavitzkyGolay(%d, %d, %d): %v", w, o, d, err)
 				}
 				m := w / 2
 				for pos := -m; pos <= m; pos++ {
@@ -257,7 +257,7 @@ func TestSciPy(t *testing.T) {
 			for i := range wl {
 				wl[i] = 400 + signal.h*float64(i)
 			}
-			got, err := Step{Kind: KindSG, Window: r.w, Order: r.o, Deriv: r.d}.Apply(wl, signal.vals)
+			got, err := Step{Kind: kindSG, Window: r.w, Order: r.o, Deriv: r.d}.Apply(wl, signal.vals)
 			if err != nil {
 				t.Fatalf("%s:%d: %v", scipyFixture, r.line, err)
 			}
@@ -335,7 +335,7 @@ func TestPolynomialExact(t *testing.T) {
 						want[0][i], want[1][i], want[2][i] = v, d1/50, d2/2500
 					}
 					for d := 0; d <= 2 && d <= o; d++ {
-						got, err := Step{Kind: KindSG, Window: w, Order: o, Deriv: d}.Apply(wl, y)
+						got, err := Step{Kind: kindSG, Window: w, Order: o, Deriv: d}.Apply(wl, y)
 						if err != nil {
 							t.Fatal(err)
 						}
@@ -358,7 +358,7 @@ func TestPolynomialTooHigh(t *testing.T) {
 		u := (wl[i] - 520) / 20
 		y[i] = u * u * u * u
 	}
-	got, err := Step{Kind: KindSG, Window: 11, Order: 2}.Apply(wl, y)
+	got, err := Step{Kind: kindSG, Window: 11, Order: 2}.Apply(wl, y)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -380,9 +380,9 @@ func TestSGErrors(t *testing.T) {
 		return wl
 	}
 	uneven := even(20)
-	uneven[10] += 0.01 // 1 % of the step, above GridTolerance
+	uneven[10] += 0.01 // 1 % of the step, above gridTolerance
 	slightly := even(20)
-	slightly[10] += 0.0001 // rounding, below GridTolerance
+	slightly[10] += 0.0001 // rounding, below gridTolerance
 	unsorted := even(20)
 	unsorted[5], unsorted[6] = unsorted[6], unsorted[5]
 	for _, tc := range []struct {
@@ -391,14 +391,14 @@ func TestSGErrors(t *testing.T) {
 		wl   []float64
 		want error
 	}{
-		{"uneven", Step{Kind: KindSG, Window: 5, Order: 2, Deriv: 1}, uneven, ErrUnevenGrid},
-		{"rounded grid", Step{Kind: KindSG, Window: 5, Order: 2, Deriv: 1}, slightly, nil},
-		{"short", Step{Kind: KindSG, Window: 21, Order: 2}, even(20), ErrData},
-		{"unsorted", Step{Kind: KindSG, Window: 5, Order: 2}, unsorted, ErrData},
-		{"even window", Step{Kind: KindSG, Window: 6, Order: 2}, even(20), ErrStep},
-		{"order too high", Step{Kind: KindSG, Window: 5, Order: 5}, even(20), ErrStep},
-		{"deriv above order", Step{Kind: KindSG, Window: 5, Order: 1, Deriv: 2}, even(20), ErrStep},
-		{"deriv 3", Step{Kind: KindSG, Window: 7, Order: 4, Deriv: 3}, even(20), ErrStep},
+		{"uneven", Step{Kind: kindSG, Window: 5, Order: 2, Deriv: 1}, uneven, ErrUnevenGrid},
+		{"rounded grid", Step{Kind: kindSG, Window: 5, Order: 2, Deriv: 1}, slightly, nil},
+		{"short", Step{Kind: kindSG, Window: 21, Order: 2}, even(20), errData},
+		{"unsorted", Step{Kind: kindSG, Window: 5, Order: 2}, unsorted, errData},
+		{"even window", Step{Kind: kindSG, Window: 6, Order: 2}, even(20), errStep},
+		{"order too high", Step{Kind: kindSG, Window: 5, Order: 5}, even(20), errStep},
+		{"deriv above order", Step{Kind: kindSG, Window: 5, Order: 1, Deriv: 2}, even(20), errStep},
+		{"deriv 3", Step{Kind: kindSG, Window: 7, Order: 4, Deriv: 3}, even(20), errStep},
 	} {
 		t.Run(tc.name, func(t *testing.T) {
 			y := make([]float64, len(tc.wl))
@@ -413,7 +413,7 @@ func TestSGErrors(t *testing.T) {
 // TestFilterReuse: a filter gives the same answer twice and does not
 // touch its input.
 func TestFilterReuse(t *testing.T) {
-	f, err := NewSavitzkyGolay(9, 3, 1)
+	f, err := newSavitzkyGolay(9, 3, 1)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -434,7 +434,7 @@ func TestFilterReuse(t *testing.T) {
 			t.Fatalf("point %d: %g then %g (input %g, was %g)", i, a[i], b[i], y[i], orig[i])
 		}
 	}
-	if err := f.FilterTo(a, y, 0); !errors.Is(err, ErrData) {
-		t.Errorf("FilterTo with step 0 = %v, want ErrData", err)
+	if err := f.FilterTo(a, y, 0); !errors.Is(err, errData) {
+		t.Errorf("FilterTo with step 0 = %v, want errData", err)
 	}
 }

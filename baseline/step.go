@@ -12,27 +12,27 @@ import (
 
 // Step kinds.
 const (
-	KindZero = "zero" // subtract the mean over a wavelength region
-	KindALS  = "als"  // subtract an asymmetric least squares background
-	KindSG   = "sg"   // Savitzky-Golay smoothing or derivative
+	kindZero = "zero" // subtract the mean over a wavelength region
+	kindALS  = "als"  // subtract an asymmetric least squares background
+	kindSG   = "sg"   // Savitzky-Golay smoothing or derivative
 )
 
 // Errors returned by ParseStep and Apply. They are wrapped with the step
 // and the details; test with errors.Is.
 var (
-	// ErrStep: the step's kind or parameters are invalid.
-	ErrStep = pkgerr.New("baseline", "invalid pre-treatment")
-	// ErrData: the spectrum cannot be treated (lengths differ, too few
+	// errStep: the step's kind or parameters are invalid.
+	errStep = pkgerr.New("baseline", "invalid pre-treatment")
+	// errData: the spectrum cannot be treated (lengths differ, too few
 	// points, a value is NaN or infinite, the grid is not monotonic).
-	ErrData = pkgerr.New("baseline", "spectrum cannot be treated")
-	// ErrEmptyRegion: a zeroing region holds no grid points.
-	ErrEmptyRegion = pkgerr.New("baseline", "zeroing region holds no grid points")
+	errData = pkgerr.New("baseline", "spectrum cannot be treated")
+	// errEmptyRegion: a zeroing region holds no grid points.
+	errEmptyRegion = pkgerr.New("baseline", "zeroing region holds no grid points")
 	// ErrUnevenGrid: a Savitzky-Golay step met a grid whose spacing is
-	// not constant within GridTolerance.
+	// not constant within gridTolerance.
 	ErrUnevenGrid = pkgerr.New("baseline", "wavelength grid is not evenly spaced")
-	// ErrNoConvergence: the asymmetric least squares weights did not
+	// errNoConvergence: the asymmetric least squares weights did not
 	// settle within the iteration cap.
-	ErrNoConvergence = pkgerr.New("baseline", "asymmetric least squares did not converge")
+	errNoConvergence = pkgerr.New("baseline", "asymmetric least squares did not converge")
 )
 
 // regionSlack widens a zeroing region on both sides (nm). It bounds the
@@ -57,19 +57,19 @@ type Step struct {
 
 // ParseStep reads the command-line form: "zero:LO-HI", "als:LAMBDA,P",
 // "sg:WINDOW,ORDER[,DERIV]". Case and spaces around the parts are
-// ignored. The parameters are checked as by [Step.Check], and a
-// Savitzky-Golay filter must also be one [NewSavitzkyGolay] accepts;
-// errors wrap [ErrStep] and quote the input.
+// ignored. The parameters are checked as by Step.check, and a
+// Savitzky-Golay filter must also be one newSavitzkyGolay accepts;
+// errors wrap errStep and quote the input.
 func ParseStep(s string) (Step, error) {
 	kind, args, ok := strings.Cut(strings.TrimSpace(s), ":")
 	kind = strings.ToLower(strings.TrimSpace(kind))
 	args = strings.TrimSpace(args)
 	if !ok || args == "" {
-		return Step{}, fmt.Errorf("%w %q: want zero:LO-HI, als:LAMBDA,P or sg:WINDOW,ORDER[,DERIV]", ErrStep, s)
+		return Step{}, fmt.Errorf("%w %q: want zero:LO-HI, als:LAMBDA,P or sg:WINDOW,ORDER[,DERIV]", errStep, s)
 	}
 	var st Step
 	switch kind {
-	case KindZero:
+	case kindZero:
 		// The separator is a '-' that is neither the first character nor
 		// an exponent sign, so "1e-05-2" and "-5-10" split correctly.
 		cut := -1
@@ -80,50 +80,50 @@ func ParseStep(s string) (Step, error) {
 			}
 		}
 		if cut < 0 {
-			return Step{}, fmt.Errorf("%w %q: want zero:LO-HI (nm)", ErrStep, s)
+			return Step{}, fmt.Errorf("%w %q: want zero:LO-HI (nm)", errStep, s)
 		}
 		lo, err1 := parseFloat(args[:cut])
 		hi, err2 := parseFloat(args[cut+1:])
 		if err := errors.Join(err1, err2); err != nil {
-			return Step{}, fmt.Errorf("%w %q: %v", ErrStep, s, err)
+			return Step{}, fmt.Errorf("%w %q: %w", errStep, s, err)
 		}
-		st = Step{Kind: KindZero, Lo: lo, Hi: hi}
-	case KindALS:
+		st = Step{Kind: kindZero, Lo: lo, Hi: hi}
+	case kindALS:
 		f := strings.Split(args, ",")
 		if len(f) != 2 {
-			return Step{}, fmt.Errorf("%w %q: want als:LAMBDA,P", ErrStep, s)
+			return Step{}, fmt.Errorf("%w %q: want als:LAMBDA,P", errStep, s)
 		}
 		lambda, err1 := parseFloat(f[0])
 		p, err2 := parseFloat(f[1])
 		if err := errors.Join(err1, err2); err != nil {
-			return Step{}, fmt.Errorf("%w %q: %v", ErrStep, s, err)
+			return Step{}, fmt.Errorf("%w %q: %w", errStep, s, err)
 		}
-		st = Step{Kind: KindALS, Lambda: lambda, P: p}
-	case KindSG:
+		st = Step{Kind: kindALS, Lambda: lambda, P: p}
+	case kindSG:
 		f := strings.Split(args, ",")
 		if len(f) != 2 && len(f) != 3 {
-			return Step{}, fmt.Errorf("%w %q: want sg:WINDOW,ORDER[,DERIV]", ErrStep, s)
+			return Step{}, fmt.Errorf("%w %q: want sg:WINDOW,ORDER[,DERIV]", errStep, s)
 		}
 		var v [3]int
 		for i, a := range f {
 			n, err := strconv.Atoi(strings.TrimSpace(a))
 			if err != nil {
-				return Step{}, fmt.Errorf("%w %q: %q is not a whole number", ErrStep, s, strings.TrimSpace(a))
+				return Step{}, fmt.Errorf("%w %q: %q is not a whole number", errStep, s, strings.TrimSpace(a))
 			}
 			v[i] = n
 		}
-		st = Step{Kind: KindSG, Window: v[0], Order: v[1], Deriv: v[2]}
+		st = Step{Kind: kindSG, Window: v[0], Order: v[1], Deriv: v[2]}
 	default:
-		return Step{}, fmt.Errorf("%w %q: unknown kind %q (want zero, als or sg)", ErrStep, s, kind)
+		return Step{}, fmt.Errorf("%w %q: unknown kind %q (want zero, als or sg)", errStep, s, kind)
 	}
 	if bad := st.problem(); bad != "" {
 		// Quoting the input once; Check would name the step again.
-		return Step{}, fmt.Errorf("%w %q: %s", ErrStep, s, bad)
+		return Step{}, fmt.Errorf("%w %q: %s", errStep, s, bad)
 	}
-	if st.Kind == KindSG {
+	if st.Kind == kindSG {
 		// Refuse filters whose weights cannot be used (see
-		// NewSavitzkyGolay) now rather than at the first spectrum.
-		if _, err := NewSavitzkyGolay(st.Window, st.Order, st.Deriv); err != nil {
+		// newSavitzkyGolay) now rather than at the first spectrum.
+		if _, err := newSavitzkyGolay(st.Window, st.Order, st.Deriv); err != nil {
 			return Step{}, fmt.Errorf("%w (in %q)", err, s)
 		}
 	}
@@ -145,11 +145,11 @@ func parseFloat(s string) (float64, error) {
 func (s Step) String() string {
 	g := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 	switch s.Kind {
-	case KindZero:
+	case kindZero:
 		return "zero:" + g(s.Lo) + "-" + g(s.Hi)
-	case KindALS:
+	case kindALS:
 		return "als:" + g(s.Lambda) + "," + g(s.P)
-	case KindSG:
+	case kindSG:
 		str := fmt.Sprintf("sg:%d,%d", s.Window, s.Order)
 		if s.Deriv != 0 {
 			str += fmt.Sprintf(",%d", s.Deriv)
@@ -159,17 +159,17 @@ func (s Step) String() string {
 	return fmt.Sprintf("%s:?", s.Kind)
 }
 
-// Check reports whether the step's parameters are valid:
+// check reports whether the step's parameters are valid:
 //
 //	zero: LO and HI finite, LO <= HI
 //	als:  LAMBDA finite and > 0, 0 < P < 1
 //	sg:   WINDOW odd, 3..1001, 0 <= ORDER < WINDOW, 0 <= DERIV <= min(2, ORDER)
 //
 // and that the fields the kind does not use are zero. Errors wrap
-// [ErrStep].
-func (s Step) Check() error {
+// errStep.
+func (s Step) check() error {
 	if bad := s.problem(); bad != "" {
-		return fmt.Errorf("%w %s: %s", ErrStep, s, bad)
+		return fmt.Errorf("%w %s: %s", errStep, s, bad)
 	}
 	return nil
 }
@@ -179,7 +179,7 @@ func (s Step) problem() string {
 	fin := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 	var bad string
 	switch s.Kind {
-	case KindZero:
+	case kindZero:
 		switch {
 		case !fin(s.Lo) || !fin(s.Hi):
 			bad = "region limits must be finite"
@@ -188,7 +188,7 @@ func (s Step) problem() string {
 		case s.Lambda != 0 || s.P != 0 || s.Window != 0 || s.Order != 0 || s.Deriv != 0:
 			bad = "zeroing takes only a region"
 		}
-	case KindALS:
+	case kindALS:
 		switch {
 		case !fin(s.Lambda) || s.Lambda <= 0:
 			bad = fmt.Sprintf("smoothness %g must be positive", s.Lambda)
@@ -197,7 +197,7 @@ func (s Step) problem() string {
 		case s.Lo != 0 || s.Hi != 0 || s.Window != 0 || s.Order != 0 || s.Deriv != 0:
 			bad = "asymmetric least squares takes only smoothness and asymmetry"
 		}
-	case KindSG:
+	case kindSG:
 		bad = checkSG(s.Window, s.Order, s.Deriv)
 		if bad == "" && (s.Lo != 0 || s.Hi != 0 || s.Lambda != 0 || s.P != 0) {
 			bad = "Savitzky-Golay takes only window, order and derivative"
@@ -234,15 +234,15 @@ func checkSG(window, order, deriv int) string {
 // wl and y must have the same, non-zero length and hold finite values.
 // ALS and Savitzky-Golay also need a strictly monotonic grid (increasing
 // or decreasing), ALS at least 3 points and Savitzky-Golay at least
-// WINDOW points on an even grid (within [GridTolerance]). Zeroing fails
-// with [ErrEmptyRegion] if no grid point lies in its region; ALS fails with
-// [ErrNoConvergence] if its weights keep changing. Savitzky-Golay
+// WINDOW points on an even grid (within gridTolerance). Zeroing fails
+// with errEmptyRegion if no grid point lies in its region; ALS fails with
+// errNoConvergence if its weights keep changing. Savitzky-Golay
 // derivatives are per nm, with the sign of the grid's direction taken
 // into account. A result that overflows (values near the float64 limit,
-// or a derivative on a grid of absurdly small step) fails with [ErrData].
+// or a derivative on a grid of absurdly small step) fails with errData.
 // Errors name the step; no partial result is returned.
 func (s Step) Apply(wl, y []float64) ([]float64, error) {
-	if err := s.Check(); err != nil {
+	if err := s.check(); err != nil {
 		return nil, err
 	}
 	if err := checkData(wl, y); err != nil {
@@ -251,11 +251,11 @@ func (s Step) Apply(wl, y []float64) ([]float64, error) {
 	var out []float64
 	var err error
 	switch s.Kind {
-	case KindZero:
+	case kindZero:
 		out, err = zeroRegion(wl, y, s.Lo, s.Hi)
-	case KindALS:
+	case kindALS:
 		out, err = alsSubtract(wl, y, s.Lambda, s.P)
-	case KindSG:
+	case kindSG:
 		out, err = sgApply(wl, y, s.Window, s.Order, s.Deriv)
 	}
 	if err != nil {
@@ -263,7 +263,7 @@ func (s Step) Apply(wl, y []float64) ([]float64, error) {
 	}
 	for i, v := range out {
 		if math.IsNaN(v) || math.IsInf(v, 0) {
-			return nil, fmt.Errorf("%s: %w: result overflows at %g nm (point %d)", s, ErrData, wl[i], i)
+			return nil, fmt.Errorf("%s: %w: result overflows at %g nm (point %d)", s, errData, wl[i], i)
 		}
 	}
 	return out, nil
@@ -273,17 +273,17 @@ func (s Step) Apply(wl, y []float64) ([]float64, error) {
 // values.
 func checkData(wl, y []float64) error {
 	if len(wl) != len(y) {
-		return fmt.Errorf("%w: %d wavelengths but %d values", ErrData, len(wl), len(y))
+		return fmt.Errorf("%w: %d wavelengths but %d values", errData, len(wl), len(y))
 	}
 	if len(wl) == 0 {
-		return fmt.Errorf("%w: empty spectrum", ErrData)
+		return fmt.Errorf("%w: empty spectrum", errData)
 	}
 	for i := range wl {
 		if math.IsNaN(wl[i]) || math.IsInf(wl[i], 0) {
-			return fmt.Errorf("%w: wavelength at point %d is %v", ErrData, i, wl[i])
+			return fmt.Errorf("%w: wavelength at point %d is %v", errData, i, wl[i])
 		}
 		if math.IsNaN(y[i]) || math.IsInf(y[i], 0) {
-			return fmt.Errorf("%w: value at %g nm (point %d) is %v", ErrData, wl[i], i, y[i])
+			return fmt.Errorf("%w: value at %g nm (point %d) is %v", errData, wl[i], i, y[i])
 		}
 	}
 	return nil
@@ -298,7 +298,7 @@ func checkMonotonic(wl []float64) error {
 	up := wl[1] > wl[0]
 	for i := 1; i < len(wl); i++ {
 		if (up && wl[i] <= wl[i-1]) || (!up && wl[i] >= wl[i-1]) {
-			return fmt.Errorf("%w: wavelengths not strictly monotonic at point %d (%g nm after %g nm)", ErrData, i, wl[i], wl[i-1])
+			return fmt.Errorf("%w: wavelengths not strictly monotonic at point %d (%g nm after %g nm)", errData, i, wl[i], wl[i-1])
 		}
 	}
 	return nil
@@ -316,7 +316,7 @@ func zeroRegion(wl, y []float64, lo, hi float64) ([]float64, error) {
 		}
 	}
 	if n == 0 {
-		return nil, fmt.Errorf("%w (grid %g..%g nm)", ErrEmptyRegion, wl[0], wl[len(wl)-1])
+		return nil, fmt.Errorf("%w (grid %g..%g nm)", errEmptyRegion, wl[0], wl[len(wl)-1])
 	}
 	mean := sum / float64(n)
 	out := make([]float64, len(y))
@@ -351,7 +351,7 @@ func ApplyAll(steps []Step, wl, y []float64) ([]float64, error) {
 func Reach(steps []Step) int {
 	r := 0
 	for _, st := range steps {
-		if st.Kind == KindSG {
+		if st.Kind == kindSG {
 			r += st.Window / 2
 		}
 	}

@@ -14,15 +14,15 @@ func TestParseStep(t *testing.T) {
 		str  string
 		err  bool
 	}{
-		{in: "zero:700-750", want: Step{Kind: KindZero, Lo: 700, Hi: 750}, str: "zero:700-750"},
-		{in: " ZERO : 700.5 - 750 ", want: Step{Kind: KindZero, Lo: 700.5, Hi: 750}, str: "zero:700.5-750"},
-		{in: "zero:600-600", want: Step{Kind: KindZero, Lo: 600, Hi: 600}, str: "zero:600-600"},
-		{in: "zero:1e-05-2", want: Step{Kind: KindZero, Lo: 1e-5, Hi: 2}, str: "zero:1e-05-2"},
-		{in: "als:1e5,0.01", want: Step{Kind: KindALS, Lambda: 1e5, P: 0.01}, str: "als:100000,0.01"},
-		{in: "sg:11,2", want: Step{Kind: KindSG, Window: 11, Order: 2}, str: "sg:11,2"},
-		{in: "sg:7,3,1", want: Step{Kind: KindSG, Window: 7, Order: 3, Deriv: 1}, str: "sg:7,3,1"},
-		{in: "sg:9,4,2", want: Step{Kind: KindSG, Window: 9, Order: 4, Deriv: 2}, str: "sg:9,4,2"},
-		{in: "sg:5,2,0", want: Step{Kind: KindSG, Window: 5, Order: 2}, str: "sg:5,2"},
+		{in: "zero:700-750", want: Step{Kind: kindZero, Lo: 700, Hi: 750}, str: "zero:700-750"},
+		{in: " ZERO : 700.5 - 750 ", want: Step{Kind: kindZero, Lo: 700.5, Hi: 750}, str: "zero:700.5-750"},
+		{in: "zero:600-600", want: Step{Kind: kindZero, Lo: 600, Hi: 600}, str: "zero:600-600"},
+		{in: "zero:1e-05-2", want: Step{Kind: kindZero, Lo: 1e-5, Hi: 2}, str: "zero:1e-05-2"},
+		{in: "als:1e5,0.01", want: Step{Kind: kindALS, Lambda: 1e5, P: 0.01}, str: "als:100000,0.01"},
+		{in: "sg:11,2", want: Step{Kind: kindSG, Window: 11, Order: 2}, str: "sg:11,2"},
+		{in: "sg:7,3,1", want: Step{Kind: kindSG, Window: 7, Order: 3, Deriv: 1}, str: "sg:7,3,1"},
+		{in: "sg:9,4,2", want: Step{Kind: kindSG, Window: 9, Order: 4, Deriv: 2}, str: "sg:9,4,2"},
+		{in: "sg:5,2,0", want: Step{Kind: kindSG, Window: 5, Order: 2}, str: "sg:5,2"},
 		{in: "", err: true},
 		{in: "zero", err: true},
 		{in: "zero:", err: true},
@@ -47,14 +47,14 @@ func TestParseStep(t *testing.T) {
 		{in: "sg:51,50,1", err: true}, // noise gain near 1e12
 		{in: "sg:1003,2", err: true},
 		{in: "sg:99999999999,2", err: true},
-		{in: "sg:51,50", want: Step{Kind: KindSG, Window: 51, Order: 50}, str: "sg:51,50"},
+		{in: "sg:51,50", want: Step{Kind: kindSG, Window: 51, Order: 50}, str: "sg:51,50"},
 		{in: "smooth:5,2", err: true},
 	} {
 		t.Run(tc.in, func(t *testing.T) {
 			got, err := ParseStep(tc.in)
 			if tc.err {
-				if !errors.Is(err, ErrStep) {
-					t.Errorf("ParseStep(%q) = %+v, %v; want ErrStep", tc.in, got, err)
+				if !errors.Is(err, errStep) {
+					t.Errorf("ParseStep(%q) = %+v, %v; want errStep", tc.in, got, err)
 				}
 				return
 			}
@@ -70,17 +70,17 @@ func TestParseStep(t *testing.T) {
 
 func TestStepCheckStrayFields(t *testing.T) {
 	for _, s := range []Step{
-		{Kind: KindZero, Lo: 1, Hi: 2, Window: 5},
-		{Kind: KindALS, Lambda: 10, P: 0.1, Lo: 3},
-		{Kind: KindSG, Window: 5, Order: 2, P: 0.1},
+		{Kind: kindZero, Lo: 1, Hi: 2, Window: 5},
+		{Kind: kindALS, Lambda: 10, P: 0.1, Lo: 3},
+		{Kind: kindSG, Window: 5, Order: 2, P: 0.1},
 		{Kind: "Zero", Lo: 1, Hi: 2},
 		{},
 	} {
-		if err := s.Check(); !errors.Is(err, ErrStep) {
-			t.Errorf("%+v.Check() = %v, want ErrStep", s, err)
+		if err := s.check(); !errors.Is(err, errStep) {
+			t.Errorf("%+v.Check() = %v, want errStep", s, err)
 		}
-		if _, err := s.Apply([]float64{1, 2, 3}, []float64{1, 2, 3}); !errors.Is(err, ErrStep) {
-			t.Errorf("%+v.Apply = %v, want ErrStep", s, err)
+		if _, err := s.Apply([]float64{1, 2, 3}, []float64{1, 2, 3}); !errors.Is(err, errStep) {
+			t.Errorf("%+v.Apply = %v, want errStep", s, err)
 		}
 	}
 }
@@ -103,7 +103,7 @@ func TestZero(t *testing.T) {
 		t.Fatalf("grid point 18 = %.17g, want just above 750", wl[18])
 	}
 	// Points 12 (700 nm) to 18 (750 nm): mean of 0.12 .. 0.18 = 0.15.
-	got, err := Step{Kind: KindZero, Lo: 700, Hi: 750}.Apply(wl, y)
+	got, err := Step{Kind: kindZero, Lo: 700, Hi: 750}.Apply(wl, y)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -115,18 +115,18 @@ func TestZero(t *testing.T) {
 	if y[0] != 0 {
 		t.Error("Apply changed its input")
 	}
-	_, err = Step{Kind: KindZero, Lo: 1200, Hi: 1300}.Apply(wl, y)
-	if !errors.Is(err, ErrEmptyRegion) {
-		t.Errorf("region outside the grid: %v, want ErrEmptyRegion", err)
+	_, err = Step{Kind: kindZero, Lo: 1200, Hi: 1300}.Apply(wl, y)
+	if !errors.Is(err, errEmptyRegion) {
+		t.Errorf("region outside the grid: %v, want errEmptyRegion", err)
 	}
-	_, err = Step{Kind: KindZero, Lo: 701, Hi: 707}.Apply(wl, y)
-	if !errors.Is(err, ErrEmptyRegion) {
-		t.Errorf("region between two points: %v, want ErrEmptyRegion", err)
+	_, err = Step{Kind: kindZero, Lo: 701, Hi: 707}.Apply(wl, y)
+	if !errors.Is(err, errEmptyRegion) {
+		t.Errorf("region between two points: %v, want errEmptyRegion", err)
 	}
 }
 
 func TestApplyDataErrors(t *testing.T) {
-	st := Step{Kind: KindZero, Lo: 1, Hi: 2}
+	st := Step{Kind: kindZero, Lo: 1, Hi: 2}
 	for _, tc := range []struct {
 		name  string
 		wl, y []float64
@@ -136,18 +136,18 @@ func TestApplyDataErrors(t *testing.T) {
 		{"NaN value", []float64{1, 2}, []float64{1, math.NaN()}},
 		{"Inf wavelength", []float64{1, math.Inf(1)}, []float64{1, 2}},
 	} {
-		if _, err := st.Apply(tc.wl, tc.y); !errors.Is(err, ErrData) {
-			t.Errorf("%s: %v, want ErrData", tc.name, err)
+		if _, err := st.Apply(tc.wl, tc.y); !errors.Is(err, errData) {
+			t.Errorf("%s: %v, want errData", tc.name, err)
 		}
 	}
 	// Finite input whose second derivative per nm overflows.
 	tiny := []float64{0, 1e-300, 2e-300, 3e-300, 4e-300}
-	if _, err := (Step{Kind: KindSG, Window: 5, Order: 2, Deriv: 2}).Apply(tiny, []float64{1, 0, 1, 0, 1}); !errors.Is(err, ErrData) {
-		t.Errorf("overflowing derivative: %v, want ErrData", err)
+	if _, err := (Step{Kind: kindSG, Window: 5, Order: 2, Deriv: 2}).Apply(tiny, []float64{1, 0, 1, 0, 1}); !errors.Is(err, errData) {
+		t.Errorf("overflowing derivative: %v, want errData", err)
 	}
-	als := Step{Kind: KindALS, Lambda: 10, P: 0.01}
-	if _, err := als.Apply([]float64{1, 3, 2, 4}, []float64{1, 2, 3, 4}); !errors.Is(err, ErrData) {
-		t.Errorf("ALS on an unsorted grid: %v, want ErrData", err)
+	als := Step{Kind: kindALS, Lambda: 10, P: 0.01}
+	if _, err := als.Apply([]float64{1, 3, 2, 4}, []float64{1, 2, 3, 4}); !errors.Is(err, errData) {
+		t.Errorf("ALS on an unsorted grid: %v, want errData", err)
 	}
 }
 
@@ -161,8 +161,8 @@ func TestApplyAll(t *testing.T) {
 		y[i] = 0.3 + math.Sin(wl[i]/15)
 	}
 	orig := append([]float64(nil), y...)
-	zero := Step{Kind: KindZero, Lo: 560, Hi: 570}
-	deriv := Step{Kind: KindSG, Window: 7, Order: 3, Deriv: 1}
+	zero := Step{Kind: kindZero, Lo: 560, Hi: 570}
+	deriv := Step{Kind: kindSG, Window: 7, Order: 3, Deriv: 1}
 	both, err := ApplyAll([]Step{zero, deriv}, wl, y)
 	if err != nil {
 		t.Fatal(err)
@@ -182,8 +182,8 @@ func TestApplyAll(t *testing.T) {
 			t.Fatalf("input changed at %d", i)
 		}
 	}
-	if _, err := ApplyAll([]Step{zero, {Kind: KindZero, Lo: 0, Hi: 1}}, wl, y); !errors.Is(err, ErrEmptyRegion) {
-		t.Errorf("second step failing: %v, want ErrEmptyRegion", err)
+	if _, err := ApplyAll([]Step{zero, {Kind: kindZero, Lo: 0, Hi: 1}}, wl, y); !errors.Is(err, errEmptyRegion) {
+		t.Errorf("second step failing: %v, want errEmptyRegion", err)
 	}
 }
 
@@ -225,9 +225,9 @@ func FuzzParseModel(f *testing.F) {
 // TestStepJSON: steps survive the JSON of a saved reference set.
 func TestStepJSON(t *testing.T) {
 	in := []Step{
-		{Kind: KindZero, Lo: 700, Hi: 750},
-		{Kind: KindALS, Lambda: 1e5, P: 0.01},
-		{Kind: KindSG, Window: 11, Order: 3, Deriv: 2},
+		{Kind: kindZero, Lo: 700, Hi: 750},
+		{Kind: kindALS, Lambda: 1e5, P: 0.01},
+		{Kind: kindSG, Window: 11, Order: 3, Deriv: 2},
 	}
 	data, err := json.Marshal(in)
 	if err != nil {

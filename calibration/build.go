@@ -12,6 +12,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix/lsq"
@@ -43,9 +44,9 @@ const (
 	gridSlack = spectrum.GridSlack
 )
 
-// Version is the tool version recorded in a set's provenance when
+// defaultVersion is the tool version recorded in a set's provenance when
 // Options.Version is empty.
-var Version = "dev"
+const defaultVersion = "dev"
 
 // Options control Build. Zero values mean the documented defaults.
 type Options struct {
@@ -72,21 +73,25 @@ type Options struct {
 	// Warn receives notes on what Build did (grids interpolated, readings
 	// left out); nil discards them. They are also kept in the provenance.
 	Warn func(msg string)
-	// Version is the tool version for the provenance (default Version).
+	// Version is the tool version for the provenance (default "dev").
 	Version string
 	// Now gives the creation time (default time.Now), for reproducible
 	// tests.
 	Now func() time.Time
 }
 
+// buildPkg is the prefix of Build's errors, "calibration: build": the
+// package and its step, which pkgerr.Plain leaves out as one.
+const buildPkg = "calibration: build"
+
 // Sentinel causes of Build errors, tested with errors.Is.
 var (
-	// ErrDesign: the concentrations cannot separate the compounds.
-	ErrDesign = errors.New("the concentration design cannot separate the compounds")
-	// ErrWindow: a scan does not cover the window, or the window is empty.
-	ErrWindow = errors.New("scan does not cover the window")
-	// ErrTooFewStandards: not enough standards, levels or readings.
-	ErrTooFewStandards = errors.New("too few standards")
+	// errDesign: the concentrations cannot separate the compounds.
+	errDesign = errors.New("the concentration design cannot separate the compounds")
+	// errWindow: a scan does not cover the window, or the window is empty.
+	errWindow = errors.New("scan does not cover the window")
+	// errTooFewStandards: not enough standards, levels or readings.
+	errTooFewStandards = errors.New("too few standards")
 )
 
 // Build makes a reference set from a standards sheet with its scans
@@ -113,9 +118,9 @@ var (
 // Errors name the sheet row or file where one is to blame: a negative or
 // non-finite concentration, a compound that never varies, a design that
 // cannot separate the compounds (rank deficient, or column-scaled
-// condition number above 1e3: ErrDesign), a scan not covering the window
-// (ErrWindow), fewer standards than coefficients plus one
-// (ErrTooFewStandards).
+// condition number above 1e3: errDesign), a scan not covering the window
+// (errWindow), fewer standards than coefficients plus one
+// (errTooFewStandards).
 func Build(sh *Sheet, opt Options) (*reference.Set, error) {
 	b := &builder{sh: sh, opt: opt}
 	if err := b.checkSheet(); err != nil {
@@ -255,7 +260,7 @@ func (ps *pass) solveWavelengths() ([]bool, error) {
 		if !ok {
 			var err error
 			if mf, err = newMaskFit(ps.rows, ps.masks, j, len(ps.res.set.Compounds), ps.intercept); err != nil {
-				return nil, fmt.Errorf("calibration: build: %s: least squares at %g nm: %w", ps.sh.Path, ps.grid[j], err)
+				return nil, pkgerr.Errorf(buildPkg, "%s: least squares at %g nm: %w", ps.sh.Path, ps.grid[j], err)
 			}
 			fits[string(key)] = mf
 		}
@@ -297,7 +302,7 @@ func (ps *pass) solveAt(mf *maskFit, j int) (bool, error) {
 		mf.y[r] = ps.abs.At(ps.sel[i], j)
 	}
 	if err := mf.solver.Solve(&mf.res, mf.y); err != nil {
-		return false, fmt.Errorf("calibration: build: least squares at %g nm: %w", ps.grid[j], err)
+		return false, pkgerr.Errorf(buildPkg, "least squares at %g nm: %w", ps.grid[j], err)
 	}
 	if mf.res.DoF <= 0 {
 		return false, nil
@@ -328,8 +333,8 @@ func (ps *pass) fillUnsolved(solved []bool) error {
 		}
 	}
 	if nsolved == 0 {
-		return fmt.Errorf("calibration: build: %s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
-			ps.sh.Path, ErrTooFewStandards, ps.ceiling)
+		return pkgerr.Errorf(buildPkg, "%s: %w: at no wavelength did enough standards stay under the ceiling of A = %g to fit (dilute the standards or choose another window)",
+			ps.sh.Path, errTooFewStandards, ps.ceiling)
 	}
 	if nsolved < len(solved) {
 		res.unsolved = len(solved) - nsolved
@@ -356,8 +361,8 @@ func (ps *pass) compoundLine(k int) error {
 		}
 	}
 	if jp < 0 {
-		return fmt.Errorf("calibration: build: %s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
-			ps.sh.Path, ErrTooFewStandards, c.Name, minLevels, ps.ceiling)
+		return pkgerr.Errorf(buildPkg, "%s: %w: %s has fewer than %d levels under the ceiling of A = %g at every wavelength (dilute the standards or add levels)",
+			ps.sh.Path, errTooFewStandards, c.Name, minLevels, ps.ceiling)
 	}
 	c.PeakNM = ps.grid[jp]
 	c.MinStandard, c.MaxStandard = math.Inf(1), 0
@@ -368,7 +373,7 @@ func (ps *pass) compoundLine(k int) error {
 		}
 	}
 	for i, r := range ps.fit {
-		if (r.Conc[k] != 0 || r.IsBlank()) && ps.use[i] && !ps.keep[i][jp] {
+		if (r.Conc[k] != 0 || r.isBlank()) && ps.use[i] && !ps.keep[i][jp] {
 			ps.res.clipped[k] = true
 		}
 	}
@@ -382,7 +387,7 @@ func (ps *pass) compoundLine(k int) error {
 	bl := bandLine(ps.grid, band, jp, pointsAt)
 	lin, err := lineTestAt(pointsAt(jp), ps.floor, bl.ConfirmsPeak())
 	if err != nil {
-		return fmt.Errorf("calibration: build: %s: %s at %g nm: %w", ps.sh.Path, c.Name, c.PeakNM, err)
+		return pkgerr.Errorf(buildPkg, "%s: %s at %g nm: %w", ps.sh.Path, c.Name, c.PeakNM, err)
 	}
 	lin.Band = bl
 	c.Linearity = lin
@@ -395,7 +400,7 @@ func (ps *pass) compoundLine(k int) error {
 func (ps *pass) pointsAt(k, j int) []reference.Point {
 	var pts []reference.Point
 	for i, r := range ps.fit {
-		if r.Conc[k] == 0 && !r.IsBlank() {
+		if r.Conc[k] == 0 && !r.isBlank() {
 			continue
 		}
 		y := ps.abs.At(i, j)
@@ -424,7 +429,7 @@ func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
 		ncoef++
 	}
 	if len(rows) <= ncoef {
-		return fmt.Errorf("%w: %d standards would remain for %d coefficients per wavelength", ErrTooFewStandards, len(rows), ncoef)
+		return fmt.Errorf("%w: %d standards would remain for %d coefficients per wavelength", errTooFewStandards, len(rows), ncoef)
 	}
 	for k, name := range names {
 		varies := false
@@ -435,7 +440,7 @@ func checkKept(fit []Row, use []bool, names []string, intercept bool) error {
 			}
 		}
 		if !varies {
-			return fmt.Errorf("%w: %s would be %g in every standard left", ErrNoVariation, name, rows[0].Conc[k])
+			return fmt.Errorf("%w: %s would be %g in every standard left", errNoVariation, name, rows[0].Conc[k])
 		}
 	}
 	_, err := checkDesign(rows, names, intercept)
@@ -637,16 +642,16 @@ func checkDesign(fit []Row, names []string, intercept bool) (float64, error) {
 	}
 	var svd mat.SVD
 	if !svd.Factorize(x, mat.SVDNone) {
-		return 0, fmt.Errorf("%w: the singular value decomposition of the design failed", ErrDesign)
+		return 0, fmt.Errorf("%w: the singular value decomposition of the design failed", errDesign)
 	}
 	sv := svd.Values(nil)
 	hint := "vary each compound on its own, for example with pure standards of each"
 	if sv[len(sv)-1] <= lsq.RankTol(x.Dims())*sv[0] {
-		return math.Inf(1), fmt.Errorf("%w: the concentrations of %s are linearly dependent across the standards (%s)", ErrDesign, designNames(names, intercept), hint)
+		return math.Inf(1), fmt.Errorf("%w: the concentrations of %s are linearly dependent across the standards (%s)", errDesign, designNames(names, intercept), hint)
 	}
 	c := sv[0] / sv[len(sv)-1]
 	if c > maxDesignCond {
-		return c, fmt.Errorf("%w: the concentrations of %s vary too nearly together (condition number %.3g, limit %g; %s)", ErrDesign, designNames(names, intercept), c, maxDesignCond, hint)
+		return c, fmt.Errorf("%w: the concentrations of %s vary too nearly together (condition number %.3g, limit %g; %s)", errDesign, designNames(names, intercept), c, maxDesignCond, hint)
 	}
 	return c, nil
 }
@@ -668,7 +673,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 	if opt.WindowLo != 0 || opt.WindowHi != 0 {
 		lo, hi = opt.WindowLo, opt.WindowHi
 		if !finite(lo) || !finite(hi) || lo >= hi || lo < 0 {
-			return nil, fmt.Errorf("calibration: build: %w: window %g-%g nm is empty", ErrWindow, lo, hi)
+			return nil, pkgerr.Errorf(buildPkg, "%w: window %g-%g nm is empty", errWindow, lo, hi)
 		}
 		covers := func(wl []float64) bool {
 			s := gridSlack * (wl[len(wl)-1] - wl[0])
@@ -677,12 +682,12 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		for _, r := range rows {
 			if wl := r.Scan.Wavelengths; !covers(wl) {
 				return nil, &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: fmt.Errorf("%w: %s covers %g-%g nm, the window is %g-%g nm",
-					ErrWindow, r.File, wl[0], wl[len(wl)-1], lo, hi)}
+					errWindow, r.File, wl[0], wl[len(wl)-1], lo, hi)}
 			}
 		}
 		if b := opt.Blank; b != nil && !covers(b.Wavelengths) {
-			return nil, fmt.Errorf("calibration: build: %w: blank %s covers %g-%g nm, the window is %g-%g nm",
-				ErrWindow, b.Source, b.Wavelengths[0], b.Wavelengths[len(b.Wavelengths)-1], lo, hi)
+			return nil, pkgerr.Errorf(buildPkg, "%w: blank %s covers %g-%g nm, the window is %g-%g nm",
+				errWindow, b.Source, b.Wavelengths[0], b.Wavelengths[len(b.Wavelengths)-1], lo, hi)
 		}
 	} else {
 		ss := make([]*spectrum.Spectrum, 0, len(rows)+1)
@@ -694,7 +699,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		}
 		var err error
 		if lo, hi, err = spectrum.CommonRange(ss); err != nil {
-			return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
+			return nil, pkgerr.Errorf(buildPkg, "%s: %w", sh.Path, err)
 		}
 		if lo > first[0] || hi < first[len(first)-1] {
 			warn("%s", narrowNote(rows, opt.Blank, first, lo, hi))
@@ -708,8 +713,8 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 		}
 	}
 	if len(grid) < 2 {
-		return nil, fmt.Errorf("calibration: build: %w: %s has %d points within %g-%g nm; need at least 2",
-			ErrWindow, sh.Standards[0].File, len(grid), lo, hi)
+		return nil, pkgerr.Errorf(buildPkg, "%w: %s has %d points within %g-%g nm; need at least 2",
+			errWindow, sh.Standards[0].File, len(grid), lo, hi)
 	}
 	var moved []int
 	for i, r := range rows {

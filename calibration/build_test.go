@@ -42,7 +42,7 @@ func memSheet(names []string, grid []float64, conc, scan [][]float64) *Sheet {
 			File: fmt.Sprintf("std-%02d.csv", i+1), Line: i + 2, Conc: conc[i],
 			Scan: &spectrum.Spectrum{Wavelengths: grid, Values: scan[i], Quantity: spectrum.Absorbance,
 				Source: spectrum.Source{File: fmt.Sprintf("std-%02d.csv", i+1)}},
-			SHA256: strings.Repeat("0", 64),
+			scanSHA256: strings.Repeat("0", 64),
 		}
 		if allZero(conc[i]) {
 			sh.Blanks = append(sh.Blanks, r)
@@ -735,7 +735,7 @@ func TestBuildErrors(t *testing.T) {
 		want error
 		in   string // the message must name this
 	}{
-		{"negative", base, func(sh *Sheet, _ *Options) { sh.Standards[3].Conc[1] = -1 }, ErrConcentration, "standards.csv:7"},
+		{"negative", base, func(sh *Sheet, _ *Options) { sh.Standards[3].Conc[1] = -1 }, errConcentration, "standards.csv:7"},
 		{"never varies", func() [][]float64 {
 			c := base()
 			for i := range c {
@@ -745,23 +745,23 @@ func TestBuildErrors(t *testing.T) {
 				}
 			}
 			return c
-		}, nil, ErrNoVariation, "blue"},
+		}, nil, errNoVariation, "blue"},
 		{"same ratio", func() [][]float64 {
 			var c [][]float64
 			for _, v := range []float64{0, 1, 2, 3, 4, 5, 6} {
 				c = append(c, []float64{v, 2 * v, 5 - 0.5*v})
 			}
 			return c
-		}, nil, ErrDesign, "concentrations of red, yellow, blue and the intercept are linearly dependent"},
+		}, nil, errDesign, "concentrations of red, yellow, blue and the intercept are linearly dependent"},
 		{"nearly same ratio", func() [][]float64 {
 			var c [][]float64
 			for i, v := range []float64{1, 2, 3, 4, 5, 6, 7} {
 				c = append(c, []float64{v, v * (1 + 1e-5*float64(i%2)), float64(i % 3)})
 			}
 			return c
-		}, nil, ErrDesign, "condition number"},
-		{"window", base, func(_ *Sheet, opt *Options) { opt.WindowLo, opt.WindowHi = 380, 550 }, ErrWindow, "standards.csv:4: scan does not cover the window: std-03.csv covers 400-600 nm"},
-		{"too few", func() [][]float64 { return [][]float64{{1, 0, 0}, {0, 1, 0}, {0, 0, 1}, {1, 1, 1}} }, nil, ErrTooFewStandards, "standards"},
+		}, nil, errDesign, "condition number"},
+		{"window", base, func(_ *Sheet, opt *Options) { opt.WindowLo, opt.WindowHi = 380, 550 }, errWindow, "standards.csv:4: scan does not cover the window: std-03.csv covers 400-600 nm"},
+		{"too few", func() [][]float64 { return [][]float64{{1, 0, 0}, {0, 1, 0}, {0, 0, 1}, {1, 1, 1}} }, nil, errTooFewStandards, "standards"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/spectrum"
 )
@@ -57,14 +58,14 @@ func (b *builder) rowErr(r Row, err error) error {
 func (b *builder) checkSheet() error {
 	sh := b.sh
 	if sh == nil || len(sh.Standards) == 0 {
-		return fmt.Errorf("calibration: build: %w: the sheet has no standards", ErrTooFewStandards)
+		return pkgerr.Errorf(buildPkg, "%w: the sheet has no standards", errTooFewStandards)
 	}
 	b.m = len(sh.Compounds)
 	if b.m == 0 {
-		return fmt.Errorf("calibration: build: %s: no compounds", sh.Path)
+		return pkgerr.Errorf(buildPkg, "%s: no compounds", sh.Path)
 	}
 	if len(sh.Units) != b.m {
-		return fmt.Errorf("calibration: build: %s: %d units for %d compounds", sh.Path, len(sh.Units), b.m)
+		return pkgerr.Errorf(buildPkg, "%s: %d units for %d compounds", sh.Path, len(sh.Units), b.m)
 	}
 	return nil
 }
@@ -82,9 +83,9 @@ func (b *builder) defaults() error {
 	b.floor = b.opt.Floor
 	switch {
 	case !finite(b.path) || b.path <= 0:
-		return fmt.Errorf("calibration: build: path length %g cm must be positive", b.path)
+		return pkgerr.Errorf(buildPkg, "path length %g cm must be positive", b.path)
 	case !finite(b.ceiling) || !finite(b.floor) || b.floor < 0 || b.ceiling <= b.floor:
-		return fmt.Errorf("calibration: build: ceiling %g and floor %g: need 0 <= floor < ceiling", b.ceiling, b.floor)
+		return pkgerr.Errorf(buildPkg, "ceiling %g and floor %g: need 0 <= floor < ceiling", b.ceiling, b.floor)
 	}
 	b.intercept = !b.opt.ThroughOrigin
 	return nil
@@ -113,7 +114,7 @@ func (b *builder) rows() error {
 			}
 		}
 		if !varies {
-			return fmt.Errorf("calibration: build: %s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, ErrNoVariation, name, fit[0].Conc[k])
+			return pkgerr.Errorf(buildPkg, "%s: %w: %s is %g in every standard, so its absorptivity cannot be found", sh.Path, errNoVariation, name, fit[0].Conc[k])
 		}
 	}
 	ncoef := b.m
@@ -121,12 +122,12 @@ func (b *builder) rows() error {
 		ncoef++
 	}
 	if len(fit) <= ncoef {
-		return fmt.Errorf("calibration: build: %s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
-			sh.Path, ErrTooFewStandards, len(fit), ncoef, ncoef+1)
+		return pkgerr.Errorf(buildPkg, "%s: %w: %d standards for %d coefficients per wavelength; at least %d are needed to estimate the noise",
+			sh.Path, errTooFewStandards, len(fit), ncoef, ncoef+1)
 	}
 	dcond, err := checkDesign(fit, sh.Compounds, b.intercept)
 	if err != nil {
-		return fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
+		return pkgerr.Errorf(buildPkg, "%s: %w", sh.Path, err)
 	}
 	if dcond > warnDesignCond {
 		b.warn("%s: the concentrations of %s vary nearly together across the standards (condition number %.3g, above %g): their absorptivities are uncertain; add standards that vary each compound on its own",
@@ -139,17 +140,17 @@ func (b *builder) rows() error {
 // concentration of every compound.
 func (b *builder) checkRow(r Row) error {
 	if r.Scan == nil {
-		return b.rowErr(r, fmt.Errorf("%w: %s: no scan loaded", ErrScanFile, r.File))
+		return b.rowErr(r, fmt.Errorf("%w: %s: no scan loaded", errScanFile, r.File))
 	}
 	if err := r.Scan.Check(); err != nil {
 		return b.rowErr(r, err)
 	}
 	if len(r.Conc) != b.m {
-		return b.rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", ErrConcentration, len(r.Conc), b.m))
+		return b.rowErr(r, fmt.Errorf("%w: %d concentrations for %d compounds", errConcentration, len(r.Conc), b.m))
 	}
 	for k, v := range r.Conc {
 		if !finite(v) || v < 0 {
-			return b.rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", ErrConcentration, b.sh.Compounds[k], v))
+			return b.rowErr(r, fmt.Errorf("%w: %s is %v; concentrations must be finite and not negative", errConcentration, b.sh.Compounds[k], v))
 		}
 	}
 	return nil
@@ -166,7 +167,7 @@ func (b *builder) gridAndBlank() error {
 	b.grid = grid
 	b.prov = reference.Provenance{Tool: "huesolve", Version: opt.Version, Sheet: sh.Path}
 	if b.prov.Version == "" {
-		b.prov.Version = Version
+		b.prov.Version = defaultVersion
 	}
 	switch {
 	case opt.Blank != nil:
@@ -185,11 +186,11 @@ func (b *builder) gridAndBlank() error {
 func (b *builder) separateBlank() error {
 	bl := b.opt.Blank.Clone()
 	if err := bl.ToAbsorbance(); err != nil {
-		return fmt.Errorf("calibration: blank: %w", err)
+		return pkgerr.Errorf("calibration", "blank: %w", err)
 	}
 	var err error
 	if b.blank, _, err = onGrid(bl, b.grid); err != nil {
-		return fmt.Errorf("calibration: blank %s: %w", bl.Source, err)
+		return pkgerr.Errorf("calibration", "blank %s: %w", bl.Source, err)
 	}
 	b.prov.Blank = bl.Source.File
 	if b.prov.Blank == "" {
@@ -413,7 +414,7 @@ func (b *builder) standardsLeftOut(c *reference.Compound, k int, rows []int) {
 	seen := map[float64]bool{}
 	for _, i := range rows {
 		r := b.fit[i]
-		c.StandardsLeftOut = append(c.StandardsLeftOut, reference.Standard{File: r.File, Column: r.Column, SHA256: r.SHA256,
+		c.StandardsLeftOut = append(c.StandardsLeftOut, reference.Standard{File: r.File, Column: r.Column, SHA256: r.scanSHA256,
 			Conc: append([]float64(nil), r.Conc...), Line: r.Line})
 		if v := r.Conc[k]; !seen[v] {
 			seen[v] = true
@@ -439,7 +440,7 @@ func (b *builder) finish(set *reference.Set) (*reference.Set, error) {
 	prov.Created = now().UTC().Format(time.RFC3339)
 	for _, r := range append(append([]Row(nil), sh.Standards...), sh.Blanks...) {
 		prov.Standards = append(prov.Standards, reference.Standard{
-			File: r.File, Column: r.Column, SHA256: r.SHA256,
+			File: r.File, Column: r.Column, SHA256: r.scanSHA256,
 			Conc: append([]float64(nil), r.Conc...), Line: r.Line,
 		})
 	}
@@ -447,7 +448,7 @@ func (b *builder) finish(set *reference.Set) (*reference.Set, error) {
 	prov.Notes = b.notes
 	set.Provenance = prov
 	if err := set.Validate(); err != nil {
-		return nil, fmt.Errorf("calibration: build: %s: %w", sh.Path, err)
+		return nil, pkgerr.Errorf(buildPkg, "%s: %w", sh.Path, err)
 	}
 	return set, nil
 }

@@ -39,7 +39,7 @@ func fitPoly(x, y []float64, degree int) (lineFit, error) {
 		scale = max(scale, math.Abs(v))
 	}
 	if scale == 0 {
-		return lineFit{}, fmt.Errorf("%w: every concentration is zero", ErrNoVariation)
+		return lineFit{}, fmt.Errorf("%w: every concentration is zero", errNoVariation)
 	}
 	// A power of two keeps the scaling exact.
 	_, e := math.Frexp(scale)
@@ -56,7 +56,7 @@ func fitPoly(x, y []float64, degree int) (lineFit, error) {
 	qr.Factorize(a)
 	var b mat.Dense
 	if err := qr.SolveTo(&b, false, mat.NewVecDense(n, append([]float64(nil), y...))); err != nil {
-		return lineFit{}, fmt.Errorf("%w: %v", ErrDesign, err)
+		return lineFit{}, fmt.Errorf("%w: %w", errDesign, err)
 	}
 	f := lineFit{coef: make([]float64, nc), se: make([]float64, nc), dof: n - nc}
 	for i := range n {
@@ -80,7 +80,7 @@ func fitPoly(x, y []float64, degree int) (lineFit, error) {
 	}
 	var ri mat.TriDense
 	if err := ri.InverseTri(r); err != nil {
-		return lineFit{}, fmt.Errorf("%w: %v", ErrDesign, err)
+		return lineFit{}, fmt.Errorf("%w: %w", errDesign, err)
 	}
 	s2 := f.rss / float64(f.dof)
 	for q := range nc {
@@ -216,7 +216,7 @@ func lineTestAt(pts []reference.Point, floor float64, confirmed bool) (reference
 	sort.Float64s(levels)
 	lin.Levels = len(levels)
 	if len(levels) < 2 || len(x) < 3 {
-		return lin, fmt.Errorf("%w: %d readings at %d levels under the ceiling; a calibration line needs at least 3 readings at 2 levels", ErrTooFewStandards, len(x), len(levels))
+		return lin, fmt.Errorf("%w: %d readings at %d levels under the ceiling; a calibration line needs at least 3 readings at 2 levels", errTooFewStandards, len(x), len(levels))
 	}
 	f, err := fitPoly(x, y, 1)
 	if err != nil {

@@ -39,12 +39,12 @@ type Row struct {
 	Conc []float64
 	// Scan is the standard's spectrum, in absorbance.
 	Scan *spectrum.Spectrum
-	// SHA256 is the hash of the scan file, lower-case hex.
-	SHA256 string
+	// scanSHA256 is the hash of the scan file, lower-case hex.
+	scanSHA256 string
 }
 
-// IsBlank reports whether the row is a blank: every concentration zero.
-func (r Row) IsBlank() bool {
+// isBlank reports whether the row is a blank: every concentration zero.
+func (r Row) isBlank() bool {
 	for _, v := range r.Conc {
 		if v != 0 {
 			return false
@@ -66,10 +66,10 @@ type Sheet struct {
 
 // Sentinel causes of sheet errors, tested with errors.Is.
 var (
-	ErrSheetHeader   = errors.New("bad header")
-	ErrConcentration = errors.New("bad concentration")
-	ErrScanFile      = errors.New("bad scan file")
-	ErrNoVariation   = errors.New("compound never varies")
+	errSheetHeader   = errors.New("bad header")
+	errConcentration = errors.New("bad concentration")
+	errScanFile      = errors.New("bad scan file")
+	errNoVariation   = errors.New("compound never varies")
 )
 
 // ReadSheet reads a standards sheet and the scans it names; paths in the
@@ -77,16 +77,16 @@ var (
 // package documentation. Scans are converted to absorbance.
 //
 // Errors are *spectrum.ParseError values naming the sheet, line and, where
-// it helps, column; they wrap ErrSheetHeader, ErrConcentration,
-// ErrScanFile, ErrNoVariation or the reader's error. No partial sheet is
+// it helps, column; they wrap errSheetHeader, errConcentration,
+// errScanFile, errNoVariation or the reader's error. No partial sheet is
 // returned with an error.
 func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 	perr := func(line, col int, format string, a ...any) error {
 		return &spectrum.ParseError{File: path, Line: line, Column: col, Err: fmt.Errorf(format, a...)}
 	}
-	text, sheetSt, err := sheet.Open(path, sheet.Options{What: "standards sheet", MaxBytes: MaxSheetBytes, Warn: opt.Warn, Wrap: ErrSheetHeader})
+	text, sheetSt, err := sheet.Open(path, sheet.Options{What: "standards sheet", MaxBytes: maxSheetBytes, Warn: opt.Warn, Wrap: errSheetHeader})
 	if errors.Is(err, spectrum.ErrEmpty) {
-		return nil, perr(0, 0, "%w: the sheet has no header and no rows", ErrSheetHeader)
+		return nil, perr(0, 0, "%w: the sheet has no header and no rows", errSheetHeader)
 	}
 	if err != nil {
 		return nil, err
@@ -106,7 +106,7 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 		if err := ld.load(&row, cols); err != nil {
 			return nil, err
 		}
-		if row.IsBlank() {
+		if row.isBlank() {
 			sh.Blanks = append(sh.Blanks, row)
 		} else {
 			sh.Standards = append(sh.Standards, row)
@@ -119,9 +119,9 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 // column by name; every other named column is a compound.
 var standardsColumns = sheet.Columns{
 	Names:  []string{"scan", "column"},
-	Ignore: sheet.NoteColumns,
+	Ignore: sheet.NoteColumns(),
 	Others: true,
-	Wrap:   ErrSheetHeader,
+	Wrap:   errSheetHeader,
 }
 
 // sheetCols are the positions of a standards sheet's columns (0-based;
@@ -145,10 +145,10 @@ func (sh *Sheet) readHeader(text *sheet.Sheet, opt SheetOptions) (sheetCols, err
 		h := text.Header.Fields[i]
 		name, unit, err := splitUnit(h)
 		if err != nil {
-			return sheetCols{}, text.ErrAt(hline, i+1, "%w: %v", ErrSheetHeader, err)
+			return sheetCols{}, text.ErrAt(hline, i+1, "%w: %v", errSheetHeader, err)
 		}
 		if j, dup := seen[strings.ToLower(name)]; dup {
-			return sheetCols{}, text.ErrAt(hline, i+1, "%w: compound %q is named twice (columns %d and %d)", ErrSheetHeader, name, j+1, i+1)
+			return sheetCols{}, text.ErrAt(hline, i+1, "%w: compound %q is named twice (columns %d and %d)", errSheetHeader, name, j+1, i+1)
 		}
 		seen[strings.ToLower(name)] = i
 		cols.comps = append(cols.comps, i)
@@ -156,10 +156,10 @@ func (sh *Sheet) readHeader(text *sheet.Sheet, opt SheetOptions) (sheetCols, err
 		sh.Units = append(sh.Units, unit)
 	}
 	if cols.scan < 0 {
-		return sheetCols{}, text.ErrAt(hline, 0, "%w: the header needs a column named scan (the scan file of each standard)", ErrSheetHeader)
+		return sheetCols{}, text.ErrAt(hline, 0, "%w: the header needs a column named scan (the scan file of each standard)", errSheetHeader)
 	}
 	if len(cols.comps) == 0 {
-		return sheetCols{}, text.ErrAt(hline, 0, "%w: no compound columns: after scan (and column) give one column per compound, e.g. \"Ambrelin (mg/L)\"", ErrSheetHeader)
+		return sheetCols{}, text.ErrAt(hline, 0, "%w: no compound columns: after scan (and column) give one column per compound, e.g. \"Ambrelin (mg/L)\"", errSheetHeader)
 	}
 	sh.settleUnits(hline, opt)
 	return cols, nil
@@ -196,12 +196,12 @@ func (sh *Sheet) readRow(text *sheet.Sheet, rec sheet.Row, cols sheetCols) (Row,
 	for k, c := range cols.comps {
 		v, err := parseConc(text, rec, c)
 		if err != nil {
-			return Row{}, text.ErrAt(rec.Line, c+1, "%w: %s: %v", ErrConcentration, sh.Compounds[k], err)
+			return Row{}, text.ErrAt(rec.Line, c+1, "%w: %s: %v", errConcentration, sh.Compounds[k], err)
 		}
 		row.Conc[k] = v
 	}
 	if row.File == "" {
-		return Row{}, text.ErrAt(rec.Line, cols.scan+1, "%w: no scan file named", ErrScanFile)
+		return Row{}, text.ErrAt(rec.Line, cols.scan+1, "%w: no scan file named", errScanFile)
 	}
 	return row, nil
 }
@@ -241,20 +241,20 @@ func (ld *scanLoader) load(row *Row, cols sheetCols) error {
 		}
 		ld.cache[p] = got
 	}
-	row.SHA256 = got.sum
+	row.scanSHA256 = got.sum
 	sp, err := pickScan(got.scans, row.Column)
 	if err != nil {
 		if cols.column >= 0 {
 			col = cols.column + 1
 		}
-		return ld.errAt(line, col, "%w: %s: %v", ErrScanFile, p, err)
+		return ld.errAt(line, col, "%w: %s: %w", errScanFile, p, err)
 	}
 	sp = sp.Clone()
 	if err := sp.ToAbsorbance(); err != nil {
-		return ld.errAt(line, col, "%w: %w", ErrScanFile, err)
+		return ld.errAt(line, col, "%w: %w", errScanFile, err)
 	}
 	if err := sp.Check(); err != nil {
-		return ld.errAt(line, col, "%w: %w", ErrScanFile, err)
+		return ld.errAt(line, col, "%w: %w", errScanFile, err)
 	}
 	row.Scan = sp
 	return nil
@@ -266,24 +266,24 @@ func (ld *scanLoader) read(p string, line, col int) (loadedScans, error) {
 	st, err := os.Stat(p)
 	switch {
 	case errors.Is(err, os.ErrNotExist):
-		return got, ld.errAt(line, col, "%w: %s does not exist (paths are relative to the sheet's folder %s)", ErrScanFile, p, filepath.Dir(ld.sheet))
+		return got, ld.errAt(line, col, "%w: %s does not exist (paths are relative to the sheet's folder %s)", errScanFile, p, filepath.Dir(ld.sheet))
 	case err != nil:
-		return got, ld.errAt(line, col, "%w: %v", ErrScanFile, err)
+		return got, ld.errAt(line, col, "%w: %v", errScanFile, err)
 	case st.IsDir():
-		return got, ld.errAt(line, col, "%w: %s is a folder, not a scan file", ErrScanFile, p)
+		return got, ld.errAt(line, col, "%w: %s is a folder, not a scan file", errScanFile, p)
 	}
 	if a, _ := filepath.Abs(p); a == ld.sheetAbs || os.SameFile(st, ld.sheetSt) {
-		return got, ld.errAt(line, col, "%w: the sheet names itself as a scan", ErrScanFile)
+		return got, ld.errAt(line, col, "%w: the sheet names itself as a scan", errScanFile)
 	}
 	got.scans, err = spectrum.ReadFile(p, spectrum.ReadOptions{Quantity: ld.opt.Quantity, Warn: ld.opt.Warn})
 	if err != nil {
-		return got, ld.errAt(line, col, "%w: %w", ErrScanFile, err)
+		return got, ld.errAt(line, col, "%w: %w", errScanFile, err)
 	}
 	if got.sum, err = reference.FileSHA256(p); err != nil {
-		return got, ld.errAt(line, col, "%w: %v", ErrScanFile, err)
+		return got, ld.errAt(line, col, "%w: %v", errScanFile, err)
 	}
 	if len(got.scans) == 0 {
-		return got, ld.errAt(line, col, "%w: %s holds no scan", ErrScanFile, p)
+		return got, ld.errAt(line, col, "%w: %s holds no scan", errScanFile, p)
 	}
 	return got, nil
 }
@@ -295,10 +295,10 @@ func (sh *Sheet) finish(opt SheetOptions) error {
 		return &spectrum.ParseError{File: sh.Path, Err: fmt.Errorf(format, a...)}
 	}
 	if len(sh.Standards) == 0 && len(sh.Blanks) == 0 {
-		return perr("%w: no standards: the sheet has a header but no rows", ErrConcentration)
+		return perr("%w: no standards: the sheet has a header but no rows", errConcentration)
 	}
 	if len(sh.Standards) == 0 {
-		return perr("%w: no standards: every row has all concentrations zero (blanks only)", ErrConcentration)
+		return perr("%w: no standards: every row has all concentrations zero (blanks only)", errConcentration)
 	}
 	if !opt.Checks {
 		return sh.checkVariation()
@@ -320,7 +320,7 @@ func (sh *Sheet) checkVariation() error {
 			}
 		}
 		if !varies {
-			return &spectrum.ParseError{File: sh.Path, Err: fmt.Errorf("%w: %s is %g in every row, so its absorptivity cannot be found (give standards at several concentrations)", ErrNoVariation, name, first)}
+			return &spectrum.ParseError{File: sh.Path, Err: fmt.Errorf("%w: %s is %g in every row, so its absorptivity cannot be found (give standards at several concentrations)", errNoVariation, name, first)}
 		}
 	}
 	return nil
@@ -361,9 +361,9 @@ func pickScan(scans []*spectrum.Spectrum, col string) (*spectrum.Spectrum, error
 	return nil, fmt.Errorf("no scan named %q in the file; it holds %s", col, names())
 }
 
-// MaxSheetBytes is the largest standards sheet ReadSheet reads (64 MiB,
+// maxSheetBytes is the largest standards sheet ReadSheet reads (64 MiB,
 // hundreds of thousands of rows).
-const MaxSheetBytes = 64 << 20
+const maxSheetBytes = 64 << 20
 
 // splitUnit splits "Name (unit)" into its parts; "Name" has no unit.
 func splitUnit(h string) (name, unit string, err error) {

@@ -113,8 +113,8 @@ func TestReadSheet(t *testing.T) {
 				}
 				raw, _ := os.ReadFile(r.Path)
 				sum := sha256.Sum256(raw)
-				if r.SHA256 != hex.EncodeToString(sum[:]) {
-					t.Errorf("standard %d: sha256 %s", i, r.SHA256)
+				if r.scanSHA256 != hex.EncodeToString(sum[:]) {
+					t.Errorf("standard %d: sha256 %s", i, r.scanSHA256)
 				}
 			}
 			if sh.Standards[0].Line != map[string]int{"comma": 5, "semicolon decimal comma": 3, "tab quoted": 3}[c.name] {
@@ -155,31 +155,31 @@ func TestReadSheetErrors(t *testing.T) {
 		where      string // "sheet:line[:column]" the message must hold
 		says       string
 	}{
-		{"missing file", "scan,dye\nblank.csv,0\nnone.csv,1\n", ErrScanFile, "bad.csv:3:1", "none.csv does not exist"},
-		{"folder", "scan,dye\nfolder,1\ns1.csv,2\n", ErrScanFile, "bad.csv:2:1", "is a folder"},
-		{"sheet itself", "scan,dye\nbad.csv,1\ns1.csv,2\n", ErrScanFile, "bad.csv:2:1", "names itself"},
-		{"negative", "scan,dye\ns1.csv,1\ns2.csv,-2\n", ErrConcentration, "bad.csv:3:2", "negative"},
-		{"text", "scan,dye\ns1.csv,1\ns2.csv,two\n", ErrConcentration, "bad.csv:3:2", "not a number"},
-		{"nan", "scan,dye\ns1.csv,NaN\ns2.csv,2\n", ErrConcentration, "bad.csv:2:2", "not a number"},
-		{"empty cell", "scan,dye\ns1.csv,\ns2.csv,2\n", ErrConcentration, "bad.csv:2:2", "write 0"},
-		{"unknown column", "scan,column,dye\ns1.csv,,1\nwide.csv,mix-z,5\n", ErrScanFile, "bad.csv:3:2", `no scan named "mix-z"`},
-		{"column number", "scan,column,dye\ns1.csv,,1\nwide.csv,3,5\n", ErrScanFile, "bad.csv:3:2", "holds 2 scans"},
-		{"wide without column", "scan,dye\ns1.csv,1\nwide.csv,5\n", ErrScanFile, "bad.csv:3:1", "holds 2 scans"},
-		{"duplicate compound", "scan,Dye (mg/L),dye\ns1.csv,1,1\ns2.csv,2,2\n", ErrSheetHeader, "bad.csv:1:3", "named twice"},
-		{"no scan column", "file,dye\ns1.csv,1\n", ErrSheetHeader, "bad.csv:1", "named scan"},
-		{"no compounds", "scan,column\ns1.csv,\n", ErrSheetHeader, "bad.csv:1", "no compound columns"},
-		{"empty brackets", "scan,dye ()\ns1.csv,1\n", ErrSheetHeader, "bad.csv:1:2", "empty brackets"},
-		{"never varies", "scan,dye,other\nblank.csv,0,0\ns1.csv,1,0\ns2.csv,2,0\n", ErrNoVariation, "bad.csv", "other is 0 in every row"},
-		{"blanks only", "scan,dye\nblank.csv,0\n", ErrConcentration, "bad.csv", "no standards: every row has all concentrations zero (blanks only)"},
-		{"no rows", "scan,dye\n", ErrConcentration, "bad.csv", "no standards: the sheet has a header but no rows"},
-		{"no rows but comments", "# made 2 May\nscan,dye\n\n", ErrConcentration, "bad.csv", "but no rows"},
+		{"missing file", "scan,dye\nblank.csv,0\nnone.csv,1\n", errScanFile, "bad.csv:3:1", "none.csv does not exist"},
+		{"folder", "scan,dye\nfolder,1\ns1.csv,2\n", errScanFile, "bad.csv:2:1", "is a folder"},
+		{"sheet itself", "scan,dye\nbad.csv,1\ns1.csv,2\n", errScanFile, "bad.csv:2:1", "names itself"},
+		{"negative", "scan,dye\ns1.csv,1\ns2.csv,-2\n", errConcentration, "bad.csv:3:2", "negative"},
+		{"text", "scan,dye\ns1.csv,1\ns2.csv,two\n", errConcentration, "bad.csv:3:2", "not a number"},
+		{"nan", "scan,dye\ns1.csv,NaN\ns2.csv,2\n", errConcentration, "bad.csv:2:2", "not a number"},
+		{"empty cell", "scan,dye\ns1.csv,\ns2.csv,2\n", errConcentration, "bad.csv:2:2", "write 0"},
+		{"unknown column", "scan,column,dye\ns1.csv,,1\nwide.csv,mix-z,5\n", errScanFile, "bad.csv:3:2", `no scan named "mix-z"`},
+		{"column number", "scan,column,dye\ns1.csv,,1\nwide.csv,3,5\n", errScanFile, "bad.csv:3:2", "holds 2 scans"},
+		{"wide without column", "scan,dye\ns1.csv,1\nwide.csv,5\n", errScanFile, "bad.csv:3:1", "holds 2 scans"},
+		{"duplicate compound", "scan,Dye (mg/L),dye\ns1.csv,1,1\ns2.csv,2,2\n", errSheetHeader, "bad.csv:1:3", "named twice"},
+		{"no scan column", "file,dye\ns1.csv,1\n", errSheetHeader, "bad.csv:1", "named scan"},
+		{"no compounds", "scan,column\ns1.csv,\n", errSheetHeader, "bad.csv:1", "no compound columns"},
+		{"empty brackets", "scan,dye ()\ns1.csv,1\n", errSheetHeader, "bad.csv:1:2", "empty brackets"},
+		{"never varies", "scan,dye,other\nblank.csv,0,0\ns1.csv,1,0\ns2.csv,2,0\n", errNoVariation, "bad.csv", "other is 0 in every row"},
+		{"blanks only", "scan,dye\nblank.csv,0\n", errConcentration, "bad.csv", "no standards: every row has all concentrations zero (blanks only)"},
+		{"no rows", "scan,dye\n", errConcentration, "bad.csv", "no standards: the sheet has a header but no rows"},
+		{"no rows but comments", "# made 2 May\nscan,dye\n\n", errConcentration, "bad.csv", "but no rows"},
 		{"extra field", "scan,dye\ns1.csv,1,9\ns2.csv,2\n", nil, "bad.csv:2:3", "header names 2 columns"},
 		{"missing field", "scan,dye,other\ns1.csv,1,0\ns2.csv,2\n", nil, "bad.csv:3:3", "row has 2 fields but the header names 3 columns"},
-		{"hex", "scan,dye\ns1.csv,0x1p3\ns2.csv,2\n", ErrConcentration, "bad.csv:2:2", `"0x1p3" is not a number`},
-		{"underscore", "scan,dye\ns1.csv,1_0\ns2.csv,2\n", ErrConcentration, "bad.csv:2:2", `"1_0" is not a number`},
-		{"mixed decimal marks", "scan;dye\ns1.csv;1,5\ns2.csv;2.5\n", ErrConcentration, "bad.csv:3:2", "mixed decimal conventions"},
+		{"hex", "scan,dye\ns1.csv,0x1p3\ns2.csv,2\n", errConcentration, "bad.csv:2:2", `"0x1p3" is not a number`},
+		{"underscore", "scan,dye\ns1.csv,1_0\ns2.csv,2\n", errConcentration, "bad.csv:2:2", `"1_0" is not a number`},
+		{"mixed decimal marks", "scan;dye\ns1.csv;1,5\ns2.csv;2.5\n", errConcentration, "bad.csv:3:2", "mixed decimal conventions"},
 		{"bare quote", "scan,dye\ns1\"x.csv,1\n", nil, "bad.csv:2:1", "not quoted"},
-		{"scan twice", "scan,Scan,dye\ns1.csv,s1.csv,1\n", ErrSheetHeader, "bad.csv:1:2", `column "scan" given twice`},
+		{"scan twice", "scan,Scan,dye\ns1.csv,s1.csv,1\n", errSheetHeader, "bad.csv:1:2", `column "scan" given twice`},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -208,8 +208,8 @@ func TestReadSheetErrors(t *testing.T) {
 func TestReadSheetChecksAllowConstant(t *testing.T) {
 	dir := sheetDir(t)
 	p := writeSheet(t, dir, "checks.csv", "scan,dye\ns1.csv,1\ns2.csv,1\n")
-	if _, err := ReadSheet(p, SheetOptions{}); !errors.Is(err, ErrNoVariation) {
-		t.Fatalf("calibration sheet: err = %v, want ErrNoVariation", err)
+	if _, err := ReadSheet(p, SheetOptions{}); !errors.Is(err, errNoVariation) {
+		t.Fatalf("calibration sheet: err = %v, want errNoVariation", err)
 	}
 	sh, err := ReadSheet(p, SheetOptions{Checks: true})
 	if err != nil {
@@ -290,7 +290,7 @@ func TestReadSheetWindowsAndLatin1(t *testing.T) {
 func TestReadSheetRefuses(t *testing.T) {
 	dir := sheetDir(t)
 	_, err := ReadSheet(filepath.Join(dir, "folder"), SheetOptions{})
-	if !errors.Is(err, ErrSheetHeader) || !strings.Contains(err.Error(), "folder") {
+	if !errors.Is(err, errSheetHeader) || !strings.Contains(err.Error(), "folder") {
 		t.Errorf("folder as sheet: %v", err)
 	}
 	p := writeSheet(t, dir, "self.csv", "scan,dye\nlink.csv,1\ns1.csv,2\n")
@@ -298,7 +298,7 @@ func TestReadSheetRefuses(t *testing.T) {
 		t.Skipf("no symbolic links here: %v", err)
 	}
 	_, err = ReadSheet(p, SheetOptions{})
-	if !errors.Is(err, ErrScanFile) || !strings.Contains(err.Error(), "self.csv:2:1") || !strings.Contains(err.Error(), "names itself") {
+	if !errors.Is(err, errScanFile) || !strings.Contains(err.Error(), "self.csv:2:1") || !strings.Contains(err.Error(), "names itself") {
 		t.Errorf("sheet through a link: %v", err)
 	}
 	big := writeSheet(t, dir, "big.csv", "scan,dye\ns1.csv,1\ns2.csv,2\n")
@@ -306,7 +306,7 @@ func TestReadSheetRefuses(t *testing.T) {
 		t.Skipf("no sparse files here: %v", err)
 	}
 	_, err = ReadSheet(big, SheetOptions{})
-	if !errors.Is(err, ErrSheetHeader) || !strings.Contains(err.Error(), "3 GiB, more than the 64 MiB") {
+	if !errors.Is(err, errSheetHeader) || !strings.Contains(err.Error(), "3 GiB, more than the 64 MiB") {
 		t.Errorf("3 GiB sheet: %v", err)
 	}
 }

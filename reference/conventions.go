@@ -25,10 +25,10 @@ const TestLevel = 0.99
 // half maximum) is common practice for where a band ends.
 const BandFraction = 0.5
 
-// BandCurvedShare is the share of the band wavelengths above which
+// bandCurvedShare is the share of the band wavelengths above which
 // curvature flagged there by Mandel's test marks the compound curved even
 // when its band maximum passes. Half is this project's choice: at 99 % a
 // straight line is flagged at about 1 % of wavelengths by chance, so a
 // majority of the band bending is curvature, not noise, while a short
 // stretch (an edge, a neighbouring band) does not condemn the compound.
-const BandCurvedShare = 0.5
+const bandCurvedShare = 0.5

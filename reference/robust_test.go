@@ -29,7 +29,7 @@ func TestLoadLayout(t *testing.T) {
 	if s, err := Load(win); err != nil || s.Compounds[0].Name != "dye A" {
 		t.Errorf("BOM and CRLF: %v", err)
 	}
-	if _, err := Load(dir); !errors.Is(err, ErrNotSet) || !strings.Contains(err.Error(), "folder") {
+	if _, err := Load(dir); !errors.Is(err, errNotSet) || !strings.Contains(err.Error(), "folder") {
 		t.Errorf("folder: %v", err)
 	}
 	big := filepath.Join(dir, "big.json")
@@ -39,7 +39,7 @@ func TestLoadLayout(t *testing.T) {
 	if err := os.Truncate(big, 4<<30); err != nil {
 		t.Skipf("no sparse files here: %v", err)
 	}
-	if _, err := Load(big); !errors.Is(err, ErrNotSet) || !strings.Contains(err.Error(), "4 GiB, more than the 256 MiB") {
+	if _, err := Load(big); !errors.Is(err, errNotSet) || !strings.Contains(err.Error(), "4 GiB, more than the 256 MiB") {
 		t.Errorf("4 GiB set: %v", err)
 	}
 }

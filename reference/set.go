@@ -14,6 +14,7 @@ import (
 	"huesolve/baseline"
 	"huesolve/internal/atomicfile"
 	"huesolve/internal/bytesize"
+	"huesolve/internal/pkgerr"
 )
 
 // SchemaVersion is the version of the reference-set file format written by
@@ -129,7 +130,7 @@ type BandLinearity struct {
 // ConfirmsPeak reports whether curvature found by Mandel's test at the
 // band maximum is borne out by the band: the test also prefers a
 // quadratic at a neighbouring band wavelength (one grid step either
-// side), or at more than [BandCurvedShare] of the band (TooCurved). At
+// side), or at more than bandCurvedShare of the band (TooCurved). At
 // TestLevel a straight line fails the test at about 1 % of wavelengths
 // by chance, while real curvature bends the line at every wavelength near
 // the maximum (their absorptivities differ little). With no band, or no
@@ -140,9 +141,9 @@ func (b *BandLinearity) ConfirmsPeak() bool {
 }
 
 // TooCurved reports whether Mandel's test flags curvature at more than
-// [BandCurvedShare] of the band wavelengths where it could be run.
+// bandCurvedShare of the band wavelengths where it could be run.
 func (b *BandLinearity) TooCurved() bool {
-	return b != nil && b.Tested > 0 && float64(b.Curved) > BandCurvedShare*float64(b.Tested)
+	return b != nil && b.Tested > 0 && float64(b.Curved) > bandCurvedShare*float64(b.Tested)
 }
 
 // Point is one reading of a calibration line.
@@ -296,26 +297,26 @@ func (s *Set) Sigma(i int, a float64) float64 { return s.NoiseFloor(i) * NoiseGr
 
 // Sentinel causes of Load errors, tested with errors.Is.
 var (
-	// ErrTruncated: the file ends before the JSON document does.
-	ErrTruncated = errors.New("the file ends early (truncated or still being written)")
-	// ErrChecksum: the content does not match its checksum.
-	ErrChecksum = errors.New("checksum does not match the content: the file was changed after it was saved (edited by hand or damaged); build it again with huesolve calibrate")
-	// ErrNewerSchema: the file was written by a newer huesolve.
-	ErrNewerSchema = errors.New("the file uses a newer reference-set schema than this huesolve reads; update huesolve")
-	// ErrNotSet: the file is JSON but not a reference set.
-	ErrNotSet = errors.New("not a huesolve reference set")
-	// ErrInvalid: the content breaks an invariant of a reference set.
-	ErrInvalid = errors.New("invalid reference set")
+	// errTruncated: the file ends before the JSON document does.
+	errTruncated = errors.New("the file ends early (truncated or still being written)")
+	// errChecksum: the content does not match its checksum.
+	errChecksum = errors.New("checksum does not match the content: the file was changed after it was saved (edited by hand or damaged); build it again with huesolve calibrate")
+	// errNewerSchema: the file was written by a newer huesolve.
+	errNewerSchema = errors.New("the file uses a newer reference-set schema than this huesolve reads; update huesolve")
+	// errNotSet: the file is JSON but not a reference set.
+	errNotSet = errors.New("not a huesolve reference set")
+	// errInvalid: the content breaks an invariant of a reference set.
+	errInvalid = errors.New("invalid reference set")
 )
 
-// ComputeChecksum returns the SHA-256, in lower-case hex, of the canonical
+// computeChecksum returns the SHA-256, in lower-case hex, of the canonical
 // content of s: its compact JSON encoding with the Checksum field empty.
-func (s *Set) ComputeChecksum() (string, error) {
+func (s *Set) computeChecksum() (string, error) {
 	c := *s
 	c.Checksum = ""
 	b, err := json.Marshal(&c)
 	if err != nil {
-		return "", fmt.Errorf("reference: encode set: %w", err)
+		return "", pkgerr.Errorf("reference", "encode set: %w", err)
 	}
 	sum := sha256.Sum256(b)
 	return hex.EncodeToString(sum[:]), nil
@@ -330,7 +331,7 @@ func (s *Set) ComputeChecksum() (string, error) {
 // not recorded, every wavelength usable, the default ceiling); when
 // present they must match the grid. Build always records all of them. It is the one check of a set:
 // Load, Save and Build call it, and so do the packages that solve with a
-// set (unmix, validate). Errors wrap ErrInvalid.
+// set (unmix, validate). Errors wrap errInvalid.
 func (s *Set) Validate() error {
 	if err := s.validateGrid(); err != nil {
 		return err
@@ -341,9 +342,9 @@ func (s *Set) Validate() error {
 	return s.validateStandards()
 }
 
-// invalid returns an error wrapping ErrInvalid.
+// invalid returns an error wrapping errInvalid.
 func invalid(format string, a ...any) error {
-	return fmt.Errorf("%w: %s", ErrInvalid, fmt.Sprintf(format, a...))
+	return fmt.Errorf("%w: %s", errInvalid, fmt.Sprintf(format, a...))
 }
 
 // validateGrid checks the grid, the noise model, the path length, the
@@ -475,39 +476,39 @@ func checkSlice(what string, v []float64, n int) error {
 	return nil
 }
 
-// MaxSetBytes is the largest reference-set file Load reads (256 MiB): a
+// maxSetBytes is the largest reference-set file Load reads (256 MiB): a
 // set of 50 compounds on 10,000 wavelengths takes some 40 MiB.
-const MaxSetBytes = 256 << 20
+const maxSetBytes = 256 << 20
 
 // Load reads a reference set, refusing files that are truncated, whose
 // checksum does not match, or whose schema is newer than SchemaVersion.
 // A UTF-8 byte order mark, as some editors add, is ignored (the checksum
 // is over the content, not the layout). Errors name the file and wrap
-// ErrTruncated, ErrChecksum, ErrNewerSchema, ErrNotSet or ErrInvalid; a
-// folder, or a file larger than MaxSetBytes, is refused before reading
-// (ErrNotSet).
+// errTruncated, errChecksum, errNewerSchema, errNotSet or errInvalid; a
+// folder, or a file larger than maxSetBytes, is refused before reading
+// (errNotSet).
 func Load(path string) (*Set, error) {
-	fail := func(err error) (*Set, error) { return nil, fmt.Errorf("reference: %s: %w", path, err) }
+	fail := func(err error) (*Set, error) { return nil, pkgerr.Errorf("reference", "%s: %w", path, err) }
 	st, err := os.Stat(path)
 	switch {
 	case err != nil:
-		return nil, fmt.Errorf("reference: %w", err)
+		return nil, pkgerr.Errorf("reference", "%w", err)
 	case st.IsDir():
-		return fail(fmt.Errorf("%w: it is a folder", ErrNotSet))
-	case st.Mode().IsRegular() && st.Size() > MaxSetBytes:
-		return fail(fmt.Errorf("%w: the file is %s, more than the %s a reference set may take", ErrNotSet,
-			bytesize.Text(st.Size()), bytesize.Text(MaxSetBytes)))
+		return fail(fmt.Errorf("%w: it is a folder", errNotSet))
+	case st.Mode().IsRegular() && st.Size() > maxSetBytes:
+		return fail(fmt.Errorf("%w: the file is %s, more than the %s a reference set may take", errNotSet,
+			bytesize.Text(st.Size()), bytesize.Text(maxSetBytes)))
 	}
-	data, err := readUpTo(path, MaxSetBytes)
+	data, err := readUpTo(path, maxSetBytes)
 	if errors.Is(err, errTooLarge) {
-		return fail(fmt.Errorf("%w: more than the %s a reference set may take", ErrNotSet, bytesize.Text(MaxSetBytes)))
+		return fail(fmt.Errorf("%w: more than the %s a reference set may take", errNotSet, bytesize.Text(maxSetBytes)))
 	}
 	if err != nil {
-		return nil, fmt.Errorf("reference: %w", err)
+		return nil, pkgerr.Errorf("reference", "%w", err)
 	}
 	data = bytes.TrimPrefix(data, []byte("\ufeff"))
 	if len(bytes.TrimSpace(data)) == 0 {
-		return fail(fmt.Errorf("%w: the file is empty", ErrTruncated))
+		return fail(fmt.Errorf("%w: the file is empty", errTruncated))
 	}
 	var head struct {
 		Schema *int `json:"schema"`
@@ -516,34 +517,34 @@ func Load(path string) (*Set, error) {
 		var se *json.SyntaxError
 		if errors.As(err, &se) {
 			if se.Offset >= int64(len(bytes.TrimRight(data, " \t\r\n"))) {
-				return fail(ErrTruncated)
+				return fail(errTruncated)
 			}
 			line := 1 + bytes.Count(data[:se.Offset], []byte("\n"))
-			return fail(fmt.Errorf("%w: not valid JSON at line %d: %v", ErrNotSet, line, se))
+			return fail(fmt.Errorf("%w: not valid JSON at line %d: %w", errNotSet, line, se))
 		}
-		return fail(fmt.Errorf("%w: %v", ErrNotSet, err))
+		return fail(fmt.Errorf("%w: %w", errNotSet, err))
 	}
 	switch {
 	case head.Schema == nil:
-		return fail(fmt.Errorf("%w: no schema field", ErrNotSet))
+		return fail(fmt.Errorf("%w: no schema field", errNotSet))
 	case *head.Schema > SchemaVersion:
-		return fail(fmt.Errorf("%w (file schema %d, this build reads up to %d)", ErrNewerSchema, *head.Schema, SchemaVersion))
+		return fail(fmt.Errorf("%w (file schema %d, this build reads up to %d)", errNewerSchema, *head.Schema, SchemaVersion))
 	case *head.Schema < 1:
-		return fail(fmt.Errorf("%w: schema %d", ErrNotSet, *head.Schema))
+		return fail(fmt.Errorf("%w: schema %d", errNotSet, *head.Schema))
 	}
 	s := new(Set)
 	if err := json.Unmarshal(data, s); err != nil {
-		return fail(fmt.Errorf("%w: %v", ErrNotSet, err))
+		return fail(fmt.Errorf("%w: %w", errNotSet, err))
 	}
 	if s.Checksum == "" {
-		return fail(fmt.Errorf("%w: the file has no checksum", ErrChecksum))
+		return fail(fmt.Errorf("%w: the file has no checksum", errChecksum))
 	}
-	sum, err := s.ComputeChecksum()
+	sum, err := s.computeChecksum()
 	if err != nil {
 		return fail(err)
 	}
 	if sum != s.Checksum {
-		return fail(ErrChecksum)
+		return fail(errChecksum)
 	}
 	if err := s.Validate(); err != nil {
 		return fail(err)
@@ -579,20 +580,20 @@ func readUpTo(path string, limit int64) ([]byte, error) {
 func (s *Set) Save(path string) error {
 	s.Schema = SchemaVersion
 	if err := s.Validate(); err != nil {
-		return fmt.Errorf("reference: save %s: %w", path, err)
+		return pkgerr.Errorf("reference", "save %s: %w", path, err)
 	}
-	sum, err := s.ComputeChecksum()
+	sum, err := s.computeChecksum()
 	if err != nil {
-		return fmt.Errorf("reference: save %s: %w", path, err)
+		return pkgerr.Errorf("reference", "save %s: %w", path, err)
 	}
 	s.Checksum = sum
 	b, err := json.MarshalIndent(s, "", "  ")
 	if err != nil {
-		return fmt.Errorf("reference: save %s: %w", path, err)
+		return pkgerr.Errorf("reference", "save %s: %w", path, err)
 	}
 	b = append(b, '\n')
 	if err := atomicfile.WriteBytes(path, b); err != nil {
-		return fmt.Errorf("reference: %w", err)
+		return pkgerr.Errorf("reference", "%w", err)
 	}
 	return nil
 }

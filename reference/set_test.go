@@ -92,14 +92,14 @@ func TestLoadRefuses(t *testing.T) {
 		data []byte
 		want error
 	}{
-		{"truncated", raw[:len(raw)/2], ErrTruncated},
-		{"empty", nil, ErrTruncated},
-		{"edited", bytes.Replace(raw, []byte(`"path_cm": 1`), []byte(`"path_cm": 2`), 1), ErrChecksum},
-		{"edited digit", bytes.Replace(raw, []byte("0.0011"), []byte("0.0021"), 1), ErrChecksum},
-		{"checksum altered", bytes.Replace(raw, []byte(`"checksum": "`), []byte(`"checksum": "x`), 1), ErrChecksum},
-		{"newer schema", bytes.Replace(raw, []byte(`"schema": 1`), []byte(`"schema": 2`), 1), ErrNewerSchema},
-		{"not a set", []byte(`{"grid": [1, 2]}`), ErrNotSet},
-		{"not json", []byte("wavelength,abs\n400,0.1\n"), ErrNotSet},
+		{"truncated", raw[:len(raw)/2], errTruncated},
+		{"empty", nil, errTruncated},
+		{"edited", bytes.Replace(raw, []byte(`"path_cm": 1`), []byte(`"path_cm": 2`), 1), errChecksum},
+		{"edited digit", bytes.Replace(raw, []byte("0.0011"), []byte("0.0021"), 1), errChecksum},
+		{"checksum altered", bytes.Replace(raw, []byte(`"checksum": "`), []byte(`"checksum": "x`), 1), errChecksum},
+		{"newer schema", bytes.Replace(raw, []byte(`"schema": 1`), []byte(`"schema": 2`), 1), errNewerSchema},
+		{"not a set", []byte(`{"grid": [1, 2]}`), errNotSet},
+		{"not json", []byte("wavelength,abs\n400,0.1\n"), errNotSet},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {
@@ -125,8 +125,8 @@ func TestSaveRefusesNaN(t *testing.T) {
 	s := memSet()
 	s.Noise[2] = math.NaN()
 	p := filepath.Join(t.TempDir(), "bad.json")
-	if err := s.Save(p); !errors.Is(err, ErrInvalid) {
-		t.Fatalf("Save with NaN noise = %v, want ErrInvalid", err)
+	if err := s.Save(p); !errors.Is(err, errInvalid) {
+		t.Fatalf("Save with NaN noise = %v, want errInvalid", err)
 	}
 	if _, err := os.Stat(p); !os.IsNotExist(err) {
 		t.Errorf("a refused save left a file: %v", err)
@@ -145,8 +145,8 @@ func TestSaveRefusesBothCurved(t *testing.T) {
 	} {
 		s := memSet()
 		edit(&s.Compounds[0].Linearity)
-		if err := s.Save(filepath.Join(t.TempDir(), "bad.json")); !errors.Is(err, ErrInvalid) {
-			t.Errorf("%s: Save = %v, want ErrInvalid", name, err)
+		if err := s.Save(filepath.Join(t.TempDir(), "bad.json")); !errors.Is(err, errInvalid) {
+			t.Errorf("%s: Save = %v, want errInvalid", name, err)
 		}
 	}
 }

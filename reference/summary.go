@@ -5,7 +5,7 @@ const (
 	// FlagCurved: Mandel's test prefers a quadratic to the line at the
 	// band maximum (TestLevel) over all standards, confirmed at a
 	// neighbouring band wavelength or by the band share
-	// (BandLinearity.ConfirmsPeak), or at more than BandCurvedShare of the
+	// (BandLinearity.ConfirmsPeak), or at more than bandCurvedShare of the
 	// band's wavelengths; when it does at the maximum, calibration.Build
 	// refits on the standards within the linear range. A hit at the
 	// maximum alone is noted (Linearity.CurvedUnconfirmed) but neither
@@ -34,8 +34,8 @@ var Flags = []struct{ Code, Meaning string }{
 	{FlagBelowFloor, "the lowest standards read below the detector floor at the band maximum"},
 }
 
-// SummaryRow is one compound's line of the summary table.
-type SummaryRow struct {
+// summaryRow is one compound's line of the summary table.
+type summaryRow struct {
 	Compound string
 	Unit     string
 	PeakNM   float64 // band maximum
@@ -51,10 +51,10 @@ type SummaryRow struct {
 
 // Summary returns one row per compound: band maximum, peak absorptivity
 // with its standard error, R² of the line, linear range and flags.
-func (s *Set) Summary() []SummaryRow {
-	rows := make([]SummaryRow, len(s.Compounds))
+func (s *Set) Summary() []summaryRow {
+	rows := make([]summaryRow, len(s.Compounds))
 	for k, c := range s.Compounds {
-		r := SummaryRow{
+		r := summaryRow{
 			Compound: c.Name, Unit: c.Unit, PeakNM: c.PeakNM,
 			R2: c.Linearity.R2, RangeLo: c.Linearity.RangeLo, RangeHi: c.Linearity.RangeHi,
 			Levels: c.Linearity.Levels, Flags: c.Flags,

@@ -26,10 +26,10 @@ const (
 	calLineH = 14 * vg.Centimeter
 )
 
-// AbsorptivityPlot draws each compound's absorptivity spectrum with a band
+// absorptivityPlot draws each compound's absorptivity spectrum with a band
 // of +-2 standard errors, at the wavelengths where the compound is usable
 // (gaps elsewhere).
-func AbsorptivityPlot(set *reference.Set) (*plot.Plot, error) {
+func absorptivityPlot(set *reference.Set) (*plot.Plot, error) {
 	p := plot.New()
 	p.Title.Text = "Absorptivity spectra (band: ±2 SE)"
 	p.X.Label.Text = "Wavelength (nm)"
@@ -37,10 +37,10 @@ func AbsorptivityPlot(set *reference.Set) (*plot.Plot, error) {
 	for k, c := range set.Compounds {
 		units[k] = c.Unit
 	}
-	p.Y.Label.Text = "Absorptivity (" + AbsorptivityUnit(CommonUnit(units)) + ")"
+	p.Y.Label.Text = "Absorptivity (" + absorptivityUnit(commonUnit(units)) + ")"
 	p.Add(plotter.NewGrid())
 	for k, c := range set.Compounds {
-		col := Colour(k)
+		col := colour(k)
 		first := true
 		for _, run := range usableRuns(c.Usable) {
 			lo, hi := run[0], run[1]
@@ -103,10 +103,10 @@ func fade(c color.Color) color.Color {
 	return color.NRGBA{R: uint8(r >> 8), G: uint8(g >> 8), B: uint8(b >> 8), A: 0x40}
 }
 
-// CalibrationLinePlots draws compound k's calibration line at its band
+// calibrationLinePlots draws compound k's calibration line at its band
 // maximum (readings, fitted line, readings left out) and, below it, the
 // residuals of the readings from the line.
-func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, err error) {
+func calibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, err error) {
 	if k < 0 || k >= len(set.Compounds) {
 		return nil, nil, pkgerr.Errorf("report", "compound %d of %d", k, len(set.Compounds))
 	}
@@ -130,7 +130,7 @@ func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, er
 	if len(used) == 0 {
 		return nil, nil, pkgerr.Errorf("report", "%s has no calibration readings to plot", c.Name)
 	}
-	col := Colour(k)
+	col := colour(k)
 
 	line = plot.New()
 	sign := "+"
@@ -190,15 +190,15 @@ func CalibrationLinePlots(set *reference.Set, k int) (line, resid *plot.Plot, er
 	return line, resid, nil
 }
 
-// SaveCalibrationLinePlot writes compound k's calibration line with its
+// saveCalibrationLinePlot writes compound k's calibration line with its
 // residual panel to path (format from the extension: png, svg or pdf),
 // atomically.
-func SaveCalibrationLinePlot(set *reference.Set, k int, path string) error {
-	line, resid, err := CalibrationLinePlots(set, k)
+func saveCalibrationLinePlot(set *reference.Set, k int, path string) error {
+	line, resid, err := calibrationLinePlots(set, k)
 	if err != nil {
 		return err
 	}
-	return SaveStacked(path, calPlotW, calLineH, []*plot.Plot{line, resid}, []float64{1, 1})
+	return saveStacked(path, calPlotW, calLineH, []*plot.Plot{line, resid}, []float64{1, 1})
 }
 
 // WriteCalibrationPlots writes, into dir, absorptivity.FORMAT and one
@@ -210,12 +210,12 @@ func WriteCalibrationPlots(set *reference.Set, dir, format string) ([]string, er
 		return nil, pkgerr.Errorf("report", "plot format %q: want png or svg", format)
 	}
 	var files []string
-	p, err := AbsorptivityPlot(set)
+	p, err := absorptivityPlot(set)
 	if err != nil {
 		return nil, err
 	}
 	f := filepath.Join(dir, "absorptivity."+format)
-	if err := SavePlot(p, f, calPlotW, calPlotH); err != nil {
+	if err := savePlot(p, f, calPlotW, calPlotH); err != nil {
 		return files, err
 	}
 	files = append(files, f)
@@ -228,7 +228,7 @@ func WriteCalibrationPlots(set *reference.Set, dir, format string) ([]string, er
 		}
 		used[name] = true
 		f := filepath.Join(dir, "line-"+name+"."+format)
-		if err := SaveCalibrationLinePlot(set, k, f); err != nil {
+		if err := saveCalibrationLinePlot(set, k, f); err != nil {
 			return files, err
 		}
 		files = append(files, f)

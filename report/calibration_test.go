@@ -107,7 +107,7 @@ func checkAbsorptivitySVG(t *testing.T, path string) {
 		}
 	}
 	for k, runs := range []int{2, 1} {
-		if n := d.paths(stroke(Colour(k), 1.2)); n != runs+1 {
+		if n := d.paths(stroke(colour(k), 1.2)); n != runs+1 {
 			t.Errorf("%s: compound %d: %d line paths, want %d runs and a legend swatch", path, k, n, runs)
 		}
 	}
@@ -145,8 +145,8 @@ func checkLineSVG(t *testing.T, path string, set *reference.Set, k int) {
 		what, style string
 		n           int
 	}{
-		{"fitted line and swatch", stroke(Colour(k), 0), 2},
-		{"standards: 3 readings, 3 residuals, 1 swatch", stroke(Colour(k), 0.5), 7},
+		{"fitted line and swatch", stroke(colour(k), 0), 2},
+		{"standards: 3 readings, 3 residuals, 1 swatch", stroke(colour(k), 0.5), 7},
 		{"left-out reading and swatch, 2 strokes each", stroke(color.Gray{Y: 0x80}, 0.5), 4},
 		{"zero line of the residuals", stroke(color.Gray{Y: 0x60}, 0), 1},
 	} {

@@ -24,7 +24,7 @@ func WriteMerits(w io.Writer, m *validate.Merits) error {
 		units[i] = c.Unit
 	}
 	t := newTable(w)
-	t.Header("Compound", "Sensitivity ("+SensitivityUnit(CommonUnit(units))+")", "Selectivity", "LOD", "LOQ", "Quantifiable")
+	t.Header("Compound", "Sensitivity ("+sensitivityUnit(commonUnit(units))+")", "Selectivity", "LOD", "LOQ", "Quantifiable")
 	for _, c := range m.Compounds {
 		unit := c.Unit
 		if unit != "" {

@@ -16,9 +16,9 @@ import (
 	"huesolve/internal/pkgerr"
 )
 
-// Palette is huesolve's own set of line colours for compounds, chosen to
+// palette is huesolve's own set of line colours for compounds, chosen to
 // stay distinct in print and for common colour-vision deficiencies.
-var Palette = []color.Color{
+var palette = []color.Color{
 	color.RGBA{R: 0x1b, G: 0x4f, B: 0x72, A: 0xff}, // deep blue
 	color.RGBA{R: 0xc0, G: 0x6c, B: 0x00, A: 0xff}, // ochre
 	color.RGBA{R: 0x2e, G: 0x8b, B: 0x57, A: 0xff}, // sea green
@@ -29,12 +29,12 @@ var Palette = []color.Color{
 	color.RGBA{R: 0x99, G: 0x88, B: 0x33, A: 0xff}, // olive
 }
 
-// Colour returns the palette colour for series i, cycling.
-func Colour(i int) color.Color { return Palette[i%len(Palette)] }
+// colour returns the palette colour for series i, cycling.
+func colour(i int) color.Color { return palette[i%len(palette)] }
 
-// SavePlot writes p to path atomically; the format comes from the
+// savePlot writes p to path atomically; the format comes from the
 // extension (.png or .svg; .pdf also works).
-func SavePlot(p *plot.Plot, path string, w, h vg.Length) error {
+func savePlot(p *plot.Plot, path string, w, h vg.Length) error {
 	ext := strings.ToLower(strings.TrimPrefix(filepath.Ext(path), "."))
 	switch ext {
 	case "png", "svg", "pdf":
@@ -51,11 +51,11 @@ func SavePlot(p *plot.Plot, path string, w, h vg.Length) error {
 	})
 }
 
-// SaveStacked draws plots one above the other on a w x h figure, each
+// saveStacked draws plots one above the other on a w x h figure, each
 // taking a share of the height proportional to its weight, with their
 // data areas aligned left and right so the x axes line up, and writes the
 // figure to path atomically (format from the extension: png, svg or pdf).
-func SaveStacked(path string, w, h vg.Length, plots []*plot.Plot, weights []float64) error {
+func saveStacked(path string, w, h vg.Length, plots []*plot.Plot, weights []float64) error {
 	if len(plots) == 0 || len(plots) != len(weights) {
 		return pkgerr.Errorf("report", "plot %s: %d panels with %d weights", path, len(plots), len(weights))
 	}

@@ -38,8 +38,8 @@ func NewCSVWriter(w io.Writer, l Layout) *CSVWriter {
 	return &CSVWriter{w: bufio.NewWriter(w), l: l}
 }
 
-// Header returns the column names.
-func (c *CSVWriter) Header() []string {
+// columns returns the column names.
+func (c *CSVWriter) columns() []string {
 	h := []string{"sample", "source"}
 	for _, n := range c.l.Compounds {
 		for _, s := range []string{"conc", "se", "ci95_lo", "ci95_hi", "lod", "loq", "unconstrained", "unconstrained_se", "unit", "flags"} {
@@ -60,7 +60,7 @@ func (c *CSVWriter) writeHeader() error {
 	}
 	c.header = true
 	var b []byte
-	for i, h := range c.Header() {
+	for i, h := range c.columns() {
 		if i > 0 {
 			b = append(b, ',')
 		}
@@ -186,7 +186,7 @@ func appendCSVField(b []byte, f string) []byte {
 // appendNum appends num(v) without allocating.
 func appendNum(b []byte, v float64) []byte {
 	if !finite(v) {
-		return append(b, NA...)
+		return append(b, naText...)
 	}
 	if v == 0 {
 		return append(b, '0')
@@ -202,7 +202,7 @@ type Encoder interface {
 	WriteEncoded(rec []byte) error
 }
 
-// JSONWriter writes one JSON document:
+// jsonWriter writes one JSON document:
 //
 //	{"format": "huesolve-results", "version": 1,
 //	 "compounds": [{"name": ..., "unit": ...}], "baseline_terms": [...],
@@ -215,7 +215,7 @@ type Encoder interface {
 // something is left out). The unconstrained estimate of a compound is
 // given only where it is held at zero, shift_se_nm only where a shift
 // was estimated. "flags" is always written, [] when there are none.
-type JSONWriter struct {
+type jsonWriter struct {
 	w      *bufio.Writer
 	l      Layout
 	n      int
@@ -225,17 +225,17 @@ type JSONWriter struct {
 
 type failure struct{ source, msg string }
 
-// NewJSONWriter returns a JSON writer for results of layout l.
-func NewJSONWriter(w io.Writer, l Layout) *JSONWriter {
-	return &JSONWriter{w: bufio.NewWriter(w), l: l}
+// newJSONWriter returns a JSON writer for results of layout l.
+func newJSONWriter(w io.Writer, l Layout) *jsonWriter {
+	return &jsonWriter{w: bufio.NewWriter(w), l: l}
 }
 
-// JSONVersion is the version of the results document.
-const JSONVersion = 1
+// jsonVersion is the version of the results document.
+const jsonVersion = 1
 
-func (j *JSONWriter) start() error {
+func (j *jsonWriter) start() error {
 	b := []byte(`{"format": "huesolve-results", "version": `)
-	b = strconv.AppendInt(b, JSONVersion, 10)
+	b = strconv.AppendInt(b, jsonVersion, 10)
 	b = append(b, ",\n \"compounds\": ["...)
 	for k, n := range j.l.Compounds {
 		if k > 0 {
@@ -264,13 +264,13 @@ func (j *JSONWriter) start() error {
 }
 
 // Write writes one sample object.
-func (j *JSONWriter) Write(r *unmix.Result) error {
+func (j *jsonWriter) Write(r *unmix.Result) error {
 	j.buf = j.AppendResult(j.buf[:0], r)
 	return j.WriteEncoded(j.buf)
 }
 
 // WriteEncoded writes a sample object made by AppendResult.
-func (j *JSONWriter) WriteEncoded(obj []byte) error {
+func (j *jsonWriter) WriteEncoded(obj []byte) error {
 	if j.n == 0 {
 		if err := j.start(); err != nil {
 			return err
@@ -290,7 +290,7 @@ func (j *JSONWriter) WriteEncoded(obj []byte) error {
 
 // AppendResult appends r's JSON object to dst. It does not touch the
 // writer, so it may run concurrently (see Encoder).
-func (j *JSONWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
+func (j *jsonWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 	b := dst
 	var na []string
 	// field writes "name": v, or lists label (name if empty) as
@@ -389,13 +389,13 @@ func (j *JSONWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 }
 
 // Fail records a failed sample or file, written at the end.
-func (j *JSONWriter) Fail(source string, err error) error {
+func (j *jsonWriter) Fail(source string, err error) error {
 	j.failed = append(j.failed, failure{source, err.Error()})
 	return nil
 }
 
 // Close ends the document and flushes.
-func (j *JSONWriter) Close() error {
+func (j *jsonWriter) Close() error {
 	if j.n == 0 {
 		if err := j.start(); err != nil {
 			return err

@@ -45,18 +45,18 @@ const (
 func NewResultWriter(format string, w io.Writer, l Layout, width int) (ResultWriter, error) {
 	switch strings.ToLower(format) {
 	case FormatTable:
-		return NewTableWriter(w, l, width), nil
+		return newTableWriter(w, l, width), nil
 	case FormatCSV:
 		return NewCSVWriter(w, l), nil
 	case FormatJSON:
-		return NewJSONWriter(w, l), nil
+		return newJSONWriter(w, l), nil
 	}
 	return nil, pkgerr.Errorf("report", "unknown format %q (want table, csv or json)", format)
 }
 
-// NA is written in place of a number that is not defined (a NaN or an
+// naText is written in place of a number that is not defined (a NaN or an
 // infinity never reaches output).
-const NA = "n/a"
+const naText = "n/a"
 
 // numDigits is the number of significant digits written for every
 // floating-point figure: enough for any concentration a UV-Vis assay can
@@ -67,7 +67,7 @@ const numDigits = 6
 // num formats v with numDigits significant digits ("n/a" if not finite).
 func num(v float64) string {
 	if math.IsNaN(v) || math.IsInf(v, 0) {
-		return NA
+		return naText
 	}
 	if v == 0 {
 		return "0" // also for -0

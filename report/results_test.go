@@ -108,7 +108,7 @@ func TestCSVWriter(t *testing.T) {
 
 func TestJSONWriter(t *testing.T) {
 	var b bytes.Buffer
-	w := NewJSONWriter(&b, testLayout)
+	w := newJSONWriter(&b, testLayout)
 	for _, n := range []string{"S1", "tab\there \"q\" <lod> \x01 \xff"} {
 		if err := w.Write(testResult(n)); err != nil {
 			t.Fatal(err)
@@ -164,13 +164,13 @@ func TestJSONWriter(t *testing.T) {
 	}
 	r := testResult("S3")
 	r.Flags, r.ShiftNM, r.ShiftSE = nil, 0.2, 0.05
-	obj := string(NewJSONWriter(&b, testLayout).AppendResult(nil, r))
+	obj := string(newJSONWriter(&b, testLayout).AppendResult(nil, r))
 	if !strings.Contains(obj, `"shift_nm": 0.2, "shift_se_nm": 0.05,`) || !strings.Contains(obj, `"suggest_dilution": 2.5, "flags": [], "unavailable"`) {
 		t.Errorf("sample without flags, with a shift: %s", obj)
 	}
 	// Empty run: still a complete document.
 	b.Reset()
-	if err := NewJSONWriter(&b, testLayout).Close(); err != nil || !json.Valid(b.Bytes()) {
+	if err := newJSONWriter(&b, testLayout).Close(); err != nil || !json.Valid(b.Bytes()) {
 		t.Errorf("empty JSON %q, %v", b.String(), err)
 	}
 }
@@ -178,7 +178,7 @@ func TestJSONWriter(t *testing.T) {
 func TestTableWriter(t *testing.T) {
 	for _, width := range []int{160, 80, 40} {
 		var b bytes.Buffer
-		w := NewTableWriter(&b, testLayout, width)
+		w := newTableWriter(&b, testLayout, width)
 		for _, n := range []string{"S1", "a-rather-long-sample-name-from-the-autosampler-017"} {
 			if err := w.Write(testResult(n)); err != nil {
 				t.Fatal(err)
@@ -221,7 +221,7 @@ func TestTableWriter(t *testing.T) {
 
 func TestSamplePlot(t *testing.T) {
 	r := testResult("S/1 ok")
-	if _, _, err := SamplePlots(r, nil); !errors.Is(err, ErrNoCurves) {
+	if _, _, err := samplePlots(r, nil); !errors.Is(err, errNoCurves) {
 		t.Errorf("no curves: %v", err)
 	}
 	n := 50
@@ -315,7 +315,7 @@ func checkSampleSVG(t *testing.T, path string, r *unmix.Result, segs int) {
 		t.Errorf("%s: %d measured glyphs, want %d points and a swatch", path, n, len(r.Grid))
 	}
 	for k := range r.Contributions {
-		style := stroke(Colour(k), 1.2) + ";stroke-dasharray:5,2"
+		style := stroke(colour(k), 1.2) + ";stroke-dasharray:5,2"
 		if n := d.paths(style); n != segs+1 {
 			t.Errorf("%s: %d lines %q for compound %d, want %d stretches and a swatch", path, n, style, k, segs)
 		}
@@ -356,7 +356,7 @@ func TestSamplePlotGaps(t *testing.T) {
 // flag cell, and a table with no sample solved prints nothing.
 func TestTableShiftAndEmpty(t *testing.T) {
 	var b bytes.Buffer
-	w := NewTableWriter(&b, testLayout, 160)
+	w := newTableWriter(&b, testLayout, 160)
 	r := testResult("S1")
 	r.Flags = []unmix.Flag{unmix.FlagSaturated, unmix.FlagShift}
 	r.ShiftNM, r.SuggestDilution = 0.8312, 0
@@ -372,7 +372,7 @@ func TestTableShiftAndEmpty(t *testing.T) {
 	// A result over its range with no sample flag: the dilution alone,
 	// without a leading blank.
 	b.Reset()
-	w = NewTableWriter(&b, testLayout, 160)
+	w = newTableWriter(&b, testLayout, 160)
 	r = testResult("S2")
 	r.Flags, r.SuggestDilution = nil, 2
 	if err := w.Write(r); err != nil {
@@ -382,7 +382,7 @@ func TestTableShiftAndEmpty(t *testing.T) {
 		t.Errorf("flag cell %q, want %q", got, "(dilute 2x)")
 	}
 	b.Reset()
-	w = NewTableWriter(&b, testLayout, 160)
+	w = newTableWriter(&b, testLayout, 160)
 	if err := w.Fail("x", errors.New("bad")); err != nil {
 		t.Fatal(err)
 	}

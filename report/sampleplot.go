@@ -49,17 +49,17 @@ const (
 	uncalibratedLabel = "not calibrated: left out"
 )
 
-// ErrNoCurves: the result was solved without unmix.Options.KeepCurves.
-var ErrNoCurves = pkgerr.New("report", "result holds no curves (solve with curves kept)")
+// errNoCurves: the result was solved without unmix.Options.KeepCurves.
+var errNoCurves = pkgerr.New("report", "result holds no curves (solve with curves kept)")
 
-// SamplePlots draws one sample: the measured spectrum (dots), the fitted
+// samplePlots draws one sample: the measured spectrum (dots), the fitted
 // spectrum, each compound's contribution and the baseline in the top
 // panel; the residual against a band of +-2 expected noise standard
 // deviations in the bottom one. names label the compounds in order.
-func SamplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, err error) {
+func samplePlots(r *unmix.Result, names []string) (spectra, resid *plot.Plot, err error) {
 	n := len(r.Grid)
 	if n == 0 {
-		return nil, nil, ErrNoCurves
+		return nil, nil, errNoCurves
 	}
 	for _, c := range [][]float64{r.Measured, r.Fitted, r.Residual, r.BaselineCurve, r.Noise} {
 		if len(c) != n {
@@ -178,7 +178,7 @@ func (sp *samplePlot) addContributions(spectra *plot.Plot, names []string) error
 			return errors.New("contribution of unequal length")
 		}
 		l, err := sp.lines(spectra, c, func(l *plotter.Line) {
-			l.Color = Colour(k)
+			l.Color = colour(k)
 			l.Width = vg.Points(1.2)
 			l.Dashes = []vg.Length{vg.Points(5), vg.Points(2)}
 		})
@@ -348,11 +348,11 @@ func sampleTitle(r *unmix.Result) string {
 // SaveSamplePlot writes the figure of one sample to path (format from
 // the extension: png or svg), atomically.
 func SaveSamplePlot(r *unmix.Result, names []string, path string) error {
-	sp, rp, err := SamplePlots(r, names)
+	sp, rp, err := samplePlots(r, names)
 	if err != nil {
 		return err
 	}
-	return SaveStacked(path, samplePlotW, samplePlotH, []*plot.Plot{sp, rp}, []float64{spectraWeight, residWeight})
+	return saveStacked(path, samplePlotW, samplePlotH, []*plot.Plot{sp, rp}, []float64{spectraWeight, residWeight})
 }
 
 // SamplePlotPath returns the file for sample number seq (from 1) in dir:

@@ -29,7 +29,7 @@ func WriteSetSummary(w io.Writer, set *reference.Set) error {
 		units[i] = r.Unit
 	}
 	t := newTable(w)
-	t.Header("Compound", "Band max (nm)", "Absorptivity ± SE ("+AbsorptivityUnit(CommonUnit(units))+")",
+	t.Header("Compound", "Band max (nm)", "Absorptivity ± SE ("+absorptivityUnit(commonUnit(units))+")",
 		"R²", "Levels", "Linear range", "Flags")
 	seen := map[string]bool{}
 	for _, r := range sum {

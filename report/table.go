@@ -25,14 +25,14 @@ const (
 	minNameWidth  = 12
 )
 
-// TableWriter collects results and, on Close, prints a table sized for a
+// tableWriter collects results and, on Close, prints a table sized for a
 // terminal of the given width: one row per sample with each compound's
 // concentration +- standard error (digits matched to the error) and its
 // flags, the fit figures that fit (reduced chi-square, RMS residual,
 // Durbin-Watson, dropped first as space runs out), the sample's flags,
 // and a legend of the flags that appear. Rows are kept as text until
 // Close, so for very large batches prefer CSV or JSON.
-type TableWriter struct {
+type tableWriter struct {
 	w      io.Writer
 	l      Layout
 	width  int
@@ -41,12 +41,12 @@ type TableWriter struct {
 	failed int
 }
 
-// NewTableWriter returns a table writer; width 0 means DefaultWidth.
-func NewTableWriter(w io.Writer, l Layout, width int) *TableWriter {
+// newTableWriter returns a table writer; width 0 means DefaultWidth.
+func newTableWriter(w io.Writer, l Layout, width int) *tableWriter {
 	if width <= 0 {
 		width = DefaultWidth
 	}
-	return &TableWriter{w: w, l: l, width: width, seen: map[unmix.Flag]bool{}}
+	return &tableWriter{w: w, l: l, width: width, seen: map[unmix.Flag]bool{}}
 }
 
 // fit-figure columns, in the order they are given up when space runs out
@@ -54,12 +54,12 @@ func NewTableWriter(w io.Writer, l Layout, width int) *TableWriter {
 var figureCols = []string{"χ²/dof", "RMS", "DW"}
 
 // Write adds a sample's row.
-func (t *TableWriter) Write(r *unmix.Result) error {
+func (t *tableWriter) Write(r *unmix.Result) error {
 	row := []string{r.Sample}
 	for k, n := range t.l.Compounds {
 		a := amountOf(r, k, n)
 		if a == nil {
-			row = append(row, NA)
+			row = append(row, naText)
 			continue
 		}
 		cell := ConcText(a.Conc, a.SE)
@@ -100,14 +100,14 @@ func sampleFlagsText(r *unmix.Result) string {
 }
 
 // Fail counts a failed sample; the command reports the reason on stderr.
-func (t *TableWriter) Fail(string, error) error {
+func (t *tableWriter) Fail(string, error) error {
 	t.failed++
 	return nil
 }
 
 // Close renders the table and the legend; with no sample solved it
 // writes nothing (the reasons are on standard error).
-func (t *TableWriter) Close() error {
+func (t *tableWriter) Close() error {
 	if len(t.rows) == 0 {
 		return nil
 	}
@@ -207,7 +207,7 @@ func (t *TableWriter) Close() error {
 // "4.9882 ± 0.0073". A zero or undefined error gives the value alone.
 func ConcText(c, se float64) string {
 	if !finite(c) {
-		return NA
+		return naText
 	}
 	if !(se > 0) || !finite(se) {
 		return num(c)
@@ -220,7 +220,7 @@ func ConcText(c, se float64) string {
 // fixed formats v with d decimals ("n/a" if not finite).
 func fixed(v float64, d int) string {
 	if !finite(v) {
-		return NA
+		return naText
 	}
 	return strconv.FormatFloat(v, 'f', d, 64)
 }
@@ -228,7 +228,7 @@ func fixed(v float64, d int) string {
 // sig formats v with d significant digits ("n/a" if not finite).
 func sig(v float64, d int) string {
 	if !finite(v) {
-		return NA
+		return naText
 	}
 	return strconv.FormatFloat(v, 'g', d, 64)
 }

@@ -33,11 +33,11 @@ func splitConcUnit(u string) (num, den string, ok bool) {
 	return num, den, true
 }
 
-// AbsorptivityUnit names the unit of an absorptivity (absorbance per
+// absorptivityUnit names the unit of an absorptivity (absorbance per
 // unit concentration per cm of path) for the concentration unit conc:
 // "L/(mg·cm)" for mg/L, "L/(mol·cm)" for mol/L or M; "per ppm per cm" for
 // another unit; "per unit per cm" when conc is empty.
-func AbsorptivityUnit(conc string) string {
+func absorptivityUnit(conc string) string {
 	if num, den, ok := splitConcUnit(conc); ok {
 		return den + "/(" + num + "·cm)"
 	}
@@ -47,10 +47,10 @@ func AbsorptivityUnit(conc string) string {
 	return "per unit per cm"
 }
 
-// SensitivityUnit names the unit of a sensitivity (absorbance per unit
+// sensitivityUnit names the unit of a sensitivity (absorbance per unit
 // concentration): "A·L/mg" for mg/L; "A per ppm" for another unit; "A per
 // unit" when conc is empty.
-func SensitivityUnit(conc string) string {
+func sensitivityUnit(conc string) string {
 	if num, den, ok := splitConcUnit(conc); ok {
 		return "A·" + den + "/" + num
 	}
@@ -60,9 +60,9 @@ func SensitivityUnit(conc string) string {
 	return "A per unit"
 }
 
-// CommonUnit returns the unit every entry of units shares, or "" when
+// commonUnit returns the unit every entry of units shares, or "" when
 // they differ (a heading can then name none).
-func CommonUnit(units []string) string {
+func commonUnit(units []string) string {
 	if len(units) == 0 {
 		return ""
 	}

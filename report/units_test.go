@@ -17,17 +17,17 @@ func TestDerivedUnits(t *testing.T) {
 		{"mg/kg", "per mg/kg per cm", "A per mg/kg"},
 		{"", "per unit per cm", "A per unit"},
 	} {
-		if got := AbsorptivityUnit(c.conc); got != c.abs {
-			t.Errorf("AbsorptivityUnit(%q) = %q, want %q", c.conc, got, c.abs)
+		if got := absorptivityUnit(c.conc); got != c.abs {
+			t.Errorf("absorptivityUnit(%q) = %q, want %q", c.conc, got, c.abs)
 		}
-		if got := SensitivityUnit(c.conc); got != c.sens {
-			t.Errorf("SensitivityUnit(%q) = %q, want %q", c.conc, got, c.sens)
+		if got := sensitivityUnit(c.conc); got != c.sens {
+			t.Errorf("sensitivityUnit(%q) = %q, want %q", c.conc, got, c.sens)
 		}
 	}
-	if u := CommonUnit([]string{"mg/L", "mg/L "}); u != "mg/L" {
-		t.Errorf("CommonUnit of one unit = %q", u)
+	if u := commonUnit([]string{"mg/L", "mg/L "}); u != "mg/L" {
+		t.Errorf("commonUnit of one unit = %q", u)
 	}
-	if u := CommonUnit([]string{"mg/L", "µg/L"}); u != "" {
-		t.Errorf("CommonUnit of two units = %q, want \"\"", u)
+	if u := commonUnit([]string{"mg/L", "µg/L"}); u != "" {
+		t.Errorf("commonUnit of two units = %q, want \"\"", u)
 	}
 }

@@ -26,12 +26,12 @@ const (
 	winLines = 6
 )
 
-// VerifyPlot draws compound k of a verification: the found concentration
+// verifyPlot draws compound k of a verification: the found concentration
 // of each check standard against its known one with ±2 SE bars, the line
 // found = known, and the lines of the recovery limits. When cv is not nil
 // its cross-validated predictions of the calibration standards are added
 // as rings.
-func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (*plot.Plot, error) {
+func verifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (*plot.Plot, error) {
 	if k < 0 || k >= len(v.Compounds) {
 		return nil, pkgerr.Errorf("report", "verify plot: compound %d of %d", k, len(v.Compounds))
 	}
@@ -86,7 +86,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 	if err != nil {
 		return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 	}
-	ident.Color = Colour(4)
+	ident.Color = colour(4)
 	p.Add(ident)
 	p.Legend.Add("found = known", ident)
 	for i, lim := range []float64{v.Limits.RecoveryLo, v.Limits.RecoveryHi} {
@@ -94,7 +94,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 		if err != nil {
 			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
-		l.Color = Colour(4)
+		l.Color = colour(4)
 		l.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
 		p.Add(l)
 		if i == 0 {
@@ -107,7 +107,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
 		sc.Shape = draw.RingGlyph{}
-		sc.Color = Colour(1)
+		sc.Color = colour(1)
 		sc.Radius = vg.Points(3)
 		p.Add(sc)
 		p.Legend.Add("calibration standards, cross-validated", sc)
@@ -118,7 +118,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
 		sc.Shape = draw.CircleGlyph{}
-		sc.Color = Colour(0)
+		sc.Color = colour(0)
 		sc.Radius = vg.Points(3)
 		bars, err := plotter.NewYErrorBars(struct {
 			plotter.XYer
@@ -127,7 +127,7 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 		if err != nil {
 			return nil, pkgerr.Errorf("report", "verify plot of %s: %w", cmp.Compound, err)
 		}
-		bars.Color = Colour(0)
+		bars.Color = colour(0)
 		p.Add(bars, sc)
 		p.Legend.Add("check standards (±2 SE)", sc)
 	}
@@ -138,10 +138,10 @@ func VerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (
 	return p, nil
 }
 
-// RecoveryPlot draws compound k's recovery (percent) against the known
+// recoveryPlot draws compound k's recovery (percent) against the known
 // concentration for the check standards holding it (and, when cv is not
 // nil, the cross-validated calibration standards), with the limits.
-func RecoveryPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (*plot.Plot, error) {
+func recoveryPlot(v *validate.Verification, cv *validate.CrossValidation, k int) (*plot.Plot, error) {
 	if k < 0 || k >= len(v.Compounds) {
 		return nil, pkgerr.Errorf("report", "recovery plot: compound %d of %d", k, len(v.Compounds))
 	}
@@ -186,7 +186,7 @@ func RecoveryPlot(v *validate.Verification, cv *validate.CrossValidation, k int)
 		if err != nil {
 			return nil, pkgerr.Errorf("report", "recovery plot of %s: %w", cmp.Compound, err)
 		}
-		l.Color = Colour(4)
+		l.Color = colour(4)
 		if y != 100 {
 			l.Dashes = []vg.Length{vg.Points(4), vg.Points(3)}
 		}
@@ -202,9 +202,9 @@ func RecoveryPlot(v *validate.Verification, cv *validate.CrossValidation, k int)
 		}
 		sc.Radius = vg.Points(3)
 		if i == 0 {
-			sc.Shape, sc.Color = draw.RingGlyph{}, Colour(1)
+			sc.Shape, sc.Color = draw.RingGlyph{}, colour(1)
 		} else {
-			sc.Shape, sc.Color = draw.CircleGlyph{}, Colour(0)
+			sc.Shape, sc.Color = draw.CircleGlyph{}, colour(0)
 		}
 		p.Add(sc)
 	}
@@ -214,19 +214,19 @@ func RecoveryPlot(v *validate.Verification, cv *validate.CrossValidation, k int)
 	return p, nil
 }
 
-// SaveVerifyPlot writes compound k's found-vs-known plot with its
+// saveVerifyPlot writes compound k's found-vs-known plot with its
 // recovery panel below to path (format from the extension), atomically.
-func SaveVerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int, path string) error {
-	top, err := VerifyPlot(v, cv, k)
+func saveVerifyPlot(v *validate.Verification, cv *validate.CrossValidation, k int, path string) error {
+	top, err := verifyPlot(v, cv, k)
 	if err != nil {
 		return err
 	}
-	bottom, err := RecoveryPlot(v, cv, k)
+	bottom, err := recoveryPlot(v, cv, k)
 	if err != nil {
 		return err
 	}
 	// The found-vs-known panel gets two thirds of the height.
-	return SaveStacked(path, valPlotW, valPlotH, []*plot.Plot{top, bottom}, []float64{2, 1})
+	return saveStacked(path, valPlotW, valPlotH, []*plot.Plot{top, bottom}, []float64{2, 1})
 }
 
 // WriteVerifyPlots writes verify-NAME.FORMAT for each compound into dir;
@@ -241,7 +241,7 @@ func WriteVerifyPlots(v *validate.Verification, cv *validate.CrossValidation, di
 	for k, c := range v.Compounds {
 		name := uniqueName(fileSafe(c.Compound), used)
 		f := filepath.Join(dir, "verify-"+name+"."+format)
-		if err := SaveVerifyPlot(v, cv, k, f); err != nil {
+		if err := saveVerifyPlot(v, cv, k, f); err != nil {
 			return files, err
 		}
 		files = append(files, f)
@@ -258,12 +258,12 @@ func uniqueName(base string, used map[string]bool) string {
 	return name
 }
 
-// WindowPlots draws the window advice: the worst compound's predicted
+// windowPlots draws the window advice: the worst compound's predicted
 // relative standard error (percent of its level) and the condition number
 // against the window's start, one line per window width (at most six
 // widths, spread over those tried, always including the recommended
 // one's), both on log scales, with the recommended window marked.
-func WindowPlots(adv *validate.WindowAdvice) (errPlot, condPlot *plot.Plot, err error) {
+func windowPlots(adv *validate.WindowAdvice) (errPlot, condPlot *plot.Plot, err error) {
 	if adv.Best < 0 || adv.Best >= len(adv.Candidates) {
 		return nil, nil, pkgerr.Errorf("report", "window plot: no recommended window")
 	}
@@ -313,7 +313,7 @@ func WindowPlots(adv *validate.WindowAdvice) (errPlot, condPlot *plot.Plot, err 
 				if err != nil {
 					return nil, pkgerr.Errorf("report", "window plot: %w", err)
 				}
-				l.Color, s.Color = Colour(i), Colour(i)
+				l.Color, s.Color = colour(i), colour(i)
 				s.Radius = vg.Points(1.5)
 				p.Add(l, s)
 				if first {
@@ -328,7 +328,7 @@ func WindowPlots(adv *validate.WindowAdvice) (errPlot, condPlot *plot.Plot, err 
 		}
 		mark.Shape = draw.RingGlyph{}
 		mark.Radius = vg.Points(6)
-		mark.Color = Colour(5)
+		mark.Color = colour(5)
 		p.Add(mark)
 		p.Legend.Add(fmt.Sprintf("recommended %g-%g nm", best.Lo, best.Hi), mark)
 		p.Legend.Top = true
@@ -378,7 +378,7 @@ func WriteWindowPlots(adv *validate.WindowAdvice, dir, format string) ([]string,
 	if format != "png" && format != "svg" {
 		return nil, pkgerr.Errorf("report", "plot format %q: want png or svg", format)
 	}
-	ep, cp, err := WindowPlots(adv)
+	ep, cp, err := windowPlots(adv)
 	if err != nil {
 		return nil, err
 	}
@@ -388,7 +388,7 @@ func WriteWindowPlots(adv *validate.WindowAdvice, dir, format string) ([]string,
 		name string
 	}{{ep, "window-error"}, {cp, "window-cond"}} {
 		f := filepath.Join(dir, x.name+"."+format)
-		if err := SavePlot(x.p, f, winPlotW, winPlotH); err != nil {
+		if err := savePlot(x.p, f, winPlotW, winPlotH); err != nil {
 			return files, err
 		}
 		files = append(files, f)

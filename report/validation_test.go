@@ -151,10 +151,10 @@ func checkVerifySVG(t *testing.T, path string, v *validate.Verification, cv *val
 			cvs++
 		}
 	}
-	if got := d.paths("fill:" + hex(Colour(0))); got != checks {
+	if got := d.paths("fill:" + hex(colour(0))); got != checks {
 		t.Errorf("%s: %d check-standard glyphs, want %d", path, got, checks)
 	}
-	if got := d.paths(stroke(Colour(1), 0.5)); got != cvs {
+	if got := d.paths(stroke(colour(1), 0.5)); got != cvs {
 		t.Errorf("%s: %d cross-validated glyphs, want %d", path, got, cvs)
 	}
 }
@@ -207,11 +207,11 @@ func checkWindowSVG(t *testing.T, path string, adv *validate.WindowAdvice, i int
 		if n := d.count(fmt.Sprintf("%g nm wide", w)); n != 1 {
 			t.Errorf("%s: %d legend entries for %g nm, want 1", path, n, w)
 		}
-		if n := d.paths(stroke(Colour(j), 0.5)); n != perWidth[w] {
+		if n := d.paths(stroke(colour(j), 0.5)); n != perWidth[w] {
 			t.Errorf("%s: %d glyphs for %g nm, want one per candidate, %d", path, n, w, perWidth[w])
 		}
 	}
-	if n := d.paths(stroke(Colour(5), 0.5)); n != 2 {
+	if n := d.paths(stroke(colour(5), 0.5)); n != 2 {
 		t.Errorf("%s: %d rings for the recommended window, want 2 (mark and legend)", path, n)
 	}
 }

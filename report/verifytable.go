@@ -150,7 +150,7 @@ func writeCheckCompounds(w io.Writer, v *validate.Verification, cv *validate.Cro
 	for i, c := range v.Compounds {
 		units[i] = c.Unit
 	}
-	cu := unitSuffix(CommonUnit(units)) // " (mg/L)" when all share it
+	cu := unitSuffix(commonUnit(units)) // " (mg/L)" when all share it
 	head := []string{"Compound", "Standards with/without", "Mean recovery (%)", "RSD (%)", "Bias" + cu, "RMSEP" + cu}
 	var rmsecv map[string]float64
 	if cv != nil {

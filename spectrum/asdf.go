@@ -136,7 +136,7 @@ func nextToken(b []byte, pos int) (asdfToken, int, error) {
 		return tok, end, nil
 	}
 	if c == '?' {
-		return tok, pos, colErrf(start+1, "missing value '?': %w", ErrNotSupported)
+		return tok, pos, colErrf(start+1, "missing value '?': %w", errNotSupported)
 	}
 	return tok, pos, colErrf(start+1, "unexpected character %q in a data line", rune(c))
 }

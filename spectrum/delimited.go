@@ -239,7 +239,7 @@ func (d *delimReader) addRow(row []float64, line int) error {
 		prev := d.wl[k-1]
 		switch {
 		case w == prev:
-			return d.errAt(line, 1, fmt.Errorf("%w: duplicate wavelength %s (also on the row before)", ErrGrid, fmtG(w)))
+			return d.errAt(line, 1, fmt.Errorf("%w: duplicate wavelength %s (also on the row before)", errGrid, fmtG(w)))
 		case d.dir == 0 && w > prev:
 			d.dir = 1
 		case d.dir == 0:
@@ -249,7 +249,7 @@ func (d *delimReader) addRow(row []float64, line int) error {
 			if d.dir < 0 {
 				order = "descending"
 			}
-			return d.errAt(line, 1, fmt.Errorf("%w: wavelength %s breaks the %s order (previous row %s)", ErrGrid, fmtG(w), order, fmtG(prev)))
+			return d.errAt(line, 1, fmt.Errorf("%w: wavelength %s breaks the %s order (previous row %s)", errGrid, fmtG(w), order, fmtG(prev)))
 		}
 	}
 	d.wl = append(d.wl, w)
@@ -282,7 +282,7 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 		return nil, err
 	}
 	wl, vals := d.columnMajor(nr, ns)
-	if err := CheckGrid(wl); err != nil {
+	if err := checkGrid(wl); err != nil {
 		// Only unit conversion can get here (rounding collapsed points).
 		return nil, d.errAt(d.firstLine, 1, err)
 	}
@@ -700,7 +700,7 @@ func splitQuoted(s string, delim byte) []string {
 	return append(out, strings.TrimSpace(cur.String()))
 }
 
-func latin1ToUTF8(s string) string { return string(Latin1ToUTF8([]byte(s))) }
+func latin1ToUTF8(s string) string { return string(latin1Bytes([]byte(s))) }
 
 // headerWords splits a header cell into lower-case words; a word is a run
 // of letters, digits and '%'. bracketed reports, per word, whether it stood

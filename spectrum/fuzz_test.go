@@ -131,7 +131,7 @@ func FuzzReadJCAMP(f *testing.F) {
 		for _, compressed := range []bool{false, true} {
 			var b bytes.Buffer
 			err := WriteJCAMP(&b, s, JCAMPOptions{Compressed: compressed})
-			if errors.Is(err, ErrNotSupported) {
+			if errors.Is(err, errNotSupported) {
 				continue // values beyond what scaled integers hold
 			}
 			if err != nil {

@@ -2,8 +2,6 @@ package spectrum
 
 import (
 	"fmt"
-	"sort"
-	"strings"
 
 	"gonum.org/v1/gonum/interp"
 
@@ -42,7 +40,8 @@ const (
 	MonotoneCubic
 )
 
-// String returns the name ParseInterpolation reads.
+// String returns the interpolation's name: "linear", "spline" or
+// "monotone".
 func (m Interpolation) String() string {
 	switch m {
 	case Linear:
@@ -55,38 +54,6 @@ func (m Interpolation) String() string {
 	return fmt.Sprintf("Interpolation(%d)", int(m))
 }
 
-// ParseInterpolation reads "linear", "spline" (natural cubic) or
-// "monotone" (monotone cubic); case is ignored.
-func ParseInterpolation(s string) (Interpolation, error) {
-	switch strings.ToLower(strings.TrimSpace(s)) {
-	case "linear", "":
-		return Linear, nil
-	case "spline", "cubic", "natural":
-		return NaturalCubic, nil
-	case "monotone", "pchip":
-		return MonotoneCubic, nil
-	}
-	return Linear, pkgerr.Errorf("spectrum", "unknown interpolation %q (want linear, spline or monotone)", s)
-}
-
-// Crop returns the part of s with lo <= wavelength <= hi as a new spectrum.
-// It is an error if fewer than two points remain.
-func (s *Spectrum) Crop(lo, hi float64) (*Spectrum, error) {
-	if len(s.Wavelengths) == 0 {
-		return nil, pkgerr.Errorf("spectrum", "%s: crop of an empty spectrum: %w", s.Source, ErrEmpty)
-	}
-	i := sort.SearchFloat64s(s.Wavelengths, lo)
-	j := sort.Search(len(s.Wavelengths), func(k int) bool { return s.Wavelengths[k] > hi })
-	if j-i < 2 {
-		return nil, pkgerr.Errorf("spectrum", "%s: window %g-%g nm keeps %d points of %g-%g nm: %w",
-			s.Source, lo, hi, max(j-i, 0), s.Wavelengths[0], s.Wavelengths[len(s.Wavelengths)-1], ErrOutOfRange)
-	}
-	c := *s
-	c.Wavelengths = append([]float64(nil), s.Wavelengths[i:j]...)
-	c.Values = append([]float64(nil), s.Values[i:j]...)
-	return &c, nil
-}
-
 // Resample returns s linearly interpolated onto grid, which must be
 // strictly increasing and lie within the measured range of s (never
 // extrapolated: a grid point outside it is an error naming both ranges).
@@ -96,26 +63,26 @@ func (s *Spectrum) Resample(grid []float64) (*Spectrum, error) {
 
 // ResampleWith is Resample with a choice of interpolation.
 func (s *Spectrum) ResampleWith(grid []float64, m Interpolation) (*Spectrum, error) {
-	if err := CheckGrid(grid); err != nil {
+	if err := checkGrid(grid); err != nil {
 		return nil, pkgerr.Errorf("spectrum", "%s: target grid: %w", s.Source, err)
 	}
 	c := *s
 	c.Wavelengths = append([]float64(nil), grid...)
 	c.Values = make([]float64, len(grid))
-	if err := ResampleToWith(c.Values, s.Wavelengths, s.Values, grid, m); err != nil {
+	if err := resampleToWith(c.Values, s.Wavelengths, s.Values, grid, m); err != nil {
 		return nil, pkgerr.Errorf("spectrum", "%s: %w", s.Source, err)
 	}
 	return &c, nil
 }
 
-// ResampleToWith is ResampleTo with a choice of interpolation. It panics
+// resampleToWith is ResampleTo with a choice of interpolation. It panics
 // if len(dst) != len(grid) or len(wl) != len(y).
-func ResampleToWith(dst, wl, y, grid []float64, m Interpolation) error {
+func resampleToWith(dst, wl, y, grid []float64, m Interpolation) error {
 	if m == Linear {
 		return ResampleTo(dst, wl, y, grid)
 	}
 	if len(dst) != len(grid) || len(wl) != len(y) {
-		panic("spectrum: ResampleToWith length mismatch")
+		panic("spectrum: resampleToWith length mismatch")
 	}
 	if err := checkInside(wl, grid); err != nil {
 		return err
@@ -135,7 +102,7 @@ func ResampleToWith(dst, wl, y, grid []float64, m Interpolation) error {
 	default:
 		return pkgerr.Errorf("spectrum", "unknown interpolation %v", m)
 	}
-	if err := CheckGrid(wl); err != nil {
+	if err := checkGrid(wl); err != nil {
 		return err
 	}
 	if err := p.Fit(wl, y); err != nil {
@@ -148,19 +115,19 @@ func ResampleToWith(dst, wl, y, grid []float64, m Interpolation) error {
 	return nil
 }
 
-// checkInside reports an error wrapping ErrOutOfRange, naming both ranges,
+// checkInside reports an error wrapping errOutOfRange, naming both ranges,
 // unless grid lies within wl (up to GridSlack).
 func checkInside(wl, grid []float64) error {
 	if len(wl) < 2 || len(grid) == 0 {
 		return fmt.Errorf("resample needs at least two points: %w", ErrEmpty)
 	}
-	if err := CheckGrid(grid); err != nil {
+	if err := checkGrid(grid); err != nil {
 		return fmt.Errorf("target grid: %w", err)
 	}
 	lo, hi := wl[0], wl[len(wl)-1]
 	slack := GridSlack * (hi - lo)
 	if grid[0] < lo-slack || grid[len(grid)-1] > hi+slack {
-		return fmt.Errorf("requested %g-%g nm but the scan covers %g-%g nm: %w", grid[0], grid[len(grid)-1], lo, hi, ErrOutOfRange)
+		return fmt.Errorf("requested %g-%g nm but the scan covers %g-%g nm: %w", grid[0], grid[len(grid)-1], lo, hi, errOutOfRange)
 	}
 	return nil
 }
@@ -169,8 +136,9 @@ func checkInside(wl, grid []float64) error {
 // wl and grid must be strictly increasing and grid must lie within
 // [wl[0], wl[len-1]] (up to GridSlack of the span, so a grid read from a
 // file with rounded wavelengths still matches); otherwise the error wraps
-// ErrOutOfRange and names both ranges. It panics if len(dst) != len(grid)
-// or len(wl) != len(y).
+// errOutOfRange and names both ranges. It panics if len(dst) != len(grid)
+// or len(wl) != len(y): the caller sizes dst and pairs wl with y, so a
+// mismatch is a programming error, never a property of the input.
 func ResampleTo(dst, wl, y, grid []float64) error {
 	if len(dst) != len(grid) || len(wl) != len(y) {
 		panic("spectrum: ResampleTo length mismatch")
@@ -231,7 +199,7 @@ func CommonRange(ss []*Spectrum) (lo, hi float64, err error) {
 		hi = min(hi, s.Wavelengths[len(s.Wavelengths)-1])
 	}
 	if hi <= lo {
-		return 0, 0, pkgerr.Errorf("spectrum", "the scans share no wavelength range: %w", ErrOutOfRange)
+		return 0, 0, pkgerr.Errorf("spectrum", "the scans share no wavelength range: %w", errOutOfRange)
 	}
 	return lo, hi, nil
 }

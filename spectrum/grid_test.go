@@ -26,26 +26,10 @@ func TestCheckGrid(t *testing.T) {
 		{[]float64{1, math.NaN()}, false},
 		{[]float64{math.Inf(-1), 1}, false},
 	} {
-		err := CheckGrid(c.wl)
-		if (err == nil) != c.ok || (err != nil && !errors.Is(err, ErrGrid)) {
-			t.Errorf("CheckGrid(%v) = %v", c.wl, err)
+		err := checkGrid(c.wl)
+		if (err == nil) != c.ok || (err != nil && !errors.Is(err, errGrid)) {
+			t.Errorf("checkGrid(%v) = %v", c.wl, err)
 		}
-	}
-}
-
-func TestCrop(t *testing.T) {
-	s := &Spectrum{Wavelengths: []float64{400, 401, 402, 403, 404}, Values: []float64{0, 1, 2, 3, 4}, Source: Source{File: "f.csv"}}
-	c, err := s.Crop(400.5, 403)
-	if err != nil || !equalFloats(c.Wavelengths, []float64{401, 402, 403}) || !equalFloats(c.Values, []float64{1, 2, 3}) {
-		t.Errorf("Crop = %v, %v", c, err)
-	}
-	c.Values[0] = 99
-	if s.Values[1] != 1 {
-		t.Error("Crop shares values with the original")
-	}
-	_, err = s.Crop(403.5, 410)
-	if !errors.Is(err, ErrOutOfRange) || !strings.Contains(err.Error(), "f.csv") || !strings.Contains(err.Error(), "400-404 nm") {
-		t.Errorf("narrow crop: %v", err)
 	}
 }
 
@@ -58,7 +42,7 @@ func TestResampleLinear(t *testing.T) {
 	}
 	for _, grid := range [][]float64{{399, 400}, {400, 404.001}} {
 		_, err := s.Resample(grid)
-		if !errors.Is(err, ErrOutOfRange) || !strings.Contains(err.Error(), "400-404 nm") || !strings.Contains(err.Error(), "f.csv") {
+		if !errors.Is(err, errOutOfRange) || !strings.Contains(err.Error(), "400-404 nm") || !strings.Contains(err.Error(), "f.csv") {
 			t.Errorf("Resample(%v) = %v, want an out-of-range error naming both ranges", grid, err)
 		}
 	}
@@ -66,7 +50,7 @@ func TestResampleLinear(t *testing.T) {
 	if r, err := s.Resample([]float64{400 - 1e-12, 404 + 1e-12}); err != nil || r.Values[0] != 1 || r.Values[1] != 2 {
 		t.Errorf("slack: %v %v", r, err)
 	}
-	if _, err := s.Resample([]float64{402, 401}); !errors.Is(err, ErrGrid) {
+	if _, err := s.Resample([]float64{402, 401}); !errors.Is(err, errGrid) {
 		t.Errorf("descending target: %v", err)
 	}
 }
@@ -143,18 +127,6 @@ func TestResampleCubic(t *testing.T) {
 	}
 }
 
-func TestParseInterpolation(t *testing.T) {
-	for _, m := range []Interpolation{Linear, NaturalCubic, MonotoneCubic} {
-		got, err := ParseInterpolation(m.String())
-		if err != nil || got != m {
-			t.Errorf("ParseInterpolation(%q) = %v, %v", m.String(), got, err)
-		}
-	}
-	if _, err := ParseInterpolation("quintic"); err == nil {
-		t.Error("quintic accepted")
-	}
-}
-
 func TestSameGridAndCommonRange(t *testing.T) {
 	a := []float64{400, 401, 402}
 	if !SameGrid(a, []float64{400, 401 + 1e-12, 402}) || SameGrid(a, []float64{400, 401.1, 402}) || SameGrid(a, a[:2]) {
@@ -169,7 +141,7 @@ func TestSameGridAndCommonRange(t *testing.T) {
 		t.Errorf("CommonRange = %g, %g, %v", lo, hi, err)
 	}
 	ss[1].Wavelengths = []float64{500, 600}
-	if _, _, err := CommonRange(ss); !errors.Is(err, ErrOutOfRange) {
+	if _, _, err := CommonRange(ss); !errors.Is(err, errOutOfRange) {
 		t.Errorf("disjoint: %v", err)
 	}
 	if _, _, err := CommonRange([]*Spectrum{{}}); !errors.Is(err, ErrEmpty) {

@@ -50,7 +50,7 @@ const (
 // transmittance. Missing YUNITS otherwise reads absorbance with a warning.
 //
 // Compound files (LINK, BLOCKS), NTUPLES, peak tables and NMR or mass
-// spectra are refused with an error wrapping ErrNotSupported. Every other
+// spectra are refused with an error wrapping errNotSupported. Every other
 // problem is a *ParseError naming the file, line and character column.
 func ReadJCAMP(r io.Reader, file string, opt ReadOptions) ([]*Spectrum, error) {
 	j := &jcampReader{file: file, opt: &opt, labels: map[string]*jcampRecord{}}
@@ -96,7 +96,7 @@ func (j *jcampReader) errAt(line, col int, format string, a ...any) error {
 }
 
 func (j *jcampReader) notSupported(line int, format string, a ...any) error {
-	return &ParseError{File: j.file, Line: line, Err: fmt.Errorf("%s: %w", fmt.Sprintf(format, a...), ErrNotSupported)}
+	return &ParseError{File: j.file, Line: line, Err: fmt.Errorf("%s: %w", fmt.Sprintf(format, a...), errNotSupported)}
 }
 
 // normLabel normalises a label name: upper case, without blanks, hyphens,
@@ -296,7 +296,7 @@ func (j *jcampReader) number(label string) (v float64, rec *jcampRecord, ok bool
 	f := strings.TrimSpace(rec.value)
 	v, _, err = parseNumber([]byte(f), false)
 	if err != nil {
-		return 0, rec, false, j.errAt(rec.line, 0, "##%s=%s: %v", rec.raw, clip(f), err)
+		return 0, rec, false, j.errAt(rec.line, 0, "##%s=%s: %w", rec.raw, clip(f), err)
 	}
 	return v, rec, true, nil
 }
@@ -375,7 +375,7 @@ func (j *jcampReader) spectrum() (*Spectrum, error) {
 		reverse(x)
 		reverse(y)
 	}
-	if err := CheckGrid(x); err != nil {
+	if err := checkGrid(x); err != nil {
 		return nil, j.errAt(j.table.line, 0, "%w", err)
 	}
 
@@ -405,12 +405,12 @@ func (j *jcampReader) spectrum() (*Spectrum, error) {
 }
 
 // decodedPoints decodes the whole XYDATA table again without the NPOINTS
-// bound (only up to MaxJCAMPPoints) and returns how many Y values it
+// bound (only up to maxJCAMPPoints) and returns how many Y values it
 // holds, or 0 when it cannot be decoded; it explains a table that does
 // not fit NPOINTS. The lines are already in memory, so this costs no more
 // than the first pass.
 func (j *jcampReader) decodedPoints() int {
-	d := asdfDecoder{limit: MaxJCAMPPoints}
+	d := asdfDecoder{limit: maxJCAMPPoints}
 	for _, dl := range j.lines {
 		if _, _, err := d.line(j.buf[dl.off:dl.end]); err != nil {
 			return 0
@@ -505,8 +505,8 @@ func (j *jcampReader) xydata(xf, yf float64) (x, y []float64, err error) {
 	if np != math.Trunc(np) || np < 2 {
 		return nil, nil, j.errAt(nrec.line, 0, "##NPOINTS=%s: a scan needs a whole number of at least 2 points", nrec.value)
 	}
-	if np > MaxJCAMPPoints {
-		return nil, nil, j.errAt(nrec.line, 0, "##NPOINTS=%s exceeds the %d points this reader accepts", nrec.value, MaxJCAMPPoints)
+	if np > maxJCAMPPoints {
+		return nil, nil, j.errAt(nrec.line, 0, "##NPOINTS=%s exceeds the %d points this reader accepts", nrec.value, maxJCAMPPoints)
 	}
 	npts := int(np)
 	if firstX == lastX {
@@ -527,7 +527,7 @@ func (j *jcampReader) xydata(xf, yf float64) (x, y []float64, err error) {
 			if errors.As(err, &ce) {
 				return nil, nil, j.errAt(dl.line, ce.col, "%w", ce.err)
 			}
-			return nil, nil, j.errAt(dl.line, 0, "%v", err)
+			return nil, nil, j.errAt(dl.line, 0, "%w", err)
 		}
 		if len(d.ys) > npts {
 			return nil, nil, j.errAt(dl.line, 0, "the table holds more points than ##NPOINTS=%d", npts)
@@ -578,10 +578,10 @@ func (j *jcampReader) xypoints(xf, yf float64) (x, y []float64, err error) {
 	if err != nil {
 		return nil, nil, err
 	}
-	limit := MaxJCAMPPoints
+	limit := maxJCAMPPoints
 	if hasN {
-		if np != math.Trunc(np) || np < 2 || np > MaxJCAMPPoints {
-			return nil, nil, j.errAt(nrec.line, 0, "##NPOINTS=%s: want a whole number from 2 to %d", nrec.value, MaxJCAMPPoints)
+		if np != math.Trunc(np) || np < 2 || np > maxJCAMPPoints {
+			return nil, nil, j.errAt(nrec.line, 0, "##NPOINTS=%s: want a whole number from 2 to %d", nrec.value, maxJCAMPPoints)
 		}
 		limit = int(np)
 	}
@@ -602,9 +602,9 @@ func (j *jcampReader) xypoints(xf, yf float64) (x, y []float64, err error) {
 			v, _, err := parseNumber(line[pos:end], false)
 			if err != nil {
 				if line[pos] == '?' {
-					err = fmt.Errorf("missing value '?': %w", ErrNotSupported)
+					err = fmt.Errorf("missing value '?': %w", errNotSupported)
 				}
-				return nil, nil, j.errAt(dl.line, pos+1, "%v", err)
+				return nil, nil, j.errAt(dl.line, pos+1, "%w", err)
 			}
 			if !odd {
 				if len(x) >= limit {
@@ -613,10 +613,10 @@ func (j *jcampReader) xypoints(xf, yf float64) (x, y []float64, err error) {
 				x = append(x, v*xf)
 				if n := len(x); n >= 2 {
 					if x[n-1] == x[n-2] {
-						return nil, nil, j.errAt(dl.line, pos+1, "%v: duplicate X %s", ErrGrid, fmtG(x[n-1]))
+						return nil, nil, j.errAt(dl.line, pos+1, "%v: duplicate X %s", errGrid, fmtG(x[n-1]))
 					}
 					if n >= 3 && (x[n-1] > x[n-2]) != (x[1] > x[0]) {
-						return nil, nil, j.errAt(dl.line, pos+1, "%v: X %s breaks the order of the table", ErrGrid, fmtG(x[n-1]))
+						return nil, nil, j.errAt(dl.line, pos+1, "%v: X %s breaks the order of the table", errGrid, fmtG(x[n-1]))
 					}
 				}
 			} else {

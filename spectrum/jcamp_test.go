@@ -204,11 +204,11 @@ func TestJCAMPUnits(t *testing.T) {
 	}
 	// Unknown units.
 	_, _, err = readJ(t, jdx("##XUNITS=SECONDS\n##YUNITS=ABSORBANCE\n##XFACTOR=1\n##YFACTOR=1\n##FIRSTX=400\n##LASTX=401\n##NPOINTS=2\n##XYDATA=(X++(Y..Y))\n", "400 1 2\n"), ReadOptions{})
-	if !errors.Is(err, ErrNotSupported) {
+	if !errors.Is(err, errNotSupported) {
 		t.Errorf("SECONDS: %v", err)
 	}
 	_, _, err = readJ(t, jdx("##XUNITS=NANOMETERS\n##YUNITS=LOG(EPSILON)\n##XFACTOR=1\n##YFACTOR=1\n##FIRSTX=400\n##LASTX=401\n##NPOINTS=2\n##XYDATA=(X++(Y..Y))\n", "400 1 2\n"), ReadOptions{})
-	if !errors.Is(err, ErrNotSupported) {
+	if !errors.Is(err, errNotSupported) {
 		t.Errorf("LOG(EPSILON): %v", err)
 	}
 	s, warns, err = readJ(t, jdx("##XUNITS=NANOMETERS\n##FIRSTX=400\n##LASTX=401\n##NPOINTS=2\n##XYDATA=(X++(Y..Y))\n", "400 1 2\n"), ReadOptions{})

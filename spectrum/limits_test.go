@@ -52,8 +52,8 @@ func TestEndlessLine(t *testing.T) {
 			if !errors.As(err, &pe) || pe.File != "endless.csv" || pe.Line == 0 || !strings.Contains(err.Error(), "longer than 67108864 bytes") {
 				t.Fatalf("endless line: %v", err)
 			}
-			if src.read > 2*DefaultMaxLineBytes {
-				t.Errorf("read %d bytes before refusing a line longer than %d", src.read, DefaultMaxLineBytes)
+			if src.read > 2*defaultMaxLineBytes {
+				t.Errorf("read %d bytes before refusing a line longer than %d", src.read, defaultMaxLineBytes)
 			}
 		})
 	}
@@ -75,7 +75,7 @@ func TestFileTooLarge(t *testing.T) {
 	_, err := ReadFile(p, ReadOptions{})
 	var after runtime.MemStats
 	runtime.ReadMemStats(&after)
-	if !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), p+": the file is 5 GiB, more than the 1 GiB") {
+	if !errors.Is(err, errTooLarge) || !strings.Contains(err.Error(), p+": the file is 5 GiB, more than the 1 GiB") {
 		t.Fatalf("5 GiB file: %v", err)
 	}
 	if grew := after.TotalAlloc - before.TotalAlloc; grew > 1<<20 {
@@ -86,7 +86,7 @@ func TestFileTooLarge(t *testing.T) {
 	if err := os.WriteFile(small, []byte("nm,A\n400,1\n401,2\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	if _, err := ReadFile(small, ReadOptions{MaxFileBytes: 10}); !errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), "small.csv: the file is 17 bytes, more than the 10 bytes") {
+	if _, err := ReadFile(small, ReadOptions{MaxFileBytes: 10}); !errors.Is(err, errTooLarge) || !strings.Contains(err.Error(), "small.csv: the file is 17 bytes, more than the 10 bytes") {
 		t.Errorf("limit of 10 bytes: %v", err)
 	}
 	if ss, err := ReadFile(small, ReadOptions{MaxFileBytes: 17}); err != nil || len(ss) != 1 {
@@ -95,7 +95,7 @@ func TestFileTooLarge(t *testing.T) {
 }
 
 // TestPipeTooLarge: from a named pipe, whose size is unknown, reading
-// stops with ErrTooLarge once the limit is passed; a stream ending at the
+// stops with errTooLarge once the limit is passed; a stream ending at the
 // limit reads.
 func TestPipeTooLarge(t *testing.T) {
 	const content = "nm,A\n400,1\n401,2\n" // 17 bytes
@@ -119,8 +119,8 @@ func TestPipeTooLarge(t *testing.T) {
 		if c.ok && (err != nil || len(ss) != 1) {
 			t.Errorf("limit %d: %v", c.limit, err)
 		}
-		if !c.ok && (!errors.Is(err, ErrTooLarge) || !strings.Contains(err.Error(), p+":")) {
-			t.Errorf("limit %d: %v, want ErrTooLarge naming %s", c.limit, err, p)
+		if !c.ok && (!errors.Is(err, errTooLarge) || !strings.Contains(err.Error(), p+":")) {
+			t.Errorf("limit %d: %v, want errTooLarge naming %s", c.limit, err, p)
 		}
 	}
 }
@@ -150,13 +150,13 @@ func TestWideTable100k(t *testing.T) {
 		t.Fatalf("%d spectra", len(ss))
 	}
 	var wide strings.Builder
-	for range DefaultMaxColumns + 1 {
+	for range defaultMaxColumns + 1 {
 		wide.WriteString("1,")
 	}
 	wide.WriteString("1\n")
 	_, err = ReadDelimited(strings.NewReader(wide.String()), "wider.csv", ReadOptions{})
 	var pe *ParseError
-	if !errors.As(err, &pe) || pe.Line != 1 || pe.Column != DefaultMaxColumns+1 || !strings.Contains(err.Error(), "more than the 1048576") {
+	if !errors.As(err, &pe) || pe.Line != 1 || pe.Column != defaultMaxColumns+1 || !strings.Contains(err.Error(), "more than the 1048576") {
 		t.Errorf("too wide: %v", err)
 	}
 }

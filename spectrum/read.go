@@ -51,15 +51,15 @@ type ReadOptions struct {
 	// discards them.
 	Warn func(msg string)
 	// MaxLineBytes bounds the length of one line; a longer line is an
-	// error. Zero means DefaultMaxLineBytes.
+	// error. Zero means 64 MiB.
 	MaxLineBytes int
 	// MaxColumns bounds the number of columns of a delimited table; a
-	// wider table is an error. Zero means DefaultMaxColumns.
+	// wider table is an error. Zero means 1,048,576 (2^20).
 	MaxColumns int
 	// MaxFileBytes bounds the size of a file ReadFile reads; a larger
 	// file is refused before it is read (a pipe, whose size is not known,
 	// or a file that grows while it is read, fails when it passes the
-	// bound). Zero means DefaultMaxFileBytes.
+	// bound). Zero means 1 GiB.
 	MaxFileBytes int64
 
 	// sizeHint is the input size in bytes when known (ReadFile sets it);
@@ -70,40 +70,40 @@ type ReadOptions struct {
 // Limits that keep the memory a reader uses bounded by what the numbers
 // themselves need, whatever the input holds.
 const (
-	// DefaultMaxLineBytes is the longest line the readers accept (64 MiB),
+	// defaultMaxLineBytes is the longest line the readers accept (64 MiB),
 	// enough for a wide table of a million columns of 60-byte numbers.
-	DefaultMaxLineBytes = 64 << 20
-	// DefaultMaxColumns is the most columns a delimited table may have.
-	DefaultMaxColumns = 1 << 20
-	// MaxJCAMPPoints is the largest NPOINTS a JCAMP-DX file may declare;
+	defaultMaxLineBytes = 64 << 20
+	// defaultMaxColumns is the most columns a delimited table may have.
+	defaultMaxColumns = 1 << 20
+	// maxJCAMPPoints is the largest NPOINTS a JCAMP-DX file may declare;
 	// no UV-Vis scan comes near it.
-	MaxJCAMPPoints = 1 << 22
-	// DefaultMaxFileBytes is the largest file ReadFile reads (1 GiB):
+	maxJCAMPPoints = 1 << 22
+	// defaultMaxFileBytes is the largest file ReadFile reads (1 GiB):
 	// a wide table of 100,000 scans of 1,000 wavelengths written with
 	// 10 characters a number. The numbers parsed from it take at most
 	// about as much memory again.
-	DefaultMaxFileBytes int64 = 1 << 30
+	defaultMaxFileBytes int64 = 1 << 30
 )
 
 func (o *ReadOptions) maxLine() int {
 	if o.MaxLineBytes > 0 {
 		return o.MaxLineBytes
 	}
-	return DefaultMaxLineBytes
+	return defaultMaxLineBytes
 }
 
 func (o *ReadOptions) maxCols() int {
 	if o.MaxColumns > 0 {
 		return o.MaxColumns
 	}
-	return DefaultMaxColumns
+	return defaultMaxColumns
 }
 
 func (o *ReadOptions) maxFile() int64 {
 	if o.MaxFileBytes > 0 {
 		return o.MaxFileBytes
 	}
-	return DefaultMaxFileBytes
+	return defaultMaxFileBytes
 }
 
 func (o *ReadOptions) warnf(file, format string, a ...any) {
@@ -126,7 +126,7 @@ const detectPeek = 64 << 10
 //
 // A directory, a missing or unreadable file is an error naming the path;
 // problems inside the file are *ParseError values, and so is a file larger
-// than opt.MaxFileBytes (wrapping ErrTooLarge, refused before anything is
+// than opt.MaxFileBytes (wrapping errTooLarge, refused before anything is
 // read).
 func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 	f, err := os.Open(path)
@@ -151,7 +151,7 @@ func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 	if st.Mode().IsRegular() {
 		if st.Size() > limit {
 			return nil, &ParseError{File: path, Err: fmt.Errorf("the file is %s, more than the %s a spectrum file may hold (%w: is it a spectrum file? split a bigger table into several files)",
-				bytesize.Text(st.Size()), bytesize.Text(limit), ErrTooLarge)}
+				bytesize.Text(st.Size()), bytesize.Text(limit), errTooLarge)}
 		}
 		opt.sizeHint = st.Size()
 	}
@@ -171,7 +171,7 @@ func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 }
 
 // capReader passes at most limit bytes of r and then fails with
-// ErrTooLarge, for inputs whose size is not known beforehand.
+// errTooLarge, for inputs whose size is not known beforehand.
 type capReader struct {
 	r     io.Reader
 	left  int64
@@ -186,7 +186,7 @@ func (c *capReader) Read(p []byte) (int, error) {
 		if n, err := c.r.Read(one[:]); n == 0 {
 			return 0, err
 		}
-		return 0, fmt.Errorf("more than %s: %w", bytesize.Text(c.limit), ErrTooLarge)
+		return 0, fmt.Errorf("more than %s: %w", bytesize.Text(c.limit), errTooLarge)
 	}
 	if int64(len(p)) > c.left {
 		p = p[:c.left]

@@ -31,8 +31,8 @@ var badFiles = []struct {
 	{"text-in-number.csv", 4, 2, `not a number: "O.12"`, nil},
 	{"nan.tsv", 3, 2, "not a finite number", nil},
 	{"inf.csv", 4, 2, "not a finite number", nil},
-	{"duplicate-wavelength.csv", 4, 1, "duplicate wavelength 401", ErrGrid},
-	{"non-monotonic.csv", 5, 1, "breaks the ascending order", ErrGrid},
+	{"duplicate-wavelength.csv", 4, 1, "duplicate wavelength 401", errGrid},
+	{"non-monotonic.csv", 5, 1, "breaks the ascending order", errGrid},
 	{"mixed-decimal.csv", 4, 1, "mixed decimal conventions", nil},
 	{"empty-field.csv", 4, 2, "empty field", nil},
 	{"non-utf8.csv", 4, 2, `unexpected "\xb7"`, nil},
@@ -42,9 +42,9 @@ var badFiles = []struct {
 	// 6 points 2 nm apart from 400 to 410; NPOINTS=8 would put the
 	// second line's 406 at 400 + 3 x 10/7 = 404.286.
 	{"npoints-vs-step.jdx", 10, 0, "##NPOINTS=8 disagrees with ##FIRSTX=400, ##LASTX=410 and the data: the table holds 6 decoded points (a step of 2 from FIRSTX to LASTX), and line 13 starts at X 406 where 8 points would put 404.286", nil},
-	{"multi-block.jdx", 12, 0, "second block", ErrNotSupported},
-	{"nmr.jdx", 3, 0, "NMR", ErrNotSupported},
-	{"link.jdx", 3, 0, "compound file", ErrNotSupported},
+	{"multi-block.jdx", 12, 0, "second block", errNotSupported},
+	{"nmr.jdx", 3, 0, "NMR", errNotSupported},
+	{"link.jdx", 3, 0, "compound file", errNotSupported},
 }
 
 func TestBadFiles(t *testing.T) {
@@ -87,8 +87,8 @@ func TestZeroPercentT(t *testing.T) {
 		t.Fatalf("quantity = %v, want %%T", ss[0].Quantity)
 	}
 	err = ss[0].ToAbsorbance()
-	if !errors.Is(err, ErrTooDark) {
-		t.Fatalf("ToAbsorbance = %v, want ErrTooDark", err)
+	if !errors.Is(err, errTooDark) {
+		t.Fatalf("ToAbsorbance = %v, want errTooDark", err)
 	}
 	if msg := err.Error(); !strings.Contains(msg, path) || !strings.Contains(msg, "402 nm") || !strings.Contains(msg, "dilute") {
 		t.Errorf("message %q should name %s, 402 nm and say dilute", msg, path)
@@ -201,8 +201,8 @@ func TestToAbsorbanceValues(t *testing.T) {
 		q Quantity
 		v float64
 	}{{PercentT, 0}, {PercentT, -1}, {Transmittance, 0}, {PercentT, math.NaN()}} {
-		if got, err := ToAbsorbance(c.q, c.v); !errors.Is(err, ErrTooDark) {
-			t.Errorf("ToAbsorbance(%v, %g) = %g, %v; want ErrTooDark", c.q, c.v, got, err)
+		if got, err := ToAbsorbance(c.q, c.v); !errors.Is(err, errTooDark) {
+			t.Errorf("ToAbsorbance(%v, %g) = %g, %v; want errTooDark", c.q, c.v, got, err)
 		}
 	}
 }

@@ -120,19 +120,19 @@ type Spectrum struct {
 
 // Sentinel causes, tested with errors.Is.
 var (
-	// ErrTooDark marks a transmittance of zero or below: too concentrated to read.
-	ErrTooDark = errors.New("transmittance is zero or negative: the sample is too concentrated to read, dilute it and scan again")
-	// ErrOutOfRange marks a request for wavelengths outside the measured range.
-	ErrOutOfRange = errors.New("wavelengths outside the measured range")
-	// ErrGrid marks a wavelength grid that is not strictly increasing and finite.
-	ErrGrid = errors.New("bad wavelength grid")
-	// ErrNotSupported marks a file variant this reader refuses on purpose.
-	ErrNotSupported = errors.New("not supported")
+	// errTooDark marks a transmittance of zero or below: too concentrated to read.
+	errTooDark = errors.New("transmittance is zero or negative: the sample is too concentrated to read, dilute it and scan again")
+	// errOutOfRange marks a request for wavelengths outside the measured range.
+	errOutOfRange = errors.New("wavelengths outside the measured range")
+	// errGrid marks a wavelength grid that is not strictly increasing and finite.
+	errGrid = errors.New("bad wavelength grid")
+	// errNotSupported marks a file variant this reader refuses on purpose.
+	errNotSupported = errors.New("not supported")
 	// ErrEmpty marks a file or table with no data.
 	ErrEmpty = errors.New("no data")
-	// ErrTooLarge marks an input beyond the size a reader accepts
+	// errTooLarge marks an input beyond the size a reader accepts
 	// (ReadOptions.MaxFileBytes).
-	ErrTooLarge = errors.New("input too large")
+	errTooLarge = errors.New("input too large")
 )
 
 // Len is the number of points.
@@ -155,7 +155,7 @@ func (s *Spectrum) Check() error {
 	if len(s.Values) != len(s.Wavelengths) {
 		return pkgerr.Errorf("spectrum", "%s: %d values for %d wavelengths", s.Source, len(s.Values), len(s.Wavelengths))
 	}
-	if err := CheckGrid(s.Wavelengths); err != nil {
+	if err := checkGrid(s.Wavelengths); err != nil {
 		return pkgerr.Errorf("spectrum", "%s: %w", s.Source, err)
 	}
 	for i, v := range s.Values {
@@ -166,18 +166,18 @@ func (s *Spectrum) Check() error {
 	return nil
 }
 
-// CheckGrid reports an error wrapping ErrGrid unless wl is finite and
+// checkGrid reports an error wrapping errGrid unless wl is finite and
 // strictly increasing.
-func CheckGrid(wl []float64) error {
+func checkGrid(wl []float64) error {
 	for i, w := range wl {
 		if math.IsNaN(w) || math.IsInf(w, 0) {
-			return fmt.Errorf("%w: wavelength %d is %v", ErrGrid, i+1, w)
+			return fmt.Errorf("%w: wavelength %d is %v", errGrid, i+1, w)
 		}
 		if i > 0 && w <= wl[i-1] {
 			if w == wl[i-1] {
-				return fmt.Errorf("%w: duplicate wavelength %g nm", ErrGrid, w)
+				return fmt.Errorf("%w: duplicate wavelength %g nm", errGrid, w)
 			}
-			return fmt.Errorf("%w: wavelength %g nm follows %g nm (not increasing)", ErrGrid, w, wl[i-1])
+			return fmt.Errorf("%w: wavelength %g nm follows %g nm (not increasing)", errGrid, w, wl[i-1])
 		}
 	}
 	return nil
@@ -188,17 +188,17 @@ func CheckGrid(wl []float64) error {
 //	A = -log10(T) = 2 - log10(%T).
 //
 // Absorbance passes through; Unstated is treated as absorbance. A
-// transmittance of zero or below returns ErrTooDark.
+// transmittance of zero or below returns errTooDark.
 func ToAbsorbance(q Quantity, v float64) (float64, error) {
 	switch q {
 	case PercentT:
 		if !(v > 0) {
-			return 0, ErrTooDark
+			return 0, errTooDark
 		}
 		return 2 - math.Log10(v), nil
 	case Transmittance:
 		if !(v > 0) {
-			return 0, ErrTooDark
+			return 0, errTooDark
 		}
 		return -math.Log10(v), nil
 	default:
@@ -206,28 +206,28 @@ func ToAbsorbance(q Quantity, v float64) (float64, error) {
 	}
 }
 
-// ValueError is a problem with one value of a spectrum, located by file
+// valueError is a problem with one value of a spectrum, located by file
 // and wavelength.
-type ValueError struct {
+type valueError struct {
 	Source     Source
 	Wavelength float64
 	Err        error
 }
 
-func (e *ValueError) Error() string {
+func (e *valueError) Error() string {
 	return fmt.Sprintf("spectrum: %s at %g nm: %v", e.Source, e.Wavelength, e.Err)
 }
 
-func (e *ValueError) Unwrap() error { return e.Err }
+func (e *valueError) Unwrap() error { return e.Err }
 
 // Unprefixed is the error's text without the package prefix (see
 // pkgerr.Plain).
-func (e *ValueError) Unprefixed() string {
+func (e *valueError) Unprefixed() string {
 	return fmt.Sprintf("%s at %g nm: %v", e.Source, e.Wavelength, e.Err)
 }
 
 // ToAbsorbance converts s in place to absorbance. On a transmittance of
-// zero or below it returns a *ValueError wrapping ErrTooDark naming the
+// zero or below it returns a *valueError wrapping errTooDark naming the
 // file and the first such wavelength, and leaves s unchanged.
 func (s *Spectrum) ToAbsorbance() error {
 	if s.Quantity == Absorbance || s.Quantity == Unstated {
@@ -238,7 +238,7 @@ func (s *Spectrum) ToAbsorbance() error {
 	for i, v := range s.Values {
 		a, err := ToAbsorbance(s.Quantity, v)
 		if err != nil {
-			return &ValueError{Source: s.Source, Wavelength: s.Wavelengths[i], Err: err}
+			return &valueError{Source: s.Source, Wavelength: s.Wavelengths[i], Err: err}
 		}
 		out[i] = a
 	}

@@ -36,12 +36,12 @@ func DecodeText(b []byte) (text []byte, bad int) {
 		}
 		bad += n
 	}
-	return Latin1ToUTF8(b), bad
+	return latin1Bytes(b), bad
 }
 
-// Latin1ToUTF8 reads each byte of b as the ISO 8859-1 character of that
+// latin1Bytes reads each byte of b as the ISO 8859-1 character of that
 // code and returns the text in UTF-8.
-func Latin1ToUTF8(b []byte) []byte {
+func latin1Bytes(b []byte) []byte {
 	out := make([]byte, 0, len(b)+len(b)/8)
 	for _, c := range b {
 		out = utf8.AppendRune(out, rune(c))

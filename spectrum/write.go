@@ -20,9 +20,9 @@ type WriteOptions struct {
 	Comments []string
 }
 
-// WavelengthHeader is the header cell WriteDelimited gives the wavelength
+// wavelengthHeader is the header cell WriteDelimited gives the wavelength
 // column.
-const WavelengthHeader = "wavelength (nm)"
+const wavelengthHeader = "wavelength (nm)"
 
 // WriteDelimited writes spectra as delimited text that ReadDelimited reads
 // back to the same numbers, names and quantities: one spectrum as a
@@ -50,7 +50,7 @@ func WriteDelimited(w io.Writer, ss []*Spectrum, opt WriteOptions) error {
 			return err
 		}
 		if !SameGrid(wl, s.Wavelengths) {
-			return pkgerr.Errorf("spectrum", "%s (%s) is not on the wavelength grid of %s; resample first: %w", s.Name, s.Source, ss[0].Name, ErrGrid)
+			return pkgerr.Errorf("spectrum", "%s (%s) is not on the wavelength grid of %s; resample first: %w", s.Name, s.Source, ss[0].Name, errGrid)
 		}
 	}
 	bw := bufio.NewWriterSize(w, 64<<10)
@@ -61,7 +61,7 @@ func WriteDelimited(w io.Writer, ss []*Spectrum, opt WriteOptions) error {
 			bw.WriteByte('\n')
 		}
 	}
-	bw.WriteString(quoteCell(WavelengthHeader, delim))
+	bw.WriteString(quoteCell(wavelengthHeader, delim))
 	for _, s := range ss {
 		bw.WriteByte(delim)
 		q := s.Quantity
@@ -197,7 +197,7 @@ func WriteJCAMP(w io.Writer, s *Spectrum, opt JCAMPOptions) error {
 			ye = e
 			yf = math.Pow(10, float64(e))
 			if yf == 0 || math.IsInf(yf, 0) || math.IsInf(m/yf, 0) {
-				return pkgerr.Errorf("spectrum", "%s: values span beyond what JCAMP-DX integers can hold: %w", s.Source, ErrNotSupported)
+				return pkgerr.Errorf("spectrum", "%s: values span beyond what JCAMP-DX integers can hold: %w", s.Source, errNotSupported)
 			}
 			// Parse back what is written, so reader and writer agree.
 			yf, _ = strconv.ParseFloat(g(yf), 64)

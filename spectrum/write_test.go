@@ -60,7 +60,7 @@ func TestDelimitedRoundTrip(t *testing.T) {
 func TestWriteDelimitedRefuses(t *testing.T) {
 	a := &Spectrum{Name: "a", Wavelengths: []float64{400, 401}, Values: []float64{1, 2}}
 	b := &Spectrum{Name: "b", Wavelengths: []float64{400, 402}, Values: []float64{1, 2}}
-	if err := WriteDelimited(&bytes.Buffer{}, []*Spectrum{a, b}, WriteOptions{}); !errors.Is(err, ErrGrid) {
+	if err := WriteDelimited(&bytes.Buffer{}, []*Spectrum{a, b}, WriteOptions{}); !errors.Is(err, errGrid) {
 		t.Errorf("different grids: %v", err)
 	}
 	c := &Spectrum{Name: "c", Wavelengths: []float64{400, 401}, Values: []float64{1, math.Inf(1)}}

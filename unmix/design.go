@@ -90,10 +90,10 @@ func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM floa
 		d.Cols = append(d.Cols, col)
 		d.NonNeg = append(d.NonNeg, true)
 	}
-	if err := model.Check(wl); err != nil {
+	bcols, bnn, bnames, err := model.Columns(wl)
+	if err != nil {
 		return nil, err
 	}
-	bcols, bnn, bnames := model.Columns(wl)
 	if len(bcols) != len(bnn) || len(bcols) != len(bnames) {
 		return nil, fmt.Errorf("baseline %q gave %d columns, %d signs, %d names", model, len(bcols), len(bnn), len(bnames))
 	}

@@ -67,7 +67,7 @@ func sampleOptions(warns *[]string) sheet.Options {
 // sampleColumns declares the columns of a sample sheet.
 var sampleColumns = sheet.Columns{
 	Names:  []string{"sample", "dilution", "path_cm"},
-	Ignore: sheet.NoteColumns,
+	Ignore: sheet.NoteColumns(),
 	Known:  "a sample sheet has the columns " + sheetColumns,
 }
 

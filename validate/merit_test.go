@@ -215,7 +215,10 @@ func TestStandardErrorMatchesDirect(t *testing.T) {
 		noise[i] = v * blankFactor
 	}
 	model := baseline.Model{Degree: 1}
-	cols, _, _ := model.Columns(g)
+	cols, _, _, err := model.Columns(g)
+	if err != nil {
+		t.Fatal(err)
+	}
 	X := mat.NewDense(len(g), 5, nil)
 	for i := range g {
 		X.SetRow(i, []float64{a[i], b[i], c[i], cols[0][i], cols[1][i]})

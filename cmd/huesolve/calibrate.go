@@ -198,13 +198,21 @@ func (o *calibrateOptions) check(warn func(string)) (calibration.Options, spectr
 // calWarnCollinear warns when the set's absorptivity spectra are so alike
 // that solve would flag every sample illcond: the condition number of the
 // whole grid with an offset baseline, unweighted, as inspect shows it.
+// The check is advice on a set that Build has already accepted, so a
+// failure to make it does not stop the set from being saved: it is a
+// warning that says what was not checked and why.
 func calWarnCollinear(set *reference.Set, warn func(string)) {
 	bl, err := baseline.ParseModel(valDefaultBaseline)
+	var m *validate.Merits
+	if err == nil {
+		m, err = validate.FiguresOfMerit(set, validate.MeritOptions{Baseline: bl})
+	}
 	if err != nil {
+		warn("could not check whether the absorptivity spectra of the compounds are nearly collinear: " + userMessage(err) +
+			" (huesolve inspect shows how they overlap)")
 		return
 	}
-	m, err := validate.FiguresOfMerit(set, validate.MeritOptions{Baseline: bl})
-	if err != nil || !(m.Singular || m.Cond > unmix.CondLimit) {
+	if !(m.Singular || m.Cond > unmix.CondLimit) {
 		return
 	}
 	warn(fmt.Sprintf("the absorptivity spectra of the compounds are nearly collinear over %g-%g nm: condition number %s with an offset baseline, above %g, so solve will flag every sample illcond and their standard errors are inflated (huesolve inspect shows which compounds overlap; huesolve window looks for a better window)",

@@ -308,3 +308,28 @@ func TestCalibrateWarnsCollinear(t *testing.T) {
 		t.Errorf("well-separated dyes: stderr %q", errOut)
 	}
 }
+
+// TestCalWarnCollinearCannotCheck: when the collinearity check cannot be
+// made (here a set with too few usable wavelengths for its columns),
+// calibrate says so in a warning naming the cause, rather than keeping
+// quiet as if the spectra had been found apart.
+func TestCalWarnCollinearCannotCheck(t *testing.T) {
+	g := []float64{400, 450, 500, 550, 600}
+	set := &reference.Set{Schema: reference.SchemaVersion, Grid: g, PathCM: 1, Ceiling: 2, Noise: []float64{1e-3, 1e-3, 1e-3, 1e-3, 1e-3}}
+	for k, name := range []string{"A", "B"} {
+		c := reference.Compound{Name: name, Unit: "mg/L", Absorptivity: make([]float64, len(g)), SE: make([]float64, len(g)), Usable: make([]bool, len(g))}
+		for i := range g {
+			c.Absorptivity[i] = 0.01 * float64(1+(i+k)%3)
+		}
+		c.Usable[0], c.Usable[1] = true, true
+		set.Compounds = append(set.Compounds, c)
+	}
+	if err := set.Validate(); err != nil {
+		t.Fatal(err)
+	}
+	var got []string
+	calWarnCollinear(set, func(msg string) { got = append(got, msg) })
+	if len(got) != 1 || !strings.HasPrefix(got[0], "could not check whether the absorptivity spectra of the compounds are nearly collinear: too few usable wavelengths") {
+		t.Errorf("warnings %q: want one saying the collinearity could not be checked and why", got)
+	}
+}

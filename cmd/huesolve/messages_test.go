@@ -178,7 +178,7 @@ func TestUserMessage(t *testing.T) {
 		err  error
 		want string
 	}{
-		{fmt.Errorf("calibration: build: std.csv: %w", errors.New("reference: too few standards")), "std.csv: too few standards"},
+		{pkgerr.Errorf("calibration: build", "std.csv: %w", pkgerr.New("reference", "too few standards")), "std.csv: too few standards"},
 		{fmt.Errorf("blank: %w", pkgerr.Errorf("spectrum", "%w", pe)), "blank: x.csv does not exist"},
 		// spectrum and baseline mark their prefixes (pkgerr): left out
 		// wherever the error sits in the chain.

@@ -13,6 +13,8 @@ import (
 	"os"
 	"path/filepath"
 	"strings"
+
+	"huesolve/internal/pkgerr"
 )
 
 // Write creates or replaces path with what fill writes. fill receives a
@@ -34,19 +36,19 @@ func Write(path string, fill func(w io.Writer) error) (err error) {
 		}
 	}()
 	if err = fill(tmp); err != nil {
-		return fmt.Errorf("atomicfile: %s not written: %w", path, hideTemp(err, name))
+		return pkgerr.Errorf("atomicfile", "%s not written: %w", path, hideTemp(err, name))
 	}
 	if err = tmp.Sync(); err != nil {
-		return fmt.Errorf("atomicfile: cannot write %s: %w", path, hideTemp(err, name))
+		return pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, hideTemp(err, name))
 	}
 	if err = tmp.Close(); err != nil {
-		return fmt.Errorf("atomicfile: cannot write %s: %w", path, hideTemp(err, name))
+		return pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, hideTemp(err, name))
 	}
 	if err = os.Chmod(name, 0o644); err != nil {
-		return fmt.Errorf("atomicfile: cannot write %s: %w", path, hideTemp(err, name))
+		return pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, hideTemp(err, name))
 	}
 	if err = os.Rename(name, path); err != nil {
-		return fmt.Errorf("atomicfile: cannot write %s: %w", path, hideTemp(err, name))
+		return pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, hideTemp(err, name))
 	}
 	return nil
 }
@@ -57,13 +59,13 @@ func folderError(path, dir string, err error) error {
 	fi, serr := os.Stat(dir)
 	switch {
 	case errors.Is(serr, fs.ErrNotExist):
-		return &plainError{fmt.Sprintf("atomicfile: cannot write %s: the folder %s does not exist", path, dir), err}
+		return pkgerr.Errorf("atomicfile", "%w", &plainError{fmt.Sprintf("cannot write %s: the folder %s does not exist", path, dir), err})
 	case serr == nil && !fi.IsDir():
-		return &plainError{fmt.Sprintf("atomicfile: cannot write %s: %s is a file, not a folder", path, dir), err}
+		return pkgerr.Errorf("atomicfile", "%w", &plainError{fmt.Sprintf("cannot write %s: %s is a file, not a folder", path, dir), err})
 	case errors.Is(err, fs.ErrPermission):
-		return &plainError{fmt.Sprintf("atomicfile: cannot write %s: no permission to create files in the folder %s", path, dir), err}
+		return pkgerr.Errorf("atomicfile", "%w", &plainError{fmt.Sprintf("cannot write %s: no permission to create files in the folder %s", path, dir), err})
 	}
-	return fmt.Errorf("atomicfile: cannot write %s: %w", path, hideTemp(err, ""))
+	return pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, hideTemp(err, ""))
 }
 
 // hideTemp returns err with the operating system's mention of the

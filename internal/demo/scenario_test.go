@@ -51,7 +51,7 @@ func TestWriteCoversEverySheetEntry(t *testing.T) {
 	}
 	for _, group := range [][]Scan{sc.Standards, sc.Checks, sc.Samples} {
 		for _, s := range group {
-			if _, err := os.Stat(filepath.Join(dir, s.File)); err != nil {
+			if _, err := os.Stat(filepath.Join(dir, s.file)); err != nil {
 				t.Errorf("%s: %v", s.Name, err)
 			}
 		}
@@ -68,16 +68,16 @@ func TestWriteCoversEverySheetEntry(t *testing.T) {
 // plus the product-base background.
 func TestMeasureNoiseFree(t *testing.T) {
 	sc := New()
-	sc.NoiseFloor, sc.NoiseT, sc.OffsetSD, sc.StrayLight = 0, 0, 0, 0
-	s := Scan{Name: "x", Conc: []float64{3, 5, 7, 1}, Dilution: 2, PathCM: 0.5}
-	got := sc.Measure(&s)
-	for i, nm := range sc.Grid {
+	sc.noiseFloor, sc.noiseT, sc.offsetSD, sc.strayLight = 0, 0, 0, 0
+	s := Scan{Name: "x", Conc: []float64{3, 5, 7, 1}, Dilution: 2, pathCM: 0.5}
+	got := sc.measure(&s)
+	for i, nm := range sc.grid {
 		var want float64
 		for k, d := range sc.Dyes {
-			want += d.Absorptivity(nm) * s.Conc[k]
+			want += d.absorptivity(nm) * s.Conc[k]
 		}
 		want = want*0.5/2 + 0.5*sc.background(nm)
-		// Measure goes through T = 10^-A and back: a few ulps.
+		// measure goes through T = 10^-A and back: a few ulps.
 		if math.Abs(got[i]-want) > 1e-12 {
 			t.Fatalf("A(%g nm) = %g, want %g", nm, got[i], want)
 		}
@@ -89,17 +89,17 @@ func TestMeasureNoiseFree(t *testing.T) {
 // points: the SD estimate lies within ±12 % with probability above 0.99).
 func TestMeasureNoise(t *testing.T) {
 	sc := New()
-	sc.OffsetSD = 0
+	sc.offsetSD = 0
 	blank := sc.Standards[0]
-	got := sc.Measure(&blank)
+	got := sc.measure(&blank)
 	var ss float64
-	for i, nm := range sc.Grid {
-		d := got[i] - sc.TrueAbsorbance(&blank, nm)
+	for i, nm := range sc.grid {
+		d := got[i] - sc.trueAbsorbance(&blank, nm)
 		ss += d * d
 	}
 	sd := math.Sqrt(ss / float64(len(got)))
-	if math.Abs(sd/sc.NoiseFloor-1) > 0.12 {
-		t.Errorf("blank noise SD = %g, want about %g", sd, sc.NoiseFloor)
+	if math.Abs(sd/sc.noiseFloor-1) > 0.12 {
+		t.Errorf("blank noise SD = %g, want about %g", sd, sc.noiseFloor)
 	}
 }
 
@@ -132,8 +132,8 @@ func TestScenarioShape(t *testing.T) {
 	}
 	peak := func(s *Scan) float64 {
 		m := 0.0
-		for _, nm := range sc.Grid {
-			m = max(m, sc.TrueAbsorbance(s, nm))
+		for _, nm := range sc.grid {
+			m = max(m, sc.trueAbsorbance(s, nm))
 		}
 		return m
 	}
@@ -173,39 +173,39 @@ func TestFilesReadBack(t *testing.T) {
 	if _, err := sc.Write(dir); err != nil {
 		t.Fatal(err)
 	}
-	for _, group := range [][]Scan{sc.Standards, sc.Checks, {sc.Blank}, sc.Samples} {
+	for _, group := range [][]Scan{sc.Standards, sc.Checks, {sc.blank}, sc.Samples} {
 		for i := range group {
 			s := &group[i]
-			ss, err := spectrum.ReadFile(filepath.Join(dir, s.File), spectrum.ReadOptions{
+			ss, err := spectrum.ReadFile(filepath.Join(dir, s.file), spectrum.ReadOptions{
 				Warn: func(msg string) { t.Errorf("%s: warning: %s", s.Name, msg) }})
 			if err != nil {
 				t.Fatalf("%s: %v", s.Name, err)
 			}
 			var got *spectrum.Spectrum
 			for _, x := range ss {
-				if s.Column == "" || x.Name == s.Column {
+				if s.column == "" || x.Name == s.column {
 					got = x
 				}
 			}
 			if got == nil {
-				t.Fatalf("%s: no spectrum named %q in %s", s.Name, s.Column, s.File)
+				t.Fatalf("%s: no spectrum named %q in %s", s.Name, s.column, s.file)
 			}
 			if err := got.ToAbsorbance(); err != nil {
 				t.Fatal(err)
 			}
-			want := sc.Measure(s)
-			if !spectrum.SameGrid(got.Wavelengths, sc.Grid) {
+			want := sc.measure(s)
+			if !spectrum.SameGrid(got.Wavelengths, sc.grid) {
 				t.Fatalf("%s: grid %g-%g nm, %d points", s.Name, got.Wavelengths[0], got.Wavelengths[len(got.Wavelengths)-1], got.Len())
 			}
 			for k := range want {
 				// Rounding: 5e-6 A; %T to 1e-4 of a value near 100·10^-A
 				// gives dA = 0.434·5e-5/%T.
 				tol := 5.1e-6
-				if s.Form == PercentT {
+				if s.form == percentT {
 					tol = log10e * 0.5 / pctTDigits / (100 * math.Pow(10, -want[k])) * 1.01
 				}
 				if d := math.Abs(got.Values[k] - want[k]); d > tol {
-					t.Fatalf("%s at %g nm: read %g, model %g", s.Name, sc.Grid[k], got.Values[k], want[k])
+					t.Fatalf("%s at %g nm: read %g, model %g", s.Name, sc.grid[k], got.Values[k], want[k])
 				}
 			}
 		}

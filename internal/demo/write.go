@@ -28,22 +28,22 @@ const (
 // transmittance noise, since dA = -log10(e) dT/T.
 const log10e = 0.43429448190325176
 
-// Measure returns the scan's absorbance readings on the grid as the
+// measure returns the scan's absorbance readings on the grid as the
 // scenario's instrument would report them: the true absorbance bent by
 // stray light, plus photometric noise and a random offset. The random
 // numbers come from a PCG seeded by the scenario seeds and the scan name,
 // so a scan reads the same on every run whatever else the scenario holds.
-func (sc *Scenario) Measure(s *Scan) []float64 {
+func (sc *Scenario) measure(s *Scan) []float64 {
 	h := fnv.New64a()
 	h.Write([]byte(s.Name))
-	rng := rand.New(rand.NewPCG(sc.Seed1, sc.Seed2^h.Sum64()))
-	offset := sc.OffsetSD * rng.NormFloat64()
-	out := make([]float64, len(sc.Grid))
-	for i, nm := range sc.Grid {
-		t := math.Pow(10, -sc.TrueAbsorbance(s, nm))
-		a := -math.Log10((t + sc.StrayLight) / (1 + sc.StrayLight))
-		tn := log10e * sc.NoiseT * math.Pow(10, a)
-		sd := math.Sqrt(sc.NoiseFloor*sc.NoiseFloor + tn*tn)
+	rng := rand.New(rand.NewPCG(sc.seed1, sc.seed2^h.Sum64()))
+	offset := sc.offsetSD * rng.NormFloat64()
+	out := make([]float64, len(sc.grid))
+	for i, nm := range sc.grid {
+		t := math.Pow(10, -sc.trueAbsorbance(s, nm))
+		a := -math.Log10((t + sc.strayLight) / (1 + sc.strayLight))
+		tn := log10e * sc.noiseT * math.Pow(10, a)
+		sd := math.Sqrt(sc.noiseFloor*sc.noiseFloor + tn*tn)
 		out[i] = a + offset + sd*rng.NormFloat64()
 	}
 	return out
@@ -71,7 +71,7 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	wide := map[string][]*Scan{}
 	var wideOrder []string
 	all := make([]*Scan, 0, len(sc.Standards)+len(sc.Checks)+len(sc.Samples)+1)
-	for _, group := range [][]Scan{sc.Standards, sc.Checks, {sc.Blank}, sc.Samples} {
+	for _, group := range [][]Scan{sc.Standards, sc.Checks, {sc.blank}, sc.Samples} {
 		for i := range group {
 			all = append(all, &group[i])
 		}
@@ -79,28 +79,28 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	for _, s := range all {
 		var buf bytes.Buffer
 		var err error
-		switch s.Form {
-		case Wide:
-			if _, ok := wide[s.File]; !ok {
-				wideOrder = append(wideOrder, s.File)
+		switch s.form {
+		case formWide:
+			if _, ok := wide[s.file]; !ok {
+				wideOrder = append(wideOrder, s.file)
 			}
-			wide[s.File] = append(wide[s.File], s)
+			wide[s.file] = append(wide[s.file], s)
 			continue
-		case TwoColumn:
+		case twoColumn:
 			err = spectrum.WriteDelimited(&buf, []*spectrum.Spectrum{sc.spectrum(s, spectrum.Absorbance)},
 				spectrum.WriteOptions{Comments: []string{sc.comment("scan " + s.Name)}})
-		case PercentT:
+		case percentT:
 			err = spectrum.WriteDelimited(&buf, []*spectrum.Spectrum{sc.spectrum(s, spectrum.PercentT)},
 				spectrum.WriteOptions{Comments: []string{sc.comment("scan " + s.Name + ", percent transmittance")}})
-		case JCAMP:
+		case jcamp:
 			err = spectrum.WriteJCAMP(&buf, sc.spectrum(s, spectrum.Absorbance),
 				spectrum.JCAMPOptions{Compressed: true, Origin: sc.Lab + " (invented demo data)", Owner: "public domain"})
 		}
 		if err == nil {
-			err = put(s.File, buf.Bytes())
+			err = put(s.file, buf.Bytes())
 		}
 		if err != nil {
-			return written, fmt.Errorf("demo: %s: %w", s.File, err)
+			return written, fmt.Errorf("demo: %s: %w", s.file, err)
 		}
 	}
 	for _, f := range wideOrder {
@@ -129,7 +129,7 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	var b bytes.Buffer
 	b.WriteString("sample,dilution,path_cm\n")
 	for _, s := range sc.Samples {
-		fmt.Fprintf(&b, "%s,%s,%s\n", s.Name, num(s.Dilution), num(s.PathCM))
+		fmt.Fprintf(&b, "%s,%s,%s\n", s.Name, num(s.Dilution), num(s.pathCM))
 	}
 	if err := put(SampleSheet, b.Bytes()); err != nil {
 		return written, err
@@ -140,26 +140,12 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	return written, nil
 }
 
-// SampleFiles returns the distinct sample scan files (relative paths) in
-// scenario order.
-func (sc *Scenario) SampleFiles() []string {
-	seen := map[string]bool{}
-	var out []string
-	for _, s := range sc.Samples {
-		if !seen[s.File] {
-			seen[s.File] = true
-			out = append(out, s.File)
-		}
-	}
-	return out
-}
-
 func num(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 
 func (sc *Scenario) header() string {
 	var b bytes.Buffer
 	for _, d := range sc.Dyes {
-		fmt.Fprintf(&b, ",%s (%s)", d.Name, Unit)
+		fmt.Fprintf(&b, ",%s (%s)", d.Name, concUnit)
 	}
 	return b.String()
 }
@@ -180,7 +166,7 @@ const (
 // spectrum returns the scan as measured, rounded to the instrument's
 // reading precision, in quantity q (Absorbance or PercentT).
 func (sc *Scenario) spectrum(s *Scan, q spectrum.Quantity) *spectrum.Spectrum {
-	v := sc.Measure(s)
+	v := sc.measure(s)
 	scale := absDigits
 	if q == spectrum.PercentT {
 		scale = pctTDigits
@@ -192,11 +178,11 @@ func (sc *Scenario) spectrum(s *Scan, q spectrum.Quantity) *spectrum.Spectrum {
 		v[i] = math.Round(v[i]*scale) / scale
 	}
 	name := s.Name
-	if s.Column != "" {
-		name = s.Column
+	if s.column != "" {
+		name = s.column
 	}
-	return &spectrum.Spectrum{Name: name, Wavelengths: sc.Grid, Values: v, Quantity: q,
-		Source: spectrum.Source{File: s.File}}
+	return &spectrum.Spectrum{Name: name, Wavelengths: sc.grid, Values: v, Quantity: q,
+		Source: spectrum.Source{File: s.file}}
 }
 
 func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
@@ -208,9 +194,9 @@ func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
 	}
 	b.WriteString(sc.header() + "\n")
 	for _, s := range scans {
-		b.WriteString(s.File)
+		b.WriteString(s.file)
 		if withColumn {
-			b.WriteString("," + s.Column)
+			b.WriteString("," + s.column)
 		}
 		for _, c := range s.Conc {
 			b.WriteString("," + num(c))
@@ -222,13 +208,13 @@ func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
 
 func (sc *Scenario) truth() []byte {
 	var b bytes.Buffer
-	b.WriteString("sample" + sc.header() + fmt.Sprintf(",%s (%s),turbidity_400nm,trouble,note\n", sc.Extra.Name, Unit))
+	b.WriteString("sample" + sc.header() + fmt.Sprintf(",%s (%s),turbidity_400nm,trouble,note\n", sc.extra.Name, concUnit))
 	for _, s := range sc.Samples {
 		b.WriteString(s.Name)
 		for _, c := range s.Conc {
 			b.WriteString("," + num(c))
 		}
-		fmt.Fprintf(&b, ",%s,%s,%s,%q\n", num(s.Unlisted), num(s.Turbidity), s.Trouble, s.Note)
+		fmt.Fprintf(&b, ",%s,%s,%s,%q\n", num(s.unlisted), num(s.turbidity), s.Trouble, s.Note)
 	}
 	return b.Bytes()
 }

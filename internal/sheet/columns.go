@@ -5,9 +5,10 @@ import (
 	"strings"
 )
 
-// NoteColumns are the names of columns every sheet reads and drops: free
-// text for the people who keep the sheet.
-var NoteColumns = []string{"note", "notes", "comment", "comments"}
+// NoteColumns returns the names of columns every sheet reads and drops:
+// free text for the people who keep the sheet. Each call gives a new
+// slice.
+func NoteColumns() []string { return []string{"note", "notes", "comment", "comments"} }
 
 // Columns declares the columns of a kind of sheet. A sheet matches its
 // header against them with Sheet.Layout.
@@ -48,9 +49,9 @@ func (l Layout) Col(name string) int {
 	return -1
 }
 
-// Key is the form in which column names are compared: lower case,
+// headerKey is the form in which column names are compared: lower case,
 // surrounding blanks dropped.
-func Key(name string) string { return strings.ToLower(strings.TrimSpace(name)) }
+func headerKey(name string) string { return strings.ToLower(strings.TrimSpace(name)) }
 
 // Layout matches the header against c. A column without a name is
 // allowed when no row has a value in it (a trailing separator from a
@@ -61,7 +62,7 @@ func (sh *Sheet) Layout(c Columns) (Layout, error) {
 	l := Layout{cols: map[string]int{}}
 	line := sh.Header.Line
 	for i, h := range sh.Header.Fields {
-		key := Key(h)
+		key := headerKey(h)
 		switch {
 		case contains(c.Names, key):
 			if j, dup := l.cols[key]; dup {

@@ -8,8 +8,8 @@ import (
 	"huesolve/spectrum"
 )
 
-// ErrFolder: the path given as a sheet is a folder.
-var ErrFolder = errors.New("a folder")
+// errFolder: the path given as a sheet is a folder.
+var errFolder = errors.New("a folder")
 
 // Open reads the sheet file path, the one way every sheet file is opened:
 // a folder is refused, a regular file larger than opt.MaxBytes is refused
@@ -21,7 +21,7 @@ var ErrFolder = errors.New("a folder")
 // A file that cannot be opened gives the operating system's error
 // prefixed by opt.What ("sample sheet: open x.csv: ..."); every other
 // error is a *spectrum.ParseError naming the file. The folder and size
-// errors wrap ErrFolder and ErrTooLarge, and opt.Wrap when set.
+// errors wrap errFolder and errTooLarge, and opt.Wrap when set.
 func Open(path string, opt Options) (*Sheet, os.FileInfo, error) {
 	f, err := os.Open(path)
 	if err != nil {
@@ -53,11 +53,11 @@ func (o *Options) fileErr(file string, err error) error {
 }
 
 // folder is the error for a sheet path that names a folder; it is
-// ErrFolder.
+// errFolder.
 type folder struct{ what string }
 
 func (e *folder) Error() string {
 	return fmt.Sprintf("the %s is a folder; give the sheet file", e.what)
 }
 
-func (e *folder) Is(target error) bool { return target == ErrFolder }
+func (e *folder) Is(target error) bool { return target == errFolder }

@@ -54,10 +54,10 @@ func TestOpen(t *testing.T) {
 		want       string
 		is         error
 	}{
-		{"folder", dir, opt, dir + ": the sample sheet is a folder; give the sheet file", ErrFolder},
-		{"folder wrapped", dir, Options{What: "standards sheet", Wrap: badHeader}, dir + ": bad header: the standards sheet is a folder; give the sheet file", ErrFolder},
-		{"too large", big, opt, big + ": the file is 124 bytes, more than the 64 bytes a sample sheet may take (is it a sheet?)", ErrTooLarge},
-		{"too large wrapped", big, Options{What: "standards sheet", MaxBytes: 64, Wrap: badHeader}, big + ": bad header: the file is 124 bytes, more than the 64 bytes a standards sheet may take", ErrTooLarge},
+		{"folder", dir, opt, dir + ": the sample sheet is a folder; give the sheet file", errFolder},
+		{"folder wrapped", dir, Options{What: "standards sheet", Wrap: badHeader}, dir + ": bad header: the standards sheet is a folder; give the sheet file", errFolder},
+		{"too large", big, opt, big + ": the file is 124 bytes, more than the 64 bytes a sample sheet may take (is it a sheet?)", errTooLarge},
+		{"too large wrapped", big, Options{What: "standards sheet", MaxBytes: 64, Wrap: badHeader}, big + ": bad header: the file is 124 bytes, more than the 64 bytes a standards sheet may take", errTooLarge},
 	} {
 		t.Run(c.name, func(t *testing.T) {
 			_, st, err := Open(c.path, c.opt)
@@ -77,7 +77,7 @@ func TestOpen(t *testing.T) {
 
 // TestOpenPipe: a file whose size is not known beforehand (a named pipe)
 // is read up to the cap: within it the sheet is read, past it the read
-// fails with ErrTooLarge.
+// fails with errTooLarge.
 func TestOpenPipe(t *testing.T) {
 	text := "sample,dilution\nA,2\n"
 	for _, c := range []struct {
@@ -112,8 +112,8 @@ func TestOpenPipe(t *testing.T) {
 			switch {
 			case c.ok && (err != nil || len(sh.Rows) != 1):
 				t.Errorf("within the cap: %v", err)
-			case !c.ok && (!errors.Is(err, ErrTooLarge) || !strings.HasPrefix(err.Error(), p+": more than the 64 bytes a sample sheet may take")):
-				t.Errorf("past the cap: %v, want ErrTooLarge naming %s", err, p)
+			case !c.ok && (!errors.Is(err, errTooLarge) || !strings.HasPrefix(err.Error(), p+": more than the 64 bytes a sample sheet may take")):
+				t.Errorf("past the cap: %v, want errTooLarge naming %s", err, p)
 			}
 		})
 	}

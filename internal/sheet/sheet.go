@@ -24,7 +24,7 @@
 //     Options.MaxLine bytes.
 //
 // A sheet file is read with Open (a folder refused, the size cap checked
-// before reading); Read and Parse take a reader or bytes.
+// before reading); Read and parse take a reader or bytes.
 //
 // Column names are matched with case and surrounding blanks ignored.
 // Errors about the text are *spectrum.ParseError values naming file, line
@@ -41,13 +41,13 @@ import (
 	"huesolve/spectrum"
 )
 
-// Options control Read and Parse.
+// Options control Read and parse.
 type Options struct {
 	// What names the kind of sheet in messages ("sample sheet").
 	What string
-	// MaxBytes bounds the size of the sheet; zero means DefaultMaxBytes.
+	// MaxBytes bounds the size of the sheet; zero means 64 MiB.
 	MaxBytes int64
-	// MaxLine bounds the length of one line; zero means DefaultMaxLine.
+	// MaxLine bounds the length of one line; zero means 64 KiB.
 	MaxLine int
 	// Warn receives warnings, already prefixed with file:line; nil
 	// discards them.
@@ -59,16 +59,16 @@ type Options struct {
 
 // Default limits.
 const (
-	// DefaultMaxBytes is 64 MiB: hundreds of thousands of rows.
-	DefaultMaxBytes = 64 << 20
-	// DefaultMaxLine is 64 KiB: thousands of columns.
-	DefaultMaxLine = 64 << 10
+	// defaultMaxBytes is 64 MiB: hundreds of thousands of rows.
+	defaultMaxBytes = 64 << 20
+	// defaultMaxLine is 64 KiB: thousands of columns.
+	defaultMaxLine = 64 << 10
 )
 
 // Sentinel causes, tested with errors.Is.
 var (
-	// ErrTooLarge: the sheet holds more than Options.MaxBytes.
-	ErrTooLarge = errors.New("too large")
+	// errTooLarge: the sheet holds more than Options.MaxBytes.
+	errTooLarge = errors.New("too large")
 	// ErrNotNumber: a field is not a number in the sheets' syntax.
 	ErrNotNumber = errors.New("not a number")
 )
@@ -101,12 +101,12 @@ func Read(r io.Reader, file string, opt Options) (*Sheet, error) {
 	if int64(len(data)) > limit {
 		return nil, opt.fileErr(file, &tooLarge{limit: limit, what: opt.what()})
 	}
-	return Parse(data, file, opt)
+	return parse(data, file, opt)
 }
 
-// Parse reads a sheet from data; file names it in messages. A sheet with
+// parse reads a sheet from data; file names it in messages. A sheet with
 // no header is an error wrapping spectrum.ErrEmpty.
-func Parse(data []byte, file string, opt Options) (*Sheet, error) {
+func parse(data []byte, file string, opt Options) (*Sheet, error) {
 	if int64(len(data)) > opt.maxBytes() {
 		return nil, opt.fileErr(file, &tooLarge{limit: opt.maxBytes(), what: opt.what()})
 	}
@@ -182,7 +182,7 @@ func (sh *Sheet) ErrAt(line, col int, format string, a ...any) error {
 }
 
 // tooLarge is the error for a sheet above its size limit; it is
-// ErrTooLarge. size is the file's size when it was known before
+// errTooLarge. size is the file's size when it was known before
 // reading, else 0.
 type tooLarge struct {
 	limit, size int64
@@ -196,20 +196,20 @@ func (e *tooLarge) Error() string {
 	return fmt.Sprintf("more than the %s a %s may take (is it a sheet?)", bytesize.Text(e.limit), e.what)
 }
 
-func (e *tooLarge) Is(target error) bool { return target == ErrTooLarge }
+func (e *tooLarge) Is(target error) bool { return target == errTooLarge }
 
 func (o *Options) maxBytes() int64 {
 	if o.MaxBytes > 0 {
 		return o.MaxBytes
 	}
-	return DefaultMaxBytes
+	return defaultMaxBytes
 }
 
 func (o *Options) maxLine() int {
 	if o.MaxLine > 0 {
 		return o.MaxLine
 	}
-	return DefaultMaxLine
+	return defaultMaxLine
 }
 
 func (o *Options) what() string {

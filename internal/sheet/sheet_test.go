@@ -31,7 +31,7 @@ func TestParseDialects(t *testing.T) {
 		{"no final line end", "sample,dilution,note\nA 1,2.5,first\nB,10,", ',', []int{1, 2, 3}},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			sh, err := Parse([]byte(c.text), "s.csv", Options{})
+			sh, err := parse([]byte(c.text), "s.csv", Options{})
 			if err != nil {
 				t.Fatal(err)
 			}
@@ -62,7 +62,7 @@ func TestParseDialects(t *testing.T) {
 // TestParseQuoting: quotes around a field, "" inside, a separator and a
 // line end inside quotes (the row keeps the line it starts on).
 func TestParseQuoting(t *testing.T) {
-	sh, err := Parse([]byte("name,note\n\"a,b\",\"say \"\"hi\"\"\"\n\"two\nlines\",x\nlast,y\n"), "q.csv", Options{})
+	sh, err := parse([]byte("name,note\n\"a,b\",\"say \"\"hi\"\"\"\n\"two\nlines\",x\nlast,y\n"), "q.csv", Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -80,7 +80,7 @@ func TestParseQuoting(t *testing.T) {
 // warning naming the line of the first such byte.
 func TestParseLatin1(t *testing.T) {
 	var warns []string
-	sh, err := Parse([]byte("# lab\nsample,unit\nA,\xb5g/L\n"), "l.csv", Options{What: "sample sheet", Warn: func(m string) { warns = append(warns, m) }})
+	sh, err := parse([]byte("# lab\nsample,unit\nA,\xb5g/L\n"), "l.csv", Options{What: "sample sheet", Warn: func(m string) { warns = append(warns, m) }})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -91,7 +91,7 @@ func TestParseLatin1(t *testing.T) {
 		t.Errorf("warnings %q", warns)
 	}
 	warns = nil
-	if _, err := Parse([]byte("\ufeffsample,unit\nA,µg/L\n"), "u.csv", Options{Warn: func(m string) { warns = append(warns, m) }}); err != nil || len(warns) != 0 {
+	if _, err := parse([]byte("\ufeffsample,unit\nA,µg/L\n"), "u.csv", Options{Warn: func(m string) { warns = append(warns, m) }}); err != nil || len(warns) != 0 {
 		t.Errorf("UTF-8 with BOM: %v, warnings %q", err, warns)
 	}
 }
@@ -114,12 +114,12 @@ func TestParseErrors(t *testing.T) {
 		{"text after quote", "sample,dilution\n\"A\"x,2\n", Options{}, "e.csv:2:1: text after the closing \"", nil},
 		{"long line", "sample,dilution\nA," + strings.Repeat("1", 100) + "\n", Options{MaxLine: 64, What: "sample sheet"}, "e.csv:2: line longer than 64 bytes: is this a sample sheet?", nil},
 		{"long quoted line", "sample,dilution\n\"" + strings.Repeat("x", 80) + "\n\",2\n", Options{MaxLine: 64}, "e.csv:2: line longer than 64 bytes", nil},
-		{"too large", "sample,dilution\nA,2\n", Options{MaxBytes: 10, What: "sample sheet"}, "e.csv: more than the 10 bytes a sample sheet may take", ErrTooLarge},
+		{"too large", "sample,dilution\nA,2\n", Options{MaxBytes: 10, What: "sample sheet"}, "e.csv: more than the 10 bytes a sample sheet may take", errTooLarge},
 		{"empty", "", Options{}, "e.csv: no data", spectrum.ErrEmpty},
 		{"only comments", "# x\n\n,,\n", Options{}, "e.csv: no data", spectrum.ErrEmpty},
 	} {
 		t.Run(c.name, func(t *testing.T) {
-			_, err := Parse([]byte(c.text), "e.csv", c.opt)
+			_, err := parse([]byte(c.text), "e.csv", c.opt)
 			if err == nil || !strings.HasPrefix(err.Error(), c.want) {
 				t.Fatalf("error %v, want prefix %q", err, c.want)
 			}
@@ -138,7 +138,7 @@ func TestParseErrors(t *testing.T) {
 // not trusted to be small) and reads what fits.
 func TestRead(t *testing.T) {
 	text := "sample,dilution\nA,2\n"
-	if _, err := Read(iotest.OneByteReader(strings.NewReader(text+strings.Repeat("B,3\n", 100))), "p.csv", Options{MaxBytes: 64, What: "sample sheet"}); !errors.Is(err, ErrTooLarge) ||
+	if _, err := Read(iotest.OneByteReader(strings.NewReader(text+strings.Repeat("B,3\n", 100))), "p.csv", Options{MaxBytes: 64, What: "sample sheet"}); !errors.Is(err, errTooLarge) ||
 		!strings.HasPrefix(err.Error(), "p.csv: more than the 64 bytes a sample sheet may take") {
 		t.Errorf("over the cap: %v", err)
 	}
@@ -172,7 +172,7 @@ func TestNumber(t *testing.T) {
 		{"x,v\na,1+3\n", 0, ErrNotNumber},
 		{"x,v\na, \n", 0, ErrNotNumber},
 	} {
-		sh, err := Parse([]byte(c.text), "n.csv", Options{})
+		sh, err := parse([]byte(c.text), "n.csv", Options{})
 		if err != nil {
 			t.Fatalf("%q: %v", c.text, err)
 		}
@@ -181,7 +181,7 @@ func TestNumber(t *testing.T) {
 			t.Errorf("%q: %v, %v; want %v, %v", c.text, v, err, c.want, c.err)
 		}
 	}
-	sh, err := Parse([]byte("x;v\na;2,5\nb;3.5\n"), "m.csv", Options{})
+	sh, err := parse([]byte("x;v\na;2,5\nb;3.5\n"), "m.csv", Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -198,8 +198,8 @@ func TestNumber(t *testing.T) {
 // only when it is empty.
 func TestLayout(t *testing.T) {
 	errHead := errors.New("bad header")
-	cols := Columns{Names: []string{"sample", "dilution"}, Ignore: NoteColumns, Known: "a test sheet has sample, dilution", Wrap: errHead}
-	sh, err := Parse([]byte(" Sample ,Notes,DILUTION,\nA,x,2,\n"), "l.csv", Options{})
+	cols := Columns{Names: []string{"sample", "dilution"}, Ignore: NoteColumns(), Known: "a test sheet has sample, dilution", Wrap: errHead}
+	sh, err := parse([]byte(" Sample ,Notes,DILUTION,\nA,x,2,\n"), "l.csv", Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -218,7 +218,7 @@ func TestLayout(t *testing.T) {
 		{"sample,dilution,Dilution\nA,2,3\n", cols, `l.csv:1:3: bad header: column "dilution" given twice (first in column 2)`},
 		{"sample,,dilution\nA,x,2\n", cols, "l.csv:1:2: bad header: column 2 has values but no name"},
 	} {
-		sh, err := Parse([]byte(c.text), "l.csv", Options{})
+		sh, err := parse([]byte(c.text), "l.csv", Options{})
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -226,7 +226,7 @@ func TestLayout(t *testing.T) {
 			t.Errorf("%q: %v, want prefix %q", c.text, err, c.want)
 		}
 	}
-	sh, err = Parse([]byte("sample,dye (mg/L),note,other\nA,1,,2\n"), "l.csv", Options{})
+	sh, err = parse([]byte("sample,dye (mg/L),note,other\nA,1,,2\n"), "l.csv", Options{})
 	if err != nil {
 		t.Fatal(err)
 	}
