@@ -9,6 +9,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"huesolve/internal/pkgerr"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -282,7 +283,7 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 		if err := parent.Err(); err != nil {
 			return sum, err
 		}
-		return sum, errors.New("batch: stopped early")
+		return sum, pkgerr.New("batch", "stopped early")
 	}
 	cancel()
 	wg.Wait()

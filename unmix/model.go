@@ -2,6 +2,7 @@ package unmix
 
 import (
 	"fmt"
+	"huesolve/internal/pkgerr"
 	"math"
 	"slices"
 
@@ -108,13 +109,13 @@ type scratch struct {
 // linearly dependent.
 func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	if set == nil {
-		return nil, fmt.Errorf("unmix: %w: nil set", ErrSet)
+		return nil, pkgerr.Errorf("unmix", "%w: nil set", ErrSet)
 	}
 	if err := set.Validate(); err != nil {
-		return nil, fmt.Errorf("unmix: %w: %w", ErrSet, err)
+		return nil, pkgerr.Errorf("unmix", "%w: %w", ErrSet, err)
 	}
 	if len(set.Noise) == 0 {
-		return nil, fmt.Errorf("unmix: %w: the set has no noise model", ErrSet)
+		return nil, pkgerr.Errorf("unmix", "%w: the set has no noise model", ErrSet)
 	}
 	sh := &shared{set: set, opt: opt, grid: set.Grid, ncomp: len(set.Compounds)}
 	if err := sh.limits(); err != nil {
@@ -134,7 +135,7 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	wl := sh.grid[sh.lo:sh.hi]
 	var err error
 	if sh.base, err = sh.buildDesign(sh.rows0, nil); err != nil {
-		return nil, fmt.Errorf("unmix: window %g-%g nm, baseline %q: %w", wl[0], wl[len(wl)-1], opt.Baseline, err)
+		return nil, pkgerr.Errorf("unmix", "window %g-%g nm, baseline %q: %w", wl[0], wl[len(wl)-1], opt.Baseline, err)
 	}
 	m := &Model{set: set, opt: sh.opt, sh: sh}
 	m.init(sh.base)
@@ -149,7 +150,7 @@ func (sh *shared) limits() error {
 		sh.opt.MaxShiftNM = DefaultMaxShiftNM
 	}
 	if !(sh.opt.MaxShiftNM > 0) || math.IsInf(sh.opt.MaxShiftNM, 0) {
-		return fmt.Errorf("unmix: the shift limit must be a positive number of nm, not %g", opt.MaxShiftNM)
+		return pkgerr.Errorf("unmix", "the shift limit must be a positive number of nm, not %g", opt.MaxShiftNM)
 	}
 	sh.ceiling = opt.Ceiling
 	if sh.ceiling == 0 {
@@ -159,7 +160,7 @@ func (sh *shared) limits() error {
 		sh.ceiling = DefaultCeiling
 	}
 	if !(sh.ceiling > 0) || math.IsInf(sh.ceiling, 0) {
-		return fmt.Errorf("unmix: the absorbance ceiling must be positive, not %g", sh.ceiling)
+		return pkgerr.Errorf("unmix", "the absorbance ceiling must be positive, not %g", sh.ceiling)
 	}
 	nt := int(math.Ceil(sh.ceiling/growthStep)) + 2
 	sh.gtab = make([]float64, nt)
@@ -181,7 +182,7 @@ func (sh *shared) window() error {
 		wlo, whi = glo, ghi
 	}
 	if !(whi > wlo) {
-		return fmt.Errorf("unmix: window %g-%g nm is empty", wlo, whi)
+		return pkgerr.Errorf("unmix", "window %g-%g nm is empty", wlo, whi)
 	}
 	slack := spectrum.GridSlack * (ghi - glo)
 	if wlo < glo-slack || whi > ghi+slack {
@@ -189,7 +190,7 @@ func (sh *shared) window() error {
 		if whi <= glo || wlo >= ghi {
 			how = "lies"
 		}
-		return &windowError{fmt.Sprintf("unmix: the window %g-%g nm %s outside the reference grid %g-%g nm: choose a window within %g-%g nm", wlo, whi, how, glo, ghi, glo, ghi)}
+		return &windowError{fmt.Sprintf("the window %g-%g nm %s outside the reference grid %g-%g nm: choose a window within %g-%g nm", wlo, whi, how, glo, ghi, glo, ghi)}
 	}
 	if opt.Shift {
 		wlo = max(wlo, glo+opt.MaxShiftNM)
@@ -197,7 +198,7 @@ func (sh *shared) window() error {
 	}
 	sh.lo, sh.hi = WindowRange(g, wlo, whi)
 	if sh.hi-sh.lo < 2 {
-		return fmt.Errorf("unmix: window %g-%g nm holds %d reference points: %w", wlo, whi, max(sh.hi-sh.lo, 0), ErrCoverage)
+		return pkgerr.Errorf("unmix", "window %g-%g nm holds %d reference points: %w", wlo, whi, max(sh.hi-sh.lo, 0), ErrCoverage)
 	}
 	wl := g[sh.lo:sh.hi]
 	sh.reach = baseline.Reach(sh.set.Pretreat)
@@ -223,7 +224,7 @@ func (sh *shared) columns() error {
 	set := sh.set
 	d, err := NewDesign(set, sh.lo, sh.hi, sh.opt.Baseline, set.PathCM)
 	if err != nil {
-		return fmt.Errorf("unmix: %w", err)
+		return pkgerr.Errorf("unmix", "%w", err)
 	}
 	sh.design = d
 	sh.rows0, sh.cols, sh.nonneg, sh.names = d.Rows, d.Cols, d.NonNeg, d.Terms
@@ -325,18 +326,18 @@ func (m *Model) Options() Options { return m.opt }
 // setBlank converts the blank to absorbance and checks its range.
 func (sh *shared) setBlank(b *spectrum.Spectrum) error {
 	if err := b.Check(); err != nil {
-		return fmt.Errorf("unmix: blank: %w", err)
+		return pkgerr.Errorf("unmix", "blank: %w", err)
 	}
 	a := make([]float64, b.Len())
 	for i, v := range b.Values {
 		x, err := spectrum.ToAbsorbance(b.Quantity, v)
 		if err != nil {
-			return fmt.Errorf("unmix: blank %s at %g nm: %w", b.Source, b.Wavelengths[i], err)
+			return pkgerr.Errorf("unmix", "blank %s at %g nm: %w", b.Source, b.Wavelengths[i], err)
 		}
 		a[i] = x
 	}
 	if err := covers(b.Wavelengths, sh.needLo, sh.needHi); err != nil {
-		return fmt.Errorf("unmix: blank %s: %w", b.Source, err)
+		return pkgerr.Errorf("unmix", "blank %s: %w", b.Source, err)
 	}
 	sh.blankWL, sh.blankA = b.Wavelengths, a
 	sh.blank0 = make([]float64, sh.whi-sh.wlo)

@@ -141,10 +141,11 @@ func CheckFactors(f Factors) error {
 
 // windowError is NewModel's error for a window that reaches outside the
 // reference grid: its message names the window as the cause, and it is
-// ErrCoverage for errors.Is.
+// ErrCoverage for errors.Is. msg is the text without the package prefix.
 type windowError struct{ msg string }
 
-func (e *windowError) Error() string        { return e.msg }
+func (e *windowError) Error() string        { return "unmix: " + e.msg }
+func (e *windowError) Unprefixed() string   { return e.msg }
 func (e *windowError) Is(target error) bool { return target == ErrCoverage }
 
 // Errors returned by NewModel and Solve, tested with errors.Is.

@@ -3,6 +3,7 @@ package unmix
 import (
 	"errors"
 	"fmt"
+	"huesolve/internal/pkgerr"
 	"math"
 	"slices"
 
@@ -96,7 +97,7 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 }
 
 // fail names the sample in err.
-func (sc *scan) fail(err error) error { return fmt.Errorf("unmix: %s: %w", sc.name, err) }
+func (sc *scan) fail(err error) error { return pkgerr.Errorf("unmix", "%s: %w", sc.name, err) }
 
 // Check tells whether s could be solved with factors f, without solving
 // it: its values are finite and its grid sound (spectrum.Check), the

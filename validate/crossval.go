@@ -2,8 +2,8 @@ package validate
 
 import (
 	"context"
-	"errors"
 	"fmt"
+	"huesolve/internal/pkgerr"
 	"math"
 	"slices"
 	"strings"
@@ -95,7 +95,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 		return nil, err
 	}
 	if len(sheet.Standards) < 2 {
-		return nil, fmt.Errorf("validate: %s: cross-validation needs at least two standards", sheet.Path)
+		return nil, pkgerr.Errorf("validate", "%s: cross-validation needs at least two standards", sheet.Path)
 	}
 	mopt := opt.Model
 	if mopt.Blank == nil {
@@ -104,7 +104,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 	if mopt.Blank == nil && len(sheet.Blanks) > 0 {
 		b, err := MeanBlank(sheet.Blanks)
 		if err != nil {
-			return nil, fmt.Errorf("validate: %s: %w", sheet.Path, err)
+			return nil, pkgerr.Errorf("validate", "%s: %w", sheet.Path, err)
 		}
 		mopt.Blank = b
 	}
@@ -113,9 +113,10 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 	folds := foldsOf(sheet.Standards, opt.ByLevel)
 	cv.Folds = len(folds)
 	var preds []Prediction
+	var failed foldErrors
 	for f, rows := range folds {
 		if err := ctx.Err(); err != nil {
-			return nil, fmt.Errorf("validate: cross-validation stopped after %d of %d folds: %w", f, len(folds), err)
+			return nil, pkgerr.Errorf("validate", "cross-validation stopped after %d of %d folds: %w", f, len(folds), err)
 		}
 		sub := *sheet
 		sub.Standards = nil
@@ -129,7 +130,9 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 			left = append(left, fmt.Sprintf("%s (line %d)", rowName(sheet.Standards[i]), sheet.Standards[i].Line))
 		}
 		fail := func(err error) {
-			cv.Failed = append(cv.Failed, fmt.Sprintf("leaving out %s: %v", strings.Join(left, ", "), err))
+			err = fmt.Errorf("leaving out %s: %w", strings.Join(left, ", "), err)
+			failed = append(failed, err)
+			cv.Failed = append(cv.Failed, err.Error())
 		}
 		fs, err := calibration.Build(&sub, opt.Build)
 		if err != nil {
@@ -172,7 +175,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 		preds = append(preds, fp...)
 	}
 	if len(preds) == 0 {
-		return nil, fmt.Errorf("validate: %s: every cross-validation fold failed: %w", sheet.Path, errors.New(strings.Join(cv.Failed, "; ")))
+		return nil, pkgerr.Errorf("validate", "%s: every cross-validation fold failed: %w", sheet.Path, failed)
 	}
 	slices.SortStableFunc(preds, func(a, b Prediction) int { return a.Line - b.Line })
 	cv.Predictions = preds
@@ -210,3 +213,18 @@ func foldsOf(rows []calibration.Row, byLevel bool) [][]int {
 	}
 	return folds
 }
+
+// foldErrors are the reasons of the failed folds, said one after the
+// other with "; " between them; each stays in the chain of wrapped errors
+// (errors.Is, pkgerr.Plain).
+type foldErrors []error
+
+func (e foldErrors) Error() string {
+	parts := make([]string, len(e))
+	for i, err := range e {
+		parts[i] = err.Error()
+	}
+	return strings.Join(parts, "; ")
+}
+
+func (e foldErrors) Unwrap() []error { return e }

@@ -1,8 +1,7 @@
 package validate
 
 import (
-	"errors"
-	"fmt"
+	"huesolve/internal/pkgerr"
 	"math"
 	"sort"
 
@@ -22,16 +21,16 @@ var maxCond = 1 / (math.Nextafter(1, 2) - 1)
 var (
 	// ErrNoNoise: the reference set carries no usable noise model and no
 	// noise level was given.
-	ErrNoNoise = errors.New("validate: the reference set has no noise model; give a noise level")
+	ErrNoNoise = pkgerr.New("validate", "the reference set has no noise model; give a noise level")
 	// ErrWindow: the window keeps too few usable wavelengths.
-	ErrWindow = errors.New("validate: too few usable wavelengths in the window")
+	ErrWindow = pkgerr.New("validate", "too few usable wavelengths in the window")
 	// ErrNotSelective: a compound cannot be told apart from the other
 	// compounds and baseline terms (see UnquantifiableError).
-	ErrNotSelective = errors.New("validate: compound cannot be told apart")
+	ErrNotSelective = pkgerr.New("validate", "compound cannot be told apart")
 	// ErrSVD: a singular value decomposition did not converge or gave
 	// a non-finite value, which LAPACK's does not on any finite matrix: a
 	// NaN or Inf reached the design.
-	ErrSVD = errors.New("validate: singular value decomposition did not converge (a value in the design is not finite)")
+	ErrSVD = pkgerr.New("validate", "singular value decomposition did not converge (a value in the design is not finite)")
 )
 
 // design is the fit design over one window: compound columns b·ε, the
@@ -64,10 +63,10 @@ func usableRows(set *reference.Set, lo, hi float64) []int {
 // one check of a set, reference.Set.Validate.
 func checkSet(set *reference.Set) error {
 	if set == nil {
-		return errors.New("validate: no reference set")
+		return pkgerr.New("validate", "no reference set")
 	}
 	if err := set.Validate(); err != nil {
-		return fmt.Errorf("validate: %w", err)
+		return pkgerr.Errorf("validate", "%w", err)
 	}
 	return nil
 }
@@ -83,7 +82,7 @@ func newDesign(set *reference.Set, loNM, hiNM float64, model baseline.Model, pat
 	}
 	ud, err := unmix.NewDesign(set, lo, hi, model, path)
 	if err != nil {
-		return nil, fmt.Errorf("validate: baseline model on %g-%g nm: %w", set.Grid[lo], set.Grid[hi-1], err)
+		return nil, pkgerr.Errorf("validate", "baseline model on %g-%g nm: %w", set.Grid[lo], set.Grid[hi-1], err)
 	}
 	if len(ud.Rows) == 0 {
 		return nil, ErrWindow

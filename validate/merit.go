@@ -3,6 +3,7 @@ package validate
 import (
 	"errors"
 	"fmt"
+	"huesolve/internal/pkgerr"
 	"math"
 	"strings"
 
@@ -105,8 +106,11 @@ type UnquantifiableError struct {
 	Reason      string
 }
 
-func (e *UnquantifiableError) Error() string {
-	return fmt.Sprintf("validate: %s cannot be quantified in %g-%g nm: %s (selectivity %.3g, below %g)",
+func (e *UnquantifiableError) Error() string { return "validate: " + e.Unprefixed() }
+
+// Unprefixed is the error's text without the package prefix.
+func (e *UnquantifiableError) Unprefixed() string {
+	return fmt.Sprintf("%s cannot be quantified in %g-%g nm: %s (selectivity %.3g, below %g)",
 		e.Compound, e.WindowLo, e.WindowHi, e.Reason, e.Selectivity, e.Threshold)
 }
 
@@ -151,7 +155,7 @@ func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 		path = set.PathCM
 	}
 	if !(path > 0) || math.IsInf(path, 0) {
-		return nil, fmt.Errorf("validate: path length %g cm is not a positive number", path)
+		return nil, pkgerr.Errorf("validate", "path length %g cm is not a positive number", path)
 	}
 	minSel := opt.MinSelectivity
 	if minSel == 0 {

@@ -4,6 +4,7 @@ import (
 	"context"
 	"errors"
 	"fmt"
+	"huesolve/internal/pkgerr"
 	"math"
 	"strings"
 
@@ -48,11 +49,11 @@ func (l Limits) withDefaults() (Limits, error) {
 	}
 	for _, v := range []float64{l.RecoveryLo, l.RecoveryHi, l.MaxRSD} {
 		if !(v > 0) || math.IsInf(v, 0) {
-			return l, fmt.Errorf("validate: acceptance limits must be positive numbers, not %g", v)
+			return l, pkgerr.Errorf("validate", "acceptance limits must be positive numbers, not %g", v)
 		}
 	}
 	if l.RecoveryLo >= l.RecoveryHi {
-		return l, fmt.Errorf("validate: recovery limits %g-%g %% are empty", l.RecoveryLo, l.RecoveryHi)
+		return l, pkgerr.Errorf("validate", "recovery limits %g-%g %% are empty", l.RecoveryLo, l.RecoveryHi)
 	}
 	return l, nil
 }
@@ -206,21 +207,21 @@ func Assess(names, units []string, checks []Check, lim Limits) (*Verification, e
 // non-finite known concentrations and non-finite results.
 func checkChecks(names []string, checks []Check) error {
 	if len(checks) == 0 {
-		return errors.New("validate: no check standards")
+		return pkgerr.New("validate", "no check standards")
 	}
 	n := len(names)
 	for _, c := range checks {
 		if len(c.Known) != n || len(c.Found) != n || len(c.SE) != n || len(c.LOQ) != n {
-			return fmt.Errorf("validate: check %s: %d known, %d found, %d SE, %d LOQ values for %d compounds",
+			return pkgerr.Errorf("validate", "check %s: %d known, %d found, %d SE, %d LOQ values for %d compounds",
 				c.Name, len(c.Known), len(c.Found), len(c.SE), len(c.LOQ), n)
 		}
 		for k := range n {
 			if v := c.Known[k]; !(v >= 0) || math.IsInf(v, 0) {
-				return fmt.Errorf("validate: check %s: known %s %g is not a non-negative number", c.Name, names[k], v)
+				return pkgerr.Errorf("validate", "check %s: known %s %g is not a non-negative number", c.Name, names[k], v)
 			}
 			for _, v := range []float64{c.Found[k], c.SE[k], c.LOQ[k]} {
 				if math.IsNaN(v) || math.IsInf(v, 0) {
-					return fmt.Errorf("validate: check %s: result for %s is not finite", c.Name, names[k])
+					return pkgerr.Errorf("validate", "check %s: result for %s is not finite", c.Name, names[k])
 				}
 			}
 		}
@@ -247,7 +248,7 @@ func assessCompound(name, unit string, k int, checks []Check, lim Limits) (Compo
 		if c.Known[k] > 0 {
 			r := 100 * c.Found[k] / c.Known[k]
 			if math.IsInf(r, 0) {
-				return cv, nil, fmt.Errorf("validate: check %s: known %s %g is too small for a recovery (100 × found %g / known overflows)",
+				return cv, nil, pkgerr.Errorf("validate", "check %s: known %s %g is too small for a recovery (100 × found %g / known overflows)",
 					c.Name, name, c.Known[k], c.Found[k])
 			}
 			row.Recovery = &r
@@ -284,7 +285,7 @@ func assessCompound(name, unit string, k int, checks []Check, lim Limits) (Compo
 func (cv *CompoundVerdict) judgeRecoveries(rec []float64, lim Limits) error {
 	mean, sd := meanSD(rec)
 	if math.IsInf(mean, 0) || math.IsNaN(sd) || math.IsInf(sd, 0) {
-		return fmt.Errorf("validate: %s: recoveries too large to average (known concentrations far below the results?)", cv.Compound)
+		return pkgerr.Errorf("validate", "%s: recoveries too large to average (known concentrations far below the results?)", cv.Compound)
 	}
 	cv.MeanRecovery = mean
 	if len(rec) >= 2 {
@@ -393,13 +394,13 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 	case len(sheet.Blanks) > 0:
 		b, err := MeanBlank(sheet.Blanks)
 		if err != nil {
-			return nil, fmt.Errorf("validate: %s: %w", sheet.Path, err)
+			return nil, pkgerr.Errorf("validate", "%s: %w", sheet.Path, err)
 		}
 		mopt.Blank = b
 		blank = fmt.Sprintf("mean of %d blank row(s) of %s", len(sheet.Blanks), sheet.Path)
 	}
 	if len(rows) == 0 {
-		return nil, fmt.Errorf("validate: %s: no check standards to judge", sheet.Path)
+		return nil, pkgerr.Errorf("validate", "%s: no check standards to judge", sheet.Path)
 	}
 	model, err := unmix.NewModel(set, mopt)
 	if err != nil {
@@ -408,11 +409,11 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 	var checks []Check
 	for _, r := range rows {
 		if err := ctx.Err(); err != nil {
-			return nil, fmt.Errorf("validate: stopped after %d of %d check standards: %w", len(checks), len(rows), err)
+			return nil, pkgerr.Errorf("validate", "stopped after %d of %d check standards: %w", len(checks), len(rows), err)
 		}
 		res, err := model.Solve(r.Scan, unmix.Factors{})
 		if err != nil {
-			return nil, fmt.Errorf("validate: %s:%d: check standard %s: %w", sheet.Path, r.Line, rowName(r), err)
+			return nil, pkgerr.Errorf("validate", "%s:%d: check standard %s: %w", sheet.Path, r.Line, rowName(r), err)
 		}
 		checks = append(checks, checkFrom(rowName(r), r.Conc, col, res))
 	}
@@ -475,17 +476,17 @@ func matchCompounds(set *reference.Set, sheet *calibration.Sheet) ([]int, error)
 	for k, c := range set.Compounds {
 		i, ok := idx[strings.ToLower(c.Name)]
 		if !ok {
-			return nil, fmt.Errorf("validate: %s has no column for compound %s of the reference set", sheet.Path, c.Name)
+			return nil, pkgerr.Errorf("validate", "%s has no column for compound %s of the reference set", sheet.Path, c.Name)
 		}
 		if i < len(sheet.Units) && sheet.Units[i] != "" && c.Unit != "" && sheet.Units[i] != c.Unit {
-			return nil, fmt.Errorf("validate: %s gives %s in %s but the reference set in %s", sheet.Path, c.Name, sheet.Units[i], c.Unit)
+			return nil, pkgerr.Errorf("validate", "%s gives %s in %s but the reference set in %s", sheet.Path, c.Name, sheet.Units[i], c.Unit)
 		}
 		col[k] = i
 		used[i] = true
 	}
 	for i, n := range sheet.Compounds {
 		if !used[i] {
-			return nil, fmt.Errorf("validate: %s names compound %s, which the reference set does not hold", sheet.Path, n)
+			return nil, pkgerr.Errorf("validate", "%s names compound %s, which the reference set does not hold", sheet.Path, n)
 		}
 	}
 	return col, nil

@@ -2,8 +2,8 @@ package validate
 
 import (
 	"encoding/json"
-	"errors"
 	"fmt"
+	"huesolve/internal/pkgerr"
 	"math"
 	"sort"
 	"strconv"
@@ -147,7 +147,7 @@ func percentOf(f float64) float64 {
 }
 
 // ErrNoWindow: no candidate window determines every compound.
-var ErrNoWindow = errors.New("validate: no window of the allowed widths tells every compound apart")
+var ErrNoWindow = pkgerr.New("validate", "no window of the allowed widths tells every compound apart")
 
 // AdviseWindow scans candidate windows [Lo, Hi] with edges every StepNM
 // over the usable grid, MinWidthNM <= Hi - Lo (<= MaxWidthNM if set), and
@@ -188,7 +188,7 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 		return nil, fmt.Errorf("%w: every wavelength is above the ceiling at the levels", ErrWindow)
 	}
 	if err := opt.Baseline.Check(ws.wl); err != nil {
-		return nil, fmt.Errorf("validate: baseline model: %w", err)
+		return nil, pkgerr.Errorf("validate", "baseline model: %w", err)
 	}
 	if err := ws.candidates(adv); err != nil {
 		return nil, err
@@ -223,7 +223,7 @@ func newWindowSearch(set *reference.Set, opt WindowOptions) (*windowSearch, *Win
 		ws.path = set.PathCM
 	}
 	if !(ws.path > 0) || math.IsInf(ws.path, 0) {
-		return nil, nil, fmt.Errorf("validate: path length %g cm is not a positive number", ws.path)
+		return nil, nil, pkgerr.Errorf("validate", "path length %g cm is not a positive number", ws.path)
 	}
 	if ws.step == 0 {
 		ws.step = DefaultStepNM
@@ -240,10 +240,10 @@ func newWindowSearch(set *reference.Set, opt WindowOptions) (*windowSearch, *Win
 	}
 	step, minW, maxW := ws.step, ws.minW, ws.maxW
 	if !(step > 0) || math.IsInf(step, 0) || !(minW > 0) || math.IsInf(minW, 0) || math.IsNaN(eq) || math.IsInf(eq, 0) {
-		return nil, nil, fmt.Errorf("validate: window step %g nm, minimum width %g nm and margin %g must be positive and finite", step, minW, eq)
+		return nil, nil, pkgerr.Errorf("validate", "window step %g nm, minimum width %g nm and margin %g must be positive and finite", step, minW, eq)
 	}
 	if maxW < 0 || math.IsNaN(maxW) || (maxW > 0 && maxW < minW) {
-		return nil, nil, fmt.Errorf("validate: maximum window width %g nm must be positive and at least the minimum %g nm", maxW, minW)
+		return nil, nil, pkgerr.Errorf("validate", "maximum window width %g nm must be positive and at least the minimum %g nm", maxW, minW)
 	}
 	levels, err := windowLevels(set, opt.Levels)
 	if err != nil {
@@ -344,7 +344,7 @@ func (ws *windowSearch) candidates(adv *WindowAdvice) error {
 				}
 			}
 			if err := work.evaluate(&cand, ws, ws.keep[r0:r1]); err != nil {
-				return fmt.Errorf("validate: window %g-%g nm: %w", lo, hi, err)
+				return pkgerr.Errorf("validate", "window %g-%g nm: %w", lo, hi, err)
 			}
 			if !cand.Singular {
 				for k := range cand.SE {
@@ -400,14 +400,14 @@ func rankWindows(adv *WindowAdvice) error {
 func windowLevels(set *reference.Set, given []float64) ([]float64, error) {
 	n := len(set.Compounds)
 	if given != nil && len(given) != n {
-		return nil, fmt.Errorf("validate: %d levels for %d compounds", len(given), n)
+		return nil, pkgerr.Errorf("validate", "%d levels for %d compounds", len(given), n)
 	}
 	out := make([]float64, n)
 	for k, c := range set.Compounds {
 		if given != nil && given[k] != 0 {
 			v := given[k]
 			if !(v > 0) || math.IsInf(v, 0) {
-				return nil, fmt.Errorf("validate: level %g of %s is not a positive number", v, c.Name)
+				return nil, pkgerr.Errorf("validate", "level %g of %s is not a positive number", v, c.Name)
 			}
 			out[k] = v
 			continue

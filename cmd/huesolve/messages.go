@@ -34,9 +34,9 @@ func noteTo(w io.Writer) func(string) {
 // packagePrefix matches the package prefixes of the libraries whose
 // errors do not yet mark their prefix with pkgerr (and the "build" step
 // of calibration) where a message or one of its wrapped parts begins.
-// spectrum, baseline and report mark theirs: pkgerr.Plain leaves them
-// out.
-var packagePrefix = regexp.MustCompile(`(^|: )(?:(?:calibration: build|calibration|reference|unmix|batch|lsq|validate|atomicfile|bytesize): )+`)
+// spectrum, baseline, report, unmix, unmix/lsq, batch and validate mark
+// theirs: pkgerr.Plain leaves them out.
+var packagePrefix = regexp.MustCompile(`(^|: )(?:(?:calibration: build|calibration|reference|atomicfile|bytesize): )+`)
 
 // userMessage is err as one readable line: package prefixes of the
 // libraries left out (pkgerr.Plain, then packagePrefix for the rest),

@@ -1,8 +1,8 @@
 package lsq
 
 import (
-	"errors"
 	"fmt"
+	"huesolve/internal/pkgerr"
 	"strconv"
 	"strings"
 )
@@ -111,16 +111,16 @@ var (
 	// ErrRankDeficient: two or more columns are (nearly) linearly
 	// dependent, so the coefficients are not determined. NewSolver returns
 	// it wrapped in a *RankError that names the columns.
-	ErrRankDeficient = errors.New("lsq: columns are linearly dependent")
+	ErrRankDeficient = pkgerr.New("lsq", "columns are linearly dependent")
 	// ErrNoConvergence: the active-set iteration hit its cap.
-	ErrNoConvergence = errors.New("lsq: active-set iteration did not converge")
+	ErrNoConvergence = pkgerr.New("lsq", "active-set iteration did not converge")
 	// ErrInaccurate: the KKT residual recomputed from the original data
 	// exceeds KKTTol (Status Inaccurate).
-	ErrInaccurate = errors.New("lsq: KKT certificate failed")
+	ErrInaccurate = pkgerr.New("lsq", "KKT certificate failed")
 	// ErrNonFinite: an input holds NaN or an infinity.
-	ErrNonFinite = errors.New("lsq: non-finite value")
+	ErrNonFinite = pkgerr.New("lsq", "non-finite value")
 	// ErrShape: slice or matrix sizes do not agree, or the design is empty.
-	ErrShape = errors.New("lsq: sizes do not agree")
+	ErrShape = pkgerr.New("lsq", "sizes do not agree")
 )
 
 // RankError reports a design whose columns are (nearly) linearly
@@ -136,9 +136,11 @@ type RankError struct {
 	Rows, Cols int
 }
 
-func (e *RankError) Error() string {
+func (e *RankError) Error() string { return "lsq: " + e.Unprefixed() }
+
+// Unprefixed is the error's text without the package prefix.
+func (e *RankError) Unprefixed() string {
 	var b strings.Builder
-	b.WriteString("lsq: ")
 	switch {
 	case e.Rows < e.Cols:
 		fmt.Fprintf(&b, "%d rows cannot determine %d coefficients", e.Rows, e.Cols)

@@ -2,6 +2,7 @@ package lsq
 
 import (
 	"fmt"
+	"huesolve/internal/pkgerr"
 	"math"
 
 	"gonum.org/v1/gonum/blas/blas64"
@@ -137,14 +138,14 @@ func (s *Solver) Conditioning() Conditioning {
 func Cond2(a mat.Matrix) (float64, error) {
 	n, p := a.Dims()
 	if n == 0 || p == 0 || n < p {
-		return 0, fmt.Errorf("lsq: condition number of a %d×%d matrix: %w", n, p, ErrShape)
+		return 0, pkgerr.Errorf("lsq", "condition number of a %d×%d matrix: %w", n, p, ErrShape)
 	}
 	data := make([]float64, n*p)
 	for i := range n {
 		for j := range p {
 			v := a.At(i, j)
 			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return 0, fmt.Errorf("lsq: row %d, column %d is %v: %w", i, j, v, ErrNonFinite)
+				return 0, pkgerr.Errorf("lsq", "row %d, column %d is %v: %w", i, j, v, ErrNonFinite)
 			}
 			data[i*p+j] = v
 		}
@@ -164,7 +165,7 @@ func Cond2(a mat.Matrix) (float64, error) {
 	}
 	var svd mat.SVD
 	if !svd.Factorize(r, mat.SVDNone) {
-		return 0, fmt.Errorf("lsq: singular value decomposition failed: %w", ErrRankDeficient)
+		return 0, pkgerr.Errorf("lsq", "singular value decomposition failed: %w", ErrRankDeficient)
 	}
 	sv := svd.Values(nil)
 	if sv[p-1] == 0 {

@@ -1,7 +1,7 @@
 package lsq
 
 import (
-	"fmt"
+	"huesolve/internal/pkgerr"
 	"math"
 
 	"gonum.org/v1/gonum/floats"
@@ -54,20 +54,20 @@ func (r *Result) size(n, p int) {
 func (s *Solver) Solve(dst *Result, y []float64) error {
 	f, ws := s.f, &s.ws
 	if f == nil {
-		return fmt.Errorf("lsq: solver has no design (failed Reset): %w", ErrShape)
+		return pkgerr.Errorf("lsq", "solver has no design (failed Reset): %w", ErrShape)
 	}
 	n, p, nf := f.n, f.p, f.nf
 	if len(y) != n {
-		return fmt.Errorf("lsq: y has %d rows, the design has %d: %w", len(y), n, ErrShape)
+		return pkgerr.Errorf("lsq", "y has %d rows, the design has %d: %w", len(y), n, ErrShape)
 	}
 	sumY := floats.Sum(y)
 	if math.IsNaN(sumY) || math.IsInf(sumY, 0) {
 		for i, v := range y {
 			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return fmt.Errorf("lsq: row %d of y is %v: %w", i, v, ErrNonFinite)
+				return pkgerr.Errorf("lsq", "row %d of y is %v: %w", i, v, ErrNonFinite)
 			}
 		}
-		return fmt.Errorf("lsq: sum of y overflows: %w", ErrNonFinite)
+		return pkgerr.Errorf("lsq", "sum of y overflows: %w", ErrNonFinite)
 	}
 	dst.size(n, p)
 
@@ -123,7 +123,7 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 	// Residual statistics.
 	s.stats(dst, y, sumY/float64(n))
 	if math.IsInf(ws.ywss, 0) {
-		return fmt.Errorf("lsq: sum of squares of y overflows: %w", ErrNonFinite)
+		return pkgerr.Errorf("lsq", "sum of squares of y overflows: %w", ErrNonFinite)
 	}
 	dst.DoF = n - len(passive)
 
@@ -150,10 +150,10 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 	switch {
 	case capped:
 		dst.Status = IterLimit
-		return fmt.Errorf("lsq: %d iterations: %w", iter, ErrNoConvergence)
+		return pkgerr.Errorf("lsq", "%d iterations: %w", iter, ErrNoConvergence)
 	case !(dst.KKT <= KKTTol):
 		dst.Status = Inaccurate
-		return fmt.Errorf("lsq: relative KKT residual %.3g exceeds %.3g: %w", dst.KKT, KKTTol, ErrInaccurate)
+		return pkgerr.Errorf("lsq", "relative KKT residual %.3g exceeds %.3g: %w", dst.KKT, KKTTol, ErrInaccurate)
 	}
 	dst.Status = Converged
 	return nil

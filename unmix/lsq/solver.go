@@ -1,7 +1,7 @@
 package lsq
 
 import (
-	"fmt"
+	"huesolve/internal/pkgerr"
 	"math"
 	"slices"
 	"sync/atomic"
@@ -222,16 +222,16 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 func (f *factor) load(x *mat.Dense, nonneg []bool, opt Options) error {
 	n, p := x.Dims()
 	if n == 0 || p == 0 {
-		return fmt.Errorf("lsq: empty design (%d×%d): %w", n, p, ErrShape)
+		return pkgerr.Errorf("lsq", "empty design (%d×%d): %w", n, p, ErrShape)
 	}
 	if len(nonneg) != p {
-		return fmt.Errorf("lsq: %d constraint flags for %d columns: %w", len(nonneg), p, ErrShape)
+		return pkgerr.Errorf("lsq", "%d constraint flags for %d columns: %w", len(nonneg), p, ErrShape)
 	}
 	if opt.Sigma != nil && len(opt.Sigma) != n {
-		return fmt.Errorf("lsq: %d sigma values for %d rows: %w", len(opt.Sigma), n, ErrShape)
+		return pkgerr.Errorf("lsq", "%d sigma values for %d rows: %w", len(opt.Sigma), n, ErrShape)
 	}
 	if opt.Tol < 0 || math.IsNaN(opt.Tol) || opt.MaxIter < 0 {
-		return fmt.Errorf("lsq: negative tolerance or iteration cap: %w", ErrShape)
+		return pkgerr.Errorf("lsq", "negative tolerance or iteration cap: %w", ErrShape)
 	}
 	f.n, f.p = n, p
 	f.nonneg = grow(f.nonneg, p)
@@ -241,7 +241,7 @@ func (f *factor) load(x *mat.Dense, nonneg []bool, opt Options) error {
 		row := x.RawRowView(i)
 		for j, v := range row {
 			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return fmt.Errorf("lsq: design row %d, column %d is %v: %w", i, j, v, ErrNonFinite)
+				return pkgerr.Errorf("lsq", "design row %d, column %d is %v: %w", i, j, v, ErrNonFinite)
 			}
 			f.x[j*n+i] = v
 		}
@@ -252,7 +252,7 @@ func (f *factor) load(x *mat.Dense, nonneg []bool, opt Options) error {
 		f.invSigma = grow(f.invSigma, n)
 		for i, s := range opt.Sigma {
 			if !(s > 0) || math.IsInf(s, 0) {
-				return fmt.Errorf("lsq: sigma of row %d is %v, want positive and finite: %w", i, s, ErrNonFinite)
+				return pkgerr.Errorf("lsq", "sigma of row %d is %v, want positive and finite: %w", i, s, ErrNonFinite)
 			}
 			f.invSigma[i] = 1 / s
 		}
@@ -284,7 +284,7 @@ func (f *factor) scaleColumns() error {
 			d = floats.Norm(col, 2)
 		}
 		if math.IsInf(d, 0) || math.IsNaN(d) {
-			return fmt.Errorf("lsq: column %d overflows when weighted by 1/sigma: %w", j, ErrNonFinite)
+			return pkgerr.Errorf("lsq", "column %d overflows when weighted by 1/sigma: %w", j, ErrNonFinite)
 		}
 		if d == 0 {
 			return &RankError{Columns: []int{j}, Cond: math.Inf(1), Rows: n, Cols: p}
@@ -368,7 +368,7 @@ func (f *factor) singularValues() error {
 	}
 	copy(f.svA, f.r)
 	if !lapack64.Gesvd(lapack.SVDNone, lapack.SVDNone, blas64.General{Rows: p, Cols: p, Stride: p, Data: f.svA}, none, none, f.sv, f.work, len(f.work)) {
-		return fmt.Errorf("lsq: singular value decomposition of the design failed: %w", ErrRankDeficient)
+		return pkgerr.Errorf("lsq", "singular value decomposition of the design failed: %w", ErrRankDeficient)
 	}
 	sv := f.sv
 	f.normXs = sv[0]
@@ -474,7 +474,7 @@ func (f *factor) rankError() error {
 	n, p := f.n, f.p
 	var svd mat.SVD
 	if !svd.Factorize(mat.NewDense(p, p, slices.Clone(f.r)), mat.SVDThinV) {
-		return fmt.Errorf("lsq: singular value decomposition of the design failed: %w", ErrRankDeficient)
+		return pkgerr.Errorf("lsq", "singular value decomposition of the design failed: %w", ErrRankDeficient)
 	}
 	sv := svd.Values(nil)
 	var v mat.Dense
