@@ -81,10 +81,11 @@ var legend = []struct {
 	{FlagNoConverge, true, "fit not certified optimal (iteration cap or KKT check)"},
 }
 
-// Warning reports whether f calls for a chemist's attention (a sample
+// IsWarning reports whether f calls for a chemist's attention (a sample
 // carrying such a flag counts as flagged). Notes such as FlagZero or
-// FlagShift describe an ordinary result.
-func (f Flag) Warning() bool {
+// FlagShift describe an ordinary result. A code that is not a sample or
+// amount flag counts as a warning.
+func IsWarning(f Flag) bool {
 	for _, l := range legend {
 		if l.f == f {
 			return l.warn
@@ -93,8 +94,8 @@ func (f Flag) Warning() bool {
 	return true
 }
 
-// Meaning returns the legend text of f.
-func (f Flag) Meaning() string {
+// Meaning returns the legend text of the sample or amount flag f.
+func Meaning(f Flag) string {
 	for _, l := range legend {
 		if l.f == f {
 			return l.text
@@ -121,10 +122,10 @@ func Legend(fs ...Flag) string {
 	var b strings.Builder
 	for _, f := range fs {
 		mark := " "
-		if f.Warning() {
+		if IsWarning(f) {
 			mark = "!"
 		}
-		fmt.Fprintf(&b, "  %-9s %s %s\n", f, mark, f.Meaning())
+		fmt.Fprintf(&b, "  %-9s %s %s\n", f, mark, Meaning(f))
 	}
 	return b.String()
 }
@@ -133,13 +134,13 @@ func Legend(fs ...Flag) string {
 // warning flag.
 func (r *Result) Flagged() bool {
 	for _, f := range r.Flags {
-		if f.Warning() {
+		if IsWarning(f) {
 			return true
 		}
 	}
 	for _, a := range r.Amounts {
 		for _, f := range a.Flags {
-			if f.Warning() {
+			if IsWarning(f) {
 				return true
 			}
 		}

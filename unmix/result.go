@@ -1,7 +1,11 @@
 package unmix
 
-// Flag is a quality flag on a sample or on one compound's amount.
-type Flag string
+import "huesolve/reference"
+
+// Flag is a quality flag on a sample or on one compound's amount: the
+// one flag type of the reference set's compounds, the samples and the
+// check results.
+type Flag = reference.Flag
 
 // Amount is one compound's concentration in a sample. All concentrations
 // are in the reference set's unit, scaled to the original sample

@@ -72,7 +72,7 @@ type Check struct {
 	// result (the sample's and the compound's own), shown with the row:
 	// a recovery from an ill-conditioned or misfitting solve is not to
 	// be trusted as it stands.
-	Flags [][]string
+	Flags [][]unmix.Flag
 	// Zero, if not nil, marks per compound a result the non-negativity
 	// constraint holds at zero (unmix.FlagZero).
 	Zero []bool
@@ -99,7 +99,7 @@ type CheckRow struct {
 	Pass bool `json:"pass"`
 	// Flags are the warning flags of the result (see package unmix),
 	// e.g. "illcond" or "misfit"; they do not change Pass.
-	Flags []string `json:"flags,omitempty"`
+	Flags []unmix.Flag `json:"flags,omitempty"`
 	// HeldAtZero: the non-negativity constraint holds the result at zero
 	// (the compound is not seen; Found and SE are 0).
 	HeldAtZero bool `json:"held_at_zero,omitempty"`
@@ -432,7 +432,7 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 func checkFrom(name string, conc []float64, col []int, res *unmix.Result) Check {
 	n := len(col)
 	c := Check{Name: name, Known: make([]float64, n), Found: make([]float64, n), SE: make([]float64, n), LOQ: make([]float64, n),
-		Flags: make([][]string, n), Zero: make([]bool, n)}
+		Flags: make([][]unmix.Flag, n), Zero: make([]bool, n)}
 	for k := range n {
 		c.Known[k] = conc[col[k]]
 		a := res.Amounts[k]
@@ -440,8 +440,8 @@ func checkFrom(name string, conc []float64, col []int, res *unmix.Result) Check 
 		c.Zero[k] = a.HasFlag(unmix.FlagZero)
 		for _, fs := range [][]unmix.Flag{res.Flags, a.Flags} {
 			for _, f := range fs {
-				if f.Warning() {
-					c.Flags[k] = append(c.Flags[k], string(f))
+				if unmix.IsWarning(f) {
+					c.Flags[k] = append(c.Flags[k], f)
 				}
 			}
 		}
