@@ -9,7 +9,6 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"huesolve/internal/pkgerr"
 	"os"
 	"path/filepath"
 	"runtime"
@@ -17,6 +16,7 @@ import (
 	"strings"
 	"sync"
 
+	"huesolve/internal/pkgerr"
 	"huesolve/spectrum"
 	"huesolve/unmix"
 )

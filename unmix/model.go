@@ -2,7 +2,6 @@ package unmix
 
 import (
 	"fmt"
-	"huesolve/internal/pkgerr"
 	"math"
 	"slices"
 
@@ -10,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix/lsq"

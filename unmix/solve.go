@@ -3,11 +3,11 @@ package unmix
 import (
 	"errors"
 	"fmt"
-	"huesolve/internal/pkgerr"
 	"math"
 	"slices"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/spectrum"
 	"huesolve/unmix/lsq"
 )

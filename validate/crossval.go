@@ -3,12 +3,12 @@ package validate
 import (
 	"context"
 	"fmt"
-	"huesolve/internal/pkgerr"
 	"math"
 	"slices"
 	"strings"
 
 	"huesolve/calibration"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/unmix"
 )

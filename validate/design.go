@@ -1,7 +1,6 @@
 package validate
 
 import (
-	"huesolve/internal/pkgerr"
 	"math"
 	"sort"
 
@@ -9,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/unmix"
 	"huesolve/unmix/lsq"

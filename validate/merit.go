@@ -3,13 +3,13 @@ package validate
 import (
 	"errors"
 	"fmt"
-	"huesolve/internal/pkgerr"
 	"math"
 	"strings"
 
 	"gonum.org/v1/gonum/floats"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/unmix"
 )

@@ -4,11 +4,11 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"huesolve/internal/pkgerr"
 	"math"
 	"strings"
 
 	"huesolve/calibration"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix"

@@ -3,7 +3,6 @@ package validate
 import (
 	"encoding/json"
 	"fmt"
-	"huesolve/internal/pkgerr"
 	"math"
 	"sort"
 	"strconv"
@@ -12,6 +11,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/unmix"
 	"huesolve/unmix/lsq"

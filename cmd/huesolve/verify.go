@@ -4,12 +4,12 @@ import (
 	"context"
 	"errors"
 	"fmt"
-	"huesolve/internal/pkgerr"
 	"io"
 
 	"github.com/spf13/cobra"
 
 	"huesolve/calibration"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/spectrum"

@@ -2,9 +2,10 @@ package lsq
 
 import (
 	"fmt"
-	"huesolve/internal/pkgerr"
 	"strconv"
 	"strings"
+
+	"huesolve/internal/pkgerr"
 )
 
 // Status tells how a solve ended.

@@ -2,12 +2,13 @@ package lsq
 
 import (
 	"fmt"
-	"huesolve/internal/pkgerr"
 	"math"
 
 	"gonum.org/v1/gonum/blas/blas64"
 	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
+
+	"huesolve/internal/pkgerr"
 )
 
 // Verdict grades a conditioning figure.

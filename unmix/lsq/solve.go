@@ -1,11 +1,12 @@
 package lsq
 
 import (
-	"huesolve/internal/pkgerr"
 	"math"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"huesolve/internal/pkgerr"
 )
 
 // Confidence is the two-sided coverage of the intervals in Result.Lo, Hi.

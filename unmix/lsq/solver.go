@@ -1,7 +1,6 @@
 package lsq
 
 import (
-	"huesolve/internal/pkgerr"
 	"math"
 	"slices"
 	"sync/atomic"
@@ -11,6 +10,8 @@ import (
 	"gonum.org/v1/gonum/lapack"
 	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
+
+	"huesolve/internal/pkgerr"
 )
 
 // Tolerances and limits. Each bounds the quantity named in its comment.
