@@ -36,7 +36,7 @@ unmix/lsq | solve.go | dst\.Coef\[j\] = bs\[k\] / f\.d\[j\] | dst.Coef[j] = NAN 
 unmix/lsq | solve.go | dst\.RSS = rss\b | dst.RSS = NAN * rss | TestSciPyNNLS
 unmix/lsq | cond.go | return sv\[0\] / sv\[p-1\], nil | return NAN * sv[0] / sv[p-1], nil | TestDesignCond
 unmix/lsq | cond.go | return sv\[0\] / sv\[p-1\], nil | return NAN * sv[0] / sv[p-1], nil | TestHilbertCond
-unmix/lsq | fit.go | lf\.ChiSqLimit = distuv | lf.ChiSqLimit = NAN * distuv | TestLackOfFit
+unmix/lsq | fit.go | lf\.chiSqLimit = distuv | lf.chiSqLimit = NAN * distuv | TestLackOfFit
 baseline | sg.go | return f\.WeightsAt\(0\), nil | w := f.WeightsAt(0); w[len(w)/2] = NAN; return w, nil | TestWeightsPublished
 baseline | sg.go | return f\.WeightsAt\(0\), nil | w := f.WeightsAt(0); w[len(w)/2] = NAN; return w, nil | TestSciPy
 baseline | sg.go | dst\[j\] = dot\(centre, | dst[j] = NAN * dot(centre, | TestSciPy

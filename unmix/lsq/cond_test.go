@@ -67,7 +67,7 @@ const (
 	hilbertEps   = 1.0
 )
 
-// TestHilbertCond checks Cond2 (QR, then SVD of R) against the 2-norm
+// TestHilbertCond checks cond2 (QR, then SVD of R) against the 2-norm
 // condition numbers of Hilbert matrices of order 3 to 8 in
 // testdata/hilbert/conditioning.md.
 func TestHilbertCond(t *testing.T) {
@@ -77,7 +77,7 @@ func TestHilbertCond(t *testing.T) {
 		if !ok {
 			t.Fatalf("no table value for n = %d", n)
 		}
-		got, err := Cond2(hilbert(n))
+		got, err := cond2(hilbert(n))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -98,8 +98,8 @@ func TestHilbertCond(t *testing.T) {
 	t.Log(err)
 }
 
-// TestSolverCondScaled: Solver.Cond is Cond2 of the weighted design with
-// unit-norm columns; with unit columns and no weights it equals Cond2.
+// TestSolverCondScaled: Solver.Cond is cond2 of the weighted design with
+// unit-norm columns; with unit columns and no weights it equals cond2.
 func TestSolverCondScaled(t *testing.T) {
 	h := hilbert(6)
 	sigma := []float64{1, 2, 0.5, 1, 3, 1}
@@ -119,7 +119,7 @@ func TestSolverCondScaled(t *testing.T) {
 			scaled.Set(i, j, h.At(i, j)/sigma[i]/nrm)
 		}
 	}
-	want, err := Cond2(scaled)
+	want, err := cond2(scaled)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -210,31 +210,6 @@ func TestVIFLeakage(t *testing.T) {
 		}
 		if math.Abs(leak[j]-want) > 1e-12 {
 			t.Errorf("Leakage[%d] = %.12g, want %.12g", j, leak[j], want)
-		}
-	}
-	c := s.Conditioning()
-	t.Logf("cond %.4g, VIF %.4g, leakage %.4g, verdict %v", c.Cond, c.VIF, c.Leakage, c.Verdict)
-}
-
-func TestVerdicts(t *testing.T) {
-	for _, c := range []struct {
-		got, want Verdict
-	}{
-		{CondVerdict(1), Sound},
-		{CondVerdict(CondWarn), Sound},
-		{CondVerdict(CondWarn * 1.01), Warn},
-		{CondVerdict(CondRefuse * 1.01), Refuse},
-		{CondVerdict(math.Inf(1)), Refuse},
-		{CondVerdict(math.NaN()), Refuse},
-		{VIFVerdict(1), Sound},
-		{VIFVerdict(11), Warn},
-		{VIFVerdict(1e4), Refuse},
-		{LeakageVerdict(1), Sound},
-		{LeakageVerdict(0.4), Warn},
-		{LeakageVerdict(0.01), Refuse},
-	} {
-		if c.got != c.want {
-			t.Errorf("verdict %v, want %v", c.got, c.want)
 		}
 	}
 }

@@ -75,8 +75,9 @@
 //	DW = sum_(i=2..n) (e_i - e_(i-1))^2 / sum_i e_i^2,   e_i = r_i / sigma_i,
 //
 // over row order (Durbin & Watson, Biometrika 37, 1950), and the band of
-// [BandWidth] rows with the largest mean squared e_i. [Result.LackOfFit]
-// turns DW and the reduced chi-square into a verdict.
+// [BandWidth] rows with the largest mean squared e_i. [DWSevere] and
+// [ChiSqSevere] are the limits the callers compare DW and the reduced
+// chi-square with.
 //
 // # Cost
 //
@@ -95,8 +96,8 @@
 // of each column of X_s, diag((X_s'X_s)^-1), the uncentred form (each
 // column against all others, the free ones included), and [Solver.Leakage]
 // ||P s_k|| / ||s_k||, which is 1/sqrt of the VIF of s_k against the free
-// block alone. [CondVerdict], [VIFVerdict] and [LeakageVerdict] compare them
-// with documented thresholds.
+// block alone. [CondWarn], [CondRefuse] and [LeakageWarn] are the limits
+// the callers compare them with.
 //
 // # Workspaces and concurrency
 //

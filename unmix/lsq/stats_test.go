@@ -352,21 +352,21 @@ func TestLackOfFit(t *testing.T) {
 	if err := s.Solve(&res, y); err != nil {
 		t.Fatal(err)
 	}
-	lf := res.LackOfFit()
+	lf := res.lackOfFit()
 	const chi2Upper1pct20 = 37.56623478662507
 	// chi2LimitTol bounds the relative difference from SciPy's quantile.
 	// Measured: 5.7e-16; the bound leaves a factor of about 175.
 	const chi2LimitTol = 1e-13
-	d := near.Rel(t, "20 x chi-square limit for 20 DoF (SciPy chi2.ppf(0.99, 20))", lf.ChiSqLimit*20, chi2Upper1pct20, chi2LimitTol)
+	d := near.Rel(t, "20 x chi-square limit for 20 DoF (SciPy chi2.ppf(0.99, 20))", lf.chiSqLimit*20, chi2Upper1pct20, chi2LimitTol)
 	t.Logf("chi-square limit: relative difference %.2g", d)
-	if lf.Verdict != Sound {
+	if lf.structured || lf.excess {
 		t.Errorf("white noise: %+v (DW %g, chi2 %g)", lf, res.DW, res.ChiSqRed)
 	}
 	if err := s.Solve(&res, missing); err != nil {
 		t.Fatal(err)
 	}
-	lf = res.LackOfFit()
-	if lf.Verdict != Refuse || !lf.Excess || !lf.Structured {
+	lf = res.lackOfFit()
+	if !lf.excess || !lf.structured || !(res.DW < DWSevere || res.ChiSqRed > ChiSqSevere) {
 		t.Errorf("missing component: %+v (DW %g, chi2 %g)", lf, res.DW, res.ChiSqRed)
 	}
 	if res.WorstHi < 16 {
