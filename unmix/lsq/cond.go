@@ -37,19 +37,19 @@ const (
 // cond2 returns the 2-norm condition number sigma_max / sigma_min of a
 // (rows >= columns), without any scaling, computed as the Solver does:
 // Householder QR, then the singular values of the triangular factor. It
-// returns +Inf for a rank-deficient a and an error wrapping ErrShape or
-// ErrNonFinite for a wide or empty a or non-finite entries.
+// returns +Inf for a rank-deficient a and an error wrapping errShape or
+// errNonFinite for a wide or empty a or non-finite entries.
 func cond2(a mat.Matrix) (float64, error) {
 	n, p := a.Dims()
 	if n == 0 || p == 0 || n < p {
-		return 0, pkgerr.Errorf("lsq", "condition number of a %d×%d matrix: %w", n, p, ErrShape)
+		return 0, pkgerr.Errorf("lsq", "condition number of a %d×%d matrix: %w", n, p, errShape)
 	}
 	data := make([]float64, n*p)
 	for i := range n {
 		for j := range p {
 			v := a.At(i, j)
 			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return 0, pkgerr.Errorf("lsq", "row %d, column %d is %v: %w", i, j, v, ErrNonFinite)
+				return 0, pkgerr.Errorf("lsq", "row %d, column %d is %v: %w", i, j, v, errNonFinite)
 			}
 			data[i*p+j] = v
 		}

@@ -140,11 +140,10 @@ func TestSolverCondScaled(t *testing.T) {
 	}
 }
 
-// TestVIFLeakage checks VIF, sensitivity and leakage against their definitions computed
-// independently with gonum: VIF_j = 1/(1 - R_j^2), R_j^2 the uncentred
-// fraction of x_j explained by the other columns (least squares by
-// mat.QR), and leakage ||x_k - proj_free x_k|| / ||x_k||.
-func TestVIFLeakage(t *testing.T) {
+// TestLeakage checks the leakage against its definition computed
+// independently with gonum, ||x_k - proj_free x_k|| / ||x_k|| (least
+// squares by mat.QR).
+func TestLeakage(t *testing.T) {
 	const n = 30
 	x := mat.NewDense(n, 4, nil)
 	for i := range n {
@@ -159,7 +158,7 @@ func TestVIFLeakage(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	vif, leak := s.VIF(), s.Leakage()
+	leak := s.Leakage()
 	explained := func(j int, others []int) float64 {
 		sub := mat.NewDense(n, len(others), nil)
 		for c, k := range others {
@@ -177,31 +176,6 @@ func TestVIFLeakage(t *testing.T) {
 		fit.MulVec(sub, &b)
 		fit.SubVec(col, &fit)
 		return mat.Dot(&fit, &fit) / mat.Dot(col, col) // unexplained fraction
-	}
-	for j := range 4 {
-		var others []int
-		for k := range 4 {
-			if k != j {
-				others = append(others, k)
-			}
-		}
-		want := 1 / explained(j, others)
-		if math.Abs(vif[j]-want) > 1e-9*want {
-			t.Errorf("VIF[%d] = %.12g, want %.12g", j, vif[j], want)
-		}
-	}
-	sen := s.Sensitivity()
-	for j := range 4 {
-		var others []int
-		for k := range 4 {
-			if k != j {
-				others = append(others, k)
-			}
-		}
-		want := mat.Norm(x.ColView(j), 2) * math.Sqrt(explained(j, others))
-		if math.Abs(sen[j]-want) > 1e-9*want {
-			t.Errorf("Sensitivity[%d] = %.12g, want %.12g", j, sen[j], want)
-		}
 	}
 	for j := range 4 {
 		want := 1.0

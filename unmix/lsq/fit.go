@@ -25,18 +25,18 @@ const lofAlpha = 0.01
 type lofTests struct {
 	// structured: DW is below dwLimit, so neighbouring residuals are
 	// correlated: an unmodelled component, a shift or a poor baseline
-	// model. WorstLo..WorstHi of the Result shows where to look.
+	// model. worstLo..worstHi of the Result shows where to look.
 	structured bool
 	// dwLimit is 2 - z(1-lofAlpha) * 2/sqrt(n), the lower one-sided limit
 	// of DW under independent residuals from the large-sample normal
 	// approximation DW ~ N(2, 4/n) (Durbin & Watson, Biometrika 1950-51;
 	// recalled from memory).
 	dwLimit float64
-	// excess: ChiSqRed is above chiSqLimit: the residual is larger than
+	// excess: chiSqRed is above chiSqLimit: the residual is larger than
 	// the stated noise (an unmodelled component, or noise understated).
 	excess bool
 	// chiSqLimit is the upper lofAlpha point of chi-square(DoF)/DoF
-	// (gonum distuv); NaN when ChiSqRed is NaN (noise unknown or DoF 0).
+	// (gonum distuv); NaN when chiSqRed is NaN (noise unknown or DoF 0).
 	chiSqLimit float64
 }
 
@@ -52,10 +52,10 @@ func (r *Result) lackOfFit() lofTests {
 		lf.dwLimit = 2 - z*2/math.Sqrt(float64(n))
 		lf.structured = r.DW < lf.dwLimit
 	}
-	if !math.IsNaN(r.ChiSqRed) && r.DoF > 0 {
+	if !math.IsNaN(r.chiSqRed) && r.DoF > 0 {
 		k := float64(r.DoF)
 		lf.chiSqLimit = distuv.ChiSquared{K: k}.Quantile(1-lofAlpha) / k
-		lf.excess = r.ChiSqRed > lf.chiSqLimit
+		lf.excess = r.chiSqRed > lf.chiSqLimit
 	}
 	return lf
 }
