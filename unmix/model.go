@@ -29,7 +29,7 @@ type shared struct {
 	rows0   []int       // usable window rows (reference set's Usable): design.Rows
 	cols    [][]float64 // design columns on the window (compounds, then baseline): design.Cols
 	dcols   [][]float64 // d/dl of compound columns on the window (shift only)
-	nonneg  []bool      // design.NonNeg
+	nonneg  []bool      // design.nonNeg
 	ncomp   int
 	names   []string  // baseline term names
 	noise   []float64 // floored calibration noise on the window (reference.Set.NoiseFloor)
@@ -103,19 +103,19 @@ type scratch struct {
 }
 
 // NewModel checks the options against the set and builds the design. It
-// returns an error wrapping ErrSet for an inconsistent set
+// returns an error wrapping errSet for an inconsistent set
 // (reference.Set.Validate), ErrCoverage for a window or blank outside the
 // set's grid, and the solver's error when the design's columns are
 // linearly dependent.
 func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	if set == nil {
-		return nil, pkgerr.Errorf("unmix", "%w: nil set", ErrSet)
+		return nil, pkgerr.Errorf("unmix", "%w: nil set", errSet)
 	}
 	if err := set.Validate(); err != nil {
-		return nil, pkgerr.Errorf("unmix", "%w: %w", ErrSet, err)
+		return nil, pkgerr.Errorf("unmix", "%w: %w", errSet, err)
 	}
 	if len(set.Noise) == 0 {
-		return nil, pkgerr.Errorf("unmix", "%w: the set has no noise model", ErrSet)
+		return nil, pkgerr.Errorf("unmix", "%w: the set has no noise model", errSet)
 	}
 	sh := &shared{set: set, opt: opt, grid: set.Grid, ncomp: len(set.Compounds)}
 	if err := sh.limits(); err != nil {
@@ -157,7 +157,7 @@ func (sh *shared) limits() error {
 		sh.ceiling = set.Ceiling
 	}
 	if sh.ceiling == 0 {
-		sh.ceiling = DefaultCeiling
+		sh.ceiling = defaultCeiling
 	}
 	if !(sh.ceiling > 0) || math.IsInf(sh.ceiling, 0) {
 		return pkgerr.Errorf("unmix", "the absorbance ceiling must be positive, not %g", sh.ceiling)
@@ -227,7 +227,7 @@ func (sh *shared) columns() error {
 		return pkgerr.Errorf("unmix", "%w", err)
 	}
 	sh.design = d
-	sh.rows0, sh.cols, sh.nonneg, sh.names = d.Rows, d.Cols, d.NonNeg, d.Terms
+	sh.rows0, sh.cols, sh.nonneg, sh.names = d.Rows, d.Cols, d.nonNeg, d.Terms
 	for _, c := range set.Compounds {
 		sh.maxStd = append(sh.maxStd, upperLimit(c))
 		sh.fullNorm = append(sh.fullNorm, floats.Norm(c.Absorptivity, 2)*set.PathCM)
@@ -308,20 +308,6 @@ func (m *Model) Window() []float64 { return slices.Clone(m.sh.grid[m.sh.lo:m.sh.
 // Excluded is the number of window points left out for every sample
 // because a compound's absorptivity is not known there.
 func (m *Model) Excluded() int { return m.sh.hi - m.sh.lo - len(m.sh.rows0) }
-
-// Cond is the condition number of the unweighted design on all usable
-// window points.
-func (m *Model) Cond() float64 { return m.sh.base.cond }
-
-// Leakage is, per compound, the fraction of its spectrum's norm the
-// baseline terms cannot imitate (1: none can, 0: all can).
-func (m *Model) Leakage() []float64 { return slices.Clone(m.sh.base.leak[:m.sh.ncomp]) }
-
-// Ceiling is the absorbance ceiling in use.
-func (m *Model) Ceiling() float64 { return m.sh.ceiling }
-
-// Options returns the options with defaults filled in.
-func (m *Model) Options() Options { return m.opt }
 
 // setBlank converts the blank to absorbance and checks its range.
 func (sh *shared) setBlank(b *spectrum.Spectrum) error {

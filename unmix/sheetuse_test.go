@@ -12,7 +12,7 @@ import (
 // one the sheet does not name takes zero factors and is listed; rows no
 // sample matched are listed in sheet order.
 func TestSheetUse(t *testing.T) {
-	sh, err := ParseSampleSheet(strings.NewReader("sample,dilution\nb,2\na,4\nc,8\n"), "ss.csv")
+	sh, err := parseSampleSheet(strings.NewReader("sample,dilution\nb,2\na,4\nc,8\n"), "ss.csv")
 	if err != nil {
 		t.Fatal(err)
 	}

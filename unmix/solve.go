@@ -67,7 +67,7 @@ func (m *Model) Solve(s *spectrum.Spectrum, f Factors) (*Result, error) {
 // the shift limit when a shift is estimated) and in any quantity; points
 // with a transmittance of zero or below count as above the ceiling.
 // Errors name the sample: ErrCoverage when the scan does not cover the
-// needed range (both ranges are named), ErrTooDark when too few points are
+// needed range (both ranges are named), errTooDark when too few points are
 // below the ceiling (with a dilution to try), ErrFactor for a bad
 // dilution or path length. A fit that hits the iteration cap is not an
 // error: it is flagged FlagNoConverge.
@@ -142,7 +142,7 @@ func (m *Model) prepare(s *spectrum.Spectrum, f Factors) (scan, error) {
 
 // read turns the scan into absorbance on the work grid (sc.raw, sc.net)
 // and finds the window rows at or below the ceiling (sc.rows, sc.key) and
-// the readings too dark to convert; it returns ErrTooDark when too few
+// the readings too dark to convert; it returns errTooDark when too few
 // rows remain to fit.
 func (m *Model) read(sc *scan) error {
 	sh, b := m.sh, &m.buf
@@ -165,7 +165,7 @@ func (m *Model) read(sc *scan) error {
 			dark = fmt.Sprintf(" (%s: %d of them read 0 %%T or below, from %g nm: too dark to read)", sc.s.Source.File, sc.darkPts, sc.darkNM)
 		}
 		return fmt.Errorf("%w: %d of %d points are above the ceiling A = %g%s; %s",
-			ErrTooDark, sc.dropped, len(sh.rows0), sh.ceiling, dark, m.diluteHint(sc))
+			errTooDark, sc.dropped, len(sh.rows0), sh.ceiling, dark, m.diluteHint(sc))
 	}
 	return nil
 }
@@ -282,7 +282,7 @@ func (m *Model) designFor(sc *scan) (*design, error) {
 	if err != nil {
 		if errors.Is(err, errRank) {
 			return nil, fmt.Errorf("%w: with %d of %d points above the ceiling A = %g left out, the rest cannot tell the compounds apart; %s",
-				ErrTooDark, sc.dropped, len(sh.rows0), sh.ceiling, m.diluteHint(sc))
+				errTooDark, sc.dropped, len(sh.rows0), sh.ceiling, m.diluteHint(sc))
 		}
 		return nil, fmt.Errorf("with %d points above the ceiling left out: %w", sc.dropped, err)
 	}
