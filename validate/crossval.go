@@ -67,7 +67,7 @@ type CrossValidation struct {
 	Failed []string `json:"failed,omitempty"`
 }
 
-// CrossValidate leaves out one standard (or, ByLevel, one composition with
+// CrossValidateContext leaves out one standard (or, ByLevel, one composition with
 // its replicates) of the calibration sheet at a time, builds a reference
 // set from the remaining rows with calibration.Build, solves the left-out
 // scans with unmix and compares with their known concentrations:
@@ -78,14 +78,8 @@ type CrossValidation struct {
 // out: they are the blank). A fold that fails (too few levels left, say)
 // is listed in Failed and its standards are not predicted; an error is
 // returned only when no fold succeeds, or the sheet does not name the
-// set's compounds.
-func CrossValidate(set *reference.Set, sheet *calibration.Sheet, opt CrossValOptions) (*CrossValidation, error) {
-	return CrossValidateContext(context.Background(), set, sheet, opt)
-}
-
-// CrossValidateContext is CrossValidate that stops when ctx is done,
-// between folds: the error then wraps ctx.Err() and says how many folds
-// had been done.
+// set's compounds. It stops when ctx is done, between folds: the error
+// then wraps ctx.Err() and says how many folds had been done.
 func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibration.Sheet, opt CrossValOptions) (*CrossValidation, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
@@ -102,7 +96,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 		mopt.Blank = opt.Build.Blank
 	}
 	if mopt.Blank == nil && len(sheet.Blanks) > 0 {
-		b, err := MeanBlank(sheet.Blanks)
+		b, err := meanBlank(sheet.Blanks)
 		if err != nil {
 			return nil, pkgerr.Errorf("validate", "%s: %w", sheet.Path, err)
 		}

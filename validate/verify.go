@@ -19,8 +19,8 @@ import (
 // common practice for assays of a main component. They must be set to
 // what the method's own validation plan says.
 const (
-	DefaultRecoveryLo = 98.0
-	DefaultRecoveryHi = 102.0
+	defaultRecoveryLo = 98.0
+	defaultRecoveryHi = 102.0
 	DefaultMaxRSD     = 2.0
 )
 
@@ -39,10 +39,10 @@ type Limits struct {
 
 func (l Limits) withDefaults() (Limits, error) {
 	if l.RecoveryLo == 0 {
-		l.RecoveryLo = DefaultRecoveryLo
+		l.RecoveryLo = defaultRecoveryLo
 	}
 	if l.RecoveryHi == 0 {
-		l.RecoveryHi = DefaultRecoveryHi
+		l.RecoveryHi = defaultRecoveryHi
 	}
 	if l.MaxRSD == 0 {
 		l.MaxRSD = DefaultMaxRSD
@@ -340,19 +340,14 @@ type VerifyOptions struct {
 	MinSelectivity float64
 }
 
-// Verify solves the check standards of sheet against set as samples and
+// VerifyContext solves the check standards of sheet against set as samples and
 // judges them with Assess. The sheet must name the set's compounds (in
 // any order, units matching where both state one); a compound the set
 // cannot quantify in the model's design is refused first (an error
-// wrapping ErrNotSelective). Errors from solving a standard name the
-// sheet and line.
-func Verify(set *reference.Set, sheet *calibration.Sheet, opt VerifyOptions) (*Verification, error) {
-	return VerifyContext(context.Background(), set, sheet, opt)
-}
-
-// VerifyContext is Verify that stops when ctx is done, between check
-// standards: the error then wraps ctx.Err() and says how many check
-// standards had been solved.
+// wrapping errNotSelective). Errors from solving a standard name the
+// sheet and line. It stops when ctx is done, between check standards: the
+// error then wraps ctx.Err() and says how many check standards had been
+// solved.
 func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.Sheet, opt VerifyOptions) (*Verification, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
@@ -376,7 +371,7 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 	}
 	merits, err := FiguresOfMerit(set, MeritOptions{
 		WindowLo: lo, WindowHi: hi, Baseline: opt.Model.Baseline,
-		Weighted: opt.Model.Weighted, MinSelectivity: opt.MinSelectivity,
+		Weighted: opt.Model.Weighted, minSelectivity: opt.MinSelectivity,
 	})
 	if err != nil {
 		return nil, err
@@ -392,7 +387,7 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 		blank = mopt.Blank.Source.String()
 		rows = append(rows, sheet.Blanks...)
 	case len(sheet.Blanks) > 0:
-		b, err := MeanBlank(sheet.Blanks)
+		b, err := meanBlank(sheet.Blanks)
 		if err != nil {
 			return nil, pkgerr.Errorf("validate", "%s: %w", sheet.Path, err)
 		}
@@ -492,9 +487,9 @@ func matchCompounds(set *reference.Set, sheet *calibration.Sheet) ([]int, error)
 	return col, nil
 }
 
-// MeanBlank returns the mean of the blank rows' scans on the first one's
+// meanBlank returns the mean of the blank rows' scans on the first one's
 // grid (the others interpolated onto it, never extrapolated).
-func MeanBlank(rows []calibration.Row) (*spectrum.Spectrum, error) {
+func meanBlank(rows []calibration.Row) (*spectrum.Spectrum, error) {
 	if len(rows) == 0 {
 		return nil, errors.New("no blank rows")
 	}

@@ -146,8 +146,8 @@ func percentOf(f float64) float64 {
 	return p
 }
 
-// ErrNoWindow: no candidate window determines every compound.
-var ErrNoWindow = pkgerr.New("validate", "no window of the allowed widths tells every compound apart")
+// errNoWindow: no candidate window determines every compound.
+var errNoWindow = pkgerr.New("validate", "no window of the allowed widths tells every compound apart")
 
 // AdviseWindow scans candidate windows [Lo, Hi] with edges every StepNM
 // over the usable grid, MinWidthNM <= Hi - Lo (<= MaxWidthNM if set), and
@@ -171,7 +171,7 @@ var ErrNoWindow = pkgerr.New("validate", "no window of the allowed widths tells 
 // 2800 and m about 150 on average.
 //
 // Errors: those of FiguresOfMerit for the set and noise model, a bad
-// option, or ErrNoWindow when every candidate is singular.
+// option, or errNoWindow when every candidate is singular.
 func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
@@ -185,7 +185,7 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 	}
 	adv.Edges = ws.edges()
 	if len(ws.wl) == 0 {
-		return nil, fmt.Errorf("%w: every wavelength is above the ceiling at the levels", ErrWindow)
+		return nil, fmt.Errorf("%w: every wavelength is above the ceiling at the levels", errWindow)
 	}
 	if err := opt.Baseline.Check(ws.wl); err != nil {
 		return nil, pkgerr.Errorf("validate", "baseline model: %w", err)
@@ -267,7 +267,7 @@ func (ws *windowSearch) rows() error {
 	set := ws.set
 	ws.all = usableRows(set, ws.opt.Lo, ws.opt.Hi)
 	if len(ws.all) < 2 {
-		return fmt.Errorf("%w: %d", ErrWindow, len(ws.all))
+		return fmt.Errorf("%w: %d", errWindow, len(ws.all))
 	}
 	ws.above = make([]bool, len(ws.all))
 	var absorb []float64
@@ -360,7 +360,7 @@ func (ws *windowSearch) candidates(adv *WindowAdvice) error {
 }
 
 // rankWindows ranks the candidates that are not singular and picks the
-// recommended one; ErrNoWindow when every candidate is singular.
+// recommended one; errNoWindow when every candidate is singular.
 func rankWindows(adv *WindowAdvice) error {
 	for i, c := range adv.Candidates {
 		if !c.Singular {
@@ -368,7 +368,7 @@ func rankWindows(adv *WindowAdvice) error {
 		}
 	}
 	if len(adv.Ranked) == 0 {
-		return ErrNoWindow
+		return errNoWindow
 	}
 	sort.SliceStable(adv.Ranked, func(i, j int) bool {
 		a, b := adv.Candidates[adv.Ranked[i]], adv.Candidates[adv.Ranked[j]]
@@ -442,7 +442,7 @@ func newWindowWork(maxRows, ncol int) *windowWork {
 
 // evaluate fills c.Cond, c.Singular and c.SE for the window [c.Lo, c.Hi]
 // fitted on the grid points keep (those of the window not above the
-// ceiling); ErrSVD when the factorization fails. The design is solve's,
+// ceiling); errSVD when the factorization fails. The design is solve's,
 // unmix.NewDesign on the window (baseline terms over the whole window),
 // on those points.
 //
@@ -499,11 +499,11 @@ func (ws *windowWork) evaluate(c *Candidate, s *windowSearch, keep []int) error 
 		kind = mat.SVDThin
 	}
 	if !ws.svd.Factorize(x, kind) {
-		return ErrSVD
+		return errSVD
 	}
 	sv := ws.svd.Values(nil)
 	if !finiteSV(sv) {
-		return ErrSVD
+		return errSVD
 	}
 	c.Cond, c.Singular = clampCond(sv[0], sv[len(sv)-1], lsq.RankTol(m, ncol))
 	if c.Singular {
@@ -534,30 +534,4 @@ func (ws *windowWork) evaluate(c *Candidate, s *windowSearch, keep []int) error 
 		c.SE[n] = math.Sqrt(vsum) / norm[n]
 	}
 	return nil
-}
-
-// Surface returns, for plotting, the edges and a matrix z[i][j] = f(c)
-// for the candidate with Lo = Edges[i] and Hi = Edges[j], NaN where there
-// is no such candidate or f returns NaN.
-func (a *WindowAdvice) Surface(f func(c Candidate) float64) [][]float64 {
-	n := len(a.Edges)
-	z := make([][]float64, n)
-	for i := range z {
-		z[i] = make([]float64, n)
-		for j := range z[i] {
-			z[i][j] = math.NaN()
-		}
-	}
-	pos := make(map[float64]int, n)
-	for i, e := range a.Edges {
-		pos[e] = i
-	}
-	for _, c := range a.Candidates {
-		i, ok1 := pos[c.Lo]
-		j, ok2 := pos[c.Hi]
-		if ok1 && ok2 {
-			z[i][j] = f(c)
-		}
-	}
-	return z
 }
