@@ -408,9 +408,9 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 		}
 		res, err := model.Solve(r.Scan, unmix.Factors{})
 		if err != nil {
-			return nil, pkgerr.Errorf("validate", "%s:%d: check standard %s: %w", sheet.Path, r.Line, rowName(r), err)
+			return nil, pkgerr.Errorf("validate", "%s:%d: check standard %s: %w", sheet.Path, r.Line, standardName(r), err)
 		}
-		checks = append(checks, checkFrom(rowName(r), r.Conc, col, res))
+		checks = append(checks, checkFrom(standardName(r), r.Conc, col, res))
 	}
 	names, units := setNames(set)
 	v, err := Assess(names, units, checks, opt.Limits)
@@ -444,8 +444,9 @@ func checkFrom(name string, conc []float64, col []int, res *unmix.Result) Check 
 	return c
 }
 
-// rowName is the column name of a wide-table row, else the file.
-func rowName(r calibration.Row) string {
+// standardName names a standard of the sheet: the column name of a
+// wide-table row, else the file (calibration's rowName adds the sheet line).
+func standardName(r calibration.Row) string {
 	if r.Column != "" {
 		return r.Column
 	}
@@ -504,7 +505,7 @@ func meanBlank(rows []calibration.Row) (*spectrum.Spectrum, error) {
 		}
 		on, err := s.Resample(b.Wavelengths)
 		if err != nil {
-			return nil, fmt.Errorf("blank %s: %w", rowName(r), err)
+			return nil, fmt.Errorf("blank %s: %w", standardName(r), err)
 		}
 		for i, v := range on.Values {
 			b.Values[i] += v
