@@ -14,14 +14,14 @@ import (
 // a folder and a file too large to be a sheet are refused with the
 // file named.
 func TestSampleSheetRobust(t *testing.T) {
-	sh, err := parseSampleSheet(strings.NewReader("\ufeffsample;dilution;path_cm\r\nA1;2,5;0,5\r\nB2;10;\r\n"), "win.csv")
+	ss, err := parseSampleSheet(strings.NewReader("\ufeffsample;dilution;path_cm\r\nA1;2,5;0,5\r\nB2;10;\r\n"), "win.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if f, ok := sh.lookup(&spectrum.Spectrum{Name: "A1"}); !ok || f.Dilution != 2.5 || f.PathCM != 0.5 {
+	if f, ok := ss.lookup(&spectrum.Spectrum{Name: "A1"}); !ok || f.Dilution != 2.5 || f.PathCM != 0.5 {
 		t.Errorf("A1: %+v %v", f, ok)
 	}
-	if f, ok := sh.lookup(&spectrum.Spectrum{Name: "B2"}); !ok || f.Dilution != 10 {
+	if f, ok := ss.lookup(&spectrum.Spectrum{Name: "B2"}); !ok || f.Dilution != 10 {
 		t.Errorf("B2: %+v %v", f, ok)
 	}
 	// With commas separating fields, "2,5" is two fields, not 2.5.
@@ -61,21 +61,21 @@ func TestSampleSheetColumns(t *testing.T) {
 	if err == nil || !strings.HasPrefix(err.Error(), `ss.csv:1:3: column "dilution" given twice`) {
 		t.Errorf("twice: %v", err)
 	}
-	sh, err := parseSampleSheet(strings.NewReader("# lab sheet\nnote,sample,dilution\nfirst,s10,4\n,s1O,2\n"), "ss.csv")
+	ss, err := parseSampleSheet(strings.NewReader("# lab sheet\nnote,sample,dilution\nfirst,s10,4\n,s1O,2\n"), "ss.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if got := strings.Join(sh.names(), " "); got != "s10 s1O" {
+	if got := strings.Join(ss.names(), " "); got != "s10 s1O" {
 		t.Errorf("names %q", got)
 	}
-	if sh.Line("s1O") != 4 {
-		t.Errorf("line of s1O: %d", sh.Line("s1O"))
+	if ss.Line("s1O") != 4 {
+		t.Errorf("line of s1O: %d", ss.Line("s1O"))
 	}
-	f, k, ok := sh.match(&spectrum.Spectrum{Source: spectrum.Source{File: "smp/s10.csv"}})
+	f, k, ok := ss.match(&spectrum.Spectrum{Source: spectrum.Source{File: "smp/s10.csv"}})
 	if !ok || k != "s10" || f.Dilution != 4 {
 		t.Errorf("match s10: %+v %q %v", f, k, ok)
 	}
-	if _, k, ok := sh.match(&spectrum.Spectrum{Name: "s1"}); ok || k != "" {
+	if _, k, ok := ss.match(&spectrum.Spectrum{Name: "s1"}); ok || k != "" {
 		t.Errorf("s1 matched %q", k)
 	}
 }
@@ -102,11 +102,11 @@ func TestSampleSheetStrict(t *testing.T) {
 	}
 	// Quoting as in CSV: a quoted name may hold the separator; notes and
 	// comments columns are dropped like the standards sheet's.
-	sh, err := parseSampleSheet(strings.NewReader("sample,dilution,notes\n\"mix 1, rerun\",4,\"diluted 1:4\"\n"), "s.csv")
+	ss, err := parseSampleSheet(strings.NewReader("sample,dilution,notes\n\"mix 1, rerun\",4,\"diluted 1:4\"\n"), "s.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if f, ok := sh.lookup(&spectrum.Spectrum{Name: "mix 1, rerun"}); !ok || f.Dilution != 4 {
+	if f, ok := ss.lookup(&spectrum.Spectrum{Name: "mix 1, rerun"}); !ok || f.Dilution != 4 {
 		t.Errorf("quoted name: %+v %v", f, ok)
 	}
 }
@@ -115,14 +115,14 @@ func TestSampleSheetStrict(t *testing.T) {
 // its names match scans whose headers were read the same way, with a
 // warning naming the line.
 func TestSampleSheetLatin1(t *testing.T) {
-	sh, err := parseSampleSheet(strings.NewReader("sample,dilution\nProbe-\xe4,2\n"), "l.csv")
+	ss, err := parseSampleSheet(strings.NewReader("sample,dilution\nProbe-\xe4,2\n"), "l.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if f, ok := sh.lookup(&spectrum.Spectrum{Name: "Probe-ä"}); !ok || f.Dilution != 2 {
+	if f, ok := ss.lookup(&spectrum.Spectrum{Name: "Probe-ä"}); !ok || f.Dilution != 2 {
 		t.Errorf("Latin-1 name: %+v %v", f, ok)
 	}
-	if w := sh.Warnings(); len(w) != 1 || !strings.HasPrefix(w[0], "l.csv:2: the sample sheet is not UTF-8") {
+	if w := ss.Warnings(); len(w) != 1 || !strings.HasPrefix(w[0], "l.csv:2: the sample sheet is not UTF-8") {
 		t.Errorf("warnings %q", w)
 	}
 }
