@@ -13,7 +13,7 @@ import (
 	"huesolve/unmix"
 )
 
-// CrossValOptions control CrossValidate.
+// CrossValOptions control CrossValidateContext.
 type CrossValOptions struct {
 	// Build are the options each fold's reference set is built with;
 	// BuildOptionsFor gives those a saved set was built with.
@@ -52,7 +52,7 @@ type Prediction struct {
 	Found    []float64 `json:"found"`
 }
 
-// CrossValidation is the outcome of CrossValidate.
+// CrossValidation is the outcome of CrossValidateContext.
 type CrossValidation struct {
 	Compounds []string `json:"compounds"`
 	Units     []string `json:"units"`

@@ -140,7 +140,7 @@ type Verification struct {
 	Rows      []CheckRow        `json:"checks"`
 	Pass      bool              `json:"pass"`
 	// Merits are the figures of merit of the design the checks were
-	// solved with (set by Verify; nil from Assess).
+	// solved with (set by VerifyContext; nil from Assess).
 	Merits *Merits `json:"figures_of_merit,omitempty"`
 	// Blank says what blank the check standards were corrected with.
 	Blank string `json:"blank,omitempty"`
