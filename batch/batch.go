@@ -16,6 +16,7 @@ import (
 	"strings"
 	"sync"
 
+	"huesolve/internal/pkgerr"
 	"huesolve/spectrum"
 	"huesolve/unmix"
 )
@@ -27,8 +28,8 @@ type Input struct {
 	Err  error
 }
 
-// ErrNoMatch: a pattern or folder named no file.
-var ErrNoMatch = errors.New("no file matches")
+// errNoMatch: a pattern or folder named no file.
+var errNoMatch = errors.New("no file matches")
 
 // ExpandInputs turns command-line arguments into files: a folder gives its
 // regular, non-hidden files (not recursive), a pattern with *, ? or [
@@ -50,9 +51,9 @@ func ExpandInputs(args []string) []Input {
 				return err == nil && fi.IsDir()
 			})
 			if len(m) == 0 {
-				out = append(out, Input{Path: a, Err: fmt.Errorf("%w pattern %q", ErrNoMatch, a)})
+				out = append(out, Input{Path: a, Err: fmt.Errorf("%w pattern %q", errNoMatch, a)})
 			}
-			slices.SortFunc(m, NaturalCompare)
+			slices.SortFunc(m, naturalCompare)
 			for _, p := range m {
 				out = append(out, Input{Path: p})
 			}
@@ -74,23 +75,23 @@ func ExpandInputs(args []string) []Input {
 				names = append(names, e.Name())
 			}
 		}
-		slices.SortFunc(names, NaturalCompare)
+		slices.SortFunc(names, naturalCompare)
 		for _, nm := range names {
 			out = append(out, Input{Path: filepath.Join(a, nm)})
 		}
 		n := len(names)
 		if n == 0 {
-			out = append(out, Input{Path: a, Err: fmt.Errorf("%w in folder %s", ErrNoMatch, a)})
+			out = append(out, Input{Path: a, Err: fmt.Errorf("%w in folder %s", errNoMatch, a)})
 		}
 	}
 	return out
 }
 
-// NaturalCompare orders names as a person would: runs of decimal digits
+// naturalCompare orders names as a person would: runs of decimal digits
 // compare by their value ("s2" < "s10" < "s11"), everything else byte by
 // byte; names equal that way (s01, s1) fall back to plain order so the
 // order is total.
-func NaturalCompare(a, b string) int {
+func naturalCompare(a, b string) int {
 	i, j := 0, 0
 	for i < len(a) && j < len(b) {
 		ca, cb := a[i], b[j]
@@ -152,9 +153,9 @@ type Outcome struct {
 	// Encoded holds what Batch.Encode made of Result (nil without it).
 	// Like Result it is reused after emit returns.
 	Encoded []byte
-	// Checked: with Batch.CheckOnly, the sample was read and could be
+	// checked: with Batch.CheckOnly, the sample was read and could be
 	// solved.
-	Checked bool
+	checked bool
 
 	slot *slot // holds Result, back to the pool once emitted
 }
@@ -197,8 +198,8 @@ type Batch struct {
 	// each outcome, with the samples done and the samples known so far.
 	Progress func(done, known int)
 	// CheckOnly reads every sample and checks it (Model.Check) without
-	// solving it: outcomes carry no Result, Checked is set for a sample
-	// that could be solved, and Err for one that could not. Factors is
+	// solving it: outcomes carry no Result, and Err is set for a sample
+	// that could not be solved (Summary.Checked counts those that could). Factors is
 	// called as usual; Each and Encode are not.
 	CheckOnly bool
 }
@@ -282,7 +283,7 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 		if err := parent.Err(); err != nil {
 			return sum, err
 		}
-		return sum, errors.New("batch: stopped early")
+		return sum, pkgerr.New("batch", "stopped early")
 	}
 	cancel()
 	wg.Wait()
@@ -519,7 +520,7 @@ func (b *Batch) solveOne(m *unmix.Model, pool *sync.Pool, seq int, s *spectrum.S
 	}
 	if b.CheckOnly {
 		err := m.Check(s, f)
-		out.Checked = err == nil
+		out.checked = err == nil
 		return err
 	}
 	sl := pool.Get().(*slot)
@@ -546,7 +547,7 @@ func count(sum *Summary, o Outcome) {
 	switch {
 	case o.Unread:
 		sum.Unreadable++
-	case o.Checked:
+	case o.checked:
 		sum.Samples++
 		sum.Checked++
 	case o.Result == nil:

@@ -71,7 +71,7 @@ var errStop = errors.New("stop here")
 
 func TestBatchOrderAndFailures(t *testing.T) {
 	sizes := map[string]int{"a.csv": 1, "wide.csv": 57, "b.csv": 3, "bad.csv": 0, "c.csv": 2}
-	inputs := []Input{{Path: "a.csv"}, {Path: "wide.csv"}, {Path: "bad.csv"}, {Path: "none*.csv", Err: ErrNoMatch}, {Path: "b.csv"}, {Path: "c.csv"}}
+	inputs := []Input{{Path: "a.csv"}, {Path: "wide.csv"}, {Path: "bad.csv"}, {Path: "none*.csv", Err: errNoMatch}, {Path: "b.csv"}, {Path: "c.csv"}}
 	var first []record
 	for _, workers := range []int{1, 2, 4, 7} {
 		b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: workers,
@@ -196,8 +196,8 @@ func TestNaturalOrder(t *testing.T) {
 			t.Errorf("%s: %v, want %s", arg, got, want)
 		}
 	}
-	if NaturalCompare("s01", "s1") == 0 || NaturalCompare("a", "a") != 0 || NaturalCompare("x9", "x10") >= 0 {
-		t.Error("NaturalCompare is not a total order as documented")
+	if naturalCompare("s01", "s1") == 0 || naturalCompare("a", "a") != 0 || naturalCompare("x9", "x10") >= 0 {
+		t.Error("naturalCompare is not a total order as documented")
 	}
 }
 
@@ -233,7 +233,7 @@ func TestBatchCheckOnly(t *testing.T) {
 			t.Errorf("outcome %d has a result", o.Seq)
 		}
 		errs = append(errs, o.Err)
-		checked = append(checked, o.Checked)
+		checked = append(checked, o.checked)
 		return nil
 	})
 	if err != nil {

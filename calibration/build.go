@@ -532,7 +532,7 @@ func rowName(r Row) string {
 	return f
 }
 
-func hasString(list []string, s string) bool {
+func hasString[S ~string](list []S, s S) bool {
 	for _, x := range list {
 		if x == s {
 			return true

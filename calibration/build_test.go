@@ -613,7 +613,7 @@ func TestBuildNearlyCollinearDesign(t *testing.T) {
 	}
 }
 
-func hasFlag(flags []string, f string) bool {
+func hasFlag(flags []reference.Flag, f reference.Flag) bool {
 	for _, x := range flags {
 		if x == f {
 			return true

@@ -396,7 +396,7 @@ func (b *builder) finishCompound(c *reference.Compound, k int) {
 			c.Name, c.PeakNM, 100*reference.TestLevel, l.MandelP)
 	}
 	if b.everCurved[k] && !hasString(c.Flags, reference.FlagCurved) {
-		c.Flags = append([]string{reference.FlagCurved}, c.Flags...)
+		c.Flags = append([]reference.Flag{reference.FlagCurved}, c.Flags...)
 	}
 	if b.noLinear[k] {
 		b.warn("%s: the calibration line at %g nm bends even over its lowest levels %s: it cannot be quantified linearly with these standards, and its results are approximate (add lower levels, closer together)",

@@ -9,8 +9,8 @@ import (
 // compoundFlags are the quality codes (see [reference.Flags]) of a
 // compound with calibration line l; clipped tells whether standards read
 // above the ceiling at its band maximum.
-func compoundFlags(l reference.Linearity, clipped bool, floor float64) []string {
-	var f []string
+func compoundFlags(l reference.Linearity, clipped bool, floor float64) []reference.Flag {
+	var f []reference.Flag
 	if l.Curved || l.Band.TooCurved() {
 		f = append(f, reference.FlagCurved)
 	}

@@ -50,7 +50,7 @@ type Compound struct {
 	// wavelengths.
 	LeftOut int `json:"left_out,omitempty"`
 	// Flags are the quality codes of this compound (see [Flags]).
-	Flags []string `json:"flags,omitempty"`
+	Flags []Flag `json:"flags,omitempty"`
 	// StandardsLeftOut are the standards Build left out of the whole fit
 	// (for every compound) because this compound's calibration line
 	// bends above its linear range, or the ceiling cut them at its band

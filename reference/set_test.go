@@ -28,7 +28,7 @@ func memSet() *Set {
 				R2: 0.9999, ResidualSD: 0.001, Levels: 5, Points: 5,
 				LackOfFitF: math.NaN(), LackOfFitP: math.NaN(), MandelF: 0.5, MandelP: 0.51,
 				RangeLo: 1, RangeHi: 10, Data: []Point{{1, 0.33, true}, {10, 3.3, false}}},
-			Flags: []string{FlagAboveCeiling},
+			Flags: []Flag{FlagAboveCeiling},
 		}},
 		Noise: []float64{0.001, 0.0011, 0.0012, 0.0013}, PathCM: 1, Ceiling: 2, Intercept: true,
 		Provenance: Provenance{Tool: "huesolve", Version: "test", Created: "2026-01-02T03:04:05Z", Sheet: "std.csv",

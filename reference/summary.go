@@ -1,5 +1,13 @@
 package reference
 
+import "slices"
+
+// Flag is a quality code, written as a short word: on a compound of a
+// reference set (the codes below), on a sample or one compound's amount
+// in it (package unmix, which names the same type), or on a check result
+// (package validate).
+type Flag string
+
 // Flag codes of a compound, in the order they are listed.
 const (
 	// FlagCurved: Mandel's test prefers a quadratic to the line at the
@@ -10,23 +18,33 @@ const (
 	// refits on the standards within the linear range. A hit at the
 	// maximum alone is noted (Linearity.CurvedUnconfirmed) but neither
 	// flags nor refits.
-	FlagCurved = "curved"
+	FlagCurved Flag = "curved"
 	// FlagLackOfFit: the lack-of-fit test against replicates fails at
 	// TestLevel.
-	FlagLackOfFit = "lack-of-fit"
+	FlagLackOfFit Flag = "lack-of-fit"
 	// FlagFewLevels: fewer than five levels in the line (five or more is
 	// common practice).
-	FlagFewLevels = "few-levels"
+	FlagFewLevels Flag = "few-levels"
 	// FlagAboveCeiling: some standards read above the ceiling at the band
 	// maximum; calibration.Build leaves them out of the whole fit.
-	FlagAboveCeiling = "above-ceiling"
+	FlagAboveCeiling Flag = "above-ceiling"
 	// FlagBelowFloor: the lowest standards read below the detector floor
 	// at the band maximum; the range starts higher.
-	FlagBelowFloor = "below-floor"
+	FlagBelowFloor Flag = "below-floor"
 )
 
-// Flags lists every flag code with its meaning, in display order.
-var Flags = []struct{ Code, Meaning string }{
+// FlagMeaning is a compound flag code with its meaning.
+type FlagMeaning struct {
+	Code    Flag
+	Meaning string
+}
+
+// Flags returns every compound flag code with its meaning, in display
+// order (a new slice on each call).
+func Flags() []FlagMeaning { return slices.Clone(flagMeanings) }
+
+// flagMeanings is the table Flags returns.
+var flagMeanings = []FlagMeaning{
 	{FlagCurved, "Mandel's test (ISO 8466-1, F at 99 %) prefers a quadratic at the band maximum and at a neighbouring wavelength, or at more than half the band's wavelengths: the line bends at high concentration; when it bends at the maximum, the absorptivities rest on the standards within the stated linear range only (a hit at the maximum alone is likely chance and only noted)"},
 	{FlagLackOfFit, "replicates show the line misses the level means (lack-of-fit F test at 99 %)"},
 	{FlagFewLevels, "fewer than 5 concentration levels (5 or more spanning the range is common practice)"},
@@ -46,7 +64,7 @@ type summaryRow struct {
 	// Linear range in the compound's unit.
 	RangeLo, RangeHi float64
 	Levels           int
-	Flags            []string
+	Flags            []Flag
 }
 
 // Summary returns one row per compound: band maximum, peak absorptivity

@@ -31,7 +31,7 @@ func WriteSetSummary(w io.Writer, set *reference.Set) error {
 	t := newTable(w)
 	t.Header("Compound", "Band max (nm)", "Absorptivity ± SE ("+absorptivityUnit(commonUnit(units))+")",
 		"R²", "Levels", "Linear range", "Flags")
-	seen := map[string]bool{}
+	seen := map[reference.Flag]bool{}
 	for _, r := range sum {
 		unit := r.Unit
 		if unit == "" {
@@ -39,7 +39,7 @@ func WriteSetSummary(w io.Writer, set *reference.Set) error {
 		}
 		flags := "-"
 		if len(r.Flags) > 0 {
-			flags = strings.Join(r.Flags, " ")
+			flags = joinFlags(r.Flags, " ")
 			for _, f := range r.Flags {
 				seen[f] = true
 			}
@@ -62,7 +62,7 @@ func WriteSetSummary(w io.Writer, set *reference.Set) error {
 	writeBandLines(w, set)
 	if len(seen) > 0 {
 		fmt.Fprintln(w, "\nFlags:")
-		for _, f := range reference.Flags {
+		for _, f := range reference.Flags() {
 			if seen[f.Code] {
 				fmt.Fprintf(w, "  %-14s %s\n", f.Code, f.Meaning)
 			}

@@ -136,7 +136,7 @@ func checkRowVerdict(r validate.CheckRow) string {
 		ok += fmt.Sprintf(" (%s LOQ %.2g)", cmp, r.LOQ)
 	}
 	if len(r.Flags) > 0 {
-		ok += ", flagged " + strings.Join(r.Flags, " ")
+		ok += ", flagged " + joinFlags(r.Flags, " ")
 	}
 	return ok
 }
@@ -199,9 +199,9 @@ func writeCheckCompounds(w io.Writer, v *validate.Verification, cv *validate.Cro
 func verifyRowFlags(r validate.CheckRow) string {
 	fs := r.Flags
 	if r.HeldAtZero {
-		fs = append([]string{string(unmix.FlagZero)}, fs...)
+		fs = append([]unmix.Flag{unmix.FlagZero}, fs...)
 	}
-	return strings.Join(fs, " ")
+	return joinFlags(fs, " ")
 }
 
 // WriteVerifyCSV writes one row per standard and compound (record

@@ -36,7 +36,7 @@ unmix/lsq | solve.go | dst\.Coef\[j\] = bs\[k\] / f\.d\[j\] | dst.Coef[j] = NAN 
 unmix/lsq | solve.go | dst\.RSS = rss\b | dst.RSS = NAN * rss | TestSciPyNNLS
 unmix/lsq | cond.go | return sv\[0\] / sv\[p-1\], nil | return NAN * sv[0] / sv[p-1], nil | TestDesignCond
 unmix/lsq | cond.go | return sv\[0\] / sv\[p-1\], nil | return NAN * sv[0] / sv[p-1], nil | TestHilbertCond
-unmix/lsq | fit.go | lf\.ChiSqLimit = distuv | lf.ChiSqLimit = NAN * distuv | TestLackOfFit
+unmix/lsq | fit.go | lf\.chiSqLimit = distuv | lf.chiSqLimit = NAN * distuv | TestLackOfFit
 baseline | sg.go | return f\.WeightsAt\(0\), nil | w := f.WeightsAt(0); w[len(w)/2] = NAN; return w, nil | TestWeightsPublished
 baseline | sg.go | return f\.WeightsAt\(0\), nil | w := f.WeightsAt(0); w[len(w)/2] = NAN; return w, nil | TestSciPy
 baseline | sg.go | dst\[j\] = dot\(centre, | dst[j] = NAN * dot(centre, | TestSciPy
@@ -53,10 +53,10 @@ calibration | linearity.go | p = distuv\.F\{D1: 1, D2: float64\(l2\.dof\)\}\.Sur
 calibration | linearity.go | p = distuv\.F\{D1: 1, D2: float64\(l2\.dof\)\}\.Survival\(f\) | p = NAN * distuv.F{D1: 1, D2: float64(l2.dof)}.Survival(f) | TestMandelCritical
 calibration | linearity.go | \bf = \(lof / float64\(m-2\)\) | f = NAN * (lof / float64(m-2)) | TestLineTests
 calibration | linearity.go | return f, distuv\.F\{D1: float64\(m - 2\) | return f, NAN * distuv.F{D1: float64(m - 2) | TestLineTests
-unmix | solve.go | Conc:\s+coef \* scale, | Conc: NAN * coef * scale, | TestAgainstSciPy
-unmix | solve.go | SE:\s+se \* scale, | SE: NAN * se * scale, | TestAgainstSciPy
-unmix | solve.go | LOD:\s+LODFactor \* s0 \* scale, | LOD: NAN * LODFactor * s0 * scale, | TestAgainstSciPy
-unmix | solve.go | Free:\s+free \* scale, | Free: NAN * free * scale, | TestAgainstSciPy
+unmix | fill.go | Conc:\s+coef \* f\.scale, | Conc: NAN * coef * f.scale, | TestAgainstSciPy
+unmix | fill.go | SE:\s+se \* f\.scale, | SE: NAN * se * f.scale, | TestAgainstSciPy
+unmix | fill.go | LOD:\s+LODFactor \* s0 \* f\.scale, | LOD: NAN * LODFactor * s0 * f.scale, | TestAgainstSciPy
+unmix | fill.go | Free:\s+res\.Unconstrained\[k\] \* f\.scale, | Free: NAN * res.Unconstrained[k] * f.scale, | TestAgainstSciPy
 spectrum | asdf.go | d\.ys = append\(d\.ys, v\) | d.ys = append(d.ys, NAN * v) | TestASDFLines
 spectrum | asdf.go | d\.ys = append\(d\.ys, cur\) | d.ys = append(d.ys, NAN * cur) | TestASDFLines
 spectrum | grid.go | dst\[i\] = p\.Predict\( | dst[i] = NAN * p.Predict( | TestResampleCubic

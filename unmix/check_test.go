@@ -21,7 +21,7 @@ func TestCheckTooDark(t *testing.T) {
 	}
 	cerr := m.Check(pt, Factors{})
 	_, serr := m.Solve(pt, Factors{})
-	if !errors.Is(cerr, ErrTooDark) || serr == nil || cerr.Error() != serr.Error() {
+	if !errors.Is(cerr, errTooDark) || serr == nil || cerr.Error() != serr.Error() {
 		t.Errorf("%%T read as absorbance: Check %v, Solve %v", cerr, serr)
 	}
 }

@@ -20,18 +20,18 @@ import (
 // and window advice on it, so that both see the same rows and columns.
 // The weights come from the set's noise model (reference.Set.Sigma).
 type Design struct {
-	// Lo and Hi are the window [Lo, Hi) on the set grid; window row r is
-	// grid point Lo+r.
-	Lo, Hi int
+	// lo and hi are the window [lo, hi) on the set grid; window row r is
+	// grid point lo+r.
+	lo, hi int
 	// Rows are the window rows where every compound's absorptivity is
 	// usable (reference.Compound.Usable), increasing.
 	Rows []int
-	// Cols are the columns on the whole window (Hi-Lo values each): one
+	// Cols are the columns on the whole window (hi-lo values each): one
 	// per compound, path * absorptivity, then the baseline terms.
 	Cols [][]float64
-	// NonNeg marks the columns constrained to be >= 0 (the compounds and
+	// nonNeg marks the columns constrained to be >= 0 (the compounds and
 	// the scattering term).
-	NonNeg []bool
+	nonNeg []bool
 	// NComp is the number of compound columns.
 	NComp int
 	// Terms are the names of the baseline columns.
@@ -81,14 +81,14 @@ func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM floa
 		return nil, fmt.Errorf("window rows %d-%d of a %d-point grid: %w", lo, hi, len(g), ErrCoverage)
 	}
 	wl := g[lo:hi]
-	d := &Design{Lo: lo, Hi: hi, NComp: len(set.Compounds), Rows: UsableRows(set, lo, hi)}
+	d := &Design{lo: lo, hi: hi, NComp: len(set.Compounds), Rows: UsableRows(set, lo, hi)}
 	for _, c := range set.Compounds {
 		col := make([]float64, len(wl))
 		for r := range wl {
 			col[r] = c.Absorptivity[lo+r] * pathCM
 		}
 		d.Cols = append(d.Cols, col)
-		d.NonNeg = append(d.NonNeg, true)
+		d.nonNeg = append(d.nonNeg, true)
 	}
 	bcols, bnn, bnames, err := model.Columns(wl)
 	if err != nil {
@@ -103,14 +103,14 @@ func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM floa
 		}
 	}
 	d.Cols = append(d.Cols, bcols...)
-	d.NonNeg = append(d.NonNeg, bnn...)
+	d.nonNeg = append(d.nonNeg, bnn...)
 	d.Terms = bnames
 	return d, nil
 }
 
-// Matrix returns the design on the given window rows (nil: d.Rows) as a
+// matrix returns the design on the given window rows (nil: d.Rows) as a
 // rows × columns matrix.
-func (d *Design) Matrix(rows []int) *mat.Dense {
+func (d *Design) matrix(rows []int) *mat.Dense {
 	if rows == nil {
 		rows = d.Rows
 	}
@@ -170,7 +170,7 @@ func (sh *shared) buildDesign(rows []int, sigma []float64) (*design, error) {
 	if n < p+minDoF {
 		return nil, fmt.Errorf("%d usable points for %d coefficients", n, p)
 	}
-	x := sh.design.Matrix(rows)
+	x := sh.design.matrix(rows)
 	if err := sh.visible(x); err != nil {
 		return nil, err
 	}

@@ -20,7 +20,7 @@
 // Points whose raw absorbance exceeds the ceiling are left out. The noise
 // model is the reference set's (reference.Set.Sigma):
 //
-//	sigma(l) = max(noise(l), NoiseFloorAU) * sqrt(1 + 10^(2 (A(l) - WeightKneeA)))
+//	sigma(l) = max(noise(l), noiseFloorAU) * sqrt(1 + 10^(2 (A(l) - WeightKneeA)))
 //
 // where noise(l) is the reference set's calibration noise and A(l) the
 // sample's raw absorbance: flat at low absorbance, growing as 10^A where

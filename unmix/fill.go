@@ -142,7 +142,7 @@ func (m *Model) amount(a *Amount, k int, sc *scan, f fitFigures) {
 	if sh.maxStd[k] > 0 && coef*f.cell > sh.maxStd[k] {
 		a.Flags = append(a.Flags, FlagOverRange)
 	}
-	if sc.d.leak != nil && sc.d.leak[k] < LeakLimit {
+	if sc.d.leak != nil && sc.d.leak[k] < leakLimit {
 		a.Flags = append(a.Flags, FlagMimic)
 	}
 }
@@ -157,7 +157,7 @@ func (m *Model) sampleFlags(dst *Result, sc *scan, f fitFigures) {
 	dilute := false
 	if sc.dropped > 0 {
 		dst.Flags = append(dst.Flags, FlagSaturated)
-		if float64(sc.dropped) > DropLimitFrac*float64(len(sh.rows0)) || sc.darkPts > 0 {
+		if float64(sc.dropped) > dropLimitFrac*float64(len(sh.rows0)) || sc.darkPts > 0 {
 			dst.Flags = append(dst.Flags, FlagDilute)
 			dilute = true
 		}
@@ -171,10 +171,10 @@ func (m *Model) sampleFlags(dst *Result, sc *scan, f fitFigures) {
 	if dilute || over > 1 {
 		dst.SuggestDilution = suggestDilution(m.predictedMax(sc)/sh.ceiling, over, dilute)
 	}
-	if f.chiRed > PoorFitChiSq {
+	if f.chiRed > poorFitChiSq {
 		dst.Flags = append(dst.Flags, FlagMisfit)
 	}
-	if res.DW < PatternDW && !sh.smooth {
+	if res.DW < patternDW && !sh.smooth {
 		dst.Flags = append(dst.Flags, FlagPattern)
 	}
 	if m.opt.Shift {
@@ -196,8 +196,8 @@ func (m *Model) shiftFlags(dst *Result, sc *scan) {
 		dst.ShiftSE = se
 	}
 	shift := sc.shift
-	atMax := math.Abs(shift) >= m.opt.MaxShiftNM-ShiftTolNM
-	if shift != 0 && (atMax || math.Abs(shift) >= ShiftNoteNM) {
+	atMax := math.Abs(shift) >= m.opt.MaxShiftNM-shiftTolNM
+	if shift != 0 && (atMax || math.Abs(shift) >= shiftNoteNM) {
 		dst.Flags = append(dst.Flags, FlagShift)
 	}
 	if shift != 0 && atMax {

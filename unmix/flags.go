@@ -22,7 +22,7 @@ const (
 	// standard (the result is extrapolated).
 	FlagOverRange Flag = "over"
 	// FlagMimic: the baseline terms can imitate this compound's spectrum
-	// (leakage below LeakLimit), so baseline and compound trade off.
+	// (leakage below leakLimit), so baseline and compound trade off.
 	FlagMimic Flag = "mimic"
 )
 
@@ -30,22 +30,22 @@ const (
 const (
 	// FlagSaturated: points above the absorbance ceiling were left out.
 	FlagSaturated Flag = "sat"
-	// FlagDilute: so many points were left out (more than DropLimitFrac
+	// FlagDilute: so many points were left out (more than dropLimitFrac
 	// of the window, or any reading at 0 %T or below) that the sample
 	// should be diluted; Result.SuggestDilution gives the factor.
 	FlagDilute Flag = "dilute"
 	// FlagMisfit: the residual is well above the expected noise (reduced
-	// chi-square above PoorFitChiSq).
+	// chi-square above poorFitChiSq).
 	FlagMisfit Flag = "misfit"
 	// FlagPattern: the residual has structure along the wavelength axis
-	// (Durbin-Watson below PatternDW): a missing compound, a shift or a
+	// (Durbin-Watson below patternDW): a missing compound, a shift or a
 	// baseline the model cannot follow. Not raised when the reference
 	// set's pre-treatment includes Savitzky-Golay smoothing or a
 	// derivative, which correlates neighbouring residuals by itself.
 	FlagPattern Flag = "pattern"
-	// FlagShift: the estimated wavelength shift is more than ShiftSigmas
+	// FlagShift: the estimated wavelength shift is more than shiftSigmas
 	// standard errors from zero (so it is applied) and at least
-	// ShiftNoteNM. A shift within ShiftSigmas standard errors of zero is
+	// shiftNoteNM. A shift within shiftSigmas standard errors of zero is
 	// not determined: it is not applied (ShiftNM 0) and never flagged.
 	FlagShift Flag = "shift"
 	// FlagShiftMax: a determined shift (see FlagShift) reached the
@@ -81,10 +81,11 @@ var legend = []struct {
 	{FlagNoConverge, true, "fit not certified optimal (iteration cap or KKT check)"},
 }
 
-// Warning reports whether f calls for a chemist's attention (a sample
+// IsWarning reports whether f calls for a chemist's attention (a sample
 // carrying such a flag counts as flagged). Notes such as FlagZero or
-// FlagShift describe an ordinary result.
-func (f Flag) Warning() bool {
+// FlagShift describe an ordinary result. A code that is not a sample or
+// amount flag counts as a warning.
+func IsWarning(f Flag) bool {
 	for _, l := range legend {
 		if l.f == f {
 			return l.warn
@@ -93,8 +94,8 @@ func (f Flag) Warning() bool {
 	return true
 }
 
-// Meaning returns the legend text of f.
-func (f Flag) Meaning() string {
+// Meaning returns the legend text of the sample or amount flag f.
+func Meaning(f Flag) string {
 	for _, l := range legend {
 		if l.f == f {
 			return l.text
@@ -121,10 +122,10 @@ func Legend(fs ...Flag) string {
 	var b strings.Builder
 	for _, f := range fs {
 		mark := " "
-		if f.Warning() {
+		if IsWarning(f) {
 			mark = "!"
 		}
-		fmt.Fprintf(&b, "  %-9s %s %s\n", f, mark, f.Meaning())
+		fmt.Fprintf(&b, "  %-9s %s %s\n", f, mark, Meaning(f))
 	}
 	return b.String()
 }
@@ -133,25 +134,15 @@ func Legend(fs ...Flag) string {
 // warning flag.
 func (r *Result) Flagged() bool {
 	for _, f := range r.Flags {
-		if f.Warning() {
+		if IsWarning(f) {
 			return true
 		}
 	}
 	for _, a := range r.Amounts {
 		for _, f := range a.Flags {
-			if f.Warning() {
+			if IsWarning(f) {
 				return true
 			}
-		}
-	}
-	return false
-}
-
-// HasFlag reports whether the sample carries f.
-func (r *Result) HasFlag(f Flag) bool {
-	for _, g := range r.Flags {
-		if g == f {
-			return true
 		}
 	}
 	return false

@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/stat/distuv"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix/lsq"
@@ -28,7 +29,7 @@ type shared struct {
 	rows0   []int       // usable window rows (reference set's Usable): design.Rows
 	cols    [][]float64 // design columns on the window (compounds, then baseline): design.Cols
 	dcols   [][]float64 // d/dl of compound columns on the window (shift only)
-	nonneg  []bool      // design.NonNeg
+	nonneg  []bool      // design.nonNeg
 	ncomp   int
 	names   []string  // baseline term names
 	noise   []float64 // floored calibration noise on the window (reference.Set.NoiseFloor)
@@ -102,19 +103,19 @@ type scratch struct {
 }
 
 // NewModel checks the options against the set and builds the design. It
-// returns an error wrapping ErrSet for an inconsistent set
+// returns an error wrapping errSet for an inconsistent set
 // (reference.Set.Validate), ErrCoverage for a window or blank outside the
 // set's grid, and the solver's error when the design's columns are
 // linearly dependent.
 func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	if set == nil {
-		return nil, fmt.Errorf("unmix: %w: nil set", ErrSet)
+		return nil, pkgerr.Errorf("unmix", "%w: nil set", errSet)
 	}
 	if err := set.Validate(); err != nil {
-		return nil, fmt.Errorf("unmix: %w: %w", ErrSet, err)
+		return nil, pkgerr.Errorf("unmix", "%w: %w", errSet, err)
 	}
 	if len(set.Noise) == 0 {
-		return nil, fmt.Errorf("unmix: %w: the set has no noise model", ErrSet)
+		return nil, pkgerr.Errorf("unmix", "%w: the set has no noise model", errSet)
 	}
 	sh := &shared{set: set, opt: opt, grid: set.Grid, ncomp: len(set.Compounds)}
 	if err := sh.limits(); err != nil {
@@ -134,7 +135,7 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	wl := sh.grid[sh.lo:sh.hi]
 	var err error
 	if sh.base, err = sh.buildDesign(sh.rows0, nil); err != nil {
-		return nil, fmt.Errorf("unmix: window %g-%g nm, baseline %q: %w", wl[0], wl[len(wl)-1], opt.Baseline, err)
+		return nil, pkgerr.Errorf("unmix", "window %g-%g nm, baseline %q: %w", wl[0], wl[len(wl)-1], opt.Baseline, err)
 	}
 	m := &Model{set: set, opt: sh.opt, sh: sh}
 	m.init(sh.base)
@@ -149,17 +150,17 @@ func (sh *shared) limits() error {
 		sh.opt.MaxShiftNM = DefaultMaxShiftNM
 	}
 	if !(sh.opt.MaxShiftNM > 0) || math.IsInf(sh.opt.MaxShiftNM, 0) {
-		return fmt.Errorf("unmix: the shift limit must be a positive number of nm, not %g", opt.MaxShiftNM)
+		return pkgerr.Errorf("unmix", "the shift limit must be a positive number of nm, not %g", opt.MaxShiftNM)
 	}
 	sh.ceiling = opt.Ceiling
 	if sh.ceiling == 0 {
 		sh.ceiling = set.Ceiling
 	}
 	if sh.ceiling == 0 {
-		sh.ceiling = DefaultCeiling
+		sh.ceiling = defaultCeiling
 	}
 	if !(sh.ceiling > 0) || math.IsInf(sh.ceiling, 0) {
-		return fmt.Errorf("unmix: the absorbance ceiling must be positive, not %g", sh.ceiling)
+		return pkgerr.Errorf("unmix", "the absorbance ceiling must be positive, not %g", sh.ceiling)
 	}
 	nt := int(math.Ceil(sh.ceiling/growthStep)) + 2
 	sh.gtab = make([]float64, nt)
@@ -181,7 +182,7 @@ func (sh *shared) window() error {
 		wlo, whi = glo, ghi
 	}
 	if !(whi > wlo) {
-		return fmt.Errorf("unmix: window %g-%g nm is empty", wlo, whi)
+		return pkgerr.Errorf("unmix", "window %g-%g nm is empty", wlo, whi)
 	}
 	slack := spectrum.GridSlack * (ghi - glo)
 	if wlo < glo-slack || whi > ghi+slack {
@@ -189,7 +190,7 @@ func (sh *shared) window() error {
 		if whi <= glo || wlo >= ghi {
 			how = "lies"
 		}
-		return &windowError{fmt.Sprintf("unmix: the window %g-%g nm %s outside the reference grid %g-%g nm: choose a window within %g-%g nm", wlo, whi, how, glo, ghi, glo, ghi)}
+		return &windowError{fmt.Sprintf("the window %g-%g nm %s outside the reference grid %g-%g nm: choose a window within %g-%g nm", wlo, whi, how, glo, ghi, glo, ghi)}
 	}
 	if opt.Shift {
 		wlo = max(wlo, glo+opt.MaxShiftNM)
@@ -197,7 +198,7 @@ func (sh *shared) window() error {
 	}
 	sh.lo, sh.hi = WindowRange(g, wlo, whi)
 	if sh.hi-sh.lo < 2 {
-		return fmt.Errorf("unmix: window %g-%g nm holds %d reference points: %w", wlo, whi, max(sh.hi-sh.lo, 0), ErrCoverage)
+		return pkgerr.Errorf("unmix", "window %g-%g nm holds %d reference points: %w", wlo, whi, max(sh.hi-sh.lo, 0), ErrCoverage)
 	}
 	wl := g[sh.lo:sh.hi]
 	sh.reach = baseline.Reach(sh.set.Pretreat)
@@ -223,10 +224,10 @@ func (sh *shared) columns() error {
 	set := sh.set
 	d, err := NewDesign(set, sh.lo, sh.hi, sh.opt.Baseline, set.PathCM)
 	if err != nil {
-		return fmt.Errorf("unmix: %w", err)
+		return pkgerr.Errorf("unmix", "%w", err)
 	}
 	sh.design = d
-	sh.rows0, sh.cols, sh.nonneg, sh.names = d.Rows, d.Cols, d.NonNeg, d.Terms
+	sh.rows0, sh.cols, sh.nonneg, sh.names = d.Rows, d.Cols, d.nonNeg, d.Terms
 	for _, c := range set.Compounds {
 		sh.maxStd = append(sh.maxStd, upperLimit(c))
 		sh.fullNorm = append(sh.fullNorm, floats.Norm(c.Absorptivity, 2)*set.PathCM)
@@ -308,35 +309,21 @@ func (m *Model) Window() []float64 { return slices.Clone(m.sh.grid[m.sh.lo:m.sh.
 // because a compound's absorptivity is not known there.
 func (m *Model) Excluded() int { return m.sh.hi - m.sh.lo - len(m.sh.rows0) }
 
-// Cond is the condition number of the unweighted design on all usable
-// window points.
-func (m *Model) Cond() float64 { return m.sh.base.cond }
-
-// Leakage is, per compound, the fraction of its spectrum's norm the
-// baseline terms cannot imitate (1: none can, 0: all can).
-func (m *Model) Leakage() []float64 { return slices.Clone(m.sh.base.leak[:m.sh.ncomp]) }
-
-// Ceiling is the absorbance ceiling in use.
-func (m *Model) Ceiling() float64 { return m.sh.ceiling }
-
-// Options returns the options with defaults filled in.
-func (m *Model) Options() Options { return m.opt }
-
 // setBlank converts the blank to absorbance and checks its range.
 func (sh *shared) setBlank(b *spectrum.Spectrum) error {
 	if err := b.Check(); err != nil {
-		return fmt.Errorf("unmix: blank: %w", err)
+		return pkgerr.Errorf("unmix", "blank: %w", err)
 	}
 	a := make([]float64, b.Len())
 	for i, v := range b.Values {
 		x, err := spectrum.ToAbsorbance(b.Quantity, v)
 		if err != nil {
-			return fmt.Errorf("unmix: blank %s at %g nm: %w", b.Source, b.Wavelengths[i], err)
+			return pkgerr.Errorf("unmix", "blank %s at %g nm: %w", b.Source, b.Wavelengths[i], err)
 		}
 		a[i] = x
 	}
 	if err := covers(b.Wavelengths, sh.needLo, sh.needHi); err != nil {
-		return fmt.Errorf("unmix: blank %s: %w", b.Source, err)
+		return pkgerr.Errorf("unmix", "blank %s: %w", b.Source, err)
 	}
 	sh.blankWL, sh.blankA = b.Wavelengths, a
 	sh.blank0 = make([]float64, sh.whi-sh.wlo)

@@ -14,27 +14,24 @@ import (
 const (
 	// DefaultMaxShiftNM is the shift limit when Options.MaxShiftNM is 0.
 	DefaultMaxShiftNM = 3.0
-	// DefaultCeiling is the absorbance ceiling when neither the options
+	// defaultCeiling is the absorbance ceiling when neither the options
 	// nor the reference set give one: reference.DefaultCeiling (about 2
 	// by common practice: above it stray light bends the response).
-	DefaultCeiling = reference.DefaultCeiling
-	// NoiseFloorAU is the floor of the noise model, defined once in
-	// package reference (see reference.Set.Sigma).
-	NoiseFloorAU = reference.NoiseFloorAU
+	defaultCeiling = reference.DefaultCeiling
 	// WeightKneeA is the knee of the noise model, defined once in
 	// package reference (see reference.Set.Sigma).
 	WeightKneeA = reference.WeightKneeA
-	// DropLimitFrac is the fraction of window points above the ceiling
+	// dropLimitFrac is the fraction of window points above the ceiling
 	// beyond which the sample is flagged FlagDilute.
-	DropLimitFrac = 0.05
-	// PoorFitChiSq is the reduced chi-square above which a fit is flagged
+	dropLimitFrac = 0.05
+	// poorFitChiSq is the reduced chi-square above which a fit is flagged
 	// FlagMisfit: the residual's RMS is more than twice the expected
 	// noise. (With 100 or more degrees of freedom a correct noise model
 	// gives chi-square above 1.5 with probability below 1e-4; the factor
 	// 4 leaves room for an imperfect noise model.) It is the fit
 	// verdict's limit, lsq.ChiSqSevere.
-	PoorFitChiSq = lsq.ChiSqSevere
-	// PatternDW is the Durbin-Watson statistic below which a residual is
+	poorFitChiSq = lsq.ChiSqSevere
+	// patternDW is the Durbin-Watson statistic below which a residual is
 	// flagged FlagPattern. White residuals give about 2 +- 2/sqrt(n)
 	// (Durbin & Watson 1950); 1 is far below that for n >= 50 and is still
 	// reached by mildly correlated instrument noise only rarely. Not
@@ -43,32 +40,32 @@ const (
 	// neighbouring residuals correlated, so even a perfect fit reads far
 	// below 2 (see Model.DurbinWatsonFlagged). It is the fit verdict's
 	// limit, lsq.DWSevere.
-	PatternDW = lsq.DWSevere
+	patternDW = lsq.DWSevere
 	// CondLimit is the condition number (unit-norm columns) above which
 	// the design is flagged FlagIllCond: the project's warning limit,
 	// lsq.CondWarn (condition indexes above 30 signal moderate to strong
 	// dependence).
 	CondLimit = lsq.CondWarn
-	// LeakLimit: a compound whose spectrum keeps less than this fraction
+	// leakLimit: a compound whose spectrum keeps less than this fraction
 	// of its norm after projecting out the baseline terms is flagged
 	// FlagMimic: the baseline terms then reproduce more than 3/4 of its
 	// sum of squares (common practice). It is lsq.LeakageWarn.
-	LeakLimit = lsq.LeakageWarn
-	// ShiftTolNM ends the shift iteration when a step is smaller.
-	ShiftTolNM = 1e-3
-	// ShiftMaxIter caps the shift iterations.
-	ShiftMaxIter = 12
-	// ShiftNoteNM is the smallest estimated shift that is flagged
+	leakLimit = lsq.LeakageWarn
+	// shiftTolNM ends the shift iteration when a step is smaller.
+	shiftTolNM = 1e-3
+	// shiftMaxIter caps the shift iterations.
+	shiftMaxIter = 12
+	// shiftNoteNM is the smallest estimated shift that is flagged
 	// FlagShift: smaller shifts are within what wavelength settings of
 	// UV-Vis instruments repeat to (about 0.1 nm, common practice).
-	ShiftNoteNM = 0.1
-	// ShiftSigmas: a shift is applied (and may be flagged) only when it
+	shiftNoteNM = 0.1
+	// shiftSigmas: a shift is applied (and may be flagged) only when it
 	// is more than this many standard errors of its estimate
 	// (Result.ShiftSE) away from zero, so that noise alone moves a
 	// sample with a probability near 5 % (two-sided normal quantile
 	// 1.96, rounded up). A nearly blank sample, whose estimate wanders
 	// with a standard error of several nm, is left unshifted.
-	ShiftSigmas = 2.0
+	shiftSigmas = 2.0
 	// LODFactor and LOQFactor multiply sigma / sensitivity (ICH Q2).
 	LODFactor = 3.3
 	LOQFactor = 10.0
@@ -141,23 +138,24 @@ func CheckFactors(f Factors) error {
 
 // windowError is NewModel's error for a window that reaches outside the
 // reference grid: its message names the window as the cause, and it is
-// ErrCoverage for errors.Is.
+// ErrCoverage for errors.Is. msg is the text without the package prefix.
 type windowError struct{ msg string }
 
-func (e *windowError) Error() string        { return e.msg }
+func (e *windowError) Error() string        { return "unmix: " + e.msg }
+func (e *windowError) Unprefixed() string   { return e.msg }
 func (e *windowError) Is(target error) bool { return target == ErrCoverage }
 
 // Errors returned by NewModel and Solve, tested with errors.Is.
 var (
-	// ErrSet: the reference set is unusable (inconsistent lengths,
+	// errSet: the reference set is unusable (inconsistent lengths,
 	// non-finite numbers, no compounds, no noise model).
-	ErrSet = errors.New("unusable reference set")
+	errSet = errors.New("unusable reference set")
 	// ErrCoverage: a scan or blank does not cover the wavelengths the
 	// model needs.
 	ErrCoverage = errors.New("scan does not cover the model's wavelengths")
-	// ErrTooDark: so many points are above the ceiling that no fit is
+	// errTooDark: so many points are above the ceiling that no fit is
 	// possible.
-	ErrTooDark = errors.New("too few points below the absorbance ceiling")
+	errTooDark = errors.New("too few points below the absorbance ceiling")
 	// ErrFactor: a dilution factor or path length is not a positive
 	// finite number.
 	ErrFactor = errors.New("bad sample factor")

@@ -1,7 +1,11 @@
 package unmix
 
-// Flag is a quality flag on a sample or on one compound's amount.
-type Flag string
+import "huesolve/reference"
+
+// Flag is a quality flag on a sample or on one compound's amount: the
+// one flag type of the reference set's compounds, the samples and the
+// check results.
+type Flag = reference.Flag
 
 // Amount is one compound's concentration in a sample. All concentrations
 // are in the reference set's unit, scaled to the original sample
@@ -46,7 +50,7 @@ type Result struct {
 	Dropped  int                `json:"points_dropped"`
 	ShiftNM  float64            `json:"shift_nm"`
 	// ShiftNM is the applied shift: 0 when none was estimated or the
-	// estimate was within ShiftSigmas standard errors of zero (not
+	// estimate was within shiftSigmas standard errors of zero (not
 	// determined; the sample is then fitted unshifted).
 	// ShiftSE is the standard error of the shift estimate (0 when no
 	// shift was estimated or it is undefined), also when the estimate

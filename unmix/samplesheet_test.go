@@ -9,7 +9,7 @@ import (
 
 func TestSampleSheet(t *testing.T) {
 	text := "# dilutions\nSample;Dilution;Path_cm\nA1;10;\nrun2.csv;;0.5\n\"B 3\";2.5;0.2\n"
-	sh, err := ParseSampleSheet(strings.NewReader(text), "sheet.csv")
+	ss, err := parseSampleSheet(strings.NewReader(text), "sheet.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -26,7 +26,7 @@ func TestSampleSheet(t *testing.T) {
 		{"Q", "q.csv", Factors{}, false},
 	} {
 		s := &spectrum.Spectrum{Name: c.name, Source: spectrum.Source{File: c.file}}
-		f, ok := sh.Lookup(s)
+		f, ok := ss.lookup(s)
 		if f != c.want || ok != c.ok {
 			t.Errorf("Lookup(%q, %q) = %+v, %v, want %+v, %v", c.name, c.file, f, ok, c.want, c.ok)
 		}
@@ -45,9 +45,9 @@ func TestSampleSheet(t *testing.T) {
 		{"sample,path_cm\n,1\n", "sheet.csv:2:1: empty sample name"},
 		{"", "sheet.csv: no data"},
 	} {
-		_, err := ParseSampleSheet(strings.NewReader(c.text), "sheet.csv")
+		_, err := parseSampleSheet(strings.NewReader(c.text), "sheet.csv")
 		if err == nil || !strings.HasPrefix(err.Error(), c.want) {
-			t.Errorf("ParseSampleSheet(%q) error %v, want prefix %q", c.text, err, c.want)
+			t.Errorf("parseSampleSheet(%q) error %v, want prefix %q", c.text, err, c.want)
 		}
 	}
 }
@@ -65,15 +65,15 @@ func FuzzSampleSheet(f *testing.F) {
 		f.Add(s)
 	}
 	f.Fuzz(func(t *testing.T, text string) {
-		sh, err := ParseSampleSheet(strings.NewReader(text), "fuzz.csv")
+		ss, err := parseSampleSheet(strings.NewReader(text), "fuzz.csv")
 		if err != nil {
 			if !strings.HasPrefix(err.Error(), "fuzz.csv") {
 				t.Fatalf("error %q does not name the file", err)
 			}
 			return
 		}
-		for name := range sh.rows {
-			fs, ok := sh.Lookup(&spectrum.Spectrum{Name: name})
+		for name := range ss.rows {
+			fs, ok := ss.lookup(&spectrum.Spectrum{Name: name})
 			if !ok || fs.Dilution < 0 || fs.PathCM < 0 {
 				t.Fatalf("Lookup(%q) = %+v, %v", name, fs, ok)
 			}

@@ -39,15 +39,15 @@ type sheetRow struct {
 
 // Limits of a sample sheet.
 const (
-	// MaxSampleSheetBytes is the largest sample sheet ReadSampleSheet
+	// maxSampleSheetBytes is the largest sample sheet ReadSampleSheet
 	// reads (64 MiB, a million samples and more).
-	MaxSampleSheetBytes = 64 << 20
+	maxSampleSheetBytes = 64 << 20
 	// maxSheetLine is the longest line of a sample sheet (64 KiB).
 	maxSheetLine = 64 << 10
 )
 
 // ReadSampleSheet reads a sample sheet file with sheet.Open: a folder,
-// or a file larger than MaxSampleSheetBytes, is refused before reading.
+// or a file larger than maxSampleSheetBytes, is refused before reading.
 func ReadSampleSheet(path string) (*SampleSheet, error) {
 	var warns []string
 	text, _, err := sheet.Open(path, sampleOptions(&warns))
@@ -60,7 +60,7 @@ func ReadSampleSheet(path string) (*SampleSheet, error) {
 // sampleOptions are the sheet options of a sample sheet; warnings are
 // appended to warns.
 func sampleOptions(warns *[]string) sheet.Options {
-	return sheet.Options{What: "sample sheet", MaxBytes: MaxSampleSheetBytes, MaxLine: maxSheetLine,
+	return sheet.Options{What: "sample sheet", MaxBytes: maxSampleSheetBytes, MaxLine: maxSheetLine,
 		Warn: func(m string) { *warns = append(*warns, m) }}
 }
 
@@ -71,13 +71,13 @@ var sampleColumns = sheet.Columns{
 	Known:  "a sample sheet has the columns " + sheetColumns,
 }
 
-// ParseSampleSheet reads a sample sheet from r (at most
-// MaxSampleSheetBytes); file names it in errors, which are
+// parseSampleSheet reads a sample sheet from r (at most
+// maxSampleSheetBytes); file names it in errors, which are
 // *spectrum.ParseError values with line and column. The dialect is that
 // of package internal/sheet: quoting, strict field counts, the number
 // syntax of the spectrum readers. Text that is not UTF-8 is read as
 // Latin-1.
-func ParseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
+func parseSampleSheet(r io.Reader, file string) (*SampleSheet, error) {
 	var warns []string
 	text, err := sheet.Read(r, file, sampleOptions(&warns))
 	if err != nil {
@@ -97,13 +97,13 @@ func newSampleSheet(text *sheet.Sheet, warns []string) (*SampleSheet, error) {
 		return nil, text.ErrAt(text.Header.Line, 0, "header needs columns sample and dilution and/or path_cm, got %q",
 			strings.Join(text.Header.Fields, string(text.Delim)))
 	}
-	sh := &SampleSheet{File: text.File, rows: map[string]sheetRow{}, warns: warns}
+	ss := &SampleSheet{File: text.File, rows: map[string]sheetRow{}, warns: warns}
 	for _, rec := range text.Rows {
 		name := rec.Fields[iSample]
 		if name == "" {
 			return nil, text.ErrAt(rec.Line, iSample+1, "empty sample name")
 		}
-		if prev, dup := sh.rows[name]; dup {
+		if prev, dup := ss.rows[name]; dup {
 			return nil, text.ErrAt(rec.Line, iSample+1, "sample %q already given on line %d", name, prev.line)
 		}
 		var f Factors
@@ -113,10 +113,10 @@ func newSampleSheet(text *sheet.Sheet, warns []string) (*SampleSheet, error) {
 		if f.PathCM, err = sampleFactor(text, rec, iPath, "path_cm"); err != nil {
 			return nil, err
 		}
-		sh.rows[name] = sheetRow{f: f, line: rec.Line}
-		sh.order = append(sh.order, name)
+		ss.rows[name] = sheetRow{f: f, line: rec.Line}
+		ss.order = append(ss.order, name)
 	}
-	return sh, nil
+	return ss, nil
 }
 
 // sampleFactor reads the dilution or path_cm (what) in column col of rec:
@@ -145,18 +145,18 @@ func sampleFactor(text *sheet.Sheet, rec sheet.Row, col int, what string) (float
 	return x, nil
 }
 
-// Lookup finds the factors of a scan: by its name, else by its file's
+// lookup finds the factors of a scan: by its name, else by its file's
 // base name with and without extension. Zero fields mean "default".
-func (sh *SampleSheet) Lookup(s *spectrum.Spectrum) (Factors, bool) {
-	f, _, ok := sh.Match(s)
+func (ss *SampleSheet) lookup(s *spectrum.Spectrum) (Factors, bool) {
+	f, _, ok := ss.match(s)
 	return f, ok
 }
 
-// Match is Lookup that also returns the sheet's name of the row that
+// match is lookup that also returns the sheet's name of the row that
 // matched ("" when none did), so that a caller can tell which rows of the
 // sheet were never used.
-func (sh *SampleSheet) Match(s *spectrum.Spectrum) (Factors, string, bool) {
-	if sh == nil {
+func (ss *SampleSheet) match(s *spectrum.Spectrum) (Factors, string, bool) {
+	if ss == nil {
 		return Factors{}, "", false
 	}
 	base := filepath.Base(s.Source.File)
@@ -164,37 +164,34 @@ func (sh *SampleSheet) Match(s *spectrum.Spectrum) (Factors, string, bool) {
 		if k == "" {
 			continue
 		}
-		if r, ok := sh.rows[k]; ok {
+		if r, ok := ss.rows[k]; ok {
 			return r.f, k, true
 		}
 	}
 	return Factors{}, "", false
 }
 
-// Names returns the sample names of the sheet in sheet order.
-func (sh *SampleSheet) Names() []string {
-	if sh == nil {
+// names returns the sample names of the sheet in sheet order.
+func (ss *SampleSheet) names() []string {
+	if ss == nil {
 		return nil
 	}
-	return slices.Clone(sh.order)
+	return slices.Clone(ss.order)
 }
 
 // Line returns the sheet line of the row named name (0 if none).
-func (sh *SampleSheet) Line(name string) int {
-	if sh == nil {
+func (ss *SampleSheet) Line(name string) int {
+	if ss == nil {
 		return 0
 	}
-	return sh.rows[name].line
+	return ss.rows[name].line
 }
 
 // Warnings returns the warnings given while the sheet was read (a sheet
 // that is not UTF-8 is read as Latin-1), each naming file:line.
-func (sh *SampleSheet) Warnings() []string {
-	if sh == nil {
+func (ss *SampleSheet) Warnings() []string {
+	if ss == nil {
 		return nil
 	}
-	return slices.Clone(sh.warns)
+	return slices.Clone(ss.warns)
 }
-
-// Len is the number of samples in the sheet.
-func (sh *SampleSheet) Len() int { return len(sh.rows) }

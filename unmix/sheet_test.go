@@ -14,22 +14,22 @@ import (
 // a folder and a file too large to be a sheet are refused with the
 // file named.
 func TestSampleSheetRobust(t *testing.T) {
-	sh, err := ParseSampleSheet(strings.NewReader("\ufeffsample;dilution;path_cm\r\nA1;2,5;0,5\r\nB2;10;\r\n"), "win.csv")
+	ss, err := parseSampleSheet(strings.NewReader("\ufeffsample;dilution;path_cm\r\nA1;2,5;0,5\r\nB2;10;\r\n"), "win.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if f, ok := sh.Lookup(&spectrum.Spectrum{Name: "A1"}); !ok || f.Dilution != 2.5 || f.PathCM != 0.5 {
+	if f, ok := ss.lookup(&spectrum.Spectrum{Name: "A1"}); !ok || f.Dilution != 2.5 || f.PathCM != 0.5 {
 		t.Errorf("A1: %+v %v", f, ok)
 	}
-	if f, ok := sh.Lookup(&spectrum.Spectrum{Name: "B2"}); !ok || f.Dilution != 10 {
+	if f, ok := ss.lookup(&spectrum.Spectrum{Name: "B2"}); !ok || f.Dilution != 10 {
 		t.Errorf("B2: %+v %v", f, ok)
 	}
 	// With commas separating fields, "2,5" is two fields, not 2.5.
-	if _, err := ParseSampleSheet(strings.NewReader("sample,dilution\nA,2.5.1\n"), "c.csv"); err == nil || !strings.HasPrefix(err.Error(), "c.csv:2:2:") {
+	if _, err := parseSampleSheet(strings.NewReader("sample,dilution\nA,2.5.1\n"), "c.csv"); err == nil || !strings.HasPrefix(err.Error(), "c.csv:2:2:") {
 		t.Errorf("bad number: %v", err)
 	}
 	long := "sample,dilution\nA," + strings.Repeat("1", maxSheetLine) + "\n"
-	if _, err := ParseSampleSheet(strings.NewReader(long), "long.csv"); err == nil || !strings.HasPrefix(err.Error(), "long.csv:2: line longer than 64 KiB") {
+	if _, err := parseSampleSheet(strings.NewReader(long), "long.csv"); err == nil || !strings.HasPrefix(err.Error(), "long.csv:2: line longer than 64 KiB") {
 		t.Errorf("long line: %v", err)
 	}
 	dir := t.TempDir()
@@ -53,29 +53,29 @@ func TestSampleSheetRobust(t *testing.T) {
 // note column is ignored; Match names the row used and Names lists them
 // in sheet order.
 func TestSampleSheetColumns(t *testing.T) {
-	_, err := ParseSampleSheet(strings.NewReader("sample,dilution,path\ns10,4,0.5\n"), "ss.csv")
+	_, err := parseSampleSheet(strings.NewReader("sample,dilution,path\ns10,4,0.5\n"), "ss.csv")
 	if err == nil || !strings.HasPrefix(err.Error(), `ss.csv:1:3: unknown column "path"`) || !strings.Contains(err.Error(), "sample, dilution, path_cm") {
 		t.Errorf("unknown column: %v", err)
 	}
-	_, err = ParseSampleSheet(strings.NewReader("sample,dilution,Dilution\ns10,4,5\n"), "ss.csv")
+	_, err = parseSampleSheet(strings.NewReader("sample,dilution,Dilution\ns10,4,5\n"), "ss.csv")
 	if err == nil || !strings.HasPrefix(err.Error(), `ss.csv:1:3: column "dilution" given twice`) {
 		t.Errorf("twice: %v", err)
 	}
-	sh, err := ParseSampleSheet(strings.NewReader("# lab sheet\nnote,sample,dilution\nfirst,s10,4\n,s1O,2\n"), "ss.csv")
+	ss, err := parseSampleSheet(strings.NewReader("# lab sheet\nnote,sample,dilution\nfirst,s10,4\n,s1O,2\n"), "ss.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if got := strings.Join(sh.Names(), " "); got != "s10 s1O" {
+	if got := strings.Join(ss.names(), " "); got != "s10 s1O" {
 		t.Errorf("names %q", got)
 	}
-	if sh.Line("s1O") != 4 {
-		t.Errorf("line of s1O: %d", sh.Line("s1O"))
+	if ss.Line("s1O") != 4 {
+		t.Errorf("line of s1O: %d", ss.Line("s1O"))
 	}
-	f, k, ok := sh.Match(&spectrum.Spectrum{Source: spectrum.Source{File: "smp/s10.csv"}})
+	f, k, ok := ss.match(&spectrum.Spectrum{Source: spectrum.Source{File: "smp/s10.csv"}})
 	if !ok || k != "s10" || f.Dilution != 4 {
 		t.Errorf("match s10: %+v %q %v", f, k, ok)
 	}
-	if _, k, ok := sh.Match(&spectrum.Spectrum{Name: "s1"}); ok || k != "" {
+	if _, k, ok := ss.match(&spectrum.Spectrum{Name: "s1"}); ok || k != "" {
 		t.Errorf("s1 matched %q", k)
 	}
 }
@@ -95,18 +95,18 @@ func TestSampleSheetStrict(t *testing.T) {
 		{"sample;dilution\nA;2,5\nB;2.5\n", `s.csv:3:2: dilution "2.5": mixed decimal conventions`},
 		{"sample,dilution\nA\"1,2\n", `s.csv:2:1: a " inside a field that is not quoted`},
 	} {
-		_, err := ParseSampleSheet(strings.NewReader(c.text), "s.csv")
+		_, err := parseSampleSheet(strings.NewReader(c.text), "s.csv")
 		if err == nil || !strings.HasPrefix(err.Error(), c.want) {
-			t.Errorf("ParseSampleSheet(%q) error %v, want prefix %q", c.text, err, c.want)
+			t.Errorf("parseSampleSheet(%q) error %v, want prefix %q", c.text, err, c.want)
 		}
 	}
 	// Quoting as in CSV: a quoted name may hold the separator; notes and
 	// comments columns are dropped like the standards sheet's.
-	sh, err := ParseSampleSheet(strings.NewReader("sample,dilution,notes\n\"mix 1, rerun\",4,\"diluted 1:4\"\n"), "s.csv")
+	ss, err := parseSampleSheet(strings.NewReader("sample,dilution,notes\n\"mix 1, rerun\",4,\"diluted 1:4\"\n"), "s.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if f, ok := sh.Lookup(&spectrum.Spectrum{Name: "mix 1, rerun"}); !ok || f.Dilution != 4 {
+	if f, ok := ss.lookup(&spectrum.Spectrum{Name: "mix 1, rerun"}); !ok || f.Dilution != 4 {
 		t.Errorf("quoted name: %+v %v", f, ok)
 	}
 }
@@ -115,14 +115,14 @@ func TestSampleSheetStrict(t *testing.T) {
 // its names match scans whose headers were read the same way, with a
 // warning naming the line.
 func TestSampleSheetLatin1(t *testing.T) {
-	sh, err := ParseSampleSheet(strings.NewReader("sample,dilution\nProbe-\xe4,2\n"), "l.csv")
+	ss, err := parseSampleSheet(strings.NewReader("sample,dilution\nProbe-\xe4,2\n"), "l.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
-	if f, ok := sh.Lookup(&spectrum.Spectrum{Name: "Probe-ä"}); !ok || f.Dilution != 2 {
+	if f, ok := ss.lookup(&spectrum.Spectrum{Name: "Probe-ä"}); !ok || f.Dilution != 2 {
 		t.Errorf("Latin-1 name: %+v %v", f, ok)
 	}
-	if w := sh.Warnings(); len(w) != 1 || !strings.HasPrefix(w[0], "l.csv:2: the sample sheet is not UTF-8") {
+	if w := ss.Warnings(); len(w) != 1 || !strings.HasPrefix(w[0], "l.csv:2: the sample sheet is not UTF-8") {
 		t.Errorf("warnings %q", w)
 	}
 }

@@ -19,9 +19,9 @@ type SheetUse struct {
 	defaulted []string
 }
 
-// NewSheetUse returns a SheetUse of sh (nil: no sheet).
-func NewSheetUse(sh *SampleSheet) *SheetUse {
-	return &SheetUse{sheet: sh, used: map[string]bool{}}
+// NewSheetUse returns a SheetUse of ss (nil: no sheet).
+func NewSheetUse(ss *SampleSheet) *SheetUse {
+	return &SheetUse{sheet: ss, used: map[string]bool{}}
 }
 
 // Factors returns the sheet's factors of s (zero fields: defaults) and
@@ -30,7 +30,7 @@ func (u *SheetUse) Factors(s *spectrum.Spectrum) Factors {
 	if u.sheet == nil {
 		return Factors{}
 	}
-	f, row, ok := u.sheet.Match(s)
+	f, row, ok := u.sheet.match(s)
 	u.mu.Lock()
 	defer u.mu.Unlock()
 	if ok {
@@ -59,7 +59,7 @@ func (u *SheetUse) Unused() []string {
 	u.mu.Lock()
 	defer u.mu.Unlock()
 	var unused []string
-	for _, n := range u.sheet.Names() {
+	for _, n := range u.sheet.names() {
 		if !u.used[n] {
 			unused = append(unused, n)
 		}

@@ -12,11 +12,11 @@ import (
 // one the sheet does not name takes zero factors and is listed; rows no
 // sample matched are listed in sheet order.
 func TestSheetUse(t *testing.T) {
-	sh, err := ParseSampleSheet(strings.NewReader("sample,dilution\nb,2\na,4\nc,8\n"), "ss.csv")
+	ss, err := parseSampleSheet(strings.NewReader("sample,dilution\nb,2\na,4\nc,8\n"), "ss.csv")
 	if err != nil {
 		t.Fatal(err)
 	}
-	u := NewSheetUse(sh)
+	u := NewSheetUse(ss)
 	if f := u.Factors(&spectrum.Spectrum{Name: "a"}); f.Dilution != 4 {
 		t.Errorf("a: dilution %g, want 4", f.Dilution)
 	}

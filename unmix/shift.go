@@ -60,7 +60,7 @@ func (m *Model) estimateShift(sc *scan) error {
 	weighted := m.opt.Weighted
 	delta := 0.0
 	xr := d.x.RawMatrix()
-	for range ShiftMaxIter {
+	for range shiftMaxIter {
 		// g on the fit rows.
 		for i, r := range d.rows {
 			v := 0.0
@@ -92,7 +92,7 @@ func (m *Model) estimateShift(sc *scan) error {
 			break
 		}
 		next := math.Max(-lim, math.Min(lim, delta-num/den))
-		if math.Abs(next-delta) < ShiftTolNM {
+		if math.Abs(next-delta) < shiftTolNM {
 			break
 		}
 		delta = next
@@ -108,10 +108,10 @@ func (m *Model) estimateShift(sc *scan) error {
 }
 
 // shiftDetermined reports whether an estimated shift is told apart from
-// zero: more than ShiftSigmas standard errors from it. A shift whose
+// zero: more than shiftSigmas standard errors from it. A shift whose
 // standard error is undefined (no signal to move) is not.
 func shiftDetermined(shift, se float64) bool {
-	return se > 0 && !math.IsInf(se, 0) && math.Abs(shift) > ShiftSigmas*se
+	return se > 0 && !math.IsInf(se, 0) && math.Abs(shift) > shiftSigmas*se
 }
 
 // offsetRows returns rows with off added to each, in a new slice.

@@ -7,6 +7,7 @@ import (
 	"slices"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/spectrum"
 	"huesolve/unmix/lsq"
 )
@@ -66,7 +67,7 @@ func (m *Model) Solve(s *spectrum.Spectrum, f Factors) (*Result, error) {
 // the shift limit when a shift is estimated) and in any quantity; points
 // with a transmittance of zero or below count as above the ceiling.
 // Errors name the sample: ErrCoverage when the scan does not cover the
-// needed range (both ranges are named), ErrTooDark when too few points are
+// needed range (both ranges are named), errTooDark when too few points are
 // below the ceiling (with a dilution to try), ErrFactor for a bad
 // dilution or path length. A fit that hits the iteration cap is not an
 // error: it is flagged FlagNoConverge.
@@ -96,7 +97,7 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 }
 
 // fail names the sample in err.
-func (sc *scan) fail(err error) error { return fmt.Errorf("unmix: %s: %w", sc.name, err) }
+func (sc *scan) fail(err error) error { return pkgerr.Errorf("unmix", "%s: %w", sc.name, err) }
 
 // Check tells whether s could be solved with factors f, without solving
 // it: its values are finite and its grid sound (spectrum.Check), the
@@ -141,7 +142,7 @@ func (m *Model) prepare(s *spectrum.Spectrum, f Factors) (scan, error) {
 
 // read turns the scan into absorbance on the work grid (sc.raw, sc.net)
 // and finds the window rows at or below the ceiling (sc.rows, sc.key) and
-// the readings too dark to convert; it returns ErrTooDark when too few
+// the readings too dark to convert; it returns errTooDark when too few
 // rows remain to fit.
 func (m *Model) read(sc *scan) error {
 	sh, b := m.sh, &m.buf
@@ -164,7 +165,7 @@ func (m *Model) read(sc *scan) error {
 			dark = fmt.Sprintf(" (%s: %d of them read 0 %%T or below, from %g nm: too dark to read)", sc.s.Source.File, sc.darkPts, sc.darkNM)
 		}
 		return fmt.Errorf("%w: %d of %d points are above the ceiling A = %g%s; %s",
-			ErrTooDark, sc.dropped, len(sh.rows0), sh.ceiling, dark, m.diluteHint(sc))
+			errTooDark, sc.dropped, len(sh.rows0), sh.ceiling, dark, m.diluteHint(sc))
 	}
 	return nil
 }
@@ -281,7 +282,7 @@ func (m *Model) designFor(sc *scan) (*design, error) {
 	if err != nil {
 		if errors.Is(err, errRank) {
 			return nil, fmt.Errorf("%w: with %d of %d points above the ceiling A = %g left out, the rest cannot tell the compounds apart; %s",
-				ErrTooDark, sc.dropped, len(sh.rows0), sh.ceiling, m.diluteHint(sc))
+				errTooDark, sc.dropped, len(sh.rows0), sh.ceiling, m.diluteHint(sc))
 		}
 		return nil, fmt.Errorf("with %d points above the ceiling left out: %w", sc.dropped, err)
 	}

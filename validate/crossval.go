@@ -2,18 +2,18 @@ package validate
 
 import (
 	"context"
-	"errors"
 	"fmt"
 	"math"
 	"slices"
 	"strings"
 
 	"huesolve/calibration"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/unmix"
 )
 
-// CrossValOptions control CrossValidate.
+// CrossValOptions control CrossValidateContext.
 type CrossValOptions struct {
 	// Build are the options each fold's reference set is built with;
 	// BuildOptionsFor gives those a saved set was built with.
@@ -52,7 +52,7 @@ type Prediction struct {
 	Found    []float64 `json:"found"`
 }
 
-// CrossValidation is the outcome of CrossValidate.
+// CrossValidation is the outcome of CrossValidateContext.
 type CrossValidation struct {
 	Compounds []string `json:"compounds"`
 	Units     []string `json:"units"`
@@ -67,7 +67,7 @@ type CrossValidation struct {
 	Failed []string `json:"failed,omitempty"`
 }
 
-// CrossValidate leaves out one standard (or, ByLevel, one composition with
+// CrossValidateContext leaves out one standard (or, ByLevel, one composition with
 // its replicates) of the calibration sheet at a time, builds a reference
 // set from the remaining rows with calibration.Build, solves the left-out
 // scans with unmix and compares with their known concentrations:
@@ -78,14 +78,8 @@ type CrossValidation struct {
 // out: they are the blank). A fold that fails (too few levels left, say)
 // is listed in Failed and its standards are not predicted; an error is
 // returned only when no fold succeeds, or the sheet does not name the
-// set's compounds.
-func CrossValidate(set *reference.Set, sheet *calibration.Sheet, opt CrossValOptions) (*CrossValidation, error) {
-	return CrossValidateContext(context.Background(), set, sheet, opt)
-}
-
-// CrossValidateContext is CrossValidate that stops when ctx is done,
-// between folds: the error then wraps ctx.Err() and says how many folds
-// had been done.
+// set's compounds. It stops when ctx is done, between folds: the error
+// then wraps ctx.Err() and says how many folds had been done.
 func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibration.Sheet, opt CrossValOptions) (*CrossValidation, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
@@ -95,16 +89,16 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 		return nil, err
 	}
 	if len(sheet.Standards) < 2 {
-		return nil, fmt.Errorf("validate: %s: cross-validation needs at least two standards", sheet.Path)
+		return nil, pkgerr.Errorf("validate", "%s: cross-validation needs at least two standards", sheet.Path)
 	}
 	mopt := opt.Model
 	if mopt.Blank == nil {
 		mopt.Blank = opt.Build.Blank
 	}
 	if mopt.Blank == nil && len(sheet.Blanks) > 0 {
-		b, err := MeanBlank(sheet.Blanks)
+		b, err := meanBlank(sheet.Blanks)
 		if err != nil {
-			return nil, fmt.Errorf("validate: %s: %w", sheet.Path, err)
+			return nil, pkgerr.Errorf("validate", "%s: %w", sheet.Path, err)
 		}
 		mopt.Blank = b
 	}
@@ -113,9 +107,10 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 	folds := foldsOf(sheet.Standards, opt.ByLevel)
 	cv.Folds = len(folds)
 	var preds []Prediction
+	var failed foldErrors
 	for f, rows := range folds {
 		if err := ctx.Err(); err != nil {
-			return nil, fmt.Errorf("validate: cross-validation stopped after %d of %d folds: %w", f, len(folds), err)
+			return nil, pkgerr.Errorf("validate", "cross-validation stopped after %d of %d folds: %w", f, len(folds), err)
 		}
 		sub := *sheet
 		sub.Standards = nil
@@ -126,10 +121,12 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 		}
 		var left []string
 		for _, i := range rows {
-			left = append(left, fmt.Sprintf("%s (line %d)", rowName(sheet.Standards[i]), sheet.Standards[i].Line))
+			left = append(left, fmt.Sprintf("%s (line %d)", standardName(sheet.Standards[i]), sheet.Standards[i].Line))
 		}
 		fail := func(err error) {
-			cv.Failed = append(cv.Failed, fmt.Sprintf("leaving out %s: %v", strings.Join(left, ", "), err))
+			err = fmt.Errorf("leaving out %s: %w", strings.Join(left, ", "), err)
+			failed = append(failed, err)
+			cv.Failed = append(cv.Failed, err.Error())
 		}
 		fs, err := calibration.Build(&sub, opt.Build)
 		if err != nil {
@@ -155,7 +152,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 				fp = nil
 				break
 			}
-			p := Prediction{Standard: rowName(r), Line: r.Line, Fold: f + 1,
+			p := Prediction{Standard: standardName(r), Line: r.Line, Fold: f + 1,
 				Known: make([]float64, len(col)), Found: make([]float64, len(col))}
 			for k := range col {
 				p.Known[k] = r.Conc[col[k]]
@@ -172,7 +169,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 		preds = append(preds, fp...)
 	}
 	if len(preds) == 0 {
-		return nil, fmt.Errorf("validate: %s: every cross-validation fold failed: %w", sheet.Path, errors.New(strings.Join(cv.Failed, "; ")))
+		return nil, pkgerr.Errorf("validate", "%s: every cross-validation fold failed: %w", sheet.Path, failed)
 	}
 	slices.SortStableFunc(preds, func(a, b Prediction) int { return a.Line - b.Line })
 	cv.Predictions = preds
@@ -210,3 +207,18 @@ func foldsOf(rows []calibration.Row, byLevel bool) [][]int {
 	}
 	return folds
 }
+
+// foldErrors are the reasons of the failed folds, said one after the
+// other with "; " between them; each stays in the chain of wrapped errors
+// (errors.Is, pkgerr.Plain).
+type foldErrors []error
+
+func (e foldErrors) Error() string {
+	parts := make([]string, len(e))
+	for i, err := range e {
+		parts[i] = err.Error()
+	}
+	return strings.Join(parts, "; ")
+}
+
+func (e foldErrors) Unwrap() []error { return e }

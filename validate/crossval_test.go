@@ -1,6 +1,7 @@
 package validate
 
 import (
+	"context"
 	"math"
 	"math/rand/v2"
 	"strings"
@@ -64,7 +65,7 @@ func TestCrossValidateAgainstDirect(t *testing.T) {
 		t.Fatal(err)
 	}
 	for _, byLevel := range []bool{false, true} {
-		cv, err := CrossValidate(set, sh, CrossValOptions{
+		cv, err := CrossValidateContext(context.Background(), set, sh, CrossValOptions{
 			Build:   BuildOptionsFor(set),
 			Model:   unmix.Options{Baseline: baseline.Model{Degree: -1}},
 			ByLevel: byLevel,
@@ -152,7 +153,7 @@ func TestCrossValidateFailures(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	cv, err := CrossValidate(set, &odd, opt)
+	cv, err := CrossValidateContext(context.Background(), set, &odd, opt)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -165,12 +166,12 @@ func TestCrossValidateFailures(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if _, err := CrossValidate(set3, &three, opt); err == nil || !strings.Contains(err.Error(), "every cross-validation fold failed") {
+	if _, err := CrossValidateContext(context.Background(), set3, &three, opt); err == nil || !strings.Contains(err.Error(), "every cross-validation fold failed") {
 		t.Errorf("three standards for two compounds: err = %v, want every fold failed", err)
 	}
 	other := *sh
 	other.Compounds = []string{"P", "R"}
-	if _, err := CrossValidate(set, &other, opt); err == nil {
+	if _, err := CrossValidateContext(context.Background(), set, &other, opt); err == nil {
 		t.Error("sheet naming R: no error")
 	}
 }

@@ -1,8 +1,6 @@
 package validate
 
 import (
-	"errors"
-	"fmt"
 	"math"
 	"sort"
 
@@ -10,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/unmix"
 	"huesolve/unmix/lsq"
@@ -20,18 +19,18 @@ var maxCond = 1 / (math.Nextafter(1, 2) - 1)
 
 // Errors.
 var (
-	// ErrNoNoise: the reference set carries no usable noise model and no
+	// errNoNoise: the reference set carries no usable noise model and no
 	// noise level was given.
-	ErrNoNoise = errors.New("validate: the reference set has no noise model; give a noise level")
-	// ErrWindow: the window keeps too few usable wavelengths.
-	ErrWindow = errors.New("validate: too few usable wavelengths in the window")
-	// ErrNotSelective: a compound cannot be told apart from the other
-	// compounds and baseline terms (see UnquantifiableError).
-	ErrNotSelective = errors.New("validate: compound cannot be told apart")
-	// ErrSVD: a singular value decomposition did not converge or gave
+	errNoNoise = pkgerr.New("validate", "the reference set has no noise model; give a noise level")
+	// errWindow: the window keeps too few usable wavelengths.
+	errWindow = pkgerr.New("validate", "too few usable wavelengths in the window")
+	// errNotSelective: a compound cannot be told apart from the other
+	// compounds and baseline terms (see unquantifiableError).
+	errNotSelective = pkgerr.New("validate", "compound cannot be told apart")
+	// errSVD: a singular value decomposition did not converge or gave
 	// a non-finite value, which LAPACK's does not on any finite matrix: a
 	// NaN or Inf reached the design.
-	ErrSVD = errors.New("validate: singular value decomposition did not converge (a value in the design is not finite)")
+	errSVD = pkgerr.New("validate", "singular value decomposition did not converge (a value in the design is not finite)")
 )
 
 // design is the fit design over one window: compound columns b·ε, the
@@ -64,10 +63,10 @@ func usableRows(set *reference.Set, lo, hi float64) []int {
 // one check of a set, reference.Set.Validate.
 func checkSet(set *reference.Set) error {
 	if set == nil {
-		return errors.New("validate: no reference set")
+		return pkgerr.New("validate", "no reference set")
 	}
 	if err := set.Validate(); err != nil {
-		return fmt.Errorf("validate: %w", err)
+		return pkgerr.Errorf("validate", "%w", err)
 	}
 	return nil
 }
@@ -79,14 +78,14 @@ func checkSet(set *reference.Set) error {
 func newDesign(set *reference.Set, loNM, hiNM float64, model baseline.Model, path, sigma float64) (*design, error) {
 	lo, hi := unmix.WindowRange(set.Grid, loNM, hiNM)
 	if hi <= lo {
-		return nil, ErrWindow
+		return nil, errWindow
 	}
 	ud, err := unmix.NewDesign(set, lo, hi, model, path)
 	if err != nil {
-		return nil, fmt.Errorf("validate: baseline model on %g-%g nm: %w", set.Grid[lo], set.Grid[hi-1], err)
+		return nil, pkgerr.Errorf("validate", "baseline model on %g-%g nm: %w", set.Grid[lo], set.Grid[hi-1], err)
 	}
 	if len(ud.Rows) == 0 {
-		return nil, ErrWindow
+		return nil, errWindow
 	}
 	d := &design{idx: make([]int, len(ud.Rows)), wl: make([]float64, len(ud.Rows)), nuisName: ud.Terms}
 	for r, w := range ud.Rows {
@@ -114,7 +113,7 @@ func newDesign(set *reference.Set, loNM, hiNM float64, model baseline.Model, pat
 // else the set's noise model as solve uses it, reference.Set.Sigma (floor
 // included), at the expected absorbance absorb (nil: zero, a blank). A
 // set whose noise is missing or zero at most of the points has no usable
-// noise model (ErrNoNoise).
+// noise model (errNoNoise).
 func noiseRows(set *reference.Set, idx []int, sigma float64, absorb []float64) ([]float64, error) {
 	out := make([]float64, len(idx))
 	if sigma > 0 {
@@ -124,13 +123,13 @@ func noiseRows(set *reference.Set, idx []int, sigma float64, absorb []float64) (
 		return out, nil
 	}
 	if len(set.Noise) != len(set.Grid) {
-		return nil, ErrNoNoise
+		return nil, errNoNoise
 	}
 	for r, i := range idx {
 		out[r] = set.Noise[i]
 	}
 	if !(median(out) > 0) {
-		return nil, ErrNoNoise
+		return nil, errNoNoise
 	}
 	for r, i := range idx {
 		a := 0.0
@@ -175,7 +174,7 @@ type projector struct {
 
 // reset factors the columns cols (each of length rows), scaled to unit
 // norm (all-zero columns are dropped), weighted row-wise by w when w is not
-// nil. It returns ErrSVD when the factorization fails.
+// nil. It returns errSVD when the factorization fails.
 func (p *projector) reset(rows int, cols [][]float64, w []float64) error {
 	p.rank = 0
 	k := len(cols)
@@ -210,11 +209,11 @@ func (p *projector) reset(rows int, cols [][]float64, w []float64) error {
 	if !p.svd.Factorize(a, mat.SVDThinU) {
 		// LAPACK's SVD converges on any finite matrix; reaching here
 		// means NaN or Inf slipped past the checks.
-		return ErrSVD
+		return errSVD
 	}
 	sv := p.svd.Values(nil)
 	if !finiteSV(sv) {
-		return ErrSVD
+		return errSVD
 	}
 	tol := lsq.RankTol(rows, nz)
 	for _, s := range sv {
@@ -266,7 +265,7 @@ func (p *projector) residual(dst, v, w []float64) []float64 {
 
 // condScaled returns the 2-norm condition number of the columns cols
 // (weighted row-wise by w when not nil), each scaled to unit norm, and
-// whether they are singular (see clampCond); ErrSVD when the
+// whether they are singular (see clampCond); errSVD when the
 // factorization fails.
 func condScaled(rows int, cols [][]float64, w []float64) (float64, bool, error) {
 	k := len(cols)
@@ -290,11 +289,11 @@ func condScaled(rows int, cols [][]float64, w []float64) (float64, bool, error) 
 	}
 	var svd mat.SVD
 	if !svd.Factorize(a, mat.SVDNone) {
-		return 0, false, ErrSVD
+		return 0, false, errSVD
 	}
 	sv := svd.Values(nil)
 	if !finiteSV(sv) {
-		return 0, false, ErrSVD
+		return 0, false, errSVD
 	}
 	c, singular := clampCond(sv[0], sv[len(sv)-1], lsq.RankTol(rows, k))
 	return c, singular, nil

@@ -9,6 +9,7 @@ import (
 	"gonum.org/v1/gonum/floats"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/unmix"
 )
@@ -46,8 +47,9 @@ type MeritOptions struct {
 	// Weighted computes the standard errors and limits for a fit
 	// weighted by the noise model (1/σ²) instead of an unweighted one.
 	Weighted bool
-	// MinSelectivity is the refusal threshold (0: DefaultMinSelectivity).
-	MinSelectivity float64
+	// minSelectivity is the refusal threshold (0: DefaultMinSelectivity),
+	// set from VerifyOptions.MinSelectivity.
+	minSelectivity float64
 }
 
 // Merit holds the figures of merit of one compound.
@@ -94,9 +96,9 @@ type Merits struct {
 	Compounds      []Merit `json:"compounds"`
 }
 
-// UnquantifiableError says that a compound cannot be quantified in a
+// unquantifiableError says that a compound cannot be quantified in a
 // design because no part of its spectrum is its own.
-type UnquantifiableError struct {
+type unquantifiableError struct {
 	Compound    string
 	Selectivity float64
 	Threshold   float64
@@ -105,21 +107,24 @@ type UnquantifiableError struct {
 	Reason      string
 }
 
-func (e *UnquantifiableError) Error() string {
-	return fmt.Sprintf("validate: %s cannot be quantified in %g-%g nm: %s (selectivity %.3g, below %g)",
+func (e *unquantifiableError) Error() string { return "validate: " + e.Unprefixed() }
+
+// Unprefixed is the error's text without the package prefix.
+func (e *unquantifiableError) Unprefixed() string {
+	return fmt.Sprintf("%s cannot be quantified in %g-%g nm: %s (selectivity %.3g, below %g)",
 		e.Compound, e.WindowLo, e.WindowHi, e.Reason, e.Selectivity, e.Threshold)
 }
 
-// Unwrap returns ErrNotSelective.
-func (e *UnquantifiableError) Unwrap() error { return ErrNotSelective }
+// Unwrap returns errNotSelective.
+func (e *unquantifiableError) Unwrap() error { return errNotSelective }
 
 // Err returns nil when every compound is quantifiable, else the
-// *UnquantifiableError of each refused compound joined with errors.Join.
+// *unquantifiableError of each refused compound joined with errors.Join.
 func (m *Merits) Err() error {
 	var errs []error
 	for _, c := range m.Compounds {
 		if !c.Quantifiable {
-			errs = append(errs, &UnquantifiableError{
+			errs = append(errs, &unquantifiableError{
 				Compound: c.Compound, Selectivity: c.Selectivity, Threshold: m.MinSelectivity,
 				WindowLo: m.WindowLo, WindowHi: m.WindowHi, Reason: c.Reason,
 			})
@@ -133,7 +138,7 @@ func (m *Merits) Err() error {
 // compound of set in the design chosen by opt (see the package comment
 // for the formulas).
 //
-// A compound whose selectivity is below opt.MinSelectivity is marked not
+// A compound whose selectivity is below opt.minSelectivity is marked not
 // quantifiable with a reason: no absorbance in the window, imitated by the
 // baseline terms, a copy of another compound, or a combination of the
 // others; Merits.Err turns these into errors. Its SE and limits are then
@@ -141,7 +146,7 @@ func (m *Merits) Err() error {
 //
 // It returns an error for a set without compounds, a window with fewer
 // usable wavelengths than columns plus one, and a missing noise model
-// (ErrNoNoise) when opt.Sigma is 0.
+// (errNoNoise) when opt.Sigma is 0.
 func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
@@ -151,9 +156,9 @@ func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 		path = set.PathCM
 	}
 	if !(path > 0) || math.IsInf(path, 0) {
-		return nil, fmt.Errorf("validate: path length %g cm is not a positive number", path)
+		return nil, pkgerr.Errorf("validate", "path length %g cm is not a positive number", path)
 	}
-	minSel := opt.MinSelectivity
+	minSel := opt.minSelectivity
 	if minSel == 0 {
 		minSel = DefaultMinSelectivity
 	}
@@ -164,7 +169,7 @@ func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 	idx := d.idx
 	ncol := len(d.comp) + len(d.nuis)
 	if len(idx) < ncol+1 {
-		return nil, fmt.Errorf("%w: %d in %g-%g nm for %d columns", ErrWindow, len(idx), opt.WindowLo, opt.WindowHi, ncol)
+		return nil, fmt.Errorf("%w: %d in %g-%g nm for %d columns", errWindow, len(idx), opt.WindowLo, opt.WindowHi, ncol)
 	}
 	out := &Merits{
 		WindowLo: d.wl[0], WindowHi: d.wl[len(d.wl)-1], Points: len(idx),
@@ -237,7 +242,7 @@ func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 
 // whyNotSelective names what takes away compound n's signal: nothing
 // there, the baseline terms alone, one other compound (with or without
-// the baseline terms), or several together; ErrSVD when a factorization
+// the baseline terms), or several together; errSVD when a factorization
 // fails.
 func whyNotSelective(set *reference.Set, d *design, n int, minSel float64) (string, error) {
 	col := d.comp[n]
@@ -285,16 +290,4 @@ func whyNotSelective(set *reference.Set, d *design, n int, minSel float64) (stri
 		return "a combination of the other compounds and the baseline terms can imitate its spectrum", nil
 	}
 	return "a combination of the other compounds can imitate its spectrum", nil
-}
-
-// Quantifiable returns nil when every compound of set can be quantified
-// in the design chosen by opt, else the joined *UnquantifiableError of the
-// refused compounds (errors.Is(err, ErrNotSelective) holds), or the error
-// of FiguresOfMerit. The solve step can call it before solving samples.
-func Quantifiable(set *reference.Set, opt MeritOptions) error {
-	m, err := FiguresOfMerit(set, opt)
-	if err != nil {
-		return err
-	}
-	return m.Err()
 }

@@ -8,6 +8,7 @@ import (
 	"strings"
 
 	"huesolve/calibration"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix"
@@ -18,8 +19,8 @@ import (
 // common practice for assays of a main component. They must be set to
 // what the method's own validation plan says.
 const (
-	DefaultRecoveryLo = 98.0
-	DefaultRecoveryHi = 102.0
+	defaultRecoveryLo = 98.0
+	defaultRecoveryHi = 102.0
 	DefaultMaxRSD     = 2.0
 )
 
@@ -38,21 +39,21 @@ type Limits struct {
 
 func (l Limits) withDefaults() (Limits, error) {
 	if l.RecoveryLo == 0 {
-		l.RecoveryLo = DefaultRecoveryLo
+		l.RecoveryLo = defaultRecoveryLo
 	}
 	if l.RecoveryHi == 0 {
-		l.RecoveryHi = DefaultRecoveryHi
+		l.RecoveryHi = defaultRecoveryHi
 	}
 	if l.MaxRSD == 0 {
 		l.MaxRSD = DefaultMaxRSD
 	}
 	for _, v := range []float64{l.RecoveryLo, l.RecoveryHi, l.MaxRSD} {
 		if !(v > 0) || math.IsInf(v, 0) {
-			return l, fmt.Errorf("validate: acceptance limits must be positive numbers, not %g", v)
+			return l, pkgerr.Errorf("validate", "acceptance limits must be positive numbers, not %g", v)
 		}
 	}
 	if l.RecoveryLo >= l.RecoveryHi {
-		return l, fmt.Errorf("validate: recovery limits %g-%g %% are empty", l.RecoveryLo, l.RecoveryHi)
+		return l, pkgerr.Errorf("validate", "recovery limits %g-%g %% are empty", l.RecoveryLo, l.RecoveryHi)
 	}
 	return l, nil
 }
@@ -71,7 +72,7 @@ type Check struct {
 	// result (the sample's and the compound's own), shown with the row:
 	// a recovery from an ill-conditioned or misfitting solve is not to
 	// be trusted as it stands.
-	Flags [][]string
+	Flags [][]unmix.Flag
 	// Zero, if not nil, marks per compound a result the non-negativity
 	// constraint holds at zero (unmix.FlagZero).
 	Zero []bool
@@ -98,7 +99,7 @@ type CheckRow struct {
 	Pass bool `json:"pass"`
 	// Flags are the warning flags of the result (see package unmix),
 	// e.g. "illcond" or "misfit"; they do not change Pass.
-	Flags []string `json:"flags,omitempty"`
+	Flags []unmix.Flag `json:"flags,omitempty"`
 	// HeldAtZero: the non-negativity constraint holds the result at zero
 	// (the compound is not seen; Found and SE are 0).
 	HeldAtZero bool `json:"held_at_zero,omitempty"`
@@ -139,7 +140,7 @@ type Verification struct {
 	Rows      []CheckRow        `json:"checks"`
 	Pass      bool              `json:"pass"`
 	// Merits are the figures of merit of the design the checks were
-	// solved with (set by Verify; nil from Assess).
+	// solved with (set by VerifyContext; nil from Assess).
 	Merits *Merits `json:"figures_of_merit,omitempty"`
 	// Blank says what blank the check standards were corrected with.
 	Blank string `json:"blank,omitempty"`
@@ -206,21 +207,21 @@ func Assess(names, units []string, checks []Check, lim Limits) (*Verification, e
 // non-finite known concentrations and non-finite results.
 func checkChecks(names []string, checks []Check) error {
 	if len(checks) == 0 {
-		return errors.New("validate: no check standards")
+		return pkgerr.New("validate", "no check standards")
 	}
 	n := len(names)
 	for _, c := range checks {
 		if len(c.Known) != n || len(c.Found) != n || len(c.SE) != n || len(c.LOQ) != n {
-			return fmt.Errorf("validate: check %s: %d known, %d found, %d SE, %d LOQ values for %d compounds",
+			return pkgerr.Errorf("validate", "check %s: %d known, %d found, %d SE, %d LOQ values for %d compounds",
 				c.Name, len(c.Known), len(c.Found), len(c.SE), len(c.LOQ), n)
 		}
 		for k := range n {
 			if v := c.Known[k]; !(v >= 0) || math.IsInf(v, 0) {
-				return fmt.Errorf("validate: check %s: known %s %g is not a non-negative number", c.Name, names[k], v)
+				return pkgerr.Errorf("validate", "check %s: known %s %g is not a non-negative number", c.Name, names[k], v)
 			}
 			for _, v := range []float64{c.Found[k], c.SE[k], c.LOQ[k]} {
 				if math.IsNaN(v) || math.IsInf(v, 0) {
-					return fmt.Errorf("validate: check %s: result for %s is not finite", c.Name, names[k])
+					return pkgerr.Errorf("validate", "check %s: result for %s is not finite", c.Name, names[k])
 				}
 			}
 		}
@@ -247,7 +248,7 @@ func assessCompound(name, unit string, k int, checks []Check, lim Limits) (Compo
 		if c.Known[k] > 0 {
 			r := 100 * c.Found[k] / c.Known[k]
 			if math.IsInf(r, 0) {
-				return cv, nil, fmt.Errorf("validate: check %s: known %s %g is too small for a recovery (100 × found %g / known overflows)",
+				return cv, nil, pkgerr.Errorf("validate", "check %s: known %s %g is too small for a recovery (100 × found %g / known overflows)",
 					c.Name, name, c.Known[k], c.Found[k])
 			}
 			row.Recovery = &r
@@ -284,7 +285,7 @@ func assessCompound(name, unit string, k int, checks []Check, lim Limits) (Compo
 func (cv *CompoundVerdict) judgeRecoveries(rec []float64, lim Limits) error {
 	mean, sd := meanSD(rec)
 	if math.IsInf(mean, 0) || math.IsNaN(sd) || math.IsInf(sd, 0) {
-		return fmt.Errorf("validate: %s: recoveries too large to average (known concentrations far below the results?)", cv.Compound)
+		return pkgerr.Errorf("validate", "%s: recoveries too large to average (known concentrations far below the results?)", cv.Compound)
 	}
 	cv.MeanRecovery = mean
 	if len(rec) >= 2 {
@@ -339,19 +340,14 @@ type VerifyOptions struct {
 	MinSelectivity float64
 }
 
-// Verify solves the check standards of sheet against set as samples and
+// VerifyContext solves the check standards of sheet against set as samples and
 // judges them with Assess. The sheet must name the set's compounds (in
 // any order, units matching where both state one); a compound the set
 // cannot quantify in the model's design is refused first (an error
-// wrapping ErrNotSelective). Errors from solving a standard name the
-// sheet and line.
-func Verify(set *reference.Set, sheet *calibration.Sheet, opt VerifyOptions) (*Verification, error) {
-	return VerifyContext(context.Background(), set, sheet, opt)
-}
-
-// VerifyContext is Verify that stops when ctx is done, between check
-// standards: the error then wraps ctx.Err() and says how many check
-// standards had been solved.
+// wrapping errNotSelective). Errors from solving a standard name the
+// sheet and line. It stops when ctx is done, between check standards: the
+// error then wraps ctx.Err() and says how many check standards had been
+// solved.
 func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.Sheet, opt VerifyOptions) (*Verification, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
@@ -375,7 +371,7 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 	}
 	merits, err := FiguresOfMerit(set, MeritOptions{
 		WindowLo: lo, WindowHi: hi, Baseline: opt.Model.Baseline,
-		Weighted: opt.Model.Weighted, MinSelectivity: opt.MinSelectivity,
+		Weighted: opt.Model.Weighted, minSelectivity: opt.MinSelectivity,
 	})
 	if err != nil {
 		return nil, err
@@ -391,15 +387,15 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 		blank = mopt.Blank.Source.String()
 		rows = append(rows, sheet.Blanks...)
 	case len(sheet.Blanks) > 0:
-		b, err := MeanBlank(sheet.Blanks)
+		b, err := meanBlank(sheet.Blanks)
 		if err != nil {
-			return nil, fmt.Errorf("validate: %s: %w", sheet.Path, err)
+			return nil, pkgerr.Errorf("validate", "%s: %w", sheet.Path, err)
 		}
 		mopt.Blank = b
 		blank = fmt.Sprintf("mean of %d blank row(s) of %s", len(sheet.Blanks), sheet.Path)
 	}
 	if len(rows) == 0 {
-		return nil, fmt.Errorf("validate: %s: no check standards to judge", sheet.Path)
+		return nil, pkgerr.Errorf("validate", "%s: no check standards to judge", sheet.Path)
 	}
 	model, err := unmix.NewModel(set, mopt)
 	if err != nil {
@@ -408,13 +404,13 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 	var checks []Check
 	for _, r := range rows {
 		if err := ctx.Err(); err != nil {
-			return nil, fmt.Errorf("validate: stopped after %d of %d check standards: %w", len(checks), len(rows), err)
+			return nil, pkgerr.Errorf("validate", "stopped after %d of %d check standards: %w", len(checks), len(rows), err)
 		}
 		res, err := model.Solve(r.Scan, unmix.Factors{})
 		if err != nil {
-			return nil, fmt.Errorf("validate: %s:%d: check standard %s: %w", sheet.Path, r.Line, rowName(r), err)
+			return nil, pkgerr.Errorf("validate", "%s:%d: check standard %s: %w", sheet.Path, r.Line, standardName(r), err)
 		}
-		checks = append(checks, checkFrom(rowName(r), r.Conc, col, res))
+		checks = append(checks, checkFrom(standardName(r), r.Conc, col, res))
 	}
 	names, units := setNames(set)
 	v, err := Assess(names, units, checks, opt.Limits)
@@ -431,7 +427,7 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 func checkFrom(name string, conc []float64, col []int, res *unmix.Result) Check {
 	n := len(col)
 	c := Check{Name: name, Known: make([]float64, n), Found: make([]float64, n), SE: make([]float64, n), LOQ: make([]float64, n),
-		Flags: make([][]string, n), Zero: make([]bool, n)}
+		Flags: make([][]unmix.Flag, n), Zero: make([]bool, n)}
 	for k := range n {
 		c.Known[k] = conc[col[k]]
 		a := res.Amounts[k]
@@ -439,8 +435,8 @@ func checkFrom(name string, conc []float64, col []int, res *unmix.Result) Check 
 		c.Zero[k] = a.HasFlag(unmix.FlagZero)
 		for _, fs := range [][]unmix.Flag{res.Flags, a.Flags} {
 			for _, f := range fs {
-				if f.Warning() {
-					c.Flags[k] = append(c.Flags[k], string(f))
+				if unmix.IsWarning(f) {
+					c.Flags[k] = append(c.Flags[k], f)
 				}
 			}
 		}
@@ -448,8 +444,9 @@ func checkFrom(name string, conc []float64, col []int, res *unmix.Result) Check 
 	return c
 }
 
-// rowName is the column name of a wide-table row, else the file.
-func rowName(r calibration.Row) string {
+// standardName names a standard of the sheet: the column name of a
+// wide-table row, else the file (calibration's rowName adds the sheet line).
+func standardName(r calibration.Row) string {
 	if r.Column != "" {
 		return r.Column
 	}
@@ -475,25 +472,25 @@ func matchCompounds(set *reference.Set, sheet *calibration.Sheet) ([]int, error)
 	for k, c := range set.Compounds {
 		i, ok := idx[strings.ToLower(c.Name)]
 		if !ok {
-			return nil, fmt.Errorf("validate: %s has no column for compound %s of the reference set", sheet.Path, c.Name)
+			return nil, pkgerr.Errorf("validate", "%s has no column for compound %s of the reference set", sheet.Path, c.Name)
 		}
 		if i < len(sheet.Units) && sheet.Units[i] != "" && c.Unit != "" && sheet.Units[i] != c.Unit {
-			return nil, fmt.Errorf("validate: %s gives %s in %s but the reference set in %s", sheet.Path, c.Name, sheet.Units[i], c.Unit)
+			return nil, pkgerr.Errorf("validate", "%s gives %s in %s but the reference set in %s", sheet.Path, c.Name, sheet.Units[i], c.Unit)
 		}
 		col[k] = i
 		used[i] = true
 	}
 	for i, n := range sheet.Compounds {
 		if !used[i] {
-			return nil, fmt.Errorf("validate: %s names compound %s, which the reference set does not hold", sheet.Path, n)
+			return nil, pkgerr.Errorf("validate", "%s names compound %s, which the reference set does not hold", sheet.Path, n)
 		}
 	}
 	return col, nil
 }
 
-// MeanBlank returns the mean of the blank rows' scans on the first one's
+// meanBlank returns the mean of the blank rows' scans on the first one's
 // grid (the others interpolated onto it, never extrapolated).
-func MeanBlank(rows []calibration.Row) (*spectrum.Spectrum, error) {
+func meanBlank(rows []calibration.Row) (*spectrum.Spectrum, error) {
 	if len(rows) == 0 {
 		return nil, errors.New("no blank rows")
 	}
@@ -508,7 +505,7 @@ func MeanBlank(rows []calibration.Row) (*spectrum.Spectrum, error) {
 		}
 		on, err := s.Resample(b.Wavelengths)
 		if err != nil {
-			return nil, fmt.Errorf("blank %s: %w", rowName(r), err)
+			return nil, fmt.Errorf("blank %s: %w", standardName(r), err)
 		}
 		for i, v := range on.Values {
 			b.Values[i] += v

@@ -135,9 +135,9 @@ func TestFlaggedRows(t *testing.T) {
 	loq := []float64{0.05, 0.05}
 	checks := []Check{
 		{Name: "c1", Known: []float64{10, 5}, Found: []float64{10, 5}, SE: []float64{0.1, 0.1}, LOQ: loq,
-			Flags: [][]string{{"misfit"}, {"misfit", "illcond"}}},
+			Flags: [][]unmix.Flag{{"misfit"}, {"misfit", "illcond"}}},
 		{Name: "c2", Known: []float64{10, 5}, Found: []float64{10, 5}, SE: []float64{0.1, 0.1}, LOQ: loq,
-			Flags: [][]string{nil, {"illcond"}}},
+			Flags: [][]unmix.Flag{nil, {"illcond"}}},
 		{Name: "c3", Known: []float64{10, 5}, Found: []float64{10, 5}, SE: []float64{0.1, 0.1}, LOQ: loq},
 	}
 	v, err := Assess([]string{"X", "Y"}, nil, checks, Limits{})

@@ -2,7 +2,6 @@ package validate
 
 import (
 	"encoding/json"
-	"errors"
 	"fmt"
 	"math"
 	"sort"
@@ -12,6 +11,7 @@ import (
 	"gonum.org/v1/gonum/mat"
 
 	"huesolve/baseline"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/unmix"
 	"huesolve/unmix/lsq"
@@ -146,8 +146,8 @@ func percentOf(f float64) float64 {
 	return p
 }
 
-// ErrNoWindow: no candidate window determines every compound.
-var ErrNoWindow = errors.New("validate: no window of the allowed widths tells every compound apart")
+// errNoWindow: no candidate window determines every compound.
+var errNoWindow = pkgerr.New("validate", "no window of the allowed widths tells every compound apart")
 
 // AdviseWindow scans candidate windows [Lo, Hi] with edges every StepNM
 // over the usable grid, MinWidthNM <= Hi - Lo (<= MaxWidthNM if set), and
@@ -171,7 +171,7 @@ var ErrNoWindow = errors.New("validate: no window of the allowed widths tells ev
 // 2800 and m about 150 on average.
 //
 // Errors: those of FiguresOfMerit for the set and noise model, a bad
-// option, or ErrNoWindow when every candidate is singular.
+// option, or errNoWindow when every candidate is singular.
 func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
@@ -185,10 +185,10 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 	}
 	adv.Edges = ws.edges()
 	if len(ws.wl) == 0 {
-		return nil, fmt.Errorf("%w: every wavelength is above the ceiling at the levels", ErrWindow)
+		return nil, fmt.Errorf("%w: every wavelength is above the ceiling at the levels", errWindow)
 	}
 	if err := opt.Baseline.Check(ws.wl); err != nil {
-		return nil, fmt.Errorf("validate: baseline model: %w", err)
+		return nil, pkgerr.Errorf("validate", "baseline model: %w", err)
 	}
 	if err := ws.candidates(adv); err != nil {
 		return nil, err
@@ -223,7 +223,7 @@ func newWindowSearch(set *reference.Set, opt WindowOptions) (*windowSearch, *Win
 		ws.path = set.PathCM
 	}
 	if !(ws.path > 0) || math.IsInf(ws.path, 0) {
-		return nil, nil, fmt.Errorf("validate: path length %g cm is not a positive number", ws.path)
+		return nil, nil, pkgerr.Errorf("validate", "path length %g cm is not a positive number", ws.path)
 	}
 	if ws.step == 0 {
 		ws.step = DefaultStepNM
@@ -240,10 +240,10 @@ func newWindowSearch(set *reference.Set, opt WindowOptions) (*windowSearch, *Win
 	}
 	step, minW, maxW := ws.step, ws.minW, ws.maxW
 	if !(step > 0) || math.IsInf(step, 0) || !(minW > 0) || math.IsInf(minW, 0) || math.IsNaN(eq) || math.IsInf(eq, 0) {
-		return nil, nil, fmt.Errorf("validate: window step %g nm, minimum width %g nm and margin %g must be positive and finite", step, minW, eq)
+		return nil, nil, pkgerr.Errorf("validate", "window step %g nm, minimum width %g nm and margin %g must be positive and finite", step, minW, eq)
 	}
 	if maxW < 0 || math.IsNaN(maxW) || (maxW > 0 && maxW < minW) {
-		return nil, nil, fmt.Errorf("validate: maximum window width %g nm must be positive and at least the minimum %g nm", maxW, minW)
+		return nil, nil, pkgerr.Errorf("validate", "maximum window width %g nm must be positive and at least the minimum %g nm", maxW, minW)
 	}
 	levels, err := windowLevels(set, opt.Levels)
 	if err != nil {
@@ -267,7 +267,7 @@ func (ws *windowSearch) rows() error {
 	set := ws.set
 	ws.all = usableRows(set, ws.opt.Lo, ws.opt.Hi)
 	if len(ws.all) < 2 {
-		return fmt.Errorf("%w: %d", ErrWindow, len(ws.all))
+		return fmt.Errorf("%w: %d", errWindow, len(ws.all))
 	}
 	ws.above = make([]bool, len(ws.all))
 	var absorb []float64
@@ -344,7 +344,7 @@ func (ws *windowSearch) candidates(adv *WindowAdvice) error {
 				}
 			}
 			if err := work.evaluate(&cand, ws, ws.keep[r0:r1]); err != nil {
-				return fmt.Errorf("validate: window %g-%g nm: %w", lo, hi, err)
+				return pkgerr.Errorf("validate", "window %g-%g nm: %w", lo, hi, err)
 			}
 			if !cand.Singular {
 				for k := range cand.SE {
@@ -360,7 +360,7 @@ func (ws *windowSearch) candidates(adv *WindowAdvice) error {
 }
 
 // rankWindows ranks the candidates that are not singular and picks the
-// recommended one; ErrNoWindow when every candidate is singular.
+// recommended one; errNoWindow when every candidate is singular.
 func rankWindows(adv *WindowAdvice) error {
 	for i, c := range adv.Candidates {
 		if !c.Singular {
@@ -368,7 +368,7 @@ func rankWindows(adv *WindowAdvice) error {
 		}
 	}
 	if len(adv.Ranked) == 0 {
-		return ErrNoWindow
+		return errNoWindow
 	}
 	sort.SliceStable(adv.Ranked, func(i, j int) bool {
 		a, b := adv.Candidates[adv.Ranked[i]], adv.Candidates[adv.Ranked[j]]
@@ -400,14 +400,14 @@ func rankWindows(adv *WindowAdvice) error {
 func windowLevels(set *reference.Set, given []float64) ([]float64, error) {
 	n := len(set.Compounds)
 	if given != nil && len(given) != n {
-		return nil, fmt.Errorf("validate: %d levels for %d compounds", len(given), n)
+		return nil, pkgerr.Errorf("validate", "%d levels for %d compounds", len(given), n)
 	}
 	out := make([]float64, n)
 	for k, c := range set.Compounds {
 		if given != nil && given[k] != 0 {
 			v := given[k]
 			if !(v > 0) || math.IsInf(v, 0) {
-				return nil, fmt.Errorf("validate: level %g of %s is not a positive number", v, c.Name)
+				return nil, pkgerr.Errorf("validate", "level %g of %s is not a positive number", v, c.Name)
 			}
 			out[k] = v
 			continue
@@ -442,7 +442,7 @@ func newWindowWork(maxRows, ncol int) *windowWork {
 
 // evaluate fills c.Cond, c.Singular and c.SE for the window [c.Lo, c.Hi]
 // fitted on the grid points keep (those of the window not above the
-// ceiling); ErrSVD when the factorization fails. The design is solve's,
+// ceiling); errSVD when the factorization fails. The design is solve's,
 // unmix.NewDesign on the window (baseline terms over the whole window),
 // on those points.
 //
@@ -499,11 +499,11 @@ func (ws *windowWork) evaluate(c *Candidate, s *windowSearch, keep []int) error 
 		kind = mat.SVDThin
 	}
 	if !ws.svd.Factorize(x, kind) {
-		return ErrSVD
+		return errSVD
 	}
 	sv := ws.svd.Values(nil)
 	if !finiteSV(sv) {
-		return ErrSVD
+		return errSVD
 	}
 	c.Cond, c.Singular = clampCond(sv[0], sv[len(sv)-1], lsq.RankTol(m, ncol))
 	if c.Singular {
@@ -534,30 +534,4 @@ func (ws *windowWork) evaluate(c *Candidate, s *windowSearch, keep []int) error 
 		c.SE[n] = math.Sqrt(vsum) / norm[n]
 	}
 	return nil
-}
-
-// Surface returns, for plotting, the edges and a matrix z[i][j] = f(c)
-// for the candidate with Lo = Edges[i] and Hi = Edges[j], NaN where there
-// is no such candidate or f returns NaN.
-func (a *WindowAdvice) Surface(f func(c Candidate) float64) [][]float64 {
-	n := len(a.Edges)
-	z := make([][]float64, n)
-	for i := range z {
-		z[i] = make([]float64, n)
-		for j := range z[i] {
-			z[i][j] = math.NaN()
-		}
-	}
-	pos := make(map[float64]int, n)
-	for i, e := range a.Edges {
-		pos[e] = i
-	}
-	for _, c := range a.Candidates {
-		i, ok1 := pos[c.Lo]
-		j, ok2 := pos[c.Hi]
-		if ok1 && ok2 {
-			z[i][j] = f(c)
-		}
-	}
-	return z
 }

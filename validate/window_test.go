@@ -109,8 +109,8 @@ func TestAdviseWindowErrors(t *testing.T) {
 	g := grid(400, 700, 1)
 	a := gauss(g, 500, 30, 1)
 	set := memSet(g, []string{"A", "A2"}, [][]float64{a, a}, 0.001)
-	if _, err := AdviseWindow(set, WindowOptions{Baseline: noBaseline}); !errors.Is(err, ErrNoWindow) {
-		t.Errorf("duplicate compounds: err = %v, want ErrNoWindow", err)
+	if _, err := AdviseWindow(set, WindowOptions{Baseline: noBaseline}); !errors.Is(err, errNoWindow) {
+		t.Errorf("duplicate compounds: err = %v, want errNoWindow", err)
 	}
 	set = memSet(g, []string{"A"}, [][]float64{a}, 0.001)
 	for _, opt := range []WindowOptions{{StepNM: -1}, {MinWidthNM: -5}, {Levels: []float64{1, 2}}, {Levels: []float64{-1}}, {PathCM: -2}} {
@@ -119,8 +119,8 @@ func TestAdviseWindowErrors(t *testing.T) {
 		}
 	}
 	// Levels so high that everything is above the ceiling.
-	if _, err := AdviseWindow(set, WindowOptions{Levels: []float64{1e15}}); !errors.Is(err, ErrWindow) {
-		t.Errorf("all saturated: err = %v, want ErrWindow", err)
+	if _, err := AdviseWindow(set, WindowOptions{Levels: []float64{1e15}}); !errors.Is(err, errWindow) {
+		t.Errorf("all saturated: err = %v, want errWindow", err)
 	}
 }
 

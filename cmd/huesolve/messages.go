@@ -12,7 +12,6 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
-	"regexp"
 	"strings"
 	"syscall"
 
@@ -31,15 +30,9 @@ func noteTo(w io.Writer) func(string) {
 	return func(msg string) { fmt.Fprintln(w, "huesolve: note:", msg) }
 }
 
-// packagePrefix matches the package prefixes of the libraries whose
-// errors do not yet mark their prefix with pkgerr where a message or one
-// of its wrapped parts begins. spectrum, baseline, report, reference,
-// calibration (with its "build" step) and atomicfile mark theirs:
-// pkgerr.Plain leaves them out.
-var packagePrefix = regexp.MustCompile(`(^|: )(?:(?:unmix|batch|lsq|validate): )+`)
-
 // userMessage is err as one readable line: package prefixes of the
-// libraries left out (pkgerr.Plain, then packagePrefix for the rest),
+// libraries left out (pkgerr.Plain walks the chain of wrapped errors; no
+// words are matched),
 // the operating system's file errors said in plain words ("x.json does
 // not exist" rather than "stat x.json: no such file or directory"), and a
 // part repeated right after itself said once.
@@ -53,7 +46,6 @@ func userMessage(err error) string {
 		msg = strings.Replace(msg, pe.Error(), plainPathError(pe), 1)
 		e = pe
 	}
-	msg = packagePrefix.ReplaceAllString(msg, "$1")
 	return dropRepeats(msg)
 }
 

@@ -180,10 +180,10 @@ func TestUserMessage(t *testing.T) {
 	}{
 		{pkgerr.Errorf("calibration: build", "std.csv: %w", pkgerr.New("reference", "too few standards")), "std.csv: too few standards"},
 		{fmt.Errorf("blank: %w", pkgerr.Errorf("spectrum", "%w", pe)), "blank: x.csv does not exist"},
-		// spectrum and baseline mark their prefixes (pkgerr): left out
-		// wherever the error sits in the chain.
-		{fmt.Errorf("unmix: %w", pkgerr.Errorf("spectrum", "a.csv: %w", baseline.ErrUnevenGrid)), "a.csv: wavelength grid is not evenly spaced"},
-		{fmt.Errorf("unmix: a.csv: a.csv: bad value"), "a.csv: bad value"},
+		// unmix, spectrum and baseline mark their prefixes (pkgerr): left
+		// out wherever the error sits in the chain.
+		{pkgerr.Errorf("unmix", "%w", pkgerr.Errorf("spectrum", "a.csv: %w", baseline.ErrUnevenGrid)), "a.csv: wavelength grid is not evenly spaced"},
+		{pkgerr.Errorf("unmix", "a.csv: a.csv: bad value"), "a.csv: bad value"},
 		// Words that only look like a package name stay.
 		{errors.New("sheet.csv:3: compound report: unknown"), "sheet.csv:3: compound report: unknown"},
 	}

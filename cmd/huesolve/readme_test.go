@@ -316,12 +316,12 @@ func TestReadmeFlagTable(t *testing.T) {
 	for _, f := range unmix.AllFlags() {
 		known[string(f)] = true
 		if !strings.Contains(text.String(), "| `"+string(f)+"` ") {
-			t.Errorf("README: the flag table has no row for %s (%s)", f, f.Meaning())
+			t.Errorf("README: the flag table has no row for %s (%s)", f, unmix.Meaning(f))
 		}
 	}
-	for _, f := range reference.Flags {
-		known[f.Code] = true
-		if !strings.Contains(text.String(), "`"+f.Code+"`") {
+	for _, f := range reference.Flags() {
+		known[string(f.Code)] = true
+		if !strings.Contains(text.String(), "`"+string(f.Code)+"`") {
 			t.Errorf("README: reference-set flag %s is not explained", f.Code)
 		}
 	}

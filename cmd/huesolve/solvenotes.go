@@ -46,7 +46,7 @@ func solveSetNotes(set *reference.Set, model *unmix.Model, blank string, inputs 
 		var fs []string
 		for _, f := range c.Flags {
 			if f == reference.FlagCurved || f == reference.FlagLackOfFit {
-				fs = append(fs, f)
+				fs = append(fs, string(f))
 			}
 		}
 		if len(fs) > 0 {

@@ -129,7 +129,7 @@ func TestSolveSetNotes(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	set.Compounds[3].Flags = []string{reference.FlagCurved, reference.FlagFewLevels}
+	set.Compounds[3].Flags = []reference.Flag{reference.FlagCurved, reference.FlagFewLevels}
 	st, err := baseline.ParseStep("sg:11,2")
 	if err != nil {
 		t.Fatal(err)

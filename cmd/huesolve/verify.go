@@ -5,11 +5,11 @@ import (
 	"errors"
 	"fmt"
 	"io"
-	"strings"
 
 	"github.com/spf13/cobra"
 
 	"huesolve/calibration"
+	"huesolve/internal/pkgerr"
 	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/spectrum"
@@ -220,7 +220,7 @@ func (o *verifyOptions) interrupted(ctx context.Context, err error) error {
 	if ctx.Err() == nil || !errors.Is(err, ctx.Err()) {
 		return err
 	}
-	msg := "interrupted: " + strings.TrimPrefix(err.Error(), "validate: ")
+	msg := "interrupted: " + pkgerr.Plain(err)
 	if o.output.out != "" {
 		msg += "; nothing written to " + o.output.out
 	} else {

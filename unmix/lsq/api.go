@@ -1,10 +1,11 @@
 package lsq
 
 import (
-	"errors"
 	"fmt"
 	"strconv"
 	"strings"
+
+	"huesolve/internal/pkgerr"
 )
 
 // Status tells how a solve ended.
@@ -50,16 +51,16 @@ type Options struct {
 	// of the p×p triangular factor, instead of the O(n p) of a solve with
 	// a fixed design.
 	Sigma []float64
-	// ScaleSE scales standard errors by the fitted residual variance
+	// scaleSE scales standard errors by the fitted residual variance
 	// even when Sigma is given (the usual choice when Sigma is only
 	// known up to a factor).
-	ScaleSE bool
-	// Tol is the relative tolerance of the active-set tests; 0 means
-	// the package default [DefaultTol].
-	Tol float64
-	// MaxIter caps active-set iterations; 0 means the package default,
-	// which scales with the number of columns ([IterPerColumn] per column).
-	MaxIter int
+	scaleSE bool
+	// tol is the relative tolerance of the active-set tests; 0 means
+	// the package default [defaultTol].
+	tol float64
+	// maxIter caps active-set iterations; 0 means the package default,
+	// which scales with the number of columns ([iterPerColumn] per column).
+	maxIter int
 	// PseudoInverse keeps the pseudo-inverse of the design for
 	// [Solver.PseudoInverseRow] (p n numbers, O(n p^2) flops at set-up).
 	PseudoInverse bool
@@ -73,59 +74,59 @@ type Options struct {
 type Result struct {
 	Coef     []float64 // coefficients, one per column
 	SE       []float64 // standard errors (0 for coefficients held at the bound; NaN if DoF == 0 and the noise is estimated)
-	Lo, Hi   []float64 // 95 % confidence interval (Student t on DoF; normal quantile when Sigma is known and ScaleSE is false); Lo = Hi = 0 at the bound
+	lo, hi   []float64 // 95 % confidence interval (Student t on DoF; normal quantile when Sigma is known and scaleSE is false); lo = hi = 0 at the bound
 	AtBound  []bool    // true where a non-negative coefficient is held at zero
 	Residual []float64 // y - X b, recomputed from the original data
 
 	DoF        int     // rows minus coefficients not at the bound
 	RSS        float64 // residual sum of squares (unweighted)
 	RMS        float64 // sqrt(RSS / rows)
-	ChiSqRed   float64 // sum((r/sigma)^2)/DoF when Sigma is known, else NaN (NaN also when DoF == 0)
+	chiSqRed   float64 // sum((r/sigma)^2)/DoF when Sigma is known, else NaN (NaN also when DoF == 0)
 	R2         float64 // 1 - RSS/TSS with TSS about the mean of y (NaN if y is constant)
 	DW         float64 // Durbin-Watson statistic of the weighted residual r/sigma over row order (NaN if the residual is zero)
-	WorstLo    int     // first row of the band with the largest mean squared (weighted) residual
-	WorstHi    int     // last row of that band (inclusive); see [BandWidth]
+	worstLo    int     // first row of the band with the largest mean squared (weighted) residual
+	worstHi    int     // last row of that band (inclusive); see [bandWidth]
 	KKT        float64 // relative KKT residual
 	Status     Status
-	Iterations int
+	iterations int
 
-	// WRSS is the weighted residual sum of squares sum((r/sigma)^2)
+	// wrss is the weighted residual sum of squares sum((r/sigma)^2)
 	// (equal to RSS when Sigma is nil).
-	WRSS float64
-	// Scale is the residual variance s^2 the standard errors were scaled
-	// by: WRSS/DoF, or 1 when Sigma is known and ScaleSE is false.
-	Scale float64
+	wrss float64
+	// scale is the residual variance s^2 the standard errors were scaled
+	// by: wrss/DoF, or 1 when Sigma is known and scaleSE is false.
+	scale float64
 
 	// Unconstrained holds the ordinary (weighted) least-squares
-	// coefficients with every constraint dropped, and UnconstrainedSE
+	// coefficients with every constraint dropped, and unconstrainedSE
 	// their standard errors (s^2 from that fit's residual on n - p
-	// degrees of freedom, or 1 when Sigma is known and ScaleSE is false;
+	// degrees of freedom, or 1 when Sigma is known and scaleSE is false;
 	// NaN when n == p and the noise is estimated). For a coefficient held
 	// at zero they say how far below zero the data would put it. They
 	// equal Coef and SE when nothing is at the bound.
-	Unconstrained, UnconstrainedSE []float64
+	Unconstrained, unconstrainedSE []float64
 }
 
 // Errors.
 var (
 	// ErrRankDeficient: two or more columns are (nearly) linearly
 	// dependent, so the coefficients are not determined. NewSolver returns
-	// it wrapped in a *RankError that names the columns.
-	ErrRankDeficient = errors.New("lsq: columns are linearly dependent")
+	// it wrapped in a *rankError that names the columns.
+	ErrRankDeficient = pkgerr.New("lsq", "columns are linearly dependent")
 	// ErrNoConvergence: the active-set iteration hit its cap.
-	ErrNoConvergence = errors.New("lsq: active-set iteration did not converge")
+	ErrNoConvergence = pkgerr.New("lsq", "active-set iteration did not converge")
 	// ErrInaccurate: the KKT residual recomputed from the original data
 	// exceeds KKTTol (Status Inaccurate).
-	ErrInaccurate = errors.New("lsq: KKT certificate failed")
-	// ErrNonFinite: an input holds NaN or an infinity.
-	ErrNonFinite = errors.New("lsq: non-finite value")
-	// ErrShape: slice or matrix sizes do not agree, or the design is empty.
-	ErrShape = errors.New("lsq: sizes do not agree")
+	ErrInaccurate = pkgerr.New("lsq", "KKT certificate failed")
+	// errNonFinite: an input holds NaN or an infinity.
+	errNonFinite = pkgerr.New("lsq", "non-finite value")
+	// errShape: slice or matrix sizes do not agree, or the design is empty.
+	errShape = pkgerr.New("lsq", "sizes do not agree")
 )
 
-// RankError reports a design whose columns are (nearly) linearly
+// rankError reports a design whose columns are (nearly) linearly
 // dependent. It unwraps to ErrRankDeficient.
-type RankError struct {
+type rankError struct {
 	// Columns are the (0-based) indices of the columns taking part in the
 	// dependence, in increasing order.
 	Columns []int
@@ -136,9 +137,11 @@ type RankError struct {
 	Rows, Cols int
 }
 
-func (e *RankError) Error() string {
+func (e *rankError) Error() string { return "lsq: " + e.Unprefixed() }
+
+// Unprefixed is the error's text without the package prefix.
+func (e *rankError) Unprefixed() string {
 	var b strings.Builder
-	b.WriteString("lsq: ")
 	switch {
 	case e.Rows < e.Cols:
 		fmt.Fprintf(&b, "%d rows cannot determine %d coefficients", e.Rows, e.Cols)
@@ -158,4 +161,4 @@ func (e *RankError) Error() string {
 }
 
 // Unwrap returns ErrRankDeficient.
-func (e *RankError) Unwrap() error { return ErrRankDeficient }
+func (e *rankError) Unwrap() error { return ErrRankDeficient }

@@ -67,7 +67,7 @@ const (
 	hilbertEps   = 1.0
 )
 
-// TestHilbertCond checks Cond2 (QR, then SVD of R) against the 2-norm
+// TestHilbertCond checks cond2 (QR, then SVD of R) against the 2-norm
 // condition numbers of Hilbert matrices of order 3 to 8 in
 // testdata/hilbert/conditioning.md.
 func TestHilbertCond(t *testing.T) {
@@ -77,7 +77,7 @@ func TestHilbertCond(t *testing.T) {
 		if !ok {
 			t.Fatalf("no table value for n = %d", n)
 		}
-		got, err := Cond2(hilbert(n))
+		got, err := cond2(hilbert(n))
 		if err != nil {
 			t.Fatal(err)
 		}
@@ -98,8 +98,8 @@ func TestHilbertCond(t *testing.T) {
 	t.Log(err)
 }
 
-// TestSolverCondScaled: Solver.Cond is Cond2 of the weighted design with
-// unit-norm columns; with unit columns and no weights it equals Cond2.
+// TestSolverCondScaled: Solver.Cond is cond2 of the weighted design with
+// unit-norm columns; with unit columns and no weights it equals cond2.
 func TestSolverCondScaled(t *testing.T) {
 	h := hilbert(6)
 	sigma := []float64{1, 2, 0.5, 1, 3, 1}
@@ -119,7 +119,7 @@ func TestSolverCondScaled(t *testing.T) {
 			scaled.Set(i, j, h.At(i, j)/sigma[i]/nrm)
 		}
 	}
-	want, err := Cond2(scaled)
+	want, err := cond2(scaled)
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -140,11 +140,10 @@ func TestSolverCondScaled(t *testing.T) {
 	}
 }
 
-// TestVIFLeakage checks VIF, sensitivity and leakage against their definitions computed
-// independently with gonum: VIF_j = 1/(1 - R_j^2), R_j^2 the uncentred
-// fraction of x_j explained by the other columns (least squares by
-// mat.QR), and leakage ||x_k - proj_free x_k|| / ||x_k||.
-func TestVIFLeakage(t *testing.T) {
+// TestLeakage checks the leakage against its definition computed
+// independently with gonum, ||x_k - proj_free x_k|| / ||x_k|| (least
+// squares by mat.QR).
+func TestLeakage(t *testing.T) {
 	const n = 30
 	x := mat.NewDense(n, 4, nil)
 	for i := range n {
@@ -159,7 +158,7 @@ func TestVIFLeakage(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	vif, leak := s.VIF(), s.Leakage()
+	leak := s.Leakage()
 	explained := func(j int, others []int) float64 {
 		sub := mat.NewDense(n, len(others), nil)
 		for c, k := range others {
@@ -179,62 +178,12 @@ func TestVIFLeakage(t *testing.T) {
 		return mat.Dot(&fit, &fit) / mat.Dot(col, col) // unexplained fraction
 	}
 	for j := range 4 {
-		var others []int
-		for k := range 4 {
-			if k != j {
-				others = append(others, k)
-			}
-		}
-		want := 1 / explained(j, others)
-		if math.Abs(vif[j]-want) > 1e-9*want {
-			t.Errorf("VIF[%d] = %.12g, want %.12g", j, vif[j], want)
-		}
-	}
-	sen := s.Sensitivity()
-	for j := range 4 {
-		var others []int
-		for k := range 4 {
-			if k != j {
-				others = append(others, k)
-			}
-		}
-		want := mat.Norm(x.ColView(j), 2) * math.Sqrt(explained(j, others))
-		if math.Abs(sen[j]-want) > 1e-9*want {
-			t.Errorf("Sensitivity[%d] = %.12g, want %.12g", j, sen[j], want)
-		}
-	}
-	for j := range 4 {
 		want := 1.0
 		if nonneg[j] {
 			want = math.Sqrt(explained(j, []int{2, 3}))
 		}
 		if math.Abs(leak[j]-want) > 1e-12 {
 			t.Errorf("Leakage[%d] = %.12g, want %.12g", j, leak[j], want)
-		}
-	}
-	c := s.Conditioning()
-	t.Logf("cond %.4g, VIF %.4g, leakage %.4g, verdict %v", c.Cond, c.VIF, c.Leakage, c.Verdict)
-}
-
-func TestVerdicts(t *testing.T) {
-	for _, c := range []struct {
-		got, want Verdict
-	}{
-		{CondVerdict(1), Sound},
-		{CondVerdict(CondWarn), Sound},
-		{CondVerdict(CondWarn * 1.01), Warn},
-		{CondVerdict(CondRefuse * 1.01), Refuse},
-		{CondVerdict(math.Inf(1)), Refuse},
-		{CondVerdict(math.NaN()), Refuse},
-		{VIFVerdict(1), Sound},
-		{VIFVerdict(11), Warn},
-		{VIFVerdict(1e4), Refuse},
-		{LeakageVerdict(1), Sound},
-		{LeakageVerdict(0.4), Warn},
-		{LeakageVerdict(0.01), Refuse},
-	} {
-		if c.got != c.want {
-			t.Errorf("verdict %v, want %v", c.got, c.want)
 		}
 	}
 }

@@ -58,12 +58,12 @@
 //
 // with T the triangular factor of the passive columns of R (so again no
 // X'X), s^2 = sum (r_i/sigma_i)^2 / (n - |A|), or s^2 = 1 when Sigma carries
-// the noise level and Options.ScaleSE is false. Intervals are b_j ± q SE_j
+// the noise level and Options.scaleSE is false. Intervals are b_j ± q SE_j
 // with q the 0.975 quantile of Student's t on n - |A| degrees of freedom
 // (the standard normal quantile when the noise level is known).
 // Coefficients held at zero are marked AtBound, with SE 0: the
 // linearised covariance says nothing about them. Beside the constrained
-// fit, Result.Unconstrained and UnconstrainedSE give the ordinary least
+// fit, Result.Unconstrained and unconstrainedSE give the ordinary least
 // squares estimate (R b_u = z, at p^2 flops) so that a caller can show how
 // far below zero the data would put a coefficient held at the bound.
 //
@@ -75,8 +75,9 @@
 //	DW = sum_(i=2..n) (e_i - e_(i-1))^2 / sum_i e_i^2,   e_i = r_i / sigma_i,
 //
 // over row order (Durbin & Watson, Biometrika 37, 1950), and the band of
-// [BandWidth] rows with the largest mean squared e_i. [Result.LackOfFit]
-// turns DW and the reduced chi-square into a verdict.
+// [bandWidth] rows with the largest mean squared e_i. [DWSevere] and
+// [ChiSqSevere] are the limits the callers compare DW and the reduced
+// chi-square with.
 //
 // # Cost
 //
@@ -86,17 +87,15 @@
 // set and standard errors. Weights that change from one y to the next
 // (Options.Sigma) are part of the factorisation, so they need a new
 // factorisation per y: O(n p^2) per spectrum instead of O(n p), with
-// [Solver.Reset] reusing the storage of one Solver.
+// [Solver.reset] reusing the storage of one Solver.
 //
 // # Conditioning
 //
 // [Solver.Cond] is the 2-norm condition number of X_s (units do not
-// masquerade as collinearity), [Solver.VIF] the variance inflation factor
-// of each column of X_s, diag((X_s'X_s)^-1), the uncentred form (each
-// column against all others, the free ones included), and [Solver.Leakage]
-// ||P s_k|| / ||s_k||, which is 1/sqrt of the VIF of s_k against the free
-// block alone. [CondVerdict], [VIFVerdict] and [LeakageVerdict] compare them
-// with documented thresholds.
+// masquerade as collinearity) and [Solver.Leakage] ||P s_k|| / ||s_k||,
+// which is 1/sqrt of the variance inflation factor of s_k against the free
+// block alone. [CondWarn], [CondRefuse] and [LeakageWarn] are the limits
+// the callers compare them with.
 //
 // # Workspaces and concurrency
 //

@@ -40,12 +40,12 @@ func Example() {
 		fmt.Printf("%-6s %8.5f ± %.5f  at bound: %v\n", name, res.Coef[j], res.SE[j], res.AtBound[j])
 	}
 	fmt.Printf("status %v, KKT below tolerance: %v, DoF %d\n", res.Status, res.KKT <= lsq.KKTTol, res.DoF)
-	fmt.Printf("condition number %.1f (%v)\n", s.Cond(), lsq.CondVerdict(s.Cond()))
+	fmt.Printf("condition number %.1f (warning above %g)\n", s.Cond(), lsq.CondWarn)
 	// Output:
 	// band A  0.75017 ± 0.00047  at bound: false
 	// band B  0.00000 ± 0.00000  at bound: true
 	// offset  0.01947 ± 0.00019  at bound: false
 	// slope   0.00948 ± 0.00054  at bound: false
 	// status converged, KKT below tolerance: true, DoF 48
-	// condition number 2.7 (sound)
+	// condition number 2.7 (warning above 30)
 }

@@ -79,8 +79,8 @@ func TestOLSGoesNegative(t *testing.T) {
 	}
 	for j := range 3 {
 		w := math.Sqrt(rssOLS / float64(n-3) * inv.At(j, j))
-		if math.Abs(res.UnconstrainedSE[j]-w) > 1e-8*w {
-			t.Errorf("UnconstrainedSE[%d] = %.15g, want %.15g", j, res.UnconstrainedSE[j], w)
+		if math.Abs(res.unconstrainedSE[j]-w) > 1e-8*w {
+			t.Errorf("unconstrainedSE[%d] = %.15g, want %.15g", j, res.unconstrainedSE[j], w)
 		}
 	}
 	if res.Coef[1] != 0 || !res.AtBound[1] || res.SE[1] != 0 {
@@ -178,9 +178,9 @@ func TestRankDeficient(t *testing.T) {
 			if s != nil || !errors.Is(err, ErrRankDeficient) {
 				t.Fatalf("NewSolver = %v, %v; want ErrRankDeficient", s, err)
 			}
-			var re *RankError
+			var re *rankError
 			if !errors.As(err, &re) {
-				t.Fatalf("error %T is not a *RankError", err)
+				t.Fatalf("error %T is not a *rankError", err)
 			}
 			if !slices.Equal(re.Columns, c.want) {
 				t.Errorf("columns %v, want %v (%v)", re.Columns, c.want, err)
@@ -192,13 +192,13 @@ func TestRankDeficient(t *testing.T) {
 
 func TestBadInput(t *testing.T) {
 	x := mat.NewDense(3, 1, []float64{1, 2, 3})
-	if _, err := NewSolver(x, []bool{true, false}, Options{}); !errors.Is(err, ErrShape) {
+	if _, err := NewSolver(x, []bool{true, false}, Options{}); !errors.Is(err, errShape) {
 		t.Errorf("flags mismatch: %v", err)
 	}
-	if _, err := NewSolver(x, []bool{true}, Options{Sigma: []float64{1, 0, 1}}); !errors.Is(err, ErrNonFinite) {
+	if _, err := NewSolver(x, []bool{true}, Options{Sigma: []float64{1, 0, 1}}); !errors.Is(err, errNonFinite) {
 		t.Errorf("zero sigma: %v", err)
 	}
-	if _, err := NewSolver(mat.NewDense(3, 1, []float64{1, math.NaN(), 3}), []bool{true}, Options{}); !errors.Is(err, ErrNonFinite) {
+	if _, err := NewSolver(mat.NewDense(3, 1, []float64{1, math.NaN(), 3}), []bool{true}, Options{}); !errors.Is(err, errNonFinite) {
 		t.Errorf("NaN design: %v", err)
 	}
 	s, err := NewSolver(x, []bool{true}, Options{})
@@ -206,11 +206,11 @@ func TestBadInput(t *testing.T) {
 		t.Fatal(err)
 	}
 	var res Result
-	if err := s.Solve(&res, []float64{1, 2}); !errors.Is(err, ErrShape) {
+	if err := s.Solve(&res, []float64{1, 2}); !errors.Is(err, errShape) {
 		t.Errorf("short y: %v", err)
 	}
 	err = s.Solve(&res, []float64{1, math.Inf(1), 2})
-	if !errors.Is(err, ErrNonFinite) || err.Error() != "lsq: row 1 of y is +Inf: lsq: non-finite value" {
+	if !errors.Is(err, errNonFinite) || err.Error() != "lsq: row 1 of y is +Inf: lsq: non-finite value" {
 		t.Errorf("Inf in y: %v", err)
 	}
 }

@@ -224,7 +224,7 @@ func designCond(t *testing.T) map[string]float64 {
 	return out
 }
 
-// Relative tolerances of Cond2 against mpmath. A double-precision SVD
+// Relative tolerances of cond2 against mpmath. A double-precision SVD
 // resolves cond2 only to about 1e-16 * cond2 relative: 5e-7 for
 // Longley's design (cond2 near 4.9e9), 1e-13 for Norris (855).
 // Measured: Longley 2.9e-14, Norris 6.6e-16; the bounds leave a factor
@@ -234,7 +234,7 @@ const (
 	condTolNorris  = 1e-13
 )
 
-// TestDesignCond checks Cond2 on the unscaled NIST designs against the
+// TestDesignCond checks cond2 on the unscaled NIST designs against the
 // values of designCond. Longley's design (cond2 near 4.9e9) is resolved
 // by a double-precision SVD only to about 1e-16 * cond2 relative.
 func TestDesignCond(t *testing.T) {
@@ -251,12 +251,12 @@ func TestDesignCond(t *testing.T) {
 			t.Fatalf("no condition number for %s", c.name)
 		}
 		d := readSTRD(t, c.name)
-		got, err := Cond2(d.design())
+		got, err := cond2(d.design())
 		if err != nil {
 			t.Fatal(err)
 		}
 		// mpmath at 50 digits, testdata/nist/cond.csv (see designCond).
-		rd := near.Rel(t, c.name+": Cond2 of the design (mpmath)", got, want, c.tol)
-		t.Logf("%s: Cond2 %.15g, relative difference %.2g", c.name, got, rd)
+		rd := near.Rel(t, c.name+": cond2 of the design (mpmath)", got, want, c.tol)
+		t.Logf("%s: cond2 %.15g, relative difference %.2g", c.name, got, rd)
 	}
 }

@@ -1,14 +1,15 @@
 package lsq
 
 import (
-	"fmt"
 	"math"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/stat/distuv"
+
+	"huesolve/internal/pkgerr"
 )
 
-// Confidence is the two-sided coverage of the intervals in Result.Lo, Hi.
+// Confidence is the two-sided coverage of the intervals in Result.lo, Hi.
 const Confidence = 0.95
 
 // zQuantile is the standard normal quantile for the intervals when the
@@ -18,26 +19,26 @@ var zQuantile = distuv.UnitNormal.Quantile(0.5 + Confidence/2)
 // Width of the worst-residual band (common practice for a local
 // lack-of-fit window: a twentieth of a spectrum, at least five points).
 const (
-	BandMinRows  = 5  // fewest rows in the band
-	BandFraction = 20 // the band spans rows/BandFraction rows when that is more
+	bandMinRows = 5  // fewest rows in the band
+	bandDivisor = 20 // the band spans rows/bandDivisor rows when that is more
 )
 
-// BandWidth is the number of rows of the sliding window in which
-// Result.WorstLo..WorstHi is the band of largest mean squared weighted
-// residual: max(BandMinRows, n/BandFraction) for n rows, never more than n.
-func BandWidth(n int) int {
-	return min(n, max(BandMinRows, n/BandFraction))
+// bandWidth is the number of rows of the sliding window in which
+// Result.worstLo..worstHi is the band of largest mean squared weighted
+// residual: max(bandMinRows, n/bandDivisor) for n rows, never more than n.
+func bandWidth(n int) int {
+	return min(n, max(bandMinRows, n/bandDivisor))
 }
 
 // size makes the result's slices fit n rows and p columns.
 func (r *Result) size(n, p int) {
 	r.Coef = grow(r.Coef, p)
 	r.SE = grow(r.SE, p)
-	r.Lo = grow(r.Lo, p)
-	r.Hi = grow(r.Hi, p)
+	r.lo = grow(r.lo, p)
+	r.hi = grow(r.hi, p)
 	r.Residual = grow(r.Residual, n)
 	r.Unconstrained = grow(r.Unconstrained, p)
-	r.UnconstrainedSE = grow(r.UnconstrainedSE, p)
+	r.unconstrainedSE = grow(r.unconstrainedSE, p)
 	r.AtBound = grow(r.AtBound, p)
 }
 
@@ -46,28 +47,28 @@ func (r *Result) size(n, p int) {
 //
 // It returns ErrInaccurate (with the feasible result in dst and Status
 // Inaccurate) when the KKT residual recomputed from the original data
-// exceeds KKTTol; an error wrapping ErrShape when len(y) is not the number
-// of rows; and one wrapping ErrNonFinite, naming the row, when y holds NaN
+// exceeds KKTTol; an error wrapping errShape when len(y) is not the number
+// of rows; and one wrapping errNonFinite, naming the row, when y holds NaN
 // or an infinity (dst is then not filled).
 //
 // With a Result reused from an earlier call, Solve allocates nothing.
 func (s *Solver) Solve(dst *Result, y []float64) error {
 	f, ws := s.f, &s.ws
 	if f == nil {
-		return fmt.Errorf("lsq: solver has no design (failed Reset): %w", ErrShape)
+		return pkgerr.Errorf("lsq", "solver has no design (failed Reset): %w", errShape)
 	}
 	n, p, nf := f.n, f.p, f.nf
 	if len(y) != n {
-		return fmt.Errorf("lsq: y has %d rows, the design has %d: %w", len(y), n, ErrShape)
+		return pkgerr.Errorf("lsq", "y has %d rows, the design has %d: %w", len(y), n, errShape)
 	}
 	sumY := floats.Sum(y)
 	if math.IsNaN(sumY) || math.IsInf(sumY, 0) {
 		for i, v := range y {
 			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return fmt.Errorf("lsq: row %d of y is %v: %w", i, v, ErrNonFinite)
+				return pkgerr.Errorf("lsq", "row %d of y is %v: %w", i, v, errNonFinite)
 			}
 		}
-		return fmt.Errorf("lsq: sum of y overflows: %w", ErrNonFinite)
+		return pkgerr.Errorf("lsq", "sum of y overflows: %w", errNonFinite)
 	}
 	dst.size(n, p)
 
@@ -123,7 +124,7 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 	// Residual statistics.
 	s.stats(dst, y, sumY/float64(n))
 	if math.IsInf(ws.ywss, 0) {
-		return fmt.Errorf("lsq: sum of squares of y overflows: %w", ErrNonFinite)
+		return pkgerr.Errorf("lsq", "sum of squares of y overflows: %w", errNonFinite)
 	}
 	dst.DoF = n - len(passive)
 
@@ -142,7 +143,7 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 	if den := f.normXs * math.Sqrt(ws.ywss); den > 0 {
 		dst.KKT = viol / den
 	}
-	dst.Iterations = iter
+	dst.iterations = iter
 
 	s.uncertainty(dst)
 	s.unconstrained(dst)
@@ -150,16 +151,16 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 	switch {
 	case capped:
 		dst.Status = IterLimit
-		return fmt.Errorf("lsq: %d iterations: %w", iter, ErrNoConvergence)
+		return pkgerr.Errorf("lsq", "%d iterations: %w", iter, ErrNoConvergence)
 	case !(dst.KKT <= KKTTol):
 		dst.Status = Inaccurate
-		return fmt.Errorf("lsq: relative KKT residual %.3g exceeds %.3g: %w", dst.KKT, KKTTol, ErrInaccurate)
+		return pkgerr.Errorf("lsq", "relative KKT residual %.3g exceeds %.3g: %w", dst.KKT, KKTTol, ErrInaccurate)
 	}
 	dst.Status = Converged
 	return nil
 }
 
-// stats fills RSS, WRSS, RMS, ChiSqRed, R2, DW and the worst band, and
+// stats fills RSS, wrss, RMS, chiSqRed, R2, DW and the worst band, and
 // leaves ||W^(1/2) y||^2 in ws.ywss.
 func (s *Solver) stats(dst *Result, y []float64, mean float64) {
 	f := s.f
@@ -199,10 +200,10 @@ func (s *Solver) stats(dst *Result, y []float64, mean float64) {
 			prev = e
 		}
 	}
-	dst.WorstLo, dst.WorstHi = worstBand(e2, BandWidth(n))
+	dst.worstLo, dst.worstHi = worstBand(e2, bandWidth(n))
 	s.ws.ywss = yw
 	dst.RSS = rss
-	dst.WRSS = wrss
+	dst.wrss = wrss
 	dst.RMS = math.Sqrt(rss / float64(n))
 	dst.R2 = math.NaN()
 	if tss > 0 {
@@ -232,22 +233,22 @@ func worstBand(e2 []float64, bw int) (lo, hi int) {
 	return bestLo, bestLo + bw - 1
 }
 
-// uncertainty fills Scale, ChiSqRed, SE, Lo and Hi from the passive set in
+// uncertainty fills Scale, chiSqRed, SE, Lo and Hi from the passive set in
 // ws.aidx (factor order) and dst.DoF.
 func (s *Solver) uncertainty(dst *Result) {
 	f, ws := s.f, &s.ws
 	p := f.p
 	dof := dst.DoF
-	dst.ChiSqRed = math.NaN()
+	dst.chiSqRed = math.NaN()
 	if f.invSigma != nil && dof > 0 {
-		dst.ChiSqRed = dst.WRSS / float64(dof)
+		dst.chiSqRed = dst.wrss / float64(dof)
 	}
 	var s2, q float64
 	switch {
 	case f.known:
 		s2, q = 1, zQuantile
 	case dof > 0:
-		s2 = dst.WRSS / float64(dof)
+		s2 = dst.wrss / float64(dof)
 		q = ws.tq[dof]
 		if q == 0 {
 			q = distuv.StudentsT{Mu: 0, Sigma: 1, Nu: float64(dof)}.Quantile(0.5 + Confidence/2)
@@ -256,7 +257,7 @@ func (s *Solver) uncertainty(dst *Result) {
 	default:
 		s2, q = math.NaN(), math.NaN()
 	}
-	dst.Scale = s2
+	dst.scale = s2
 
 	// diag((X_sA' X_sA)^-1) for the passive set A.
 	A := ws.aidx
@@ -272,27 +273,27 @@ func (s *Solver) uncertainty(dst *Result) {
 	c := 0
 	for _, j := range f.perm {
 		if dst.AtBound[j] {
-			dst.SE[j], dst.Lo[j], dst.Hi[j] = 0, 0, 0
+			dst.SE[j], dst.lo[j], dst.hi[j] = 0, 0, 0
 			continue
 		}
 		se := math.Sqrt(s2*d2[c]) / f.d[j]
 		c++
 		dst.SE[j] = se
-		dst.Lo[j] = dst.Coef[j] - q*se
-		dst.Hi[j] = dst.Coef[j] + q*se
+		dst.lo[j] = dst.Coef[j] - q*se
+		dst.hi[j] = dst.Coef[j] + q*se
 	}
 }
 
-// unconstrained fills Unconstrained and UnconstrainedSE: R b_u = z, and
+// unconstrained fills Unconstrained and unconstrainedSE: R b_u = z, and
 // the residual sum of squares of that fit, ||(I - QQ') W^(1/2) y||^2,
-// obtained as WRSS - ||z - R b_s||^2 (the part of the constrained fit's
+// obtained as wrss - ||z - R b_s||^2 (the part of the constrained fit's
 // residual that lies in the column space).
 func (s *Solver) unconstrained(dst *Result) {
 	f, ws := s.f, &s.ws
 	p, n := f.p, f.n
 	if len(ws.aidx) == p {
 		copy(dst.Unconstrained, dst.Coef)
-		copy(dst.UnconstrainedSE, dst.SE)
+		copy(dst.unconstrainedSE, dst.SE)
 		return
 	}
 	backSub(ws.bu, f.r, p, ws.z, p)
@@ -309,12 +310,12 @@ func (s *Solver) unconstrained(dst *Result) {
 	case f.known:
 		s2 = 1
 	case n > p:
-		s2 = math.Max(0, dst.WRSS-inCol) / float64(n-p)
+		s2 = math.Max(0, dst.wrss-inCol) / float64(n-p)
 	default:
 		s2 = math.NaN()
 	}
 	for k, j := range f.perm {
 		dst.Unconstrained[j] = ws.bu[k] / f.d[j]
-		dst.UnconstrainedSE[j] = math.Sqrt(s2*f.rinvRow2[k]) / f.d[j]
+		dst.unconstrainedSE[j] = math.Sqrt(s2*f.rinvRow2[k]) / f.d[j]
 	}
 }

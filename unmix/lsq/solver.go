@@ -1,7 +1,6 @@
 package lsq
 
 import (
-	"fmt"
 	"math"
 	"slices"
 	"sync/atomic"
@@ -11,27 +10,29 @@ import (
 	"gonum.org/v1/gonum/lapack"
 	"gonum.org/v1/gonum/lapack/lapack64"
 	"gonum.org/v1/gonum/mat"
+
+	"huesolve/internal/pkgerr"
 )
 
 // Tolerances and limits. Each bounds the quantity named in its comment.
 const (
-	// DefaultTol bounds the gradient component g_j = x_sj' W^(1/2) r of a
+	// defaultTol bounds the gradient component g_j = x_sj' W^(1/2) r of a
 	// column held at zero, relative to ||X_s||_2 ||Q' W^(1/2) y|| (the
 	// part of the weighted y that the design can reach), at or
 	// below which the column is taken as not worth freeing (the
-	// Lawson-Hanson stopping test). It is the default of Options.Tol.
-	DefaultTol = 1e-13
+	// Lawson-Hanson stopping test). It is the default of Options.tol.
+	defaultTol = 1e-13
 
 	// KKTTol bounds the relative KKT residual, recomputed from the
 	// original data after each solve, that still certifies the answer;
 	// above it the solve ends with Status Inaccurate.
 	KKTTol = 1e-8
 
-	// IterPerColumn times the number of columns is the default cap on
+	// iterPerColumn times the number of columns is the default cap on
 	// active-set iterations (additions to and removals from the passive
 	// set). Three per column is the default of scipy.optimize.nnls
 	// (SciPy 1.10 documentation, maxiter = 3 * columns).
-	IterPerColumn = 3
+	iterPerColumn = 3
 
 	// minIter is a floor on the default iteration cap so that tiny
 	// problems with a degenerate start still have room.
@@ -40,7 +41,7 @@ const (
 	// rankEpsFactor scales the numerical-rank rule of [RankTol].
 	rankEpsFactor = 1.0
 
-	// nullShare: a column is named in a RankError when its entry in a null
+	// nullShare: a column is named in a rankError when its entry in a null
 	// vector (unit norm) of the scaled design is at least nullShare times
 	// the vector's largest entry.
 	nullShare = 1e-3
@@ -90,12 +91,11 @@ type factor struct {
 
 	cond   float64   // 2-norm condition number of X_s
 	normXs float64   // ||X_s||_2
-	vif    []float64 // original order
 	leak   []float64 // original order
 
 	tol     float64
 	maxIter int
-	known   bool        // Sigma given and ScaleSE false: the noise variance is known
+	known   bool        // Sigma given and scaleSE false: the noise variance is known
 	shared  atomic.Bool // cloned: Reset must not reuse this storage
 
 	// Set-up scratch, kept for Reset.
@@ -132,9 +132,9 @@ type Solver struct {
 // NewSolver factors the design x (rows x columns) once. nonneg[j] says
 // whether coefficient j is constrained to be >= 0.
 //
-// It returns an error wrapping ErrShape if nonneg or opt.Sigma do not
-// match x or x has no rows or columns, ErrNonFinite for NaN or infinite
-// entries in x or opt.Sigma (or a non-positive sigma), and a *RankError
+// It returns an error wrapping errShape if nonneg or opt.Sigma do not
+// match x or x has no rows or columns, errNonFinite for NaN or infinite
+// entries in x or opt.Sigma (or a non-positive sigma), and a *rankError
 // (wrapping ErrRankDeficient) naming the columns when a column is zero,
 // there are fewer rows than columns, or the column-scaled weighted design
 // is numerically rank deficient (smallest singular value at most
@@ -144,7 +144,7 @@ type Solver struct {
 // The cost is one thin QR, O(n p^2), and an SVD of the p×p factor.
 func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
 	s := &Solver{}
-	if err := s.Reset(x, nonneg, opt); err != nil {
+	if err := s.reset(x, nonneg, opt); err != nil {
 		return nil, err
 	}
 	return s, nil
@@ -157,7 +157,7 @@ func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
 // allocates almost nothing in steady state (two small objects inside
 // gonum's SVD); clones made earlier keep the old factorisation. On error s has no design and Solve fails until a
 // successful Reset.
-func (s *Solver) Reset(x *mat.Dense, nonneg []bool, opt Options) error {
+func (s *Solver) reset(x *mat.Dense, nonneg []bool, opt Options) error {
 	f := s.f
 	if f == nil || f.shared.Load() {
 		f = &factor{}
@@ -195,7 +195,7 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 		for j := range all {
 			all[j] = j
 		}
-		return &RankError{Columns: all, Cond: math.Inf(1), Rows: f.n, Cols: f.p}
+		return &rankError{Columns: all, Cond: math.Inf(1), Rows: f.n, Cols: f.p}
 	}
 	f.order()
 	a := f.factorQR()
@@ -206,13 +206,13 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 	f.diagnostics()
 	f.pseudoInverse(opt.PseudoInverse)
 
-	f.tol = opt.Tol
+	f.tol = opt.tol
 	if f.tol == 0 {
-		f.tol = DefaultTol
+		f.tol = defaultTol
 	}
-	f.maxIter = opt.MaxIter
+	f.maxIter = opt.maxIter
 	if f.maxIter == 0 {
-		f.maxIter = max(IterPerColumn*f.p, minIter)
+		f.maxIter = max(iterPerColumn*f.p, minIter)
 	}
 	return nil
 }
@@ -222,16 +222,16 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 func (f *factor) load(x *mat.Dense, nonneg []bool, opt Options) error {
 	n, p := x.Dims()
 	if n == 0 || p == 0 {
-		return fmt.Errorf("lsq: empty design (%d×%d): %w", n, p, ErrShape)
+		return pkgerr.Errorf("lsq", "empty design (%d×%d): %w", n, p, errShape)
 	}
 	if len(nonneg) != p {
-		return fmt.Errorf("lsq: %d constraint flags for %d columns: %w", len(nonneg), p, ErrShape)
+		return pkgerr.Errorf("lsq", "%d constraint flags for %d columns: %w", len(nonneg), p, errShape)
 	}
 	if opt.Sigma != nil && len(opt.Sigma) != n {
-		return fmt.Errorf("lsq: %d sigma values for %d rows: %w", len(opt.Sigma), n, ErrShape)
+		return pkgerr.Errorf("lsq", "%d sigma values for %d rows: %w", len(opt.Sigma), n, errShape)
 	}
-	if opt.Tol < 0 || math.IsNaN(opt.Tol) || opt.MaxIter < 0 {
-		return fmt.Errorf("lsq: negative tolerance or iteration cap: %w", ErrShape)
+	if opt.tol < 0 || math.IsNaN(opt.tol) || opt.maxIter < 0 {
+		return pkgerr.Errorf("lsq", "negative tolerance or iteration cap: %w", errShape)
 	}
 	f.n, f.p = n, p
 	f.nonneg = grow(f.nonneg, p)
@@ -241,7 +241,7 @@ func (f *factor) load(x *mat.Dense, nonneg []bool, opt Options) error {
 		row := x.RawRowView(i)
 		for j, v := range row {
 			if math.IsNaN(v) || math.IsInf(v, 0) {
-				return fmt.Errorf("lsq: design row %d, column %d is %v: %w", i, j, v, ErrNonFinite)
+				return pkgerr.Errorf("lsq", "design row %d, column %d is %v: %w", i, j, v, errNonFinite)
 			}
 			f.x[j*n+i] = v
 		}
@@ -252,11 +252,11 @@ func (f *factor) load(x *mat.Dense, nonneg []bool, opt Options) error {
 		f.invSigma = grow(f.invSigma, n)
 		for i, s := range opt.Sigma {
 			if !(s > 0) || math.IsInf(s, 0) {
-				return fmt.Errorf("lsq: sigma of row %d is %v, want positive and finite: %w", i, s, ErrNonFinite)
+				return pkgerr.Errorf("lsq", "sigma of row %d is %v, want positive and finite: %w", i, s, errNonFinite)
 			}
 			f.invSigma[i] = 1 / s
 		}
-		f.known = !opt.ScaleSE
+		f.known = !opt.scaleSE
 	}
 	if len(f.invSigma) == 0 {
 		f.invSigma = nil
@@ -265,7 +265,7 @@ func (f *factor) load(x *mat.Dense, nonneg []bool, opt Options) error {
 }
 
 // scaleColumns sets the column scales of the weighted design
-// (overflow-safe 2-norms); a zero column is a RankError.
+// (overflow-safe 2-norms); a zero column is a rankError.
 func (f *factor) scaleColumns() error {
 	n, p := f.n, f.p
 	f.d = grow(f.d, p)
@@ -284,10 +284,10 @@ func (f *factor) scaleColumns() error {
 			d = floats.Norm(col, 2)
 		}
 		if math.IsInf(d, 0) || math.IsNaN(d) {
-			return fmt.Errorf("lsq: column %d overflows when weighted by 1/sigma: %w", j, ErrNonFinite)
+			return pkgerr.Errorf("lsq", "column %d overflows when weighted by 1/sigma: %w", j, errNonFinite)
 		}
 		if d == 0 {
-			return &RankError{Columns: []int{j}, Cond: math.Inf(1), Rows: n, Cols: p}
+			return &rankError{Columns: []int{j}, Cond: math.Inf(1), Rows: n, Cols: p}
 		}
 		f.d[j] = d
 		f.invD[j] = 1 / d
@@ -354,7 +354,7 @@ func (f *factor) factorQR() []float64 {
 
 // singularValues computes the singular values of R (those of X_s),
 // without vectors, sets the norm and condition number, and returns a
-// RankError when the design is numerically rank deficient (see RankTol);
+// rankError when the design is numerically rank deficient (see RankTol);
 // the null vectors are computed only for that error.
 func (f *factor) singularValues() error {
 	n, p := f.n, f.p
@@ -368,7 +368,7 @@ func (f *factor) singularValues() error {
 	}
 	copy(f.svA, f.r)
 	if !lapack64.Gesvd(lapack.SVDNone, lapack.SVDNone, blas64.General{Rows: p, Cols: p, Stride: p, Data: f.svA}, none, none, f.sv, f.work, len(f.work)) {
-		return fmt.Errorf("lsq: singular value decomposition of the design failed: %w", ErrRankDeficient)
+		return pkgerr.Errorf("lsq", "singular value decomposition of the design failed: %w", ErrRankDeficient)
 	}
 	sv := f.sv
 	f.normXs = sv[0]
@@ -417,16 +417,14 @@ func (f *factor) products(a []float64) {
 }
 
 // diagnostics leaves R^-1 in f.svA and sets diag((X_s'X_s)^-1) (the
-// squared row norms of R^-1), the VIF and the leakage of each column.
+// squared row norms of R^-1) and the leakage of each column.
 func (f *factor) diagnostics() {
 	p := f.p
 	f.rinvRow2 = grow(f.rinvRow2, p)
 	triInv(f.svA, f.r, p, p)
 	rowNorms2(f.rinvRow2, f.svA, p)
-	f.vif = grow(f.vif, p)
 	f.leak = grow(f.leak, p)
 	for k, j := range f.perm {
-		f.vif[j] = f.rinvRow2[k]
 		if k < f.nf {
 			f.leak[j] = 1
 			continue
@@ -467,14 +465,14 @@ func (f *factor) pseudoInverse(want bool) {
 	}
 }
 
-// rankError builds the RankError of a numerically rank-deficient design
+// rankError builds the rankError of a numerically rank-deficient design
 // from the right singular vectors of R belonging to singular values below
 // the rank threshold: the columns with a share of such a null vector.
 func (f *factor) rankError() error {
 	n, p := f.n, f.p
 	var svd mat.SVD
 	if !svd.Factorize(mat.NewDense(p, p, slices.Clone(f.r)), mat.SVDThinV) {
-		return fmt.Errorf("lsq: singular value decomposition of the design failed: %w", ErrRankDeficient)
+		return pkgerr.Errorf("lsq", "singular value decomposition of the design failed: %w", ErrRankDeficient)
 	}
 	sv := svd.Values(nil)
 	var v mat.Dense
@@ -504,7 +502,7 @@ func (f *factor) rankError() error {
 	if sv[p-1] == 0 {
 		cond = math.Inf(1)
 	}
-	return &RankError{Columns: cols, Cond: cond, Rows: n, Cols: p}
+	return &rankError{Columns: cols, Cond: cond, Rows: n, Cols: p}
 }
 
 // init sizes the workspace for f, reusing storage where it can. The
@@ -543,47 +541,15 @@ func (s *Solver) Clone() *Solver {
 	return c
 }
 
-// Rows returns the number of rows of the design.
-func (s *Solver) Rows() int { return s.f.n }
-
-// Cols returns the number of columns of the design.
-func (s *Solver) Cols() int { return s.f.p }
-
 // Cond is the 2-norm condition number of the weighted design with each
 // column scaled to unit norm.
 func (s *Solver) Cond() float64 { return s.f.cond }
-
-// VIF is the variance inflation factor of each column: for the weighted
-// design with unit-norm columns X_s,
-//
-//	VIF_j = [(X_s'X_s)^-1]_jj = 1 / (1 - R_j^2),
-//
-// with R_j^2 the uncentred fraction of ||x_sj||^2 explained by the other
-// columns (free ones included). It is computed from the row norms of R^-1.
-// The slice is a fresh copy.
-func (s *Solver) VIF() []float64 { return slices.Clone(s.f.vif) }
 
 // Leakage is, for each non-negative column k, ||P s_k|| / ||s_k|| with P
 // the projector onto the complement of the free columns (1 for free
 // columns). Small values mean the free terms can imitate column k.
 // Columns are weighted as in the fit. The slice is a fresh copy.
 func (s *Solver) Leakage() []float64 { return slices.Clone(s.f.leak) }
-
-// Sensitivity returns, for each column j, the norm of its net part: the
-// component of the weighted column W^(1/2) x_j orthogonal to all the other
-// columns (net analyte signal; Lorber, Anal. Chem. 58, 1986, 1167):
-//
-//	SEN_j = ||(I - X_-j X_-j^+) W^(1/2) x_j|| = d_j / sqrt(VIF_j) = 1 / ||row j of (W^(1/2) X)^+||,
-//
-// so that the standard error of coefficient j from noise of unit variance
-// in the weighted rows is 1/SEN_j. The slice is a fresh copy.
-func (s *Solver) Sensitivity() []float64 {
-	out := make([]float64, s.f.p)
-	for j := range out {
-		out[j] = s.f.d[j] / math.Sqrt(s.f.vif[j])
-	}
-	return out
-}
 
 // PseudoInverseRow returns row j of the pseudo-inverse P = (W^(1/2) X)^+
 // W^(1/2) of the design, whose product with y is the unconstrained
@@ -599,10 +565,6 @@ func (s *Solver) PseudoInverseRow(j int) []float64 {
 	n := s.f.n
 	return s.f.pinv[j*n : (j+1)*n : (j+1)*n]
 }
-
-// Scales returns the column scales d_j = ||W^(1/2) x_j||, the norms the
-// columns were divided by before factorising. The slice is a fresh copy.
-func (s *Solver) Scales() []float64 { return slices.Clone(s.f.d) }
 
 // triInv writes the inverse of the m×m upper-triangular t (row-major,
 // stride ldt) into dst (row-major, stride m).
