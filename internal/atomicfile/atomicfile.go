@@ -3,6 +3,16 @@
 // directory, which is synced, closed and renamed over the target only when
 // everything succeeded. On any error the temporary file is removed and the
 // target is left as it was.
+//
+// What may be replaced (Check, applied by Write before anything is
+// written): a regular file, or nothing (a new file is made). A folder, a
+// device node, a named pipe (FIFO) or a socket is refused, naming the path
+// and what it is, so that an output never takes the place of /dev/null or
+// a pipe another program reads. A symbolic link is written through: when
+// it leads (through any number of links) to a regular file, that file is
+// replaced and the link kept; a link to anything else, or to nothing (a
+// dangling link), is refused. The replaced file keeps its permission
+// bits (a 0600 file stays 0600); a new file gets 0644 less the umask.
 package atomicfile
 
 import (
@@ -10,9 +20,12 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"strconv"
 	"strings"
+	"syscall"
 
 	"huesolve/internal/pkgerr"
 )
@@ -21,10 +34,15 @@ import (
 // writer for the temporary file; if it returns an error, nothing is renamed
 // and the error is returned wrapped with the target path. Errors name the
 // target, never the temporary file: "atomicfile: cannot write out/refs.json:
-// the folder out does not exist".
+// the folder out does not exist". path must pass Check; a symbolic link is
+// written through to its target (see the package comment).
 func Write(path string, fill func(w io.Writer) error) (err error) {
-	dir := filepath.Dir(path)
-	tmp, err := os.CreateTemp(dir, "."+filepath.Base(path)+".tmp-*")
+	target, mode, err := resolve(path)
+	if err != nil {
+		return err
+	}
+	dir := filepath.Dir(target)
+	tmp, err := createTemp(dir, filepath.Base(target))
 	if err != nil {
 		return folderError(path, dir, err)
 	}
@@ -44,13 +62,103 @@ func Write(path string, fill func(w io.Writer) error) (err error) {
 	if err = tmp.Close(); err != nil {
 		return pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, hideTemp(err, name))
 	}
-	if err = os.Chmod(name, 0o644); err != nil {
-		return pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, hideTemp(err, name))
+	if mode != 0 {
+		if err = os.Chmod(name, mode); err != nil {
+			return pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, hideTemp(err, name))
+		}
 	}
-	if err = os.Rename(name, path); err != nil {
+	if err = os.Rename(name, target); err != nil {
 		return pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, hideTemp(err, name))
 	}
 	return nil
+}
+
+// newFileMode is the permission asked for a new output file; the umask
+// takes its share when the temporary file is created.
+const newFileMode = 0o644
+
+// maxTempTries bounds the attempts at a free temporary file name (as
+// os.CreateTemp does).
+const maxTempTries = 10000
+
+// createTemp creates a new file ".BASE.tmp-NNN" in dir with newFileMode
+// (less the umask), which os.CreateTemp cannot do: it asks for 0600.
+func createTemp(dir, base string) (*os.File, error) {
+	for range maxTempTries {
+		name := filepath.Join(dir, "."+base+".tmp-"+strconv.FormatUint(uint64(rand.Uint32()), 10))
+		f, err := os.OpenFile(name, os.O_RDWR|os.O_CREATE|os.O_EXCL, newFileMode)
+		if errors.Is(err, fs.ErrExist) {
+			continue
+		}
+		return f, err
+	}
+	return nil, &fs.PathError{Op: "createtemp", Path: filepath.Join(dir, "."+base+".tmp-*"), Err: fs.ErrExist}
+}
+
+// Check says whether path may be written by Write: nil when it is absent,
+// a regular file, or a symbolic link leading to a regular file; else an
+// error naming path and what it is. Commands call it before their work
+// so that a bad output is refused before, not after, a long run.
+func Check(path string) error {
+	_, _, err := resolve(path)
+	return err
+}
+
+// resolve returns the file Write replaces for path (path itself, or the
+// regular file a symbolic link leads to) and the permission bits to give
+// the new file (0 for a new file: newFileMode less the umask), or the
+// error that refuses path.
+func resolve(path string) (target string, mode fs.FileMode, err error) {
+	fi, err := os.Lstat(path)
+	switch {
+	case errors.Is(err, fs.ErrNotExist) || errors.Is(err, syscall.ENOTDIR):
+		return path, 0, nil // folderError says what is wrong with the folder
+	case err != nil:
+		return "", 0, pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, err)
+	case fi.Mode().IsRegular():
+		return path, fi.Mode().Perm(), nil
+	case fi.Mode()&fs.ModeSymlink == 0:
+		return "", 0, refuse(path, "", fi.Mode())
+	}
+	// A symbolic link: written through when it leads to a regular file.
+	ti, err := os.Stat(path)
+	if err != nil {
+		link, _ := os.Readlink(path)
+		return "", 0, pkgerr.Errorf("atomicfile", "%w", &plainError{fmt.Sprintf("cannot write %s: it is a symbolic link to %s, which does not exist or cannot be reached; give the file itself", path, link), err})
+	}
+	if !ti.Mode().IsRegular() {
+		return "", 0, refuse(path, "a symbolic link to ", ti.Mode())
+	}
+	target, err = filepath.EvalSymlinks(path)
+	if err != nil {
+		return "", 0, pkgerr.Errorf("atomicfile", "cannot write %s: %w", path, err)
+	}
+	return target, ti.Mode().Perm(), nil
+}
+
+// refuse is the error for an output path that is not a regular file:
+// what it is (after via, e.g. "a symbolic link to "), in words.
+func refuse(path, via string, m fs.FileMode) error {
+	return pkgerr.Errorf("atomicfile", "cannot write %s: it is %s%s, not a regular file", path, via, kind(m))
+}
+
+// kind names the type of a file that is not a regular file.
+func kind(m fs.FileMode) string {
+	switch {
+	case m.IsDir():
+		return "a folder"
+	case m&fs.ModeNamedPipe != 0:
+		return "a named pipe (FIFO)"
+	case m&fs.ModeSocket != 0:
+		return "a socket"
+	case m&fs.ModeCharDevice != 0:
+		return "a character device"
+	case m&fs.ModeDevice != 0:
+		return "a block device"
+	case m&fs.ModeSymlink != 0:
+		return "a symbolic link"
+	}
+	return "a special file"
 }
 
 // folderError says why no file could be created in dir, the folder of
