@@ -574,24 +574,34 @@ func readUpTo(path string, limit int64) ([]byte, error) {
 	return data, nil
 }
 
-// Save checks s (see Validate), sets its Schema to SchemaVersion and its
-// checksum, and writes it atomically as indented JSON. Floats are written
-// in the shortest form that reads back to the same float64.
-func (s *Set) Save(path string) error {
+// Encode is the file Save writes, for a writer of the caller's (standard
+// output): it checks s (see Validate), sets its Schema to SchemaVersion
+// and its checksum, and returns it as indented JSON ending in a newline.
+func (s *Set) Encode() ([]byte, error) {
 	s.Schema = SchemaVersion
 	if err := s.Validate(); err != nil {
-		return pkgerr.Errorf("reference", "save %s: %w", path, err)
+		return nil, err
 	}
 	sum, err := s.computeChecksum()
 	if err != nil {
-		return pkgerr.Errorf("reference", "save %s: %w", path, err)
+		return nil, err
 	}
 	s.Checksum = sum
 	b, err := json.MarshalIndent(s, "", "  ")
 	if err != nil {
+		return nil, err
+	}
+	return append(b, '\n'), nil
+}
+
+// Save checks s (see Validate), sets its Schema to SchemaVersion and its
+// checksum, and writes it atomically as indented JSON. Floats are written
+// in the shortest form that reads back to the same float64.
+func (s *Set) Save(path string) error {
+	b, err := s.Encode()
+	if err != nil {
 		return pkgerr.Errorf("reference", "save %s: %w", path, err)
 	}
-	b = append(b, '\n')
 	if err := atomicfile.WriteBytes(path, b); err != nil {
 		return pkgerr.Errorf("reference", "%w", err)
 	}

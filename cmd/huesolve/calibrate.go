@@ -86,7 +86,7 @@ func newCalibrateCmd() *cobra.Command {
 		},
 	}
 	f := cmd.Flags()
-	f.StringVarP(&o.out, "output", "o", "", "reference set file to write (JSON)")
+	f.StringVarP(&o.out, "output", "o", "", "reference set file to write (JSON; - for standard output, the table then going to standard error)")
 	o.scans.add(f, "every standard, instead of the sheet's blank rows")
 	o.scans.addUnit(f)
 	o.output.addPlots(f, "plots of the absorptivities and calibration lines")
@@ -128,13 +128,9 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		return err
 	}
 	calWarnCollinear(set, warn)
-	if err := set.Save(o.out); err != nil {
+	if err := calSave(cmd, set, o.out); err != nil {
 		return err
 	}
-	if err := report.WriteSetSummary(cmd.OutOrStdout(), set); err != nil {
-		return err
-	}
-	fmt.Fprintf(errw, "huesolve: reference set written to %s\n", o.out)
 	err = o.output.writePlots(cmd, func(dir, format string) ([]string, error) {
 		return report.WriteCalibrationPlots(set, dir, format)
 	})
@@ -150,6 +146,35 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if flagged > 0 {
 		return &exitError{code: exitFlagged, msg: fmt.Sprintf("%d of %d compounds flagged (see the legend under the table); the set was written", flagged, len(set.Compounds))}
 	}
+	return nil
+}
+
+// calSave writes the reference set to out and its summary table to
+// standard output; with -o - the set goes to standard output and the
+// table to standard error.
+func calSave(cmd *cobra.Command, set *reference.Set, out string) error {
+	errw := cmd.ErrOrStderr()
+	if out == stdoutName {
+		b, err := set.Encode()
+		if err != nil {
+			return err
+		}
+		if _, err := cmd.OutOrStdout().Write(b); err != nil {
+			return err
+		}
+		if err := report.WriteSetSummary(errw, set); err != nil {
+			return err
+		}
+		fmt.Fprintln(errw, "huesolve: reference set written to standard output")
+		return nil
+	}
+	if err := set.Save(out); err != nil {
+		return err
+	}
+	if err := report.WriteSetSummary(cmd.OutOrStdout(), set); err != nil {
+		return err
+	}
+	fmt.Fprintf(errw, "huesolve: reference set written to %s\n", out)
 	return nil
 }
 

@@ -214,7 +214,7 @@ type outputFlags struct {
 // says what the command draws, e.g. "one figure per sample".
 func (o *outputFlags) add(fs *pflag.FlagSet, plotsHelp string) {
 	fs.StringVar(&o.format, "format", report.FormatTable, "output format: table, csv or json")
-	fs.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output")
+	fs.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output (- for standard output)")
 	o.addPlots(fs, plotsHelp)
 }
 
@@ -265,7 +265,7 @@ func (o *outputFlags) write(cmd *cobra.Command, what string, data any, writeCSV,
 			return writeTable(w)
 		}
 	}
-	if o.out == "" {
+	if toStdout(o.out) {
 		return fn(cmd.OutOrStdout())
 	}
 	if err := atomicfile.Write(o.out, fn); err != nil {
@@ -273,6 +273,14 @@ func (o *outputFlags) write(cmd *cobra.Command, what string, data any, writeCSV,
 	}
 	fmt.Fprintf(cmd.ErrOrStderr(), "huesolve: %s written to %s\n", what, o.out)
 	return nil
+}
+
+// file is the -o file, "" for standard output (-o - or none).
+func (o *outputFlags) file() string {
+	if toStdout(o.out) {
+		return ""
+	}
+	return o.out
 }
 
 // makePlotDir creates the --plots folder.

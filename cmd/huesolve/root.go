@@ -178,7 +178,9 @@ func wasWere(n int) string {
 }
 
 // Execute runs huesolve with args and returns the exit code. Tests call it
-// in-process.
+// in-process. Every write to stdout is checked: when one fails, the
+// command ends with exit code 1 (unless it was interrupted or given a bad
+// command line) and says so on stderr.
 func Execute(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
 	defer stop()
@@ -189,12 +191,28 @@ func Execute(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 		<-ctx.Done()
 		stop()
 	}()
+	out := &checkedWriter{w: stdout}
 	root := newRootCmd()
 	root.SetArgs(args)
 	root.SetIn(stdin)
-	root.SetOut(stdout)
+	root.SetOut(out)
 	root.SetErr(stderr)
 	cmd, err := root.ExecuteContextC(ctx)
+	code := exitCode(root, cmd, args, err, stderr)
+	werr := out.failed()
+	if werr == nil || code == exitInterrupt || code == exitUsage {
+		return code
+	}
+	var se *stdoutError
+	if !errors.As(err, &se) {
+		fmt.Fprintln(stderr, "huesolve:", werr)
+	}
+	return exitFailure
+}
+
+// exitCode says err (the command's error, nil when it succeeded) on
+// stderr and returns the exit code for it; cmd is the command that ran.
+func exitCode(root, cmd *cobra.Command, args []string, err error, stderr io.Writer) int {
 	if err == nil {
 		return exitOK
 	}

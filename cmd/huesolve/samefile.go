@@ -8,17 +8,21 @@ import (
 	"huesolve/calibration"
 )
 
-// checkNotInput refuses, as a usage error, an output file that is one of
-// the command's input files: writing it would destroy the input, and a
-// reference set or scan lost that way is often the lab's only copy. flag
-// names the option (e.g. "-o"); out is its value ("" and "-" are standard
-// output and pass). Inputs are compared as files (os.SameFile, after
-// symbolic links are followed), so "./refs.json", an absolute path and a
-// link to it are all caught; inputs that do not exist (yet) are skipped,
-// as is an output that does not exist.
+// checkNotInput refuses, as a usage error, an output file that is not a
+// regular file (checkOutput) or is one of the command's input files:
+// writing it would destroy the input, and a reference set or scan lost
+// that way is often the lab's only copy. flag names the option (e.g.
+// "-o"); out is its value ("" and "-" are standard output and pass).
+// Inputs are compared as files (os.SameFile, after symbolic links are
+// followed), so "./refs.json", an absolute path and a link to it are all
+// caught; inputs that do not exist (yet) are skipped, as is an output
+// that does not exist.
 func checkNotInput(flag, out string, inputs ...string) error {
-	if out == "" || out == "-" {
+	if toStdout(out) {
 		return nil
+	}
+	if err := checkOutput(flag, out); err != nil {
+		return err
 	}
 	oi, err := os.Stat(out)
 	if err != nil {

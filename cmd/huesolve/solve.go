@@ -169,7 +169,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	sum, err := j.solve(cmd, o)
 	if ctx := cmd.Context(); errors.Is(err, ctx.Err()) && ctx.Err() != nil {
 		msg := fmt.Sprintf("interrupted after %d sample(s) had been solved and reported", sum.Emitted)
-		if o.output.out != "" {
+		if o.output.file() != "" {
 			msg += "; nothing written to " + o.output.out
 		} else {
 			msg += "; the output above is incomplete"
@@ -215,7 +215,7 @@ type solveJob struct {
 	warn     func(string) // warnings, counted
 	note     func(string)
 	warnings atomic.Int64 // warnings given, for --check-only's summary
-	plotted  atomic.Int64 // plots written, for the closing message
+	plots    plotTally    // plots written and failed, for the closing message
 
 	model  *unmix.Model
 	sheet  *unmix.SampleSheet
@@ -293,11 +293,14 @@ func (j *solveJob) newBatch(o *solveOptions, q spectrum.Quantity) {
 		return
 	}
 	names := j.model.Compounds()
+	// A plot that cannot be written (a full disk) does not fail its
+	// sample, which was solved and is in the results; plotting stops at
+	// the first failure and finish reports it.
 	j.batch.Each = func(seq int, r *unmix.Result) error {
-		if err := report.SaveSamplePlot(r, names, report.SamplePlotPath(o.output.plots, seq+1, r.Sample, o.output.plotFormat)); err != nil {
-			return err
+		if j.plots.stopped() {
+			return nil
 		}
-		j.plotted.Add(1)
+		j.plots.add(report.SaveSamplePlot(r, names, report.SamplePlotPath(o.output.plots, seq+1, r.Sample, o.output.plotFormat)))
 		return nil
 	}
 }
@@ -324,7 +327,7 @@ func (j *solveJob) showProgress(cmd *cobra.Command) {
 // not at all) or standard output.
 func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, error) {
 	layout := report.LayoutOf(j.model)
-	width := outputWidth(cmd.OutOrStdout(), o.output.out)
+	width := outputWidth(cmd.OutOrStdout(), o.output.file())
 	var sum batch.Summary
 	solveAll := func(w io.Writer) error {
 		rw, err := report.NewResultWriter(o.output.format, w, layout, width)
@@ -347,8 +350,22 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 		}
 		return rw.Close()
 	}
-	if o.output.out != "" {
-		err := atomicfile.Write(o.output.out, solveAll)
+	if out := o.output.file(); out != "" {
+		// The file is replaced only when at least one sample was solved:
+		// a run that solves nothing (a misspelt scan path, say) leaves
+		// yesterday's results as they were.
+		err := atomicfile.Write(out, func(w io.Writer) error {
+			if err := solveAll(w); err != nil {
+				return err
+			}
+			if sum.Solved == 0 {
+				return errNothingSolved
+			}
+			return nil
+		})
+		if errors.Is(err, errNothingSolved) {
+			err = nil
+		}
 		return sum, err
 	}
 	bw := bufio.NewWriter(cmd.OutOrStdout())
@@ -358,6 +375,10 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 	}
 	return sum, err
 }
+
+// errNothingSolved stops the -o file of a run that solved nothing from
+// replacing the file there; finish says so.
+var errNothingSolved = errors.New("nothing solved")
 
 // emit takes one outcome, in input order: its notes, its failure on
 // standard error, its result to rw.
@@ -402,18 +423,23 @@ func solveFailure(out batch.Outcome, what string) string {
 func (j *solveJob) finish(o *solveOptions, sum batch.Summary) error {
 	sheetNotes(j.track, j.sheet, j.warn, o.dilution, o.pathCM)
 	j.seen.report(j.warn)
-	if o.output.plots != "" {
-		fmt.Fprintf(j.errw, "huesolve: %d plots written to %s\n", j.plotted.Load(), o.output.plots)
-	}
+	plotsFailed := j.plots.report(j.errw, o.output.plots)
 	line := fmt.Sprintf("huesolve: %d sample(s) solved from %d input(s): %d flagged, %d failed, %d input(s) unreadable",
 		sum.Solved, sum.Files, sum.Flagged, sum.Failed, sum.Unreadable)
-	if o.output.out != "" {
-		line += "; results in " + o.output.out
+	out := o.output.file()
+	if out != "" && sum.Solved > 0 {
+		line += "; results in " + out
 	}
 	fmt.Fprintln(j.errw, line)
 	switch {
-	case sum.Solved == 0 && sum.Unreadable+sum.Failed > 0:
-		return &exitError{code: exitFailure, msg: "nothing could be solved: the reasons are above"}
+	case sum.Solved == 0:
+		msg := "nothing could be solved: the reasons are above"
+		if out != "" {
+			msg += "; " + keptNote(out)
+		}
+		return &exitError{code: exitFailure, msg: msg}
+	case plotsFailed:
+		return &exitError{code: exitFailure, msg: "the results are complete, but not every plot could be written (see above)"}
 	case sum.Unreadable > 0 || sum.Failed > 0:
 		return &exitError{code: exitSkipped}
 	case sum.Flagged > 0:
@@ -473,7 +499,7 @@ func runSolveCheck(cmd *cobra.Command, runner *batch.Batch, inputs []batch.Input
 // standard output is one, else $COLUMNS, else report.DefaultWidth.
 func outputWidth(w io.Writer, out string) int {
 	if out == "" {
-		if f, ok := w.(*os.File); ok && term.IsTerminal(int(f.Fd())) {
+		if f, ok := asFile(w); ok && term.IsTerminal(int(f.Fd())) {
 			if cols, _, err := term.GetSize(int(f.Fd())); err == nil && cols > 0 {
 				return cols
 			}
@@ -495,4 +521,52 @@ func (l *lockedWriter) Write(p []byte) (int, error) {
 	l.mu.Lock()
 	defer l.mu.Unlock()
 	return l.w.Write(p)
+}
+
+// plotTally counts solve's plots from the workers: written, and the
+// first failure, after which no more are drawn.
+type plotTally struct {
+	written atomic.Int64
+	failed  atomic.Bool
+	once    sync.Once
+	err     error // the first failure; read once the batch is done
+}
+
+// stopped reports whether a plot has failed.
+func (p *plotTally) stopped() bool { return p.failed.Load() }
+
+// add counts one plot written (err nil) or failed.
+func (p *plotTally) add(err error) {
+	if err == nil {
+		p.written.Add(1)
+		return
+	}
+	p.once.Do(func() {
+		p.err = err
+		p.failed.Store(true)
+	})
+}
+
+// report says on w how many plots were written into dir ("" when none
+// were asked for), and why plotting stopped; it returns whether it did.
+func (p *plotTally) report(w io.Writer, dir string) bool {
+	if dir == "" {
+		return false
+	}
+	if p.err == nil {
+		fmt.Fprintf(w, "huesolve: %d plots written to %s\n", p.written.Load(), dir)
+		return false
+	}
+	fmt.Fprintf(w, "huesolve: %d plots written to %s; plotting stopped at the first that could not be written: %s\n",
+		p.written.Load(), dir, userMessage(p.err))
+	return true
+}
+
+// keptNote says what became of the -o file out when nothing was written
+// to it: an existing file is left as it was.
+func keptNote(out string) string {
+	if _, err := os.Stat(out); err == nil {
+		return out + " left as it was"
+	}
+	return "nothing written to " + out
 }

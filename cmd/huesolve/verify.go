@@ -221,8 +221,8 @@ func (o *verifyOptions) interrupted(ctx context.Context, err error) error {
 		return err
 	}
 	msg := "interrupted: " + pkgerr.Plain(err)
-	if o.output.out != "" {
-		msg += "; nothing written to " + o.output.out
+	if out := o.output.file(); out != "" {
+		msg += "; nothing written to " + out
 	} else {
 		msg += "; nothing printed"
 	}
