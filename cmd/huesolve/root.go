@@ -60,7 +60,9 @@ Try it on built-in invented data with:  huesolve demo
 
 Exit codes:
   0  done, every input read and nothing flagged
-  1  failure: the command could not do its job
+  1  failure: the command could not do its job (including a failed write
+     to an output file or standard output; an existing -o FILE is then
+     left as it was)
   2  bad command line
   3  done, but some inputs could not be read or solved (they are listed on stderr)
   4  done, all inputs read, but some results are flagged or failed acceptance

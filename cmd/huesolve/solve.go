@@ -98,12 +98,21 @@ which correlates neighbouring residuals by itself), condition number above
 reduced chi-square's formula.
 
 Output: a table on standard output sized for the terminal, or --format csv or
-json; -o FILE writes it to a file, complete or not at all. --plots DIR writes
+json; -o FILE writes it to a file, complete or not at all (-o - is standard
+output). The file is written only when at least one sample was solved: a
+run that solves nothing (a misspelt scan path, every scan failing) leaves
+an existing FILE as it was and exits 1. When some samples failed, FILE holds
+the samples solved (JSON also lists the failed inputs under "failed") and
+the exit code is 3. FILE must be a regular file or not exist yet (a folder,
+device, pipe or socket is refused); through a symbolic link its target is
+replaced, and a replaced file keeps its permissions. --plots DIR writes
 one figure per sample: measured and fitted spectra, each compound's part,
 the baseline, and the residual against the expected noise band; stretches
-left out of the fit (above the ceiling, or not calibrated) are shaded. A file
-that cannot be read is reported on standard error and skipped; the others go
-on.
+left out of the fit (above the ceiling, or not calibrated) are shaded. Each
+figure is written whole or not at all and no figure is ever deleted; when
+one cannot be written (a full disk) plotting stops, the samples still count
+as solved and the exit code is 1. A file that cannot be read is reported on
+standard error and skipped; the others go on.
 Results come in the order of the inputs whatever the number of workers (-j).
 A one-line summary goes to standard error.
 
@@ -118,7 +127,8 @@ are those solving would give, short of 4 (no fit is made to flag).
 Exit codes:
   0  every input read and solved, no sample flagged
   1  failure: nothing could be solved (bad reference set, options, output,
-     or not one sample could be read and solved)
+     or not one sample could be read and solved: -o FILE is left as it
+     was), or the output or a plot could not be written
   2  bad command line
   3  some files or samples could not be read or solved (listed on stderr)
   4  everything was solved, but some samples carry a "!" flag
