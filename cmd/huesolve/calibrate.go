@@ -172,7 +172,8 @@ func calSave(cmd *cobra.Command, set *reference.Set, out string) error {
 		return err
 	}
 	if err := report.WriteSetSummary(cmd.OutOrStdout(), set); err != nil {
-		return err
+		// Said so that no one takes the old set for still there.
+		return fmt.Errorf("the reference set was written to %s, but %w", out, err)
 	}
 	fmt.Fprintf(errw, "huesolve: reference set written to %s\n", out)
 	return nil

@@ -282,6 +282,9 @@ func TestStdoutWriteErrors(t *testing.T) {
 			if code != exitFailure || strings.Count(errb.String(), msg) != 1 {
 				t.Errorf("%s: %v: exit %d, stderr:\n%s\nwant exit 1 and once %q", name, args, code, errb.String(), msg)
 			}
+			if args[0] == "calibrate" && !strings.Contains(errb.String(), "written to "+args[3]) {
+				t.Errorf("%s: calibrate does not say the set was written:\n%s", name, errb.String())
+			}
 		}
 	}
 }
