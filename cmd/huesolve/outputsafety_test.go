@@ -310,7 +310,7 @@ func TestSolvePlotFailureSummary(t *testing.T) {
 		"huesolve: 2 sample(s) solved from 1 input(s): 0 flagged, 0 failed",
 		"plotting stopped at the first that could not be written",
 		"0001-a1.png: it is a folder, not a regular file",
-		"the results are complete, but not every plot could be written",
+		"the results were written, but not every plot could be (see above)",
 	} {
 		if !strings.Contains(errOut, want) {
 			t.Errorf("stderr lacks %q:\n%s", want, errOut)

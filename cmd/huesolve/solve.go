@@ -449,7 +449,7 @@ func (j *solveJob) finish(o *solveOptions, sum batch.Summary) error {
 		}
 		return &exitError{code: exitFailure, msg: msg}
 	case plotsFailed:
-		return &exitError{code: exitFailure, msg: "the results are complete, but not every plot could be written (see above)"}
+		return &exitError{code: exitFailure, msg: "the results were written, but not every plot could be (see above)"}
 	case sum.Unreadable > 0 || sum.Failed > 0:
 		return &exitError{code: exitSkipped}
 	case sum.Flagged > 0:
