@@ -1,6 +1,7 @@
 package calibration
 
 import (
+	"context"
 	"fmt"
 	"sort"
 	"time"
@@ -15,10 +16,15 @@ import (
 
 // builder is the state of one Build, filled in section by section.
 type builder struct {
-	sh    *Sheet
-	opt   Options
-	notes []string // the warnings given, for the provenance
-	m     int      // compounds
+	ctx  context.Context
+	sh   *Sheet
+	opt  Options
+	drop map[int]string // sheet lines to leave out (DropOutliers), with the reason
+	res  *fitResult     // the final fit
+
+	dropped []Row    // the rows drop left out
+	notes   []string // the warnings given, for the provenance
+	m       int      // compounds
 
 	// Options and their defaults.
 	path, ceiling, floor float64
@@ -98,6 +104,17 @@ func (b *builder) rows() error {
 	b.fit = append([]Row(nil), sh.Standards...)
 	if b.opt.Blank != nil {
 		b.fit = append(b.fit, sh.Blanks...)
+	}
+	if len(b.drop) > 0 {
+		kept := b.fit[:0]
+		for _, r := range b.fit {
+			if _, ok := b.drop[r.Line]; ok {
+				b.dropped = append(b.dropped, r)
+				continue
+			}
+			kept = append(kept, r)
+		}
+		b.fit = kept
 	}
 	for _, r := range append(append([]Row(nil), b.fit...), sh.Blanks...) {
 		if err := b.checkRow(r); err != nil {
@@ -228,6 +245,9 @@ func (b *builder) readings() error {
 	raw := mat.NewDense(n, p, nil)
 	b.abs = mat.NewDense(n, p, nil)
 	for i, r := range b.fit {
+		if err := b.ctx.Err(); err != nil {
+			return pkgerr.Errorf(buildPkg, "stopped at standard %d of %d: %w", i, n, err)
+		}
 		v, _, err := onGrid(r.Scan, b.grid)
 		if err != nil {
 			return b.rowErr(r, err)
@@ -296,7 +316,7 @@ func underCeiling(raw []float64, ceiling float64, reach int) []bool {
 // what the ceiling let through at its band maximum) until nothing more is
 // left out: the absorptivities rest on the range the set states.
 func (b *builder) fitWithinRange() (*fitResult, error) {
-	fp := fitParams{sh: b.sh, fit: b.fit, abs: b.abs, keep: b.keep, grid: b.grid, path: b.path,
+	fp := fitParams{ctx: b.ctx, sh: b.sh, fit: b.fit, abs: b.abs, keep: b.keep, grid: b.grid, path: b.path,
 		ceiling: b.ceiling, floor: b.floor, intercept: b.intercept}
 	n, m := len(b.fit), b.m
 	use := make([]bool, n)
@@ -325,6 +345,9 @@ func (b *builder) fitWithinRange() (*fitResult, error) {
 			break
 		}
 		nres, err := fp.run(next)
+		if cerr := b.ctx.Err(); cerr != nil {
+			return nil, pkgerr.Errorf(buildPkg, "stopped while refitting within the linear range: %w", cerr)
+		}
 		if err != nil {
 			b.refitFailed(err)
 			break
@@ -405,6 +428,7 @@ func (b *builder) finishCompound(c *reference.Compound, k int) {
 	if rows := b.leftOutRows[k]; len(rows) > 0 {
 		b.standardsLeftOut(c, k, rows)
 	}
+	b.outlierNotes(c, k)
 }
 
 // standardsLeftOut records the fit rows left out for compound k (c) and
@@ -445,6 +469,7 @@ func (b *builder) finish(set *reference.Set) (*reference.Set, error) {
 		})
 	}
 	sort.SliceStable(prov.Standards, func(a, b int) bool { return prov.Standards[a].Line < prov.Standards[b].Line })
+	b.droppedNotes(set)
 	prov.Notes = b.notes
 	set.Provenance = prov
 	if err := set.Validate(); err != nil {
