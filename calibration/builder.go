@@ -188,8 +188,14 @@ func (b *builder) gridAndBlank() error {
 	}
 	switch {
 	case opt.Blank != nil:
-		return b.separateBlank()
+		if err := b.separateBlank(); err != nil {
+			return err
+		}
+		return b.checkBlanks()
 	case len(sh.Blanks) > 0:
+		if err := b.checkBlanks(); err != nil {
+			return err
+		}
 		return b.sheetBlank()
 	case b.intercept:
 		b.warn("no blank given and no blank rows in %s: absorbances are used as read (the intercept takes up the solvent and cell)", sh.Path)
@@ -197,6 +203,62 @@ func (b *builder) gridAndBlank() error {
 		b.warn("no blank given and no blank rows in %s: absorbances are used as read, so the solvent and cell count as analyte absorbance in a through-origin fit", sh.Path)
 	}
 	return nil
+}
+
+// blankAbsorbTol is the most absorbance a blank row (every concentration
+// zero) may show above the lowest blank (or the --blank scan) anywhere on
+// the grid: blanks of one solvent and cell agree to a few mAU, while the
+// lowest standards of a dye read 0.05 AU and more; a "blank" that absorbs
+// more is a standard whose compound column is missing or zero (project
+// choice).
+const blankAbsorbTol = 0.02
+
+// checkBlanks refuses blank rows that absorb clearly above the lowest
+// blank (or the separate blank): a deleted compound column turns that
+// compound's standards into such rows.
+func (b *builder) checkBlanks() error {
+	blanks := b.sh.Blanks
+	if len(blanks) == 0 {
+		return nil
+	}
+	vals := make([][]float64, len(blanks))
+	for i, r := range blanks {
+		v, _, err := onGrid(r.Scan, b.grid)
+		if err != nil {
+			return b.rowErr(r, err)
+		}
+		vals[i] = v
+	}
+	ref := b.blank
+	if b.opt.Blank == nil {
+		ref = append([]float64(nil), vals[0]...)
+		for _, v := range vals[1:] {
+			for j := range ref {
+				ref[j] = min(ref[j], v[j])
+			}
+		}
+	}
+	var bad []int
+	worst := 0.0
+	for i, v := range vals {
+		d := 0.0
+		for j := range v {
+			d = max(d, v[j]-ref[j])
+		}
+		if d > blankAbsorbTol {
+			bad = append(bad, i)
+			worst = max(worst, d)
+		}
+	}
+	if len(bad) == 0 {
+		return nil
+	}
+	than := "the lowest blank row"
+	if b.opt.Blank != nil {
+		than = "the blank scan"
+	}
+	return pkgerr.Errorf(buildPkg, "%s: %d blank %s (every concentration zero) absorb up to %.3g above %s (limit %g): %s; is a compound column missing from the sheet, or its concentrations left at 0? Give each standard's concentrations, or rescan the blanks",
+		b.sh.Path, len(bad), plural(len(bad), "row", "rows"), worst, than, blankAbsorbTol, rowList(bad, blanks))
 }
 
 // separateBlank puts Options.Blank on the grid.

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 	"strconv"
+	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -141,6 +142,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if opt.Blank, opt.BlankSHA256, err = o.scans.readBlank(q, warn); err != nil {
 		return err
 	}
+	calWarnLostCompounds(o.out, sh, warn)
 
 	// Build, save, report.
 	ctx := cmd.Context()
@@ -190,6 +192,34 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		return &exitError{code: exitFlagged, msg: fmt.Sprintf("%d of %d compounds flagged (see the legend under the table); the set was written", flagged, len(set.Compounds))}
 	}
 	return nil
+}
+
+// calWarnLostCompounds warns when the reference set about to be replaced
+// (out, if it exists and loads) holds compounds the sheet lacks: a deleted
+// column turns a compound's standards into blanks. Nothing is said when
+// out is absent or not a reference set.
+func calWarnLostCompounds(out string, sh *calibration.Sheet, warn func(string)) {
+	if _, err := os.Stat(out); err != nil {
+		return
+	}
+	old, err := reference.Load(out)
+	if err != nil {
+		return
+	}
+	have := map[string]bool{}
+	for _, c := range sh.Compounds {
+		have[strings.ToLower(c)] = true
+	}
+	var lost []string
+	for _, c := range old.Compounds {
+		if !have[strings.ToLower(c.Name)] {
+			lost = append(lost, c.Name)
+		}
+	}
+	if len(lost) > 0 {
+		warn(fmt.Sprintf("%s, the set to be replaced, has %s %s, which %s has no column for: check that no compound column was deleted from the sheet",
+			out, plural(len(lost), "compound", "compounds"), strings.Join(lost, ", "), sh.Path))
+	}
 }
 
 // calInterrupted is calibrate's exit on Ctrl-C or SIGTERM: nothing is

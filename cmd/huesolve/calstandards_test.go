@@ -171,3 +171,66 @@ func hasFlag(fs []reference.Flag, f reference.Flag) bool {
 	}
 	return false
 }
+
+// TestCalibrateImplausibleSheets: a deleted compound column (its
+// standards become "blanks" that absorb) is refused, naming the rows, and
+// the set being replaced names the compound lost; an extra numeric column
+// (a batch number) is refused naming the column; a concentration of
+// 1e300 is refused naming its line and column. The existing set is left
+// as it was each time.
+func TestCalibrateImplausibleSheets(t *testing.T) {
+	dir, text := demoStandards(t)
+	out := filepath.Join(dir, "refs.json")
+	if _, errOut, code := run(t, "calibrate", filepath.Join(dir, demo.StandardsSheet), "-o", out); code != exitOK {
+		t.Fatalf("demo standards: exit %d: %s", code, errOut)
+	}
+	good, err := os.ReadFile(out)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var deleted, batch, huge strings.Builder
+	hugeLine := 0
+	for i, line := range strings.Split(strings.TrimSuffix(text, "\n"), "\n") {
+		f := strings.Split(line, ",")
+		switch {
+		case strings.HasPrefix(line, "#"):
+			deleted.WriteString(line + "\n")
+			batch.WriteString(line + "\n")
+			huge.WriteString(line + "\n")
+			continue
+		case f[0] == "scan":
+			batch.WriteString("scan,batch," + strings.Join(f[1:], ",") + "\n")
+		default:
+			batch.WriteString(f[0] + ",7," + strings.Join(f[1:], ",") + "\n")
+		}
+		// Corvasine is the third field.
+		deleted.WriteString(strings.Join(append(f[:2:2], f[3:]...), ",") + "\n")
+		if f[0] == "standards/ambrelin-04a.csv" {
+			f[1], hugeLine = "1e300", i+1
+		}
+		huge.WriteString(strings.Join(f, ",") + "\n")
+	}
+	for _, c := range []struct {
+		name, text string
+		says       []string
+	}{
+		{"deleted.csv", deleted.String(), []string{"12 blank rows", "standards/corvasine-02a.csv (sheet line 17)", "is a compound column missing",
+			"has compound Corvasine, which"}},
+		{"batch.csv", batch.String(), []string{"batch.csv:3:2:", `column "batch" is non-zero in every row`}},
+		{"huge.csv", huge.String(), []string{"huge.csv:" + strconv.Itoa(hugeLine) + ":2:", "Ambrelin is 1e+300, implausible"}},
+	} {
+		sheet := writeSheet(t, dir, c.name, c.text)
+		_, errOut, code := run(t, "calibrate", sheet, "-o", out)
+		if code != exitFailure {
+			t.Errorf("%s: exit %d, want %d: %s", c.name, code, exitFailure, errOut)
+		}
+		for _, want := range c.says {
+			if !strings.Contains(errOut, want) {
+				t.Errorf("%s: stderr lacks %q:\n%s", c.name, want, errOut)
+			}
+		}
+		if got, _ := os.ReadFile(out); !bytes.Equal(got, good) {
+			t.Errorf("%s: the existing set was replaced", c.name)
+		}
+	}
+}
