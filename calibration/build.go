@@ -784,9 +784,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 	}
 	var moved []int
 	for i, r := range rows {
-		if _, resampled, err := onGrid(r.Scan, grid); err != nil {
-			return nil, &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: err}
-		} else if resampled {
+		if !onGridRun(r.Scan, grid) {
 			moved = append(moved, i)
 		}
 	}
@@ -835,6 +833,14 @@ func narrowNote(rows []Row, blank *spectrum.Spectrum, first []float64, lo, hi fl
 	}
 	return fmt.Sprintf("the grid is limited to %g-%g nm, the range all scans share, by %s %s; the other scans share %g-%g nm (leave out or rescan %s, or give a window within %g-%g nm)",
 		lo, hi, plural(total, "the scan", "the scans"), strings.Join(names, ", "), otherLo, otherHi, plural(total, "it", "them"), lo, hi)
+}
+
+// onGridRun reports whether s holds the wavelengths of grid as a run, so
+// that onGrid copies rather than interpolates.
+func onGridRun(s *spectrum.Spectrum, grid []float64) bool {
+	wl := s.Wavelengths
+	i := sort.SearchFloat64s(wl, grid[0]-gridSlack*(grid[len(grid)-1]-grid[0]))
+	return i+len(grid) <= len(wl) && spectrum.SameGrid(wl[i:i+len(grid)], grid)
 }
 
 // onGrid returns the values of s on grid: copied when s holds those

@@ -304,8 +304,12 @@ func (b *builder) sheetBlank() error {
 // corrected and pre-treated absorbances.
 func (b *builder) readings() error {
 	n, p := len(b.fit), len(b.grid)
-	raw := mat.NewDense(n, p, nil)
 	b.abs = mat.NewDense(n, p, nil)
+	// A reading above the ceiling is left out, and so are the pre-treated
+	// values a smoothing step carried it into (baseline.Reach points
+	// either side), as solve does for samples.
+	b.reach = baseline.Reach(b.opt.Pretreat)
+	b.keep = make([][]bool, n)
 	for i, r := range b.fit {
 		if err := b.ctx.Err(); err != nil {
 			return pkgerr.Errorf(buildPkg, "stopped at standard %d of %d: %w", i, n, err)
@@ -314,7 +318,7 @@ func (b *builder) readings() error {
 		if err != nil {
 			return b.rowErr(r, err)
 		}
-		raw.SetRow(i, v)
+		b.keep[i] = underCeiling(v, b.ceiling, b.reach)
 		if b.blank != nil {
 			for j := range v {
 				v[j] -= b.blank[j]
@@ -325,14 +329,6 @@ func (b *builder) readings() error {
 			return err
 		}
 		b.abs.SetRow(i, t)
-	}
-	// A reading above the ceiling is left out, and so are the pre-treated
-	// values a smoothing step carried it into (baseline.Reach points
-	// either side), as solve does for samples.
-	b.reach = baseline.Reach(b.opt.Pretreat)
-	b.keep = make([][]bool, n)
-	for i := range b.keep {
-		b.keep[i] = underCeiling(raw.RawRowView(i), b.ceiling, b.reach)
 	}
 	return nil
 }

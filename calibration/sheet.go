@@ -100,7 +100,7 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 	if len(text.Rows) > MaxSheetRows {
 		return nil, perr(text.Rows[MaxSheetRows].Line, 0, "%w: more than %d rows; split the standards into several sheets and calibrate each", errConcentration, MaxSheetRows)
 	}
-	ld := &scanLoader{sheet: path, sheetSt: sheetSt, opt: opt, cache: map[string]loadedScans{}}
+	ld := &scanLoader{sheet: path, sheetSt: sheetSt, opt: opt, cache: map[string]loadedScans{}, conv: map[string]*spectrum.Spectrum{}}
 	ld.sheetAbs, _ = filepath.Abs(path)
 	for _, rec := range text.Rows {
 		row, err := sh.readRow(text, rec, cols)
@@ -302,6 +302,7 @@ type scanLoader struct {
 	sheetSt  os.FileInfo
 	opt      SheetOptions
 	cache    map[string]loadedScans
+	conv     map[string]*spectrum.Spectrum // converted scans by path and column
 }
 
 func (ld *scanLoader) errAt(line, col int, format string, a ...any) error {
@@ -332,6 +333,13 @@ func (ld *scanLoader) load(row *Row, cols sheetCols) error {
 		}
 		return ld.errAt(line, col, "%w: %s: %w", errScanFile, p, err)
 	}
+	// Rows naming the same scan share one converted copy: the footprint
+	// per row is then its concentrations, not a spectrum.
+	key := p + "\x00" + row.Column
+	if done, ok := ld.conv[key]; ok {
+		row.Scan = done
+		return nil
+	}
 	sp = sp.Clone()
 	if err := sp.ToAbsorbance(); err != nil {
 		return ld.errAt(line, col, "%w: %w", errScanFile, err)
@@ -339,6 +347,7 @@ func (ld *scanLoader) load(row *Row, cols sheetCols) error {
 	if err := sp.Check(); err != nil {
 		return ld.errAt(line, col, "%w: %w", errScanFile, err)
 	}
+	ld.conv[key] = sp
 	row.Scan = sp
 	return nil
 }
