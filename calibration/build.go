@@ -1,6 +1,7 @@
 package calibration
 
 import (
+	"context"
 	"errors"
 	"fmt"
 	"math"
@@ -78,6 +79,18 @@ type Options struct {
 	// Now gives the creation time (default time.Now), for reproducible
 	// tests.
 	Now func() time.Time
+
+	// MinR2 is the least R² of a compound's calibration line at its band
+	// maximum, and MaxRelSD the largest relative residual standard
+	// deviation of the line (see [relSD]), below or above which the
+	// compound is flagged poor-fit. Zero means the default
+	// (DefaultMinR2, DefaultMaxRelSD); a negative value turns the check
+	// off.
+	MinR2, MaxRelSD float64
+	// DropOutliers leaves the standards found outlying (see [outliers])
+	// out and fits again, once; the rows left out are recorded in the
+	// compound's StandardsLeftOut and in the provenance notes.
+	DropOutliers bool
 }
 
 // buildPkg is the prefix of Build's errors, "calibration: build": the
@@ -122,7 +135,35 @@ var (
 // (errWindow), fewer standards than coefficients plus one
 // (errTooFewStandards).
 func Build(sh *Sheet, opt Options) (*reference.Set, error) {
-	b := &builder{sh: sh, opt: opt}
+	return BuildContext(context.Background(), sh, opt)
+}
+
+// BuildContext is Build stopping when ctx is done: it checks ctx between
+// standards, wavelengths and refits, and then returns an error wrapping
+// ctx.Err(). With Options.DropOutliers and outlying standards found, it
+// builds a second time without them; the notes of the build that is kept
+// are the ones passed to Options.Warn, after both.
+func BuildContext(ctx context.Context, sh *Sheet, opt Options) (*reference.Set, error) {
+	warn := opt.Warn
+	opt.Warn = nil
+	b := &builder{sh: sh, opt: opt, ctx: ctx}
+	set, err := b.build()
+	if err == nil && opt.DropOutliers && len(b.outlierRows()) > 0 {
+		drop := b.outlierRows()
+		b = &builder{sh: sh, opt: opt, ctx: ctx, drop: drop}
+		set, err = b.build()
+	}
+	if warn != nil {
+		for _, n := range b.notes {
+			warn(n)
+		}
+	}
+	return set, err
+}
+
+// build runs the steps of one Build.
+func (b *builder) build() (*reference.Set, error) {
+	opt := b.opt
 	if err := b.checkSheet(); err != nil {
 		return nil, err
 	}
@@ -145,6 +186,7 @@ func Build(sh *Sheet, opt Options) (*reference.Set, error) {
 	set := res.set
 	set.Pretreat = append([]baseline.Step(nil), opt.Pretreat...)
 	b.ceilingNotes(res)
+	b.res = res
 	for k := range set.Compounds {
 		b.finishCompound(&set.Compounds[k], k)
 	}
@@ -153,6 +195,7 @@ func Build(sh *Sheet, opt Options) (*reference.Set, error) {
 
 // fitParams are the inputs of one least-squares pass of Build.
 type fitParams struct {
+	ctx                  context.Context
 	sh                   *Sheet
 	fit                  []Row
 	abs                  *mat.Dense // blank-corrected, pre-treated, one row per fit row
@@ -170,6 +213,9 @@ type fitResult struct {
 	leftOut  int    // readings above the ceiling, over all wavelengths
 	unsolved int    // wavelengths where too few standards stayed under the ceiling
 	worst    float64
+	// outliers are, per compound, the standards outlying on its
+	// calibration line at the band maximum (see [outliers]).
+	outliers [][]outlier
 }
 
 // pass is the state of one run of fitParams.
@@ -231,7 +277,7 @@ func (fp *fitParams) newPass(use []bool) *pass {
 		Floor:     fp.floor,
 		Intercept: fp.intercept,
 	}
-	ps.res = &fitResult{set: set, clipped: make([]bool, m)}
+	ps.res = &fitResult{set: set, clipped: make([]bool, m), outliers: make([][]outlier, m)}
 	ps.kraw = make([][]float64, m)
 	if fp.intercept {
 		ps.icpt = make([]float64, p)
@@ -255,6 +301,9 @@ func (ps *pass) solveWavelengths() ([]bool, error) {
 	key := make([]byte, len(ps.rows))
 	solved := make([]bool, p)
 	for j := range p {
+		if err := ps.ctx.Err(); err != nil {
+			return nil, pkgerr.Errorf(buildPkg, "stopped at %g nm: %w", ps.grid[j], err)
+		}
 		ps.maskKey(key, j)
 		mf, ok := fits[string(key)]
 		if !ok {
@@ -391,6 +440,7 @@ func (ps *pass) compoundLine(k int) error {
 	}
 	lin.Band = bl
 	c.Linearity = lin
+	ps.res.outliers[k] = outliers(lin.Data, ps.lineRows(k))
 	return nil
 }
 
@@ -400,7 +450,7 @@ func (ps *pass) compoundLine(k int) error {
 func (ps *pass) pointsAt(k, j int) []reference.Point {
 	var pts []reference.Point
 	for i, r := range ps.fit {
-		if r.Conc[k] == 0 && !r.isBlank() {
+		if !onLine(r, k) {
 			continue
 		}
 		y := ps.abs.At(i, j)
@@ -412,6 +462,22 @@ func (ps *pass) pointsAt(k, j int) []reference.Point {
 		pts = append(pts, reference.Point{Conc: r.Conc[k], Absorbance: y, Used: ps.use[i] && ps.keep[i][j]})
 	}
 	return pts
+}
+
+// onLine reports whether row r is a point of compound k's calibration
+// line: a standard holding k, or a blank.
+func onLine(r Row, k int) bool { return r.Conc[k] != 0 || r.isBlank() }
+
+// lineRows are the fit rows behind the points pointsAt returns for
+// compound k, in the same order.
+func (ps *pass) lineRows(k int) []int {
+	var rows []int
+	for i, r := range ps.fit {
+		if onLine(r, k) {
+			rows = append(rows, i)
+		}
+	}
+	return rows
 }
 
 // checkKept checks that the rows kept still determine every compound:
@@ -718,9 +784,7 @@ func commonGrid(sh *Sheet, fit []Row, opt Options, warn func(string, ...any)) ([
 	}
 	var moved []int
 	for i, r := range rows {
-		if _, resampled, err := onGrid(r.Scan, grid); err != nil {
-			return nil, &spectrum.ParseError{File: sh.Path, Line: r.Line, Err: err}
-		} else if resampled {
+		if !onGridRun(r.Scan, grid) {
 			moved = append(moved, i)
 		}
 	}
@@ -769,6 +833,14 @@ func narrowNote(rows []Row, blank *spectrum.Spectrum, first []float64, lo, hi fl
 	}
 	return fmt.Sprintf("the grid is limited to %g-%g nm, the range all scans share, by %s %s; the other scans share %g-%g nm (leave out or rescan %s, or give a window within %g-%g nm)",
 		lo, hi, plural(total, "the scan", "the scans"), strings.Join(names, ", "), otherLo, otherHi, plural(total, "it", "them"), lo, hi)
+}
+
+// onGridRun reports whether s holds the wavelengths of grid as a run, so
+// that onGrid copies rather than interpolates.
+func onGridRun(s *spectrum.Spectrum, grid []float64) bool {
+	wl := s.Wavelengths
+	i := sort.SearchFloat64s(wl, grid[0]-gridSlack*(grid[len(grid)-1]-grid[0]))
+	return i+len(grid) <= len(wl) && spectrum.SameGrid(wl[i:i+len(grid)], grid)
 }
 
 // onGrid returns the values of s on grid: copied when s holds those

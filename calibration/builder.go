@@ -1,6 +1,7 @@
 package calibration
 
 import (
+	"context"
 	"fmt"
 	"sort"
 	"time"
@@ -15,10 +16,15 @@ import (
 
 // builder is the state of one Build, filled in section by section.
 type builder struct {
-	sh    *Sheet
-	opt   Options
-	notes []string // the warnings given, for the provenance
-	m     int      // compounds
+	ctx  context.Context
+	sh   *Sheet
+	opt  Options
+	drop map[int]string // sheet lines to leave out (DropOutliers), with the reason
+	res  *fitResult     // the final fit
+
+	dropped []Row    // the rows drop left out
+	notes   []string // the warnings given, for the provenance
+	m       int      // compounds
 
 	// Options and their defaults.
 	path, ceiling, floor float64
@@ -99,6 +105,17 @@ func (b *builder) rows() error {
 	if b.opt.Blank != nil {
 		b.fit = append(b.fit, sh.Blanks...)
 	}
+	if len(b.drop) > 0 {
+		kept := b.fit[:0]
+		for _, r := range b.fit {
+			if _, ok := b.drop[r.Line]; ok {
+				b.dropped = append(b.dropped, r)
+				continue
+			}
+			kept = append(kept, r)
+		}
+		b.fit = kept
+	}
 	for _, r := range append(append([]Row(nil), b.fit...), sh.Blanks...) {
 		if err := b.checkRow(r); err != nil {
 			return err
@@ -171,8 +188,14 @@ func (b *builder) gridAndBlank() error {
 	}
 	switch {
 	case opt.Blank != nil:
-		return b.separateBlank()
+		if err := b.separateBlank(); err != nil {
+			return err
+		}
+		return b.checkBlanks()
 	case len(sh.Blanks) > 0:
+		if err := b.checkBlanks(); err != nil {
+			return err
+		}
 		return b.sheetBlank()
 	case b.intercept:
 		b.warn("no blank given and no blank rows in %s: absorbances are used as read (the intercept takes up the solvent and cell)", sh.Path)
@@ -180,6 +203,62 @@ func (b *builder) gridAndBlank() error {
 		b.warn("no blank given and no blank rows in %s: absorbances are used as read, so the solvent and cell count as analyte absorbance in a through-origin fit", sh.Path)
 	}
 	return nil
+}
+
+// blankAbsorbTol is the most absorbance a blank row (every concentration
+// zero) may show above the lowest blank (or the --blank scan) anywhere on
+// the grid: blanks of one solvent and cell agree to a few mAU, while the
+// lowest standards of a dye read 0.05 AU and more; a "blank" that absorbs
+// more is a standard whose compound column is missing or zero (project
+// choice).
+const blankAbsorbTol = 0.02
+
+// checkBlanks refuses blank rows that absorb clearly above the lowest
+// blank (or the separate blank): a deleted compound column turns that
+// compound's standards into such rows.
+func (b *builder) checkBlanks() error {
+	blanks := b.sh.Blanks
+	if len(blanks) == 0 {
+		return nil
+	}
+	vals := make([][]float64, len(blanks))
+	for i, r := range blanks {
+		v, _, err := onGrid(r.Scan, b.grid)
+		if err != nil {
+			return b.rowErr(r, err)
+		}
+		vals[i] = v
+	}
+	ref := b.blank
+	if b.opt.Blank == nil {
+		ref = append([]float64(nil), vals[0]...)
+		for _, v := range vals[1:] {
+			for j := range ref {
+				ref[j] = min(ref[j], v[j])
+			}
+		}
+	}
+	var bad []int
+	worst := 0.0
+	for i, v := range vals {
+		d := 0.0
+		for j := range v {
+			d = max(d, v[j]-ref[j])
+		}
+		if d > blankAbsorbTol {
+			bad = append(bad, i)
+			worst = max(worst, d)
+		}
+	}
+	if len(bad) == 0 {
+		return nil
+	}
+	than := "the lowest blank row"
+	if b.opt.Blank != nil {
+		than = "the blank scan"
+	}
+	return pkgerr.Errorf(buildPkg, "%s: %d blank %s (every concentration zero) absorb up to %.3g above %s (limit %g): %s; is a compound column missing from the sheet, or its concentrations left at 0? Give each standard's concentrations, or rescan the blanks",
+		b.sh.Path, len(bad), plural(len(bad), "row", "rows"), worst, than, blankAbsorbTol, rowList(bad, blanks))
 }
 
 // separateBlank puts Options.Blank on the grid.
@@ -225,14 +304,21 @@ func (b *builder) sheetBlank() error {
 // corrected and pre-treated absorbances.
 func (b *builder) readings() error {
 	n, p := len(b.fit), len(b.grid)
-	raw := mat.NewDense(n, p, nil)
 	b.abs = mat.NewDense(n, p, nil)
+	// A reading above the ceiling is left out, and so are the pre-treated
+	// values a smoothing step carried it into (baseline.Reach points
+	// either side), as solve does for samples.
+	b.reach = baseline.Reach(b.opt.Pretreat)
+	b.keep = make([][]bool, n)
 	for i, r := range b.fit {
+		if err := b.ctx.Err(); err != nil {
+			return pkgerr.Errorf(buildPkg, "stopped at standard %d of %d: %w", i, n, err)
+		}
 		v, _, err := onGrid(r.Scan, b.grid)
 		if err != nil {
 			return b.rowErr(r, err)
 		}
-		raw.SetRow(i, v)
+		b.keep[i] = underCeiling(v, b.ceiling, b.reach)
 		if b.blank != nil {
 			for j := range v {
 				v[j] -= b.blank[j]
@@ -243,14 +329,6 @@ func (b *builder) readings() error {
 			return err
 		}
 		b.abs.SetRow(i, t)
-	}
-	// A reading above the ceiling is left out, and so are the pre-treated
-	// values a smoothing step carried it into (baseline.Reach points
-	// either side), as solve does for samples.
-	b.reach = baseline.Reach(b.opt.Pretreat)
-	b.keep = make([][]bool, n)
-	for i := range b.keep {
-		b.keep[i] = underCeiling(raw.RawRowView(i), b.ceiling, b.reach)
 	}
 	return nil
 }
@@ -296,7 +374,7 @@ func underCeiling(raw []float64, ceiling float64, reach int) []bool {
 // what the ceiling let through at its band maximum) until nothing more is
 // left out: the absorptivities rest on the range the set states.
 func (b *builder) fitWithinRange() (*fitResult, error) {
-	fp := fitParams{sh: b.sh, fit: b.fit, abs: b.abs, keep: b.keep, grid: b.grid, path: b.path,
+	fp := fitParams{ctx: b.ctx, sh: b.sh, fit: b.fit, abs: b.abs, keep: b.keep, grid: b.grid, path: b.path,
 		ceiling: b.ceiling, floor: b.floor, intercept: b.intercept}
 	n, m := len(b.fit), b.m
 	use := make([]bool, n)
@@ -325,6 +403,9 @@ func (b *builder) fitWithinRange() (*fitResult, error) {
 			break
 		}
 		nres, err := fp.run(next)
+		if cerr := b.ctx.Err(); cerr != nil {
+			return nil, pkgerr.Errorf(buildPkg, "stopped while refitting within the linear range: %w", cerr)
+		}
 		if err != nil {
 			b.refitFailed(err)
 			break
@@ -405,6 +486,7 @@ func (b *builder) finishCompound(c *reference.Compound, k int) {
 	if rows := b.leftOutRows[k]; len(rows) > 0 {
 		b.standardsLeftOut(c, k, rows)
 	}
+	b.outlierNotes(c, k)
 }
 
 // standardsLeftOut records the fit rows left out for compound k (c) and
@@ -445,6 +527,7 @@ func (b *builder) finish(set *reference.Set) (*reference.Set, error) {
 		})
 	}
 	sort.SliceStable(prov.Standards, func(a, b int) bool { return prov.Standards[a].Line < prov.Standards[b].Line })
+	b.droppedNotes(set)
 	prov.Notes = b.notes
 	set.Provenance = prov
 	if err := set.Validate(); err != nil {

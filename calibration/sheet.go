@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"os"
 	"path/filepath"
+	"sort"
 	"strconv"
 	"strings"
 
@@ -96,7 +97,10 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 	if err != nil {
 		return nil, err
 	}
-	ld := &scanLoader{sheet: path, sheetSt: sheetSt, opt: opt, cache: map[string]loadedScans{}}
+	if len(text.Rows) > MaxSheetRows {
+		return nil, perr(text.Rows[MaxSheetRows].Line, 0, "%w: more than %d rows; split the standards into several sheets and calibrate each", errConcentration, MaxSheetRows)
+	}
+	ld := &scanLoader{sheet: path, sheetSt: sheetSt, opt: opt, cache: map[string]loadedScans{}, conv: map[string]*spectrum.Spectrum{}}
 	ld.sheetAbs, _ = filepath.Abs(path)
 	for _, rec := range text.Rows {
 		row, err := sh.readRow(text, rec, cols)
@@ -112,7 +116,86 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 			sh.Standards = append(sh.Standards, row)
 		}
 	}
+	if err := sh.plausible(text, cols, opt); err != nil {
+		return nil, err
+	}
 	return sh, sh.finish(opt)
+}
+
+const (
+	// maxConc is the largest concentration a standards sheet may hold, in
+	// any unit: no unit in use makes a standard's concentration a number
+	// this large, and it keeps the squares the fit forms far from
+	// overflow (project choice).
+	maxConc = 1e12
+	// maxConcRatio bounds how far a concentration may lie from the median
+	// of its compound's non-zero concentrations in the sheet, either way:
+	// a working range spans one to three decades (ISO 8466-1 asks for
+	// one; recalled from memory), so a value 1e4 times off is a typo or a
+	// unit slip (project choice).
+	maxConcRatio = 1e4
+)
+
+// plausible refuses concentrations no standard has (above maxConc; in a
+// calibration sheet also more than maxConcRatio from the compound's
+// median, while check standards may hold traces) and, for a calibration
+// sheet, a column that does not look like a concentration:
+// non-zero in every row, including rows where every other compound is
+// zero (the blanks), as a batch or lot number is.
+func (sh *Sheet) plausible(text *sheet.Sheet, cols sheetCols, opt SheetOptions) error {
+	all := sheetOrder(sh)
+	for k, name := range sh.Compounds {
+		var nz []float64
+		for _, r := range all {
+			if v := r.Conc[k]; v > 0 {
+				nz = append(nz, v)
+			}
+		}
+		if len(nz) == 0 {
+			continue
+		}
+		sort.Float64s(nz)
+		med := nz[len(nz)/2]
+		for _, r := range all {
+			v := r.Conc[k]
+			if v > maxConc || !opt.Checks && v > 0 && (v > med*maxConcRatio || v < med/maxConcRatio) {
+				return text.ErrAt(r.Line, cols.comps[k]+1, "%w: %s is %s, implausible beside the median %s of its other standards (more than %g times off, or above %g): check the number and its unit",
+					errConcentration, name, fmtNum(v), fmtNum(med), maxConcRatio, maxConc)
+			}
+		}
+		if !opt.Checks && len(sh.Compounds) > 1 && len(nz) == len(all) {
+			if line := othersZero(all, k); line > 0 {
+				return text.ErrAt(line, cols.comps[k]+1, "%w: column %q is non-zero in every row, also where every other compound is zero (a blank): it does not look like a concentration; if it holds no concentrations, head it \"note\" (such columns are ignored)",
+					errSheetHeader, text.Header.Fields[cols.comps[k]])
+			}
+		}
+	}
+	return nil
+}
+
+// othersZero is the sheet line of the first row of all whose compounds
+// other than k are all zero, or 0.
+func othersZero(all []Row, k int) int {
+	for _, r := range all {
+		zero := true
+		for l, v := range r.Conc {
+			if l != k && v != 0 {
+				zero = false
+				break
+			}
+		}
+		if zero {
+			return r.Line
+		}
+	}
+	return 0
+}
+
+// sheetOrder is the sheet's rows, standards and blanks, in line order.
+func sheetOrder(sh *Sheet) []Row {
+	all := append(append([]Row(nil), sh.Standards...), sh.Blanks...)
+	sort.SliceStable(all, func(a, b int) bool { return all[a].Line < all[b].Line })
+	return all
 }
 
 // standardsColumns declares the columns of a standards sheet: scan and
@@ -219,6 +302,7 @@ type scanLoader struct {
 	sheetSt  os.FileInfo
 	opt      SheetOptions
 	cache    map[string]loadedScans
+	conv     map[string]*spectrum.Spectrum // converted scans by path and column
 }
 
 func (ld *scanLoader) errAt(line, col int, format string, a ...any) error {
@@ -249,6 +333,13 @@ func (ld *scanLoader) load(row *Row, cols sheetCols) error {
 		}
 		return ld.errAt(line, col, "%w: %s: %w", errScanFile, p, err)
 	}
+	// Rows naming the same scan share one converted copy: the footprint
+	// per row is then its concentrations, not a spectrum.
+	key := p + "\x00" + row.Column
+	if done, ok := ld.conv[key]; ok {
+		row.Scan = done
+		return nil
+	}
 	sp = sp.Clone()
 	if err := sp.ToAbsorbance(); err != nil {
 		return ld.errAt(line, col, "%w: %w", errScanFile, err)
@@ -256,6 +347,7 @@ func (ld *scanLoader) load(row *Row, cols sheetCols) error {
 	if err := sp.Check(); err != nil {
 		return ld.errAt(line, col, "%w: %w", errScanFile, err)
 	}
+	ld.conv[key] = sp
 	row.Scan = sp
 	return nil
 }
@@ -364,6 +456,12 @@ func pickScan(scans []*spectrum.Spectrum, col string) (*spectrum.Spectrum, error
 // maxSheetBytes is the largest standards sheet ReadSheet reads (64 MiB,
 // hundreds of thousands of rows).
 const maxSheetBytes = 64 << 20
+
+// MaxSheetRows is the most rows (standards and blanks) ReadSheet reads:
+// far more than any calibration (tens of standards), and with Build's
+// footprint per row (see README, "Limits") a bound on calibrate's memory
+// whatever the sheet holds (project choice).
+const MaxSheetRows = 20000
 
 // splitUnit splits "Name (unit)" into its parts; "Name" has no unit.
 func splitUnit(h string) (name, unit string, err error) {

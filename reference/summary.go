@@ -31,6 +31,14 @@ const (
 	// FlagBelowFloor: the lowest standards read below the detector floor
 	// at the band maximum; the range starts higher.
 	FlagBelowFloor Flag = "below-floor"
+	// FlagOutlier: some standard lies off the calibration line at the
+	// band maximum (externally studentized residual beyond the
+	// Bonferroni limit; see calibration.OutlierLevel).
+	FlagOutlier Flag = "outlier"
+	// FlagPoorFit: the calibration line at the band maximum has R² below
+	// the minimum or a relative residual SD above the maximum calibrate
+	// was given (calibration.DefaultMinR2, DefaultMaxRelSD).
+	FlagPoorFit Flag = "poor-fit"
 )
 
 // FlagMeaning is a compound flag code with its meaning.
@@ -50,6 +58,8 @@ var flagMeanings = []FlagMeaning{
 	{FlagFewLevels, "fewer than 5 concentration levels (5 or more spanning the range is common practice)"},
 	{FlagAboveCeiling, "some standards read above the absorbance ceiling at the band maximum and were left out of the whole fit"},
 	{FlagBelowFloor, "the lowest standards read below the detector floor at the band maximum"},
+	{FlagOutlier, "a standard lies off the calibration line at the band maximum (externally studentized residual beyond the Bonferroni limit at 1 %); calibrate names it"},
+	{FlagPoorFit, "the calibration line at the band maximum has R² below the minimum (0.995 by default) or a relative residual SD above the maximum (5 % by default)"},
 }
 
 // summaryRow is one compound's line of the summary table.

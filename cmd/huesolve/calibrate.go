@@ -1,9 +1,11 @@
 package main
 
 import (
+	"errors"
 	"fmt"
 	"os"
 	"strconv"
+	"strings"
 	"time"
 
 	"github.com/spf13/cobra"
@@ -26,6 +28,8 @@ type calibrateOptions struct {
 	floor         float64
 	throughOrigin bool
 	pretreat      []string
+	minR2, maxRSD float64
+	accept, drop  bool
 	scans         scanFlags
 	output        outputFlags
 }
@@ -65,9 +69,22 @@ when the test also fires one grid step either side of it (or over more
 than half the band); a hit at the maximum alone is noted under the table
 and in a warning, without flag, range cut or refit.
 
+Bad standards are looked for on each compound's line at its band maximum:
+a standard whose externally studentized residual (Belsley, Kuh & Welsch
+1980) lies beyond the Bonferroni limit at 1 % is an outlier, named by scan
+and sheet line; a line with R² below --min-r2 (0.995) or a relative
+residual SD above --max-rsd (5 %), common practice for UV-Vis, fits
+poorly. Then the set is not written (an existing file is left as it was)
+and calibrate exits 4, unless --accept-outliers is given (the set is
+written with the flags outlier or poor-fit) or --drop-outliers (the
+outlying standards are left out, the set refitted once without them, and
+the rows left out recorded in the set).
+
 The reference set is written to the --output file (JSON, with a checksum).
 A summary table goes to standard output. Exit code 4 means the set was
-written but some compound is flagged: read the legend under the table.
+written but some compound is flagged (read the legend under the table),
+or that it was not written because its standards failed the checks above.
+Ctrl-C or SIGTERM stops calibrate at once, writing nothing (exit 130).
 The set records when it was made; with the environment variable
 SOURCE_DATE_EPOCH (seconds since 1970-01-01 UTC) that time is used
 instead of the clock, so the same inputs give a byte-identical file.
@@ -95,6 +112,10 @@ func newCalibrateCmd() *cobra.Command {
 	f.Float64Var(&o.ceiling, "ceiling", reference.DefaultCeiling, "absorbance above which readings are left out")
 	f.Float64Var(&o.floor, "floor", 0, "detector floor: absorbance below which a band is not seen (0: none)")
 	f.BoolVar(&o.throughOrigin, "through-origin", false, "fit absorbance = absorptivity × path × concentration with no intercept")
+	f.Float64Var(&o.minR2, "min-r2", calibration.DefaultMinR2, "least R² of a calibration line at the band maximum (0: no minimum)")
+	f.Float64Var(&o.maxRSD, "max-rsd", 100*calibration.DefaultMaxRelSD, "largest relative residual SD of a calibration line, % (0: no maximum)")
+	f.BoolVar(&o.accept, "accept-outliers", false, "write the set even when standards are outlying or a line fits poorly (flagged outlier, poor-fit)")
+	f.BoolVar(&o.drop, "drop-outliers", false, "leave outlying standards out and refit once; the set records which rows and why")
 	f.StringArrayVar(&o.pretreat, "pretreat", nil, "pre-treatment `STEP`, repeatable, applied in order: zero:LO-HI, als:LAMBDA,P or sg:WINDOW,ORDER[,DERIV]")
 	return cmd
 }
@@ -121,13 +142,28 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if opt.Blank, opt.BlankSHA256, err = o.scans.readBlank(q, warn); err != nil {
 		return err
 	}
+	calWarnLostCompounds(o.out, sh, warn)
 
 	// Build, save, report.
-	set, err := calibration.Build(sh, opt)
+	ctx := cmd.Context()
+	if err := ctx.Err(); err != nil {
+		return calInterrupted(o.out)
+	}
+	set, err := calibration.BuildContext(ctx, sh, opt)
+	if ctx.Err() != nil && (err == nil || errors.Is(err, ctx.Err())) {
+		return calInterrupted(o.out)
+	}
 	if err != nil {
 		return err
 	}
 	calWarnCollinear(set, warn)
+	if n := badStandards(set); n > 0 && !o.accept {
+		return &exitError{code: exitFlagged, msg: fmt.Sprintf("%d of %d compounds have outlying standards or a poor calibration line (named above); the set was not written to %s: correct the sheet or rescan, or give --drop-outliers to leave the outlying standards out and refit, or --accept-outliers to write it as it is",
+			n, len(set.Compounds), o.out)}
+	}
+	if ctx.Err() != nil {
+		return calInterrupted(o.out)
+	}
 	if err := calSave(cmd, set, o.out); err != nil {
 		return err
 	}
@@ -137,10 +173,15 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	if err != nil {
 		return err
 	}
+	// Flags outlier and poor-fit accepted with --accept-outliers do not
+	// count.
 	flagged := 0
 	for _, c := range set.Compounds {
-		if len(c.Flags) > 0 {
-			flagged++
+		for _, f := range c.Flags {
+			if !o.accept || (f != reference.FlagOutlier && f != reference.FlagPoorFit) {
+				flagged++
+				break
+			}
 		}
 	}
 	if flagged > 0 {
@@ -179,6 +220,55 @@ func calSave(cmd *cobra.Command, set *reference.Set, out string) error {
 	return nil
 }
 
+// calWarnLostCompounds warns when the reference set about to be replaced
+// (out, if it exists and loads) holds compounds the sheet lacks: a deleted
+// column turns a compound's standards into blanks. Nothing is said when
+// out is absent or not a reference set.
+func calWarnLostCompounds(out string, sh *calibration.Sheet, warn func(string)) {
+	if _, err := os.Stat(out); err != nil {
+		return
+	}
+	old, err := reference.Load(out)
+	if err != nil {
+		return
+	}
+	have := map[string]bool{}
+	for _, c := range sh.Compounds {
+		have[strings.ToLower(c)] = true
+	}
+	var lost []string
+	for _, c := range old.Compounds {
+		if !have[strings.ToLower(c.Name)] {
+			lost = append(lost, c.Name)
+		}
+	}
+	if len(lost) > 0 {
+		warn(fmt.Sprintf("%s, the set to be replaced, has %s %s, which %s has no column for: check that no compound column was deleted from the sheet",
+			out, plural(len(lost), "compound", "compounds"), strings.Join(lost, ", "), sh.Path))
+	}
+}
+
+// calInterrupted is calibrate's exit on Ctrl-C or SIGTERM: nothing is
+// written.
+func calInterrupted(out string) error {
+	return &exitError{code: exitInterrupt, msg: "interrupted; nothing written to " + out}
+}
+
+// badStandards counts the compounds of set flagged outlier or poor-fit,
+// which calibrate does not write unless told to.
+func badStandards(set *reference.Set) int {
+	n := 0
+	for _, c := range set.Compounds {
+		for _, f := range c.Flags {
+			if f == reference.FlagOutlier || f == reference.FlagPoorFit {
+				n++
+				break
+			}
+		}
+	}
+	return n
+}
+
 // check reads the flags of calibrate into the build options (all but the
 // blank) and the quantity of the scans.
 func (o *calibrateOptions) check(warn func(string)) (calibration.Options, spectrum.Quantity, error) {
@@ -197,6 +287,15 @@ func (o *calibrateOptions) check(warn func(string)) (calibration.Options, spectr
 	opt = calibration.Options{
 		PathCM: o.pathCM, Ceiling: o.ceiling, Floor: o.floor,
 		ThroughOrigin: o.throughOrigin, Warn: warn, Version: version, Now: now,
+		MinR2: o.minR2, MaxRelSD: o.maxRSD / 100, DropOutliers: o.drop,
+	}
+	// Zero on the command line turns a limit off; the library's zero is
+	// its default.
+	if o.minR2 == 0 {
+		opt.MinR2 = -1
+	}
+	if o.maxRSD == 0 {
+		opt.MaxRelSD = -1
 	}
 	switch {
 	case o.pathCM == 0 || checkPathFlag(o.pathCM) != nil:
@@ -205,6 +304,12 @@ func (o *calibrateOptions) check(warn func(string)) (calibration.Options, spectr
 		return opt, q, usagef("--ceiling %g: want a positive absorbance", o.ceiling)
 	case !(o.floor >= 0) || o.floor >= o.ceiling:
 		return opt, q, usagef("--floor %g: want 0 <= floor < ceiling (%g)", o.floor, o.ceiling)
+	case !(o.minR2 >= 0 && o.minR2 <= 1):
+		return opt, q, usagef("--min-r2 %g: want a number from 0 (no minimum) to 1", o.minR2)
+	case !(o.maxRSD >= 0 && o.maxRSD <= 100):
+		return opt, q, usagef("--max-rsd %g: want a percentage from 0 (no maximum) to 100", o.maxRSD)
+	case o.accept && o.drop:
+		return opt, q, usagef("--accept-outliers and --drop-outliers: give one of them")
 	}
 	if o.window != "" {
 		if opt.WindowLo, opt.WindowHi, err = parseWindowFlag(o.window); err != nil {

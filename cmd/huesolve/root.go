@@ -66,7 +66,7 @@ Exit codes:
   2  bad command line
   3  done, but some inputs could not be read or solved (they are listed on stderr)
   4  done, all inputs read, but some results are flagged or failed acceptance
-  130 interrupted (Ctrl-C): solve and verify stop cleanly and write no -o file
+  130 interrupted (Ctrl-C): solve, verify and calibrate stop cleanly and write no -o file
 
 ` + caution
 
