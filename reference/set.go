@@ -336,7 +336,7 @@ func (s *Set) computeChecksum() (string, error) {
 //   - pretreat: steps baseline.ParseStep would accept (Step.Check) that
 //     can be applied on the set's own grid;
 //   - per compound: a non-empty name, unique in the set, and a unit, both
-//     free of control characters (see textProblem); absorptivity and
+//     free of control characters (see TextFault); absorptivity and
 //     intercept finite, SE finite and >= 0, all on the grid; peak_nm inside
 //     the grid; min_standard and max_standard with 0 < min <= max; known
 //     flags only (Flags); the linearity figures finite and in range (R²
@@ -491,10 +491,10 @@ func (c *Compound) validateText() error {
 	if c.Name == "" {
 		return invalid("a compound has no name")
 	}
-	if bad := textProblem(c.Name); bad != "" {
+	if bad := TextFault(c.Name); bad != "" {
 		return invalid("compound name %q %s", c.Name, bad)
 	}
-	if bad := textProblem(c.Unit); bad != "" {
+	if bad := TextFault(c.Unit); bad != "" {
 		return invalid("compound %q: unit %q %s", c.Name, c.Unit, bad)
 	}
 	for _, f := range c.Flags {
@@ -505,12 +505,14 @@ func (c *Compound) validateText() error {
 	return nil
 }
 
-// textProblem says why s cannot be a name or unit ("" when it can): it
-// holds a control character (Unicode category Cc: line breaks, tabs, the
-// escape that starts a terminal control sequence), a bidirectional
-// control (U+202A-U+202E, U+2066-U+2069, which reorder what a terminal
-// shows), or is not UTF-8.
-func textProblem(s string) string {
+// TextFault says why s is not safe to show on a terminal as it is (""
+// when it is): it holds a control character (Unicode category Cc: line
+// breaks, tabs, the escape that starts a terminal control sequence), a
+// bidirectional control (U+202A-U+202E, U+2066-U+2069, which reorder
+// what a terminal shows), or is not UTF-8. A compound's name or unit
+// with such a fault is refused (Validate); package report escapes other
+// names (samples, scans, files) that have one.
+func TextFault(s string) string {
 	if !utf8.ValidString(s) {
 		return "is not UTF-8"
 	}
