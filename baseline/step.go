@@ -174,7 +174,23 @@ func (s Step) check() error {
 	return nil
 }
 
-// problem says what Check finds wrong with s ("" when nothing).
+// Check reports whether s is a step ParseStep would accept: its
+// parameters valid (see check) and, for Savitzky-Golay, weights that can
+// be used. It is the check for steps read from a file (a reference set's
+// pre-treatment). Errors wrap errStep.
+func (s Step) Check() error {
+	if err := s.check(); err != nil {
+		return err
+	}
+	if s.Kind == kindSG {
+		if _, err := newSavitzkyGolay(s.Window, s.Order, s.Deriv); err != nil {
+			return fmt.Errorf("%w (in %s)", err, s)
+		}
+	}
+	return nil
+}
+
+// problem says what check finds wrong with s ("" when nothing).
 func (s Step) problem() string {
 	fin := func(v float64) bool { return !math.IsNaN(v) && !math.IsInf(v, 0) }
 	var bad string

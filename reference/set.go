@@ -10,6 +10,9 @@ import (
 	"io"
 	"math"
 	"os"
+	"slices"
+	"unicode"
+	"unicode/utf8"
 
 	"huesolve/baseline"
 	"huesolve/internal/atomicfile"
@@ -322,24 +325,73 @@ func (s *Set) computeChecksum() (string, error) {
 	return hex.EncodeToString(sum[:]), nil
 }
 
-// Validate checks the invariants of a set: a strictly increasing grid of at
-// least two points, every per-wavelength slice on that grid, finite numbers
-// (no NaN or Inf except the optional test statistics), a non-negative
-// noise model, a positive path length and a ceiling above the floor.
-// Compounds must have distinct, non-empty names. Noise, SE and Usable
-// may be empty and the ceiling 0 (a set made in memory: no noise model,
-// not recorded, every wavelength usable, the default ceiling); when
-// present they must match the grid. Build always records all of them. It is the one check of a set:
-// Load, Save and Build call it, and so do the packages that solve with a
-// set (unmix, validate). Errors wrap errInvalid.
+// Validate checks the invariants of a set and that every field lies in a
+// plausible range (the limits are named constants in conventions.go):
+//
+//   - grid_nm: at least two points, finite, strictly increasing, within
+//     [MinGridNM, MaxGridNM];
+//   - noise: on the grid, finite, 0 <= noise <= MaxNoiseAU;
+//   - path_cm in [MinPathCM, MaxPathCM]; 0 <= floor < ceiling <=
+//     MaxCeiling;
+//   - pretreat: steps baseline.ParseStep would accept (Step.Check) that
+//     can be applied on the set's own grid;
+//   - per compound: a non-empty name, unique in the set, and a unit, both
+//     free of control characters (see TextFault); absorptivity and
+//     intercept finite, SE finite and >= 0, all on the grid; peak_nm inside
+//     the grid; min_standard and max_standard with 0 < min <= max; known
+//     flags only (Flags); the linearity figures finite and in range (R²
+//     in [0, 1], standard errors and SDs >= 0, F >= 0 and P in [0, 1]
+//     when present, counts >= 0, 0 <= range_lo <= range_hi, band limits
+//     on the grid);
+//   - per standard of the provenance: one finite, non-negative
+//     concentration per compound.
+//
+// A set made in memory may leave out what Build records: Noise, SE and
+// Usable may be empty, the ceiling 0 (the default), and peak_nm,
+// min_standard and max_standard 0 (not recorded). A set written by Save
+// or read by Load must record all of them (see validateRecorded). It is
+// the one check of a set: Load, Save and Build call it, and so do the
+// packages that solve with a set (unmix, validate). Errors wrap
+// errInvalid and name the field (by its name in the file), the compound
+// and the value.
 func (s *Set) Validate() error {
 	if err := s.validateGrid(); err != nil {
+		return err
+	}
+	if err := s.validatePretreat(); err != nil {
 		return err
 	}
 	if err := s.validateCompounds(); err != nil {
 		return err
 	}
 	return s.validateStandards()
+}
+
+// validateRecorded checks that s records everything Build records, as a
+// set in a file must: noise, absorptivity SE and usable marks on the
+// grid, a ceiling, each compound's band maximum and standards range. A set with max_standard 0 would never flag a result
+// over its range, one without noise would weigh nothing.
+func (s *Set) validateRecorded() error {
+	n := len(s.Grid)
+	switch {
+	case len(s.Noise) != n:
+		return invalid("noise: %d values for %d wavelengths", len(s.Noise), n)
+	case s.Ceiling == 0:
+		return invalid("ceiling is 0: a saved set records its ceiling")
+	}
+	for _, c := range s.Compounds {
+		switch {
+		case len(c.SE) != n:
+			return invalid("compound %q: absorptivity_se: %d values for %d wavelengths", c.Name, len(c.SE), n)
+		case len(c.Usable) != n:
+			return invalid("compound %q: usable: %d marks for %d wavelengths", c.Name, len(c.Usable), n)
+		case c.PeakNM == 0:
+			return invalid("compound %q: peak_nm 0 is outside the grid %g-%g nm", c.Name, s.Grid[0], s.Grid[n-1])
+		case !(c.MinStandard > 0):
+			return invalid("compound %q: min_standard %g: want a positive concentration", c.Name, c.MinStandard)
+		}
+	}
+	return nil
 }
 
 // invalid returns an error wrapping errInvalid.
@@ -356,7 +408,10 @@ func (s *Set) validateGrid() error {
 	}
 	for i, w := range s.Grid {
 		if !finite(w) || (i > 0 && w <= s.Grid[i-1]) {
-			return invalid("grid is not finite and strictly increasing at point %d (%g nm)", i+1, w)
+			return invalid("grid_nm is not finite and strictly increasing at point %d (%g nm)", i+1, w)
+		}
+		if w < MinGridNM || w > MaxGridNM {
+			return invalid("grid_nm point %d (%g nm) is outside %g-%g nm (UV-Vis-NIR)", i+1, w, float64(MinGridNM), float64(MaxGridNM))
 		}
 	}
 	if len(s.Compounds) == 0 {
@@ -367,16 +422,40 @@ func (s *Set) validateGrid() error {
 			return invalid("%v", err)
 		}
 	}
-	for _, v := range s.Noise {
-		if v < 0 {
-			return invalid("negative noise %g", v)
+	for i, v := range s.Noise {
+		if v < 0 || v > MaxNoiseAU {
+			return invalid("noise %g at %g nm is outside 0-%g (absorbance units)", v, s.Grid[i], float64(MaxNoiseAU))
 		}
 	}
-	if !finite(s.PathCM) || s.PathCM <= 0 {
-		return invalid("path length %g cm is not positive", s.PathCM)
+	if !(s.PathCM >= MinPathCM && s.PathCM <= MaxPathCM) {
+		return invalid("path_cm %g is outside %g-%g cm", s.PathCM, float64(MinPathCM), float64(MaxPathCM))
 	}
-	if !finite(s.Ceiling) || !finite(s.Floor) || s.Floor < 0 || s.Ceiling < 0 || s.Ceiling != 0 && s.Ceiling <= s.Floor {
+	if !finite(s.Ceiling) || s.Ceiling < 0 || s.Ceiling > MaxCeiling {
+		return invalid("ceiling %g is outside 0-%g (absorbance)", s.Ceiling, float64(MaxCeiling))
+	}
+	if !finite(s.Floor) || s.Floor < 0 || s.Ceiling != 0 && s.Ceiling <= s.Floor {
 		return invalid("ceiling %g and floor %g: need 0 <= floor < ceiling", s.Ceiling, s.Floor)
+	}
+	return nil
+}
+
+// validatePretreat checks each pre-treatment step (the check ParseStep
+// makes) and applies the steps to a flat spectrum on the set's grid,
+// which finds what only the grid shows: a zeroing region with no grid
+// points, a Savitzky-Golay window longer than the grid or an uneven
+// grid. Build applied the same steps to every standard, so a set it made
+// always passes; a damaged one would fail only sample by sample.
+func (s *Set) validatePretreat() error {
+	if len(s.Pretreat) == 0 {
+		return nil
+	}
+	for i, st := range s.Pretreat {
+		if err := st.Check(); err != nil {
+			return invalid("pretreat step %d: %v", i+1, err)
+		}
+	}
+	if _, err := baseline.ApplyAll(s.Pretreat, s.Grid, make([]float64, len(s.Grid))); err != nil {
+		return invalid("pretreat cannot be applied on the set's grid: %v", err)
 	}
 	return nil
 }
@@ -384,64 +463,181 @@ func (s *Set) validateGrid() error {
 // validateCompounds checks each compound: a unique name, its
 // per-wavelength slices and its linearity figures.
 func (s *Set) validateCompounds() error {
-	n := len(s.Grid)
 	seen := map[string]bool{}
-	for _, c := range s.Compounds {
-		if c.Name == "" {
-			return invalid("a compound has no name")
+	for i := range s.Compounds {
+		c := &s.Compounds[i]
+		if err := c.validateText(); err != nil {
+			return err
 		}
 		if seen[c.Name] {
 			return invalid("compound %q appears twice", c.Name)
 		}
 		seen[c.Name] = true
-		if err := checkSlice("absorptivity", c.Absorptivity, n); err != nil {
-			return invalid("compound %q: %v", c.Name, err)
+		if err := s.validateSpectra(c); err != nil {
+			return err
 		}
-		if len(c.SE) > 0 {
-			if err := checkSlice("absorptivity SE", c.SE, n); err != nil {
-				return invalid("compound %q: %v", c.Name, err)
-			}
+		if err := s.validateFigures(c); err != nil {
+			return err
 		}
-		if len(c.Usable) != 0 && len(c.Usable) != n {
-			return invalid("compound %q: %d usable marks for %d wavelengths", c.Name, len(c.Usable), n)
-		}
-		if s.Intercept && c.Intercept != nil {
-			if err := checkSlice("intercept", c.Intercept, n); err != nil {
-				return invalid("compound %q: %v", c.Name, err)
-			}
-		}
-		if err := c.validateLinearity(); err != nil {
+		if err := c.validateLinearity(s.Grid); err != nil {
 			return err
 		}
 	}
 	return nil
 }
 
-// validateLinearity checks the finite figures of c's calibration line
-// and the counts of its band test.
-func (c *Compound) validateLinearity() error {
-	l := c.Linearity
-	for _, v := range []float64{c.PeakNM, c.MinStandard, c.MaxStandard, l.Slope, l.Intercept, l.SlopeSE,
-		l.InterceptSE, l.R2, l.ResidualSD, l.RangeLo, l.RangeHi} {
-		if !finite(v) {
-			return invalid("compound %q: a linearity figure is %v", c.Name, v)
+// validateText checks c's name and unit and its flags.
+func (c *Compound) validateText() error {
+	if c.Name == "" {
+		return invalid("a compound has no name")
+	}
+	if bad := TextFault(c.Name); bad != "" {
+		return invalid("compound name %q %s", c.Name, bad)
+	}
+	if bad := TextFault(c.Unit); bad != "" {
+		return invalid("compound %q: unit %q %s", c.Name, c.Unit, bad)
+	}
+	for _, f := range c.Flags {
+		if !slices.ContainsFunc(flagMeanings, func(m FlagMeaning) bool { return m.Code == f }) {
+			return invalid("compound %q: unknown flag %q", c.Name, f)
 		}
 	}
-	if l.Curved && l.CurvedUnconfirmed {
+	return nil
+}
+
+// TextFault says why s is not safe to show on a terminal as it is (""
+// when it is): it holds a control character (Unicode category Cc: line
+// breaks, tabs, the escape that starts a terminal control sequence), a
+// bidirectional control (U+202A-U+202E, U+2066-U+2069, which reorder
+// what a terminal shows), or is not UTF-8. A compound's name or unit
+// with such a fault is refused (Validate); package report escapes other
+// names (samples, scans, files) that have one.
+func TextFault(s string) string {
+	if !utf8.ValidString(s) {
+		return "is not UTF-8"
+	}
+	for _, r := range s {
+		if unicode.IsControl(r) || r >= '\u202a' && r <= '\u202e' || r >= '\u2066' && r <= '\u2069' {
+			return fmt.Sprintf("holds the control character %U", r)
+		}
+	}
+	return ""
+}
+
+// validateSpectra checks c's per-wavelength slices: absorptivity and
+// intercept finite, SE finite and non-negative, all on the grid.
+func (s *Set) validateSpectra(c *Compound) error {
+	n := len(s.Grid)
+	if err := checkSlice("absorptivity", c.Absorptivity, n); err != nil {
+		return invalid("compound %q: %v", c.Name, err)
+	}
+	if len(c.SE) > 0 {
+		if err := checkSlice("absorptivity_se", c.SE, n); err != nil {
+			return invalid("compound %q: %v", c.Name, err)
+		}
+	}
+	for j, v := range c.SE {
+		if v < 0 {
+			return invalid("compound %q: absorptivity_se %g at %g nm is negative", c.Name, v, s.Grid[j])
+		}
+	}
+	if len(c.Usable) != 0 && len(c.Usable) != n {
+		return invalid("compound %q: %d usable marks for %d wavelengths", c.Name, len(c.Usable), n)
+	}
+	if s.Intercept && c.Intercept != nil {
+		if err := checkSlice("intercept", c.Intercept, n); err != nil {
+			return invalid("compound %q: %v", c.Name, err)
+		}
+	}
+	return nil
+}
+
+// validateFigures checks c's band maximum (0, not recorded, or inside
+// the grid), its standards range (both 0, not recorded, or
+// 0 < min <= max) and its count of readings left out.
+func (s *Set) validateFigures(c *Compound) error {
+	lo, hi := s.Grid[0], s.Grid[len(s.Grid)-1]
+	switch {
+	case !finite(c.PeakNM) || c.PeakNM != 0 && (c.PeakNM < lo || c.PeakNM > hi):
+		return invalid("compound %q: peak_nm %g is outside the grid %g-%g nm", c.Name, c.PeakNM, lo, hi)
+	case !finite(c.MinStandard) || !finite(c.MaxStandard) || c.MinStandard < 0 || c.MaxStandard < 0:
+		return invalid("compound %q: min_standard %g and max_standard %g: want 0 < min <= max", c.Name, c.MinStandard, c.MaxStandard)
+	case (c.MinStandard != 0 || c.MaxStandard != 0) && !(c.MinStandard > 0 && c.MinStandard <= c.MaxStandard):
+		return invalid("compound %q: min_standard %g and max_standard %g: want 0 < min <= max", c.Name, c.MinStandard, c.MaxStandard)
+	case c.LeftOut < 0:
+		return invalid("compound %q: left_out %d is negative", c.Name, c.LeftOut)
+	}
+	return nil
+}
+
+// validateLinearity checks the figures of c's calibration line and of
+// its band test: finite, and each in its range.
+func (c *Compound) validateLinearity(grid []float64) error {
+	l := c.Linearity
+	bad := func(field string, v any) error {
+		return invalid("compound %q: linearity %s %v is out of range", c.Name, field, v)
+	}
+	for _, f := range []struct {
+		name string
+		v    float64
+		min  float64
+	}{
+		{"slope", l.Slope, math.Inf(-1)}, {"intercept", l.Intercept, math.Inf(-1)},
+		{"slope_se", l.SlopeSE, 0}, {"intercept_se", l.InterceptSE, 0}, {"residual_sd", l.ResidualSD, 0},
+		{"range_lo", l.RangeLo, 0}, {"range_hi", l.RangeHi, l.RangeLo},
+	} {
+		if !finite(f.v) || f.v < f.min {
+			return bad(f.name, f.v)
+		}
+	}
+	if !r2OK(l.R2) {
+		return bad("r2", l.R2)
+	}
+	for _, f := range []struct {
+		name string
+		v    float64
+		max  float64
+	}{{"lack_of_fit_f", l.LackOfFitF, math.Inf(1)}, {"lack_of_fit_p", l.LackOfFitP, 1},
+		{"mandel_f", l.MandelF, math.Inf(1)}, {"mandel_p", l.MandelP, 1}} {
+		if !math.IsNaN(f.v) && !(f.v >= 0 && f.v <= f.max && finite(f.v)) {
+			return bad(f.name, f.v)
+		}
+	}
+	switch {
+	case l.Levels < 0 || l.Points < l.Levels:
+		return invalid("compound %q: linearity levels %d and points %d: want 0 <= levels <= points", c.Name, l.Levels, l.Points)
+	case l.Curved && l.CurvedUnconfirmed:
 		return invalid("compound %q: the line is marked both curved and curved unconfirmed", c.Name)
 	}
-	if b := l.Band; b != nil {
-		if !finite(b.LoNM) || !finite(b.HiNM) || !finite(b.MinR2) || !finite(b.MinR2NM) ||
-			b.Wavelengths < 0 || b.Tested < 0 || b.Curved < 0 || b.Curved > b.Tested || b.Tested > b.Wavelengths ||
-			b.PeakNeighboursTested < 0 || b.PeakNeighboursTested > 2 || b.PeakNeighboursCurved < 0 ||
-			b.PeakNeighboursCurved > b.PeakNeighboursTested {
-			return invalid("compound %q: a band linearity figure is out of range", c.Name)
-		}
+	if err := c.validateBand(grid); err != nil {
+		return err
 	}
 	for _, p := range l.Data {
-		if !finite(p.Conc) || !finite(p.Absorbance) {
-			return invalid("compound %q: a calibration point is not finite", c.Name)
+		if !finite(p.Conc) || !finite(p.Absorbance) || p.Conc < 0 {
+			return invalid("compound %q: a calibration point (conc %v, absorbance %v) is not finite or has a negative concentration", c.Name, p.Conc, p.Absorbance)
 		}
+	}
+	return nil
+}
+
+// r2OK reports whether v can be an R²: in [0, 1] up to r2Slack.
+func r2OK(v float64) bool { return v >= -r2Slack && v <= 1+r2Slack }
+
+// validateBand checks the band test's figures: wavelengths on the grid
+// in order, R² in range and consistent counts.
+func (c *Compound) validateBand(grid []float64) error {
+	b := c.Linearity.Band
+	if b == nil {
+		return nil
+	}
+	lo, hi := grid[0], grid[len(grid)-1]
+	in := func(v float64) bool { return v >= lo && v <= hi }
+	if !in(b.LoNM) || !in(b.HiNM) || b.LoNM > b.HiNM || !(b.MinR2NM >= b.LoNM && b.MinR2NM <= b.HiNM) || !r2OK(b.MinR2) ||
+		b.Wavelengths < 0 || b.Tested < 0 || b.Curved < 0 || b.Curved > b.Tested || b.Tested > b.Wavelengths ||
+		b.PeakNeighboursTested < 0 || b.PeakNeighboursTested > 2 || b.PeakNeighboursCurved < 0 ||
+		b.PeakNeighboursCurved > b.PeakNeighboursTested {
+		return invalid("compound %q: a band linearity figure is out of range (band %g-%g nm, lowest R² %g at %g nm, counts %d/%d/%d, neighbours %d/%d)",
+			c.Name, b.LoNM, b.HiNM, b.MinR2, b.MinR2NM, b.Wavelengths, b.Tested, b.Curved, b.PeakNeighboursTested, b.PeakNeighboursCurved)
 	}
 	return nil
 }
@@ -549,6 +745,9 @@ func Load(path string) (*Set, error) {
 	if err := s.Validate(); err != nil {
 		return fail(err)
 	}
+	if err := s.validateRecorded(); err != nil {
+		return fail(err)
+	}
 	return s, nil
 }
 
@@ -581,6 +780,9 @@ func (s *Set) Encode() ([]byte, error) {
 	s.Schema = SchemaVersion
 	if err := s.Validate(); err != nil {
 		return nil, err
+	}
+	if err := s.validateRecorded(); err != nil {
+		return pkgerr.Errorf("reference", "save %s: %w", path, err)
 	}
 	sum, err := s.computeChecksum()
 	if err != nil {

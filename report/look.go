@@ -46,7 +46,7 @@ func WriteLook(w io.Writer, file string, ss []*spectrum.Spectrum, o LookOptions)
 	}
 	if o.Plain {
 		for _, r := range rows {
-			if _, err := fmt.Fprintf(w, "%s\t%s\n", file, strings.Join(r, "\t")); err != nil {
+			if _, err := fmt.Fprintf(w, "%s\t%s\n", termText(file), strings.Join(termCells(r), "\t")); err != nil {
 				return err
 			}
 		}
@@ -55,7 +55,7 @@ func WriteLook(w io.Writer, file string, ss []*spectrum.Spectrum, o LookOptions)
 	if o.Gap {
 		fmt.Fprintln(w)
 	}
-	fmt.Fprintf(w, "%s: %d %s\n", file, len(ss), plural(len(ss), "spectrum", "spectra"))
+	fmt.Fprintf(w, "%s: %d %s\n", termText(file), len(ss), plural(len(ss), "spectrum", "spectra"))
 	t := newTable(w)
 	t.Header("Spectrum", "Points", "Range (nm)", "Step (nm)", "Quantity", "Min", "Max")
 	for _, r := range rows {

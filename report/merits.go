@@ -46,7 +46,7 @@ func WriteMerits(w io.Writer, m *validate.Merits) error {
 	var refused []string
 	for _, c := range m.Compounds {
 		if !c.Quantifiable {
-			refused = append(refused, fmt.Sprintf("  %s: %s (selectivity %.3g, below %g)", c.Compound, c.Reason, c.Selectivity, m.MinSelectivity))
+			refused = append(refused, fmt.Sprintf("  %s: %s (selectivity %.3g, below %g)", termText(c.Compound), c.Reason, c.Selectivity, m.MinSelectivity))
 		}
 	}
 	if len(refused) > 0 {

@@ -64,7 +64,7 @@ func (c *CSVWriter) writeHeader() error {
 		if i > 0 {
 			b = append(b, ',')
 		}
-		b = appendCSVField(b, h)
+		b = appendCSVText(b, h)
 	}
 	_, err := c.w.Write(append(b, '\n'))
 	return err
@@ -73,9 +73,9 @@ func (c *CSVWriter) writeHeader() error {
 // AppendResult appends r's row, with its line end, to dst. It does not
 // touch the writer, so it may run concurrently (see Encoder).
 func (c *CSVWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
-	b := appendCSVField(dst, r.Sample)
+	b := appendCSVText(dst, r.Sample)
 	b = append(b, ',')
-	b = appendCSVField(b, r.Source)
+	b = appendCSVText(b, r.Source)
 	field := func(v float64) {
 		b = append(b, ',')
 		b = appendNum(b, v)
@@ -99,9 +99,9 @@ func (c *CSVWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 			b = append(b, ",,"...)
 		}
 		b = append(b, ',')
-		b = appendCSVField(b, a.Unit)
+		b = appendCSVText(b, a.Unit)
 		b = append(b, ',')
-		b = appendCSVField(b, joinFlags(a.Flags, " "))
+		b = appendCSVText(b, joinFlags(a.Flags, " "))
 	}
 	field(r.RMS)
 	field(r.ChiSqRed)
@@ -132,7 +132,7 @@ func (c *CSVWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 		field(v)
 	}
 	b = append(b, ',')
-	b = appendCSVField(b, joinFlags(r.Flags, " "))
+	b = appendCSVText(b, joinFlags(r.Flags, " "))
 	return append(b, '\n')
 }
 
@@ -162,6 +162,20 @@ func (c *CSVWriter) Close() error {
 	return c.w.Flush()
 }
 
+// appendCSVText appends text cell f as appendCSVField does, with a
+// single quote before it when a spreadsheet could take it for a formula
+// (csvProtect). It allocates nothing for a cell that needs no quote.
+func appendCSVText(b []byte, f string) []byte {
+	if !csvProtect(f) {
+		return appendCSVField(b, f)
+	}
+	if !strings.ContainsAny(f, ",\"\r\n") {
+		b = append(b, '\'')
+		return append(b, f...)
+	}
+	return appendQuoted(b, "'", f)
+}
+
 // appendCSVField appends f, quoted when it holds a comma, a quote, a line
 // break or leading space (the rule of encoding/csv).
 func appendCSVField(b []byte, f string) []byte {
@@ -173,7 +187,14 @@ func appendCSVField(b []byte, f string) []byte {
 	if !need {
 		return append(b, f...)
 	}
+	return appendQuoted(b, "", f)
+}
+
+// appendQuoted appends prefix and f as one quoted CSV field, doubling
+// the quotes in f (prefix holds none).
+func appendQuoted(b []byte, prefix, f string) []byte {
 	b = append(b, '"')
+	b = append(b, prefix...)
 	for i := 0; i < len(f); i++ {
 		if f[i] == '"' {
 			b = append(b, '"')

@@ -6,16 +6,8 @@ import (
 	"math"
 	"strings"
 
-	"github.com/olekukonko/tablewriter"
-	"github.com/olekukonko/tablewriter/tw"
-
 	"huesolve/reference"
 )
-
-// newTable is a terminal table whose headers are printed as written.
-func newTable(w io.Writer) *tablewriter.Table {
-	return tablewriter.NewTable(w, tablewriter.WithHeaderAutoFormat(tw.Off))
-}
 
 // WriteSetSummary prints the conditions a reference set was built under,
 // one table row per compound, the calibration line over each band and
@@ -90,7 +82,7 @@ func writeSetConditions(w io.Writer, set *reference.Set) {
 		blank = "none"
 	}
 	fmt.Fprintf(w, "Built %s by %s %s from %s: %d standard scans, blank: %s\n",
-		pv.Created, pv.Tool, pv.Version, pv.Sheet, len(pv.Standards), blank)
+		termText(pv.Created), termText(pv.Tool), termText(pv.Version), termText(pv.Sheet), len(pv.Standards), termText(blank))
 	if len(set.Pretreat) > 0 {
 		var steps []string
 		for _, s := range set.Pretreat {
@@ -122,7 +114,7 @@ func writeBandLines(w io.Writer, set *reference.Set) {
 			note = fmt.Sprintf("; curvature at the band maximum only, not confirmed at neighbouring wavelengths: likely chance at the %g %% level", 100*reference.TestLevel)
 		}
 		fmt.Fprintf(w, "  %s %g-%g nm: lowest R² %.5f at %g nm, curvature (Mandel, %g %%) at %d of %d wavelengths%s\n",
-			c.Name, b.LoNM, b.HiNM, b.MinR2, b.MinR2NM, 100*reference.TestLevel, b.Curved, b.Tested, note)
+			termText(c.Name), b.LoNM, b.HiNM, b.MinR2, b.MinR2NM, 100*reference.TestLevel, b.Curved, b.Tested, note)
 	}
 }
 

@@ -55,7 +55,7 @@ var figureCols = []string{"χ²/dof", "RMS", "DW"}
 
 // Write adds a sample's row.
 func (t *tableWriter) Write(r *unmix.Result) error {
-	row := []string{r.Sample}
+	row := []string{termText(r.Sample)}
 	for k, n := range t.l.Compounds {
 		a := amountOf(r, k, n)
 		if a == nil {
@@ -116,7 +116,7 @@ func (t *tableWriter) Close() error {
 		if k < len(t.l.Units) && t.l.Units[k] != "" {
 			n += " (" + t.l.Units[k] + ")"
 		}
-		header = append(header, n)
+		header = append(header, termText(n))
 	}
 	header = append(header, figureCols...)
 	header = append(header, "Flags")

@@ -65,7 +65,7 @@ func WriteVerifyTable(w io.Writer, rep *VerifyReport) error {
 		fit = "weighted"
 	}
 	fmt.Fprintf(w, "Check standards %s against %s: window %g-%g nm, baseline %s, %s fit, blank: %s\n\n",
-		rep.Checks, rep.Reference, rep.Window[0], rep.Window[1], rep.Baseline, fit, v.Blank)
+		termText(rep.Checks), termText(rep.Reference), rep.Window[0], rep.Window[1], rep.Baseline, fit, termText(v.Blank))
 	if err := writeCheckRows(w, v); err != nil {
 		return err
 	}
@@ -161,7 +161,7 @@ func writeCheckCompounds(w io.Writer, v *validate.Verification, cv *validate.Cro
 		}
 	}
 	head = append(head, "Verdict")
-	t.Header(head)
+	t.Header(head...)
 	for _, c := range v.Compounds {
 		mean, rsd := "-", "-"
 		if c.Holding > 0 {
@@ -223,7 +223,7 @@ func WriteVerifyCSV(w io.Writer, v *validate.Verification, cv *validate.CrossVal
 		if r.Recovery != nil {
 			rec = f(*r.Recovery)
 		}
-		if err := cw.Write([]string{"check", r.Standard, r.Compound, r.Unit, f(r.Known), f(r.Found), f(r.SE), f(r.Error), rec, f(r.LOQ),
+		if err := cw.Write([]string{"check", csvText(r.Standard), csvText(r.Compound), csvText(r.Unit), f(r.Known), f(r.Found), f(r.SE), f(r.Error), rec, f(r.LOQ),
 			"", "", "", "", "", strconv.FormatBool(r.Pass), "", verifyRowFlags(r)}); err != nil {
 			return err
 		}
@@ -242,15 +242,15 @@ func WriteVerifyCSV(w io.Writer, v *validate.Verification, cv *validate.CrossVal
 		if c.RSDJudged {
 			rsd = f(c.RSD)
 		}
-		if err := cw.Write([]string{"compound", "", c.Compound, c.Unit, "", "", "", "", "", "",
-			mean, rsd, bias, f(c.RMSEP), rmsecv[c.Compound], strconv.FormatBool(c.Pass), strings.Join(c.Why, "; "), ""}); err != nil {
+		if err := cw.Write([]string{"compound", "", csvText(c.Compound), csvText(c.Unit), "", "", "", "", "", "",
+			mean, rsd, bias, f(c.RMSEP), rmsecv[c.Compound], strconv.FormatBool(c.Pass), csvText(strings.Join(c.Why, "; ")), ""}); err != nil {
 			return err
 		}
 	}
 	if cv != nil {
 		for _, p := range cv.Predictions {
 			for k, n := range cv.Compounds {
-				if err := cw.Write([]string{"crossval", p.Standard, n, cv.Units[k], f(p.Known[k]), f(p.Found[k]), "",
+				if err := cw.Write([]string{"crossval", csvText(p.Standard), csvText(n), csvText(cv.Units[k]), f(p.Known[k]), f(p.Found[k]), "",
 					f(p.Found[k] - p.Known[k]), "", "", "", "", "", "", "", "", "", ""}); err != nil {
 					return err
 				}

@@ -32,7 +32,7 @@ func WriteWindowTable(w io.Writer, rep *WindowReport, top int) error {
 	for k, n := range adv.Compounds {
 		head = append(head, "SE "+n+unitSuffix(adv.Units[k]))
 	}
-	t.Header(head)
+	t.Header(head...)
 	rows := []int{adv.Best}
 	for _, i := range adv.Ranked {
 		if len(rows) >= top {
@@ -75,19 +75,19 @@ func writeWindowHeader(w io.Writer, rep *WindowReport) {
 	}
 	var lv []string
 	for k, n := range adv.Compounds {
-		lv = append(lv, strings.TrimSpace(fmt.Sprintf("%s %s %s", n, valNum(adv.Levels[k]), adv.Units[k])))
+		lv = append(lv, strings.TrimSpace(fmt.Sprintf("%s %s %s", termText(n), valNum(adv.Levels[k]), termText(adv.Units[k]))))
 	}
 	maxW := ""
 	if adv.MaxWidthNM > 0 {
 		maxW = fmt.Sprintf(" and at most %g nm", adv.MaxWidthNM)
 	}
 	fmt.Fprintf(w, "Windows of %s: edges every %g nm, %g nm wide or more%s; baseline %s, %s;\n",
-		rep.Reference, adv.StepNM, adv.MinWidthNM, maxW, adv.Baseline, fit)
+		termText(rep.Reference), adv.StepNM, adv.MinWidthNM, maxW, adv.Baseline, fit)
 	fmt.Fprintf(w, "errors judged at %s. %d windows tried, %d tell every compound apart.\n\n",
 		strings.Join(lv, ", "), len(adv.Candidates), len(adv.Ranked))
 	best := adv.Candidates[adv.Best]
 	fmt.Fprintf(w, "Recommended: %g-%g nm (%d points), worst predicted error %.3g %% (%s), condition number %.3g.\n",
-		best.Lo, best.Hi, best.Points, 100*best.Worst, best.WorstCompound, best.Cond)
+		best.Lo, best.Hi, best.Points, 100*best.Worst, termText(best.WorstCompound), best.Cond)
 	if adv.Best != adv.Ranked[0] {
 		b0 := adv.Candidates[adv.Ranked[0]]
 		fmt.Fprintf(w, "(%g-%g nm has the smallest worst error, %.3g %%, with condition number %.3g; the recommended window is within %g %% of that error and better conditioned.)\n",
@@ -119,7 +119,7 @@ func WriteWindowCSV(w io.Writer, adv *validate.WindowAdvice) error {
 				row = append(row, "")
 			}
 		} else {
-			row = append(row, f(c.Worst), c.WorstCompound)
+			row = append(row, f(c.Worst), csvText(c.WorstCompound))
 			for _, v := range c.SE {
 				row = append(row, f(v))
 			}

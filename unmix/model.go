@@ -142,8 +142,9 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	return m, nil
 }
 
-// limits fills in and checks the shift limit and the ceiling, and
-// tabulates the noise growth up to the ceiling.
+// limits fills in and checks the shift limit and the ceiling (at most
+// reference.MaxCeiling), and tabulates the noise growth up to the
+// ceiling.
 func (sh *shared) limits() error {
 	opt, set := sh.opt, sh.set
 	if sh.opt.MaxShiftNM == 0 {
@@ -159,8 +160,12 @@ func (sh *shared) limits() error {
 	if sh.ceiling == 0 {
 		sh.ceiling = defaultCeiling
 	}
-	if !(sh.ceiling > 0) || math.IsInf(sh.ceiling, 0) {
-		return pkgerr.Errorf("unmix", "the absorbance ceiling must be positive, not %g", sh.ceiling)
+	// The growth table is sized by the ceiling: bounded here, whatever
+	// the options or a set from a file say, so that no allocation is
+	// sized by an unchecked number (at MaxCeiling it holds some 10,000
+	// values).
+	if !(sh.ceiling > 0 && sh.ceiling <= reference.MaxCeiling) {
+		return pkgerr.Errorf("unmix", "the absorbance ceiling must be above 0 and at most %d, not %g", reference.MaxCeiling, sh.ceiling)
 	}
 	nt := int(math.Ceil(sh.ceiling/growthStep)) + 2
 	sh.gtab = make([]float64, nt)

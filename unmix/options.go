@@ -113,9 +113,10 @@ type Factors struct {
 const (
 	// MinPathCM and MaxPathCM bound the cell path length in cm: 1 µm
 	// (thinner than any demountable cell) to 1 m (longer than any
-	// long-path cell used for liquids).
-	MinPathCM = 1e-4
-	MaxPathCM = 100
+	// long-path cell used for liquids); the same limits bound a
+	// reference set's path (reference.MinPathCM, reference.MaxPathCM).
+	MinPathCM = reference.MinPathCM
+	MaxPathCM = reference.MaxPathCM
 	// MinDilution and MaxDilution bound the dilution factor: a
 	// millionfold concentration to a billionfold dilution.
 	MinDilution = 1e-6

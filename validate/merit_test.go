@@ -47,7 +47,7 @@ func TestSelectivityOrthogonal(t *testing.T) {
 		x[i] = float64(i + 1)
 		y[i+5] = float64(5 - i)
 	}
-	set = memSet(grid(1, 10, 1), []string{"X", "Y"}, [][]float64{x, y}, 0.01)
+	set = memSet(grid(401, 410, 1), []string{"X", "Y"}, [][]float64{x, y}, 0.01)
 	m, err = FiguresOfMerit(set, MeritOptions{Baseline: noBaseline})
 	if err != nil {
 		t.Fatal(err)

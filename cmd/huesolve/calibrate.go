@@ -300,8 +300,8 @@ func (o *calibrateOptions) check(warn func(string)) (calibration.Options, spectr
 	switch {
 	case o.pathCM == 0 || checkPathFlag(o.pathCM) != nil:
 		return opt, q, usagef("--path-cm %g: want a path length from %g to %g cm", o.pathCM, float64(unmix.MinPathCM), float64(unmix.MaxPathCM))
-	case !(o.ceiling > 0):
-		return opt, q, usagef("--ceiling %g: want a positive absorbance", o.ceiling)
+	case !(o.ceiling > 0) || o.ceiling > reference.MaxCeiling:
+		return opt, q, usagef("--ceiling %g: want an absorbance above 0 and at most %d", o.ceiling, reference.MaxCeiling)
 	case !(o.floor >= 0) || o.floor >= o.ceiling:
 		return opt, q, usagef("--floor %g: want 0 <= floor < ceiling (%g)", o.floor, o.ceiling)
 	case !(o.minR2 >= 0 && o.minR2 <= 1):

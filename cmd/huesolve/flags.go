@@ -30,9 +30,6 @@ const (
 	// maxShiftLimitNM bounds --max-shift: a shift between instruments is
 	// a few nm; tens of nm is a wrong reference set, not a shift.
 	maxShiftLimitNM = 50
-	// maxCeilingA bounds --ceiling: no spectrophotometer reads
-	// absorbances near 10 (1e-10 of the light).
-	maxCeilingA = 10
 )
 
 // valDefaultBaseline is the baseline model solve, verify and window use
@@ -100,8 +97,8 @@ func (f *fitFlags) options() (unmix.Options, error) {
 	if !(f.maxShift > 0) || f.maxShift > maxShiftLimitNM {
 		return opt, usagef("--max-shift %g: want a number of nm above 0 and at most %d", f.maxShift, maxShiftLimitNM)
 	}
-	if !(f.ceiling >= 0) || f.ceiling > maxCeilingA {
-		return opt, usagef("--ceiling %g: want an absorbance above 0 and at most %d (0: the reference set's)", f.ceiling, maxCeilingA)
+	if !(f.ceiling >= 0) || f.ceiling > reference.MaxCeiling {
+		return opt, usagef("--ceiling %g: want an absorbance above 0 and at most %d (0: the reference set's)", f.ceiling, reference.MaxCeiling)
 	}
 	return opt, nil
 }

@@ -116,7 +116,9 @@ func TestWindowAvoidsSharedBand(t *testing.T) {
 		name string
 		own  float64
 	}{{"A", 590}, {"B", 650}} {
-		set.Compounds = append(set.Compounds, reference.Compound{Name: c.name, Unit: "mg/L",
+		// A saved set records a band maximum and a standards range;
+		// 1 to 1 mg/L keeps the level errors are judged at at 1 mg/L.
+		set.Compounds = append(set.Compounds, reference.Compound{Name: c.name, Unit: "mg/L", PeakNM: 450, MinStandard: 1, MaxStandard: 1,
 			Absorptivity: sum(band(450, 20, 1), band(c.own, 15, 0.3)), SE: make([]float64, len(g)), Usable: make([]bool, len(g))})
 	}
 	for k := range set.Compounds {
