@@ -782,7 +782,7 @@ func (s *Set) Encode() ([]byte, error) {
 		return nil, err
 	}
 	if err := s.validateRecorded(); err != nil {
-		return pkgerr.Errorf("reference", "save %s: %w", path, err)
+		return nil, err
 	}
 	sum, err := s.computeChecksum()
 	if err != nil {
