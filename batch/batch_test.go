@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"strings"
+	"syscall"
 	"testing"
 
 	"huesolve/spectrum"
@@ -245,5 +246,36 @@ func TestBatchCheckOnly(t *testing.T) {
 	}
 	if !checked[0] || !checked[1] || checked[2] || !errors.Is(errs[2], unmix.ErrFactor) || checked[3] || !checked[4] || !errors.Is(errs[5], unmix.ErrCoverage) {
 		t.Errorf("checked %v, errors %v", checked, errs)
+	}
+}
+
+// TestExpandFollowsLinks: a folder's links to regular files are inputs
+// like its files (before, a linked scan was left out without a word); a
+// link that points nowhere is kept so that reading it names it; links to
+// folders and named pipes are left out like folders and pipes.
+func TestExpandFollowsLinks(t *testing.T) {
+	dir, elsewhere := t.TempDir(), t.TempDir()
+	target := filepath.Join(elsewhere, "kept.csv")
+	if err := os.WriteFile(filepath.Join(dir, "a.csv"), []byte("x"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(target, []byte("x"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	links := map[string]string{"b.csv": target, "c.csv": filepath.Join(elsewhere, "gone.csv"), "d": elsewhere}
+	if err := syscall.Mkfifo(filepath.Join(elsewhere, "fifo"), 0o600); err == nil {
+		links["e"] = filepath.Join(elsewhere, "fifo")
+	}
+	for name, to := range links {
+		if err := os.Symlink(to, filepath.Join(dir, name)); err != nil {
+			t.Skipf("no symbolic links here: %v", err)
+		}
+	}
+	var got []string
+	for _, in := range ExpandInputs([]string{dir}) {
+		got = append(got, filepath.Base(in.Path))
+	}
+	if want := []string{"a.csv", "b.csv", "c.csv"}; !reflect.DeepEqual(got, want) {
+		t.Errorf("ExpandInputs = %v, want %v", got, want)
 	}
 }
