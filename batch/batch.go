@@ -216,7 +216,10 @@ type Batch struct {
 	// Outcome.Encoded. It must be safe for concurrent use.
 	Encode func(dst []byte, r *unmix.Result) []byte
 	// Progress, if not nil, is called from the emitting goroutine after
-	// each outcome, with the samples done and the samples known so far.
+	// each outcome, with the samples done and the total expected: the
+	// samples of the files read so far plus one for each file not read
+	// yet (exact for files of one scan each, whose number is known from
+	// the start).
 	Progress func(done, known int)
 	// CheckOnly reads every sample and checks it (Model.Check) without
 	// solving it: outcomes carry no Result, and Err is set for a sample
@@ -487,6 +490,7 @@ type emitter struct {
 	sum    Summary
 	next   int   // sequence number of the next outcome to emit
 	knownN int   // samples known so far
+	knownF int   // files whose samples are counted in knownN
 	err    error // emit's error
 }
 
@@ -523,11 +527,15 @@ drain:
 		select {
 		case k := <-e.known:
 			e.knownN += k
+			e.knownF++
 		default:
 			break drain
 		}
 	}
-	e.b.Progress(e.next, e.knownN)
+	// Each file not read yet counts as one sample, so that for a folder
+	// of one-scan files the total is known from the start rather than
+	// growing as files are read.
+	e.b.Progress(e.next, e.knownN+len(e.inputs)-e.knownF)
 }
 
 // solveOne solves s into a pooled Result and runs the Each hook.

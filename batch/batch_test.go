@@ -279,3 +279,33 @@ func TestExpandFollowsLinks(t *testing.T) {
 		t.Errorf("ExpandInputs = %v, want %v", got, want)
 	}
 }
+
+// TestProgressTotalKnown: for many files of one scan each the total that
+// Progress gets is the number of files from the first call on (before, it
+// counted only the files read so far and the bar sat short of the end);
+// a file of many scans raises it once read, and the last call has the
+// exact count.
+func TestProgressTotalKnown(t *testing.T) {
+	sizes := map[string]int{"wide.csv": 30}
+	var inputs []Input
+	for i := range 50 {
+		name := fmt.Sprintf("s%d.csv", i)
+		sizes[name] = 1
+		inputs = append(inputs, Input{Path: name})
+	}
+	inputs = append(inputs, Input{Path: "wide.csv"})
+	b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: 2, ReadFile: fakeFiles(sizes, nil)}
+	var totals []int
+	b.Progress = func(done, known int) { totals = append(totals, known) }
+	if _, _, err := runBatch(t, context.Background(), b, inputs, 0); err != nil {
+		t.Fatal(err)
+	}
+	for i, k := range totals[:50] {
+		if k < 51 {
+			t.Fatalf("call %d: total %d, want at least the 51 files", i, k)
+		}
+	}
+	if last := totals[len(totals)-1]; last != 80 {
+		t.Errorf("last total %d, want 80", last)
+	}
+}

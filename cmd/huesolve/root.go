@@ -19,11 +19,11 @@ var version = "0.1.0-dev"
 
 // Exit codes, documented in the root help and the README.
 const (
-	exitOK        = 0 // everything read, nothing flagged
-	exitFailure   = 1 // the command could not do its job
-	exitUsage     = 2 // bad command line
-	exitSkipped   = 3 // done, but some inputs could not be read or solved and were skipped
-	exitFlagged   = 4 // done, all inputs read, but some results are flagged or failed acceptance
+	exitOK      = 0 // everything read, nothing flagged
+	exitFailure = 1 // the command could not do its job
+	exitUsage   = 2 // bad command line
+	exitSkipped = 3 // done, but some inputs could not be read or solved and were skipped
+	exitFlagged = 4 // done, all inputs read, but some results are flagged or failed acceptance
 	// exitInterrupt is what a command returns when its context was
 	// cancelled (interrupted): Execute turns it into 130 for SIGINT
 	// (Ctrl-C) and exitTerminated for SIGTERM, 128 plus the signal's

@@ -41,6 +41,11 @@ type solveOptions struct {
 // would tell anything.
 const solveProgressMin = 200
 
+// solvePlotProgressMin is the same with --plots, where each sample also
+// costs a figure (some 25 ms): the bar then counts samples solved and
+// plotted.
+const solvePlotProgressMin = 20
+
 const solveLong = `Unmix sample scans into concentrations with a reference set made by
 calibrate.
 
@@ -159,7 +164,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		return err
 	}
 	j.newBatch(o, q)
-	j.showProgress(cmd)
+	j.showProgress(cmd, o.output.plots != "")
 	if o.checkOnly {
 		return runSolveCheck(cmd, j.batch, j.inputs, j.errw, func() int64 {
 			sheetNotes(j.track, j.sheet, j.warn, o.dilution, o.pathCM)
@@ -302,15 +307,21 @@ func (j *solveJob) newBatch(o *solveOptions, q spectrum.Quantity) {
 	}
 }
 
-// showProgress shows a progress bar on a terminal only.
-func (j *solveJob) showProgress(cmd *cobra.Command) {
+// showProgress shows a progress bar on a terminal only; with plots it
+// counts samples solved and plotted (a sample is done once its figure is
+// written).
+func (j *solveJob) showProgress(cmd *cobra.Command, plots bool) {
 	f, ok := cmd.ErrOrStderr().(*os.File)
 	if !ok || !term.IsTerminal(int(f.Fd())) {
 		return
 	}
+	least, what := solveProgressMin, "solving"
+	if plots {
+		least, what = solvePlotProgressMin, "solving and plotting"
+	}
 	j.batch.Progress = func(done, known int) {
-		if j.bar == nil && known >= solveProgressMin {
-			j.bar = progressbar.NewOptions(known, progressbar.OptionSetWriter(j.errw), progressbar.OptionSetDescription("solving"),
+		if j.bar == nil && known >= least {
+			j.bar = progressbar.NewOptions(known, progressbar.OptionSetWriter(j.errw), progressbar.OptionSetDescription(what),
 				progressbar.OptionShowCount(), progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
 		}
 		if j.bar != nil {
