@@ -311,13 +311,14 @@ func (j *solveJob) newBatch(o *solveOptions, q spectrum.Quantity) {
 // counts samples solved and plotted (a sample is done once its figure is
 // written).
 func (j *solveJob) showProgress(cmd *cobra.Command, plots bool) {
-	f, ok := cmd.ErrOrStderr().(*os.File)
-	if !ok || !term.IsTerminal(int(f.Fd())) {
-		return
-	}
 	least, what := solveProgressMin, "solving"
 	if plots {
 		least, what = solvePlotProgressMin, "solving and plotting"
+	}
+	f, ok := cmd.ErrOrStderr().(*os.File)
+	if !ok || !term.IsTerminal(int(f.Fd())) {
+		j.batch.Progress = newProgressLog(j.errw, time.Now, progressLogEvery, what).update
+		return
 	}
 	j.batch.Progress = func(done, known int) {
 		if j.bar == nil && known >= least {
@@ -329,6 +330,38 @@ func (j *solveJob) showProgress(cmd *cobra.Command, plots bool) {
 			_ = j.bar.Set(done)
 		}
 	}
+}
+
+// progressLogEvery is how often solve says how far it got when standard
+// error is not a terminal (a log, a pipe): runs shorter than this say
+// nothing more than before.
+const progressLogEvery = 10 * time.Second
+
+// progressLog writes a one-line progress message at most every interval,
+// the first one interval after it was made: for long runs whose standard
+// error is not a terminal, where a bar cannot be drawn.
+type progressLog struct {
+	w           io.Writer
+	now         func() time.Time
+	every       time.Duration
+	what        string
+	start, last time.Time
+}
+
+func newProgressLog(w io.Writer, now func() time.Time, every time.Duration, what string) *progressLog {
+	t := now()
+	return &progressLog{w: w, now: now, every: every, what: what, start: t, last: t}
+}
+
+// update is a batch.Progress: done samples of total expected.
+func (p *progressLog) update(done, total int) {
+	t := p.now()
+	if t.Sub(p.last) < p.every {
+		return
+	}
+	p.last = t
+	rate := float64(done) / t.Sub(p.start).Seconds()
+	fmt.Fprintf(p.w, "huesolve: %s: %d of %d scans done (%.0f/s)\n", p.what, done, total, rate)
 }
 
 // solve runs the batch and writes the results to -o FILE (complete or
