@@ -2,6 +2,7 @@ package spectrum
 
 import (
 	"bufio"
+	"context"
 	"errors"
 	"io"
 	"os"
@@ -184,5 +185,23 @@ func TestWideTable100k(t *testing.T) {
 	var pe *ParseError
 	if !errors.As(err, &pe) || pe.Line != 1 || pe.Column != defaultMaxColumns+1 || !strings.Contains(err.Error(), "more than the 1048576") {
 		t.Errorf("too wide: %v", err)
+	}
+}
+
+// TestReadFileContext: ReadFile stops with the context's error once it is
+// done, so a large file stops at the first Ctrl-C (before, it was read
+// to its end).
+func TestReadFileContext(t *testing.T) {
+	p := filepath.Join(t.TempDir(), "a.csv")
+	if err := os.WriteFile(p, []byte("nm,A\n400,1\n401,2\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if _, err := ReadFile(p, ReadOptions{Context: ctx}); !errors.Is(err, context.Canceled) {
+		t.Errorf("cancelled read: %v, want context.Canceled", err)
+	}
+	if ss, err := ReadFile(p, ReadOptions{Context: context.Background()}); err != nil || len(ss) != 1 {
+		t.Errorf("read: %v", err)
 	}
 }

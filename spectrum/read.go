@@ -3,6 +3,7 @@ package spectrum
 import (
 	"bufio"
 	"bytes"
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -60,6 +61,10 @@ type ReadOptions struct {
 	// file is refused before it is read (a file that grows while it is
 	// read fails when it passes the bound). Zero means 1 GiB.
 	MaxFileBytes int64
+	// Context, if not nil, stops ReadFile when it is done: each read
+	// from the file checks it, and the error wraps its Err (so a large
+	// file stops at the first Ctrl-C, not at its end).
+	Context context.Context
 
 	// sizeHint is the input size in bytes when known (ReadFile sets it);
 	// it only sizes buffers.
@@ -142,7 +147,7 @@ func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 	}
 	limit := opt.maxFile()
 	// The cap also holds for a file that grows while it is read.
-	in := &capReader{r: f, left: limit, limit: limit}
+	in := &capReader{r: f, left: limit, limit: limit, ctx: opt.Context}
 	if st.Size() > limit {
 		return nil, &ParseError{File: path, Err: fmt.Errorf("the file is %s, more than the %s a spectrum file may hold (%w: is it a spectrum file? split a bigger table into several files)",
 			bytesize.Text(st.Size()), bytesize.Text(limit), errTooLarge)}
@@ -169,9 +174,15 @@ type capReader struct {
 	r     io.Reader
 	left  int64
 	limit int64
+	ctx   context.Context // nil: never stopped
 }
 
 func (c *capReader) Read(p []byte) (int, error) {
+	if c.ctx != nil {
+		if err := c.ctx.Err(); err != nil {
+			return 0, err
+		}
+	}
 	if c.left <= 0 {
 		// One byte more tells a stream that ends exactly at the limit
 		// from a longer one.

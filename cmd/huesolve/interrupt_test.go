@@ -117,3 +117,18 @@ func TestWindowStepBounded(t *testing.T) {
 		t.Errorf("step at the grid spacing: exit %d, %s", code, errOut)
 	}
 }
+
+// TestLookInterrupted: look stops at the first signal, also inside a
+// file (ReadOptions.Context), exiting 143 for SIGTERM and printing no
+// listing (before, it read every file to its end).
+func TestLookInterrupted(t *testing.T) {
+	dir := t.TempDir()
+	scan := writeScans(t, filepath.Join(dir, "a.csv"), solveScan("A1", []float64{5, 3, 1, 8}, 0, 1))
+	ctx, cancel := context.WithCancelCause(context.Background())
+	cancel(&signalCause{sig: syscall.SIGTERM})
+	var stdout, stderr bytes.Buffer
+	code := execute(ctx, []string{"look", scan, scan}, strings.NewReader(""), &stdout, &stderr)
+	if code != exitTerminated || stdout.Len() != 0 || !strings.Contains(stderr.String(), "interrupted while reading "+scan+", after 0 of 2 files") {
+		t.Errorf("exit %d, stdout %q, stderr %q", code, stdout.String(), stderr.String())
+	}
+}

@@ -380,6 +380,7 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 		if enc != nil {
 			j.batch.Encode = enc.AppendResult // formats in the workers
 		}
+		j.batch.Read.Context = cmd.Context()
 		sum, err = j.batch.Run(cmd.Context(), j.inputs, func(out batch.Outcome) error {
 			return j.emit(out, rw, enc)
 		})
