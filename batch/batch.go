@@ -32,7 +32,8 @@ type Input struct {
 var errNoMatch = errors.New("no file matches")
 
 // ExpandInputs turns command-line arguments into files: a folder gives its
-// regular, non-hidden files (not recursive), a pattern with *, ? or [
+// regular, non-hidden files and links to regular files (not recursive; see
+// folderFiles), a pattern with *, ? or [
 // gives its matches, anything else is taken as a file (a missing file
 // fails when read). Each group is sorted by name in natural order (runs
 // of digits compare as numbers: s2 before s10); the order of the
@@ -69,12 +70,7 @@ func ExpandInputs(args []string) []Input {
 			out = append(out, Input{Path: a, Err: fmt.Errorf("folder %s: %w", a, err)})
 			continue
 		}
-		var names []string
-		for _, e := range ents {
-			if e.Type().IsRegular() && !strings.HasPrefix(e.Name(), ".") {
-				names = append(names, e.Name())
-			}
-		}
+		names := folderFiles(a, ents)
 		slices.SortFunc(names, naturalCompare)
 		for _, nm := range names {
 			out = append(out, Input{Path: filepath.Join(a, nm)})
@@ -85,6 +81,31 @@ func ExpandInputs(args []string) []Input {
 		}
 	}
 	return out
+}
+
+// folderFiles are the names of the entries of folder dir that are inputs:
+// regular files and symbolic links to regular files (followed, so a
+// folder of links to scans kept elsewhere reads like the scans), not
+// hidden. A link that points nowhere is kept, so that reading it reports
+// it by name rather than leaving it out without a word; subfolders, links
+// to folders, pipes and devices are left out.
+func folderFiles(dir string, ents []os.DirEntry) []string {
+	var names []string
+	for _, e := range ents {
+		if strings.HasPrefix(e.Name(), ".") {
+			continue
+		}
+		switch t := e.Type(); {
+		case t.IsRegular():
+			names = append(names, e.Name())
+		case t&os.ModeSymlink != 0:
+			fi, err := os.Stat(filepath.Join(dir, e.Name()))
+			if err != nil || fi.Mode().IsRegular() {
+				names = append(names, e.Name())
+			}
+		}
+	}
+	return names
 }
 
 // naturalCompare orders names as a person would: runs of decimal digits
@@ -195,7 +216,10 @@ type Batch struct {
 	// Outcome.Encoded. It must be safe for concurrent use.
 	Encode func(dst []byte, r *unmix.Result) []byte
 	// Progress, if not nil, is called from the emitting goroutine after
-	// each outcome, with the samples done and the samples known so far.
+	// each outcome, with the samples done and the total expected: the
+	// samples of the files read so far plus one for each file not read
+	// yet (exact for files of one scan each, whose number is known from
+	// the start).
 	Progress func(done, known int)
 	// CheckOnly reads every sample and checks it (Model.Check) without
 	// solving it: outcomes carry no Result, and Err is set for a sample
@@ -466,6 +490,7 @@ type emitter struct {
 	sum    Summary
 	next   int   // sequence number of the next outcome to emit
 	knownN int   // samples known so far
+	knownF int   // files whose samples are counted in knownN
 	err    error // emit's error
 }
 
@@ -502,11 +527,15 @@ drain:
 		select {
 		case k := <-e.known:
 			e.knownN += k
+			e.knownF++
 		default:
 			break drain
 		}
 	}
-	e.b.Progress(e.next, e.knownN)
+	// Each file not read yet counts as one sample, so that for a folder
+	// of one-scan files the total is known from the start rather than
+	// growing as files are read.
+	e.b.Progress(e.next, e.knownN+len(e.inputs)-e.knownF)
 }
 
 // solveOne solves s into a pooled Result and runs the Each hook.

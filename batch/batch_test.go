@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"strings"
+	"syscall"
 	"testing"
 
 	"huesolve/spectrum"
@@ -245,5 +246,66 @@ func TestBatchCheckOnly(t *testing.T) {
 	}
 	if !checked[0] || !checked[1] || checked[2] || !errors.Is(errs[2], unmix.ErrFactor) || checked[3] || !checked[4] || !errors.Is(errs[5], unmix.ErrCoverage) {
 		t.Errorf("checked %v, errors %v", checked, errs)
+	}
+}
+
+// TestExpandFollowsLinks: a folder's links to regular files are inputs
+// like its files (before, a linked scan was left out without a word); a
+// link that points nowhere is kept so that reading it names it; links to
+// folders and named pipes are left out like folders and pipes.
+func TestExpandFollowsLinks(t *testing.T) {
+	dir, elsewhere := t.TempDir(), t.TempDir()
+	target := filepath.Join(elsewhere, "kept.csv")
+	if err := os.WriteFile(filepath.Join(dir, "a.csv"), []byte("x"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(target, []byte("x"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	links := map[string]string{"b.csv": target, "c.csv": filepath.Join(elsewhere, "gone.csv"), "d": elsewhere}
+	if err := syscall.Mkfifo(filepath.Join(elsewhere, "fifo"), 0o600); err == nil {
+		links["e"] = filepath.Join(elsewhere, "fifo")
+	}
+	for name, to := range links {
+		if err := os.Symlink(to, filepath.Join(dir, name)); err != nil {
+			t.Skipf("no symbolic links here: %v", err)
+		}
+	}
+	var got []string
+	for _, in := range ExpandInputs([]string{dir}) {
+		got = append(got, filepath.Base(in.Path))
+	}
+	if want := []string{"a.csv", "b.csv", "c.csv"}; !reflect.DeepEqual(got, want) {
+		t.Errorf("ExpandInputs = %v, want %v", got, want)
+	}
+}
+
+// TestProgressTotalKnown: for many files of one scan each the total that
+// Progress gets is the number of files from the first call on (before, it
+// counted only the files read so far and the bar sat short of the end);
+// a file of many scans raises it once read, and the last call has the
+// exact count.
+func TestProgressTotalKnown(t *testing.T) {
+	sizes := map[string]int{"wide.csv": 30}
+	var inputs []Input
+	for i := range 50 {
+		name := fmt.Sprintf("s%d.csv", i)
+		sizes[name] = 1
+		inputs = append(inputs, Input{Path: name})
+	}
+	inputs = append(inputs, Input{Path: "wide.csv"})
+	b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: 2, ReadFile: fakeFiles(sizes, nil)}
+	var totals []int
+	b.Progress = func(done, known int) { totals = append(totals, known) }
+	if _, _, err := runBatch(t, context.Background(), b, inputs, 0); err != nil {
+		t.Fatal(err)
+	}
+	for i, k := range totals[:50] {
+		if k < 51 {
+			t.Fatalf("call %d: total %d, want at least the 51 files", i, k)
+		}
+	}
+	if last := totals[len(totals)-1]; last != 80 {
+		t.Errorf("last total %d, want 80", last)
 	}
 }

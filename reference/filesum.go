@@ -5,7 +5,8 @@ import (
 	"encoding/hex"
 	"fmt"
 	"io"
-	"os"
+
+	"huesolve/spectrum"
 )
 
 // FileSHA256 returns the SHA-256 of a file's content in lower-case hex,
@@ -15,9 +16,13 @@ import (
 // stores them, below both of its callers: package calibration (the
 // standards' scans) and the command (a separate blank).
 func FileSHA256(path string) (string, error) {
-	f, err := os.Open(path)
+	f, st, err := spectrum.OpenInput(path)
 	if err != nil {
 		return "", err
+	}
+	if st.IsDir() {
+		f.Close()
+		return "", fmt.Errorf("%s is a folder", path)
 	}
 	defer f.Close()
 	h := sha256.New()

@@ -9,7 +9,6 @@ import (
 	"fmt"
 	"io"
 	"math"
-	"os"
 	"slices"
 	"unicode"
 	"unicode/utf8"
@@ -18,6 +17,7 @@ import (
 	"huesolve/internal/atomicfile"
 	"huesolve/internal/bytesize"
 	"huesolve/internal/pkgerr"
+	"huesolve/spectrum"
 )
 
 // SchemaVersion is the version of the reference-set file format written by
@@ -682,20 +682,23 @@ const maxSetBytes = 256 << 20
 // is over the content, not the layout). Errors name the file and wrap
 // errTruncated, errChecksum, errNewerSchema, errNotSet or errInvalid; a
 // folder, or a file larger than maxSetBytes, is refused before reading
-// (errNotSet).
+// (errNotSet), and so is a named pipe, socket or device
+// (spectrum.ErrNotRegular: opened with spectrum.OpenInput).
 func Load(path string) (*Set, error) {
 	fail := func(err error) (*Set, error) { return nil, pkgerr.Errorf("reference", "%s: %w", path, err) }
-	st, err := os.Stat(path)
-	switch {
-	case err != nil:
+	f, st, err := spectrum.OpenInput(path)
+	if err != nil {
 		return nil, pkgerr.Errorf("reference", "%w", err)
+	}
+	defer f.Close()
+	switch {
 	case st.IsDir():
 		return fail(fmt.Errorf("%w: it is a folder", errNotSet))
 	case st.Mode().IsRegular() && st.Size() > maxSetBytes:
 		return fail(fmt.Errorf("%w: the file is %s, more than the %s a reference set may take", errNotSet,
 			bytesize.Text(st.Size()), bytesize.Text(maxSetBytes)))
 	}
-	data, err := readUpTo(path, maxSetBytes)
+	data, err := readUpTo(f, maxSetBytes)
 	if errors.Is(err, errTooLarge) {
 		return fail(fmt.Errorf("%w: more than the %s a reference set may take", errNotSet, bytesize.Text(maxSetBytes)))
 	}
@@ -754,15 +757,10 @@ func Load(path string) (*Set, error) {
 // errTooLarge: readUpTo found more than its limit.
 var errTooLarge = errors.New("too large")
 
-// readUpTo reads the file at path, failing with errTooLarge once it holds
-// more than limit bytes (a pipe, or a file growing while it is read, is
-// not trusted to be small because a size check passed).
-func readUpTo(path string, limit int64) ([]byte, error) {
-	f, err := os.Open(path)
-	if err != nil {
-		return nil, err
-	}
-	defer f.Close()
+// readUpTo reads f, failing with errTooLarge once it holds more than
+// limit bytes (a file growing while it is read is not trusted to be small
+// because a size check passed).
+func readUpTo(f io.Reader, limit int64) ([]byte, error) {
 	data, err := io.ReadAll(io.LimitReader(f, limit+1))
 	if err != nil {
 		return nil, err

@@ -70,6 +70,19 @@ type jcampRecord struct {
 	raw   string // label as written
 	value string
 	line  int
+	// more collects the record's continuation lines ("\n" before each)
+	// until the record ends, when finish appends them to value: adding
+	// each line to the string itself would copy the value so far every
+	// time, quadratic in the number of lines.
+	more strings.Builder
+}
+
+// finish appends the continuation lines collected in more to value.
+func (r *jcampRecord) finish() {
+	if r != nil && r.more.Len() > 0 {
+		r.value += r.more.String()
+		r.more.Reset()
+	}
 }
 
 // dataLine is one line of a data table, stored in jcampReader.buf.
@@ -119,6 +132,7 @@ func normLabel(s string) string {
 // scan reads the records of the single block.
 func (j *jcampReader) scan(lr *lineReader) error {
 	var cur *jcampRecord
+	defer func() { cur.finish() }()
 	inData := false
 	started := false
 	for {
@@ -146,6 +160,7 @@ func (j *jcampReader) scan(lr *lineReader) error {
 		}
 		if len(t) >= 2 && t[0] == '#' && t[1] == '#' {
 			inData = false
+			cur.finish()
 			eq := indexByte(t, '=')
 			if eq < 0 {
 				return j.errAt(n, 1, "label without '=': %q", clip(string(t)))
@@ -198,7 +213,8 @@ func (j *jcampReader) scan(lr *lineReader) error {
 			continue
 		}
 		if cur != nil {
-			cur.value += "\n" + string(t)
+			cur.more.WriteByte('\n')
+			cur.more.Write(t)
 		}
 	}
 	if !started {

@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"math"
 	"math/rand/v2"
+	"runtime"
 	"strings"
 	"testing"
 )
@@ -441,4 +442,44 @@ func ExampleReadJCAMP() {
 	s := ss[0]
 	fmt.Println(s.Name, s.Quantity, s.Wavelengths, s.Values)
 	// Output: example absorbance [400 401 402 403 404] [0.123 0.135 0.147 0.147 0.147]
+}
+
+// TestJCAMPContinuationLinear: a record continued over many lines costs
+// memory in proportion to its length, not to the square of its number of
+// lines. Adding each continuation line to the value string copied the
+// value so far every time: for the 20,000 lines of 10 bytes here that
+// allocated about n²·11/2 = 2.2 GB (and 200,000 lines took close to a
+// minute). The check counts the bytes the reader allocates, so it does
+// not depend on the speed of the machine: linear reading allocates a few
+// times the input's 220 kB; the bound below leaves room for the rest of
+// the reader (buffers, the table, the spectrum) and is still a hundred
+// times below the quadratic cost.
+func TestJCAMPContinuationLinear(t *testing.T) {
+	const (
+		lines = 20000
+		// maxAllocPerInputByte bounds the bytes allocated per byte of
+		// input: see above.
+		maxAllocPerInputByte = 50
+	)
+	var b strings.Builder
+	b.WriteString("##TITLE=t\n##JCAMP-DX=4.24\n##DATA TYPE=UV/VIS SPECTRUM\n##COMMENTS=first\n")
+	for range lines {
+		b.WriteString("continued\n")
+	}
+	b.WriteString("##XUNITS=NM\n##YUNITS=ABSORBANCE\n##FIRSTX=400\n##LASTX=402\n##NPOINTS=3\n##XYDATA=(X++(Y..Y))\n400 1 2 3\n##END=\n")
+	in := b.String()
+	var before, after runtime.MemStats
+	runtime.GC()
+	runtime.ReadMemStats(&before)
+	ss, err := ReadJCAMP(strings.NewReader(in), "long.jdx", ReadOptions{})
+	runtime.ReadMemStats(&after)
+	if err != nil || len(ss) != 1 {
+		t.Fatalf("long comment: %v", err)
+	}
+	alloc := after.TotalAlloc - before.TotalAlloc
+	t.Logf("%d continuation lines (%d bytes): %d bytes allocated", lines, len(in), alloc)
+	if alloc > uint64(maxAllocPerInputByte*len(in)) {
+		t.Errorf("reading %d bytes with %d continuation lines allocated %d bytes, more than %d per input byte: the record value grows quadratically",
+			len(in), lines, alloc, maxAllocPerInputByte)
+	}
 }

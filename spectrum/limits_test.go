@@ -1,6 +1,8 @@
 package spectrum
 
 import (
+	"bufio"
+	"context"
 	"errors"
 	"io"
 	"os"
@@ -9,6 +11,7 @@ import (
 	"strings"
 	"syscall"
 	"testing"
+	"time"
 )
 
 // endless yields prefix and then the byte fill for ever: a line of any
@@ -94,33 +97,57 @@ func TestFileTooLarge(t *testing.T) {
 	}
 }
 
-// TestPipeTooLarge: from a named pipe, whose size is unknown, reading
-// stops with errTooLarge once the limit is passed; a stream ending at the
-// limit reads.
-func TestPipeTooLarge(t *testing.T) {
+// TestNotRegularRefused: a named pipe (with no writer: before, ReadFile
+// waited for ever) and a device node are refused at once, naming the path
+// and what it is. The device test needs root to make a node (CI runs as
+// root); it makes its own node, a copy of /dev/null's numbers, in a
+// temporary folder and never touches a system one.
+func TestNotRegularRefused(t *testing.T) {
+	dir := t.TempDir()
+	fifo := filepath.Join(dir, "fifo")
+	if err := syscall.Mkfifo(fifo, 0o600); err != nil {
+		t.Skipf("no named pipes here: %v", err)
+	}
+	cases := map[string]string{fifo: "a named pipe (FIFO)"}
+	dev := filepath.Join(dir, "null")
+	if err := syscall.Mknod(dev, syscall.S_IFCHR|0o600, 1<<8|3); err == nil {
+		cases[dev] = "a character device"
+	} else {
+		t.Logf("no device node test (needs root): %v", err)
+	}
+	for p, kind := range cases {
+		errc := make(chan error, 1)
+		go func() {
+			_, err := ReadFile(p, ReadOptions{})
+			errc <- err
+		}()
+		select {
+		case err := <-errc:
+			if !errors.Is(err, ErrNotRegular) || !strings.Contains(err.Error(), p+" is "+kind+", not a regular file") {
+				t.Errorf("%s: %v, want a refusal naming it %s", p, err, kind)
+			}
+		case <-time.After(10 * time.Second):
+			t.Fatalf("ReadFile(%s) still blocks after 10 s", p)
+		}
+	}
+}
+
+// TestCapReader: the size cap holds while reading, for a file that grows
+// after its size was looked at: a stream ending at the limit reads, one
+// byte more fails with errTooLarge.
+func TestCapReader(t *testing.T) {
 	const content = "nm,A\n400,1\n401,2\n" // 17 bytes
 	for _, c := range []struct {
 		limit int64
 		ok    bool
 	}{{17, true}, {16, false}} {
-		p := filepath.Join(t.TempDir(), "fifo")
-		if err := syscall.Mkfifo(p, 0o600); err != nil {
-			t.Skipf("no named pipes here: %v", err)
-		}
-		go func() {
-			f, err := os.OpenFile(p, os.O_WRONLY, 0)
-			if err != nil {
-				return
-			}
-			defer f.Close()
-			f.WriteString(content)
-		}()
-		ss, err := ReadFile(p, ReadOptions{MaxFileBytes: c.limit})
+		in := bufio.NewReader(&capReader{r: strings.NewReader(content), left: c.limit, limit: c.limit})
+		ss, err := ReadDelimited(in, "grown.csv", ReadOptions{})
 		if c.ok && (err != nil || len(ss) != 1) {
 			t.Errorf("limit %d: %v", c.limit, err)
 		}
-		if !c.ok && (!errors.Is(err, errTooLarge) || !strings.Contains(err.Error(), p+":")) {
-			t.Errorf("limit %d: %v, want errTooLarge naming %s", c.limit, err, p)
+		if !c.ok && !errors.Is(err, errTooLarge) {
+			t.Errorf("limit %d: %v, want errTooLarge", c.limit, err)
 		}
 	}
 }
@@ -158,5 +185,23 @@ func TestWideTable100k(t *testing.T) {
 	var pe *ParseError
 	if !errors.As(err, &pe) || pe.Line != 1 || pe.Column != defaultMaxColumns+1 || !strings.Contains(err.Error(), "more than the 1048576") {
 		t.Errorf("too wide: %v", err)
+	}
+}
+
+// TestReadFileContext: ReadFile stops with the context's error once it is
+// done, so a large file stops at the first Ctrl-C (before, it was read
+// to its end).
+func TestReadFileContext(t *testing.T) {
+	p := filepath.Join(t.TempDir(), "a.csv")
+	if err := os.WriteFile(p, []byte("nm,A\n400,1\n401,2\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if _, err := ReadFile(p, ReadOptions{Context: ctx}); !errors.Is(err, context.Canceled) {
+		t.Errorf("cancelled read: %v, want context.Canceled", err)
+	}
+	if ss, err := ReadFile(p, ReadOptions{Context: context.Background()}); err != nil || len(ss) != 1 {
+		t.Errorf("read: %v", err)
 	}
 }

@@ -3,6 +3,7 @@ package spectrum
 import (
 	"bufio"
 	"bytes"
+	"context"
 	"errors"
 	"fmt"
 	"io"
@@ -57,10 +58,13 @@ type ReadOptions struct {
 	// wider table is an error. Zero means 1,048,576 (2^20).
 	MaxColumns int
 	// MaxFileBytes bounds the size of a file ReadFile reads; a larger
-	// file is refused before it is read (a pipe, whose size is not known,
-	// or a file that grows while it is read, fails when it passes the
-	// bound). Zero means 1 GiB.
+	// file is refused before it is read (a file that grows while it is
+	// read fails when it passes the bound). Zero means 1 GiB.
 	MaxFileBytes int64
+	// Context, if not nil, stops ReadFile when it is done: each read
+	// from the file checks it, and the error wraps its Err (so a large
+	// file stops at the first Ctrl-C, not at its end).
+	Context context.Context
 
 	// sizeHint is the input size in bytes when known (ReadFile sets it);
 	// it only sizes buffers.
@@ -124,37 +128,31 @@ const detectPeek = 64 << 10
 // delimited text otherwise). Values are left in the quantity the file
 // holds; call ToAbsorbance to convert.
 //
-// A directory, a missing or unreadable file is an error naming the path;
-// problems inside the file are *ParseError values, and so is a file larger
+// A directory, a missing or unreadable file is an error naming the path,
+// and so is a named pipe, socket or device (ErrNotRegular: see
+// OpenInput), refused before anything is read; problems inside the file are *ParseError values, and so is a file larger
 // than opt.MaxFileBytes (wrapping errTooLarge, refused before anything is
 // read).
 func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
-	f, err := os.Open(path)
+	f, st, err := OpenInput(path)
+	if errors.Is(err, ErrNotRegular) {
+		return nil, pkgerr.Errorf("spectrum", "%w", err)
+	}
 	if err != nil {
 		return nil, pkgerr.Errorf("spectrum", "cannot read %s: %w", path, unwrapPathError(err))
 	}
 	defer f.Close()
-	st, err := f.Stat()
-	if err != nil {
-		return nil, pkgerr.Errorf("spectrum", "cannot read %s: %w", path, unwrapPathError(err))
-	}
 	if st.IsDir() {
 		return nil, pkgerr.Errorf("spectrum", "%s is a directory, not a spectrum file", path)
 	}
-	if !st.Mode().IsRegular() && st.Mode()&os.ModeNamedPipe == 0 && st.Mode()&os.ModeCharDevice == 0 {
-		return nil, pkgerr.Errorf("spectrum", "%s is not a regular file", path)
-	}
 	limit := opt.maxFile()
-	// The cap also holds for a pipe, whose size is not known, and for a
-	// file that grows while it is read.
-	in := &capReader{r: f, left: limit, limit: limit}
-	if st.Mode().IsRegular() {
-		if st.Size() > limit {
-			return nil, &ParseError{File: path, Err: fmt.Errorf("the file is %s, more than the %s a spectrum file may hold (%w: is it a spectrum file? split a bigger table into several files)",
-				bytesize.Text(st.Size()), bytesize.Text(limit), errTooLarge)}
-		}
-		opt.sizeHint = st.Size()
+	// The cap also holds for a file that grows while it is read.
+	in := &capReader{r: f, left: limit, limit: limit, ctx: opt.Context}
+	if st.Size() > limit {
+		return nil, &ParseError{File: path, Err: fmt.Errorf("the file is %s, more than the %s a spectrum file may hold (%w: is it a spectrum file? split a bigger table into several files)",
+			bytesize.Text(st.Size()), bytesize.Text(limit), errTooLarge)}
 	}
+	opt.sizeHint = st.Size()
 	size := detectPeek
 	if s := st.Size(); s > 0 && s < int64(size) {
 		size = max(int(s), 16)
@@ -176,9 +174,15 @@ type capReader struct {
 	r     io.Reader
 	left  int64
 	limit int64
+	ctx   context.Context // nil: never stopped
 }
 
 func (c *capReader) Read(p []byte) (int, error) {
+	if c.ctx != nil {
+		if err := c.ctx.Err(); err != nil {
+			return 0, err
+		}
+	}
 	if c.left <= 0 {
 		// One byte more tells a stream that ends exactly at the limit
 		// from a longer one.

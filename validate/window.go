@@ -1,11 +1,13 @@
 package validate
 
 import (
+	"context"
 	"encoding/json"
 	"fmt"
 	"math"
 	"sort"
 	"strconv"
+	"strings"
 
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
@@ -38,7 +40,43 @@ const (
 	// built by adding steps and grid wavelengths are read from rounded
 	// text, so a point on an edge may miss it by a rounding error.
 	edgeSlack = 1e-9
+	// MaxWindows is the most candidate windows AdviseWindow tries: a
+	// bound on its time and memory whatever the step and widths asked
+	// (a project choice: on a 401-point grid 100,000 windows take about
+	// 5 s on one core and some 30 MB).
+	MaxWindows = 100000
 )
+
+// StepTooFineError refuses a window search whose edge step is finer than
+// the grid's spacing, so that neighbouring windows would hold the same
+// points (and their number grows as 1/step²).
+type StepTooFineError struct {
+	StepNM, GridNM float64 // the step asked and the grid's smallest spacing
+}
+
+func (e *StepTooFineError) Error() string {
+	return fmt.Sprintf("validate: a window step of %g nm is finer than the reference grid's spacing of %g nm: windows that differ by less than a grid step hold the same points",
+		e.StepNM, e.GridNM)
+}
+
+// Unprefixed is the text without the package prefix (pkgerr.Plain).
+func (e *StepTooFineError) Unprefixed() string { return strings.TrimPrefix(e.Error(), "validate: ") }
+
+// TooManyWindowsError refuses a window search whose step and widths allow
+// more than MaxWindows windows.
+type TooManyWindowsError struct {
+	Windows int     // windows the search would try
+	LoNM    float64 // the range of the edges
+	HiNM    float64
+}
+
+func (e *TooManyWindowsError) Error() string {
+	return fmt.Sprintf("validate: the step and widths make %d windows in %g-%g nm, more than the %d tried at most",
+		e.Windows, e.LoNM, e.HiNM, MaxWindows)
+}
+
+// Unprefixed is the text without the package prefix (pkgerr.Plain).
+func (e *TooManyWindowsError) Unprefixed() string { return strings.TrimPrefix(e.Error(), "validate: ") }
 
 // WindowOptions control AdviseWindow. Zero values mean the documented
 // defaults.
@@ -173,6 +211,16 @@ var errNoWindow = pkgerr.New("validate", "no window of the allowed widths tells 
 // Errors: those of FiguresOfMerit for the set and noise model, a bad
 // option, or errNoWindow when every candidate is singular.
 func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) {
+	return AdviseWindowContext(context.Background(), set, opt)
+}
+
+// AdviseWindowContext is AdviseWindow stopping when ctx is done, between
+// windows: the error then wraps ctx.Err() and says how many windows had
+// been tried. The search is refused before it starts (*StepTooFineError)
+// when the step is finer than the smallest spacing of the set's grid in
+// the search range, and (*TooManyWindowsError) when the step and widths
+// allow more than MaxWindows windows.
+func AdviseWindowContext(ctx context.Context, set *reference.Set, opt WindowOptions) (*WindowAdvice, error) {
 	if err := checkSet(set); err != nil {
 		return nil, err
 	}
@@ -183,14 +231,20 @@ func AdviseWindow(set *reference.Set, opt WindowOptions) (*WindowAdvice, error) 
 	if err := ws.rows(); err != nil {
 		return nil, err
 	}
+	if err := ws.checkStep(); err != nil {
+		return nil, err
+	}
 	adv.Edges = ws.edges()
+	if n := ws.count(adv.Edges); n > MaxWindows {
+		return nil, &TooManyWindowsError{Windows: n, LoNM: adv.Edges[0], HiNM: adv.Edges[len(adv.Edges)-1]}
+	}
 	if len(ws.wl) == 0 {
 		return nil, fmt.Errorf("%w: every wavelength is above the ceiling at the levels", errWindow)
 	}
 	if err := opt.Baseline.Check(ws.wl); err != nil {
 		return nil, pkgerr.Errorf("validate", "baseline model: %w", err)
 	}
-	if err := ws.candidates(adv); err != nil {
+	if err := ws.candidates(ctx, adv); err != nil {
 		return nil, err
 	}
 	if err := rankWindows(adv); err != nil {
@@ -297,6 +351,38 @@ func (ws *windowSearch) rows() error {
 	return nil
 }
 
+// checkStep refuses a step finer than the smallest spacing of the usable
+// grid points (*StepTooFineError): windows whose edges differ by less hold
+// the same points, and their number grows as 1/step².
+func (ws *windowSearch) checkStep() error {
+	g := ws.set.Grid
+	spacing := math.Inf(1)
+	for r := 1; r < len(ws.all); r++ {
+		spacing = min(spacing, g[ws.all[r]]-g[ws.all[r-1]])
+	}
+	if ws.step < spacing*(1-edgeSlack) {
+		return &StepTooFineError{StepNM: ws.step, GridNM: spacing}
+	}
+	return nil
+}
+
+// count is the number of windows between two edges of the allowed widths
+// (some of them may then hold too few points to be tried).
+func (ws *windowSearch) count(edges []float64) int {
+	slack := edgeSlack * ws.step
+	n := 0
+	for a, lo := range edges {
+		b0 := sort.SearchFloat64s(edges, lo+ws.minW-slack)
+		b0 = max(b0, a+1)
+		b1 := len(edges)
+		if ws.maxW > 0 {
+			b1 = sort.Search(len(edges), func(i int) bool { return edges[i] > lo+ws.maxW+slack })
+		}
+		n += max(b1-b0, 0)
+	}
+	return n
+}
+
 // edges are the candidate window edges: every step from the first usable
 // point, and the last usable point.
 func (ws *windowSearch) edges() []float64 {
@@ -318,12 +404,15 @@ func (ws *windowSearch) edges() []float64 {
 
 // candidates evaluates every window between two edges of the allowed
 // widths that keeps more points than columns into adv.Candidates.
-func (ws *windowSearch) candidates(adv *WindowAdvice) error {
+func (ws *windowSearch) candidates(ctx context.Context, adv *WindowAdvice) error {
 	set, step := ws.set, ws.step
 	ncol := len(set.Compounds) + ws.opt.Baseline.NumColumns()
 	work := newWindowWork(len(ws.keep), ncol)
 	for a, lo := range adv.Edges {
 		for b := a + 1; b < len(adv.Edges); b++ {
+			if err := ctx.Err(); err != nil {
+				return pkgerr.Errorf("validate", "window search stopped after %d windows: %w", len(adv.Candidates), err)
+			}
 			hi := adv.Edges[b]
 			if hi-lo < ws.minW-edgeSlack*step {
 				continue

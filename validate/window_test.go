@@ -1,6 +1,7 @@
 package validate
 
 import (
+	"context"
 	"encoding/json"
 	"errors"
 	"strings"
@@ -201,5 +202,34 @@ func TestWindowAdviceJSONMarginInPercent(t *testing.T) {
 			strings.Contains(s, `"equivalent":`) || strings.Contains(s, `"Equivalent"`) {
 			t.Errorf("margin %g: %s, want %s and the other fields", c.frac, s, c.want)
 		}
+	}
+}
+
+// TestAdviseWindowBounded: a step finer than the grid is refused naming
+// both (before, --step 0.001 ran for hours: the windows grow as 1/step²),
+// a step and widths that make more than MaxWindows windows are refused
+// before any is tried, and a search stopped by its context says how far
+// it got and wraps the context's error.
+func TestAdviseWindowBounded(t *testing.T) {
+	g := grid(300, 800, 1)
+	set := memSet(g, []string{"A", "B"}, [][]float64{gauss(g, 450, 30, 1), gauss(g, 600, 40, 1)}, 0.001)
+	var fine *StepTooFineError
+	if _, err := AdviseWindow(set, WindowOptions{StepNM: 0.001}); !errors.As(err, &fine) || fine.StepNM != 0.001 || fine.GridNM != 1 {
+		t.Errorf("step 0.001 on a 1 nm grid: %v, want StepTooFineError naming 0.001 and 1 nm", err)
+	}
+	// 501 edges at 1 nm with no minimum width to speak of: about
+	// 501·500/2 = 125,250 windows, above MaxWindows.
+	var many *TooManyWindowsError
+	if _, err := AdviseWindow(set, WindowOptions{StepNM: 1, MinWidthNM: 1}); !errors.As(err, &many) || many.Windows <= MaxWindows || many.Windows > 501*500/2 {
+		t.Errorf("1 nm steps from 1 nm widths: %v, want TooManyWindowsError", err)
+	}
+	// The same with a widest window of 100 nm is within the bound.
+	if adv, err := AdviseWindow(set, WindowOptions{StepNM: 5, MinWidthNM: 40, MaxWidthNM: 100}); err != nil || len(adv.Candidates) == 0 {
+		t.Errorf("bounded search: %v", err)
+	}
+	ctx, cancel := context.WithCancel(context.Background())
+	cancel()
+	if _, err := AdviseWindowContext(ctx, set, WindowOptions{}); !errors.Is(err, context.Canceled) || !strings.Contains(err.Error(), "stopped after 0 windows") {
+		t.Errorf("cancelled search: %v, want context.Canceled after 0 windows", err)
 	}
 }

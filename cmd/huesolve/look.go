@@ -1,6 +1,7 @@
 package main
 
 import (
+	"context"
 	"fmt"
 	"io"
 
@@ -43,7 +44,7 @@ look exits with code 3.`,
 			if err != nil {
 				return err
 			}
-			return runLook(cmd.OutOrStdout(), cmd.ErrOrStderr(), args, q, o)
+			return runLook(cmd.Context(), cmd.OutOrStdout(), cmd.ErrOrStderr(), args, q, o)
 		},
 	}
 	f := cmd.Flags()
@@ -54,7 +55,7 @@ look exits with code 3.`,
 }
 
 // runLook prints the summary of each file.
-func runLook(out, errw io.Writer, args []string, q spectrum.Quantity, o lookOptions) error {
+func runLook(ctx context.Context, out, errw io.Writer, args []string, q spectrum.Quantity, o lookOptions) error {
 	failed := 0
 	inputs := batch.ExpandInputs(args)
 	for k, in := range inputs {
@@ -64,7 +65,13 @@ func runLook(out, errw io.Writer, args []string, q spectrum.Quantity, o lookOpti
 			failed++
 			continue
 		}
-		ss, err := spectrum.ReadFile(file, spectrum.ReadOptions{Quantity: q, Warn: warnTo(errw)})
+		ss, err := spectrum.ReadFile(file, spectrum.ReadOptions{Quantity: q, Warn: warnTo(errw), Context: ctx})
+		if err == nil {
+			err = ctx.Err()
+		}
+		if interrupted(ctx, err) {
+			return &exitError{code: exitInterrupt, msg: fmt.Sprintf("interrupted while reading %s, after %d of %d files", file, k, len(inputs))}
+		}
 		if err != nil {
 			fmt.Fprintln(errw, "huesolve:", userMessage(err))
 			failed++

@@ -19,12 +19,17 @@ var version = "0.1.0-dev"
 
 // Exit codes, documented in the root help and the README.
 const (
-	exitOK        = 0 // everything read, nothing flagged
-	exitFailure   = 1 // the command could not do its job
-	exitUsage     = 2 // bad command line
-	exitSkipped   = 3 // done, but some inputs could not be read or solved and were skipped
-	exitFlagged   = 4 // done, all inputs read, but some results are flagged or failed acceptance
-	exitInterrupt = 130
+	exitOK      = 0 // everything read, nothing flagged
+	exitFailure = 1 // the command could not do its job
+	exitUsage   = 2 // bad command line
+	exitSkipped = 3 // done, but some inputs could not be read or solved and were skipped
+	exitFlagged = 4 // done, all inputs read, but some results are flagged or failed acceptance
+	// exitInterrupt is what a command returns when its context was
+	// cancelled (interrupted): Execute turns it into 130 for SIGINT
+	// (Ctrl-C) and exitTerminated for SIGTERM, 128 plus the signal's
+	// number as shells report a command a signal ended.
+	exitInterrupt  = 130
+	exitTerminated = 143
 )
 
 // exitError carries an exit code other than 1 with an optional message.
@@ -66,7 +71,8 @@ Exit codes:
   2  bad command line
   3  done, but some inputs could not be read or solved (they are listed on stderr)
   4  done, all inputs read, but some results are flagged or failed acceptance
-  130 interrupted (Ctrl-C): solve, verify and calibrate stop cleanly and write no -o file
+  130 interrupted (Ctrl-C), 143 terminated (SIGTERM): the command stops
+      cleanly and leaves its -o file and plots as they were
 
 ` + caution
 
@@ -183,16 +189,56 @@ func wasWere(n int) string {
 // in-process. Every write to stdout is checked: when one fails, the
 // command ends with exit code 1 (unless it was interrupted or given a bad
 // command line) and says so on stderr.
+//
+// Signals: the first SIGINT (Ctrl-C) or SIGTERM cancels the command's
+// context (cmd.Context()) with the signal as its cause. Every long-running
+// command checks that context in its loops (directly, or through the
+// library's ...Context functions and spectrum.ReadOptions.Context), stops,
+// writes nothing to its -o file or plot folder, and returns an exitError
+// with code exitInterrupt and a message saying how far it got; Execute
+// then exits 130 for SIGINT and 143 for SIGTERM (signalExit). After the
+// first signal the signals have their default effect again, so a second
+// one ends a command that does not stop at once.
 func Execute(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
-	ctx, stop := signal.NotifyContext(context.Background(), os.Interrupt, syscall.SIGTERM)
-	defer stop()
-	// The first Ctrl-C asks the command to stop cleanly; after it the
-	// signals have their default effect again, so a second one ends a
-	// command that does not stop at once.
+	ctx, cancel := context.WithCancelCause(context.Background())
+	defer cancel(nil)
+	sigs := make(chan os.Signal, 1)
+	signal.Notify(sigs, os.Interrupt, syscall.SIGTERM)
+	defer signal.Stop(sigs)
 	go func() {
-		<-ctx.Done()
-		stop()
+		select {
+		case s := <-sigs:
+			signal.Stop(sigs)
+			cancel(&signalCause{sig: s})
+		case <-ctx.Done():
+		}
 	}()
+	return execute(ctx, args, stdin, stdout, stderr)
+}
+
+// signalCause is the cause of the context cancellation a signal makes.
+type signalCause struct{ sig os.Signal }
+
+func (c *signalCause) Error() string { return "interrupted by " + c.sig.String() }
+
+// signalExit is the exit code of a command interrupted through ctx: 143
+// when SIGTERM cancelled it, else 130.
+func signalExit(ctx context.Context) int {
+	var sc *signalCause
+	if errors.As(context.Cause(ctx), &sc) && sc.sig == syscall.SIGTERM {
+		return exitTerminated
+	}
+	return exitInterrupt
+}
+
+// interrupted reports whether err is the cancellation of ctx (the command
+// was interrupted by a signal).
+func interrupted(ctx context.Context, err error) bool {
+	return err != nil && ctx.Err() != nil && errors.Is(err, ctx.Err())
+}
+
+// execute runs the command tree under ctx and returns the exit code.
+func execute(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	out := &checkedWriter{w: stdout}
 	root := newRootCmd()
 	root.SetArgs(args)
@@ -200,9 +246,9 @@ func Execute(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	root.SetOut(out)
 	root.SetErr(stderr)
 	cmd, err := root.ExecuteContextC(ctx)
-	code := exitCode(root, cmd, args, err, stderr)
+	code := exitCode(ctx, root, cmd, args, err, stderr)
 	werr := out.failed()
-	if werr == nil || code == exitInterrupt || code == exitUsage {
+	if werr == nil || code == exitInterrupt || code == exitTerminated || code == exitUsage {
 		return code
 	}
 	var se *stdoutError
@@ -214,7 +260,7 @@ func Execute(args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 
 // exitCode says err (the command's error, nil when it succeeded) on
 // stderr and returns the exit code for it; cmd is the command that ran.
-func exitCode(root, cmd *cobra.Command, args []string, err error, stderr io.Writer) int {
+func exitCode(ctx context.Context, root, cmd *cobra.Command, args []string, err error, stderr io.Writer) int {
 	if err == nil {
 		return exitOK
 	}
@@ -222,6 +268,9 @@ func exitCode(root, cmd *cobra.Command, args []string, err error, stderr io.Writ
 	if errors.As(err, &ee) {
 		if ee.msg != "" {
 			fmt.Fprintln(stderr, "huesolve:", ee.msg)
+		}
+		if ee.code == exitInterrupt {
+			return signalExit(ctx)
 		}
 		return ee.code
 	}
@@ -239,8 +288,8 @@ func exitCode(root, cmd *cobra.Command, args []string, err error, stderr io.Writ
 		fmt.Fprintf(stderr, "huesolve: run '%s --help' for usage\n", cmd.CommandPath())
 		return exitUsage
 	}
-	if errors.Is(err, context.Canceled) {
-		return exitInterrupt
+	if interrupted(ctx, err) {
+		return signalExit(ctx)
 	}
 	return exitFailure
 }

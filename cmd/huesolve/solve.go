@@ -41,6 +41,11 @@ type solveOptions struct {
 // would tell anything.
 const solveProgressMin = 200
 
+// solvePlotProgressMin is the same with --plots, where each sample also
+// costs a figure (some 25 ms): the bar then counts samples solved and
+// plotted.
+const solvePlotProgressMin = 20
+
 const solveLong = `Unmix sample scans into concentrations with a reference set made by
 calibrate.
 
@@ -169,7 +174,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		return err
 	}
 	j.newBatch(o, q)
-	j.showProgress(cmd)
+	j.showProgress(cmd, o.output.plots != "")
 	if o.checkOnly {
 		return runSolveCheck(cmd, j.batch, j.inputs, j.errw, func() int64 {
 			sheetNotes(j.track, j.sheet, j.warn, o.dilution, o.pathCM)
@@ -315,15 +320,22 @@ func (j *solveJob) newBatch(o *solveOptions, q spectrum.Quantity) {
 	}
 }
 
-// showProgress shows a progress bar on a terminal only.
-func (j *solveJob) showProgress(cmd *cobra.Command) {
+// showProgress shows a progress bar on a terminal only; with plots it
+// counts samples solved and plotted (a sample is done once its figure is
+// written).
+func (j *solveJob) showProgress(cmd *cobra.Command, plots bool) {
+	least, what := solveProgressMin, "solving"
+	if plots {
+		least, what = solvePlotProgressMin, "solving and plotting"
+	}
 	f, ok := cmd.ErrOrStderr().(*os.File)
 	if !ok || !term.IsTerminal(int(f.Fd())) {
+		j.batch.Progress = newProgressLog(j.errw, time.Now, progressLogEvery, what).update
 		return
 	}
 	j.batch.Progress = func(done, known int) {
-		if j.bar == nil && known >= solveProgressMin {
-			j.bar = progressbar.NewOptions(known, progressbar.OptionSetWriter(j.errw), progressbar.OptionSetDescription("solving"),
+		if j.bar == nil && known >= least {
+			j.bar = progressbar.NewOptions(known, progressbar.OptionSetWriter(j.errw), progressbar.OptionSetDescription(what),
 				progressbar.OptionShowCount(), progressbar.OptionThrottle(100*time.Millisecond), progressbar.OptionClearOnFinish())
 		}
 		if j.bar != nil {
@@ -331,6 +343,38 @@ func (j *solveJob) showProgress(cmd *cobra.Command) {
 			_ = j.bar.Set(done)
 		}
 	}
+}
+
+// progressLogEvery is how often solve says how far it got when standard
+// error is not a terminal (a log, a pipe): runs shorter than this say
+// nothing more than before.
+const progressLogEvery = 10 * time.Second
+
+// progressLog writes a one-line progress message at most every interval,
+// the first one interval after it was made: for long runs whose standard
+// error is not a terminal, where a bar cannot be drawn.
+type progressLog struct {
+	w           io.Writer
+	now         func() time.Time
+	every       time.Duration
+	what        string
+	start, last time.Time
+}
+
+func newProgressLog(w io.Writer, now func() time.Time, every time.Duration, what string) *progressLog {
+	t := now()
+	return &progressLog{w: w, now: now, every: every, what: what, start: t, last: t}
+}
+
+// update is a batch.Progress: done samples of total expected.
+func (p *progressLog) update(done, total int) {
+	t := p.now()
+	if t.Sub(p.last) < p.every {
+		return
+	}
+	p.last = t
+	rate := float64(done) / t.Sub(p.start).Seconds()
+	fmt.Fprintf(p.w, "huesolve: %s: %d of %d scans done (%.0f/s)\n", p.what, done, total, rate)
 }
 
 // solve runs the batch and writes the results to -o FILE (complete or
@@ -349,6 +393,7 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 		if enc != nil {
 			j.batch.Encode = enc.AppendResult // formats in the workers
 		}
+		j.batch.Read.Context = cmd.Context()
 		sum, err = j.batch.Run(cmd.Context(), j.inputs, func(out batch.Outcome) error {
 			return j.emit(out, rw, enc)
 		})

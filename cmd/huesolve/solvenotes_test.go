@@ -1,12 +1,14 @@
 package main
 
 import (
+	"bytes"
 	"math"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
+	"time"
 
 	"huesolve/baseline"
 	"huesolve/reference"
@@ -173,5 +175,23 @@ func TestSolveSheetLatin1(t *testing.T) {
 	_, errOut, code := run(t, "solve", ref, scan, "--samples", sheet)
 	if code != exitOK || !strings.Contains(errOut, "huesolve: warning: "+sheet) || !strings.Contains(errOut, "Latin-1") {
 		t.Errorf("Latin-1 sample sheet: exit %d, stderr:\n%s", code, errOut)
+	}
+}
+
+// TestProgressLog: when standard error is not a terminal, solve says how
+// far it got every interval, the first time one interval after the start
+// (a short run says nothing), with the rate (before, a long run in a log
+// said nothing until the end). A fake clock stands in for time.
+func TestProgressLog(t *testing.T) {
+	var buf bytes.Buffer
+	now := time.Date(2026, 1, 1, 0, 0, 0, 0, time.UTC)
+	p := newProgressLog(&buf, func() time.Time { return now }, 10*time.Second, "solving")
+	for done := 1; done <= 300; done++ {
+		now = now.Add(100 * time.Millisecond)
+		p.update(done, 300)
+	}
+	want := "huesolve: solving: 100 of 300 scans done (10/s)\nhuesolve: solving: 200 of 300 scans done (10/s)\nhuesolve: solving: 300 of 300 scans done (10/s)\n"
+	if buf.String() != want {
+		t.Errorf("progress lines:\n%s\nwant\n%s", buf.String(), want)
 	}
 }

@@ -1,6 +1,8 @@
 package main
 
 import (
+	"context"
+	"errors"
 	"fmt"
 	"io"
 	"strconv"
@@ -106,9 +108,10 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 		}
 	}
 	start := time.Now()
-	adv, err := validate.AdviseWindow(set, opt)
+	ctx := cmd.Context()
+	adv, err := validate.AdviseWindowContext(ctx, set, opt)
 	if err != nil {
-		return err
+		return o.searchError(ctx, err)
 	}
 	fmt.Fprintf(errw, "huesolve: %d windows tried in %.2f s\n", len(adv.Candidates), time.Since(start).Seconds())
 	best := adv.Candidates[adv.Best]
@@ -118,6 +121,9 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	})
 	if err != nil {
 		return err
+	}
+	if err := ctx.Err(); err != nil {
+		return o.searchError(ctx, err)
 	}
 	rep := report.WindowReport{Reference: refPath, Recommended: [2]float64{best.Lo, best.Hi}, Advice: adv, Merits: merits}
 	err = o.output.write(cmd, "window advice", rep,
@@ -134,6 +140,30 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	}
 	fmt.Fprintf(errw, "huesolve: recommended window %g-%g nm (give --window %g-%g to solve and verify)\n", best.Lo, best.Hi, best.Lo, best.Hi)
 	return nil
+}
+
+// searchError words an error of the window search for the command line:
+// a step finer than the grid or too many windows is a bad command line
+// that says which flags narrow the search, an interruption exits 130/143
+// with nothing written, anything else is returned as it is.
+func (o *windowOptions) searchError(ctx context.Context, err error) error {
+	var fine *validate.StepTooFineError
+	var many *validate.TooManyWindowsError
+	switch {
+	case interrupted(ctx, err):
+		msg := "interrupted: " + strings.TrimSuffix(userMessage(err), ": "+ctx.Err().Error())
+		if o.output.out != "" {
+			msg += "; nothing written to " + o.output.out
+		}
+		return &exitError{code: exitInterrupt, msg: msg}
+	case errors.As(err, &fine):
+		return usagef("--step %g: finer than the reference set's grid spacing of %g nm (windows closer than one grid step hold the same points); give --step %g or more",
+			o.step, fine.GridNM, fine.GridNM)
+	case errors.As(err, &many):
+		return usagef("--step %g with --min-width %g makes %d windows in %g-%g nm, more than the %d window tries at most: give a larger --step or --min-width, a --max-width, or a narrower --search range",
+			o.step, o.minWidth, many.Windows, many.LoNM, many.HiNM, validate.MaxWindows)
+	}
+	return err
 }
 
 // check reads the flags of window into the search's options (all but

@@ -12,9 +12,10 @@ import (
 var errFolder = errors.New("a folder")
 
 // Open reads the sheet file path, the one way every sheet file is opened:
-// a folder is refused, a regular file larger than opt.MaxBytes is refused
-// by its size before anything is read, and a file whose size is not known
-// (a pipe) is read up to the cap and fails when it passes it. It returns
+// a folder is refused, and so are a named pipe, socket or device
+// (spectrum.OpenInput: the error is spectrum.ErrNotRegular); a file
+// larger than opt.MaxBytes is refused by its size before anything is
+// read, and one that grows while it is read fails when it passes the cap. It returns
 // the parsed sheet and the file's information (for the caller's checks
 // that another file it is given is not the sheet itself, os.SameFile).
 //
@@ -23,15 +24,12 @@ var errFolder = errors.New("a folder")
 // error is a *spectrum.ParseError naming the file. The folder and size
 // errors wrap errFolder and errTooLarge, and opt.Wrap when set.
 func Open(path string, opt Options) (*Sheet, os.FileInfo, error) {
-	f, err := os.Open(path)
+	f, st, err := spectrum.OpenInput(path)
 	if err != nil {
 		return nil, nil, fmt.Errorf("%s: %w", opt.what(), err)
 	}
 	defer f.Close()
-	st, err := f.Stat()
 	switch {
-	case err != nil:
-		return nil, nil, fmt.Errorf("%s: %w", opt.what(), err)
 	case st.IsDir():
 		return nil, nil, opt.fileErr(path, &folder{what: opt.what()})
 	case st.Mode().IsRegular() && st.Size() > opt.maxBytes():
