@@ -84,7 +84,7 @@ The reference set is written to the --output file (JSON, with a checksum).
 A summary table goes to standard output. Exit code 4 means the set was
 written but some compound is flagged (read the legend under the table),
 or that it was not written because its standards failed the checks above.
-Ctrl-C or SIGTERM stops calibrate at once, writing nothing (exit 130).
+Ctrl-C or SIGTERM stops calibrate at once, writing nothing (exit 130, or 143 for SIGTERM).
 The set records when it was made; with the environment variable
 SOURCE_DATE_EPOCH (seconds since 1970-01-01 UTC) that time is used
 instead of the clock, so the same inputs give a byte-identical file.

@@ -137,7 +137,7 @@ Exit codes:
   2  bad command line
   3  some files or samples could not be read or solved (listed on stderr)
   4  everything was solved, but some samples carry a "!" flag
-  130 interrupted: nothing was written to -o FILE
+  130 interrupted (143 for SIGTERM): nothing was written to -o FILE
 
 ` + caution
 

@@ -74,7 +74,7 @@ says how many carry flags, and the exit code is 4.
 Exit codes: 0 every compound passed and no check result carries a "!"
 flag, 4 some compound failed acceptance or some check result carries a "!"
 flag, 1 the checks could not be solved, 2 bad command line, 130
-interrupted (Ctrl-C; it says how far it got, and nothing is written).
+interrupted (Ctrl-C; 143 for SIGTERM; it says how far it got, and nothing is written).
 
 ` + caution
 
