@@ -12,22 +12,25 @@ import (
 	"fmt"
 	"io"
 	"io/fs"
+	"strconv"
 	"strings"
 	"syscall"
+	"unicode/utf8"
 
 	"huesolve/internal/pkgerr"
+	"huesolve/reference"
 )
 
 // warnTo returns the warning callback of a command: each message becomes
 // one line "huesolve: warning: ..." on w.
 func warnTo(w io.Writer) func(string) {
-	return func(msg string) { fmt.Fprintln(w, "huesolve: warning:", msg) }
+	return func(msg string) { fmt.Fprintln(w, "huesolve: warning:", termLine(msg)) }
 }
 
 // noteTo returns a callback that prints information as
 // "huesolve: note: ..." on w.
 func noteTo(w io.Writer) func(string) {
-	return func(msg string) { fmt.Fprintln(w, "huesolve: note:", msg) }
+	return func(msg string) { fmt.Fprintln(w, "huesolve: note:", termLine(msg)) }
 }
 
 // userMessage is err as one readable line: package prefixes of the
@@ -46,7 +49,34 @@ func userMessage(err error) string {
 		msg = strings.Replace(msg, pe.Error(), plainPathError(pe), 1)
 		e = pe
 	}
-	return dropRepeats(msg)
+	return termLine(dropRepeats(msg))
+}
+
+// termLine is msg made safe for a terminal: a name read from a file may
+// hold control characters (an ANSI escape sequence, a carriage return, a
+// bidirectional override) that would move the cursor, recolour or
+// rewrite what the user reads. Each such character (reference.TextFault's
+// rule) is written as a Go escape (\x1b, \r, \u202e); bytes that are not
+// UTF-8 as \xNN. Anything else is left as it is.
+func termLine(msg string) string {
+	if reference.TextFault(msg) == "" {
+		return msg
+	}
+	var b strings.Builder
+	for i := 0; i < len(msg); {
+		r, size := utf8.DecodeRuneInString(msg[i:])
+		switch {
+		case r == utf8.RuneError && size == 1:
+			fmt.Fprintf(&b, "\\x%02x", msg[i])
+		case reference.TextFault(string(r)) != "":
+			q := strconv.QuoteRune(r)
+			b.WriteString(q[1 : len(q)-1])
+		default:
+			b.WriteString(msg[i : i+size])
+		}
+		i += size
+	}
+	return b.String()
 }
 
 // plainPathError says what went wrong with a file in plain words.

@@ -278,3 +278,30 @@ func TestWarningStyle(t *testing.T) {
 		t.Errorf("calibrate without a unit: stderr\n%s", errOut)
 	}
 }
+
+// TestTermLine: control characters from file contents (an ANSI escape, a
+// carriage return, a bidirectional override, bytes that are not UTF-8)
+// reach stderr as visible escapes, never raw; plain text is unchanged.
+func TestTermLine(t *testing.T) {
+	for in, want := range map[string]string{
+		"lot-101: 3 points dropped":           "lot-101: 3 points dropped",
+		"Grün, 5 µg/L":                        "Grün, 5 µg/L",
+		"lot-\x1b[2J101 has no match":         `lot-\x1b[2J101 has no match`,
+		"a\rb":                                `a\rb`,
+		"name \u202egnp.exe":                  `name \u202egnp.exe`,
+		"latin \xb5 byte":                     `latin \xb5 byte`,
+		"tab\tkept? no: tab is a control too": `tab\tkept? no: tab is a control too`,
+	} {
+		if got := termLine(in); got != want {
+			t.Errorf("termLine(%q) = %q, want %q", in, got, want)
+		}
+	}
+	var buf strings.Builder
+	warnTo(&buf)("sample \x1b]0;owned\x07 skipped")
+	if strings.ContainsAny(buf.String(), "\x1b\x07") {
+		t.Errorf("warning passed control characters: %q", buf.String())
+	}
+	if msg := userMessage(fmt.Errorf("scan \x1b[31mred: %w", errors.New("bad"))); strings.ContainsRune(msg, 0x1b) {
+		t.Errorf("userMessage passed an escape: %q", msg)
+	}
+}
