@@ -705,9 +705,22 @@ func Load(path string) (*Set, error) {
 	if err != nil {
 		return nil, pkgerr.Errorf("reference", "%w", err)
 	}
+	s, err := decode(data)
+	if err != nil {
+		return fail(err)
+	}
+	return s, nil
+}
+
+// decode reads a reference set file's bytes: a byte order mark is
+// skipped; the schema, the checksum and every field (Validate, and what a
+// set in a file must record) are checked. Errors wrap errTruncated,
+// errNotSet, errNewerSchema, errChecksum or errInvalid; Load adds the
+// file's name.
+func decode(data []byte) (*Set, error) {
 	data = bytes.TrimPrefix(data, []byte("\ufeff"))
 	if len(bytes.TrimSpace(data)) == 0 {
-		return fail(fmt.Errorf("%w: the file is empty", errTruncated))
+		return nil, fmt.Errorf("%w: the file is empty", errTruncated)
 	}
 	var head struct {
 		Schema *int `json:"schema"`
@@ -716,40 +729,40 @@ func Load(path string) (*Set, error) {
 		var se *json.SyntaxError
 		if errors.As(err, &se) {
 			if se.Offset >= int64(len(bytes.TrimRight(data, " \t\r\n"))) {
-				return fail(errTruncated)
+				return nil, errTruncated
 			}
 			line := 1 + bytes.Count(data[:se.Offset], []byte("\n"))
-			return fail(fmt.Errorf("%w: not valid JSON at line %d: %w", errNotSet, line, se))
+			return nil, fmt.Errorf("%w: not valid JSON at line %d: %w", errNotSet, line, se)
 		}
-		return fail(fmt.Errorf("%w: %w", errNotSet, err))
+		return nil, fmt.Errorf("%w: %w", errNotSet, err)
 	}
 	switch {
 	case head.Schema == nil:
-		return fail(fmt.Errorf("%w: no schema field", errNotSet))
+		return nil, fmt.Errorf("%w: no schema field", errNotSet)
 	case *head.Schema > SchemaVersion:
-		return fail(fmt.Errorf("%w (file schema %d, this build reads up to %d)", errNewerSchema, *head.Schema, SchemaVersion))
+		return nil, fmt.Errorf("%w (file schema %d, this build reads up to %d)", errNewerSchema, *head.Schema, SchemaVersion)
 	case *head.Schema < 1:
-		return fail(fmt.Errorf("%w: schema %d", errNotSet, *head.Schema))
+		return nil, fmt.Errorf("%w: schema %d", errNotSet, *head.Schema)
 	}
 	s := new(Set)
 	if err := json.Unmarshal(data, s); err != nil {
-		return fail(fmt.Errorf("%w: %w", errNotSet, err))
+		return nil, fmt.Errorf("%w: %w", errNotSet, err)
 	}
 	if s.Checksum == "" {
-		return fail(fmt.Errorf("%w: the file has no checksum", errChecksum))
+		return nil, fmt.Errorf("%w: the file has no checksum", errChecksum)
 	}
 	sum, err := s.computeChecksum()
 	if err != nil {
-		return fail(err)
+		return nil, err
 	}
 	if sum != s.Checksum {
-		return fail(errChecksum)
+		return nil, errChecksum
 	}
 	if err := s.Validate(); err != nil {
-		return fail(err)
+		return nil, err
 	}
 	if err := s.validateRecorded(); err != nil {
-		return fail(err)
+		return nil, err
 	}
 	return s, nil
 }
