@@ -3,9 +3,10 @@ package spectrum
 import (
 	"errors"
 	"fmt"
-	"io/fs"
 	"os"
 	"syscall"
+
+	"huesolve/internal/filekind"
 )
 
 // ErrNotRegular marks an input path that names neither a regular file nor
@@ -46,22 +47,7 @@ func OpenInput(path string) (*os.File, os.FileInfo, error) {
 	}
 	if m := st.Mode(); !m.IsRegular() && !m.IsDir() {
 		f.Close()
-		return nil, nil, &notRegular{path: path, kind: kindOf(m)}
+		return nil, nil, &notRegular{path: path, kind: filekind.Of(m)}
 	}
 	return f, st, nil
-}
-
-// kindOf names the kind of a file that is neither regular nor a folder.
-func kindOf(m fs.FileMode) string {
-	switch {
-	case m&fs.ModeNamedPipe != 0:
-		return "a named pipe (FIFO)"
-	case m&fs.ModeSocket != 0:
-		return "a socket"
-	case m&fs.ModeCharDevice != 0:
-		return "a character device"
-	case m&fs.ModeDevice != 0:
-		return "a device"
-	}
-	return "not a plain file (" + m.Type().String() + ")"
 }

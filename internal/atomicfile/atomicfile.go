@@ -27,6 +27,7 @@ import (
 	"strings"
 	"syscall"
 
+	"huesolve/internal/filekind"
 	"huesolve/internal/pkgerr"
 )
 
@@ -139,26 +140,7 @@ func resolve(path string) (target string, mode fs.FileMode, err error) {
 // refuse is the error for an output path that is not a regular file:
 // what it is (after via, e.g. "a symbolic link to "), in words.
 func refuse(path, via string, m fs.FileMode) error {
-	return pkgerr.Errorf("atomicfile", "cannot write %s: it is %s%s, not a regular file", path, via, kind(m))
-}
-
-// kind names the type of a file that is not a regular file.
-func kind(m fs.FileMode) string {
-	switch {
-	case m.IsDir():
-		return "a folder"
-	case m&fs.ModeNamedPipe != 0:
-		return "a named pipe (FIFO)"
-	case m&fs.ModeSocket != 0:
-		return "a socket"
-	case m&fs.ModeCharDevice != 0:
-		return "a character device"
-	case m&fs.ModeDevice != 0:
-		return "a block device"
-	case m&fs.ModeSymlink != 0:
-		return "a symbolic link"
-	}
-	return "a special file"
+	return pkgerr.Errorf("atomicfile", "cannot write %s: it is %s%s, not a regular file", path, via, filekind.Of(m))
 }
 
 // folderError says why no file could be created in dir, the folder of
