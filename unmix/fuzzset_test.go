@@ -51,7 +51,7 @@ func FuzzModelFromSet(f *testing.F) {
 			for i := range c.Usable {
 				c.Usable[i] = true
 			}
-			c.PeakNM = testBands[k][0].peak
+			c.PeakNM = testBands[k][0].Peak
 		}
 		p := filepath.Join(dir, "seed.json")
 		if err := set.Save(p); err != nil {

@@ -172,7 +172,7 @@ func TestShiftEstimated(t *testing.T) {
 
 // TestMissingCompound puts a band in the sample that no reference has.
 func TestMissingCompound(t *testing.T) {
-	mx := mixture{conc: []float64{5, 3, 2, 8}, extra: []band{{470, 15, 0.15}}, noise: testNoise, seed: 8}
+	mx := mixture{conc: []float64{5, 3, 2, 8}, extra: []band{{Peak: 470, Width: 15, Height: 0.15}}, noise: testNoise, seed: 8}
 	r := mustSolve(t, mustModel(t, testSet(4), Options{}), mx.spectrum(), Factors{})
 	if !slices.Contains(r.Flags, FlagMisfit) && !slices.Contains(r.Flags, FlagPattern) {
 		t.Errorf("unknown band at 470 nm: flags %v, want %q or %q", r.Flags, FlagMisfit, FlagPattern)
@@ -364,7 +364,7 @@ func TestDesignFlags(t *testing.T) {
 	set := testSet(2)
 	set.Compounds[1].Absorptivity = append([]float64(nil), set.Compounds[0].Absorptivity...)
 	for i, l := range set.Grid {
-		set.Compounds[1].Absorptivity[i] = bandsAt([]band{{432, 25, 0.05}}, l)
+		set.Compounds[1].Absorptivity[i] = bandsAt([]band{{Peak: 432, Width: 25, Height: 0.05}}, l)
 	}
 	r := mustSolve(t, mustModel(t, set, Options{}), mixture{conc: []float64{5}, noise: testNoise, seed: 1}.spectrum(), Factors{})
 	if !slices.Contains(r.Flags, FlagIllCond) {
