@@ -59,6 +59,31 @@ func TestParseDialects(t *testing.T) {
 	}
 }
 
+// TestSniffBrackets: a separator inside a heading's brackets (a unit
+// with a molar mass) does not choose the dialect; one outside does.
+// Before, "dye (µM; M=5 g/mol)" made a comma-separated sheet read as
+// semicolon-separated.
+func TestSniffBrackets(t *testing.T) {
+	for _, c := range []struct {
+		text string
+		want byte
+	}{
+		{"scan,dye (µM; M=5 g/mol),b [mg/L]\nx,1,2\n", ','},
+		{"scan;\"dye (µM; M=5 g/mol)\";b [mg/L]\nx;1;2\n", ';'},
+		{"scan\tdye (µM; M=5 g/mol)\nx\t1\n", '\t'},
+		{"scan,dye (µM; M=5 g/mol\nx;1\n", ';'}, // unbalanced: as before
+	} {
+		sh, err := parse([]byte(c.text), "s.csv", Options{})
+		if err != nil {
+			t.Errorf("%q: %v", c.text, err)
+			continue
+		}
+		if sh.Delim != c.want {
+			t.Errorf("%q: delimiter %q, want %q", c.text, sh.Delim, c.want)
+		}
+	}
+}
+
 // TestParseQuoting: quotes around a field, "" inside, a separator and a
 // line end inside quotes (the row keeps the line it starts on).
 func TestParseQuoting(t *testing.T) {

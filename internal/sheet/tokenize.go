@@ -50,7 +50,9 @@ func countLines(b []byte) int {
 }
 
 // sniff picks the separator from the first line that is not blank or a
-// comment: tab if it has one, else semicolon, else comma.
+// comment: tab if it has one, else semicolon, else comma. Text inside
+// round or square brackets does not count, so that a heading such as
+// "dye (µmol/L; M=534.4 g/mol)" leaves a comma-separated sheet one.
 func sniff(text []byte) byte {
 	for len(text) > 0 {
 		k := bytes.IndexAny(text, "\r\n")
@@ -65,12 +67,39 @@ func sniff(text []byte) byte {
 			continue
 		}
 		var buf [3]byte
-		if d := spectrum.AppendDelimiters(buf[:0], line); len(d) > 0 {
+		if d := spectrum.AppendDelimiters(buf[:0], outsideBrackets(line)); len(d) > 0 {
 			return d[0]
 		}
 		return ','
 	}
 	return ','
+}
+
+// outsideBrackets returns line with the text inside balanced round and
+// square brackets blanked out; line itself when they do not balance.
+func outsideBrackets(line []byte) []byte {
+	if !bytes.ContainsAny(line, "([") {
+		return line
+	}
+	out := make([]byte, 0, len(line))
+	depth := 0
+	for _, c := range line {
+		switch {
+		case c == '(' || c == '[':
+			depth++
+		case (c == ')' || c == ']') && depth > 0:
+			depth--
+			continue
+		}
+		if depth > 0 {
+			c = ' '
+		}
+		out = append(out, c)
+	}
+	if depth != 0 {
+		return line
+	}
+	return out
 }
 
 func (t *tokenizer) errAt(line, col int, err error) error {
