@@ -34,10 +34,23 @@
 //     the file's header or by its number counting the scans (1 is the
 //     first scan, the wavelength column does not count). May be empty
 //     when the file holds one scan.
-//   - one column per compound, headed "Name (unit)" or "Name". With no
-//     unit in the header the unit given as an option is used; with
-//     neither, the numbers are carried as given and a warning says so.
+//   - one column per compound, headed "Name (unit)", "Name [unit]" or
+//     "Name". With no unit in the header the unit given as an option is
+//     used; with neither, the numbers are carried as given and a warning
+//     says so. The brackets may add the compound's molar mass after a
+//     semicolon, "Name (µmol/L; M=534.4 g/mol)", so that its
+//     concentrations can be converted between mass and amount per volume
+//     (package internal/units; a separator inside brackets does not
+//     choose the sheet's dialect, but in a semicolon-separated sheet the
+//     heading must be quoted).
 //   - columns headed note, notes, comment or comments are ignored.
+//
+// A row whose scan cell reads "molar mass (g/mol)" (or "molar mass
+// [g/mol]", any case) is not a standard: it gives each compound's molar
+// mass in g/mol, or nothing in an empty cell. A sheet has at most one;
+// a molar mass in a heading and in the row must agree. Package validate
+// uses the molar masses to compare check standards with a reference set
+// kept in the other kind of unit; calibrate does not keep them in the set.
 //
 // Every concentration cell must hold a number >= 0 (write 0 for a compound
 // that is absent; an empty cell is an error). A row whose concentrations

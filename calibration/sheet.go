@@ -10,6 +10,7 @@ import (
 	"strings"
 
 	"huesolve/internal/sheet"
+	"huesolve/internal/units"
 	"huesolve/reference"
 	"huesolve/spectrum"
 )
@@ -59,6 +60,11 @@ type Sheet struct {
 	Path      string   // the sheet file as given
 	Compounds []string // compound names, in column order
 	Units     []string // unit of each compound; "" if none was stated
+	// MolarMass is each compound's molar mass in g/mol, 0 if none was
+	// given (in the header's brackets or the molar-mass row).
+	MolarMass []float64
+	// Columns is each compound's column in the sheet, counting from 1.
+	Columns []int
 	// Standards are the rows with some non-zero concentration, Blanks the
 	// rows whose concentrations are all zero, both in sheet order.
 	Standards []Row
@@ -102,7 +108,16 @@ func ReadSheet(path string, opt SheetOptions) (*Sheet, error) {
 	}
 	ld := &scanLoader{sheet: path, sheetSt: sheetSt, opt: opt, cache: map[string]loadedScans{}, conv: map[string]*spectrum.Spectrum{}}
 	ld.sheetAbs, _ = filepath.Abs(path)
+	mmLine := 0
 	for _, rec := range text.Rows {
+		if mm, err := isMolarMassRow(rec.Fields[cols.scan]); err != nil {
+			return nil, text.ErrAt(rec.Line, cols.scan+1, "%w: %v", errScanFile, err)
+		} else if mm {
+			if err := sh.readMolarMasses(text, rec, cols, &mmLine); err != nil {
+				return nil, err
+			}
+			continue
+		}
 		row, err := sh.readRow(text, rec, cols)
 		if err != nil {
 			return nil, err
@@ -226,7 +241,7 @@ func (sh *Sheet) readHeader(text *sheet.Sheet, opt SheetOptions) (sheetCols, err
 	seen := map[string]int{}
 	for _, i := range l.Others {
 		h := text.Header.Fields[i]
-		name, unit, err := splitUnit(h)
+		name, u, err := splitUnit(h)
 		if err != nil {
 			return sheetCols{}, text.ErrAt(hline, i+1, "%w: %v", errSheetHeader, err)
 		}
@@ -236,7 +251,9 @@ func (sh *Sheet) readHeader(text *sheet.Sheet, opt SheetOptions) (sheetCols, err
 		seen[strings.ToLower(name)] = i
 		cols.comps = append(cols.comps, i)
 		sh.Compounds = append(sh.Compounds, name)
-		sh.Units = append(sh.Units, unit)
+		sh.Units = append(sh.Units, u.Unit)
+		sh.MolarMass = append(sh.MolarMass, u.MolarMass)
+		sh.Columns = append(sh.Columns, i+1)
 	}
 	if cols.scan < 0 {
 		return sheetCols{}, text.ErrAt(hline, 0, "%w: the header needs a column named scan (the scan file of each standard)", errSheetHeader)
@@ -463,25 +480,83 @@ const maxSheetBytes = 64 << 20
 // whatever the sheet holds (project choice).
 const MaxSheetRows = 20000
 
-// splitUnit splits "Name (unit)" into its parts; "Name" has no unit.
-func splitUnit(h string) (name, unit string, err error) {
-	if strings.HasSuffix(h, ")") {
-		if i := strings.LastIndex(h, "("); i >= 0 {
-			name = strings.TrimSpace(h[:i])
-			unit = strings.TrimSpace(h[i+1 : len(h)-1])
-			if name == "" {
-				return "", "", fmt.Errorf("column %q has a unit but no compound name", h)
-			}
-			if unit == "" {
-				return "", "", fmt.Errorf("column %q has empty brackets where the unit goes", h)
-			}
-			return name, unit, nil
+// splitUnit splits "Name (unit)" or "Name [unit]" into its parts; "Name"
+// has no unit. The brackets may also give the molar mass after a
+// semicolon: "Name (µmol/L; M=534.4 g/mol)".
+func splitUnit(h string) (name string, u units.Header, err error) {
+	for _, br := range [][2]string{{"(", ")"}, {"[", "]"}} {
+		if !strings.HasSuffix(h, br[1]) {
+			continue
+		}
+		i := strings.LastIndex(h, br[0])
+		if i < 0 {
+			break
+		}
+		name = strings.TrimSpace(h[:i])
+		inner := strings.TrimSpace(h[i+1 : len(h)-1])
+		switch {
+		case name == "":
+			return "", u, fmt.Errorf("column %q has a unit but no compound name", h)
+		case inner == "":
+			return "", u, fmt.Errorf("column %q has empty brackets where the unit goes", h)
+		case strings.ContainsAny(name, "()[]"):
+			return "", u, fmt.Errorf("column %q: write a compound as \"name\", \"name (unit)\" or \"name [unit]\"", h)
+		}
+		if u, err = units.ParseHeader(inner); err != nil {
+			return "", u, fmt.Errorf("column %q: %v", h, err)
+		}
+		return name, u, nil
+	}
+	if strings.ContainsAny(h, "()[]") {
+		return "", u, fmt.Errorf("column %q: write a compound as \"name\", \"name (unit)\" or \"name [unit]\"", h)
+	}
+	return h, u, nil
+}
+
+// molarMassLabels are the scan cells (compared without case) of the
+// row that gives the compounds' molar masses in g/mol.
+var molarMassLabels = []string{"molar mass (g/mol)", "molar mass [g/mol]"}
+
+// isMolarMassRow reports whether a scan cell labels the molar-mass row; a
+// cell naming a molar mass without its unit is an error.
+func isMolarMassRow(cell string) (bool, error) {
+	c := strings.ToLower(strings.Join(strings.Fields(cell), " "))
+	for _, l := range molarMassLabels {
+		if c == l {
+			return true, nil
 		}
 	}
-	if strings.ContainsAny(h, "()") {
-		return "", "", fmt.Errorf("column %q: write a compound as \"name\" or \"name (unit)\"", h)
+	if strings.HasPrefix(c, "molar mass") {
+		return false, fmt.Errorf("%q: label the molar-mass row %q (the masses in g/mol)", cell, molarMassLabels[0])
 	}
-	return h, "", nil
+	return false, nil
+}
+
+// readMolarMasses reads the molar-mass row: per compound a molar mass in
+// g/mol, or an empty cell for none. A compound whose header also gives
+// one must give the same.
+func (sh *Sheet) readMolarMasses(text *sheet.Sheet, rec sheet.Row, cols sheetCols, seen *int) error {
+	if *seen > 0 {
+		return text.ErrAt(rec.Line, cols.scan+1, "%w: a second molar-mass row (the first is on line %d)", errConcentration, *seen)
+	}
+	*seen = rec.Line
+	for k, c := range cols.comps {
+		if rec.Fields[c] == "" {
+			continue
+		}
+		v, err := text.Number(rec, c)
+		if err == nil {
+			err = units.CheckMolarMass(v)
+		}
+		if err != nil {
+			return text.ErrAt(rec.Line, c+1, "%w: %s: molar mass %q: want a number of g/mol above 0", errConcentration, sh.Compounds[k], rec.Fields[c])
+		}
+		if m := sh.MolarMass[k]; m != 0 && m != v {
+			return text.ErrAt(rec.Line, c+1, "%w: %s: molar mass %s g/mol here but %s g/mol in the header", errConcentration, sh.Compounds[k], fmtNum(v), fmtNum(m))
+		}
+		sh.MolarMass[k] = v
+	}
+	return nil
 }
 
 // parseConc reads field c of rec as a concentration: a finite number

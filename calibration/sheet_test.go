@@ -147,6 +147,33 @@ func TestReadSheetUnits(t *testing.T) {
 	}
 }
 
+// TestReadSheetUnitForms: a unit in round or square brackets, with the
+// molar mass after a semicolon or in the molar-mass row (which is not a
+// standard). Before square brackets were read, "dye [mg/L]" was refused.
+func TestReadSheetUnitForms(t *testing.T) {
+	dir := sheetDir(t)
+	text := "scan,dye [mg/L],other (µmol/L; M=534.4 g/mol),third [µM]\n" +
+		"Molar Mass (g/mol),,534.4,120,\n" +
+		"blank.csv,0,0,0\ns1.csv,1,0,1\ns2.csv,0,2,2\ns3.csv,3,0,0\n"
+	text = strings.Replace(text, "120,\n", "120\n", 1)
+	sh, err := ReadSheet(writeSheet(t, dir, "u.csv", text), SheetOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got := strings.Join(sh.Compounds, "|") + " " + strings.Join(sh.Units, "|"); got != "dye|other|third mg/L|µmol/L|µM" {
+		t.Errorf("compounds and units %q", got)
+	}
+	if sh.MolarMass[0] != 0 || sh.MolarMass[1] != 534.4 || sh.MolarMass[2] != 120 {
+		t.Errorf("molar masses %v", sh.MolarMass)
+	}
+	if len(sh.Standards)+len(sh.Blanks) != 4 || sh.Blanks[0].Line != 3 {
+		t.Errorf("the molar-mass row was taken as a standard: %d rows, blank on line %d", len(sh.Standards)+len(sh.Blanks), sh.Blanks[0].Line)
+	}
+	if fmt.Sprint(sh.Columns) != "[2 3 4]" {
+		t.Errorf("columns %v", sh.Columns)
+	}
+}
+
 func TestReadSheetErrors(t *testing.T) {
 	dir := sheetDir(t)
 	cases := []struct {
@@ -169,6 +196,14 @@ func TestReadSheetErrors(t *testing.T) {
 		{"no scan column", "file,dye\ns1.csv,1\n", errSheetHeader, "bad.csv:1", "named scan"},
 		{"no compounds", "scan,column\ns1.csv,\n", errSheetHeader, "bad.csv:1", "no compound columns"},
 		{"empty brackets", "scan,dye ()\ns1.csv,1\n", errSheetHeader, "bad.csv:1:2", "empty brackets"},
+		{"empty square brackets", "scan,dye [ ]\ns1.csv,1\n", errSheetHeader, "bad.csv:1:2", "empty brackets"},
+		{"two units", "scan,dye (mg/L) [µM]\ns1.csv,1\n", errSheetHeader, "bad.csv:1:2", `"name [unit]"`},
+		{"molar mass without unit", "scan,dye (µM; M=534.4)\ns1.csv,1\n", errSheetHeader, "bad.csv:1:2", "give it in g/mol"},
+		{"molar mass misnamed", "scan,dye (µM; MW=534.4 g/mol)\ns1.csv,1\n", errSheetHeader, "bad.csv:1:2", "M=534.4 g/mol"},
+		{"molar-mass row without unit", "scan,dye (µM)\nmolar mass,534.4\ns1.csv,1\ns2.csv,2\n", errScanFile, "bad.csv:2:1", `label the molar-mass row "molar mass (g/mol)"`},
+		{"molar-mass row negative", "scan,dye (µM)\nmolar mass (g/mol),-5\ns1.csv,1\ns2.csv,2\n", errConcentration, "bad.csv:2:2", "want a number of g/mol above 0"},
+		{"molar-mass row twice", "scan,dye (µM)\nmolar mass (g/mol),5\nmolar mass [g/mol],5\ns1.csv,1\ns2.csv,2\n", errConcentration, "bad.csv:3:1", "second molar-mass row (the first is on line 2)"},
+		{"molar masses disagree", "scan,dye (µM; M=5 g/mol)\nmolar mass (g/mol),6\ns1.csv,1\ns2.csv,2\n", errConcentration, "bad.csv:2:2", "6 g/mol here but 5 g/mol in the header"},
 		{"never varies", "scan,dye,other\nblank.csv,0,0\ns1.csv,1,0\ns2.csv,2,0\n", errNoVariation, "bad.csv", "other is 0 in every row"},
 		{"blanks only", "scan,dye\nblank.csv,0\n", errConcentration, "bad.csv", "no standards: every row has all concentrations zero (blanks only)"},
 		{"no rows", "scan,dye\n", errConcentration, "bad.csv", "no standards: the sheet has a header but no rows"},
