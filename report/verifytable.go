@@ -76,6 +76,7 @@ func WriteVerifyTable(w io.Writer, rep *VerifyReport) error {
 	fmt.Fprintln(w, "Standards with/without: check standards holding the compound (judged on recovery) / not holding it (judged against its LOQ).")
 	fmt.Fprintf(w, "Limits: mean recovery %g-%g %%, RSD ≤ %g %%, compounds not in a standard found at most at their LOQ.\n",
 		v.Limits.RecoveryLo, v.Limits.RecoveryHi, v.Limits.MaxRSD)
+	writeUnitConversions(w, v, rep.CrossVal)
 	if cv := rep.CrossVal; cv != nil {
 		by := "one standard"
 		if cv.ByLevel {
@@ -89,6 +90,18 @@ func WriteVerifyTable(w io.Writer, rep *VerifyReport) error {
 	}
 	fmt.Fprintln(w)
 	return WriteMerits(w, v.Merits)
+}
+
+// writeUnitConversions prints one line per compound whose concentrations
+// were converted to the reference set's unit before they were compared.
+func writeUnitConversions(w io.Writer, v *validate.Verification, cv *validate.CrossValidation) {
+	lines := v.Converted
+	if cv != nil {
+		lines = append(append([]string(nil), lines...), cv.Converted...)
+	}
+	for _, c := range lines {
+		fmt.Fprintf(w, "Unit converted to the reference set's: %s.\n", termText(c))
+	}
 }
 
 // writeCheckRows prints the table of check results, one row per standard

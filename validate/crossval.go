@@ -65,6 +65,9 @@ type CrossValidation struct {
 	// Failed lists the folds that could not be built or solved, with the
 	// reason; their standards have no prediction.
 	Failed []string `json:"failed,omitempty"`
+	// Converted says how the calibration sheet's concentrations were
+	// converted to the reference set's units, as Verification.Converted.
+	Converted []string `json:"unit_conversions,omitempty"`
 }
 
 // CrossValidateContext leaves out one standard (or, ByLevel, one composition with
@@ -82,6 +85,10 @@ type CrossValidation struct {
 // then wraps ctx.Err() and says how many folds had been done.
 func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibration.Sheet, opt CrossValOptions) (*CrossValidation, error) {
 	if err := checkSet(set); err != nil {
+		return nil, err
+	}
+	sheet, converted, err := inSetUnits(set, sheet)
+	if err != nil {
 		return nil, err
 	}
 	col, err := matchCompounds(set, sheet)
@@ -103,7 +110,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 		mopt.Blank = b
 	}
 	names, units := setNames(set)
-	cv := &CrossValidation{Compounds: names, Units: units, ByLevel: opt.ByLevel}
+	cv := &CrossValidation{Compounds: names, Units: units, ByLevel: opt.ByLevel, Converted: converted}
 	folds := foldsOf(sheet.Standards, opt.ByLevel)
 	cv.Folds = len(folds)
 	var preds []Prediction

@@ -144,6 +144,11 @@ type Verification struct {
 	Merits *Merits `json:"figures_of_merit,omitempty"`
 	// Blank says what blank the check standards were corrected with.
 	Blank string `json:"blank,omitempty"`
+	// Converted says, per compound whose check concentrations were given
+	// in another unit than the reference set's, how they were converted
+	// ("checks.csv: Ambrelin µg/mL to mg/L (× 1)"); Known is in the
+	// set's unit.
+	Converted []string `json:"unit_conversions,omitempty"`
 }
 
 // FlaggedRows returns the number of check results (one standard, one
@@ -342,14 +347,18 @@ type VerifyOptions struct {
 
 // VerifyContext solves the check standards of sheet against set as samples and
 // judges them with Assess. The sheet must name the set's compounds (in
-// any order, units matching where both state one); a compound the set
-// cannot quantify in the model's design is refused first (an error
-// wrapping errNotSelective). Errors from solving a standard name the
+// any order, in units that convert to the set's where both state one:
+// see inSetUnits); a compound the set cannot quantify in the model's
+// design is refused first (an error wrapping errNotSelective). Errors from solving a standard name the
 // sheet and line. It stops when ctx is done, between check standards: the
 // error then wraps ctx.Err() and says how many check standards had been
 // solved.
 func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.Sheet, opt VerifyOptions) (*Verification, error) {
 	if err := checkSet(set); err != nil {
+		return nil, err
+	}
+	sheet, converted, err := inSetUnits(set, sheet)
+	if err != nil {
 		return nil, err
 	}
 	col, err := matchCompounds(set, sheet)
@@ -419,6 +428,7 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 	}
 	v.Merits = merits
 	v.Blank = blank
+	v.Converted = converted
 	return v, nil
 }
 
