@@ -39,7 +39,8 @@ const calibrateLong = `Build a reference set from calibration standards.
 SHEET is a standards sheet (comma, semicolon or tab separated text): a header
 row with a column "scan" naming each standard's scan file (relative to the
 sheet's folder), an optional column "column" choosing the scan inside a
-wide-table file, and one column per compound headed "Name (unit)", e.g.
+wide-table file, and one column per compound headed "Name (unit)" or
+"Name [unit]", e.g.
 
   scan,column,Ambrelin (mg/L),Corvasine (mg/L)
   blank.csv,,0,0

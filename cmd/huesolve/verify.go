@@ -34,8 +34,10 @@ they were samples, and judge how well their known concentrations come back.
 
 CHECKS is a standards sheet in the same format as for calibrate: a "scan"
 column, an optional "column" column, and one column per compound of the
-reference set with its known concentration. Each check standard is blank
-corrected (with --blank, or else with the mean of the sheet's blank rows, if
+reference set with its known concentration, in the set's unit or one that
+converts to it (µg/mL, µg/L, g/L, ppm as mg/L; µmol/L, µM with the molar
+mass given as "Name (µmol/L; M=534.4 g/mol)"; see README). Each check
+standard is blank corrected (with --blank, or else with the mean of the sheet's blank rows, if
 any), solved with the same model options as solve, and compared:
 
   recovery   100 × found / known, for each standard holding the compound
