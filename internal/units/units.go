@@ -20,7 +20,6 @@ package units
 import (
 	"errors"
 	"fmt"
-	"math"
 	"strconv"
 	"strings"
 )
@@ -185,8 +184,11 @@ func Convert(from, to Unit, molarMass float64) (Conversion, error) {
 	case from.Kind == to.Kind:
 		c.Exp = from.Exp - to.Exp
 		return c, nil
-	case !(molarMass > 0) || math.IsInf(molarMass, 0):
+	case molarMass == 0:
 		return c, fmt.Errorf("%w: %q is %s and %q is %s; converting needs the compound's molar mass", ErrIncompatible, from.Text, from.Kind, to.Text, to.Kind)
+	}
+	if err := CheckMolarMass(molarMass); err != nil {
+		return c, err
 	}
 	// value in to = value in from × 10^from.Exp (base unit) × M^±1
 	// (g/mol: mol/L -> g/L, or back) × 10^-to.Exp.

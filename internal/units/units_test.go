@@ -130,10 +130,12 @@ func TestConvertRefusals(t *testing.T) {
 		{"mg/kg", "mg/L", 0, `"mg/kg" is not a concentration unit`},
 		{"mg/L", "AU", 0, `"AU" is not a concentration unit`},
 		{"mg/L", "% w/v", 300, `"% w/v" is not a concentration unit`},
+		{"mg/L", "µM", -5, "above 0"},
+		{"mg/L", "µM", 1e9, "at most"},
 	}
 	for _, c := range cases {
 		_, err := Convert(Parse(c.from), Parse(c.to), c.m)
-		if !errors.Is(err, ErrIncompatible) || !strings.Contains(err.Error(), c.want) {
+		if err == nil || !strings.Contains(err.Error(), c.want) || c.m == 0 && !errors.Is(err, ErrIncompatible) {
 			t.Errorf("%s to %s: error %v, want one saying %q", c.from, c.to, err, c.want)
 		}
 	}
