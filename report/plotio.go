@@ -3,6 +3,7 @@
 package report
 
 import (
+	"fmt"
 	"image/color"
 	"io"
 	"path/filepath"
@@ -51,23 +52,37 @@ func savePlot(p *plot.Plot, path string, w, h vg.Length) error {
 	})
 }
 
-// saveStacked draws plots one above the other on a w x h figure, each
-// taking a share of the height proportional to its weight, with their
-// data areas aligned left and right so the x axes line up, and writes the
-// figure to path atomically (format from the extension: png, svg or pdf).
+// saveStacked draws plots one above the other on a w x h figure (see
+// drawStacked) and writes the figure to path atomically (format from the
+// extension: png, svg or pdf).
 func saveStacked(path string, w, h vg.Length, plots []*plot.Plot, weights []float64) error {
-	if len(plots) == 0 || len(plots) != len(weights) {
-		return pkgerr.Errorf("report", "plot %s: %d panels with %d weights", path, len(plots), len(weights))
-	}
 	ext := strings.ToLower(strings.TrimPrefix(filepath.Ext(path), "."))
 	switch ext {
 	case "png", "svg", "pdf":
 	default:
 		return pkgerr.Errorf("report", "plot %s: unknown image format %q (want png or svg)", path, ext)
 	}
-	cw, err := draw.NewFormattedCanvas(w, h, ext)
+	cw, err := drawStacked(ext, w, h, plots, weights)
 	if err != nil {
 		return pkgerr.Errorf("report", "plot %s: %w", path, err)
+	}
+	return atomicfile.Write(path, func(out io.Writer) error {
+		_, err := cw.WriteTo(out)
+		return err
+	})
+}
+
+// drawStacked draws plots one above the other on a w x h canvas of the
+// format ext (png, svg or pdf), each taking a share of the height
+// proportional to its weight, with their data areas aligned left and
+// right so the x axes line up.
+func drawStacked(ext string, w, h vg.Length, plots []*plot.Plot, weights []float64) (vg.CanvasWriterTo, error) {
+	if len(plots) == 0 || len(plots) != len(weights) {
+		return nil, fmt.Errorf("%d panels with %d weights", len(plots), len(weights))
+	}
+	cw, err := draw.NewFormattedCanvas(w, h, ext)
+	if err != nil {
+		return nil, err
 	}
 	dc := draw.New(cw)
 	pad := 2 * vg.Millimeter
@@ -103,8 +118,5 @@ func saveStacked(path string, w, h vg.Length, plots []*plot.Plot, weights []floa
 		c.Max.X -= right - (c.Max.X - da.Max.X)
 		p.Draw(c)
 	}
-	return atomicfile.Write(path, func(out io.Writer) error {
-		_, err := cw.WriteTo(out)
-		return err
-	})
+	return cw, nil
 }

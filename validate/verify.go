@@ -343,6 +343,10 @@ type VerifyOptions struct {
 	Limits Limits
 	// MinSelectivity is the refusal threshold (0: DefaultMinSelectivity).
 	MinSelectivity float64
+	// Each, if not nil, is called with every check standard's name and
+	// result as it is solved, in the order of the checks (a review
+	// report draws their figures: set Model.KeepCurves). r is not kept.
+	Each func(standard string, r *unmix.Result)
 }
 
 // VerifyContext solves the check standards of sheet against set as samples and
@@ -365,23 +369,7 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 	if err != nil {
 		return nil, err
 	}
-	lo, hi := opt.Model.WindowLo, opt.Model.WindowHi
-	if opt.Model.Shift && len(set.Grid) > 1 {
-		// The sample model keeps the maximum shift clear of the grid's
-		// ends; so do the merits.
-		if lo == 0 && hi == 0 {
-			lo, hi = set.Grid[0], set.Grid[len(set.Grid)-1]
-		}
-		ms := opt.Model.MaxShiftNM
-		if ms == 0 {
-			ms = unmix.DefaultMaxShiftNM
-		}
-		lo, hi = math.Max(lo, set.Grid[0]+ms), math.Min(hi, set.Grid[len(set.Grid)-1]-ms)
-	}
-	merits, err := FiguresOfMerit(set, MeritOptions{
-		WindowLo: lo, WindowHi: hi, Baseline: opt.Model.Baseline,
-		Weighted: opt.Model.Weighted, minSelectivity: opt.MinSelectivity,
-	})
+	merits, err := modelMerits(set, opt.Model, opt.MinSelectivity)
 	if err != nil {
 		return nil, err
 	}
@@ -419,6 +407,9 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 		if err != nil {
 			return nil, pkgerr.Errorf("validate", "%s:%d: check standard %s: %w", sheet.Path, r.Line, standardName(r), err)
 		}
+		if opt.Each != nil {
+			opt.Each(standardName(r), res)
+		}
 		checks = append(checks, checkFrom(standardName(r), r.Conc, col, res))
 	}
 	names, units := setNames(set)
@@ -430,6 +421,38 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 	v.Blank = blank
 	v.Converted = converted
 	return v, nil
+}
+
+// ModelMerits returns the figures of merit of the design a sample model
+// with options opt fits (unmix.NewModel): its window, kept clear of the
+// grid's ends by the largest shift when shifts are estimated, its
+// baseline and weighting, at the set's path length.
+func ModelMerits(set *reference.Set, opt unmix.Options) (*Merits, error) {
+	if err := checkSet(set); err != nil {
+		return nil, err
+	}
+	return modelMerits(set, opt, 0)
+}
+
+// modelMerits is ModelMerits with a refusal threshold (0: the default).
+func modelMerits(set *reference.Set, opt unmix.Options, minSel float64) (*Merits, error) {
+	lo, hi := opt.WindowLo, opt.WindowHi
+	if opt.Shift && len(set.Grid) > 1 {
+		// The sample model keeps the maximum shift clear of the grid's
+		// ends; so do the merits.
+		if lo == 0 && hi == 0 {
+			lo, hi = set.Grid[0], set.Grid[len(set.Grid)-1]
+		}
+		ms := opt.MaxShiftNM
+		if ms == 0 {
+			ms = unmix.DefaultMaxShiftNM
+		}
+		lo, hi = math.Max(lo, set.Grid[0]+ms), math.Min(hi, set.Grid[len(set.Grid)-1]-ms)
+	}
+	return FiguresOfMerit(set, MeritOptions{
+		WindowLo: lo, WindowHi: hi, Baseline: opt.Baseline,
+		Weighted: opt.Weighted, minSelectivity: minSel,
+	})
 }
 
 // checkFrom pairs a sheet row's known concentrations (sheet order, mapped
