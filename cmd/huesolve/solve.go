@@ -34,6 +34,7 @@ type solveOptions struct {
 	samples   string
 	jobs      int
 	checkOnly bool
+	review    solveReview
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -116,8 +117,12 @@ the baseline, and the residual against the expected noise band; stretches
 left out of the fit (above the ceiling, or not calibrated) are shaded. Each
 figure is written whole or not at all and no figure is ever deleted; when
 one cannot be written (a full disk) plotting stops, the samples still count
-as solved and the exit code is 1. A file that cannot be read is reported on
-standard error and skipped; the others go on.
+as solved and the exit code is 1. --report FILE.html writes a review report
+too: one self-contained HTML page with the run's settings and input files,
+the results table (sortable, flagged samples highlighted and filterable),
+each sample's figure, the reference set and the figures of merit. A file
+that cannot be read is reported on standard error and skipped; the others
+go on.
 Results come in the order of the inputs whatever the number of workers (-j).
 A one-line summary goes to standard error.
 
@@ -161,6 +166,7 @@ func newSolveCmd() *cobra.Command {
 	f.StringVar(&o.samples, "samples", "", "sample `SHEET` with columns sample, dilution, path_cm")
 	f.IntVarP(&o.jobs, "jobs", "j", 0, "number of samples solved in parallel (default: all cores)")
 	f.BoolVar(&o.checkOnly, "check-only", false, "read and check every scan without solving it")
+	o.review.flag.add(f)
 	return cmd
 }
 
@@ -170,7 +176,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if err != nil {
 		return err
 	}
-	if err := j.load(o, refPath, scans, mopt, q); err != nil {
+	if err := j.load(cmd, o, refPath, scans, mopt, q); err != nil {
 		return err
 	}
 	j.newBatch(o, q)
@@ -194,7 +200,15 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if err != nil {
 		return err
 	}
-	return j.finish(o, sum)
+	var rerr error
+	if o.review.on() && sum.Solved > 0 {
+		rerr = o.review.write(j.errw)
+	}
+	ferr := j.finish(o, sum)
+	if rerr != nil {
+		return fmt.Errorf("the results were written, but the review report could not be: %w", rerr)
+	}
+	return ferr
 }
 
 // check reads the flags of solve into the model options and the quantity
@@ -216,10 +230,14 @@ func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath stri
 	if o.jobs < 0 {
 		return mopt, q, usagef("-j %d: want a positive number of workers", o.jobs)
 	}
-	if o.checkOnly && (o.output.out != "" || o.output.plots != "") {
-		return mopt, q, usagef("--check-only writes no results: leave out -o and --plots")
+	if o.checkOnly && (o.output.out != "" || o.output.plots != "" || o.review.on()) {
+		return mopt, q, usagef("--check-only writes no results: leave out -o, --plots and --report")
 	}
-	err = checkNotInput("-o", o.output.out, append([]string{refPath, o.scans.blank, o.samples}, scanInputFiles(scans)...)...)
+	inputs := append([]string{refPath, o.scans.blank, o.samples}, scanInputFiles(scans)...)
+	if err = checkNotInput("-o", o.output.out, inputs...); err != nil {
+		return mopt, q, err
+	}
+	err = o.review.flag.check(o.output.out, inputs...)
 	return mopt, q, err
 }
 
@@ -251,7 +269,7 @@ func newSolveJob(stderr io.Writer) *solveJob {
 
 // load reads the reference set, the blank and the sample sheet, makes the
 // model and the plot folder.
-func (j *solveJob) load(o *solveOptions, refPath string, scans []string, mopt unmix.Options, q spectrum.Quantity) error {
+func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, scans []string, mopt unmix.Options, q spectrum.Quantity) error {
 	set, err := reference.Load(refPath)
 	if err != nil {
 		return err
@@ -259,7 +277,7 @@ func (j *solveJob) load(o *solveOptions, refPath string, scans []string, mopt un
 	if mopt.Blank, _, err = o.scans.readBlank(q, j.warn); err != nil {
 		return err
 	}
-	mopt.KeepCurves = o.output.plots != ""
+	mopt.KeepCurves = o.output.plots != "" || o.review.on()
 	if j.model, err = unmix.NewModel(set, mopt); err != nil {
 		return err
 	}
@@ -281,6 +299,9 @@ func (j *solveJob) load(o *solveOptions, refPath string, scans []string, mopt un
 		}
 	}
 	j.inputs = batch.ExpandInputs(scans)
+	if o.review.on() {
+		o.review.start(cmd, o, refPath, set, j.model, mopt, j.inputs)
+	}
 	solveSetNotes(set, j.model, o.scans.blank, j.inputs, j.note, j.warn)
 	return nil
 }
@@ -304,7 +325,8 @@ func (j *solveJob) newBatch(o *solveOptions, q spectrum.Quantity) {
 			return f, nil
 		},
 	}
-	if o.output.plots == "" {
+	plots := o.output.plots != ""
+	if !plots && !o.review.on() {
 		return
 	}
 	names := j.model.Compounds()
@@ -312,7 +334,10 @@ func (j *solveJob) newBatch(o *solveOptions, q spectrum.Quantity) {
 	// sample, which was solved and is in the results; plotting stops at
 	// the first failure and finish reports it.
 	j.batch.Each = func(seq int, r *unmix.Result) error {
-		if j.plots.stopped() {
+		if o.review.on() {
+			o.review.rev.Figure(seq, r)
+		}
+		if !plots || j.plots.stopped() {
 			return nil
 		}
 		j.plots.add(report.SaveSamplePlot(r, names, report.SamplePlotPath(o.output.plots, seq+1, r.Sample, o.output.plotFormat)))
@@ -395,7 +420,7 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 		}
 		j.batch.Read.Context = cmd.Context()
 		sum, err = j.batch.Run(cmd.Context(), j.inputs, func(out batch.Outcome) error {
-			return j.emit(out, rw, enc)
+			return j.emit(out, rw, enc, o.review.rev)
 		})
 		if j.bar != nil {
 			_ = j.bar.Finish()
@@ -437,7 +462,7 @@ var errNothingSolved = errors.New("nothing solved")
 
 // emit takes one outcome, in input order: its notes, its failure on
 // standard error, its result to rw.
-func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.Encoder) error {
+func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.Encoder, rev *report.SolveReview) error {
 	j.seen.add(out, j.warn)
 	if out.Err != nil {
 		what := out.File
@@ -448,6 +473,12 @@ func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.En
 		if err := rw.Fail(what, out.Err); err != nil {
 			return err
 		}
+		if rev != nil {
+			rev.Fail(what, userMessage(out.Err))
+		}
+	}
+	if rev != nil && out.Result != nil {
+		rev.Add(out.Seq, out.Result)
 	}
 	switch {
 	case out.Encoded != nil && enc != nil:

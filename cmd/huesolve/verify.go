@@ -27,6 +27,7 @@ type verifyOptions struct {
 	minSelectivity float64
 	crossval       string
 	crossvalBy     string
+	review         reviewFlag
 }
 
 const verifyLong = `Solve check standards of known composition against a reference set, as if
@@ -64,7 +65,9 @@ pre-treatment) and the left-out scan solved: RMSECV per compound.
 
 Output: tables on standard output, or --format csv|json; -o FILE writes it
 to a file instead (atomically). --plots DIR writes, per compound, found
-against known with a recovery panel.
+against known with a recovery panel. --report FILE.html writes a review
+report: one self-contained HTML page with the run's settings, a row and a
+fit figure per check standard, the verdicts and the figures of merit.
 
 The summary table counts, per compound, the check standards with it (known
 concentration above zero: judged on recovery) and without it (known zero:
@@ -101,6 +104,7 @@ func newVerifyCmd() *cobra.Command {
 	f.Float64Var(&o.minSelectivity, "min-selectivity", validate.DefaultMinSelectivity, "selectivity below which a compound is refused")
 	f.StringVar(&o.crossval, "crossval", "", "cross-validate the calibration from its standards `SHEET`")
 	f.StringVar(&o.crossvalBy, "crossval-by", "level", "leave out one composition with its replicates (level) or one standard at a time (standard)")
+	o.review.add(f)
 	return cmd
 }
 
@@ -116,6 +120,12 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	}
 	ctx := cmd.Context()
 	vopt.Model = mopt
+	var rev *report.VerifyReview
+	if o.review.path != "" {
+		rev = report.NewVerifyReview(compoundNames(set))
+		vopt.Model.KeepCurves = true
+		vopt.Each = rev.Figure
+	}
 	v, err := validate.VerifyContext(ctx, set, sh, vopt)
 	if err != nil {
 		return o.interrupted(ctx, err)
@@ -137,6 +147,13 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	})
 	if err != nil {
 		return err
+	}
+	if rev != nil {
+		p := verifyProvenance(cmd, o, refPath, checksPath, set, v)
+		ctx := reviewContext("verify", p, set, v.Merits, nil)
+		if err := o.review.write(cmd.ErrOrStderr(), func(w io.Writer) error { return rev.WriteHTML(w, &rep, ctx) }); err != nil {
+			return err
+		}
 	}
 	return verifyVerdict(cmd.ErrOrStderr(), v, warn)
 }
@@ -169,6 +186,9 @@ func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q 
 	if err := checkNotInput("-o", o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
 		return nil, nil, err
 	}
+	if err := o.review.check(o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
+		return nil, nil, err
+	}
 	set, err := reference.Load(refPath)
 	if err != nil {
 		return nil, nil, err
@@ -178,6 +198,9 @@ func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q 
 		return nil, nil, err
 	}
 	if err := checkNotInput("-o", o.output.out, sheetFiles(sh)...); err != nil {
+		return nil, nil, err
+	}
+	if err := o.review.check(o.output.out, sheetFiles(sh)...); err != nil {
 		return nil, nil, err
 	}
 	if mopt.Blank, _, err = o.scans.readBlank(q, warn); err != nil {
