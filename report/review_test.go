@@ -144,7 +144,10 @@ func TestVerifyReviewRows(t *testing.T) {
 	}
 	rev := NewVerifyReview([]string{"amber", "teal"})
 	var b bytes.Buffer
-	if err := rev.WriteHTML(&b, &VerifyReport{Result: v}, ReviewContext{Command: "verify"}); err != nil {
+	v.Converted = []string{"amber: µg/mL to mg/L (x 1)"}
+	cv := &validate.CrossValidation{Compounds: []string{"amber", "teal"}, Units: []string{"mg/L", "mg/L"}, Folds: 3, ByLevel: true,
+		RMSECV: []float64{0.0123, 0.0456}, Failed: []string{"fold 2: too few levels"}}
+	if err := rev.WriteHTML(&b, &VerifyReport{Result: v, CrossVal: cv}, ReviewContext{Command: "verify"}); err != nil {
 		t.Fatal(err)
 	}
 	page := b.String()
@@ -163,5 +166,11 @@ func TestVerifyReviewRows(t *testing.T) {
 	}
 	if !strings.Contains(page, "FAIL: ") {
 		t.Error("the failing compound's verdict is not shown")
+	}
+	for _, want := range []string{"Unit converted</dt><dd>amber: µg/mL to mg/L (x 1)", "3 folds, leaving out one composition",
+		`data-sort="0.0456">0.046</td>`, "cross-validation: fold 2: too few levels"} {
+		if !strings.Contains(page, want) {
+			t.Errorf("page lacks %q", want)
+		}
 	}
 }

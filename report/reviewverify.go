@@ -80,6 +80,17 @@ func (v *VerifyReview) WriteHTML(w io.Writer, rep *VerifyReport, ctx ReviewConte
 			lim.RecoveryLo, lim.RecoveryHi, lim.MaxRSD)},
 		{Label: "Blank", Value: termText(res.Blank)},
 	}
+	conv := res.Converted
+	if cv := rep.CrossVal; cv != nil {
+		conv = append(append([]string(nil), conv...), cv.Converted...)
+		p.Tables = append(p.Tables, crossValTable(cv))
+		for _, f := range cv.Failed {
+			p.Failed = append(p.Failed, "cross-validation: "+termText(f))
+		}
+	}
+	for _, c := range conv {
+		p.Counts = append(p.Counts, Field{Label: "Unit converted", Value: termText(c)})
+	}
 	seen := map[unmix.Flag]bool{}
 	for _, r := range res.Rows {
 		for _, f := range r.Flags {
@@ -175,6 +186,28 @@ func verifyVerdictTable(res *validate.Verification) htmlTable {
 			numCell(strconv.Itoa(c.Holding), float64(c.Holding)), mean, rsd,
 			numCell(errNum(c.Bias), c.Bias), numCell(errNum(c.RMSEP), c.RMSEP),
 			numCell(fmt.Sprintf("%d of %d", c.AbsentFail, c.Absent), float64(c.AbsentFail)), verdict}})
+	}
+	return t
+}
+
+// crossValTable is the cross-validation: RMSECV per compound.
+func crossValTable(cv *validate.CrossValidation) htmlTable {
+	by := "one standard"
+	if cv.ByLevel {
+		by = "one composition with its replicates"
+	}
+	t := htmlTable{ID: "crossval", Caption: fmt.Sprintf("Cross-validation of the calibration: %d folds, leaving out %s at a time", cv.Folds, by),
+		Cols: []htmlCol{{Label: "Compound"}, {Label: "RMSECV", Numeric: true}}}
+	for k, c := range cv.Compounds {
+		unit := ""
+		if k < len(cv.Units) {
+			unit = unitSuffix(cv.Units[k])
+		}
+		cell := htmlCell{Text: naText}
+		if k < len(cv.RMSECV) {
+			cell = numCell(errNum(cv.RMSECV[k]), cv.RMSECV[k])
+		}
+		t.Rows = append(t.Rows, htmlRow{Cells: []htmlCell{textCell(c + unit), cell}})
 	}
 	return t
 }
