@@ -59,6 +59,9 @@ func (c *CSVWriter) writeHeader() error {
 		return nil
 	}
 	c.header = true
+	if err := WriteRunComments(c.w, FormatNameResults, c.l.Run); err != nil {
+		return err
+	}
 	var b []byte
 	for i, h := range c.columns() {
 		if i > 0 {
@@ -179,7 +182,7 @@ func appendCSVText(b []byte, f string) []byte {
 // appendCSVField appends f, quoted when it holds a comma, a quote, a line
 // break or leading space (the rule of encoding/csv).
 func appendCSVField(b []byte, f string) []byte {
-	need := f == `\.`
+	need := f == `\.` || strings.HasPrefix(f, "#") // a leading # would read as a comment line
 	if f != "" {
 		r, _ := utf8.DecodeRuneInString(f)
 		need = need || unicode.IsSpace(r) || strings.ContainsAny(f, ",\"\r\n")
@@ -225,7 +228,8 @@ type Encoder interface {
 
 // jsonWriter writes one JSON document:
 //
-//	{"format": "huesolve-results", "version": 1,
+//	{"format": "huesolve-results", "schema": 2,
+//	 "run": { the run's record (provenance.Run), when the layout has one },
 //	 "compounds": [{"name": ..., "unit": ...}], "baseline_terms": [...],
 //	 "samples": [ one object per sample, one per line ],
 //	 "failed": [{"source": ..., "error": ...}]}
@@ -251,12 +255,16 @@ func newJSONWriter(w io.Writer, l Layout) *jsonWriter {
 	return &jsonWriter{w: bufio.NewWriter(w), l: l}
 }
 
-// jsonVersion is the version of the results document.
-const jsonVersion = 1
-
 func (j *jsonWriter) start() error {
-	b := []byte(`{"format": "huesolve-results", "version": `)
-	b = strconv.AppendInt(b, jsonVersion, 10)
+	b := []byte(`{"format": "` + FormatNameResults + `", "schema": `)
+	b = strconv.AppendInt(b, Schema, 10)
+	if j.l.Run != nil {
+		var err error
+		b = append(b, ",\n \"run\": "...)
+		if b, err = appendRunJSON(b, j.l.Run); err != nil {
+			return err
+		}
+	}
 	b = append(b, ",\n \"compounds\": ["...)
 	for k, n := range j.l.Compounds {
 		if k > 0 {

@@ -7,6 +7,7 @@ import (
 	"strings"
 
 	"huesolve/internal/pkgerr"
+	"huesolve/provenance"
 	"huesolve/unmix"
 )
 
@@ -16,6 +17,9 @@ type Layout struct {
 	Compounds []string
 	Units     []string
 	Baseline  []string
+	// Run is the run's record, written at the head of CSV and JSON
+	// files (nil: none).
+	Run *provenance.Run
 }
 
 // LayoutOf returns the layout of a model's results.

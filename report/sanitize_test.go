@@ -2,7 +2,6 @@ package report
 
 import (
 	"bytes"
-	"encoding/csv"
 	"encoding/json"
 	"strings"
 	"testing"
@@ -90,7 +89,7 @@ func TestHostileNamesInResults(t *testing.T) {
 		}
 	}
 
-	recs, err := csv.NewReader(&csvOut).ReadAll()
+	recs, err := commentedCSV(&csvOut).ReadAll()
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -161,7 +160,7 @@ func TestHostileNamesInValidationCSV(t *testing.T) {
 	if err := WriteVerifyCSV(&b, v, nil); err != nil {
 		t.Fatal(err)
 	}
-	recs, err := csv.NewReader(&b).ReadAll()
+	recs, err := commentedCSV(&b).ReadAll()
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -174,7 +173,7 @@ func TestHostileNamesInValidationCSV(t *testing.T) {
 	if err := WriteWindowCSV(&b, adv); err != nil {
 		t.Fatal(err)
 	}
-	if recs, err = csv.NewReader(&b).ReadAll(); err != nil {
+	if recs, err = commentedCSV(&b).ReadAll(); err != nil {
 		t.Fatal(err)
 	}
 	if r := recs[1]; r[7] != "'=dye" || r[8] != "-0.25" {

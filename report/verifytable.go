@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 
+	"huesolve/provenance"
 	"huesolve/unmix"
 	"huesolve/validate"
 )
@@ -15,6 +16,11 @@ import (
 // model it was made with, and the cross-validation when one was run. Its
 // JSON form is verify's --format json document.
 type VerifyReport struct {
+	// Format (FormatNameVerify), Schema and Run, the run's record, open
+	// the JSON document; the commands set them.
+	Format    string                    `json:"format"`
+	Schema    int                       `json:"schema"`
+	Run       *provenance.Run           `json:"run,omitempty"`
 	Reference string                    `json:"reference_set"`
 	Checks    string                    `json:"checks"`
 	Window    [2]float64                `json:"window_nm"`

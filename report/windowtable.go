@@ -7,6 +7,7 @@ import (
 	"strconv"
 	"strings"
 
+	"huesolve/provenance"
 	"huesolve/validate"
 )
 
@@ -14,6 +15,11 @@ import (
 // and its figures of merit. Its JSON form is window's --format json
 // document.
 type WindowReport struct {
+	// Format (FormatNameWindow), Schema and Run, the run's record, open
+	// the JSON document; the commands set them.
+	Format      string                 `json:"format"`
+	Schema      int                    `json:"schema"`
+	Run         *provenance.Run        `json:"run,omitempty"`
 	Reference   string                 `json:"reference_set"`
 	Recommended [2]float64             `json:"recommended_nm"`
 	Advice      *validate.WindowAdvice `json:"advice"`

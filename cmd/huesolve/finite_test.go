@@ -128,7 +128,7 @@ func TestNonFiniteNeverPrinted(t *testing.T) {
 				}
 				checkFinite(t, what, out)
 				if ref == twin && format == "csv" && opts == nil {
-					for _, row := range strings.Split(strings.TrimSpace(out), "\n")[1:] {
+					for _, row := range strings.Split(strings.TrimSpace(dataLines(out)), "\n")[1:] {
 						if !strings.Contains(row, "illcond") {
 							t.Errorf("%s: a row of the ill-conditioned design does not say so: %s", what, row)
 						}

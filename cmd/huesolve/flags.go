@@ -19,6 +19,7 @@ import (
 
 	"huesolve/baseline"
 	"huesolve/internal/atomicfile"
+	"huesolve/method"
 	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/spectrum"
@@ -27,9 +28,8 @@ import (
 
 // Bounds on the fit flags. They catch typing mistakes, not chemistry.
 const (
-	// maxShiftLimitNM bounds --max-shift: a shift between instruments is
-	// a few nm; tens of nm is a wrong reference set, not a shift.
-	maxShiftLimitNM = 50
+	// maxShiftLimitNM bounds --max-shift (the method file's bound).
+	maxShiftLimitNM = method.MaxShiftLimitNM
 )
 
 // valDefaultBaseline is the baseline model solve, verify and window use

@@ -88,9 +88,9 @@ func TestArgumentCountIsUsage(t *testing.T) {
 		want string
 	}{
 		{[]string{"look"}, "look needs at least one scan file or folder"},
-		{[]string{"solve", "refs.json"}, "solve needs a reference set and at least one scan; only refs.json was given"},
+		{[]string{"solve", "refs.json"}, "solve needs a reference set (or --method FILE) and at least one scan; only refs.json was given"},
 		{[]string{"calibrate", "a.csv", "b.csv"}, "calibrate takes one standards sheet; 2 were given: a.csv, b.csv"},
-		{[]string{"verify", "refs.json"}, "verify needs a reference set and a sheet of check standards"},
+		{[]string{"verify", "refs.json"}, "verify needs a reference set (or --method FILE) and a sheet of check standards"},
 		{[]string{"convert"}, "convert needs one input file"},
 		{[]string{"inspect"}, "inspect needs one reference set"},
 		{[]string{"window", "a", "b"}, "window takes one reference set"},

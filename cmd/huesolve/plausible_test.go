@@ -2,7 +2,6 @@ package main
 
 import (
 	"crypto/sha256"
-	"encoding/csv"
 	"encoding/hex"
 	"encoding/json"
 	"os"
@@ -105,7 +104,7 @@ func TestSolveFormulaNames(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("exit %d: %s", code, errOut)
 	}
-	recs, err := csv.NewReader(strings.NewReader(out)).ReadAll()
+	recs, err := commentedCSV(strings.NewReader(out)).ReadAll()
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -365,7 +365,7 @@ func checkReadmeCSVFields(t *testing.T, lines []readmeLine, csvPath string) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	header, _, _ := strings.Cut(string(data), "\n")
+	header, _, _ := strings.Cut(dataLines(string(data)), "\n")
 	res, err := readDemoResults(filepath.Join(filepath.Dir(csvPath), "samples.json"))
 	if err != nil {
 		t.Fatal(err)

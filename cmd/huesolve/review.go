@@ -73,19 +73,19 @@ func reviewCautions() []string {
 	}
 }
 
-// provenance gathers what a review report says about its run: the tool,
+// reviewProv gathers what a review report says about its run: the tool,
 // the options given, the reference set and its checksum, the blank and
 // the settings of the fit. More fields are appended by the caller.
-type provenance struct {
+type reviewProv struct {
 	fields []report.Field
 }
 
-func (p *provenance) add(label, value string) {
+func (p *reviewProv) add(label, value string) {
 	p.fields = append(p.fields, report.Field{Label: label, Value: value})
 }
 
 // addFile adds a file with its SHA-256 ("none" for no file).
-func (p *provenance) addFile(label, path string) {
+func (p *reviewProv) addFile(label, path string) {
 	if path == "" {
 		p.add(label, "none")
 		return
@@ -100,8 +100,8 @@ func (p *provenance) addFile(label, path string) {
 
 // newProvenance starts a run's provenance: tool, time, command and the
 // options given, the reference set.
-func newProvenance(cmd *cobra.Command, refPath string, set *reference.Set) *provenance {
-	p := &provenance{}
+func newProvenance(cmd *cobra.Command, refPath string, set *reference.Set) *reviewProv {
+	p := &reviewProv{}
 	p.add("Tool", "huesolve "+version)
 	when := time.Now
 	if fixed, err := sourceDateEpoch(); err == nil && fixed != nil {
@@ -124,7 +124,7 @@ func newProvenance(cmd *cobra.Command, refPath string, set *reference.Set) *prov
 }
 
 // addFit adds the settings of the fit in force.
-func (p *provenance) addFit(fit *fitFlags, set *reference.Set, window []float64) {
+func (p *reviewProv) addFit(fit *fitFlags, set *reference.Set, window []float64) {
 	if len(window) > 0 {
 		p.add("Window (nm)", fmt.Sprintf("%g-%g (%d points)", window[0], window[len(window)-1], len(window)))
 	}
@@ -151,7 +151,7 @@ func yesNo(b bool) string {
 
 // reviewContext is the report's context: provenance, set, merits of the
 // design (or why there are none) and cautions.
-func reviewContext(command string, p *provenance, set *reference.Set, merits *validate.Merits, meritErr error) report.ReviewContext {
+func reviewContext(command string, p *reviewProv, set *reference.Set, merits *validate.Merits, meritErr error) report.ReviewContext {
 	ctx := report.ReviewContext{Command: command, Provenance: p.fields, Set: set, Merits: merits, Cautions: reviewCautions()}
 	if merits == nil && meritErr != nil {
 		ctx.MeritsNote = "The figures of merit could not be computed: " + userMessage(meritErr)
@@ -164,7 +164,7 @@ func reviewContext(command string, p *provenance, set *reference.Set, merits *va
 type solveReview struct {
 	flag reviewFlag
 	rev  *report.SolveReview
-	prov *provenance
+	prov *reviewProv
 	set  *reference.Set
 	mopt unmix.Options
 }
@@ -210,7 +210,7 @@ func compoundNames(set *reference.Set) []string {
 }
 
 // verifyProvenance is what verify's review report says about its run.
-func verifyProvenance(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string, set *reference.Set, v *validate.Verification) *provenance {
+func verifyProvenance(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string, set *reference.Set, v *validate.Verification) *reviewProv {
 	p := newProvenance(cmd, refPath, set)
 	p.addFile("Check standards sheet", checksPath)
 	p.addFile("Blank", o.scans.blank)

@@ -241,6 +241,7 @@ func interrupted(ctx context.Context, err error) bool {
 func execute(ctx context.Context, args []string, stdin io.Reader, stdout, stderr io.Writer) int {
 	out := &checkedWriter{w: stdout}
 	root := newRootCmd()
+	ctx = context.WithValue(ctx, argsKey{}, args)
 	root.SetArgs(args)
 	root.SetIn(stdin)
 	root.SetOut(out)

@@ -18,6 +18,7 @@ import (
 
 	"huesolve/batch"
 	"huesolve/internal/atomicfile"
+	"huesolve/provenance"
 	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/spectrum"
@@ -29,6 +30,7 @@ type solveOptions struct {
 	fit       fitFlags
 	scans     scanFlags
 	output    outputFlags
+	method    methodFlags
 	dilution  float64
 	pathCM    float64
 	samples   string
@@ -103,8 +105,15 @@ which correlates neighbouring residuals by itself), condition number above
 30 (illcond), baseline leakage below 0.5 (mimic). README.md states the
 reduced chi-square's formula.
 
+With --method FILE (written by window or verify --save-method) the reference
+set and the fit options come from the method and every argument is a scan;
+an option given on the command line overrides the method's and is recorded.
+A set whose checksum is not the method's is refused.
+
 Output: a table on standard output sized for the terminal, or --format csv or
-json; -o FILE writes it to a file, complete or not at all (-o - is standard
+json (opening with the run's record: tool, version, time, command line,
+method, reference set, blank, sheets and input files with their SHA-256,
+and every setting in force; CSV as "# key: value" lines); -o FILE writes it to a file, complete or not at all (-o - is standard
 output). The file is written only when at least one sample was solved: a
 run that solves nothing (a misspelt scan path, every scan failing) leaves
 an existing FILE as it was and exits 1. When some samples failed, FILE holds
@@ -149,11 +158,17 @@ Exit codes:
 func newSolveCmd() *cobra.Command {
 	o := &solveOptions{}
 	cmd := &cobra.Command{
-		Use:   "solve REFSET SCAN...",
+		Use:   "solve REFSET SCAN... | solve --method FILE SCAN...",
 		Short: "Unmix sample scans into concentrations with uncertainties and flags",
 		Long:  strings.Replace(solveLong, "{{LEGEND}}", strings.TrimRight(unmix.Legend(), "\n"), 1),
-		Args:  wantArgs(2, -1, "a reference set and at least one scan"),
+		Args:  wantArgs(1, -1, "a reference set (or --method FILE) and at least one scan"),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if o.method.use != "" {
+				return runSolve(cmd, o, "", args)
+			}
+			if err := wantArgs(2, -1, "a reference set (or --method FILE) and at least one scan")(cmd, args); err != nil {
+				return err
+			}
 			return runSolve(cmd, o, args[0], args[1:])
 		},
 	}
@@ -167,11 +182,16 @@ func newSolveCmd() *cobra.Command {
 	f.IntVarP(&o.jobs, "jobs", "j", 0, "number of samples solved in parallel (default: all cores)")
 	f.BoolVar(&o.checkOnly, "check-only", false, "read and check every scan without solving it")
 	o.review.flag.add(f)
+	o.method.addUse(f)
 	return cmd
 }
 
 func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []string) error {
 	j := newSolveJob(cmd.ErrOrStderr())
+	if err := o.method.apply(cmd.Flags()); err != nil {
+		return err
+	}
+	refPath = o.method.refPath(refPath)
 	mopt, q, err := o.check(cmd, j.note, refPath, scans)
 	if err != nil {
 		return err
@@ -233,7 +253,7 @@ func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath stri
 	if o.checkOnly && (o.output.out != "" || o.output.plots != "" || o.review.on()) {
 		return mopt, q, usagef("--check-only writes no results: leave out -o, --plots and --report")
 	}
-	inputs := append([]string{refPath, o.scans.blank, o.samples}, scanInputFiles(scans)...)
+	inputs := append([]string{refPath, o.method.use, o.scans.blank, o.samples}, scanInputFiles(scans)...)
 	if err = checkNotInput("-o", o.output.out, inputs...); err != nil {
 		return mopt, q, err
 	}
@@ -257,6 +277,7 @@ type solveJob struct {
 	batch  *batch.Batch
 	bar    *progressbar.ProgressBar
 	seen   *outcomeNotes
+	run    *provenance.Run // the run's record (nil with --check-only)
 }
 
 func newSolveJob(stderr io.Writer) *solveJob {
@@ -270,11 +291,12 @@ func newSolveJob(stderr io.Writer) *solveJob {
 // load reads the reference set, the blank and the sample sheet, makes the
 // model and the plot folder.
 func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, scans []string, mopt unmix.Options, q spectrum.Quantity) error {
-	set, err := reference.Load(refPath)
+	set, err := o.method.loadSet(refPath)
 	if err != nil {
 		return err
 	}
-	if mopt.Blank, _, err = o.scans.readBlank(q, j.warn); err != nil {
+	var blankSum string
+	if mopt.Blank, blankSum, err = o.scans.readBlank(q, j.warn); err != nil {
 		return err
 	}
 	mopt.KeepCurves = o.output.plots != "" || o.review.on()
@@ -303,6 +325,34 @@ func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, sca
 		o.review.start(cmd, o, refPath, set, j.model, mopt, j.inputs)
 	}
 	solveSetNotes(set, j.model, o.scans.blank, j.inputs, j.note, j.warn)
+	if !o.checkOnly {
+		return j.record(cmd, o, set, refPath, mopt, blankSum)
+	}
+	return nil
+}
+
+// record makes the run's record: the reference set (and method), the
+// blank, the sample sheet and every input file with their SHA-256, and
+// the settings in force.
+func (j *solveJob) record(cmd *cobra.Command, o *solveOptions, set *reference.Set, refPath string, mopt unmix.Options, blankSum string) error {
+	run, err := newRun(cmd)
+	if err != nil {
+		return err
+	}
+	o.method.recordSet(run, set, refPath)
+	if o.scans.blank != "" {
+		run.Blank = &provenance.File{Path: o.scans.blank, SHA256: blankSum}
+	}
+	if o.samples != "" {
+		run.Sheets = append(run.Sheets, hashed("sample sheet", o.samples))
+	}
+	w := j.model.Window()
+	run.Settings = fitSettings(&o.fit, &o.scans, set, mopt, w[0], w[len(w)-1])
+	run.Settings = append(run.Settings,
+		provenance.Setting{Name: "dilution", Value: strconv.FormatFloat(o.dilution, 'g', -1, 64)},
+		pathSetting(o.pathCM, set))
+	run.Inputs = hashedInputs(j.inputs)
+	j.run = run
 	return nil
 }
 
@@ -406,6 +456,7 @@ func (p *progressLog) update(done, total int) {
 // not at all) or standard output.
 func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, error) {
 	layout := report.LayoutOf(j.model)
+	layout.Run = j.run
 	width := outputWidth(cmd.OutOrStdout(), o.output.file())
 	var sum batch.Summary
 	solveAll := func(w io.Writer) error {

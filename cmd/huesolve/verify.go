@@ -5,11 +5,14 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"strconv"
 
 	"github.com/spf13/cobra"
 
 	"huesolve/calibration"
 	"huesolve/internal/pkgerr"
+	"huesolve/method"
+	"huesolve/provenance"
 	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/spectrum"
@@ -22,6 +25,7 @@ type verifyOptions struct {
 	fit            fitFlags
 	scans          scanFlags
 	output         outputFlags
+	method         methodFlags
 	recovery       string
 	maxRSD         float64
 	minSelectivity float64
@@ -63,7 +67,13 @@ replicates, is left out in turn, the reference set rebuilt from the rest
 with the options the set records (grid, path, ceiling, intercept,
 pre-treatment) and the left-out scan solved: RMSECV per compound.
 
-Output: tables on standard output, or --format csv|json; -o FILE writes it
+--method FILE takes the reference set, the fit options and the acceptance
+limits from a method file (options given override it); --save-method FILE
+saves them, with the reference set's checksum, when every compound passed,
+for solve --method.
+
+Output: tables on standard output, or --format csv|json (with the run's
+record, as solve writes it); -o FILE writes it
 to a file instead (atomically). --plots DIR writes, per compound, found
 against known with a recovery panel. --report FILE.html writes a review
 report: one self-contained HTML page with the run's settings, a row and a
@@ -86,11 +96,20 @@ interrupted (Ctrl-C; 143 for SIGTERM; it says how far it got, and nothing is wri
 func newVerifyCmd() *cobra.Command {
 	o := &verifyOptions{}
 	cmd := &cobra.Command{
-		Use:   "verify REFSET CHECKS",
+		Use:   "verify REFSET CHECKS | verify --method FILE CHECKS",
 		Short: "Judge recovery of check standards of known composition",
 		Long:  verifyLong,
-		Args:  wantArgs(2, 2, "a reference set and a sheet of check standards"),
+		Args:  wantArgs(1, 2, "a reference set (or --method FILE) and a sheet of check standards"),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if o.method.use != "" {
+				if err := wantArgs(1, 1, "a sheet of check standards with --method")(cmd, args); err != nil {
+					return err
+				}
+				return runVerify(cmd, o, "", args[0])
+			}
+			if err := wantArgs(2, 2, "a reference set (or --method FILE) and a sheet of check standards")(cmd, args); err != nil {
+				return err
+			}
 			return runVerify(cmd, o, args[0], args[1])
 		},
 	}
@@ -105,16 +124,26 @@ func newVerifyCmd() *cobra.Command {
 	f.StringVar(&o.crossval, "crossval", "", "cross-validate the calibration from its standards `SHEET`")
 	f.StringVar(&o.crossvalBy, "crossval-by", "level", "leave out one composition with its replicates (level) or one standard at a time (standard)")
 	o.review.add(f)
+	o.method.addUse(f)
+	o.method.addSave(f, "the reference set, fit options and acceptance limits, when every compound passes,")
 	return cmd
 }
 
 func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string) error {
 	warn := warnTo(cmd.ErrOrStderr())
+	if err := o.method.apply(cmd.Flags()); err != nil {
+		return err
+	}
+	refPath = o.method.refPath(refPath)
 	mopt, q, vopt, err := o.check()
 	if err != nil {
 		return err
 	}
-	set, sh, err := o.load(refPath, checksPath, &mopt, q, warn)
+	set, sh, blankSum, err := o.load(refPath, checksPath, &mopt, q, warn)
+	if err != nil {
+		return err
+	}
+	run, err := newRun(cmd)
 	if err != nil {
 		return err
 	}
@@ -134,10 +163,17 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	if err != nil {
 		return err
 	}
-	rep := report.VerifyReport{Reference: refPath, Checks: checksPath, Window: [2]float64{v.Merits.WindowLo, v.Merits.WindowHi},
+	o.record(run, set, refPath, checksPath, sh, mopt, blankSum, v)
+	rep := report.VerifyReport{Format: report.FormatNameVerify, Schema: report.Schema, Run: run,
+		Reference: refPath, Checks: checksPath, Window: [2]float64{v.Merits.WindowLo, v.Merits.WindowHi},
 		Baseline: v.Merits.Baseline, Weighted: o.fit.weighted, Result: v, CrossVal: cv}
 	err = o.output.write(cmd, "verification", rep,
-		func(w io.Writer) error { return report.WriteVerifyCSV(w, v, cv) },
+		func(w io.Writer) error {
+			if err := report.WriteRunComments(w, report.FormatNameVerify, run); err != nil {
+				return err
+			}
+			return report.WriteVerifyCSV(w, v, cv)
+		},
 		func(w io.Writer) error { return report.WriteVerifyTable(w, &rep) })
 	if err != nil {
 		return err
@@ -155,7 +191,65 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 			return err
 		}
 	}
+	if err := o.saveMethod(cmd, run, refPath, set, mopt, vopt, v, warn); err != nil {
+		return err
+	}
 	return verifyVerdict(cmd.ErrOrStderr(), v, warn)
+}
+
+// record fills the run's record of verify: the reference set (and
+// method), blank, sheets and their scans with SHA-256, and the settings.
+func (o *verifyOptions) record(run *provenance.Run, set *reference.Set, refPath, checksPath string, sh *calibration.Sheet, mopt unmix.Options, blankSum string, v *validate.Verification) {
+	o.method.recordSet(run, set, refPath)
+	if o.scans.blank != "" {
+		run.Blank = &provenance.File{Path: o.scans.blank, SHA256: blankSum}
+	}
+	run.Sheets = append(run.Sheets, hashed("checks sheet", checksPath))
+	if o.crossval != "" {
+		run.Sheets = append(run.Sheets, hashed("crossval sheet", o.crossval))
+	}
+	run.Settings = fitSettings(&o.fit, &o.scans, set, mopt, v.Merits.WindowLo, v.Merits.WindowHi)
+	unit := o.scans.unit
+	if unit == "" {
+		unit = "as the sheet's headers say"
+	}
+	run.Settings = append(run.Settings,
+		provenance.Setting{Name: "unit", Value: unit},
+		provenance.Setting{Name: "recovery", Value: o.recovery},
+		provenance.Setting{Name: "max-rsd", Value: strconv.FormatFloat(o.maxRSD, 'g', -1, 64)},
+		provenance.Setting{Name: "min-selectivity", Value: strconv.FormatFloat(o.minSelectivity, 'g', -1, 64)})
+	if o.crossval != "" {
+		run.Settings = append(run.Settings, provenance.Setting{Name: "crossval-by", Value: o.crossvalBy})
+	}
+	seen := map[string]bool{}
+	for _, p := range sheetFiles(sh) {
+		if !seen[p] {
+			seen[p] = true
+			run.Inputs = append(run.Inputs, hashed("", p))
+		}
+	}
+}
+
+// saveMethod writes --save-method when every compound passed acceptance
+// (a method is what a lab runs samples with: one whose checks failed is
+// not saved, and verify says so).
+func (o *verifyOptions) saveMethod(cmd *cobra.Command, run *provenance.Run, refPath string, set *reference.Set, mopt unmix.Options, vopt validate.VerifyOptions, v *validate.Verification, warn func(string)) error {
+	if o.method.save == "" {
+		return nil
+	}
+	for _, c := range v.Compounds {
+		if !c.Pass {
+			warn("method not saved to " + o.method.save + ": not every compound passed acceptance")
+			return nil
+		}
+	}
+	pathCM := 0.0
+	if o.method.m != nil {
+		pathCM = o.method.m.Fit.PathCM // verify has no --path-cm: the method's stays
+	}
+	acc := &method.Acceptance{RecoveryLoPct: vopt.Limits.RecoveryLo, RecoveryHiPct: vopt.Limits.RecoveryHi,
+		MaxRSDPct: vopt.Limits.MaxRSD, MinSelectivity: vopt.MinSelectivity}
+	return o.method.saveMethod(cmd, run, refPath, set, methodFit(&o.fit, mopt, o.scans.quantity, pathCM), acc)
 }
 
 // check reads the flags of verify into the model options, the quantity
@@ -182,34 +276,38 @@ func (o *verifyOptions) check() (unmix.Options, spectrum.Quantity, validate.Veri
 
 // load reads the reference set, the checks sheet and the blank (into
 // mopt), warning when there is no blank at all.
-func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q spectrum.Quantity, warn func(string)) (*reference.Set, *calibration.Sheet, error) {
-	if err := checkNotInput("-o", o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
-		return nil, nil, err
+func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q spectrum.Quantity, warn func(string)) (*reference.Set, *calibration.Sheet, string, error) {
+	if err := checkNotInput("-o", o.output.out, refPath, o.method.use, checksPath, o.crossval, o.scans.blank); err != nil {
+		return nil, nil, "", err
 	}
 	if err := o.review.check(o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
-		return nil, nil, err
+		return nil, nil, "", err
 	}
-	set, err := reference.Load(refPath)
+	if err := checkNotInput("--save-method", o.method.save, refPath, checksPath, o.crossval, o.scans.blank, o.output.file()); err != nil {
+		return nil, nil, "", err
+	}
+	set, err := o.method.loadSet(refPath)
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, "", err
 	}
 	sh, err := valReadCheckSheet(checksPath, calibration.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
 	if err != nil {
-		return nil, nil, err
+		return nil, nil, "", err
 	}
 	if err := checkNotInput("-o", o.output.out, sheetFiles(sh)...); err != nil {
-		return nil, nil, err
+		return nil, nil, "", err
 	}
 	if err := o.review.check(o.output.out, sheetFiles(sh)...); err != nil {
-		return nil, nil, err
+		return nil, nil, "", err
 	}
-	if mopt.Blank, _, err = o.scans.readBlank(q, warn); err != nil {
-		return nil, nil, err
+	var blankSum string
+	if mopt.Blank, blankSum, err = o.scans.readBlank(q, warn); err != nil {
+		return nil, nil, "", err
 	}
 	if mopt.Blank == nil && len(sh.Blanks) == 0 {
 		warn("no blank given and no blank rows in " + checksPath + ": check standards are solved as read, so the baseline terms must take up the solvent and cell")
 	}
-	return set, sh, nil
+	return set, sh, blankSum, nil
 }
 
 // crossValidate runs the cross-validation of --crossval (nil without it).

@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/csv"
 	"encoding/json"
 	"fmt"
 	"math"
@@ -261,7 +260,7 @@ func TestVerifyJSONAndCSV(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("csv: exit %d: %s", code, errOut)
 	}
-	recs, err := csv.NewReader(strings.NewReader(out)).ReadAll()
+	recs, err := commentedCSV(strings.NewReader(out)).ReadAll()
 	if err != nil {
 		t.Fatal(err)
 	}

@@ -11,8 +11,11 @@ import (
 
 	"github.com/spf13/cobra"
 
+	"huesolve/method"
+	"huesolve/provenance"
 	"huesolve/reference"
 	"huesolve/report"
+	"huesolve/unmix"
 	"huesolve/validate"
 )
 
@@ -20,6 +23,7 @@ import (
 type windowOptions struct {
 	fit        fitFlags
 	output     outputFlags
+	method     methodFlags
 	searchIn   string
 	step       float64
 	minWidth   float64
@@ -56,6 +60,10 @@ never raises the predicted error, so the advice then mostly weighs
 conditioning and saturation; in the unweighted fit (solve's default),
 strongly absorbing, noisy regions can cost precision.
 
+--save-method FILE saves the recommended window with --baseline, --weighted
+and --path-cm, bound to the reference set by its checksum, as a method file
+that solve and verify take with --method.
+
 Output: the best windows as a table with the figures of merit of the
 recommended window, or --format csv (every window tried) or json; -o FILE
 writes to a file (atomically). --plots DIR writes the worst predicted error
@@ -86,6 +94,7 @@ func newWindowCmd() *cobra.Command {
 	f.Float64Var(&o.noise, "noise", 0, "noise SD of a reading in absorbance, replacing the set's noise model (0: use the set's)")
 	f.Float64Var(&o.pathCM, "path-cm", 0, "sample path length, cm (0: the reference set's)")
 	f.IntVar(&o.top, "top", 10, "number of windows in the table")
+	o.method.addSave(f, "the recommended window with --baseline, --weighted and --path-cm")
 	return cmd
 }
 
@@ -96,6 +105,13 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 		return err
 	}
 	if err := checkNotInput("-o", o.output.out, refPath); err != nil {
+		return err
+	}
+	if err := checkNotInput("--save-method", o.method.save, refPath, o.output.file()); err != nil {
+		return err
+	}
+	run, err := newRun(cmd)
+	if err != nil {
 		return err
 	}
 	set, err := reference.Load(refPath)
@@ -125,9 +141,16 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	if err := ctx.Err(); err != nil {
 		return o.searchError(ctx, err)
 	}
-	rep := report.WindowReport{Reference: refPath, Recommended: [2]float64{best.Lo, best.Hi}, Advice: adv, Merits: merits}
+	o.record(run, set, refPath, opt)
+	rep := report.WindowReport{Format: report.FormatNameWindow, Schema: report.Schema, Run: run,
+		Reference: refPath, Recommended: [2]float64{best.Lo, best.Hi}, Advice: adv, Merits: merits}
 	err = o.output.write(cmd, "window advice", rep,
-		func(w io.Writer) error { return report.WriteWindowCSV(w, adv) },
+		func(w io.Writer) error {
+			if err := report.WriteRunComments(w, report.FormatNameWindow, run); err != nil {
+				return err
+			}
+			return report.WriteWindowCSV(w, adv)
+		},
 		func(w io.Writer) error { return report.WriteWindowTable(w, &rep, o.top) })
 	if err != nil {
 		return err
@@ -138,8 +161,48 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	if err != nil {
 		return err
 	}
-	fmt.Fprintf(errw, "huesolve: recommended window %g-%g nm (give --window %g-%g to solve and verify)\n", best.Lo, best.Hi, best.Lo, best.Hi)
+	if o.method.save != "" {
+		fit := method.Fit{WindowNM: &[2]float64{best.Lo, best.Hi}, Baseline: opt.Baseline.String(), Weighted: o.fit.weighted,
+			MaxShiftNM: unmix.DefaultMaxShiftNM, PathCM: o.pathCM}
+		if err := o.method.saveMethod(cmd, run, refPath, set, fit, nil); err != nil {
+			return err
+		}
+		fmt.Fprintf(errw, "huesolve: recommended window %g-%g nm (saved in %s: give solve and verify --method %s)\n", best.Lo, best.Hi, o.method.save, o.method.save)
+		return nil
+	}
+	fmt.Fprintf(errw, "huesolve: recommended window %g-%g nm (give --window %g-%g to solve and verify, or save it with --save-method FILE)\n", best.Lo, best.Hi, best.Lo, best.Hi)
 	return nil
+}
+
+// record fills the run's record of window: the reference set and the
+// settings of the search.
+func (o *windowOptions) record(run *provenance.Run, set *reference.Set, refPath string, opt validate.WindowOptions) {
+	g := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+	o.method.recordSet(run, set, refPath)
+	search := "the whole usable grid"
+	if o.searchIn != "" {
+		search = g(opt.Lo) + "-" + g(opt.Hi)
+	}
+	levels := "middle of each compound's calibrated range"
+	if len(o.levels) > 0 {
+		levels = strings.Join(o.levels, " ")
+	}
+	noise := "the reference set's noise model"
+	if o.noise > 0 {
+		noise = g(o.noise)
+	}
+	run.Settings = []provenance.Setting{
+		{Name: "baseline", Value: opt.Baseline.String()},
+		{Name: "weighted", Value: strconv.FormatBool(o.fit.weighted)},
+		{Name: "search", Value: search},
+		{Name: "step", Value: g(o.step)},
+		{Name: "min-width", Value: g(o.minWidth)},
+		{Name: "max-width", Value: g(o.maxWidth)},
+		{Name: "level", Value: levels},
+		{Name: "equivalent", Value: g(o.equivalent)},
+		{Name: "noise", Value: noise},
+		pathSetting(o.pathCM, set),
+	}
 }
 
 // searchError words an error of the window search for the command line:

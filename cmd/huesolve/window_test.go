@@ -1,7 +1,6 @@
 package main
 
 import (
-	"encoding/csv"
 	"encoding/json"
 	"math"
 	"os"
@@ -68,7 +67,7 @@ func TestWindowTableJSONCSV(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("csv: exit %d: %s", code, errOut)
 	}
-	recs, err := csv.NewReader(strings.NewReader(out)).ReadAll()
+	recs, err := commentedCSV(strings.NewReader(out)).ReadAll()
 	if err != nil {
 		t.Fatal(err)
 	}
@@ -197,7 +196,7 @@ func TestReadmeWindowCSVColumns(t *testing.T) {
 	if code != exitOK {
 		t.Fatalf("window: exit %d\n%s", code, errOut)
 	}
-	rows, err := csv.NewReader(strings.NewReader(out)).ReadAll()
+	rows, err := commentedCSV(strings.NewReader(out)).ReadAll()
 	if err != nil {
 		t.Fatal(err)
 	}
