@@ -12,7 +12,9 @@ import (
 	"huesolve/unmix"
 )
 
-// CSVWriter writes one row per sample. The columns are: sample, source;
+// CSVWriter writes one row per sample, after the comment lines of
+// WriteRunComments (format, schema and the layout's run record) and the
+// header. The columns are: sample, source;
 // for each compound NAME: NAME_conc, NAME_se, NAME_ci95_lo, NAME_ci95_hi,
 // NAME_lod, NAME_loq, NAME_unconstrained, NAME_unconstrained_se (the
 // ordinary least squares estimate and its standard error, given only

@@ -100,7 +100,7 @@ func TestCSVWriter(t *testing.T) {
 	}
 	// An empty run still has a header.
 	b.Reset()
-	if err := NewCSVWriter(&b, testLayout).Close(); err != nil || !strings.HasPrefix(b.String(), "sample,source,amber_conc") {
+	if err := NewCSVWriter(&b, testLayout).Close(); err != nil || !strings.HasPrefix(b.String(), "# format: huesolve-results\n# schema: 2\nsample,source,amber_conc") {
 		t.Errorf("empty CSV: %q, %v", b.String(), err)
 	}
 }

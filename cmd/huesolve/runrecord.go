@@ -82,10 +82,16 @@ func (mf *methodFlags) recordSet(run *provenance.Run, set *reference.Set, path s
 	}
 }
 
-// fitSettings are the settings of the fit in force, resolved: the window
-// the model uses, the ceiling it applies, the sample path.
-func fitSettings(fit *fitFlags, scans *scanFlags, set *reference.Set, opt unmix.Options, lo, hi float64) []provenance.Setting {
+// fitSettings are the settings of the fit in force, defaults resolved
+// (the window left to the whole grid is the grid's range, the ceiling
+// left to the set's is the set's), in the options' syntax: given as
+// options, they make the same fit.
+func fitSettings(fit *fitFlags, scans *scanFlags, set *reference.Set, opt unmix.Options) []provenance.Setting {
 	g := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+	lo, hi := opt.WindowLo, opt.WindowHi
+	if hi == 0 {
+		lo, hi = set.Grid[0], set.Grid[len(set.Grid)-1]
+	}
 	ceiling := fit.ceiling
 	if ceiling == 0 {
 		ceiling = set.Ceiling

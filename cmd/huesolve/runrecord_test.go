@@ -1,10 +1,19 @@
 package main
 
 import (
+	"crypto/sha256"
 	"encoding/csv"
+	"encoding/hex"
+	"encoding/json"
 	"io"
+	"os"
 	"regexp"
 	"strings"
+	"testing"
+
+	"huesolve/provenance"
+	"huesolve/reference"
+	"huesolve/report"
 )
 
 // commentedCSV reads a result CSV as its documentation tells readers to:
@@ -45,4 +54,127 @@ func maskTime(s string) string {
 func maskCommand(s string) string {
 	s = commandCSV.ReplaceAllString(s, "# command: COMMAND")
 	return commandJSON.ReplaceAllString(s, `"command": "COMMAND"`)
+}
+
+// runTwice runs args twice, with SOURCE_DATE_EPOCH a minute apart, and
+// returns the two -o files (out, in the current folder).
+func runTwice(t *testing.T, out string, args ...string) [2]string {
+	t.Helper()
+	var got [2]string
+	for i, epoch := range []string{"1700000000", "1700000060"} {
+		t.Setenv("SOURCE_DATE_EPOCH", epoch)
+		if _, errOut, code := run(t, append(args, "-o", out)...); code != exitOK && code != exitFlagged {
+			t.Fatalf("%v: exit %d\n%s", args, code, errOut)
+		}
+		b, err := os.ReadFile(out)
+		if err != nil {
+			t.Fatal(err)
+		}
+		got[i] = string(b)
+	}
+	return got
+}
+
+// TestRunsDifferOnlyInTime: two runs of the same command on the same
+// files write result files that differ in the time of the run only (the
+// record is host-independent: no folder the user did not type), for
+// solve, verify and window, CSV and JSON.
+func TestRunsDifferOnlyInTime(t *testing.T) {
+	dir := t.TempDir()
+	solveInputs(t, dir)
+	vdir, _, _ := valCase(t, 1)
+	for _, c := range []struct {
+		dir  string
+		args []string
+	}{
+		{dir, []string{"solve", "refs.json", "s1.csv", "wide.csv", "--samples", "sheet.csv"}},
+		{vdir, []string{"verify", "refs.json", "checks.csv", "--blank", "blank1.csv", "--crossval", "standards.csv"}},
+		{vdir, []string{"window", "refs.json", "--step", "50", "--min-width", "100"}},
+	} {
+		t.Chdir(c.dir)
+		for _, format := range []string{"csv", "json"} {
+			got := runTwice(t, "out."+format, append(c.args, "--format", format)...)
+			a, b := strings.Split(got[0], "\n"), strings.Split(got[1], "\n")
+			if len(a) != len(b) {
+				t.Fatalf("%s %s: %d and %d lines", c.args[0], format, len(a), len(b))
+			}
+			var diff []string
+			for i := range a {
+				if a[i] != b[i] {
+					diff = append(diff, a[i]+" | "+b[i])
+				}
+			}
+			// 1700000000 s is 2023-11-14T22:13:20Z (date -u -d @1700000000).
+			if len(diff) != 1 || !strings.Contains(diff[0], "time") ||
+				!strings.Contains(diff[0], "2023-11-14T22:13:20Z") || !strings.Contains(diff[0], "2023-11-14T22:14:20Z") {
+				t.Errorf("%s %s: lines that differ:\n%s", c.args[0], format, strings.Join(diff, "\n"))
+			}
+			if strings.Contains(got[0], c.dir) || strings.Contains(got[0], os.TempDir()) {
+				t.Errorf("%s %s: the record names the host's folder %s", c.args[0], format, c.dir)
+			}
+		}
+	}
+}
+
+// TestRunRecordContents: the record of a solve names the reference set
+// by its checksum, and the blank, the sample sheet and every input with
+// the SHA-256 of its bytes (checked here with crypto/sha256), and the
+// settings in force with defaults resolved.
+func TestRunRecordContents(t *testing.T) {
+	dir := t.TempDir()
+	solveInputs(t, dir)
+	t.Chdir(dir)
+	writeScans(t, "blank.csv", solveScan("blank", []float64{0, 0, 0, 0}, 0.01, 77))
+	out, errOut, code := run(t, "solve", "refs.json", "s1.csv", "wide.csv", "--blank", "blank.csv", "--samples", "sheet.csv",
+		"--format", "json", "--shift", "--ceiling", "1.5")
+	if code != exitOK && code != exitFlagged {
+		t.Fatalf("exit %d\n%s", code, errOut)
+	}
+	var doc struct {
+		Format string
+		Schema int
+		Run    provenance.Run
+	}
+	if err := json.Unmarshal([]byte(out), &doc); err != nil {
+		t.Fatal(err)
+	}
+	r := doc.Run
+	set, err := reference.Load("refs.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	sha := func(p string) string {
+		b, err := os.ReadFile(p)
+		if err != nil {
+			t.Fatal(err)
+		}
+		s := sha256.Sum256(b)
+		return hex.EncodeToString(s[:])
+	}
+	if doc.Format != "huesolve-results" || doc.Schema != report.Schema || r.Tool != "huesolve" || r.Version != version {
+		t.Errorf("format %s schema %d tool %s %s", doc.Format, doc.Schema, r.Tool, r.Version)
+	}
+	if r.Reference == nil || r.Reference.Path != "refs.json" || r.Reference.Checksum != set.Checksum {
+		t.Errorf("reference set %+v, want refs.json with checksum %s", r.Reference, set.Checksum)
+	}
+	if r.Blank == nil || r.Blank.SHA256 != sha("blank.csv") {
+		t.Errorf("blank %+v", r.Blank)
+	}
+	if len(r.Sheets) != 1 || r.Sheets[0].SHA256 != sha("sheet.csv") || r.Sheets[0].Role != "sample sheet" {
+		t.Errorf("sheets %+v", r.Sheets)
+	}
+	if len(r.Inputs) != 2 || r.Inputs[0].Path != "s1.csv" || r.Inputs[0].SHA256 != sha("s1.csv") || r.Inputs[1].SHA256 != sha("wide.csv") {
+		t.Errorf("inputs %+v", r.Inputs)
+	}
+	if strings.Join(r.Command, " ") != "huesolve solve refs.json s1.csv wide.csv --blank blank.csv --samples sheet.csv --format json --shift --ceiling 1.5" {
+		t.Errorf("command %q", r.Command)
+	}
+	var settings []string
+	for _, s := range r.Settings {
+		settings = append(settings, s.Name+"="+s.Value)
+	}
+	want := "window=400-700 baseline=offset weighted=false shift=true max-shift=3 ceiling=1.5 quantity=as each file says (absorbance when it does not) dilution=1 path-cm=1"
+	if got := strings.Join(settings, " "); got != want {
+		t.Errorf("settings\n%s\nwant\n%s", got, want)
+	}
 }

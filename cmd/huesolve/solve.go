@@ -346,8 +346,7 @@ func (j *solveJob) record(cmd *cobra.Command, o *solveOptions, set *reference.Se
 	if o.samples != "" {
 		run.Sheets = append(run.Sheets, hashed("sample sheet", o.samples))
 	}
-	w := j.model.Window()
-	run.Settings = fitSettings(&o.fit, &o.scans, set, mopt, w[0], w[len(w)-1])
+	run.Settings = fitSettings(&o.fit, &o.scans, set, mopt)
 	run.Settings = append(run.Settings,
 		provenance.Setting{Name: "dilution", Value: strconv.FormatFloat(o.dilution, 'g', -1, 64)},
 		pathSetting(o.pathCM, set))

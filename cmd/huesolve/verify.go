@@ -208,7 +208,7 @@ func (o *verifyOptions) record(run *provenance.Run, set *reference.Set, refPath,
 	if o.crossval != "" {
 		run.Sheets = append(run.Sheets, hashed("crossval sheet", o.crossval))
 	}
-	run.Settings = fitSettings(&o.fit, &o.scans, set, mopt, v.Merits.WindowLo, v.Merits.WindowHi)
+	run.Settings = fitSettings(&o.fit, &o.scans, set, mopt)
 	unit := o.scans.unit
 	if unit == "" {
 		unit = "as the sheet's headers say"

@@ -1,0 +1,66 @@
+package provenance
+
+import (
+	"encoding/json"
+	"strings"
+	"testing"
+)
+
+func TestFieldsOrder(t *testing.T) {
+	r := &Run{
+		Tool: "huesolve", Version: "1.0", Time: "2026-01-01T00:00:00Z",
+		Command:   Command("/usr/local/bin/huesolve", []string{"solve", "--method", "m.json", "lot 7.csv"}),
+		Method:    &File{Path: "m.json", Checksum: "aa"},
+		Reference: &File{Path: "refs.json", Checksum: "bb"},
+		Blank:     &File{Path: "blank.csv", SHA256: "cc"},
+		Sheets:    []File{{Role: "sample sheet", Path: "samples.csv", SHA256: "dd"}},
+		Settings:  Settings{{Name: "window", Value: "350-750"}, {Name: "baseline", Value: "offset"}},
+		Overrides: []Override{{Name: "baseline", Value: "linear", Method: "offset"}},
+		Inputs:    []File{{Path: "lot 7.csv", SHA256: "ee"}, {Path: "gone.csv", Note: "could not be read"}, {Path: "a\nb.csv", SHA256: "ff"}},
+	}
+	var got []string
+	for _, f := range r.Fields() {
+		got = append(got, f.Key+": "+f.Value)
+	}
+	want := []string{
+		"tool: huesolve", "version: 1.0", "time: 2026-01-01T00:00:00Z",
+		"command: huesolve solve --method m.json 'lot 7.csv'",
+		"method: m.json", "method_checksum: aa", "reference_set: refs.json", "reference_set_checksum: bb",
+		"blank: cc  blank.csv", "sample_sheet: dd  samples.csv",
+		"window: 350-750", "baseline: offset", "override: baseline linear (method: offset)",
+		"input: ee  lot 7.csv", "input: gone.csv (could not be read)", `input: ff  "a\nb.csv"`,
+	}
+	if strings.Join(got, "\n") != strings.Join(want, "\n") {
+		t.Errorf("fields:\n%s\nwant:\n%s", strings.Join(got, "\n"), strings.Join(want, "\n"))
+	}
+}
+
+func TestCommandLineQuoting(t *testing.T) {
+	got := CommandLine([]string{"huesolve", "solve", "it's.csv", "", "*.csv", "a-b_c/d.csv"})
+	if want := `huesolve solve 'it'\''s.csv' '' '*.csv' a-b_c/d.csv`; got != want {
+		t.Errorf("%s, want %s", got, want)
+	}
+}
+
+// TestSettingsJSON: settings are one object whose keys keep their order,
+// and read back in it.
+func TestSettingsJSON(t *testing.T) {
+	ss := Settings{{Name: "window", Value: "350-750"}, {Name: "baseline", Value: "offset"}, {Name: "ceiling", Value: "2"}}
+	b, err := json.Marshal(ss)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if want := `{"window":"350-750","baseline":"offset","ceiling":"2"}`; string(b) != want {
+		t.Errorf("%s, want %s", b, want)
+	}
+	var back Settings
+	if err := json.Unmarshal(b, &back); err != nil {
+		t.Fatal(err)
+	}
+	if len(back) != 3 || back[0] != ss[0] || back[2] != ss[2] {
+		t.Errorf("read back %v", back)
+	}
+	if err := json.Unmarshal([]byte(`["window"]`), &back); err == nil {
+		t.Error("an array read as settings")
+	}
+}
