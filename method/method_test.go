@@ -152,3 +152,28 @@ func TestLoadSetChecksum(t *testing.T) {
 		t.Errorf("a missing set: %v", err)
 	}
 }
+
+// FuzzDecode: any bytes give a method or an error, never a panic; a
+// method read back encodes to bytes that decode to the same checksum.
+func FuzzDecode(f *testing.F) {
+	b, err := sample().Encode()
+	if err != nil {
+		f.Fatal(err)
+	}
+	f.Add(b)
+	f.Add([]byte(`{"format": "huesolve-method", "schema": 1}`))
+	f.Add([]byte("\ufeff{}"))
+	f.Fuzz(func(t *testing.T, data []byte) {
+		m, err := Decode(data)
+		if err != nil {
+			return
+		}
+		again, err := m.Encode()
+		if err != nil {
+			t.Fatalf("a method that decoded does not encode: %v", err)
+		}
+		if back, err := Decode(again); err != nil || back.Checksum != m.Checksum {
+			t.Fatalf("re-encoded method: %v", err)
+		}
+	})
+}

@@ -162,6 +162,17 @@ func TestMethodRefusesOtherSet(t *testing.T) {
 	if _, err := os.Stat("out.csv"); !os.IsNotExist(err) {
 		t.Error("solve wrote results with the wrong reference set")
 	}
+	// verify saves no method when a compound fails acceptance.
+	_, errOut, code = run(t, "verify", "refs.json", "checks.csv", "--recovery", "99.999-100.001", "--save-method", "strict.json")
+	if code != exitFlagged || !strings.Contains(errOut, "method not saved to strict.json") {
+		t.Errorf("verify with failing compounds: exit %d\n%s", code, errOut)
+	}
+	if _, err := os.Stat("strict.json"); !os.IsNotExist(err) {
+		t.Error("a method was saved although compounds failed acceptance")
+	}
+	if _, errOut, code := run(t, "window", "refs.json", "--save-method", "-"); code != exitUsage || !strings.Contains(errOut, "--save-method -") {
+		t.Errorf("--save-method -: exit %d\n%s", code, errOut)
+	}
 	// Without --method, solve takes two arguments at least, as before.
 	if _, errOut, code := run(t, "solve", "refs.json"); code != exitUsage || !strings.Contains(errOut, "or --method FILE") {
 		t.Errorf("solve refs.json: exit %d\n%s", code, errOut)

@@ -172,6 +172,15 @@ func methodValues(m *method.Method) []provenance.Setting {
 	return s
 }
 
+// checkSave refuses --save-method - (a method is a file to keep, and
+// standard output may hold the results).
+func (mf *methodFlags) checkSave() error {
+	if mf.save == "-" {
+		return usagef("--save-method -: give a file name; a method is not written to standard output")
+	}
+	return nil
+}
+
 // apply reads the --method file, if one was given, and gives each option
 // of fs that it holds and the command line did not set the method's
 // value; an option set to another value is recorded as an override.

@@ -283,6 +283,9 @@ func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q 
 	if err := o.review.check(o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
 		return nil, nil, "", err
 	}
+	if err := o.method.checkSave(); err != nil {
+		return nil, nil, "", err
+	}
 	if err := checkNotInput("--save-method", o.method.save, refPath, checksPath, o.crossval, o.scans.blank, o.output.file()); err != nil {
 		return nil, nil, "", err
 	}

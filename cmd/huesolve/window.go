@@ -107,6 +107,9 @@ func runWindow(cmd *cobra.Command, o *windowOptions, refPath string) error {
 	if err := checkNotInput("-o", o.output.out, refPath); err != nil {
 		return err
 	}
+	if err := o.method.checkSave(); err != nil {
+		return err
+	}
 	if err := checkNotInput("--save-method", o.method.save, refPath, o.output.file()); err != nil {
 		return err
 	}
