@@ -178,3 +178,30 @@ func TestMethodRefusesOtherSet(t *testing.T) {
 		t.Errorf("solve refs.json: exit %d\n%s", code, errOut)
 	}
 }
+
+// TestReviewShowsMethod: the review report of solve --method names the
+// method and its checksum, an option given over it, and each input's
+// SHA-256, as the result files do.
+func TestReviewShowsMethod(t *testing.T) {
+	dir, _, _ := valCase(t, 1)
+	t.Chdir(dir)
+	if _, errOut, code := run(t, "window", "refs.json", "--step", "20", "--min-width", "100", "--save-method", "assay.json"); code != exitOK {
+		t.Fatalf("window: exit %d\n%s", code, errOut)
+	}
+	m, err := method.Load("assay.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, errOut, code := run(t, "solve", "--method", "assay.json", "chk-1.csv", "--baseline", "linear", "--report", "run.html"); code != exitOK && code != exitFlagged {
+		t.Fatalf("solve: exit %d\n%s", code, errOut)
+	}
+	page, err := os.ReadFile("run.html")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{"assay.json", m.Checksum, "--baseline linear (method: offset)", "chk-1.csv (SHA-256 " + sha256Hex(t, "chk-1.csv") + ")"} {
+		if !strings.Contains(string(page), want) {
+			t.Errorf("the review report lacks %q", want)
+		}
+	}
+}

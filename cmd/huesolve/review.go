@@ -17,6 +17,7 @@ import (
 
 	"huesolve/batch"
 	"huesolve/internal/atomicfile"
+	"huesolve/provenance"
 	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/unmix"
@@ -142,6 +143,33 @@ func (p *reviewProv) addFit(fit *fitFlags, set *reference.Set, window []float64)
 	p.add("Ceiling (A)", fmt.Sprintf("%g", ceiling))
 }
 
+// addRun adds what the run's record (the one the CSV and JSON files
+// carry) says beyond the fields above: the method with its checksum, the
+// options given over it, and each input file's SHA-256 after its path.
+func (p *reviewProv) addRun(run *provenance.Run) {
+	if run == nil {
+		return
+	}
+	sums := map[string]string{}
+	for _, in := range run.Inputs {
+		if in.SHA256 != "" {
+			sums[in.Path] = in.SHA256
+		}
+	}
+	for i, f := range p.fields {
+		if sum, ok := sums[f.Value]; ok && strings.HasPrefix(f.Label, "Input ") {
+			p.fields[i].Value += " (SHA-256 " + sum + ")"
+		}
+	}
+	if run.Method != nil {
+		p.add("Method", run.Method.Path)
+		p.add("Method checksum", run.Method.Checksum)
+	}
+	for _, o := range run.Overrides {
+		p.add("Option over the method", "--"+o.Name+" "+o.Value+" (method: "+o.Method+")")
+	}
+}
+
 func yesNo(b bool) string {
 	if b {
 		return "yes"
@@ -165,6 +193,7 @@ type solveReview struct {
 	flag reviewFlag
 	rev  *report.SolveReview
 	prov *reviewProv
+	run  *provenance.Run // the run's record, once made
 	set  *reference.Set
 	mopt unmix.Options
 }
@@ -195,6 +224,7 @@ func (s *solveReview) start(cmd *cobra.Command, o *solveOptions, refPath string,
 
 // write writes the report of the run.
 func (s *solveReview) write(errw io.Writer) error {
+	s.prov.addRun(s.run)
 	merits, err := validate.ModelMerits(s.set, s.mopt)
 	ctx := reviewContext("solve", s.prov, s.set, merits, err)
 	return s.flag.write(errw, func(w io.Writer) error { return s.rev.WriteHTML(w, ctx) })

@@ -178,3 +178,15 @@ func TestRunRecordContents(t *testing.T) {
 		t.Errorf("settings\n%s\nwant\n%s", got, want)
 	}
 }
+
+// sha256Hex is the SHA-256 of a file's bytes, computed with crypto/sha256
+// (independently of reference.FileSHA256).
+func sha256Hex(t *testing.T, path string) string {
+	t.Helper()
+	b, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := sha256.Sum256(b)
+	return hex.EncodeToString(s[:])
+}

@@ -352,6 +352,7 @@ func (j *solveJob) record(cmd *cobra.Command, o *solveOptions, set *reference.Se
 		pathSetting(o.pathCM, set))
 	run.Inputs = hashedInputs(j.inputs)
 	j.run = run
+	o.review.run = run
 	return nil
 }
 

@@ -186,6 +186,7 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	}
 	if rev != nil {
 		p := verifyProvenance(cmd, o, refPath, checksPath, set, v)
+		p.addRun(run)
 		ctx := reviewContext("verify", p, set, v.Merits, nil)
 		if err := o.review.write(cmd.ErrOrStderr(), func(w io.Writer) error { return rev.WriteHTML(w, &rep, ctx) }); err != nil {
 			return err
