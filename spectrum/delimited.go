@@ -76,11 +76,10 @@ type delimReader struct {
 	header     string // last text line before the block
 	headerLine int
 	firstLine  int // line of the first data row
-	lastLine   int
 
-	wl     []float64   // wavelengths in file order
-	chunks [][]float64 // values, row-major, ncols-1 per row, whole rows per chunk
-	dir    int         // +1 ascending, -1 descending, 0 unknown
+	wl   []float64  // wavelengths in file order
+	fill *tableFill // the values, column-major (see tablefill.go)
+	dir  int        // +1 ascending, -1 descending, 0 unknown
 }
 
 func (d *delimReader) errAt(line, col int, err error) error {
@@ -89,10 +88,20 @@ func (d *delimReader) errAt(line, col int, err error) error {
 
 func (d *delimReader) read(lr *lineReader) error {
 	started := false
-	var row []float64
+	defer func() {
+		if d.fill != nil {
+			d.fill.close()
+		}
+	}()
 	for {
 		line, ok, err := lr.next()
 		if err != nil {
+			if started {
+				// Rows before this line come first.
+				if e := d.fill.finish(); e != nil {
+					return e
+				}
+			}
 			return err
 		}
 		if !ok {
@@ -122,23 +131,17 @@ func (d *delimReader) read(lr *lineReader) error {
 			started = true
 			d.delim, d.ncols, d.firstLine = delim, ncols, n
 			d.allowComma = delim != ','
-			row = make([]float64, 0, ncols)
-			if h := d.opt.sizeHint; h > 0 && ncols > 1 {
-				rows := h/int64(len(line)+1) + 16
-				if est := rows * int64(ncols-1); est > 0 && est < 1<<28 {
-					d.chunks = [][]float64{make([]float64, 0, est+est/16)}
-					d.wl = make([]float64, 0, rows+rows/16)
-				}
-			}
+			d.fill = newTableFill(d, len(line))
+			d.wl = make([]float64, 0, d.fill.ld)
 		}
-		row, err = d.parseRow(t, n, row[:0])
-		if err != nil {
+		if err := d.fill.add(t, n); err != nil {
 			return err
 		}
-		if err := d.addRow(row, n); err != nil {
+	}
+	if started {
+		if err := d.fill.finish(); err != nil {
 			return err
 		}
-		d.lastLine = n
 	}
 	if !started {
 		switch {
@@ -233,8 +236,9 @@ func (d *delimReader) parseRow(t []byte, line int, row []float64) ([]float64, er
 	return row, nil
 }
 
-func (d *delimReader) addRow(row []float64, line int) error {
-	w := row[0]
+// addWavelength checks the wavelength w of the data row on line against
+// the rows before it and appends it.
+func (d *delimReader) addWavelength(w float64, line int) error {
 	if k := len(d.wl); k > 0 {
 		prev := d.wl[k-1]
 		switch {
@@ -253,20 +257,6 @@ func (d *delimReader) addRow(row []float64, line int) error {
 		}
 	}
 	d.wl = append(d.wl, w)
-	v := row[1:]
-	k := len(d.chunks) - 1
-	if k < 0 || len(d.chunks[k])+len(v) > cap(d.chunks[k]) {
-		// A new chunk, twice the last (at most maxChunk values, at
-		// least one row): rows are never copied as the table grows.
-		c := firstChunk
-		if k >= 0 {
-			c = min(2*cap(d.chunks[k]), maxChunk)
-		}
-		c = max(c/len(v), 1) * len(v)
-		d.chunks = append(d.chunks, make([]float64, 0, c))
-		k++
-	}
-	d.chunks[k] = append(d.chunks[k], v...)
 	return nil
 }
 
@@ -281,13 +271,13 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 	if err := d.convertUnit(unit); err != nil {
 		return nil, err
 	}
-	wl, vals := d.columnMajor(nr, ns)
+	wl, vals, ld := d.columnMajor(nr, ns)
 	if err := checkGrid(wl); err != nil {
 		// Only unit conversion can get here (rounding collapsed points).
 		return nil, d.errAt(d.firstLine, 1, err)
 	}
 	qs, names := d.quantities(cells, cellsOK, ns)
-	return d.spectra(wl, vals, qs, names), nil
+	return d.spectra(wl, vals, ld, qs, names), nil
 }
 
 // convertUnit turns the wavelength column, in unit as the first header
@@ -311,30 +301,26 @@ func (d *delimReader) convertUnit(unit int) error {
 	return nil
 }
 
-// columnMajor moves the values into one column-major backing array (nr
-// rows, ns spectra), ascending in wavelength, and returns the
-// wavelengths and that array.
-func (d *delimReader) columnMajor(nr, ns int) (wl, vals []float64) {
-	wl = d.wl
-	if ns == 1 && len(d.chunks) == 1 {
-		vals = d.chunks[0][:nr:nr]
-	} else {
-		vals = make([]float64, nr*ns)
-		r0 := 0
-		for _, c := range d.chunks {
-			r := len(c) / ns
-			transpose(vals[r0:], c, r, ns, nr)
-			r0 += r
+// columnMajor returns the wavelengths, ascending, and the column-major
+// store of the values (nr rows, ns spectra; spectrum j at vals[j*ld:]),
+// reversed with them. A store whose estimate of the rows was far off is
+// compacted (ld = nr).
+func (d *delimReader) columnMajor(nr, ns int) (wl, vals []float64, ld int) {
+	wl, vals, ld = d.wl, d.fill.vals, d.fill.ld
+	d.fill = nil
+	if ld-nr > nr/8 {
+		for j := 0; j < ns; j++ {
+			copy(vals[j*nr:(j+1)*nr], vals[j*ld:j*ld+nr])
 		}
+		vals, ld = vals[:nr*ns:nr*ns], nr
 	}
-	d.chunks = nil
 	if d.dir < 0 {
 		reverse(wl)
 		for j := 0; j < ns; j++ {
-			reverse(vals[j*nr : (j+1)*nr])
+			reverse(vals[j*ld : j*ld+nr])
 		}
 	}
-	return wl[:nr:nr], vals
+	return wl[:nr:nr], vals, ld
 }
 
 // quantities reads the quantity and name of each of the ns spectrum
@@ -411,7 +397,7 @@ func fillAgreed(qs []Quantity) {
 
 // spectra makes one spectrum per column, settles each quantity against
 // the requested one and gives the warnings.
-func (d *delimReader) spectra(wl, vals []float64, qs []Quantity, names []string) []*Spectrum {
+func (d *delimReader) spectra(wl, vals []float64, ld int, qs []Quantity, names []string) []*Spectrum {
 	nr, ns := len(wl), len(qs)
 	base := filepath.Base(d.file)
 	if d.file == "" {
@@ -450,7 +436,7 @@ func (d *delimReader) spectra(wl, vals []float64, qs []Quantity, names []string)
 		s := &Spectrum{
 			Name:        name,
 			Wavelengths: wl,
-			Values:      vals[j*nr : (j+1)*nr : (j+1)*nr],
+			Values:      vals[j*ld : j*ld+nr : j*ld+nr],
 			Quantity:    q,
 			Source:      Source{File: d.file, Column: j + 2, Line: d.firstLine},
 		}
@@ -867,31 +853,6 @@ func wavelengthUnit(cell string) int {
 		return unitMicrometre
 	}
 	return unitNM
-}
-
-// Sizes of the chunks that hold values while a table is read.
-const (
-	firstChunk = 512     // values in the first chunk
-	maxChunk   = 1 << 20 // most values in one chunk (8 MiB)
-)
-
-// transpose writes the nr x nc row-major src into dst as column-major
-// with column stride ld (dst[j*ld+i] = src[i*nc+j]), in tiles for the
-// cache.
-func transpose(dst, src []float64, nr, nc, ld int) {
-	const tile = 32
-	for i0 := 0; i0 < nr; i0 += tile {
-		i1 := min(i0+tile, nr)
-		for j0 := 0; j0 < nc; j0 += tile {
-			j1 := min(j0+tile, nc)
-			for i := i0; i < i1; i++ {
-				r := src[i*nc : i*nc+nc]
-				for j := j0; j < j1; j++ {
-					dst[j*ld+i] = r[j]
-				}
-			}
-		}
-	}
 }
 
 func reverse(x []float64) {

@@ -67,8 +67,14 @@ type ReadOptions struct {
 	Context context.Context
 
 	// sizeHint is the input size in bytes when known (ReadFile sets it);
-	// it only sizes buffers.
+	// it only sizes buffers and chooses parallel reading.
 	sizeHint int64
+	// workers is how many goroutines parse a delimited table's rows: 0
+	// chooses (all cores for a large file), 1 is the serial code alone.
+	// Tests set it and blockRows to compare parallel and serial reading.
+	workers int
+	// blockRows, when positive, is the rows per block (tablefill.go).
+	blockRows int
 }
 
 // Limits that keep the memory a reader uses bounded by what the numbers
