@@ -55,6 +55,9 @@ const whitespace = ' '
 // over-long line or too many columns) is a *ParseError naming file, line
 // and (table) column. No partial result is returned with an error.
 func ReadDelimited(r io.Reader, file string, opt ReadOptions) ([]*Spectrum, error) {
+	if l, ok := r.(interface{ Len() int }); ok && opt.sizeHint == 0 {
+		opt.sizeHint = int64(l.Len()) // a bytes.Reader, say: sizes the store
+	}
 	d := &delimReader{file: file, opt: &opt, maxCols: opt.maxCols()}
 	lr := newLineReader(r, file, opt.maxLine(), opt.sizeHint)
 	if err := d.read(lr); err != nil {

@@ -66,6 +66,10 @@ func (b *rowBlock) row(i int) []byte {
 type tableFill struct {
 	d       *delimReader
 	ns      int // spectra (columns after the wavelength)
+	lineLen int // length of the first data row, to size block text
+	// direct: rows are parsed as they come, straight into the store
+	// (serial reading of a narrow table, where a block buys nothing).
+	direct  bool
 	brows   int // rows per block
 	align   int // multiple of the leading dimension
 	vals    []float64
@@ -81,7 +85,7 @@ type tableFill struct {
 // row's length (lineLen bytes).
 func newTableFill(d *delimReader, lineLen int) *tableFill {
 	nc := d.ncols
-	f := &tableFill{d: d, ns: nc - 1, align: 1}
+	f := &tableFill{d: d, ns: nc - 1, align: 1, lineLen: lineLen}
 	f.brows = max(blockBytes/(8*nc), 1)
 	hint := d.opt.sizeHint
 	rows := int64(firstRows)
@@ -109,6 +113,10 @@ func newTableFill(d *delimReader, lineLen int) *tableFill {
 	ld := roundUp(int(min(rows, int64(maxStoreValues/max(f.ns, 1)))), f.align)
 	f.ld = max(ld, f.align)
 	f.vals = hugepage.Float64s(f.ld * f.ns)
+	if workers == 1 && f.ns < blockAlign && d.opt.blockRows == 0 {
+		f.direct = true
+		f.brows = 1
+	}
 	f.cur = f.newBlock()
 	if workers > 1 {
 		f.work = make(chan *rowBlock)
@@ -130,6 +138,7 @@ func roundUp(n, m int) int { return (n + m - 1) / m * m }
 
 func (f *tableFill) newBlock() *rowBlock {
 	return &rowBlock{
+		text:  make([]byte, 0, f.brows*(f.lineLen+1)+64),
 		ends:  make([]int, 0, f.brows),
 		lines: make([]int, 0, f.brows),
 		stage: make([]float64, f.brows*f.d.ncols),
@@ -147,6 +156,9 @@ func (f *tableFill) close() {
 
 // add takes the trimmed text of the data row on line n.
 func (f *tableFill) add(t []byte, n int) error {
+	if f.direct {
+		return f.addDirect(t, n)
+	}
 	b := f.cur
 	b.text = append(b.text, t...)
 	b.ends = append(b.ends, len(b.text))
@@ -161,7 +173,7 @@ func (f *tableFill) add(t []byte, n int) error {
 // starts a new one.
 func (f *tableFill) flush() error {
 	b := f.cur
-	if b.rows() == 0 {
+	if f.direct || b.rows() == 0 {
 		return nil
 	}
 	if f.rows+b.rows() > f.ld {
@@ -190,6 +202,26 @@ func (f *tableFill) flush() error {
 	f.work <- b
 	f.cur = f.free[len(f.free)-1]
 	f.free = f.free[:len(f.free)-1]
+	return nil
+}
+
+// addDirect parses the data row t on line n into the store.
+func (f *tableFill) addDirect(t []byte, n int) error {
+	d, nc := f.d, f.d.ncols
+	row, err := d.parseRow(t, n, f.cur.stage[:0:nc])
+	if err != nil {
+		return err
+	}
+	if err := d.addWavelength(row[0], n); err != nil {
+		return err
+	}
+	if f.rows == f.ld {
+		f.grow(f.rows + 1)
+	}
+	for j, v := range row[1:] {
+		f.vals[j*f.ld+f.rows] = v
+	}
+	f.rows++
 	return nil
 }
 
