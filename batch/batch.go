@@ -15,6 +15,7 @@ import (
 	"slices"
 	"strings"
 	"sync"
+	"sync/atomic"
 
 	"huesolve/internal/pkgerr"
 	"huesolve/spectrum"
@@ -253,10 +254,17 @@ type run struct {
 	ctx     context.Context
 	cancel  context.CancelFunc
 
-	ready  []chan fileRead // per input, its file once read
-	tokens chan struct{}   // files read ahead and not yet dispatched
-	known  chan int        // samples found in each file, for Progress
-	jobs   chan job
+	// ready holds the files read ahead: input i in ready[i%len(ready)].
+	// There are as many slots as tokens, and tokens are taken and given
+	// back in input order, so a slot is free again before the input
+	// that needs it next gets its token; the state stays the same size
+	// whatever the number of inputs.
+	ready  []chan fileRead
+	tokens chan struct{} // files read ahead and not yet dispatched
+	// knownN and knownF count, for Progress, the samples found in the
+	// files dispatched and those files.
+	knownN, knownF atomic.Int64
+	jobs           chan job
 	// total and complete are written by the dispatcher before it closes
 	// jobs: the samples numbered, and whether every input was dispatched.
 	total    int
@@ -293,7 +301,6 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 	r := &run{b: b, inputs: inputs, workers: workers, ctx: ctx, cancel: cancel}
 	r.pool.New = func() any { return new(slot) }
 	r.jobs = make(chan job, 2*workers)
-	r.known = make(chan int, len(inputs)+1)
 
 	var wg sync.WaitGroup
 	r.readAhead(&wg)
@@ -322,11 +329,11 @@ func (r *run) readAhead(wg *sync.WaitGroup) {
 	if read == nil {
 		read = spectrum.ReadFile
 	}
-	r.ready = make([]chan fileRead, len(r.inputs))
+	lookahead := r.workers + 1
+	r.ready = make([]chan fileRead, lookahead)
 	for i := range r.ready {
 		r.ready[i] = make(chan fileRead, 1)
 	}
-	lookahead := r.workers + 1
 	r.tokens = make(chan struct{}, lookahead)
 	files := make(chan int)
 	go func() {
@@ -348,20 +355,19 @@ func (r *run) readAhead(wg *sync.WaitGroup) {
 		wg.Go(func() {
 			for i := range files {
 				in := r.inputs[i]
+				slot := r.ready[i%len(r.ready)]
 				if in.Err != nil {
-					r.ready[i] <- fileRead{err: in.Err}
+					slot <- fileRead{err: in.Err}
 					continue
 				}
 				ss, err := read(in.Path, r.b.Read)
 				if err == nil && len(ss) == 0 {
 					err = fmt.Errorf("%s: %w", in.Path, spectrum.ErrEmpty)
 				}
-				r.ready[i] <- fileRead{ss: ss, err: err}
+				slot <- fileRead{ss: ss, err: err}
 			}
 		})
 	}
-	r.jobs = make(chan job, 2*r.workers)
-	r.known = make(chan int, len(r.inputs)+1)
 }
 
 // dispatch is stage 2: it hands out samples in order with sequence
@@ -374,7 +380,7 @@ func (r *run) dispatch() {
 	for i := range r.inputs {
 		var fr fileRead
 		select {
-		case fr = <-r.ready[i]:
+		case fr = <-r.ready[i%len(r.ready)]:
 		case <-r.ctx.Done():
 			return
 		}
@@ -391,8 +397,10 @@ func (r *run) dispatch() {
 // numbering them from seq; it returns the next number, and false when
 // the run was cancelled.
 func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
+	// Samples before files: see emitter.progress.
 	if fr.err != nil {
-		r.known <- 1
+		r.knownN.Add(1)
+		r.knownF.Add(1)
 		select {
 		case r.jobs <- job{seq: seq, file: file, err: fr.err}:
 		case <-r.ctx.Done():
@@ -400,7 +408,8 @@ func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
 		}
 		return seq + 1, true
 	}
-	r.known <- len(fr.ss)
+	r.knownN.Add(int64(len(fr.ss)))
+	r.knownF.Add(1)
 	size := min(maxChunk, max(1, len(fr.ss)/(4*r.workers)))
 	for lo := 0; lo < len(fr.ss); lo += size {
 		hi := min(lo+size, len(fr.ss))
@@ -486,12 +495,10 @@ func (r *run) emitInOrder(emit func(Outcome) error) (Summary, int, error) {
 // emitter is the state of stage 4.
 type emitter struct {
 	*run
-	emit   func(Outcome) error
-	sum    Summary
-	next   int   // sequence number of the next outcome to emit
-	knownN int   // samples known so far
-	knownF int   // files whose samples are counted in knownN
-	err    error // emit's error
+	emit func(Outcome) error
+	sum  Summary
+	next int   // sequence number of the next outcome to emit
+	err  error // emit's error
 }
 
 // chunk emits the outcomes of one chunk until the run is cancelled or
@@ -522,20 +529,14 @@ func (e *emitter) chunk(chunk []Outcome) {
 // progress counts the samples the dispatcher found so far and calls
 // Progress.
 func (e *emitter) progress() {
-drain:
-	for {
-		select {
-		case k := <-e.known:
-			e.knownN += k
-			e.knownF++
-		default:
-			break drain
-		}
-	}
+	// Files first: a file counted in knownF always has its samples in
+	// knownN already, so the total never counts a file twice.
+	files := int(e.knownF.Load())
+	samples := int(e.knownN.Load())
 	// Each file not read yet counts as one sample, so that for a folder
 	// of one-scan files the total is known from the start rather than
 	// growing as files are read.
-	e.b.Progress(e.next, e.knownN+len(e.inputs)-e.knownF)
+	e.b.Progress(e.next, samples+len(e.inputs)-files)
 }
 
 // solveOne solves s into a pooled Result and runs the Each hook.

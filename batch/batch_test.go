@@ -8,6 +8,7 @@ import (
 	"path/filepath"
 	"reflect"
 	"strings"
+	"sync"
 	"syscall"
 	"testing"
 
@@ -307,5 +308,26 @@ func TestProgressTotalKnown(t *testing.T) {
 	}
 	if last := totals[len(totals)-1]; last != 80 {
 		t.Errorf("last total %d, want 80", last)
+	}
+}
+
+// TestReadAheadStateBounded: the read-ahead keeps one slot per file it
+// may hold (workers + 1), not one per input, so a folder of 20,000 files
+// costs no more state than one of ten (before, one channel per input).
+func TestReadAheadStateBounded(t *testing.T) {
+	for _, n := range []int{10, 20000} {
+		inputs := make([]Input, n)
+		for i := range inputs {
+			inputs[i] = Input{Path: fmt.Sprintf("s%d.csv", i), Err: errNoMatch}
+		}
+		ctx, cancel := context.WithCancel(context.Background())
+		r := &run{b: &Batch{}, inputs: inputs, workers: 2, ctx: ctx, cancel: cancel}
+		var wg sync.WaitGroup
+		r.readAhead(&wg)
+		if len(r.ready) != 3 {
+			t.Errorf("%d inputs: %d read-ahead slots, want 3", n, len(r.ready))
+		}
+		cancel()
+		wg.Wait()
 	}
 }
