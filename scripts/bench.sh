@@ -7,9 +7,14 @@
 # reference set calibrated from generated standards; a wide table of
 # 20,000 scans x 401 wavelengths; folders of 1,000 and 5,000 two-column
 # files), then times `huesolve solve` on each with /usr/bin/time -v, next
-# to `huesolve solve --check-only` (reading and checking only), and prints
-# spectra per second and peak memory. Each run is repeated REPEAT times
-# (default 3); the median time and the largest peak memory are shown.
+# to `huesolve solve --check-only` (reading and checking only) measured in
+# the same run as the reference step, and prints spectra per second and
+# peak memory. Each run is repeated REPEAT times (default 5); the fastest
+# time and the largest peak memory are shown. The machine (cores, CPU
+# model) heads the table. When Debian's python3-numpy and python3-scipy
+# are installed, scripts/peer/numpy_pipeline.py (a NumPy/SciPy yardstick,
+# benchmark only) is timed on the wide table too; otherwise a note says
+# it was skipped.
 # Environment: WIDE (20000), FILES ("1000 5000"), JOBS (solve -j; default
 # all cores), REPEAT.
 set -euo pipefail
@@ -18,7 +23,7 @@ cd "$(dirname "$0")/.."
 out=${1:-bench-out}
 wide=${WIDE:-20000}
 files=${FILES:-"1000 5000"}
-repeat=${REPEAT:-3}
+repeat=${REPEAT:-5}
 jobs=${JOBS:-}
 points=401 # wavelengths per scan (350-750 nm at 1 nm, set by benchgen)
 
@@ -60,15 +65,22 @@ jflag=()
 [ -n "$jobs" ] && jflag=(-j "$jobs")
 
 # measure LABEL ARGS...: runs huesolve ARGS REPEAT times under
-# /usr/bin/time -v; sets secs (median wall time) and rss_kb (largest peak
+# /usr/bin/time -v; sets secs (fastest wall time) and rss_kb (largest peak
 # resident set). Exit codes 0 and 4 (some samples flagged) count as done.
 measure() {
+	local label=$1
+	shift
+	measure_cmd "$label" "$bin" "$@"
+}
+
+# measure_cmd LABEL COMMAND...: as measure, for any command.
+measure_cmd() {
 	local label=$1
 	shift
 	local times=() rss=0 i code
 	for ((i = 0; i < repeat; i++)); do
 		code=0
-		/usr/bin/time -v -o "$out/time.txt" "$bin" "$@" >/dev/null 2>"$out/run.log" || code=$?
+		/usr/bin/time -v -o "$out/time.txt" "$@" >/dev/null 2>"$out/run.log" || code=$?
 		if [ "$code" != 0 ] && [ "$code" != 4 ]; then
 			echo "bench.sh: $label: huesolve exit $code" >&2
 			cat "$out/run.log" >&2
@@ -79,7 +91,7 @@ measure() {
 		r=$(awk -F': ' '/Maximum resident set size/ {print $2}' "$out/time.txt")
 		((r > rss)) && rss=$r
 	done
-	secs=$(printf '%s\n' "${times[@]}" | sort -g | awk '{a[NR] = $1} END {print a[int((NR + 1) / 2)]}')
+	secs=$(printf '%s\n' "${times[@]}" | sort -g | head -1)
 	rss_kb=$rss
 }
 
@@ -99,18 +111,44 @@ row() {
 }
 
 row "wide table" "$wide" "$out/wide.csv"
+row "wide --weighted" "$wide" "$out/wide.csv" --weighted
+row "wide --shift" "$wide" "$out/wide.csv" --shift
 for n in $files; do
 	row "folder of $n files" "$n" "$out/files-$n"
 done
 
+# The NumPy/SciPy yardstick on the wide table, beside the same run's
+# check-only time of huesolve on it.
+peer=()
+if /usr/bin/python3 -c 'import numpy, scipy' 2>/dev/null; then
+	measure "wide table (check only)" solve "$out/refs.json" "$out/wide.csv" --check-only "${jflag[@]}"
+	ref=$secs
+	for mode in plain best; do
+		measure_cmd "numpy $mode" /usr/bin/python3 scripts/peer/numpy_pipeline.py "$mode" "$out/refs.json" "$out/wide.csv" "$out/peer.csv"
+		peer+=("$(printf '%-22s %7d %9.2f %9.2f %8.0f' "numpy/scipy $mode" "$wide" "$ref" "$secs" "$((rss_kb / 1024))")")
+	done
+fi
+
+cpu=$(awk -F': ' '/^model name/ {print $2; exit}' /proc/cpuinfo 2>/dev/null || true)
+[ -n "$cpu" ] || cpu=$(sysctl -n machdep.cpu.brand_string 2>/dev/null || echo "CPU model unknown")
 echo
-echo "huesolve solve on $(nproc) cores ($(go env GOOS)/$(go env GOARCH)), median of $repeat runs; memory is peak RSS"
+echo "machine: $(nproc) cores, $cpu ($(go env GOOS)/$(go env GOARCH), $(go env GOVERSION))"
+echo "huesolve solve, fastest of $repeat runs; memory is peak RSS"
 printf '%-22s %7s %9s %9s %8s %9s %9s %8s %7s %9s %8s\n' "" "scans" "check s" "check/s" "check MB" "solve s" "solve/s" "solve MB" "ratio" "values MB" "MB/vals"
 printf '%s\n' "${rows[@]}"
 cat <<'TXT'
 
 check: solve --check-only (read and check, no fit); solve: the full run writing CSV.
 ratio: solve time over check time. values MB: the parsed numbers (scans x 401 x 8 bytes);
-MB/vals: solve's peak memory over that. Targets on 2 cores: wide table ratio <= 1.5 and
-MB/vals < 3; folders >= 5,000 scans/s with memory flat in the number of files.
+MB/vals: solve's peak memory over that. Targets on 2 cores: wide table ratio <= 1.25 and
+MB/vals <= 1.4 for the check; --weighted <= 2x and --shift <= 1.5x the default solve;
+folders of 20,000 files <= 0.6 s with memory flat in the number of files.
 TXT
+echo
+if [ ${#peer[@]} -gt 0 ]; then
+	printf '%-22s %7s %9s %9s %8s\n' "peer (same run)" "scans" "check s" "peer s" "peer MB"
+	printf '%s\n' "${peer[@]}"
+	echo "check: huesolve solve --check-only on the same table, measured just before the peer."
+else
+	echo "peer: skipped (needs Debian's python3-numpy and python3-scipy for scripts/peer/numpy_pipeline.py)"
+fi
