@@ -88,8 +88,11 @@ or per sample with --samples SHEET: delimited text with a header row naming
 the columns sample, dilution and/or path_cm (note or comment columns are
 ignored, any other is refused); "sample" matches a scan's name (its column
 header in a wide table) or its file name with or without extension. Empty
-cells and samples not in the sheet take the flag values; solve names those
-samples, and the sheet rows that matched no sample.
+cells take the flag values. A sample the sheet does not name takes them
+too and is flagged "nosheet" (a warning flag: exit code 4), with the
+sheet row it was likely meant to match (M7 for M07); sheet rows that
+matched no sample are named. The table shows each sample's dilution
+and path whenever one differs from 1 or the reference path.
 
 For each sample: concentration, standard error and 95 % interval of every
 compound, its detection and quantitation limits (3.3 and 10 times the noise

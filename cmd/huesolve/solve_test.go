@@ -120,7 +120,7 @@ func solveInputs(t *testing.T, dir string) {
 		solveScan("W3-d10", []float64{0.8, 0.3, 0.2, 0.05}, 0, 4),
 		solveScan("W4", []float64{0.02, 4, 6, 2}, 0.005, 5),
 	)
-	if err := os.WriteFile(filepath.Join(dir, "sheet.csv"), []byte("sample,dilution,path_cm\nW3-d10,10,\ns1,,0.5\n"), 0o644); err != nil {
+	if err := os.WriteFile(filepath.Join(dir, "sheet.csv"), []byte("sample,dilution,path_cm\nW1,,\nW2,,\nW3-d10,10,\nW4,,\ns1,,0.5\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
 }

@@ -79,8 +79,15 @@ func sheetNotes(use *unmix.SheetUse, sheet *unmix.SampleSheet, warn func(string)
 		if pathCM > 0 {
 			path = fmt.Sprintf("--path-cm %g", pathCM)
 		}
-		warn(fmt.Sprintf("%d sample(s) not in the sample sheet %s took --dilution %g and %s: %s",
-			len(defaulted), sheet.File, dilution, path, nameList(defaulted)))
+		named := make([]string, len(defaulted))
+		for i, n := range defaulted {
+			named[i] = n
+			if near, ok := sheet.Near(n); ok {
+				named[i] = fmt.Sprintf("%s (the sheet has %s, line %d)", n, near, sheet.Line(near))
+			}
+		}
+		warn(fmt.Sprintf("%d sample(s) not in the sample sheet %s took --dilution %g and %s and are flagged %s: %s",
+			len(defaulted), sheet.File, dilution, path, unmix.FlagNotInSheet, nameList(named)))
 	}
 	var unused []string
 	for _, n := range use.Unused() {

@@ -5,6 +5,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strconv"
 	"strings"
 	"testing"
@@ -35,9 +36,9 @@ func TestSolveSheetNotes(t *testing.T) {
 	if err := os.WriteFile(typo, []byte("sample,dilution,path_cm\nS10,4,0.5\nS1O,2,1\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	_, errOut, code = run(t, "solve", ref, scan, "--samples", typo)
+	out, errOut, code = run(t, "solve", ref, scan, "--samples", typo)
 	for _, want := range []string{
-		"1 sample(s) not in the sample sheet " + typo + " took --dilution 1 and the reference set's path: S1\n",
+		"1 sample(s) not in the sample sheet " + typo + " took --dilution 1 and the reference set's path and are flagged nosheet: S1\n",
 		"1 row(s) of the sample sheet " + typo + " matched no sample: S1O (line 3)\n",
 		"no --blank given",
 	} {
@@ -45,8 +46,28 @@ func TestSolveSheetNotes(t *testing.T) {
 			t.Errorf("stderr lacks %q:\n%s", want, errOut)
 		}
 	}
-	if code != exitOK {
-		t.Errorf("exit %d", code)
+	// The sample that took the defaults is flagged in the table, which
+	// shows every sample's dilution and path as one differs; the run is
+	// "flagged", not a clean exit 0.
+	if code != exitFlagged || !regexp.MustCompile(`S1 .*│ 1 +│ 1 +│ nosheet`).MatchString(out) ||
+		!regexp.MustCompile(`S10 .*│ 4 +│ 0.5 +│`).MatchString(out) || !strings.Contains(out, "nosheet   ! not in the sample sheet") {
+		t.Errorf("table: exit %d\n%s", code, out)
+	}
+	for _, f := range []string{"csv", "json"} {
+		out, _, code = run(t, "solve", ref, scan, "--samples", typo, "--format", f)
+		if code != exitFlagged || strings.Count(out, "nosheet") != 1 {
+			t.Errorf("%s: exit %d, want one nosheet flag:\n%s", f, code, out)
+		}
+	}
+	// A row that differs from the scan's name only in a leading zero is
+	// named as the likely match, but not used.
+	near := filepath.Join(dir, "ss-near.csv")
+	if err := os.WriteFile(near, []byte("sample,dilution\nS10,4\nS01,2\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	_, errOut, code = run(t, "solve", ref, scan, "--samples", near)
+	if code != exitFlagged || !strings.Contains(errOut, "flagged nosheet: S1 (the sheet has S01, line 3)") {
+		t.Errorf("near match: exit %d\n%s", code, errOut)
 	}
 	// --check-only looks the sheet up too.
 	_, errOut, _ = run(t, "solve", ref, scan, "--samples", typo, "--check-only")
