@@ -440,6 +440,9 @@ func (d *delimReader) spectra(wl, vals []float64, qs []Quantity, names []string)
 		if names != nil {
 			name = strings.Join(strings.Fields(names[j+1]), " ")
 		}
+		if GenericName(name) {
+			name = ""
+		}
 		if name == "" {
 			if ns == 1 {
 				name = strings.TrimSuffix(base, filepath.Ext(base))
@@ -902,3 +905,39 @@ func reverse(x []float64) {
 
 // fmtG formats a float in the shortest form that reads back exactly.
 func fmtG(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+// genericNames are header words that say what a column holds, not which
+// sample it is: a value column headed by one of them (case ignored, a
+// trailing unit in brackets ignored) is named after the file instead.
+// Lone letters are not among them: in a wide table they name samples
+// (columns a, b, c), and a two-column file's "A" is a quantity word.
+var genericNames = map[string]bool{
+	"sample": true, "samples": true, "sample name": true, "name": true,
+	"intensity": true, "value": true, "values": true, "y": true, "x": true,
+	"data": true, "signal": true, "reading": true, "readings": true,
+	"measurement": true, "response": true, "spectrum": true, "scan": true,
+	"counts": true, "ordinate": true, "result": true,
+	"absorbance": true, "abs": true, "od": true, "transmittance": true, "%t": true,
+	"wavelength": true, "wavelengths": true, "lambda": true, "λ": true, "nm": true,
+}
+
+// GenericName reports whether a value column's header cell names no
+// sample: empty, or one of genericNames ("Sample", "Intensity", "Value",
+// "Wavelength (nm)", "y", ...), case ignored and a trailing unit in
+// brackets ("(nm)", "[a.u.]") ignored. Such a column of a two-column
+// file takes the file's stem as its name, and one of a wide table
+// "file#colN".
+func GenericName(cell string) bool {
+	c := strings.ToLower(strings.TrimSpace(cell))
+	if n := len(c); n > 0 && (c[n-1] == ')' || c[n-1] == ']') {
+		open := "("
+		if c[n-1] == ']' {
+			open = "["
+		}
+		if k := strings.LastIndex(c, open); k > 0 {
+			c = strings.TrimSpace(c[:k])
+		}
+	}
+	c = strings.Join(strings.Fields(c), " ")
+	return c == "" || genericNames[c]
+}

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"path/filepath"
 	"strconv"
 	"strings"
 )
@@ -403,6 +404,11 @@ func (j *jcampReader) spectrum() (*Spectrum, error) {
 	name := ""
 	if rec := j.labels["TITLE"]; rec != nil {
 		name = strings.Join(strings.Fields(strings.SplitN(rec.value, "\n", 2)[0]), " ")
+	}
+	if GenericName(name) && j.file != "" && name != "" {
+		// A title such as "Sample" names no sample: the file does.
+		base := filepath.Base(j.file)
+		name = strings.TrimSuffix(base, filepath.Ext(base))
 	}
 	s := &Spectrum{
 		Name:        name,

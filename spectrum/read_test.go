@@ -271,7 +271,7 @@ func TestQuantityWarnings(t *testing.T) {
 	if len(warns) != 2 || strings.Contains(warns[1], "WARNING") || !strings.Contains(warns[1], "--quantity %T") || !strings.Contains(warns[1], "percent transmittance") {
 		t.Errorf("%%T-looking values: warnings %q", warns)
 	}
-	if ss[0].Name != "sample" {
+	if ss[0].Name != "in" { // "sample" names no sample: the file's stem does
 		t.Errorf("name %q", ss[0].Name)
 	}
 	// A header word wins over the option, with a warning naming the
@@ -521,5 +521,33 @@ func TestLineEnds(t *testing.T) {
 	var pe *ParseError
 	if !errors.As(err, &pe) || pe.Line != 3 {
 		t.Errorf("CR-only error line: %v", err)
+	}
+}
+
+// TestGenericHeaderNames: a value column headed by a word that names no
+// sample ("Sample", "Intensity", "Value", "Wavelength (nm)", ...) takes the
+// file's stem (two columns) or file#colN (a wide table); a real name is
+// kept.
+func TestGenericHeaderNames(t *testing.T) {
+	for _, c := range []struct {
+		in    string
+		names []string
+	}{
+		{"nm,Sample\n400,0.5\n401,0.4\n", []string{"in"}},
+		{"nm,Intensity\n400,0.5\n401,0.4\n", []string{"in"}},
+		{"nm;Value [a.u.]\n400;0.5\n401;0.4\n", []string{"in"}},
+		{"Wavelength (nm),Wavelength (nm)\n400,0.5\n401,0.4\n", []string{"in"}},
+		{"nm,y\n400,0.5\n401,0.4\n", []string{"in"}},
+		{"nm,SAMPLE,lot 7\n400,0.5,0.1\n401,0.4,0.1\n", []string{"in.txt#col2", "lot 7"}},
+		{"nm,Sample 1\n400,0.5\n401,0.4\n", []string{"Sample 1"}},
+	} {
+		ss, _ := readString(t, c.in, ReadOptions{Quantity: Absorbance})
+		var got []string
+		for _, s := range ss {
+			got = append(got, s.Name)
+		}
+		if strings.Join(got, "|") != strings.Join(c.names, "|") {
+			t.Errorf("%q: names %q, want %q", c.in, got, c.names)
+		}
 	}
 }

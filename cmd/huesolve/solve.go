@@ -81,6 +81,11 @@ shift 0 with the estimate's standard error. A determined shift is applied,
 its uncertainty is included in the concentrations' standard errors, and it
 is flagged "shift" from 0.1 nm on ("shift-max" at the limit).
 
+A sample is named by its column header, or after its file when the header
+names no sample (Sample, Intensity, Value, Wavelength (nm), ...: README.md
+lists them). A name an earlier scan of the run already gave is made unique:
+NAME (FILE) after the file without extension, else NAME#2, NAME#3, ...
+
 Concentrations are in the reference set's units for the original sample:
 the fitted amount times the dilution factor, times the reference path over
 the sample's path. Give them with --dilution and --path-cm for all samples,

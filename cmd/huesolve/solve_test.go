@@ -322,8 +322,8 @@ func TestSolveTableAndPlots(t *testing.T) {
 
 // TestSolveSmallMessages: the step of a bad --pretreat is quoted once;
 // --max-shift without --shift gets a note; --path-cm's help says what 0
-// means; two columns of one wide file with the same sample name are told
-// apart by column.
+// means; of two columns of one wide file with the same sample name, the
+// second is renamed after the file, and the note names its column.
 func TestSolveSmallMessages(t *testing.T) {
 	dir := t.TempDir()
 	ref := writeSolveSet(t, dir)
@@ -334,7 +334,7 @@ func TestSolveSmallMessages(t *testing.T) {
 	}
 	for _, want := range []string{
 		"note: --max-shift 2 has no effect without --shift",
-		"S (" + wide + " column 2, " + wide + " column 3)",
+		"1 sample(s) have a name an earlier scan already gave, and are named after their file or numbered in the results: S (w) (" + wide + " column 3)",
 	} {
 		if !strings.Contains(errOut, want) {
 			t.Errorf("stderr lacks %q:\n%s", want, errOut)

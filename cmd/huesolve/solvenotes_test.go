@@ -78,7 +78,8 @@ func TestSolveSheetNotes(t *testing.T) {
 
 // TestSolveDarkAndDuplicates: a %T scan with a reading of 0 inside the
 // window is flagged sat and dilute, with the file and wavelength named;
-// two scans with the same sample name are warned about.
+// of two scans with the same sample name (and file stem) the second is
+// numbered s4#2, with a warning naming it.
 func TestSolveDarkAndDuplicates(t *testing.T) {
 	dir := t.TempDir()
 	ref := writeSolveSet(t, dir)
@@ -103,12 +104,15 @@ func TestSolveDarkAndDuplicates(t *testing.T) {
 	}
 	for _, want := range []string{
 		dark + ": D1 reads 0 %T or below from 500 nm (1 point(s) of the window): too dark to read there",
-		"1 sample name(s) come from more than one scan",
-		"s4 (" + filepath.Join(dir, "a", "s4.csv") + ", " + filepath.Join(dir, "b", "s4.csv") + ")",
+		"1 sample(s) have a name an earlier scan already gave, and are named after their file or numbered in the results: s4#2 (" + filepath.Join(dir, "b", "s4.csv") + " column 2)",
 	} {
 		if !strings.Contains(errOut, want) {
 			t.Errorf("stderr lacks %q:\n%s", want, errOut)
 		}
+	}
+	// Both scans are in the table, under names that tell them apart.
+	if !regexp.MustCompile(`(?m)^│ s4 +│`).MatchString(out) || !regexp.MustCompile(`(?m)^│ s4#2 +│`).MatchString(out) {
+		t.Errorf("duplicate names not made unique:\n%s", out)
 	}
 }
 
