@@ -600,8 +600,13 @@ drain:
 	e.b.Progress(e.next, e.knownN+len(e.inputs)-e.knownF)
 }
 
-// solveOne solves s into a pooled Result and runs the Each hook.
+// solveOne solves s into a pooled Result and runs the Each hook. A scan
+// that reads the same value everywhere (spectrum.CheckMeasured) is
+// refused: a half-read file, not a sample.
 func (b *Batch) solveOne(m *unmix.Model, pool *sync.Pool, seq int, s *spectrum.Spectrum, out *Outcome) error {
+	if err := spectrum.CheckMeasured(s); err != nil {
+		return err
+	}
 	f := unmix.Factors{}
 	if b.Factors != nil {
 		var err error

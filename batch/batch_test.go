@@ -359,3 +359,27 @@ func TestUniqueNames(t *testing.T) {
 		}
 	}
 }
+
+// TestConstantScanRefused: a scan that reads the same value everywhere
+// (the zeros of a half-read file) fails with spectrum.ErrMisread, in a
+// solve and in a check, and the other samples go on.
+func TestConstantScanRefused(t *testing.T) {
+	read := func(path string, _ spectrum.ReadOptions) ([]*spectrum.Spectrum, error) {
+		good := mixture{conc: []float64{5, 3, 1, 8}, noise: testNoise, seed: 1}.spectrum()
+		zero := mixture{conc: []float64{5, 3, 1, 8}, noise: testNoise, seed: 2}.spectrum()
+		clear(zero.Values)
+		good.Source.File, zero.Source.File = path, path
+		return []*spectrum.Spectrum{good, zero}, nil
+	}
+	for _, check := range []bool{false, true} {
+		b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: 2, ReadFile: read, CheckOnly: check}
+		var errs []error
+		sum, err := b.Run(context.Background(), []Input{{Path: "h.csv"}}, func(o Outcome) error {
+			errs = append(errs, o.Err)
+			return nil
+		})
+		if err != nil || len(errs) != 2 || errs[0] != nil || !errors.Is(errs[1], spectrum.ErrMisread) || sum.Failed != 1 {
+			t.Errorf("check-only %v: %+v, errors %v, %v", check, sum, errs, err)
+		}
+	}
+}

@@ -419,7 +419,7 @@ func (j *jcampReader) spectrum() (*Spectrum, error) {
 	}
 	switch implausible(s) {
 	case looksPct:
-		j.opt.warnf(j.file, "nearly all values lie between %g and %g, which looks like percent transmittance, not absorbance; if so, give --quantity %%T, or every result will be wrong", pctTLow, pctTHigh)
+		return nil, j.errAt(j.table.line, 0, "%w: the values are read as absorbance, but %s; %s", ErrMisread, pctTReason, pctTFix)
 	case looksPctNotFraction:
 		j.opt.warnf(j.file, "values read as transmittance fraction (0..1) mostly exceed %g; they look like percent transmittance (--quantity %%T)", fractionTMax)
 	}

@@ -496,3 +496,13 @@ func TestJCAMPGenericTitle(t *testing.T) {
 		}
 	}
 }
+
+// JCAMP-DX values read as absorbance that look like percent transmittance
+// are refused, naming the fix.
+func TestJCAMPPercentTAsAbsorbance(t *testing.T) {
+	head := "##XUNITS=NANOMETERS\n##YUNITS=ABSORBANCE\n##XFACTOR=1\n##YFACTOR=1\n##FIRSTX=400\n##LASTX=401\n##NPOINTS=2\n##XYDATA=(X++(Y..Y))\n"
+	_, _, err := readJ(t, jdx(head, "400 95 80\n"), ReadOptions{})
+	if !errors.Is(err, ErrMisread) || !strings.HasPrefix(err.Error(), "t.jdx:") || !strings.Contains(err.Error(), "--quantity %T") {
+		t.Errorf("%%T as absorbance: %v", err)
+	}
+}

@@ -116,9 +116,9 @@ func TestSolveDarkAndDuplicates(t *testing.T) {
 	}
 }
 
-// TestSolveCheckOnlyWarns: an unlabelled file of %T values is read as
-// absorbance; --check-only refuses it as solve would (too dark) instead
-// of calling it ready, and its summary counts the reader's warning.
+// TestSolveCheckOnlyWarns: an unlabelled file of %T values read as
+// absorbance is refused by solve and by --check-only alike, naming the
+// fix; --check-only's summary counts the reader's warning.
 func TestSolveCheckOnlyWarns(t *testing.T) {
 	dir := t.TempDir()
 	ref := writeSolveSet(t, dir)
@@ -132,15 +132,21 @@ func TestSolveCheckOnlyWarns(t *testing.T) {
 	if err := os.WriteFile(p, []byte(b.String()), 0o644); err != nil {
 		t.Fatal(err)
 	}
+	// Refused as read, naming the file and the fix (not solved with
+	// "dilute" advice, which was the answer before).
 	_, solveErr, code := run(t, "solve", ref, p)
-	if code != exitFailure || !strings.Contains(solveErr, "dilute at least") {
+	if code != exitFailure || strings.Contains(solveErr, "dilute at least") || !strings.Contains(solveErr, "skipped "+p+":2:2: ") ||
+		!strings.Contains(solveErr, "look like percent transmittance") || !strings.Contains(solveErr, "give --quantity %T") {
 		t.Fatalf("solve of %%T read as absorbance: exit %d\n%s", code, solveErr)
 	}
 	_, errOut, code := run(t, "solve", ref, p, "--check-only")
 	// Nothing can be solved: exit 1 as solving gives, not 3.
-	if code != exitFailure || strings.Contains(errOut, "1 ready to solve") || !strings.Contains(errOut, "too few points below the absorbance ceiling") ||
+	if code != exitFailure || strings.Contains(errOut, "1 ready to solve") || !strings.Contains(errOut, "give --quantity %T") ||
 		!strings.Contains(errOut, "warning(s) above, which solving would give too") {
 		t.Errorf("check-only: exit %d\n%s", code, errOut)
+	}
+	if _, errOut, code := run(t, "solve", ref, p, "--quantity", "%T"); code != exitOK {
+		t.Errorf("with --quantity %%T: exit %d\n%s", code, errOut)
 	}
 }
 
@@ -218,5 +224,41 @@ func TestProgressLog(t *testing.T) {
 	want := "huesolve: solving: 100 of 300 scans done (10/s)\nhuesolve: solving: 200 of 300 scans done (10/s)\nhuesolve: solving: 300 of 300 scans done (10/s)\n"
 	if buf.String() != want {
 		t.Errorf("progress lines:\n%s\nwant\n%s", buf.String(), want)
+	}
+}
+
+// TestSolveHalfReadFiles: a comma-separated file whose numbers carry a
+// decimal comma, and a scan that reads 0 everywhere, are refused naming
+// the file, the reason and the fix; they are not solved (exit 1: nothing
+// could be).
+func TestSolveHalfReadFiles(t *testing.T) {
+	dir := t.TempDir()
+	ref := writeSolveSet(t, dir)
+	s := solveScan("M1", []float64{1, 1, 1, 1}, 0, 1)
+	var dc, zero strings.Builder
+	dc.WriteString("wavelength (nm),M1\n")
+	zero.WriteString("wavelength (nm);Z1 [absorbance]\n")
+	for i, l := range s.Wavelengths {
+		dc.WriteString(ftoa(l) + "," + strings.Replace(ftoa(s.Values[i]), ".", ",", 1) + "\n")
+		zero.WriteString(strconv.FormatFloat(l, 'f', -1, 64) + ";0,000\n")
+	}
+	pdc, pz := filepath.Join(dir, "dc.csv"), filepath.Join(dir, "zero.csv")
+	for p, text := range map[string]string{pdc: dc.String(), pz: zero.String()} {
+		if err := os.WriteFile(p, []byte(text), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	out, errOut, code := run(t, "solve", ref, pdc, pz)
+	for _, want := range []string{
+		"skipped " + pdc + ":2:2: ", "decimal comma", "semicolon or tab",
+		pz + " column 2: the file was not read as it was meant: it reads 0 at every wavelength",
+		"0 sample(s) solved from 2 input(s)",
+	} {
+		if !strings.Contains(errOut, want) {
+			t.Errorf("stderr lacks %q:\n%s", want, errOut)
+		}
+	}
+	if code != exitFailure || out != "" {
+		t.Errorf("exit %d, stdout:\n%s", code, out)
 	}
 }
