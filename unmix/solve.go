@@ -136,6 +136,9 @@ func (m *Model) prepare(s *spectrum.Spectrum, f Factors) (scan, error) {
 		return sc, sc.fail(err)
 	}
 	if err := covers(s.Wavelengths, m.sh.needLo, m.sh.needHi); err != nil {
+		if ce, ok := err.(*CoverageError); ok {
+			ce.Hint = m.windowHint(ce.ScanLo, ce.ScanHi)
+		}
 		return sc, sc.fail(err)
 	}
 	return sc, nil

@@ -55,7 +55,9 @@ calibrate.
 Each SCAN is a file, a folder (its files, not recursive) or a quoted glob
 pattern; a file may hold one scan or a wide table of many. Every scan is
 converted to absorbance, brought onto the reference grid by linear
-interpolation (never extrapolated: a scan must cover the window), corrected
+interpolation (never extrapolated: a scan must cover the window; one that
+does not is refused with the --window that would fit it, and solve names
+the largest window every input covers), corrected
 by the blank (--blank), given the reference set's pre-treatment, cropped to
 the window, and fitted by non-negative least squares: each compound's
 absorptivity times the path length (concentrations >= 0), plus the baseline
@@ -210,8 +212,9 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	j.newBatch(o, q)
 	j.showProgress(cmd, o.output.plots != "")
 	if o.checkOnly {
-		return runSolveCheck(cmd, j.batch, j.inputs, j.errw, func() int64 {
+		return runSolveCheck(cmd, j.batch, j.inputs, j.errw, j.cover.add, func() int64 {
 			sheetNotes(j.track, j.sheet, j.warn, o.dilution, o.pathCM)
+			j.cover.report(j.model, j.warn)
 			return j.warnings.Load()
 		})
 	}
@@ -286,6 +289,7 @@ type solveJob struct {
 	bar    *progressbar.ProgressBar
 	seen   *outcomeNotes
 	run    *provenance.Run // the run's record (nil with --check-only)
+	cover  coverageNotes   // scans refused for coverage (from emit, in order)
 }
 
 func newSolveJob(stderr io.Writer) *solveJob {
@@ -523,6 +527,7 @@ var errNothingSolved = errors.New("nothing solved")
 // standard error, its result to rw.
 func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.Encoder, rev *report.SolveReview) error {
 	j.seen.add(out, j.warn)
+	j.cover.add(out.Err)
 	if out.Err != nil {
 		what := out.File
 		if out.Result != nil {
@@ -568,6 +573,7 @@ func solveFailure(out batch.Outcome, what string) string {
 func (j *solveJob) finish(o *solveOptions, sum batch.Summary) error {
 	sheetNotes(j.track, j.sheet, j.warn, o.dilution, o.pathCM)
 	j.seen.report(j.warn)
+	j.cover.report(j.model, j.warn)
 	plotsFailed := j.plots.report(j.errw, o.output.plots)
 	line := fmt.Sprintf("huesolve: %d sample(s) solved from %d input(s): %d flagged, %d failed, %d input(s) unreadable",
 		sum.Solved, sum.Files, sum.Flagged, sum.Failed, sum.Unreadable)
@@ -594,12 +600,13 @@ func (j *solveJob) finish(o *solveOptions, sum batch.Summary) error {
 }
 
 // runSolveCheck runs the batch with CheckOnly: each problem and a summary
-// line go to errw. after runs when the batch is done and returns the
+// line go to errw, and seen gets each outcome's error. after runs when the batch is done and returns the
 // number of warnings given, which the summary counts: a check never says
 // "ready" without a word when solving would warn.
-func runSolveCheck(cmd *cobra.Command, runner *batch.Batch, inputs []batch.Input, errw io.Writer, after func() int64) error {
+func runSolveCheck(cmd *cobra.Command, runner *batch.Batch, inputs []batch.Input, errw io.Writer, seen func(error), after func() int64) error {
 	runner.CheckOnly = true
 	sum, err := runner.Run(cmd.Context(), inputs, func(out batch.Outcome) error {
+		seen(out.Err)
 		var msg string
 		if out.Err != nil {
 			msg = userMessage(out.Err)

@@ -6,6 +6,7 @@ package main
 // to read.
 
 import (
+	"errors"
 	"fmt"
 	"os"
 	"strings"
@@ -133,4 +134,39 @@ func (n *outcomeNotes) report(warn func(string)) {
 	}
 	warn(fmt.Sprintf("%d sample(s) have a name an earlier scan already gave, and are named after their file or numbered in the results: %s",
 		len(n.renamed), nameList(n.renamed)))
+}
+
+// coverageNotes gathers the scans refused for not covering the window, to
+// name at the end the largest window every input covers.
+type coverageNotes struct {
+	n      int
+	lo, hi float64 // the range every refused scan covers
+}
+
+// add takes an outcome's error.
+func (c *coverageNotes) add(err error) {
+	var ce *unmix.CoverageError
+	if !errors.As(err, &ce) {
+		return
+	}
+	if c.n == 0 {
+		c.lo, c.hi = ce.ScanLo, ce.ScanHi
+	}
+	c.lo, c.hi = max(c.lo, ce.ScanLo), min(c.hi, ce.ScanHi)
+	c.n++
+}
+
+// report warns, when scans were refused for coverage, with the largest
+// window every input covers (the scans solved cover the whole window).
+func (c *coverageNotes) report(m *unmix.Model, warn func(string)) {
+	if c.n == 0 {
+		return
+	}
+	msg := fmt.Sprintf("%d scan(s) do not cover the wavelengths the window needs", c.n)
+	if wlo, whi, ok := m.WindowFor(c.lo, c.hi); ok {
+		msg += fmt.Sprintf("; the largest window every input covers is --window %g-%g: give it to solve to solve them all", wlo, whi)
+	} else {
+		msg += "; no window within the present one is covered by every input"
+	}
+	warn(msg)
 }

@@ -262,3 +262,44 @@ func TestSolveHalfReadFiles(t *testing.T) {
 		t.Errorf("exit %d, stdout:\n%s", code, out)
 	}
 }
+
+// TestSolveCoverageHint: scans a little short of the reference range (one
+// starting a grid step late, one ending early) are refused with the
+// window that would fit each, and solve names the largest window every
+// input covers, which then solves them all.
+func TestSolveCoverageHint(t *testing.T) {
+	dir := t.TempDir()
+	ref := writeSolveSet(t, dir) // grid 400-700 nm in 2 nm steps
+	crop := func(s *spectrum.Spectrum, lo, hi float64) *spectrum.Spectrum {
+		var wl, v []float64
+		for i, l := range s.Wavelengths {
+			if l >= lo && l <= hi {
+				wl, v = append(wl, l), append(v, s.Values[i])
+			}
+		}
+		s.Wavelengths, s.Values = wl, v
+		return s
+	}
+	full := writeScans(t, filepath.Join(dir, "full.csv"), solveScan("F", []float64{1, 2, 1, 1}, 0, 1))
+	late := writeScans(t, filepath.Join(dir, "late.csv"), crop(solveScan("L", []float64{1, 2, 1, 1}, 0, 2), 401, 700))
+	early := writeScans(t, filepath.Join(dir, "early.csv"), crop(solveScan("E", []float64{1, 2, 1, 1}, 0, 3), 400, 696))
+	_, errOut, code := run(t, "solve", ref, full, late, early)
+	for _, want := range []string{
+		"the scan covers 402-700 nm but the model needs 400-700 nm", "--window 402-700 would fit this scan",
+		"--window 400-696 would fit this scan",
+		"2 scan(s) do not cover the wavelengths the window needs; the largest window every input covers is --window 402-696",
+	} {
+		if !strings.Contains(errOut, want) {
+			t.Errorf("stderr lacks %q:\n%s", want, errOut)
+		}
+	}
+	if code != exitSkipped {
+		t.Errorf("exit %d", code)
+	}
+	if _, errOut, code := run(t, "solve", ref, full, late, early, "--check-only"); !strings.Contains(errOut, "--window 402-696") || code != exitSkipped {
+		t.Errorf("check-only: exit %d\n%s", code, errOut)
+	}
+	if _, errOut, code := run(t, "solve", ref, full, late, early, "--window", "402-696"); code != exitOK {
+		t.Errorf("with the window named: exit %d\n%s", code, errOut)
+	}
+}
