@@ -265,3 +265,29 @@ func TestCalibratePercentTStandard(t *testing.T) {
 		t.Error("a reference set was written")
 	}
 }
+
+// TestCalibrateImpossibleStandard: a middle standard that reads above
+// the ceiling where the standards holding more of its compound read low
+// (absorbance grows with concentration) is refused, naming the sheet
+// line, the scan and the higher standard, with the fix; no set is written.
+func TestCalibrateImpossibleStandard(t *testing.T) {
+	dir, sheet := calCase(t)
+	ss, err := spectrum.ReadFile(filepath.Join(dir, "red-6.csv"), spectrum.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := ss[0]
+	for i := range s.Values {
+		s.Values[i] += 3.5 // above the ceiling everywhere, yet not %T-like
+	}
+	calWrite(t, filepath.Join(dir, "red-6.csv"), s)
+	out := filepath.Join(dir, "refs.json")
+	_, errOut, code := run(t, "calibrate", sheet, "-o", out)
+	if code != exitFailure || !strings.Contains(errOut, "red-6.csv") || !strings.Contains(errOut, "impossible for its level") ||
+		!strings.Contains(errOut, "red-8.csv") || !strings.Contains(errOut, "--quantity %T") {
+		t.Errorf("exit %d, stderr:\n%s", code, errOut)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Error("a reference set was written")
+	}
+}
