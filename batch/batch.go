@@ -172,6 +172,10 @@ type Outcome struct {
 	// set).
 	Err    error
 	Unread bool
+	// Renamed is the name the sample was given because an earlier sample
+	// of the run had its own ("" when it kept its name): Result.Sample
+	// is Renamed, and the sample sheet was looked up by its own name.
+	Renamed string
 	// Encoded holds what Batch.Encode made of Result (nil without it).
 	// Like Result it is reused after emit returns.
 	Encoded []byte
@@ -235,7 +239,10 @@ type job struct {
 	seq  int
 	file string
 	ss   []*spectrum.Spectrum
-	err  error
+	// names holds, per sample, the name it is given when its own is
+	// taken by an earlier sample ("" when it keeps its own).
+	names []string
+	err   error
 }
 
 // maxChunk is the most samples handed to a worker at once.
@@ -269,8 +276,10 @@ type run struct {
 	// jobs: the samples numbered, and whether every input was dispatched.
 	total    int
 	complete bool
-	results  chan []Outcome
-	pool     sync.Pool // of *slot
+	// taken holds the sample names handed out so far (dispatcher only).
+	taken   map[string]int
+	results chan []Outcome
+	pool    sync.Pool // of *slot
 }
 
 // slot is a pooled Result with the buffer Encode last wrote into.
@@ -281,7 +290,9 @@ type slot struct {
 
 // Run reads the inputs, solves every sample and calls emit with each
 // outcome in input order (file order, then the order of the scans in each
-// file), whatever the number of workers. emit runs in the caller's
+// file), whatever the number of workers. A sample whose name an earlier
+// sample of the run has is renamed (see uniqueNames; Outcome.Renamed), so
+// that every result's name is unique. emit runs in the caller's
 // goroutine; the Result it gets is reused after emit returns, so emit must
 // copy what it keeps.
 //
@@ -410,19 +421,67 @@ func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
 	}
 	r.knownN.Add(int64(len(fr.ss)))
 	r.knownF.Add(1)
+	names := r.uniqueNames(file, fr.ss)
 	size := min(maxChunk, max(1, len(fr.ss)/(4*r.workers)))
 	for lo := 0; lo < len(fr.ss); lo += size {
 		hi := min(lo+size, len(fr.ss))
 		chunk := slices.Clone(fr.ss[lo:hi])
 		clear(fr.ss[lo:hi]) // the chunk holds the last references
+		var cn []string
+		if names != nil {
+			cn = names[lo:hi]
+		}
 		select {
-		case r.jobs <- job{seq: seq, file: file, ss: chunk}:
+		case r.jobs <- job{seq: seq, file: file, ss: chunk, names: cn}:
 		case <-r.ctx.Done():
 			return seq, false
 		}
 		seq += len(chunk)
 	}
 	return seq, true
+}
+
+// uniqueNames returns, for the samples of one file in input order, the
+// name each gets when an earlier sample of the run already has its own
+// (nil when none does): "NAME (STEM)" with the stem of its file, or, when
+// that is taken too or the stem is the name, "NAME#K" with the smallest K
+// from 2 that is free. The first sample of a name keeps it.
+func (r *run) uniqueNames(file string, ss []*spectrum.Spectrum) []string {
+	if r.taken == nil {
+		r.taken = map[string]int{}
+	}
+	var out []string
+	base := filepath.Base(file)
+	stem := strings.TrimSuffix(base, filepath.Ext(base))
+	for i, s := range ss {
+		name := SampleName(s)
+		if r.taken[name] == 0 {
+			r.taken[name] = 1
+			continue
+		}
+		alt := name + " (" + stem + ")"
+		for k := 2; stem == name || r.taken[alt] > 0; k++ {
+			alt = fmt.Sprintf("%s#%d", name, k)
+			if r.taken[alt] == 0 {
+				break
+			}
+		}
+		r.taken[alt] = 1
+		if out == nil {
+			out = make([]string, len(ss))
+		}
+		out[i] = alt
+	}
+	return out
+}
+
+// SampleName is the name a sample's result carries before Run makes it
+// unique: the spectrum's name, else its source.
+func SampleName(s *spectrum.Spectrum) string {
+	if s.Name != "" {
+		return s.Name
+	}
+	return s.Source.String()
 }
 
 // solve starts stage 3: the workers, each with its own model, solve the
@@ -462,6 +521,9 @@ func (r *run) solveJob(m *unmix.Model, j job) []Outcome {
 	for k, s := range j.ss {
 		o := &outs[k]
 		o.Seq, o.File = j.seq+k, j.file
+		if j.names != nil && j.names[k] != "" {
+			o.Renamed = j.names[k]
+		}
 		o.Err = r.b.solveOne(m, &r.pool, o.Seq, s, o)
 		j.ss[k] = nil
 	}
@@ -539,8 +601,13 @@ func (e *emitter) progress() {
 	e.b.Progress(e.next, samples+len(e.inputs)-files)
 }
 
-// solveOne solves s into a pooled Result and runs the Each hook.
+// solveOne solves s into a pooled Result and runs the Each hook. A scan
+// that reads the same value everywhere (spectrum.CheckMeasured) is
+// refused: a half-read file, not a sample.
 func (b *Batch) solveOne(m *unmix.Model, pool *sync.Pool, seq int, s *spectrum.Spectrum, out *Outcome) error {
+	if err := spectrum.CheckMeasured(s); err != nil {
+		return err
+	}
 	f := unmix.Factors{}
 	if b.Factors != nil {
 		var err error
@@ -558,6 +625,9 @@ func (b *Batch) solveOne(m *unmix.Model, pool *sync.Pool, seq int, s *spectrum.S
 	if err := m.SolveTo(r, s, f); err != nil {
 		pool.Put(sl)
 		return err
+	}
+	if out.Renamed != "" {
+		r.Sample = out.Renamed
 	}
 	out.Result, out.slot = r, sl
 	if b.Encode != nil {

@@ -331,3 +331,76 @@ func TestReadAheadStateBounded(t *testing.T) {
 		wg.Wait()
 	}
 }
+
+// TestUniqueNames: a sample whose name an earlier sample of the run has
+// is renamed "NAME (STEM)" after its file, or "NAME#K" when that is
+// taken too or the stem is the name; the first keeps its name, the sheet
+// (Factors) sees the scan's own name, and Outcome.Renamed says so. The
+// names do not depend on the number of workers.
+func TestUniqueNames(t *testing.T) {
+	names := map[string][]string{
+		"a/p.csv": {"S", "T"},
+		"b/p.csv": {"S", "S"},
+		"c/S.csv": {"S"},
+		"d/q.csv": {"T"},
+	}
+	read := func(path string, _ spectrum.ReadOptions) ([]*spectrum.Spectrum, error) {
+		var out []*spectrum.Spectrum
+		for j, n := range names[path] {
+			s := mixture{conc: []float64{5, 3, 1, 8}, noise: testNoise, seed: uint64(j + 1)}.spectrum()
+			s.Name, s.Source.File = n, path
+			out = append(out, s)
+		}
+		return out, nil
+	}
+	for _, workers := range []int{1, 3} {
+		var mu sync.Mutex
+		var looked []string
+		b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: workers, ReadFile: read,
+			Factors: func(s *spectrum.Spectrum) (unmix.Factors, error) {
+				if s.Name != "S" && s.Name != "T" {
+					mu.Lock()
+					looked = append(looked, s.Name)
+					mu.Unlock()
+				}
+				return unmix.Factors{}, nil
+			}}
+		var got, renamed []string
+		_, err := b.Run(context.Background(), []Input{{Path: "a/p.csv"}, {Path: "b/p.csv"}, {Path: "c/S.csv"}, {Path: "d/q.csv"}}, func(o Outcome) error {
+			got = append(got, o.Result.Sample)
+			renamed = append(renamed, o.Renamed)
+			return nil
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		want := []string{"S", "T", "S (p)", "S#2", "S#3", "T (q)"}
+		if !reflect.DeepEqual(got, want) || !reflect.DeepEqual(renamed, []string{"", "", "S (p)", "S#2", "S#3", "T (q)"}) || looked != nil {
+			t.Errorf("-j %d: names %q, renamed %q, sheet looked up %q; want %q", workers, got, renamed, looked, want)
+		}
+	}
+}
+
+// TestConstantScanRefused: a scan that reads the same value everywhere
+// (the zeros of a half-read file) fails with spectrum.ErrMisread, in a
+// solve and in a check, and the other samples go on.
+func TestConstantScanRefused(t *testing.T) {
+	read := func(path string, _ spectrum.ReadOptions) ([]*spectrum.Spectrum, error) {
+		good := mixture{conc: []float64{5, 3, 1, 8}, noise: testNoise, seed: 1}.spectrum()
+		zero := mixture{conc: []float64{5, 3, 1, 8}, noise: testNoise, seed: 2}.spectrum()
+		clear(zero.Values)
+		good.Source.File, zero.Source.File = path, path
+		return []*spectrum.Spectrum{good, zero}, nil
+	}
+	for _, check := range []bool{false, true} {
+		b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: 2, ReadFile: read, CheckOnly: check}
+		var errs []error
+		sum, err := b.Run(context.Background(), []Input{{Path: "h.csv"}}, func(o Outcome) error {
+			errs = append(errs, o.Err)
+			return nil
+		})
+		if err != nil || len(errs) != 2 || errs[0] != nil || !errors.Is(errs[1], spectrum.ErrMisread) || sum.Failed != 1 {
+			t.Errorf("check-only %v: %+v, errors %v, %v", check, sum, errs, err)
+		}
+	}
+}

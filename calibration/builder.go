@@ -3,6 +3,7 @@ package calibration
 import (
 	"context"
 	"fmt"
+	"slices"
 	"sort"
 	"time"
 
@@ -310,6 +311,7 @@ func (b *builder) readings() error {
 	// either side), as solve does for samples.
 	b.reach = baseline.Reach(b.opt.Pretreat)
 	b.keep = make([][]bool, n)
+	raw := make([][]float64, n)
 	for i, r := range b.fit {
 		if err := b.ctx.Err(); err != nil {
 			return pkgerr.Errorf(buildPkg, "stopped at standard %d of %d: %w", i, n, err)
@@ -319,6 +321,7 @@ func (b *builder) readings() error {
 			return b.rowErr(r, err)
 		}
 		b.keep[i] = underCeiling(v, b.ceiling, b.reach)
+		raw[i] = slices.Clone(v)
 		if b.blank != nil {
 			for j := range v {
 				v[j] -= b.blank[j]
@@ -330,7 +333,55 @@ func (b *builder) readings() error {
 		}
 		b.abs.SetRow(i, t)
 	}
+	return b.impossible(raw)
+}
+
+// impossibleShare is the share of the grid at which a standard must read
+// above the ceiling where a standard holding at least as much of every
+// compound reads below half the ceiling before it is refused: far more
+// than noise or a stray point can make (project choice).
+const impossibleShare = 0.1
+
+// impossible refuses a standard whose raw readings (raw, per fit row)
+// are impossible for its level: absorbance grows with every compound's
+// concentration (Beer-Lambert, absorptivities >= 0), so a standard that
+// reads above the ceiling where one holding at least as much of every
+// compound reads below half the ceiling, at impossibleShare of the grid
+// or more, was not read as meant (%T read as absorbance, most often) or
+// has its concentrations on the wrong row.
+func (b *builder) impossible(raw [][]float64) error {
+	p := len(b.grid)
+	for i, ri := range b.fit {
+		for j, rj := range b.fit {
+			if i == j || !dominates(rj.Conc, ri.Conc) {
+				continue
+			}
+			n := 0
+			for w := range p {
+				if raw[i][w] > b.ceiling && raw[j][w] < b.ceiling/2 {
+					n++
+				}
+			}
+			if float64(n) >= impossibleShare*float64(p) {
+				return b.rowErr(ri, pkgerr.Errorf(buildPkg, "%s reads above the ceiling A = %g at %d of %d wavelengths where %s (line %d), which holds at least as much of every compound, reads below %g: impossible for its level; if the scan is %%T, give --quantity %%T (or say %%T in its header), else check its concentrations in the sheet",
+					ri.Scan.Source, b.ceiling, n, p, rj.Scan.Source, rj.Line, b.ceiling/2))
+			}
+		}
+	}
 	return nil
+}
+
+// dominates reports whether hi holds at least as much of every compound
+// as lo, and more of one.
+func dominates(hi, lo []float64) bool {
+	more := false
+	for k := range hi {
+		if hi[k] < lo[k] {
+			return false
+		}
+		more = more || hi[k] > lo[k]
+	}
+	return more
 }
 
 // pretreat applies the pre-treatment steps to the blank-corrected

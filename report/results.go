@@ -12,11 +12,14 @@ import (
 )
 
 // Layout names what every result of a run holds: the compounds (with
-// their units) and the baseline terms, in model order.
+// their units) and the baseline terms, in model order, and the reference
+// set's path length (PathCM; 0 when not known), against which the table
+// shows a sample's own path.
 type Layout struct {
 	Compounds []string
 	Units     []string
 	Baseline  []string
+	PathCM    float64
 	// Run is the run's record, written at the head of CSV and JSON
 	// files (nil: none).
 	Run *provenance.Run
@@ -24,7 +27,7 @@ type Layout struct {
 
 // LayoutOf returns the layout of a model's results.
 func LayoutOf(m *unmix.Model) Layout {
-	return Layout{Compounds: m.Compounds(), Units: m.Units(), Baseline: m.BaselineTerms()}
+	return Layout{Compounds: m.Compounds(), Units: m.Units(), Baseline: m.BaselineTerms(), PathCM: m.PathCM()}
 }
 
 // ResultWriter writes sample results one at a time, in the order given.

@@ -9,6 +9,7 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"regexp"
 	"strings"
 	"testing"
 	"unicode/utf8"
@@ -16,7 +17,7 @@ import (
 	"huesolve/unmix"
 )
 
-var testLayout = Layout{Compounds: []string{"amber", "teal"}, Units: []string{"mg/L", "mg/L"}, Baseline: []string{"offset"}}
+var testLayout = Layout{Compounds: []string{"amber", "teal"}, Units: []string{"mg/L", "mg/L"}, Baseline: []string{"offset"}, PathCM: 1}
 
 // testResult is a hand-made result with an undefined Durbin-Watson
 // statistic and awkward characters in its name.
@@ -174,12 +175,50 @@ func TestJSONWriter(t *testing.T) {
 	}
 }
 
+// TestTableFactorColumns: the table shows a dilution column when any
+// sample's dilution is not 1, and a path column when any sample's path
+// is not the reference set's, with every row's value; neither when all
+// samples are undiluted at the reference path.
+func TestTableFactorColumns(t *testing.T) {
+	table := func(fs ...[2]float64) string {
+		var b bytes.Buffer
+		w := newTableWriter(&b, testLayout, 200)
+		for i, f := range fs {
+			r := testResult(fmt.Sprintf("S%d", i+1))
+			r.Dilution, r.PathCM = f[0], f[1]
+			if err := w.Write(r); err != nil {
+				t.Fatal(err)
+			}
+		}
+		if err := w.Close(); err != nil {
+			t.Fatal(err)
+		}
+		return b.String()
+	}
+	if out := table([2]float64{1, 1}, [2]float64{1, 1}); strings.Contains(out, "Dilution") || strings.Contains(out, "Path (cm)") {
+		t.Errorf("factor columns without a factor:\n%s", out)
+	}
+	out := table([2]float64{1, 1}, [2]float64{2, 1})
+	if !strings.Contains(out, "Dilution") || strings.Contains(out, "Path (cm)") || !regexp.MustCompile(`S1 .*│ 1 +│ sat`).MatchString(out) ||
+		!regexp.MustCompile(`S2 .*│ 2 +│ sat`).MatchString(out) {
+		t.Errorf("one sample diluted:\n%s", out)
+	}
+	out = table([2]float64{1, 1}, [2]float64{1, 0.5})
+	if strings.Contains(out, "Dilution") || !strings.Contains(out, "Path (cm)") || !regexp.MustCompile(`S2 .*│ 0.5 +│ sat`).MatchString(out) {
+		t.Errorf("one sample in a shorter cell:\n%s", out)
+	}
+}
+
 func TestTableWriter(t *testing.T) {
 	for _, width := range []int{160, 80, 40} {
 		var b bytes.Buffer
 		w := newTableWriter(&b, testLayout, width)
 		for _, n := range []string{"S1", "a-rather-long-sample-name-from-the-autosampler-017"} {
-			if err := w.Write(testResult(n)); err != nil {
+			// Undiluted, at the reference path: no factor columns here
+			// (TestTableFactorColumns has them).
+			r := testResult(n)
+			r.Dilution = 1
+			if err := w.Write(r); err != nil {
 				t.Fatal(err)
 			}
 		}

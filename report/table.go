@@ -39,6 +39,9 @@ type tableWriter struct {
 	rows   [][]string
 	seen   map[unmix.Flag]bool
 	failed int
+	// factors are each row's dilution and path length (cm), shown in
+	// columns of their own when any row's differs from 1 / Layout.PathCM.
+	factors [][2]float64
 }
 
 // newTableWriter returns a table writer; width 0 means DefaultWidth.
@@ -80,7 +83,44 @@ func (t *tableWriter) Write(r *unmix.Result) error {
 		flags = strings.TrimSpace(flags + fmt.Sprintf(" (dilute %sx)", num(r.SuggestDilution)))
 	}
 	t.rows = append(t.rows, append(row, flags))
+	t.factors = append(t.factors, [2]float64{r.Dilution, r.PathCM})
 	return nil
+}
+
+// factorColumns adds, before the flags, a dilution column when any
+// sample's dilution is not 1 and a path column when any sample's path is
+// not the reference set's: a result scaled by a factor says so beside it.
+func (t *tableWriter) factorColumns(header []string) []string {
+	dil, path := false, false
+	for _, f := range t.factors {
+		dil = dil || f[0] != 1
+		path = path || f[1] != t.l.PathCM
+	}
+	if !dil && !path {
+		return header
+	}
+	insert := func(cells []string, add ...string) []string {
+		k := len(cells) - 1
+		return append(cells[:k:k], append(add, cells[k])...)
+	}
+	var names []string
+	if dil {
+		names = append(names, "Dilution")
+	}
+	if path {
+		names = append(names, "Path (cm)")
+	}
+	for i, row := range t.rows {
+		var add []string
+		if dil {
+			add = append(add, num(t.factors[i][0]))
+		}
+		if path {
+			add = append(add, num(t.factors[i][1]))
+		}
+		t.rows[i] = insert(row, add...)
+	}
+	return insert(header, names...)
 }
 
 // sampleFlagsText is the sample's flags for the table, the shift flag
@@ -119,7 +159,7 @@ func (t *tableWriter) Close() error {
 		header = append(header, termText(n))
 	}
 	header = append(header, figureCols...)
-	header = append(header, "Flags")
+	header = t.factorColumns(append(header, "Flags"))
 	nc := len(t.l.Compounds)
 
 	// Columns kept, and the sample column's width, to fit t.width.

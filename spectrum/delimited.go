@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"io"
+	"math"
 	"path/filepath"
 	"strconv"
 	"strings"
@@ -22,6 +23,10 @@ const (
 	// pctTShare is the share of values that must lie in [pctTLow,
 	// pctTHigh] before the warning is raised ("nearly all").
 	pctTShare = 0.95
+	// pctTMax is the most a percent transmittance reading may plausibly
+	// reach: 100 plus room for noise and a blank a little darker than
+	// the sample (project choice).
+	pctTMax = 110.0
 	// fractionTMax is the largest value a transmittance fraction may
 	// plausibly reach (1 plus room for noise and a slightly bright
 	// blank); above it the values look like percent.
@@ -279,8 +284,54 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 		// Only unit conversion can get here (rounding collapsed points).
 		return nil, d.errAt(d.firstLine, 1, err)
 	}
+	if err := d.splitDecimals(vals, nr, ld, ns, cellsOK); err != nil {
+		return nil, err
+	}
 	qs, names := d.quantities(cells, cellsOK, ns)
-	return d.spectra(wl, vals, ld, qs, names), nil
+	ss, pct := d.spectra(wl, vals, ld, qs, names)
+	if len(pct) > 0 {
+		return nil, d.errAt(d.firstLine, pct[0], fmt.Errorf("%w: %s read as absorbance, but %s; %s",
+			ErrMisread, columnList(pct, ns), pctTReason, pctTFix))
+	}
+	return ss, nil
+}
+
+// pctTReason and pctTFix word the refusal of percent transmittance read
+// as absorbance (looksPercentT), in both readers.
+const (
+	pctTReason = "absorbance of 5 and more is beyond any spectrophotometer and these values look like percent transmittance (0 to 100)"
+	pctTFix    = "say %T in the header, or give --quantity %T"
+)
+
+// splitDecimals refuses a comma-separated table whose numbers carry a
+// decimal comma, which the comma splits into two columns each ("0,123"
+// read as 0 and 123): every value of every spectrum column is a whole
+// number, there are at least two such columns, and either the header has
+// another number of cells than the rows have fields, or there is no
+// header and a column is all zero (the integer parts of absorbance below
+// 1). A table of whole numbers under a header that fits (%T to the
+// percent) is not refused.
+func (d *delimReader) splitDecimals(vals []float64, nr, ld, ns int, cellsOK bool) error {
+	if d.delim != ',' || ns < 2 {
+		return nil
+	}
+	zeroCol := false
+	for j := 0; j < ns; j++ {
+		col := vals[j*ld : j*ld+nr]
+		zero := true
+		for _, v := range col {
+			if v != math.Trunc(v) {
+				return nil
+			}
+			zero = zero && v == 0
+		}
+		zeroCol = zeroCol || zero
+	}
+	if !(d.header != "" && !cellsOK) && !(d.header == "" && zeroCol) {
+		return nil
+	}
+	return d.errAt(d.firstLine, 2, fmt.Errorf("%w: every value of this comma-separated file is a whole number in %d columns, as when numbers written with a decimal comma (0,123) are split at the comma into two columns; export the file with a semicolon or tab between the fields, or with decimal points",
+		ErrMisread, ns))
 }
 
 // convertUnit turns the wavelength column, in unit as the first header
@@ -400,7 +451,7 @@ func fillAgreed(qs []Quantity) {
 
 // spectra makes one spectrum per column, settles each quantity against
 // the requested one and gives the warnings.
-func (d *delimReader) spectra(wl, vals []float64, ld int, qs []Quantity, names []string) []*Spectrum {
+func (d *delimReader) spectra(wl, vals []float64, ld int, qs []Quantity, names []string) ([]*Spectrum, []int) {
 	nr, ns := len(wl), len(qs)
 	base := filepath.Base(d.file)
 	if d.file == "" {
@@ -429,6 +480,9 @@ func (d *delimReader) spectra(wl, vals []float64, ld int, qs []Quantity, names [
 		if names != nil {
 			name = strings.Join(strings.Fields(names[j+1]), " ")
 		}
+		if GenericName(name) {
+			name = ""
+		}
 		if name == "" {
 			if ns == 1 {
 				name = strings.TrimSuffix(base, filepath.Ext(base))
@@ -449,7 +503,7 @@ func (d *delimReader) spectra(wl, vals []float64, ld int, qs []Quantity, names [
 		out[j] = s
 	}
 	d.warnQuantities(contradicted, unstated, odd, ns)
-	return out
+	return out, odd[looksPct]
 }
 
 // warnQuantities gives the warnings about the spectra's quantities:
@@ -463,9 +517,6 @@ func (d *delimReader) warnQuantities(contradicted map[Quantity][]int, unstated [
 	}
 	if len(unstated) > 0 {
 		d.opt.warnf(d.file, "the header does not say whether %s are absorbance, %%T or T; reading absorbance (state it with a header word or --quantity)", columnList(unstated, ns))
-	}
-	if c := odd[looksPct]; len(c) > 0 {
-		d.opt.warnf(d.file, "nearly all of %s lie between %g and %g, which looks like percent transmittance, not absorbance; if so, say %%T in the header or give --quantity %%T, or every result will be wrong", columnList(c, ns), pctTLow, pctTHigh)
 	}
 	if c := odd[looksPctNotFraction]; len(c) > 0 {
 		d.opt.warnf(d.file, "%s, read as transmittance fraction (0..1), mostly exceed %g; they look like percent transmittance (--quantity %%T)", columnList(c, ns), fractionTMax)
@@ -533,18 +584,28 @@ func implausible(s *Spectrum) int {
 	return plausible
 }
 
-// looksPercentT reports whether nearly all values lie in [pctTLow, pctTHigh].
+// looksPercentT reports whether values read as absorbance are percent
+// transmittance: nearly all (pctTShare) lie in [pctTLow, pctTHigh], or at
+// least half are pctTLow or more while none exceeds pctTMax (a dark
+// sample's %T scan, whose bands go below 5 %T). Absorbance of 5 and more
+// on half a scan is beyond any spectrophotometer (common practice).
 func looksPercentT(v []float64) bool {
 	if len(v) == 0 {
 		return false
 	}
-	n := 0
+	in, high, over := 0, 0, 0
 	for _, x := range v {
-		if x >= pctTLow && x <= pctTHigh {
-			n++
+		if x >= pctTLow {
+			high++
+			if x <= pctTHigh {
+				in++
+			}
+			if x > pctTMax {
+				over++
+			}
 		}
 	}
-	return float64(n) >= pctTShare*float64(len(v))
+	return float64(in) >= pctTShare*float64(len(v)) || (2*high >= len(v) && over == 0)
 }
 
 // headerCells splits the header into cells; ok is false when there is no
@@ -866,3 +927,39 @@ func reverse(x []float64) {
 
 // fmtG formats a float in the shortest form that reads back exactly.
 func fmtG(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
+
+// genericNames are header words that say what a column holds, not which
+// sample it is: a value column headed by one of them (case ignored, a
+// trailing unit in brackets ignored) is named after the file instead.
+// Lone letters are not among them: in a wide table they name samples
+// (columns a, b, c), and a two-column file's "A" is a quantity word.
+var genericNames = map[string]bool{
+	"sample": true, "samples": true, "sample name": true, "name": true,
+	"intensity": true, "value": true, "values": true, "y": true, "x": true,
+	"data": true, "signal": true, "reading": true, "readings": true,
+	"measurement": true, "response": true, "spectrum": true, "scan": true,
+	"counts": true, "ordinate": true, "result": true,
+	"absorbance": true, "abs": true, "od": true, "transmittance": true, "%t": true,
+	"wavelength": true, "wavelengths": true, "lambda": true, "λ": true, "nm": true,
+}
+
+// GenericName reports whether a value column's header cell names no
+// sample: empty, or one of genericNames ("Sample", "Intensity", "Value",
+// "Wavelength (nm)", "y", ...), case ignored and a trailing unit in
+// brackets ("(nm)", "[a.u.]") ignored. Such a column of a two-column
+// file takes the file's stem as its name, and one of a wide table
+// "file#colN".
+func GenericName(cell string) bool {
+	c := strings.ToLower(strings.TrimSpace(cell))
+	if n := len(c); n > 0 && (c[n-1] == ')' || c[n-1] == ']') {
+		open := "("
+		if c[n-1] == ']' {
+			open = "["
+		}
+		if k := strings.LastIndex(c, open); k > 0 {
+			c = strings.TrimSpace(c[:k])
+		}
+	}
+	c = strings.Join(strings.Fields(c), " ")
+	return c == "" || genericNames[c]
+}

@@ -5,6 +5,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"path/filepath"
 	"strconv"
 	"strings"
 )
@@ -404,6 +405,11 @@ func (j *jcampReader) spectrum() (*Spectrum, error) {
 	if rec := j.labels["TITLE"]; rec != nil {
 		name = strings.Join(strings.Fields(strings.SplitN(rec.value, "\n", 2)[0]), " ")
 	}
+	if GenericName(name) && j.file != "" && name != "" {
+		// A title such as "Sample" names no sample: the file does.
+		base := filepath.Base(j.file)
+		name = strings.TrimSuffix(base, filepath.Ext(base))
+	}
 	s := &Spectrum{
 		Name:        name,
 		Wavelengths: x,
@@ -413,7 +419,7 @@ func (j *jcampReader) spectrum() (*Spectrum, error) {
 	}
 	switch implausible(s) {
 	case looksPct:
-		j.opt.warnf(j.file, "nearly all values lie between %g and %g, which looks like percent transmittance, not absorbance; if so, give --quantity %%T, or every result will be wrong", pctTLow, pctTHigh)
+		return nil, j.errAt(j.table.line, 0, "%w: the values are read as absorbance, but %s; %s", ErrMisread, pctTReason, pctTFix)
 	case looksPctNotFraction:
 		j.opt.warnf(j.file, "values read as transmittance fraction (0..1) mostly exceed %g; they look like percent transmittance (--quantity %%T)", fractionTMax)
 	}

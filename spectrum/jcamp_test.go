@@ -483,3 +483,26 @@ func TestJCAMPContinuationLinear(t *testing.T) {
 			len(in), lines, alloc, maxAllocPerInputByte)
 	}
 }
+
+// A JCAMP-DX title that names no sample ("Sample") gives way to the file's
+// stem; a real title is kept.
+func TestJCAMPGenericTitle(t *testing.T) {
+	head := "##XUNITS=NANOMETERS\n##YUNITS=ABSORBANCE\n##XFACTOR=1\n##YFACTOR=0.001\n##FIRSTX=400\n##LASTX=401\n##NPOINTS=2\n##XYDATA=(X++(Y..Y))\n"
+	for title, want := range map[string]string{"Sample": "t", "lot 7": "lot 7"} {
+		in := strings.Replace(jdx(head, "400 500 400\n"), "##TITLE=t", "##TITLE="+title, 1)
+		s, _, err := readJ(t, in, ReadOptions{})
+		if err != nil || s.Name != want {
+			t.Errorf("title %q: name %v, %v; want %q", title, s, err, want)
+		}
+	}
+}
+
+// JCAMP-DX values read as absorbance that look like percent transmittance
+// are refused, naming the fix.
+func TestJCAMPPercentTAsAbsorbance(t *testing.T) {
+	head := "##XUNITS=NANOMETERS\n##YUNITS=ABSORBANCE\n##XFACTOR=1\n##YFACTOR=1\n##FIRSTX=400\n##LASTX=401\n##NPOINTS=2\n##XYDATA=(X++(Y..Y))\n"
+	_, _, err := readJ(t, jdx(head, "400 95 80\n"), ReadOptions{})
+	if !errors.Is(err, ErrMisread) || !strings.HasPrefix(err.Error(), "t.jdx:") || !strings.Contains(err.Error(), "--quantity %T") {
+		t.Errorf("%%T as absorbance: %v", err)
+	}
+}

@@ -267,17 +267,18 @@ func TestQuantityWarnings(t *testing.T) {
 		t.Errorf("unstated: %v, warnings %q", ss[0].Quantity, warns)
 	}
 	// Values that look like %T read as absorbance: a loud warning.
-	ss, warns = readString(t, "nm,sample\n400,95\n401,80.5\n402,40\n403,12\n", ReadOptions{})
-	if len(warns) != 2 || strings.Contains(warns[1], "WARNING") || !strings.Contains(warns[1], "--quantity %T") || !strings.Contains(warns[1], "percent transmittance") {
-		t.Errorf("%%T-looking values: warnings %q", warns)
-	}
-	if ss[0].Name != "sample" {
-		t.Errorf("name %q", ss[0].Name)
+	// %T-looking values read as absorbance are refused, naming the fix.
+	for _, in := range []string{"nm,sample\n400,95\n401,80.5\n402,40\n403,12\n", "nm,A\n400,95\n401,80\n"} {
+		_, err := ReadDelimited(strings.NewReader(in), "in.txt", ReadOptions{})
+		if !errors.Is(err, ErrMisread) || !strings.HasPrefix(err.Error(), "in.txt:2:2: ") || !strings.Contains(err.Error(), "--quantity %T") ||
+			!strings.Contains(err.Error(), "percent transmittance") {
+			t.Errorf("%%T-looking values %q: %v", in, err)
+		}
 	}
 	// A header word wins over the option, with a warning naming the
-	// file (and the %T-looking values are still pointed out).
-	ss, warns = readString(t, "nm,A\n400,95\n401,80\n", ReadOptions{Quantity: PercentT})
-	if ss[0].Quantity != Absorbance || len(warns) != 2 || !strings.HasPrefix(warns[0], "in.txt: ") ||
+	// file.
+	ss, warns = readString(t, "nm,A\n400,0.95\n401,0.8\n", ReadOptions{Quantity: PercentT})
+	if ss[0].Quantity != Absorbance || len(warns) != 1 || !strings.HasPrefix(warns[0], "in.txt: ") ||
 		!strings.Contains(warns[0], "states absorbance") || !strings.Contains(warns[0], "not the %T requested") {
 		t.Errorf("header over option: %v, %q", ss[0].Quantity, warns)
 	}
@@ -372,16 +373,16 @@ func TestHeaderWords(t *testing.T) {
 }
 
 func TestWideTableNames(t *testing.T) {
-	ss, _ := readString(t, "400,1,2,3\n401,4,5,6\n", ReadOptions{Quantity: Absorbance})
+	ss, _ := readString(t, "400,0.1,0.2,0.3\n401,0.4,0.5,0.6\n", ReadOptions{Quantity: Absorbance})
 	if got := names(ss); strings.Join(got, "|") != "in.txt#col2|in.txt#col3|in.txt#col4" {
 		t.Errorf("names %q", got)
 	}
-	if ss[1].Source.Column != 3 || ss[1].Source.Line != 1 || ss[1].Values[1] != 5 {
+	if ss[1].Source.Column != 3 || ss[1].Source.Line != 1 || ss[1].Values[1] != 0.5 {
 		t.Errorf("provenance %+v values %v", ss[1].Source, ss[1].Values)
 	}
 	// Header with a different cell count: names fall back, with a warning.
 	var warns []string
-	ss, err := ReadDelimited(strings.NewReader("nm,a,b\n400,1,2,3\n401,4,5,6\n"), "w.csv", ReadOptions{Quantity: Absorbance, Warn: func(m string) { warns = append(warns, m) }})
+	ss, err := ReadDelimited(strings.NewReader("nm,a,b\n400,0.1,0.2,0.3\n401,0.4,0.5,0.6\n"), "w.csv", ReadOptions{Quantity: Absorbance, Warn: func(m string) { warns = append(warns, m) }})
 	if err != nil || ss[0].Name != "w.csv#col2" || len(warns) != 1 {
 		t.Errorf("mismatched header: %v %q %q", err, names(ss), warns)
 	}
@@ -521,5 +522,77 @@ func TestLineEnds(t *testing.T) {
 	var pe *ParseError
 	if !errors.As(err, &pe) || pe.Line != 3 {
 		t.Errorf("CR-only error line: %v", err)
+	}
+}
+
+// TestGenericHeaderNames: a value column headed by a word that names no
+// sample ("Sample", "Intensity", "Value", "Wavelength (nm)", ...) takes the
+// file's stem (two columns) or file#colN (a wide table); a real name is
+// kept.
+func TestGenericHeaderNames(t *testing.T) {
+	for _, c := range []struct {
+		in    string
+		names []string
+	}{
+		{"nm,Sample\n400,0.5\n401,0.4\n", []string{"in"}},
+		{"nm,Intensity\n400,0.5\n401,0.4\n", []string{"in"}},
+		{"nm;Value [a.u.]\n400;0.5\n401;0.4\n", []string{"in"}},
+		{"Wavelength (nm),Wavelength (nm)\n400,0.5\n401,0.4\n", []string{"in"}},
+		{"nm,y\n400,0.5\n401,0.4\n", []string{"in"}},
+		{"nm,SAMPLE,lot 7\n400,0.5,0.1\n401,0.4,0.1\n", []string{"in.txt#col2", "lot 7"}},
+		{"nm,Sample 1\n400,0.5\n401,0.4\n", []string{"Sample 1"}},
+	} {
+		ss, _ := readString(t, c.in, ReadOptions{Quantity: Absorbance})
+		var got []string
+		for _, s := range ss {
+			got = append(got, s.Name)
+		}
+		if strings.Join(got, "|") != strings.Join(c.names, "|") {
+			t.Errorf("%q: names %q, want %q", c.in, got, c.names)
+		}
+	}
+}
+
+// TestDecimalCommaSplit: a comma-separated file whose numbers carry a
+// decimal comma splits each number in two (whole numbers only, a column
+// of zeros or a header that does not fit): refused naming file, line and
+// the fix. Whole numbers under a header that fits are read.
+func TestDecimalCommaSplit(t *testing.T) {
+	for _, in := range []string{
+		"400,0,123\n401,0,118\n402,0,097\n",
+		"wavelength,absorbance\n400,0,123\n401,0,118\n",
+		"nm,A\n400,1,123\n401,0,918\n",
+	} {
+		_, err := ReadDelimited(strings.NewReader(in), "dc.csv", ReadOptions{})
+		if !errors.Is(err, ErrMisread) || !strings.HasPrefix(err.Error(), "dc.csv:") || !strings.Contains(err.Error(), "decimal comma") ||
+			!strings.Contains(err.Error(), "semicolon or tab") {
+			t.Errorf("%q: %v", in, err)
+		}
+	}
+	for _, in := range []string{
+		"nm,s1 [%T],s2 [%T]\n400,50,60\n401,40,60\n", // whole %T under a header that fits
+		"nm;A\n400;0,123\n401;0,118\n",               // decimal comma with a semicolon: fine
+		"400,0.1,0.2\n401,0.3,0.4\n",
+	} {
+		if _, err := ReadDelimited(strings.NewReader(in), "ok.csv", ReadOptions{}); err != nil {
+			t.Errorf("%q: %v", in, err)
+		}
+	}
+}
+
+// TestPercentTAsAbsorbance: a dark sample's %T scan (bands below 5 %T,
+// half the readings above) read as absorbance is refused too; absorbance
+// up to the usual ceilings is not.
+func TestPercentTAsAbsorbance(t *testing.T) {
+	pct := "nm,s\n400,92\n401,60\n402,3.1\n403,0.8\n404,2.5\n405,40\n406,88\n"
+	if _, err := ReadDelimited(strings.NewReader(pct), "p.csv", ReadOptions{}); !errors.Is(err, ErrMisread) {
+		t.Errorf("dark %%T read as absorbance: %v", err)
+	}
+	if _, err := ReadDelimited(strings.NewReader(pct), "p.csv", ReadOptions{Quantity: PercentT}); err != nil {
+		t.Errorf("dark %%T read as %%T: %v", err)
+	}
+	abs := "nm,s\n400,0.2\n401,1.5\n402,3.1\n403,4.2\n404,2.5\n405,0.4\n"
+	if _, err := ReadDelimited(strings.NewReader(abs), "a.csv", ReadOptions{}); err != nil {
+		t.Errorf("high absorbance: %v", err)
 	}
 }

@@ -130,6 +130,11 @@ var (
 	errNotSupported = errors.New("not supported")
 	// ErrEmpty marks a file or table with no data.
 	ErrEmpty = errors.New("no data")
+	// ErrMisread marks a file whose numbers cannot be what it was meant
+	// to hold as read: percent transmittance read as absorbance, or
+	// numbers with a decimal comma split at the comma of a
+	// comma-separated file. The message names the fix.
+	ErrMisread = errors.New("the file was not read as it was meant")
 	// errTooLarge marks an input beyond the size a reader accepts
 	// (ReadOptions.MaxFileBytes).
 	errTooLarge = errors.New("input too large")
@@ -245,4 +250,24 @@ func (s *Spectrum) ToAbsorbance() error {
 	s.Values = out
 	s.Quantity = Absorbance
 	return nil
+}
+
+// CheckMeasured refuses a spectrum that reads the same value at every
+// wavelength (all zero, most often), wrapping ErrMisread: no measurement
+// reads exactly alike everywhere, so it is a column of an export read
+// wrongly (the integer parts of numbers split at a decimal comma) or left
+// empty, and solving it would report a blank sample. The message names
+// the spectrum's source and what to check.
+func CheckMeasured(s *Spectrum) error {
+	v := s.Values
+	if len(v) == 0 {
+		return nil
+	}
+	for _, x := range v[1:] {
+		if x != v[0] {
+			return nil
+		}
+	}
+	return pkgerr.Errorf("spectrum", "%s: %w: it reads %g at every wavelength, which no measurement does; check that the file's columns and decimal mark were read as meant (huesolve look shows how it reads)",
+		s.Source, ErrMisread, v[0])
 }

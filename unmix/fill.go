@@ -76,6 +76,9 @@ func (m *Model) fill(dst *Result, sc *scan) {
 		m.amount(&dst.Amounts[k], k, sc, f)
 	}
 	m.sampleFlags(dst, sc, f)
+	if sc.notInSheet {
+		dst.Flags = append(dst.Flags, FlagNotInSheet)
+	}
 	if len(dst.Flags) == 0 {
 		dst.Flags = nil
 	}

@@ -58,6 +58,12 @@ const (
 	// optimality (KKT) check failed; the result is the best feasible
 	// point found.
 	FlagNoConverge Flag = "noconv"
+	// FlagNotInSheet: a sample sheet was given but has no row for this
+	// sample, so its dilution and path are the values given for every
+	// sample (--dilution, --path-cm, or 1 and the reference path): a
+	// misspelt name in the sheet or the file would otherwise scale the
+	// result wrongly without a word.
+	FlagNotInSheet Flag = "nosheet"
 )
 
 // legend holds the meaning of every flag, in the order of the legend.
@@ -79,6 +85,7 @@ var legend = []struct {
 	{FlagShiftMax, true, "wavelength shift at the allowed limit"},
 	{FlagIllCond, true, "ill-conditioned design"},
 	{FlagNoConverge, true, "fit not certified optimal (iteration cap or KKT check)"},
+	{FlagNotInSheet, true, "not in the sample sheet: dilution and path are the defaults, not the sample's"},
 }
 
 // IsWarning reports whether f calls for a chemist's attention (a sample

@@ -8,17 +8,72 @@ import (
 	"huesolve/spectrum"
 )
 
-// covers checks that wl spans [lo, hi].
+// covers checks that wl spans [lo, hi]; its error is a *CoverageError.
 func covers(wl []float64, lo, hi float64) error {
 	if len(wl) < 2 {
 		return fmt.Errorf("%d points: %w", len(wl), ErrCoverage)
 	}
 	slack := spectrum.GridSlack * (wl[len(wl)-1] - wl[0] + 1)
 	if wl[0] > lo+slack || wl[len(wl)-1] < hi-slack {
-		return fmt.Errorf("the scan covers %g-%g nm but the model needs %g-%g nm: %w",
-			wl[0], wl[len(wl)-1], lo, hi, ErrCoverage)
+		return &CoverageError{ScanLo: wl[0], ScanHi: wl[len(wl)-1], NeedLo: lo, NeedHi: hi}
 	}
 	return nil
+}
+
+// CoverageError is Solve's error for a scan that does not cover the
+// wavelengths the model needs (errors.Is ErrCoverage). Hint, when not
+// empty, is the --window that would fit the scan (Model.WindowFor).
+type CoverageError struct {
+	ScanLo, ScanHi float64 // the scan's range, nm
+	NeedLo, NeedHi float64 // the range the model needs, nm
+	Hint           string
+}
+
+func (e *CoverageError) Error() string {
+	msg := fmt.Sprintf("the scan covers %g-%g nm but the model needs %g-%g nm: %v", e.ScanLo, e.ScanHi, e.NeedLo, e.NeedHi, ErrCoverage)
+	if e.Hint != "" {
+		msg += "; " + e.Hint
+	}
+	return msg
+}
+
+// Is makes a CoverageError ErrCoverage for errors.Is.
+func (e *CoverageError) Is(target error) bool { return target == ErrCoverage }
+
+// WindowFor returns the largest window within the model's that a scan
+// covering lo-hi nm can be solved in: its ends are reference grid points,
+// inward of lo and hi by the shift limit when a shift is estimated. ok is
+// false when there is none: the reference set's pre-treatment needs the
+// whole reference grid whatever the window, or too few grid points are
+// left to fit. Give it as --window WLO-WHI.
+func (m *Model) WindowFor(lo, hi float64) (wlo, whi float64, ok bool) {
+	sh := m.sh
+	if len(sh.set.Pretreat) > 0 {
+		return 0, 0, false
+	}
+	g := sh.grid
+	margin := 0.0
+	if sh.opt.Shift {
+		margin = sh.opt.MaxShiftNM
+	}
+	slack := spectrum.GridSlack * (g[len(g)-1] - g[0] + 1)
+	a := searchGE(g, max(lo+margin, g[sh.lo])-slack)
+	b := searchGT(g, min(hi-margin, g[sh.hi-1])+slack)
+	if b-a < len(sh.cols)+minDoF {
+		return 0, 0, false
+	}
+	return g[a], g[b-1], true
+}
+
+// windowHint is the hint of a CoverageError for a scan covering lo-hi.
+func (m *Model) windowHint(lo, hi float64) string {
+	if len(m.sh.set.Pretreat) > 0 {
+		return "the reference set's pre-treatment needs the whole reference grid, so no --window can help: scan the whole range"
+	}
+	if wlo, whi, ok := m.WindowFor(lo, hi); ok {
+		return fmt.Sprintf("--window %g-%g would fit this scan", wlo, whi)
+	}
+	return "too little of the window is covered for any --window to help"
 }
 
 // derivative returns path * d(a)/dl on the set grid rows [lo, hi), by

@@ -303,6 +303,10 @@ func (m *Model) Units() []string {
 	return out
 }
 
+// PathCM returns the reference set's path length in cm: a sample's path
+// when none is given.
+func (m *Model) PathCM() float64 { return m.set.PathCM }
+
 // BaselineTerms returns the names of the baseline coefficients (keys of
 // Result.Baseline) in design order.
 func (m *Model) BaselineTerms() []string { return slices.Clone(m.sh.names) }

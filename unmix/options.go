@@ -100,10 +100,14 @@ type Options struct {
 }
 
 // Factors are per-sample: dilution factor (1 if 0) and path length in cm
-// (the reference set's if 0).
+// (the reference set's if 0). NotInSheet says that a sample sheet was
+// given but names no such sample, so the factors are the defaults for
+// every sample rather than the sample's own: the result is flagged
+// FlagNotInSheet.
 type Factors struct {
-	Dilution float64
-	PathCM   float64
+	Dilution   float64
+	PathCM     float64
+	NotInSheet bool
 }
 
 // Plausible per-sample factors. A path or dilution outside these bounds

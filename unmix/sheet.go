@@ -195,3 +195,51 @@ func (ss *SampleSheet) Warnings() []string {
 	}
 	return slices.Clone(ss.warns)
 }
+
+// Near returns the sheet's sample name that name may have been meant to
+// match (false if none): one that differs from it only in letter case,
+// in separators (space, -, _, .) or in leading zeros of a number, so
+// that M7 in the sheet is offered for a scan named M07. The suggestion
+// is only named, never used: a sample matches a row by its exact name.
+func (ss *SampleSheet) Near(name string) (string, bool) {
+	if ss == nil {
+		return "", false
+	}
+	key := looseName(name)
+	if key == "" {
+		return "", false
+	}
+	for _, n := range ss.order {
+		if looseName(n) == key {
+			return n, true
+		}
+	}
+	return "", false
+}
+
+// looseName is name in lower case without separators and without the
+// leading zeros of its numbers: the key Near compares.
+func looseName(name string) string {
+	var b strings.Builder
+	rs := []rune(strings.ToLower(name))
+	for i := 0; i < len(rs); i++ {
+		r := rs[i]
+		switch {
+		case r == ' ' || r == '-' || r == '_' || r == '.':
+		case r >= '0' && r <= '9':
+			j := i
+			for j < len(rs) && rs[j] >= '0' && rs[j] <= '9' {
+				j++
+			}
+			num := strings.TrimLeft(string(rs[i:j]), "0")
+			if num == "" {
+				num = "0"
+			}
+			b.WriteString(num)
+			i = j - 1
+		default:
+			b.WriteRune(r)
+		}
+	}
+	return b.String()
+}

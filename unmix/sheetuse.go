@@ -25,7 +25,8 @@ func NewSheetUse(ss *SampleSheet) *SheetUse {
 }
 
 // Factors returns the sheet's factors of s (zero fields: defaults) and
-// records the row that matched, or s as a sample the sheet does not name.
+// records the row that matched, or s as a sample the sheet does not name
+// (then NotInSheet is set, so that the result is flagged).
 func (u *SheetUse) Factors(s *spectrum.Spectrum) Factors {
 	if u.sheet == nil {
 		return Factors{}
@@ -41,6 +42,7 @@ func (u *SheetUse) Factors(s *spectrum.Spectrum) Factors {
 			name = s.Source.String()
 		}
 		u.defaulted = append(u.defaulted, name)
+		f.NotInSheet = true
 	}
 	return f
 }

@@ -16,9 +16,10 @@ import (
 // takes it explicitly and fills its own part; nothing of it outlives the
 // call (its slices are views of the model's reused storage).
 type scan struct {
-	s         *spectrum.Spectrum
-	name      string
-	dil, path float64 // dilution and path length with defaults applied
+	s          *spectrum.Spectrum
+	name       string
+	dil, path  float64 // dilution and path length with defaults applied
+	notInSheet bool    // Factors.NotInSheet: flagged FlagNotInSheet
 
 	// Set by read: the scan on the work grid at the current shift.
 	raw []float64 // raw absorbance
@@ -124,7 +125,7 @@ func (m *Model) prepare(s *spectrum.Spectrum, f Factors) (scan, error) {
 	if err := m.check(s); err != nil {
 		return sc, err
 	}
-	sc.dil, sc.path = f.Dilution, f.PathCM
+	sc.dil, sc.path, sc.notInSheet = f.Dilution, f.PathCM, f.NotInSheet
 	if sc.dil == 0 {
 		sc.dil = 1
 	}
@@ -135,6 +136,9 @@ func (m *Model) prepare(s *spectrum.Spectrum, f Factors) (scan, error) {
 		return sc, sc.fail(err)
 	}
 	if err := covers(s.Wavelengths, m.sh.needLo, m.sh.needHi); err != nil {
+		if ce, ok := err.(*CoverageError); ok {
+			ce.Hint = m.windowHint(ce.ScanLo, ce.ScanHi)
+		}
 		return sc, sc.fail(err)
 	}
 	return sc, nil

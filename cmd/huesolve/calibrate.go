@@ -58,7 +58,10 @@ squares on the concentrations, giving each compound's absorptivity (per unit
 concentration per cm) with its standard error, and the residual noise.
 Readings above the absorbance ceiling (2 by default: stray light bends
 readings above about A = 2 on ordinary instruments, common practice) are
-left out. Each compound's calibration line at its band maximum is checked:
+left out. A standard that reads above the ceiling where one holding at
+least as much of every compound reads below half of it (at 10 % of the
+wavelengths or more) is impossible for its level and refused: %T read as
+absorbance (give --quantity %T) or concentrations on the wrong row. Each compound's calibration line at its band maximum is checked:
 R², lack of fit against replicates, and Mandel's test for curvature
 (ISO 8466-1), which sets the linear range. The same line is fitted and
 tested at every wavelength of the band (absorptivity at least half its

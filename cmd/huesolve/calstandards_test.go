@@ -3,6 +3,8 @@ package main
 import (
 	"bytes"
 	"context"
+	"fmt"
+	"math"
 	"os"
 	"path/filepath"
 	"strconv"
@@ -11,6 +13,7 @@ import (
 
 	"huesolve/internal/demo"
 	"huesolve/reference"
+	"huesolve/spectrum"
 )
 
 // demoStandards writes the demo's files into a new folder and returns it
@@ -232,5 +235,59 @@ func TestCalibrateImplausibleSheets(t *testing.T) {
 		if got, _ := os.ReadFile(out); !bytes.Equal(got, good) {
 			t.Errorf("%s: the existing set was replaced", c.name)
 		}
+	}
+}
+
+// TestCalibratePercentTStandard: a standard of %T values in a file that
+// does not say so, read as absorbance, is physically impossible (half its
+// readings 5 AU and more): calibrate refuses it naming the file and the
+// fix, and writes no reference set.
+func TestCalibratePercentTStandard(t *testing.T) {
+	dir, sheet := calCase(t)
+	ss, err := spectrum.ReadFile(filepath.Join(dir, "red-6.csv"), spectrum.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var b strings.Builder
+	b.WriteString("wavelength (nm),red 6\n")
+	for i, l := range ss[0].Wavelengths {
+		fmt.Fprintf(&b, "%g,%.4f\n", l, 100*math.Pow(10, -ss[0].Values[i]))
+	}
+	if err := os.WriteFile(filepath.Join(dir, "red-6.csv"), []byte(b.String()), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out := filepath.Join(dir, "refs.json")
+	_, errOut, code := run(t, "calibrate", sheet, "-o", out)
+	if code != exitFailure || !strings.Contains(errOut, "red-6.csv:2:2: ") || !strings.Contains(errOut, "give --quantity %T") {
+		t.Errorf("exit %d, stderr:\n%s", code, errOut)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Error("a reference set was written")
+	}
+}
+
+// TestCalibrateImpossibleStandard: a middle standard that reads above
+// the ceiling where the standards holding more of its compound read low
+// (absorbance grows with concentration) is refused, naming the sheet
+// line, the scan and the higher standard, with the fix; no set is written.
+func TestCalibrateImpossibleStandard(t *testing.T) {
+	dir, sheet := calCase(t)
+	ss, err := spectrum.ReadFile(filepath.Join(dir, "red-6.csv"), spectrum.ReadOptions{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	s := ss[0]
+	for i := range s.Values {
+		s.Values[i] += 3.5 // above the ceiling everywhere, yet not %T-like
+	}
+	calWrite(t, filepath.Join(dir, "red-6.csv"), s)
+	out := filepath.Join(dir, "refs.json")
+	_, errOut, code := run(t, "calibrate", sheet, "-o", out)
+	if code != exitFailure || !strings.Contains(errOut, "red-6.csv") || !strings.Contains(errOut, "impossible for its level") ||
+		!strings.Contains(errOut, "red-8.csv") || !strings.Contains(errOut, "--quantity %T") {
+		t.Errorf("exit %d, stderr:\n%s", code, errOut)
+	}
+	if _, err := os.Stat(out); err == nil {
+		t.Error("a reference set was written")
 	}
 }

@@ -258,12 +258,12 @@ func TestSolveSkippedLinesPlain(t *testing.T) {
 func TestWarningStyle(t *testing.T) {
 	dir := t.TempDir()
 	pct := filepath.Join(dir, "pct.csv")
-	if err := os.WriteFile(pct, []byte("nm,sample\n400,95\n401,80.5\n402,40\n403,12\n"), 0o644); err != nil {
+	if err := os.WriteFile(pct, []byte("nm,T\n400,95\n401,80.5\n402,40\n403,12\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
 	for _, cmd := range [][]string{{"look", pct}, {"convert", pct, "-o", "-"}} {
 		_, errOut, _ := run(t, cmd...)
-		if !strings.Contains(errOut, "huesolve: warning: "+pct+": nearly all of") || strings.Contains(errOut, "WARNING") ||
+		if !strings.Contains(errOut, "huesolve: warning: "+pct+": the values, read as transmittance fraction") || strings.Contains(errOut, "WARNING") ||
 			!strings.Contains(errOut, "--quantity %T") || strings.Contains(errOut, "quantity option") {
 			t.Errorf("%s: stderr\n%s", cmd[0], errOut)
 		}

@@ -55,7 +55,9 @@ calibrate.
 Each SCAN is a file, a folder (its files, not recursive) or a quoted glob
 pattern; a file may hold one scan or a wide table of many. Every scan is
 converted to absorbance, brought onto the reference grid by linear
-interpolation (never extrapolated: a scan must cover the window), corrected
+interpolation (never extrapolated: a scan must cover the window; one that
+does not is refused with the --window that would fit it, and solve names
+the largest window every input covers), corrected
 by the blank (--blank), given the reference set's pre-treatment, cropped to
 the window, and fitted by non-negative least squares: each compound's
 absorptivity times the path length (concentrations >= 0), plus the baseline
@@ -81,6 +83,11 @@ shift 0 with the estimate's standard error. A determined shift is applied,
 its uncertainty is included in the concentrations' standard errors, and it
 is flagged "shift" from 0.1 nm on ("shift-max" at the limit).
 
+A sample is named by its column header, or after its file when the header
+names no sample (Sample, Intensity, Value, Wavelength (nm), ...: README.md
+lists them). A name an earlier scan of the run already gave is made unique:
+NAME (FILE) after the file without extension, else NAME#2, NAME#3, ...
+
 Concentrations are in the reference set's units for the original sample:
 the fitted amount times the dilution factor, times the reference path over
 the sample's path. Give them with --dilution and --path-cm for all samples,
@@ -88,8 +95,11 @@ or per sample with --samples SHEET: delimited text with a header row naming
 the columns sample, dilution and/or path_cm (note or comment columns are
 ignored, any other is refused); "sample" matches a scan's name (its column
 header in a wide table) or its file name with or without extension. Empty
-cells and samples not in the sheet take the flag values; solve names those
-samples, and the sheet rows that matched no sample.
+cells take the flag values. A sample the sheet does not name takes them
+too and is flagged "nosheet" (a warning flag: exit code 4), with the
+sheet row it was likely meant to match (M7 for M07); sheet rows that
+matched no sample are named. The table shows each sample's dilution
+and path whenever one differs from 1 or the reference path.
 
 For each sample: concentration, standard error and 95 % interval of every
 compound, its detection and quantitation limits (3.3 and 10 times the noise
@@ -202,8 +212,9 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	j.newBatch(o, q)
 	j.showProgress(cmd, o.output.plots != "")
 	if o.checkOnly {
-		return runSolveCheck(cmd, j.batch, j.inputs, j.errw, func() int64 {
+		return runSolveCheck(cmd, j.batch, j.inputs, j.errw, j.cover.add, func() int64 {
 			sheetNotes(j.track, j.sheet, j.warn, o.dilution, o.pathCM)
+			j.cover.report(j.model, j.warn)
 			return j.warnings.Load()
 		})
 	}
@@ -278,6 +289,7 @@ type solveJob struct {
 	bar    *progressbar.ProgressBar
 	seen   *outcomeNotes
 	run    *provenance.Run // the run's record (nil with --check-only)
+	cover  coverageNotes   // scans refused for coverage (from emit, in order)
 }
 
 func newSolveJob(stderr io.Writer) *solveJob {
@@ -515,6 +527,7 @@ var errNothingSolved = errors.New("nothing solved")
 // standard error, its result to rw.
 func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.Encoder, rev *report.SolveReview) error {
 	j.seen.add(out, j.warn)
+	j.cover.add(out.Err)
 	if out.Err != nil {
 		what := out.File
 		if out.Result != nil {
@@ -560,6 +573,7 @@ func solveFailure(out batch.Outcome, what string) string {
 func (j *solveJob) finish(o *solveOptions, sum batch.Summary) error {
 	sheetNotes(j.track, j.sheet, j.warn, o.dilution, o.pathCM)
 	j.seen.report(j.warn)
+	j.cover.report(j.model, j.warn)
 	plotsFailed := j.plots.report(j.errw, o.output.plots)
 	line := fmt.Sprintf("huesolve: %d sample(s) solved from %d input(s): %d flagged, %d failed, %d input(s) unreadable",
 		sum.Solved, sum.Files, sum.Flagged, sum.Failed, sum.Unreadable)
@@ -586,12 +600,13 @@ func (j *solveJob) finish(o *solveOptions, sum batch.Summary) error {
 }
 
 // runSolveCheck runs the batch with CheckOnly: each problem and a summary
-// line go to errw. after runs when the batch is done and returns the
+// line go to errw, and seen gets each outcome's error. after runs when the batch is done and returns the
 // number of warnings given, which the summary counts: a check never says
 // "ready" without a word when solving would warn.
-func runSolveCheck(cmd *cobra.Command, runner *batch.Batch, inputs []batch.Input, errw io.Writer, after func() int64) error {
+func runSolveCheck(cmd *cobra.Command, runner *batch.Batch, inputs []batch.Input, errw io.Writer, seen func(error), after func() int64) error {
 	runner.CheckOnly = true
 	sum, err := runner.Run(cmd.Context(), inputs, func(out batch.Outcome) error {
+		seen(out.Err)
 		var msg string
 		if out.Err != nil {
 			msg = userMessage(out.Err)

@@ -120,7 +120,7 @@ func solveInputs(t *testing.T, dir string) {
 		solveScan("W3-d10", []float64{0.8, 0.3, 0.2, 0.05}, 0, 4),
 		solveScan("W4", []float64{0.02, 4, 6, 2}, 0.005, 5),
 	)
-	if err := os.WriteFile(filepath.Join(dir, "sheet.csv"), []byte("sample,dilution,path_cm\nW3-d10,10,\ns1,,0.5\n"), 0o644); err != nil {
+	if err := os.WriteFile(filepath.Join(dir, "sheet.csv"), []byte("sample,dilution,path_cm\nW1,,\nW2,,\nW3-d10,10,\nW4,,\ns1,,0.5\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
 }
@@ -322,8 +322,8 @@ func TestSolveTableAndPlots(t *testing.T) {
 
 // TestSolveSmallMessages: the step of a bad --pretreat is quoted once;
 // --max-shift without --shift gets a note; --path-cm's help says what 0
-// means; two columns of one wide file with the same sample name are told
-// apart by column.
+// means; of two columns of one wide file with the same sample name, the
+// second is renamed after the file, and the note names its column.
 func TestSolveSmallMessages(t *testing.T) {
 	dir := t.TempDir()
 	ref := writeSolveSet(t, dir)
@@ -334,7 +334,7 @@ func TestSolveSmallMessages(t *testing.T) {
 	}
 	for _, want := range []string{
 		"note: --max-shift 2 has no effect without --shift",
-		"S (" + wide + " column 2, " + wide + " column 3)",
+		"1 sample(s) have a name an earlier scan already gave, and are named after their file or numbered in the results: S (w) (" + wide + " column 3)",
 	} {
 		if !strings.Contains(errOut, want) {
 			t.Errorf("stderr lacks %q:\n%s", want, errOut)

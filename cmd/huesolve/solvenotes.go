@@ -6,6 +6,7 @@ package main
 // to read.
 
 import (
+	"errors"
 	"fmt"
 	"os"
 	"strings"
@@ -79,8 +80,15 @@ func sheetNotes(use *unmix.SheetUse, sheet *unmix.SampleSheet, warn func(string)
 		if pathCM > 0 {
 			path = fmt.Sprintf("--path-cm %g", pathCM)
 		}
-		warn(fmt.Sprintf("%d sample(s) not in the sample sheet %s took --dilution %g and %s: %s",
-			len(defaulted), sheet.File, dilution, path, nameList(defaulted)))
+		named := make([]string, len(defaulted))
+		for i, n := range defaulted {
+			named[i] = n
+			if near, ok := sheet.Near(n); ok {
+				named[i] = fmt.Sprintf("%s (the sheet has %s, line %d)", n, near, sheet.Line(near))
+			}
+		}
+		warn(fmt.Sprintf("%d sample(s) not in the sample sheet %s took --dilution %g and %s and are flagged %s: %s",
+			len(defaulted), sheet.File, dilution, path, unmix.FlagNotInSheet, nameList(named)))
 	}
 	var unused []string
 	for _, n := range use.Unused() {
@@ -92,21 +100,13 @@ func sheetNotes(use *unmix.SheetUse, sheet *unmix.SampleSheet, warn func(string)
 }
 
 // outcomeNotes watches the outcomes in order: it warns at once about a
-// sample with readings too dark to convert, and remembers sample names to
-// report those given by more than one scan.
+// sample with readings too dark to convert, and remembers the samples
+// batch renamed because an earlier scan had their name.
 type outcomeNotes struct {
-	first map[string]scanPlace // sample name -> first scan
-	dups  map[string][]scanPlace
-	order []string
+	renamed []string // "NEW (was NAME, FILE)"
 }
 
-// scanPlace is where a sample came from: its file, and the file with the
-// column ("file column 3") to tell apart samples of one wide file.
-type scanPlace struct{ file, source string }
-
-func newOutcomeNotes() *outcomeNotes {
-	return &outcomeNotes{first: map[string]scanPlace{}, dups: map[string][]scanPlace{}}
-}
+func newOutcomeNotes() *outcomeNotes { return &outcomeNotes{} }
 
 // add takes one outcome (in input order).
 func (n *outcomeNotes) add(out batch.Outcome, warn func(string)) {
@@ -118,46 +118,55 @@ func (n *outcomeNotes) add(out batch.Outcome, warn func(string)) {
 		warn(fmt.Sprintf("%s: %s reads 0 %%T or below from %g nm (%d point(s) of the window): too dark to read there; those points are left out and the sample is flagged sat and dilute",
 			out.File, r.Sample, r.DarkNM, r.DarkPoints))
 	}
-	here := scanPlace{file: out.File, source: r.Source}
-	if here.source == "" {
-		here.source = out.File
-	}
-	if f, ok := n.first[r.Sample]; !ok {
-		n.first[r.Sample] = here
-	} else {
-		if len(n.dups[r.Sample]) == 0 {
-			n.order = append(n.order, r.Sample)
-			n.dups[r.Sample] = []scanPlace{f}
+	if out.Renamed != "" {
+		where := r.Source
+		if where == "" {
+			where = out.File
 		}
-		n.dups[r.Sample] = append(n.dups[r.Sample], here)
+		n.renamed = append(n.renamed, fmt.Sprintf("%s (%s)", out.Renamed, where))
 	}
 }
 
-// report warns about sample names given by more than one scan.
+// report notes the samples renamed because their name was taken.
 func (n *outcomeNotes) report(warn func(string)) {
-	if len(n.order) == 0 {
+	if len(n.renamed) == 0 {
 		return
 	}
-	var items []string
-	for _, s := range n.order {
-		// File names alone, unless one file gave the name twice: then
-		// the columns too.
-		places := n.dups[s]
-		files := make(map[string]bool, len(places))
-		sameFile := false
-		for _, p := range places {
-			sameFile = sameFile || files[p.file]
-			files[p.file] = true
-		}
-		where := make([]string, len(places))
-		for i, p := range places {
-			where[i] = p.file
-			if sameFile {
-				where[i] = p.source
-			}
-		}
-		items = append(items, fmt.Sprintf("%s (%s)", s, strings.Join(where, ", ")))
+	warn(fmt.Sprintf("%d sample(s) have a name an earlier scan already gave, and are named after their file or numbered in the results: %s",
+		len(n.renamed), nameList(n.renamed)))
+}
+
+// coverageNotes gathers the scans refused for not covering the window, to
+// name at the end the largest window every input covers.
+type coverageNotes struct {
+	n      int
+	lo, hi float64 // the range every refused scan covers
+}
+
+// add takes an outcome's error.
+func (c *coverageNotes) add(err error) {
+	var ce *unmix.CoverageError
+	if !errors.As(err, &ce) {
+		return
 	}
-	warn(fmt.Sprintf("%d sample name(s) come from more than one scan, so their rows cannot be told apart by name: %s",
-		len(n.order), nameList(items)))
+	if c.n == 0 {
+		c.lo, c.hi = ce.ScanLo, ce.ScanHi
+	}
+	c.lo, c.hi = max(c.lo, ce.ScanLo), min(c.hi, ce.ScanHi)
+	c.n++
+}
+
+// report warns, when scans were refused for coverage, with the largest
+// window every input covers (the scans solved cover the whole window).
+func (c *coverageNotes) report(m *unmix.Model, warn func(string)) {
+	if c.n == 0 {
+		return
+	}
+	msg := fmt.Sprintf("%d scan(s) do not cover the wavelengths the window needs", c.n)
+	if wlo, whi, ok := m.WindowFor(c.lo, c.hi); ok {
+		msg += fmt.Sprintf("; the largest window every input covers is --window %g-%g: give it to solve to solve them all", wlo, whi)
+	} else {
+		msg += "; no window within the present one is covered by every input"
+	}
+	warn(msg)
 }
