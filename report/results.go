@@ -20,11 +20,16 @@ type Layout struct {
 	// Run is the run's record, written at the head of CSV and JSON
 	// files (nil: none).
 	Run *provenance.Run
+	// Auto: each sample's nuisance model is chosen (unmix.Options.Auto);
+	// the results then name it (a model column, JSON's "model" and
+	// "model_scores"), and a baseline term the chosen model lacks is
+	// left empty rather than unavailable.
+	Auto bool
 }
 
 // LayoutOf returns the layout of a model's results.
 func LayoutOf(m *unmix.Model) Layout {
-	return Layout{Compounds: m.Compounds(), Units: m.Units(), Baseline: m.BaselineTerms()}
+	return Layout{Compounds: m.Compounds(), Units: m.Units(), Baseline: m.BaselineTerms(), Auto: m.Auto()}
 }
 
 // ResultWriter writes sample results one at a time, in the order given.

@@ -72,6 +72,9 @@ func (t *tableWriter) Write(r *unmix.Result) error {
 		row = append(row, cell)
 	}
 	row = append(row, fixed(r.ChiSqRed, 2), sig(r.RMS, 2), fixed(r.DW, 2))
+	if t.l.Auto {
+		row = append(row, termText(r.Model))
+	}
 	flags := sampleFlagsText(r)
 	for _, f := range r.Flags {
 		t.seen[f] = true
@@ -119,6 +122,9 @@ func (t *tableWriter) Close() error {
 		header = append(header, termText(n))
 	}
 	header = append(header, figureCols...)
+	if t.l.Auto {
+		header = append(header, "Model")
+	}
 	header = append(header, "Flags")
 	nc := len(t.l.Compounds)
 

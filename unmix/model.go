@@ -79,6 +79,10 @@ type Model struct {
 	cache map[string]*design
 	tq    map[int]float64
 	buf   scratch
+	// auto, with Options.Auto, holds the candidate models the sample's
+	// nuisance model is chosen from (auto.go); the model's own design is
+	// then the floor's.
+	auto *autoModel
 }
 
 // scratch is per-clone storage reused from one sample to the next, so
@@ -123,6 +127,14 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	}
 	if err := sh.window(); err != nil {
 		return nil, err
+	}
+	if opt.Auto {
+		// Every candidate fits the same window: the one a shift needs.
+		lo, hi := sh.autoWindow()
+		return newAuto(opt, func(o Options) (*Model, error) {
+			o.WindowLo, o.WindowHi = lo, hi
+			return NewModel(set, o)
+		})
 	}
 	if err := sh.columns(); err != nil {
 		return nil, err
@@ -279,6 +291,9 @@ func (m *Model) init(base *design) {
 // another goroutine.
 func (m *Model) Clone() *Model {
 	c := &Model{set: m.set, opt: m.opt, sh: m.sh}
+	if m.auto != nil {
+		c.auto = m.auto.clone()
+	}
 	b := *m.sh.base
 	b.solver = m.sh.base.solver.Clone()
 	c.init(&b)
@@ -305,7 +320,16 @@ func (m *Model) Units() []string {
 
 // BaselineTerms returns the names of the baseline coefficients (keys of
 // Result.Baseline) in design order.
-func (m *Model) BaselineTerms() []string { return slices.Clone(m.sh.names) }
+func (m *Model) BaselineTerms() []string {
+	if m.auto != nil {
+		return slices.Clone(m.auto.terms)
+	}
+	return slices.Clone(m.sh.names)
+}
+
+// Auto reports whether the model chooses each sample's nuisance model
+// (Options.Auto; Result.Model names the choice).
+func (m *Model) Auto() bool { return m.auto != nil }
 
 // Window returns the wavelengths of the fit window.
 func (m *Model) Window() []float64 { return slices.Clone(m.sh.grid[m.sh.lo:m.sh.hi]) }

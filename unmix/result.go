@@ -49,6 +49,11 @@ type Result struct {
 	Points   int                `json:"points_used"`
 	Dropped  int                `json:"points_dropped"`
 	ShiftNM  float64            `json:"shift_nm"`
+	// Model is the nuisance model Options.Auto chose for the sample
+	// ("offset", "linear+scatter", "offset+shift", ...), and ModelScores
+	// what each candidate tried scored; both empty with a fixed model.
+	Model       string       `json:"model,omitempty"`
+	ModelScores []ModelScore `json:"model_scores,omitempty"`
 	// ShiftNM is the applied shift: 0 when none was estimated or the
 	// estimate was within shiftSigmas standard errors of zero (not
 	// determined; the sample is then fitted unshifted).

@@ -59,7 +59,12 @@ interpolation (never extrapolated: a scan must cover the window), corrected
 by the blank (--blank), given the reference set's pre-treatment, cropped to
 the window, and fitted by non-negative least squares: each compound's
 absorptivity times the path length (concentrations >= 0), plus the baseline
-terms (--baseline).
+terms (--baseline). By default (--baseline auto) each sample gets the
+smallest model its own residuals need: from an offset, a slope, a curve,
+a scattering term or a wavelength shift is added while an F-test on the
+drop in residual sum of squares says p < 0.001 (p < 1e-6 for a term that
+can imitate a compound); the chosen model is reported per sample (Model
+column, model and model_scores in JSON). A fixed model fits as given.
 
 Points whose absorbance reads above the ceiling (the reference set's, or
 --ceiling) are left out and counted; when the reference set's
