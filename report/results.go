@@ -25,6 +25,9 @@ type Layout struct {
 	// "model_scores"), and a baseline term the chosen model lacks is
 	// left empty rather than unavailable.
 	Auto bool
+	// Explain: the table ends with what each candidate of the automatic
+	// model scored per sample.
+	Explain bool
 }
 
 // LayoutOf returns the layout of a model's results.

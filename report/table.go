@@ -39,6 +39,8 @@ type tableWriter struct {
 	rows   [][]string
 	seen   map[unmix.Flag]bool
 	failed int
+	// explain holds, with Layout.Explain, each sample's model scores.
+	explain []string
 }
 
 // newTableWriter returns a table writer; width 0 means DefaultWidth.
@@ -74,6 +76,9 @@ func (t *tableWriter) Write(r *unmix.Result) error {
 	row = append(row, fixed(r.ChiSqRed, 2), sig(r.RMS, 2), fixed(r.DW, 2))
 	if t.l.Auto {
 		row = append(row, termText(r.Model))
+	}
+	if t.l.Explain {
+		t.explain = append(t.explain, explainText(r))
 	}
 	flags := sampleFlagsText(r)
 	for _, f := range r.Flags {
@@ -204,8 +209,39 @@ func (t *tableWriter) Close() error {
 		}
 		b.WriteString(unmix.Legend(fs...))
 	}
+	if len(t.explain) > 0 {
+		fmt.Fprintf(&b, "Model choice per sample: a term is added while the F-test of the drop in residual sum of squares\n"+
+			"gives p below its level (%g; %g for a term that can imitate a compound).\n", unmix.AutoLevel, unmix.AutoLevelMimic)
+		for _, e := range t.explain {
+			b.WriteString(e)
+		}
+	}
 	_, err := io.WriteString(t.w, b.String())
 	return err
+}
+
+// explainText is a sample's model scores for --explain: one line per
+// candidate, indented under the sample's name and chosen model.
+func explainText(r *unmix.Result) string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "%s: %s\n", termText(r.Sample), termText(r.Model))
+	for _, s := range r.ModelScores {
+		fmt.Fprintf(&b, "  %-24s", termText(s.Model))
+		switch {
+		case s.Error != "":
+			fmt.Fprintf(&b, " not fitted: %s", termText(s.Error))
+		case s.F == nil:
+			fmt.Fprintf(&b, " RSS %s on %d dof (start)", sig(s.RSS, 4), s.DoF)
+		default:
+			fmt.Fprintf(&b, " RSS %s on %d dof, against %s: F %s, p %s (level %g)",
+				sig(s.RSS, 4), s.DoF, termText(s.Against), sig(*s.F, 4), sig(*s.P, 2), s.Level)
+		}
+		if s.Chosen {
+			b.WriteString("  <- chosen")
+		}
+		b.WriteByte('\n')
+	}
+	return b.String()
 }
 
 // ConcText formats a concentration with its standard error, giving the

@@ -37,6 +37,7 @@ type solveOptions struct {
 	jobs      int
 	checkOnly bool
 	review    solveReview
+	explain   bool
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -188,6 +189,7 @@ func newSolveCmd() *cobra.Command {
 	f.BoolVar(&o.checkOnly, "check-only", false, "read and check every scan without solving it")
 	o.review.flag.add(f)
 	o.method.addUse(f)
+	f.BoolVar(&o.explain, "explain", false, "after the table, what each candidate of --baseline auto scored per sample (JSON always holds it)")
 	return cmd
 }
 
@@ -254,6 +256,9 @@ func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath stri
 	}
 	if o.jobs < 0 {
 		return mopt, q, usagef("-j %d: want a positive number of workers", o.jobs)
+	}
+	if o.explain && (!mopt.Auto || !strings.EqualFold(o.output.format, report.FormatTable)) {
+		return mopt, q, usagef("--explain shows the choice of --baseline auto in the table; with --format json each sample holds model_scores")
 	}
 	if o.checkOnly && (o.output.out != "" || o.output.plots != "" || o.review.on()) {
 		return mopt, q, usagef("--check-only writes no results: leave out -o, --plots and --report")
@@ -462,6 +467,7 @@ func (p *progressLog) update(done, total int) {
 func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, error) {
 	layout := report.LayoutOf(j.model)
 	layout.Run = j.run
+	layout.Explain = o.explain
 	width := outputWidth(cmd.OutOrStdout(), o.output.file())
 	var sum batch.Summary
 	solveAll := func(w io.Writer) error {
