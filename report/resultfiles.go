@@ -23,7 +23,9 @@ import (
 // reduced_chi_square, durbin_watson, r2, condition_number, points_used,
 // points_dropped, shift_nm, shift_se_nm (empty when no shift was
 // estimated), dilution, path_cm, suggest_dilution, one baseline_TERM per
-// baseline term (empty where the chosen model lacks the term), model (the
+// baseline term (empty where the chosen model lacks the term),
+// interferent_NAME and interferent_NAME_se per interferent (its amount in
+// units of its scan, as measured), model (the
 // nuisance model chosen for the sample, with an automatic model only),
 // and flags. Numbers have 6 significant
 // digits; an undefined number is written "n/a"; flags are separated by
@@ -54,6 +56,9 @@ func (c *CSVWriter) columns() []string {
 		"points_used", "points_dropped", "shift_nm", "shift_se_nm", "dilution", "path_cm", "suggest_dilution")
 	for _, b := range c.l.Baseline {
 		h = append(h, "baseline_"+b)
+	}
+	for _, n := range c.l.Interferents {
+		h = append(h, "interferent_"+n, "interferent_"+n+"_se")
 	}
 	if c.l.Auto {
 		h = append(h, "model")
@@ -144,6 +149,14 @@ func (c *CSVWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 			v = math.NaN()
 		}
 		field(v)
+	}
+	for i := range c.l.Interferents {
+		if i < len(r.Interferents) {
+			field(r.Interferents[i].Amount)
+			field(r.Interferents[i].SE)
+		} else {
+			b = append(b, ",n/a,n/a"...)
+		}
 	}
 	if c.l.Auto {
 		b = append(b, ',')
@@ -402,6 +415,22 @@ func (j *jsonWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 			b = appendNum(b, v)
 		}
 		b = append(b, '}')
+	}
+	if len(j.l.Interferents) > 0 {
+		b = append(b, `, "interferents": [`...)
+		for i := range r.Interferents {
+			it := &r.Interferents[i]
+			if i > 0 {
+				b = append(b, ", "...)
+			}
+			b = append(b, `{"name": `...)
+			b = appendString(b, it.Name)
+			pre := "interferent." + it.Name + "."
+			field("amount", pre+"amount", it.Amount)
+			field("se", pre+"se", it.SE)
+			b = append(b, '}')
+		}
+		b = append(b, ']')
 	}
 	field("rms_residual", "", r.RMS)
 	field("reduced_chi_square", "", r.ChiSqRed)

@@ -28,11 +28,14 @@ type Layout struct {
 	// Explain: the table ends with what each candidate of the automatic
 	// model scored per sample.
 	Explain bool
+	// Interferents names the interferents fitted (unmix.Options.Interferents),
+	// each reported as its amount in units of its scan.
+	Interferents []string
 }
 
 // LayoutOf returns the layout of a model's results.
 func LayoutOf(m *unmix.Model) Layout {
-	return Layout{Compounds: m.Compounds(), Units: m.Units(), Baseline: m.BaselineTerms(), Auto: m.Auto()}
+	return Layout{Compounds: m.Compounds(), Units: m.Units(), Baseline: m.BaselineTerms(), Auto: m.Auto(), Interferents: m.Interferents()}
 }
 
 // ResultWriter writes sample results one at a time, in the order given.

@@ -74,6 +74,13 @@ func (t *tableWriter) Write(r *unmix.Result) error {
 		row = append(row, cell)
 	}
 	row = append(row, fixed(r.ChiSqRed, 2), sig(r.RMS, 2), fixed(r.DW, 2))
+	for i := range t.l.Interferents {
+		cell := naText
+		if i < len(r.Interferents) {
+			cell = ConcText(r.Interferents[i].Amount, r.Interferents[i].SE)
+		}
+		row = append(row, cell)
+	}
 	if t.l.Auto {
 		row = append(row, termText(r.Model))
 	}
@@ -127,6 +134,9 @@ func (t *tableWriter) Close() error {
 		header = append(header, termText(n))
 	}
 	header = append(header, figureCols...)
+	for _, n := range t.l.Interferents {
+		header = append(header, termText(n)+" (x scan)")
+	}
 	if t.l.Auto {
 		header = append(header, "Model")
 	}

@@ -191,24 +191,34 @@ func newAuto(opt Options, build func(Options) (*Model, error)) (*Model, error) {
 // sign, leave some compound less than leakLimit of its norm on the usable
 // window rows (lsq.Solver.Leakage): a term that can imitate a compound.
 func (sh *shared) mimics() bool {
-	nb := len(sh.cols) - sh.ncomp
-	if nb == 0 {
+	if len(sh.cols) == sh.ncomp {
 		return false
 	}
+	leak, err := sh.leakAllFree()
+	if err != nil {
+		return true // dependent columns: the terms reproduce a compound
+	}
+	for _, v := range leak {
+		if v < leakLimit {
+			return true
+		}
+	}
+	return false
+}
+
+// leakAllFree returns each compound's leakage (lsq.Solver.Leakage) on the
+// usable window rows with every nuisance column (baseline terms and
+// interferents) free in sign; an error when the columns are dependent.
+func (sh *shared) leakAllFree() ([]float64, error) {
 	nn := make([]bool, len(sh.cols))
 	for k := range sh.ncomp {
 		nn[k] = true
 	}
 	s, err := lsq.NewSolver(sh.design.matrix(sh.rows0), nn, lsq.Options{})
 	if err != nil {
-		return true // dependent columns: the terms reproduce a compound
+		return nil, err
 	}
-	for _, v := range s.Leakage()[:sh.ncomp] {
-		if v < leakLimit {
-			return true
-		}
-	}
-	return false
+	return s.Leakage()[:sh.ncomp], nil
 }
 
 // clone gives a copy of the candidates with fresh scratch storage.

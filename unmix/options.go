@@ -91,6 +91,10 @@ type Options struct {
 	// Every candidate fits the window a shift needs (kept MaxShiftNM
 	// clear of the grid's ends).
 	Auto bool
+	// Interferents are coloured substances present in samples but not
+	// quantified: each gets a free non-negative amount in units of its
+	// scan (Result.Interferents).
+	Interferents []Interferent
 	// Weighted weights points by the reference set's noise model, with
 	// noise growing as 10^A at high absorbance.
 	Weighted bool

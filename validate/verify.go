@@ -453,7 +453,7 @@ func modelMerits(set *reference.Set, opt unmix.Options, minSel float64) (*Merits
 	}
 	return FiguresOfMerit(set, MeritOptions{
 		WindowLo: lo, WindowHi: hi, Baseline: opt.Baseline,
-		Weighted: opt.Weighted, minSelectivity: minSel,
+		Weighted: opt.Weighted, Interferents: opt.Interferents, minSelectivity: minSel,
 	})
 }
 

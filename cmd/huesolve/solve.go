@@ -38,6 +38,7 @@ type solveOptions struct {
 	checkOnly bool
 	review    solveReview
 	explain   bool
+	interf    []string
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -189,6 +190,7 @@ func newSolveCmd() *cobra.Command {
 	f.BoolVar(&o.checkOnly, "check-only", false, "read and check every scan without solving it")
 	o.review.flag.add(f)
 	o.method.addUse(f)
+	f.StringArrayVar(&o.interf, "interferent", nil, "scan `FILE` of a coloured substance present but not quantified: fitted with its own amount, in units of that scan (repeatable)")
 	f.BoolVar(&o.explain, "explain", false, "after the table, what each candidate of --baseline auto scored per sample (JSON always holds it)")
 	return cmd
 }
@@ -263,7 +265,7 @@ func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath stri
 	if o.checkOnly && (o.output.out != "" || o.output.plots != "" || o.review.on()) {
 		return mopt, q, usagef("--check-only writes no results: leave out -o, --plots and --report")
 	}
-	inputs := append([]string{refPath, o.method.use, o.scans.blank, o.samples}, scanInputFiles(scans)...)
+	inputs := append(append([]string{refPath, o.method.use, o.scans.blank, o.samples}, o.interf...), scanInputFiles(scans)...)
 	if err = checkNotInput("-o", o.output.out, inputs...); err != nil {
 		return mopt, q, err
 	}
@@ -307,6 +309,9 @@ func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, sca
 	}
 	var blankSum string
 	if mopt.Blank, blankSum, err = o.scans.readBlank(q, j.warn); err != nil {
+		return err
+	}
+	if mopt.Interferents, err = readInterferents(o.interf, q, j.warn); err != nil {
 		return err
 	}
 	mopt.KeepCurves = o.output.plots != "" || o.review.on()
