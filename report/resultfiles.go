@@ -594,6 +594,9 @@ func appendModelScores(b []byte, ms []unmix.ModelScore) []byte {
 			num("p", *s.P)
 			num("level", s.Level)
 		}
+		if s.Screened {
+			b = append(b, `, "screened": true`...)
+		}
 		b = append(b, `, "chosen": `...)
 		b = strconv.AppendBool(b, s.Chosen)
 		b = append(b, '}')

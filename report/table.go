@@ -245,6 +245,9 @@ func explainText(r *unmix.Result) string {
 		default:
 			fmt.Fprintf(&b, " RSS %s on %d dof, against %s: F %s, p %s (level %g)",
 				sig(s.RSS, 4), s.DoF, termText(s.Against), sig(*s.F, 4), sig(*s.P, 2), s.Level)
+			if s.Screened {
+				b.WriteString(", linearised, not fitted")
+			}
 		}
 		if s.Chosen {
 			b.WriteString("  <- chosen")

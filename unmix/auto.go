@@ -112,6 +112,10 @@ type ModelScore struct {
 	P      *float64 `json:"p,omitempty"`
 	Level  float64  `json:"level,omitempty"`
 	Chosen bool     `json:"chosen,omitempty"`
+	// Screened: a shift tried on the fit without it and scored by the
+	// drop in RSS that its linearisation (the shift's derivative column)
+	// gives, which did not pass; it was not fitted (see solveAuto).
+	Screened bool `json:"screened,omitempty"`
 	// Error says why the candidate could not be fitted (it is then not
 	// tested), e.g. a scan that does not reach far enough for the shift.
 	Error string `json:"error,omitempty"`
@@ -294,6 +298,35 @@ func fSurvival(f, d2 float64) float64 {
 	return 2 * distuv.StudentsT{Mu: 0, Sigma: 1, Nu: d2}.Survival(math.Sqrt(f))
 }
 
+// screen tests adding the shift (candidate e, candidate cur without it)
+// on cur's fit alone: the drop in RSS from the shift's derivative column
+// g, <Mg, r>^2 / <Mg, Mg> (shiftStep), is the extra sum of squares of the
+// linearised shift, the first step of its Gauss-Newton estimate. When
+// that does not pass the level, ms is filled as screened and screen
+// returns true: the shift's iterations and refits are spared. Otherwise
+// the candidate is fitted and tested on its own RSS.
+func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore) bool {
+	kc, ke := a.keys[cur], a.keys[e]
+	mc, me := a.cands[cur], a.cands[e]
+	if kc.shift || !ke.shift || mc.sh.lo != me.sh.lo || mc.sh.hi != me.sh.hi {
+		return false
+	}
+	sc := &a.scans[cur]
+	_, dof0 := mc.objective(sc)
+	num, den := mc.shiftStep(sc, me.sh.dcols)
+	drop := 0.0
+	if den > 0 {
+		drop = num * num / den
+	}
+	ms.RSS, ms.DoF = rss0-drop, dof0-1
+	f, p := fTest(rss0, ms.RSS, ms.DoF)
+	if p < ms.Level {
+		return false
+	}
+	ms.F, ms.P, ms.Screened = &f, &p, true
+	return true
+}
+
 // solveAuto chooses the sample's nuisance model by forward selection among
 // the candidates and fills dst with the chosen candidate's result,
 // Result.Model and Result.ModelScores.
@@ -321,6 +354,10 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		best, bestP := -1, math.Inf(1)
 		for _, e := range a.extensions(cur) {
 			ms := ModelScore{Model: a.keys[e].name(a.power), Against: a.keys[cur].name(a.power), Level: AutoLevel}
+			if a.screen(cur, e, rss0, &ms) {
+				scores = append(scores, ms)
+				continue
+			}
 			if err := try(e); err != nil {
 				ms.Error = fmt.Sprint(err)
 				scores = append(scores, ms)

@@ -226,3 +226,38 @@ func TestAutoScores(t *testing.T) {
 		t.Errorf("clone gave %s %g, model %s %g", r2.Model, r2.Amounts[0].Conc, r.Model, r.Amounts[0].Conc)
 	}
 }
+
+// TestAutoShiftScreened: on a clean sample the shift is scored on the fit
+// without it (its linearised drop in RSS, which the full fit would not
+// beat by much) and not fitted; on a shifted one it passes the screen and
+// is fitted.
+func TestAutoShiftScreened(t *testing.T) {
+	m, err := NewModel(autoSet(), Options{Auto: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range []struct {
+		shift    float64
+		screened bool
+	}{{0, true}, {0.8, false}} {
+		r, err := m.Solve(autoSample(rand.New(rand.NewPCG(5, 6)), []float64{4, 3, 6, 2}, autoTrouble{shiftNM: c.shift}), Factors{})
+		if err != nil {
+			t.Fatal(err)
+		}
+		found := false
+		for _, s := range r.ModelScores {
+			if s.Model == "offset+shift" {
+				found = true
+				if s.Screened != c.screened || s.Screened && s.Chosen {
+					t.Errorf("shift %g nm: %+v, want screened %v", c.shift, s, c.screened)
+				}
+			}
+		}
+		if !found {
+			t.Errorf("shift %g nm: the shift was not tried: %+v", c.shift, r.ModelScores)
+		}
+		if c.shift != 0 && r.Model != "offset+shift" {
+			t.Errorf("shift %g nm: model %s", c.shift, r.Model)
+		}
+	}
+}

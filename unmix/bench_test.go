@@ -18,6 +18,7 @@ func BenchmarkModelSolve(b *testing.B) {
 		{"saturated", Options{}, []float64{5, 3, 2, 32}},
 		{"weighted", Options{Weighted: true}, []float64{5, 3, 2, 8}},
 		{"shift", Options{Shift: true}, []float64{5, 3, 2, 8}},
+		{"auto", Options{Auto: true}, []float64{5, 3, 2, 8}},
 	} {
 		b.Run(c.name, func(b *testing.B) {
 			m := mustModel(b, testSet(4), c.opt)
