@@ -109,3 +109,13 @@ func TestSolveInterferent(t *testing.T) {
 		}
 	}
 }
+
+// TestWindowRefusesAuto: window predicts the errors of one design, so it
+// refuses --baseline auto and says why.
+func TestWindowRefusesAuto(t *testing.T) {
+	ref := writeSolveSet(t, t.TempDir())
+	_, errOut, code := run(t, "window", ref, "--baseline", "auto")
+	if code != exitUsage || !strings.Contains(errOut, "auto chooses each sample's model") {
+		t.Errorf("exit %d, want %d with the reason:\n%s", code, exitUsage, errOut)
+	}
+}
