@@ -23,7 +23,11 @@ import (
 // reduced_chi_square, durbin_watson, r2, condition_number, points_used,
 // points_dropped, shift_nm, shift_se_nm (empty when no shift was
 // estimated), dilution, path_cm, suggest_dilution, one baseline_TERM per
-// baseline term, and flags. Numbers have 6 significant
+// baseline term (empty where the chosen model lacks the term),
+// interferent_NAME and interferent_NAME_se per interferent (its amount in
+// units of its scan, as measured), model (the
+// nuisance model chosen for the sample, with an automatic model only),
+// and flags. Numbers have 6 significant
 // digits; an undefined number is written "n/a"; flags are separated by
 // spaces; fields are quoted as RFC 4180 (and encoding/csv) do. Failed
 // samples are not written (Fail does nothing): the command reports them
@@ -52,6 +56,12 @@ func (c *CSVWriter) columns() []string {
 		"points_used", "points_dropped", "shift_nm", "shift_se_nm", "dilution", "path_cm", "suggest_dilution")
 	for _, b := range c.l.Baseline {
 		h = append(h, "baseline_"+b)
+	}
+	for _, n := range c.l.Interferents {
+		h = append(h, "interferent_"+n, "interferent_"+n+"_se")
+	}
+	if c.l.Auto {
+		h = append(h, "model")
 	}
 	return append(h, "flags")
 }
@@ -131,10 +141,26 @@ func (c *CSVWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 	}
 	for _, t := range c.l.Baseline {
 		v, ok := r.Baseline[t]
+		if !ok && c.l.Auto {
+			b = append(b, ',')
+			continue
+		}
 		if !ok {
 			v = math.NaN()
 		}
 		field(v)
+	}
+	for i := range c.l.Interferents {
+		if i < len(r.Interferents) {
+			field(r.Interferents[i].Amount)
+			field(r.Interferents[i].SE)
+		} else {
+			b = append(b, ",n/a,n/a"...)
+		}
+	}
+	if c.l.Auto {
+		b = append(b, ',')
+		b = appendCSVText(b, r.Model)
 	}
 	b = append(b, ',')
 	b = appendCSVText(b, joinFlags(r.Flags, " "))
@@ -373,6 +399,9 @@ func (j *jsonWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 		first := true
 		for _, t := range j.l.Baseline {
 			v, ok := r.Baseline[t]
+			if !ok && j.l.Auto {
+				continue // not in the model chosen for the sample
+			}
 			if !ok || !finite(v) {
 				na = append(na, "baseline."+t)
 				continue
@@ -386,6 +415,22 @@ func (j *jsonWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 			b = appendNum(b, v)
 		}
 		b = append(b, '}')
+	}
+	if len(j.l.Interferents) > 0 {
+		b = append(b, `, "interferents": [`...)
+		for i := range r.Interferents {
+			it := &r.Interferents[i]
+			if i > 0 {
+				b = append(b, ", "...)
+			}
+			b = append(b, `{"name": `...)
+			b = appendString(b, it.Name)
+			pre := "interferent." + it.Name + "."
+			field("amount", pre+"amount", it.Amount)
+			field("se", pre+"se", it.SE)
+			b = append(b, '}')
+		}
+		b = append(b, ']')
 	}
 	field("rms_residual", "", r.RMS)
 	field("reduced_chi_square", "", r.ChiSqRed)
@@ -404,6 +449,11 @@ func (j *jsonWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 	field("path_cm", "", r.PathCM)
 	if r.SuggestDilution > 0 {
 		field("suggest_dilution", "", r.SuggestDilution)
+	}
+	if j.l.Auto {
+		b = append(b, `, "model": `...)
+		b = appendString(b, r.Model)
+		b = appendModelScores(b, r.ModelScores)
 	}
 	b = appendFlags(b, r.Flags)
 	if len(na) > 0 {
@@ -501,4 +551,55 @@ func appendString(b []byte, s string) []byte {
 		i += size
 	}
 	return append(b, '"')
+}
+
+// appendModelScores appends `, "model_scores": [...]`: per candidate of
+// the automatic model, its name, the model it was tested against, its
+// residual sum of squares and degrees of freedom, the F statistic and
+// p-value of the added term with the level it had to pass, whether it
+// was chosen, and why it could not be fitted. Numbers that are not
+// finite, and the test of the floor, are left out.
+func appendModelScores(b []byte, ms []unmix.ModelScore) []byte {
+	b = append(b, `, "model_scores": [`...)
+	num := func(name string, v float64) {
+		if finite(v) {
+			b = append(b, `, "`+name+`": `...)
+			b = appendNum(b, v)
+		}
+	}
+	for i := range ms {
+		s := &ms[i]
+		if i > 0 {
+			b = append(b, ", "...)
+		}
+		b = append(b, `{"model": `...)
+		b = appendString(b, s.Model)
+		if s.Against != "" {
+			b = append(b, `, "against": `...)
+			b = appendString(b, s.Against)
+		}
+		if s.Error != "" {
+			b = append(b, `, "error": `...)
+			b = appendString(b, s.Error)
+			b = append(b, '}')
+			continue
+		}
+		num("rss", s.RSS)
+		b = append(b, `, "dof": `...)
+		b = strconv.AppendInt(b, int64(s.DoF), 10)
+		if s.F != nil {
+			num("f", *s.F)
+		}
+		if s.P != nil {
+			num("p", *s.P)
+			num("level", s.Level)
+		}
+		if s.Screened {
+			b = append(b, `, "screened": true`...)
+		}
+		b = append(b, `, "chosen": `...)
+		b = strconv.AppendBool(b, s.Chosen)
+		b = append(b, '}')
+	}
+	return append(b, ']')
 }

@@ -23,11 +23,22 @@ type Layout struct {
 	// Run is the run's record, written at the head of CSV and JSON
 	// files (nil: none).
 	Run *provenance.Run
+	// Auto: each sample's nuisance model is chosen (unmix.Options.Auto);
+	// the results then name it (a model column, JSON's "model" and
+	// "model_scores"), and a baseline term the chosen model lacks is
+	// left empty rather than unavailable.
+	Auto bool
+	// Explain: the table ends with what each candidate of the automatic
+	// model scored per sample.
+	Explain bool
+	// Interferents names the interferents fitted (unmix.Options.Interferents),
+	// each reported as its amount in units of its scan.
+	Interferents []string
 }
 
 // LayoutOf returns the layout of a model's results.
 func LayoutOf(m *unmix.Model) Layout {
-	return Layout{Compounds: m.Compounds(), Units: m.Units(), Baseline: m.BaselineTerms(), PathCM: m.PathCM()}
+	return Layout{Compounds: m.Compounds(), Units: m.Units(), Baseline: m.BaselineTerms(), PathCM: m.PathCM(), Auto: m.Auto(), Interferents: m.Interferents()}
 }
 
 // ResultWriter writes sample results one at a time, in the order given.

@@ -150,6 +150,21 @@ func (sp *samplePlot) spectraPanel(names []string) (*plot.Plot, error) {
 		}
 		spectra.Legend.Add("baseline", b)
 	}
+	for i, c := range r.InterferentCurves {
+		if len(c) != len(r.Grid) || i >= len(r.Interferents) {
+			return nil, errors.New("interferent curve of unequal length")
+		}
+		l, err := sp.lines(spectra, c, func(l *plotter.Line) {
+			l.Color = colour(len(r.Contributions) + i)
+			l.Width = vg.Points(1.2)
+			l.Dashes = []vg.Length{vg.Points(1), vg.Points(3)}
+		})
+		if err != nil {
+			return nil, err
+		}
+		it := r.Interferents[i]
+		spectra.Legend.Add(fmt.Sprintf("%s (interferent) %s x scan", termText(it.Name), ConcText(it.Amount, it.SE)), l)
+	}
 	fit, err := sp.lines(spectra, r.Fitted, func(l *plotter.Line) {
 		l.Color = fittedColour
 		l.Width = vg.Points(1.3)

@@ -42,6 +42,8 @@ type tableWriter struct {
 	// factors are each row's dilution and path length (cm), shown in
 	// columns of their own when any row's differs from 1 / Layout.PathCM.
 	factors [][2]float64
+	// explain holds, with Layout.Explain, each sample's model scores.
+	explain []string
 }
 
 // newTableWriter returns a table writer; width 0 means DefaultWidth.
@@ -75,6 +77,19 @@ func (t *tableWriter) Write(r *unmix.Result) error {
 		row = append(row, cell)
 	}
 	row = append(row, fixed(r.ChiSqRed, 2), sig(r.RMS, 2), fixed(r.DW, 2))
+	for i := range t.l.Interferents {
+		cell := naText
+		if i < len(r.Interferents) {
+			cell = ConcText(r.Interferents[i].Amount, r.Interferents[i].SE)
+		}
+		row = append(row, cell)
+	}
+	if t.l.Auto {
+		row = append(row, termText(r.Model))
+	}
+	if t.l.Explain {
+		t.explain = append(t.explain, explainText(r))
+	}
 	flags := sampleFlagsText(r)
 	for _, f := range r.Flags {
 		t.seen[f] = true
@@ -159,6 +174,12 @@ func (t *tableWriter) Close() error {
 		header = append(header, termText(n))
 	}
 	header = append(header, figureCols...)
+	for _, n := range t.l.Interferents {
+		header = append(header, termText(n)+" (x scan)")
+	}
+	if t.l.Auto {
+		header = append(header, "Model")
+	}
 	header = t.factorColumns(append(header, "Flags"))
 	nc := len(t.l.Compounds)
 
@@ -238,8 +259,42 @@ func (t *tableWriter) Close() error {
 		}
 		b.WriteString(unmix.Legend(fs...))
 	}
+	if len(t.explain) > 0 {
+		fmt.Fprintf(&b, "Model choice per sample: a term is added while the F-test of the drop in residual sum of squares\n"+
+			"gives p below its level (%g; %g for a term that can imitate a compound).\n", unmix.AutoLevel, unmix.AutoLevelMimic)
+		for _, e := range t.explain {
+			b.WriteString(e)
+		}
+	}
 	_, err := io.WriteString(t.w, b.String())
 	return err
+}
+
+// explainText is a sample's model scores for --explain: one line per
+// candidate, indented under the sample's name and chosen model.
+func explainText(r *unmix.Result) string {
+	var b strings.Builder
+	fmt.Fprintf(&b, "%s: %s\n", termText(r.Sample), termText(r.Model))
+	for _, s := range r.ModelScores {
+		fmt.Fprintf(&b, "  %-24s", termText(s.Model))
+		switch {
+		case s.Error != "":
+			fmt.Fprintf(&b, " not fitted: %s", termText(s.Error))
+		case s.F == nil:
+			fmt.Fprintf(&b, " RSS %s on %d dof (start)", sig(s.RSS, 4), s.DoF)
+		default:
+			fmt.Fprintf(&b, " RSS %s on %d dof, against %s: F %s, p %s (level %g)",
+				sig(s.RSS, 4), s.DoF, termText(s.Against), sig(*s.F, 4), sig(*s.P, 2), s.Level)
+			if s.Screened {
+				b.WriteString(", linearised, not fitted")
+			}
+		}
+		if s.Chosen {
+			b.WriteString("  <- chosen")
+		}
+		b.WriteByte('\n')
+	}
+	return b.String()
 }
 
 // ConcText formats a concentration with its standard error, giving the

@@ -34,8 +34,11 @@ type Design struct {
 	nonNeg []bool
 	// NComp is the number of compound columns.
 	NComp int
-	// Terms are the names of the baseline columns.
+	// Terms are the names of the nuisance columns: the baseline terms,
+	// then "interferent:NAME" per interferent.
 	Terms []string
+	// interf names the interferents, whose columns end Cols.
+	interf []string
 }
 
 // WindowRange returns the window [lo, hi) of grid holding loNM..hiNM
@@ -75,7 +78,11 @@ func UsableRows(set *reference.Set, lo, hi int) []int {
 // model. Errors, without a package prefix, are those of model.Check on
 // the window's wavelengths and a baseline that gives columns of the
 // wrong sizes.
-func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM float64) (*Design, error) {
+//
+// Interferents, if any, add a non-negative column each after the baseline
+// terms (their scans on the window); a scan that does not cover the
+// window, or is a near-copy of a compound, is refused naming it.
+func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM float64, interferents ...Interferent) (*Design, error) {
 	g := set.Grid
 	if lo < 0 || hi > len(g) || hi <= lo {
 		return nil, fmt.Errorf("window rows %d-%d of a %d-point grid: %w", lo, hi, len(g), ErrCoverage)
@@ -105,6 +112,26 @@ func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM floa
 	d.Cols = append(d.Cols, bcols...)
 	d.nonNeg = append(d.nonNeg, bnn...)
 	d.Terms = bnames
+	if len(interferents) == 0 {
+		return d, nil
+	}
+	names := make([]string, 0, len(set.Compounds))
+	for _, c := range set.Compounds {
+		names = append(names, c.Name)
+	}
+	for _, it := range interferents {
+		col, err := it.column(wl)
+		if err != nil {
+			return nil, err
+		}
+		d.Cols = append(d.Cols, col)
+		d.nonNeg = append(d.nonNeg, true)
+		d.Terms = append(d.Terms, interferentTerm+it.Name)
+		d.interf = append(d.interf, it.Name)
+	}
+	if err := d.checkCopies(names); err != nil {
+		return nil, err
+	}
 	return d, nil
 }
 

@@ -46,21 +46,22 @@ func (m *Model) fill(dst *Result, sc *scan) {
 	sh, res := m.sh, sc.res
 	f := m.figures(sc)
 	*dst = Result{
-		Sample:   sc.name,
-		Source:   sc.s.Source.String(),
-		Amounts:  grow(dst.Amounts, sh.ncomp),
-		Baseline: dst.Baseline,
-		Flags:    dst.Flags[:0],
-		RMS:      res.RMS,
-		ChiSqRed: f.chiRed,
-		DW:       res.DW,
-		R2:       res.R2,
-		Cond:     sc.d.cond,
-		Points:   len(sc.d.rows),
-		Dropped:  sc.dropped,
-		ShiftNM:  sc.shift,
-		Dilution: sc.dil,
-		PathCM:   sc.path,
+		Sample:       sc.name,
+		Source:       sc.s.Source.String(),
+		Amounts:      grow(dst.Amounts, sh.ncomp),
+		Baseline:     dst.Baseline,
+		Interferents: dst.Interferents,
+		Flags:        dst.Flags[:0],
+		RMS:          res.RMS,
+		ChiSqRed:     f.chiRed,
+		DW:           res.DW,
+		R2:           res.R2,
+		Cond:         sc.d.cond,
+		Points:       len(sc.d.rows),
+		Dropped:      sc.dropped,
+		ShiftNM:      sc.shift,
+		Dilution:     sc.dil,
+		PathCM:       sc.path,
 	}
 	if len(sh.names) > 0 {
 		if dst.Baseline == nil {
@@ -74,6 +75,18 @@ func (m *Model) fill(dst *Result, sc *scan) {
 	}
 	for k := range sh.ncomp {
 		m.amount(&dst.Amounts[k], k, sc, f)
+	}
+	dst.Interferents = dst.Interferents[:0]
+	first := len(sh.cols) - len(sh.interf)
+	for i, nm := range sh.interf {
+		se := res.SE[first+i]
+		if m.opt.Weighted {
+			se *= f.inflate
+		}
+		dst.Interferents = append(dst.Interferents, InterferentAmount{Name: nm, Amount: res.Coef[first+i], SE: se})
+	}
+	if len(dst.Interferents) == 0 {
+		dst.Interferents = nil
 	}
 	m.sampleFlags(dst, sc, f)
 	if sc.notInSheet {
@@ -92,6 +105,7 @@ func (m *Model) fill(dst *Result, sc *scan) {
 	} else {
 		dst.Grid, dst.Measured, dst.Fitted, dst.Residual = nil, nil, nil, nil
 		dst.Contributions, dst.BaselineCurve, dst.Noise, dst.Gaps = nil, nil, nil, nil
+		dst.InterferentCurves = nil
 	}
 }
 
@@ -145,7 +159,7 @@ func (m *Model) amount(a *Amount, k int, sc *scan, f fitFigures) {
 	if sh.maxStd[k] > 0 && coef*f.cell > sh.maxStd[k] {
 		a.Flags = append(a.Flags, FlagOverRange)
 	}
-	if sc.d.leak != nil && sc.d.leak[k] < leakLimit {
+	if sc.d.leak != nil && sc.d.leak[k] < leakLimit || sh.interfLeak != nil && sh.interfLeak[k] < leakLimit {
 		a.Flags = append(a.Flags, FlagMimic)
 	}
 }
@@ -236,6 +250,11 @@ func (m *Model) curves(dst *Result, sc *scan) {
 	dst.Residual = make([]float64, n)
 	dst.Noise = make([]float64, n)
 	dst.BaselineCurve = make([]float64, n)
+	first := len(sh.cols) - len(sh.interf)
+	dst.InterferentCurves = nil
+	for range sh.interf {
+		dst.InterferentCurves = append(dst.InterferentCurves, make([]float64, n))
+	}
 	dst.Contributions = make([][]float64, sh.ncomp)
 	for k := range dst.Contributions {
 		dst.Contributions[k] = make([]float64, n)
@@ -249,8 +268,11 @@ func (m *Model) curves(dst *Result, sc *scan) {
 		for k := range sh.ncomp {
 			dst.Contributions[k][i] = sc.res.Coef[k] * sh.cols[k][r]
 		}
-		for j := sh.ncomp; j < len(sh.cols); j++ {
+		for j := sh.ncomp; j < first; j++ {
 			dst.BaselineCurve[i] += sc.res.Coef[j] * sh.cols[j][r]
+		}
+		for j := range sh.interf {
+			dst.InterferentCurves[j][i] = sc.res.Coef[first+j] * sh.cols[first+j][r]
 		}
 	}
 	dst.Gaps = gaps(nil, wl, d.rows, sh.rows0)

@@ -17,24 +17,30 @@ import (
 
 // shared is the immutable part of a model, shared by its clones.
 type shared struct {
-	set     *reference.Set
-	opt     Options
-	grid    []float64 // set grid
-	lo, hi  int       // window [lo, hi) on the set grid
-	wlo     int       // work range [wlo, whi) on the set grid
-	whi     int       // (the whole grid with pre-treatment, else the window)
-	needLo  float64   // nm a scan must cover
-	needHi  float64
-	design  *Design     // rows, columns and signs on the window
-	rows0   []int       // usable window rows (reference set's Usable): design.Rows
-	cols    [][]float64 // design columns on the window (compounds, then baseline): design.Cols
-	dcols   [][]float64 // d/dl of compound columns on the window (shift only)
-	nonneg  []bool      // design.nonNeg
-	ncomp   int
-	names   []string  // baseline term names
-	noise   []float64 // floored calibration noise on the window (reference.Set.NoiseFloor)
-	ceiling float64
-	maxStd  []float64 // highest concentration in the cell not flagged FlagOverRange
+	set    *reference.Set
+	opt    Options
+	grid   []float64 // set grid
+	lo, hi int       // window [lo, hi) on the set grid
+	wlo    int       // work range [wlo, whi) on the set grid
+	whi    int       // (the whole grid with pre-treatment, else the window)
+	needLo float64   // nm a scan must cover
+	needHi float64
+	design *Design     // rows, columns and signs on the window
+	rows0  []int       // usable window rows (reference set's Usable): design.Rows
+	cols   [][]float64 // design columns on the window (compounds, then baseline): design.Cols
+	dcols  [][]float64 // d/dl of compound columns on the window (shift only)
+	nonneg []bool      // design.nonNeg
+	ncomp  int
+	names  []string // baseline term names
+	interf []string // interferent names; their columns end cols
+	// interfLeak is each compound's leakage with the baseline terms and
+	// the interferents all free (nil without interferents): an
+	// interferent that imitates a compound raises FlagMimic as a
+	// baseline term does.
+	interfLeak []float64
+	noise      []float64 // floored calibration noise on the window (reference.Set.NoiseFloor)
+	ceiling    float64
+	maxStd     []float64 // highest concentration in the cell not flagged FlagOverRange
 	// fullNorm is the norm of each compound's column over the whole grid.
 	fullNorm []float64
 	smooth   bool // pre-treatment correlates neighbouring residuals (Savitzky-Golay)
@@ -79,6 +85,10 @@ type Model struct {
 	cache map[string]*design
 	tq    map[int]float64
 	buf   scratch
+	// auto, with Options.Auto, holds the candidate models the sample's
+	// nuisance model is chosen from (auto.go); the model's own design is
+	// then the floor's.
+	auto *autoModel
 }
 
 // scratch is per-clone storage reused from one sample to the next, so
@@ -123,6 +133,14 @@ func NewModel(set *reference.Set, opt Options) (*Model, error) {
 	}
 	if err := sh.window(); err != nil {
 		return nil, err
+	}
+	if opt.Auto {
+		// Every candidate fits the same window: the one a shift needs.
+		lo, hi := sh.autoWindow()
+		return newAuto(opt, func(o Options) (*Model, error) {
+			o.WindowLo, o.WindowHi = lo, hi
+			return NewModel(set, o)
+		})
 	}
 	if err := sh.columns(); err != nil {
 		return nil, err
@@ -227,12 +245,18 @@ func (sh *shared) window() error {
 // and the floored noise.
 func (sh *shared) columns() error {
 	set := sh.set
-	d, err := NewDesign(set, sh.lo, sh.hi, sh.opt.Baseline, set.PathCM)
+	d, err := NewDesign(set, sh.lo, sh.hi, sh.opt.Baseline, set.PathCM, sh.opt.Interferents...)
 	if err != nil {
 		return pkgerr.Errorf("unmix", "%w", err)
 	}
 	sh.design = d
-	sh.rows0, sh.cols, sh.nonneg, sh.names = d.Rows, d.Cols, d.nonNeg, d.Terms
+	nb := len(d.Terms) - len(d.interf)
+	sh.rows0, sh.cols, sh.nonneg, sh.names, sh.interf = d.Rows, d.Cols, d.nonNeg, d.Terms[:nb], d.interf
+	if len(sh.interf) > 0 {
+		if sh.interfLeak, err = sh.leakAllFree(); err != nil {
+			return pkgerr.Errorf("unmix", "with interferents %v: %w", sh.interf, err)
+		}
+	}
 	for _, c := range set.Compounds {
 		sh.maxStd = append(sh.maxStd, upperLimit(c))
 		sh.fullNorm = append(sh.fullNorm, floats.Norm(c.Absorptivity, 2)*set.PathCM)
@@ -279,6 +303,9 @@ func (m *Model) init(base *design) {
 // another goroutine.
 func (m *Model) Clone() *Model {
 	c := &Model{set: m.set, opt: m.opt, sh: m.sh}
+	if m.auto != nil {
+		c.auto = m.auto.clone()
+	}
 	b := *m.sh.base
 	b.solver = m.sh.base.solver.Clone()
 	c.init(&b)
@@ -309,7 +336,20 @@ func (m *Model) PathCM() float64 { return m.set.PathCM }
 
 // BaselineTerms returns the names of the baseline coefficients (keys of
 // Result.Baseline) in design order.
-func (m *Model) BaselineTerms() []string { return slices.Clone(m.sh.names) }
+func (m *Model) BaselineTerms() []string {
+	if m.auto != nil {
+		return slices.Clone(m.auto.terms)
+	}
+	return slices.Clone(m.sh.names)
+}
+
+// Interferents returns the names of the interferents (Options.Interferents)
+// in result order.
+func (m *Model) Interferents() []string { return slices.Clone(m.sh.interf) }
+
+// Auto reports whether the model chooses each sample's nuisance model
+// (Options.Auto; Result.Model names the choice).
+func (m *Model) Auto() bool { return m.auto != nil }
 
 // Window returns the wavelengths of the fit window.
 func (m *Model) Window() []float64 { return slices.Clone(m.sh.grid[m.sh.lo:m.sh.hi]) }

@@ -81,8 +81,20 @@ type Options struct {
 	// WindowLo, WindowHi crop the fit to a wavelength window (nm); both 0
 	// means the whole reference grid.
 	WindowLo, WindowHi float64
-	// Baseline chooses the nuisance terms.
+	// Baseline chooses the nuisance terms; with Auto it is the floor
+	// the selection starts from.
 	Baseline baseline.Model
+	// Auto chooses each sample's nuisance model (auto.go): from Baseline
+	// (and a shift when Shift is set) terms are added one at a time,
+	// the next polynomial degree up to quadratic, the scattering term
+	// or a wavelength shift, while an F-test says the data need them.
+	// Every candidate fits the window a shift needs (kept MaxShiftNM
+	// clear of the grid's ends).
+	Auto bool
+	// Interferents are coloured substances present in samples but not
+	// quantified: each gets a free non-negative amount in units of its
+	// scan (Result.Interferents).
+	Interferents []Interferent
 	// Weighted weights points by the reference set's noise model, with
 	// noise growing as 10^A at high absorbance.
 	Weighted bool

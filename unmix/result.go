@@ -49,6 +49,15 @@ type Result struct {
 	Points   int                `json:"points_used"`
 	Dropped  int                `json:"points_dropped"`
 	ShiftNM  float64            `json:"shift_nm"`
+	// Model is the nuisance model Options.Auto chose for the sample
+	// ("offset", "linear+scatter", "offset+shift", ...), and ModelScores
+	// what each candidate tried scored; both empty with a fixed model.
+	Model string `json:"model,omitempty"`
+	// Interferents are the fitted amounts of Options.Interferents, in
+	// units of each one's scan as given (1: as much as in that scan, in
+	// the cell as measured: no dilution or path applied).
+	Interferents []InterferentAmount `json:"interferents,omitempty"`
+	ModelScores  []ModelScore        `json:"model_scores,omitempty"`
 	// ShiftNM is the applied shift: 0 when none was estimated or the
 	// estimate was within shiftSigmas standard errors of zero (not
 	// determined; the sample is then fitted unshifted).
@@ -85,11 +94,21 @@ type Result struct {
 	Residual      []float64   `json:"-"`
 	Contributions [][]float64 `json:"-"`
 	BaselineCurve []float64   `json:"-"`
-	Noise         []float64   `json:"-"`
+	// InterferentCurves are the interferents' fitted parts (with
+	// KeepCurves), one per interferent.
+	InterferentCurves [][]float64 `json:"-"`
+	Noise             []float64   `json:"-"`
 	// Gaps are the stretches of the window the fit left out, in
 	// wavelength order (with Options.KeepCurves): plots break their
 	// lines there instead of drawing across.
 	Gaps []Gap `json:"-"`
+}
+
+// InterferentAmount is one interferent's fitted amount in a sample.
+type InterferentAmount struct {
+	Name   string  `json:"name"`
+	Amount float64 `json:"amount"`
+	SE     float64 `json:"se"`
 }
 
 // Gap is a run of consecutive window points left out of a fit.

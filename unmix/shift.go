@@ -49,44 +49,10 @@ func (m *Model) fitShift(sc *scan) error {
 // sample's bands lie at longer wavelengths than the references', with
 // sc.shiftDen and sc.pg = P g from the last iteration.
 func (m *Model) estimateShift(sc *scan) error {
-	sh, b := m.sh, &m.buf
-	d := sc.d
-	n, p := len(d.rows), len(sh.cols)
-	b.g = grow(b.g, n)
-	g := b.g
-	b.pg = grow(b.pg, p)
-	sc.pg = b.pg
 	lim := m.opt.MaxShiftNM
-	weighted := m.opt.Weighted
 	delta := 0.0
-	xr := d.x.RawMatrix()
 	for range shiftMaxIter {
-		// g on the fit rows.
-		for i, r := range d.rows {
-			v := 0.0
-			for k := range sh.ncomp {
-				v += sc.res.Coef[k] * sh.dcols[k][r]
-			}
-			g[i] = v
-		}
-		// P g, then M g = g - X (P g) and <Mg, r>, whitened when weighted.
-		for k := range p {
-			sc.pg[k] = floats.Dot(d.solver.PseudoInverseRow(k), g)
-		}
-		num, den := 0.0, 0.0
-		for i, r := range d.rows {
-			fit := 0.0
-			for k, v := range xr.Data[i*xr.Stride : i*xr.Stride+p] {
-				fit += v * sc.pg[k]
-			}
-			mg, res := g[i]-fit, sc.res.Residual[i]
-			if weighted {
-				mg /= sc.sig[r]
-				res /= sc.sig[r]
-			}
-			num += mg * res
-			den += mg * mg
-		}
+		num, den := m.shiftStep(sc, m.sh.dcols)
 		sc.shiftDen = den
 		if !(den > 0) {
 			break
@@ -169,4 +135,44 @@ func interpNoise(wl, grid []float64, rows []int, delta float64) float64 {
 		return 1
 	}
 	return sum / float64(len(rows))
+}
+
+// shiftStep computes, for the scan's current fit, the shift direction
+// g = sum_k c_k dcols_k on the fit rows, sc.pg = P g, and the products
+// <M g, r> and <M g, M g> with M = I - X P (whitened by the noise when
+// weighted): the shift's next step is -num/den, and num^2/den is the drop
+// in the residual sum of squares that adding g as a column would give.
+func (m *Model) shiftStep(sc *scan, dcols [][]float64) (num, den float64) {
+	sh, b := m.sh, &m.buf
+	d := sc.d
+	n, p := len(d.rows), len(sh.cols)
+	b.g = grow(b.g, n)
+	g := b.g
+	b.pg = grow(b.pg, p)
+	sc.pg = b.pg
+	xr := d.x.RawMatrix()
+	for i, r := range d.rows {
+		v := 0.0
+		for k := range sh.ncomp {
+			v += sc.res.Coef[k] * dcols[k][r]
+		}
+		g[i] = v
+	}
+	for k := range p {
+		sc.pg[k] = floats.Dot(d.solver.PseudoInverseRow(k), g)
+	}
+	for i, r := range d.rows {
+		fit := 0.0
+		for k, v := range xr.Data[i*xr.Stride : i*xr.Stride+p] {
+			fit += v * sc.pg[k]
+		}
+		mg, res := g[i]-fit, sc.res.Residual[i]
+		if m.opt.Weighted {
+			mg /= sc.sig[r]
+			res /= sc.sig[r]
+		}
+		num += mg * res
+		den += mg * mg
+	}
+	return num, den
 }

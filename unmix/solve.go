@@ -73,28 +73,42 @@ func (m *Model) Solve(s *spectrum.Spectrum, f Factors) (*Result, error) {
 // dilution or path length. A fit that hits the iteration cap is not an
 // error: it is flagged FlagNoConverge.
 func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
-	sc, err := m.prepare(s, f)
+	if m.auto != nil {
+		return m.solveAuto(dst, s, f)
+	}
+	sc, err := m.run(s, f)
 	if err != nil {
 		return err
 	}
+	m.fill(dst, &sc)
+	return nil
+}
+
+// run reads, fits and (with Options.Shift) shifts one sample: every step
+// of SolveTo but filling the result. The scan's slices are views of the
+// model's storage, valid until its next solve.
+func (m *Model) run(s *spectrum.Spectrum, f Factors) (scan, error) {
+	sc, err := m.prepare(s, f)
+	if err != nil {
+		return sc, err
+	}
 	if err := m.read(&sc); err != nil {
-		return sc.fail(err)
+		return sc, sc.fail(err)
 	}
 	m.noise(&sc)
 	if sc.d, err = m.designFor(&sc); err != nil {
-		return sc.fail(err)
+		return sc, sc.fail(err)
 	}
 	if err := m.fit(&sc); err != nil {
-		return sc.fail(err)
+		return sc, sc.fail(err)
 	}
 	sc.interpVar = 1
 	if m.opt.Shift {
 		if err := m.fitShift(&sc); err != nil {
-			return sc.fail(err)
+			return sc, sc.fail(err)
 		}
 	}
-	m.fill(dst, &sc)
-	return nil
+	return sc, nil
 }
 
 // fail names the sample in err.

@@ -75,12 +75,12 @@ func checkSet(set *reference.Set) error {
 // the whole grid) with unmix.NewDesign, the builder solve uses, on the
 // rows it keeps. path is the path length in cm; sigma > 0 replaces the
 // set's noise model by a constant.
-func newDesign(set *reference.Set, loNM, hiNM float64, model baseline.Model, path, sigma float64) (*design, error) {
+func newDesign(set *reference.Set, loNM, hiNM float64, model baseline.Model, path, sigma float64, interf ...unmix.Interferent) (*design, error) {
 	lo, hi := unmix.WindowRange(set.Grid, loNM, hiNM)
 	if hi <= lo {
 		return nil, errWindow
 	}
-	ud, err := unmix.NewDesign(set, lo, hi, model, path)
+	ud, err := unmix.NewDesign(set, lo, hi, model, path, interf...)
 	if err != nil {
 		return nil, pkgerr.Errorf("validate", "baseline model on %g-%g nm: %w", set.Grid[lo], set.Grid[hi-1], err)
 	}

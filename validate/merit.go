@@ -47,6 +47,10 @@ type MeritOptions struct {
 	// Weighted computes the standard errors and limits for a fit
 	// weighted by the noise model (1/σ²) instead of an unweighted one.
 	Weighted bool
+	// Interferents are substances present but not quantified
+	// (unmix.Options.Interferents): nuisance columns like the baseline
+	// terms, so a compound they overlap loses selectivity.
+	Interferents []unmix.Interferent
 	// minSelectivity is the refusal threshold (0: DefaultMinSelectivity),
 	// set from VerifyOptions.MinSelectivity.
 	minSelectivity float64
@@ -162,7 +166,7 @@ func FiguresOfMerit(set *reference.Set, opt MeritOptions) (*Merits, error) {
 	if minSel == 0 {
 		minSel = DefaultMinSelectivity
 	}
-	d, err := newDesign(set, opt.WindowLo, opt.WindowHi, opt.Baseline, path, opt.Sigma)
+	d, err := newDesign(set, opt.WindowLo, opt.WindowHi, opt.Baseline, path, opt.Sigma, opt.Interferents...)
 	if err != nil {
 		return nil, err
 	}

@@ -437,9 +437,11 @@ func ModelMerits(set *reference.Set, opt unmix.Options) (*Merits, error) {
 // modelMerits is ModelMerits with a refusal threshold (0: the default).
 func modelMerits(set *reference.Set, opt unmix.Options, minSel float64) (*Merits, error) {
 	lo, hi := opt.WindowLo, opt.WindowHi
-	if opt.Shift && len(set.Grid) > 1 {
+	if (opt.Shift || opt.Auto) && len(set.Grid) > 1 {
 		// The sample model keeps the maximum shift clear of the grid's
-		// ends; so do the merits.
+		// ends (with Auto too, where a shift is a candidate); so do the
+		// merits, on the design of the model's fixed part (with Auto its
+		// floor: the terms a sample adds are not known in advance).
 		if lo == 0 && hi == 0 {
 			lo, hi = set.Grid[0], set.Grid[len(set.Grid)-1]
 		}
@@ -451,7 +453,7 @@ func modelMerits(set *reference.Set, opt unmix.Options, minSel float64) (*Merits
 	}
 	return FiguresOfMerit(set, MeritOptions{
 		WindowLo: lo, WindowHi: hi, Baseline: opt.Baseline,
-		Weighted: opt.Weighted, minSelectivity: minSel,
+		Weighted: opt.Weighted, Interferents: opt.Interferents, minSelectivity: minSel,
 	})
 }
 

@@ -47,16 +47,21 @@ type fitFlags struct {
 	ceiling  float64
 }
 
+// valAutoBaseline is the --baseline value that chooses each sample's
+// nuisance model (unmix.Options.Auto), the default of solve and verify.
+const valAutoBaseline = "auto"
+
 // addDesign binds --baseline and --weighted, which fix the design of the
-// fit (window predicts errors from them).
+// fit (window predicts errors from them, with a fixed model only).
 func (f *fitFlags) addDesign(fs *pflag.FlagSet) {
 	fs.StringVar(&f.baseline, "baseline", valDefaultBaseline, "baseline `MODEL`: none, offset, linear, quadratic or cubic, optionally +scatter[=POWER]")
 	fs.BoolVar(&f.weighted, "weighted", false, "weight wavelengths by the reference set's noise model")
 }
 
-// add binds every fit flag (solve, verify).
+// add binds every fit flag (solve, verify); --baseline defaults to auto.
 func (f *fitFlags) add(fs *pflag.FlagSet) {
-	f.addDesign(fs)
+	fs.StringVar(&f.baseline, "baseline", valAutoBaseline, "baseline `MODEL`: auto (per sample, the smallest of offset, linear, quadratic, +scatter and a shift that the data need: F-test at p < 0.001), or a fixed none, offset, linear, quadratic or cubic, optionally +scatter[=POWER]")
+	fs.BoolVar(&f.weighted, "weighted", false, "weight wavelengths by the reference set's noise model")
 	fs.StringVar(&f.window, "window", "", "wavelength window `LO-HI` in nm for the fit (default: the whole reference grid)")
 	fs.BoolVar(&f.shift, "shift", false, "estimate a wavelength shift of each scan")
 	fs.Float64Var(&f.maxShift, "max-shift", unmix.DefaultMaxShiftNM, "largest shift in nm that --shift may find")
@@ -66,13 +71,18 @@ func (f *fitFlags) add(fs *pflag.FlagSet) {
 // unusedNote returns a note when --max-shift was given without --shift,
 // which alone uses it ("" otherwise).
 func (f *fitFlags) unusedNote(cmd *cobra.Command) string {
-	if !f.shift && cmd.Flags().Changed("max-shift") {
+	if !f.shift && !f.auto() && cmd.Flags().Changed("max-shift") {
 		return fmt.Sprintf("--max-shift %g has no effect without --shift: no shift is estimated", f.maxShift)
 	}
 	return ""
 }
 
-// baselineModel parses --baseline.
+// auto reports whether --baseline asks for the automatic model.
+func (f *fitFlags) auto() bool {
+	return strings.EqualFold(strings.TrimSpace(f.baseline), valAutoBaseline)
+}
+
+// baselineModel parses --baseline as a fixed model.
 func (f *fitFlags) baselineModel() (baseline.Model, error) {
 	m, err := baseline.ParseModel(f.baseline)
 	if err != nil {
@@ -91,7 +101,12 @@ func (f *fitFlags) options() (unmix.Options, error) {
 			return opt, err
 		}
 	}
-	if opt.Baseline, err = f.baselineModel(); err != nil {
+	if f.auto() {
+		// The selection starts from an offset: a blank that differs from
+		// the sample's solvent by a constant is the rule (common practice).
+		opt.Auto = true
+		opt.Baseline = baseline.Model{Degree: 0}
+	} else if opt.Baseline, err = f.baselineModel(); err != nil {
 		return opt, err
 	}
 	if !(f.maxShift > 0) || f.maxShift > maxShiftLimitNM {

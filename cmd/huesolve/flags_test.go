@@ -17,7 +17,9 @@ func TestSharedFlagsAgree(t *testing.T) {
 	// reference set, its --window the range kept and its --ceiling the
 	// standards' (with its own default); convert's -o is required and
 	// takes "-".
-	own := map[string]bool{"calibrate output": true, "calibrate window": true, "calibrate ceiling": true, "convert output": true}
+	// window's --baseline takes a fixed model only (auto chooses per
+	// sample, window predicts one design's errors), default offset.
+	own := map[string]bool{"window baseline": true, "calibrate output": true, "calibrate window": true, "calibrate ceiling": true, "convert output": true}
 	root := newRootCmd()
 	type seen struct {
 		cmd  string

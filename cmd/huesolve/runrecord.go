@@ -102,7 +102,7 @@ func fitSettings(fit *fitFlags, scans *scanFlags, set *reference.Set, opt unmix.
 	}
 	s := []provenance.Setting{
 		{Name: "window", Value: g(lo) + "-" + g(hi)},
-		{Name: "baseline", Value: opt.Baseline.String()},
+		{Name: "baseline", Value: fitBaselineName(opt)},
 		{Name: "weighted", Value: strconv.FormatBool(fit.weighted)},
 		{Name: "shift", Value: shift},
 	}
@@ -250,10 +250,20 @@ func (mf *methodFlags) saveMethod(cmd *cobra.Command, run *provenance.Run, refPa
 
 // methodFit is the fit of a method from the fit flags in force (checked).
 func methodFit(fit *fitFlags, opt unmix.Options, quantity string, pathCM float64) method.Fit {
-	f := method.Fit{Baseline: opt.Baseline.String(), Weighted: fit.weighted, Shift: fit.shift,
+	f := method.Fit{Baseline: fitBaselineName(opt), Weighted: fit.weighted, Shift: fit.shift,
 		MaxShiftNM: fit.maxShift, Ceiling: fit.ceiling, Quantity: quantity, PathCM: pathCM}
 	if opt.WindowHi > 0 {
 		f.WindowNM = &[2]float64{opt.WindowLo, opt.WindowHi}
 	}
 	return f
+}
+
+// fitBaselineName is the --baseline value a model's options stand for:
+// "auto" for the automatic model (whose Baseline is its floor), else the
+// fixed model's name.
+func fitBaselineName(opt unmix.Options) string {
+	if opt.Auto {
+		return valAutoBaseline
+	}
+	return opt.Baseline.String()
 }

@@ -173,7 +173,7 @@ func TestRunRecordContents(t *testing.T) {
 	for _, s := range r.Settings {
 		settings = append(settings, s.Name+"="+s.Value)
 	}
-	want := "window=400-700 baseline=offset weighted=false shift=true max-shift=3 ceiling=1.5 quantity=as each file says (absorbance when it does not) dilution=1 path-cm=1"
+	want := "window=400-700 baseline=auto weighted=false shift=true max-shift=3 ceiling=1.5 quantity=as each file says (absorbance when it does not) dilution=1 path-cm=1"
 	if got := strings.Join(settings, " "); got != want {
 		t.Errorf("settings\n%s\nwant\n%s", got, want)
 	}

@@ -37,6 +37,8 @@ type solveOptions struct {
 	jobs      int
 	checkOnly bool
 	review    solveReview
+	explain   bool
+	interf    []string
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -61,7 +63,12 @@ the largest window every input covers), corrected
 by the blank (--blank), given the reference set's pre-treatment, cropped to
 the window, and fitted by non-negative least squares: each compound's
 absorptivity times the path length (concentrations >= 0), plus the baseline
-terms (--baseline).
+terms (--baseline). By default (--baseline auto) each sample gets the
+smallest model its own residuals need: from an offset, a slope, a curve,
+a scattering term or a wavelength shift is added while an F-test on the
+drop in residual sum of squares says p < 0.001 (p < 1e-6 for a term that
+can imitate a compound); the chosen model is reported per sample (Model
+column, model and model_scores in JSON). A fixed model fits as given.
 
 Points whose absorbance reads above the ceiling (the reference set's, or
 --ceiling) are left out and counted; when the reference set's
@@ -193,6 +200,8 @@ func newSolveCmd() *cobra.Command {
 	f.BoolVar(&o.checkOnly, "check-only", false, "read and check every scan without solving it")
 	o.review.flag.add(f)
 	o.method.addUse(f)
+	f.StringArrayVar(&o.interf, "interferent", nil, "scan `FILE` of a coloured substance present but not quantified: fitted with its own amount, in units of that scan (repeatable)")
+	f.BoolVar(&o.explain, "explain", false, "after the table, what each candidate of --baseline auto scored per sample (JSON always holds it)")
 	return cmd
 }
 
@@ -261,10 +270,13 @@ func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath stri
 	if o.jobs < 0 {
 		return mopt, q, usagef("-j %d: want a positive number of workers", o.jobs)
 	}
+	if o.explain && (!mopt.Auto || !strings.EqualFold(o.output.format, report.FormatTable)) {
+		return mopt, q, usagef("--explain shows the choice of --baseline auto in the table; with --format json each sample holds model_scores")
+	}
 	if o.checkOnly && (o.output.out != "" || o.output.plots != "" || o.review.on()) {
 		return mopt, q, usagef("--check-only writes no results: leave out -o, --plots and --report")
 	}
-	inputs := append([]string{refPath, o.method.use, o.scans.blank, o.samples}, scanInputFiles(scans)...)
+	inputs := append(append([]string{refPath, o.method.use, o.scans.blank, o.samples}, o.interf...), scanInputFiles(scans)...)
 	if err = checkNotInput("-o", o.output.out, inputs...); err != nil {
 		return mopt, q, err
 	}
@@ -309,6 +321,9 @@ func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, sca
 	}
 	var blankSum string
 	if mopt.Blank, blankSum, err = o.scans.readBlank(q, j.warn); err != nil {
+		return err
+	}
+	if mopt.Interferents, err = readInterferents(o.interf, q, j.warn); err != nil {
 		return err
 	}
 	mopt.KeepCurves = o.output.plots != "" || o.review.on()
@@ -469,6 +484,7 @@ func (p *progressLog) update(done, total int) {
 func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, error) {
 	layout := report.LayoutOf(j.model)
 	layout.Run = j.run
+	layout.Explain = o.explain
 	width := outputWidth(cmd.OutOrStdout(), o.output.file())
 	var sum batch.Summary
 	solveAll := func(w io.Writer) error {

@@ -283,7 +283,7 @@ func TestSolveCoverageHint(t *testing.T) {
 	full := writeScans(t, filepath.Join(dir, "full.csv"), solveScan("F", []float64{1, 2, 1, 1}, 0, 1))
 	late := writeScans(t, filepath.Join(dir, "late.csv"), crop(solveScan("L", []float64{1, 2, 1, 1}, 0, 2), 401, 700))
 	early := writeScans(t, filepath.Join(dir, "early.csv"), crop(solveScan("E", []float64{1, 2, 1, 1}, 0, 3), 400, 696))
-	_, errOut, code := run(t, "solve", ref, full, late, early)
+	_, errOut, code := run(t, "solve", ref, full, late, early, "--baseline", "offset")
 	for _, want := range []string{
 		"the scan covers 402-700 nm but the model needs 400-700 nm", "--window 402-700 would fit this scan",
 		"--window 400-696 would fit this scan",
@@ -296,10 +296,10 @@ func TestSolveCoverageHint(t *testing.T) {
 	if code != exitSkipped {
 		t.Errorf("exit %d", code)
 	}
-	if _, errOut, code := run(t, "solve", ref, full, late, early, "--check-only"); !strings.Contains(errOut, "--window 402-696") || code != exitSkipped {
+	if _, errOut, code := run(t, "solve", ref, full, late, early, "--check-only", "--baseline", "offset"); !strings.Contains(errOut, "--window 402-696") || code != exitSkipped {
 		t.Errorf("check-only: exit %d\n%s", code, errOut)
 	}
-	if _, errOut, code := run(t, "solve", ref, full, late, early, "--window", "402-696"); code != exitOK {
+	if _, errOut, code := run(t, "solve", ref, full, late, early, "--window", "402-696", "--baseline", "offset"); code != exitOK {
 		t.Errorf("with the window named: exit %d\n%s", code, errOut)
 	}
 }

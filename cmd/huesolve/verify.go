@@ -166,7 +166,7 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	o.record(run, set, refPath, checksPath, sh, mopt, blankSum, v)
 	rep := report.VerifyReport{Format: report.FormatNameVerify, Schema: report.Schema, Run: run,
 		Reference: refPath, Checks: checksPath, Window: [2]float64{v.Merits.WindowLo, v.Merits.WindowHi},
-		Baseline: v.Merits.Baseline, Weighted: o.fit.weighted, Result: v, CrossVal: cv}
+		Baseline: verifyBaselineName(v.Merits.Baseline, mopt.Auto), Weighted: o.fit.weighted, Result: v, CrossVal: cv}
 	err = o.output.write(cmd, "verification", rep,
 		func(w io.Writer) error {
 			if err := report.WriteRunComments(w, report.FormatNameVerify, run); err != nil {
@@ -390,4 +390,13 @@ func valReadCheckSheet(path string, opt calibration.SheetOptions) (*calibration.
 // valParsePercentRange reads the --recovery range "LO-HI" in percent.
 func valParsePercentRange(s string) (lo, hi float64, err error) {
 	return parseRangeFlag("--recovery", s, "percent", "98-102", 1e4)
+}
+
+// verifyBaselineName is the baseline model verify reports: with auto, the
+// floor the merits were computed on is named too.
+func verifyBaselineName(merits string, auto bool) string {
+	if auto {
+		return valAutoBaseline + " (merits on " + merits + ")"
+	}
+	return merits
 }

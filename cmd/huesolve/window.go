@@ -240,6 +240,9 @@ func (o *windowOptions) check() (validate.WindowOptions, error) {
 		Sigma: o.noise, PathCM: o.pathCM,
 	}
 	var err error
+	if o.fit.auto() {
+		return opt, usagef("--baseline auto: window predicts the errors of one design, but auto chooses each sample's model from its own residuals; give the fixed model the samples need (default offset)")
+	}
 	if opt.Baseline, err = o.fit.baselineModel(); err != nil {
 		return opt, err
 	}

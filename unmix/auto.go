@@ -1,0 +1,390 @@
+package unmix
+
+import (
+	"fmt"
+	"math"
+
+	"gonum.org/v1/gonum/stat/distuv"
+
+	"huesolve/baseline"
+	"huesolve/spectrum"
+	"huesolve/unmix/lsq"
+)
+
+// The automatic nuisance model (Options.Auto) chooses, per sample, the
+// smallest model the data need among nested candidates: from the floor
+// (Options.Baseline, with a shift when Options.Shift is set) a forward
+// selection adds one term at a time, the next polynomial degree (up to
+// autoMaxDegree), the scattering term or a wavelength shift, while the
+// best addition passes the extra-sum-of-squares F-test for nested linear
+// models,
+//
+//	F = (RSS_0 - RSS_1) / (RSS_1 / DoF_1),  one added parameter,
+//
+// with p = P(F(1, DoF_1) > F) below AutoLevel (Draper & Smith, Applied
+// Regression Analysis, 3rd ed., Wiley 1998, section 6.1, "extra sum of
+// squares" principle; NIST/SEMATECH e-Handbook of Statistical Methods,
+// section 4.4.4: both recalled from memory). RSS is what the fit
+// minimises: the weighted residual sum of squares sum((r/sigma)^2) in a
+// weighted fit, the plain one otherwise; a shifted fit's is divided by
+// the interpolation's noise factor (interpNoise), which would otherwise
+// lower RSS with no signal at all. The shift enters the model nonlinearly;
+// its test uses the linearised model (one parameter), as nonlinear least
+// squares does (Draper & Smith, chapter 24). The known concentrations are
+// never used: only the sample's own residuals.
+//
+// Guard against terms that can imitate a compound: a baseline term whose
+// addition leaves some compound less than leakLimit of its norm after the
+// baseline terms are projected out (the leakage of lsq.Solver.Leakage,
+// with every baseline term free) must pass the stricter AutoLevelMimic.
+// The shift has its own guard: it is applied only when more than
+// shiftSigmas standard errors from zero (fitShift), else its fit equals
+// the unshifted one and F is 0.
+const (
+	// AutoLevel is the significance level of the F-test that adds a
+	// term (a project choice: with three terms tried against a clean
+	// sample, a term is added by chance in well under 1 % of samples).
+	AutoLevel = 1e-3
+	// AutoLevelMimic is the stricter level for a term that can imitate
+	// a compound (a project choice: "overwhelming" evidence, about five
+	// standard errors of a normal statistic).
+	AutoLevelMimic = 1e-6
+	// autoMaxDegree is the highest polynomial degree the selection adds
+	// (quadratic): a cubic baseline over a UV-Vis window trades off with
+	// broad bands of the compounds (common practice). A floor of higher
+	// degree is kept as given.
+	autoMaxDegree = 2
+)
+
+// candKey names one candidate model.
+type candKey struct {
+	degree  int
+	scatter bool
+	shift   bool
+}
+
+// String is the model's name in results: the baseline model's
+// command-line name, "+shift" appended when a shift is estimated.
+func (k candKey) name(power float64) string {
+	s := baseline.Model{Degree: k.degree, Scatter: k.scatter, ScatterPower: power}.String()
+	if k.shift {
+		s += "+shift"
+	}
+	return s
+}
+
+// autoModel holds the candidate models of Options.Auto, each a fixed
+// model of its own, and per candidate the last scan it fitted.
+type autoModel struct {
+	keys  []candKey
+	cands []*Model
+	mimic []bool // a baseline term of the candidate can imitate a compound
+	base  int    // index of the floor
+	power float64
+	terms []string // baseline terms of all candidates, design order
+
+	// Per sample.
+	scans []scan
+	state []candState
+}
+
+// candState is what one sample's selection knows of a candidate.
+type candState int
+
+const (
+	candUntried candState = iota
+	candFitted
+	candFailed
+)
+
+// ModelScore is what one candidate of the automatic nuisance model scored
+// on a sample (Result.ModelScores): the fit's residual sum of squares and
+// degrees of freedom, and, for a candidate tried against the model chosen
+// at the step before (Against), the F statistic of the added term, its
+// p-value and the level it had to pass.
+type ModelScore struct {
+	Model   string  `json:"model"`
+	Against string  `json:"against,omitempty"`
+	RSS     float64 `json:"rss"`
+	DoF     int     `json:"dof"`
+	// F and P are left out for the floor, which is not tested.
+	F      *float64 `json:"f,omitempty"`
+	P      *float64 `json:"p,omitempty"`
+	Level  float64  `json:"level,omitempty"`
+	Chosen bool     `json:"chosen,omitempty"`
+	// Screened: a shift tried on the fit without it and scored by the
+	// drop in RSS that its linearisation (the shift's derivative column)
+	// gives, which did not pass; it was not fitted (see solveAuto).
+	Screened bool `json:"screened,omitempty"`
+	// Error says why the candidate could not be fitted (it is then not
+	// tested), e.g. a scan that does not reach far enough for the shift.
+	Error string `json:"error,omitempty"`
+}
+
+// autoWindow returns the window of the candidates: the options' window,
+// kept clear of the grid's ends by the shift limit, so that every
+// candidate, with or without a shift, fits the same points and their
+// residual sums compare.
+func (sh *shared) autoWindow() (lo, hi float64) {
+	g := sh.grid
+	lo, hi = sh.opt.WindowLo, sh.opt.WindowHi
+	if lo == 0 && hi == 0 {
+		lo, hi = g[0], g[len(g)-1]
+	}
+	return math.Max(lo, g[0]+sh.opt.MaxShiftNM), math.Min(hi, g[len(g)-1]-sh.opt.MaxShiftNM)
+}
+
+// newAuto builds the candidates of Options.Auto. The floor must build (its
+// error is returned); a larger candidate that cannot (a design that
+// becomes singular) is left out.
+func newAuto(opt Options, build func(Options) (*Model, error)) (*Model, error) {
+	floor := opt.Baseline
+	power := floor.ScatterPower // 0: the default power
+	a := &autoModel{power: power, base: -1}
+	maxDeg := max(floor.Degree, autoMaxDegree)
+	for deg := floor.Degree; deg <= maxDeg; deg++ {
+		for _, sc := range []bool{false, true} {
+			if floor.Scatter && !sc {
+				continue
+			}
+			for _, sf := range []bool{false, true} {
+				if opt.Shift && !sf {
+					continue
+				}
+				k := candKey{degree: deg, scatter: sc, shift: sf}
+				o := opt
+				o.Auto = false
+				o.Baseline = baseline.Model{Degree: deg, Scatter: sc}
+				if sc {
+					o.Baseline.ScatterPower = power
+				}
+				o.Shift = sf
+				m, err := build(o)
+				first := len(a.keys) == 0
+				if err != nil {
+					if first {
+						return nil, err
+					}
+					continue
+				}
+				if first {
+					a.base = 0
+				}
+				a.keys = append(a.keys, k)
+				a.cands = append(a.cands, m)
+			}
+		}
+	}
+	top := a.cands[0]
+	for i, m := range a.cands {
+		a.mimic = append(a.mimic, m.sh.mimics())
+		if len(m.sh.names) > len(top.sh.names) {
+			top = a.cands[i]
+		}
+	}
+	a.terms = top.BaselineTerms()
+	a.scans = make([]scan, len(a.cands))
+	a.state = make([]candState, len(a.cands))
+	b := a.cands[a.base]
+	m := &Model{set: b.set, opt: opt, sh: b.sh, auto: a}
+	m.init(b.sh.base)
+	return m, nil
+}
+
+// mimics reports whether the model's baseline terms, all taken as free in
+// sign, leave some compound less than leakLimit of its norm on the usable
+// window rows (lsq.Solver.Leakage): a term that can imitate a compound.
+func (sh *shared) mimics() bool {
+	if len(sh.cols) == sh.ncomp {
+		return false
+	}
+	leak, err := sh.leakAllFree()
+	if err != nil {
+		return true // dependent columns: the terms reproduce a compound
+	}
+	for _, v := range leak {
+		if v < leakLimit {
+			return true
+		}
+	}
+	return false
+}
+
+// leakAllFree returns each compound's leakage (lsq.Solver.Leakage) on the
+// usable window rows with every nuisance column (baseline terms and
+// interferents) free in sign; an error when the columns are dependent.
+func (sh *shared) leakAllFree() ([]float64, error) {
+	nn := make([]bool, len(sh.cols))
+	for k := range sh.ncomp {
+		nn[k] = true
+	}
+	s, err := lsq.NewSolver(sh.design.matrix(sh.rows0), nn, lsq.Options{})
+	if err != nil {
+		return nil, err
+	}
+	return s.Leakage()[:sh.ncomp], nil
+}
+
+// clone gives a copy of the candidates with fresh scratch storage.
+func (a *autoModel) clone() *autoModel {
+	c := *a
+	c.cands = make([]*Model, len(a.cands))
+	for i, m := range a.cands {
+		c.cands[i] = m.Clone()
+	}
+	c.scans = make([]scan, len(a.cands))
+	c.state = make([]candState, len(a.cands))
+	return &c
+}
+
+// extensions returns the candidates that add one term to candidate i:
+// the next degree, the scattering term or the shift.
+func (a *autoModel) extensions(i int) []int {
+	k := a.keys[i]
+	var out []int
+	for j, e := range a.keys {
+		if e.degree < k.degree || k.scatter && !e.scatter || k.shift && !e.shift {
+			continue
+		}
+		added := e.degree - k.degree
+		if e.scatter && !k.scatter {
+			added++
+		}
+		if e.shift && !k.shift {
+			added++
+		}
+		if added == 1 {
+			out = append(out, j)
+		}
+	}
+	return out
+}
+
+// objective returns the residual sum of squares the fit of sc minimised
+// (weighted by the noise model in a weighted fit; a shifted fit's divided
+// by the interpolation's noise factor) and its degrees of freedom (one
+// fewer for an applied shift).
+func (m *Model) objective(sc *scan) (rss float64, dof int) {
+	n := len(sc.d.rows)
+	for i, e := range sc.res.Residual[:n] {
+		if m.opt.Weighted {
+			e /= sc.sig[sc.d.rows[i]]
+		}
+		rss += e * e
+	}
+	dof = sc.res.DoF
+	if sc.shift != 0 {
+		rss /= sc.interpVar
+		dof--
+	}
+	return rss, dof
+}
+
+// fTest returns the extra-sum-of-squares F statistic of one added
+// parameter and its p-value: P(F(1, dof1) > F). A fit that is not better
+// (F <= 0) or has no degrees of freedom left scores F = 0, p = 1.
+func fTest(rss0, rss1 float64, dof1 int) (f, p float64) {
+	if dof1 <= 0 || !(rss1 > 0) || !(rss0 > rss1) {
+		return 0, 1
+	}
+	f = (rss0 - rss1) / (rss1 / float64(dof1))
+	return f, fSurvival(f, float64(dof1))
+}
+
+// fSurvival is P(F(1, d2) > f), computed through Student's t (F(1, d2) is
+// the square of t(d2)) so that small p-values keep their precision:
+// 2 * P(t > sqrt(f)).
+func fSurvival(f, d2 float64) float64 {
+	return 2 * distuv.StudentsT{Mu: 0, Sigma: 1, Nu: d2}.Survival(math.Sqrt(f))
+}
+
+// screen tests adding the shift (candidate e, candidate cur without it)
+// on cur's fit alone: the drop in RSS from the shift's derivative column
+// g, <Mg, r>^2 / <Mg, Mg> (shiftStep), is the extra sum of squares of the
+// linearised shift, the first step of its Gauss-Newton estimate. When
+// that does not pass the level, ms is filled as screened and screen
+// returns true: the shift's iterations and refits are spared. Otherwise
+// the candidate is fitted and tested on its own RSS.
+func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore) bool {
+	kc, ke := a.keys[cur], a.keys[e]
+	mc, me := a.cands[cur], a.cands[e]
+	if kc.shift || !ke.shift || mc.sh.lo != me.sh.lo || mc.sh.hi != me.sh.hi {
+		return false
+	}
+	sc := &a.scans[cur]
+	_, dof0 := mc.objective(sc)
+	num, den := mc.shiftStep(sc, me.sh.dcols)
+	drop := 0.0
+	if den > 0 {
+		drop = num * num / den
+	}
+	ms.RSS, ms.DoF = rss0-drop, dof0-1
+	f, p := fTest(rss0, ms.RSS, ms.DoF)
+	if p < ms.Level {
+		return false
+	}
+	ms.F, ms.P, ms.Screened = &f, &p, true
+	return true
+}
+
+// solveAuto chooses the sample's nuisance model by forward selection among
+// the candidates and fills dst with the chosen candidate's result,
+// Result.Model and Result.ModelScores.
+func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
+	a := m.auto
+	clear(a.state)
+	scores := dst.ModelScores[:0]
+	try := func(i int) error {
+		sc, err := a.cands[i].run(s, f)
+		if err != nil {
+			a.state[i] = candFailed
+			return err
+		}
+		a.scans[i], a.state[i] = sc, candFitted
+		return nil
+	}
+	cur := a.base
+	if err := try(cur); err != nil {
+		return err
+	}
+	rss0, dof0 := a.cands[cur].objective(&a.scans[cur])
+	scores = append(scores, ModelScore{Model: a.keys[cur].name(a.power), RSS: rss0, DoF: dof0})
+	chosen := 0
+	for {
+		best, bestP := -1, math.Inf(1)
+		for _, e := range a.extensions(cur) {
+			ms := ModelScore{Model: a.keys[e].name(a.power), Against: a.keys[cur].name(a.power), Level: AutoLevel}
+			if a.screen(cur, e, rss0, &ms) {
+				scores = append(scores, ms)
+				continue
+			}
+			if err := try(e); err != nil {
+				ms.Error = fmt.Sprint(err)
+				scores = append(scores, ms)
+				continue
+			}
+			ms.RSS, ms.DoF = a.cands[e].objective(&a.scans[e])
+			if a.mimic[e] && !a.mimic[cur] {
+				ms.Level = AutoLevelMimic
+			}
+			fv, p := fTest(rss0, ms.RSS, ms.DoF)
+			ms.F, ms.P = &fv, &p
+			scores = append(scores, ms)
+			if p < ms.Level && p < bestP {
+				best, bestP = e, p
+				chosen = len(scores) - 1
+			}
+		}
+		if best < 0 {
+			break
+		}
+		cur = best
+		rss0 = scores[chosen].RSS
+	}
+	scores[chosen].Chosen = true
+	c := a.cands[cur]
+	c.fill(dst, &a.scans[cur])
+	dst.Model = a.keys[cur].name(a.power)
+	dst.ModelScores = scores
+	return nil
+}
