@@ -9,6 +9,8 @@
 // member's value. A group is flagged FlagRepRSD when its RSD exceeds a
 // limit (DefaultMaxRSD unless told) and FlagRepOutlier when, for n >= 3,
 // its most extreme member is an outlier by Grubbs' test (GrubbsCritical).
+// Neither flag is raised when the group's mean is below the members'
+// mean LOQ (noise about zero; common practice).
 //
 // # Reporting basis
 //

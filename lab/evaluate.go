@@ -150,13 +150,19 @@ func (s *Summary) group(name, compound string, idx []int) Group {
 	}
 	g.N, g.Mean, g.SD, g.RSD = Stats(vals)
 	g.Reported = CertText(g.Mean, g.SD, lod, loq)
-	if g.RSD > s.MaxRSD {
-		g.Flags = append(g.Flags, FlagRepRSD)
-	}
 	g.GCrit = GrubbsCritical(g.N, s.Alpha)
 	var at int
 	var out bool
 	g.G, at, out = Grubbs(vals, s.Alpha)
+	// Precision is judged on quantifiable results only: a group whose
+	// mean is below its mean LOQ is noise about zero, and its RSD says
+	// nothing (common practice).
+	if loq > 0 && g.Mean < loq {
+		return g
+	}
+	if g.RSD > s.MaxRSD {
+		g.Flags = append(g.Flags, FlagRepRSD)
+	}
 	if out {
 		g.Members[at].Outlier = true
 		g.Flags = append(g.Flags, FlagRepOutlier)

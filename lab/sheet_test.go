@@ -89,6 +89,12 @@ func TestEvaluate(t *testing.T) {
 	if f := s.Groups[0].Flags; len(f) != 1 || f[0] != FlagRepRSD {
 		t.Errorf("RSD 1.98 %% over 1.5 %%: flags %v, want rep-rsd", f)
 	}
+	// Below the LOQ (0.3 mg/L, 6 mg/kg) precision is not judged: an RSD
+	// of 100 % raises no flag.
+	s, _ = Evaluate([]Scan{scan("r1", 0.01), scan("r2", 0.2), scan("r3", 0.05)}, sh, Options{Basis: &b})
+	if g := s.Groups[0]; len(g.Flags) != 0 || !(g.RSD > 50) {
+		t.Errorf("below the LOQ: RSD %g, flags %v; want over 50 %%, none", g.RSD, g.Flags)
+	}
 	if _, err := Evaluate([]Scan{{Sample: "x", Source: "x.csv", Amounts: scan("x", 1).Amounts}}, sh, Options{Basis: &b}); err == nil ||
 		!strings.Contains(err.Error(), `sample "x" (x.csv) is not in the sample sheet`) {
 		t.Errorf("scan not in the sheet: err %v", err)

@@ -12,6 +12,7 @@ import (
 	"github.com/olekukonko/tablewriter/tw"
 
 	"huesolve/internal/pkgerr"
+	"huesolve/lab"
 	"huesolve/unmix"
 )
 
@@ -42,6 +43,7 @@ type tableWriter struct {
 	// factors are each row's dilution and path length (cm), shown in
 	// columns of their own when any row's differs from 1 / Layout.PathCM.
 	factors [][2]float64
+	lab     *lab.Summary // the lab section after the table, if any
 }
 
 // newTableWriter returns a table writer; width 0 means DefaultWidth.
@@ -238,8 +240,10 @@ func (t *tableWriter) Close() error {
 		}
 		b.WriteString(unmix.Legend(fs...))
 	}
-	_, err := io.WriteString(t.w, b.String())
-	return err
+	if _, err := io.WriteString(t.w, b.String()); err != nil || t.lab == nil {
+		return err
+	}
+	return writeLabTable(t.w, t.lab)
 }
 
 // ConcText formats a concentration with its standard error, giving the
