@@ -26,7 +26,9 @@ type Sheet struct {
 }
 
 // ReadSheet reads the group and preparation columns of ss (nil: an empty
-// Sheet). A preparation is mass, mass_unit, volume and volume_unit, with
+// Sheet). A row joins a replicate group by its "group" cell, or by a
+// "replicate_of" cell naming another sample of the sheet (see
+// replicateOf). A preparation is mass, mass_unit, volume and volume_unit, with
 // optional u_mass and u_volume (standard uncertainties in the unit of
 // their value); a row gives all of mass, mass_unit, volume and
 // volume_unit or none of them. Errors name file:line:column: a mass or
@@ -44,6 +46,10 @@ func ReadSheet(ss *unmix.SampleSheet) (*Sheet, error) {
 		if c, ok := ss.Extra(name, "group"); ok && c.Text != "" {
 			r.Group, sh.Groups = c.Text, true
 		}
+		if err := replicateOf(ss, name, &r); err != nil {
+			return nil, err
+		}
+		sh.Groups = sh.Groups || r.Group != ""
 		p, err := readPrep(ss, name)
 		if err != nil {
 			return nil, err
@@ -52,7 +58,45 @@ func ReadSheet(ss *unmix.SampleSheet) (*Sheet, error) {
 		sh.Rows[name] = r
 		sh.Order = append(sh.Order, name)
 	}
+	// A sample that others name in replicate_of is in their group.
+	for _, name := range sh.Order {
+		if c, _ := ss.Extra(name, "replicate_of"); c.Text != "" {
+			if ref := sh.Rows[c.Text]; ref.Group == "" {
+				ref.Group = c.Text
+				sh.Rows[c.Text] = ref
+			}
+		}
+	}
 	return sh, nil
+}
+
+// replicateOf reads the replicate_of cell of row name into r.Group: the
+// group of the sample it names, or that sample's name when it has no
+// group. The sample named must be a row of the sheet that is not itself a
+// replicate of another (errors name file:line:column), and a row may give
+// group or replicate_of, not both.
+func replicateOf(ss *unmix.SampleSheet, name string, r *Row) error {
+	c, _ := ss.Extra(name, "replicate_of")
+	if c.Text == "" {
+		return nil
+	}
+	if r.Group != "" {
+		return errorf(ss.File, c.Line, c.Column, "sample %q: give group or replicate_of, not both", name)
+	}
+	if ss.Line(c.Text) == 0 {
+		return errorf(ss.File, c.Line, c.Column, "sample %q: replicate_of %q is not a sample of this sheet", name, c.Text)
+	}
+	if c.Text == name {
+		return errorf(ss.File, c.Line, c.Column, "sample %q: replicate_of names the sample itself", name)
+	}
+	if o, _ := ss.Extra(c.Text, "replicate_of"); o.Text != "" {
+		return errorf(ss.File, c.Line, c.Column, "sample %q: replicate_of %q, which is itself a replicate of %q: name %q", name, c.Text, o.Text, o.Text)
+	}
+	r.Group = c.Text
+	if g, _ := ss.Extra(c.Text, "group"); g.Text != "" {
+		r.Group = g.Text
+	}
+	return nil
 }
 
 // readPrep reads the preparation of row name (nil when it gives none).

@@ -56,6 +56,28 @@ func TestReadSheetErrors(t *testing.T) {
 	}
 }
 
+func TestReplicateOf(t *testing.T) {
+	sh, err := readSheet(t, "sample,group,replicate_of\na,,\nb,,a\nc,K,\nd,,c\ne,,\n")
+	if err != nil {
+		t.Fatal(err)
+	}
+	for name, want := range map[string]string{"a": "a", "b": "a", "c": "K", "d": "K", "e": ""} {
+		if got := sh.Rows[name].Group; got != want {
+			t.Errorf("row %s: group %q, want %q", name, got, want)
+		}
+	}
+	for _, c := range []struct{ rows, want string }{
+		{"a,,\nb,,zz\n", `samples.csv:3:3: sample "b": replicate_of "zz" is not a sample of this sheet`},
+		{"a,,\nb,G,a\n", `samples.csv:3:3: sample "b": give group or replicate_of, not both`},
+		{"a,,\nb,,a\nc,,b\n", `samples.csv:4:3: sample "c": replicate_of "b", which is itself a replicate of "a"`},
+		{"a,,a\n", `samples.csv:2:3: sample "a": replicate_of names the sample itself`},
+	} {
+		if _, err := readSheet(t, "sample,group,replicate_of\n"+c.rows); err == nil || !strings.Contains(err.Error(), c.want) {
+			t.Errorf("%q: err %v, want %q", c.rows, err, c.want)
+		}
+	}
+}
+
 func TestEvaluate(t *testing.T) {
 	sh, err := readSheet(t, "sample,group,mass,mass_unit,volume,volume_unit\n"+
 		"r1,G,2.5,g,50,mL\nr2,G,2.5,g,50,mL\nr3,G,2.5,g,50,mL\nlone,,1,g,10,mL\n")

@@ -34,7 +34,7 @@ type SampleSheet struct {
 // ExtraColumns are the sample sheet columns this package reads as text
 // only and hands to package lab: the replicate group and the preparation
 // (mass taken, final volume, their units and standard uncertainties).
-var ExtraColumns = []string{"group", "mass", "mass_unit", "u_mass", "volume", "volume_unit", "u_volume"}
+var ExtraColumns = []string{"group", "replicate_of", "mass", "mass_unit", "u_mass", "volume", "volume_unit", "u_volume"}
 
 // Cell is one cell of an extra column: its text and its 1-based line and
 // column in the sheet.
@@ -45,7 +45,7 @@ type Cell struct {
 
 // sheetColumns are the columns a sample sheet may have, as the error for
 // an unknown one lists them.
-const sheetColumns = "sample, dilution, path_cm, group, mass, mass_unit, u_mass, volume, volume_unit, u_volume (and note or comment, ignored)"
+const sheetColumns = "sample, dilution, path_cm, group, replicate_of, mass, mass_unit, u_mass, volume, volume_unit, u_volume (and note or comment, ignored)"
 
 type sheetRow struct {
 	f    Factors

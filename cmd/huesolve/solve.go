@@ -103,7 +103,7 @@ matched no sample are named. The table shows each sample's dilution
 and path whenever one differs from 1 or the reference path.
 
 Replicates and reporting basis: a sample sheet column "group" makes rows
-with the same text replicates; columns mass, mass_unit, volume,
+with the same text replicates (or "replicate_of" names another row); columns mass, mass_unit, volume,
 volume_unit (u_mass, u_volume: standard uncertainties) give the
 preparation. With groups or --basis the output ends with every result on
 the basis (a mass fraction w = c V / m such as mg/kg or % w/w, uncertainty
