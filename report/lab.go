@@ -30,6 +30,55 @@ func (c *CSVWriter) SetLab(s *lab.Summary) { c.lab = s }
 // SetLab sets the "lab" member written before "failed".
 func (j *jsonWriter) SetLab(s *lab.Summary) { j.lab = s }
 
+// SetLab sets the lab tables shown after the results.
+func (s *SolveReview) SetLab(l *lab.Summary) { s.lab = l }
+
+// labTables are the review report's tables of the lab section: reported
+// values, and replicate groups when there are any (none for nil).
+func labTables(s *lab.Summary) []htmlTable {
+	if s == nil {
+		return nil
+	}
+	rep := htmlTable{ID: "reported", Caption: "Reported on basis " + termText(basisText(s)) + ": value ± standard uncertainty (2 significant figures) and certificate text",
+		Cols: []htmlCol{{Label: "Sample"}, {Label: "Group"}, {Label: "Compound"}, {Label: "Unit"}, {Label: "Value", Numeric: true}, {Label: "Reported"}}}
+	for _, r := range s.Reported {
+		v, u := lab.Round(r.V, r.U)
+		if u != "" {
+			v += " ± " + u
+		}
+		rep.Rows = append(rep.Rows, htmlRow{Cells: []htmlCell{textCell(r.Sample), textCell(r.Group), textCell(r.Compound), textCell(r.Unit),
+			numCell(v, r.V), textCell(r.Text)}})
+	}
+	if len(s.Groups) == 0 {
+		return []htmlTable{rep}
+	}
+	grp := htmlTable{ID: "groups", Caption: fmt.Sprintf("Replicate groups: RSD limit %s %%, Grubbs' test at alpha %s for n >= 3 (* outlier)", num(s.MaxRSD), num(s.Alpha)),
+		Cols: []htmlCol{{Label: "Group"}, {Label: "Compound"}, {Label: "Unit"}, {Label: "n", Numeric: true}, {Label: "Mean ± SD", Numeric: true},
+			{Label: "RSD %", Numeric: true}, {Label: "Reported"}, {Label: "Members"}, {Label: "Flags"}}}
+	for _, g := range s.Groups {
+		mean, sd := lab.Round(g.Mean, g.SD)
+		if sd != "" {
+			mean += " ± " + sd
+		}
+		var members []string
+		for _, m := range g.Members {
+			mark := ""
+			if m.Outlier {
+				mark = "*"
+			}
+			members = append(members, m.Sample+mark+" "+sig(m.Value, 4))
+		}
+		flags := "-"
+		if len(g.Flags) > 0 {
+			flags = "!" + joinFlags(g.Flags, " !")
+		}
+		grp.Rows = append(grp.Rows, htmlRow{Flagged: len(g.Flags) > 0, Cells: []htmlCell{textCell(g.Name), textCell(g.Compound), textCell(g.Unit),
+			numCell(strconv.Itoa(g.N), float64(g.N)), numCell(mean, g.Mean), numCell(fixed(g.RSD, 1), g.RSD), textCell(g.Reported),
+			textCell(strings.Join(members, ", ")), {Text: flags, Warn: len(g.Flags) > 0}}})
+	}
+	return []htmlTable{rep, grp}
+}
+
 // basisText names the unit of a lab section's values.
 func basisText(s *lab.Summary) string {
 	if s.Unit == "" {

@@ -510,7 +510,7 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 			return err
 		}
 		if j.lab != nil {
-			if err := j.lab.finish(rw); err != nil {
+			if err := j.lab.finish(rw, o.review.rev); err != nil {
 				return err
 			}
 		}

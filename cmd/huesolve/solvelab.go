@@ -75,8 +75,9 @@ func (j *labJob) add(r *unmix.Result, track *unmix.SheetUse) {
 	j.mu.Unlock()
 }
 
-// finish computes the lab section and hands it to rw (before rw.Close).
-func (j *labJob) finish(rw report.ResultWriter) error {
+// finish computes the lab section and hands it to rw (before rw.Close)
+// and to the review report rev (nil: none).
+func (j *labJob) finish(rw report.ResultWriter, rev *report.SolveReview) error {
 	if len(j.scans) == 0 {
 		return nil
 	}
@@ -87,6 +88,9 @@ func (j *labJob) finish(rw report.ResultWriter) error {
 	j.sum = s
 	if lw, ok := rw.(report.LabWriter); ok {
 		lw.SetLab(s)
+	}
+	if rev != nil {
+		rev.SetLab(s)
 	}
 	return nil
 }

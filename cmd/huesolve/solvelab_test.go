@@ -126,6 +126,19 @@ func TestSolveLabTableAndCSV(t *testing.T) {
 	if _, groups, _ := strings.Cut(out, "\n\ngroup,"); strings.Contains(groups, "rep-rsd") {
 		t.Errorf("--max-rep-rsd 20: a group is still flagged rep-rsd:\n%s", out)
 	}
+	page := filepath.Join(filepath.Dir(sheet), "review.html")
+	if _, errOut, _ := run(t, "solve", refs, scans, "--samples", sheet, "--format", "csv", "--report", page); errOut == "" {
+		t.Fatal("no summary line")
+	}
+	html, err := os.ReadFile(page)
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, want := range []string{`id="reported-table"`, `id="groups-table"`, "Replicate groups: RSD limit 5 %", "!rep-outlier", "X5*"} {
+		if !strings.Contains(string(html), want) {
+			t.Errorf("review report lacks %q", want)
+		}
+	}
 }
 
 func TestSolveLabBadInput(t *testing.T) {
