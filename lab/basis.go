@@ -1,6 +1,7 @@
 package lab
 
 import (
+	"errors"
 	"fmt"
 	"math"
 	"strings"
@@ -123,4 +124,15 @@ func (b Basis) String() string {
 // errorf is a sheet error naming file:line:column.
 func errorf(file string, line, col int, format string, a ...any) error {
 	return &spectrum.ParseError{File: file, Line: line, Column: col, Err: fmt.Errorf(format, a...)}
+}
+
+// Check reports whether results of a compound in unit ref can be put on
+// basis b (molarMass in g/mol, 0 if not known): the unit conversion
+// alone, before any sample's preparation is known.
+func (b Basis) Check(compound, ref string, molarMass float64) error {
+	_, err := b.Convert(1, 0, 0, 0, ref, molarMass, &Prep{Mass: 1, Volume: 1})
+	if err != nil {
+		return pkgerr.Errorf("lab", "compound %q in %q cannot be reported as %s: %w", compound, ref, b.Text, errors.Unwrap(err))
+	}
+	return nil
 }

@@ -72,6 +72,12 @@ func TestConvertErrors(t *testing.T) {
 	if _, err := b.Convert(1, 0.1, 0, 0, "absorbance units", 0, p); !errors.Is(err, units.ErrIncompatible) {
 		t.Errorf("unknown unit: err %v, want units.ErrIncompatible", err)
 	}
+	if err := b.Check("dye", "µM", 0); !errors.Is(err, units.ErrIncompatible) || !strings.Contains(err.Error(), `compound "dye" in "µM" cannot be reported as mg/kg`) {
+		t.Errorf("Check(dye, µM): err %v", err)
+	}
+	if err := b.Check("dye", "mg/L", 0); err != nil {
+		t.Errorf("Check(dye, mg/L): %v", err)
+	}
 	if _, err := ParseBasis("furlongs"); err == nil {
 		t.Error("ParseBasis(furlongs): no error")
 	}

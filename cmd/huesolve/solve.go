@@ -342,7 +342,7 @@ func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, sca
 			j.warn(w)
 		}
 	}
-	if j.lab, err = newLabJob(o.lab, o.samples, j.sheet); err != nil {
+	if j.lab, err = newLabJob(o.lab, o.samples, j.sheet, j.model); err != nil {
 		return err
 	}
 	if o.output.plots != "" {

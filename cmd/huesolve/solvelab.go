@@ -34,9 +34,10 @@ type labJob struct {
 	sum   *lab.Summary
 }
 
-// newLabJob checks the flags and reads the sample sheet's lab columns;
+// newLabJob checks the flags (a basis against the units of model m's
+// compounds) and reads the sample sheet's lab columns;
 // it returns nil when neither a basis nor a replicate group is asked for.
-func newLabJob(l labFlags, samples string, ss *unmix.SampleSheet) (*labJob, error) {
+func newLabJob(l labFlags, samples string, ss *unmix.SampleSheet, m *unmix.Model) (*labJob, error) {
 	if !(l.maxRSD > 0) || math.IsInf(l.maxRSD, 0) {
 		return nil, usagef("--max-rep-rsd %g: want a positive percentage", l.maxRSD)
 	}
@@ -50,6 +51,12 @@ func newLabJob(l labFlags, samples string, ss *unmix.SampleSheet) (*labJob, erro
 			return nil, usagef("--basis %s is a mass fraction: give each sample's mass and volume with --samples SHEET", l.basis)
 		}
 		j.opt.Basis = &b
+		units := m.Units()
+		for k, c := range m.Compounds() {
+			if err := b.Check(c, units[k], 0); err != nil {
+				return nil, err
+			}
+		}
 	}
 	sh, err := lab.ReadSheet(ss)
 	if err != nil {

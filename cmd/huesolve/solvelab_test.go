@@ -152,6 +152,7 @@ func TestSolveLabBadInput(t *testing.T) {
 		{"volume in grams", "R1,R,2.5,g,50,g\n", nil, exitFailure, `sheet.csv:2:6: sample "R1": volume unit "g" cannot be converted`},
 		{"no preparation", "R1,R,,,,\n", []string{"--basis", "mg/kg"}, exitFailure, `sheet.csv:2: sample "R1": basis mg/kg needs its mass`},
 		{"not a basis", "R1,R,,,,\n", []string{"--basis", "furlongs"}, exitUsage, `basis "furlongs"`},
+		{"molar basis", "R1,R,,,,\n", []string{"--basis", "µM"}, exitFailure, `compound "amber" in "mg/L" cannot be reported as µM`},
 		{"bad limit", "R1,R,,,,\n", []string{"--max-rep-rsd", "0"}, exitUsage, "--max-rep-rsd 0"},
 	} {
 		t.Run(c.name, func(t *testing.T) {
