@@ -9,6 +9,7 @@ import (
 	"unicode"
 	"unicode/utf8"
 
+	"huesolve/lab"
 	"huesolve/unmix"
 )
 
@@ -37,6 +38,7 @@ type CSVWriter struct {
 	l      Layout
 	buf    []byte
 	header bool
+	lab    *lab.Summary // the lab sections after the rows, if any
 }
 
 // NewCSVWriter returns a CSV writer for results of layout l.
@@ -190,6 +192,11 @@ func (c *CSVWriter) Close() error {
 	if err := c.writeHeader(); err != nil {
 		return err
 	}
+	if c.lab != nil {
+		if _, err := c.w.Write(appendLabCSV(nil, c.lab)); err != nil {
+			return err
+		}
+	}
 	return c.w.Flush()
 }
 
@@ -274,6 +281,7 @@ type jsonWriter struct {
 	n      int
 	failed []failure
 	buf    []byte
+	lab    *lab.Summary // the "lab" member, if any
 }
 
 type failure struct{ source, msg string }
@@ -482,7 +490,11 @@ func (j *jsonWriter) Close() error {
 			return err
 		}
 	}
-	b := []byte("\n ],\n \"failed\": [")
+	b := []byte("\n ]")
+	if j.lab != nil {
+		b = appendLabJSON(b, j.lab)
+	}
+	b = append(b, ",\n \"failed\": ["...)
 	for i, f := range j.failed {
 		if i > 0 {
 			b = append(b, ',')

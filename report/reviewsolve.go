@@ -8,6 +8,7 @@ import (
 	"sync"
 
 	"huesolve/internal/pkgerr"
+	"huesolve/lab"
 	"huesolve/unmix"
 )
 
@@ -23,6 +24,7 @@ type SolveReview struct {
 	rows  []solveRow
 	fails []string
 	seen  map[unmix.Flag]bool
+	lab   *lab.Summary // the lab tables after the results, if any
 }
 
 // solveRow is what the report keeps of one result (the batch reuses
@@ -137,7 +139,7 @@ func (s *SolveReview) WriteHTML(w io.Writer, ctx ReviewContext) error {
 			p.Figures = append(p.Figures, f)
 		}
 	}
-	p.Tables = []htmlTable{t}
+	p.Tables = append([]htmlTable{t}, labTables(s.lab)...)
 	p.Counts = []Field{
 		{Label: "Samples solved", Value: strconv.Itoa(len(s.rows))},
 		{Label: "Flagged (!)", Value: strconv.Itoa(flagged)},

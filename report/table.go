@@ -12,6 +12,7 @@ import (
 	"github.com/olekukonko/tablewriter/tw"
 
 	"huesolve/internal/pkgerr"
+	"huesolve/lab"
 	"huesolve/unmix"
 )
 
@@ -44,6 +45,7 @@ type tableWriter struct {
 	factors [][2]float64
 	// explain holds, with Layout.Explain, each sample's model scores.
 	explain []string
+	lab     *lab.Summary // the lab section after the table, if any
 }
 
 // newTableWriter returns a table writer; width 0 means DefaultWidth.
@@ -266,8 +268,10 @@ func (t *tableWriter) Close() error {
 			b.WriteString(e)
 		}
 	}
-	_, err := io.WriteString(t.w, b.String())
-	return err
+	if _, err := io.WriteString(t.w, b.String()); err != nil || t.lab == nil {
+		return err
+	}
+	return writeLabTable(t.w, t.lab)
 }
 
 // explainText is a sample's model scores for --explain: one line per

@@ -26,11 +26,26 @@ type SampleSheet struct {
 	rows  map[string]sheetRow
 	order []string // sample names in sheet order
 	warns []string
+	// extra are the cells of the columns in ExtraColumns, by sample name
+	// and column (read by package lab: replicate groups and preparation).
+	extra map[string]map[string]Cell
+}
+
+// ExtraColumns are the sample sheet columns this package reads as text
+// only and hands to package lab: the replicate group and the preparation
+// (mass taken, final volume, their units and standard uncertainties).
+var ExtraColumns = []string{"group", "replicate_of", "mass", "mass_unit", "u_mass", "volume", "volume_unit", "u_volume"}
+
+// Cell is one cell of an extra column: its text and its 1-based line and
+// column in the sheet.
+type Cell struct {
+	Text         string
+	Line, Column int
 }
 
 // sheetColumns are the columns a sample sheet may have, as the error for
 // an unknown one lists them.
-const sheetColumns = "sample, dilution, path_cm (and note or comment, ignored)"
+const sheetColumns = "sample, dilution, path_cm, group, replicate_of, mass, mass_unit, u_mass, volume, volume_unit, u_volume (and note or comment, ignored)"
 
 type sheetRow struct {
 	f    Factors
@@ -66,7 +81,7 @@ func sampleOptions(warns *[]string) sheet.Options {
 
 // sampleColumns declares the columns of a sample sheet.
 var sampleColumns = sheet.Columns{
-	Names:  []string{"sample", "dilution", "path_cm"},
+	Names:  append([]string{"sample", "dilution", "path_cm"}, ExtraColumns...),
 	Ignore: sheet.NoteColumns(),
 	Known:  "a sample sheet has the columns " + sheetColumns,
 }
@@ -93,11 +108,15 @@ func newSampleSheet(text *sheet.Sheet, warns []string) (*SampleSheet, error) {
 		return nil, err
 	}
 	iSample, iDil, iPath := l.Col("sample"), l.Col("dilution"), l.Col("path_cm")
-	if iSample < 0 || (iDil < 0 && iPath < 0) {
-		return nil, text.ErrAt(text.Header.Line, 0, "header needs columns sample and dilution and/or path_cm, got %q",
+	hasExtra := false
+	for _, c := range ExtraColumns {
+		hasExtra = hasExtra || l.Col(c) >= 0
+	}
+	if iSample < 0 || (iDil < 0 && iPath < 0 && !hasExtra) {
+		return nil, text.ErrAt(text.Header.Line, 0, "header needs columns sample and dilution, path_cm, group or the preparation, got %q",
 			strings.Join(text.Header.Fields, string(text.Delim)))
 	}
-	ss := &SampleSheet{File: text.File, rows: map[string]sheetRow{}, warns: warns}
+	ss := &SampleSheet{File: text.File, rows: map[string]sheetRow{}, warns: warns, extra: map[string]map[string]Cell{}}
 	for _, rec := range text.Rows {
 		name := rec.Fields[iSample]
 		if name == "" {
@@ -114,6 +133,14 @@ func newSampleSheet(text *sheet.Sheet, warns []string) (*SampleSheet, error) {
 			return nil, err
 		}
 		ss.rows[name] = sheetRow{f: f, line: rec.Line}
+		for _, c := range ExtraColumns {
+			if i := l.Col(c); i >= 0 {
+				if ss.extra[name] == nil {
+					ss.extra[name] = map[string]Cell{}
+				}
+				ss.extra[name][c] = Cell{Text: strings.TrimSpace(sheet.Field(rec, i)), Line: rec.Line, Column: i + 1}
+			}
+		}
 		ss.order = append(ss.order, name)
 	}
 	return ss, nil
@@ -243,3 +270,17 @@ func looseName(name string) string {
 	}
 	return b.String()
 }
+
+// Extra returns the cell of column (one of ExtraColumns) in the row of
+// the sample named name; ok is false when the sheet has no such row or
+// column.
+func (ss *SampleSheet) Extra(name, column string) (c Cell, ok bool) {
+	if ss == nil {
+		return Cell{}, false
+	}
+	c, ok = ss.extra[name][column]
+	return c, ok
+}
+
+// Names returns the sample names of the sheet in sheet order.
+func (ss *SampleSheet) Names() []string { return ss.names() }

@@ -17,11 +17,12 @@ type SheetUse struct {
 	mu        sync.Mutex
 	used      map[string]bool
 	defaulted []string
+	rowOf     map[string]string // a scan's source (Source.String()) -> its row
 }
 
 // NewSheetUse returns a SheetUse of ss (nil: no sheet).
 func NewSheetUse(ss *SampleSheet) *SheetUse {
-	return &SheetUse{sheet: ss, used: map[string]bool{}}
+	return &SheetUse{sheet: ss, used: map[string]bool{}, rowOf: map[string]string{}}
 }
 
 // Factors returns the sheet's factors of s (zero fields: defaults) and
@@ -36,6 +37,7 @@ func (u *SheetUse) Factors(s *spectrum.Spectrum) Factors {
 	defer u.mu.Unlock()
 	if ok {
 		u.used[row] = true
+		u.rowOf[s.Source.String()] = row
 	} else {
 		name := s.Name
 		if name == "" {
@@ -67,4 +69,14 @@ func (u *SheetUse) Unused() []string {
 		}
 	}
 	return unused
+}
+
+// Row returns the sheet's sample name of the row that matched the scan
+// whose source (spectrum.Source.String(), a Result's Source) is source,
+// and whether one did.
+func (u *SheetUse) Row(source string) (string, bool) {
+	u.mu.Lock()
+	defer u.mu.Unlock()
+	r, ok := u.rowOf[source]
+	return r, ok
 }

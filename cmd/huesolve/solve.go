@@ -39,6 +39,7 @@ type solveOptions struct {
 	review    solveReview
 	explain   bool
 	interf    []string
+	lab       labFlags
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -107,6 +108,18 @@ too and is flagged "nosheet" (a warning flag: exit code 4), with the
 sheet row it was likely meant to match (M7 for M07); sheet rows that
 matched no sample are named. The table shows each sample's dilution
 and path whenever one differs from 1 or the reference path.
+
+Replicates and reporting basis: a sample sheet column "group" makes rows
+with the same text replicates (or "replicate_of" names another row); columns mass, mass_unit, volume,
+volume_unit (u_mass, u_volume: standard uncertainties) give the
+preparation. With groups or --basis the output ends with every result on
+the basis (a mass fraction w = c V / m such as mg/kg or % w/w, uncertainty
+propagated to first order; or a concentration such as µg/L) with the text
+a certificate shows ("n.d. (< LOD x)", "< LOQ (y)", or the value rounded to
+the uncertainty's two significant figures), and per group n, mean, SD,
+RSD % and members, flagged "!rep-rsd" above --max-rep-rsd and
+"!rep-outlier" by Grubbs' test (alpha 0.05, n >= 3). A flagged group gives
+exit code 4.
 
 For each sample: concentration, standard error and 95 % interval of every
 compound, its detection and quantitation limits (3.3 and 10 times the noise
@@ -202,6 +215,7 @@ func newSolveCmd() *cobra.Command {
 	o.method.addUse(f)
 	f.StringArrayVar(&o.interf, "interferent", nil, "scan `FILE` of a coloured substance present but not quantified: fitted with its own amount, in units of that scan (repeatable)")
 	f.BoolVar(&o.explain, "explain", false, "after the table, what each candidate of --baseline auto scored per sample (JSON always holds it)")
+	o.lab.add(f)
 	return cmd
 }
 
@@ -302,6 +316,7 @@ type solveJob struct {
 	seen   *outcomeNotes
 	run    *provenance.Run // the run's record (nil with --check-only)
 	cover  coverageNotes   // scans refused for coverage (from emit, in order)
+	lab    *labJob         // replicate groups and reporting basis; nil when not asked for
 }
 
 func newSolveJob(stderr io.Writer) *solveJob {
@@ -341,6 +356,9 @@ func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, sca
 		for _, w := range j.sheet.Warnings() {
 			j.warn(w)
 		}
+	}
+	if j.lab, err = newLabJob(o.lab, o.samples, j.sheet, j.model); err != nil {
+		return err
 	}
 	if o.output.plots != "" {
 		if err := o.output.makePlotDir(); err != nil {
@@ -507,6 +525,11 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 		if err != nil {
 			return err
 		}
+		if j.lab != nil {
+			if err := j.lab.finish(rw, o.review.rev); err != nil {
+				return err
+			}
+		}
 		return rw.Close()
 	}
 	if out := o.output.file(); out != "" {
@@ -560,6 +583,9 @@ func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.En
 	if rev != nil && out.Result != nil {
 		rev.Add(out.Seq, out.Result)
 	}
+	if j.lab != nil && out.Err == nil && out.Result != nil {
+		j.lab.add(out.Result, j.track)
+	}
 	switch {
 	case out.Encoded != nil && enc != nil:
 		return enc.WriteEncoded(out.Encoded)
@@ -593,6 +619,7 @@ func (j *solveJob) finish(o *solveOptions, sum batch.Summary) error {
 	plotsFailed := j.plots.report(j.errw, o.output.plots)
 	line := fmt.Sprintf("huesolve: %d sample(s) solved from %d input(s): %d flagged, %d failed, %d input(s) unreadable",
 		sum.Solved, sum.Files, sum.Flagged, sum.Failed, sum.Unreadable)
+	line += j.lab.note()
 	out := o.output.file()
 	if out != "" && sum.Solved > 0 {
 		line += "; results in " + out
@@ -609,7 +636,7 @@ func (j *solveJob) finish(o *solveOptions, sum batch.Summary) error {
 		return &exitError{code: exitFailure, msg: "the results were written, but not every plot could be (see above)"}
 	case sum.Unreadable > 0 || sum.Failed > 0:
 		return &exitError{code: exitSkipped}
-	case sum.Flagged > 0:
+	case sum.Flagged > 0 || j.lab.flagged() > 0:
 		return &exitError{code: exitFlagged}
 	}
 	return nil
