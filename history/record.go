@@ -44,7 +44,8 @@ type Run struct {
 	NChecks, NSamples int
 }
 
-// Input is one input file and its SHA-256.
+// Input is one input file and its SHA-256 (lower-case hex; empty when
+// the file could not be read).
 type Input struct {
 	Path   string
 	SHA256 string

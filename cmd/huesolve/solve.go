@@ -17,6 +17,7 @@ import (
 	"golang.org/x/term"
 
 	"huesolve/batch"
+	"huesolve/history"
 	"huesolve/internal/atomicfile"
 	"huesolve/provenance"
 	"huesolve/reference"
@@ -37,6 +38,7 @@ type solveOptions struct {
 	jobs      int
 	checkOnly bool
 	review    solveReview
+	qc        recordFlag
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -183,6 +185,7 @@ func newSolveCmd() *cobra.Command {
 	f.BoolVar(&o.checkOnly, "check-only", false, "read and check every scan without solving it")
 	o.review.flag.add(f)
 	o.method.addUse(f)
+	o.qc.add(f)
 	return cmd
 }
 
@@ -200,6 +203,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		return err
 	}
 	j.newBatch(o, q)
+	j.keep = o.qc.path != ""
 	j.showProgress(cmd, o.output.plots != "")
 	if o.checkOnly {
 		return runSolveCheck(cmd, j.batch, j.inputs, j.errw, func() int64 {
@@ -228,7 +232,28 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if rerr != nil {
 		return fmt.Errorf("the results were written, but the review report could not be: %w", rerr)
 	}
+	if sum.Solved == 0 || o.qc.path == "" {
+		return ferr
+	}
+	if err := j.recordHistory(cmd, o); err != nil {
+		return err
+	}
 	return ferr
+}
+
+// recordHistory appends the run to the --record history file: its
+// record and every solved sample's results.
+func (j *solveJob) recordHistory(cmd *cobra.Command, o *solveOptions) error {
+	written := "the results are above"
+	if out := o.output.file(); out != "" {
+		written = "the results are in " + out
+	}
+	run, err := historyRun(history.KindSolve, j.run)
+	if err != nil {
+		return o.qc.failed(err, written)
+	}
+	run.Samples = j.solved
+	return o.qc.record(cmd, run, written)
 }
 
 // check reads the flags of solve into the model options and the quantity
@@ -250,11 +275,14 @@ func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath stri
 	if o.jobs < 0 {
 		return mopt, q, usagef("-j %d: want a positive number of workers", o.jobs)
 	}
-	if o.checkOnly && (o.output.out != "" || o.output.plots != "" || o.review.on()) {
-		return mopt, q, usagef("--check-only writes no results: leave out -o, --plots and --report")
+	if o.checkOnly && (o.output.out != "" || o.output.plots != "" || o.review.on() || o.qc.path != "") {
+		return mopt, q, usagef("--check-only writes no results: leave out -o, --plots, --report and --record")
 	}
 	inputs := append([]string{refPath, o.method.use, o.scans.blank, o.samples}, scanInputFiles(scans)...)
-	if err = checkNotInput("-o", o.output.out, inputs...); err != nil {
+	if err = checkNotInput("-o", o.output.out, append(inputs, o.qc.path)...); err != nil {
+		return mopt, q, err
+	}
+	if err = checkNotInput("--record", o.qc.path, inputs...); err != nil {
 		return mopt, q, err
 	}
 	err = o.review.flag.check(o.output.out, inputs...)
@@ -278,6 +306,11 @@ type solveJob struct {
 	bar    *progressbar.ProgressBar
 	seen   *outcomeNotes
 	run    *provenance.Run // the run's record (nil with --check-only)
+
+	// keep: --record is given; solved holds each solved sample's rows
+	// for it, copied in emit (the batch reuses its results).
+	keep   bool
+	solved []history.SampleResult
 }
 
 func newSolveJob(stderr io.Writer) *solveJob {
@@ -530,6 +563,9 @@ func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.En
 	}
 	if rev != nil && out.Result != nil {
 		rev.Add(out.Seq, out.Result)
+	}
+	if j.keep && out.Result != nil {
+		j.solved = append(j.solved, history.SamplesOf(out.Result)...)
 	}
 	switch {
 	case out.Encoded != nil && enc != nil:
