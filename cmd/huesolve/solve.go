@@ -149,7 +149,8 @@ Exit codes:
   0  every input read and solved, no sample flagged
   1  failure: nothing could be solved (bad reference set, options, output,
      or not one sample could be read and solved: -o FILE is left as it
-     was), or the output or a plot could not be written
+     was), or the output or a plot could not be written, or --record DB
+     could not record the run (the output is written first)
   2  bad command line
   3  some files or samples could not be read or solved (listed on stderr)
   4  everything was solved, but some samples carry a "!" flag

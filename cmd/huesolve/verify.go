@@ -80,6 +80,9 @@ to a file instead (atomically). --plots DIR writes, per compound, found
 against known with a recovery panel. --report FILE.html writes a review
 report: one self-contained HTML page with the run's settings, a row and a
 fit figure per check standard, the verdicts and the figures of merit.
+--record DB appends the run and every check result to a QC history file
+after the output is written (see huesolve history); a locked or damaged
+file fails the command (exit 1) naming it.
 
 The summary table counts, per compound, the check standards with it (known
 concentration above zero: judged on recovery) and without it (known zero:
