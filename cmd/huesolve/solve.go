@@ -276,8 +276,11 @@ func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath stri
 	if o.jobs < 0 {
 		return mopt, q, usagef("-j %d: want a positive number of workers", o.jobs)
 	}
-	if o.checkOnly && (o.output.out != "" || o.output.plots != "" || o.review.on() || o.qc.path != "") {
-		return mopt, q, usagef("--check-only writes no results: leave out -o, --plots, --report and --record")
+	if o.checkOnly && (o.output.out != "" || o.output.plots != "" || o.review.on()) {
+		return mopt, q, usagef("--check-only writes no results: leave out -o, --plots and --report")
+	}
+	if o.checkOnly && o.qc.path != "" {
+		return mopt, q, usagef("--check-only records no run: leave out --record")
 	}
 	inputs := append([]string{refPath, o.method.use, o.scans.blank, o.samples}, scanInputFiles(scans)...)
 	if err = checkNotInput("-o", o.output.out, append(inputs, o.qc.path)...); err != nil {
