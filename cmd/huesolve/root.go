@@ -120,6 +120,7 @@ func newRootCmd() *cobra.Command {
 		newWindowCmd(),
 		newVerifyCmd(),
 		newSolveCmd(),
+		newHistoryCmd(),
 	)
 	// Any argument check left to cobra's own wording is still a bad
 	// command line (exit 2).

@@ -17,6 +17,7 @@ import (
 	"golang.org/x/term"
 
 	"huesolve/batch"
+	"huesolve/history"
 	"huesolve/internal/atomicfile"
 	"huesolve/provenance"
 	"huesolve/reference"
@@ -40,6 +41,7 @@ type solveOptions struct {
 	explain   bool
 	interf    []string
 	lab       labFlags
+	qc        recordFlag
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -177,7 +179,8 @@ Exit codes:
   0  every input read and solved, no sample flagged
   1  failure: nothing could be solved (bad reference set, options, output,
      or not one sample could be read and solved: -o FILE is left as it
-     was), or the output or a plot could not be written
+     was), or the output or a plot could not be written, or --record DB
+     could not record the run (the output is written first)
   2  bad command line
   3  some files or samples could not be read or solved (listed on stderr)
   4  everything was solved, but some samples carry a "!" flag
@@ -216,6 +219,7 @@ func newSolveCmd() *cobra.Command {
 	f.StringArrayVar(&o.interf, "interferent", nil, "scan `FILE` of a coloured substance present but not quantified: fitted with its own amount, in units of that scan (repeatable)")
 	f.BoolVar(&o.explain, "explain", false, "after the table, what each candidate of --baseline auto scored per sample (JSON always holds it)")
 	o.lab.add(f)
+	o.qc.add(f)
 	return cmd
 }
 
@@ -233,6 +237,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		return err
 	}
 	j.newBatch(o, q)
+	j.keep = o.qc.path != ""
 	j.showProgress(cmd, o.output.plots != "")
 	if o.checkOnly {
 		return runSolveCheck(cmd, j.batch, j.inputs, j.errw, j.cover.add, func() int64 {
@@ -262,7 +267,28 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	if rerr != nil {
 		return fmt.Errorf("the results were written, but the review report could not be: %w", rerr)
 	}
+	if sum.Solved == 0 || o.qc.path == "" {
+		return ferr
+	}
+	if err := j.recordHistory(cmd, o); err != nil {
+		return err
+	}
 	return ferr
+}
+
+// recordHistory appends the run to the --record history file: its
+// record and every solved sample's results.
+func (j *solveJob) recordHistory(cmd *cobra.Command, o *solveOptions) error {
+	written := "the results are above"
+	if out := o.output.file(); out != "" {
+		written = "the results are in " + out
+	}
+	run, err := historyRun(history.KindSolve, j.run)
+	if err != nil {
+		return o.qc.failed(err, written)
+	}
+	run.Samples = j.solved
+	return o.qc.record(cmd, run, written)
 }
 
 // check reads the flags of solve into the model options and the quantity
@@ -290,8 +316,14 @@ func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath stri
 	if o.checkOnly && (o.output.out != "" || o.output.plots != "" || o.review.on()) {
 		return mopt, q, usagef("--check-only writes no results: leave out -o, --plots and --report")
 	}
+	if o.checkOnly && o.qc.path != "" {
+		return mopt, q, usagef("--check-only records no run: leave out --record")
+	}
 	inputs := append(append([]string{refPath, o.method.use, o.scans.blank, o.samples}, o.interf...), scanInputFiles(scans)...)
-	if err = checkNotInput("-o", o.output.out, inputs...); err != nil {
+	if err = checkNotInput("-o", o.output.out, append(inputs, o.qc.path)...); err != nil {
+		return mopt, q, err
+	}
+	if err = checkNotInput("--record", o.qc.path, inputs...); err != nil {
 		return mopt, q, err
 	}
 	err = o.review.flag.check(o.output.out, inputs...)
@@ -317,6 +349,11 @@ type solveJob struct {
 	run    *provenance.Run // the run's record (nil with --check-only)
 	cover  coverageNotes   // scans refused for coverage (from emit, in order)
 	lab    *labJob         // replicate groups and reporting basis; nil when not asked for
+
+	// keep: --record is given; solved holds each solved sample's rows
+	// for it, copied in emit (the batch reuses its results).
+	keep   bool
+	solved []history.SampleResult
 }
 
 func newSolveJob(stderr io.Writer) *solveJob {
@@ -585,6 +622,9 @@ func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.En
 	}
 	if j.lab != nil && out.Err == nil && out.Result != nil {
 		j.lab.add(out.Result, j.track)
+	}
+	if j.keep && out.Result != nil {
+		j.solved = append(j.solved, history.SamplesOf(out.Result)...)
 	}
 	switch {
 	case out.Encoded != nil && enc != nil:

@@ -10,6 +10,7 @@ import (
 	"github.com/spf13/cobra"
 
 	"huesolve/calibration"
+	"huesolve/history"
 	"huesolve/internal/pkgerr"
 	"huesolve/method"
 	"huesolve/provenance"
@@ -32,6 +33,7 @@ type verifyOptions struct {
 	crossval       string
 	crossvalBy     string
 	review         reviewFlag
+	qc             recordFlag
 }
 
 const verifyLong = `Solve check standards of known composition against a reference set, as if
@@ -78,6 +80,9 @@ to a file instead (atomically). --plots DIR writes, per compound, found
 against known with a recovery panel. --report FILE.html writes a review
 report: one self-contained HTML page with the run's settings, a row and a
 fit figure per check standard, the verdicts and the figures of merit.
+--record DB appends the run and every check result to a QC history file
+after the output is written (see huesolve history); a locked or damaged
+file fails the command (exit 1) naming it.
 
 The summary table counts, per compound, the check standards with it (known
 concentration above zero: judged on recovery) and without it (known zero:
@@ -126,6 +131,7 @@ func newVerifyCmd() *cobra.Command {
 	o.review.add(f)
 	o.method.addUse(f)
 	o.method.addSave(f, "the reference set, fit options and acceptance limits, when every compound passes,")
+	o.qc.add(f)
 	return cmd
 }
 
@@ -193,6 +199,9 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 		}
 	}
 	if err := o.saveMethod(cmd, run, refPath, set, mopt, vopt, v, warn); err != nil {
+		return err
+	}
+	if err := o.recordHistory(cmd, run, v); err != nil {
 		return err
 	}
 	return verifyVerdict(cmd.ErrOrStderr(), v, warn)
@@ -281,6 +290,12 @@ func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q 
 	if err := checkNotInput("-o", o.output.out, refPath, o.method.use, checksPath, o.crossval, o.scans.blank); err != nil {
 		return nil, nil, "", err
 	}
+	if err := checkNotInput("-o", o.output.out, o.qc.path); err != nil {
+		return nil, nil, "", err
+	}
+	if err := checkNotInput("--record", o.qc.path, refPath, o.method.use, checksPath, o.crossval, o.scans.blank); err != nil {
+		return nil, nil, "", err
+	}
 	if err := o.review.check(o.output.out, refPath, checksPath, o.crossval, o.scans.blank); err != nil {
 		return nil, nil, "", err
 	}
@@ -312,6 +327,26 @@ func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q 
 		warn("no blank given and no blank rows in " + checksPath + ": check standards are solved as read, so the baseline terms must take up the solvent and cell")
 	}
 	return set, sh, blankSum, nil
+}
+
+// recordHistory appends the run to the --record history file, if one
+// is given: its record and every check result.
+func (o *verifyOptions) recordHistory(cmd *cobra.Command, p *provenance.Run, v *validate.Verification) error {
+	if o.qc.path == "" {
+		return nil
+	}
+	written := "the results are above"
+	if out := o.output.file(); out != "" {
+		written = "the results are in " + out
+	}
+	run, err := historyRun(history.KindVerify, p)
+	if err != nil {
+		return o.qc.failed(err, written)
+	}
+	pass := v.Pass
+	run.Pass = &pass
+	run.Checks = history.ChecksOf(v)
+	return o.qc.record(cmd, run, written)
 }
 
 // crossValidate runs the cross-validation of --crossval (nil without it).

@@ -1,0 +1,85 @@
+package main
+
+import (
+	"bytes"
+	"encoding/csv"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// TestRecordAndHistory: five verify runs of one invented case whose
+// declared concentrations differ slightly (recoveries about 100, 101,
+// 99, 100 %) and then by 10 % (about 91 %) are recorded with a solve run;
+// history lists them, breaks 1-3s on the last run for each series (the
+// first four are the baseline) and exits 4, and its CSV holds every point.
+func TestRecordAndHistory(t *testing.T) {
+	db := filepath.Join(t.TempDir(), "qc.db")
+	var refs, dir string
+	for _, declare := range []float64{1, 1 / 1.01, 1 / 0.99, 1, 1 / 0.91} {
+		var checks string
+		dir, refs, checks = valCaseNoise(t, declare, quietCheckSD)
+		out, errOut, code := run(t, "verify", refs, checks, "--record", db, "--format", "csv")
+		if code != exitOK && code != exitFlagged || !strings.Contains(errOut, "recorded in "+db) {
+			t.Fatalf("verify exit %d:\n%s\n%s", code, errOut, out)
+		}
+	}
+	scans, _ := filepath.Glob(filepath.Join(dir, "chk-*.csv"))
+	if _, errOut, code := run(t, append([]string{"solve", refs, "--record", db, "-o", filepath.Join(dir, "s.csv")}, scans...)...); code == exitFailure || code == exitUsage {
+		t.Fatalf("solve exit %d:\n%s", code, errOut)
+	}
+	out, errOut, code := run(t, "history", db, "--baseline-runs", "4", "--plots", filepath.Join(dir, "charts"), "--plot-format", "svg")
+	if code != exitFlagged {
+		t.Fatalf("history exit %d, want 4:\n%s\n%s", code, errOut, out)
+	}
+	if !strings.Contains(out, "QC history "+db+": 6 run(s)") || !strings.Contains(out, "│ 6   │") ||
+		!strings.Contains(out, "run 5 (") || !strings.Contains(out, ": 1-3s, out of control") {
+		t.Errorf("history table:\n%s", out)
+	}
+	charts, _ := filepath.Glob(filepath.Join(dir, "charts", "control-*.svg"))
+	if len(charts) == 0 {
+		t.Errorf("no control charts written: %s", errOut)
+	}
+	out, _, _ = run(t, "history", db, "--format", "csv", "--baseline-runs", "4")
+	recs, err := csv.NewReader(strings.NewReader(out)).ReadAll()
+	if err != nil || len(recs) < 6 || (len(recs)-1)%5 != 0 {
+		t.Fatalf("CSV: %v, %d records:\n%s", err, len(recs), out)
+	}
+	for _, r := range recs[1:] {
+		if r[2] == "5" && !strings.Contains(r[9], "1-3s") {
+			t.Errorf("run 5 without 1-3s: %q", r)
+		}
+	}
+}
+
+// TestRecordDamagedFile: a --record file that is not a database fails the
+// command with a message naming it, after the results were written; the
+// file is left as it was.
+func TestRecordDamagedFile(t *testing.T) {
+	dir, refs, checks := valCaseNoise(t, 1, quietCheckSD)
+	db := filepath.Join(dir, "qc.db")
+	junk := bytes.Repeat([]byte("spreadsheet, not a database\n"), 200)
+	if err := os.WriteFile(db, junk, 0o644); err != nil {
+		t.Fatal(err)
+	}
+	res := filepath.Join(dir, "verify.csv")
+	_, errOut, code := run(t, "verify", refs, checks, "--record", db, "--format", "csv", "-o", res)
+	if code != exitFailure || !strings.Contains(errOut, db) || !strings.Contains(errOut, "the results are in "+res) {
+		t.Errorf("exit %d, stderr:\n%s", code, errOut)
+	}
+	if fi, err := os.Stat(res); err != nil || fi.Size() == 0 {
+		t.Errorf("results lost: %v", err)
+	}
+	if b, _ := os.ReadFile(db); !bytes.Equal(b, junk) {
+		t.Error("the damaged history file was changed")
+	}
+	_, errOut, code = run(t, "history", db)
+	if code != exitFailure || !strings.Contains(errOut, db) || !strings.Contains(errOut, "damaged") {
+		t.Errorf("history of a damaged file: exit %d:\n%s", code, errOut)
+	}
+	_, errOut, code = run(t, "history", filepath.Join(dir, "none.db"))
+	if code != exitFailure || !strings.Contains(errOut, "none.db does not exist") {
+		t.Errorf("history of a missing file: exit %d:\n%s", code, errOut)
+	}
+}
