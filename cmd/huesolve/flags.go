@@ -11,6 +11,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"strconv"
 	"strings"
 
@@ -225,7 +226,7 @@ type outputFlags struct {
 // add binds --format, -o/--output, --plots and --plot-format; plotsHelp
 // says what the command draws, e.g. "one figure per sample".
 func (o *outputFlags) add(fs *pflag.FlagSet, plotsHelp string) {
-	fs.StringVar(&o.format, "format", report.FormatTable, "output format: table, csv or json")
+	fs.StringVar(&o.format, "format", "", "output format: table, csv or json (default: from the -o file's extension, .csv, .json or .txt; else table)")
 	fs.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output (- for standard output)")
 	o.addPlots(fs, plotsHelp)
 }
@@ -238,15 +239,52 @@ func (o *outputFlags) addPlots(fs *pflag.FlagSet, plotsHelp string) {
 }
 
 // check validates --format and --plot-format and leaves them in lower
-// case.
+// case. Without --format the -o file's extension picks the format
+// (formatOfName); a --format that contradicts a .csv or .json name is
+// refused, as is an .html name (the review report is not an -o format).
 func (o *outputFlags) check() error {
-	switch f := strings.ToLower(o.format); f {
-	case report.FormatTable, report.FormatCSV, report.FormatJSON:
-		o.format = f
+	given := strings.ToLower(o.format)
+	switch given {
+	case "", report.FormatTable, report.FormatCSV, report.FormatJSON:
 	default:
 		return usagef("--format %q: want table, csv or json", o.format)
 	}
+	named, strict := formatOfName(o.file())
+	switch {
+	case named == formatHTML:
+		return usagef("-o %s: -o writes a table, CSV or JSON, not an HTML page; name the file .csv, .json or .txt", o.out)
+	case given == "" && named != "":
+		o.format = named
+	case given == "":
+		o.format = report.FormatTable
+	case strict && named != given:
+		return usagef("-o %s names a %s file but --format is %s; give one of them only, or make them agree", o.out, strings.ToUpper(named), given)
+	default:
+		o.format = given
+	}
 	return o.checkPlots()
+}
+
+// formatHTML is what formatOfName returns for an .html or .htm name.
+const formatHTML = "html"
+
+// formatOfName is the output format an -o file name asks for by its
+// extension (any case): .csv csv, .json json, .txt table, .html/.htm
+// formatHTML; "" for any other name (the format is then --format's, or
+// table). strict is true when the name leaves no choice (.csv, .json,
+// .html): a .txt file may hold CSV or JSON when --format says so.
+func formatOfName(name string) (format string, strict bool) {
+	switch strings.ToLower(filepath.Ext(name)) {
+	case ".csv":
+		return report.FormatCSV, true
+	case ".json":
+		return report.FormatJSON, true
+	case ".html", ".htm":
+		return formatHTML, true
+	case ".txt":
+		return report.FormatTable, false
+	}
+	return "", false
 }
 
 // checkPlots validates --plot-format and leaves it in lower case.

@@ -145,7 +145,7 @@ A set whose checksum is not the method's is refused.
 Output: a table on standard output sized for the terminal, or --format csv or
 json (opening with the run's record: tool, version, time, command line,
 method, reference set, blank, sheets and input files with their SHA-256,
-and every setting in force; CSV as "# key: value" lines); -o FILE writes it to a file, complete or not at all (-o - is standard
+and every setting in force; CSV as "# key: value" lines); -o FILE writes it to a file (FILE.csv or FILE.json picks the format), complete or not at all (-o - is standard
 output). The file is written only when at least one sample was solved: a
 run that solves nothing (a misspelt scan path, every scan failing) leaves
 an existing FILE as it was and exits 1. When some samples failed, FILE holds

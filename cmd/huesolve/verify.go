@@ -75,11 +75,12 @@ saves them, with the reference set's checksum, when every compound passed,
 for solve --method.
 
 Output: tables on standard output, or --format csv|json (with the run's
-record, as solve writes it); -o FILE writes it
-to a file instead (atomically). --plots DIR writes, per compound, found
-against known with a recovery panel. --report FILE.html writes a review
-report: one self-contained HTML page with the run's settings, a row and a
-fit figure per check standard, the verdicts and the figures of merit.
+record, as solve writes it); -o FILE writes it to a file instead
+(atomically; FILE.csv or FILE.json picks the format). --plots DIR writes,
+per compound, found against known with a recovery panel. --report
+FILE.html writes a review report: one self-contained HTML page with the
+run's settings, a row and a fit figure per check standard, the verdicts
+and the figures of merit.
 --record DB appends the run and every check result to a QC history file
 after the output is written (see huesolve history); a locked or damaged
 file fails the command (exit 1) naming it.

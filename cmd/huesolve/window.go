@@ -66,7 +66,7 @@ that solve and verify take with --method.
 
 Output: the best windows as a table with the figures of merit of the
 recommended window, or --format csv (every window tried) or json; -o FILE
-writes to a file (atomically). --plots DIR writes the worst predicted error
+writes to a file (atomically; FILE.csv or FILE.json picks the format). --plots DIR writes the worst predicted error
 and the condition number against window start, one line per width.
 
 ` + caution

@@ -1,0 +1,70 @@
+package main
+
+import (
+	"encoding/json"
+	"os"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// TestOutputFormatFromName: -o NAME.csv or NAME.json without --format
+// writes CSV or JSON (not a box-drawing table), for every command with
+// -o and --format; a --format that contradicts the name, and an .html
+// name, are refused before any work; .txt and unknown names keep the
+// table (or --format's choice).
+func TestOutputFormatFromName(t *testing.T) {
+	dir, refs, checks := valCase(t, 1)
+	scan := filepath.Join(dir, "chk-1.csv")
+	cmds := map[string][]string{
+		"solve":  {"solve", refs, scan},
+		"verify": {"verify", refs, checks},
+		"window": {"window", refs},
+	}
+	for name, args := range cmds {
+		csvOut := filepath.Join(dir, name+"-out.CSV")
+		if _, errOut, code := run(t, append(args, "-o", csvOut)...); code != exitOK && code != exitFlagged {
+			t.Fatalf("%s -o %s: exit %d\n%s", name, csvOut, code, errOut)
+		}
+		data, err := os.ReadFile(csvOut)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if strings.ContainsAny(string(data), "│─┌") || !strings.Contains(strings.SplitN(string(data), "\n", 2)[0], ",") {
+			t.Errorf("%s -o %s wrote no CSV:\n%.300s", name, csvOut, data)
+		}
+		jsonOut := filepath.Join(dir, name+"-out.json")
+		if _, errOut, code := run(t, append(args, "-o", jsonOut)...); code != exitOK && code != exitFlagged {
+			t.Fatalf("%s -o %s: exit %d\n%s", name, jsonOut, code, errOut)
+		}
+		if data, _ := os.ReadFile(jsonOut); !json.Valid(data) {
+			t.Errorf("%s -o %s wrote no JSON:\n%.300s", name, jsonOut, data)
+		}
+		txtOut := filepath.Join(dir, name+"-out.txt")
+		if _, errOut, code := run(t, append(args, "-o", txtOut)...); code != exitOK && code != exitFlagged {
+			t.Fatalf("%s -o %s: exit %d\n%s", name, txtOut, code, errOut)
+		}
+		if data, _ := os.ReadFile(txtOut); !strings.ContainsAny(string(data), "│─") {
+			t.Errorf("%s -o %s wrote no table:\n%.300s", name, txtOut, data)
+		}
+		// --format says otherwise for a .txt file: allowed.
+		if _, errOut, code := run(t, append(args, "-o", txtOut, "--format", "json")...); code != exitOK && code != exitFlagged {
+			t.Errorf("%s -o %s --format json: exit %d\n%s", name, txtOut, code, errOut)
+		} else if data, _ := os.ReadFile(txtOut); !json.Valid(data) {
+			t.Errorf("%s -o %s --format json wrote no JSON", name, txtOut)
+		}
+		for _, bad := range [][]string{
+			{"-o", filepath.Join(dir, name+"-x.csv"), "--format", "json"},
+			{"-o", filepath.Join(dir, name+"-x.json"), "--format", "table"},
+			{"-o", filepath.Join(dir, name+"-x.html")},
+		} {
+			_, errOut, code := run(t, append(args, bad...)...)
+			if code != exitUsage || !strings.Contains(errOut, bad[1]) {
+				t.Errorf("%s %v: exit %d, stderr %q; want exit %d naming the file", name, bad, code, errOut, exitUsage)
+			}
+			if _, err := os.Stat(bad[1]); err == nil {
+				t.Errorf("%s %v: the file was written", name, bad)
+			}
+		}
+	}
+}
