@@ -112,8 +112,18 @@ func folderFiles(dir string, ents []os.DirEntry) []string {
 // naturalCompare orders names as a person would: runs of decimal digits
 // compare by their value ("s2" < "s10" < "s11"), everything else byte by
 // byte; names equal that way (s01, s1) fall back to plain order so the
-// order is total.
+// order is total. The extension is set aside first, so that a name
+// comes before its longer variants: lot-106.csv before lot-106-d5.csv
+// (byte by byte "." would follow "-").
 func naturalCompare(a, b string) int {
+	if c := naturalCompareText(strings.TrimSuffix(a, filepath.Ext(a)), strings.TrimSuffix(b, filepath.Ext(b))); c != 0 {
+		return c
+	}
+	return naturalCompareText(a, b)
+}
+
+// naturalCompareText is naturalCompare on the whole text.
+func naturalCompareText(a, b string) int {
 	i, j := 0, 0
 	for i < len(a) && j < len(b) {
 		ca, cb := a[i], b[j]

@@ -7,6 +7,7 @@ import (
 	"os"
 	"path/filepath"
 	"reflect"
+	"slices"
 	"strings"
 	"sync"
 	"syscall"
@@ -197,6 +198,12 @@ func TestNaturalOrder(t *testing.T) {
 		if strings.Join(got, " ") != want {
 			t.Errorf("%s: %v, want %s", arg, got, want)
 		}
+	}
+	// A name before its longer variants, whatever the extension.
+	names := []string{"lot-106-d5.csv", "lot-106.csv", "lot-105.jdx", "lot-106.jdx", "lot-10.csv"}
+	slices.SortFunc(names, naturalCompare)
+	if got, want := strings.Join(names, " "), "lot-10.csv lot-105.jdx lot-106.csv lot-106.jdx lot-106-d5.csv"; got != want {
+		t.Errorf("natural order %s, want %s", got, want)
 	}
 	if naturalCompare("s01", "s1") == 0 || naturalCompare("a", "a") != 0 || naturalCompare("x9", "x10") >= 0 {
 		t.Error("naturalCompare is not a total order as documented")
