@@ -59,7 +59,8 @@ const (
 )
 
 // NewResultWriter returns the writer for format ("table", "csv" or
-// "json"). width is the terminal width for tables (0: 100 columns).
+// "json"). width is the terminal width for tables (0: no limit, for a
+// file or a pipe: every column and full names).
 func NewResultWriter(format string, w io.Writer, l Layout, width int) (ResultWriter, error) {
 	switch strings.ToLower(format) {
 	case FormatTable:

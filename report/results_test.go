@@ -10,6 +10,7 @@ import (
 	"os"
 	"path/filepath"
 	"regexp"
+	"strconv"
 	"strings"
 	"testing"
 	"unicode/utf8"
@@ -248,12 +249,56 @@ func TestTableWriter(t *testing.T) {
 		if strings.Contains(out, "could not be solved") {
 			t.Errorf("width %d: failures belong on stderr, not in the table:\n%s", width, out)
 		}
-		if width == 160 && !strings.Contains(out, "DW") {
+		head := lines[1] // the header row
+		if width == 160 && !strings.Contains(head, "DW") {
 			t.Errorf("width 160 dropped the DW column:\n%s", out)
 		}
-		if width == 80 && strings.Contains(out, "DW") {
+		if width == 80 && strings.Contains(head, "DW") {
 			t.Errorf("width 80 kept the DW column:\n%s", out)
 		}
+		// Shortened tables say so, and how to see everything.
+		note := "Cut for " + strconv.Itoa(width) + " columns (names, "
+		if cutTable := width < 160; cutTable != strings.Contains(out, note) || cutTable != strings.Contains(out, "| cat or --format csv") {
+			t.Errorf("width %d: the note on what was cut is wrong or missing:\n%s", width, out)
+		}
+	}
+}
+
+// TestTableFullWidth: a table for a file or a pipe (width 0) keeps long
+// sample names whole and every column, however wide it gets, and says
+// nothing about cuts.
+func TestTableFullWidth(t *testing.T) {
+	l := Layout{Units: []string{}}
+	for k := range 6 {
+		l.Compounds = append(l.Compounds, fmt.Sprintf("dye-with-a-long-name-%d", k))
+		l.Units = append(l.Units, "mg/L")
+	}
+	var b bytes.Buffer
+	w := newTableWriter(&b, l, 0)
+	var names []string
+	for i := 1; i <= 6; i++ {
+		name := fmt.Sprintf("FH-2026-12-04-dyebath-v12-sample-%03d", i)
+		names = append(names, name)
+		r := testResult(name)
+		r.Amounts = nil
+		for _, c := range l.Compounds {
+			r.Amounts = append(r.Amounts, unmix.Amount{Compound: c, Unit: "mg/L", Conc: 1.25, SE: 0.01})
+		}
+		if err := w.Write(r); err != nil {
+			t.Fatal(err)
+		}
+	}
+	if err := w.Close(); err != nil {
+		t.Fatal(err)
+	}
+	out := b.String()
+	for _, want := range append(names, "χ²/dof", "RMS", "DW", "0.97", "dye-with-a-long-name-5 (mg/L)") {
+		if !strings.Contains(out, want) {
+			t.Errorf("%q missing from the full-width table:\n%s", want, out)
+		}
+	}
+	if strings.Contains(out, "…") || strings.Contains(out, "Cut for") {
+		t.Errorf("full-width table cut something:\n%s", out)
 	}
 }
 

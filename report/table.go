@@ -4,6 +4,7 @@ import (
 	"fmt"
 	"io"
 	"math"
+	"slices"
 	"strconv"
 	"strings"
 	"unicode/utf8"
@@ -16,7 +17,8 @@ import (
 	"huesolve/unmix"
 )
 
-// DefaultWidth is the table width when the terminal's is not known.
+// DefaultWidth is the table width for a terminal whose width is not
+// known.
 const DefaultWidth = 100
 
 // Sample names are cut to softNameWidth before fit figures are dropped
@@ -26,8 +28,10 @@ const (
 	minNameWidth  = 12
 )
 
-// tableWriter collects results and, on Close, prints a table sized for a
-// terminal of the given width: one row per sample with each compound's
+// tableWriter collects results and, on Close, prints a table: at full
+// width (width 0, for a file or a pipe), or sized for a terminal of the
+// given width, saying in a line after the legend what was shortened and
+// how to see everything. One row per sample with each compound's
 // concentration +- standard error (digits matched to the error) and its
 // flags, the fit figures that fit (reduced chi-square, RMS residual,
 // Durbin-Watson, dropped first as space runs out), the sample's flags,
@@ -48,11 +52,9 @@ type tableWriter struct {
 	lab     *lab.Summary // the lab section after the table, if any
 }
 
-// newTableWriter returns a table writer; width 0 means DefaultWidth.
+// newTableWriter returns a table writer; width 0 (or less) means no
+// limit: every column and full names.
 func newTableWriter(w io.Writer, l Layout, width int) *tableWriter {
-	if width <= 0 {
-		width = DefaultWidth
-	}
 	return &tableWriter{w: w, l: l, width: width, seen: map[unmix.Flag]bool{}}
 }
 
@@ -199,6 +201,7 @@ func (t *tableWriter) Close() error {
 			widths[i] = max(widths[i], utf8.RuneCountInString(c))
 		}
 	}
+	full := slices.Clone(widths)
 	total := func() int {
 		n := 1
 		for i, w := range widths {
@@ -211,12 +214,12 @@ func (t *tableWriter) Close() error {
 	// Shorten long sample names first, then give up fit figures, then
 	// shorten names further.
 	shorten := func(least int) {
-		if over := total() - t.width; over > 0 && widths[0] > least {
+		if over := total() - t.width; t.width > 0 && over > 0 && widths[0] > least {
 			widths[0] = max(least, widths[0]-over)
 		}
 	}
 	shorten(softNameWidth)
-	for drop := len(figureCols) - 1; drop >= 0 && total() > t.width; drop-- {
+	for drop := len(figureCols) - 1; t.width > 0 && drop >= 0 && total() > t.width; drop-- {
 		keep[1+nc+drop] = false
 	}
 	shorten(minNameWidth)
@@ -268,6 +271,7 @@ func (t *tableWriter) Close() error {
 			b.WriteString(e)
 		}
 	}
+	b.WriteString(shortenedNote(t.width, widths[0] < full[0], droppedCols(header, keep)))
 	if _, err := io.WriteString(t.w, b.String()); err != nil || t.lab == nil {
 		return err
 	}
@@ -339,4 +343,30 @@ func cut(s string, n int) string {
 	}
 	r := []rune(s)
 	return string(r[:n-1]) + "…"
+}
+
+// droppedCols names the columns of header not kept.
+func droppedCols(header []string, keep []bool) []string {
+	var out []string
+	for i, k := range keep {
+		if !k {
+			out = append(out, header[i])
+		}
+	}
+	return out
+}
+
+// shortenedNote is the one line that says a table was shortened to fit
+// a terminal width columns wide (names cut, columns left out) and how to
+// see everything; "" when nothing was shortened.
+func shortenedNote(width int, cutNames bool, dropped []string) string {
+	var what []string
+	if cutNames {
+		what = append(what, "names")
+	}
+	what = append(what, dropped...)
+	if len(what) == 0 {
+		return ""
+	}
+	return fmt.Sprintf("Cut for %d columns (%s): see all with | cat or --format csv\n", width, strings.Join(what, ", "))
 }

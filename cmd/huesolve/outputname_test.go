@@ -2,6 +2,8 @@ package main
 
 import (
 	"encoding/json"
+	"fmt"
+	"io"
 	"os"
 	"path/filepath"
 	"strings"
@@ -67,4 +69,69 @@ func TestOutputFormatFromName(t *testing.T) {
 			}
 		}
 	}
+}
+
+// TestTableToPipeKeepsEverything: solve's table written to a pipe or to
+// an -o file keeps long sample names whole and every fit-figure column,
+// and says nothing about cuts (only a terminal's width limits a table).
+func TestTableToPipeKeepsEverything(t *testing.T) {
+	dir, refs, _ := valCase(t, 1)
+	data, err := os.ReadFile(filepath.Join(dir, "chk-1.csv"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	scans := filepath.Join(dir, "dyebath")
+	if err := os.Mkdir(scans, 0o755); err != nil {
+		t.Fatal(err)
+	}
+	var names []string
+	for i := 1; i <= 6; i++ {
+		name := fmt.Sprintf("FH-2026-12-04-dyebath-v12-sample-%03d", i)
+		names = append(names, name)
+		body := strings.Replace(string(data), "chk-1 [absorbance]", name+" [absorbance]", 1)
+		if err := os.WriteFile(filepath.Join(scans, name+".csv"), []byte(body), 0o644); err != nil {
+			t.Fatal(err)
+		}
+	}
+	t.Setenv("COLUMNS", "80")
+	check := func(how, out string) {
+		t.Helper()
+		for _, want := range append(names, "χ²/dof", "RMS", "DW") {
+			if !strings.Contains(out, want) {
+				t.Errorf("%s: %q missing from the table:\n%s", how, want, out)
+			}
+		}
+		if strings.Contains(out, "…") || strings.Contains(out, "Cut for") {
+			t.Errorf("%s: the table was cut:\n%s", how, out)
+		}
+	}
+
+	r, w, err := os.Pipe()
+	if err != nil {
+		t.Fatal(err)
+	}
+	got := make(chan string)
+	go func() {
+		b, _ := io.ReadAll(r)
+		got <- string(b)
+	}()
+	var errb strings.Builder
+	code := Execute([]string{"solve", refs, scans}, strings.NewReader(""), w, &errb)
+	w.Close()
+	out := <-got
+	r.Close()
+	if code != exitOK && code != exitFlagged {
+		t.Fatalf("solve to a pipe: exit %d\n%s", code, errb.String())
+	}
+	check("pipe", out)
+
+	file := filepath.Join(dir, "table.txt")
+	if _, errOut, code := run(t, "solve", refs, scans, "-o", file); code != exitOK && code != exitFlagged {
+		t.Fatalf("solve -o %s: exit %d\n%s", file, code, errOut)
+	}
+	b, err := os.ReadFile(file)
+	if err != nil {
+		t.Fatal(err)
+	}
+	check("-o file", string(b))
 }

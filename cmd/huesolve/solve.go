@@ -142,7 +142,8 @@ set and the fit options come from the method and every argument is a scan;
 an option given on the command line overrides the method's and is recorded.
 A set whose checksum is not the method's is refused.
 
-Output: a table on standard output sized for the terminal, or --format csv or
+Output: a table on standard output (sized for a terminal, saying what it
+cut; to a file or pipe, full width), or --format csv or
 json (opening with the run's record: tool, version, time, command line,
 method, reference set, blank, sheets and input files with their SHA-256,
 and every setting in force; CSV as "# key: value" lines); -o FILE writes it to a file (FILE.csv or FILE.json picks the format), complete or not at all (-o - is standard
@@ -730,15 +731,19 @@ func runSolveCheck(cmd *cobra.Command, runner *batch.Batch, inputs []batch.Input
 	return nil
 }
 
-// outputWidth is the width to size a table for: the terminal's when
-// standard output is one, else $COLUMNS, else report.DefaultWidth.
+// outputWidth is the width to size a table for: on a terminal its width
+// (else $COLUMNS, else report.DefaultWidth); to a file (-o) or a pipe, 0:
+// no limit, so that nothing is cut where no one can widen the window.
 func outputWidth(w io.Writer, out string) int {
-	if out == "" {
-		if f, ok := asFile(w); ok && term.IsTerminal(int(f.Fd())) {
-			if cols, _, err := term.GetSize(int(f.Fd())); err == nil && cols > 0 {
-				return cols
-			}
-		}
+	if out != "" {
+		return 0
+	}
+	f, ok := asFile(w)
+	if !ok || !term.IsTerminal(int(f.Fd())) {
+		return 0
+	}
+	if cols, _, err := term.GetSize(int(f.Fd())); err == nil && cols > 0 {
+		return cols
 	}
 	if c, err := strconv.Atoi(os.Getenv("COLUMNS")); err == nil && c > 0 {
 		return c
