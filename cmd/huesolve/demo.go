@@ -6,6 +6,7 @@ import (
 	"fmt"
 	"io"
 	"os"
+	"os/exec"
 	"path/filepath"
 	"slices"
 	"strconv"
@@ -97,6 +98,9 @@ func runDemo(cmd *cobra.Command, opt demoOptions) error {
 		return err
 	}
 	fmt.Fprintf(out, "Each step shows its command line after \"$\"; to repeat one yourself, change into %s first.\n", dir)
+	if _, err := exec.LookPath("huesolve"); err != nil {
+		fmt.Fprint(out, notOnPath)
+	}
 	steps := demoSteps(dir)
 	root := newRootCmd()
 	var missing []string
@@ -131,6 +135,14 @@ func runDemo(cmd *cobra.Command, opt demoOptions) error {
 	fmt.Fprint(out, demoClosing(dir))
 	return nil
 }
+
+// notOnPath is said when no huesolve is on the PATH, so that the printed
+// command lines would end in "command not found".
+const notOnPath = `huesolve is not on your PATH, so the command lines below will not run as
+printed: from the source folder run  go install ./cmd/huesolve  and put the
+folder  go env GOPATH  names, plus /bin, on your PATH (or type
+go run /path/to/source/cmd/huesolve  in place of huesolve).
+`
 
 // demoDir returns the folder to write into: the one given (created if
 // needed; it must be empty or hold an earlier demo) or a new temporary one.

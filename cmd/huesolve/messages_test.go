@@ -142,12 +142,13 @@ func TestCompletionHidden(t *testing.T) {
 	}
 }
 
-// TestMissingOutputFolder: -o into a folder that does not exist says so
-// in plain words, without package names or temporary files.
+// TestMissingOutputFolder: -o into a folder that does not exist creates
+// it, as --plots does, for every command with -o; a file in the way is
+// refused in plain words, without package names or temporary files.
 func TestMissingOutputFolder(t *testing.T) {
 	dir, refs, checks := valCase(t, 1)
 	std := filepath.Join(dir, "standards.csv")
-	missing := filepath.Join(dir, "out")
+	missing := filepath.Join(dir, "out", "today")
 	for _, args := range [][]string{
 		{"calibrate", std, "-o", filepath.Join(missing, "refs.json")},
 		{"verify", refs, checks, "-o", filepath.Join(missing, "verify.csv")},
@@ -155,12 +156,22 @@ func TestMissingOutputFolder(t *testing.T) {
 		{"window", refs, "-o", filepath.Join(missing, "win.csv")},
 		{"convert", filepath.Join(dir, "chk-1.csv"), "-o", filepath.Join(missing, "x.jdx")},
 	} {
+		out := args[len(args)-1]
 		_, errOut, code := run(t, args...)
-		want := "the folder " + missing + " does not exist"
+		if code != exitOK && code != exitFlagged {
+			t.Errorf("%s -o %s: exit %d, stderr %q", args[0], out, code, errOut)
+		}
+		if _, err := os.Stat(out); err != nil {
+			t.Errorf("%s: %v", args[0], err)
+		}
+		inWay := filepath.Join(dir, "chk-1.csv", "x", filepath.Base(out))
+		args[len(args)-1] = inWay
+		_, errOut, code = run(t, args...)
+		want := filepath.Join(dir, "chk-1.csv") + " is a file, not a folder"
 		if code != exitFailure || !strings.Contains(errOut, want) {
 			t.Errorf("%s: exit %d, stderr %q; want exit 1 and %q", args[0], code, errOut, want)
 		}
-		for _, leak := range []string{"atomicfile", "reference:", ".tmp-", "no such file or directory"} {
+		for _, leak := range []string{"atomicfile", "reference:", ".tmp-", "not a directory"} {
 			if strings.Contains(errOut, leak) {
 				t.Errorf("%s: stderr leaks %q: %s", args[0], leak, errOut)
 			}

@@ -13,6 +13,10 @@
 // replaced and the link kept; a link to anything else, or to nothing (a
 // dangling link), is refused. The replaced file keeps its permission
 // bits (a 0600 file stays 0600); a new file gets 0644 less the umask.
+//
+// Missing folders on the way to the file are created (0755 less the
+// umask), as `mkdir -p` would; when the write then fails, the folders it
+// created are removed again, so a failed write leaves nothing behind.
 package atomicfile
 
 import (
@@ -23,6 +27,7 @@ import (
 	"math/rand/v2"
 	"os"
 	"path/filepath"
+	"slices"
 	"strconv"
 	"strings"
 	"syscall"
@@ -34,17 +39,23 @@ import (
 // Write creates or replaces path with what fill writes. fill receives a
 // writer for the temporary file; if it returns an error, nothing is renamed
 // and the error is returned wrapped with the target path. Errors name the
-// target, never the temporary file: "atomicfile: cannot write out/refs.json:
-// the folder out does not exist". path must pass Check; a symbolic link is
-// written through to its target (see the package comment).
+// target, never the temporary file: "atomicfile: cannot write
+// out/refs.json: out is a file, not a folder". path must pass Check; a
+// symbolic link is written through to its target (see the package
+// comment). Missing folders are created, and removed again on failure.
 func Write(path string, fill func(w io.Writer) error) (err error) {
 	target, mode, err := resolve(path)
 	if err != nil {
 		return err
 	}
 	dir := filepath.Dir(target)
+	made, err := makeFolders(dir)
+	if err != nil {
+		return folderError(path, dir, err)
+	}
 	tmp, err := createTemp(dir, filepath.Base(target))
 	if err != nil {
+		removeFolders(made)
 		return folderError(path, dir, err)
 	}
 	name := tmp.Name()
@@ -52,6 +63,7 @@ func Write(path string, fill func(w io.Writer) error) (err error) {
 		if err != nil {
 			tmp.Close()
 			os.Remove(name)
+			removeFolders(made)
 		}
 	}()
 	if err = fill(tmp); err != nil {
@@ -143,9 +155,54 @@ func refuse(path, via string, m fs.FileMode) error {
 	return pkgerr.Errorf("atomicfile", "cannot write %s: it is %s%s, not a regular file", path, via, filekind.Of(m))
 }
 
+// makeFolders creates dir and any missing folders above it, returning
+// those it created, outermost first. A file in the way is reported by
+// folderError.
+func makeFolders(dir string) ([]string, error) {
+	var missing []string
+	for d := dir; ; d = filepath.Dir(d) {
+		fi, err := os.Lstat(d)
+		if err == nil && !fi.IsDir() && fi.Mode()&fs.ModeSymlink == 0 {
+			return nil, &fileInWayError{d}
+		}
+		if err == nil || !(errors.Is(err, fs.ErrNotExist) || errors.Is(err, syscall.ENOTDIR)) || filepath.Dir(d) == d {
+			break // exists (a folder, or a link followed below), or cannot be told
+		}
+		if !errors.Is(err, syscall.ENOTDIR) {
+			missing = append(missing, d)
+		}
+	}
+	slices.Reverse(missing)
+	for i, d := range missing {
+		if err := os.Mkdir(d, 0o755); err != nil && !errors.Is(err, fs.ErrExist) {
+			removeFolders(missing[:i])
+			return nil, err
+		}
+	}
+	return missing, nil
+}
+
+// removeFolders removes the folders makeFolders made (outermost first),
+// innermost first; a folder that is no longer empty stays.
+func removeFolders(made []string) {
+	for i := len(made) - 1; i >= 0; i-- {
+		os.Remove(made[i])
+	}
+}
+
+// fileInWayError is a file where a folder of the output's path should
+// be.
+type fileInWayError struct{ file string }
+
+func (e *fileInWayError) Error() string { return e.file + " is a file, not a folder" }
+
 // folderError says why no file could be created in dir, the folder of
 // path.
 func folderError(path, dir string, err error) error {
+	var inWay *fileInWayError
+	if errors.As(err, &inWay) {
+		return pkgerr.Errorf("atomicfile", "%w", &plainError{fmt.Sprintf("cannot write %s: %s", path, inWay.Error()), err})
+	}
 	fi, serr := os.Stat(dir)
 	switch {
 	case errors.Is(serr, fs.ErrNotExist):

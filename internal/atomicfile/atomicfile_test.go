@@ -50,19 +50,29 @@ func TestWriteKeepsOldOnFailure(t *testing.T) {
 	}
 }
 
-func TestWriteMissingFolderSaysSo(t *testing.T) {
+// TestWriteMakesMissingFolders: missing folders on the way are created
+// (as --plots creates its folder); a failed write removes the folders it
+// made and leaves those that were there.
+func TestWriteMakesMissingFolders(t *testing.T) {
 	dir := t.TempDir()
-	p := filepath.Join(dir, "out", "refs.json")
-	err := WriteBytes(p, []byte("x"))
-	if err == nil {
-		t.Fatal("no error writing into a missing folder")
+	p := filepath.Join(dir, "out", "today", "refs.json")
+	if err := WriteBytes(p, []byte("x")); err != nil {
+		t.Fatalf("writing into missing folders: %v", err)
 	}
-	want := "cannot write " + p + ": the folder " + filepath.Join(dir, "out") + " does not exist"
-	if !strings.Contains(err.Error(), want) || strings.Contains(err.Error(), ".tmp-") {
-		t.Fatalf("err = %q, want it to contain %q and no temporary file name", err, want)
+	if got, err := os.ReadFile(p); err != nil || string(got) != "x" {
+		t.Fatalf("read back %q, %v", got, err)
 	}
-	if !errors.Is(err, fs.ErrNotExist) {
-		t.Errorf("err = %v does not match fs.ErrNotExist", err)
+	boom := errors.New("boom")
+	failed := filepath.Join(dir, "out", "new", "deeper", "x.csv")
+	err := Write(failed, func(io.Writer) error { return boom })
+	if !errors.Is(err, boom) {
+		t.Fatalf("err = %v, want boom", err)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "out", "new")); !errors.Is(err, fs.ErrNotExist) {
+		t.Errorf("a failed write left the folders it made: %v", err)
+	}
+	if _, err := os.Stat(filepath.Join(dir, "out", "today", "refs.json")); err != nil {
+		t.Errorf("a failed write removed what was there: %v", err)
 	}
 }
 
@@ -75,6 +85,10 @@ func TestWriteIntoFileAsFolder(t *testing.T) {
 	err := WriteBytes(filepath.Join(f, "out.csv"), []byte("y"))
 	if err == nil || !strings.Contains(err.Error(), f+" is a file, not a folder") {
 		t.Fatalf("err = %v, want it to say %s is a file", err, f)
+	}
+	err = WriteBytes(filepath.Join(f, "sub", "out.csv"), []byte("y"))
+	if err == nil || !strings.Contains(err.Error(), f+" is a file, not a folder") {
+		t.Fatalf("deeper: err = %v, want it to say %s is a file", err, f)
 	}
 }
 

@@ -1,0 +1,100 @@
+package main
+
+import (
+	"os"
+	"os/exec"
+	"path/filepath"
+	"strings"
+	"testing"
+)
+
+// TestDemoCommandsRunAsPrinted: every "$ huesolve ..." line the demo
+// prints runs as printed from inside the folder it names, also when that
+// folder was written with --files-only (no results/ folder yet: -o and
+// --plots create what they need).
+func TestDemoCommandsRunAsPrinted(t *testing.T) {
+	t.Chdir(t.TempDir())
+	out, errOut, code := run(t, "demo", "full")
+	if code != exitOK {
+		t.Fatalf("demo: exit %d\n%s", code, errOut)
+	}
+	if _, errOut, code := run(t, "demo", "--files-only", "fresh"); code != exitOK {
+		t.Fatalf("demo --files-only: exit %d\n%s", code, errOut)
+	}
+	t.Chdir("fresh")
+	ran := 0
+	for _, l := range strings.Split(out, "\n") {
+		rest, ok := strings.CutPrefix(l, "$ huesolve ")
+		if !ok {
+			continue
+		}
+		if _, errOut, code := run(t, strings.Fields(rest)...); code != exitOK && code != exitFlagged {
+			t.Errorf("huesolve %s: exit %d\n%s", rest, code, errOut)
+		}
+		ran++
+	}
+	if ran < 8 {
+		t.Errorf("ran %d printed command lines, want every step's", ran)
+	}
+}
+
+// TestDemoSaysHowToInstall: when no huesolve is on the PATH the demo
+// says how to get one before printing "$ huesolve ..." lines; with one
+// on the PATH it says nothing of the kind.
+func TestDemoSaysHowToInstall(t *testing.T) {
+	bin := t.TempDir()
+	t.Setenv("PATH", bin)
+	out, errOut, code := run(t, "demo", filepath.Join(t.TempDir(), "a"))
+	if code != exitOK {
+		t.Fatalf("demo: exit %d\n%s", code, errOut)
+	}
+	hint := strings.Index(out, "go install ./cmd/huesolve")
+	if first := strings.Index(out, "$ huesolve "); hint < 0 || hint > first {
+		t.Errorf("no install hint before the first command line:\n%.1500s", out)
+	}
+	if err := os.WriteFile(filepath.Join(bin, "huesolve"), []byte("#!/bin/sh\n"), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	out, _, _ = run(t, "demo", filepath.Join(t.TempDir(), "b"))
+	if strings.Contains(out, "not on your PATH") {
+		t.Errorf("install hint with huesolve on the PATH:\n%.1500s", out)
+	}
+}
+
+// TestReadmeFirstCommandsInstall: the README's first two commands give a
+// working huesolve: the first installs it (run here into a temporary
+// GOBIN), the second runs the installed program as printed.
+func TestReadmeFirstCommandsInstall(t *testing.T) {
+	blocks := codeBlocks(readReadme(t), "sh")
+	if len(blocks) < 2 {
+		t.Fatal("README has fewer than two command lines")
+	}
+	first, second := commandPart(blocks[0].text), commandPart(blocks[1].text)
+	if first != "go install ./cmd/huesolve" {
+		t.Fatalf("README.md:%d: first command %q, want go install ./cmd/huesolve", blocks[0].n, first)
+	}
+	args, ok := strings.CutPrefix(second, "huesolve ")
+	if !ok {
+		t.Fatalf("README.md:%d: second command %q does not run huesolve", blocks[1].n, second)
+	}
+	gobin := t.TempDir()
+	install := exec.Command("go", strings.Fields(strings.TrimPrefix(first, "go "))...)
+	install.Dir = "../.."
+	install.Env = append(os.Environ(), "GOBIN="+gobin)
+	if b, err := install.CombinedOutput(); err != nil {
+		t.Fatalf("%s: %v\n%s", first, err, b)
+	}
+	cmd := exec.Command(filepath.Join(gobin, "huesolve"), strings.Fields(args)...)
+	cmd.Dir = t.TempDir()
+	if b, err := cmd.CombinedOutput(); err != nil {
+		t.Fatalf("%s: %v\n%.2000s", second, err, b)
+	}
+}
+
+// commandPart is a README command line without its trailing comment.
+func commandPart(line string) string {
+	if i := strings.Index(line, "#"); i >= 0 {
+		line = line[:i]
+	}
+	return strings.TrimSpace(line)
+}
