@@ -128,7 +128,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 		}
 		var left []string
 		for _, i := range rows {
-			left = append(left, fmt.Sprintf("%s (line %d)", standardName(sheet.Standards[i]), sheet.Standards[i].Line))
+			left = append(left, fmt.Sprintf("%s (line %d)", standardName(sheet, sheet.Standards[i]), sheet.Standards[i].Line))
 		}
 		fail := func(err error) {
 			err = fmt.Errorf("leaving out %s: %w", strings.Join(left, ", "), err)
@@ -159,7 +159,7 @@ func CrossValidateContext(ctx context.Context, set *reference.Set, sheet *calibr
 				fp = nil
 				break
 			}
-			p := Prediction{Standard: standardName(r), Line: r.Line, Fold: f + 1,
+			p := Prediction{Standard: standardName(sheet, r), Line: r.Line, Fold: f + 1,
 				Known: make([]float64, len(col)), Found: make([]float64, len(col))}
 			for k := range col {
 				p.Known[k] = r.Conc[col[k]]

@@ -5,6 +5,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"path/filepath"
 	"strings"
 
 	"huesolve/calibration"
@@ -405,12 +406,13 @@ func VerifyContext(ctx context.Context, set *reference.Set, sheet *calibration.S
 		}
 		res, err := model.Solve(r.Scan, unmix.Factors{})
 		if err != nil {
-			return nil, pkgerr.Errorf("validate", "%s:%d: check standard %s: %w", sheet.Path, r.Line, standardName(r), err)
+			return nil, pkgerr.Errorf("validate", "%s:%d: check standard %s: %w", sheet.Path, r.Line, standardName(sheet, r), err)
 		}
+		name := standardName(sheet, r)
 		if opt.Each != nil {
-			opt.Each(standardName(r), res)
+			opt.Each(name, res)
 		}
-		checks = append(checks, checkFrom(standardName(r), r.Conc, col, res))
+		checks = append(checks, checkFrom(name, r.Conc, col, res))
 	}
 	names, units := setNames(set)
 	v, err := Assess(names, units, checks, opt.Limits)
@@ -479,13 +481,39 @@ func checkFrom(name string, conc []float64, col []int, res *unmix.Result) Check 
 	return c
 }
 
-// standardName names a standard of the sheet: the column name of a
-// wide-table row, else the file (calibration's rowName adds the sheet line).
-func standardName(r calibration.Row) string {
+// standardName names a standard of the sheet as solve names a sample: the
+// column name of a wide-table row, else the file's name without folder
+// and extension (chk-1 for checks/chk-1.csv). When another row of the
+// sheet has a file of the same stem the file stays as written, so that
+// names never merge.
+func standardName(sh *calibration.Sheet, r calibration.Row) string {
 	if r.Column != "" {
 		return r.Column
 	}
+	stem := fileStem(r.File)
+	for _, rows := range [][]calibration.Row{sh.Standards, sh.Blanks} {
+		for _, o := range rows {
+			if o.Column == "" && o.File != r.File && fileStem(o.File) == stem {
+				return r.File
+			}
+		}
+	}
+	return stem
+}
+
+// rowFile names a sheet row for an error: its file, and its column when
+// it has one.
+func rowFile(r calibration.Row) string {
+	if r.Column != "" {
+		return r.File + " column " + r.Column
+	}
 	return r.File
+}
+
+// fileStem is a file's name without folder and extension.
+func fileStem(file string) string {
+	base := filepath.Base(filepath.FromSlash(file))
+	return strings.TrimSuffix(base, filepath.Ext(base))
 }
 
 func setNames(set *reference.Set) (names, units []string) {
@@ -540,7 +568,7 @@ func meanBlank(rows []calibration.Row) (*spectrum.Spectrum, error) {
 		}
 		on, err := s.Resample(b.Wavelengths)
 		if err != nil {
-			return nil, fmt.Errorf("blank %s: %w", standardName(r), err)
+			return nil, fmt.Errorf("blank %s: %w", rowFile(r), err)
 		}
 		for i, v := range on.Values {
 			b.Values[i] += v

@@ -7,6 +7,7 @@ import (
 
 	"gonum.org/v1/gonum/floats/scalar"
 
+	"huesolve/calibration"
 	"huesolve/unmix"
 )
 
@@ -146,5 +147,20 @@ func TestFlaggedRows(t *testing.T) {
 	}
 	if n := v.FlaggedRows(); n != 3 || !v.Pass {
 		t.Errorf("flagged rows %d, pass %v; want 3 of 6 flagged, pass", n, v.Pass)
+	}
+}
+
+// TestStandardNameIsStem: a check standard is named as solve names a
+// sample, by its file's stem; a column of a wide table by the column; a
+// stem that two files of the sheet share keeps the file as written.
+func TestStandardNameIsStem(t *testing.T) {
+	sh := &calibration.Sheet{Standards: []calibration.Row{
+		{File: "checks/chk-1.csv"}, {File: "run-2.csv", Column: "chk-2"},
+		{File: "a/chk-3.csv"}, {File: "b/chk-3.jdx"},
+	}}
+	for i, want := range []string{"chk-1", "chk-2", "a/chk-3.csv", "b/chk-3.jdx"} {
+		if got := standardName(sh, sh.Standards[i]); got != want {
+			t.Errorf("row %d: %q, want %q", i, got, want)
+		}
 	}
 }

@@ -184,7 +184,7 @@ func TestNonFiniteNeverPrinted(t *testing.T) {
 		t.Fatal(err)
 	}
 	out, errOut, code = run(t, "verify", exact, tiny, "--format", "json")
-	if code != exitFailure || out != "" || !strings.Contains(errOut, "check c3.csv: known amber 5e-324 is too small for a recovery") {
+	if code != exitFailure || out != "" || !strings.Contains(errOut, "check c3: known amber 5e-324 is too small for a recovery") {
 		t.Errorf("known 5e-324: exit %d, stdout %q, stderr:\n%s", code, out, errOut)
 	}
 }

@@ -159,7 +159,11 @@ func TestVerifyFlaggedExit4(t *testing.T) {
 		!strings.Contains(errOut, fmt.Sprintf("all 2 compounds passed acceptance on recovery, but %d check results are flagged", n)) {
 		t.Errorf("want the note %q on stdout and stderr; stdout:\n%s\nstderr:\n%s", note, out, errOut)
 	}
-	for _, want := range []string{"chk-1.csv", "red", "yellow", "mean recovery", "pass", "figures of merit", "mean of 1 blank row(s)"} {
+	// Checks are named by file stem, as solve names samples.
+	if strings.Contains(out, "chk-1.csv") {
+		t.Errorf("checks named by file, not by stem as solve does:\n%s", out)
+	}
+	for _, want := range []string{"chk-1 ", "red", "yellow", "mean recovery", "pass", "figures of merit", "mean of 1 blank row(s)"} {
 		if !strings.Contains(strings.ToLower(out), want) {
 			t.Errorf("output lacks %q:\n%s", want, out)
 		}
@@ -171,7 +175,7 @@ func TestVerifyFlaggedExit4(t *testing.T) {
 		t.Errorf("summary heading, its legend line or a held-at-zero result:\n%s", out)
 	}
 	for _, l := range strings.Split(out, "\n") {
-		if strings.Contains(l, "chk-4.csv") && strings.Contains(l, " red ") && !strings.Contains(l, "yes (≤ LOQ 0.") {
+		if strings.Contains(l, "chk-4 ") && strings.Contains(l, " red ") && !strings.Contains(l, "yes (≤ LOQ 0.") {
 			t.Errorf("red in chk-4: %q, want it judged as yes (≤ LOQ 0.0…)", l)
 		}
 	}
