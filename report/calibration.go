@@ -221,12 +221,7 @@ func WriteCalibrationPlots(set *reference.Set, dir, format string) ([]string, er
 	files = append(files, f)
 	used := map[string]bool{}
 	for k, c := range set.Compounds {
-		base := fileSafe(c.Name)
-		name := base
-		for i := 2; used[name]; i++ {
-			name = fmt.Sprintf("%s-%d", base, i)
-		}
-		used[name] = true
+		name := uniqueName(fileSafe(c.Name), used)
 		f := filepath.Join(dir, "line-"+name+"."+format)
 		if err := saveCalibrationLinePlot(set, k, f); err != nil {
 			return files, err
@@ -236,10 +231,11 @@ func WriteCalibrationPlots(set *reference.Set, dir, format string) ([]string, er
 	return files, nil
 }
 
-// fileSafe turns a compound name into a file-name part: letters, digits,
-// '-' and '_' kept, anything else a '-'.
+// fileSafe turns a name into a file-name part: letters (in their case),
+// digits, '-' and '_' kept, anything else a '-'. Names that differ only
+// in case are kept apart by uniqueName, for folders that ignore case.
 func fileSafe(s string) string {
-	b := []rune(strings.ToLower(s))
+	b := []rune(s)
 	for i, r := range b {
 		if !unicode.IsLetter(r) && !unicode.IsDigit(r) && r != '-' && r != '_' {
 			b[i] = '-'

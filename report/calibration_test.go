@@ -49,8 +49,9 @@ func TestWriteCalibrationPlots(t *testing.T) {
 		if err != nil {
 			t.Fatal(err)
 		}
-		// Same compound name twice: the second file gets a suffix.
-		want := []string{"absorptivity." + format, "line-dye-a." + format, "line-dye-a-2." + format}
+		// File names keep the compounds' case; the same name twice: the
+		// second file gets a suffix.
+		want := []string{"absorptivity." + format, "line-dye-A." + format, "line-dye-A-2." + format}
 		if len(files) != len(want) {
 			t.Fatalf("%s: wrote %v, want %v", format, files, want)
 		}
@@ -162,5 +163,16 @@ func TestUsableRuns(t *testing.T) {
 	want := [][2]int{{0, 2}, {5, 8}}
 	if len(got) != len(want) || got[0] != want[0] || got[1] != want[1] {
 		t.Errorf("usableRuns(%v) = %v, want %v", u, got, want)
+	}
+}
+
+// TestUniqueNameIgnoresCase: names that differ only in case would be one
+// file in a folder that ignores case, so the second gets a suffix.
+func TestUniqueNameIgnoresCase(t *testing.T) {
+	used := map[string]bool{}
+	for _, c := range [][2]string{{"Red", "Red"}, {"red", "red-2"}, {"RED", "RED-3"}, {"blue", "blue"}} {
+		if got := uniqueName(c[0], used); got != c[1] {
+			t.Errorf("uniqueName(%q) = %q, want %q", c[0], got, c[1])
+		}
 	}
 }

@@ -326,8 +326,11 @@ func TestSamplePlot(t *testing.T) {
 	dir := t.TempDir()
 	for _, f := range []string{"png", "svg"} {
 		path := SamplePlotPath(dir, 7, r.Sample, f)
-		if filepath.Base(path) != "0007-s-1-ok."+f {
+		if filepath.Base(path) != "0007-S-1-ok."+f {
 			t.Errorf("plot path %s", path)
+		}
+		if got := filepath.Base(SamplePlotPath(dir, 8, "FH-Lot A7", f)); got != "0008-FH-Lot-A7."+f {
+			t.Errorf("plot file %s, want the sample's case kept: 0008-FH-Lot-A7.%s", got, f)
 		}
 		if err := SaveSamplePlot(r, testLayout.Compounds, path); err != nil {
 			t.Fatal(err)

@@ -249,12 +249,15 @@ func WriteVerifyPlots(v *validate.Verification, cv *validate.CrossValidation, di
 	return files, nil
 }
 
+// uniqueName returns base, or base-2, base-3, ... when used (which it
+// updates) holds it already, ignoring case: Red and red would be one file
+// in a folder that ignores case.
 func uniqueName(base string, used map[string]bool) string {
 	name := base
-	for i := 2; used[name]; i++ {
+	for i := 2; used[strings.ToLower(name)]; i++ {
 		name = fmt.Sprintf("%s-%d", base, i)
 	}
-	used[name] = true
+	used[strings.ToLower(name)] = true
 	return name
 }
 

@@ -73,7 +73,7 @@ func TestDemoRecoversTruth(t *testing.T) {
 	for _, f := range []string{
 		"results/refs.json", "results/verify.json", "results/samples.csv", "results/samples.json",
 		"results/plots/calibration/absorptivity.png", "results/plots/window/window-error.png",
-		"results/plots/verify/verify-scarlane.png", "results/plots/samples/0001-lot-101.png",
+		"results/plots/verify/verify-Scarlane.png", "results/plots/samples/0001-lot-101.png",
 	} {
 		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
 			t.Errorf("demo did not write %s: %v", f, err)

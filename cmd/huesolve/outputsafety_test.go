@@ -298,7 +298,7 @@ func TestSolvePlotFailureSummary(t *testing.T) {
 	scan := writeScans(t, filepath.Join(dir, "a.csv"), solveScan("A1", []float64{5, 3, 0, 8}, 0, 1), solveScan("A2", []float64{2, 2, 2, 2}, 0, 2))
 	plots := filepath.Join(dir, "figs")
 	// A folder where the first plot would go: that plot cannot be written.
-	if err := os.MkdirAll(filepath.Join(plots, "0001-a1.png"), 0o755); err != nil {
+	if err := os.MkdirAll(filepath.Join(plots, "0001-A1.png"), 0o755); err != nil {
 		t.Fatal(err)
 	}
 	res := filepath.Join(dir, "results.csv")
@@ -309,7 +309,7 @@ func TestSolvePlotFailureSummary(t *testing.T) {
 	for _, want := range []string{
 		"huesolve: 2 sample(s) solved from 1 input(s): 0 flagged, 0 failed",
 		"plotting stopped at the first that could not be written",
-		"0001-a1.png: it is a folder, not a regular file",
+		"0001-A1.png: it is a folder, not a regular file",
 		"the results were written, but not every plot could be (see above)",
 	} {
 		if !strings.Contains(errOut, want) {

@@ -317,7 +317,7 @@ func TestSolveTableAndPlots(t *testing.T) {
 			t.Errorf("table lacks %q:\n%s", want, out)
 		}
 	}
-	for _, f := range []string{"0001-a1.svg", "0002-a-2.svg"} {
+	for _, f := range []string{"0001-A1.svg", "0002-A-2.svg"} {
 		if fi, err := os.Stat(filepath.Join(plots, f)); err != nil || fi.Size() < 1000 {
 			t.Errorf("figure %s: %v", f, err)
 		}
