@@ -8,9 +8,19 @@ import (
 	"huesolve/validate"
 )
 
+// SameDesign reports whether two sets of figures of merit are of one
+// design (window, points, path, baseline, weighting, noise), so that one
+// table shows both.
+func SameDesign(a, b *validate.Merits) bool {
+	return a != nil && b != nil && a.WindowLo == b.WindowLo && a.WindowHi == b.WindowHi && a.Points == b.Points &&
+		a.PathCM == b.PathCM && a.Baseline == b.Baseline && a.Weighted == b.Weighted && a.Sigma == b.Sigma
+}
+
 // WriteMerits prints the figures of merit of one design: a line saying
 // which design, a table per compound, and the reasons for any refusal.
-// inspect, verify and window print it under their own tables.
+// inspect prints it for the whole grid; verify for the design it judged
+// the check standards with, when that differs (see
+// VerifyReport.MeritsAsInspect); window's table leaves it to them.
 func WriteMerits(w io.Writer, m *validate.Merits) error {
 	fit := "unweighted fit"
 	if m.Weighted {

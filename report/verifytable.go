@@ -28,6 +28,11 @@ type VerifyReport struct {
 	Weighted  bool                      `json:"weighted"`
 	Result    *validate.Verification    `json:"verification"`
 	CrossVal  *validate.CrossValidation `json:"cross_validation,omitempty"`
+	// MeritsAsInspect says the design is the one inspect shows the
+	// figures of merit for (SameDesign): the table then prints a line
+	// pointing there instead of the same table again. JSON and CSV keep
+	// the figures of merit either way.
+	MeritsAsInspect bool `json:"-"`
 }
 
 // VerifyFlaggedNote is the note, on standard error and under the checks
@@ -95,6 +100,11 @@ func WriteVerifyTable(w io.Writer, rep *VerifyReport) error {
 		fmt.Fprintln(w, ".")
 	}
 	fmt.Fprintln(w)
+	if rep.MeritsAsInspect {
+		_, err := fmt.Fprintf(w, "Figures of merit of this design (%g-%g nm, baseline %s, unweighted): as huesolve inspect %s shows them.\n",
+			v.Merits.WindowLo, v.Merits.WindowHi, v.Merits.Baseline, termText(rep.Reference))
+		return err
+	}
 	return WriteMerits(w, v.Merits)
 }
 

@@ -27,9 +27,10 @@ type WindowReport struct {
 }
 
 // WriteWindowTable prints the window advice for the terminal: what was
-// searched, the recommended window, a table of the top best windows (the
-// recommended one first) and the figures of merit of the recommended
-// window.
+// searched, the recommended window and a table of the top best windows
+// (the recommended one first). The figures of merit of the recommended
+// window are in the JSON form and printed by verify, not here: one table
+// of them per design.
 func WriteWindowTable(w io.Writer, rep *WindowReport, top int) error {
 	adv := rep.Advice
 	writeWindowHeader(w, rep)
@@ -67,8 +68,9 @@ func WriteWindowTable(w io.Writer, rep *WindowReport, top int) error {
 		return fmt.Errorf("window table: %w", err)
 	}
 	fmt.Fprintln(w, "Worst SE: the largest predicted standard error relative to its compound's level.")
-	fmt.Fprintln(w)
-	return WriteMerits(w, rep.Merits)
+	_, err := fmt.Fprintf(w, "Figures of merit of the recommended window (LOD, LOQ, selectivity): --format json holds them; verify --window %g-%g prints them.\n",
+		rep.Recommended[0], rep.Recommended[1])
+	return err
 }
 
 // writeWindowHeader prints the lines above the window table: the search,

@@ -55,17 +55,27 @@ func newInspectCmd() *cobra.Command {
 	}
 }
 
+// inspectDesign is the figures of merit inspect shows: the whole grid,
+// the default baseline of solve and verify (an offset), unweighted.
+func inspectDesign(set *reference.Set) (*validate.Merits, error) {
+	bl, err := baseline.ParseModel(valDefaultBaseline)
+	if err != nil {
+		return nil, err
+	}
+	m, err := validate.FiguresOfMerit(set, validate.MeritOptions{Baseline: bl})
+	if err != nil {
+		return nil, fmt.Errorf("figures of merit: %w", err)
+	}
+	return m, nil
+}
+
 // inspectMerits is the figures-of-merit section of inspect: computed over
 // the whole grid with the default baseline of solve and verify (an
 // offset), unweighted.
 func inspectMerits(w io.Writer, set *reference.Set, _ string) error {
-	bl, err := baseline.ParseModel(valDefaultBaseline)
+	m, err := inspectDesign(set)
 	if err != nil {
 		return err
-	}
-	m, err := validate.FiguresOfMerit(set, validate.MeritOptions{Baseline: bl})
-	if err != nil {
-		return fmt.Errorf("figures of merit: %w", err)
 	}
 	if err := report.WriteMerits(w, m); err != nil {
 		return err

@@ -174,6 +174,9 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	rep := report.VerifyReport{Format: report.FormatNameVerify, Schema: report.Schema, Run: run,
 		Reference: refPath, Checks: checksPath, Window: [2]float64{v.Merits.WindowLo, v.Merits.WindowHi},
 		Baseline: verifyBaselineName(v.Merits.Baseline, mopt.Auto), Weighted: o.fit.weighted, Result: v, CrossVal: cv}
+	if im, err := inspectDesign(set); err == nil {
+		rep.MeritsAsInspect = report.SameDesign(v.Merits, im)
+	}
 	err = o.output.write(cmd, "verification", rep,
 		func(w io.Writer) error {
 			if err := report.WriteRunComments(w, report.FormatNameVerify, run); err != nil {
