@@ -55,146 +55,66 @@ const solveProgressMin = 200
 const solvePlotProgressMin = 20
 
 const solveLong = `Unmix sample scans into concentrations with a reference set made by
-calibrate.
+calibrate. Each SCAN is a file, a folder or a quoted glob pattern; every
+scan is turned into absorbance, put on the reference grid, corrected by the
+blank, cropped to the window and fitted by non-negative least squares (each
+compound's absorptivity times the path length, plus the baseline terms).
+Concentrations are for the original sample: times the dilution, times the
+reference path over the sample's (--dilution, --path-cm, or per sample
+--samples SHEET with columns sample, dilution, path_cm). With --method FILE
+(from window or verify --save-method) the reference set and fit options
+come from the method, every argument is a scan, and options given override
+the method's and are recorded; a set whose checksum differs is refused.
+A sample the sheet does not name is flagged "nosheet"; a scan short of the
+window is refused naming the --window that would fit. --baseline auto (the
+default) gives each sample the smallest baseline model its residuals need.
 
-Each SCAN is a file, a folder (its files, not recursive) or a quoted glob
-pattern; a file may hold one scan or a wide table of many. Every scan is
-converted to absorbance, brought onto the reference grid by linear
-interpolation (never extrapolated: a scan must cover the window; one that
-does not is refused with the --window that would fit it, and solve names
-the largest window every input covers), corrected
-by the blank (--blank), given the reference set's pre-treatment, cropped to
-the window, and fitted by non-negative least squares: each compound's
-absorptivity times the path length (concentrations >= 0), plus the baseline
-terms (--baseline). By default (--baseline auto) each sample gets the
-smallest model its own residuals need: from an offset, a slope, a curve,
-a scattering term or a wavelength shift is added while an F-test on the
-drop in residual sum of squares says p < 0.001 (p < 1e-6 for a term that
-can imitate a compound); the chosen model is reported per sample (Model
-column, model and model_scores in JSON). A fixed model fits as given.
+Output: a table (sized for a terminal, saying what it cut; full width to a
+file or pipe), or CSV or JSON by --format or by the -o file's extension.
+CSV and JSON open with the run's record (tool, version, time, command line,
+method, reference set, blank, sheets and inputs with their SHA-256, every
+setting in force). -o FILE is written whole or not at all, and only when a
+sample was solved; --report FILE.html writes a self-contained HTML review
+report too.
+Every result carries its standard error, 95 % interval, LOD, LOQ, fit
+figures and flags; flags marked "!" count the sample as flagged:
+  {{FLAGS}}
+README.md (sections "huesolve solve", "How solve works" and "Result flags")
+explains every step, threshold, column and flag.
 
-Points whose absorbance reads above the ceiling (the reference set's, or
---ceiling) are left out and counted; when the reference set's
-pre-treatment has Savitzky-Golay steps, so are the points within half a
-window (summed over the steps) of such a point, whose smoothed or derivative
-values used the clipped reading. When more than 5 % are lost, or any
-point of the window reads 0 %T or below (too dark to read: the file and
-wavelength are named), the sample is flagged "dilute" with a dilution
-factor that brings its highest band below the ceiling and every compound
-into its calibrated range (the top of its linear range where calibrate
-stated one below the highest standard; above it a result is "over").
---weighted weights wavelengths by the reference set's noise, taken to grow
-as 10^A above A = 1 where little light reaches the detector. --shift estimates a wavelength shift between the instrument that
-made the references and the sample's (up to --max-shift nm; reported in nm
-with its standard error, positive when the sample's bands lie at longer
-wavelengths). A shift within 2 standard errors of zero is not determined
-(a nearly blank sample, say): the sample is fitted unshifted and shows
-shift 0 with the estimate's standard error. A determined shift is applied,
-its uncertainty is included in the concentrations' standard errors, and it
-is flagged "shift" from 0.1 nm on ("shift-max" at the limit).
-
-A sample is named by its column header, or after its file when the header
-names no sample (Sample, Intensity, Value, Wavelength (nm), ...: README.md
-lists them). A name an earlier scan of the run already gave is made unique:
-NAME (FILE) after the file without extension, else NAME#2, NAME#3, ...
-
-Concentrations are in the reference set's units for the original sample:
-the fitted amount times the dilution factor, times the reference path over
-the sample's path. Give them with --dilution and --path-cm for all samples,
-or per sample with --samples SHEET: delimited text with a header row naming
-the columns sample, dilution and/or path_cm (note or comment columns are
-ignored, any other is refused); "sample" matches a scan's name (its column
-header in a wide table) or its file name with or without extension. Empty
-cells take the flag values. A sample the sheet does not name takes them
-too and is flagged "nosheet" (a warning flag: exit code 4), with the
-sheet row it was likely meant to match (M7 for M07); sheet rows that
-matched no sample are named. The table shows each sample's dilution
-and path whenever one differs from 1 or the reference path.
-
-Replicates and reporting basis: a sample sheet column "group" makes rows
-with the same text replicates (or "replicate_of" names another row); columns mass, mass_unit, volume,
-volume_unit (u_mass, u_volume: standard uncertainties) give the
-preparation. With groups or --basis the output ends with every result on
-the basis (a mass fraction w = c V / m such as mg/kg or % w/w, uncertainty
-propagated to first order; or a concentration such as µg/L) with the text
-a certificate shows ("n.d. (< LOD x)", "< LOQ (y)", or the value rounded to
-the uncertainty's two significant figures), and per group n, mean, SD,
-RSD % and members, flagged "!rep-rsd" above --max-rep-rsd and
-"!rep-outlier" by Grubbs' test (alpha 0.05, n >= 3). A flagged group gives
-exit code 4.
-
-For each sample: concentration, standard error and 95 % interval of every
-compound, its detection and quantitation limits (3.3 and 10 times the noise
-over the net analyte signal), the fit figures (RMS residual, reduced
-chi-square against the noise model, Durbin-Watson, R², condition number,
-baseline terms, points used and dropped, shift) and flags:
-
-` + "{{LEGEND}}" + `
-"!" marks flags that count a sample as flagged. Thresholds: reduced
-chi-square above 4 (misfit), Durbin-Watson below 1 (pattern; not raised
-when the reference set's pre-treatment includes Savitzky-Golay smoothing,
-which correlates neighbouring residuals by itself), condition number above
-30 (illcond), baseline leakage below 0.5 (mimic). README.md states the
-reduced chi-square's formula.
-
-With --method FILE (written by window or verify --save-method) the reference
-set and the fit options come from the method and every argument is a scan;
-an option given on the command line overrides the method's and is recorded.
-A set whose checksum is not the method's is refused.
-
-Output: a table on standard output (sized for a terminal, saying what it
-cut; to a file or pipe, full width), or --format csv or
-json (opening with the run's record: tool, version, time, command line,
-method, reference set, blank, sheets and input files with their SHA-256,
-and every setting in force; CSV as "# key: value" lines); -o FILE writes it to a file (FILE.csv or FILE.json picks the format), complete or not at all (-o - is standard
-output). The file is written only when at least one sample was solved: a
-run that solves nothing (a misspelt scan path, every scan failing) leaves
-an existing FILE as it was and exits 1. When some samples failed, FILE holds
-the samples solved (JSON also lists the failed inputs under "failed") and
-the exit code is 3. FILE must be a regular file or not exist yet (a folder,
-device, pipe or socket is refused); through a symbolic link its target is
-replaced, and a replaced file keeps its permissions. --plots DIR writes
-one figure per sample: measured and fitted spectra, each compound's part,
-the baseline, and the residual against the expected noise band; stretches
-left out of the fit (above the ceiling, or not calibrated) are shaded. Each
-figure is written whole or not at all and no figure is ever deleted; when
-one cannot be written (a full disk) plotting stops, the samples still count
-as solved and the exit code is 1. --report FILE.html writes a review report
-too: one self-contained HTML page with the run's settings and input files,
-the results table (sortable, flagged samples highlighted and filterable),
-each sample's figure, the reference set and the figures of merit. A file
-that cannot be read is reported on standard error and skipped; the others
-go on.
-Results come in the order of the inputs whatever the number of workers (-j).
-A one-line summary goes to standard error.
-
---check-only reads every scan and checks that it could be solved (values,
-wavelength grid, coverage of the window, sample sheet factors, enough
-points below the ceiling) without solving, with the warnings solving
-would give: a quick look through a large batch before the real run, and a
-measure of how long reading alone takes. Problems go to standard error,
-with the summary; nothing is written to standard output. The exit codes
-are those solving would give, short of 4 (no fit is made to flag).
-
-Exit codes:
-  0  every input read and solved, no sample flagged
-  1  failure: nothing could be solved (bad reference set, options, output,
-     or not one sample could be read and solved: -o FILE is left as it
-     was), or the output or a plot could not be written, or --record DB
-     could not record the run (the output is written first)
-  2  bad command line
-  3  some files or samples could not be read or solved (listed on stderr)
-  4  everything was solved, but some samples carry a "!" flag
-  130 interrupted (143 for SIGTERM): nothing was written to -o FILE
+Exit codes: 0 done, nothing flagged; 1 failure (nothing solved, or an output
+or a plot not written; -o FILE is left as it was); 2 bad command line;
+3 some files or samples could not be read or solved (listed on stderr);
+4 some samples carry a "!" flag; 130 (143 for SIGTERM) interrupted, nothing
+written to -o FILE.
+Sheet columns group / replicate_of and mass, volume (or --basis) add
+replicate statistics and results on a reporting basis; --record DB appends
+the run to a QC history file (README.md: replicates, history).
 
 ` + caution
+
+// solveFlagList is every result flag in one line, "!" after those that
+// count a sample as flagged: "zero <lod ... misfit! ...".
+func solveFlagList() string {
+	var b strings.Builder
+	for i, f := range unmix.AllFlags() {
+		if i > 0 {
+			b.WriteByte(' ')
+		}
+		b.WriteString(string(f))
+		if unmix.IsWarning(f) {
+			b.WriteByte('!')
+		}
+	}
+	return b.String()
+}
 
 func newSolveCmd() *cobra.Command {
 	o := &solveOptions{}
 	cmd := &cobra.Command{
 		Use:   "solve REFSET SCAN... | solve --method FILE SCAN...",
 		Short: "Unmix sample scans into concentrations with uncertainties and flags",
-		Long:  strings.Replace(solveLong, "{{LEGEND}}", strings.TrimRight(unmix.Legend(), "\n"), 1),
+		Long:  strings.Replace(solveLong, "{{FLAGS}}", solveFlagList(), 1),
 		Args:  wantArgs(1, -1, "a reference set (or --method FILE) and at least one scan"),
 		RunE: func(cmd *cobra.Command, args []string) error {
 			if o.method.use != "" {

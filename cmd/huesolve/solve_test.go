@@ -387,10 +387,15 @@ func TestSolveUsage(t *testing.T) {
 	}
 	// The help documents the exit codes and the flags.
 	out, _, _ := run(t, "solve", "--help")
-	for _, want := range []string{"Exit codes:", "3  some files", "misfit", "Caution"} {
+	for _, want := range []string{"Exit codes:", "3 some files", "misfit!", "Caution: results support", "responsible licensed professional", "--samples SHEET"} {
 		if !strings.Contains(out, want) {
 			t.Errorf("help lacks %q", want)
 		}
+	}
+	// Short enough that the options are not buried: the details are in
+	// README.md.
+	if n := strings.Count(out, "\n"); n > 60 {
+		t.Errorf("solve --help is %d lines, want at most 60", n)
 	}
 }
 

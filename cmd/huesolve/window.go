@@ -64,10 +64,11 @@ strongly absorbing, noisy regions can cost precision.
 and --path-cm, bound to the reference set by its checksum, as a method file
 that solve and verify take with --method.
 
-Output: the best windows as a table with the figures of merit of the
-recommended window, or --format csv (every window tried) or json; -o FILE
-writes to a file (atomically; FILE.csv or FILE.json picks the format). --plots DIR writes the worst predicted error
-and the condition number against window start, one line per width.
+Output: the best windows as a table, or --format csv (every window tried)
+or json (with the figures of merit of the recommended window); -o FILE
+writes to a file (atomically; FILE.csv or FILE.json picks the format).
+--plots DIR writes the worst predicted error and the condition number
+against window start, one line per width.
 
 ` + caution
 
