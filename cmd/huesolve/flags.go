@@ -221,11 +221,15 @@ type outputFlags struct {
 	out        string
 	plots      string
 	plotFormat string
+	// flags is the command's flag set (from add), asked whether it has
+	// --report for the hint on an -o NAME.html.
+	flags *pflag.FlagSet
 }
 
 // add binds --format, -o/--output, --plots and --plot-format; plotsHelp
 // says what the command draws, e.g. "one figure per sample".
 func (o *outputFlags) add(fs *pflag.FlagSet, plotsHelp string) {
+	o.flags = fs
 	fs.StringVar(&o.format, "format", "", "output format: table, csv or json (default: from the -o file's extension, .csv, .json or .txt; else table)")
 	fs.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output (- for standard output)")
 	o.addPlots(fs, plotsHelp)
@@ -252,6 +256,9 @@ func (o *outputFlags) check() error {
 	named, strict := formatOfName(o.file())
 	switch {
 	case named == formatHTML:
+		if o.flags != nil && o.flags.Lookup("report") != nil {
+			return usagef("-o %s: -o writes a table, CSV or JSON; for the HTML review report give --report %s", o.out, o.out)
+		}
 		return usagef("-o %s: -o writes a table, CSV or JSON, not an HTML page; name the file .csv, .json or .txt", o.out)
 	case given == "" && named != "":
 		o.format = named

@@ -67,6 +67,9 @@ func TestOutputFormatFromName(t *testing.T) {
 			if _, err := os.Stat(bad[1]); err == nil {
 				t.Errorf("%s %v: the file was written", name, bad)
 			}
+			if strings.HasSuffix(bad[1], ".html") && (name == "window") == strings.Contains(errOut, "--report") {
+				t.Errorf("%s %v: the hint at --report is wrong: %s", name, bad, errOut)
+			}
 		}
 	}
 }
