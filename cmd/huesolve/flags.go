@@ -256,7 +256,10 @@ func (o *outputFlags) check() error {
 	named, strict := formatOfName(o.file())
 	switch {
 	case named == formatHTML:
-		if o.flags != nil && o.flags.Lookup("report") != nil {
+		if rep := o.reportFlag(); rep != nil {
+			if filepath.Clean(rep.Value.String()) == filepath.Clean(o.out) {
+				return usagef("--report %s is also the -o file: give them different names", o.out)
+			}
 			return usagef("-o %s: -o writes a table, CSV or JSON; for the HTML review report give --report %s", o.out, o.out)
 		}
 		return usagef("-o %s: -o writes a table, CSV or JSON, not an HTML page; name the file .csv, .json or .txt", o.out)
@@ -270,6 +273,14 @@ func (o *outputFlags) check() error {
 		o.format = given
 	}
 	return o.checkPlots()
+}
+
+// reportFlag is the command's --report flag, nil when it has none.
+func (o *outputFlags) reportFlag() *pflag.Flag {
+	if o.flags == nil {
+		return nil
+	}
+	return o.flags.Lookup("report")
 }
 
 // formatHTML is what formatOfName returns for an .html or .htm name.
