@@ -79,8 +79,7 @@ report too.
 Every result carries its standard error, 95 % interval, LOD, LOQ, fit
 figures and flags; flags marked "!" count the sample as flagged:
   {{FLAGS}}
-README.md (sections "huesolve solve", "How solve works" and "Result flags")
-explains every step, threshold, column and flag.
+README.md ("How solve works", "Result flags") explains every step and flag.
 
 Exit codes: 0 done, nothing flagged; 1 failure (nothing solved, or an output
 or a plot not written; -o FILE is left as it was); 2 bad command line;
