@@ -74,8 +74,7 @@ file or pipe), or CSV or JSON by --format or by the -o file's extension.
 CSV and JSON open with the run's record (tool, version, time, command line,
 method, reference set, blank, sheets and inputs with their SHA-256, every
 setting in force). -o FILE is written whole or not at all, and only when a
-sample was solved; --report FILE.html writes a self-contained HTML review
-report too.
+sample was solved; --report FILE.html also writes an HTML review report.
 Every result carries its standard error, 95 % interval, LOD, LOQ, fit
 figures and flags; flags marked "!" count the sample as flagged:
   {{FLAGS}}
