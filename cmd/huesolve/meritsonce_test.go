@@ -17,7 +17,7 @@ func TestMeritsTablePrintedOnce(t *testing.T) {
 	if code != exitOK || strings.Count(out, table) != 1 {
 		t.Fatalf("inspect: exit %d, %d merits tables\n%s%s", code, strings.Count(out, table), out, errOut)
 	}
-	out, errOut, code = run(t, "verify", refs, checks)
+	out, errOut, code = run(t, "verify", refs, checks, "--baseline", "offset")
 	if code != exitOK && code != exitFlagged {
 		t.Fatalf("verify: exit %d\n%s", code, errOut)
 	}
