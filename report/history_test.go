@@ -39,7 +39,7 @@ func TestControlChartSVG(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	if len(files) != 2 || filepath.Base(files[0]) != "control-ambrelin-qc-1.svg" {
+	if len(files) != 2 || filepath.Base(files[0]) != "control-Ambrelin-QC-1.svg" {
 		t.Fatalf("files %v", files)
 	}
 	for _, f := range files {
