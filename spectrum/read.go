@@ -77,6 +77,10 @@ type ReadOptions struct {
 	blockRows int
 }
 
+// DefaultMaxFileBytes is the largest file ReadFile reads when
+// ReadOptions.MaxFileBytes is zero (1 GiB).
+const DefaultMaxFileBytes int64 = 1 << 30
+
 // Limits that keep the memory a reader uses bounded by what the numbers
 // themselves need, whatever the input holds.
 const (
@@ -92,7 +96,7 @@ const (
 	// a wide table of 100,000 scans of 1,000 wavelengths written with
 	// 10 characters a number. The numbers parsed from it take at most
 	// about as much memory again.
-	defaultMaxFileBytes int64 = 1 << 30
+	defaultMaxFileBytes int64 = DefaultMaxFileBytes
 )
 
 func (o *ReadOptions) maxLine() int {

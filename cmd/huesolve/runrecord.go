@@ -6,16 +6,21 @@ package main
 
 import (
 	"fmt"
+	"os"
+	"runtime"
 	"strconv"
+	"sync"
 	"time"
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
 
 	"huesolve/batch"
+	"huesolve/internal/bytesize"
 	"huesolve/method"
 	"huesolve/provenance"
 	"huesolve/reference"
+	"huesolve/spectrum"
 	"huesolve/unmix"
 )
 
@@ -48,6 +53,12 @@ func newRun(cmd *cobra.Command) (*provenance.Run, error) {
 // cannot be read, the reason); role says what it was for.
 func hashed(role, path string) provenance.File {
 	f := provenance.File{Role: role, Path: path}
+	if st, err := os.Stat(path); err == nil && st.Size() > spectrum.DefaultMaxFileBytes {
+		// Refused by the reader before it reads a byte: hashing it
+		// would read gigabytes for nothing.
+		f.Note = "not read: larger than " + bytesize.Text(spectrum.DefaultMaxFileBytes)
+		return f
+	}
 	sum, err := reference.FileSHA256(path)
 	if err != nil {
 		f.Note = "could not be read"
@@ -58,17 +69,32 @@ func hashed(role, path string) provenance.File {
 }
 
 // hashedInputs records the input files of a batch (patterns and folders
-// that named no file are left out: they are no file).
+// that named no file are left out: they are no file), hashed on all
+// cores, in input order.
 func hashedInputs(inputs []batch.Input) []provenance.File {
-	out := make([]provenance.File, 0, len(inputs))
+	var paths []string
 	for _, in := range inputs {
-		if in.Err != nil {
-			continue
+		if in.Err == nil {
+			paths = append(paths, in.Path)
 		}
-		f := hashed("", in.Path)
-		f.Role = ""
-		out = append(out, f)
 	}
+	out := make([]provenance.File, len(paths))
+	next := make(chan int)
+	var wg sync.WaitGroup
+	for range min(runtime.GOMAXPROCS(0), len(paths)) {
+		wg.Add(1)
+		go func() {
+			defer wg.Done()
+			for i := range next {
+				out[i] = hashed("", paths[i])
+			}
+		}()
+	}
+	for i := range paths {
+		next <- i
+	}
+	close(next)
+	wg.Wait()
 	return out
 }
 

@@ -5,15 +5,19 @@ import (
 	"encoding/csv"
 	"encoding/hex"
 	"encoding/json"
+	"fmt"
 	"io"
 	"os"
+	"path/filepath"
 	"regexp"
 	"strings"
 	"testing"
 
+	"huesolve/batch"
 	"huesolve/provenance"
 	"huesolve/reference"
 	"huesolve/report"
+	"huesolve/spectrum"
 )
 
 // commentedCSV reads a result CSV as its documentation tells readers to:
@@ -189,4 +193,33 @@ func sha256Hex(t *testing.T, path string) string {
 	}
 	s := sha256.Sum256(b)
 	return hex.EncodeToString(s[:])
+}
+
+// TestHashedSkipsOversizedFiles: a file larger than the readers accept is
+// recorded as not read instead of being hashed (gigabytes read for a file
+// that the run refuses anyway); one at the limit's side is hashed.
+func TestHashedSkipsOversizedFiles(t *testing.T) {
+	dir := t.TempDir()
+	big := filepath.Join(dir, "big.csv")
+	f, err := os.Create(big)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := f.Truncate(spectrum.DefaultMaxFileBytes + 1); err != nil { // sparse
+		t.Fatal(err)
+	}
+	f.Close()
+	small := filepath.Join(dir, "small.csv")
+	if err := os.WriteFile(small, []byte("nm,A\n400,0.1\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	got := hashedInputs([]batch.Input{{Path: big}, {Path: small}})
+	if len(got) != 2 || got[0].SHA256 != "" || !strings.HasPrefix(got[0].Note, "not read: larger than") {
+		t.Errorf("big file recorded as %+v", got)
+	}
+	// sha256sum of "nm,A\n400,0.1\n" (Go's crypto/sha256 gives the same).
+	want := fmt.Sprintf("%x", sha256.Sum256([]byte("nm,A\n400,0.1\n")))
+	if len(got) == 2 && (got[1].Path != small || got[1].SHA256 != want) {
+		t.Errorf("small file recorded as %+v, want SHA-256 %s", got[1], want)
+	}
 }
