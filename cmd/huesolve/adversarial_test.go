@@ -28,6 +28,7 @@ func sparse(t *testing.T, path string, head []byte, size int64) string {
 // (and line or size), the good files next to them are solved, and
 // nothing panics or hangs.
 func TestHostileScanFiles(t *testing.T) {
+	longEndToEnd(t)
 	dir := t.TempDir()
 	ref := writeSolveSet(t, dir)
 	good := writeScans(t, filepath.Join(dir, "good.csv"), solveScan("G1", []float64{5, 3, 2, 8}, 0, 1))

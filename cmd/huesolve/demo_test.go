@@ -65,6 +65,7 @@ const (
 // with the concentrations the scenario put in (the invented truth), and
 // checks that each troubled sample carries the flags it should.
 func TestDemoRecoversTruth(t *testing.T) {
+	longEndToEnd(t)
 	dir := filepath.Join(t.TempDir(), "case")
 	out, errOut, code := run(t, "demo", dir)
 	if code != exitOK {

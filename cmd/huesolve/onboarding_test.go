@@ -13,6 +13,7 @@ import (
 // folder was written with --files-only (no results/ folder yet: -o and
 // --plots create what they need).
 func TestDemoCommandsRunAsPrinted(t *testing.T) {
+	longEndToEnd(t)
 	t.Chdir(t.TempDir())
 	out, errOut, code := run(t, "demo", "full")
 	if code != exitOK {
@@ -42,6 +43,7 @@ func TestDemoCommandsRunAsPrinted(t *testing.T) {
 // says how to get one before printing "$ huesolve ..." lines; with one
 // on the PATH it says nothing of the kind.
 func TestDemoSaysHowToInstall(t *testing.T) {
+	longEndToEnd(t)
 	bin := t.TempDir()
 	t.Setenv("PATH", bin)
 	out, errOut, code := run(t, "demo", filepath.Join(t.TempDir(), "a"))
@@ -65,6 +67,7 @@ func TestDemoSaysHowToInstall(t *testing.T) {
 // working huesolve: the first installs it (run here into a temporary
 // GOBIN), the second runs the installed program as printed.
 func TestReadmeFirstCommandsInstall(t *testing.T) {
+	longEndToEnd(t)
 	blocks := codeBlocks(readReadme(t), "sh")
 	if len(blocks) < 2 {
 		t.Fatal("README has fewer than two command lines")
@@ -97,4 +100,15 @@ func commandPart(line string) string {
 		line = line[:i]
 	}
 	return strings.TrimSpace(line)
+}
+
+// longEndToEnd skips, under -short, a test that builds the tool, starts a
+// browser or reads gigabyte files: one end-to-end pass that adds nothing
+// under the race detector (.ci/run gives -race -short) but minutes of
+// compiling and running. The plain `go test ./...` always runs it.
+func longEndToEnd(t *testing.T) {
+	t.Helper()
+	if testing.Short() {
+		t.Skip("long end-to-end test: run by go test ./... without -short")
+	}
 }

@@ -101,6 +101,7 @@ func normalise(s string) string {
 // ReadmeWalkthrough -update-readme rewrites the pasted lines from today's
 // run; changed wording needs the output pasted again by hand.
 func TestReadmeWalkthrough(t *testing.T) {
+	longEndToEnd(t)
 	lines := readReadme(t)
 	walk := readmeSection(lines, "## The demo, step by step")
 	if walk == nil {

@@ -176,6 +176,7 @@ func reviewScans(t *testing.T, dir string) (path string, names []string) {
 // sorting by a clicked header, the flagged filter, every figure drawn,
 // and a sample name that is markup shown as text.
 func TestReviewReportInBrowser(t *testing.T) {
+	longEndToEnd(t)
 	b := newBrowser(t)
 	dir := t.TempDir()
 	ref := writeSolveSet(t, dir)
