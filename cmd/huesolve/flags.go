@@ -231,7 +231,7 @@ type outputFlags struct {
 func (o *outputFlags) add(fs *pflag.FlagSet, plotsHelp string) {
 	o.flags = fs
 	fs.StringVar(&o.format, "format", "", "output format: table, csv or json (default: from the -o file's extension, .csv, .json or .txt; else table)")
-	fs.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output (- for standard output)")
+	fs.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output (- for standard output; NAME.html: the review report, where there is one)")
 	o.addPlots(fs, plotsHelp)
 }
 
@@ -245,7 +245,9 @@ func (o *outputFlags) addPlots(fs *pflag.FlagSet, plotsHelp string) {
 // check validates --format and --plot-format and leaves them in lower
 // case. Without --format the -o file's extension picks the format
 // (formatOfName); a --format that contradicts a .csv or .json name is
-// refused, as is an .html name (the review report is not an -o format).
+// refused. An .html name is the review report (--report NAME.html) where
+// the command has one, the table then going to standard output; other
+// commands refuse it.
 func (o *outputFlags) check() error {
 	given := strings.ToLower(o.format)
 	switch given {
@@ -256,13 +258,21 @@ func (o *outputFlags) check() error {
 	named, strict := formatOfName(o.file())
 	switch {
 	case named == formatHTML:
-		if rep := o.reportFlag(); rep != nil {
-			if filepath.Clean(rep.Value.String()) == filepath.Clean(o.out) {
-				return usagef("--report %s is also the -o file: give them different names", o.out)
-			}
-			return usagef("-o %s: -o writes a table, CSV or JSON; for the HTML review report give --report %s", o.out, o.out)
+		rep := o.reportFlag()
+		switch {
+		case rep == nil:
+			return usagef("-o %s: -o writes a table, CSV or JSON, not an HTML page; name the file .csv, .json or .txt", o.out)
+		case given != "":
+			return usagef("-o %s names an HTML page but --format is %s; give one of them only", o.out, given)
+		case rep.Value.String() != "":
+			return usagef("-o %s and --report %s: give the HTML review report once", o.out, rep.Value.String())
 		}
-		return usagef("-o %s: -o writes a table, CSV or JSON, not an HTML page; name the file .csv, .json or .txt", o.out)
+		// -o NAME.html is --report NAME.html; the table goes to
+		// standard output as without -o.
+		if err := rep.Value.Set(o.out); err != nil {
+			return usagef("-o %s: %v", o.out, err)
+		}
+		o.out, o.format = "", report.FormatTable
 	case given == "" && named != "":
 		o.format = named
 	case given == "":

@@ -12,9 +12,10 @@ import (
 
 // TestOutputFormatFromName: -o NAME.csv or NAME.json without --format
 // writes CSV or JSON (not a box-drawing table), for every command with
-// -o and --format; a --format that contradicts the name, and an .html
-// name, are refused before any work; .txt and unknown names keep the
-// table (or --format's choice).
+// -o and --format; a --format that contradicts the name is refused
+// before any work; .txt and unknown names keep the table (or --format's
+// choice). An .html name writes the review report where the command has
+// one (solve, verify: the same as --report) and is refused by window.
 func TestOutputFormatFromName(t *testing.T) {
 	dir, refs, checks := valCase(t, 1)
 	scan := filepath.Join(dir, "chk-1.csv")
@@ -58,7 +59,6 @@ func TestOutputFormatFromName(t *testing.T) {
 		for _, bad := range [][]string{
 			{"-o", filepath.Join(dir, name+"-x.csv"), "--format", "json"},
 			{"-o", filepath.Join(dir, name+"-x.json"), "--format", "table"},
-			{"-o", filepath.Join(dir, name+"-x.html")},
 		} {
 			_, errOut, code := run(t, append(args, bad...)...)
 			if code != exitUsage || !strings.Contains(errOut, bad[1]) {
@@ -67,9 +67,22 @@ func TestOutputFormatFromName(t *testing.T) {
 			if _, err := os.Stat(bad[1]); err == nil {
 				t.Errorf("%s %v: the file was written", name, bad)
 			}
-			if strings.HasSuffix(bad[1], ".html") && (name == "window") == strings.Contains(errOut, "--report") {
-				t.Errorf("%s %v: the hint at --report is wrong: %s", name, bad, errOut)
+		}
+		page := filepath.Join(dir, name+"-x.html")
+		out, errOut, code := run(t, append(args, "-o", page)...)
+		data, _ = os.ReadFile(page)
+		switch {
+		case name == "window":
+			if code != exitUsage || !strings.Contains(errOut, page) || data != nil {
+				t.Errorf("window -o %s: exit %d, stderr %q; want exit %d and no file", page, code, errOut, exitUsage)
 			}
+		case code != exitOK && code != exitFlagged:
+			t.Errorf("%s -o %s: exit %d\n%s", name, page, code, errOut)
+		case !strings.HasPrefix(string(data), "<!DOCTYPE html>") || !strings.ContainsAny(out, "│─"):
+			t.Errorf("%s -o %s: want the review page in the file and the table on stdout; file %.100q, stdout %.100q", name, page, data, out)
+		}
+		if _, errOut, code := run(t, append(args, "-o", page, "--format", "csv")...); name != "window" && (code != exitUsage || !strings.Contains(errOut, "HTML page but --format is csv")) {
+			t.Errorf("%s -o %s --format csv: exit %d, stderr %q", name, page, code, errOut)
 		}
 	}
 }

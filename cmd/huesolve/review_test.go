@@ -42,7 +42,7 @@ func TestReviewReportFile(t *testing.T) {
 	}{
 		{[]string{"--report", filepath.Join(dir, "run.csv")}, "give a file name ending in .html"},
 		{[]string{"--report", "-"}, "not written to standard output"},
-		{[]string{"--report", page, "-o", page}, "is also the -o file"},
+		{[]string{"--report", page, "-o", page}, "give the HTML review report once"},
 		{[]string{"--report", page, "--check-only"}, "leave out -o, --plots and --report"},
 	} {
 		_, errOut, code := run(t, append([]string{"solve", ref, scan}, c.args...)...)
