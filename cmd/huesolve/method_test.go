@@ -199,7 +199,7 @@ func TestReviewShowsMethod(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
-	for _, want := range []string{"assay.json", m.Checksum, "--baseline linear (method: offset)", "chk-1.csv (SHA-256 " + sha256Hex(t, "chk-1.csv") + ")"} {
+	for _, want := range []string{"assay.json", m.Checksum, "baseline linear (method: offset)", sha256Hex(t, "chk-1.csv") + "  chk-1.csv"} {
 		if !strings.Contains(string(page), want) {
 			t.Errorf("the review report lacks %q", want)
 		}

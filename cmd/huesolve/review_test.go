@@ -26,7 +26,7 @@ func TestReviewReportFile(t *testing.T) {
 		t.Fatal(err)
 	}
 	html := string(data)
-	for _, want := range []string{"Reference set SHA-256", "Input 1</dt><dd>" + scan, "420-680 (131 points)", "--window 420-680",
+	for _, want := range []string{"Reference set checksum", "Input</dt><dd>", scan, "Setting window</dt><dd>420-680<", "131 (420-680 nm)", "--window 420-680",
 		"Figures of merit", "Caution: results support", `<svg class="fig"`} {
 		if !strings.Contains(html, want) {
 			t.Errorf("report lacks %q", want)

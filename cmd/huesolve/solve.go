@@ -323,7 +323,7 @@ func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, sca
 	}
 	j.inputs = batch.ExpandInputs(scans)
 	if o.review.on() {
-		o.review.start(cmd, o, refPath, set, j.model, mopt, j.inputs)
+		o.review.start(j.model, set, mopt)
 	}
 	solveSetNotes(set, j.model, o.scans.blank, j.inputs, j.note, j.warn)
 	if !o.checkOnly {

@@ -195,8 +195,11 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 		return err
 	}
 	if rev != nil {
-		p := verifyProvenance(cmd, o, refPath, checksPath, set, v)
-		p.addRun(run)
+		p := runProvenance(run, set)
+		p.add("Blank used", v.Blank)
+		if m := v.Merits; m != nil {
+			p.add("Points in the window", fmt.Sprintf("%d (%g-%g nm)", m.Points, m.WindowLo, m.WindowHi))
+		}
 		ctx := reviewContext("verify", p, set, v.Merits, nil)
 		if err := o.review.write(cmd.ErrOrStderr(), func(w io.Writer) error { return rev.WriteHTML(w, &rep, ctx) }); err != nil {
 			return err
