@@ -57,7 +57,8 @@ first row; the slope is given with its standard error (three points or more).
 
 The first line of the output says whether the run passed: every check passed
 and every sample is valid. Output: a table, or --format csv|json (with the
-run's record); -o FILE writes it to a file (atomically). --record DB appends
+run's record); -o FILE writes it to a file (atomically; without --format, a
+.csv or .json name picks the format). --record DB appends
 the run and its check results to a QC history file (see huesolve history).
 
 Exit codes: 0 the run passed, 4 some check failed or some sample is not
@@ -90,9 +91,7 @@ func newSequenceCmd() *cobra.Command {
 	o.fit.add(f)
 	o.scans.add(f, "every check and sample, instead of the mean of the run's blank rows")
 	o.scans.addUnit(f)
-	f.StringVar(&o.output.format, "format", report.FormatTable, "output format: table, csv or json")
-	f.StringVarP(&o.output.out, "output", "o", "", "write the output to `FILE` instead of standard output (- for standard output)")
-	o.output.plotFormat = "png"
+	o.output.addFormat(f)
 	f.StringVar(&o.recovery, "recovery", "98-102", "acceptance range of each check's recovery, `LO-HI` in percent")
 	f.Float64Var(&o.minSelectivity, "min-selectivity", validate.DefaultMinSelectivity, "selectivity below which a compound is refused")
 	o.method.addUse(f)
