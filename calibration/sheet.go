@@ -29,6 +29,14 @@ type SheetOptions struct {
 	// the same concentration in every row (replicates of one mixture),
 	// which a calibration sheet may not.
 	Checks bool
+	// Extra names further columns the caller reads (a run sheet's order,
+	// role and time): each row carries their text in Row.Extra, in this
+	// order ("" for a column the sheet lacks); they are not compounds.
+	Extra []string
+	// Loose lets a compound cell be empty (read as 0, the row marked
+	// Row.Unstated) and a sheet hold no standard at all: the caller
+	// judges its rows by the Extra columns.
+	Loose bool
 }
 
 // Row is one row of a standards sheet with its scan loaded.
@@ -39,6 +47,12 @@ type Row struct {
 	Line   int    // line of the sheet
 	// Conc holds one concentration per compound, in Sheet.Compounds order.
 	Conc []float64
+	// Extra holds the text of SheetOptions.Extra's columns.
+	Extra []string
+	// Unstated: some compound cell was empty (SheetOptions.Loose).
+	Unstated bool
+	// Column numbers of Extra's columns, counting from 1 (0: absent).
+	ExtraCols []int
 	// Scan is the standard's spectrum, in absorbance.
 	Scan *spectrum.Spectrum
 	// scanSHA256 is the hash of the scan file, lower-case hex.
@@ -227,17 +241,24 @@ var standardsColumns = sheet.Columns{
 type sheetCols struct {
 	scan, column int
 	comps        []int // compound columns, in Sheet.Compounds order
+	extra        []int // SheetOptions.Extra's columns (-1: absent)
+	loose        bool  // SheetOptions.Loose
 }
 
 // readHeader finds the columns of the sheet, the compounds and their
 // units.
 func (sh *Sheet) readHeader(text *sheet.Sheet, opt SheetOptions) (sheetCols, error) {
 	hline := text.Header.Line
-	l, err := text.Layout(standardsColumns)
+	decl := standardsColumns
+	decl.Names = append(append([]string(nil), decl.Names...), opt.Extra...)
+	l, err := text.Layout(decl)
 	if err != nil {
 		return sheetCols{}, err
 	}
-	cols := sheetCols{scan: l.Col("scan"), column: l.Col("column")}
+	cols := sheetCols{scan: l.Col("scan"), column: l.Col("column"), loose: opt.Loose}
+	for _, name := range opt.Extra {
+		cols.extra = append(cols.extra, l.Col(name))
+	}
 	seen := map[string]int{}
 	for _, i := range l.Others {
 		h := text.Header.Fields[i]
@@ -293,7 +314,15 @@ func (sh *Sheet) settleUnits(hline int, opt SheetOptions) {
 // readRow reads the scan file, column and concentrations of one row.
 func (sh *Sheet) readRow(text *sheet.Sheet, rec sheet.Row, cols sheetCols) (Row, error) {
 	row := Row{Line: rec.Line, File: rec.Fields[cols.scan], Column: sheet.Field(rec, cols.column), Conc: make([]float64, len(cols.comps))}
+	for _, c := range cols.extra {
+		row.Extra = append(row.Extra, sheet.Field(rec, c))
+		row.ExtraCols = append(row.ExtraCols, c+1)
+	}
 	for k, c := range cols.comps {
+		if cols.loose && rec.Fields[c] == "" {
+			row.Unstated = true
+			continue
+		}
 		v, err := parseConc(text, rec, c)
 		if err != nil {
 			return Row{}, text.ErrAt(rec.Line, c+1, "%w: %s: %v", errConcentration, sh.Compounds[k], err)
@@ -402,6 +431,9 @@ func (ld *scanLoader) read(p string, line, col int) (loadedScans, error) {
 func (sh *Sheet) finish(opt SheetOptions) error {
 	perr := func(format string, a ...any) error {
 		return &spectrum.ParseError{File: sh.Path, Err: fmt.Errorf(format, a...)}
+	}
+	if opt.Loose && len(sh.Standards)+len(sh.Blanks) > 0 {
+		return nil
 	}
 	if len(sh.Standards) == 0 && len(sh.Blanks) == 0 {
 		return perr("%w: no standards: the sheet has a header but no rows", errConcentration)

@@ -291,6 +291,15 @@ baseline and a wavelength shift against the offset and kept only the term
 the data needed; --format json lists what each candidate scored
 (model_scores). Filtering or centrifuging the solution before scanning is
 still the better cure.`,
+	}, {
+		title: "the day's run in order: check standards bracket the samples",
+		runs:  [][]string{{"sequence", refs, p(demo.RunSheet)}},
+		want:  []int{exitOK},
+		note: `Each check standard passed on its own, so every sample between two of them
+is valid. Had a check failed, the samples on either side of it would be
+marked invalid until the next passing check; a sample after the last check
+is unbracketed. The drift lines show no trend in the checks' recoveries
+within this short run.`,
 	}}
 }
 

@@ -229,10 +229,17 @@ type outputFlags struct {
 // add binds --format, -o/--output, --plots and --plot-format; plotsHelp
 // says what the command draws, e.g. "one figure per sample".
 func (o *outputFlags) add(fs *pflag.FlagSet, plotsHelp string) {
+	o.addFormat(fs)
+	o.addPlots(fs, plotsHelp)
+}
+
+// addFormat binds --format and -o/--output only (sequence, which draws
+// no plots).
+func (o *outputFlags) addFormat(fs *pflag.FlagSet) {
 	o.flags = fs
+	o.plotFormat = "png"
 	fs.StringVar(&o.format, "format", "", "output format: table, csv or json (default: from the -o file's extension, .csv, .json or .txt; else table)")
 	fs.StringVarP(&o.out, "output", "o", "", "write the output to `FILE` instead of standard output (- for standard output; NAME.html: the review report, where there is one)")
-	o.addPlots(fs, plotsHelp)
 }
 
 // addPlots binds --plots and --plot-format only (calibrate, whose -o is

@@ -119,6 +119,7 @@ func newRootCmd() *cobra.Command {
 		newInspectCmd(),
 		newWindowCmd(),
 		newVerifyCmd(),
+		newSequenceCmd(),
 		newSolveCmd(),
 		newHistoryCmd(),
 	)

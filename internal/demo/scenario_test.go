@@ -56,7 +56,7 @@ func TestWriteCoversEverySheetEntry(t *testing.T) {
 			}
 		}
 	}
-	for _, f := range []string{StandardsSheet, ChecksSheet, SampleSheet, TruthFile} {
+	for _, f := range []string{StandardsSheet, ChecksSheet, SampleSheet, RunSheet, TruthFile} {
 		if _, err := os.Stat(filepath.Join(dir, f)); err != nil {
 			t.Error(err)
 		}

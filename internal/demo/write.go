@@ -19,6 +19,7 @@ const (
 	StandardsSheet = "standards.csv"      // calibration standards sheet
 	ChecksSheet    = "checks.csv"         // check standards sheet
 	SampleSheet    = "samples.csv"        // per-sample dilution and path length
+	RunSheet       = "run.csv"            // the day's run in order: blanks, checks, samples
 	TruthFile      = "invented-truth.csv" // the concentrations the scenario put in
 	SamplesDir     = "samples"            // production sample scans
 	BlankFile      = "blank.csv"          // blank scanned with the samples
@@ -134,6 +135,9 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	if err := put(SampleSheet, b.Bytes()); err != nil {
 		return written, err
 	}
+	if err := put(RunSheet, sc.runSheet()); err != nil {
+		return written, err
+	}
 	if err := put(TruthFile, sc.truth()); err != nil {
 		return written, err
 	}
@@ -203,6 +207,44 @@ func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
 		}
 		b.WriteString("\n")
 	}
+	return b.Bytes()
+}
+
+// runSheet is the run sheet of the day's run (see huesolve sequence): a
+// blank, then check standards bracketing the samples of the clean lots,
+// three at a time, with clock times 4 minutes apart, and a blank at the
+// end (the one of the check run).
+func (sc *Scenario) runSheet() []byte {
+	var b bytes.Buffer
+	b.WriteString("# " + sc.comment("the day's run in measuring order") + "\n")
+	b.WriteString("order,role,time,scan,column" + sc.header() + "\n")
+	byName := map[string]Scan{}
+	for _, s := range append(append([]Scan(nil), sc.Checks...), sc.Samples...) {
+		byName[s.Name] = s
+	}
+	order := 0
+	row := func(role string, s Scan, conc bool) {
+		order++
+		mins := 4 * (order - 1)
+		fmt.Fprintf(&b, "%d,%s,%02d:%02d,%s,%s", order, role, 9+mins/60, mins%60, s.file, s.column)
+		for _, c := range s.Conc {
+			if conc {
+				b.WriteString("," + num(c))
+			} else {
+				b.WriteString(",")
+			}
+		}
+		b.WriteString("\n")
+	}
+	row("blank", sc.blank, false)
+	for i, group := range [][]string{{"lot-101", "lot-102", "lot-103"}, {"lot-109", "lot-110", "lot-111"}} {
+		row("check", byName["chk-"+strconv.Itoa(i+1)+"a"], true)
+		for _, n := range group {
+			row("sample", byName[n], false)
+		}
+	}
+	row("check", byName["chk-3a"], true)
+	row("blank", byName["blank"], false)
 	return b.Bytes()
 }
 
