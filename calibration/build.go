@@ -228,6 +228,9 @@ type pass struct {
 	res   *fitResult
 	kraw  [][]float64 // fitted K*b per compound, absorbance per unit concentration
 	icpt  []float64   // fitted intercept, when there is one
+	// The readings behind the noise model (see fitNoiseModel), per
+	// wavelength.
+	nobs [][]noiseObs
 }
 
 // run fits the rows marked in use: at each wavelength, one solver per
@@ -240,6 +243,7 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 	if err != nil {
 		return nil, err
 	}
+	ps.res.set.NoiseModel = fitNoiseModel(ps.nobs, ps.res.set.Noise, ps.ceiling)
 	if err := ps.fillUnsolved(solved); err != nil {
 		return nil, err
 	}
@@ -367,6 +371,16 @@ func (ps *pass) solveAt(mf *maskFit, j int) (bool, error) {
 		ps.icpt[j] = mf.res.Coef[len(mf.comps)]
 	}
 	set.Noise[j] = math.Sqrt(mf.res.RSS / float64(mf.res.DoF))
+	if ps.nobs == nil {
+		ps.nobs = make([][]noiseObs, len(ps.grid))
+	}
+	obs := make([]noiseObs, 0, len(mf.res.Residual))
+	for r, e := range mf.res.Residual {
+		if h := mf.lev[r]; h < leverageMax {
+			obs = append(obs, noiseObs{a: float32(mf.y[r] - e), e: float32(e / math.Sqrt(1-h))})
+		}
+	}
+	ps.nobs[j] = obs
 	return true, nil
 }
 
@@ -625,6 +639,7 @@ type maskFit struct {
 	solver   *lsq.Solver
 	res      lsq.Result
 	y        []float64
+	lev      []float64 // leverage of each row (hatDiag)
 }
 
 // newMaskFit sets up the fit for the rows kept at wavelength j. The solver
@@ -675,6 +690,7 @@ func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, e
 	}
 	mf.solver = s
 	mf.y = make([]float64, len(mf.rows))
+	mf.lev = hatDiag(x)
 	return mf, nil
 }
 
