@@ -374,13 +374,7 @@ func (ps *pass) solveAt(mf *maskFit, j int) (bool, error) {
 	if ps.nobs == nil {
 		ps.nobs = make([][]noiseObs, len(ps.grid))
 	}
-	obs := make([]noiseObs, 0, len(mf.res.Residual))
-	for r, e := range mf.res.Residual {
-		if h := mf.lev[r]; h < leverageMax {
-			obs = append(obs, noiseObs{a: float32(mf.y[r] - e), e: float32(e / math.Sqrt(1-h))})
-		}
-	}
-	ps.nobs[j] = obs
+	ps.nobs[j] = mf.noiseReadings()
 	return true, nil
 }
 
@@ -640,6 +634,7 @@ type maskFit struct {
 	res      lsq.Result
 	y        []float64
 	lev      []float64 // leverage of each row (hatDiag)
+	groups   [][]int   // replicate groups of rows (replicateGroups)
 }
 
 // newMaskFit sets up the fit for the rows kept at wavelength j. The solver
@@ -691,6 +686,7 @@ func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, e
 	mf.solver = s
 	mf.y = make([]float64, len(mf.rows))
 	mf.lev = hatDiag(x)
+	mf.groups = replicateGroups(fit, mf.rows)
 	return mf, nil
 }
 

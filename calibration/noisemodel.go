@@ -1,6 +1,7 @@
 package calibration
 
 import (
+	"fmt"
 	"math"
 
 	"gonum.org/v1/gonum/mat"
@@ -21,11 +22,16 @@ import (
 //
 //	-2 log L(k) = sum_j n_j log(sum_i e_ij² / g_ij²(k)) + sum_ij log g_ij²(k) + const
 //
-// where e_ij = r_ij / sqrt(1 - h_ij) are the residuals scaled by their
+// where e_ij are, when the standards have replicates (rows of the same
+// concentrations), the deviations from their group's mean scaled to the
+// noise, d sqrt(n_g / (n_g - 1)) (pure error: free of the calibration
+// line, so of any bias from its fit), at the group's mean absorbance;
+// without replicates, the residuals r_ij / sqrt(1 - h_ij) scaled by their
 // leverage (an ordinary least-squares residual has variance
-// sigma² (1 - h); Belsley, Kuh & Welsch 1980, recalled from memory), so
-// that the highest standards, which have the largest leverage, do not
-// look quieter than they are. Its standard error is 1/sqrt of the
+// sigma² (1 - h); Belsley, Kuh & Welsch 1980, recalled from memory) at
+// the fitted absorbance. The latter still damps the highest standards'
+// residuals by their quieter neighbours when the growth is strong (the
+// knee comes out high). Its standard error is 1/sqrt of the
 // curvature of -log L at the estimate (observed information).
 
 const (
@@ -69,6 +75,59 @@ const (
 // its bound (memory_test.go).
 type noiseObs struct {
 	a, e float32
+}
+
+// replicateGroups returns the groups of positions in rows (indexes into
+// fit) whose rows have the same concentrations, each of two or more.
+func replicateGroups(fit []Row, rows []int) [][]int {
+	byKey := map[string][]int{}
+	var keys []string
+	for r, i := range rows {
+		k := fmt.Sprint(fit[i].Conc)
+		if _, ok := byKey[k]; !ok {
+			keys = append(keys, k)
+		}
+		byKey[k] = append(byKey[k], r)
+	}
+	var out [][]int
+	for _, k := range keys {
+		if len(byKey[k]) >= 2 {
+			out = append(out, byKey[k])
+		}
+	}
+	return out
+}
+
+// noiseReadings returns the readings of the last solve for the noise
+// model: pure-error deviations when there are replicate groups, else
+// leverage-scaled residuals (see above).
+func (mf *maskFit) noiseReadings() []noiseObs {
+	if len(mf.groups) > 0 {
+		n := 0
+		for _, g := range mf.groups {
+			n += len(g)
+		}
+		obs := make([]noiseObs, 0, n)
+		for _, g := range mf.groups {
+			mean := 0.0
+			for _, r := range g {
+				mean += mf.y[r]
+			}
+			mean /= float64(len(g))
+			f := math.Sqrt(float64(len(g)) / float64(len(g)-1))
+			for _, r := range g {
+				obs = append(obs, noiseObs{a: float32(mean), e: float32((mf.y[r] - mean) * f)})
+			}
+		}
+		return obs
+	}
+	obs := make([]noiseObs, 0, len(mf.res.Residual))
+	for r, e := range mf.res.Residual {
+		if h := mf.lev[r]; h < leverageMax {
+			obs = append(obs, noiseObs{a: float32(mf.y[r] - e), e: float32(e / math.Sqrt(1-h))})
+		}
+	}
+	return obs
 }
 
 // hatDiag returns the leverages h_i (diagonal of the hat matrix) of the
