@@ -188,7 +188,8 @@ func noiseDeviance(byJ [][]noiseObs, k float64) float64 {
 
 // fitNoiseModel estimates the knee from the readings (nil when fewer
 // than noiseMinHigh of them lie at WeightKneeA or above, the residuals
-// are all zero, or the knee's standard error exceeds noiseMaxKneeSE;
+// are all zero, the knee's standard error exceeds noiseMaxKneeSE, or the
+// knee lies above the highest reading (no growth seen);
 // noise is then left as it is) and, with it, sets each wavelength's base
 // noise in noise to sqrt(sum_i e_ij² / g_ij² / n_j): with g = 1 an
 // unbiased estimate of the variance as the set's noise was before
@@ -253,7 +254,10 @@ func fitNoiseModel(byJ [][]noiseObs, noise []float64, ceiling float64) *referenc
 		return nil
 	}
 	m.KneeSE = 1 / math.Sqrt(d2/2)
-	if m.KneeSE > noiseMaxKneeSE {
+	if m.KneeSE > noiseMaxKneeSE || best > maxA {
+		// Too uncertain, or the standards stop below the knee: they saw
+		// the flat part only, and the growth up to the ceiling would be
+		// an extrapolation.
 		return nil
 	}
 	// Base noise per wavelength.
