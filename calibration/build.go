@@ -228,6 +228,9 @@ type pass struct {
 	res   *fitResult
 	kraw  [][]float64 // fitted K*b per compound, absorbance per unit concentration
 	icpt  []float64   // fitted intercept, when there is one
+	// The readings behind the noise model (see fitNoiseModel), per
+	// wavelength.
+	nobs [][]noiseObs
 }
 
 // run fits the rows marked in use: at each wavelength, one solver per
@@ -240,6 +243,7 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 	if err != nil {
 		return nil, err
 	}
+	ps.res.set.NoiseModel = fitNoiseModel(ps.nobs, ps.res.set.Noise, ps.ceiling)
 	if err := ps.fillUnsolved(solved); err != nil {
 		return nil, err
 	}
@@ -367,6 +371,10 @@ func (ps *pass) solveAt(mf *maskFit, j int) (bool, error) {
 		ps.icpt[j] = mf.res.Coef[len(mf.comps)]
 	}
 	set.Noise[j] = math.Sqrt(mf.res.RSS / float64(mf.res.DoF))
+	if ps.nobs == nil {
+		ps.nobs = make([][]noiseObs, len(ps.grid))
+	}
+	ps.nobs[j] = mf.noiseReadings()
 	return true, nil
 }
 
@@ -625,6 +633,8 @@ type maskFit struct {
 	solver   *lsq.Solver
 	res      lsq.Result
 	y        []float64
+	lev      []float64 // leverage of each row (hatDiag)
+	groups   [][]int   // replicate groups of rows (replicateGroups)
 }
 
 // newMaskFit sets up the fit for the rows kept at wavelength j. The solver
@@ -675,6 +685,8 @@ func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, e
 	}
 	mf.solver = s
 	mf.y = make([]float64, len(mf.rows))
+	mf.lev = hatDiag(x)
+	mf.groups = replicateGroups(fit, mf.rows)
 	return mf, nil
 }
 

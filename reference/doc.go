@@ -13,12 +13,13 @@
 // lack-of-fit F test when there are replicates, and Mandel's fitting test
 // as in ISO 8466-1), repeated over its band ([BandLinearity]).
 //
-// # The reference-set file (schema 1)
+// # The reference-set file (schema 1 and 2)
 //
 // A reference set is saved as one JSON object (indented, UTF-8) whose
 // fields are those of [Set] with their JSON names:
 //
-//	schema       1; files with a larger number are refused
+//	schema       1, or 2 when the set has a noise_model; files with a
+//	             larger number than SchemaVersion are refused
 //	grid_nm      wavelengths (nm), strictly increasing
 //	compounds    per compound: name, unit, absorptivity and absorptivity_se
 //	             (per unit concentration per cm, on grid_nm), usable (false
@@ -33,6 +34,9 @@
 //	             flags
 //	noise        residual SD of the calibration per wavelength (absorbance
 //	             at path_cm)
+//	noise_model  (schema 2) the noise growth with absorbance measured from
+//	             the standards: knee_a, knee_se, readings, max_a, bins
+//	             (lo_a, hi_a, mean_a, ratio, n); see NoiseModel
 //	path_cm      path length of the standards; ceiling, floor (absorbance)
 //	intercept    whether an intercept was fitted
 //	pretreat     pre-treatment steps samples must get too

@@ -20,9 +20,20 @@ import (
 	"huesolve/spectrum"
 )
 
-// SchemaVersion is the version of the reference-set file format written by
-// this build. Files from a newer schema are refused.
-const SchemaVersion = 1
+// SchemaVersion is the newest version of the reference-set file format
+// this build reads and writes. Files from a newer schema are refused.
+// Schema 2 adds noise_model; a set without one is written as schema 1,
+// byte for byte as before, so older builds still read it, and refuse a
+// set with a noise model as newer (rather than as damaged).
+const SchemaVersion = 2
+
+// schemaOf is the schema a set is written as: 2 with a noise model, else 1.
+func (s *Set) schemaOf() int {
+	if s.NoiseModel != nil {
+		return 2
+	}
+	return 1
+}
 
 // Compound is one calibrated compound.
 type Compound struct {
@@ -240,6 +251,10 @@ type Set struct {
 	// Noise is the residual standard deviation of the calibration per
 	// wavelength (absorbance units at the standards' path length).
 	Noise []float64 `json:"noise"`
+	// NoiseModel is the noise growth with absorbance measured from the
+	// standards; nil (omitted) in sets that do not have one, which keep
+	// the fixed rule (see [Set.Sigma]).
+	NoiseModel *NoiseModel `json:"noise_model,omitempty"`
 	// PathCM is the path length the standards were scanned at.
 	PathCM float64 `json:"path_cm"`
 	// Ceiling is the absorbance above which readings were left out;
@@ -284,19 +299,16 @@ const (
 // applied: max(Noise[i], NoiseFloorAU).
 func (s *Set) NoiseFloor(i int) float64 { return math.Max(s.Noise[i], NoiseFloorAU) }
 
-// NoiseGrowth is the factor sqrt(1 + 10^(2 (a - WeightKneeA))) by which
-// the noise of a reading of absorbance a exceeds the calibration noise.
-// A negative a or NaN counts as 0.
-func NoiseGrowth(a float64) float64 {
-	if !(a > 0) {
-		a = 0
-	}
-	return math.Sqrt(1 + math.Exp(2*math.Ln10*(a-WeightKneeA)))
-}
+// NoiseGrowth is the fixed rule's factor sqrt(1 + 10^(2 (a - WeightKneeA)))
+// by which the noise of a reading of absorbance a exceeds the calibration
+// noise, for sets without a measured noise model (see
+// [Set.NoiseGrowth]). A negative a or NaN counts as 0.
+func NoiseGrowth(a float64) float64 { return GrowthAt(a, WeightKneeA) }
 
 // Sigma is the noise SD of a reading of absorbance a at grid point i:
-// NoiseFloor(i) * NoiseGrowth(a).
-func (s *Set) Sigma(i int, a float64) float64 { return s.NoiseFloor(i) * NoiseGrowth(a) }
+// NoiseFloor(i) * s.NoiseGrowth(a), the measured growth when the set
+// has a noise model and the fixed rule otherwise.
+func (s *Set) Sigma(i int, a float64) float64 { return s.NoiseFloor(i) * s.NoiseGrowth(a) }
 
 // Sentinel causes of Load errors, tested with errors.Is.
 var (
@@ -362,6 +374,9 @@ func (s *Set) Validate() error {
 		return err
 	}
 	if err := s.validateCompounds(); err != nil {
+		return err
+	}
+	if err := s.validateNoiseModel(); err != nil {
 		return err
 	}
 	return s.validateStandards()
@@ -758,6 +773,9 @@ func decode(data []byte) (*Set, error) {
 	if sum != s.Checksum {
 		return nil, errChecksum
 	}
+	if s.Schema < s.schemaOf() {
+		return nil, invalid("noise_model in a schema %d file (it came with schema 2)", s.Schema)
+	}
 	if err := s.Validate(); err != nil {
 		return nil, err
 	}
@@ -788,7 +806,7 @@ func readUpTo(f io.Reader, limit int64) ([]byte, error) {
 // output): it checks s (see Validate), sets its Schema to SchemaVersion
 // and its checksum, and returns it as indented JSON ending in a newline.
 func (s *Set) Encode() ([]byte, error) {
-	s.Schema = SchemaVersion
+	s.Schema = s.schemaOf()
 	if err := s.Validate(); err != nil {
 		return nil, err
 	}

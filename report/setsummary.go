@@ -52,6 +52,9 @@ func WriteSetSummary(w io.Writer, set *reference.Set) error {
 		return fmt.Errorf("summary table: %w", err)
 	}
 	writeBandLines(w, set)
+	if err := writeNoiseModel(w, set); err != nil {
+		return err
+	}
 	if len(seen) > 0 {
 		fmt.Fprintln(w, "\nFlags:")
 		for _, f := range reference.Flags() {
@@ -59,6 +62,35 @@ func WriteSetSummary(w io.Writer, set *reference.Set) error {
 				fmt.Fprintf(w, "  %-14s %s\n", f.Code, f.Meaning)
 			}
 		}
+	}
+	return nil
+}
+
+// writeNoiseModel prints the noise growth the set measured from its
+// standards, when it has one: the knee and, per group of readings by
+// absorbance, the measured growth (RMS residual over the base noise)
+// beside the model's. Sets without a model print nothing (they keep the
+// fixed rule).
+func writeNoiseModel(w io.Writer, set *reference.Set) error {
+	m := set.NoiseModel
+	if m == nil {
+		return nil
+	}
+	fmt.Fprintf(w, "\nNoise growth measured from the standards (%d readings up to A = %.3g): sigma(A) = noise × sqrt(1 + 10^(2 (A - %.3f))), knee SE %.3f A\n",
+		m.Readings, m.MaxA, m.KneeA, m.KneeSE)
+	if len(m.Bins) == 0 {
+		return nil
+	}
+	t := newTable(w)
+	t.Header("Absorbance", "Readings", "Residual SD / noise", "Model")
+	for _, b := range m.Bins {
+		if err := t.Append([]string{fmt.Sprintf("%.2f-%.2f", b.LoA, b.HiA), fmt.Sprintf("%d", b.N),
+			fmt.Sprintf("%.3f", b.Ratio), fmt.Sprintf("%.3f", reference.GrowthAt(b.MeanA, m.KneeA))}); err != nil {
+			return fmt.Errorf("noise table: %w", err)
+		}
+	}
+	if err := t.Render(); err != nil {
+		return fmt.Errorf("noise table: %w", err)
 	}
 	return nil
 }

@@ -164,12 +164,9 @@ func (t *tableWriter) Fail(string, error) error {
 	return nil
 }
 
-// Close renders the table and the legend; with no sample solved it
-// writes nothing (the reasons are on standard error).
-func (t *tableWriter) Close() error {
-	if len(t.rows) == 0 {
-		return nil
-	}
+// header is the table's header row: sample, compounds with their
+// units, fit figures, interferents, the model, factors and flags.
+func (t *tableWriter) header() []string {
 	header := []string{"Sample"}
 	for k, n := range t.l.Compounds {
 		if k < len(t.l.Units) && t.l.Units[k] != "" {
@@ -184,7 +181,16 @@ func (t *tableWriter) Close() error {
 	if t.l.Auto {
 		header = append(header, "Model")
 	}
-	header = t.factorColumns(append(header, "Flags"))
+	return t.factorColumns(append(header, "Flags"))
+}
+
+// Close renders the table and the legend; with no sample solved it
+// writes nothing (the reasons are on standard error).
+func (t *tableWriter) Close() error {
+	if len(t.rows) == 0 {
+		return nil
+	}
+	header := t.header()
 	nc := len(t.l.Compounds)
 
 	// Columns kept, and the sample column's width, to fit t.width.

@@ -20,10 +20,11 @@
 // Points whose raw absorbance exceeds the ceiling are left out. The noise
 // model is the reference set's (reference.Set.Sigma):
 //
-//	sigma(l) = max(noise(l), noiseFloorAU) * sqrt(1 + 10^(2 (A(l) - WeightKneeA)))
+//	sigma(l) = max(noise(l), noiseFloorAU) * sqrt(1 + 10^(2 (A(l) - knee)))
 //
-// where noise(l) is the reference set's calibration noise and A(l) the
-// sample's raw absorbance: flat at low absorbance, growing as 10^A where
+// where noise(l) is the reference set's calibration noise, A(l) the
+// sample's raw absorbance and knee the set's (reference.Set.Knee: measured
+// from the standards when the set has a noise model, else WeightKneeA): flat at low absorbance, growing as 10^A where
 // photometric noise dominates (s_A = 0.434 s_T / T for constant
 // transmittance noise s_T). With Options.Weighted the fit weights by
 // 1/sigma^2; either way the reduced chi-square, the detection limits and

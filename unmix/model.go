@@ -52,7 +52,7 @@ type shared struct {
 	blankA  []float64
 	blank0  []float64 // blank on the work grid, unshifted
 	base    *design
-	// gtab tabulates the noise growth reference.NoiseGrowth at
+	// gtab tabulates the set's noise growth (reference.Set.NoiseGrowth) at
 	// A = i * growthStep for A in [0, ceiling].
 	gtab []float64
 }
@@ -62,7 +62,7 @@ type shared struct {
 // derivative of the growth is at most (ln 10)^2 times its value).
 const growthStep = 1.0 / 1024
 
-// growth returns reference.NoiseGrowth(a) for a in [0, ceiling] by
+// growth returns the set's NoiseGrowth(a) for a in [0, ceiling] by
 // interpolation in the table.
 func (sh *shared) growth(a float64) float64 {
 	x := a / growthStep
@@ -188,7 +188,7 @@ func (sh *shared) limits() error {
 	nt := int(math.Ceil(sh.ceiling/growthStep)) + 2
 	sh.gtab = make([]float64, nt)
 	for i := range sh.gtab {
-		sh.gtab[i] = reference.NoiseGrowth(float64(i) * growthStep)
+		sh.gtab[i] = set.NoiseGrowth(float64(i) * growthStep)
 	}
 	return nil
 }
