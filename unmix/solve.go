@@ -287,11 +287,7 @@ func (m *Model) noise(sc *scan) {
 func (m *Model) designFor(sc *scan) (*design, error) {
 	sh := m.sh
 	if m.opt.Weighted {
-		sig := make([]float64, len(sc.rows))
-		for i, r := range sc.rows {
-			sig[i] = sc.sig[r]
-		}
-		return sh.buildDesign(slices.Clone(sc.rows), sig)
+		return m.weightedDesign(sc)
 	}
 	if d := m.cache[string(sc.key)]; d != nil {
 		return d, nil
@@ -309,6 +305,26 @@ func (m *Model) designFor(sc *scan) (*design, error) {
 		m.cache[""] = m.base
 	}
 	m.cache[string(sc.key)] = d
+	return d, nil
+}
+
+// weightedDesign factors the scan's own design, its rows weighted by its
+// noise, into the clone's one weighted design (m.wd), reusing its storage
+// from the sample before: a weighted fit refactorises for every sample,
+// but allocates almost nothing for it in steady state.
+func (m *Model) weightedDesign(sc *scan) (*design, error) {
+	if m.wd == nil {
+		m.wd = &design{}
+	}
+	d, b := m.wd, &m.buf
+	d.rows = append(d.rows[:0], sc.rows...)
+	b.wsig = grow(b.wsig, len(sc.rows))
+	for i, r := range sc.rows {
+		b.wsig[i] = sc.sig[r]
+	}
+	if err := m.sh.setDesign(d, b.wsig); err != nil {
+		return nil, err
+	}
 	return d, nil
 }
 

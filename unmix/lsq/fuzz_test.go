@@ -53,7 +53,7 @@ func TestReset(t *testing.T) {
 		t.Fatal(err)
 	}
 	c := s.Clone()
-	if err := s.reset(x, nonneg, Options{Sigma: other}); err != nil {
+	if err := s.Reset(x, nonneg, Options{Sigma: other}); err != nil {
 		t.Fatal(err)
 	}
 	if err := c.Solve(&clone, ys[0]); err != nil {
@@ -87,7 +87,7 @@ func TestReset(t *testing.T) {
 	s = &Solver{}
 	opts := []Options{{Sigma: sigma}, {Sigma: other}}
 	for _, o := range opts {
-		if err := s.reset(x, nonneg, o); err != nil {
+		if err := s.Reset(x, nonneg, o); err != nil {
 			t.Fatal(err)
 		}
 		if err := s.Solve(&got, ys[2]); err != nil {
@@ -96,7 +96,7 @@ func TestReset(t *testing.T) {
 	}
 	i := 0
 	if a := testing.AllocsPerRun(50, func() {
-		if err := s.reset(x, nonneg, opts[i%2]); err != nil {
+		if err := s.Reset(x, nonneg, opts[i%2]); err != nil {
 			t.Fatal(err)
 		}
 		if err := s.Solve(&got, ys[i%len(ys)]); err != nil {
@@ -111,7 +111,7 @@ func TestReset(t *testing.T) {
 	}
 	bad := append([]float64(nil), sigma...)
 	bad[3] = -1
-	if err := s.reset(x, nonneg, Options{Sigma: bad}); !errors.Is(err, errNonFinite) {
+	if err := s.Reset(x, nonneg, Options{Sigma: bad}); !errors.Is(err, errNonFinite) {
 		t.Fatalf("Reset with a negative sigma: %v", err)
 	}
 	if err := s.Solve(&got, ys[0]); !errors.Is(err, errShape) {
