@@ -3,6 +3,7 @@ package unmix
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/stat/distuv"
 
@@ -83,9 +84,72 @@ type autoModel struct {
 	power float64
 	terms []string // baseline terms of all candidates, design order
 
+	// shares[i]: candidate i reads a scan as the floor does (the same
+	// work range, window rows, ceiling and pre-treatment), so it takes
+	// the floor's reading (rd) instead of reading again.
+	shares []bool
+
 	// Per sample.
 	scans []scan
 	state []candState
+	rd    readState
+}
+
+// readState is a scan as read (Model.read, Model.noise) before any fit:
+// the absorbance on the scan's own grid and on the work grid, the mask of
+// rows at or below the ceiling and the noise model. The candidates of the
+// automatic model read alike; the floor reads and the others copy.
+type readState struct {
+	filled                  bool
+	abs, raw, net, blk, sig []float64
+	rows                    []int
+	key                     []byte
+	dropped, darkPts        int
+	darkNM                  float64
+	gridOK                  []float64
+}
+
+// save copies the scan as m read it into rd.
+func (rd *readState) save(m *Model, sc *scan) {
+	rd.abs = append(rd.abs[:0], m.buf.abs...)
+	rd.raw = append(rd.raw[:0], sc.raw...)
+	rd.net = append(rd.net[:0], sc.net...)
+	rd.blk = append(rd.blk[:0], sc.blk...)
+	rd.sig = append(rd.sig[:0], sc.sig...)
+	rd.rows = append(rd.rows[:0], sc.rows...)
+	rd.key = append(rd.key[:0], sc.key...)
+	rd.dropped, rd.darkPts, rd.darkNM = sc.dropped, sc.darkPts, sc.darkNM
+	rd.gridOK = m.buf.gridOK
+	rd.filled = true
+}
+
+// restore gives m the scan as read in rd, in m's own storage (a shifted
+// fit reads it again at other shifts): what read and noise would have
+// given.
+func (rd *readState) restore(m *Model, sc *scan) {
+	b := &m.buf
+	b.abs = append(b.abs[:0], rd.abs...)
+	b.raw = append(b.raw[:0], rd.raw...)
+	b.net = append(b.net[:0], rd.net...)
+	b.blk = append(b.blk[:0], rd.blk...)
+	b.sig = append(b.sig[:0], rd.sig...)
+	b.rows = append(b.rows[:0], rd.rows...)
+	b.key = append(b.key[:0], rd.key...)
+	if rd.gridOK != nil {
+		b.gridOK = rd.gridOK
+	}
+	sc.raw, sc.net, sc.blk, sc.sig, sc.rows, sc.key = b.raw, b.net, b.blk, b.sig, b.rows, b.key
+	sc.dropped, sc.darkPts, sc.darkNM = rd.dropped, rd.darkPts, rd.darkNM
+}
+
+// readsAlike reports whether models m and o read a scan alike: the same
+// grid, work range, window rows, ceiling, pre-treatment reach and blank.
+func readsAlike(m, o *Model) bool {
+	a, b := m.sh, o.sh
+	return a.set == b.set && a.wlo == b.wlo && a.whi == b.whi && a.lo == b.lo && a.hi == b.hi &&
+		a.ceiling == b.ceiling && a.reach == b.reach && slices.Equal(a.rows0, b.rows0) &&
+		slices.Equal(a.noise, b.noise) && slices.Equal(a.blank0, b.blank0) &&
+		slices.Equal(a.blankA, b.blankA) && slices.Equal(a.blankWL, b.blankWL)
 }
 
 // candState is what one sample's selection knows of a candidate.
@@ -183,6 +247,9 @@ func newAuto(opt Options, build func(Options) (*Model, error)) (*Model, error) {
 		}
 	}
 	a.terms = top.BaselineTerms()
+	for _, m := range a.cands {
+		a.shares = append(a.shares, readsAlike(m, a.cands[a.base]))
+	}
 	a.scans = make([]scan, len(a.cands))
 	a.state = make([]candState, len(a.cands))
 	b := a.cands[a.base]
@@ -234,6 +301,7 @@ func (a *autoModel) clone() *autoModel {
 	}
 	c.scans = make([]scan, len(a.cands))
 	c.state = make([]candState, len(a.cands))
+	c.rd = readState{}
 	return &c
 }
 
@@ -333,9 +401,14 @@ func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore) bool {
 func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	a := m.auto
 	clear(a.state)
+	a.rd.filled = false
 	scores := dst.ModelScores[:0]
 	try := func(i int) error {
-		sc, err := a.cands[i].run(s, f)
+		var rd *readState
+		if a.shares[i] {
+			rd = &a.rd
+		}
+		sc, err := a.cands[i].runShared(s, f, rd)
 		if err != nil {
 			a.state[i] = candFailed
 			return err

@@ -88,14 +88,30 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 // of SolveTo but filling the result. The scan's slices are views of the
 // model's storage, valid until its next solve.
 func (m *Model) run(s *spectrum.Spectrum, f Factors) (scan, error) {
+	return m.runShared(s, f, nil)
+}
+
+// runShared is run, sharing the reading of the scan through rd when it is
+// not nil (the candidates of the automatic model, which read a scan
+// alike): a model that finds rd filled takes the scan as read from it,
+// else it reads the scan and fills rd.
+func (m *Model) runShared(s *spectrum.Spectrum, f Factors, rd *readState) (scan, error) {
 	sc, err := m.prepare(s, f)
 	if err != nil {
 		return sc, err
 	}
-	if err := m.read(&sc); err != nil {
+	if rd != nil && rd.filled {
+		rd.restore(m, &sc)
+		err = m.enough(&sc)
+	} else if err = m.read(&sc); err == nil {
+		m.noise(&sc)
+		if rd != nil {
+			rd.save(m, &sc)
+		}
+	}
+	if err != nil {
 		return sc, sc.fail(err)
 	}
-	m.noise(&sc)
 	if sc.d, err = m.designFor(&sc); err != nil {
 		return sc, sc.fail(err)
 	}
@@ -177,6 +193,13 @@ func (m *Model) read(sc *scan) error {
 	if sc.darkPts > 0 && firstDark >= 0 {
 		sc.darkNM = sc.s.Wavelengths[firstDark]
 	}
+	return m.enough(sc)
+}
+
+// enough returns errTooDark when too few of the scan's rows remain to fit
+// the model's columns.
+func (m *Model) enough(sc *scan) error {
+	sh := m.sh
 	if len(sc.rows) < len(sh.cols)+minDoF {
 		dark := ""
 		if sc.darkPts > 0 {
