@@ -78,6 +78,7 @@ func (k candKey) name(power float64) string {
 // model of its own, and per candidate the last scan it fitted.
 type autoModel struct {
 	keys  []candKey
+	names []string // keys[i].name(power), made once
 	cands []*Model
 	mimic []bool // a baseline term of the candidate can imitate a compound
 	base  int    // index of the floor
@@ -247,8 +248,9 @@ func newAuto(opt Options, build func(Options) (*Model, error)) (*Model, error) {
 		}
 	}
 	a.terms = top.BaselineTerms()
-	for _, m := range a.cands {
+	for i, m := range a.cands {
 		a.shares = append(a.shares, readsAlike(m, a.cands[a.base]))
+		a.names = append(a.names, a.keys[i].name(power))
 	}
 	a.scans = make([]scan, len(a.cands))
 	a.state = make([]candState, len(a.cands))
@@ -421,12 +423,12 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		return err
 	}
 	rss0, dof0 := a.cands[cur].objective(&a.scans[cur])
-	scores = append(scores, ModelScore{Model: a.keys[cur].name(a.power), RSS: rss0, DoF: dof0})
+	scores = append(scores, ModelScore{Model: a.names[cur], RSS: rss0, DoF: dof0})
 	chosen := 0
 	for {
 		best, bestP := -1, math.Inf(1)
 		for _, e := range a.extensions(cur) {
-			ms := ModelScore{Model: a.keys[e].name(a.power), Against: a.keys[cur].name(a.power), Level: AutoLevel}
+			ms := ModelScore{Model: a.names[e], Against: a.names[cur], Level: AutoLevel}
 			if a.screen(cur, e, rss0, &ms) {
 				scores = append(scores, ms)
 				continue
@@ -457,7 +459,7 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	scores[chosen].Chosen = true
 	c := a.cands[cur]
 	c.fill(dst, &a.scans[cur])
-	dst.Model = a.keys[cur].name(a.power)
+	dst.Model = a.names[cur]
 	dst.ModelScores = scores
 	return nil
 }

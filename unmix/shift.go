@@ -155,18 +155,20 @@ func (m *Model) shiftStep(sc *scan, dcols [][]float64) (num, den float64) {
 			g[i] += c * col[r]
 		}
 	}
-	for k := range p {
-		sc.pg[k] = floats.Dot(d.solver.PseudoInverseRow(k), g)
+	pg := sc.pg[:p]
+	for k := range pg {
+		pg[k] = floats.Dot(d.solver.PseudoInverseRow(k), g)
 	}
+	resid, sig, weighted := sc.res.Residual[:n], sc.sig, m.opt.Weighted
 	for i, r := range d.rows {
 		fit := 0.0
 		for k, v := range xr.Data[i*xr.Stride : i*xr.Stride+p] {
-			fit += v * sc.pg[k]
+			fit += v * pg[k]
 		}
-		mg, res := g[i]-fit, sc.res.Residual[i]
-		if m.opt.Weighted {
-			mg /= sc.sig[r]
-			res /= sc.sig[r]
+		mg, res := g[i]-fit, resid[i]
+		if weighted {
+			mg /= sig[r]
+			res /= sig[r]
 		}
 		num += mg * res
 		den += mg * mg

@@ -96,11 +96,12 @@ func (m *Model) run(s *spectrum.Spectrum, f Factors) (scan, error) {
 // alike): a model that finds rd filled takes the scan as read from it,
 // else it reads the scan and fills rd.
 func (m *Model) runShared(s *spectrum.Spectrum, f Factors, rd *readState) (scan, error) {
-	sc, err := m.prepare(s, f)
+	shared := rd != nil && rd.filled
+	sc, err := m.prepareChecked(s, f, shared)
 	if err != nil {
 		return sc, err
 	}
-	if rd != nil && rd.filled {
+	if shared {
 		rd.restore(m, &sc)
 		err = m.enough(&sc)
 	} else if err = m.read(&sc); err == nil {
@@ -151,9 +152,18 @@ func (m *Model) Check(s *spectrum.Spectrum, f Factors) error {
 // prepare checks s and f for SolveTo and returns the scan with the
 // dilution and path, defaults applied.
 func (m *Model) prepare(s *spectrum.Spectrum, f Factors) (scan, error) {
+	return m.prepareChecked(s, f, false)
+}
+
+// prepareChecked is prepare, skipping the check of s's values and grid
+// when checked (s passed it for another candidate of the automatic
+// model).
+func (m *Model) prepareChecked(s *spectrum.Spectrum, f Factors, checked bool) (scan, error) {
 	sc := scan{s: s, name: sampleName(s)}
-	if err := m.check(s); err != nil {
-		return sc, err
+	if !checked {
+		if err := m.check(s); err != nil {
+			return sc, err
+		}
 	}
 	sc.dil, sc.path, sc.notInSheet = f.Dilution, f.PathCM, f.NotInSheet
 	if sc.dil == 0 {
