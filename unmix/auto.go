@@ -89,6 +89,12 @@ type autoModel struct {
 	// work range, window rows, ceiling and pre-treatment), so it takes
 	// the floor's reading (rd) instead of reading again.
 	shares []bool
+	// twin[i] is, for a candidate i with a shift, the candidate without
+	// it with the same design (else -1): a shifted fit starts from the
+	// unshifted one, which the twin has already made when it was fitted
+	// (solveAuto), so the shifted candidate takes it instead of solving
+	// again.
+	twin []int
 
 	// Per sample.
 	scans []scan
@@ -141,6 +147,26 @@ func (rd *readState) restore(m *Model, sc *scan) {
 	}
 	sc.raw, sc.net, sc.blk, sc.sig, sc.rows, sc.key = b.raw, b.net, b.blk, b.sig, b.rows, b.key
 	sc.dropped, sc.darkPts, sc.darkNM = rd.dropped, rd.darkPts, rd.darkNM
+}
+
+// twinOf returns the candidate that is candidate i without its shift and
+// has the same design and reading, or -1.
+func (a *autoModel) twinOf(i int) int {
+	k := a.keys[i]
+	if !k.shift {
+		return -1
+	}
+	for j, e := range a.keys {
+		if e.degree != k.degree || e.scatter != k.scatter || e.shift || !a.shares[i] || !a.shares[j] {
+			continue
+		}
+		x, y := a.cands[i].sh, a.cands[j].sh
+		if !slices.Equal(x.nonneg, y.nonneg) || !slices.EqualFunc(x.cols, y.cols, slices.Equal) {
+			continue
+		}
+		return j
+	}
+	return -1
 }
 
 // readsAlike reports whether models m and o read a scan alike: the same
@@ -251,6 +277,7 @@ func newAuto(opt Options, build func(Options) (*Model, error)) (*Model, error) {
 	for i, m := range a.cands {
 		a.shares = append(a.shares, readsAlike(m, a.cands[a.base]))
 		a.names = append(a.names, a.keys[i].name(power))
+		a.twin = append(a.twin, a.twinOf(i))
 	}
 	a.scans = make([]scan, len(a.cands))
 	a.state = make([]candState, len(a.cands))
@@ -410,7 +437,11 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		if a.shares[i] {
 			rd = &a.rd
 		}
-		sc, err := a.cands[i].runShared(s, f, rd)
+		var from *scan
+		if t := a.twin[i]; t >= 0 && a.state[t] == candFitted {
+			from = &a.scans[t]
+		}
+		sc, err := a.cands[i].runShared(s, f, rd, from)
 		if err != nil {
 			a.state[i] = candFailed
 			return err

@@ -88,14 +88,16 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 // of SolveTo but filling the result. The scan's slices are views of the
 // model's storage, valid until its next solve.
 func (m *Model) run(s *spectrum.Spectrum, f Factors) (scan, error) {
-	return m.runShared(s, f, nil)
+	return m.runShared(s, f, nil, nil)
 }
 
 // runShared is run, sharing the reading of the scan through rd when it is
 // not nil (the candidates of the automatic model, which read a scan
 // alike): a model that finds rd filled takes the scan as read from it,
-// else it reads the scan and fills rd.
-func (m *Model) runShared(s *spectrum.Spectrum, f Factors, rd *readState) (scan, error) {
+// else it reads the scan and fills rd. from, if not nil, is the fit of
+// the same scan on the same design (rows and columns) by another model:
+// its result stands for m's own first fit.
+func (m *Model) runShared(s *spectrum.Spectrum, f Factors, rd *readState, from *scan) (scan, error) {
 	shared := rd != nil && rd.filled
 	sc, err := m.prepareChecked(s, f, shared)
 	if err != nil {
@@ -116,7 +118,9 @@ func (m *Model) runShared(s *spectrum.Spectrum, f Factors, rd *readState) (scan,
 	if sc.d, err = m.designFor(&sc); err != nil {
 		return sc, sc.fail(err)
 	}
-	if err := m.fit(&sc); err != nil {
+	if from != nil && slices.Equal(from.d.rows, sc.d.rows) {
+		m.copyFit(&sc, from)
+	} else if err := m.fit(&sc); err != nil {
 		return sc, sc.fail(err)
 	}
 	sc.interpVar = 1
@@ -452,6 +456,16 @@ func (m *Model) fit(sc *scan) error {
 		return nil
 	}
 	return err
+}
+
+// copyFit gives sc the fit of from, made on the same design and rows
+// (runShared), in m's storage, as fit would have made it.
+func (m *Model) copyFit(sc *scan, from *scan) {
+	b := &m.buf
+	b.y = append(b.y[:0], from.y...)
+	sc.y, sc.res = b.y, &b.res
+	from.res.CopyTo(sc.res)
+	sc.noConv = from.noConv
 }
 
 // darkNeeded reports whether scan point i (wavelengths wl) lies in or

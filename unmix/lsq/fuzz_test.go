@@ -4,6 +4,7 @@ import (
 	"encoding/binary"
 	"errors"
 	"math"
+	"reflect"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -180,4 +181,32 @@ func FuzzSolve(f *testing.F) {
 			t.Fatalf("KKT %g accepted", res.KKT)
 		}
 	})
+}
+
+// TestResultCopyTo: a copy equals the original field for field and shares
+// no storage with it, and a reused destination is overwritten whole.
+func TestResultCopyTo(t *testing.T) {
+	x, nonneg, ys, sigma := benchDesign(101, 4)
+	s, err := NewSolver(x, nonneg, Options{Sigma: sigma})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var a, b, dst Result
+	if err := s.Solve(&a, ys[0]); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Solve(&b, ys[1]); err != nil {
+		t.Fatal(err)
+	}
+	b.CopyTo(&dst) // storage to reuse
+	a.CopyTo(&dst)
+	if !reflect.DeepEqual(a, dst) {
+		t.Fatalf("copy differs:\n%+v\n%+v", a, dst)
+	}
+	dst.Coef[0]++
+	dst.Residual[0]++
+	dst.lo[0]++
+	if reflect.DeepEqual(a, dst) {
+		t.Fatal("copy shares storage with the original")
+	}
 }
