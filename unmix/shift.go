@@ -27,7 +27,9 @@ func (m *Model) fitShift(sc *scan) error {
 	if err := m.resample(sc, 0); err != nil {
 		return err
 	}
-	if err := m.fit(sc); err != nil {
+	if sc.from != nil {
+		m.copyFit(sc, sc.from)
+	} else if err := m.fit(sc); err != nil {
 		return err
 	}
 	clear(sc.pg)

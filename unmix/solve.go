@@ -42,6 +42,10 @@ type scan struct {
 	y      []float64
 	res    *lsq.Result
 	noConv bool // the iteration cap was hit
+	// from, if not nil, is another model's unshifted fit of this scan on
+	// the same design and rows (runShared): the unshifted fit, taken
+	// from it rather than solved again.
+	from *scan
 
 	// Set by fitShift (zero, and interpVar 1, without a shift).
 	shift     float64   // applied shift (nm)
@@ -119,7 +123,10 @@ func (m *Model) runShared(s *spectrum.Spectrum, f Factors, rd *readState, from *
 		return sc, sc.fail(err)
 	}
 	if from != nil && slices.Equal(from.d.rows, sc.d.rows) {
-		m.copyFit(&sc, from)
+		sc.from = from
+	}
+	if sc.from != nil {
+		m.copyFit(&sc, sc.from)
 	} else if err := m.fit(&sc); err != nil {
 		return sc, sc.fail(err)
 	}
