@@ -261,3 +261,26 @@ func TestAutoShiftScreened(t *testing.T) {
 		}
 	}
 }
+
+// TestAutoReusedResultBaseline: a Result reused from a sample whose
+// chosen model had more baseline terms (the batch runner reuses one per
+// worker) holds only the terms of the next sample's own model, so that
+// no coefficient of an earlier sample is reported for it.
+func TestAutoReusedResultBaseline(t *testing.T) {
+	m := mustModel(t, autoSet(), Options{Auto: true})
+	rng := rand.New(rand.NewPCG(7, 7))
+	conc := []float64{4, 6, 3, 5}
+	var r Result
+	if err := m.SolveTo(&r, autoSample(rng, conc, autoTrouble{offset: 0.01, scatter: 0.2}), Factors{}); err != nil {
+		t.Fatal(err)
+	}
+	if _, ok := r.Baseline["scatter"]; !ok {
+		t.Fatalf("turbid sample: model %s, baseline %v; want the scattering term", r.Model, r.Baseline)
+	}
+	if err := m.SolveTo(&r, autoSample(rng, conc, autoTrouble{offset: 0.01}), Factors{}); err != nil {
+		t.Fatal(err)
+	}
+	if r.Model != "offset" || len(r.Baseline) != 1 {
+		t.Errorf("clean sample after a turbid one: model %s, baseline %v; want offset alone", r.Model, r.Baseline)
+	}
+}
