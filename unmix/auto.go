@@ -3,6 +3,7 @@ package unmix
 import (
 	"fmt"
 	"math"
+	"slices"
 
 	"gonum.org/v1/gonum/stat/distuv"
 
@@ -77,15 +78,105 @@ func (k candKey) name(power float64) string {
 // model of its own, and per candidate the last scan it fitted.
 type autoModel struct {
 	keys  []candKey
+	names []string // keys[i].name(power), made once
 	cands []*Model
 	mimic []bool // a baseline term of the candidate can imitate a compound
 	base  int    // index of the floor
 	power float64
 	terms []string // baseline terms of all candidates, design order
 
+	// shares[i]: candidate i reads a scan as the floor does (the same
+	// work range, window rows, ceiling and pre-treatment), so it takes
+	// the floor's reading (rd) instead of reading again.
+	shares []bool
+	// twin[i] is, for a candidate i with a shift, the candidate without
+	// it with the same design (else -1): a shifted fit starts from the
+	// unshifted one, which the twin has already made when it was fitted
+	// (solveAuto), so the shifted candidate takes it instead of solving
+	// again.
+	twin []int
+
 	// Per sample.
 	scans []scan
 	state []candState
+	rd    readState
+}
+
+// readState is a scan as read (Model.read, Model.noise) before any fit:
+// the absorbance on the scan's own grid and on the work grid, the mask of
+// rows at or below the ceiling and the noise model. The candidates of the
+// automatic model read alike; the floor reads and the others copy.
+type readState struct {
+	filled                  bool
+	abs, raw, net, blk, sig []float64
+	rows                    []int
+	key                     []byte
+	dropped, darkPts        int
+	darkNM                  float64
+	gridOK                  []float64
+}
+
+// save copies the scan as m read it into rd.
+func (rd *readState) save(m *Model, sc *scan) {
+	rd.abs = append(rd.abs[:0], m.buf.abs...)
+	rd.raw = append(rd.raw[:0], sc.raw...)
+	rd.net = append(rd.net[:0], sc.net...)
+	rd.blk = append(rd.blk[:0], sc.blk...)
+	rd.sig = append(rd.sig[:0], sc.sig...)
+	rd.rows = append(rd.rows[:0], sc.rows...)
+	rd.key = append(rd.key[:0], sc.key...)
+	rd.dropped, rd.darkPts, rd.darkNM = sc.dropped, sc.darkPts, sc.darkNM
+	rd.gridOK = m.buf.gridOK
+	rd.filled = true
+}
+
+// restore gives m the scan as read in rd, in m's own storage (a shifted
+// fit reads it again at other shifts): what read and noise would have
+// given.
+func (rd *readState) restore(m *Model, sc *scan) {
+	b := &m.buf
+	b.abs = append(b.abs[:0], rd.abs...)
+	b.raw = append(b.raw[:0], rd.raw...)
+	b.net = append(b.net[:0], rd.net...)
+	b.blk = append(b.blk[:0], rd.blk...)
+	b.sig = append(b.sig[:0], rd.sig...)
+	b.rows = append(b.rows[:0], rd.rows...)
+	b.key = append(b.key[:0], rd.key...)
+	if rd.gridOK != nil {
+		b.gridOK = rd.gridOK
+	}
+	sc.raw, sc.net, sc.blk, sc.sig, sc.rows, sc.key = b.raw, b.net, b.blk, b.sig, b.rows, b.key
+	sc.dropped, sc.darkPts, sc.darkNM = rd.dropped, rd.darkPts, rd.darkNM
+}
+
+// twinOf returns the candidate that is candidate i without its shift and
+// has the same design and reading, or -1.
+func (a *autoModel) twinOf(i int) int {
+	k := a.keys[i]
+	if !k.shift {
+		return -1
+	}
+	for j, e := range a.keys {
+		if e.degree != k.degree || e.scatter != k.scatter || e.shift || !a.shares[i] || !a.shares[j] {
+			continue
+		}
+		x, y := a.cands[i].sh, a.cands[j].sh
+		if !slices.Equal(x.nonneg, y.nonneg) || !slices.EqualFunc(x.cols, y.cols, slices.Equal) {
+			continue
+		}
+		return j
+	}
+	return -1
+}
+
+// readsAlike reports whether models m and o read a scan alike: the same
+// grid, work range, window rows, ceiling, pre-treatment reach and blank.
+func readsAlike(m, o *Model) bool {
+	a, b := m.sh, o.sh
+	return a.set == b.set && a.wlo == b.wlo && a.whi == b.whi && a.lo == b.lo && a.hi == b.hi &&
+		a.ceiling == b.ceiling && a.reach == b.reach && slices.Equal(a.rows0, b.rows0) &&
+		slices.Equal(a.noise, b.noise) && slices.Equal(a.blank0, b.blank0) &&
+		slices.Equal(a.blankA, b.blankA) && slices.Equal(a.blankWL, b.blankWL)
 }
 
 // candState is what one sample's selection knows of a candidate.
@@ -183,6 +274,11 @@ func newAuto(opt Options, build func(Options) (*Model, error)) (*Model, error) {
 		}
 	}
 	a.terms = top.BaselineTerms()
+	for i, m := range a.cands {
+		a.shares = append(a.shares, readsAlike(m, a.cands[a.base]))
+		a.names = append(a.names, a.keys[i].name(power))
+		a.twin = append(a.twin, a.twinOf(i))
+	}
 	a.scans = make([]scan, len(a.cands))
 	a.state = make([]candState, len(a.cands))
 	b := a.cands[a.base]
@@ -234,6 +330,7 @@ func (a *autoModel) clone() *autoModel {
 	}
 	c.scans = make([]scan, len(a.cands))
 	c.state = make([]candState, len(a.cands))
+	c.rd = readState{}
 	return &c
 }
 
@@ -333,9 +430,18 @@ func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore) bool {
 func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	a := m.auto
 	clear(a.state)
+	a.rd.filled = false
 	scores := dst.ModelScores[:0]
 	try := func(i int) error {
-		sc, err := a.cands[i].run(s, f)
+		var rd *readState
+		if a.shares[i] {
+			rd = &a.rd
+		}
+		var from *scan
+		if t := a.twin[i]; t >= 0 && a.state[t] == candFitted {
+			from = &a.scans[t]
+		}
+		sc, err := a.cands[i].runShared(s, f, rd, from)
 		if err != nil {
 			a.state[i] = candFailed
 			return err
@@ -348,12 +454,12 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		return err
 	}
 	rss0, dof0 := a.cands[cur].objective(&a.scans[cur])
-	scores = append(scores, ModelScore{Model: a.keys[cur].name(a.power), RSS: rss0, DoF: dof0})
+	scores = append(scores, ModelScore{Model: a.names[cur], RSS: rss0, DoF: dof0})
 	chosen := 0
 	for {
 		best, bestP := -1, math.Inf(1)
 		for _, e := range a.extensions(cur) {
-			ms := ModelScore{Model: a.keys[e].name(a.power), Against: a.keys[cur].name(a.power), Level: AutoLevel}
+			ms := ModelScore{Model: a.names[e], Against: a.names[cur], Level: AutoLevel}
 			if a.screen(cur, e, rss0, &ms) {
 				scores = append(scores, ms)
 				continue
@@ -384,7 +490,7 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	scores[chosen].Chosen = true
 	c := a.cands[cur]
 	c.fill(dst, &a.scans[cur])
-	dst.Model = a.keys[cur].name(a.power)
+	dst.Model = a.names[cur]
 	dst.ModelScores = scores
 	return nil
 }

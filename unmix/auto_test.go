@@ -261,3 +261,77 @@ func TestAutoShiftScreened(t *testing.T) {
 		}
 	}
 }
+
+// TestAutoReusedResultBaseline: a Result reused from a sample whose
+// chosen model had more baseline terms (the batch runner reuses one per
+// worker) holds only the terms of the next sample's own model, so that
+// no coefficient of an earlier sample is reported for it.
+func TestAutoReusedResultBaseline(t *testing.T) {
+	m := mustModel(t, autoSet(), Options{Auto: true})
+	rng := rand.New(rand.NewPCG(7, 7))
+	conc := []float64{4, 6, 3, 5}
+	var r Result
+	if err := m.SolveTo(&r, autoSample(rng, conc, autoTrouble{offset: 0.01, scatter: 0.2}), Factors{}); err != nil {
+		t.Fatal(err)
+	}
+	if _, ok := r.Baseline["scatter"]; !ok {
+		t.Fatalf("turbid sample: model %s, baseline %v; want the scattering term", r.Model, r.Baseline)
+	}
+	if err := m.SolveTo(&r, autoSample(rng, conc, autoTrouble{offset: 0.01}), Factors{}); err != nil {
+		t.Fatal(err)
+	}
+	if r.Model != "offset" || len(r.Baseline) != 1 {
+		t.Errorf("clean sample after a turbid one: model %s, baseline %v; want offset alone", r.Model, r.Baseline)
+	}
+}
+
+// TestAutoSharingBitForBit: the automatic model shares work among its
+// candidates (one reading of the scan, a shifted candidate's first fit
+// taken from its unshifted twin, one reused weighted design); the chosen
+// candidate's result must equal, bit for bit, the same model fitted on its
+// own as a fixed model, plain and weighted, on clean, turbid and shifted
+// samples.
+func TestAutoSharingBitForBit(t *testing.T) {
+	for _, weighted := range []bool{false, true} {
+		auto := mustModel(t, autoSet(), Options{Auto: true, Weighted: weighted})
+		fixed := map[string]*Model{}
+		rng := rand.New(rand.NewPCG(3, 9))
+		var r Result // reused, as the batch runner does
+		for i := range 24 {
+			tr := autoTrouble{offset: 0.01}
+			switch i % 3 {
+			case 1:
+				tr.scatter = 0.15
+			case 2:
+				tr.shiftNM = 0.8
+			}
+			s := autoSample(rng, []float64{2 + float64(i%5), 5, 3, 6}, tr)
+			if err := auto.SolveTo(&r, s, Factors{}); err != nil {
+				t.Fatal(err)
+			}
+			name, shift := strings.CutSuffix(r.Model, "+shift")
+			fm := fixed[r.Model]
+			if fm == nil {
+				opt := fixedModel(t, name, shift)
+				opt.Weighted = weighted
+				fm = mustModel(t, autoSet(), opt)
+				fixed[r.Model] = fm
+			}
+			want := mustSolve(t, fm, s, Factors{})
+			for k, a := range r.Amounts {
+				w := want.Amounts[k]
+				if a.Conc != w.Conc || a.SE != w.SE || a.LOD != w.LOD || a.Free != w.Free {
+					t.Errorf("weighted %v, sample %d (%s), %s: auto %v ± %v (LOD %v), alone %v ± %v (LOD %v)",
+						weighted, i, r.Model, a.Compound, a.Conc, a.SE, a.LOD, w.Conc, w.SE, w.LOD)
+				}
+			}
+			if r.RMS != want.RMS || r.ShiftNM != want.ShiftNM || r.ChiSqRed != want.ChiSqRed {
+				t.Errorf("weighted %v, sample %d (%s): auto rms %v shift %v chi2 %v, alone %v %v %v",
+					weighted, i, r.Model, r.RMS, r.ShiftNM, r.ChiSqRed, want.RMS, want.ShiftNM, want.ChiSqRed)
+			}
+		}
+		if len(fixed) < 3 {
+			t.Errorf("weighted %v: models chosen %d, want the offset, scattering and shift all chosen", weighted, len(fixed))
+		}
+	}
+}

@@ -138,11 +138,22 @@ func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM floa
 // matrix returns the design on the given window rows (nil: d.Rows) as a
 // rows × columns matrix.
 func (d *Design) matrix(rows []int) *mat.Dense {
+	return d.matrixTo(nil, rows)
+}
+
+// matrixTo is matrix, reusing the storage of dst (nil: a new matrix) when
+// it is large enough.
+func (d *Design) matrixTo(dst *mat.Dense, rows []int) *mat.Dense {
 	if rows == nil {
 		rows = d.Rows
 	}
 	p := len(d.Cols)
-	x := mat.NewDense(len(rows), p, nil)
+	var x *mat.Dense
+	if dst != nil && cap(dst.RawMatrix().Data) >= len(rows)*p {
+		x = mat.NewDense(len(rows), p, dst.RawMatrix().Data[:len(rows)*p])
+	} else {
+		x = mat.NewDense(len(rows), p, nil)
+	}
 	raw := x.RawMatrix()
 	for i, r := range rows {
 		row := raw.Data[i*raw.Stride : i*raw.Stride+p]
@@ -193,20 +204,40 @@ var errRank = errors.New("the design's columns are linearly dependent")
 // buildDesign sets up the fit on the given window rows. sigma, if not nil,
 // is the noise of each of these rows and the fit is weighted by 1/sigma^2.
 func (sh *shared) buildDesign(rows []int, sigma []float64) (*design, error) {
-	n, p := len(rows), len(sh.cols)
+	d := &design{rows: rows}
+	if err := sh.setDesign(d, sigma); err != nil {
+		return nil, err
+	}
+	return d, nil
+}
+
+// setDesign factors the design on the rows d.rows into d, reusing the
+// storage d holds from an earlier call (its matrix and solver), as a
+// weighted fit does for every sample (Model.weightedDesign). sigma is as
+// for buildDesign. On error d is not usable until the next success.
+func (sh *shared) setDesign(d *design, sigma []float64) error {
+	n, p := len(d.rows), len(sh.cols)
 	if n < p+minDoF {
-		return nil, fmt.Errorf("%d usable points for %d coefficients", n, p)
+		return fmt.Errorf("%d usable points for %d coefficients", n, p)
 	}
-	x := sh.design.matrix(rows)
-	if err := sh.visible(x); err != nil {
-		return nil, err
+	d.x = sh.design.matrixTo(d.x, d.rows)
+	if err := sh.visible(d.x); err != nil {
+		return err
 	}
-	solver, err := lsq.NewSolver(x, sh.nonneg, lsq.Options{Sigma: sigma, PseudoInverse: true})
+	opt := lsq.Options{Sigma: sigma, PseudoInverse: true}
+	var err error
+	if d.solver == nil {
+		d.solver, err = lsq.NewSolver(d.x, sh.nonneg, opt)
+	} else {
+		err = d.solver.Reset(d.x, sh.nonneg, opt)
+	}
 	if err != nil {
+		d.solver = nil
 		if errors.Is(err, lsq.ErrRankDeficient) {
-			return nil, fmt.Errorf("%w (%s)", errRank, err)
+			return fmt.Errorf("%w (%s)", errRank, err)
 		}
-		return nil, err
+		return err
 	}
-	return &design{rows: rows, x: x, solver: solver, cond: solver.Cond(), leak: solver.Leakage()}, nil
+	d.cond, d.leak = d.solver.Cond(), d.solver.Leakage()
+	return nil
 }

@@ -51,7 +51,11 @@
 // model clone (up to maskCacheSize). A weighted fit depends on the
 // sample's own absorbance, so it factors its own design for every sample
 // (one thin QR factorisation of n x p, about the cost of the solve
-// itself for p = 5).
+// itself for p = 5), in one design per model clone whose storage it
+// reuses (lsq.Solver.Reset). The automatic model (auto.go) reads a scan
+// once for all its candidates, and a shifted candidate starts from its
+// unshifted twin's fit rather than solving it again; the results are
+// those of fitting each candidate on its own, bit for bit.
 //
 // # Where things live
 //

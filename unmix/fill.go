@@ -67,6 +67,9 @@ func (m *Model) fill(dst *Result, sc *scan) {
 		if dst.Baseline == nil {
 			dst.Baseline = make(map[string]float64, len(sh.names))
 		}
+		// A reused Result may hold the terms of an earlier sample's
+		// larger model (Options.Auto).
+		clear(dst.Baseline)
 		for j, nm := range sh.names {
 			dst.Baseline[nm] = res.Coef[sh.ncomp+j]
 		}

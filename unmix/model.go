@@ -85,6 +85,9 @@ type Model struct {
 	cache map[string]*design
 	tq    map[int]float64
 	buf   scratch
+	// wd is the clone's design for weighted fits, refactorised for each
+	// sample in its storage (weightedDesign).
+	wd *design
 	// auto, with Options.Auto, holds the candidate models the sample's
 	// nuisance model is chosen from (auto.go); the model's own design is
 	// then the floor's.
@@ -103,6 +106,7 @@ type scratch struct {
 	y       []float64 // fit rows
 	sig     []float64 // noise sigma on the window
 	sr      []float64 // noise sigma on the fit rows
+	wsig    []float64 // noise sigma on the rows of a weighted design
 	g       []float64 // shift direction on the fit rows
 	pg      []float64 // response of the coefficients to the shift direction
 	rows    []int

@@ -2,7 +2,6 @@ package unmix
 
 import (
 	"math"
-	"slices"
 
 	"gonum.org/v1/gonum/floats"
 )
@@ -16,7 +15,7 @@ func (m *Model) fitShift(sc *scan) error {
 		return err
 	}
 	if sc.shift != 0 {
-		sc.interpVar = interpNoise(sc.s.Wavelengths, sh.grid, offsetRows(sc.d.rows, sh.lo), sc.shift)
+		sc.interpVar = interpNoise(sc.s.Wavelengths, sh.grid[sh.lo:], sc.d.rows, sc.shift)
 	}
 	sc.shiftSE = m.shiftSE(sc)
 	if shiftDetermined(sc.shift, sc.shiftSE) {
@@ -28,7 +27,9 @@ func (m *Model) fitShift(sc *scan) error {
 	if err := m.resample(sc, 0); err != nil {
 		return err
 	}
-	if err := m.fit(sc); err != nil {
+	if sc.from != nil {
+		m.copyFit(sc, sc.from)
+	} else if err := m.fit(sc); err != nil {
 		return err
 	}
 	clear(sc.pg)
@@ -80,15 +81,6 @@ func shiftDetermined(shift, se float64) bool {
 	return se > 0 && !math.IsInf(se, 0) && math.Abs(shift) > shiftSigmas*se
 }
 
-// offsetRows returns rows with off added to each, in a new slice.
-func offsetRows(rows []int, off int) []int {
-	out := make([]int, len(rows))
-	for i, r := range rows {
-		out[i] = r + off
-	}
-	return out
-}
-
 // shiftSE is the standard error of the shift estimated by estimateShift
 // for the fit in sc.res: the residual SD (in noise-model units and at
 // least 1 when weighted, as for the compounds) over the norm of the shift
@@ -117,13 +109,18 @@ func (m *Model) shiftSE(sc *scan) float64 {
 // between readings of wl applies to independent noise. Interpolated
 // residuals look quieter than the readings by this factor; the noise
 // itself and the parameters' scatter are not reduced, so residual-based
-// standard errors are divided by its square root.
+// standard errors are divided by its square root. wl, grid and rows are
+// increasing, so the reading at or after each point is found by one walk
+// along wl (the index a binary search would give).
 func interpNoise(wl, grid []float64, rows []int, delta float64) float64 {
 	n := len(wl)
 	sum := 0.0
+	k := 0
 	for _, r := range rows {
 		x := grid[r] + delta
-		k, _ := slices.BinarySearch(wl, x)
+		for k < n && wl[k] < x {
+			k++
+		}
 		v := 1.0
 		if k > 0 && k < n {
 			t := (x - wl[k-1]) / (wl[k] - wl[k-1])
@@ -151,25 +148,29 @@ func (m *Model) shiftStep(sc *scan, dcols [][]float64) (num, den float64) {
 	b.pg = grow(b.pg, p)
 	sc.pg = b.pg
 	xr := d.x.RawMatrix()
-	for i, r := range d.rows {
-		v := 0.0
-		for k := range sh.ncomp {
-			v += sc.res.Coef[k] * dcols[k][r]
+	// g accumulated column by column: the same sums, in the same order
+	// (compound 0 first), as row by row.
+	clear(g)
+	for k, col := range dcols[:sh.ncomp] {
+		c := sc.res.Coef[k]
+		for i, r := range d.rows {
+			g[i] += c * col[r]
 		}
-		g[i] = v
 	}
-	for k := range p {
-		sc.pg[k] = floats.Dot(d.solver.PseudoInverseRow(k), g)
+	pg := sc.pg[:p]
+	for k := range pg {
+		pg[k] = floats.Dot(d.solver.PseudoInverseRow(k), g)
 	}
+	resid, sig, weighted := sc.res.Residual[:n], sc.sig, m.opt.Weighted
 	for i, r := range d.rows {
 		fit := 0.0
 		for k, v := range xr.Data[i*xr.Stride : i*xr.Stride+p] {
-			fit += v * sc.pg[k]
+			fit += v * pg[k]
 		}
-		mg, res := g[i]-fit, sc.res.Residual[i]
-		if m.opt.Weighted {
-			mg /= sc.sig[r]
-			res /= sc.sig[r]
+		mg, res := g[i]-fit, resid[i]
+		if weighted {
+			mg /= sig[r]
+			res /= sig[r]
 		}
 		num += mg * res
 		den += mg * mg

@@ -42,6 +42,10 @@ type scan struct {
 	y      []float64
 	res    *lsq.Result
 	noConv bool // the iteration cap was hit
+	// from, if not nil, is another model's unshifted fit of this scan on
+	// the same design and rows (runShared): the unshifted fit, taken
+	// from it rather than solved again.
+	from *scan
 
 	// Set by fitShift (zero, and interpVar 1, without a shift).
 	shift     float64   // applied shift (nm)
@@ -88,18 +92,42 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 // of SolveTo but filling the result. The scan's slices are views of the
 // model's storage, valid until its next solve.
 func (m *Model) run(s *spectrum.Spectrum, f Factors) (scan, error) {
-	sc, err := m.prepare(s, f)
+	return m.runShared(s, f, nil, nil)
+}
+
+// runShared is run, sharing the reading of the scan through rd when it is
+// not nil (the candidates of the automatic model, which read a scan
+// alike): a model that finds rd filled takes the scan as read from it,
+// else it reads the scan and fills rd. from, if not nil, is the fit of
+// the same scan on the same design (rows and columns) by another model:
+// its result stands for m's own first fit.
+func (m *Model) runShared(s *spectrum.Spectrum, f Factors, rd *readState, from *scan) (scan, error) {
+	shared := rd != nil && rd.filled
+	sc, err := m.prepareChecked(s, f, shared)
 	if err != nil {
 		return sc, err
 	}
-	if err := m.read(&sc); err != nil {
+	if shared {
+		rd.restore(m, &sc)
+		err = m.enough(&sc)
+	} else if err = m.read(&sc); err == nil {
+		m.noise(&sc)
+		if rd != nil {
+			rd.save(m, &sc)
+		}
+	}
+	if err != nil {
 		return sc, sc.fail(err)
 	}
-	m.noise(&sc)
 	if sc.d, err = m.designFor(&sc); err != nil {
 		return sc, sc.fail(err)
 	}
-	if err := m.fit(&sc); err != nil {
+	if from != nil && slices.Equal(from.d.rows, sc.d.rows) {
+		sc.from = from
+	}
+	if sc.from != nil {
+		m.copyFit(&sc, sc.from)
+	} else if err := m.fit(&sc); err != nil {
 		return sc, sc.fail(err)
 	}
 	sc.interpVar = 1
@@ -135,9 +163,18 @@ func (m *Model) Check(s *spectrum.Spectrum, f Factors) error {
 // prepare checks s and f for SolveTo and returns the scan with the
 // dilution and path, defaults applied.
 func (m *Model) prepare(s *spectrum.Spectrum, f Factors) (scan, error) {
+	return m.prepareChecked(s, f, false)
+}
+
+// prepareChecked is prepare, skipping the check of s's values and grid
+// when checked (s passed it for another candidate of the automatic
+// model).
+func (m *Model) prepareChecked(s *spectrum.Spectrum, f Factors, checked bool) (scan, error) {
 	sc := scan{s: s, name: sampleName(s)}
-	if err := m.check(s); err != nil {
-		return sc, err
+	if !checked {
+		if err := m.check(s); err != nil {
+			return sc, err
+		}
 	}
 	sc.dil, sc.path, sc.notInSheet = f.Dilution, f.PathCM, f.NotInSheet
 	if sc.dil == 0 {
@@ -177,6 +214,13 @@ func (m *Model) read(sc *scan) error {
 	if sc.darkPts > 0 && firstDark >= 0 {
 		sc.darkNM = sc.s.Wavelengths[firstDark]
 	}
+	return m.enough(sc)
+}
+
+// enough returns errTooDark when too few of the scan's rows remain to fit
+// the model's columns.
+func (m *Model) enough(sc *scan) error {
+	sh := m.sh
 	if len(sc.rows) < len(sh.cols)+minDoF {
 		dark := ""
 		if sc.darkPts > 0 {
@@ -287,11 +331,7 @@ func (m *Model) noise(sc *scan) {
 func (m *Model) designFor(sc *scan) (*design, error) {
 	sh := m.sh
 	if m.opt.Weighted {
-		sig := make([]float64, len(sc.rows))
-		for i, r := range sc.rows {
-			sig[i] = sc.sig[r]
-		}
-		return sh.buildDesign(slices.Clone(sc.rows), sig)
+		return m.weightedDesign(sc)
 	}
 	if d := m.cache[string(sc.key)]; d != nil {
 		return d, nil
@@ -309,6 +349,26 @@ func (m *Model) designFor(sc *scan) (*design, error) {
 		m.cache[""] = m.base
 	}
 	m.cache[string(sc.key)] = d
+	return d, nil
+}
+
+// weightedDesign factors the scan's own design, its rows weighted by its
+// noise, into the clone's one weighted design (m.wd), reusing its storage
+// from the sample before: a weighted fit refactorises for every sample,
+// but allocates almost nothing for it in steady state.
+func (m *Model) weightedDesign(sc *scan) (*design, error) {
+	if m.wd == nil {
+		m.wd = &design{}
+	}
+	d, b := m.wd, &m.buf
+	d.rows = append(d.rows[:0], sc.rows...)
+	b.wsig = grow(b.wsig, len(sc.rows))
+	for i, r := range sc.rows {
+		b.wsig[i] = sc.sig[r]
+	}
+	if err := m.sh.setDesign(d, b.wsig); err != nil {
+		return nil, err
+	}
 	return d, nil
 }
 
@@ -403,6 +463,16 @@ func (m *Model) fit(sc *scan) error {
 		return nil
 	}
 	return err
+}
+
+// copyFit gives sc the fit of from, made on the same design and rows
+// (runShared), in m's storage, as fit would have made it.
+func (m *Model) copyFit(sc *scan, from *scan) {
+	b := &m.buf
+	b.y = append(b.y[:0], from.y...)
+	sc.y, sc.res = b.y, &b.res
+	from.res.CopyTo(sc.res)
+	sc.noConv = from.noConv
 }
 
 // darkNeeded reports whether scan point i (wavelengths wl) lies in or

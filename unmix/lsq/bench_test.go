@@ -118,7 +118,7 @@ func BenchmarkSolveAccurate(b *testing.B) {
 		b.ReportAllocs()
 		i := 0
 		for b.Loop() {
-			if err := s.reset(x, nonneg, Options{Sigma: sigmas[i%len(sigmas)]}); err != nil {
+			if err := s.Reset(x, nonneg, Options{Sigma: sigmas[i%len(sigmas)]}); err != nil {
 				b.Fatal(err)
 			}
 			if err := s.Solve(&res, ys[i%len(ys)]); err != nil {

@@ -4,6 +4,7 @@ import (
 	"encoding/binary"
 	"errors"
 	"math"
+	"reflect"
 	"testing"
 
 	"gonum.org/v1/gonum/mat"
@@ -53,7 +54,7 @@ func TestReset(t *testing.T) {
 		t.Fatal(err)
 	}
 	c := s.Clone()
-	if err := s.reset(x, nonneg, Options{Sigma: other}); err != nil {
+	if err := s.Reset(x, nonneg, Options{Sigma: other}); err != nil {
 		t.Fatal(err)
 	}
 	if err := c.Solve(&clone, ys[0]); err != nil {
@@ -87,7 +88,7 @@ func TestReset(t *testing.T) {
 	s = &Solver{}
 	opts := []Options{{Sigma: sigma}, {Sigma: other}}
 	for _, o := range opts {
-		if err := s.reset(x, nonneg, o); err != nil {
+		if err := s.Reset(x, nonneg, o); err != nil {
 			t.Fatal(err)
 		}
 		if err := s.Solve(&got, ys[2]); err != nil {
@@ -96,7 +97,7 @@ func TestReset(t *testing.T) {
 	}
 	i := 0
 	if a := testing.AllocsPerRun(50, func() {
-		if err := s.reset(x, nonneg, opts[i%2]); err != nil {
+		if err := s.Reset(x, nonneg, opts[i%2]); err != nil {
 			t.Fatal(err)
 		}
 		if err := s.Solve(&got, ys[i%len(ys)]); err != nil {
@@ -111,7 +112,7 @@ func TestReset(t *testing.T) {
 	}
 	bad := append([]float64(nil), sigma...)
 	bad[3] = -1
-	if err := s.reset(x, nonneg, Options{Sigma: bad}); !errors.Is(err, errNonFinite) {
+	if err := s.Reset(x, nonneg, Options{Sigma: bad}); !errors.Is(err, errNonFinite) {
 		t.Fatalf("Reset with a negative sigma: %v", err)
 	}
 	if err := s.Solve(&got, ys[0]); !errors.Is(err, errShape) {
@@ -180,4 +181,32 @@ func FuzzSolve(f *testing.F) {
 			t.Fatalf("KKT %g accepted", res.KKT)
 		}
 	})
+}
+
+// TestResultCopyTo: a copy equals the original field for field and shares
+// no storage with it, and a reused destination is overwritten whole.
+func TestResultCopyTo(t *testing.T) {
+	x, nonneg, ys, sigma := benchDesign(101, 4)
+	s, err := NewSolver(x, nonneg, Options{Sigma: sigma})
+	if err != nil {
+		t.Fatal(err)
+	}
+	var a, b, dst Result
+	if err := s.Solve(&a, ys[0]); err != nil {
+		t.Fatal(err)
+	}
+	if err := s.Solve(&b, ys[1]); err != nil {
+		t.Fatal(err)
+	}
+	b.CopyTo(&dst) // storage to reuse
+	a.CopyTo(&dst)
+	if !reflect.DeepEqual(a, dst) {
+		t.Fatalf("copy differs:\n%+v\n%+v", a, dst)
+	}
+	dst.Coef[0]++
+	dst.Residual[0]++
+	dst.lo[0]++
+	if reflect.DeepEqual(a, dst) {
+		t.Fatal("copy shares storage with the original")
+	}
 }

@@ -42,6 +42,22 @@ func (r *Result) size(n, p int) {
 	r.AtBound = grow(r.AtBound, p)
 }
 
+// CopyTo makes dst a copy of r, reusing dst's storage: a fit known to
+// equal one already made (the same design and y) is taken from it
+// instead of being solved again.
+func (r *Result) CopyTo(dst *Result) {
+	keep := *dst
+	*dst = *r
+	dst.Coef = append(keep.Coef[:0], r.Coef...)
+	dst.SE = append(keep.SE[:0], r.SE...)
+	dst.lo = append(keep.lo[:0], r.lo...)
+	dst.hi = append(keep.hi[:0], r.hi...)
+	dst.AtBound = append(keep.AtBound[:0], r.AtBound...)
+	dst.Residual = append(keep.Residual[:0], r.Residual...)
+	dst.Unconstrained = append(keep.Unconstrained[:0], r.Unconstrained...)
+	dst.unconstrainedSE = append(keep.unconstrainedSE[:0], r.unconstrainedSE...)
+}
+
 // Solve fits y and fills dst. It returns ErrNoConvergence (with dst
 // holding the best feasible point and Status IterLimit) if the cap is hit.
 //

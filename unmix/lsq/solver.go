@@ -144,7 +144,7 @@ type Solver struct {
 // The cost is one thin QR, O(n p^2), and an SVD of the p×p factor.
 func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
 	s := &Solver{}
-	if err := s.reset(x, nonneg, opt); err != nil {
+	if err := s.Reset(x, nonneg, opt); err != nil {
 		return nil, err
 	}
 	return s, nil
@@ -157,7 +157,7 @@ func NewSolver(x *mat.Dense, nonneg []bool, opt Options) (*Solver, error) {
 // allocates almost nothing in steady state (two small objects inside
 // gonum's SVD); clones made earlier keep the old factorisation. On error s has no design and Solve fails until a
 // successful Reset.
-func (s *Solver) reset(x *mat.Dense, nonneg []bool, opt Options) error {
+func (s *Solver) Reset(x *mat.Dense, nonneg []bool, opt Options) error {
 	f := s.f
 	if f == nil || f.shared.Load() {
 		f = &factor{}
