@@ -1,6 +1,7 @@
 package main
 
 import (
+	"bytes"
 	"os"
 	"os/exec"
 	"path/filepath"
@@ -63,9 +64,11 @@ func TestDemoSaysHowToInstall(t *testing.T) {
 	}
 }
 
-// TestReadmeFirstCommandsInstall: the README's first two commands give a
-// working huesolve: the first installs it (run here into a temporary
-// GOBIN), the second runs the installed program as printed.
+// TestReadmeFirstCommandsInstall: the README's first command runs the
+// demo through go run from the source folder (into a temporary folder
+// here), its second is the test command .ci/run gives, and the install
+// command its next lines name gives a working huesolve (run here into a
+// temporary GOBIN).
 func TestReadmeFirstCommandsInstall(t *testing.T) {
 	longEndToEnd(t)
 	blocks := codeBlocks(readReadme(t), "sh")
@@ -73,24 +76,31 @@ func TestReadmeFirstCommandsInstall(t *testing.T) {
 		t.Fatal("README has fewer than two command lines")
 	}
 	first, second := commandPart(blocks[0].text), commandPart(blocks[1].text)
-	if first != "go install ./cmd/huesolve" {
-		t.Fatalf("README.md:%d: first command %q, want go install ./cmd/huesolve", blocks[0].n, first)
+	args, ok := strings.CutPrefix(first, "go run ./cmd/huesolve demo ")
+	if !ok || strings.Contains(args, " ") {
+		t.Fatalf("README.md:%d: first command %q, want go run ./cmd/huesolve demo DIR", blocks[0].n, first)
 	}
-	args, ok := strings.CutPrefix(second, "huesolve ")
-	if !ok {
-		t.Fatalf("README.md:%d: second command %q does not run huesolve", blocks[1].n, second)
+	if second != "go test ./..." {
+		t.Fatalf("README.md:%d: second command %q, want go test ./...", blocks[1].n, second)
+	}
+	demo := exec.Command("go", "run", "./cmd/huesolve", "demo", filepath.Join(t.TempDir(), args))
+	demo.Dir = "../.."
+	if b, err := demo.CombinedOutput(); err != nil || !bytes.Contains(b, []byte("Step 1 of")) {
+		t.Fatalf("%s: %v\n%.2000s", first, err, b)
+	}
+	const install = "go install ./cmd/huesolve"
+	if data, err := os.ReadFile(readmePath); err != nil || !bytes.Contains(data, []byte("`"+install+"`")) {
+		t.Fatalf("README does not say how to install: %q", install)
 	}
 	gobin := t.TempDir()
-	install := exec.Command("go", strings.Fields(strings.TrimPrefix(first, "go "))...)
-	install.Dir = "../.."
-	install.Env = append(os.Environ(), "GOBIN="+gobin)
-	if b, err := install.CombinedOutput(); err != nil {
-		t.Fatalf("%s: %v\n%s", first, err, b)
-	}
-	cmd := exec.Command(filepath.Join(gobin, "huesolve"), strings.Fields(args)...)
-	cmd.Dir = t.TempDir()
+	cmd := exec.Command("go", "install", "./cmd/huesolve")
+	cmd.Dir = "../.."
+	cmd.Env = append(os.Environ(), "GOBIN="+gobin)
 	if b, err := cmd.CombinedOutput(); err != nil {
-		t.Fatalf("%s: %v\n%.2000s", second, err, b)
+		t.Fatalf("%s: %v\n%s", install, err, b)
+	}
+	if b, err := exec.Command(filepath.Join(gobin, "huesolve"), "version").CombinedOutput(); err != nil {
+		t.Fatalf("installed huesolve version: %v\n%s", err, b)
 	}
 }
 
