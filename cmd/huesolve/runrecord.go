@@ -293,3 +293,21 @@ func fitBaselineName(opt unmix.Options) string {
 	}
 	return opt.Baseline.String()
 }
+
+// setOrMethodArgs checks the arguments of a command taking a reference
+// set and a sheet, or --method FILE and the sheet alone, and calls run
+// with the set's path ("" with --method) and the sheet's.
+func setOrMethodArgs(mf *methodFlags, sheet string, run func(cmd *cobra.Command, refPath, sheet string) error) func(*cobra.Command, []string) error {
+	return func(cmd *cobra.Command, args []string) error {
+		if mf.use != "" {
+			if err := wantArgs(1, 1, sheet+" with --method")(cmd, args); err != nil {
+				return err
+			}
+			return run(cmd, "", args[0])
+		}
+		if err := wantArgs(2, 2, "a reference set (or --method FILE) and "+sheet)(cmd, args); err != nil {
+			return err
+		}
+		return run(cmd, args[0], args[1])
+	}
+}

@@ -74,18 +74,9 @@ func newSequenceCmd() *cobra.Command {
 		Short: "Process a run in order: checks bracket the samples, drift is reported",
 		Long:  sequenceLong,
 		Args:  wantArgs(1, 2, "a reference set (or --method FILE) and a run sheet"),
-		RunE: func(cmd *cobra.Command, args []string) error {
-			if o.method.use != "" {
-				if err := wantArgs(1, 1, "a run sheet with --method")(cmd, args); err != nil {
-					return err
-				}
-				return runSequence(cmd, o, "", args[0])
-			}
-			if err := wantArgs(2, 2, "a reference set (or --method FILE) and a run sheet")(cmd, args); err != nil {
-				return err
-			}
-			return runSequence(cmd, o, args[0], args[1])
-		},
+		RunE: setOrMethodArgs(&o.method, "a run sheet", func(cmd *cobra.Command, refPath, sheet string) error {
+			return runSequence(cmd, o, refPath, sheet)
+		}),
 	}
 	f := cmd.Flags()
 	o.fit.add(f)

@@ -106,18 +106,9 @@ func newVerifyCmd() *cobra.Command {
 		Short: "Judge recovery of check standards of known composition",
 		Long:  verifyLong,
 		Args:  wantArgs(1, 2, "a reference set (or --method FILE) and a sheet of check standards"),
-		RunE: func(cmd *cobra.Command, args []string) error {
-			if o.method.use != "" {
-				if err := wantArgs(1, 1, "a sheet of check standards with --method")(cmd, args); err != nil {
-					return err
-				}
-				return runVerify(cmd, o, "", args[0])
-			}
-			if err := wantArgs(2, 2, "a reference set (or --method FILE) and a sheet of check standards")(cmd, args); err != nil {
-				return err
-			}
-			return runVerify(cmd, o, args[0], args[1])
-		},
+		RunE: setOrMethodArgs(&o.method, "a sheet of check standards", func(cmd *cobra.Command, refPath, sheet string) error {
+			return runVerify(cmd, o, refPath, sheet)
+		}),
 	}
 	f := cmd.Flags()
 	o.fit.add(f)
