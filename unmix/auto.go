@@ -323,15 +323,21 @@ func (sh *shared) leakAllFree() ([]float64, error) {
 
 // clone gives a copy of the candidates with fresh scratch storage.
 func (a *autoModel) clone() *autoModel {
-	c := *a
-	c.cands = make([]*Model, len(a.cands))
+	// Only the fields fixed when the model was made are copied, one by
+	// one: the per-sample ones (scans, state, rd) may be being written by
+	// a worker solving with a, so a copy of the whole struct would read
+	// them while they change (a data race).
+	c := &autoModel{
+		keys: a.keys, names: a.names, mimic: a.mimic, base: a.base, power: a.power,
+		terms: a.terms, shares: a.shares, twin: a.twin,
+		cands: make([]*Model, len(a.cands)),
+		scans: make([]scan, len(a.cands)),
+		state: make([]candState, len(a.cands)),
+	}
 	for i, m := range a.cands {
 		c.cands[i] = m.Clone()
 	}
-	c.scans = make([]scan, len(a.cands))
-	c.state = make([]candState, len(a.cands))
-	c.rd = readState{}
-	return &c
+	return c
 }
 
 // extensions returns the candidates that add one term to candidate i:

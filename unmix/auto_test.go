@@ -3,6 +3,7 @@ package unmix
 import (
 	"math"
 	"math/rand/v2"
+	"reflect"
 	"strings"
 	"testing"
 
@@ -332,6 +333,48 @@ func TestAutoSharingBitForBit(t *testing.T) {
 		}
 		if len(fixed) < 3 {
 			t.Errorf("weighted %v: models chosen %d, want the offset, scattering and shift all chosen", weighted, len(fixed))
+		}
+	}
+}
+
+// TestAutoCloneWhileSolving: a worker may clone the model (batch's
+// workers each take a Clone) while another solves with it. Clone reads
+// only what is fixed when the model is made, so under the race detector
+// (.ci/run runs go test -race) this reports nothing; before, Clone copied
+// the whole per-sample state that the solving goroutine writes. The
+// clones must also solve alike.
+func TestAutoCloneWhileSolving(t *testing.T) {
+	m, err := NewModel(autoSet(), Options{Auto: true})
+	if err != nil {
+		t.Fatal(err)
+	}
+	rng := rand.New(rand.NewPCG(5, 6))
+	s := autoSample(rng, []float64{2, 3, 4, 5}, autoTrouble{scatter: 0.05})
+	done := make(chan error)
+	go func() {
+		for range 20 {
+			if _, err := m.Solve(s, Factors{}); err != nil {
+				done <- err
+				return
+			}
+		}
+		done <- nil
+	}()
+	var clones []*Model
+	for range 20 {
+		clones = append(clones, m.Clone())
+	}
+	if err := <-done; err != nil {
+		t.Fatal(err)
+	}
+	want, err := m.Solve(s, Factors{})
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, c := range clones {
+		got, err := c.Solve(s, Factors{})
+		if err != nil || got.Model != want.Model || !reflect.DeepEqual(got.Amounts, want.Amounts) {
+			t.Fatalf("clone: %v, model %q amounts %+v; want %q %+v", err, got.Model, got.Amounts, want.Model, want.Amounts)
 		}
 	}
 }
