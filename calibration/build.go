@@ -448,7 +448,8 @@ func (ps *pass) compoundLine(k int) error {
 	}
 	lin.Band = bl
 	c.Linearity = lin
-	ps.res.outliers[k] = outliers(lin.Data, ps.lineRows(k))
+	rows := ps.lineRows(k)
+	ps.res.outliers[k] = append(outliers(lin.Data, rows), falling(lin, rows)...)
 	return nil
 }
 

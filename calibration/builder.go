@@ -518,6 +518,7 @@ func (b *builder) ceilingNotes(res *fitResult) {
 // finishCompound sets the flags of compound k (c) and warns about its
 // calibration line and the standards left out for it.
 func (b *builder) finishCompound(c *reference.Compound, k int) {
+	b.unbendFalling(c, k)
 	c.Flags = compoundFlags(c.Linearity, b.everClipped[k], b.floor)
 	if bl := c.Linearity.Band; bl.TooCurved() && !c.Linearity.Curved {
 		b.warn("%s: the calibration line bends at %d of %d wavelengths of its band (%g-%g nm) by Mandel's test, though not at its maximum (%g nm); check the upper standards and the linear range",
@@ -538,6 +539,36 @@ func (b *builder) finishCompound(c *reference.Compound, k int) {
 		b.standardsLeftOut(c, k, rows)
 	}
 	b.outlierNotes(c, k)
+}
+
+// unbendFalling undoes the bend found for compound k (c) when every
+// standard left out above its linear range is a falling reading (see
+// [falling]): the curvature was that reading's doing, not the line's, so
+// the compound is not flagged curved and the standards are recorded as
+// left out without the word bend; outlierNotes names them.
+func (b *builder) unbendFalling(c *reference.Compound, k int) {
+	rows := b.leftOutRows[k]
+	if len(rows) == 0 {
+		return
+	}
+	falls := map[int]bool{}
+	for _, o := range b.res.outliers[k] {
+		if o.falls {
+			falls[o.row] = true
+		}
+	}
+	for _, i := range rows {
+		if !falls[i] {
+			return
+		}
+	}
+	b.everCurved[k] = false
+	b.leftOutRows[k] = nil
+	for _, i := range rows {
+		r := b.fit[i]
+		c.StandardsLeftOut = append(c.StandardsLeftOut, reference.Standard{File: r.File, Column: r.Column, SHA256: r.scanSHA256,
+			Conc: append([]float64(nil), r.Conc...), Line: r.Line})
+	}
 }
 
 // standardsLeftOut records the fit rows left out for compound k (c) and

@@ -41,6 +41,12 @@ type outlier struct {
 	t     float64
 	limit float64
 	n     int // readings in the line
+	// falls marks a reading above the linear range that reads lower than
+	// the line at the top of the range (see [falling]); t and limit are
+	// then NaN, got is its absorbance, top the highest concentration the
+	// line was fitted to and want the line's value there.
+	falls          bool
+	got, top, want float64
 }
 
 // studentized returns the externally studentized residuals (Belsley, Kuh
@@ -135,6 +141,40 @@ func outliers(pts []reference.Point, rows []int) []outlier {
 	return out
 }
 
+// fallMargin is how many residual SDs of the line a reading above the
+// linear range may fall below the line's value at the top of the range
+// before it is taken for a wrong standard rather than a bend.
+const fallMargin = 3
+
+// falling finds the readings of a line l (rows[i] the fit row behind
+// l.Data[i]) that were left out above its linear range and read lower
+// than the fitted line at the highest concentration it was fitted to, by
+// more than fallMargin residual SDs. A calibration line can bend (stray
+// light, association, a saturating detector flatten it) but absorbance
+// does not fall as concentration rises (common practice): such a reading
+// is a mislabelled level, a wrong dilution or a wrong scan, not
+// curvature, and is reported as an outlier.
+func falling(l reference.Linearity, rows []int) []outlier {
+	top := math.Inf(-1)
+	for _, p := range l.Data {
+		if p.Used && p.Conc > top {
+			top = p.Conc
+		}
+	}
+	if math.IsInf(top, -1) || !finite(l.Slope) || !finite(l.ResidualSD) {
+		return nil
+	}
+	want := l.Intercept + l.Slope*top
+	var out []outlier
+	for i, p := range l.Data {
+		if !p.Used && p.Conc > top && p.Absorbance < want-fallMargin*l.ResidualSD {
+			out = append(out, outlier{row: rows[i], t: math.NaN(), limit: math.NaN(), n: len(l.Data),
+				falls: true, got: p.Absorbance, top: top, want: want})
+		}
+	}
+	return out
+}
+
 // relSD is the relative residual standard deviation of a calibration
 // line l: the method standard deviation s_y / slope over the mean
 // concentration of the used readings (V_x0). NaN when undefined.
@@ -196,7 +236,12 @@ func (b *builder) outlierRows() map[int]string {
 	for k, os := range b.res.outliers {
 		for _, o := range os {
 			line := b.fit[o.row].Line
-			if _, ok := drop[line]; !ok {
+			if _, ok := drop[line]; ok {
+				continue
+			}
+			if o.falls {
+				drop[line] = fmt.Sprintf("reading below the lower standards on the calibration line of %s (A %.3g at level %s, where the line reads %.3g at %s)", b.sh.Compounds[k], o.got, fmtNum(b.fit[o.row].Conc[k]), o.want, fmtNum(o.top))
+			} else {
 				drop[line] = fmt.Sprintf("outlying on the calibration line of %s (externally studentized residual %.3g, limit %.3g)", b.sh.Compounds[k], o.t, o.limit)
 			}
 		}
@@ -211,6 +256,11 @@ func (b *builder) outlierNotes(c *reference.Compound, k int) {
 	if os := b.res.outliers[k]; len(os) > 0 {
 		c.Flags = append(c.Flags, reference.FlagOutlier)
 		for _, o := range os {
+			if o.falls {
+				b.warn("%s: standard %s at level %s reads A %.3g at %g nm, below the calibration line at the lower level %s (A %.3g): absorbance does not fall as concentration rises, so this is not a bend of the line but a wrong level, dilution or scan; check its concentration and scan (--drop-outliers leaves it out and refits; --accept-outliers writes the set without it)",
+					c.Name, rowName(b.fit[o.row]), fmtNum(b.fit[o.row].Conc[k]), o.got, c.PeakNM, fmtNum(o.top), o.want)
+				continue
+			}
 			b.warn("%s: standard %s lies off the calibration line at %g nm: externally studentized residual %.3g, beyond the limit %.3g for %d readings (Bonferroni, %g %% overall); check its concentration and scan (--drop-outliers leaves it out and refits; --accept-outliers keeps it)",
 				c.Name, rowName(b.fit[o.row]), c.PeakNM, o.t, o.limit, o.n, 100*OutlierLevel)
 		}

@@ -4,7 +4,9 @@ import (
 	"encoding/json"
 	"fmt"
 	"math"
+	"math/rand/v2"
 	"os"
+	"strings"
 	"testing"
 
 	"huesolve/internal/near"
@@ -111,5 +113,65 @@ func TestStudentizedEdges(t *testing.T) {
 	}
 	if !math.IsNaN(got[4]) {
 		t.Errorf("a reading of leverage 1: t = %g, want NaN", got[4])
+	}
+}
+
+// TestBuildFallingTopStandard: a standard labelled with a new top level
+// (24) whose scan is that of a low level (it reads like 2) makes Mandel's
+// test bend the line, and the range cut then leaves it out. Absorbance
+// does not fall as concentration rises (common practice), so this is not
+// a bend: the compound must be flagged outlier (the set is refused by
+// calibrate unless --drop-outliers or --accept-outliers), not curved, and
+// the standard named; with DropOutliers it is left out from the start.
+// Invented line: 0.12 per unit at the band maximum, noise SD 0.001.
+func TestBuildFallingTopStandard(t *testing.T) {
+	grid := linGrid(450, 5, 21)
+	shape := band(grid, 500, 20, 1)
+	rng := rand.New(rand.NewPCG(5, 5))
+	var conc, scan [][]float64
+	conc = append(conc, []float64{0}, []float64{0})
+	scan = append(scan, make([]float64, len(grid)), make([]float64, len(grid)))
+	reading := func(c float64) []float64 {
+		row := make([]float64, len(grid))
+		for j := range row {
+			row[j] = shape[j]*0.12*c + 0.001*rng.NormFloat64()
+		}
+		return row
+	}
+	for _, c := range []float64{1, 2, 4, 6, 8, 10, 12} {
+		for range 2 {
+			conc = append(conc, []float64{c})
+			scan = append(scan, reading(c))
+		}
+	}
+	conc = append(conc, []float64{24})
+	scan = append(scan, reading(2))
+	for _, drop := range []bool{false, true} {
+		var notes []string
+		set, err := Build(memSheet([]string{"dye"}, grid, conc, scan), Options{Ceiling: 3, Now: fixedNow, DropOutliers: drop,
+			Warn: func(s string) { notes = append(notes, s) }})
+		if err != nil {
+			t.Fatal(err)
+		}
+		c := set.Compounds[0]
+		all := strings.Join(notes, "\n")
+		if hasFlag(c.Flags, reference.FlagCurved) || strings.Contains(all, "bends") {
+			t.Errorf("drop %v: flags %v, notes:\n%s\nwant no curvature: the top standard is wrong, the line is straight", drop, c.Flags, all)
+		}
+		if got := hasFlag(c.Flags, reference.FlagOutlier); got == drop {
+			t.Errorf("drop %v: flags %v, want outlier %v", drop, c.Flags, !drop)
+		}
+		if !drop && !strings.Contains(all, "at level 24 reads A") {
+			t.Errorf("notes do not name the falling standard:\n%s", all)
+		}
+		if drop && !strings.Contains(all, "reading below the lower standards") {
+			t.Errorf("drop: notes do not say why the standard was left out:\n%s", all)
+		}
+		if len(c.StandardsLeftOut) != 1 || c.StandardsLeftOut[0].Conc[0] != 24 {
+			t.Errorf("drop %v: standards left out %+v, want the one at 24", drop, c.StandardsLeftOut)
+		}
+		if l := c.Linearity; l.RangeHi != 12 || math.Abs(l.Slope-0.12) > 0.002 {
+			t.Errorf("drop %v: range up to %g, slope %g; want 12 and 0.12", drop, l.RangeHi, l.Slope)
+		}
 	}
 }
