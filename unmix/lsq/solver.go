@@ -3,6 +3,7 @@ package lsq
 import (
 	"math"
 	"slices"
+	"sync"
 	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas/blas64"
@@ -85,7 +86,14 @@ type factor struct {
 	r        []float64 // p×p upper-triangular R, row-major, factor order
 	rss      []float64 // nn×nn copy of R_SS
 	rinvRow2 []float64 // squared row norms of R^-1, factor order: diag((X_s'X_s)^-1)
-	pinv     []float64 // p×n pseudo-inverse D^-1 R^-1 Q' W^(1/2), original order; empty unless asked
+	rinv     []float64 // p×p R^-1, row-major, factor order
+	pinv     []float64 // p×n pseudo-inverse D^-1 R^-1 Q' W^(1/2), original order; made on first use
+	// wantPinv: the pseudo-inverse was asked for (Options.PseudoInverse);
+	// pinvDone: it is made. It is made on the first PseudoInverseRow,
+	// under pinvMu, as clones on other goroutines may ask at once.
+	wantPinv bool
+	pinvDone atomic.Bool
+	pinvMu   sync.Mutex
 	d        []float64 // column scales, original order
 	invSigma []float64 // nil when unweighted
 
@@ -96,6 +104,7 @@ type factor struct {
 	tol     float64
 	maxIter int
 	known   bool        // Sigma given and scaleSE false: the noise variance is known
+	opt     Options     // the options of the last set-up, Sigma left out (Reweight)
 	shared  atomic.Bool // cloned: Reset must not reuse this storage
 
 	// Set-up scratch, kept for Reset.
@@ -171,6 +180,41 @@ func (s *Solver) Reset(x *mat.Dense, nonneg []bool, opt Options) error {
 	return nil
 }
 
+// Reweight factors the design of the last successful NewSolver or Reset
+// again with new noise levels sigma (nil: unweighted), the other options
+// kept: what Reset with the same design does, bit for bit, without
+// copying and checking the design again. A weighted fit whose rows do
+// not change from one y to the next (only the weights do) calls it for
+// each y. Errors are Reset's for sigma; on error s has no design.
+func (s *Solver) Reweight(sigma []float64) error {
+	f := s.f
+	if f == nil {
+		return pkgerr.Errorf("lsq", "solver has no design (failed Reset): %w", errShape)
+	}
+	opt := f.opt
+	opt.Sigma = sigma
+	if f.shared.Load() {
+		g := &factor{}
+		g.n, g.p = f.n, f.p
+		g.nonneg = slices.Clone(f.nonneg)
+		g.x = slices.Clone(f.x)
+		f = g
+	}
+	s.f = nil
+	if sigma != nil && len(sigma) != f.n {
+		return pkgerr.Errorf("lsq", "%d sigma values for %d rows: %w", len(sigma), f.n, errShape)
+	}
+	if err := f.loadSigma(opt); err != nil {
+		return err
+	}
+	if err := f.factorise(opt); err != nil {
+		return err
+	}
+	s.f = f
+	s.ws.init(f)
+	return nil
+}
+
 // grow returns buf resized to n, reusing its storage if it can.
 func grow[T any](buf []T, n int) []T {
 	if cap(buf) >= n {
@@ -187,6 +231,13 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 	if err := f.load(x, nonneg, opt); err != nil {
 		return err
 	}
+	return f.factorise(opt)
+}
+
+// factorise is setup after the design and the noise levels are loaded.
+func (f *factor) factorise(opt Options) error {
+	f.opt = opt
+	f.opt.Sigma = nil
 	if err := f.scaleColumns(); err != nil {
 		return err
 	}
@@ -204,7 +255,8 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 	}
 	f.products(a)
 	f.diagnostics()
-	f.pseudoInverse(opt.PseudoInverse)
+	f.wantPinv = opt.PseudoInverse
+	f.pinvDone.Store(false)
 
 	f.tol = opt.tol
 	if f.tol == 0 {
@@ -246,6 +298,12 @@ func (f *factor) load(x *mat.Dense, nonneg []bool, opt Options) error {
 			f.x[j*n+i] = v
 		}
 	}
+	return f.loadSigma(opt)
+}
+
+// loadSigma checks opt.Sigma (sized by load) and stores its inverse.
+func (f *factor) loadSigma(opt Options) error {
+	n := f.n
 	f.invSigma = f.invSigma[:0]
 	f.known = false
 	if opt.Sigma != nil {
@@ -416,13 +474,14 @@ func (f *factor) products(a []float64) {
 	}
 }
 
-// diagnostics leaves R^-1 in f.svA and sets diag((X_s'X_s)^-1) (the
+// diagnostics leaves R^-1 in f.rinv and sets diag((X_s'X_s)^-1) (the
 // squared row norms of R^-1) and the leakage of each column.
 func (f *factor) diagnostics() {
 	p := f.p
 	f.rinvRow2 = grow(f.rinvRow2, p)
-	triInv(f.svA, f.r, p, p)
-	rowNorms2(f.rinvRow2, f.svA, p)
+	f.rinv = grow(f.rinv, p*p)
+	triInv(f.rinv, f.r, p, p)
+	rowNorms2(f.rinvRow2, f.rinv, p)
 	f.leak = grow(f.leak, p)
 	for k, j := range f.perm {
 		if k < f.nf {
@@ -441,28 +500,34 @@ func (f *factor) diagnostics() {
 	}
 }
 
-// pseudoInverse sets f.pinv, when asked (else empty), to the p×n matrix
-// P = D^-1 R^-1 Q' W^(1/2) in original column order, row-major: the
-// unconstrained (weighted) least-squares estimate is b_u = P y, so row j
-// gives coefficient j's response to each reading. It needs R^-1 in f.svA
-// (diagnostics).
-func (f *factor) pseudoInverse(want bool) {
-	n, p := f.n, f.p
-	if !want {
-		f.pinv = f.pinv[:0]
+// pseudoInverse sets f.pinv to the p×n matrix P = D^-1 R^-1 Q' W^(1/2)
+// in original column order, row-major: the unconstrained (weighted)
+// least-squares estimate is b_u = P y, so row j gives coefficient j's
+// response to each reading. It needs R^-1 in f.rinv (diagnostics). It is
+// made on first use (PseudoInverseRow): a design factored for one sample
+// and left unused (a candidate model not chosen) never pays for it.
+func (f *factor) pseudoInverse() {
+	if f.pinvDone.Load() {
 		return
 	}
+	f.pinvMu.Lock()
+	defer f.pinvMu.Unlock()
+	if f.pinvDone.Load() {
+		return
+	}
+	n, p := f.n, f.p
 	f.pinv = grow(f.pinv, p*n)
 	clear(f.pinv)
 	for k, j := range f.perm {
 		out := f.pinv[j*n : (j+1)*n]
 		for m := k; m < p; m++ {
-			if v := f.svA[k*p+m]; v != 0 {
+			if v := f.rinv[k*p+m]; v != 0 {
 				floats.AddScaled(out, v, f.qtw[m*n:(m+1)*n])
 			}
 		}
 		floats.Scale(f.invD[j], out)
 	}
+	f.pinvDone.Store(true)
 }
 
 // rankError builds the rankError of a numerically rank-deficient design
@@ -559,9 +624,10 @@ func (s *Solver) Leakage() []float64 { return slices.Clone(s.f.leak) }
 // limit). It is nil unless the Solver was made with
 // Options.PseudoInverse. The slice is a view: do not modify it.
 func (s *Solver) PseudoInverseRow(j int) []float64 {
-	if len(s.f.pinv) == 0 {
+	if !s.f.wantPinv {
 		return nil
 	}
+	s.f.pseudoInverse()
 	n := s.f.n
 	return s.f.pinv[j*n : (j+1)*n : (j+1)*n]
 }

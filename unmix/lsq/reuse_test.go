@@ -1,0 +1,150 @@
+package lsq
+
+import (
+	"errors"
+	"fmt"
+	"reflect"
+	"testing"
+)
+
+// same reports whether two Results are equal field for field, NaN
+// equal to NaN (every float printed in its shortest exact form).
+func same(a, b Result) bool { return fmt.Sprintf("%+v", a) == fmt.Sprintf("%+v", b) }
+
+// TestReweight: Reweight gives what Reset with the same design and the
+// new noise levels gives, bit for bit (the whole Result and the
+// pseudo-inverse), on a Solver of its own and on one whose factorisation
+// a clone shares (the clone keeps the old weights); it allocates nothing
+// beyond Reset's steady state; a bad sigma leaves no design.
+func TestReweight(t *testing.T) {
+	x, nonneg, ys, sigma := benchDesign(101, 4)
+	other := make([]float64, len(sigma))
+	for i := range other {
+		other[i] = sigma[len(sigma)-1-i]
+	}
+	opt := Options{Sigma: sigma, PseudoInverse: true}
+	for _, cloned := range []bool{false, true} {
+		s, err := NewSolver(x, nonneg, opt)
+		if err != nil {
+			t.Fatal(err)
+		}
+		var c *Solver
+		if cloned {
+			c = s.Clone()
+		}
+		if err := s.Reweight(other); err != nil {
+			t.Fatal(err)
+		}
+		fresh, err := NewSolver(x, nonneg, Options{Sigma: other, PseudoInverse: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var got, want Result
+		if err := s.Solve(&got, ys[1]); err != nil {
+			t.Fatal(err)
+		}
+		if err := fresh.Solve(&want, ys[1]); err != nil {
+			t.Fatal(err)
+		}
+		if !same(got, want) || s.Cond() != fresh.Cond() {
+			t.Errorf("cloned %v: Reweight differs from a new Solver:\n%+v\n%+v", cloned, got, want)
+		}
+		for j := range nonneg {
+			if !reflect.DeepEqual(s.PseudoInverseRow(j), fresh.PseudoInverseRow(j)) {
+				t.Errorf("cloned %v: pseudo-inverse row %d differs", cloned, j)
+			}
+		}
+		if cloned {
+			old, err := NewSolver(x, nonneg, opt)
+			if err != nil {
+				t.Fatal(err)
+			}
+			var a, b Result
+			if err := c.Solve(&a, ys[0]); err != nil {
+				t.Fatal(err)
+			}
+			if err := old.Solve(&b, ys[0]); err != nil {
+				t.Fatal(err)
+			}
+			if !same(a, b) {
+				t.Error("a clone changed when its origin was reweighted")
+			}
+		}
+	}
+	s, err := NewSolver(x, nonneg, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var got Result
+	opts := [][]float64{sigma, other}
+	i := 0
+	if a := testing.AllocsPerRun(50, func() {
+		if err := s.Reweight(opts[i%2]); err != nil {
+			t.Fatal(err)
+		}
+		if err := s.Solve(&got, ys[i%len(ys)]); err != nil {
+			t.Fatal(err)
+		}
+		_ = s.PseudoInverseRow(0)
+		i++
+	}); a > 2 {
+		t.Errorf("Reweight + Solve allocates %v times per run, want at most 2 (gonum's Dgesvd)", a)
+	}
+	bad := append([]float64(nil), sigma...)
+	bad[3] = 0
+	if err := s.Reweight(bad); !errors.Is(err, errNonFinite) {
+		t.Fatalf("zero sigma: %v", err)
+	}
+	if err := s.Solve(&got, ys[0]); !errors.Is(err, errShape) {
+		t.Fatalf("Solve after a failed Reweight: %v, want no design", err)
+	}
+	if err := s.Reweight(sigma); !errors.Is(err, errShape) {
+		t.Fatalf("Reweight after a failed Reweight: %v, want no design", err)
+	}
+}
+
+// TestSolveCoefFinish: SolveCoef then Finish fills the Result that Solve
+// fills, bit for bit, also when Finish runs on another Solver factored
+// from the same design on a copy (Result.CopyTo); before Finish the
+// coefficients, residual, RSS and DoF are already Solve's; Finish of a
+// complete Result changes nothing.
+func TestSolveCoefFinish(t *testing.T) {
+	x, nonneg, ys, sigma := benchDesign(101, 8)
+	for _, o := range []Options{{}, {Sigma: sigma}} {
+		s, err := NewSolver(x, nonneg, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		twin, err := NewSolver(x, nonneg, o)
+		if err != nil {
+			t.Fatal(err)
+		}
+		for k, y := range ys {
+			var want, got, cp Result
+			wantErr := s.Solve(&want, y)
+			if err := s.SolveCoef(&got, y); err != nil {
+				t.Fatal(err)
+			}
+			if !reflect.DeepEqual(got.Coef, want.Coef) || !reflect.DeepEqual(got.Residual, want.Residual) ||
+				!reflect.DeepEqual(got.AtBound, want.AtBound) || got.RSS != want.RSS || got.DoF != want.DoF {
+				t.Fatalf("y %d: SolveCoef's coefficients or residual differ from Solve's", k)
+			}
+			got.CopyTo(&cp)
+			if err := s.Finish(&got, y); !errors.Is(err, wantErr) && err != wantErr {
+				t.Fatalf("y %d: Finish error %v, Solve's %v", k, err, wantErr)
+			}
+			if !same(got, want) {
+				t.Fatalf("y %d, sigma %v: SolveCoef + Finish differs from Solve:\n%+v\n%+v", k, o.Sigma != nil, got, want)
+			}
+			if err := twin.Finish(&cp, y); !errors.Is(err, wantErr) && err != wantErr {
+				t.Fatalf("y %d: Finish of a copy: error %v, Solve's %v", k, err, wantErr)
+			}
+			if !same(cp, want) {
+				t.Fatalf("y %d: Finish of a copy on a twin Solver differs from Solve", k)
+			}
+			if err := s.Finish(&got, y); err != nil || !same(got, want) {
+				t.Fatalf("y %d: Finish of a complete Result changed it (%v)", k, err)
+			}
+		}
+	}
+}
