@@ -368,12 +368,13 @@ func (a *autoModel) extensions(i int) []int {
 // by the interpolation's noise factor) and its degrees of freedom (one
 // fewer for an applied shift).
 func (m *Model) objective(sc *scan) (rss float64, dof int) {
-	n := len(sc.d.rows)
-	for i, e := range sc.res.Residual[:n] {
-		if m.opt.Weighted {
+	if m.opt.Weighted {
+		for i, e := range sc.res.Residual[:len(sc.d.rows)] {
 			e /= sc.sig[sc.d.rows[i]]
+			rss += e * e
 		}
-		rss += e * e
+	} else {
+		rss = sc.res.RSS // the same sum, in the same order
 	}
 	dof = sc.res.DoF
 	if sc.shift != 0 {
