@@ -95,6 +95,9 @@ type autoModel struct {
 	// (solveAuto), so the shifted candidate takes it instead of solving
 	// again.
 	twin []int
+	// ext[i] lists the candidates that add one term to candidate i
+	// (extensions), made once.
+	ext [][]int
 
 	// Per sample.
 	scans []scan
@@ -279,6 +282,9 @@ func newAuto(opt Options, build func(Options) (*Model, error)) (*Model, error) {
 		a.names = append(a.names, a.keys[i].name(power))
 		a.twin = append(a.twin, a.twinOf(i))
 	}
+	for i := range a.cands {
+		a.ext = append(a.ext, a.extensions(i))
+	}
 	a.scans = make([]scan, len(a.cands))
 	a.state = make([]candState, len(a.cands))
 	b := a.cands[a.base]
@@ -329,7 +335,7 @@ func (a *autoModel) clone() *autoModel {
 	// them while they change (a data race).
 	c := &autoModel{
 		keys: a.keys, names: a.names, mimic: a.mimic, base: a.base, power: a.power,
-		terms: a.terms, shares: a.shares, twin: a.twin,
+		terms: a.terms, shares: a.shares, twin: a.twin, ext: a.ext,
 		cands: make([]*Model, len(a.cands)),
 		scans: make([]scan, len(a.cands)),
 		state: make([]candState, len(a.cands)),
@@ -409,7 +415,7 @@ func fSurvival(f, d2 float64) float64 {
 // that does not pass the level, ms is filled as screened and screen
 // returns true: the shift's iterations and refits are spared. Otherwise
 // the candidate is fitted and tested on its own RSS.
-func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore) bool {
+func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore, stat func(f, p float64) (*float64, *float64)) bool {
 	kc, ke := a.keys[cur], a.keys[e]
 	mc, me := a.cands[cur], a.cands[e]
 	if kc.shift || !ke.shift || mc.sh.lo != me.sh.lo || mc.sh.hi != me.sh.hi {
@@ -427,7 +433,8 @@ func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore) bool {
 	if p < ms.Level {
 		return false
 	}
-	ms.F, ms.P, ms.Screened = &f, &p, true
+	ms.F, ms.P = stat(f, p)
+	ms.Screened = true
 	return true
 }
 
@@ -438,7 +445,18 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	a := m.auto
 	clear(a.state)
 	a.rd.filled = false
+	// Every candidate is scored at most once (each step adds a term),
+	// so the scores and their F and p values (one backing array for the
+	// pointers) need at most len(a.cands) places.
 	scores := dst.ModelScores[:0]
+	if cap(scores) < len(a.cands) {
+		scores = make([]ModelScore, 0, len(a.cands))
+	}
+	fp := make([]float64, 0, 2*len(a.cands))
+	stat := func(f, p float64) (*float64, *float64) {
+		fp = append(fp, f, p)
+		return &fp[len(fp)-2], &fp[len(fp)-1]
+	}
 	try := func(i int) error {
 		var rd *readState
 		if a.shares[i] {
@@ -465,9 +483,9 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	chosen := 0
 	for {
 		best, bestP := -1, math.Inf(1)
-		for _, e := range a.extensions(cur) {
+		for _, e := range a.ext[cur] {
 			ms := ModelScore{Model: a.names[e], Against: a.names[cur], Level: AutoLevel}
-			if a.screen(cur, e, rss0, &ms) {
+			if a.screen(cur, e, rss0, &ms, stat) {
 				scores = append(scores, ms)
 				continue
 			}
@@ -481,7 +499,7 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 				ms.Level = AutoLevelMimic
 			}
 			fv, p := fTest(rss0, ms.RSS, ms.DoF)
-			ms.F, ms.P = &fv, &p
+			ms.F, ms.P = stat(fv, p)
 			scores = append(scores, ms)
 			if p < ms.Level && p < bestP {
 				best, bestP = e, p

@@ -109,6 +109,7 @@ type scratch struct {
 	wsig    []float64 // noise sigma on the rows of a weighted design
 	g       []float64 // shift direction on the fit rows
 	pg      []float64 // response of the coefficients to the shift direction
+	xg      []float64 // the design's prediction X P g of the shift direction
 	rows    []int
 	key     []byte
 	tainted []bool

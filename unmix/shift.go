@@ -147,6 +147,9 @@ func (m *Model) shiftStep(sc *scan, dcols [][]float64) (num, den float64) {
 	g := b.g
 	b.pg = grow(b.pg, p)
 	sc.pg = b.pg
+	if n > 0 && d.rows[n-1]-d.rows[0] == n-1 {
+		return m.shiftStepRun(sc, dcols)
+	}
 	xr := d.x.RawMatrix()
 	// g accumulated column by column: the same sums, in the same order
 	// (compound 0 first), as row by row.
@@ -173,6 +176,49 @@ func (m *Model) shiftStep(sc *scan, dcols [][]float64) (num, den float64) {
 			res /= sig[r]
 		}
 		num += mg * res
+		den += mg * mg
+	}
+	return num, den
+}
+
+// shiftStepRun is shiftStep for fit rows that are one run of window rows
+// (no point left out inside the window, the common case): the columns'
+// rows are then slices, so g and the design's prediction X P g are
+// accumulated a column at a time by gonum's vector kernels, each element
+// with the same products added in the same order as shiftStep's loops,
+// hence the same sums bit for bit.
+func (m *Model) shiftStepRun(sc *scan, dcols [][]float64) (num, den float64) {
+	sh, b := m.sh, &m.buf
+	d := sc.d
+	n := len(d.rows)
+	lo := d.rows[0]
+	g, pg := b.g[:n], sc.pg
+	clear(g)
+	for k, col := range dcols[:sh.ncomp] {
+		floats.AddScaled(g, sc.res.Coef[k], col[lo:lo+n])
+	}
+	for k := range pg {
+		pg[k] = floats.Dot(d.solver.PseudoInverseRow(k), g)
+	}
+	b.xg = grow(b.xg, n)
+	fit := b.xg
+	clear(fit)
+	for k, col := range sh.cols {
+		floats.AddScaled(fit, pg[k], col[lo:lo+n])
+	}
+	resid := sc.res.Residual[:n]
+	if m.opt.Weighted {
+		sig := sc.sig[lo : lo+n]
+		for i, f := range fit {
+			mg, res := (g[i]-f)/sig[i], resid[i]/sig[i]
+			num += mg * res
+			den += mg * mg
+		}
+		return num, den
+	}
+	for i, f := range fit {
+		mg := g[i] - f
+		num += mg * resid[i]
 		den += mg * mg
 	}
 	return num, den
