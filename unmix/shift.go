@@ -10,7 +10,16 @@ import (
 // apart from zero, and else refits unshifted; it sets sc.shift,
 // sc.shiftSE, sc.interpVar and sc.pg.
 func (m *Model) fitShift(sc *scan) error {
-	sh := m.sh
+	sh, b := m.sh, &m.buf
+	// The scan as read and fitted unshifted, kept for the case in which
+	// the shift is not told apart from zero: it is then restored rather
+	// than read and fitted again (the same values: reading and fitting
+	// are deterministic).
+	b.raw0 = append(b.raw0[:0], sc.raw...)
+	b.net0 = append(b.net0[:0], sc.net...)
+	b.blk0 = append(b.blk0[:0], sc.blk...)
+	b.y0 = append(b.y0[:0], sc.y...)
+	sc.res.CopyTo(&b.res0)
 	if err := m.estimateShift(sc); err != nil {
 		return err
 	}
@@ -24,14 +33,12 @@ func (m *Model) fitShift(sc *scan) error {
 	// Not told apart from zero: the unshifted fit stands, and the
 	// standard error says how little the data could tell.
 	sc.shift, sc.interpVar = 0, 1
-	if err := m.resample(sc, 0); err != nil {
-		return err
-	}
-	if sc.from != nil {
-		m.copyFit(sc, sc.from)
-	} else if err := m.fit(sc); err != nil {
-		return err
-	}
+	copy(sc.raw, b.raw0)
+	copy(sc.net, b.net0)
+	copy(sc.blk, b.blk0)
+	b.y = append(b.y[:0], b.y0...)
+	sc.y = b.y
+	b.res0.CopyTo(sc.res)
 	clear(sc.pg)
 	return nil
 }
