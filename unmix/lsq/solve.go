@@ -209,6 +209,7 @@ func (s *Solver) Finish(dst *Result, y []float64) error {
 	s.stats(dst, y, floats.Sum(y)/float64(n))
 
 	// KKT certificate: g = X_s' W^(1/2) (W^(1/2) r), from the original columns.
+	f.gradRows()
 	var viol float64
 	for j := range p {
 		g := floats.Dot(f.gcol[j*n:(j+1)*n], r)

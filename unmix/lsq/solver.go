@@ -82,7 +82,7 @@ type factor struct {
 
 	x        []float64 // original columns, column-major: x[j*n:(j+1)*n]
 	qtw      []float64 // p×n: row k = (column k of Q) / sigma, so z = qtw y
-	gcol     []float64 // p×n, original order: x_ij / (d_j sigma_i^2), so g = gcol r
+	gcol     []float64 // p×n, original order: x_ij / (d_j sigma_i^2), so g = gcol r; made on first use
 	r        []float64 // p×p upper-triangular R, row-major, factor order
 	rss      []float64 // nn×nn copy of R_SS
 	rinvRow2 []float64 // squared row norms of R^-1, factor order: diag((X_s'X_s)^-1)
@@ -94,6 +94,8 @@ type factor struct {
 	wantPinv bool
 	pinvDone atomic.Bool
 	pinvMu   sync.Mutex
+	gradDone atomic.Bool // gcol is made (gradRows)
+	gradMu   sync.Mutex
 	d        []float64 // column scales, original order
 	invSigma []float64 // nil when unweighted
 
@@ -381,11 +383,16 @@ func (f *factor) factorQR() []float64 {
 	f.qa = a
 	for k, j := range f.perm {
 		col := f.x[j*n : (j+1)*n]
-		for i, v := range col {
-			if f.invSigma != nil {
-				v *= f.invSigma[i]
+		dj := f.invD[j]
+		if is := f.invSigma; is != nil {
+			is = is[:len(col)]
+			for i, v := range col {
+				a[i*p+k] = v * is[i] * dj
 			}
-			a[i*p+k] = v * f.invD[j]
+		} else {
+			for i, v := range col {
+				a[i*p+k] = v * dj
+			}
 		}
 	}
 	A := blas64.General{Rows: n, Cols: p, Stride: p, Data: a}
@@ -439,7 +446,8 @@ func (f *factor) singularValues() error {
 }
 
 // products stores what each solve uses: Q' W^(1/2) by rows of Q' (from
-// the thin Q in a), the gradient rows in original order, and R_SS.
+// the thin Q in a) and R_SS. The gradient rows of the KKT certificate
+// (gradRows) are made on first use.
 func (f *factor) products(a []float64) {
 	n, p := f.n, f.p
 	f.qtw = grow(f.qtw, p*n)
@@ -452,7 +460,30 @@ func (f *factor) products(a []float64) {
 			floats.Mul(row, f.invSigma)
 		}
 	}
-	// Gradient rows in original order: g_j = sum_i x_ij r_i / (d_j sigma_i^2).
+	f.gradDone.Store(false)
+	f.rss = grow(f.rss, f.nn*f.nn)
+	for i := range f.nn {
+		for j := range f.nn {
+			f.rss[i*f.nn+j] = f.r[(f.nf+i)*p+f.nf+j]
+		}
+	}
+}
+
+// gradRows sets f.gcol, the gradient rows in original order,
+// g_j = sum_i x_ij r_i / (d_j sigma_i^2), which only Finish's KKT
+// certificate reads: made on first use, so that a design factored for
+// one sample whose fit is not kept (a candidate model not chosen) never
+// pays for it. Clones on other goroutines may ask at once (gradMu).
+func (f *factor) gradRows() {
+	if f.gradDone.Load() {
+		return
+	}
+	f.gradMu.Lock()
+	defer f.gradMu.Unlock()
+	if f.gradDone.Load() {
+		return
+	}
+	n, p := f.n, f.p
 	f.gcol = grow(f.gcol, p*n)
 	if f.invSigma != nil {
 		floats.MulTo(f.wcol, f.invSigma, f.invSigma)
@@ -466,12 +497,7 @@ func (f *factor) products(a []float64) {
 			floats.ScaleTo(g, f.invD[j], f.x[j*n:(j+1)*n])
 		}
 	}
-	f.rss = grow(f.rss, f.nn*f.nn)
-	for i := range f.nn {
-		for j := range f.nn {
-			f.rss[i*f.nn+j] = f.r[(f.nf+i)*p+f.nf+j]
-		}
-	}
+	f.gradDone.Store(true)
 }
 
 // diagnostics leaves R^-1 in f.rinv and sets diag((X_s'X_s)^-1) (the
