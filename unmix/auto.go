@@ -119,25 +119,42 @@ type readState struct {
 	gridOK                  []float64
 }
 
-// save copies the scan as m read it into rd.
+// save keeps the scan as m read it in rd: views of m's storage when m
+// estimates no shift (nothing then writes that storage again before
+// the next scan), else copies (a shifted fit reads the scan again at
+// other shifts into the same storage).
 func (rd *readState) save(m *Model, sc *scan) {
-	rd.abs = append(rd.abs[:0], m.buf.abs...)
-	rd.raw = append(rd.raw[:0], sc.raw...)
-	rd.net = append(rd.net[:0], sc.net...)
-	rd.blk = append(rd.blk[:0], sc.blk...)
-	rd.sig = append(rd.sig[:0], sc.sig...)
-	rd.rows = append(rd.rows[:0], sc.rows...)
-	rd.key = append(rd.key[:0], sc.key...)
+	if !m.opt.Shift {
+		rd.abs, rd.raw, rd.net, rd.blk, rd.sig = m.buf.abs, sc.raw, sc.net, sc.blk, sc.sig
+		rd.rows, rd.key = sc.rows, sc.key
+	} else {
+		rd.abs = append(rd.abs[:0], m.buf.abs...)
+		rd.raw = append(rd.raw[:0], sc.raw...)
+		rd.net = append(rd.net[:0], sc.net...)
+		rd.blk = append(rd.blk[:0], sc.blk...)
+		rd.sig = append(rd.sig[:0], sc.sig...)
+		rd.rows = append(rd.rows[:0], sc.rows...)
+		rd.key = append(rd.key[:0], sc.key...)
+	}
 	rd.dropped, rd.darkPts, rd.darkNM = sc.dropped, sc.darkPts, sc.darkNM
 	rd.gridOK = m.buf.gridOK
 	rd.filled = true
 }
 
-// restore gives m the scan as read in rd, in m's own storage (a shifted
-// fit reads it again at other shifts): what read and noise would have
-// given.
+// restore gives m the scan as read in rd: what read and noise would have
+// given. A model without a shift only reads it, so it takes views of rd;
+// one with a shift reads the scan again at other shifts, so it takes a
+// copy in its own storage.
 func (rd *readState) restore(m *Model, sc *scan) {
 	b := &m.buf
+	if rd.gridOK != nil {
+		b.gridOK = rd.gridOK
+	}
+	sc.dropped, sc.darkPts, sc.darkNM = rd.dropped, rd.darkPts, rd.darkNM
+	if !m.opt.Shift {
+		sc.raw, sc.net, sc.blk, sc.sig, sc.rows, sc.key = rd.raw, rd.net, rd.blk, rd.sig, rd.rows, rd.key
+		return
+	}
 	b.abs = append(b.abs[:0], rd.abs...)
 	b.raw = append(b.raw[:0], rd.raw...)
 	b.net = append(b.net[:0], rd.net...)
@@ -145,11 +162,7 @@ func (rd *readState) restore(m *Model, sc *scan) {
 	b.sig = append(b.sig[:0], rd.sig...)
 	b.rows = append(b.rows[:0], rd.rows...)
 	b.key = append(b.key[:0], rd.key...)
-	if rd.gridOK != nil {
-		b.gridOK = rd.gridOK
-	}
 	sc.raw, sc.net, sc.blk, sc.sig, sc.rows, sc.key = b.raw, b.net, b.blk, b.sig, b.rows, b.key
-	sc.dropped, sc.darkPts, sc.darkNM = rd.dropped, rd.darkPts, rd.darkNM
 }
 
 // twinOf returns the candidate that is candidate i without its shift and
