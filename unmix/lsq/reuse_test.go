@@ -4,6 +4,7 @@ import (
 	"errors"
 	"fmt"
 	"reflect"
+	"sync"
 	"testing"
 )
 
@@ -147,4 +148,44 @@ func TestSolveCoefFinish(t *testing.T) {
 			}
 		}
 	}
+}
+
+// TestLazyConcurrent: clones on several goroutines that ask at once for
+// what is made on first use (the pseudo-inverse, the KKT gradient rows
+// of Finish) all get what a Solver that made them at once gives (run
+// with -race, the CI race pass, to check the locking).
+func TestLazyConcurrent(t *testing.T) {
+	x, nonneg, ys, sigma := benchDesign(20001, 1)
+	opt := Options{Sigma: sigma, PseudoInverse: true}
+	ref, err := NewSolver(x, nonneg, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var want Result
+	if err := ref.Solve(&want, ys[0]); err != nil {
+		t.Fatal(err)
+	}
+	wantRow := ref.PseudoInverseRow(2)
+	s, err := NewSolver(x, nonneg, opt)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var wg sync.WaitGroup
+	start := make(chan struct{})
+	for range 8 {
+		c := s.Clone()
+		wg.Go(func() {
+			<-start
+			var got Result
+			if err := c.Solve(&got, ys[0]); err != nil {
+				t.Error(err)
+				return
+			}
+			if !same(got, want) || !reflect.DeepEqual(c.PseudoInverseRow(2), wantRow) {
+				t.Error("a clone's lazily made products differ")
+			}
+		})
+	}
+	close(start)
+	wg.Wait()
 }
