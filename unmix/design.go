@@ -249,10 +249,12 @@ func (sh *shared) setDesign(d *design, sigma []float64) error {
 
 // reweight factors d, which holds the design on its rows (d.ready), again
 // with new noise levels sigma: setDesign on the same rows, without
-// building and checking the matrix again (lsq.Solver.Reweight).
-func (sh *shared) reweight(d *design, sigma []float64) error {
+// building and checking the matrix again (lsq.Solver.Reweight). src, if
+// not nil, is a solver that may hold the same design with a column more,
+// factored with sigma: its QR is then taken (lsq.Solver.ReweightFrom).
+func (sh *shared) reweight(d *design, sigma []float64, src *lsq.Solver) error {
 	d.ready = false
-	if err := d.solver.Reweight(sigma); err != nil {
+	if _, err := d.solver.ReweightFrom(src, sigma); err != nil {
 		d.solver = nil
 		if errors.Is(err, lsq.ErrRankDeficient) {
 			return fmt.Errorf("%w (%s)", errRank, err)

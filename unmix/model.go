@@ -88,6 +88,11 @@ type Model struct {
 	// wd is the clone's design for weighted fits, refactorised for each
 	// sample in its storage (weightedDesign).
 	wd *design
+	// wfrom, for a candidate of the automatic model in a weighted fit,
+	// is the candidate whose design extends this one's by a last column:
+	// its weighted design, factored for the same scan, gives this one's
+	// factorisation (autoModel.pre, weightedDesign).
+	wfrom *Model
 	// auto, with Options.Auto, holds the candidate models the sample's
 	// nuisance model is chosen from (auto.go); the model's own design is
 	// then the floor's.

@@ -367,7 +367,11 @@ func (m *Model) weightedDesign(sc *scan) (*design, error) {
 	}
 	if d.ready && slices.Equal(d.rows, sc.rows) {
 		// The same rows as the sample before: only the weights change.
-		return d, m.sh.reweight(d, b.wsig)
+		var src *lsq.Solver
+		if w := m.wfrom; w != nil && w.wd != nil && w.wd.ready {
+			src = w.wd.solver
+		}
+		return d, m.sh.reweight(d, b.wsig, src)
 	}
 	d.rows = append(d.rows[:0], sc.rows...)
 	if err := m.sh.setDesign(d, b.wsig); err != nil {

@@ -3,9 +3,13 @@ package lsq
 import (
 	"errors"
 	"fmt"
+	"math"
 	"reflect"
+	"slices"
 	"sync"
 	"testing"
+
+	"gonum.org/v1/gonum/mat"
 )
 
 // same reports whether two Results are equal field for field, NaN
@@ -188,4 +192,68 @@ func TestLazyConcurrent(t *testing.T) {
 	}
 	close(start)
 	wg.Wait()
+}
+
+// TestReweightFrom: a design whose columns are the first columns of a
+// larger one (one more non-negative column, last in factor order),
+// factored with the larger one's QR, gives what it gives on its own, bit
+// for bit; with other weights, other columns or the extra column free
+// (not last in factor order) the larger one is not used and the answer
+// is still its own.
+func TestReweightFrom(t *testing.T) {
+	x, nonneg, ys, sigma := benchDesign(151, 4)
+	n, p := x.Dims()
+	wide := mat.NewDense(n, p+1, nil)
+	for i := range n {
+		for j := range p {
+			wide.Set(i, j, x.At(i, j))
+		}
+		wide.Set(i, p, math.Exp(-float64(i)/40)) // a decaying background (invented)
+	}
+	other := make([]float64, n)
+	for i := range other {
+		other[i] = sigma[n-1-i]
+	}
+	shifted := mat.DenseCopyOf(x)
+	shifted.Set(3, 0, x.At(3, 0)*1.5)
+	for _, c := range []struct {
+		name      string
+		lastFree  bool
+		srcSigma  []float64
+		small     *mat.Dense
+		wantTaken bool
+	}{
+		{"prefix", false, sigma, x, true},
+		{"other weights", false, other, x, false},
+		{"other columns", false, sigma, shifted, false},
+		{"extra column free", true, sigma, x, false},
+	} {
+		nnWide := append(slices.Clone(nonneg), !c.lastFree)
+		big, err := NewSolver(wide, nnWide, Options{Sigma: c.srcSigma, PseudoInverse: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		s, err := NewSolver(c.small, nonneg, Options{Sigma: other, PseudoInverse: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		taken, err := s.ReweightFrom(big, sigma)
+		if err != nil || taken != c.wantTaken {
+			t.Fatalf("%s: taken %v (%v), want %v", c.name, taken, err, c.wantTaken)
+		}
+		fresh, err := NewSolver(c.small, nonneg, Options{Sigma: sigma, PseudoInverse: true})
+		if err != nil {
+			t.Fatal(err)
+		}
+		var got, want Result
+		if err := s.Solve(&got, ys[1]); err != nil {
+			t.Fatal(err)
+		}
+		if err := fresh.Solve(&want, ys[1]); err != nil {
+			t.Fatal(err)
+		}
+		if !same(got, want) || s.Cond() != fresh.Cond() || !reflect.DeepEqual(s.PseudoInverseRow(1), fresh.PseudoInverseRow(1)) {
+			t.Errorf("%s: differs from a new Solver:\n%+v\n%+v", c.name, got, want)
+		}
+	}
 }

@@ -217,6 +217,88 @@ func (s *Solver) Reweight(sigma []float64) error {
 	return nil
 }
 
+// ReweightFrom is Reweight(sigma), taking the QR factorisation from src
+// when src holds the same design with more columns after these in factor
+// order (free columns first, then the non-negative ones, each in original
+// order): the same rows, the same first columns in original order, with
+// the same signs, and the same noise levels sigma, factored last. The
+// Householder QR treats the columns one after another, so the first
+// columns' factors, R's leading block and Q's leading columns, are those
+// of the QR of the first columns alone (the reflectors of the later
+// columns never touch them, and each column's products are summed in the
+// same order whatever columns follow it); what follows, as in Reweight.
+// It reports whether src was used: when it does not match, s is
+// factored as Reweight does. Callers that fit nested models to one y (a
+// model and the same model with one more non-negative term) factor the
+// larger one and take the smaller one from it.
+func (s *Solver) ReweightFrom(src *Solver, sigma []float64) (bool, error) {
+	f := s.f
+	if src == nil || src.f == nil || f == nil || f.shared.Load() || !f.prefixOf(src.f, sigma) {
+		return false, s.Reweight(sigma)
+	}
+	opt := f.opt
+	opt.Sigma = sigma
+	s.f = nil
+	if err := f.loadSigma(opt); err != nil {
+		return true, err
+	}
+	if err := f.factoriseFrom(opt, src.f); err != nil {
+		return true, err
+	}
+	s.f = f
+	s.ws.init(f)
+	return true, nil
+}
+
+// prefixOf reports whether f's design (n×p) is the first p columns of
+// g's with the same signs, the same position in factor order, and g was
+// factored with noise levels sigma.
+func (f *factor) prefixOf(g *factor, sigma []float64) bool {
+	n, p := f.n, f.p
+	if g.n != n || g.p <= p || len(sigma) != n || len(g.invSigma) != n {
+		return false
+	}
+	for i, v := range sigma {
+		if g.invSigma[i] != 1/v {
+			return false
+		}
+	}
+	if !slices.Equal(f.x[:n*p], g.x[:n*p]) || !slices.Equal(f.nonneg, g.nonneg[:p]) {
+		return false
+	}
+	// Factor order: g's first p positions must hold columns 0..p-1 in
+	// the order f's own would (free first, then non-negative).
+	k := 0
+	for pass := range 2 {
+		for j := range p {
+			if f.nonneg[j] != (pass == 1) {
+				continue
+			}
+			if g.perm[k] != j {
+				return false
+			}
+			k++
+		}
+	}
+	return true
+}
+
+// prefixQR takes f's thin QR from src's (prefixOf): R's leading p×p
+// block into f.r and Q's leading p columns into f.qa, which it returns.
+func (f *factor) prefixQR(src *factor) []float64 {
+	n, p, q := f.n, f.p, src.p
+	f.r = grow(f.r, p*p)
+	for i := range p {
+		copy(f.r[i*p:(i+1)*p], src.r[i*q:i*q+p])
+	}
+	a := grow(f.qa, n*p)
+	f.qa = a
+	for i := range n {
+		copy(a[i*p:(i+1)*p], src.qa[i*q:i*q+p])
+	}
+	return a
+}
+
 // grow returns buf resized to n, reusing its storage if it can.
 func grow[T any](buf []T, n int) []T {
 	if cap(buf) >= n {
@@ -238,6 +320,12 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 
 // factorise is setup after the design and the noise levels are loaded.
 func (f *factor) factorise(opt Options) error {
+	return f.factoriseFrom(opt, nil)
+}
+
+// factoriseFrom is factorise, taking the QR factorisation from src when
+// src is not nil (see ReweightFrom) instead of computing it.
+func (f *factor) factoriseFrom(opt Options, src *factor) error {
 	f.opt = opt
 	f.opt.Sigma = nil
 	if err := f.scaleColumns(); err != nil {
@@ -251,7 +339,12 @@ func (f *factor) factorise(opt Options) error {
 		return &rankError{Columns: all, Cond: math.Inf(1), Rows: f.n, Cols: f.p}
 	}
 	f.order()
-	a := f.factorQR()
+	var a []float64
+	if src != nil {
+		a = f.prefixQR(src)
+	} else {
+		a = f.factorQR()
+	}
 	if err := f.singularValues(); err != nil {
 		return err
 	}
