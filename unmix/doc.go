@@ -59,8 +59,10 @@
 // so the shift's intermediate steps and the automatic model's candidates
 // not chosen skip them. The automatic model (auto.go) reads a scan
 // once for all its candidates (views of the floor's reading for those
-// without a shift), and a shifted candidate starts from its unshifted
-// twin's fit rather than solving it again; a shift not told apart from
+// without a shift), a shifted candidate starts from its unshifted
+// twin's fit rather than solving it again, and in a weighted fit the
+// floor takes its QR from the floor plus the scattering term, fitted
+// first (lsq.Solver.ReweightFrom); a shift not told apart from
 // zero restores the unshifted reading and fit kept before its
 // iterations. The results are those of fitting each candidate on its
 // own, bit for bit.
