@@ -55,6 +55,8 @@ const (
 	// broad bands of the compounds (common practice). A floor of higher
 	// degree is kept as given.
 	autoMaxDegree = 2
+	// autoScoresCap is the room made at once for a sample's scores.
+	autoScoresCap = 4
 )
 
 // candKey names one candidate model.
@@ -509,14 +511,15 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	a := m.auto
 	clear(a.state)
 	a.rd.filled = false
-	// Every candidate is scored at most once (each step adds a term),
-	// so the scores and their F and p values (one backing array for the
-	// pointers) need at most len(a.cands) places.
+	// A sample is usually scored on the floor and its three extensions:
+	// room for those at once, more when needed. The F and p values the
+	// scores point to share backing arrays (a pointer into an array
+	// that append has outgrown stays valid).
 	scores := dst.ModelScores[:0]
-	if cap(scores) < len(a.cands) {
-		scores = make([]ModelScore, 0, len(a.cands))
+	if cap(scores) == 0 {
+		scores = make([]ModelScore, 0, autoScoresCap)
 	}
-	fp := make([]float64, 0, 2*len(a.cands))
+	fp := make([]float64, 0, 2*autoScoresCap)
 	stat := func(f, p float64) (*float64, *float64) {
 		fp = append(fp, f, p)
 		return &fp[len(fp)-2], &fp[len(fp)-1]
