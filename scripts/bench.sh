@@ -9,7 +9,9 @@
 # files), then times `huesolve solve` on each with /usr/bin/time -v, next
 # to `huesolve solve --check-only` (reading and checking only) measured in
 # the same run as the reference step, and prints spectra per second and
-# peak memory. Each run is repeated REPEAT times (default 5); the fastest
+# peak memory. The wide table is solved with the default (--baseline
+# auto), a fixed --baseline offset, --weighted and --shift, and the
+# same-run ratios between them close the table. Each run is repeated REPEAT times (default 5); the fastest
 # time and the largest peak memory are shown. The machine (cores, CPU
 # model) heads the table. When Debian's python3-numpy and python3-scipy
 # are installed, scripts/peer/numpy_pipeline.py (a NumPy/SciPy yardstick,
@@ -111,8 +113,13 @@ row() {
 }
 
 row "wide table" "$wide" "$out/wide.csv"
+auto_s=$secs
+row "wide --baseline offset" "$wide" "$out/wide.csv" --baseline offset
+offset_s=$secs
 row "wide --weighted" "$wide" "$out/wide.csv" --weighted
+weighted_s=$secs
 row "wide --shift" "$wide" "$out/wide.csv" --shift
+shift_s=$secs
 for n in $files; do
 	row "folder of $n files" "$n" "$out/files-$n"
 done
@@ -144,6 +151,10 @@ MB/vals: solve's peak memory over that. Targets on 2 cores: wide table ratio <= 
 MB/vals <= 1.4 for the check; --weighted <= 2x and --shift <= 1.5x the default solve;
 folders of 20,000 files <= 0.6 s with memory flat in the number of files.
 TXT
+awk -v a="$auto_s" -v o="$offset_s" -v w="$weighted_s" -v s="$shift_s" 'BEGIN {
+	printf "same-run solve ratios: default (--baseline auto) / --baseline offset %.2f (target <= 1.5);\n", a / o
+	printf "  --weighted / default %.2f (target <= 2); --shift / default %.2f (target <= 1.5)\n", w / a, s / a
+}'
 echo
 if [ ${#peer[@]} -gt 0 ]; then
 	printf '%-22s %7s %9s %9s %8s\n' "peer (same run)" "scans" "check s" "peer s" "peer MB"

@@ -55,6 +55,8 @@ const (
 	// broad bands of the compounds (common practice). A floor of higher
 	// degree is kept as given.
 	autoMaxDegree = 2
+	// autoScoresCap is the room made at once for a sample's scores.
+	autoScoresCap = 4
 )
 
 // candKey names one candidate model.
@@ -95,10 +97,21 @@ type autoModel struct {
 	// (solveAuto), so the shifted candidate takes it instead of solving
 	// again.
 	twin []int
+	// ext[i] lists the candidates that add one term to candidate i
+	// (extensions), made once.
+	ext [][]int
+	// pre[i], in a weighted fit, is for the floor the candidate that is
+	// the floor plus the scattering term (else -1): it is always tried
+	// next, and its design extends the floor's by one column at the end
+	// of lsq's factor order, so it is fitted first and the floor's
+	// factorisation taken from its own (lsq.Solver.ReweightFrom), one QR
+	// fewer per sample.
+	pre []int
 
 	// Per sample.
 	scans []scan
 	state []candState
+	errs  []error // why a failed candidate failed
 	rd    readState
 }
 
@@ -116,25 +129,42 @@ type readState struct {
 	gridOK                  []float64
 }
 
-// save copies the scan as m read it into rd.
+// save keeps the scan as m read it in rd: views of m's storage when m
+// estimates no shift (nothing then writes that storage again before
+// the next scan), else copies (a shifted fit reads the scan again at
+// other shifts into the same storage).
 func (rd *readState) save(m *Model, sc *scan) {
-	rd.abs = append(rd.abs[:0], m.buf.abs...)
-	rd.raw = append(rd.raw[:0], sc.raw...)
-	rd.net = append(rd.net[:0], sc.net...)
-	rd.blk = append(rd.blk[:0], sc.blk...)
-	rd.sig = append(rd.sig[:0], sc.sig...)
-	rd.rows = append(rd.rows[:0], sc.rows...)
-	rd.key = append(rd.key[:0], sc.key...)
+	if !m.opt.Shift {
+		rd.abs, rd.raw, rd.net, rd.blk, rd.sig = m.buf.abs, sc.raw, sc.net, sc.blk, sc.sig
+		rd.rows, rd.key = sc.rows, sc.key
+	} else {
+		rd.abs = append(rd.abs[:0], m.buf.abs...)
+		rd.raw = append(rd.raw[:0], sc.raw...)
+		rd.net = append(rd.net[:0], sc.net...)
+		rd.blk = append(rd.blk[:0], sc.blk...)
+		rd.sig = append(rd.sig[:0], sc.sig...)
+		rd.rows = append(rd.rows[:0], sc.rows...)
+		rd.key = append(rd.key[:0], sc.key...)
+	}
 	rd.dropped, rd.darkPts, rd.darkNM = sc.dropped, sc.darkPts, sc.darkNM
 	rd.gridOK = m.buf.gridOK
 	rd.filled = true
 }
 
-// restore gives m the scan as read in rd, in m's own storage (a shifted
-// fit reads it again at other shifts): what read and noise would have
-// given.
+// restore gives m the scan as read in rd: what read and noise would have
+// given. A model without a shift only reads it, so it takes views of rd;
+// one with a shift reads the scan again at other shifts, so it takes a
+// copy in its own storage.
 func (rd *readState) restore(m *Model, sc *scan) {
 	b := &m.buf
+	if rd.gridOK != nil {
+		b.gridOK = rd.gridOK
+	}
+	sc.dropped, sc.darkPts, sc.darkNM = rd.dropped, rd.darkPts, rd.darkNM
+	if !m.opt.Shift {
+		sc.raw, sc.net, sc.blk, sc.sig, sc.rows, sc.key = rd.raw, rd.net, rd.blk, rd.sig, rd.rows, rd.key
+		return
+	}
 	b.abs = append(b.abs[:0], rd.abs...)
 	b.raw = append(b.raw[:0], rd.raw...)
 	b.net = append(b.net[:0], rd.net...)
@@ -142,11 +172,7 @@ func (rd *readState) restore(m *Model, sc *scan) {
 	b.sig = append(b.sig[:0], rd.sig...)
 	b.rows = append(b.rows[:0], rd.rows...)
 	b.key = append(b.key[:0], rd.key...)
-	if rd.gridOK != nil {
-		b.gridOK = rd.gridOK
-	}
 	sc.raw, sc.net, sc.blk, sc.sig, sc.rows, sc.key = b.raw, b.net, b.blk, b.sig, b.rows, b.key
-	sc.dropped, sc.darkPts, sc.darkNM = rd.dropped, rd.darkPts, rd.darkNM
 }
 
 // twinOf returns the candidate that is candidate i without its shift and
@@ -279,8 +305,17 @@ func newAuto(opt Options, build func(Options) (*Model, error)) (*Model, error) {
 		a.names = append(a.names, a.keys[i].name(power))
 		a.twin = append(a.twin, a.twinOf(i))
 	}
+	for i := range a.cands {
+		a.ext = append(a.ext, a.extensions(i))
+		a.pre = append(a.pre, -1)
+	}
+	if opt.Weighted {
+		a.pre[a.base] = a.extendedBy(a.base)
+	}
+	a.link()
 	a.scans = make([]scan, len(a.cands))
 	a.state = make([]candState, len(a.cands))
+	a.errs = make([]error, len(a.cands))
 	b := a.cands[a.base]
 	m := &Model{set: b.set, opt: opt, sh: b.sh, auto: a}
 	m.init(b.sh.base)
@@ -329,15 +364,52 @@ func (a *autoModel) clone() *autoModel {
 	// them while they change (a data race).
 	c := &autoModel{
 		keys: a.keys, names: a.names, mimic: a.mimic, base: a.base, power: a.power,
-		terms: a.terms, shares: a.shares, twin: a.twin,
+		terms: a.terms, shares: a.shares, twin: a.twin, ext: a.ext, pre: a.pre,
 		cands: make([]*Model, len(a.cands)),
 		scans: make([]scan, len(a.cands)),
 		state: make([]candState, len(a.cands)),
+		errs:  make([]error, len(a.cands)),
 	}
 	for i, m := range a.cands {
 		c.cands[i] = m.Clone()
 	}
+	c.link()
 	return c
+}
+
+// extendedBy returns the candidate that is candidate i plus the
+// scattering term, reading the scan alike and with i's design columns
+// first (so that its design extends i's by one column, non-negative,
+// last in lsq's factor order), or -1.
+func (a *autoModel) extendedBy(i int) int {
+	k := a.keys[i]
+	if k.scatter || !a.shares[i] {
+		return -1
+	}
+	x := a.cands[i].sh
+	for j, e := range a.keys {
+		if e.degree != k.degree || e.shift != k.shift || !e.scatter || !a.shares[j] {
+			continue
+		}
+		y := a.cands[j].sh
+		p := len(x.cols)
+		if len(y.cols) != p+1 || !y.nonneg[p] || !slices.Equal(x.nonneg, y.nonneg[:p]) ||
+			!slices.EqualFunc(x.cols, y.cols[:p], slices.Equal) || !slices.Equal(x.rows0, y.rows0) {
+			continue
+		}
+		return j
+	}
+	return -1
+}
+
+// link points each candidate with a pre to that candidate's model
+// (Model.wfrom), in these clones.
+func (a *autoModel) link() {
+	for i, j := range a.pre {
+		if j >= 0 {
+			a.cands[i].wfrom = a.cands[j]
+		}
+	}
 }
 
 // extensions returns the candidates that add one term to candidate i:
@@ -368,12 +440,13 @@ func (a *autoModel) extensions(i int) []int {
 // by the interpolation's noise factor) and its degrees of freedom (one
 // fewer for an applied shift).
 func (m *Model) objective(sc *scan) (rss float64, dof int) {
-	n := len(sc.d.rows)
-	for i, e := range sc.res.Residual[:n] {
-		if m.opt.Weighted {
+	if m.opt.Weighted {
+		for i, e := range sc.res.Residual[:len(sc.d.rows)] {
 			e /= sc.sig[sc.d.rows[i]]
+			rss += e * e
 		}
-		rss += e * e
+	} else {
+		rss = sc.res.RSS // the same sum, in the same order
 	}
 	dof = sc.res.DoF
 	if sc.shift != 0 {
@@ -408,7 +481,7 @@ func fSurvival(f, d2 float64) float64 {
 // that does not pass the level, ms is filled as screened and screen
 // returns true: the shift's iterations and refits are spared. Otherwise
 // the candidate is fitted and tested on its own RSS.
-func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore) bool {
+func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore, stat func(f, p float64) (*float64, *float64)) bool {
 	kc, ke := a.keys[cur], a.keys[e]
 	mc, me := a.cands[cur], a.cands[e]
 	if kc.shift || !ke.shift || mc.sh.lo != me.sh.lo || mc.sh.hi != me.sh.hi {
@@ -426,7 +499,8 @@ func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore) bool {
 	if p < ms.Level {
 		return false
 	}
-	ms.F, ms.P, ms.Screened = &f, &p, true
+	ms.F, ms.P = stat(f, p)
+	ms.Screened = true
 	return true
 }
 
@@ -437,8 +511,26 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	a := m.auto
 	clear(a.state)
 	a.rd.filled = false
+	// A sample is usually scored on the floor and its three extensions:
+	// room for those at once, more when needed. The F and p values the
+	// scores point to share backing arrays (a pointer into an array
+	// that append has outgrown stays valid).
 	scores := dst.ModelScores[:0]
+	if cap(scores) == 0 {
+		scores = make([]ModelScore, 0, autoScoresCap)
+	}
+	fp := make([]float64, 0, 2*autoScoresCap)
+	stat := func(f, p float64) (*float64, *float64) {
+		fp = append(fp, f, p)
+		return &fp[len(fp)-2], &fp[len(fp)-1]
+	}
 	try := func(i int) error {
+		switch a.state[i] {
+		case candFitted:
+			return nil
+		case candFailed:
+			return a.errs[i]
+		}
 		var rd *readState
 		if a.shares[i] {
 			rd = &a.rd
@@ -449,13 +541,18 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		}
 		sc, err := a.cands[i].runShared(s, f, rd, from)
 		if err != nil {
-			a.state[i] = candFailed
+			a.state[i], a.errs[i] = candFailed, err
 			return err
 		}
 		a.scans[i], a.state[i] = sc, candFitted
 		return nil
 	}
 	cur := a.base
+	if j := a.pre[cur]; j >= 0 {
+		// Fitted first for its factorisation (see pre); a failure is
+		// the floor's to find on its own, and reported when j is tried.
+		_ = try(j)
+	}
 	if err := try(cur); err != nil {
 		return err
 	}
@@ -464,9 +561,9 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	chosen := 0
 	for {
 		best, bestP := -1, math.Inf(1)
-		for _, e := range a.extensions(cur) {
+		for _, e := range a.ext[cur] {
 			ms := ModelScore{Model: a.names[e], Against: a.names[cur], Level: AutoLevel}
-			if a.screen(cur, e, rss0, &ms) {
+			if a.screen(cur, e, rss0, &ms, stat) {
 				scores = append(scores, ms)
 				continue
 			}
@@ -480,7 +577,7 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 				ms.Level = AutoLevelMimic
 			}
 			fv, p := fTest(rss0, ms.RSS, ms.DoF)
-			ms.F, ms.P = &fv, &p
+			ms.F, ms.P = stat(fv, p)
 			scores = append(scores, ms)
 			if p < ms.Level && p < bestP {
 				best, bestP = e, p

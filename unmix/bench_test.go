@@ -22,6 +22,10 @@ func BenchmarkModelSolve(b *testing.B) {
 		{"auto", Options{Auto: true}, []float64{5, 3, 2, 8}, false},
 		{"plain-unshifted", Options{}, []float64{5, 3, 2, 8}, true},
 		{"auto-unshifted", Options{Auto: true}, []float64{5, 3, 2, 8}, true},
+		// The command's default with --weighted and with --shift on
+		// samples with no shift (as the benchmark's wide table).
+		{"auto-weighted-unshifted", Options{Auto: true, Weighted: true}, []float64{5, 3, 2, 8}, true},
+		{"auto-shift-unshifted", Options{Auto: true, Shift: true}, []float64{5, 3, 2, 8}, true},
 	} {
 		b.Run(c.name, func(b *testing.B) {
 			m := mustModel(b, testSet(4), c.opt)

@@ -173,6 +173,9 @@ type design struct {
 	solver *lsq.Solver
 	cond   float64
 	leak   []float64
+	// ready: the solver holds the design on rows (setDesign succeeded
+	// and nothing failed since), so new weights need only Reweight.
+	ready bool
 }
 
 // visible returns errRank when a compound's column in x holds, to
@@ -216,6 +219,7 @@ func (sh *shared) buildDesign(rows []int, sigma []float64) (*design, error) {
 // weighted fit does for every sample (Model.weightedDesign). sigma is as
 // for buildDesign. On error d is not usable until the next success.
 func (sh *shared) setDesign(d *design, sigma []float64) error {
+	d.ready = false
 	n, p := len(d.rows), len(sh.cols)
 	if n < p+minDoF {
 		return fmt.Errorf("%d usable points for %d coefficients", n, p)
@@ -239,5 +243,25 @@ func (sh *shared) setDesign(d *design, sigma []float64) error {
 		return err
 	}
 	d.cond, d.leak = d.solver.Cond(), d.solver.Leakage()
+	d.ready = true
+	return nil
+}
+
+// reweight factors d, which holds the design on its rows (d.ready), again
+// with new noise levels sigma: setDesign on the same rows, without
+// building and checking the matrix again (lsq.Solver.Reweight). src, if
+// not nil, is a solver that may hold the same design with a column more,
+// factored with sigma: its QR is then taken (lsq.Solver.ReweightFrom).
+func (sh *shared) reweight(d *design, sigma []float64, src *lsq.Solver) error {
+	d.ready = false
+	if _, err := d.solver.ReweightFrom(src, sigma); err != nil {
+		d.solver = nil
+		if errors.Is(err, lsq.ErrRankDeficient) {
+			return fmt.Errorf("%w (%s)", errRank, err)
+		}
+		return err
+	}
+	d.cond, d.leak = d.solver.Cond(), d.solver.Leakage()
+	d.ready = true
 	return nil
 }

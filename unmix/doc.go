@@ -52,10 +52,20 @@
 // sample's own absorbance, so it factors its own design for every sample
 // (one thin QR factorisation of n x p, about the cost of the solve
 // itself for p = 5), in one design per model clone whose storage it
-// reuses (lsq.Solver.Reset). The automatic model (auto.go) reads a scan
-// once for all its candidates, and a shifted candidate starts from its
-// unshifted twin's fit rather than solving it again; the results are
-// those of fitting each candidate on its own, bit for bit.
+// reuses (lsq.Solver.Reset), and whose matrix it keeps while the rows
+// do not change (lsq.Solver.Reweight). A fit is first solved for its
+// coefficients and residual (lsq.Solver.SolveCoef); its statistics and
+// standard errors are made only when it fills a Result (Model.finish),
+// so the shift's intermediate steps and the automatic model's candidates
+// not chosen skip them. The automatic model (auto.go) reads a scan
+// once for all its candidates (views of the floor's reading for those
+// without a shift), a shifted candidate starts from its unshifted
+// twin's fit rather than solving it again, and in a weighted fit the
+// floor takes its QR from the floor plus the scattering term, fitted
+// first (lsq.Solver.ReweightFrom); a shift not told apart from
+// zero restores the unshifted reading and fit kept before its
+// iterations. The results are those of fitting each candidate on its
+// own, bit for bit.
 //
 // # Where things live
 //

@@ -43,6 +43,7 @@ func (m *Model) figures(sc *scan) fitFigures {
 
 // fill turns the scan's solve into dst.
 func (m *Model) fill(dst *Result, sc *scan) {
+	m.finish(sc)
 	sh, res := m.sh, sc.res
 	f := m.figures(sc)
 	*dst = Result{

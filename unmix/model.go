@@ -88,6 +88,11 @@ type Model struct {
 	// wd is the clone's design for weighted fits, refactorised for each
 	// sample in its storage (weightedDesign).
 	wd *design
+	// wfrom, for a candidate of the automatic model in a weighted fit,
+	// is the candidate whose design extends this one's by a last column:
+	// its weighted design, factored for the same scan, gives this one's
+	// factorisation (autoModel.pre, weightedDesign).
+	wfrom *Model
 	// auto, with Options.Auto, holds the candidate models the sample's
 	// nuisance model is chosen from (auto.go); the model's own design is
 	// then the floor's.
@@ -99,21 +104,25 @@ type Model struct {
 // from one step to the next: SolveTo hands each step a scan value whose
 // slices are views of this storage.
 type scratch struct {
-	abs     []float64 // sample absorbance on its own grid
-	raw     []float64 // raw absorbance on the work grid
-	net     []float64 // blank-corrected, pre-treated
-	blk     []float64 // blank on the work grid
-	y       []float64 // fit rows
-	sig     []float64 // noise sigma on the window
-	sr      []float64 // noise sigma on the fit rows
-	wsig    []float64 // noise sigma on the rows of a weighted design
-	g       []float64 // shift direction on the fit rows
-	pg      []float64 // response of the coefficients to the shift direction
-	rows    []int
-	key     []byte
-	tainted []bool
-	res     lsq.Result
-	gridOK  []float64 // last sample grid found equal to the set grid
+	abs  []float64 // sample absorbance on its own grid
+	raw  []float64 // raw absorbance on the work grid
+	net  []float64 // blank-corrected, pre-treated
+	blk  []float64 // blank on the work grid
+	y    []float64 // fit rows
+	sig  []float64 // noise sigma on the window
+	sr   []float64 // noise sigma on the fit rows
+	wsig []float64 // noise sigma on the rows of a weighted design
+	g    []float64 // shift direction on the fit rows
+	pg   []float64 // response of the coefficients to the shift direction
+	xg   []float64 // the design's prediction X P g of the shift direction
+	// The unshifted reading and fit of a shifted model's scan (fitShift).
+	raw0, net0, blk0, y0 []float64
+	res0                 lsq.Result
+	rows                 []int
+	key                  []byte
+	tainted              []bool
+	res                  lsq.Result
+	gridOK               []float64 // last sample grid found equal to the set grid
 }
 
 // NewModel checks the options against the set and builds the design. It

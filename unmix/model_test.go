@@ -2,6 +2,7 @@ package unmix
 
 import (
 	"errors"
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"reflect"
@@ -671,4 +672,46 @@ func TestGaps(t *testing.T) {
 			t.Errorf("gap %d = %+v, want %+v", i, got[i], want[i])
 		}
 	}
+}
+
+// TestWeightedReuse: a weighted model that refactorises only the weights
+// when a sample keeps the rows of the one before (lsq.Solver.Reweight)
+// gives each sample what a new model gives it, bit for bit, through
+// changing masks and a sample refused in between.
+func TestWeightedReuse(t *testing.T) {
+	for _, opt := range []Options{{Weighted: true}, {Weighted: true, Auto: true}} {
+		m := mustModel(t, testSet(4), opt)
+		var r Result
+		for i, c := range []float64{8, 8, 32, 32, 8, 400, 32, 8, 8} {
+			s := mixture{conc: []float64{5, 3, 2, c}, offset: 0.01, noise: testNoise, seed: uint64(i)}.spectrum()
+			err := m.SolveTo(&r, s, Factors{})
+			want, wantErr := mustModel(t, testSet(4), opt).Solve(s, Factors{})
+			if (err != nil) != (wantErr != nil) {
+				t.Fatalf("auto %v, sample %d: error %v, a new model's %v", opt.Auto, i, err, wantErr)
+			}
+			if err != nil {
+				continue
+			}
+			if fmt.Sprintf("%+v", scoresDeref(r)) != fmt.Sprintf("%+v", scoresDeref(*want)) {
+				t.Fatalf("auto %v, sample %d: result differs from a new model's:\n%+v\n%+v", opt.Auto, i, r, *want)
+			}
+		}
+	}
+}
+
+// scoresDeref returns r's fields as text with the model scores' F and P
+// given by value, so that two results compare by what they hold.
+func scoresDeref(r Result) string {
+	sc := r.ModelScores
+	r.ModelScores = nil
+	s := fmt.Sprintf("%+v", r)
+	for _, m := range sc {
+		f, p := math.NaN(), math.NaN()
+		if m.F != nil {
+			f, p = *m.F, *m.P
+		}
+		m.F, m.P = nil, nil
+		s += fmt.Sprintf(" %+v f=%v p=%v", m, f, p)
+	}
+	return s
 }

@@ -10,7 +10,16 @@ import (
 // apart from zero, and else refits unshifted; it sets sc.shift,
 // sc.shiftSE, sc.interpVar and sc.pg.
 func (m *Model) fitShift(sc *scan) error {
-	sh := m.sh
+	sh, b := m.sh, &m.buf
+	// The scan as read and fitted unshifted, kept for the case in which
+	// the shift is not told apart from zero: it is then restored rather
+	// than read and fitted again (the same values: reading and fitting
+	// are deterministic).
+	b.raw0 = append(b.raw0[:0], sc.raw...)
+	b.net0 = append(b.net0[:0], sc.net...)
+	b.blk0 = append(b.blk0[:0], sc.blk...)
+	b.y0 = append(b.y0[:0], sc.y...)
+	sc.res.CopyTo(&b.res0)
 	if err := m.estimateShift(sc); err != nil {
 		return err
 	}
@@ -24,14 +33,12 @@ func (m *Model) fitShift(sc *scan) error {
 	// Not told apart from zero: the unshifted fit stands, and the
 	// standard error says how little the data could tell.
 	sc.shift, sc.interpVar = 0, 1
-	if err := m.resample(sc, 0); err != nil {
-		return err
-	}
-	if sc.from != nil {
-		m.copyFit(sc, sc.from)
-	} else if err := m.fit(sc); err != nil {
-		return err
-	}
+	copy(sc.raw, b.raw0)
+	copy(sc.net, b.net0)
+	copy(sc.blk, b.blk0)
+	b.y = append(b.y[:0], b.y0...)
+	sc.y = b.y
+	b.res0.CopyTo(sc.res)
 	clear(sc.pg)
 	return nil
 }
@@ -147,6 +154,9 @@ func (m *Model) shiftStep(sc *scan, dcols [][]float64) (num, den float64) {
 	g := b.g
 	b.pg = grow(b.pg, p)
 	sc.pg = b.pg
+	if n > 0 && d.rows[n-1]-d.rows[0] == n-1 {
+		return m.shiftStepRun(sc, dcols)
+	}
 	xr := d.x.RawMatrix()
 	// g accumulated column by column: the same sums, in the same order
 	// (compound 0 first), as row by row.
@@ -173,6 +183,49 @@ func (m *Model) shiftStep(sc *scan, dcols [][]float64) (num, den float64) {
 			res /= sig[r]
 		}
 		num += mg * res
+		den += mg * mg
+	}
+	return num, den
+}
+
+// shiftStepRun is shiftStep for fit rows that are one run of window rows
+// (no point left out inside the window, the common case): the columns'
+// rows are then slices, so g and the design's prediction X P g are
+// accumulated a column at a time by gonum's vector kernels, each element
+// with the same products added in the same order as shiftStep's loops,
+// hence the same sums bit for bit.
+func (m *Model) shiftStepRun(sc *scan, dcols [][]float64) (num, den float64) {
+	sh, b := m.sh, &m.buf
+	d := sc.d
+	n := len(d.rows)
+	lo := d.rows[0]
+	g, pg := b.g[:n], sc.pg
+	clear(g)
+	for k, col := range dcols[:sh.ncomp] {
+		floats.AddScaled(g, sc.res.Coef[k], col[lo:lo+n])
+	}
+	for k := range pg {
+		pg[k] = floats.Dot(d.solver.PseudoInverseRow(k), g)
+	}
+	b.xg = grow(b.xg, n)
+	fit := b.xg
+	clear(fit)
+	for k, col := range sh.cols {
+		floats.AddScaled(fit, pg[k], col[lo:lo+n])
+	}
+	resid := sc.res.Residual[:n]
+	if m.opt.Weighted {
+		sig := sc.sig[lo : lo+n]
+		for i, f := range fit {
+			mg, res := (g[i]-f)/sig[i], resid[i]/sig[i]
+			num += mg * res
+			den += mg * mg
+		}
+		return num, den
+	}
+	for i, f := range fit {
+		mg := g[i] - f
+		num += mg * resid[i]
 		den += mg * mg
 	}
 	return num, den

@@ -361,11 +361,19 @@ func (m *Model) weightedDesign(sc *scan) (*design, error) {
 		m.wd = &design{}
 	}
 	d, b := m.wd, &m.buf
-	d.rows = append(d.rows[:0], sc.rows...)
 	b.wsig = grow(b.wsig, len(sc.rows))
 	for i, r := range sc.rows {
 		b.wsig[i] = sc.sig[r]
 	}
+	if d.ready && slices.Equal(d.rows, sc.rows) {
+		// The same rows as the sample before: only the weights change.
+		var src *lsq.Solver
+		if w := m.wfrom; w != nil && w.wd != nil && w.wd.ready {
+			src = w.wd.solver
+		}
+		return d, m.sh.reweight(d, b.wsig, src)
+	}
+	d.rows = append(d.rows[:0], sc.rows...)
 	if err := m.sh.setDesign(d, b.wsig); err != nil {
 		return nil, err
 	}
@@ -447,8 +455,9 @@ func (m *Model) sameGrid(wl []float64) bool {
 }
 
 // fit solves the scan's current net absorbance on its design into
-// sc.res (sc.y the fitted rows) and sets sc.noConv when the iteration
-// cap was hit.
+// sc.res (sc.y the fitted rows): the coefficients, residual and its sum of
+// squares (lsq.Solver.SolveCoef), all that the shift's steps and the
+// automatic model's tests read; fill completes the fit it keeps (finish).
 func (m *Model) fit(sc *scan) error {
 	b := &m.buf
 	off := m.sh.lo - m.sh.wlo
@@ -457,12 +466,15 @@ func (m *Model) fit(sc *scan) error {
 	for i, r := range sc.d.rows {
 		sc.y[i] = sc.net[off+r]
 	}
-	err := sc.d.solver.Solve(sc.res, sc.y)
+	return sc.d.solver.SolveCoef(sc.res, sc.y)
+}
+
+// finish completes the scan's fit (lsq.Solver.Finish: statistics,
+// standard errors, the KKT certificate) and sets sc.noConv when the
+// iteration cap was hit or the certificate failed.
+func (m *Model) finish(sc *scan) {
+	err := sc.d.solver.Finish(sc.res, sc.y)
 	sc.noConv = errors.Is(err, lsq.ErrNoConvergence) || errors.Is(err, lsq.ErrInaccurate)
-	if sc.noConv {
-		return nil
-	}
-	return err
 }
 
 // copyFit gives sc the fit of from, made on the same design and rows
@@ -472,7 +484,6 @@ func (m *Model) copyFit(sc *scan, from *scan) {
 	b.y = append(b.y[:0], from.y...)
 	sc.y, sc.res = b.y, &b.res
 	from.res.CopyTo(sc.res)
-	sc.noConv = from.noConv
 }
 
 // darkNeeded reports whether scan point i (wavelengths wl) lies in or

@@ -105,6 +105,13 @@ type Result struct {
 	// at zero they say how far below zero the data would put it. They
 	// equal Coef and SE when nothing is at the bound.
 	Unconstrained, unconstrainedSE []float64
+
+	// What Finish needs from SolveCoef: z = Q' W^(1/2) y and the scaled
+	// coefficients in factor order, whether the iteration cap was hit,
+	// and whether the Result still waits for Finish.
+	z, bs   []float64
+	capped  bool
+	partial bool
 }
 
 // Errors.

@@ -87,7 +87,14 @@
 // set and standard errors. Weights that change from one y to the next
 // (Options.Sigma) are part of the factorisation, so they need a new
 // factorisation per y: O(n p^2) per spectrum instead of O(n p), with
-// [Solver.reset] reusing the storage of one Solver.
+// [Solver.Reset] reusing the storage of one Solver, and [Solver.Reweight]
+// also the design it holds (only the weights change). A caller that
+// compares many fits of one y by their residual sums and keeps few of
+// them calls [Solver.SolveCoef] (coefficients, residual, RSS) and
+// [Solver.Finish] for the fits it keeps only (statistics, standard
+// errors, KKT certificate); Solve is the two in turn, so either way gives
+// the same bits. The pseudo-inverse and the KKT gradient rows are made on
+// first use.
 //
 // # Conditioning
 //

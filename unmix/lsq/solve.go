@@ -40,6 +40,8 @@ func (r *Result) size(n, p int) {
 	r.Unconstrained = grow(r.Unconstrained, p)
 	r.unconstrainedSE = grow(r.unconstrainedSE, p)
 	r.AtBound = grow(r.AtBound, p)
+	r.z = grow(r.z, p)
+	r.bs = grow(r.bs, p)
 }
 
 // CopyTo makes dst a copy of r, reusing dst's storage: a fit known to
@@ -56,6 +58,8 @@ func (r *Result) CopyTo(dst *Result) {
 	dst.Residual = append(keep.Residual[:0], r.Residual...)
 	dst.Unconstrained = append(keep.Unconstrained[:0], r.Unconstrained...)
 	dst.unconstrainedSE = append(keep.unconstrainedSE[:0], r.unconstrainedSE...)
+	dst.z = append(keep.z[:0], r.z...)
+	dst.bs = append(keep.bs[:0], r.bs...)
 }
 
 // Solve fits y and fills dst. It returns ErrNoConvergence (with dst
@@ -68,7 +72,22 @@ func (r *Result) CopyTo(dst *Result) {
 // or an infinity (dst is then not filled).
 //
 // With a Result reused from an earlier call, Solve allocates nothing.
+// Solve is SolveCoef followed by Finish.
 func (s *Solver) Solve(dst *Result, y []float64) error {
+	if err := s.SolveCoef(dst, y); err != nil {
+		return err
+	}
+	return s.Finish(dst, y)
+}
+
+// SolveCoef is the first part of Solve: it fills the coefficients, which
+// are at the bound, the residual, RSS and DoF of dst, and nothing else
+// yet, for a caller that compares many fits of one y by their residual
+// sums and keeps only some (Finish completes the ones kept, bit for bit
+// as Solve would have filled them). Its errors are Solve's for the input
+// (errShape, errNonFinite); the iteration cap and the KKT certificate
+// are reported by Finish.
+func (s *Solver) SolveCoef(dst *Result, y []float64) error {
 	f, ws := s.f, &s.ws
 	if f == nil {
 		return pkgerr.Errorf("lsq", "solver has no design (failed Reset): %w", errShape)
@@ -89,7 +108,7 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 	dst.size(n, p)
 
 	// z = Q' W^(1/2) y.
-	z := ws.z
+	z := dst.z
 	for k := range p {
 		z[k] = floats.Dot(f.qtw[k*n:(k+1)*n], y)
 	}
@@ -100,7 +119,7 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 
 	// Scaled coefficients in factor order: c from the active set, beta by
 	// back-substitution R_BB beta = z_B - R_BS c.
-	bs := ws.bs
+	bs := dst.bs
 	copy(bs[nf:], ws.x)
 	for i := nf - 1; i >= 0; i-- {
 		sum := z[i]
@@ -109,16 +128,15 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 		}
 		bs[i] = sum / f.r[i*p+i]
 	}
-	passive := ws.aidx[:0]
+	free := 0
 	for k, j := range f.perm {
 		dst.Coef[j] = bs[k] / f.d[j]
 		at := k >= nf && bs[k] == 0
 		dst.AtBound[j] = at
 		if !at {
-			passive = append(passive, k)
+			free++
 		}
 	}
-	ws.aidx = passive
 
 	// Residual from the original data.
 	r := dst.Residual
@@ -136,15 +154,62 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 	if first {
 		copy(r, y)
 	}
-
-	// Residual statistics.
-	s.stats(dst, y, sumY/float64(n))
-	if math.IsInf(ws.ywss, 0) {
+	// The sums of squares as stats makes them (the same order).
+	var rss, yw float64
+	if f.invSigma == nil {
+		for i, e := range r {
+			rss += e * e
+			yw += y[i] * y[i]
+		}
+	} else {
+		is := f.invSigma[:n]
+		for i, e := range r {
+			rss += e * e
+			v := y[i] * is[i]
+			yw += v * v
+		}
+	}
+	if math.IsInf(yw, 0) {
 		return pkgerr.Errorf("lsq", "sum of squares of y overflows: %w", errNonFinite)
 	}
-	dst.DoF = n - len(passive)
+	dst.RSS = rss
+	dst.DoF = n - free
+	dst.iterations = iter
+	dst.capped = capped
+	dst.partial = true
+	return nil
+}
+
+// Finish completes a Result that SolveCoef filled for the same y with this
+// Solver's design (or a Solver factored from the same design and
+// weights, as a copy made by Result.CopyTo may come from): the residual
+// statistics, the KKT certificate, the standard errors and intervals and
+// the unconstrained estimate, and the error Solve returns for the
+// iteration cap or the certificate. A Result that is already complete is
+// left as it is (nil error).
+func (s *Solver) Finish(dst *Result, y []float64) error {
+	if !dst.partial {
+		return nil
+	}
+	dst.partial = false
+	f, ws := s.f, &s.ws
+	n, p := f.n, f.p
+	copy(ws.z, dst.z)
+	copy(ws.bs, dst.bs)
+	passive := ws.aidx[:0]
+	for k, j := range f.perm {
+		if !dst.AtBound[j] {
+			passive = append(passive, k)
+		}
+	}
+	ws.aidx = passive
+	r := dst.Residual
+
+	// Residual statistics.
+	s.stats(dst, y, floats.Sum(y)/float64(n))
 
 	// KKT certificate: g = X_s' W^(1/2) (W^(1/2) r), from the original columns.
+	f.gradRows()
 	var viol float64
 	for j := range p {
 		g := floats.Dot(f.gcol[j*n:(j+1)*n], r)
@@ -159,15 +224,14 @@ func (s *Solver) Solve(dst *Result, y []float64) error {
 	if den := f.normXs * math.Sqrt(ws.ywss); den > 0 {
 		dst.KKT = viol / den
 	}
-	dst.iterations = iter
 
 	s.uncertainty(dst)
 	s.unconstrained(dst)
 
 	switch {
-	case capped:
+	case dst.capped:
 		dst.Status = IterLimit
-		return pkgerr.Errorf("lsq", "%d iterations: %w", iter, ErrNoConvergence)
+		return pkgerr.Errorf("lsq", "%d iterations: %w", dst.iterations, ErrNoConvergence)
 	case !(dst.KKT <= KKTTol):
 		dst.Status = Inaccurate
 		return pkgerr.Errorf("lsq", "relative KKT residual %.3g exceeds %.3g: %w", dst.KKT, KKTTol, ErrInaccurate)

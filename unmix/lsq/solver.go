@@ -3,6 +3,7 @@ package lsq
 import (
 	"math"
 	"slices"
+	"sync"
 	"sync/atomic"
 
 	"gonum.org/v1/gonum/blas/blas64"
@@ -81,11 +82,20 @@ type factor struct {
 
 	x        []float64 // original columns, column-major: x[j*n:(j+1)*n]
 	qtw      []float64 // p×n: row k = (column k of Q) / sigma, so z = qtw y
-	gcol     []float64 // p×n, original order: x_ij / (d_j sigma_i^2), so g = gcol r
+	gcol     []float64 // p×n, original order: x_ij / (d_j sigma_i^2), so g = gcol r; made on first use
 	r        []float64 // p×p upper-triangular R, row-major, factor order
 	rss      []float64 // nn×nn copy of R_SS
 	rinvRow2 []float64 // squared row norms of R^-1, factor order: diag((X_s'X_s)^-1)
-	pinv     []float64 // p×n pseudo-inverse D^-1 R^-1 Q' W^(1/2), original order; empty unless asked
+	rinv     []float64 // p×p R^-1, row-major, factor order
+	pinv     []float64 // p×n pseudo-inverse D^-1 R^-1 Q' W^(1/2), original order; made on first use
+	// wantPinv: the pseudo-inverse was asked for (Options.PseudoInverse);
+	// pinvDone: it is made. It is made on the first PseudoInverseRow,
+	// under pinvMu, as clones on other goroutines may ask at once.
+	wantPinv bool
+	pinvDone atomic.Bool
+	pinvMu   sync.Mutex
+	gradDone atomic.Bool // gcol is made (gradRows)
+	gradMu   sync.Mutex
 	d        []float64 // column scales, original order
 	invSigma []float64 // nil when unweighted
 
@@ -96,6 +106,7 @@ type factor struct {
 	tol     float64
 	maxIter int
 	known   bool        // Sigma given and scaleSE false: the noise variance is known
+	opt     Options     // the options of the last set-up, Sigma left out (Reweight)
 	shared  atomic.Bool // cloned: Reset must not reuse this storage
 
 	// Set-up scratch, kept for Reset.
@@ -171,6 +182,123 @@ func (s *Solver) Reset(x *mat.Dense, nonneg []bool, opt Options) error {
 	return nil
 }
 
+// Reweight factors the design of the last successful NewSolver or Reset
+// again with new noise levels sigma (nil: unweighted), the other options
+// kept: what Reset with the same design does, bit for bit, without
+// copying and checking the design again. A weighted fit whose rows do
+// not change from one y to the next (only the weights do) calls it for
+// each y. Errors are Reset's for sigma; on error s has no design.
+func (s *Solver) Reweight(sigma []float64) error {
+	f := s.f
+	if f == nil {
+		return pkgerr.Errorf("lsq", "solver has no design (failed Reset): %w", errShape)
+	}
+	opt := f.opt
+	opt.Sigma = sigma
+	if f.shared.Load() {
+		g := &factor{}
+		g.n, g.p = f.n, f.p
+		g.nonneg = slices.Clone(f.nonneg)
+		g.x = slices.Clone(f.x)
+		f = g
+	}
+	s.f = nil
+	if sigma != nil && len(sigma) != f.n {
+		return pkgerr.Errorf("lsq", "%d sigma values for %d rows: %w", len(sigma), f.n, errShape)
+	}
+	if err := f.loadSigma(opt); err != nil {
+		return err
+	}
+	if err := f.factorise(opt); err != nil {
+		return err
+	}
+	s.f = f
+	s.ws.init(f)
+	return nil
+}
+
+// ReweightFrom is Reweight(sigma), taking the QR factorisation from src
+// when src holds the same design with more columns after these in factor
+// order (free columns first, then the non-negative ones, each in original
+// order): the same rows, the same first columns in original order, with
+// the same signs, and the same noise levels sigma, factored last. The
+// Householder QR treats the columns one after another, so the first
+// columns' factors, R's leading block and Q's leading columns, are those
+// of the QR of the first columns alone (the reflectors of the later
+// columns never touch them, and each column's products are summed in the
+// same order whatever columns follow it); what follows, as in Reweight.
+// It reports whether src was used: when it does not match, s is
+// factored as Reweight does. Callers that fit nested models to one y (a
+// model and the same model with one more non-negative term) factor the
+// larger one and take the smaller one from it.
+func (s *Solver) ReweightFrom(src *Solver, sigma []float64) (bool, error) {
+	f := s.f
+	if src == nil || src.f == nil || f == nil || f.shared.Load() || !f.prefixOf(src.f, sigma) {
+		return false, s.Reweight(sigma)
+	}
+	opt := f.opt
+	opt.Sigma = sigma
+	s.f = nil
+	if err := f.loadSigma(opt); err != nil {
+		return true, err
+	}
+	if err := f.factoriseFrom(opt, src.f); err != nil {
+		return true, err
+	}
+	s.f = f
+	s.ws.init(f)
+	return true, nil
+}
+
+// prefixOf reports whether f's design (n×p) is the first p columns of
+// g's with the same signs, the same position in factor order, and g was
+// factored with noise levels sigma.
+func (f *factor) prefixOf(g *factor, sigma []float64) bool {
+	n, p := f.n, f.p
+	if g.n != n || g.p <= p || len(sigma) != n || len(g.invSigma) != n {
+		return false
+	}
+	for i, v := range sigma {
+		if g.invSigma[i] != 1/v {
+			return false
+		}
+	}
+	if !slices.Equal(f.x[:n*p], g.x[:n*p]) || !slices.Equal(f.nonneg, g.nonneg[:p]) {
+		return false
+	}
+	// Factor order: g's first p positions must hold columns 0..p-1 in
+	// the order f's own would (free first, then non-negative).
+	k := 0
+	for pass := range 2 {
+		for j := range p {
+			if f.nonneg[j] != (pass == 1) {
+				continue
+			}
+			if g.perm[k] != j {
+				return false
+			}
+			k++
+		}
+	}
+	return true
+}
+
+// prefixQR takes f's thin QR from src's (prefixOf): R's leading p×p
+// block into f.r and Q's leading p columns into f.qa, which it returns.
+func (f *factor) prefixQR(src *factor) []float64 {
+	n, p, q := f.n, f.p, src.p
+	f.r = grow(f.r, p*p)
+	for i := range p {
+		copy(f.r[i*p:(i+1)*p], src.r[i*q:i*q+p])
+	}
+	a := grow(f.qa, n*p)
+	f.qa = a
+	for i := range n {
+		copy(a[i*p:(i+1)*p], src.qa[i*q:i*q+p])
+	}
+	return a
+}
+
 // grow returns buf resized to n, reusing its storage if it can.
 func grow[T any](buf []T, n int) []T {
 	if cap(buf) >= n {
@@ -187,6 +315,19 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 	if err := f.load(x, nonneg, opt); err != nil {
 		return err
 	}
+	return f.factorise(opt)
+}
+
+// factorise is setup after the design and the noise levels are loaded.
+func (f *factor) factorise(opt Options) error {
+	return f.factoriseFrom(opt, nil)
+}
+
+// factoriseFrom is factorise, taking the QR factorisation from src when
+// src is not nil (see ReweightFrom) instead of computing it.
+func (f *factor) factoriseFrom(opt Options, src *factor) error {
+	f.opt = opt
+	f.opt.Sigma = nil
 	if err := f.scaleColumns(); err != nil {
 		return err
 	}
@@ -198,13 +339,19 @@ func (f *factor) setup(x *mat.Dense, nonneg []bool, opt Options) error {
 		return &rankError{Columns: all, Cond: math.Inf(1), Rows: f.n, Cols: f.p}
 	}
 	f.order()
-	a := f.factorQR()
+	var a []float64
+	if src != nil {
+		a = f.prefixQR(src)
+	} else {
+		a = f.factorQR()
+	}
 	if err := f.singularValues(); err != nil {
 		return err
 	}
 	f.products(a)
 	f.diagnostics()
-	f.pseudoInverse(opt.PseudoInverse)
+	f.wantPinv = opt.PseudoInverse
+	f.pinvDone.Store(false)
 
 	f.tol = opt.tol
 	if f.tol == 0 {
@@ -246,6 +393,12 @@ func (f *factor) load(x *mat.Dense, nonneg []bool, opt Options) error {
 			f.x[j*n+i] = v
 		}
 	}
+	return f.loadSigma(opt)
+}
+
+// loadSigma checks opt.Sigma (sized by load) and stores its inverse.
+func (f *factor) loadSigma(opt Options) error {
+	n := f.n
 	f.invSigma = f.invSigma[:0]
 	f.known = false
 	if opt.Sigma != nil {
@@ -323,11 +476,16 @@ func (f *factor) factorQR() []float64 {
 	f.qa = a
 	for k, j := range f.perm {
 		col := f.x[j*n : (j+1)*n]
-		for i, v := range col {
-			if f.invSigma != nil {
-				v *= f.invSigma[i]
+		dj := f.invD[j]
+		if is := f.invSigma; is != nil {
+			is = is[:len(col)]
+			for i, v := range col {
+				a[i*p+k] = v * is[i] * dj
 			}
-			a[i*p+k] = v * f.invD[j]
+		} else {
+			for i, v := range col {
+				a[i*p+k] = v * dj
+			}
 		}
 	}
 	A := blas64.General{Rows: n, Cols: p, Stride: p, Data: a}
@@ -381,7 +539,8 @@ func (f *factor) singularValues() error {
 }
 
 // products stores what each solve uses: Q' W^(1/2) by rows of Q' (from
-// the thin Q in a), the gradient rows in original order, and R_SS.
+// the thin Q in a) and R_SS. The gradient rows of the KKT certificate
+// (gradRows) are made on first use.
 func (f *factor) products(a []float64) {
 	n, p := f.n, f.p
 	f.qtw = grow(f.qtw, p*n)
@@ -394,7 +553,30 @@ func (f *factor) products(a []float64) {
 			floats.Mul(row, f.invSigma)
 		}
 	}
-	// Gradient rows in original order: g_j = sum_i x_ij r_i / (d_j sigma_i^2).
+	f.gradDone.Store(false)
+	f.rss = grow(f.rss, f.nn*f.nn)
+	for i := range f.nn {
+		for j := range f.nn {
+			f.rss[i*f.nn+j] = f.r[(f.nf+i)*p+f.nf+j]
+		}
+	}
+}
+
+// gradRows sets f.gcol, the gradient rows in original order,
+// g_j = sum_i x_ij r_i / (d_j sigma_i^2), which only Finish's KKT
+// certificate reads: made on first use, so that a design factored for
+// one sample whose fit is not kept (a candidate model not chosen) never
+// pays for it. Clones on other goroutines may ask at once (gradMu).
+func (f *factor) gradRows() {
+	if f.gradDone.Load() {
+		return
+	}
+	f.gradMu.Lock()
+	defer f.gradMu.Unlock()
+	if f.gradDone.Load() {
+		return
+	}
+	n, p := f.n, f.p
 	f.gcol = grow(f.gcol, p*n)
 	if f.invSigma != nil {
 		floats.MulTo(f.wcol, f.invSigma, f.invSigma)
@@ -408,21 +590,17 @@ func (f *factor) products(a []float64) {
 			floats.ScaleTo(g, f.invD[j], f.x[j*n:(j+1)*n])
 		}
 	}
-	f.rss = grow(f.rss, f.nn*f.nn)
-	for i := range f.nn {
-		for j := range f.nn {
-			f.rss[i*f.nn+j] = f.r[(f.nf+i)*p+f.nf+j]
-		}
-	}
+	f.gradDone.Store(true)
 }
 
-// diagnostics leaves R^-1 in f.svA and sets diag((X_s'X_s)^-1) (the
+// diagnostics leaves R^-1 in f.rinv and sets diag((X_s'X_s)^-1) (the
 // squared row norms of R^-1) and the leakage of each column.
 func (f *factor) diagnostics() {
 	p := f.p
 	f.rinvRow2 = grow(f.rinvRow2, p)
-	triInv(f.svA, f.r, p, p)
-	rowNorms2(f.rinvRow2, f.svA, p)
+	f.rinv = grow(f.rinv, p*p)
+	triInv(f.rinv, f.r, p, p)
+	rowNorms2(f.rinvRow2, f.rinv, p)
 	f.leak = grow(f.leak, p)
 	for k, j := range f.perm {
 		if k < f.nf {
@@ -441,28 +619,34 @@ func (f *factor) diagnostics() {
 	}
 }
 
-// pseudoInverse sets f.pinv, when asked (else empty), to the p×n matrix
-// P = D^-1 R^-1 Q' W^(1/2) in original column order, row-major: the
-// unconstrained (weighted) least-squares estimate is b_u = P y, so row j
-// gives coefficient j's response to each reading. It needs R^-1 in f.svA
-// (diagnostics).
-func (f *factor) pseudoInverse(want bool) {
-	n, p := f.n, f.p
-	if !want {
-		f.pinv = f.pinv[:0]
+// pseudoInverse sets f.pinv to the p×n matrix P = D^-1 R^-1 Q' W^(1/2)
+// in original column order, row-major: the unconstrained (weighted)
+// least-squares estimate is b_u = P y, so row j gives coefficient j's
+// response to each reading. It needs R^-1 in f.rinv (diagnostics). It is
+// made on first use (PseudoInverseRow): a design factored for one sample
+// and left unused (a candidate model not chosen) never pays for it.
+func (f *factor) pseudoInverse() {
+	if f.pinvDone.Load() {
 		return
 	}
+	f.pinvMu.Lock()
+	defer f.pinvMu.Unlock()
+	if f.pinvDone.Load() {
+		return
+	}
+	n, p := f.n, f.p
 	f.pinv = grow(f.pinv, p*n)
 	clear(f.pinv)
 	for k, j := range f.perm {
 		out := f.pinv[j*n : (j+1)*n]
 		for m := k; m < p; m++ {
-			if v := f.svA[k*p+m]; v != 0 {
+			if v := f.rinv[k*p+m]; v != 0 {
 				floats.AddScaled(out, v, f.qtw[m*n:(m+1)*n])
 			}
 		}
 		floats.Scale(f.invD[j], out)
 	}
+	f.pinvDone.Store(true)
 }
 
 // rankError builds the rankError of a numerically rank-deficient design
@@ -559,9 +743,10 @@ func (s *Solver) Leakage() []float64 { return slices.Clone(s.f.leak) }
 // limit). It is nil unless the Solver was made with
 // Options.PseudoInverse. The slice is a view: do not modify it.
 func (s *Solver) PseudoInverseRow(j int) []float64 {
-	if len(s.f.pinv) == 0 {
+	if !s.f.wantPinv {
 		return nil
 	}
+	s.f.pseudoInverse()
 	n := s.f.n
 	return s.f.pinv[j*n : (j+1)*n : (j+1)*n]
 }
