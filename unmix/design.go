@@ -173,6 +173,9 @@ type design struct {
 	solver *lsq.Solver
 	cond   float64
 	leak   []float64
+	// lev is the leverage of each row (leverage), when the set records
+	// the absorptivities' covariance (else nil).
+	lev []float64
 }
 
 // visible returns errRank when a compound's column in x holds, to
@@ -239,5 +242,8 @@ func (sh *shared) setDesign(d *design, sigma []float64) error {
 		return err
 	}
 	d.cond, d.leak = d.solver.Cond(), d.solver.Leakage()
+	if sh.cal != nil {
+		d.lev = leverage(d.lev, d.x, d.solver)
+	}
 	return nil
 }
