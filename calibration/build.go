@@ -281,6 +281,10 @@ func (fp *fitParams) newPass(use []bool) *pass {
 		Floor:     fp.floor,
 		Intercept: fp.intercept,
 	}
+	set.AbsorptivityCov = &reference.AbsorptivityCov{Index: make([]int, p)}
+	for j := range set.AbsorptivityCov.Index {
+		set.AbsorptivityCov.Index[j] = -1
+	}
 	ps.res = &fitResult{set: set, clipped: make([]bool, m), outliers: make([][]outlier, m)}
 	ps.kraw = make([][]float64, m)
 	if fp.intercept {
@@ -315,6 +319,7 @@ func (ps *pass) solveWavelengths() ([]bool, error) {
 			if mf, err = newMaskFit(ps.rows, ps.masks, j, len(ps.res.set.Compounds), ps.intercept); err != nil {
 				return nil, pkgerr.Errorf(buildPkg, "%s: least squares at %g nm: %w", ps.sh.Path, ps.grid[j], err)
 			}
+			ps.keepCov(mf)
 			fits[string(key)] = mf
 		}
 		if mf.solver == nil {
@@ -371,6 +376,7 @@ func (ps *pass) solveAt(mf *maskFit, j int) (bool, error) {
 		ps.icpt[j] = mf.res.Coef[len(mf.comps)]
 	}
 	set.Noise[j] = math.Sqrt(mf.res.RSS / float64(mf.res.DoF))
+	set.AbsorptivityCov.Index[j] = mf.covIdx
 	if ps.nobs == nil {
 		ps.nobs = make([][]noiseObs, len(ps.grid))
 	}
@@ -636,6 +642,11 @@ type maskFit struct {
 	y        []float64
 	lev      []float64 // leverage of each row (hatDiag)
 	groups   [][]int   // replicate groups of rows (replicateGroups)
+	// unscaled is the compounds' block of (X'X)^-1, packed as
+	// reference.AbsorptivityCov stores it (all compounds of the set,
+	// zero for those not in comps); covIdx its place in the set's list.
+	unscaled []float64
+	covIdx   int
 }
 
 // newMaskFit sets up the fit for the rows kept at wavelength j. The solver
@@ -686,6 +697,9 @@ func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, e
 	}
 	mf.solver = s
 	mf.y = make([]float64, len(mf.rows))
+	if mf.unscaled, err = unscaledCov(x, mf.comps, m); err != nil {
+		return nil, err
+	}
 	mf.lev = hatDiag(x)
 	mf.groups = replicateGroups(fit, mf.rows)
 	return mf, nil

@@ -65,6 +65,6 @@ func ExampleLoad() {
 	fmt.Println("schema", back.Schema, "read back exactly:", same)
 	fmt.Println("lack-of-fit test without replicates is NaN:", math.IsNaN(back.Compounds[0].Linearity.LackOfFitP))
 	// Output:
-	// schema 1 read back exactly: true
+	// schema 3 read back exactly: true
 	// lack-of-fit test without replicates is NaN: true
 }

@@ -24,12 +24,18 @@ import (
 // this build reads and writes. Files from a newer schema are refused.
 // Schema 2 adds noise_model; a set without one is written as schema 1,
 // byte for byte as before, so older builds still read it, and refuse a
-// set with a noise model as newer (rather than as damaged).
-const SchemaVersion = 2
+// set with a noise model as newer (rather than as damaged). Schema 3 adds
+// absorptivity_cov (see [AbsorptivityCov]); a set without it is written
+// as before.
+const SchemaVersion = 3
 
-// schemaOf is the schema a set is written as: 2 with a noise model, else 1.
+// schemaOf is the schema a set is written as: 3 with the absorptivities'
+// covariance, 2 with a noise model, else 1.
 func (s *Set) schemaOf() int {
-	if s.NoiseModel != nil {
+	switch {
+	case s.AbsorptivityCov != nil:
+		return 3
+	case s.NoiseModel != nil:
 		return 2
 	}
 	return 1
@@ -255,6 +261,10 @@ type Set struct {
 	// standards; nil (omitted) in sets that do not have one, which keep
 	// the fixed rule (see [Set.Sigma]).
 	NoiseModel *NoiseModel `json:"noise_model,omitempty"`
+	// AbsorptivityCov is what the covariance of the fitted absorptivities
+	// needs (see [AbsorptivityCov]); nil (omitted) in sets made before it
+	// was recorded, whose results leave the calibration's uncertainty out.
+	AbsorptivityCov *AbsorptivityCov `json:"absorptivity_cov,omitempty"`
 	// PathCM is the path length the standards were scanned at.
 	PathCM float64 `json:"path_cm"`
 	// Ceiling is the absorbance above which readings were left out;
@@ -377,6 +387,9 @@ func (s *Set) Validate() error {
 		return err
 	}
 	if err := s.validateNoiseModel(); err != nil {
+		return err
+	}
+	if err := s.validateAbsorptivityCov(); err != nil {
 		return err
 	}
 	return s.validateStandards()
@@ -774,7 +787,7 @@ func decode(data []byte) (*Set, error) {
 		return nil, errChecksum
 	}
 	if s.Schema < s.schemaOf() {
-		return nil, invalid("noise_model in a schema %d file (it came with schema 2)", s.Schema)
+		return nil, invalid("%s in a schema %d file (it came with schema %d)", s.newestField(), s.Schema, s.schemaOf())
 	}
 	if err := s.Validate(); err != nil {
 		return nil, err

@@ -390,6 +390,9 @@ func (j *jsonWriter) AppendResult(dst []byte, r *unmix.Result) []byte {
 		pre := a.Compound + "."
 		field("conc", pre+"conc", a.Conc)
 		field("se", pre+"se", a.SE)
+		if j.l.Calibration {
+			field("se_calibration", pre+"se_calibration", a.SECal)
+		}
 		field("ci95_lo", pre+"ci95_lo", a.Lo)
 		field("ci95_hi", pre+"ci95_hi", a.Hi)
 		field("lod", pre+"lod", a.LOD)

@@ -34,11 +34,16 @@ type Layout struct {
 	// Interferents names the interferents fitted (unmix.Options.Interferents),
 	// each reported as its amount in units of its scan.
 	Interferents []string
+	// Calibration: the standard errors include the calibration's part
+	// (unmix.Model.CalibrationIncluded); JSON then gives it per amount
+	// as "se_calibration".
+	Calibration bool
 }
 
 // LayoutOf returns the layout of a model's results.
 func LayoutOf(m *unmix.Model) Layout {
-	return Layout{Compounds: m.Compounds(), Units: m.Units(), Baseline: m.BaselineTerms(), PathCM: m.PathCM(), Auto: m.Auto(), Interferents: m.Interferents()}
+	return Layout{Compounds: m.Compounds(), Units: m.Units(), Baseline: m.BaselineTerms(), PathCM: m.PathCM(), Auto: m.Auto(), Interferents: m.Interferents(),
+		Calibration: m.CalibrationIncluded()}
 }
 
 // ResultWriter writes sample results one at a time, in the order given.

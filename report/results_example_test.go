@@ -33,7 +33,7 @@ func ExampleCSVWriter() {
 	}
 	// Output:
 	// # format: huesolve-results
-	// # schema: 2
+	// # schema: 3
 	// sample,source,dye_conc,dye_se,dye_ci95_lo,dye_ci95_hi,dye_lod,dye_loq,dye_unconstrained,dye_unconstrained_se,dye_unit,dye_flags,rms_residual,reduced_chi_square,durbin_watson,r2,condition_number,points_used,points_dropped,shift_nm,shift_se_nm,dilution,path_cm,suggest_dilution,baseline_offset,flags
 	// S1,s1.csv,4.00123,0.0021,3.997,4.0054,0.01,0.03,,,mg/L,,0.0011,1.02,1.96,0.99991,1.4,61,0,0,,1,1,,0.0101,
 }

@@ -102,7 +102,7 @@ func TestCSVWriter(t *testing.T) {
 	}
 	// An empty run still has a header.
 	b.Reset()
-	if err := NewCSVWriter(&b, testLayout).Close(); err != nil || !strings.HasPrefix(b.String(), "# format: huesolve-results\n# schema: 2\nsample,source,amber_conc") {
+	if err := NewCSVWriter(&b, testLayout).Close(); err != nil || !strings.HasPrefix(b.String(), "# format: huesolve-results\n# schema: 3\nsample,source,amber_conc") {
 		t.Errorf("empty CSV: %q, %v", b.String(), err)
 	}
 }
@@ -168,6 +168,18 @@ func TestJSONWriter(t *testing.T) {
 	obj := string(newJSONWriter(&b, testLayout).AppendResult(nil, r))
 	if !strings.Contains(obj, `"shift_nm": 0.2, "shift_se_nm": 0.05,`) || !strings.Contains(obj, `"suggest_dilution": 2.5, "flags": [], "unavailable"`) {
 		t.Errorf("sample without flags, with a shift: %s", obj)
+	}
+	// se_calibration: only when the set records the calibration's part
+	// (a set made before would show 0 for a part left out).
+	if strings.Contains(obj, "se_calibration") {
+		t.Errorf("se_calibration written for a set without it: %s", obj)
+	}
+	cl := testLayout
+	cl.Calibration = true
+	r.Amounts[0].SECal = 0.004
+	obj = string(newJSONWriter(&b, cl).AppendResult(nil, r))
+	if !strings.Contains(obj, `"se": 0.0073392, "se_calibration": 0.004, "ci95_lo"`) {
+		t.Errorf("se_calibration not beside se: %s", obj)
 	}
 	// Empty run: still a complete document.
 	b.Reset()

@@ -14,7 +14,9 @@ import (
 // write (CSV and JSON): it grows whenever a column or field is added,
 // renamed or changes meaning. 2: the run's record (CSV comment lines, a
 // JSON "run" object) and the "schema" field, which replaced "version".
-const Schema = 2
+// 3: "se" includes the calibration's part, given as "se_calibration" in
+// JSON (for reference sets that record it).
+const Schema = 3
 
 // Format names of the result files, written in each file's "format".
 const (

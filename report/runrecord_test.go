@@ -39,7 +39,7 @@ func TestRunInResultFiles(t *testing.T) {
 	if err := w.Close(); err != nil {
 		t.Fatal(err)
 	}
-	want := "# format: huesolve-results\n# schema: 2\n# tool: huesolve\n# version: test\n# time: 2026-01-01T00:00:00Z\n" +
+	want := "# format: huesolve-results\n# schema: 3\n# tool: huesolve\n# version: test\n# time: 2026-01-01T00:00:00Z\n" +
 		"# command: huesolve solve refs.json s.csv\n# reference_set: refs.json\n# reference_set_checksum: ab\n# window: 400-700\n# input: cd  s.csv\nsample,"
 	if !strings.HasPrefix(b.String(), want) {
 		t.Errorf("CSV opens\n%s\nwant\n%s", b.String()[:min(len(b.String()), len(want)+10)], want)

@@ -1,6 +1,7 @@
 package unmix
 
 import (
+	"huesolve/reference"
 	"testing"
 
 	"huesolve/spectrum"
@@ -14,21 +15,29 @@ func BenchmarkModelSolve(b *testing.B) {
 		opt   Options
 		conc  []float64
 		clean bool // no shift in the mixtures
+		cov   bool // the set records the absorptivities' covariance
 	}{
-		{"plain", Options{}, []float64{5, 3, 2, 8}, false},
-		{"saturated", Options{}, []float64{5, 3, 2, 32}, false},
-		{"weighted", Options{Weighted: true}, []float64{5, 3, 2, 8}, false},
-		{"shift", Options{Shift: true}, []float64{5, 3, 2, 8}, false},
-		{"auto", Options{Auto: true}, []float64{5, 3, 2, 8}, false},
-		{"plain-unshifted", Options{}, []float64{5, 3, 2, 8}, true},
-		{"auto-unshifted", Options{Auto: true}, []float64{5, 3, 2, 8}, true},
+		{"plain", Options{}, []float64{5, 3, 2, 8}, false, false},
+		{"saturated", Options{}, []float64{5, 3, 2, 32}, false, false},
+		{"weighted", Options{Weighted: true}, []float64{5, 3, 2, 8}, false, false},
+		{"shift", Options{Shift: true}, []float64{5, 3, 2, 8}, false, false},
+		{"auto", Options{Auto: true}, []float64{5, 3, 2, 8}, false, false},
+		{"plain-unshifted", Options{}, []float64{5, 3, 2, 8}, true, false},
+		{"auto-unshifted", Options{Auto: true}, []float64{5, 3, 2, 8}, true, false},
+		{"plain-cov", Options{}, []float64{5, 3, 2, 8}, false, true},
+		{"weighted-cov", Options{Weighted: true}, []float64{5, 3, 2, 8}, false, true},
+		{"auto-unshifted-cov", Options{Auto: true}, []float64{5, 3, 2, 8}, true, true},
 		// The command's default with --weighted and with --shift on
 		// samples with no shift (as the benchmark's wide table).
-		{"auto-weighted-unshifted", Options{Auto: true, Weighted: true}, []float64{5, 3, 2, 8}, true},
-		{"auto-shift-unshifted", Options{Auto: true, Shift: true}, []float64{5, 3, 2, 8}, true},
+		{"auto-weighted-unshifted", Options{Auto: true, Weighted: true}, []float64{5, 3, 2, 8}, true, false},
+		{"auto-shift-unshifted", Options{Auto: true, Shift: true}, []float64{5, 3, 2, 8}, true, false},
 	} {
 		b.Run(c.name, func(b *testing.B) {
-			m := mustModel(b, testSet(4), c.opt)
+			set := testSet(4)
+			if c.cov {
+				set.AbsorptivityCov = benchCov(len(set.Grid))
+			}
+			m := mustModel(b, set, c.opt)
 			ss := make([]*spectrum.Spectrum, 64)
 			for i := range ss {
 				shift := 0.5
@@ -49,4 +58,21 @@ func BenchmarkModelSolve(b *testing.B) {
 			b.ReportMetric(float64(b.Elapsed().Nanoseconds())/float64(b.N)/1e3, "µs/scan")
 		})
 	}
+}
+
+// benchCov is an invented absorptivity covariance for a 4-compound set
+// on n grid points: two matrices, as a ceiling that leaves readings out
+// makes.
+func benchCov(n int) *reference.AbsorptivityCov {
+	c := &reference.AbsorptivityCov{
+		Unscaled: [][]float64{
+			{0.01, -0.001, 0, 0, 0.01, -0.001, 0, 0.01, -0.001, 0.01},
+			{0.02, -0.002, 0, 0, 0.02, -0.002, 0, 0.02, -0.002, 0.02},
+		},
+		Index: make([]int, n),
+	}
+	for i := n / 2; i < n; i++ {
+		c.Index[i] = 1
+	}
+	return c
 }

@@ -176,6 +176,9 @@ type design struct {
 	// ready: the solver holds the design on rows (setDesign succeeded
 	// and nothing failed since), so new weights need only Reweight.
 	ready bool
+	// lev is the leverage of each row (leverage), when the set records
+	// the absorptivities' covariance (else nil).
+	lev []float64
 }
 
 // visible returns errRank when a compound's column in x holds, to
@@ -243,6 +246,9 @@ func (sh *shared) setDesign(d *design, sigma []float64) error {
 		return err
 	}
 	d.cond, d.leak = d.solver.Cond(), d.solver.Leakage()
+	if sh.cal != nil {
+		d.lev = leverage(d.lev, d.x, d.solver)
+	}
 	d.ready = true
 	return nil
 }
@@ -262,6 +268,9 @@ func (sh *shared) reweight(d *design, sigma []float64, src *lsq.Solver) error {
 		return err
 	}
 	d.cond, d.leak = d.solver.Cond(), d.solver.Leakage()
+	if sh.cal != nil {
+		d.lev = leverage(d.lev, d.x, d.solver)
+	}
 	d.ready = true
 	return nil
 }

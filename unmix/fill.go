@@ -9,6 +9,12 @@ type fitFigures struct {
 	t       float64 // Student t quantile on the fit's degrees of freedom
 	scale   float64 // fitted (reference path, in the cell) -> sample
 	cell    float64 // fitted -> concentration in the cell
+	// cal: the calibration's variance per compound is in m.buf.cvar
+	// (calTerms); residShare is the factor by which taking its share
+	// out of the residual variance scales a residual-based variance (1
+	// when there is none; see calerr.go).
+	cal        bool
+	residShare float64
 }
 
 // figures computes the reduced chi-square of the scan's fit against the
@@ -26,7 +32,7 @@ func (m *Model) figures(sc *scan) fitFigures {
 		chi += e * e
 	}
 	f := fitFigures{chiRed: math.NaN(), inflate: 1, t: math.NaN(),
-		scale: sc.dil * m.set.PathCM / sc.path, cell: m.set.PathCM / sc.path}
+		scale: sc.dil * m.set.PathCM / sc.path, cell: m.set.PathCM / sc.path, residShare: 1}
 	if dof := sc.res.DoF; dof > 0 {
 		// A shifted sample's residual is interpolated, hence quieter
 		// than its noise by sc.interpVar (1 without a shift).
@@ -34,9 +40,19 @@ func (m *Model) figures(sc *scan) fitFigures {
 		f.t = m.tQuantile(dof)
 	}
 	// Birge ratio: scales every noise-model standard error (FreeSE in
-	// any fit, SE in a weighted one) when the fit is worse than the noise.
-	if f.chiRed > 1 {
-		f.inflate = math.Sqrt(f.chiRed)
+	// any fit, SE in a weighted one) when the fit is worse than the noise,
+	// once the calibration's share of the residual is taken out (it is
+	// added as its own term, calerr.go).
+	chiSample := f.chiRed
+	var resid, chiCal float64
+	if resid, chiCal, f.cal = m.calTerms(sc, sr); f.cal {
+		chiSample -= chiCal / sc.interpVar
+		if s2 := sc.res.RSS / float64(sc.res.DoF); s2 > 0 {
+			f.residShare = math.Max(0, 1-resid/s2)
+		}
+	}
+	if chiSample > 1 {
+		f.inflate = math.Sqrt(chiSample)
 	}
 	return f
 }
@@ -126,7 +142,9 @@ func (m *Model) amount(a *Amount, k int, sc *scan, f fitFigures) {
 	if m.opt.Weighted {
 		se *= f.inflate
 	} else {
-		se /= math.Sqrt(sc.interpVar) // residual-based, see interpNoise
+		// Residual-based, see interpNoise; without the calibration's
+		// share of the residual, which calSD adds as its own term.
+		se *= math.Sqrt(f.residShare / sc.interpVar)
 	}
 	if sc.shift != 0 && k < len(sc.pg) {
 		// The shift is a fitted parameter too: with b = P g the
@@ -134,11 +152,13 @@ func (m *Model) amount(a *Amount, k int, sc *scan, f fitFigures) {
 		// adds (b_k SE_shift)^2 to the variance.
 		se = math.Hypot(se, sc.pg[k]*sc.shiftSE)
 	}
+	cal := m.calSD(k, f.cal)
 	*a = Amount{
 		Compound: c.Name,
 		Unit:     c.Unit,
 		Conc:     coef * f.scale,
-		SE:       se * f.scale,
+		SE:       math.Hypot(se, cal) * f.scale,
+		SECal:    cal * f.scale,
 		LOD:      LODFactor * s0 * f.scale,
 		LOQ:      LOQFactor * s0 * f.scale,
 		Free:     res.Unconstrained[k] * f.scale,
@@ -149,7 +169,7 @@ func (m *Model) amount(a *Amount, k int, sc *scan, f fitFigures) {
 	case res.AtBound[k]:
 		a.SE = 0
 		a.Lo = 0
-		a.Hi = math.Max(0, a.Free+f.t*a.FreeSE)
+		a.Hi = math.Max(0, a.Free+f.t*math.Hypot(a.FreeSE, a.SECal))
 		a.Flags = append(a.Flags, FlagZero)
 	default:
 		a.Lo = math.Max(0, a.Conc-f.t*a.SE)

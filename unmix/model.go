@@ -38,7 +38,8 @@ type shared struct {
 	// interferent that imitates a compound raises FlagMimic as a
 	// baseline term does.
 	interfLeak []float64
-	noise      []float64 // floored calibration noise on the window (reference.Set.NoiseFloor)
+	noise      []float64  // floored calibration noise on the window (reference.Set.NoiseFloor)
+	cal        *calWindow // the absorptivities' covariance on the window (nil: not recorded)
 	ceiling    float64
 	maxStd     []float64 // highest concentration in the cell not flagged FlagOverRange
 	// fullNorm is the norm of each compound's column over the whole grid.
@@ -122,7 +123,10 @@ type scratch struct {
 	key                  []byte
 	tainted              []bool
 	res                  lsq.Result
-	gridOK               []float64 // last sample grid found equal to the set grid
+	gridOK               []float64   // last sample grid found equal to the set grid
+	cq                   []float64   // z' U z per covariance matrix of the set (calTerms)
+	cvar                 []float64   // the calibration's variance per compound (calTerms)
+	prow                 [][]float64 // the compounds' rows of the pseudo-inverse (calTerms)
 }
 
 // NewModel checks the options against the set and builds the design. It
@@ -283,6 +287,7 @@ func (sh *shared) columns() error {
 	for r := range sh.noise {
 		sh.noise[r] = set.NoiseFloor(sh.lo + r)
 	}
+	sh.setCal()
 	return nil
 }
 

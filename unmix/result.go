@@ -14,10 +14,19 @@ type Amount struct {
 	Compound string  `json:"compound"`
 	Unit     string  `json:"unit"`
 	Conc     float64 `json:"conc"`
-	SE       float64 `json:"se"`
-	Lo       float64 `json:"ci95_lo"`
-	Hi       float64 `json:"ci95_hi"`
-	Flags    []Flag  `json:"flags,omitempty"`
+	// SE is the standard error: the sample's own part (its residual or
+	// the noise model, and the shift's) and the calibration's (SECal)
+	// added in quadrature.
+	SE float64 `json:"se"`
+	// SECal is the calibration's part of SE: the absorptivities' errors
+	// propagated to first order (see calerr.go); for a compound held at
+	// zero, that of the unconstrained estimate, which the interval's
+	// upper end includes. 0 (left out of files) when the reference set
+	// records no absorptivity covariance (Model.CalibrationIncluded).
+	SECal float64 `json:"se_calibration"`
+	Lo    float64 `json:"ci95_lo"`
+	Hi    float64 `json:"ci95_hi"`
+	Flags []Flag  `json:"flags,omitempty"`
 	// LOD and LOQ are the detection and quantitation limits for this
 	// sample (3.3 and 10 sigma / sensitivity, from the design and the
 	// noise model).

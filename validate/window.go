@@ -129,7 +129,9 @@ type Candidate struct {
 	Cond     float64 `json:"condition_number"`
 	Singular bool    `json:"singular"`
 	// SE is each compound's predicted standard error, in its unit, and
-	// RelSE that divided by its level; both are empty when Singular.
+	// RelSE that divided by its level; both are empty when Singular. It
+	// includes the calibration's part at the levels when the set records
+	// the absorptivities' covariance.
 	SE    []float64 `json:"se,omitempty"`
 	RelSE []float64 `json:"relative_se,omitempty"`
 	// Worst is the largest RelSE and WorstCompound its compound.
@@ -267,6 +269,10 @@ type windowSearch struct {
 	keep             []int     // the points of all not above
 	wl               []float64 // their wavelengths
 	sigma            []float64 // per grid point: the noise model at the levels (kept points only)
+	// calv is, per grid point (kept points only), the variance the
+	// calibration's error adds to a sample at the levels (Set.CalVar at
+	// the sample's path); nil when the set records no covariance.
+	calv []float64
 }
 
 // newWindowSearch applies the defaults of opt and checks them; it returns
@@ -347,6 +353,15 @@ func (ws *windowSearch) rows() error {
 	ws.sigma = make([]float64, len(set.Grid))
 	for r, i := range ws.keep {
 		ws.sigma[i] = sigma[r]
+	}
+	if set.AbsorptivityCov != nil {
+		// The columns are eps * path: the covariance of the set's (at
+		// its own path) scaled by (path / set path)^2.
+		f := ws.path / set.PathCM
+		ws.calv = make([]float64, len(set.Grid))
+		for _, i := range ws.keep {
+			ws.calv[i] = f * f * set.CalVar(i, ws.levels)
+		}
 	}
 	return nil
 }
@@ -539,6 +554,11 @@ func newWindowWork(maxRows, ncol int) *windowWork {
 // and X D⁻¹ = U S Vᵀ, the coefficient of compound n is c_n = g·y / d_n with
 // g = U S⁻¹ Vᵀ e_n, so its variance is Σ g_i² σ_i² / d_n² (unweighted) or
 // ||S⁻¹ Vᵀ e_n||² / d_n² (weighted: whitened noise has unit variance).
+// When the set records the absorptivities' covariance, the calibration's
+// error adds v_i at each reading (v = s.calv, at the levels; see package
+// unmix, calerr.go), and the variance is Σ g_i² (σ_i² + v_i) / d_n²
+// (unweighted) or Σ g_i² (1 + v_i/σ_i²) / d_n² (weighted), as solve
+// reports for a sample at the levels.
 func (ws *windowWork) evaluate(c *Candidate, s *windowSearch, keep []int) error {
 	set, weighted := s.set, s.opt.Weighted
 	slack := edgeSlack * s.step
@@ -583,8 +603,9 @@ func (ws *windowWork) evaluate(c *Candidate, s *windowSearch, keep []int) error 
 	for r := 0; r < m; r++ {
 		floats.Div(x.RawRowView(r), norm)
 	}
+	withU := !weighted || s.calv != nil
 	kind := mat.SVDThinV
-	if !weighted {
+	if withU {
 		kind = mat.SVDThin
 	}
 	if !ws.svd.Factorize(x, kind) {
@@ -600,7 +621,7 @@ func (ws *windowWork) evaluate(c *Candidate, s *windowSearch, keep []int) error 
 	}
 	ws.v.Reset()
 	ws.svd.VTo(&ws.v)
-	if !weighted {
+	if withU {
 		ws.u.Reset()
 		ws.svd.UTo(&ws.u)
 	}
@@ -610,7 +631,7 @@ func (ws *windowWork) evaluate(c *Candidate, s *windowSearch, keep []int) error 
 		for k, s := range sv {
 			h[k] = ws.v.At(n, k) / s
 		}
-		if weighted {
+		if weighted && s.calv == nil {
 			c.SE[n] = floats.Norm(h, 2) / norm[n]
 			continue
 		}
@@ -618,7 +639,15 @@ func (ws *windowWork) evaluate(c *Candidate, s *windowSearch, keep []int) error 
 		for r := 0; r < m; r++ {
 			gi := floats.Dot(ws.u.RawRowView(r), h)
 			sr := s.sigma[keep[r]]
-			vsum += gi * gi * sr * sr
+			var cv float64
+			if s.calv != nil {
+				cv = s.calv[keep[r]]
+			}
+			if weighted {
+				vsum += gi * gi * (1 + cv/(sr*sr))
+			} else {
+				vsum += gi * gi * (sr*sr + cv)
+			}
 		}
 		c.SE[n] = math.Sqrt(vsum) / norm[n]
 	}

@@ -170,7 +170,7 @@ func TestHostileReferenceSets(t *testing.T) {
 	}{
 		{"truncated", raw[:len(raw)*3/4], "ends early"},
 		{"edited", bytes.Replace(raw, []byte(`"ceiling": 2`), []byte(`"ceiling": 2.5`), 1), "checksum does not match"},
-		{"future", bytes.Replace(raw, []byte(`"schema": 1`), []byte(`"schema": 3`), 1), "newer reference-set schema"},
+		{"future", bytes.Replace(raw, []byte(`"schema": 1`), []byte(`"schema": 4`), 1), "newer reference-set schema"},
 		{"binary", []byte{0x1f, 0x8b, 0x08, 0x00, 0xff, 0xfe}, "not a huesolve reference set"},
 	} {
 		p := write(c.name+".json", c.data)

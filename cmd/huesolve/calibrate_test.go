@@ -3,6 +3,7 @@ package main
 import (
 	"crypto/sha256"
 	"encoding/hex"
+	"encoding/json"
 	"fmt"
 	"math"
 	"math/rand/v2"
@@ -198,6 +199,46 @@ func TestCalibrateEndToEnd(t *testing.T) {
 				t.Fatalf("2 cm: %g, 1 cm: %g; want exactly half", set2.Compounds[q].Absorptivity[j], set.Compounds[q].Absorptivity[j])
 			}
 		}
+	}
+
+	// A set from calibrate records the absorptivities' covariance: solve
+	// reports the calibration's part beside each SE, without the note for
+	// older sets, and the same whether the standards were declared at 1
+	// or 2 cm (the covariance scales with the absorptivities).
+	var seCal [2][]float64
+	for i, r := range []string{refs, refs2} {
+		js, e, code := run(t, "solve", r, filepath.Join(dir, "red-4.jdx"), "--format", "json", "-o", "-")
+		if code != exitOK && code != exitFlagged {
+			t.Fatalf("solve with %s: exit %d: %s", r, code, e)
+		}
+		if strings.Contains(e, "calibrate again") {
+			t.Errorf("solve with a new set gives the note for older sets: %s", e)
+		}
+		var doc struct {
+			Samples []struct {
+				Amounts []struct {
+					SE    float64  `json:"se"`
+					SECal *float64 `json:"se_calibration"`
+				}
+			}
+		}
+		if err := json.Unmarshal([]byte(js), &doc); err != nil || len(doc.Samples) != 1 {
+			t.Fatalf("solve JSON: %v\n%s", err, js)
+		}
+		for _, a := range doc.Samples[0].Amounts {
+			if a.SECal == nil || !(*a.SECal >= 0) || *a.SECal > a.SE {
+				t.Fatalf("se_calibration %v with se %g:\n%s", a.SECal, a.SE, js)
+			}
+			seCal[i] = append(seCal[i], *a.SECal)
+		}
+	}
+	for k := range seCal[0] {
+		if math.Abs(seCal[0][k]-seCal[1][k]) > 1e-9*seCal[0][k] {
+			t.Errorf("compound %d: se_calibration %g at 1 cm, %g at 2 cm", k, seCal[0][k], seCal[1][k])
+		}
+	}
+	if !(seCal[0][0] > 0) {
+		t.Errorf("red in a red standard: se_calibration %g, want above 0", seCal[0][0])
 	}
 
 	// A separate blank, a window and a through-origin fit.

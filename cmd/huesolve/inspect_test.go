@@ -49,7 +49,7 @@ func TestInspect(t *testing.T) {
 		{"missing", filepath.Join(dir, "none.json"), "none.json"},
 		{"edited", write("edited.json", bytes.Replace(raw, []byte(`"path_cm": 1`), []byte(`"path_cm": 1.5`), 1)), "checksum"},
 		{"truncated", write("cut.json", raw[:len(raw)*2/3]), "ends early"},
-		{"newer", write("new.json", bytes.Replace(raw, []byte(`"schema": 1`), []byte(`"schema": 7`), 1)), "newer"},
+		{"newer", write("new.json", bytes.Replace(raw, []byte(`"schema": 3`), []byte(`"schema": 7`), 1)), "newer"},
 	}
 	for _, c := range cases {
 		t.Run(c.name, func(t *testing.T) {

@@ -214,7 +214,7 @@ func TestDashOutputIsStdout(t *testing.T) {
 		{[]string{"verify", refs, checks, "--format", "csv"}, "record,"},
 		{[]string{"window", refs, "--format", "csv"}, "lo_nm,hi_nm,"},
 		{[]string{"convert", "chk-1.csv"}, "chk-1"},
-		{[]string{"calibrate", "standards.csv"}, `"schema": 1`},
+		{[]string{"calibrate", "standards.csv"}, `"schema": 3`},
 	} {
 		out, errOut, code := run(t, append(c.args, "-o", "-")...)
 		if code == exitFailure || code == exitUsage || !strings.Contains(out, c.want) {

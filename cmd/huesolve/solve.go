@@ -75,8 +75,9 @@ CSV and JSON open with the run's record (tool, version, time, command line,
 method, reference set, blank, sheets and inputs with their SHA-256, every
 setting in force). -o FILE is written whole or not at all, and only when a
 sample was solved; --report FILE.html also writes an HTML review report.
-Every result carries its standard error, 95 % interval, LOD, LOQ, fit
-figures and flags; flags marked "!" count the sample as flagged:
+Every result carries its standard error (the sample's noise and the
+calibration's error, which JSON gives as se_calibration), 95 % interval,
+LOD, LOQ, fit figures and flags; flags marked "!" count the sample as flagged:
   {{FLAGS}}
 README.md ("How solve works", "Result flags") explains every step and flag.
 

@@ -58,6 +58,9 @@ func solveSetNotes(set *reference.Set, model *unmix.Model, blank string, inputs 
 		warn(fmt.Sprintf("the reference set's calibration flags %s: results hold only within the stated linear range, and those above it are flagged over",
 			nameList(flagged)))
 	}
+	if !model.CalibrationIncluded() {
+		note("the reference set was made before calibrate recorded the absorptivities' covariance: the standard errors and intervals include the calibration's error only as far as it shows in each sample's residual; calibrate again to have it propagated (se_calibration)")
+	}
 	if !model.DurbinWatsonFlagged() {
 		var steps []string
 		for _, st := range set.Pretreat {

@@ -42,9 +42,10 @@ Every window whose edges lie on a grid of --step nm over the usable range
 each, the design of the fit is formed (each compound's absorptivity × path,
 plus the --baseline terms) and huesolve reports its condition number and
 each compound's predicted standard error, from the reference set's noise
-model as solve uses it (noise growing as 10^A above A = 1) at a sample
-holding every compound at its --level (default: the middle of its
-calibrated range). No sample is needed: the prediction comes from the
+model as solve uses it (noise growing as 10^A above A = 1) and the error
+the calibration brings (for sets that record it), at a sample holding
+every compound at its --level (default: the middle of its calibrated
+range). No sample is needed: the prediction comes from the
 design alone, by one small singular value decomposition per window.
 
 The recommended window is the one whose worst compound's predicted error,
