@@ -432,12 +432,33 @@ func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore) bool {
 
 // solveAuto chooses the sample's nuisance model by forward selection among
 // the candidates and fills dst with the chosen candidate's result,
-// Result.Model and Result.ModelScores.
+// Result.Model and Result.ModelScores. Points the chosen fit predicts
+// above the ceiling are left out and the choice made again on the rest
+// (settleCeiling), so that every candidate is scored on the same points.
 func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	a := m.auto
-	clear(a.state)
 	a.rd.filled = false
 	scores := dst.ModelScores[:0]
+	cur := a.base
+	c, sc, err := settleCeiling(func(extra []int) (*Model, *scan, error) {
+		var err error
+		cur, scores, err = a.choose(s, f, extra, scores[:0])
+		return a.cands[cur], &a.scans[cur], err
+	})
+	if err != nil {
+		return err
+	}
+	c.fill(dst, sc)
+	dst.Model = a.names[cur]
+	dst.ModelScores = scores
+	return nil
+}
+
+// choose runs the forward selection for one sample with the window rows
+// extra left out (besides those read above the ceiling): it returns the
+// chosen candidate and the scores, appended to scores.
+func (a *autoModel) choose(s *spectrum.Spectrum, f Factors, extra []int, scores []ModelScore) (int, []ModelScore, error) {
+	clear(a.state)
 	try := func(i int) error {
 		var rd *readState
 		if a.shares[i] {
@@ -447,7 +468,7 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		if t := a.twin[i]; t >= 0 && a.state[t] == candFitted {
 			from = &a.scans[t]
 		}
-		sc, err := a.cands[i].runShared(s, f, rd, from)
+		sc, err := a.cands[i].runShared(s, f, rd, from, extra)
 		if err != nil {
 			a.state[i] = candFailed
 			return err
@@ -457,7 +478,7 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	}
 	cur := a.base
 	if err := try(cur); err != nil {
-		return err
+		return cur, scores, err
 	}
 	rss0, dof0 := a.cands[cur].objective(&a.scans[cur])
 	scores = append(scores, ModelScore{Model: a.names[cur], RSS: rss0, DoF: dof0})
@@ -494,9 +515,5 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		rss0 = scores[chosen].RSS
 	}
 	scores[chosen].Chosen = true
-	c := a.cands[cur]
-	c.fill(dst, &a.scans[cur])
-	dst.Model = a.names[cur]
-	dst.ModelScores = scores
-	return nil
+	return cur, scores, nil
 }

@@ -1,0 +1,127 @@
+package unmix
+
+import "slices"
+
+// The ceiling rule, second half: a point that reads below the ceiling but
+// that the fit predicts above it is left out too. Near a detector's limit
+// a reading is no longer the absorbance (stray light flattens it, noise
+// there is large), so a band whose true height is A = 3 may read 1.9 at
+// some points; kept, those points pull the compound's amount down. After
+// each fit the raw absorbance the fit predicts (fitted compounds,
+// baseline and interferents plus the blank: predictedAt) is computed on
+// every window point that reads at or below the ceiling; the points
+// predicted above it are left out and the sample refitted, until the set
+// left out repeats (a fixed set). The iteration is capped at
+// ceilingMaxIter refits; if the sets cycle, or the cap is reached, every
+// point predicted above the ceiling in any round is left out and the
+// sample fitted once more, which ends it. Points left out so are counted
+// in Result.Dropped and raise FlagSaturated, as points read above the
+// ceiling do. The rule needs the fit in raw absorbance, so it is not
+// applied when the reference set has pre-treatment steps.
+
+// ceilingMaxIter caps the refits of the predicted-ceiling rule (a project
+// choice: in tests the set settles after one or two refits).
+const ceilingMaxIter = 8
+
+// ceilingFit fits the sample with the window rows extra (ascending)
+// left out besides those read above the ceiling; it returns the model
+// that made the fit (the chosen candidate, with Options.Auto) and its
+// scan.
+type ceilingFit func(extra []int) (*Model, *scan, error)
+
+// settleCeiling runs fit until the rows predicted above the ceiling are
+// a fixed set (see the rule above) and returns the last fit.
+func settleCeiling(fit ceilingFit) (*Model, *scan, error) {
+	var extra []int
+	m, sc, err := fit(nil)
+	if err != nil || len(m.set.Pretreat) > 0 {
+		return m, sc, err
+	}
+	var seen [][]int
+	for iter := 1; ; iter++ {
+		next := m.predictedOver(nil, sc, extra)
+		if slices.Equal(next, extra) {
+			return m, sc, nil
+		}
+		seen = append(seen, extra)
+		cycle := slices.ContainsFunc(seen, func(s []int) bool { return slices.Equal(s, next) })
+		if cycle || iter >= ceilingMaxIter {
+			all := next
+			for _, s := range seen {
+				all = append(all, s...)
+			}
+			slices.Sort(all)
+			return fit(slices.Compact(all))
+		}
+		extra = next
+		if m, sc, err = fit(extra); err != nil {
+			return m, sc, err
+		}
+	}
+}
+
+// predictedAt is the raw absorbance the scan's fit predicts at window
+// row r: the blank plus every fitted column.
+func (m *Model) predictedAt(sc *scan, r int) float64 {
+	sh := m.sh
+	v := sc.blk[sh.lo-sh.wlo+r]
+	for j, c := range sh.cols {
+		v += sc.res.Coef[j] * c[r]
+	}
+	return v
+}
+
+// predictedOver appends to dst, ascending, the window rows that read at
+// or below the ceiling (the fit's rows and extra, those already left out
+// for their prediction) where the fit predicts the raw absorbance above
+// the ceiling.
+func (m *Model) predictedOver(dst []int, sc *scan, extra []int) []int {
+	rows := sc.d.rows
+	i, j := 0, 0
+	for i < len(rows) || j < len(extra) {
+		var r int
+		if j >= len(extra) || i < len(rows) && rows[i] < extra[j] {
+			r, i = rows[i], i+1
+		} else {
+			r, j = extra[j], j+1
+		}
+		if m.predictedAt(sc, r) > m.sh.ceiling {
+			dst = append(dst, r)
+		}
+	}
+	return dst
+}
+
+// leaveOut removes the window rows extra (ascending, each among sc.rows)
+// from the scan's rows, counts them as dropped and rebuilds the mask key
+// (the left-out usable rows) so that the design cache tells the masks
+// apart.
+func (m *Model) leaveOut(sc *scan, extra []int) {
+	if len(extra) == 0 {
+		return
+	}
+	b := &m.buf
+	kept := b.rows[:0]
+	j := 0
+	for _, r := range sc.rows {
+		for j < len(extra) && extra[j] < r {
+			j++
+		}
+		if j < len(extra) && extra[j] == r {
+			sc.dropped++
+			continue
+		}
+		kept = append(kept, r)
+	}
+	b.rows = kept
+	b.key = b.key[:0]
+	i := 0
+	for _, r := range m.sh.rows0 {
+		if i < len(kept) && kept[i] == r {
+			i++
+			continue
+		}
+		b.key = append(b.key, byte(r>>16), byte(r>>8), byte(r))
+	}
+	sc.rows, sc.key = b.rows, b.key
+}
