@@ -24,15 +24,21 @@ import (
 // this build reads and writes. Files from a newer schema are refused.
 // Schema 2 adds noise_model; a set without one is written as schema 1,
 // byte for byte as before, so older builds still read it, and refuse a
-// set with a noise model as newer (rather than as damaged).
-const SchemaVersion = 2
+// set with a noise model as newer (rather than as damaged). Schema 3
+// adds interferents, in the same way.
+const SchemaVersion = 3
 
-// schemaOf is the schema a set is written as: 2 with a noise model, else 1.
+// schemaOf is the schema a set is written as: the lowest that holds its
+// optional fields (2 with a noise model, 3 with interferents), else 1.
 func (s *Set) schemaOf() int {
+	v := 1
 	if s.NoiseModel != nil {
-		return 2
+		v = 2
 	}
-	return 1
+	if len(s.Interferents) > 0 {
+		v = max(v, schemaInterferents)
+	}
+	return v
 }
 
 // Compound is one calibrated compound.
@@ -255,6 +261,9 @@ type Set struct {
 	// standards; nil (omitted) in sets that do not have one, which keep
 	// the fixed rule (see [Set.Sigma]).
 	NoiseModel *NoiseModel `json:"noise_model,omitempty"`
+	// Interferents are scans of substances present but not quantified,
+	// stored at calibrate time; nil (omitted) in sets without them.
+	Interferents []Interferent `json:"interferents,omitempty"`
 	// PathCM is the path length the standards were scanned at.
 	PathCM float64 `json:"path_cm"`
 	// Ceiling is the absorbance above which readings were left out;
@@ -377,6 +386,9 @@ func (s *Set) Validate() error {
 		return err
 	}
 	if err := s.validateNoiseModel(); err != nil {
+		return err
+	}
+	if err := s.validateInterferents(); err != nil {
 		return err
 	}
 	return s.validateStandards()
@@ -774,7 +786,7 @@ func decode(data []byte) (*Set, error) {
 		return nil, errChecksum
 	}
 	if s.Schema < s.schemaOf() {
-		return nil, invalid("noise_model in a schema %d file (it came with schema 2)", s.Schema)
+		return nil, invalid("a schema %d file holds fields of schema %d (noise_model came with 2, interferents with 3)", s.Schema, s.schemaOf())
 	}
 	if err := s.Validate(); err != nil {
 		return nil, err
