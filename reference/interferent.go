@@ -58,3 +58,7 @@ func (s *Set) validateInterferents() error {
 	}
 	return nil
 }
+
+// FileSchema is the schema the set is written as (Save, Encode): the
+// lowest that holds its optional fields, for a set built in memory.
+func (s *Set) FileSchema() int { return s.schemaOf() }
