@@ -5,7 +5,10 @@ import (
 	"path/filepath"
 	"strings"
 
+	"github.com/spf13/pflag"
+
 	"huesolve/baseline"
+	"huesolve/method"
 	"huesolve/provenance"
 	"huesolve/reference"
 	"huesolve/spectrum"
@@ -101,4 +104,48 @@ func recordInterferents(run *provenance.Run, set *reference.Set, given []string)
 	for _, f := range given {
 		run.Interferents = append(run.Interferents, hashed("", f))
 	}
+}
+
+// methodInterferents are the --interferent files as a method saved to
+// methodPath records them: the path relative to its folder and the
+// file's SHA-256.
+func methodInterferents(methodPath string, files []string) ([]method.Interferent, error) {
+	var out []method.Interferent
+	for _, f := range files {
+		sum, err := reference.FileSHA256(f)
+		if err != nil {
+			return nil, fmt.Errorf("--interferent %s: %w", f, err)
+		}
+		out = append(out, method.Interferent{Path: method.RelativePath(methodPath, f), SHA256: sum})
+	}
+	return out, nil
+}
+
+// applyInterferents gives --interferent the method's files (checked
+// against their SHA-256) when the command line gave none; files given are
+// recorded as an override.
+func (mf *methodFlags) applyInterferents(fs *pflag.FlagSet) error {
+	fl := fs.Lookup("interferent")
+	if fl == nil || len(mf.m.Fit.Interferents) == 0 {
+		return nil
+	}
+	var saved []string
+	for _, it := range mf.m.Fit.Interferents {
+		saved = append(saved, it.Path)
+	}
+	if fl.Changed {
+		given, _ := fs.GetStringArray("interferent")
+		mf.overrides = append(mf.overrides, provenance.Override{Name: "interferent", Value: strings.Join(given, ", "), Method: strings.Join(saved, ", ")})
+		return nil
+	}
+	paths, err := mf.m.InterferentPaths(mf.use)
+	if err != nil {
+		return err
+	}
+	for _, p := range paths {
+		if err := fl.Value.Set(p); err != nil {
+			return err
+		}
+	}
+	return nil
 }

@@ -109,6 +109,26 @@ func TestInterferentStored(t *testing.T) {
 	if _, e, code := run(t, "solve", withHaze, filepath.Join(dir, "hz-1.csv"), "--interferent", haze); code == exitOK || !strings.Contains(e, "haze.csv is given twice") {
 		t.Errorf("the stored interferent given again: exit %d\n%s", code, e)
 	}
+
+	// A method saved by verify --interferent carries the scan (path and
+	// SHA-256): solve --method fits it; once the file changes, the method
+	// is refused naming it.
+	m := filepath.Join(dir, "m.json")
+	if _, e, code := run(t, "verify", refs, checks, "--interferent", haze, "--baseline", "offset", "--save-method", m); code != exitOK {
+		t.Fatalf("verify --save-method: exit %d\n%s", code, e)
+	}
+	raw, err := os.ReadFile(m)
+	if err != nil || !strings.Contains(string(raw), `"path": "haze.csv"`) || !strings.Contains(string(raw), sum) {
+		t.Fatalf("method %v:\n%s", err, raw)
+	}
+	out, e, code = run(t, "solve", "--method", m, filepath.Join(dir, "hz-2.csv"), "--format", "csv")
+	if code != exitOK || !strings.Contains(out, "interferent_haze.csv") || !strings.Contains(out, "# interferent: "+sum) {
+		t.Errorf("solve --method with an interferent: exit %d\n%s\n%s", code, e, out)
+	}
+	writeOneScan(t, haze, wl, func(l float64) float64 { return 1.1 * hazeBand(l) })
+	if _, e, code := run(t, "solve", "--method", m, filepath.Join(dir, "hz-2.csv")); code == exitOK || !strings.Contains(e, "haze.csv has changed since the method was saved") {
+		t.Errorf("solve --method with the interferent changed: exit %d\n%s", code, e)
+	}
 }
 
 // TestInterferentBadInput: calibrate --interferent refuses, naming the

@@ -261,7 +261,12 @@ func (o *verifyOptions) saveMethod(cmd *cobra.Command, run *provenance.Run, refP
 	}
 	acc := &method.Acceptance{RecoveryLoPct: vopt.Limits.RecoveryLo, RecoveryHiPct: vopt.Limits.RecoveryHi,
 		MaxRSDPct: vopt.Limits.MaxRSD, MinSelectivity: vopt.MinSelectivity}
-	return o.method.saveMethod(cmd, run, refPath, set, methodFit(&o.fit, mopt, o.scans.quantity, pathCM), acc)
+	fit := methodFit(&o.fit, mopt, o.scans.quantity, pathCM)
+	var err error
+	if fit.Interferents, err = methodInterferents(o.method.save, o.interf); err != nil {
+		return err
+	}
+	return o.method.saveMethod(cmd, run, refPath, set, fit, acc)
 }
 
 // check reads the flags of verify into the model options, the quantity
