@@ -438,15 +438,20 @@ func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore) bool {
 func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	a := m.auto
 	a.rd.filled = false
-	scores := dst.ModelScores[:0]
-	cur := a.base
-	c, sc, err := settleCeiling(func(extra []int) (*Model, *scan, error) {
-		var err error
-		cur, scores, err = a.choose(s, f, extra, scores[:0])
-		return a.cands[cur], &a.scans[cur], err
-	})
+	cur, scores, err := a.choose(s, f, nil, dst.ModelScores[:0])
 	if err != nil {
 		return err
+	}
+	c, sc := a.cands[cur], &a.scans[cur]
+	if c.overCeiling(sc) {
+		c, sc, err = settleCeiling(c, sc, func(extra []int) (*Model, *scan, error) {
+			var err error
+			cur, scores, err = a.choose(s, f, extra, scores[:0])
+			return a.cands[cur], &a.scans[cur], err
+		})
+		if err != nil {
+			return err
+		}
 	}
 	c.fill(dst, sc)
 	dst.Model = a.names[cur]

@@ -30,13 +30,10 @@ const ceilingMaxIter = 8
 type ceilingFit func(extra []int) (*Model, *scan, error)
 
 // settleCeiling runs fit until the rows predicted above the ceiling are
-// a fixed set (see the rule above) and returns the last fit.
-func settleCeiling(fit ceilingFit) (*Model, *scan, error) {
+// a fixed set (see the rule above) and returns the last fit. m and sc are
+// the first fit, with no row left out for its prediction.
+func settleCeiling(m *Model, sc *scan, fit ceilingFit) (*Model, *scan, error) {
 	var extra []int
-	m, sc, err := fit(nil)
-	if err != nil || len(m.set.Pretreat) > 0 {
-		return m, sc, err
-	}
 	var seen [][]int
 	for iter := 1; ; iter++ {
 		next := m.predictedOver(nil, sc, extra)
@@ -54,10 +51,29 @@ func settleCeiling(fit ceilingFit) (*Model, *scan, error) {
 			return fit(slices.Compact(all))
 		}
 		extra = next
+		var err error
 		if m, sc, err = fit(extra); err != nil {
 			return m, sc, err
 		}
 	}
+}
+
+// overCeiling reports whether the fit of sc predicts the raw absorbance
+// above the ceiling on any of its rows (the cheap test that spares most
+// samples settleCeiling). It is false when the set has pre-treatment
+// steps: the fit is then not in raw absorbance, and the rule is not
+// applied.
+func (m *Model) overCeiling(sc *scan) bool {
+	if len(m.set.Pretreat) > 0 {
+		return false
+	}
+	off := m.sh.lo - m.sh.wlo
+	for i, r := range sc.d.rows {
+		if sc.raw[off+r]-sc.res.Residual[i] > m.sh.ceiling {
+			return true
+		}
+	}
+	return false
 }
 
 // predictedAt is the raw absorbance the scan's fit predicts at window
@@ -74,18 +90,26 @@ func (m *Model) predictedAt(sc *scan, r int) float64 {
 // predictedOver appends to dst, ascending, the window rows that read at
 // or below the ceiling (the fit's rows and extra, those already left out
 // for their prediction) where the fit predicts the raw absorbance above
-// the ceiling.
+// the ceiling. On a fitted row the prediction is the reading less the
+// residual (the fit is of the reading less the blank); on a row left out
+// it is predictedAt.
 func (m *Model) predictedOver(dst []int, sc *scan, extra []int) []int {
 	rows := sc.d.rows
+	off := m.sh.lo - m.sh.wlo
 	i, j := 0, 0
 	for i < len(rows) || j < len(extra) {
 		var r int
+		var pred float64
 		if j >= len(extra) || i < len(rows) && rows[i] < extra[j] {
-			r, i = rows[i], i+1
+			r = rows[i]
+			pred = sc.raw[off+r] - sc.res.Residual[i]
+			i++
 		} else {
-			r, j = extra[j], j+1
+			r = extra[j]
+			pred = m.predictedAt(sc, r)
+			j++
 		}
-		if m.predictedAt(sc, r) > m.sh.ceiling {
+		if pred > m.sh.ceiling {
 			dst = append(dst, r)
 		}
 	}

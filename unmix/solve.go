@@ -80,14 +80,22 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	if m.auto != nil {
 		return m.solveAuto(dst, s, f)
 	}
-	_, sc, err := settleCeiling(func(extra []int) (*Model, *scan, error) {
+	sc, err := m.runShared(s, f, nil, nil, nil)
+	if err != nil {
+		return err
+	}
+	if !m.overCeiling(&sc) {
+		m.fill(dst, &sc)
+		return nil
+	}
+	_, last, err := settleCeiling(m, &sc, func(extra []int) (*Model, *scan, error) {
 		sc, err := m.runShared(s, f, nil, nil, extra)
 		return m, &sc, err
 	})
 	if err != nil {
 		return err
 	}
-	m.fill(dst, sc)
+	m.fill(dst, last)
 	return nil
 }
 
