@@ -1,12 +1,14 @@
 package unmix
 
 import (
+	"fmt"
 	"math"
 	"math/rand/v2"
 	"slices"
 	"testing"
 
 	"huesolve/spectrum"
+	"huesolve/unmix/lsq"
 )
 
 // ceilingSample is an invented mixture of autoSet's dyes, coral so
@@ -97,6 +99,58 @@ func TestPredictedAboveCeilingLeftOut(t *testing.T) {
 			t.Logf("coral: worst relative error %.4g; worst error over SE %.3g", worst, worstZ)
 			if worst > tol || worstZ > zTol {
 				t.Errorf("coral's worst relative error %.4g (want <= %g), worst error over its SE %.3g (want <= %g)", worst, tol, worstZ, zTol)
+			}
+		})
+	}
+}
+
+// TestSettleCeilingCycle: when the rows predicted above the ceiling do
+// not settle but cycle ({0}, then {1}, then {0} again), settleCeiling
+// leaves out every row predicted above in any round ({0, 1}) and fits
+// once more; when they settle, it stops at the fixed set.
+func TestSettleCeilingCycle(t *testing.T) {
+	m := &Model{sh: &shared{ceiling: 1, cols: [][]float64{{1, 0}, {0, 1}}}}
+	// fake returns a fit on two rows (those not in extra) whose
+	// prediction is 2 (above the ceiling) on the rows in over, else 0.
+	fake := func(extra, over []int) *scan {
+		sc := &scan{raw: []float64{0.5, 0.5}, blk: []float64{0, 0}, d: &design{}, res: &lsq.Result{Coef: []float64{0, 0}}}
+		for r := range 2 {
+			pred := 0.0
+			if slices.Contains(over, r) {
+				pred = 2
+			}
+			sc.res.Coef[r] = pred
+			if !slices.Contains(extra, r) {
+				sc.d.rows = append(sc.d.rows, r)
+				sc.res.Residual = append(sc.res.Residual, 0.5-pred)
+			}
+		}
+		return sc
+	}
+	for _, tc := range []struct {
+		name  string
+		next  map[string][]int // rows predicted over for each set left out
+		calls []string         // the sets fit is called with, in order
+	}{
+		{"cycle", map[string][]int{"[0]": {1}, "[1]": {0}, "[0 1]": {0, 1}}, []string{"[0]", "[1]", "[0 1]"}},
+		{"settles", map[string][]int{"[0]": {0, 1}, "[0 1]": {0, 1}}, []string{"[0]", "[0 1]"}},
+	} {
+		t.Run(tc.name, func(t *testing.T) {
+			var calls []string
+			fit := func(extra []int) (*Model, *scan, error) {
+				key := fmt.Sprint(extra)
+				calls = append(calls, key)
+				return m, fake(extra, tc.next[key]), nil
+			}
+			_, sc, err := settleCeiling(m, fake(nil, []int{0}), fit)
+			if err != nil {
+				t.Fatal(err)
+			}
+			if !slices.Equal(calls, tc.calls) {
+				t.Errorf("fits with %v left out, want %v", calls, tc.calls)
+			}
+			if got := fmt.Sprint(sc.d.rows); got != "[]" {
+				t.Errorf("last fit's rows %s, want none (both left out)", got)
 			}
 		})
 	}
