@@ -91,6 +91,12 @@ type Options struct {
 	// out and fits again, once; the rows left out are recorded in the
 	// compound's StandardsLeftOut and in the provenance notes.
 	DropOutliers bool
+	// Interferents are stored in the set as they are
+	// (reference.Set.Interferents): scans of substances present in
+	// samples but not quantified, which solve and verify then fit in
+	// every sample. Build does not use them; the set's own check
+	// (reference.Set.Validate) checks their fields.
+	Interferents []reference.Interferent
 }
 
 // buildPkg is the prefix of Build's errors, "calibration: build": the
@@ -157,6 +163,15 @@ func BuildContext(ctx context.Context, sh *Sheet, opt Options) (*reference.Set, 
 		for _, n := range b.notes {
 			warn(n)
 		}
+	}
+	if err == nil && len(opt.Interferents) > 0 {
+		set.Interferents = opt.Interferents
+		if err = set.Validate(); err != nil {
+			return nil, pkgerr.Errorf(buildPkg, "interferents: %w", err)
+		}
+	}
+	if err == nil {
+		set.Schema = set.FileSchema()
 	}
 	return set, err
 }

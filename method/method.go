@@ -91,6 +91,9 @@ type Fit struct {
 	// PathCM is the samples' path length in cm; 0 for the reference
 	// set's.
 	PathCM float64 `json:"path_cm"`
+	// Interferents are the --interferent scans of the fit; omitted when
+	// none (methods without them are written as before).
+	Interferents []Interferent `json:"interferents,omitempty"`
 }
 
 // Acceptance are the limits verify judges check standards by.
@@ -176,6 +179,9 @@ func (m *Method) Validate() error {
 	}
 	if f.PathCM != 0 && !(f.PathCM >= reference.MinPathCM && f.PathCM <= reference.MaxPathCM) {
 		return bad("fit.path_cm %g: want 0 (the reference set's) or %g to %g cm", f.PathCM, float64(reference.MinPathCM), float64(reference.MaxPathCM))
+	}
+	if err := f.validateInterferents(); err != nil {
+		return err
 	}
 	if a := m.Acceptance; a != nil {
 		switch {

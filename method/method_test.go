@@ -74,17 +74,19 @@ func TestDecodeRefuses(t *testing.T) {
 
 func TestValidateRanges(t *testing.T) {
 	for name, edit := range map[string]func(m *Method){
-		"window":          func(m *Method) { m.Fit.WindowNM = &[2]float64{750, 350} },
-		"baseline":        func(m *Method) { m.Fit.Baseline = "sextic" },
-		"max shift":       func(m *Method) { m.Fit.MaxShiftNM = 80 },
-		"ceiling":         func(m *Method) { m.Fit.Ceiling = -1 },
-		"quantity":        func(m *Method) { m.Fit.Quantity = "fluorescence" },
-		"path":            func(m *Method) { m.Fit.PathCM = 1e6 },
-		"recovery":        func(m *Method) { m.Acceptance.RecoveryHiPct = 90 },
-		"rsd":             func(m *Method) { m.Acceptance.MaxRSDPct = 0 },
-		"selectivity":     func(m *Method) { m.Acceptance.MinSelectivity = 1 },
-		"checksum of set": func(m *Method) { m.Reference.Checksum = "abc" },
-		"path of set":     func(m *Method) { m.Reference.Path = "" },
+		"window":           func(m *Method) { m.Fit.WindowNM = &[2]float64{750, 350} },
+		"baseline":         func(m *Method) { m.Fit.Baseline = "sextic" },
+		"max shift":        func(m *Method) { m.Fit.MaxShiftNM = 80 },
+		"ceiling":          func(m *Method) { m.Fit.Ceiling = -1 },
+		"quantity":         func(m *Method) { m.Fit.Quantity = "fluorescence" },
+		"path":             func(m *Method) { m.Fit.PathCM = 1e6 },
+		"recovery":         func(m *Method) { m.Acceptance.RecoveryHiPct = 90 },
+		"rsd":              func(m *Method) { m.Acceptance.MaxRSDPct = 0 },
+		"selectivity":      func(m *Method) { m.Acceptance.MinSelectivity = 1 },
+		"checksum of set":  func(m *Method) { m.Reference.Checksum = "abc" },
+		"path of set":      func(m *Method) { m.Reference.Path = "" },
+		"interferent sha":  func(m *Method) { m.Fit.Interferents = []Interferent{{Path: "haze.csv", SHA256: "abc"}} },
+		"interferent path": func(m *Method) { m.Fit.Interferents = []Interferent{{SHA256: sum}} },
 	} {
 		m := sample()
 		edit(m)
@@ -176,4 +178,45 @@ func FuzzDecode(f *testing.F) {
 			t.Fatalf("re-encoded method: %v", err)
 		}
 	})
+}
+
+// TestInterferentPaths: a method's interferents are read from its folder
+// and refused, naming the file, once the file's SHA-256 differs; a method
+// without them is written without the field.
+func TestInterferentPaths(t *testing.T) {
+	dir := t.TempDir()
+	f := filepath.Join(dir, "scans", "haze.csv")
+	if err := os.MkdirAll(filepath.Dir(f), 0o755); err != nil {
+		t.Fatal(err)
+	}
+	if err := os.WriteFile(f, []byte("nm,A\n400,0.1\n401,0.2\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	h, err := reference.FileSHA256(f)
+	if err != nil {
+		t.Fatal(err)
+	}
+	plain, err := sample().Encode()
+	if err != nil || bytes.Contains(plain, []byte("interferents")) {
+		t.Fatalf("a method without interferents: %v\n%s", err, plain)
+	}
+	m := sample()
+	m.Fit.Interferents = []Interferent{{Path: RelativePath(filepath.Join(dir, "m.json"), f), SHA256: h}}
+	if err := m.Save(filepath.Join(dir, "m.json")); err != nil {
+		t.Fatal(err)
+	}
+	got, err := Load(filepath.Join(dir, "m.json"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	paths, err := got.InterferentPaths(filepath.Join(dir, "m.json"))
+	if err != nil || len(paths) != 1 || paths[0] != f {
+		t.Fatalf("paths %q, %v; want %s", paths, err, f)
+	}
+	if err := os.WriteFile(f, []byte("nm,A\n400,0.1\n401,0.3\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, err := got.InterferentPaths(filepath.Join(dir, "m.json")); err == nil || !strings.Contains(err.Error(), "haze.csv has changed") {
+		t.Errorf("changed file: %v", err)
+	}
 }

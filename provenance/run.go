@@ -44,6 +44,11 @@ type Run struct {
 	// standards for cross-validation), each with its SHA-256; File.Role
 	// says which is which.
 	Sheets []File `json:"sheets,omitempty"`
+	// Interferents are the scans of substances fitted but not quantified:
+	// those the reference set stores (Role "stored in the reference
+	// set", with the file and SHA-256 it recorded) and those given, each
+	// with its SHA-256.
+	Interferents []File `json:"interferents,omitempty"`
 	// Settings are every setting in force, in a fixed order, with the
 	// values used (defaults resolved: a window left to the whole grid is
 	// the grid's range).
@@ -143,8 +148,8 @@ type Field struct {
 }
 
 // Fields returns the record as ordered fields: tool, version, time,
-// command, method, reference set, blank, sheets, settings, overrides,
-// then one "input" per input file. A file with a hash is given as
+// command, method, reference set, blank, sheets, interferents, settings,
+// overrides, then one "input" per input file. A file with a hash is given as
 // "SHA256  PATH", the layout of sha256sum(1), so the lines can be
 // checked with it. Values are on one line: text holding control
 // characters is quoted with Go escapes.
@@ -169,6 +174,13 @@ func (r *Run) Fields() []Field {
 	for _, s := range r.Sheets {
 		key := strings.ReplaceAll(s.Role, " ", "_")
 		add(key, upperFirst(s.Role), s.hashed())
+	}
+	for _, f := range r.Interferents {
+		label := "Interferent"
+		if f.Role != "" {
+			label += " (" + f.Role + ")"
+		}
+		add("interferent", label, f.hashed())
 	}
 	for _, s := range r.Settings {
 		add(s.Name, "Setting "+s.Name, s.Value)

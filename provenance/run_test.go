@@ -14,6 +14,8 @@ func TestFieldsOrder(t *testing.T) {
 		Reference: &File{Path: "refs.json", Checksum: "bb"},
 		Blank:     &File{Path: "blank.csv", SHA256: "cc"},
 		Sheets:    []File{{Role: "sample sheet", Path: "samples.csv", SHA256: "dd"}},
+		Interferents: []File{{Role: "stored in the reference set", Path: "scans/haze.csv", SHA256: "a1"},
+			{Path: "base.csv", SHA256: "a2"}},
 		Settings:  Settings{{Name: "window", Value: "350-750"}, {Name: "baseline", Value: "offset"}},
 		Overrides: []Override{{Name: "baseline", Value: "linear", Method: "offset"}},
 		Inputs:    []File{{Path: "lot 7.csv", SHA256: "ee"}, {Path: "gone.csv", Note: "could not be read"}, {Path: "a\nb.csv", SHA256: "ff"}},
@@ -27,6 +29,7 @@ func TestFieldsOrder(t *testing.T) {
 		"command: huesolve solve --method m.json 'lot 7.csv'",
 		"method: m.json", "method_checksum: aa", "reference_set: refs.json", "reference_set_checksum: bb",
 		"blank: cc  blank.csv", "sample_sheet: dd  samples.csv",
+		"interferent: a1  scans/haze.csv", "interferent: a2  base.csv",
 		"window: 350-750", "baseline: offset", "override: baseline linear (method: offset)",
 		"input: ee  lot 7.csv", "input: gone.csv (could not be read)", `input: ff  "a\nb.csv"`,
 	}

@@ -116,8 +116,11 @@ func (s *Set) validateAbsorptivityCov() error {
 
 // newestField names the field that sets the schema s must be written as.
 func (s *Set) newestField() string {
-	if s.AbsorptivityCov != nil {
+	switch {
+	case s.AbsorptivityCov != nil:
 		return "absorptivity_cov"
+	case len(s.Interferents) > 0:
+		return "interferents"
 	}
 	return "noise_model"
 }

@@ -25,20 +25,22 @@ import (
 // Schema 2 adds noise_model; a set without one is written as schema 1,
 // byte for byte as before, so older builds still read it, and refuse a
 // set with a noise model as newer (rather than as damaged). Schema 3 adds
-// absorptivity_cov (see [AbsorptivityCov]); a set without it is written
-// as before.
+// absorptivity_cov (see [AbsorptivityCov]) and interferents, in the same
+// way: a set without them is written as before.
 const SchemaVersion = 3
 
-// schemaOf is the schema a set is written as: 3 with the absorptivities'
-// covariance, 2 with a noise model, else 1.
+// schemaOf is the schema a set is written as: the lowest that holds its
+// optional fields (2 with a noise model, 3 with the absorptivities'
+// covariance or interferents), else 1.
 func (s *Set) schemaOf() int {
-	switch {
-	case s.AbsorptivityCov != nil:
-		return 3
-	case s.NoiseModel != nil:
-		return 2
+	v := 1
+	if s.NoiseModel != nil {
+		v = 2
 	}
-	return 1
+	if s.AbsorptivityCov != nil || len(s.Interferents) > 0 {
+		v = 3
+	}
+	return v
 }
 
 // Compound is one calibrated compound.
@@ -265,6 +267,9 @@ type Set struct {
 	// needs (see [AbsorptivityCov]); nil (omitted) in sets made before it
 	// was recorded, whose results leave the calibration's uncertainty out.
 	AbsorptivityCov *AbsorptivityCov `json:"absorptivity_cov,omitempty"`
+	// Interferents are scans of substances present but not quantified,
+	// stored at calibrate time; nil (omitted) in sets without them.
+	Interferents []Interferent `json:"interferents,omitempty"`
 	// PathCM is the path length the standards were scanned at.
 	PathCM float64 `json:"path_cm"`
 	// Ceiling is the absorbance above which readings were left out;
@@ -390,6 +395,9 @@ func (s *Set) Validate() error {
 		return err
 	}
 	if err := s.validateAbsorptivityCov(); err != nil {
+		return err
+	}
+	if err := s.validateInterferents(); err != nil {
 		return err
 	}
 	return s.validateStandards()

@@ -4,6 +4,7 @@ import (
 	"bytes"
 	"encoding/json"
 	"errors"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
@@ -97,7 +98,7 @@ func TestLoadRefuses(t *testing.T) {
 		{"edited", bytes.Replace(raw, []byte(`"path_cm": 1`), []byte(`"path_cm": 2`), 1), errChecksum},
 		{"edited digit", bytes.Replace(raw, []byte("0.0011"), []byte("0.0021"), 1), errChecksum},
 		{"checksum altered", bytes.Replace(raw, []byte(`"checksum": "`), []byte(`"checksum": "x`), 1), errChecksum},
-		{"newer schema", bytes.Replace(raw, []byte(`"schema": 1`), []byte(`"schema": 4`), 1), errNewerSchema},
+		{"newer schema", bytes.Replace(raw, []byte(`"schema": 1`), fmt.Appendf(nil, `"schema": %d`, SchemaVersion+1), 1), errNewerSchema},
 		{"not a set", []byte(`{"grid": [1, 2]}`), errNotSet},
 		{"not json", []byte("wavelength,abs\n400,0.1\n"), errNotSet},
 	}

@@ -55,6 +55,7 @@ func WriteSetSummary(w io.Writer, set *reference.Set) error {
 	if err := writeNoiseModel(w, set); err != nil {
 		return err
 	}
+	writeInterferents(w, set)
 	if len(seen) > 0 {
 		fmt.Fprintln(w, "\nFlags:")
 		for _, f := range reference.Flags() {
@@ -159,4 +160,17 @@ func plusMinus(v, se float64) string {
 	d := 1 - int(math.Floor(math.Log10(se)))
 	d = max(0, min(d, 12))
 	return fmt.Sprintf("%.*f ± %.*f", d, v, d, se)
+}
+
+// writeInterferents lists the interferents the set stores (calibrate
+// --interferent), which solve and verify fit in every sample: name, the
+// range its scan covers, the file and the start of its SHA-256.
+func writeInterferents(w io.Writer, set *reference.Set) {
+	if len(set.Interferents) == 0 {
+		return
+	}
+	fmt.Fprintln(w, "\nInterferents stored (fitted in every sample by solve and verify):")
+	for _, it := range set.Interferents {
+		fmt.Fprintf(w, "  %s: %g-%g nm, from %s (SHA-256 %.12s...)\n", termText(it.Name), it.Grid[0], it.Grid[len(it.Grid)-1], termText(it.File), it.SHA256)
+	}
 }

@@ -34,3 +34,26 @@ func TestSetSummaryNoiseModel(t *testing.T) {
 		}
 	}
 }
+
+// TestSetSummaryInterferents: the summary lists the stored interferents
+// with their range, file and SHA-256; a set without them says nothing.
+func TestSetSummaryInterferents(t *testing.T) {
+	s := &reference.Set{Grid: []float64{400, 401}, PathCM: 1, Ceiling: 2, Noise: []float64{1e-3, 1e-3},
+		Compounds: []reference.Compound{{Name: "dye", Absorptivity: []float64{1, 1}}}}
+	var b bytes.Buffer
+	if err := WriteSetSummary(&b, s); err != nil {
+		t.Fatal(err)
+	}
+	if strings.Contains(b.String(), "Interferents") {
+		t.Errorf("a set without interferents lists some:\n%s", b.String())
+	}
+	s.Interferents = []reference.Interferent{{Name: "haze.csv", File: "scans/haze.csv", SHA256: strings.Repeat("ab", 32),
+		Grid: []float64{380, 720}, Absorbance: []float64{0.1, 0.2}}}
+	b.Reset()
+	if err := WriteSetSummary(&b, s); err != nil {
+		t.Fatal(err)
+	}
+	if want := "  haze.csv: 380-720 nm, from scans/haze.csv (SHA-256 abababababab...)"; !strings.Contains(b.String(), want) {
+		t.Errorf("summary lacks %q:\n%s", want, b.String())
+	}
+}

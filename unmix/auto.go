@@ -506,19 +506,46 @@ func (a *autoModel) screen(cur, e int, rss0 float64, ms *ModelScore, stat func(f
 
 // solveAuto chooses the sample's nuisance model by forward selection among
 // the candidates and fills dst with the chosen candidate's result,
-// Result.Model and Result.ModelScores.
+// Result.Model and Result.ModelScores. Points the chosen fit predicts
+// above the ceiling are left out and the choice made again on the rest
+// (settleCeiling), so that every candidate is scored on the same points.
 func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	a := m.auto
-	clear(a.state)
 	a.rd.filled = false
 	// A sample is usually scored on the floor and its three extensions:
-	// room for those at once, more when needed. The F and p values the
-	// scores point to share backing arrays (a pointer into an array
-	// that append has outgrown stays valid).
+	// room for those at once, more when needed.
 	scores := dst.ModelScores[:0]
 	if cap(scores) == 0 {
 		scores = make([]ModelScore, 0, autoScoresCap)
 	}
+	cur, scores, err := a.choose(s, f, nil, scores)
+	if err != nil {
+		return err
+	}
+	c, sc := a.cands[cur], &a.scans[cur]
+	if c.overCeiling(sc) {
+		c, sc, err = settleCeiling(c, sc, func(extra []int) (*Model, *scan, error) {
+			var err error
+			cur, scores, err = a.choose(s, f, extra, scores[:0])
+			return a.cands[cur], &a.scans[cur], err
+		})
+		if err != nil {
+			return err
+		}
+	}
+	c.fill(dst, sc)
+	dst.Model = a.names[cur]
+	dst.ModelScores = scores
+	return nil
+}
+
+// choose runs the forward selection for one sample with the window rows
+// extra left out (besides those read above the ceiling): it returns the
+// chosen candidate and the scores, appended to scores.
+func (a *autoModel) choose(s *spectrum.Spectrum, f Factors, extra []int, scores []ModelScore) (int, []ModelScore, error) {
+	clear(a.state)
+	// The F and p values the scores point to share backing arrays (a
+	// pointer into an array that append has outgrown stays valid).
 	fp := make([]float64, 0, 2*autoScoresCap)
 	stat := func(f, p float64) (*float64, *float64) {
 		fp = append(fp, f, p)
@@ -539,7 +566,7 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		if t := a.twin[i]; t >= 0 && a.state[t] == candFitted {
 			from = &a.scans[t]
 		}
-		sc, err := a.cands[i].runShared(s, f, rd, from)
+		sc, err := a.cands[i].runShared(s, f, rd, from, extra)
 		if err != nil {
 			a.state[i], a.errs[i] = candFailed, err
 			return err
@@ -554,7 +581,7 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		_ = try(j)
 	}
 	if err := try(cur); err != nil {
-		return err
+		return cur, scores, err
 	}
 	rss0, dof0 := a.cands[cur].objective(&a.scans[cur])
 	scores = append(scores, ModelScore{Model: a.names[cur], RSS: rss0, DoF: dof0})
@@ -591,9 +618,5 @@ func (m *Model) solveAuto(dst *Result, s *spectrum.Spectrum, f Factors) error {
 		rss0 = scores[chosen].RSS
 	}
 	scores[chosen].Chosen = true
-	c := a.cands[cur]
-	c.fill(dst, &a.scans[cur])
-	dst.Model = a.names[cur]
-	dst.ModelScores = scores
-	return nil
+	return cur, scores, nil
 }

@@ -80,8 +80,10 @@ func UsableRows(set *reference.Set, lo, hi int) []int {
 // wrong sizes.
 //
 // Interferents, if any, add a non-negative column each after the baseline
-// terms (their scans on the window); a scan that does not cover the
-// window, or is a near-copy of a compound, is refused naming it.
+// terms (their scans on the window): first those the set stores
+// (reference.Set.Interferents), then those given. A scan that does not
+// cover the window, is a near-copy of a compound or a combination of the
+// other columns, or shares another's name, is refused naming it.
 func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM float64, interferents ...Interferent) (*Design, error) {
 	g := set.Grid
 	if lo < 0 || hi > len(g) || hi <= lo {
@@ -112,6 +114,7 @@ func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM floa
 	d.Cols = append(d.Cols, bcols...)
 	d.nonNeg = append(d.nonNeg, bnn...)
 	d.Terms = bnames
+	interferents = append(Stored(set), interferents...)
 	if len(interferents) == 0 {
 		return d, nil
 	}
@@ -119,7 +122,12 @@ func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM floa
 	for _, c := range set.Compounds {
 		names = append(names, c.Name)
 	}
+	seen := map[string]bool{}
 	for _, it := range interferents {
+		if seen[it.Name] {
+			return nil, fmt.Errorf("interferent %s is given twice (the reference set may store one of that name: see inspect); give each once, or rename the file", it.Name)
+		}
+		seen[it.Name] = true
 		col, err := it.column(wl)
 		if err != nil {
 			return nil, err

@@ -28,7 +28,8 @@ const (
 
 // Flags on samples.
 const (
-	// FlagSaturated: points above the absorbance ceiling were left out.
+	// FlagSaturated: points above the absorbance ceiling were left out:
+	// read above it, or predicted above it by the fit (settleCeiling).
 	FlagSaturated Flag = "sat"
 	// FlagDilute: so many points were left out (more than dropLimitFrac
 	// of the window, or any reading at 0 %T or below) that the sample
@@ -77,7 +78,7 @@ var legend = []struct {
 	{FlagBelowLOQ, false, "below the quantitation limit"},
 	{FlagOverRange, true, "above the calibrated range (extrapolated)"},
 	{FlagMimic, true, "the baseline terms can imitate this compound"},
-	{FlagSaturated, false, "points above the absorbance ceiling left out"},
+	{FlagSaturated, false, "points above the absorbance ceiling (read, or predicted by the fit) left out"},
 	{FlagDilute, true, "too many points above the ceiling, or too dark to read: dilute and scan again"},
 	{FlagMisfit, true, "residual well above the expected noise"},
 	{FlagPattern, true, "structured residual (Durbin-Watson)"},

@@ -3,10 +3,14 @@ package unmix
 import (
 	"fmt"
 	"math"
+	"strings"
 
 	"gonum.org/v1/gonum/floats"
+	"gonum.org/v1/gonum/mat"
 
+	"huesolve/reference"
 	"huesolve/spectrum"
+	"huesolve/unmix/lsq"
 )
 
 // Interferent is a coloured substance present in samples but not
@@ -60,6 +64,29 @@ func NewInterferent(s *spectrum.Spectrum, name string) (Interferent, error) {
 	return Interferent{Name: name, WL: wl, A: a}, nil
 }
 
+// Stored returns the interferents set stores (reference.Set.Interferents,
+// from calibrate), which every design of the set fits before those given
+// (NewDesign).
+func Stored(set *reference.Set) []Interferent {
+	var out []Interferent
+	for _, it := range set.Interferents {
+		out = append(out, Interferent{Name: it.Name, WL: it.Grid, A: it.Absorbance})
+	}
+	return out
+}
+
+// ToStored returns the interferent as a reference set stores it, with its
+// scan file and that file's SHA-256.
+func (it Interferent) ToStored(file, sha256 string) reference.Interferent {
+	return reference.Interferent{Name: it.Name, File: file, SHA256: sha256,
+		Grid: append([]float64(nil), it.WL...), Absorbance: append([]float64(nil), it.A...)}
+}
+
+// combinedShare is the fraction of an interferent's column that the other
+// columns together must explain, at least, for one of them to be named
+// as what the interferent duplicates (a project choice: a tenth).
+const combinedShare = 0.1
+
 // column returns the interferent on the wavelengths wl (linear
 // interpolation, never extrapolated): an error when its scan does not
 // cover them or holds no signal there.
@@ -94,8 +121,76 @@ func (d *Design) checkCopies(names []string) error {
 				return fmt.Errorf("interferent %s is a near-copy of %s (cosine %.4f on the points fitted): it cannot be told apart; leave it out", d.interf[i], other, c)
 			}
 		}
+		if err := d.checkCombination(first+i, names); err != nil {
+			return err
+		}
 	}
 	return nil
+}
+
+// checkCombination refuses the interferent in column j when the columns
+// before it (compounds, baseline terms, earlier interferents) together
+// reproduce it: the part of its column they leave unexplained (its
+// leakage) is below sqrt(1 - nearCopyCos^2), the limit of a near-copy.
+// The error names the columns that make up at least combinedShare of it.
+func (d *Design) checkCombination(j int, names []string) error {
+	rows := d.Rows
+	if len(rows) <= j {
+		return nil // too few points for the design: the fit says so
+	}
+	x := mat.NewDense(len(rows), j, nil)
+	y := make([]float64, len(rows))
+	for i, r := range rows {
+		for k := range j {
+			x.Set(i, k, d.Cols[k][r])
+		}
+		y[i] = d.Cols[j][r]
+	}
+	s, err := lsq.NewSolver(x, make([]bool, j), lsq.Options{})
+	if err != nil {
+		return nil // the other columns are dependent already: the design's own check says so
+	}
+	var res lsq.Result
+	if err := s.Solve(&res, y); err != nil {
+		return nil
+	}
+	norm := floats.Norm(y, 2)
+	leak := floats.Norm(res.Residual[:len(rows)], 2) / norm
+	if leak >= math.Sqrt(1-nearCopyCos*nearCopyCos) {
+		return nil
+	}
+	var parts []string
+	base := false
+	first := len(d.Cols) - len(d.interf)
+	for k := range j {
+		share := math.Abs(res.Coef[k]) * cosineNorm(d.Cols[k], rows) / norm
+		switch {
+		case share < combinedShare:
+		case k < d.NComp:
+			parts = append(parts, "compound "+names[k])
+		case k < first:
+			base = true
+		default:
+			parts = append(parts, "interferent "+d.interf[k-first])
+		}
+	}
+	if base {
+		parts = append(parts, "the baseline terms")
+	}
+	what := "the other columns"
+	if len(parts) > 0 {
+		what = strings.Join(parts, " and ")
+	}
+	return fmt.Errorf("interferent %s duplicates %s (all but %.2g %% of it is their combination on the points fitted): the design would be singular; leave it out", d.interf[j-first], what, 100*leak)
+}
+
+// cosineNorm is the norm of a on rows.
+func cosineNorm(a []float64, rows []int) float64 {
+	ss := 0.0
+	for _, r := range rows {
+		ss += a[r] * a[r]
+	}
+	return math.Sqrt(ss)
 }
 
 // cosine is the cosine of the angle between a and b on rows.

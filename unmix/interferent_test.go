@@ -129,3 +129,91 @@ func TestInterferentRefused(t *testing.T) {
 		t.Errorf("copy of a compound: %v", err)
 	}
 }
+
+// TestInterferentSingularRefused: an interferent that is a combination of
+// compounds, or of a compound and the offset, makes the design singular
+// (no pair of columns alike, so the near-copy check alone lets it
+// through); it is refused naming the interferent and what it duplicates.
+// One well apart from them is accepted.
+func TestInterferentSingularRefused(t *testing.T) {
+	set := autoSet()
+	g := set.Grid
+	mk := func(name string, f func(i int) float64) Interferent {
+		v := make([]float64, len(g))
+		for i := range g {
+			v[i] = f(i)
+		}
+		it, err := NewInterferent(&spectrum.Spectrum{Wavelengths: g, Values: v, Quantity: spectrum.Absorbance}, name)
+		if err != nil {
+			t.Fatal(err)
+		}
+		return it
+	}
+	ab := func(k, i int) float64 { return set.Compounds[k].Absorptivity[i] }
+	cases := []struct {
+		name string
+		it   Interferent
+		opt  Options
+		want []string
+	}{
+		{"two compounds", mk("mix.csv", func(i int) float64 { return 2*ab(0, i) + 3*ab(3, i) }), fixedModel(t, "none", false),
+			[]string{"mix.csv", "compound citrine", "compound cobalt", "duplicates"}},
+		{"compound and offset", mk("base.csv", func(i int) float64 { return 5*ab(1, i) + 0.2 }), fixedModel(t, "offset", false),
+			[]string{"base.csv", "compound coral", "the baseline terms"}},
+		{"flat, with the automatic model", mk("flat.csv", func(int) float64 { return 0.3 }), Options{Auto: true},
+			[]string{"flat.csv", "the baseline terms"}},
+	}
+	for _, c := range cases {
+		t.Run(c.name, func(t *testing.T) {
+			c.opt.Interferents = []Interferent{c.it}
+			_, err := NewModel(set, c.opt)
+			if err == nil {
+				t.Fatal("accepted")
+			}
+			for _, w := range c.want {
+				if !strings.Contains(err.Error(), w) {
+					t.Errorf("error %q lacks %q", err, w)
+				}
+			}
+			if strings.Contains(err.Error(), "orchid") {
+				t.Errorf("error %q names orchid, which the interferent does not hold", err)
+			}
+		})
+	}
+	ok := mk("haze.csv", func(i int) float64 { return autoInterferent(g[i]) })
+	if _, err := NewModel(set, Options{Auto: true, Interferents: []Interferent{ok}}); err != nil {
+		t.Errorf("an interferent apart from the compounds: %v", err)
+	}
+}
+
+// TestStoredInterferents: interferents a reference set stores are fitted
+// in every model of the set, before those given, as if given; a given
+// one with a stored one's name is refused naming it.
+func TestStoredInterferents(t *testing.T) {
+	it, err := NewInterferent(interferentScan(350, 750), "impurity.csv")
+	if err != nil {
+		t.Fatal(err)
+	}
+	given := mustModel(t, autoSet(), Options{Auto: true, Interferents: []Interferent{it}})
+	set := autoSet()
+	set.Interferents = append(set.Interferents, it.ToStored("scans/impurity.csv", strings.Repeat("ab", 32)))
+	stored := mustModel(t, set, Options{Auto: true})
+	if got := stored.Interferents(); !slices.Equal(got, []string{"impurity.csv"}) {
+		t.Fatalf("stored model's interferents %q", got)
+	}
+	rng := rand.New(rand.NewPCG(3, 4))
+	for range 5 {
+		conc := []float64{2 + rng.Float64(), 3, 4, 5}
+		s := autoSample(rng, conc, autoTrouble{})
+		for i, l := range s.Wavelengths {
+			s.Values[i] += 0.3 * autoInterferent(l)
+		}
+		a, b := mustSolve(t, given, s, Factors{}), mustSolve(t, stored, s, Factors{})
+		if a.Interferents[0] != b.Interferents[0] || a.Amounts[0].Conc != b.Amounts[0].Conc {
+			t.Errorf("given %+v %g, stored %+v %g: want the same fit", a.Interferents[0], a.Amounts[0].Conc, b.Interferents[0], b.Amounts[0].Conc)
+		}
+	}
+	if _, err := NewModel(set, Options{Interferents: []Interferent{it}}); err == nil || !strings.Contains(err.Error(), "impurity.csv is given twice") {
+		t.Errorf("the stored interferent given again: %v", err)
+	}
+}

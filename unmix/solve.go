@@ -80,28 +80,36 @@ func (m *Model) SolveTo(dst *Result, s *spectrum.Spectrum, f Factors) error {
 	if m.auto != nil {
 		return m.solveAuto(dst, s, f)
 	}
-	sc, err := m.run(s, f)
+	sc, err := m.runShared(s, f, nil, nil, nil)
 	if err != nil {
 		return err
 	}
-	m.fill(dst, &sc)
+	if !m.overCeiling(&sc) {
+		m.fill(dst, &sc)
+		return nil
+	}
+	_, last, err := settleCeiling(m, &sc, func(extra []int) (*Model, *scan, error) {
+		sc, err := m.runShared(s, f, nil, nil, extra)
+		return m, &sc, err
+	})
+	if err != nil {
+		return err
+	}
+	m.fill(dst, last)
 	return nil
 }
 
-// run reads, fits and (with Options.Shift) shifts one sample: every step
-// of SolveTo but filling the result. The scan's slices are views of the
-// model's storage, valid until its next solve.
-func (m *Model) run(s *spectrum.Spectrum, f Factors) (scan, error) {
-	return m.runShared(s, f, nil, nil)
-}
-
-// runShared is run, sharing the reading of the scan through rd when it is
-// not nil (the candidates of the automatic model, which read a scan
+// runShared reads, fits and (with Options.Shift) shifts one sample: every
+// step of SolveTo but filling the result (the scan's slices are views of
+// the model's storage, valid until its next solve). It shares the reading
+// of the scan through rd when it is not nil (the candidates of the automatic model, which read a scan
 // alike): a model that finds rd filled takes the scan as read from it,
 // else it reads the scan and fills rd. from, if not nil, is the fit of
 // the same scan on the same design (rows and columns) by another model:
-// its result stands for m's own first fit.
-func (m *Model) runShared(s *spectrum.Spectrum, f Factors, rd *readState, from *scan) (scan, error) {
+// its result stands for m's own first fit. extra are window rows
+// (ascending) left out besides those read above the ceiling: those the
+// fit predicts above it (settleCeiling).
+func (m *Model) runShared(s *spectrum.Spectrum, f Factors, rd *readState, from *scan, extra []int) (scan, error) {
 	shared := rd != nil && rd.filled
 	sc, err := m.prepareChecked(s, f, shared)
 	if err != nil {
@@ -115,6 +123,10 @@ func (m *Model) runShared(s *spectrum.Spectrum, f Factors, rd *readState, from *
 		if rd != nil {
 			rd.save(m, &sc)
 		}
+	}
+	if err == nil && len(extra) > 0 {
+		m.leaveOut(&sc, extra)
+		err = m.enough(&sc)
 	}
 	if err != nil {
 		return sc, sc.fail(err)

@@ -35,7 +35,7 @@ type CrossValOptions struct {
 func BuildOptionsFor(set *reference.Set) calibration.Options {
 	o := calibration.Options{
 		PathCM: set.PathCM, Ceiling: set.Ceiling, Floor: set.Floor,
-		ThroughOrigin: !set.Intercept, Pretreat: set.Pretreat,
+		ThroughOrigin: !set.Intercept, Pretreat: set.Pretreat, Interferents: set.Interferents,
 	}
 	if len(set.Grid) > 0 {
 		o.WindowLo, o.WindowHi = set.Grid[0], set.Grid[len(set.Grid)-1]

@@ -2,11 +2,14 @@ package main
 
 import (
 	"bytes"
+	"fmt"
 	"os"
 	"path/filepath"
 	"strconv"
 	"strings"
 	"testing"
+
+	"huesolve/reference"
 )
 
 // sparse writes head into path and extends the file to size bytes with a
@@ -170,7 +173,7 @@ func TestHostileReferenceSets(t *testing.T) {
 	}{
 		{"truncated", raw[:len(raw)*3/4], "ends early"},
 		{"edited", bytes.Replace(raw, []byte(`"ceiling": 2`), []byte(`"ceiling": 2.5`), 1), "checksum does not match"},
-		{"future", bytes.Replace(raw, []byte(`"schema": 1`), []byte(`"schema": 4`), 1), "newer reference-set schema"},
+		{"future", bytes.Replace(raw, []byte(`"schema": 1`), fmt.Appendf(nil, `"schema": %d`, reference.SchemaVersion+1), 1), "newer reference-set schema"},
 		{"binary", []byte{0x1f, 0x8b, 0x08, 0x00, 0xff, 0xfe}, "not a huesolve reference set"},
 	} {
 		p := write(c.name+".json", c.data)

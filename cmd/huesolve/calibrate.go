@@ -32,6 +32,7 @@ type calibrateOptions struct {
 	accept, drop  bool
 	scans         scanFlags
 	output        outputFlags
+	interf        []string
 }
 
 const calibrateLong = `Build a reference set from calibration standards.
@@ -93,6 +94,13 @@ The set records when it was made; with the environment variable
 SOURCE_DATE_EPOCH (seconds since 1970-01-01 UTC) that time is used
 instead of the clock, so the same inputs give a byte-identical file.
 
+--interferent FILE (repeatable) stores the scan of a coloured substance
+that samples hold but that is not quantified (an impurity, the product
+base) in the set, with its file name and SHA-256: solve and verify then
+fit it in every sample, as with their own --interferent, and say so. The
+scan must cover the set's grid and not be reproduced by the compounds and
+an offset; the set is then written as schema 3.
+
 ` + caution
 
 func newCalibrateCmd() *cobra.Command {
@@ -120,6 +128,7 @@ func newCalibrateCmd() *cobra.Command {
 	f.Float64Var(&o.maxRSD, "max-rsd", 100*calibration.DefaultMaxRelSD, "largest relative residual SD of a calibration line, % (0: no maximum)")
 	f.BoolVar(&o.accept, "accept-outliers", false, "write the set even when standards are outlying or a line fits poorly (flagged outlier, poor-fit)")
 	f.BoolVar(&o.drop, "drop-outliers", false, "leave outlying standards out and refit once; the set records which rows and why")
+	f.StringArrayVar(&o.interf, "interferent", nil, "scan `FILE` of a coloured substance present in samples but not quantified, stored in the set: solve and verify fit it in every sample (repeatable)")
 	f.StringArrayVar(&o.pretreat, "pretreat", nil, "pre-treatment `STEP`, repeatable, applied in order: zero:LO-HI, als:LAMBDA,P or sg:WINDOW,ORDER[,DERIV]")
 	return cmd
 }
@@ -133,7 +142,7 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 	}
 
 	// Inputs.
-	if err := checkNotInput("-o", o.out, sheetPath, o.scans.blank); err != nil {
+	if err := checkNotInput("-o", o.out, append([]string{sheetPath, o.scans.blank}, o.interf...)...); err != nil {
 		return err
 	}
 	sh, err := calibration.ReadSheet(sheetPath, calibration.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
@@ -144,6 +153,9 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		return err
 	}
 	if opt.Blank, opt.BlankSHA256, err = o.scans.readBlank(q, warn); err != nil {
+		return err
+	}
+	if opt.Interferents, err = storedInterferents(o.interf, q, warn); err != nil {
 		return err
 	}
 	calWarnLostCompounds(o.out, sh, warn)
@@ -158,6 +170,9 @@ func runCalibrate(cmd *cobra.Command, o *calibrateOptions, sheetPath string) err
 		return calInterrupted(o.out)
 	}
 	if err != nil {
+		return err
+	}
+	if err := checkStoredInterferents(set, o.interf); err != nil {
 		return err
 	}
 	calWarnCollinear(set, warn)

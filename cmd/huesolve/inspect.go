@@ -26,16 +26,26 @@ const inspectLong = `Print what a reference set file holds: for each compound it
 maximum, peak absorptivity with standard error, R² of the calibration line,
 linear range and flags, with the conditions the set was built under.
 
+--plots DIR writes the noise figure (noise-model.png, or .svg with
+--plot-format svg): the standards' residual SD over the base noise per
+absorbance group, with error bars, against the fitted noise model, its knee
+marked, beside the fixed rule of sets without a model. A set without a
+measured noise model has no such figure (a note says so).
+
 The file is refused if it was truncated, changed after it was saved
 (checksum), or written by a newer huesolve.`
 
 func newInspectCmd() *cobra.Command {
-	return &cobra.Command{
+	var out outputFlags
+	cmd := &cobra.Command{
 		Use:   "inspect REFSET",
 		Short: "Show what a reference set holds and how sound its calibration is",
 		Long:  inspectLong,
 		Args:  wantArgs(1, 1, "one reference set"),
 		RunE: func(cmd *cobra.Command, args []string) error {
+			if err := out.checkPlots(); err != nil {
+				return err
+			}
 			set, err := reference.Load(args[0])
 			if err != nil {
 				return err
@@ -50,9 +60,30 @@ func newInspectCmd() *cobra.Command {
 					return err
 				}
 			}
-			return nil
+			return inspectPlots(cmd, &out, set)
 		},
 	}
+	out.addPlots(cmd.Flags(), "the noise figure (residual SD against absorbance, the fitted noise model)")
+	return cmd
+}
+
+// inspectPlots writes the noise figure into the --plots folder, if one is
+// given; a set without a measured noise model gets a note instead.
+func inspectPlots(cmd *cobra.Command, out *outputFlags, set *reference.Set) error {
+	if out.plots == "" {
+		return nil
+	}
+	if set.NoiseModel == nil {
+		noteTo(cmd.ErrOrStderr())("no noise figure written: the set holds no measured noise model (it keeps the fixed rule; calibrate measures one when the standards reach above its knee)")
+		return nil
+	}
+	return out.writePlots(cmd, func(dir, format string) ([]string, error) {
+		f, err := report.WriteNoisePlot(set, dir, format)
+		if err != nil {
+			return nil, err
+		}
+		return []string{f}, nil
+	})
 }
 
 // inspectDesign is the figures of merit inspect shows: the whole grid,

@@ -78,3 +78,57 @@ func TestInspectShowsMerits(t *testing.T) {
 		}
 	}
 }
+
+// TestInspectNoisePlot: inspect --plots DIR writes the noise figure of a
+// set with a measured noise model (SVG with its axis labels; PNG by
+// default), and for a set without one writes nothing and says why.
+func TestInspectNoisePlot(t *testing.T) {
+	dir, sheet := calCase(t)
+	refs := filepath.Join(dir, "refs.json")
+	if _, e, code := run(t, "calibrate", sheet, "-o", refs); code != exitOK {
+		t.Fatalf("calibrate: exit %d: %s", code, e)
+	}
+	plain := filepath.Join(dir, "plain")
+	if _, e, code := run(t, "inspect", refs, "--plots", plain); code != exitOK || !strings.Contains(e, "no noise figure written") {
+		t.Errorf("set without a noise model: exit %d, stderr %q", code, e)
+	}
+	if _, err := os.Stat(filepath.Join(plain, "noise-model.png")); err == nil {
+		t.Error("a noise figure was written for a set without a noise model")
+	}
+	set, err := reference.Load(refs)
+	if err != nil {
+		t.Fatal(err)
+	}
+	set.NoiseModel = &reference.NoiseModel{KneeA: 1.3, KneeSE: 0.05, Readings: 200, MaxA: 1.9,
+		Bins: []reference.NoiseBin{{LoA: 0, HiA: 1, MeanA: 0.5, Ratio: 1.01, N: 120}, {LoA: 1, HiA: 1.9, MeanA: 1.5, Ratio: 1.8, N: 80}}}
+	noisy := filepath.Join(dir, "noisy.json")
+	if err := set.Save(noisy); err != nil {
+		t.Fatal(err)
+	}
+	for _, format := range []string{"svg", "png"} {
+		plots := filepath.Join(dir, "plots-"+format)
+		args := []string{"inspect", noisy, "--plots", plots}
+		if format == "svg" {
+			args = append(args, "--plot-format", "svg")
+		}
+		out, e, code := run(t, args...)
+		if code != exitOK || !strings.Contains(e, "1 plots written") || !strings.Contains(out, "Noise growth") {
+			t.Fatalf("inspect --plots (%s): exit %d, stderr %q", format, code, e)
+		}
+		b, err := os.ReadFile(filepath.Join(plots, "noise-model."+format))
+		if err != nil || len(b) == 0 {
+			t.Fatalf("noise figure (%s): %v, %d bytes", format, err, len(b))
+		}
+		if format != "svg" {
+			continue
+		}
+		for _, want := range []string{"Absorbance (fitted)", "Residual SD / base noise", "knee A = 1.300"} {
+			if !bytes.Contains(b, []byte(want)) {
+				t.Errorf("SVG lacks %q", want)
+			}
+		}
+	}
+	if _, e, code := run(t, "inspect", noisy, "--plots", dir, "--plot-format", "gif"); code != exitUsage {
+		t.Errorf("--plot-format gif: exit %d (%s), want %d", code, e, exitUsage)
+	}
+}

@@ -235,7 +235,7 @@ func (mf *methodFlags) apply(fs *pflag.FlagSet) error {
 			}
 		}
 	}
-	return nil
+	return mf.applyInterferents(fs)
 }
 
 // refPath is the reference set's path: the method's (resolved from its

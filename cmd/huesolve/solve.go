@@ -327,6 +327,7 @@ func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, sca
 		o.review.start(j.model, set, mopt)
 	}
 	solveSetNotes(set, j.model, o.scans.blank, j.inputs, j.note, j.warn)
+	interferentNote(set, j.note)
 	if !o.checkOnly {
 		return j.record(cmd, o, set, refPath, mopt, blankSum)
 	}
@@ -348,6 +349,7 @@ func (j *solveJob) record(cmd *cobra.Command, o *solveOptions, set *reference.Se
 	if o.samples != "" {
 		run.Sheets = append(run.Sheets, hashed("sample sheet", o.samples))
 	}
+	recordInterferents(run, set, o.interf)
 	run.Settings = fitSettings(&o.fit, &o.scans, set, mopt)
 	run.Settings = append(run.Settings,
 		provenance.Setting{Name: "dilution", Value: strconv.FormatFloat(o.dilution, 'g', -1, 64)},

@@ -34,6 +34,7 @@ type verifyOptions struct {
 	crossvalBy     string
 	review         reviewFlag
 	qc             recordFlag
+	interf         []string
 }
 
 const verifyLong = `Solve check standards of known composition against a reference set, as if
@@ -120,6 +121,7 @@ func newVerifyCmd() *cobra.Command {
 	f.Float64Var(&o.minSelectivity, "min-selectivity", validate.DefaultMinSelectivity, "selectivity below which a compound is refused")
 	f.StringVar(&o.crossval, "crossval", "", "cross-validate the calibration from its standards `SHEET`")
 	f.StringVar(&o.crossvalBy, "crossval-by", "level", "leave out one composition with its replicates (level) or one standard at a time (standard)")
+	f.StringArrayVar(&o.interf, "interferent", nil, "scan `FILE` of a coloured substance present but not quantified: fitted with its own amount in every check standard, as solve does (repeatable)")
 	o.review.add(f)
 	o.method.addUse(f)
 	o.method.addSave(f, "the reference set, fit options and acceptance limits, when every compound passes,")
@@ -141,6 +143,7 @@ func runVerify(cmd *cobra.Command, o *verifyOptions, refPath, checksPath string)
 	if err != nil {
 		return err
 	}
+	interferentNote(set, noteTo(cmd.ErrOrStderr()))
 	run, err := newRun(cmd)
 	if err != nil {
 		return err
@@ -213,6 +216,7 @@ func (o *verifyOptions) record(run *provenance.Run, set *reference.Set, refPath,
 		run.Blank = &provenance.File{Path: o.scans.blank, SHA256: blankSum}
 	}
 	run.Sheets = append(run.Sheets, hashed("checks sheet", checksPath))
+	recordInterferents(run, set, o.interf)
 	if o.crossval != "" {
 		run.Sheets = append(run.Sheets, hashed("crossval sheet", o.crossval))
 	}
@@ -257,7 +261,12 @@ func (o *verifyOptions) saveMethod(cmd *cobra.Command, run *provenance.Run, refP
 	}
 	acc := &method.Acceptance{RecoveryLoPct: vopt.Limits.RecoveryLo, RecoveryHiPct: vopt.Limits.RecoveryHi,
 		MaxRSDPct: vopt.Limits.MaxRSD, MinSelectivity: vopt.MinSelectivity}
-	return o.method.saveMethod(cmd, run, refPath, set, methodFit(&o.fit, mopt, o.scans.quantity, pathCM), acc)
+	fit := methodFit(&o.fit, mopt, o.scans.quantity, pathCM)
+	var err error
+	if fit.Interferents, err = methodInterferents(o.method.save, o.interf); err != nil {
+		return err
+	}
+	return o.method.saveMethod(cmd, run, refPath, set, fit, acc)
 }
 
 // check reads the flags of verify into the model options, the quantity
@@ -285,7 +294,7 @@ func (o *verifyOptions) check() (unmix.Options, spectrum.Quantity, validate.Veri
 // load reads the reference set, the checks sheet and the blank (into
 // mopt), warning when there is no blank at all.
 func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q spectrum.Quantity, warn func(string)) (*reference.Set, *calibration.Sheet, string, error) {
-	if err := checkNotInput("-o", o.output.out, refPath, o.method.use, checksPath, o.crossval, o.scans.blank); err != nil {
+	if err := checkNotInput("-o", o.output.out, append([]string{refPath, o.method.use, checksPath, o.crossval, o.scans.blank}, o.interf...)...); err != nil {
 		return nil, nil, "", err
 	}
 	if err := checkNotInput("-o", o.output.out, o.qc.path); err != nil {
@@ -321,6 +330,10 @@ func (o *verifyOptions) load(refPath, checksPath string, mopt *unmix.Options, q 
 	if mopt.Blank, blankSum, err = o.scans.readBlank(q, warn); err != nil {
 		return nil, nil, "", err
 	}
+	if mopt.Interferents, err = readInterferents(o.interf, q, warn); err != nil {
+		return nil, nil, "", err
+	}
+
 	if mopt.Blank == nil && len(sh.Blanks) == 0 {
 		warn("no blank given and no blank rows in " + checksPath + ": check standards are solved as read, so the baseline terms must take up the solvent and cell")
 	}
