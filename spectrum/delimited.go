@@ -63,8 +63,12 @@ func ReadDelimited(r io.Reader, file string, opt ReadOptions) ([]*Spectrum, erro
 	if l, ok := r.(interface{ Len() int }); ok && opt.sizeHint == 0 {
 		opt.sizeHint = int64(l.Len()) // a bytes.Reader, say: sizes the store
 	}
+	return readDelimited(newLineReader(r, file, opt.maxLine(), opt.sizeHint), file, opt)
+}
+
+// readDelimited is ReadDelimited on the lines of lr.
+func readDelimited(lr *lineReader, file string, opt ReadOptions) ([]*Spectrum, error) {
 	d := &delimReader{file: file, opt: &opt, maxCols: opt.maxCols()}
-	lr := newLineReader(r, file, opt.maxLine(), opt.sizeHint)
 	if err := d.read(lr); err != nil {
 		return nil, err
 	}
