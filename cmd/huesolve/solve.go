@@ -42,6 +42,7 @@ type solveOptions struct {
 	interf    []string
 	lab       labFlags
 	qc        recordFlag
+	inputs    []batch.Input // the scan arguments expanded (check)
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -242,7 +243,10 @@ func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath stri
 	if o.checkOnly && o.qc.path != "" {
 		return mopt, q, usagef("--check-only records no run: leave out --record")
 	}
-	inputs := append(append([]string{refPath, o.method.use, o.scans.blank, o.samples}, o.interf...), scanInputFiles(scans)...)
+	// Expanded once: load takes the same inputs (a folder of 20,000
+	// scans is listed and sorted once).
+	o.inputs = batch.ExpandInputs(scans)
+	inputs := append(append([]string{refPath, o.method.use, o.scans.blank, o.samples}, o.interf...), scanInputFiles(o.inputs)...)
 	if err = checkNotInput("-o", o.output.out, append(inputs, o.qc.path)...); err != nil {
 		return mopt, q, err
 	}
@@ -325,7 +329,7 @@ func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, sca
 			return err
 		}
 	}
-	j.inputs = batch.ExpandInputs(scans)
+	j.inputs = o.inputs
 	if o.review.on() {
 		o.review.start(j.model, set, mopt)
 	}
