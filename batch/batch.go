@@ -189,6 +189,11 @@ type Outcome struct {
 	// Encoded holds what Batch.Encode made of Result (nil without it).
 	// Like Result it is reused after emit returns.
 	Encoded []byte
+	// Digest is set on the first outcome of each input file read when
+	// Batch.Digests is (nil on the others, and for an argument that
+	// named no file): the SHA-256 of the file's bytes as they were read
+	// for this run, or why there is none.
+	Digest *spectrum.Digest
 	// checked: with Batch.CheckOnly, the sample was read and could be
 	// solved.
 	checked bool
@@ -241,6 +246,10 @@ type Batch struct {
 	// that could not be solved (Summary.Checked counts those that could). Factors is
 	// called as usual; Each and Encode are not.
 	CheckOnly bool
+	// Digests asks the reader for the SHA-256 of each input file
+	// (spectrum.ReadOptions.Digest), taken from the bytes it parses, so
+	// that no file is read twice; it comes in Outcome.Digest.
+	Digests bool
 }
 
 // job is a chunk of consecutive samples of one file (or a file that
@@ -253,14 +262,17 @@ type job struct {
 	// taken by an earlier sample ("" when it keeps its own).
 	names []string
 	err   error
+	// digest is the file's, on its first job only.
+	digest *spectrum.Digest
 }
 
 // maxChunk is the most samples handed to a worker at once.
 const maxChunk = 64
 
 type fileRead struct {
-	ss  []*spectrum.Spectrum
-	err error
+	ss     []*spectrum.Spectrum
+	err    error
+	digest *spectrum.Digest
 }
 
 // run is the state of one Batch.Run: the channels between its stages.
@@ -381,11 +393,15 @@ func (r *run) readAhead(wg *sync.WaitGroup) {
 					slot <- fileRead{err: in.Err}
 					continue
 				}
-				ss, err := read(in.Path, r.b.Read)
+				opt := r.b.Read
+				if r.b.Digests {
+					opt.Digest = new(spectrum.Digest)
+				}
+				ss, err := read(in.Path, opt)
 				if err == nil && len(ss) == 0 {
 					err = fmt.Errorf("%s: %w", in.Path, spectrum.ErrEmpty)
 				}
-				slot <- fileRead{ss: ss, err: err}
+				slot <- fileRead{ss: ss, err: err, digest: opt.Digest}
 			}
 		})
 	}
@@ -423,7 +439,7 @@ func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
 		r.knownN.Add(1)
 		r.knownF.Add(1)
 		select {
-		case r.jobs <- job{seq: seq, file: file, err: fr.err}:
+		case r.jobs <- job{seq: seq, file: file, err: fr.err, digest: fr.digest}:
 		case <-r.ctx.Done():
 			return seq, false
 		}
@@ -442,10 +458,11 @@ func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
 			cn = names[lo:hi]
 		}
 		select {
-		case r.jobs <- job{seq: seq, file: file, ss: chunk, names: cn}:
+		case r.jobs <- job{seq: seq, file: file, ss: chunk, names: cn, digest: fr.digest}:
 		case <-r.ctx.Done():
 			return seq, false
 		}
+		fr.digest = nil
 		seq += len(chunk)
 	}
 	return seq, true
@@ -525,9 +542,12 @@ func (r *run) solve() {
 // solveJob solves the samples of j with m.
 func (r *run) solveJob(m *unmix.Model, j job) []Outcome {
 	if j.err != nil {
-		return []Outcome{{Seq: j.seq, File: j.file, Err: j.err, Unread: true}}
+		return []Outcome{{Seq: j.seq, File: j.file, Err: j.err, Unread: true, Digest: j.digest}}
 	}
 	outs := make([]Outcome, len(j.ss))
+	if len(outs) > 0 {
+		outs[0].Digest = j.digest
+	}
 	for k, s := range j.ss {
 		o := &outs[k]
 		o.Seq, o.File = j.seq+k, j.file

@@ -411,3 +411,40 @@ func TestConstantScanRefused(t *testing.T) {
 		}
 	}
 }
+
+// TestDigests: with Digests, each input file read gives its reader's
+// digest once, on its first outcome, in input order for any number of
+// workers; an argument that named no file and the other samples of a
+// file give none.
+func TestDigests(t *testing.T) {
+	sizes := map[string]int{"a": 3, "b": 1, "c": 130, "d": 2}
+	bad := map[string]bool{"b": true}
+	files := fakeFiles(sizes, bad)
+	read := func(path string, opt spectrum.ReadOptions) ([]*spectrum.Spectrum, error) {
+		if opt.Digest == nil {
+			t.Fatalf("%s: read without a digest to fill", path)
+		}
+		opt.Digest.Read = true
+		opt.Digest.SHA256[0] = path[0]
+		return files(path, opt)
+	}
+	inputs := []Input{{Path: "a"}, {Path: "b"}, {Path: "*.none", Err: errNoMatch}, {Path: "c"}, {Path: "d"}}
+	for _, workers := range []int{1, 2, 5} {
+		b := &Batch{Model: mustModel(t, testSet(4), unmix.Options{}), Workers: workers, ReadFile: read, Digests: true}
+		var got []string
+		outcomes := 0
+		_, err := b.Run(context.Background(), inputs, func(o Outcome) error {
+			outcomes++
+			if o.Digest != nil {
+				got = append(got, fmt.Sprintf("%s:%c", o.File, o.Digest.SHA256[0]))
+			}
+			return nil
+		})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if want := []string{"a:a", "b:b", "c:c", "d:d"}; !slices.Equal(got, want) || outcomes != 3+1+1+130+2 {
+			t.Errorf("-j %d: digests %v in %d outcomes, want %v in 137", workers, got, outcomes, want)
+		}
+	}
+}

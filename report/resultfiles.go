@@ -73,7 +73,15 @@ func (c *CSVWriter) writeHeader() error {
 		return nil
 	}
 	c.header = true
-	if err := WriteRunComments(c.w, FormatNameResults, c.l.Run); err != nil {
+	if c.l.HeadLater {
+		return nil
+	}
+	return c.head(c.w)
+}
+
+// head writes the run's comment lines and the column names.
+func (c *CSVWriter) head(w io.Writer) error {
+	if err := WriteRunComments(w, FormatNameResults, c.l.Run); err != nil {
 		return err
 	}
 	var b []byte
@@ -83,8 +91,17 @@ func (c *CSVWriter) writeHeader() error {
 		}
 		b = appendCSVText(b, h)
 	}
-	_, err := c.w.Write(append(b, '\n'))
+	_, err := w.Write(append(b, '\n'))
 	return err
+}
+
+// WriteHead writes the head left out with Layout.HeadLater to w.
+func (c *CSVWriter) WriteHead(w io.Writer) error {
+	bw := bufio.NewWriter(w)
+	if err := c.head(bw); err != nil {
+		return err
+	}
+	return bw.Flush()
 }
 
 // AppendResult appends r's row, with its line end, to dst. It does not
@@ -292,13 +309,36 @@ func newJSONWriter(w io.Writer, l Layout) *jsonWriter {
 }
 
 func (j *jsonWriter) start() error {
+	if j.l.HeadLater {
+		return nil
+	}
+	b, err := j.head()
+	if err != nil {
+		return err
+	}
+	_, err = j.w.Write(b)
+	return err
+}
+
+// WriteHead writes the head left out with Layout.HeadLater to w.
+func (j *jsonWriter) WriteHead(w io.Writer) error {
+	b, err := j.head()
+	if err != nil {
+		return err
+	}
+	_, err = w.Write(b)
+	return err
+}
+
+// head is the document up to its first sample.
+func (j *jsonWriter) head() ([]byte, error) {
 	b := []byte(`{"format": "` + FormatNameResults + `", "schema": `)
 	b = strconv.AppendInt(b, Schema, 10)
 	if j.l.Run != nil {
 		var err error
 		b = append(b, ",\n \"run\": "...)
 		if b, err = appendRunJSON(b, j.l.Run); err != nil {
-			return err
+			return nil, err
 		}
 	}
 	b = append(b, ",\n \"compounds\": ["...)
@@ -323,9 +363,7 @@ func (j *jsonWriter) start() error {
 		}
 		b = appendString(b, n)
 	}
-	b = append(b, "],\n \"samples\": ["...)
-	_, err := j.w.Write(b)
-	return err
+	return append(b, "],\n \"samples\": ["...), nil
 }
 
 // Write writes one sample object.

@@ -23,6 +23,12 @@ type Layout struct {
 	// Run is the run's record, written at the head of CSV and JSON
 	// files (nil: none).
 	Run *provenance.Run
+	// HeadLater: the CSV and JSON writers leave out their head (what
+	// comes before the first sample: the run's record, the column names)
+	// and HeadWriter.WriteHead writes it once the record is complete
+	// (solve learns each input's SHA-256 as it reads it), before the
+	// rest, which the caller keeps meanwhile.
+	HeadLater bool
 	// Auto: each sample's nuisance model is chosen (unmix.Options.Auto);
 	// the results then name it (a model column, JSON's "model" and
 	// "model_scores"), and a baseline term the chosen model lacks is
@@ -54,6 +60,12 @@ type ResultWriter interface {
 	Write(r *unmix.Result) error
 	Fail(source string, err error) error
 	Close() error
+}
+
+// HeadWriter is implemented by the CSV and JSON result writers: with
+// Layout.HeadLater, WriteHead writes to w the head they left out.
+type HeadWriter interface {
+	WriteHead(w io.Writer) error
 }
 
 // Formats of NewResultWriter.

@@ -15,6 +15,7 @@ import (
 	"testing"
 	"unicode/utf8"
 
+	"huesolve/provenance"
 	"huesolve/unmix"
 )
 
@@ -486,5 +487,51 @@ func TestTableShiftAndEmpty(t *testing.T) {
 	}
 	if err := w.Close(); err != nil || b.Len() != 0 {
 		t.Errorf("nothing solved: %v, output %q", err, b.String())
+	}
+}
+
+// TestHeadLater: with Layout.HeadLater the CSV and JSON writers leave
+// out their head, and WriteHead followed by what they wrote is the
+// document they write otherwise, byte for byte, with or without samples.
+func TestHeadLater(t *testing.T) {
+	l := testLayout
+	l.Run = &provenance.Run{Tool: "huesolve", Version: "test", Inputs: []provenance.File{{Path: "a.csv", SHA256: "00ff"}}}
+	for _, format := range []string{FormatCSV, FormatJSON} {
+		for _, n := range []int{0, 2} {
+			write := func(l Layout) (*bytes.Buffer, ResultWriter) {
+				var b bytes.Buffer
+				rw, err := NewResultWriter(format, &b, l, 0)
+				if err != nil {
+					t.Fatal(err)
+				}
+				for i := range n {
+					if err := rw.Write(testResult(fmt.Sprint("S", i))); err != nil {
+						t.Fatal(err)
+					}
+				}
+				if err := rw.Fail("x.csv", errors.New("bad")); err != nil {
+					t.Fatal(err)
+				}
+				if err := rw.Close(); err != nil {
+					t.Fatal(err)
+				}
+				return &b, rw
+			}
+			want, _ := write(l)
+			later := l
+			later.HeadLater = true
+			body, rw := write(later)
+			var got bytes.Buffer
+			if err := rw.(HeadWriter).WriteHead(&got); err != nil {
+				t.Fatal(err)
+			}
+			if body.Len() >= want.Len() || !strings.Contains(got.String(), "00ff") {
+				t.Fatalf("%s, %d samples: the head was not left out", format, n)
+			}
+			got.Write(body.Bytes())
+			if got.String() != want.String() {
+				t.Errorf("%s, %d samples: head then body\n%s\nwant\n%s", format, n, got.String(), want.String())
+			}
+		}
 	}
 }

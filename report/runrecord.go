@@ -43,9 +43,7 @@ func WriteRunComments(w io.Writer, format string, run *provenance.Run) error {
 	line("format", format)
 	line("schema", strconv.Itoa(Schema))
 	if run != nil {
-		for _, f := range run.Fields() {
-			line(f.Key, f.Value)
-		}
+		run.EachField(func(f provenance.Field) { line(f.Key, f.Value) })
 	}
 	return bw.Flush()
 }

@@ -63,8 +63,12 @@ func ReadDelimited(r io.Reader, file string, opt ReadOptions) ([]*Spectrum, erro
 	if l, ok := r.(interface{ Len() int }); ok && opt.sizeHint == 0 {
 		opt.sizeHint = int64(l.Len()) // a bytes.Reader, say: sizes the store
 	}
+	return readDelimited(newLineReader(r, file, opt.maxLine(), opt.sizeHint), file, opt)
+}
+
+// readDelimited is ReadDelimited on the lines of lr.
+func readDelimited(lr *lineReader, file string, opt ReadOptions) ([]*Spectrum, error) {
 	d := &delimReader{file: file, opt: &opt, maxCols: opt.maxCols()}
-	lr := newLineReader(r, file, opt.maxLine(), opt.sizeHint)
 	if err := d.read(lr); err != nil {
 		return nil, err
 	}
@@ -729,6 +733,15 @@ func trimField(f []byte) []byte {
 // splitQuoted splits a header line at delim, honouring double quotes
 // ("" inside quotes is a quote).
 func splitQuoted(s string, delim byte) []string {
+	if strings.IndexByte(s, '"') < 0 {
+		// No quotes: the cells are substrings (a wide table's header
+		// has a cell per scan; nothing to copy).
+		out := strings.Split(s, string(delim))
+		for i, c := range out {
+			out[i] = strings.TrimSpace(c)
+		}
+		return out
+	}
 	var out []string
 	var cur strings.Builder
 	inq := false
@@ -757,13 +770,12 @@ func latin1ToUTF8(s string) string { return string(latin1Bytes([]byte(s))) }
 // alone inside (), [] or {}.
 func headerWords(cell string) (words []string, bracketed []bool) {
 	cell = strings.ToLower(cell)
-	var cur []rune
-	start := -1
+	start := -1 // start of the current word, -1 between words
 	flush := func(end int) {
-		if len(cur) == 0 {
+		if start < 0 {
 			return
 		}
-		w := string(cur)
+		w := cell[start:end] // the word's runes, as they are in cell
 		br := false
 		if start > 0 && end < len(cell) {
 			o, c := cell[start-1], cell[end]
@@ -771,14 +783,13 @@ func headerWords(cell string) (words []string, bracketed []bool) {
 		}
 		words = append(words, w)
 		bracketed = append(bracketed, br)
-		cur = cur[:0]
+		start = -1
 	}
 	for i, r := range cell {
 		if unicode.IsLetter(r) || unicode.IsDigit(r) || r == '%' {
-			if len(cur) == 0 {
+			if start < 0 {
 				start = i
 			}
-			cur = append(cur, r)
 			continue
 		}
 		flush(i)

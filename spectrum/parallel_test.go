@@ -13,7 +13,8 @@ import (
 // readModes are the ways a delimited table may be read: the serial code
 // alone, and parallel block parsing with blocks small enough that even a
 // short table has rows parsed by workers (the first block is always
-// parsed serially).
+// parsed serially); workers 0 stands for the lines of a file read whole
+// into memory (ReadFile's small files, readWhole).
 var readModes = []struct {
 	name             string
 	workers, blockRs int
@@ -23,6 +24,7 @@ var readModes = []struct {
 	{"parallel/2", 2, 2},
 	{"parallel/8", 4, 8},
 	{"serial/3", 1, 3},
+	{"whole", 0, 0},
 }
 
 // readAs reads data as a delimited table in mode m; warnings are returned
@@ -32,6 +34,11 @@ func readAs(data []byte, base ReadOptions, workers, blockRows int) ([]*Spectrum,
 	opt := base
 	opt.workers, opt.blockRows = workers, blockRows
 	opt.Warn = func(msg string) { warn.WriteString(msg + "\n") }
+	if workers == 0 {
+		opt.sizeHint = int64(len(data))
+		ss, err := readDelimited(newBytesLineReader(data, "t.csv", opt.maxLine()), "t.csv", opt)
+		return ss, warn.String(), err
+	}
 	ss, err := ReadDelimited(bytes.NewReader(data), "t.csv", opt)
 	return ss, warn.String(), err
 }

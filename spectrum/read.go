@@ -4,8 +4,10 @@ import (
 	"bufio"
 	"bytes"
 	"context"
+	"crypto/sha256"
 	"errors"
 	"fmt"
+	"hash"
 	"io"
 	"os"
 
@@ -65,6 +67,9 @@ type ReadOptions struct {
 	// from the file checks it, and the error wraps its Err (so a large
 	// file stops at the first Ctrl-C, not at its end).
 	Context context.Context
+	// Digest, if not nil, is filled by ReadFile with the SHA-256 of the
+	// file's bytes as it reads them for parsing (see Digest).
+	Digest *Digest
 
 	// sizeHint is the input size in bytes when known (ReadFile sets it);
 	// it only sizes buffers and chooses parallel reading.
@@ -144,6 +149,12 @@ const detectPeek = 64 << 10
 // than opt.MaxFileBytes (wrapping errTooLarge, refused before anything is
 // read).
 func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
+	if opt.Digest != nil {
+		*opt.Digest = Digest{}
+	}
+	if ss, err, ok := readWhole(path, opt); ok {
+		return ss, err
+	}
 	f, st, err := OpenInput(path)
 	if errors.Is(err, ErrNotRegular) {
 		return nil, pkgerr.Errorf("spectrum", "%w", err)
@@ -159,10 +170,17 @@ func ReadFile(path string, opt ReadOptions) ([]*Spectrum, error) {
 	// The cap also holds for a file that grows while it is read.
 	in := &capReader{r: f, left: limit, limit: limit, ctx: opt.Context}
 	if st.Size() > limit {
+		if opt.Digest != nil {
+			opt.Digest.TooLarge = true
+		}
 		return nil, &ParseError{File: path, Err: fmt.Errorf("the file is %s, more than the %s a spectrum file may hold (%w: is it a spectrum file? split a bigger table into several files)",
 			bytesize.Text(st.Size()), bytesize.Text(limit), errTooLarge)}
 	}
 	opt.sizeHint = st.Size()
+	if opt.Digest != nil {
+		in.hash = sha256.New()
+		defer in.digest(opt.Digest)
+	}
 	size := detectPeek
 	if s := st.Size(); s > 0 && s < int64(size) {
 		size = max(int(s), 16)
@@ -185,6 +203,19 @@ type capReader struct {
 	left  int64
 	limit int64
 	ctx   context.Context // nil: never stopped
+	hash  hash.Hash       // nil, or takes every byte read
+}
+
+// digest reads what is left of the input (parsing may have stopped at
+// an error) into the hash and fills d: the SHA-256 of every byte of the
+// file, read once.
+func (c *capReader) digest(d *Digest) {
+	if _, err := io.Copy(io.Discard, c); err != nil {
+		d.TooLarge = errors.Is(err, errTooLarge)
+		return
+	}
+	c.hash.Sum(d.SHA256[:0])
+	d.Read = true
 }
 
 func (c *capReader) Read(p []byte) (int, error) {
@@ -207,6 +238,9 @@ func (c *capReader) Read(p []byte) (int, error) {
 	}
 	n, err := c.r.Read(p)
 	c.left -= int64(n)
+	if c.hash != nil {
+		c.hash.Write(p[:n])
+	}
 	return n, err
 }
 
@@ -249,10 +283,17 @@ var utf8BOM = []byte{0xEF, 0xBB, 0xBF}
 // CRLF), refusing lines longer than max bytes. The returned slice is only
 // valid until the next call.
 type lineReader struct {
-	sc   *bufio.Scanner
+	sc   *bufio.Scanner // nil: the lines of data
+	data []byte         // the input not yet returned, when it is all in memory
 	file string
 	n    int // number of the line last returned (1-based)
 	max  int
+}
+
+// newBytesLineReader yields the lines of data, which holds the whole
+// input, as newLineReader would yield them from a reader of data.
+func newBytesLineReader(data []byte, file string, maxLine int) *lineReader {
+	return &lineReader{data: data, file: file, max: maxLine}
 }
 
 func newLineReader(r io.Reader, file string, maxLine int, sizeHint int64) *lineReader {
@@ -297,6 +338,14 @@ func scanLines(data []byte, atEOF bool) (advance int, token []byte, err error) {
 // next returns the next line, or ok=false at the end of input (err tells
 // whether the end was a failure).
 func (lr *lineReader) next() (line []byte, ok bool, err error) {
+	if lr.sc == nil {
+		adv, tok, _ := scanLines(lr.data, true)
+		if adv == 0 {
+			return nil, false, nil
+		}
+		lr.data = lr.data[adv:]
+		return lr.took(tok)
+	}
 	if !lr.sc.Scan() {
 		if e := lr.sc.Err(); e != nil {
 			if errors.Is(e, bufio.ErrTooLong) {
@@ -307,8 +356,12 @@ func (lr *lineReader) next() (line []byte, ok bool, err error) {
 		}
 		return nil, false, nil
 	}
+	return lr.took(lr.sc.Bytes())
+}
+
+// took counts line as the next line and returns it, checking its length.
+func (lr *lineReader) took(line []byte) ([]byte, bool, error) {
 	lr.n++
-	line = lr.sc.Bytes()
 	if lr.n == 1 {
 		line = bytes.TrimPrefix(line, utf8BOM)
 	}

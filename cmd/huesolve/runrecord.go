@@ -5,17 +5,15 @@ package main
 // (--method, --save-method) whose settings they take and record.
 
 import (
+	"encoding/hex"
 	"fmt"
 	"os"
-	"runtime"
 	"strconv"
-	"sync"
 	"time"
 
 	"github.com/spf13/cobra"
 	"github.com/spf13/pflag"
 
-	"huesolve/batch"
 	"huesolve/internal/bytesize"
 	"huesolve/method"
 	"huesolve/provenance"
@@ -68,34 +66,21 @@ func hashed(role, path string) provenance.File {
 	return f
 }
 
-// hashedInputs records the input files of a batch (patterns and folders
-// that named no file are left out: they are no file), hashed on all
-// cores, in input order.
-func hashedInputs(inputs []batch.Input) []provenance.File {
-	var paths []string
-	for _, in := range inputs {
-		if in.Err == nil {
-			paths = append(paths, in.Path)
-		}
+// inputRecord is the record of an input file of a batch from the digest
+// its reader took of the bytes it parsed (batch.Outcome.Digest): the
+// file is read once, and the SHA-256 is that of the content the results
+// come from. The notes are those of hashed.
+func inputRecord(path string, d *spectrum.Digest) provenance.File {
+	f := provenance.File{Path: path}
+	switch {
+	case d.Read:
+		f.SHA256 = hex.EncodeToString(d.SHA256[:])
+	case d.TooLarge:
+		f.Note = "not read: larger than " + bytesize.Text(spectrum.DefaultMaxFileBytes)
+	default:
+		f.Note = "could not be read"
 	}
-	out := make([]provenance.File, len(paths))
-	next := make(chan int)
-	var wg sync.WaitGroup
-	for range min(runtime.GOMAXPROCS(0), len(paths)) {
-		wg.Add(1)
-		go func() {
-			defer wg.Done()
-			for i := range next {
-				out[i] = hashed("", paths[i])
-			}
-		}()
-	}
-	for i := range paths {
-		next <- i
-	}
-	close(next)
-	wg.Wait()
-	return out
+	return f
 }
 
 // recordSet records the reference set read from path (and the method,

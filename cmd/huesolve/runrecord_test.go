@@ -13,7 +13,6 @@ import (
 	"strings"
 	"testing"
 
-	"huesolve/batch"
 	"huesolve/provenance"
 	"huesolve/reference"
 	"huesolve/report"
@@ -213,7 +212,12 @@ func TestHashedSkipsOversizedFiles(t *testing.T) {
 	if err := os.WriteFile(small, []byte("nm,A\n400,0.1\n"), 0o644); err != nil {
 		t.Fatal(err)
 	}
-	got := hashedInputs([]batch.Input{{Path: big}, {Path: small}})
+	var got []provenance.File
+	for _, p := range []string{big, small} {
+		var d spectrum.Digest
+		_, _ = spectrum.ReadFile(p, spectrum.ReadOptions{Digest: &d})
+		got = append(got, inputRecord(p, &d))
+	}
 	if len(got) != 2 || got[0].SHA256 != "" || !strings.HasPrefix(got[0].Note, "not read: larger than") {
 		t.Errorf("big file recorded as %+v", got)
 	}

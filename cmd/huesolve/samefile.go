@@ -46,12 +46,12 @@ func checkNotInput(flag, out string, inputs ...string) error {
 	return nil
 }
 
-// scanInputFiles lists the files that the scan arguments of solve name:
-// each file as given and the files of each folder (not recursive) and
-// glob pattern. It reads folder listings only, never the files.
-func scanInputFiles(args []string) []string {
+// scanInputFiles lists the files among solve's inputs (batch.ExpandInputs
+// of its scan arguments: each file as given and the files of each folder
+// and pattern).
+func scanInputFiles(inputs []batch.Input) []string {
 	var files []string
-	for _, in := range batch.ExpandInputs(args) {
+	for _, in := range inputs {
 		if in.Err == nil {
 			files = append(files, in.Path)
 		}

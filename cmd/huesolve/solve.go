@@ -42,6 +42,7 @@ type solveOptions struct {
 	interf    []string
 	lab       labFlags
 	qc        recordFlag
+	inputs    []batch.Input // the scan arguments expanded (check)
 }
 
 // solveProgressMin is the number of samples from which solve shows a
@@ -169,9 +170,13 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 	sum, err := j.solve(cmd, o)
 	if ctx := cmd.Context(); errors.Is(err, ctx.Err()) && ctx.Err() != nil {
 		msg := fmt.Sprintf("interrupted after %d sample(s) had been solved and reported", sum.Emitted)
-		if o.output.file() != "" {
+		switch {
+		case o.output.file() != "":
 			msg += "; nothing written to " + o.output.out
-		} else {
+		case !strings.EqualFold(o.output.format, report.FormatTable):
+			// CSV and JSON wait in the spool for the run's record.
+			msg += "; nothing written to standard output"
+		default:
 			msg += "; the output above is incomplete"
 		}
 		return &exitError{code: exitInterrupt, msg: msg}
@@ -239,7 +244,10 @@ func (o *solveOptions) check(cmd *cobra.Command, note func(string), refPath stri
 	if o.checkOnly && o.qc.path != "" {
 		return mopt, q, usagef("--check-only records no run: leave out --record")
 	}
-	inputs := append(append([]string{refPath, o.method.use, o.scans.blank, o.samples}, o.interf...), scanInputFiles(scans)...)
+	// Expanded once: load takes the same inputs (a folder of 20,000
+	// scans is listed and sorted once).
+	o.inputs = batch.ExpandInputs(scans)
+	inputs := append(append([]string{refPath, o.method.use, o.scans.blank, o.samples}, o.interf...), scanInputFiles(o.inputs)...)
 	if err = checkNotInput("-o", o.output.out, append(inputs, o.qc.path)...); err != nil {
 		return mopt, q, err
 	}
@@ -322,7 +330,7 @@ func (j *solveJob) load(cmd *cobra.Command, o *solveOptions, refPath string, sca
 			return err
 		}
 	}
-	j.inputs = batch.ExpandInputs(scans)
+	j.inputs = o.inputs
 	if o.review.on() {
 		o.review.start(j.model, set, mopt)
 	}
@@ -354,7 +362,7 @@ func (j *solveJob) record(cmd *cobra.Command, o *solveOptions, set *reference.Se
 	run.Settings = append(run.Settings,
 		provenance.Setting{Name: "dilution", Value: strconv.FormatFloat(o.dilution, 'g', -1, 64)},
 		pathSetting(o.pathCM, set))
-	run.Inputs = hashedInputs(j.inputs)
+	// run.Inputs are filled as the batch reads them (emit).
 	j.run = run
 	o.review.run = run
 	return nil
@@ -378,6 +386,9 @@ func (j *solveJob) newBatch(o *solveOptions, q spectrum.Quantity) {
 			}
 			return f, nil
 		},
+		// The run's record takes each input's SHA-256 from the bytes
+		// read for the fit: one read per file.
+		Digests: j.run != nil,
 	}
 	plots := o.output.plots != ""
 	if !plots && !o.review.on() {
@@ -465,7 +476,18 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 	width := outputWidth(cmd.OutOrStdout(), o.output.file())
 	var sum batch.Summary
 	solveAll := func(w io.Writer) error {
-		rw, err := report.NewResultWriter(o.output.format, w, layout, width)
+		// CSV and JSON open with the run's record, complete only once
+		// every input has been read: the rest is kept in a spool and
+		// follows the head written at the end.
+		var sp *spool
+		body := w
+		if j.run != nil && !strings.EqualFold(o.output.format, report.FormatTable) {
+			sp = newSpool(o.output.file())
+			defer sp.close()
+			body = sp
+			layout.HeadLater = true
+		}
+		rw, err := report.NewResultWriter(o.output.format, body, layout, width)
 		if err != nil {
 			return err
 		}
@@ -489,7 +511,13 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 				return err
 			}
 		}
-		return rw.Close()
+		if err := rw.Close(); err != nil || sp == nil {
+			return err
+		}
+		if err := rw.(report.HeadWriter).WriteHead(w); err != nil {
+			return err
+		}
+		return sp.copyTo(w)
 	}
 	if out := o.output.file(); out != "" {
 		// The file is replaced only when at least one sample was solved:
@@ -524,6 +552,9 @@ var errNothingSolved = errors.New("nothing solved")
 // emit takes one outcome, in input order: its notes, its failure on
 // standard error, its result to rw.
 func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.Encoder, rev *report.SolveReview) error {
+	if out.Digest != nil && j.run != nil {
+		j.run.Inputs = append(j.run.Inputs, inputRecord(out.File, out.Digest))
+	}
 	j.seen.add(out, j.warn)
 	j.cover.add(out.Err)
 	if out.Err != nil {
