@@ -41,14 +41,14 @@ type Options struct {
 
 // Entry is one row of the run, in run order.
 type Entry struct {
-	Order    int     `json:"order"`
-	Position int     `json:"position"`
-	Role     Role    `json:"role"`
-	Name     string  `json:"name"`
-	Line     int     `json:"line"`
+	Order    int    `json:"order"`
+	Position int    `json:"position"`
+	Role     Role   `json:"role"`
+	Name     string `json:"name"`
+	Line     int    `json:"line"`
 	// Group (samples) is the sample's replicate group ("" for none).
-	Group string `json:"group,omitempty"`
-	Hours    float64 `json:"hours"`
+	Group string  `json:"group,omitempty"`
+	Hours float64 `json:"hours"`
 	// Pass (checks) is whether every compound of the check passed.
 	Pass *bool `json:"pass,omitempty"`
 	// Why (checks) lists the failed compounds.
