@@ -24,6 +24,7 @@ type sequenceOptions struct {
 	recovery       string
 	minSelectivity float64
 	qc             recordFlag
+	lab            labFlags
 }
 
 const sequenceLong = `Process an analytical run in the order it was measured: blanks, check
@@ -39,7 +40,19 @@ RUNSHEET is a standards sheet (as for verify: a "scan" column, an optional
          (a run past midnight counts on: 24:10, 25:30)
 
 Check rows give every compound's known concentration (0 where absent); blank
-and sample rows leave those cells empty (or 0).
+and sample rows leave those cells empty (or 0). Sample rows may also give
+
+  sample       the name to report (default: the column, else the scan file)
+  dilution     a further dilution of what was scanned (results multiplied)
+  group        replicate group; or replicate_of naming another sample
+  mass, mass_unit, volume, volume_unit (u_mass, u_volume optional)
+               the preparation: mass taken made up to the final volume
+
+as in solve's sample sheet. With groups, each group's mean, SD and RSD are
+given, flagged !rep-rsd above --max-rep-rsd and !rep-outlier by Grubbs' test
+(n >= 3); --basis puts the samples on a reporting basis (mg/kg from the
+preparation, or a concentration unit) with the certificate text (n.d.,
+< LOQ, rounded value). A group is valid only when every member is valid.
 
 Checks and samples are blank corrected with --blank, or else with the mean of
 the run's blank rows; each blank row is solved too, so that its apparent
@@ -61,8 +74,8 @@ run's record); -o FILE writes it to a file (atomically; without --format, a
 .csv or .json name picks the format). --record DB appends
 the run and its check results to a QC history file (see huesolve history).
 
-Exit codes: 0 the run passed, 4 some check failed or some sample is not
-valid, 1 the run could not be processed, 2 bad command line, 130
+Exit codes: 0 the run passed, 4 some check failed, some sample is not
+valid or some replicate group is flagged, 1 the run could not be processed, 2 bad command line, 130
 interrupted.
 
 ` + caution
@@ -85,6 +98,7 @@ func newSequenceCmd() *cobra.Command {
 	o.output.addFormat(f)
 	f.StringVar(&o.recovery, "recovery", "98-102", "acceptance range of each check's recovery, `LO-HI` in percent")
 	f.Float64Var(&o.minSelectivity, "min-selectivity", validate.DefaultMinSelectivity, "selectivity below which a compound is refused")
+	o.lab.add(f)
 	o.method.addUse(f)
 	o.qc.add(f)
 	return cmd
@@ -117,6 +131,13 @@ func runSequence(cmd *cobra.Command, o *sequenceOptions, refPath, sheetPath stri
 	if err != nil {
 		return err
 	}
+	names, units := make([]string, len(set.Compounds)), make([]string, len(set.Compounds))
+	for k, c := range set.Compounds {
+		names[k], units[k] = c.Name, c.Unit
+	}
+	if opt.Lab, err = o.lab.options(names, units); err != nil {
+		return err
+	}
 	sh, err := sequence.ReadSheet(sheetPath, calibration.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
 	if err != nil {
 		return err
@@ -144,7 +165,11 @@ func runSequence(cmd *cobra.Command, o *sequenceOptions, refPath, sheetPath stri
 	run.Sheets = append(run.Sheets, hashed("run sheet", sheetPath))
 	run.Settings = append(fitSettings(&o.fit, &o.scans, set, mopt),
 		provenance.Setting{Name: "recovery", Value: o.recovery},
-		provenance.Setting{Name: "min-selectivity", Value: strconv.FormatFloat(o.minSelectivity, 'g', -1, 64)})
+		provenance.Setting{Name: "min-selectivity", Value: strconv.FormatFloat(o.minSelectivity, 'g', -1, 64)},
+		provenance.Setting{Name: "max-rep-rsd", Value: strconv.FormatFloat(o.lab.maxRSD, 'g', -1, 64)})
+	if o.lab.basis != "" {
+		run.Settings = append(run.Settings, provenance.Setting{Name: "basis", Value: o.lab.basis})
+	}
 	seen := map[string]bool{}
 	for _, p := range sheetFiles(sh.Sheet) {
 		if !seen[p] {
@@ -167,7 +192,7 @@ func runSequence(cmd *cobra.Command, o *sequenceOptions, refPath, sheetPath stri
 	if err := o.recordHistory(cmd, run, res); err != nil {
 		return err
 	}
-	if !res.Pass {
+	if !res.Pass || res.GroupsFlagged > 0 {
 		return &exitError{code: exitFlagged, msg: report.SequenceVerdict(res)}
 	}
 	fmt.Fprintf(cmd.ErrOrStderr(), "huesolve: %s\n", report.SequenceVerdict(res))
