@@ -9,9 +9,12 @@ import (
 
 	"huesolve/calibration"
 	"huesolve/history"
+	"huesolve/method"
 	"huesolve/provenance"
+	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/sequence"
+	"huesolve/unmix"
 	"huesolve/validate"
 )
 
@@ -100,6 +103,7 @@ func newSequenceCmd() *cobra.Command {
 	f.Float64Var(&o.minSelectivity, "min-selectivity", validate.DefaultMinSelectivity, "selectivity below which a compound is refused")
 	o.lab.add(f)
 	o.method.addUse(f)
+	o.method.addSave(f, "the reference set, fit options, acceptance limits, --basis, --max-rep-rsd and --record, when every check passes,")
 	o.qc.add(f)
 	return cmd
 }
@@ -114,6 +118,9 @@ func runSequence(cmd *cobra.Command, o *sequenceOptions, refPath, sheetPath stri
 	if err != nil {
 		return err
 	}
+	if err := o.method.checkSave(); err != nil {
+		return err
+	}
 	opt := sequence.Options{MinSelectivity: o.minSelectivity}
 	if opt.Limits.RecoveryLo, opt.Limits.RecoveryHi, err = valParsePercentRange(o.recovery); err != nil {
 		return err
@@ -125,6 +132,9 @@ func runSequence(cmd *cobra.Command, o *sequenceOptions, refPath, sheetPath stri
 		return err
 	}
 	if err := checkNotInput("--record", o.qc.path, refPath, o.method.use, sheetPath, o.scans.blank); err != nil {
+		return err
+	}
+	if err := checkNotInput("--save-method", o.method.save, refPath, sheetPath, o.scans.blank, o.qc.path, o.output.out); err != nil {
 		return err
 	}
 	set, err := o.method.loadSet(refPath)
@@ -192,6 +202,9 @@ func runSequence(cmd *cobra.Command, o *sequenceOptions, refPath, sheetPath stri
 	if err := o.recordHistory(cmd, run, res); err != nil {
 		return err
 	}
+	if err := o.saveMethod(cmd, run, refPath, set, mopt, opt, res); err != nil {
+		return err
+	}
 	if !res.Pass || res.GroupsFlagged > 0 {
 		return &exitError{code: exitFlagged, msg: report.SequenceVerdict(res)}
 	}
@@ -239,4 +252,28 @@ func (o *sequenceOptions) recordHistory(cmd *cobra.Command, p *provenance.Run, r
 		}
 	}
 	return o.qc.record(cmd, run, written)
+}
+
+// saveMethod writes --save-method when every check of the run passed:
+// the fit, the acceptance limits (verify's RSD limit from --method, else
+// its default: sequence judges each check alone) and the reporting
+// section (--basis, --max-rep-rsd, --record).
+func (o *sequenceOptions) saveMethod(cmd *cobra.Command, run *provenance.Run, refPath string, set *reference.Set, mopt unmix.Options, opt sequence.Options, res *sequence.Run) error {
+	if o.method.save == "" {
+		return nil
+	}
+	if res.ChecksFailed > 0 {
+		warnTo(cmd.ErrOrStderr())("method not saved to " + o.method.save + ": not every check passed")
+		return nil
+	}
+	pathCM, maxRSD := 0.0, validate.DefaultMaxRSD
+	if m := o.method.m; m != nil {
+		pathCM = m.Fit.PathCM // sequence has no --path-cm: the method's stays
+		if m.Acceptance != nil {
+			maxRSD = m.Acceptance.MaxRSDPct
+		}
+	}
+	acc := &method.Acceptance{RecoveryLoPct: opt.Limits.RecoveryLo, RecoveryHiPct: opt.Limits.RecoveryHi,
+		MaxRSDPct: maxRSD, MinSelectivity: o.minSelectivity}
+	return o.method.saveMethod(cmd, run, refPath, set, methodFit(&o.fit, mopt, o.scans.quantity, pathCM), acc)
 }

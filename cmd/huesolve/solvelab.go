@@ -3,11 +3,13 @@ package main
 import (
 	"fmt"
 	"math"
+	"strconv"
 	"sync"
 
 	"github.com/spf13/pflag"
 
 	"huesolve/lab"
+	"huesolve/provenance"
 	"huesolve/report"
 	"huesolve/unmix"
 )
@@ -128,4 +130,17 @@ func (j *labJob) note() string {
 		return ""
 	}
 	return fmt.Sprintf("; %d replicate group result(s), %d flagged", len(j.sum.Groups), j.sum.Flagged())
+}
+
+// settings are the lab settings in force for the run's record: the RSD
+// limit and the basis, when there is a lab section (none for nil).
+func (j *labJob) settings(l labFlags) []provenance.Setting {
+	if j == nil {
+		return nil
+	}
+	s := []provenance.Setting{{Name: "max-rep-rsd", Value: strconv.FormatFloat(l.maxRSD, 'g', -1, 64)}}
+	if l.basis != "" {
+		s = append(s, provenance.Setting{Name: "basis", Value: l.basis})
+	}
+	return s
 }
