@@ -68,7 +68,7 @@ func newLabJob(l labFlags, samples string, ss *unmix.SampleSheet, m *unmix.Model
 		return nil, err
 	}
 	if opt.Basis != nil && opt.Basis.Fraction && samples == "" {
-		return nil, usagef("--basis %s is a mass fraction: give each sample's mass and volume with --samples SHEET", l.basis)
+		return nil, usagef("--basis %s is a mass fraction: give each sample's mass and volume with --samples SHEET (or --basis '' to report in the results' unit)", l.basis)
 	}
 	j := &labJob{opt: opt}
 	sh, err := lab.ReadSheet(ss)
