@@ -25,8 +25,34 @@ type Sheet struct {
 	Groups bool     // some row names a group
 }
 
+// Cells is what ReadCells reads from: the sample names of a sheet in
+// order, the line of each (0 for a name that is not a sample of the
+// sheet) and the cells of its extra columns (group, replicate_of, mass,
+// mass_unit, u_mass, volume, volume_unit, u_volume). A sample sheet
+// (*unmix.SampleSheet) is one; a run sheet's sample rows are another.
+type Cells interface {
+	Names() []string
+	Line(name string) int
+	Extra(name, column string) (unmix.Cell, bool)
+}
+
+// cells is a Cells with the file it was read from, for errors.
+type cells struct {
+	File string
+	Cells
+}
+
 // ReadSheet reads the group and preparation columns of ss (nil: an empty
-// Sheet). A row joins a replicate group by its "group" cell, or by a
+// Sheet), as ReadCells does.
+func ReadSheet(ss *unmix.SampleSheet) (*Sheet, error) {
+	if ss == nil {
+		return &Sheet{Rows: map[string]Row{}}, nil
+	}
+	return ReadCells(ss.File, ss)
+}
+
+// ReadCells reads the group and preparation columns of the samples of c,
+// a sheet read from file. A row joins a replicate group by its "group" cell, or by a
 // "replicate_of" cell naming another sample of the sheet (see
 // replicateOf). A preparation is mass, mass_unit, volume and volume_unit, with
 // optional u_mass and u_volume (standard uncertainties in the unit of
@@ -35,12 +61,9 @@ type Sheet struct {
 // volume that is not a positive finite number (a mass of 0), an
 // uncertainty that is negative, a unit that is not a mass (kg, g, mg, µg)
 // or a volume (L, dL, mL, µL).
-func ReadSheet(ss *unmix.SampleSheet) (*Sheet, error) {
-	sh := &Sheet{Rows: map[string]Row{}}
-	if ss == nil {
-		return sh, nil
-	}
-	sh.File = ss.File
+func ReadCells(file string, c Cells) (*Sheet, error) {
+	sh := &Sheet{Rows: map[string]Row{}, File: file}
+	ss := cells{file, c}
 	for _, name := range ss.Names() {
 		r := Row{Name: name, Line: ss.Line(name)}
 		if c, ok := ss.Extra(name, "group"); ok && c.Text != "" {
@@ -75,7 +98,7 @@ func ReadSheet(ss *unmix.SampleSheet) (*Sheet, error) {
 // group. The sample named must be a row of the sheet that is not itself a
 // replicate of another (errors name file:line:column), and a row may give
 // group or replicate_of, not both.
-func replicateOf(ss *unmix.SampleSheet, name string, r *Row) error {
+func replicateOf(ss cells, name string, r *Row) error {
 	c, _ := ss.Extra(name, "replicate_of")
 	if c.Text == "" {
 		return nil
@@ -100,7 +123,7 @@ func replicateOf(ss *unmix.SampleSheet, name string, r *Row) error {
 }
 
 // readPrep reads the preparation of row name (nil when it gives none).
-func readPrep(ss *unmix.SampleSheet, name string) (*Prep, error) {
+func readPrep(ss cells, name string) (*Prep, error) {
 	cols := []string{"mass", "mass_unit", "volume", "volume_unit"}
 	var cells [4]unmix.Cell
 	given := 0
@@ -147,7 +170,7 @@ type scaled struct{ x, scale float64 }
 
 // amount reads a positive number and its unit from a table of powers of
 // ten.
-func amount(ss *unmix.SampleSheet, name string, val, unit unmix.Cell, what string, exps map[string]int, want string) (scaled, error) {
+func amount(ss cells, name string, val, unit unmix.Cell, what string, exps map[string]int, want string) (scaled, error) {
 	x, err := number(val.Text)
 	if err != nil || !(x > 0) || math.IsInf(x, 0) {
 		return scaled{}, errorf(ss.File, val.Line, val.Column, "sample %q: %s %q is not a positive number", name, what, val.Text)
@@ -162,7 +185,7 @@ func amount(ss *unmix.SampleSheet, name string, val, unit unmix.Cell, what strin
 
 // uncertainty reads the optional standard uncertainty in column col, in
 // the unit of its value (scale takes it to the base unit).
-func uncertainty(ss *unmix.SampleSheet, name, col string, scale float64) (float64, error) {
+func uncertainty(ss cells, name, col string, scale float64) (float64, error) {
 	c, _ := ss.Extra(name, col)
 	if c.Text == "" {
 		return 0, nil

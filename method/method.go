@@ -1,9 +1,10 @@
 // Package method is the analytical method file: a reference set, bound by
 // its checksum, together with the settings of the fit that solve and
-// verify use with it and the acceptance limits verify judges by. Commands
-// write it once the settings are chosen (window, verify) and read it in
-// place of a reference set, so that the settings are not retyped on every
-// run.
+// verify use with it, the acceptance limits verify judges by and how
+// results are reported and kept (basis, replicate RSD limit, QC history
+// file). Commands write it once the settings are chosen (window, verify,
+// sequence) and read it in place of a reference set, so that the settings
+// are not retyped on every run.
 //
 // The file is versioned, checksummed JSON like a reference set's: a file
 // changed after it was saved, from a newer schema, or holding a value out
@@ -20,6 +21,8 @@ import (
 	"fmt"
 	"io"
 	"path/filepath"
+	"strings"
+	"unicode"
 
 	"huesolve/baseline"
 	"huesolve/internal/atomicfile"
@@ -28,9 +31,20 @@ import (
 	"huesolve/spectrum"
 )
 
-// SchemaVersion is the version of the method file format written by this
-// build. Files of a newer schema are refused.
-const SchemaVersion = 1
+// SchemaVersion is the newest version of the method file format this
+// build reads and writes; files of a newer schema are refused. Schema 2
+// added the reporting section (Method.Report) and the fit's interferents
+// (Fit.Interferents). A method without either is still written as schema
+// 1, so that builds reading only schema 1 keep reading it, and refuse one
+// with them as newer rather than fit without the interferents.
+const SchemaVersion = 2
+
+// reportSchema is the first schema with the reporting section and the
+// fit's interferents.
+const reportSchema = 2
+
+// maxBasisLen bounds a reporting basis' text (a unit, "% w/w", ...).
+const maxBasisLen = 32
 
 // Format is the value of a method file's "format" field.
 const Format = "huesolve-method"
@@ -55,6 +69,9 @@ type Method struct {
 	// Acceptance are verify's acceptance limits; nil when the method
 	// was made before any verification (by window).
 	Acceptance *Acceptance `json:"acceptance,omitempty"`
+	// Report is how results are reported and kept (schema 2); nil when
+	// the method sets none of it.
+	Report *Report `json:"report,omitempty"`
 	// Provenance says how the method was made.
 	Provenance Provenance `json:"provenance"`
 	// Checksum is the SHA-256 of the compact JSON encoding of the method
@@ -76,7 +93,7 @@ type Fit struct {
 	// whole reference grid.
 	WindowNM *[2]float64 `json:"window_nm,omitempty"`
 	// Baseline is the baseline model in the syntax of --baseline
-	// (baseline.ParseModel).
+	// (baseline.ParseModel), or AutoBaseline.
 	Baseline string `json:"baseline"`
 	Weighted bool   `json:"weighted"`
 	// Shift: estimate a wavelength shift, up to MaxShiftNM.
@@ -104,6 +121,20 @@ type Acceptance struct {
 	MinSelectivity float64 `json:"min_selectivity"`
 }
 
+// Report are the reporting settings of solve and sequence and the QC
+// history file solve, verify and sequence record runs in. An empty field
+// leaves the command's default.
+type Report struct {
+	// Basis is the reporting basis in the syntax of --basis (mg/kg,
+	// % w/w, µg/L, ...); the commands check it.
+	Basis string `json:"basis,omitempty"`
+	// MaxRepRSDPct is a replicate group's RSD limit in per cent.
+	MaxRepRSDPct float64 `json:"max_rep_rsd_pct,omitempty"`
+	// Record is the QC history file, relative to the method file's
+	// folder unless absolute (see RecordPath).
+	Record string `json:"record,omitempty"`
+}
+
 // Provenance says which tool made the method, when, and by which command
 // line (program base name and arguments as typed).
 type Provenance struct {
@@ -112,6 +143,10 @@ type Provenance struct {
 	Created string   `json:"created"` // RFC 3339, UTC
 	Command []string `json:"command"`
 }
+
+// AutoBaseline is Fit.Baseline for the automatic model choice (--baseline
+// auto, the commands' default).
+const AutoBaseline = "auto"
 
 // Sentinel causes of errors, tested with errors.Is.
 var (
@@ -142,7 +177,7 @@ func (m *Method) computeChecksum() (string, error) {
 
 // Validate checks every field: the format name, a reference path and a
 // 64-digit checksum, a window with 0 < lo < hi <= 1e6 nm, a baseline
-// model baseline.ParseModel reads, 0 < max_shift_nm <= MaxShiftLimitNM,
+// model baseline.ParseModel reads (or AutoBaseline), 0 < max_shift_nm <= MaxShiftLimitNM,
 // 0 <= ceiling <= reference.MaxCeiling, a quantity spectrum.ParseQuantity
 // reads, path_cm 0 or within reference.MinPathCM..MaxPathCM, and
 // acceptance limits with 0 < lo < hi <= 10000 %, 0 < max RSD <= 100 % and
@@ -165,7 +200,7 @@ func (m *Method) Validate() error {
 	if w := f.WindowNM; w != nil && !(w[0] > 0 && w[1] > w[0] && w[1] <= 1e6) {
 		return bad("fit.window_nm [%g, %g]: want 0 < lo < hi", w[0], w[1])
 	}
-	if _, err := baseline.ParseModel(f.Baseline); err != nil {
+	if _, err := baseline.ParseModel(f.Baseline); err != nil && f.Baseline != AutoBaseline {
 		return bad("fit.baseline %q: %v", f.Baseline, err)
 	}
 	if !(f.MaxShiftNM > 0) || f.MaxShiftNM > MaxShiftLimitNM {
@@ -193,6 +228,30 @@ func (m *Method) Validate() error {
 			return bad("acceptance.min_selectivity %g: want between 0 and 1", a.MinSelectivity)
 		}
 	}
+	return m.Report.validate(bad)
+}
+
+// validate checks a reporting section (nil passes): a basis of at most
+// maxBasisLen characters with no control characters, an RSD limit of 0
+// (the default) or above 0 up to 100 %, and a record path with no
+// control characters.
+func (r *Report) validate(bad func(format string, a ...any) error) error {
+	if r == nil {
+		return nil
+	}
+	printable := func(s string) bool {
+		return !strings.ContainsFunc(s, func(c rune) bool { return unicode.IsControl(c) })
+	}
+	switch {
+	case len(r.Basis) > maxBasisLen || !printable(r.Basis):
+		return bad("report.basis %q: want a unit of at most %d characters", r.Basis, maxBasisLen)
+	case !(r.MaxRepRSDPct >= 0 && r.MaxRepRSDPct <= 100):
+		return bad("report.max_rep_rsd_pct %g: want above 0 and at most 100", r.MaxRepRSDPct)
+	case !printable(r.Record):
+		return bad("report.record %q: a file name without control characters", r.Record)
+	case *r == Report{}:
+		return bad("report is empty: leave it out")
+	}
 	return nil
 }
 
@@ -200,7 +259,10 @@ func (m *Method) Validate() error {
 // returns it as indented JSON ending in a newline.
 func (m *Method) Encode() ([]byte, error) {
 	m.Format = Format
-	m.Schema = SchemaVersion
+	m.Schema = 1
+	if m.Report != nil || len(m.Fit.Interferents) > 0 {
+		m.Schema = reportSchema
+	}
 	if err := m.Validate(); err != nil {
 		return nil, pkgerr.Errorf("method", "%w", err)
 	}
@@ -288,6 +350,12 @@ func Decode(data []byte) (*Method, error) {
 	if m.Checksum != sum {
 		return nil, ErrChecksum
 	}
+	if m.Report != nil && m.Schema < reportSchema {
+		return nil, fmt.Errorf("%w: a report section needs schema %d, the file says %d", ErrInvalid, reportSchema, m.Schema)
+	}
+	if len(m.Fit.Interferents) > 0 && m.Schema < reportSchema {
+		return nil, fmt.Errorf("%w: interferents in the fit need schema %d, the file says %d", ErrInvalid, reportSchema, m.Schema)
+	}
 	if err := m.Validate(); err != nil {
 		return nil, err
 	}
@@ -314,6 +382,20 @@ func RelativePath(methodPath, refPath string) string {
 // from the method file's folder.
 func (m *Method) ReferencePath(methodPath string) string {
 	p := filepath.FromSlash(m.Reference.Path)
+	if filepath.IsAbs(p) {
+		return p
+	}
+	return filepath.Join(filepath.Dir(methodPath), p)
+}
+
+// RecordPath is the path of the method's QC history file for a method
+// read from methodPath ("" when it names none): an absolute path as it
+// is, a relative one taken from the method file's folder.
+func (m *Method) RecordPath(methodPath string) string {
+	if m.Report == nil || m.Report.Record == "" {
+		return ""
+	}
+	p := filepath.FromSlash(m.Report.Record)
 	if filepath.IsAbs(p) {
 		return p
 	}

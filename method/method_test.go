@@ -2,6 +2,7 @@ package method
 
 import (
 	"bytes"
+	"encoding/json"
 	"errors"
 	"os"
 	"path/filepath"
@@ -60,7 +61,7 @@ func TestDecodeRefuses(t *testing.T) {
 		want       error
 	}{
 		{"edited", strings.Replace(s, `"max_rsd_pct": 2`, `"max_rsd_pct": 5`, 1), ErrChecksum},
-		{"newer", strings.Replace(s, `"schema": 1`, `"schema": 2`, 1), ErrNewerSchema},
+		{"newer", strings.Replace(s, `"schema": 1`, `"schema": 3`, 1), ErrNewerSchema},
 		{"other format", strings.Replace(s, `"format": "huesolve-method"`, `"format": "huesolve-results"`, 1), ErrNotMethod},
 		{"unknown field", strings.Replace(s, `"fit": {`, `"fit": {"smooth": 3, `, 1), ErrNotMethod},
 		{"a reference set", `{"schema": 1, "grid_nm": [400, 402]}`, ErrNotMethod},
@@ -197,7 +198,7 @@ func TestInterferentPaths(t *testing.T) {
 		t.Fatal(err)
 	}
 	plain, err := sample().Encode()
-	if err != nil || bytes.Contains(plain, []byte("interferents")) {
+	if err != nil || bytes.Contains(plain, []byte("interferents")) || !bytes.Contains(plain, []byte(`"schema": 1,`)) {
 		t.Fatalf("a method without interferents: %v\n%s", err, plain)
 	}
 	m := sample()
@@ -209,6 +210,9 @@ func TestInterferentPaths(t *testing.T) {
 	if err != nil {
 		t.Fatal(err)
 	}
+	if got.Schema != 2 {
+		t.Errorf("a method with interferents: schema %d, want 2 (a schema-1 build must refuse it, not fit without them)", got.Schema)
+	}
 	paths, err := got.InterferentPaths(filepath.Join(dir, "m.json"))
 	if err != nil || len(paths) != 1 || paths[0] != f {
 		t.Fatalf("paths %q, %v; want %s", paths, err, f)
@@ -218,5 +222,61 @@ func TestInterferentPaths(t *testing.T) {
 	}
 	if _, err := got.InterferentPaths(filepath.Join(dir, "m.json")); err == nil || !strings.Contains(err.Error(), "haze.csv has changed") {
 		t.Errorf("changed file: %v", err)
+	}
+}
+
+// The reporting section: a method without one stays schema 1 (older
+// builds read it), one with it is schema 2 and reads back; a schema-1
+// file holding one, and out-of-range values, are refused.
+func TestReportSection(t *testing.T) {
+	b, err := sample().Encode()
+	if err != nil || !strings.Contains(string(b), `"schema": 1,`) || strings.Contains(string(b), `"report"`) {
+		t.Fatalf("without a report section: %v\n%s", err, b)
+	}
+	m := sample()
+	m.Report = &Report{Basis: "mg/kg", MaxRepRSDPct: 4, Record: "qc/history.db"}
+	b, err = m.Encode()
+	if err != nil || !strings.Contains(string(b), `"schema": 2,`) {
+		t.Fatalf("with a report section: %v\n%s", err, b)
+	}
+	got, err := Decode(b)
+	if err != nil || *got.Report != *m.Report {
+		t.Fatalf("read back %+v, %v", got, err)
+	}
+	if p := got.RecordPath(filepath.Join("lab", "m.json")); p != filepath.Join("lab", "qc", "history.db") {
+		t.Errorf("record path %q", p)
+	}
+	if p := sample().RecordPath("m.json"); p != "" {
+		t.Errorf("record path without a report section %q", p)
+	}
+	// A schema-1 file with a report section (checksum made to match).
+	old := *got
+	old.Schema, old.Format = 1, Format
+	old.Checksum, _ = old.computeChecksum()
+	data, _ := json.Marshal(&old)
+	if _, err := Decode(data); !errors.Is(err, ErrInvalid) || !strings.Contains(err.Error(), "needs schema 2") {
+		t.Errorf("schema 1 with a report section: %v", err)
+	}
+	for _, r := range []Report{{Basis: strings.Repeat("m", 40)}, {Basis: "mg/kg\x1b"}, {MaxRepRSDPct: -1}, {MaxRepRSDPct: 101}, {Record: "a\nb"}, {}} {
+		m := sample()
+		m.Report = &r
+		if _, err := m.Encode(); !errors.Is(err, ErrInvalid) {
+			t.Errorf("report %+v: %v, want ErrInvalid", r, err)
+		}
+	}
+}
+
+// The automatic model choice (the commands' default --baseline) is a
+// fit a method may keep: verify --save-method and sequence --save-method
+// without --baseline write it.
+func TestAutoBaseline(t *testing.T) {
+	m := sample()
+	m.Fit.Baseline = AutoBaseline
+	b, err := m.Encode()
+	if err != nil {
+		t.Fatal(err)
+	}
+	if got, err := Decode(b); err != nil || got.Fit.Baseline != "auto" {
+		t.Errorf("read back %v, %v", got, err)
 	}
 }

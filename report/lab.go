@@ -87,9 +87,29 @@ func basisText(s *lab.Summary) string {
 	return s.Unit
 }
 
+// labStatus gives the lab section a status column (a run's verdicts):
+// each sample's and each group's status by name. A nil *labStatus adds
+// no column.
+type labStatus struct{ sample, group map[string]string }
+
+// of is the status column's cell for name in m ("" without a column).
+func (st *labStatus) of(m func(*labStatus) map[string]string, name string) string {
+	if st == nil {
+		return ""
+	}
+	return m(st)[name]
+}
+
+func sampleStatus(st *labStatus) map[string]string { return st.sample }
+func groupStatus(st *labStatus) map[string]string  { return st.group }
+
 // writeLabTable writes the lab section as two tables: the reported
 // values, and the replicate groups when there are any.
-func writeLabTable(w io.Writer, s *lab.Summary) error {
+func writeLabTable(w io.Writer, s *lab.Summary) error { return writeLabTableStatus(w, s, nil) }
+
+// writeLabTableStatus is writeLabTable with a status column when st is
+// not nil.
+func writeLabTableStatus(w io.Writer, s *lab.Summary, st *labStatus) error {
 	if _, err := fmt.Fprintf(w, "\nReported (basis: %s; value ± standard uncertainty, uncertainty to 2 significant figures):\n", termText(basisText(s))); err != nil {
 		return err
 	}
@@ -99,9 +119,17 @@ func writeLabTable(w io.Writer, s *lab.Summary) error {
 		if u != "" {
 			v += " ± " + u
 		}
-		rows = append(rows, []string{termText(r.Sample), termText(r.Group), termText(r.Compound), termText(r.Unit), v, r.Text})
+		row := []string{termText(r.Sample), termText(r.Group), termText(r.Compound), termText(r.Unit), v, r.Text}
+		if st != nil {
+			row = append(row, st.of(sampleStatus, r.Sample))
+		}
+		rows = append(rows, row)
 	}
-	if err := plainTable(w, []string{"Sample", "Group", "Compound", "Unit", "Value", "Reported"}, rows); err != nil {
+	head := []string{"Sample", "Group", "Compound", "Unit", "Value", "Reported"}
+	if st != nil {
+		head = append(head, "Status")
+	}
+	if err := plainTable(w, head, rows); err != nil {
 		return err
 	}
 	if len(s.Groups) == 0 {
@@ -128,10 +156,18 @@ func writeLabTable(w io.Writer, s *lab.Summary) error {
 		if sd != "" {
 			mean += " ± " + sd
 		}
-		rows = append(rows, []string{termText(g.Name), termText(g.Compound), termText(g.Unit), strconv.Itoa(g.N),
-			mean, fixed(g.RSD, 1), g.Reported, strings.Join(members, ", "), strings.Join(flags, " ")})
+		row := []string{termText(g.Name), termText(g.Compound), termText(g.Unit), strconv.Itoa(g.N),
+			mean, fixed(g.RSD, 1), g.Reported, strings.Join(members, ", "), strings.Join(flags, " ")}
+		if st != nil {
+			row = append(row, st.of(groupStatus, g.Name))
+		}
+		rows = append(rows, row)
 	}
-	if err := plainTable(w, []string{"Group", "Compound", "Unit", "n", "Mean ± SD", "RSD %", "Reported", "Members", "Flags"}, rows); err != nil {
+	head = []string{"Group", "Compound", "Unit", "n", "Mean ± SD", "RSD %", "Reported", "Members", "Flags"}
+	if st != nil {
+		head = append(head, "Status")
+	}
+	if err := plainTable(w, head, rows); err != nil {
 		return err
 	}
 	_, err := fmt.Fprintf(w, "Flags: !%s RSD above the limit; !%s a member is an outlier by Grubbs' test\n", lab.FlagRepRSD, lab.FlagRepOutlier)
@@ -163,10 +199,26 @@ func plainTable(w io.Writer, header []string, rows [][]string) error {
 // lod, loq, reported; then, when there are groups: group, compound, unit,
 // n, mean, sd, rsd_pct, reported, grubbs_g, grubbs_crit, members (sample
 // and value pairs separated by spaces, "sample=value"), outliers, flags.
-func appendLabCSV(b []byte, s *lab.Summary) []byte {
+func appendLabCSV(b []byte, s *lab.Summary) []byte { return appendLabCSVStatus(b, s, nil) }
+
+// appendLabCSVStatus is appendLabCSV with a last column status in both
+// sections when st is not nil.
+func appendLabCSVStatus(b []byte, s *lab.Summary, st *labStatus) []byte {
 	text := func(v string) { b = append(b, ','); b = appendCSVText(b, v) }
 	field := func(v float64) { b = append(b, ','); b = appendNum(b, v) }
-	b = append(b, "\nreported_sample,group,compound,unit,value,u,lod,loq,reported\n"...)
+	status := func(m func(*labStatus) map[string]string, name string) {
+		if st != nil {
+			text(st.of(m, name))
+		}
+	}
+	head := func(h string) {
+		b = append(b, h...)
+		if st != nil {
+			b = append(b, ",status"...)
+		}
+		b = append(b, '\n')
+	}
+	head("\nreported_sample,group,compound,unit,value,u,lod,loq,reported")
 	for _, r := range s.Reported {
 		b = appendCSVText(b, r.Sample)
 		text(r.Group)
@@ -177,12 +229,13 @@ func appendLabCSV(b []byte, s *lab.Summary) []byte {
 		field(r.LOD)
 		field(r.LOQ)
 		text(r.Text)
+		status(sampleStatus, r.Sample)
 		b = append(b, '\n')
 	}
 	if len(s.Groups) == 0 {
 		return b
 	}
-	b = append(b, "\ngroup,compound,unit,n,mean,sd,rsd_pct,reported,grubbs_g,grubbs_crit,members,outliers,flags\n"...)
+	head("\ngroup,compound,unit,n,mean,sd,rsd_pct,reported,grubbs_g,grubbs_crit,members,outliers,flags")
 	for _, g := range s.Groups {
 		b = appendCSVText(b, g.Name)
 		text(g.Compound)
@@ -205,6 +258,7 @@ func appendLabCSV(b []byte, s *lab.Summary) []byte {
 		text(strings.Join(ms, " "))
 		text(strings.Join(outs, " "))
 		text(joinFlags(g.Flags, " "))
+		status(groupStatus, g.Name)
 		b = append(b, '\n')
 	}
 	return b
@@ -217,7 +271,11 @@ func appendLabCSV(b []byte, s *lab.Summary) []byte {
 // grubbs_crit, members [{sample, value, outlier}], flags). A number that
 // is not defined (SD of one member, Grubbs' statistic below n = 3) is
 // left out.
-func appendLabJSON(b []byte, s *lab.Summary) []byte {
+func appendLabJSON(b []byte, s *lab.Summary) []byte { return appendLabJSONStatus(b, s, nil) }
+
+// appendLabJSONStatus is appendLabJSON with a "status" member in each
+// reported value and group when st is not nil.
+func appendLabJSONStatus(b []byte, s *lab.Summary, st *labStatus) []byte {
 	field := func(name string, v float64) {
 		if finite(v) {
 			b = append(b, ", \""+name+"\": "...)
@@ -249,6 +307,9 @@ func appendLabJSON(b []byte, s *lab.Summary) []byte {
 		field("lod", r.LOD)
 		field("loq", r.LOQ)
 		str("reported", r.Text)
+		if st != nil {
+			str("status", st.of(sampleStatus, r.Sample))
+		}
 		b = append(b, '}')
 	}
 	b = append(b, "],\n  \"groups\": ["...)
@@ -282,6 +343,9 @@ func appendLabJSON(b []byte, s *lab.Summary) []byte {
 		}
 		b = append(b, ']')
 		b = appendFlags(b, g.Flags)
+		if st != nil {
+			str("status", st.of(groupStatus, g.Name))
+		}
 		b = append(b, '}')
 	}
 	return append(b, "]}"...)

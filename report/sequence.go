@@ -1,7 +1,9 @@
 package report
 
 import (
+	"bytes"
 	"encoding/csv"
+	"encoding/json"
 	"fmt"
 	"io"
 	"strconv"
@@ -25,15 +27,51 @@ type SequenceReport struct {
 }
 
 // SequenceVerdict is the one-line summary of a run: "PASS" or "FAIL"
-// with the counts of checks and samples.
+// with the counts of checks and samples, and of replicate groups when
+// there are any.
 func SequenceVerdict(r *sequence.Run) string {
 	v := "PASS"
 	if !r.Pass {
 		v = "FAIL"
 	}
-	return fmt.Sprintf("run %s: %d %s (%d failed), %d %s: %d valid, %d invalid, %d unbracketed",
+	s := fmt.Sprintf("run %s: %d %s (%d failed), %d %s: %d valid, %d invalid, %d unbracketed",
 		v, r.Checks, plural(r.Checks, "check", "checks"), r.ChecksFailed,
 		r.Samples, plural(r.Samples, "sample", "samples"), r.Valid, r.Invalid, r.Unbracketed)
+	if n := len(r.Groups); n > 0 {
+		s += fmt.Sprintf("; %d replicate %s: %d valid, %d invalid, %d flagged",
+			n, plural(n, "group", "groups"), r.GroupsValid, r.GroupsInvalid, r.GroupsFlagged)
+	}
+	return s
+}
+
+// MarshalJSON writes the report with the run's lab section as "lab"
+// (see appendLabJSON; each reported value and group with its "status"),
+// which encoding/json cannot write: its undefined numbers are NaN.
+func (rep SequenceReport) MarshalJSON() ([]byte, error) {
+	type plain SequenceReport
+	b, err := json.Marshal(plain(rep))
+	if err != nil || rep.Result == nil || rep.Result.Lab == nil {
+		return b, err
+	}
+	lab := appendLabJSONStatus(nil, rep.Result.Lab, runLabStatus(rep.Result))
+	lab = bytes.TrimPrefix(lab, []byte(",\n \"lab\": "))
+	out := append(b[:len(b)-1:len(b)-1], `,"lab":`...)
+	return append(append(out, lab...), '}'), nil
+}
+
+// runLabStatus is the status column of a run's lab section: each
+// sample's bracketing status and each group's verdict.
+func runLabStatus(r *sequence.Run) *labStatus {
+	st := &labStatus{sample: map[string]string{}, group: map[string]string{}}
+	for _, e := range r.Entries {
+		if e.Role == sequence.RoleSample {
+			st.sample[e.Name] = e.Status
+		}
+	}
+	for _, g := range r.Groups {
+		st.group[g.Group] = g.Status
+	}
+	return st
 }
 
 // WriteSequenceTable prints a run for the terminal: the verdict, what was
@@ -63,6 +101,14 @@ func WriteSequenceTable(w io.Writer, rep *SequenceReport) error {
 	}
 	for _, c := range r.Converted {
 		fmt.Fprintf(w, "Unit converted to the reference set's: %s.\n", termText(c))
+	}
+	if r.Lab != nil {
+		if err := writeLabTableStatus(w, r.Lab, runLabStatus(r)); err != nil {
+			return err
+		}
+		if len(r.Groups) > 0 {
+			fmt.Fprintln(w, "A replicate group is valid only when every member is valid (bracketed by two passing checks).")
+		}
 	}
 	fmt.Fprintln(w)
 	return writeDrift(w, r)
@@ -150,7 +196,9 @@ func writeDrift(w io.Writer, r *sequence.Run) error {
 }
 
 // WriteSequenceCSV writes a run as CSV: a "result" record per row of the
-// run and compound, then a "drift" record per fitted line.
+// run and compound, then a "drift" record per fitted line, then, when the
+// run has a lab section, its sections as solve writes them (see
+// appendLabCSV) with a last column status.
 func WriteSequenceCSV(w io.Writer, r *sequence.Run) error {
 	cw := csv.NewWriter(w)
 	head := []string{"record", "order", "position", "role", "name", "hours", "compound", "unit", "known", "found", "se",
@@ -204,5 +252,9 @@ func WriteSequenceCSV(w io.Writer, r *sequence.Run) error {
 		}
 	}
 	cw.Flush()
-	return cw.Error()
+	if err := cw.Error(); err != nil || r.Lab == nil {
+		return err
+	}
+	_, err := w.Write(appendLabCSVStatus(nil, r.Lab, runLabStatus(r)))
+	return err
 }

@@ -9,6 +9,7 @@ import (
 
 	"huesolve/calibration"
 	"huesolve/internal/pkgerr"
+	"huesolve/lab"
 	"huesolve/reference"
 	"huesolve/unmix"
 	"huesolve/validate"
@@ -33,16 +34,21 @@ type Options struct {
 	Limits validate.Limits
 	// MinSelectivity is verify's refusal threshold (0: the default).
 	MinSelectivity float64
+	// Lab puts the samples on a reporting basis and gathers the
+	// replicate groups of the sheet (see Run.Lab).
+	Lab lab.Options
 }
 
 // Entry is one row of the run, in run order.
 type Entry struct {
-	Order    int     `json:"order"`
-	Position int     `json:"position"`
-	Role     Role    `json:"role"`
-	Name     string  `json:"name"`
-	Line     int     `json:"line"`
-	Hours    float64 `json:"hours"`
+	Order    int    `json:"order"`
+	Position int    `json:"position"`
+	Role     Role   `json:"role"`
+	Name     string `json:"name"`
+	Line     int    `json:"line"`
+	// Group (samples) is the sample's replicate group ("" for none).
+	Group string  `json:"group,omitempty"`
+	Hours float64 `json:"hours"`
 	// Pass (checks) is whether every compound of the check passed.
 	Pass *bool `json:"pass,omitempty"`
 	// Why (checks) lists the failed compounds.
@@ -94,6 +100,15 @@ type Run struct {
 	Entries   []Entry  `json:"entries"`
 	Drift     []Drift  `json:"drift"`
 	Converted []string `json:"unit_conversions,omitempty"`
+	// Lab is the samples on the reporting basis and the replicate
+	// groups' statistics (nil when neither a basis nor a group is
+	// asked for); its numbers may be NaN, so report writes it.
+	Lab *lab.Summary `json:"-"`
+	// Groups are the replicate groups' verdicts, in sheet order.
+	Groups        []GroupVerdict `json:"groups,omitempty"`
+	GroupsValid   int            `json:"groups_valid"`
+	GroupsInvalid int            `json:"groups_invalid"`
+	GroupsFlagged int            `json:"groups_flagged"`
 }
 
 // Process solves and judges a run against set: checks with verify's
@@ -141,12 +156,12 @@ func Process(ctx context.Context, set *reference.Set, sh *Sheet, opt Options) (*
 		if err := ctx.Err(); err != nil {
 			return nil, pkgerr.Errorf("sequence", "stopped after %d of %d rows: %w", i, len(sh.Rows), err)
 		}
-		e := Entry{Order: r.Order, Position: i + 1, Role: r.Role, Name: rowName(r.Row), Line: r.Line, Hours: r.Hours}
+		e := Entry{Order: r.Order, Position: i + 1, Role: r.Role, Name: r.Name, Line: r.Line, Hours: r.Hours}
 		if r.Role == RoleCheck {
 			e.checkFrom(v, ci, len(checks))
 			ci++
 		} else {
-			res, err := model.Solve(r.Scan, unmix.Factors{})
+			res, err := model.Solve(r.Scan, unmix.Factors{Dilution: r.Dilution})
 			if err != nil {
 				return nil, pkgerr.Errorf("sequence", "%s:%d: %s %s: %w", sh.Path, r.Line, r.Role, e.Name, err)
 			}
@@ -165,6 +180,9 @@ func Process(ctx context.Context, set *reference.Set, sh *Sheet, opt Options) (*
 	}
 	run.bracket()
 	run.Drift = run.drift(set)
+	if err := run.evaluateLab(sh, opt.Lab); err != nil {
+		return nil, err
+	}
 	return run, nil
 }
 

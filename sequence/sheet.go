@@ -8,6 +8,7 @@ import (
 
 	"huesolve/calibration"
 	"huesolve/spectrum"
+	"huesolve/unmix"
 )
 
 // Role is what a row of a run is.
@@ -20,8 +21,18 @@ const (
 	RoleSample Role = "sample"
 )
 
-// Columns a run sheet adds to a standards sheet.
-var extraColumns = []string{"order", "role", "time"}
+// Columns a run sheet adds to a standards sheet: order, role and time
+// (Extra columns 0 to 2), then the sample rows' own columns (labColumns).
+var extraColumns = append([]string{"order", "role", "time"}, labColumns...)
+
+// labColumns are the columns only sample rows fill: the sample's name,
+// a further dilution of what was scanned, and the replicate group and
+// preparation columns of a sample sheet (unmix.ExtraColumns, read by
+// package lab).
+var labColumns = append([]string{"sample", "dilution"}, unmix.ExtraColumns...)
+
+// firstLab is the index of labColumns[0] among the Extra columns.
+const firstLab = 3
 
 // Row is one row of a run sheet.
 type Row struct {
@@ -31,6 +42,11 @@ type Row struct {
 	// Hours is the row's time in hours (HasTime: the sheet gives times).
 	Hours   float64
 	HasTime bool
+	// Name is the sample column's text, else the row's column within a
+	// wide table, else its scan file.
+	Name string
+	// Dilution is a sample's further dilution (0: none given).
+	Dilution float64
 }
 
 // Sheet is a run sheet with its scans loaded, rows in run order.
@@ -44,8 +60,13 @@ type Sheet struct {
 // role (blank, check or sample) and optionally time (clock time HH:MM or
 // HH:MM:SS; hours may pass 23 for a run that crosses midnight). Check
 // rows give every compound's known concentration (0 where absent);
-// blank and sample rows leave the compound cells empty or 0. Errors name
-// the sheet, line and column.
+// blank and sample rows leave the compound cells empty or 0. Sample rows
+// may also give sample (the name to report, default the column or scan
+// file), dilution (a further dilution factor of what was scanned) and
+// the replicate group and preparation columns of a sample sheet (group,
+// replicate_of, mass, mass_unit, u_mass, volume, volume_unit, u_volume;
+// read by package lab); other rows leave them empty. Errors name the
+// sheet, line and column.
 func ReadSheet(path string, opt calibration.SheetOptions) (*Sheet, error) {
 	opt.Checks = true
 	opt.Loose = true
@@ -80,7 +101,8 @@ func btoi(b bool) int {
 	return 0
 }
 
-// rowErr is an error at row r, Extra column i (0 order, 1 role, 2 time).
+// rowErr is an error at row r, Extra column i (0 order, 1 role, 2 time,
+// then labColumns).
 func rowErr(path string, r calibration.Row, i int, format string, a ...any) error {
 	col := 0
 	if i < len(r.ExtraCols) && r.ExtraCols[i] > 0 {
@@ -118,6 +140,9 @@ func readRow(path string, r calibration.Row) (Row, error) {
 		}
 		row.Hours, row.HasTime = h, true
 	}
+	if err := row.readLab(path); err != nil {
+		return row, err
+	}
 	if row.Role == RoleCheck && r.Unstated {
 		return row, rowErr(path, r, 1, "a check row gives every compound's known concentration (0 where absent)")
 	}
@@ -129,6 +154,35 @@ func readRow(path string, r calibration.Row) (Row, error) {
 		}
 	}
 	return row, nil
+}
+
+// readLab reads the name and dilution of row r and refuses a sample's
+// own columns on a blank or check row.
+func (row *Row) readLab(path string) error {
+	row.Name = rowName(row.Row)
+	for i, c := range labColumns {
+		t := strings.TrimSpace(row.Extra[firstLab+i])
+		switch {
+		case t == "":
+		case row.Role != RoleSample:
+			return rowErr(path, row.Row, firstLab+i, "a %s row takes no %s: names, dilutions, replicate groups and preparations are for sample rows", row.Role, c)
+		case c == "sample":
+			row.Name = t
+		case c == "dilution":
+			d, _, err := spectrum.ParseNumber([]byte(t), true)
+			if err == nil && d == 0 {
+				err = fmt.Errorf("0")
+			}
+			if err == nil {
+				err = unmix.CheckFactors(unmix.Factors{Dilution: d})
+			}
+			if err != nil {
+				return rowErr(path, row.Row, firstLab+i, "dilution %q: want a factor from %g to %g", t, float64(unmix.MinDilution), float64(unmix.MaxDilution))
+			}
+			row.Dilution = d
+		}
+	}
+	return nil
 }
 
 // clockHours reads HH:MM or HH:MM:SS as hours.

@@ -16,6 +16,7 @@ import (
 	"github.com/olekukonko/tablewriter/tw"
 	"github.com/spf13/cobra"
 
+	"huesolve/history"
 	"huesolve/internal/demo"
 )
 
@@ -30,8 +31,12 @@ blue) have overlapping bands. The lab scans a blank and pure standards at six
 levels in duplicate, plus two mixed standards; six check standards of known
 composition; and fourteen production samples, among them one near the
 detection limit, one too concentrated to read, one turbid and one holding a
-dye that is not in the references. All names, spectra and numbers are made
-up; the scans are synthetic and the same on every run.
+dye that is not in the references. The day's run (run.csv) brackets two
+lots, each weighed in triplicate, with check standards and reports them in
+mg/kg of product; a QC history file holds 20 earlier days of check-standard
+results, with a shift planted in one dye, for the control charts. All
+names, spectra and numbers are made up; the scans are synthetic and the
+same on every run.
 
 DIR must be new or empty (or a folder an earlier demo wrote). Without DIR a
 fresh temporary folder is made and its name printed. The commands' results
@@ -89,7 +94,10 @@ func runDemo(cmd *cobra.Command, opt demoOptions) error {
 		return err
 	}
 	fmt.Fprintf(out, "%s, checking the colourant content of its %s (an invented case).\n", sc.Lab, sc.Product)
-	fmt.Fprintf(out, "Wrote %d files into %s\n", len(files), dir)
+	if err := writeDemoHistory(cmd, sc, filepath.Join(dir, demo.HistoryFile)); err != nil {
+		return err
+	}
+	fmt.Fprintf(out, "Wrote %d files into %s\n", len(files)+1, dir)
 	describeDemoFiles(out, sc)
 	if opt.filesOnly {
 		return nil
@@ -187,7 +195,54 @@ func describeDemoFiles(w io.Writer, sc *demo.Scenario) {
 		demo.SamplesDir+"/", len(sc.Samples))
 	fmt.Fprintf(w, "  %-20s blank of the product base, scanned with the samples\n", demo.BlankFile)
 	fmt.Fprintf(w, "  %-20s dilution factor and path length of each sample\n", demo.SampleSheet)
+	preps := 0
+	for _, l := range sc.Lots {
+		preps += len(l.Preps)
+	}
+	fmt.Fprintf(w, "  %-20s the day's run: blanks, checks and %d lots weighed in triplicate (%d scans in run/)\n", demo.RunSheet, len(sc.Lots), preps)
+	fmt.Fprintf(w, "  %-20s QC history: %d earlier days of check-standard results (invented)\n", demo.HistoryFile, demo.HistoryDays)
 	fmt.Fprintf(w, "  %-20s the concentrations the demo put in (a real lab would not have this file)\n", demo.TruthFile)
+}
+
+// writeDemoHistory writes the scenario's invented history of check
+// standards into a new QC history file at path (any earlier one is
+// replaced): one verify run per day, marked in its command line and
+// metadata as invented.
+func writeDemoHistory(cmd *cobra.Command, sc *demo.Scenario, path string) error {
+	tmp := path + ".new"
+	for _, p := range []string{tmp, tmp + "-journal"} {
+		if err := os.Remove(p); err != nil && !errors.Is(err, os.ErrNotExist) {
+			return fmt.Errorf("demo: %w", err)
+		}
+	}
+	db, err := history.Open(tmp)
+	if err != nil {
+		return err
+	}
+	for _, d := range sc.History() {
+		pass := true
+		run := &history.Run{Kind: history.KindVerify, Time: d.Time, ToolVersion: version,
+			CommandLine: "huesolve demo (invented history: check standards of an earlier day)",
+			Meta:        map[string]string{"demo": "invented"}}
+		for _, c := range d.Checks {
+			ok := c.Recovery >= 98 && c.Recovery <= 102 // verify's default acceptance (--recovery 98-102)
+			pass = pass && ok
+			run.Checks = append(run.Checks, history.CheckResult{Standard: c.Standard, Compound: c.Compound, Unit: "mg/L",
+				Known: c.Known, Found: c.Found, SE: c.SE, Recovery: c.Recovery, Pass: ok})
+		}
+		run.Pass = &pass
+		if _, err := db.Record(cmd.Context(), run); err != nil {
+			db.Close()
+			return err
+		}
+	}
+	if err := db.Close(); err != nil {
+		return fmt.Errorf("demo: %s: %w", tmp, err)
+	}
+	if err := os.Rename(tmp, path); err != nil {
+		return fmt.Errorf("demo: %w", err)
+	}
+	return nil
 }
 
 // displayArgs shows args as typed from inside the demo folder dir.
@@ -292,15 +347,37 @@ the data needed; --format json lists what each candidate scored
 (model_scores). Filtering or centrifuging the solution before scanning is
 still the better cure.`,
 	}, {
-		title: "the day's run in order: check standards bracket the samples",
-		runs:  [][]string{{"sequence", refs, p(demo.RunSheet)}},
-		want:  []int{exitOK},
-		note: `Each check standard passed on its own, so every sample between two of them
-is valid. Had a check failed, the samples on either side of it would be
-marked invalid until the next passing check; a sample after the last check
-is unbracketed. The drift lines show no trend in the checks' recoveries
-within this short run.`,
+		title: "the day's run in order: checks bracket replicate samples weighed in",
+		runs:  [][]string{{"sequence", refs, p(demo.RunSheet), "--basis", "mg/kg", "--record", p(demo.HistoryFile)}},
+		want:  []int{exitFlagged},
+		note: `Each check standard passed, so every sample between two of them is valid;
+had a check failed, the samples (and their lots) on either side of it would
+be invalid. Each lot was weighed in triplicate (about 2.5 g made up to 50 mL):
+the lab section gives each preparation in mg/kg of product with its
+uncertainty (the mass and the flask's included) and each lot's mean ± SD.
+Exit code 4: lot-115 is flagged. Its third flask was topped up past the mark
+and reads about 9 % low: the lot's RSD is above the 5 % limit (!rep-rsd) and
+Grubbs' test marks that preparation (!rep-outlier). Weigh the lot again rather
+than report its mean. The run went into the QC history file as today's point
+on each check standard's chart.`,
+	}, {
+		title: "a month of check standards on control charts",
+		runs:  [][]string{{"history", p(demo.HistoryFile), "--baseline-runs", strconv.Itoa(demo.HistoryBaseline), "--plots", res("plots/history")}},
+		want:  []int{exitFlagged},
+		note: fmt.Sprintf(`The history holds %d earlier days of the same check standards (invented)
+and today's run; the first %d runs set each chart's centre line and limits.
+From %s on, %s's recoveries sit about half a per cent higher
+(a planted shift: a new bottle of solvent, say). Every run still passed
+98-102 %%, but the Westgard rules (1-3s, 2-2s, 4-1s) see it within days on
+each check standard; the other dyes stay in control (a 1-2s alone is a
+warning). The charts are in results/plots/history.`, demo.HistoryDays, demo.HistoryBaseline, demoShiftDate(), demo.ShiftedDye),
 	}}
+}
+
+// demoShiftDate is the day the invented history's shift starts.
+func demoShiftDate() string {
+	days := demo.New().History()
+	return days[demo.HistoryShiftDay-1].Time.Format("2 January")
 }
 
 // demoResults is the part of the solve JSON file the demo compares.
@@ -381,7 +458,8 @@ func demoClosing(dir string) string {
 	return fmt.Sprintf(`
 What you are looking at: %s holds the invented scans and sheets;
 results/ holds what the commands wrote (the reference set refs.json,
-verify.json, samples.csv and samples.json) and plots/ the figures.
+verify.json, samples.csv and samples.json) and plots/ the figures;
+qc-history.db the QC history with today's run added.
 
 To run the same job on your own data:
   huesolve look SCAN...                       check that your files read as you expect
@@ -390,6 +468,8 @@ To run the same job on your own data:
   huesolve window refs.json
   huesolve verify refs.json CHECKS-SHEET
   huesolve solve refs.json SCAN... --blank BLANK --samples SAMPLE-SHEET -o results.csv --format csv
+  huesolve sequence refs.json RUN-SHEET --basis mg/kg --record qc.db
+  huesolve history qc.db --plots plots
 README.md describes the file formats, every option and what each flag means.
 
 Caution: results support, but do not replace, a validated analytical method.

@@ -1,6 +1,7 @@
 package main
 
 import (
+	"encoding/json"
 	"fmt"
 	"maps"
 	"math"
@@ -8,6 +9,7 @@ import (
 	"path/filepath"
 	"regexp"
 	"slices"
+	"strconv"
 	"strings"
 	"testing"
 
@@ -207,6 +209,99 @@ func TestDemoRecoversTruth(t *testing.T) {
 		filepath.Join(dir, "samples", "lot-107.csv"), "--blank", filepath.Join(dir, demo.BlankFile), "--baseline", "offset")
 	if code != exitFlagged {
 		t.Errorf("turbid sample with a fixed offset: exit code %d, want %d; stderr %q", code, exitFlagged, errOut)
+	}
+	checkDemoRun(t, dir, sc)
+	checkDemoHistory(t, dir)
+}
+
+// demoBasisRel bounds |reported - put in| on the product basis beyond
+// demoSEs standard uncertainties: the calibration's share, as demoRel.
+const demoBasisRel = 0.005
+
+// checkDemoRun runs step 8's sequence as JSON and compares each
+// preparation's reported mg/kg with the content the scenario put in
+// (less what the planted slip lost), and the lots' flags: lot-114 clean,
+// lot-115 flagged for its RSD, both valid.
+func checkDemoRun(t *testing.T, dir string, sc *demo.Scenario) {
+	t.Helper()
+	js := filepath.Join(dir, "results", "run.json")
+	_, errOut, code := run(t, "sequence", filepath.Join(dir, "results", "refs.json"), filepath.Join(dir, demo.RunSheet),
+		"--basis", "mg/kg", "-o", js)
+	if code != exitFlagged || !strings.Contains(errOut, "2 replicate groups: 2 valid, 0 invalid, 1 flagged") {
+		t.Fatalf("sequence: exit %d\n%s", code, errOut)
+	}
+	b, err := os.ReadFile(js)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var doc struct {
+		Lab struct {
+			Reported []struct {
+				Sample, Compound, Unit, Status string
+				Value, U                       float64
+			}
+			Groups []struct {
+				Group, Compound, Status string
+				Flags                   []string
+			}
+		}
+	}
+	if err := json.Unmarshal(b, &doc); err != nil {
+		t.Fatal(err)
+	}
+	preps := map[string]demo.Prep{}
+	for _, l := range sc.Lots {
+		for _, p := range l.Preps {
+			preps[p.Name] = p
+		}
+	}
+	dye := map[string]int{}
+	for k, d := range sc.Dyes {
+		dye[d.Name] = k
+	}
+	if len(doc.Lab.Reported) != len(preps)*len(sc.Dyes) {
+		t.Fatalf("%d reported values, want %d", len(doc.Lab.Reported), len(preps)*len(sc.Dyes))
+	}
+	for _, r := range doc.Lab.Reported {
+		p := preps[r.Sample]
+		want := p.Content[dye[r.Compound]] * (1 - p.Loss)
+		if tol := demoSEs*r.U + demoBasisRel*want; r.Unit != "mg/kg" || r.Status != "valid" || math.Abs(r.Value-want) > tol {
+			t.Errorf("%s %s = %g ± %g %s (%s), put in %g mg/kg (tolerance %g)", r.Sample, r.Compound, r.Value, r.U, r.Unit, r.Status, want, tol)
+		}
+	}
+	for _, g := range doc.Lab.Groups {
+		flagged := len(g.Flags) > 0
+		wantFlag := g.Group == "lot-115" && sc.Lots[1].Content[dye[g.Compound]] > 0
+		if g.Status != "valid" || flagged != wantFlag || wantFlag && !slices.Contains(g.Flags, "rep-rsd") {
+			t.Errorf("group %s %s: %s, flags %v", g.Group, g.Compound, g.Status, g.Flags)
+		}
+	}
+}
+
+// checkDemoHistory checks step 9's charts: only the shifted dye's series
+// break a rejection rule, each of them does, and none before the shift.
+func checkDemoHistory(t *testing.T, dir string) {
+	t.Helper()
+	out, errOut, code := run(t, "history", filepath.Join(dir, demo.HistoryFile), "--baseline-runs", strconv.Itoa(demo.HistoryBaseline), "--format", "csv")
+	if code != exitFlagged {
+		t.Fatalf("history: exit %d\n%s", code, errOut)
+	}
+	broken := map[string]bool{}
+	for _, line := range strings.Split(strings.TrimSpace(out), "\n")[1:] {
+		f := strings.Split(line, ",")
+		rules := strings.Fields(strings.ReplaceAll(f[len(f)-1], ";", " "))
+		reject := slices.ContainsFunc(rules, func(r string) bool { return r != "1-2s" })
+		if !reject {
+			continue
+		}
+		runID, _ := strconv.Atoi(f[2])
+		if f[0] != demo.ShiftedDye || runID < demo.HistoryShiftDay {
+			t.Errorf("rule broken outside the planted shift: %s", line)
+		}
+		broken[f[1]] = true
+	}
+	if len(broken) != 3 {
+		t.Errorf("check standards whose %s series break a rule: %v, want all three", demo.ShiftedDye, broken)
 	}
 }
 

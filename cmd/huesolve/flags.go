@@ -50,7 +50,7 @@ type fitFlags struct {
 
 // valAutoBaseline is the --baseline value that chooses each sample's
 // nuisance model (unmix.Options.Auto), the default of solve and verify.
-const valAutoBaseline = "auto"
+const valAutoBaseline = method.AutoBaseline
 
 // addDesign binds --baseline and --weighted, which fix the design of the
 // fit (window predicts errors from them, with a fixed model only).

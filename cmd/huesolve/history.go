@@ -16,8 +16,9 @@ type historyOptions struct {
 	baseline int
 }
 
-const historyLong = `List the runs recorded in a QC history file (verify and solve with
---record DB) and judge each check standard's recoveries over time.
+const historyLong = `List the runs recorded in a QC history file (verify, solve and sequence
+with --record DB, or with a method that names the file) and judge each check
+standard's recoveries over time.
 
 For each compound in each check standard (by its name in the checks sheet)
 the recoveries of the recorded verify runs form a series in run order. Its

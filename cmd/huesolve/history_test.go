@@ -2,11 +2,15 @@ package main
 
 import (
 	"bytes"
+	"context"
+	"database/sql"
 	"encoding/csv"
 	"os"
 	"path/filepath"
 	"strings"
 	"testing"
+
+	"huesolve/history"
 )
 
 // TestRecordAndHistory: five verify runs of one invented case whose
@@ -81,5 +85,112 @@ func TestRecordDamagedFile(t *testing.T) {
 	_, errOut, code = run(t, "history", filepath.Join(dir, "none.db"))
 	if code != exitFailure || !strings.Contains(errOut, "none.db does not exist") {
 		t.Errorf("history of a missing file: exit %d:\n%s", code, errOut)
+	}
+}
+
+// historyRuns counts the runs recorded in the history file path.
+func historyRuns(t *testing.T, path string) int {
+	t.Helper()
+	db, err := history.Open(path)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer db.Close()
+	n, _, _, err := db.Count(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	return n
+}
+
+// TestRecordBadHistoryFiles: the issue's bad history files through the
+// commands. A run that fails before recording leaves the file as it was;
+// a file of a newer schema is refused by history and by --record, naming
+// it and (for --record) saying where the results are, and is not changed.
+func TestRecordBadHistoryFiles(t *testing.T) {
+	dir, refs, _ := valCaseNoise(t, 1, quietCheckSD)
+	db := filepath.Join(dir, "qc.db")
+	sheet := seqLabSheet(t, dir, "5")
+	if _, errOut, code := run(t, "sequence", refs, sheet, "--record", db); code != exitOK {
+		t.Fatalf("sequence: exit %d\n%s", code, errOut)
+	}
+	before, err := os.ReadFile(db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	// A run that fails (its sheet has no check standard) records nothing.
+	bad := filepath.Join(dir, "no-check.csv")
+	if err := os.WriteFile(bad, []byte("order,role,scan,red (mg/L),yellow (mg/L)\n1,sample,chk-3.csv,,\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, errOut, code := run(t, "sequence", refs, bad, "--record", db); code != exitFailure || !strings.Contains(errOut, "no check standard") {
+		t.Errorf("run without a check: exit %d\n%s", code, errOut)
+	}
+	if after, _ := os.ReadFile(db); !bytes.Equal(after, before) || historyRuns(t, db) != 1 {
+		t.Error("a failed run changed the history file")
+	}
+	// A file from a newer huesolve.
+	sdb, err := sql.Open("sqlite", db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := sdb.Exec(`UPDATE schema_version SET version = ?`, history.SchemaVersion()+1); err != nil {
+		t.Fatal(err)
+	}
+	sdb.Close()
+	newer, err := os.ReadFile(db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	_, errOut, code := run(t, "history", db)
+	if code != exitFailure || !strings.Contains(errOut, db) || !strings.Contains(errOut, "newer") {
+		t.Errorf("history of a newer file: exit %d\n%s", code, errOut)
+	}
+	out := filepath.Join(dir, "run.json")
+	_, errOut, code = run(t, "sequence", refs, sheet, "--record", db, "-o", out)
+	if code != exitFailure || !strings.Contains(errOut, db) || !strings.Contains(errOut, "newer") || !strings.Contains(errOut, "the results are in "+out) {
+		t.Errorf("--record into a newer file: exit %d\n%s", code, errOut)
+	}
+	if fi, err := os.Stat(out); err != nil || fi.Size() == 0 {
+		t.Errorf("results lost: %v", err)
+	}
+	if after, _ := os.ReadFile(db); !bytes.Equal(after, newer) {
+		t.Error("the newer history file was changed")
+	}
+}
+
+// TestRecordLockedFile: --record into a file another process holds
+// locked waits for the busy timeout, then fails naming the file and where
+// the results are; once the lock is gone the file holds what it held.
+func TestRecordLockedFile(t *testing.T) {
+	longEndToEnd(t) // waits history.BusyTimeout
+	dir, refs, _ := valCaseNoise(t, 1, quietCheckSD)
+	db := filepath.Join(dir, "qc.db")
+	sheet := seqLabSheet(t, dir, "5")
+	if _, errOut, code := run(t, "sequence", refs, sheet, "--record", db); code != exitOK {
+		t.Fatalf("sequence: exit %d\n%s", code, errOut)
+	}
+	sdb, err := sql.Open("sqlite", db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer sdb.Close()
+	conn, err := sdb.Conn(context.Background())
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer conn.Close()
+	if _, err := conn.ExecContext(context.Background(), "BEGIN IMMEDIATE"); err != nil {
+		t.Fatal(err)
+	}
+	_, errOut, code := run(t, "sequence", refs, sheet, "--record", db)
+	if code != exitFailure || !strings.Contains(errOut, db+" is locked") || !strings.Contains(errOut, "the results are above") {
+		t.Errorf("--record into a locked file: exit %d\n%s", code, errOut)
+	}
+	if _, err := conn.ExecContext(context.Background(), "ROLLBACK"); err != nil {
+		t.Fatal(err)
+	}
+	if n := historyRuns(t, db); n != 1 {
+		t.Errorf("%d runs after the locked attempt, want 1", n)
 	}
 }

@@ -205,3 +205,57 @@ func TestReviewShowsMethod(t *testing.T) {
 		}
 	}
 }
+
+// TestMethodReportSettings: sequence --save-method keeps --basis,
+// --max-rep-rsd and --record in the method (the history file relative to
+// the method's folder); sequence, solve and verify --method use them, a
+// value given on the command line overrides the method's and is
+// recorded, and verify --save-method carries the section over.
+func TestMethodReportSettings(t *testing.T) {
+	dir, _, checks := valCaseNoise(t, 1, quietCheckSD)
+	t.Chdir(dir)
+	sheet := filepath.Base(seqLabSheet(t, dir, "5"))
+	checks = filepath.Base(checks)
+	_, errOut, code := run(t, "sequence", "refs.json", sheet, "--basis", "mg/kg", "--max-rep-rsd", "4", "--record", "qc.db",
+		"--save-method", "m/assay.json")
+	if code != exitOK || !strings.Contains(errOut, "method written to m/assay.json") {
+		t.Fatalf("sequence --save-method: exit %d\n%s", code, errOut)
+	}
+	m, err := method.Load("m/assay.json")
+	if err != nil {
+		t.Fatal(err)
+	}
+	if m.Schema != 2 || m.Report == nil || *m.Report != (method.Report{Basis: "mg/kg", MaxRepRSDPct: 4, Record: "../qc.db"}) ||
+		m.Acceptance == nil || m.Acceptance.RecoveryLoPct != 98 {
+		t.Fatalf("method %+v, report %+v", m, m.Report)
+	}
+	out, errOut, code := run(t, "sequence", "--method", "m/assay.json", sheet, "--format", "csv")
+	if code != exitOK || !strings.Contains(out, "\n# basis: mg/kg\n") || !strings.Contains(out, "\n# max-rep-rsd: 4\n") ||
+		!strings.Contains(out, "\nA-1,A,red,mg/kg,") || !strings.Contains(errOut, "recorded in "+filepath.Join("m", "..", "qc.db")) {
+		t.Fatalf("sequence --method: exit %d\n%s\n%s", code, out, errOut)
+	}
+	out, _, code = run(t, "sequence", "--method", "m/assay.json", sheet, "--format", "csv", "--basis", "% w/w", "--record", "")
+	if code != exitOK || !strings.Contains(out, "\n# override: basis % w/w (method: mg/kg)\n") || !strings.Contains(out, "\nA-1,A,red,% w/w,") {
+		t.Errorf("override: exit %d\n%s", code, out)
+	}
+	if err := os.WriteFile("samples.csv", []byte("sample,group,mass,mass_unit,volume,volume_unit\nchk-3,A,2.5,g,50,mL\nchk-4,A,2.5,g,50,mL\n"), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	out, errOut, code = run(t, "solve", "--method", "m/assay.json", "chk-3.csv", "chk-4.csv", "--blank", "blank1.csv", "--samples", "samples.csv")
+	if code != exitFlagged || !strings.Contains(out, "Reported (basis: mg/kg") || !strings.Contains(out, "RSD limit 4 %") ||
+		!strings.Contains(errOut, "recorded in") {
+		t.Errorf("solve --method: exit %d\n%s\n%s", code, out, errOut)
+	}
+	_, errOut, code = run(t, "verify", "--method", "m/assay.json", checks, "--save-method", "v.json")
+	if code != exitOK || !strings.Contains(errOut, "recorded in") {
+		t.Fatalf("verify --method: exit %d\n%s", code, errOut)
+	}
+	v, err := method.Load("v.json")
+	if err != nil || v.Report == nil || *v.Report != (method.Report{Basis: "mg/kg", MaxRepRSDPct: 4, Record: "qc.db"}) {
+		t.Errorf("verify --save-method: %v, report %+v", err, v.Report)
+	}
+	out, errOut, code = run(t, "history", "qc.db", "--format", "csv")
+	if code != exitOK || strings.Count(out, "\nred,") < 3 {
+		t.Errorf("history: exit %d\n%s\n%s", code, out, errOut)
+	}
+}

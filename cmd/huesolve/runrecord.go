@@ -148,17 +148,18 @@ type methodFlags struct {
 
 // addUse binds --method.
 func (mf *methodFlags) addUse(fs *pflag.FlagSet) {
-	fs.StringVar(&mf.use, "method", "", "method `FILE` (window or verify --save-method) giving the reference set and settings; options given override it")
+	fs.StringVar(&mf.use, "method", "", "method `FILE` (window, verify or sequence --save-method) giving the reference set and settings; options given override it")
 }
 
 // addSave binds --save-method.
 func (mf *methodFlags) addSave(fs *pflag.FlagSet, what string) {
-	fs.StringVar(&mf.save, "save-method", "", "save "+what+" as a method `FILE` for solve and verify --method")
+	fs.StringVar(&mf.save, "save-method", "", "save "+what+" as a method `FILE` for solve, verify and sequence --method")
 }
 
 // methodValues are the method's settings as the values of the options
-// that take them.
-func methodValues(m *method.Method) []provenance.Setting {
+// that take them; the history file of a method read from path is taken
+// from the method file's folder.
+func methodValues(m *method.Method, path string) []provenance.Setting {
 	g := func(v float64) string { return strconv.FormatFloat(v, 'g', -1, 64) }
 	f := &m.Fit
 	var s []provenance.Setting
@@ -180,7 +181,51 @@ func methodValues(m *method.Method) []provenance.Setting {
 		add("max-rsd", g(a.MaxRSDPct))
 		add("min-selectivity", g(a.MinSelectivity))
 	}
+	if r := m.Report; r != nil {
+		if r.Basis != "" {
+			add("basis", r.Basis)
+		}
+		if r.MaxRepRSDPct != 0 {
+			add("max-rep-rsd", g(r.MaxRepRSDPct))
+		}
+		if p := m.RecordPath(path); p != "" {
+			add("record", p)
+		}
+	}
 	return s
+}
+
+// methodReport is the reporting section to save with the method: each of
+// --basis, --max-rep-rsd and --record that the command has, as in force
+// (given, or from --method; --max-rep-rsd only when one of them set it),
+// else the --method file's value; the history file's path is written
+// relative to the new method file's folder. nil when none is set.
+func (mf *methodFlags) methodReport(fs *pflag.FlagSet) *method.Report {
+	var r method.Report
+	if mf.m != nil && mf.m.Report != nil {
+		r = *mf.m.Report
+		if p := mf.m.RecordPath(mf.use); p != "" {
+			r.Record = method.RelativePath(mf.save, p)
+		}
+	}
+	if fl := fs.Lookup("basis"); fl != nil {
+		r.Basis = fl.Value.String()
+	}
+	if fl := fs.Lookup("max-rep-rsd"); fl != nil && (fl.Changed || r.MaxRepRSDPct != 0) {
+		if v, err := strconv.ParseFloat(fl.Value.String(), 64); err == nil {
+			r.MaxRepRSDPct = v
+		}
+	}
+	if fl := fs.Lookup("record"); fl != nil {
+		r.Record = ""
+		if v := fl.Value.String(); v != "" {
+			r.Record = method.RelativePath(mf.save, v)
+		}
+	}
+	if r == (method.Report{}) {
+		return nil
+	}
+	return &r
 }
 
 // checkSave refuses --save-method - (a method is a file to keep, and
@@ -204,7 +249,7 @@ func (mf *methodFlags) apply(fs *pflag.FlagSet) error {
 		return err
 	}
 	mf.m = m
-	for _, v := range methodValues(m) {
+	for _, v := range methodValues(m, mf.use) {
 		fl := fs.Lookup(v.Name)
 		switch {
 		case fl == nil:
@@ -243,13 +288,15 @@ func (mf *methodFlags) loadSet(path string) (*reference.Set, error) {
 }
 
 // saveMethod writes the --save-method file: the reference set (by
-// checksum, its path relative to the method file), the fit and the
-// acceptance limits; it says so on standard error.
+// checksum, its path relative to the method file), the fit, the
+// acceptance limits and the reporting section (methodReport); it says so
+// on standard error.
 func (mf *methodFlags) saveMethod(cmd *cobra.Command, run *provenance.Run, refPath string, set *reference.Set, fit method.Fit, acc *method.Acceptance) error {
 	m := &method.Method{
 		Reference:  method.Reference{Path: method.RelativePath(mf.save, refPath), Checksum: set.Checksum},
 		Fit:        fit,
 		Acceptance: acc,
+		Report:     mf.methodReport(cmd.Flags()),
 		Provenance: method.Provenance{Tool: run.Tool, Version: run.Version, Created: run.Time, Command: run.Command},
 	}
 	if err := m.Save(mf.save); err != nil {

@@ -9,9 +9,12 @@ import (
 
 	"huesolve/calibration"
 	"huesolve/history"
+	"huesolve/method"
 	"huesolve/provenance"
+	"huesolve/reference"
 	"huesolve/report"
 	"huesolve/sequence"
+	"huesolve/unmix"
 	"huesolve/validate"
 )
 
@@ -24,6 +27,7 @@ type sequenceOptions struct {
 	recovery       string
 	minSelectivity float64
 	qc             recordFlag
+	lab            labFlags
 }
 
 const sequenceLong = `Process an analytical run in the order it was measured: blanks, check
@@ -39,7 +43,19 @@ RUNSHEET is a standards sheet (as for verify: a "scan" column, an optional
          (a run past midnight counts on: 24:10, 25:30)
 
 Check rows give every compound's known concentration (0 where absent); blank
-and sample rows leave those cells empty (or 0).
+and sample rows leave those cells empty (or 0). Sample rows may also give
+
+  sample       the name to report (default: the column, else the scan file)
+  dilution     a further dilution of what was scanned (results multiplied)
+  group        replicate group; or replicate_of naming another sample
+  mass, mass_unit, volume, volume_unit (u_mass, u_volume optional)
+               the preparation: mass taken made up to the final volume
+
+as in solve's sample sheet. With groups, each group's mean, SD and RSD are
+given, flagged !rep-rsd above --max-rep-rsd and !rep-outlier by Grubbs' test
+(n >= 3); --basis puts the samples on a reporting basis (mg/kg from the
+preparation, or a concentration unit) with the certificate text (n.d.,
+< LOQ, rounded value). A group is valid only when every member is valid.
 
 Checks and samples are blank corrected with --blank, or else with the mean of
 the run's blank rows; each blank row is solved too, so that its apparent
@@ -61,8 +77,8 @@ run's record); -o FILE writes it to a file (atomically; without --format, a
 .csv or .json name picks the format). --record DB appends
 the run and its check results to a QC history file (see huesolve history).
 
-Exit codes: 0 the run passed, 4 some check failed or some sample is not
-valid, 1 the run could not be processed, 2 bad command line, 130
+Exit codes: 0 the run passed, 4 some check failed, some sample is not
+valid or some replicate group is flagged, 1 the run could not be processed, 2 bad command line, 130
 interrupted.
 
 ` + caution
@@ -85,7 +101,9 @@ func newSequenceCmd() *cobra.Command {
 	o.output.addFormat(f)
 	f.StringVar(&o.recovery, "recovery", "98-102", "acceptance range of each check's recovery, `LO-HI` in percent")
 	f.Float64Var(&o.minSelectivity, "min-selectivity", validate.DefaultMinSelectivity, "selectivity below which a compound is refused")
+	o.lab.add(f)
 	o.method.addUse(f)
+	o.method.addSave(f, "the reference set, fit options, acceptance limits, --basis, --max-rep-rsd and --record, when every check passes,")
 	o.qc.add(f)
 	return cmd
 }
@@ -98,6 +116,9 @@ func runSequence(cmd *cobra.Command, o *sequenceOptions, refPath, sheetPath stri
 	refPath = o.method.refPath(refPath)
 	mopt, q, err := checkFitCommand(&o.fit, &o.scans, &o.output)
 	if err != nil {
+		return err
+	}
+	if err := o.method.checkSave(); err != nil {
 		return err
 	}
 	opt := sequence.Options{MinSelectivity: o.minSelectivity}
@@ -113,8 +134,18 @@ func runSequence(cmd *cobra.Command, o *sequenceOptions, refPath, sheetPath stri
 	if err := checkNotInput("--record", o.qc.path, refPath, o.method.use, sheetPath, o.scans.blank); err != nil {
 		return err
 	}
+	if err := checkNotInput("--save-method", o.method.save, refPath, sheetPath, o.scans.blank, o.qc.path, o.output.out); err != nil {
+		return err
+	}
 	set, err := o.method.loadSet(refPath)
 	if err != nil {
+		return err
+	}
+	names, units := make([]string, len(set.Compounds)), make([]string, len(set.Compounds))
+	for k, c := range set.Compounds {
+		names[k], units[k] = c.Name, c.Unit
+	}
+	if opt.Lab, err = o.lab.options(names, units); err != nil {
 		return err
 	}
 	sh, err := sequence.ReadSheet(sheetPath, calibration.SheetOptions{Unit: o.scans.unit, Quantity: q, Warn: warn})
@@ -144,7 +175,11 @@ func runSequence(cmd *cobra.Command, o *sequenceOptions, refPath, sheetPath stri
 	run.Sheets = append(run.Sheets, hashed("run sheet", sheetPath))
 	run.Settings = append(fitSettings(&o.fit, &o.scans, set, mopt),
 		provenance.Setting{Name: "recovery", Value: o.recovery},
-		provenance.Setting{Name: "min-selectivity", Value: strconv.FormatFloat(o.minSelectivity, 'g', -1, 64)})
+		provenance.Setting{Name: "min-selectivity", Value: strconv.FormatFloat(o.minSelectivity, 'g', -1, 64)},
+		provenance.Setting{Name: "max-rep-rsd", Value: strconv.FormatFloat(o.lab.maxRSD, 'g', -1, 64)})
+	if o.lab.basis != "" {
+		run.Settings = append(run.Settings, provenance.Setting{Name: "basis", Value: o.lab.basis})
+	}
 	seen := map[string]bool{}
 	for _, p := range sheetFiles(sh.Sheet) {
 		if !seen[p] {
@@ -167,7 +202,10 @@ func runSequence(cmd *cobra.Command, o *sequenceOptions, refPath, sheetPath stri
 	if err := o.recordHistory(cmd, run, res); err != nil {
 		return err
 	}
-	if !res.Pass {
+	if err := o.saveMethod(cmd, run, refPath, set, mopt, opt, res); err != nil {
+		return err
+	}
+	if !res.Pass || res.GroupsFlagged > 0 {
 		return &exitError{code: exitFlagged, msg: report.SequenceVerdict(res)}
 	}
 	fmt.Fprintf(cmd.ErrOrStderr(), "huesolve: %s\n", report.SequenceVerdict(res))
@@ -214,4 +252,28 @@ func (o *sequenceOptions) recordHistory(cmd *cobra.Command, p *provenance.Run, r
 		}
 	}
 	return o.qc.record(cmd, run, written)
+}
+
+// saveMethod writes --save-method when every check of the run passed:
+// the fit, the acceptance limits (verify's RSD limit from --method, else
+// its default: sequence judges each check alone) and the reporting
+// section (--basis, --max-rep-rsd, --record).
+func (o *sequenceOptions) saveMethod(cmd *cobra.Command, run *provenance.Run, refPath string, set *reference.Set, mopt unmix.Options, opt sequence.Options, res *sequence.Run) error {
+	if o.method.save == "" {
+		return nil
+	}
+	if res.ChecksFailed > 0 {
+		warnTo(cmd.ErrOrStderr())("method not saved to " + o.method.save + ": not every check passed")
+		return nil
+	}
+	pathCM, maxRSD := 0.0, validate.DefaultMaxRSD
+	if m := o.method.m; m != nil {
+		pathCM = m.Fit.PathCM // sequence has no --path-cm: the method's stays
+		if m.Acceptance != nil {
+			maxRSD = m.Acceptance.MaxRSDPct
+		}
+	}
+	acc := &method.Acceptance{RecoveryLoPct: opt.Limits.RecoveryLo, RecoveryHiPct: opt.Limits.RecoveryHi,
+		MaxRSDPct: maxRSD, MinSelectivity: o.minSelectivity}
+	return o.method.saveMethod(cmd, run, refPath, set, methodFit(&o.fit, mopt, o.scans.quantity, pathCM), acc)
 }

@@ -113,3 +113,85 @@ func TestSequenceBadSheet(t *testing.T) {
 		}
 	}
 }
+
+// seqLabSheet writes a run sheet whose samples are two replicate groups,
+// each member prepared as 2.5 g made up to 50 mL: A between checks 2 and
+// 5, B on either side of check 7 (declared at mid for red).
+func seqLabSheet(t *testing.T, dir, mid string) string {
+	t.Helper()
+	text := "order,role,scan,red (mg/L),yellow (mg/L),sample,group,mass,mass_unit,volume,volume_unit\n" +
+		"1,blank,chk-blank.csv,,,,,,,,\n" +
+		"2,check,chk-1.csv,5,5,,,,,,\n" +
+		"3,sample,chk-3.csv,,,A-1,A,2.5,g,50,mL\n" +
+		"4,sample,chk-3.csv,,,A-2,A,2.5,g,50,mL\n" +
+		"5,check,chk-1.csv,5,5,,,,,,\n" +
+		"6,sample,chk-4.csv,,,B-1,B,2.5,g,50,mL\n" +
+		"7,check,chk-2.csv," + mid + ",5,,,,,,\n" +
+		"8,sample,chk-4.csv,,,B-2,B,2.5,g,50,mL\n" +
+		"9,check,chk-1.csv,5,5,,,,,,\n"
+	p := filepath.Join(dir, "run-lab.csv")
+	if err := os.WriteFile(p, []byte(text), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	return p
+}
+
+// A run of replicate samples prepared by weight, reported in mg/kg:
+// the table, CSV and JSON carry the lab section with each sample's and
+// group's status; a failed middle check invalidates group B only.
+func TestSequenceReplicatesOnBasis(t *testing.T) {
+	dir, refs, _ := valCaseNoise(t, 1, quietCheckSD)
+	sheet := seqLabSheet(t, dir, "5")
+	out, errOut, code := run(t, "sequence", refs, sheet, "--basis", "mg/kg")
+	if code != exitOK || !strings.HasPrefix(out, "Run PASS: 4 checks (0 failed), 4 samples: 4 valid, 0 invalid, 0 unbracketed; 2 replicate groups: 2 valid, 0 invalid, 0 flagged") {
+		t.Fatalf("exit %d, stdout:\n%s\nstderr:\n%s", code, out, errOut)
+	}
+	for _, want := range []string{"Reported (basis: mg/kg", "Replicate groups", "│ Status", "A-1", "valid only when every member is valid"} {
+		if !strings.Contains(out, want) {
+			t.Errorf("table lacks %q:\n%s", want, out)
+		}
+	}
+	sheet = seqLabSheet(t, dir, "5.5")
+	out, errOut, code = run(t, "sequence", refs, sheet, "--basis", "mg/kg", "--format", "csv")
+	if code != exitFlagged || !strings.Contains(errOut, "2 replicate groups: 1 valid, 1 invalid") {
+		t.Fatalf("exit %d, stdout:\n%s\nstderr:\n%s", code, out, errOut)
+	}
+	if !strings.Contains(out, "\nreported_sample,group,compound,unit,value,u,lod,loq,reported,status\n") ||
+		!strings.Contains(out, "\nA-1,A,red,mg/kg,") || !strings.Contains(out, ",grubbs_crit,members,outliers,flags,status\n") ||
+		!strings.Contains(out, "\nB,red,mg/kg,2,") {
+		t.Errorf("csv:\n%s", out)
+	}
+	js := filepath.Join(dir, "run.json")
+	if _, errOut, code = run(t, "sequence", refs, sheet, "--basis", "mg/kg", "-o", js); code != exitFlagged {
+		t.Fatalf("json: exit %d: %s", code, errOut)
+	}
+	var doc struct {
+		Seq struct {
+			Groups []struct{ Group, Status string }
+		} `json:"sequence"`
+		Lab struct {
+			Basis    string
+			Reported []struct{ Sample, Status, Reported string }
+			Groups   []struct{ Group, Status string }
+		}
+	}
+	b, err := os.ReadFile(js)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if err := json.Unmarshal(b, &doc); err != nil || doc.Lab.Basis != "mg/kg" || len(doc.Lab.Reported) != 8 ||
+		doc.Lab.Reported[0].Status != "valid" || doc.Lab.Reported[4].Status != "invalid" || len(doc.Seq.Groups) != 2 ||
+		doc.Seq.Groups[0].Status != "valid" || doc.Seq.Groups[1].Status != "invalid" || doc.Lab.Groups[2].Status != "invalid" {
+		t.Errorf("json %v: %+v\n%s", err, doc, b)
+	}
+	// A mass fraction without the preparation is refused, naming the row.
+	text, _ := os.ReadFile(sheet)
+	bad := strings.Replace(string(text), "A-2,A,2.5,g,50,mL", "A-2,A,,,,", 1)
+	if err := os.WriteFile(sheet, []byte(bad), 0o644); err != nil {
+		t.Fatal(err)
+	}
+	if _, errOut, code = run(t, "sequence", refs, sheet, "--basis", "mg/kg"); code != exitFailure || !strings.Contains(errOut, "run-lab.csv:5") ||
+		!strings.Contains(errOut, "needs its mass") {
+		t.Errorf("no preparation: exit %d: %s", code, errOut)
+	}
+}

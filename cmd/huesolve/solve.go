@@ -362,6 +362,7 @@ func (j *solveJob) record(cmd *cobra.Command, o *solveOptions, set *reference.Se
 	run.Settings = append(run.Settings,
 		provenance.Setting{Name: "dilution", Value: strconv.FormatFloat(o.dilution, 'g', -1, 64)},
 		pathSetting(o.pathCM, set))
+	run.Settings = append(run.Settings, j.lab.settings(o.lab)...)
 	// run.Inputs are filled as the batch reads them (emit).
 	j.run = run
 	o.review.run = run

@@ -3,11 +3,13 @@ package main
 import (
 	"fmt"
 	"math"
+	"strconv"
 	"sync"
 
 	"github.com/spf13/pflag"
 
 	"huesolve/lab"
+	"huesolve/provenance"
 	"huesolve/report"
 	"huesolve/unmix"
 )
@@ -24,6 +26,29 @@ func (l *labFlags) add(f *pflag.FlagSet) {
 	f.Float64Var(&l.maxRSD, "max-rep-rsd", lab.DefaultMaxRSD, "RSD limit in `PERCENT` of a replicate group (sample sheet column group)")
 }
 
+// options checks the flags (a basis against the units of the compounds)
+// and gives them as lab's options.
+func (l labFlags) options(compounds, units []string) (lab.Options, error) {
+	if !(l.maxRSD > 0) || math.IsInf(l.maxRSD, 0) {
+		return lab.Options{}, usagef("--max-rep-rsd %g: want a positive percentage", l.maxRSD)
+	}
+	opt := lab.Options{MaxRSD: l.maxRSD}
+	if l.basis == "" {
+		return opt, nil
+	}
+	b, err := lab.ParseBasis(l.basis)
+	if err != nil {
+		return opt, usagef("--basis: %s", userMessage(err))
+	}
+	for k, c := range compounds {
+		if err := b.Check(c, units[k], 0); err != nil {
+			return opt, err
+		}
+	}
+	opt.Basis = &b
+	return opt, nil
+}
+
 // labJob gathers what solve needs for the lab section: the sheet's groups
 // and preparations, the basis, and a copy of every solved scan's amounts.
 type labJob struct {
@@ -38,26 +63,14 @@ type labJob struct {
 // compounds) and reads the sample sheet's lab columns;
 // it returns nil when neither a basis nor a replicate group is asked for.
 func newLabJob(l labFlags, samples string, ss *unmix.SampleSheet, m *unmix.Model) (*labJob, error) {
-	if !(l.maxRSD > 0) || math.IsInf(l.maxRSD, 0) {
-		return nil, usagef("--max-rep-rsd %g: want a positive percentage", l.maxRSD)
+	opt, err := l.options(m.Compounds(), m.Units())
+	if err != nil {
+		return nil, err
 	}
-	j := &labJob{opt: lab.Options{MaxRSD: l.maxRSD}}
-	if l.basis != "" {
-		b, err := lab.ParseBasis(l.basis)
-		if err != nil {
-			return nil, usagef("--basis: %s", userMessage(err))
-		}
-		if b.Fraction && samples == "" {
-			return nil, usagef("--basis %s is a mass fraction: give each sample's mass and volume with --samples SHEET", l.basis)
-		}
-		j.opt.Basis = &b
-		units := m.Units()
-		for k, c := range m.Compounds() {
-			if err := b.Check(c, units[k], 0); err != nil {
-				return nil, err
-			}
-		}
+	if opt.Basis != nil && opt.Basis.Fraction && samples == "" {
+		return nil, usagef("--basis %s is a mass fraction: give each sample's mass and volume with --samples SHEET (or --basis '' to report in the results' unit)", l.basis)
 	}
+	j := &labJob{opt: opt}
 	sh, err := lab.ReadSheet(ss)
 	if err != nil {
 		return nil, err
@@ -117,4 +130,17 @@ func (j *labJob) note() string {
 		return ""
 	}
 	return fmt.Sprintf("; %d replicate group result(s), %d flagged", len(j.sum.Groups), j.sum.Flagged())
+}
+
+// settings are the lab settings in force for the run's record: the RSD
+// limit and the basis, when there is a lab section (none for nil).
+func (j *labJob) settings(l labFlags) []provenance.Setting {
+	if j == nil {
+		return nil
+	}
+	s := []provenance.Setting{{Name: "max-rep-rsd", Value: strconv.FormatFloat(l.maxRSD, 'g', -1, 64)}}
+	if l.basis != "" {
+		s = append(s, provenance.Setting{Name: "basis", Value: l.basis})
+	}
+	return s
 }

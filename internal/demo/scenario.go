@@ -138,6 +138,9 @@ type Scenario struct {
 	Checks []Scan
 	// Samples are the production samples.
 	Samples []Scan
+	// Lots are the product lots of the day's run (the run sheet),
+	// prepared by weight in replicate.
+	Lots []Lot
 
 	// Instrument and matrix model used to make the scans.
 	strayLight  float64 // stray-light fraction of the instrument
@@ -275,6 +278,7 @@ func New() *Scenario {
 		s("lot-112", jcamp, conc(0, 0, 10, 0.6), Normal, "raspberry"),
 		s("lot-113", percentT, conc(5, 5, 5, 1), Normal, "mixed fruit"),
 	}
+	sc.Lots = sc.lots()
 	return sc
 }
 

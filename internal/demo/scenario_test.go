@@ -2,10 +2,15 @@ package demo
 
 import (
 	"bytes"
+	"fmt"
 	"math"
 	"os"
 	"path/filepath"
+	"strings"
 	"testing"
+	"time"
+
+	"gonum.org/v1/gonum/stat"
 
 	"huesolve/spectrum"
 )
@@ -208,6 +213,73 @@ func TestFilesReadBack(t *testing.T) {
 					t.Fatalf("%s at %g nm: read %g, model %g", s.Name, sc.grid[k], got.Values[k], want[k])
 				}
 			}
+		}
+	}
+}
+
+// The day's run: every preparation's scan is written and named in the
+// run sheet with its mass, and its extract holds content × mass / volume
+// (less a planted loss).
+func TestRunPreparations(t *testing.T) {
+	dir := t.TempDir()
+	sc := New()
+	if _, err := sc.Write(dir); err != nil {
+		t.Fatal(err)
+	}
+	sheet, err := os.ReadFile(filepath.Join(dir, RunSheet))
+	if err != nil {
+		t.Fatal(err)
+	}
+	for _, l := range sc.Lots {
+		if len(l.Preps) != 3 {
+			t.Errorf("%s: %d preparations, want 3", l.Name, len(l.Preps))
+		}
+		for _, p := range l.Preps {
+			if _, err := os.Stat(filepath.Join(dir, p.file)); err != nil {
+				t.Error(err)
+			}
+			if !bytes.Contains(sheet, []byte(","+p.file+",,")) || !bytes.Contains(sheet, []byte(","+p.Name+","+l.Name+","+num(p.MassG)+",g,")) {
+				t.Errorf("run sheet lacks %s", p.Name)
+			}
+			for k, c := range l.Content {
+				// 1 mg/kg × 1 g / 1 mL is 1 mg/L.
+				if want := c * p.MassG / p.VolumeML * (1 - p.Loss); math.Abs(p.Conc[k]-want) > 1e-12 {
+					t.Errorf("%s: dye %d at %g mg/L, want %g", p.Name, k, p.Conc[k], want)
+				}
+			}
+		}
+	}
+}
+
+// The invented history: working days only, the same on every call, each
+// series' baseline at mean 100 % and SD historyNoisePct, and the shift
+// on the shifted dye alone.
+func TestHistory(t *testing.T) {
+	sc := New()
+	a, b := sc.History(), New().History()
+	if len(a) != HistoryDays || fmt.Sprint(a) != fmt.Sprint(b) {
+		t.Fatalf("%d days, repeatable %v", len(a), fmt.Sprint(a) == fmt.Sprint(b))
+	}
+	series := map[string][]float64{}
+	for _, d := range a {
+		if wd := d.Time.Weekday(); wd == time.Saturday || wd == time.Sunday {
+			t.Errorf("run on a %s", wd)
+		}
+		for _, c := range d.Checks {
+			series[c.Compound+" "+c.Standard] = append(series[c.Compound+" "+c.Standard], c.Recovery)
+		}
+	}
+	if len(series) != 10 {
+		t.Errorf("%d series, want 10 (every dye each check holds)", len(series))
+	}
+	for name, s := range series {
+		mean, sd := stat.MeanStdDev(s[:HistoryBaseline], nil)
+		if math.Abs(mean-100) > 0.01 || math.Abs(sd-historyNoisePct) > 0.01 {
+			t.Errorf("%s: baseline mean %g, SD %g", name, mean, sd)
+		}
+		late := stat.Mean(s[HistoryShiftDay-1:], nil)
+		if shifted := strings.HasPrefix(name, ShiftedDye+" "); shifted != (late-100 > historyShiftPct/2) {
+			t.Errorf("%s: mean after the shift day %g", name, late)
 		}
 	}
 }

@@ -19,10 +19,11 @@ const (
 	StandardsSheet = "standards.csv"      // calibration standards sheet
 	ChecksSheet    = "checks.csv"         // check standards sheet
 	SampleSheet    = "samples.csv"        // per-sample dilution and path length
-	RunSheet       = "run.csv"            // the day's run in order: blanks, checks, samples
+	RunSheet       = "run.csv"            // the day's run in order: blanks, checks, samples weighed in replicate
 	TruthFile      = "invented-truth.csv" // the concentrations the scenario put in
 	SamplesDir     = "samples"            // production sample scans
 	BlankFile      = "blank.csv"          // blank scanned with the samples
+	HistoryFile    = "qc-history.db"      // QC history: earlier check-standard runs (written by the demo command)
 )
 
 // log10e is 1/ln(10) = 0.4343: absorbance noise per unit of relative
@@ -75,6 +76,11 @@ func (sc *Scenario) Write(dir string) ([]string, error) {
 	for _, group := range [][]Scan{sc.Standards, sc.Checks, {sc.blank}, sc.Samples} {
 		for i := range group {
 			all = append(all, &group[i])
+		}
+	}
+	for i := range sc.Lots {
+		for j := range sc.Lots[i].Preps {
+			all = append(all, &sc.Lots[i].Preps[j].Scan)
 		}
 	}
 	for _, s := range all {
@@ -211,19 +217,20 @@ func (sc *Scenario) sheet(what string, scans []Scan, withColumn bool) []byte {
 }
 
 // runSheet is the run sheet of the day's run (see huesolve sequence): a
-// blank, then check standards bracketing the samples of the clean lots,
-// three at a time, with clock times 4 minutes apart, and a blank at the
+// blank, then check standards bracketing the replicate preparations of
+// each lot (sample name, lot as the group, mass and volume with their
+// uncertainties), with clock times 4 minutes apart, and a blank at the
 // end (the one of the check run).
 func (sc *Scenario) runSheet() []byte {
 	var b bytes.Buffer
-	b.WriteString("# " + sc.comment("the day's run in measuring order") + "\n")
-	b.WriteString("order,role,time,scan,column" + sc.header() + "\n")
-	byName := map[string]Scan{}
-	for _, s := range append(append([]Scan(nil), sc.Checks...), sc.Samples...) {
-		byName[s.Name] = s
+	b.WriteString("# " + sc.comment("the day's run in measuring order; samples weighed and made up to volume") + "\n")
+	b.WriteString("order,role,time,scan,column" + sc.header() + ",sample,group,mass,mass_unit,u_mass,volume,volume_unit,u_volume\n")
+	checks := map[string]Scan{}
+	for _, s := range sc.Checks {
+		checks[s.Name] = s
 	}
 	order := 0
-	row := func(role string, s Scan, conc bool) {
+	row := func(role string, s Scan, conc bool, lab string) {
 		order++
 		mins := 4 * (order - 1)
 		fmt.Fprintf(&b, "%d,%s,%02d:%02d,%s,%s", order, role, 9+mins/60, mins%60, s.file, s.column)
@@ -234,17 +241,18 @@ func (sc *Scenario) runSheet() []byte {
 				b.WriteString(",")
 			}
 		}
-		b.WriteString("\n")
+		b.WriteString("," + lab + "\n")
 	}
-	row("blank", sc.blank, false)
-	for i, group := range [][]string{{"lot-101", "lot-102", "lot-103"}, {"lot-109", "lot-110", "lot-111"}} {
-		row("check", byName["chk-"+strconv.Itoa(i+1)+"a"], true)
-		for _, n := range group {
-			row("sample", byName[n], false)
+	const noLab = ",,,,,,,"
+	row("blank", sc.blank, false, noLab)
+	for i, l := range sc.Lots {
+		row("check", checks["chk-"+strconv.Itoa(i+1)+"a"], true, noLab)
+		for _, p := range l.Preps {
+			row("sample", p.Scan, false, fmt.Sprintf("%s,%s,%s,g,%s,%s,mL,%s", p.Name, l.Name, num(p.MassG), num(p.UMassG), num(p.VolumeML), num(p.UVolumeML)))
 		}
 	}
-	row("check", byName["chk-3a"], true)
-	row("blank", byName["blank"], false)
+	row("check", checks["chk-"+strconv.Itoa(len(sc.Lots)+1)+"a"], true, noLab)
+	row("blank", checks["blank"], false, noLab)
 	return b.Bytes()
 }
 
@@ -257,6 +265,25 @@ func (sc *Scenario) truth() []byte {
 			b.WriteString("," + num(c))
 		}
 		fmt.Fprintf(&b, ",%s,%s,%s,%q\n", num(s.unlisted), num(s.turbidity), s.Trouble, s.Note)
+	}
+	// The day's run: each preparation's extract, and the lot's content.
+	for _, l := range sc.Lots {
+		for _, p := range l.Preps {
+			b.WriteString(p.Name)
+			for _, c := range p.Conc {
+				b.WriteString("," + num(math.Round(c*1e4)/1e4))
+			}
+			note := fmt.Sprintf("%s; %s g in %s mL; lot content", l.Note, num(p.MassG), num(p.VolumeML))
+			for k, d := range sc.Dyes {
+				if l.Content[k] != 0 {
+					note += fmt.Sprintf(" %s %s mg/kg", d.Name, num(l.Content[k]))
+				}
+			}
+			if p.Loss != 0 {
+				note += fmt.Sprintf("; this preparation lost %s %%", num(100*p.Loss))
+			}
+			fmt.Fprintf(&b, ",0,0,,%q\n", note)
+		}
 	}
 	return b.Bytes()
 }
