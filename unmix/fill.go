@@ -4,7 +4,7 @@ import "math"
 
 // fitFigures are the figures of a fit that every amount uses.
 type fitFigures struct {
-	chiRed  float64 // reduced chi-square against the noise model
+	chiRed  float64 // reduced chi-square against the noise model (and the calibration's expected share, when the set records it)
 	inflate float64 // Birge ratio: sqrt(chiRed) when above 1, else 1
 	t       float64 // Student t quantile on the fit's degrees of freedom
 	scale   float64 // fitted (reference path, in the cell) -> sample
@@ -53,6 +53,18 @@ func (m *Model) figures(sc *scan) fitFigures {
 	}
 	if chiSample > 1 {
 		f.inflate = math.Sqrt(chiSample)
+	}
+	if f.cal && !math.IsNaN(f.chiRed) {
+		// The reduced chi-square reported and flagged is taken against
+		// all the variance expected in the residual: the noise model's
+		// (1 per degree of freedom) and the calibration's share (chiCal,
+		// carried in the intervals as its own term). Its expected value
+		// is 1 for a correct fit either way; a ratio rather than a
+		// difference, so that a sample far above the standards, whose
+		// calibration share can exceed what its residual shows, reads
+		// below 1 and never 0 (before, a near-ceiling sample of a correct
+		// fit had a mean of 1.8, TestMeasuredNoiseModelMisfit).
+		f.chiRed /= 1 + chiCal/sc.interpVar
 	}
 	return f
 }
