@@ -246,6 +246,9 @@ type pass struct {
 	// The readings behind the noise model (see fitNoiseModel), per
 	// wavelength.
 	nobs [][]noiseObs
+	// Per wavelength: the mask fit solved there (nil where none), for
+	// foldNoiseGrowth.
+	mfAt []*maskFit
 }
 
 // run fits the rows marked in use: at each wavelength, one solver per
@@ -258,7 +261,12 @@ func (fp *fitParams) run(use []bool) (*fitResult, error) {
 	if err != nil {
 		return nil, err
 	}
-	ps.res.set.NoiseModel = fitNoiseModel(ps.nobs, ps.res.set.Noise, ps.ceiling)
+	var rebased []bool
+	ps.res.set.NoiseModel, rebased = fitNoiseModel(ps.nobs, ps.res.set.Noise, ps.ceiling)
+	if nm := ps.res.set.NoiseModel; nm != nil {
+		ps.foldNoiseGrowth(nm.KneeA, rebased)
+		ps.res.set.AbsorptivityCov.Growth = true
+	}
 	if err := ps.fillUnsolved(solved); err != nil {
 		return nil, err
 	}
@@ -394,7 +402,9 @@ func (ps *pass) solveAt(mf *maskFit, j int) (bool, error) {
 	set.AbsorptivityCov.Index[j] = mf.covIdx
 	if ps.nobs == nil {
 		ps.nobs = make([][]noiseObs, len(ps.grid))
+		ps.mfAt = make([]*maskFit, len(ps.grid))
 	}
+	ps.mfAt[j] = mf
 	ps.nobs[j] = mf.noiseReadings()
 	return true, nil
 }
@@ -662,6 +672,9 @@ type maskFit struct {
 	// zero for those not in comps); covIdx its place in the set's list.
 	unscaled []float64
 	covIdx   int
+	// pinv holds the compounds' rows of the pseudo-inverse (X'X)^-1 X'
+	// (for the sandwich covariance, foldNoiseGrowth).
+	pinv *mat.Dense
 }
 
 // newMaskFit sets up the fit for the rows kept at wavelength j. The solver
@@ -712,7 +725,7 @@ func newMaskFit(fit []Row, keep [][]bool, j, m int, intercept bool) (*maskFit, e
 	}
 	mf.solver = s
 	mf.y = make([]float64, len(mf.rows))
-	if mf.unscaled, err = unscaledCov(x, mf.comps, m); err != nil {
+	if mf.unscaled, mf.pinv, err = unscaledCov(x, mf.comps, m); err != nil {
 		return nil, err
 	}
 	mf.lev = hatDiag(x)

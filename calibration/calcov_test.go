@@ -102,3 +102,94 @@ func TestAbsorptivityCovCeiling(t *testing.T) {
 		}
 	}
 }
+
+// TestSandwichCovariance: when the noise grows with absorbance (an
+// invented instrument: SD 0.0005 sqrt(1 + 10^(2 (A - 0.3))), 40 times the
+// base at A = 1.9) and calibrate measures that growth, the covariance it
+// records must hold the slopes' real scatter, which the top standards
+// dominate. Checked by Monte Carlo over independent calibrations (the
+// variance of the fitted slope at the band maximum across draws against
+// the mean recorded Noise^2 U), not by the formula itself; the form it
+// replaced, base noise^2 (X'X)^-1 (computed here from the same sets), is
+// shown to fall far short, so the test can fail.
+func TestSandwichCovariance(t *testing.T) {
+	const (
+		base  = 0.0005
+		knee  = 0.3
+		draws = 300
+	)
+	grid := linGrid(350, 10, 41)
+	shape := band(grid, 500, 40, 10)
+	jmax := 0
+	for j := range grid {
+		if shape[j] > shape[jmax] {
+			jmax = j
+		}
+	}
+	var conc [][]float64
+	for range 3 {
+		conc = append(conc, []float64{0})
+	}
+	for _, c := range []float64{0.03, 0.06, 0.09, 0.12, 0.15, 0.17, 0.19} {
+		for range 3 {
+			conc = append(conc, []float64{c})
+		}
+	}
+	rng := rand.New(rand.NewPCG(21, 22))
+	var sum, sum2, rec, old float64
+	n := 0
+	for range draws {
+		scans := make([][]float64, len(conc))
+		for i, c := range conc {
+			row := make([]float64, len(grid))
+			for j := range row {
+				a := c[0] * shape[j]
+				row[j] = a + base*math.Sqrt(1+math.Pow(10, 2*(a-knee)))*rng.NormFloat64()
+			}
+			scans[i] = row
+		}
+		set, err := Build(memSheet([]string{"dye"}, grid, conc, scans), Options{MinR2: -1, MaxRelSD: -1, Now: fixedNow})
+		if err != nil {
+			t.Fatal(err)
+		}
+		if set.NoiseModel == nil {
+			continue
+		}
+		cv := set.AbsorptivityCov
+		i := cv.Index[jmax]
+		if i < 0 {
+			t.Fatalf("no covariance at %g nm", grid[jmax])
+		}
+		s := set.Compounds[0].Absorptivity[jmax] * set.PathCM
+		sum += s
+		sum2 += s * s
+		rec += set.Noise[jmax] * set.Noise[jmax] * cv.At(i, 0, 0, 1)
+		// The form before: base noise^2 times (X'X)^-1 of the standards
+		// with an intercept (the blanks are the blank, not fitted).
+		var sx, sxx float64
+		for _, c := range conc[3:] {
+			sx += c[0]
+			sxx += c[0] * c[0]
+		}
+		m := float64(len(conc) - 3)
+		old += set.Noise[jmax] * set.Noise[jmax] / (sxx - sx*sx/m)
+		n++
+	}
+	if n < draws*9/10 {
+		t.Fatalf("a noise model was measured in only %d of %d draws", n, draws)
+	}
+	fn := float64(n)
+	mean := sum / fn
+	emp := (sum2 - fn*mean*mean) / (fn - 1)
+	rec /= fn
+	old /= fn
+	t.Logf("%d draws: slope variance %.4g across draws, recorded %.4g (ratio %.3f); base noise^2 (X'X)^-1 %.4g (ratio %.3f)", n, emp, rec, rec/emp, old, old/emp)
+	// The variance of a variance estimated from n draws has a relative
+	// SD of sqrt(2/(n-1)), 8 % at 300: the bound is 3 of those.
+	if r := rec / emp; r < 0.75 || r > 1.33 {
+		t.Errorf("recorded / Monte Carlo slope variance %.3f, want 0.75-1.33", r)
+	}
+	if r := old / emp; r > 0.5 {
+		t.Errorf("base noise^2 (X'X)^-1 / Monte Carlo %.3f: the test does not exercise the growth", r)
+	}
+}

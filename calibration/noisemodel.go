@@ -196,7 +196,9 @@ func noiseDeviance(byJ [][]noiseObs, k float64) float64 {
 // (RSS / dof), since E[e²] = sigma² for each leverage-scaled residual.
 // byJ holds the readings per wavelength; the zeroed ones and those
 // near the ceiling (noiseCeilingMargin) are dropped from it.
-func fitNoiseModel(byJ [][]noiseObs, noise []float64, ceiling float64) *reference.NoiseModel {
+//
+// rebased marks the wavelengths whose noise was set to the base noise.
+func fitNoiseModel(byJ [][]noiseObs, noise []float64, ceiling float64) (_ *reference.NoiseModel, rebased []bool) {
 	high, maxA, ss, n := 0, math.Inf(-1), 0.0, 0
 	for j, obs := range byJ {
 		kept := obs[:0]
@@ -218,7 +220,7 @@ func fitNoiseModel(byJ [][]noiseObs, noise []float64, ceiling float64) *referenc
 		}
 	}
 	if high < noiseMinHigh || !(ss > 0) || math.IsInf(ss, 0) {
-		return nil
+		return nil, nil
 	}
 	for j := range byJ {
 		// A wavelength whose residuals are all zero (a zeroed region)
@@ -247,24 +249,26 @@ func fitNoiseModel(byJ [][]noiseObs, noise []float64, ceiling float64) *referenc
 	// Observed information: half the second derivative of the deviance.
 	const dk = 0.01
 	if best-dk < lo || best+dk > hi {
-		return nil
+		return nil, nil
 	}
 	d2 := (noiseDeviance(byJ, best+dk) - 2*noiseDeviance(byJ, best) + noiseDeviance(byJ, best-dk)) / (dk * dk)
 	if !(d2 > 0) {
-		return nil
+		return nil, nil
 	}
 	m.KneeSE = 1 / math.Sqrt(d2/2)
 	if m.KneeSE > noiseMaxKneeSE || best > maxA {
 		// Too uncertain, or the standards stop below the knee: they saw
 		// the flat part only, and the growth up to the ceiling would be
 		// an extrapolation.
-		return nil
+		return nil, nil
 	}
 	// Base noise per wavelength.
+	rebased = make([]bool, len(byJ))
 	for j, obs := range byJ {
 		if len(obs) == 0 {
 			continue
 		}
+		rebased[j] = true
 		wss := 0.0
 		for _, o := range obs {
 			wss += float64(o.e) * float64(o.e) / (1 + math.Exp(2*math.Ln10*(float64(o.a)-best)))
@@ -272,7 +276,7 @@ func fitNoiseModel(byJ [][]noiseObs, noise []float64, ceiling float64) *referenc
 		noise[j] = math.Sqrt(wss / float64(len(obs)))
 	}
 	m.Bins = noiseBins(byJ, noise)
-	return m
+	return m, rebased
 }
 
 // goldenMin returns the minimiser of f on [a, b] by golden-section

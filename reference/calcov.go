@@ -15,9 +15,17 @@ package reference
 // set already records there. X_j is the same at every wavelength except
 // where readings above the ceiling were left out, so only the distinct
 // U_j are stored (Unscaled) with one index per wavelength (Index): a few
-// matrices of m(m+1)/2 numbers instead of one per wavelength. The
-// intercept's own variance is not stored: solve does not subtract the
-// calibration intercept from a sample (its baseline takes up a
+// matrices of m(m+1)/2 numbers instead of one per wavelength.
+//
+// When the set has a NoiseModel, Noise[j] is the base noise and the
+// readings' noise grows with absorbance; U_j is then the sandwich
+// (X'X)^-1 X' G_j X (X'X)^-1 with G_j the squared growth at each
+// standard's fitted absorbance there (H. White, Econometrica 48 (1980)
+// 817; recalled from memory), one matrix per wavelength, so that
+// Noise[j]^2 U_j is still the slopes' covariance (package calibration).
+//
+// The intercept's own variance is not stored: solve does not subtract
+// the calibration intercept from a sample (its baseline takes up a
 // constant), so only its effect on the slopes' covariance (the block of
 // the inverse) matters.
 type AbsorptivityCov struct {
@@ -30,6 +38,23 @@ type AbsorptivityCov struct {
 	// Index gives for each grid point the entry of Unscaled that holds
 	// there, -1 where nothing was fitted.
 	Index []int `json:"index"`
+	// Growth is true when the matrices fold in the noise model's growth
+	// (the sandwich form above). A set with a noise model whose covariance
+	// lacks it was made by a build that understated the calibration's
+	// error; such a covariance is not used (see [Set.CovUsable]).
+	Growth bool `json:"growth,omitempty"`
+}
+
+// CovUsable reports whether the set's absorptivity covariance may be
+// used: it is recorded, and it folds in the noise model's growth when the
+// set has one. Sets calibrated with a noise model by the builds that
+// recorded the covariance without the growth (before Growth existed)
+// understate the calibration's error of results near the top of the
+// standards' range, by a factor of up to hundreds in variance where the
+// noise grows steeply; calibrate again to have it.
+func (s *Set) CovUsable() bool {
+	c := s.AbsorptivityCov
+	return c != nil && (s.NoiseModel == nil || c.Growth)
 }
 
 // packedLen is the length of a packed upper triangle of an m×m matrix.
@@ -66,11 +91,11 @@ func (c *AbsorptivityCov) At(i, k, l, m int) float64 {
 // CalVar is the variance that the calibration's error adds to a sample's
 // absorbance at grid point j when it holds z (one amount per compound,
 // in the cell at the set's path length): Noise[j]^2 z' U_j z, to first
-// order in the absorptivities' errors. 0 when the set records no
-// covariance or nothing was fitted at j.
+// order in the absorptivities' errors. 0 when the set records no usable
+// covariance (CovUsable) or nothing was fitted at j.
 func (s *Set) CalVar(j int, z []float64) float64 {
 	c := s.AbsorptivityCov
-	if c == nil || c.Index[j] < 0 {
+	if !s.CovUsable() || c.Index[j] < 0 {
 		return 0
 	}
 	return s.Noise[j] * s.Noise[j] * c.Quad(c.Index[j], z)

@@ -63,11 +63,11 @@ type calWindow struct {
 	nmat   int
 }
 
-// setCal fills sh.cal from the set (nothing when it records no
-// covariance).
+// setCal fills sh.cal from the set (nothing when it records no usable
+// covariance, reference.Set.CovUsable).
 func (sh *shared) setCal() {
 	c := sh.set.AbsorptivityCov
-	if c == nil {
+	if !sh.set.CovUsable() {
 		return
 	}
 	n := sh.hi - sh.lo
@@ -157,8 +157,10 @@ func (m *Model) calTerms(sc *scan, sr []float64) (resid, chi float64, ok bool) {
 // CalibrationIncluded reports whether the results' standard errors and
 // intervals include the calibration's part (Amount.SECal): false for a
 // reference set that records no absorptivity covariance (made before
-// sets did), whose results carry only what the residual shows of it.
-func (m *Model) CalibrationIncluded() bool { return m.set.AbsorptivityCov != nil }
+// sets did) or one that lacks the noise model's growth
+// (reference.Set.CovUsable), whose results carry only what the residual
+// shows of it.
+func (m *Model) CalibrationIncluded() bool { return m.set.CovUsable() }
 
 // calSD is sqrt(sum P_ki^2 v_i), the calibration's standard deviation of
 // coefficient k (in the reference cell) from calTerms; 0 when there was

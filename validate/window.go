@@ -354,7 +354,7 @@ func (ws *windowSearch) rows() error {
 	for r, i := range ws.keep {
 		ws.sigma[i] = sigma[r]
 	}
-	if set.AbsorptivityCov != nil {
+	if set.CovUsable() {
 		// The columns are eps * path: the covariance of the set's (at
 		// its own path) scaled by (path / set path)^2.
 		f := ws.path / set.PathCM

@@ -58,7 +58,11 @@ func solveSetNotes(set *reference.Set, model *unmix.Model, blank string, inputs 
 		warn(fmt.Sprintf("the reference set's calibration flags %s: results hold only within the stated linear range, and those above it are flagged over",
 			nameList(flagged)))
 	}
-	if !model.CalibrationIncluded() {
+	switch {
+	case model.CalibrationIncluded():
+	case set.AbsorptivityCov != nil:
+		warn("the reference set records the absorptivities' covariance without the growth of the noise with absorbance that its noise model shows (as earlier builds wrote it, which understates the calibration's error of results near the top of the standards): it is not used, so the standard errors and intervals include the calibration's error only as far as it shows in each sample's residual; calibrate again to have it propagated (se_calibration)")
+	default:
 		note("the reference set was made before calibrate recorded the absorptivities' covariance: the standard errors and intervals include the calibration's error only as far as it shows in each sample's residual; calibrate again to have it propagated (se_calibration)")
 	}
 	if !model.DurbinWatsonFlagged() {
