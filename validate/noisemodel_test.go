@@ -96,6 +96,20 @@ func measuredNoiseCase(t *testing.T, reps int) float64 {
 	// whose form depends on the noise model).
 	fixed := *set
 	fixed.NoiseModel, fixed.AbsorptivityCov = nil, nil
+	// A set as the builds before the sandwich form wrote it: a noise model
+	// and a covariance without the growth. Its covariance is not used.
+	if c := set.AbsorptivityCov; c == nil || !c.Growth {
+		t.Fatalf("calibrate recorded the covariance %v without the growth", c)
+	}
+	stale := *set
+	cv := *set.AbsorptivityCov
+	cv.Growth = false
+	stale.AbsorptivityCov = &cv
+	if ms, err := unmix.NewModel(&stale, unmix.Options{Baseline: baseline.Model{Degree: 0}}); err != nil {
+		t.Fatal(err)
+	} else if ms.CalibrationIncluded() {
+		t.Error("a covariance without the noise growth is used")
+	}
 	opt := unmix.Options{Baseline: baseline.Model{Degree: 0}}
 	measured, err := unmix.NewModel(set, opt)
 	if err != nil {
