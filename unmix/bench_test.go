@@ -16,26 +16,32 @@ func BenchmarkModelSolve(b *testing.B) {
 		conc  []float64
 		clean bool // no shift in the mixtures
 		cov   bool // the set records the absorptivities' covariance
+		perWL bool // one covariance matrix per wavelength (a set with a noise model)
 	}{
-		{"plain", Options{}, []float64{5, 3, 2, 8}, false, false},
-		{"saturated", Options{}, []float64{5, 3, 2, 32}, false, false},
-		{"weighted", Options{Weighted: true}, []float64{5, 3, 2, 8}, false, false},
-		{"shift", Options{Shift: true}, []float64{5, 3, 2, 8}, false, false},
-		{"auto", Options{Auto: true}, []float64{5, 3, 2, 8}, false, false},
-		{"plain-unshifted", Options{}, []float64{5, 3, 2, 8}, true, false},
-		{"auto-unshifted", Options{Auto: true}, []float64{5, 3, 2, 8}, true, false},
-		{"plain-cov", Options{}, []float64{5, 3, 2, 8}, false, true},
-		{"weighted-cov", Options{Weighted: true}, []float64{5, 3, 2, 8}, false, true},
-		{"auto-unshifted-cov", Options{Auto: true}, []float64{5, 3, 2, 8}, true, true},
+		{"plain", Options{}, []float64{5, 3, 2, 8}, false, false, false},
+		{"saturated", Options{}, []float64{5, 3, 2, 32}, false, false, false},
+		{"weighted", Options{Weighted: true}, []float64{5, 3, 2, 8}, false, false, false},
+		{"shift", Options{Shift: true}, []float64{5, 3, 2, 8}, false, false, false},
+		{"auto", Options{Auto: true}, []float64{5, 3, 2, 8}, false, false, false},
+		{"plain-unshifted", Options{}, []float64{5, 3, 2, 8}, true, false, false},
+		{"auto-unshifted", Options{Auto: true}, []float64{5, 3, 2, 8}, true, false, false},
+		{"plain-cov", Options{}, []float64{5, 3, 2, 8}, false, true, false},
+		{"weighted-cov", Options{Weighted: true}, []float64{5, 3, 2, 8}, false, true, false},
+		{"auto-unshifted-cov", Options{Auto: true}, []float64{5, 3, 2, 8}, true, true, false},
+		{"plain-cov-perwl", Options{}, []float64{5, 3, 2, 8}, false, true, true},
+		{"auto-unshifted-cov-perwl", Options{Auto: true}, []float64{5, 3, 2, 8}, true, true, true},
 		// The command's default with --weighted and with --shift on
 		// samples with no shift (as the benchmark's wide table).
-		{"auto-weighted-unshifted", Options{Auto: true, Weighted: true}, []float64{5, 3, 2, 8}, true, false},
-		{"auto-shift-unshifted", Options{Auto: true, Shift: true}, []float64{5, 3, 2, 8}, true, false},
+		{"auto-weighted-unshifted", Options{Auto: true, Weighted: true}, []float64{5, 3, 2, 8}, true, false, false},
+		{"auto-shift-unshifted", Options{Auto: true, Shift: true}, []float64{5, 3, 2, 8}, true, false, false},
 	} {
 		b.Run(c.name, func(b *testing.B) {
 			set := testSet(4)
 			if c.cov {
 				set.AbsorptivityCov = benchCov(len(set.Grid))
+				if c.perWL {
+					perWL(set.AbsorptivityCov)
+				}
 			}
 			m := mustModel(b, set, c.opt)
 			ss := make([]*spectrum.Spectrum, 64)
@@ -63,6 +69,21 @@ func BenchmarkModelSolve(b *testing.B) {
 // benchCov is an invented absorptivity covariance for a 4-compound set
 // on n grid points: two matrices, as a ceiling that leaves readings out
 // makes.
+// perWL gives c one matrix per wavelength, as calibrate records it for a
+// set with a noise model (the sandwich form).
+func perWL(c *reference.AbsorptivityCov) {
+	var u [][]float64
+	for j, i := range c.Index {
+		m := append([]float64(nil), c.Unscaled[i]...)
+		for k := range m {
+			m[k] *= 1 + float64(j)/float64(len(c.Index))
+		}
+		c.Index[j] = len(u)
+		u = append(u, m)
+	}
+	c.Unscaled, c.Growth = u, true
+}
+
 func benchCov(n int) *reference.AbsorptivityCov {
 	c := &reference.AbsorptivityCov{
 		Unscaled: [][]float64{
