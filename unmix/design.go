@@ -128,7 +128,7 @@ func NewDesign(set *reference.Set, lo, hi int, model baseline.Model, pathCM floa
 			return nil, fmt.Errorf("interferent %s is given twice (the reference set may store one of that name: see inspect); give each once, or rename the file", it.Name)
 		}
 		seen[it.Name] = true
-		col, err := it.column(wl)
+		col, err := it.column(set, lo, hi)
 		if err != nil {
 			return nil, err
 		}

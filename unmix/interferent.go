@@ -8,6 +8,7 @@ import (
 	"gonum.org/v1/gonum/floats"
 	"gonum.org/v1/gonum/mat"
 
+	"huesolve/baseline"
 	"huesolve/reference"
 	"huesolve/spectrum"
 	"huesolve/unmix/lsq"
@@ -87,17 +88,47 @@ func (it Interferent) ToStored(file, sha256 string) reference.Interferent {
 // as what the interferent duplicates (a project choice: a tenth).
 const combinedShare = 0.1
 
-// column returns the interferent on the wavelengths wl (linear
-// interpolation, never extrapolated): an error when its scan does not
-// cover them or holds no signal there.
-func (it Interferent) column(wl []float64) ([]float64, error) {
-	if err := covers(it.WL, wl[0], wl[len(wl)-1]); err != nil {
-		return nil, fmt.Errorf("interferent %s: %w", it.Name, err)
+// column returns the interferent's design column on the set's grid rows
+// lo to hi (linear interpolation, never extrapolated): an error when its
+// scan does not cover them or holds no signal there. With a pre-treated
+// set the column is pre-treated as the samples are (on the whole grid,
+// which the scan must then cover, as a sample must): the set's
+// absorptivities are of pre-treated spectra, and a raw shape beside
+// them would fit something else.
+func (it Interferent) column(set *reference.Set, lo, hi int) ([]float64, error) {
+	g := set.Grid
+	wl := g[lo:hi]
+	if len(set.Pretreat) == 0 {
+		if err := covers(it.WL, wl[0], wl[len(wl)-1]); err != nil {
+			return nil, fmt.Errorf("interferent %s: %w", it.Name, err)
+		}
+		col := make([]float64, len(wl))
+		interpShifted(col, it.WL, it.A, wl, 0)
+		if !(floats.Norm(col, 2) > 0) {
+			return nil, fmt.Errorf("interferent %s absorbs nowhere in %g-%g nm", it.Name, wl[0], wl[len(wl)-1])
+		}
+		return col, nil
 	}
-	col := make([]float64, len(wl))
-	interpShifted(col, it.WL, it.A, wl, 0)
+	steps := make([]string, 0, len(set.Pretreat))
+	for _, st := range set.Pretreat {
+		steps = append(steps, st.String())
+	}
+	how := strings.Join(steps, ", ")
+	if err := covers(it.WL, g[0], g[len(g)-1]); err != nil {
+		return nil, fmt.Errorf("interferent %s: the reference set's pre-treatment (%s) works on its whole grid, which the scan must cover as a sample must: %w", it.Name, how, err)
+	}
+	full := make([]float64, len(g))
+	interpShifted(full, it.WL, it.A, g, 0)
+	t, err := baseline.ApplyAll(set.Pretreat, g, full)
+	if err != nil {
+		return nil, fmt.Errorf("interferent %s: pre-treatment (%s): %w", it.Name, how, err)
+	}
+	if len(t) != len(g) {
+		return nil, fmt.Errorf("interferent %s: pre-treatment gave %d values for %d wavelengths", it.Name, len(t), len(g))
+	}
+	col := append([]float64(nil), t[lo:hi]...)
 	if !(floats.Norm(col, 2) > 0) {
-		return nil, fmt.Errorf("interferent %s absorbs nowhere in %g-%g nm", it.Name, wl[0], wl[len(wl)-1])
+		return nil, fmt.Errorf("interferent %s shows nothing in %g-%g nm after the reference set's pre-treatment (%s)", it.Name, wl[0], wl[len(wl)-1], how)
 	}
 	return col, nil
 }
