@@ -299,3 +299,39 @@ func TestKilledWriter(t *testing.T) {
 		t.Error("the rollback journal is still there after reopening")
 	}
 }
+
+// TestEarlier: a run recorded again with the same inputs (by SHA-256, not
+// path) is found; one whose inputs or reference set differ is not.
+func TestEarlier(t *testing.T) {
+	d, err := Open(filepath.Join(t.TempDir(), "qc.db"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer d.Close()
+	ctx := context.Background()
+	for i := 0; i < 3; i++ {
+		r := testRun(i)
+		r.Inputs = append(r.Inputs, Input{Path: fmt.Sprintf("day%d.csv", i), SHA256: strings.Repeat(strconv.Itoa(i), 64)})
+		if _, err := d.Record(ctx, r); err != nil {
+			t.Fatal(err)
+		}
+	}
+	again := testRun(7)
+	again.Inputs = []Input{{Path: "other/day1.csv", SHA256: strings.Repeat("1", 64)}, {Path: "elsewhere/checks.csv", SHA256: strings.Repeat("cd", 32)}}
+	if id, err := d.Earlier(ctx, again); err != nil || id != 2 {
+		t.Errorf("same inputs in another order and folder: run %d (%v), want 2", id, err)
+	}
+	again.ReferenceSHA256 = strings.Repeat("ef", 32)
+	if id, err := d.Earlier(ctx, again); err != nil || id != 0 {
+		t.Errorf("another reference set: run %d (%v), want 0", id, err)
+	}
+	again.ReferenceSHA256 = testRun(0).ReferenceSHA256
+	again.Inputs = again.Inputs[:1]
+	if id, err := d.Earlier(ctx, again); err != nil || id != 0 {
+		t.Errorf("fewer inputs: run %d (%v), want 0", id, err)
+	}
+	again.Inputs = nil
+	if id, err := d.Earlier(ctx, again); err != nil || id != 0 {
+		t.Errorf("no inputs: run %d (%v), want 0", id, err)
+	}
+}

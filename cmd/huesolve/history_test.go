@@ -246,3 +246,28 @@ func TestHistoryDamagedPage(t *testing.T) {
 		t.Errorf("history of a file with a damaged page: exit %d\n%s", code, errOut)
 	}
 }
+
+// TestRecordTwice: the same run recorded again (its files named from
+// another folder) is recorded, with a warning naming the earlier run; a
+// run with other inputs gets none.
+func TestRecordTwice(t *testing.T) {
+	dir, refs, _ := valCaseNoise(t, 1, quietCheckSD)
+	db := filepath.Join(dir, "qc.db")
+	sheet := seqLabSheet(t, dir, "5")
+	_, errOut, code := run(t, "sequence", refs, sheet, "--record", db)
+	if code != exitOK || strings.Contains(errOut, "already holds") {
+		t.Fatalf("first record: exit %d\n%s", code, errOut)
+	}
+	t.Chdir(dir)
+	_, errOut, code = run(t, "sequence", filepath.Base(refs), filepath.Base(sheet), "--record", "qc.db")
+	if code != exitOK || !strings.Contains(errOut, "warning: qc.db already holds this run: run 1 had the same reference set and inputs") {
+		t.Errorf("second record: exit %d\n%s", code, errOut)
+	}
+	other := seqLabSheet(t, dir, "6")
+	if _, errOut, _ = run(t, "sequence", refs, other, "--record", db); strings.Contains(errOut, "already holds") {
+		t.Errorf("a run with another sheet warned:\n%s", errOut)
+	}
+	if n := historyRuns(t, db); n != 3 {
+		t.Errorf("%d runs recorded, want 3", n)
+	}
+}
