@@ -2,6 +2,7 @@ package history
 
 import (
 	"bufio"
+	"bytes"
 	"context"
 	"database/sql"
 	"errors"
@@ -47,12 +48,23 @@ func helper(mode, path string) int {
 		}
 		return 0
 	case "hang":
+		// A page cache of a few pages and a run of some 400 kB: SQLite
+		// spills the transaction's pages into the file before it is
+		// killed, so the file itself is half written.
+		if _, err := d.db.ExecContext(ctx, `PRAGMA cache_size = 2`); err != nil {
+			fmt.Fprintln(os.Stderr, err)
+			return 1
+		}
 		tx, err := d.db.BeginTx(ctx, nil)
 		if err != nil {
 			fmt.Fprintln(os.Stderr, err)
 			return 1
 		}
-		if _, err := d.insert(ctx, tx, testRun(0)); err != nil {
+		big := testRun(0)
+		for i := 0; i < 100; i++ {
+			big.Meta[fmt.Sprintf("bulk-%03d", i)] = strings.Repeat("x", 4000)
+		}
+		if _, err := d.insert(ctx, tx, big); err != nil {
 			fmt.Fprintln(os.Stderr, err)
 			return 1
 		}
@@ -234,8 +246,10 @@ func TestConcurrentWriters(t *testing.T) {
 }
 
 // TestKilledWriter: a process killed inside its transaction, after
-// writing a run's rows, leaves the file as it was: the integrity check
-// passes and the rows recorded before are all there is.
+// writing a run's rows and with some of its pages already in the file,
+// leaves the file as it was once reopened (SQLite rolls the hot journal
+// back): the integrity check passes and the rows recorded before are all
+// there is.
 func TestKilledWriter(t *testing.T) {
 	path := filepath.Join(t.TempDir(), "qc.db")
 	d, err := Open(path)
@@ -248,6 +262,10 @@ func TestKilledWriter(t *testing.T) {
 		}
 	}
 	d.Close()
+	before, err := os.ReadFile(path)
+	if err != nil {
+		t.Fatal(err)
+	}
 	cmd := exec.Command(os.Args[0], "-test.run=^$")
 	cmd.Env = append(os.Environ(), "HISTORY_HELPER=hang", "HISTORY_FILE="+path)
 	out, err := cmd.StdoutPipe()
@@ -267,11 +285,53 @@ func TestKilledWriter(t *testing.T) {
 	if _, err := os.Stat(path + "-journal"); err != nil {
 		t.Errorf("no rollback journal while the writer is inside its transaction: %v", err)
 	}
+	if mid, err := os.ReadFile(path); err != nil || bytes.Equal(mid, before) {
+		t.Errorf("the file is as before while the writer is inside its transaction (%v): the kill would not test a half-written file", err)
+	}
 	if err := cmd.Process.Kill(); err != nil {
 		t.Fatal(err)
 	}
 	_ = cmd.Wait()
 	if r, c, s := counts(t, path); r != 2 || c != 8 || s != 2 {
 		t.Errorf("after the killed write: %d runs, %d checks, %d samples; want 2, 8, 2", r, c, s)
+	}
+	if _, err := os.Stat(path + "-journal"); err == nil {
+		t.Error("the rollback journal is still there after reopening")
+	}
+}
+
+// TestEarlier: a run recorded again with the same inputs (by SHA-256, not
+// path) is found; one whose inputs or reference set differ is not.
+func TestEarlier(t *testing.T) {
+	d, err := Open(filepath.Join(t.TempDir(), "qc.db"))
+	if err != nil {
+		t.Fatal(err)
+	}
+	defer d.Close()
+	ctx := context.Background()
+	for i := 0; i < 3; i++ {
+		r := testRun(i)
+		r.Inputs = append(r.Inputs, Input{Path: fmt.Sprintf("day%d.csv", i), SHA256: strings.Repeat(strconv.Itoa(i), 64)})
+		if _, err := d.Record(ctx, r); err != nil {
+			t.Fatal(err)
+		}
+	}
+	again := testRun(7)
+	again.Inputs = []Input{{Path: "other/day1.csv", SHA256: strings.Repeat("1", 64)}, {Path: "elsewhere/checks.csv", SHA256: strings.Repeat("cd", 32)}}
+	if id, err := d.Earlier(ctx, again); err != nil || id != 2 {
+		t.Errorf("same inputs in another order and folder: run %d (%v), want 2", id, err)
+	}
+	again.ReferenceSHA256 = strings.Repeat("ef", 32)
+	if id, err := d.Earlier(ctx, again); err != nil || id != 0 {
+		t.Errorf("another reference set: run %d (%v), want 0", id, err)
+	}
+	again.ReferenceSHA256 = testRun(0).ReferenceSHA256
+	again.Inputs = again.Inputs[:1]
+	if id, err := d.Earlier(ctx, again); err != nil || id != 0 {
+		t.Errorf("fewer inputs: run %d (%v), want 0", id, err)
+	}
+	again.Inputs = nil
+	if id, err := d.Earlier(ctx, again); err != nil || id != 0 {
+		t.Errorf("no inputs: run %d (%v), want 0", id, err)
 	}
 }

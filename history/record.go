@@ -263,3 +263,53 @@ func (d *DB) Count(ctx context.Context) (runs, checks, samples int, err error) {
 	err = d.db.QueryRowContext(ctx, `SELECT (SELECT count(*) FROM runs), (SELECT count(*) FROM checks), (SELECT count(*) FROM samples)`).Scan(&runs, &checks, &samples)
 	return runs, checks, samples, d.wrap(err)
 }
+
+// Earlier returns the id of the latest recorded run of run's kind with the
+// same reference set and the same inputs as run, by their SHA-256 (paths
+// may differ: the same files named from another folder), or 0 when there
+// is none or run lists no inputs. Recording such a run again counts its
+// check results twice on the control charts.
+func (d *DB) Earlier(ctx context.Context, run *Run) (int64, error) {
+	want := inputKey(run.Inputs)
+	if want == "" {
+		return 0, nil
+	}
+	rows, err := d.db.QueryContext(ctx, `SELECT r.id, i.sha256 FROM runs r JOIN run_inputs i ON i.run_id = r.id
+		WHERE r.kind = ? AND r.reference_sha256 = ? ORDER BY r.id`, run.Kind, run.ReferenceSHA256)
+	if err != nil {
+		return 0, d.wrap(err)
+	}
+	defer rows.Close()
+	byRun := map[int64][]Input{}
+	var ids []int64
+	for rows.Next() {
+		var id int64
+		var in Input
+		if err := rows.Scan(&id, &in.SHA256); err != nil {
+			return 0, d.wrap(err)
+		}
+		if _, ok := byRun[id]; !ok {
+			ids = append(ids, id)
+		}
+		byRun[id] = append(byRun[id], in)
+	}
+	if err := rows.Err(); err != nil {
+		return 0, d.wrap(err)
+	}
+	for k := len(ids) - 1; k >= 0; k-- {
+		if inputKey(byRun[ids[k]]) == want {
+			return ids[k], nil
+		}
+	}
+	return 0, nil
+}
+
+// inputKey is the inputs' SHA-256 sums, sorted and joined ("" for none).
+func inputKey(ins []Input) string {
+	s := make([]string, len(ins))
+	for i, in := range ins {
+		s[i] = in.SHA256
+	}
+	sort.Strings(s)
+	return strings.Join(s, " ")
+}

@@ -35,6 +35,10 @@ func fired(c Chart) []string {
 	return out
 }
 
+// TestRulesOnKnownSeries: synthetic series with a known outlier, shift or
+// trend break exactly the rules expected, worked by hand from the points'
+// z-scores with the rules as Westgard, Barry, Hunt and Groth define them
+// (Clin. Chem. 27 (1981) 493-501), each checked at every point.
 func TestRulesOnKnownSeries(t *testing.T) {
 	cases := []struct {
 		name string

@@ -33,7 +33,7 @@ type HistoryReport struct {
 func WriteHistoryTable(w io.Writer, h *HistoryReport) error {
 	fmt.Fprintf(w, "QC history %s: %d run(s)\n\n", h.File, len(h.Runs))
 	t := newTable(w)
-	t.Header("run", "time (UTC)", "kind", "reference set", "checks", "samples", "verdict")
+	t.Header("run", "time (UTC)", "kind", "reference set", "check results", "sample results", "verdict")
 	for _, r := range h.Runs {
 		verdict := ""
 		if r.Pass != nil {

@@ -9,6 +9,7 @@ import (
 	"strconv"
 	"strings"
 
+	"huesolve/lab"
 	"huesolve/provenance"
 	"huesolve/sequence"
 )
@@ -176,11 +177,16 @@ func writeDrift(w io.Writer, r *sequence.Run) error {
 		if d.What == "recovery" {
 			what = "check recovery (%)"
 		}
-		se := "-"
-		if d.HasSE {
+		slope, se := valNum(d.Slope), "-"
+		switch {
+		case d.HasSE && d.SE > 0:
+			// The slope to the decimal place of its SE, the SE to two
+			// significant figures, as the lab section rounds (lab.Round).
+			slope, se = lab.Round(d.Slope, d.SE)
+		case d.HasSE:
 			se = errNum(d.SE)
 		}
-		if err := t.Append([]string{what, d.Compound, valNum(d.Slope), se, strconv.Itoa(d.N)}); err != nil {
+		if err := t.Append([]string{what, d.Compound, slope, se, strconv.Itoa(d.N)}); err != nil {
 			return fmt.Errorf("drift table: %w", err)
 		}
 	}

@@ -11,5 +11,7 @@
 // drift of the blanks' apparent concentrations and of the checks'
 // recoveries across the run is the slope of an ordinary least-squares
 // line against the position in the run (or hours, when the sheet gives
-// times), with its standard error.
+// times), with its standard error. When the blank subtracted from checks
+// and samples is the mean of the blank rows, each blank row is solved as
+// measured, without it (see Options.Model).
 package sequence

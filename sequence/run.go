@@ -25,9 +25,10 @@ const (
 // Options control Process.
 type Options struct {
 	// Model is the sample model. When Model.Blank is nil and the run has
-	// blank rows, their mean is the blank for checks and samples (and
-	// each blank row is solved against it: its apparent concentrations
-	// show the blank's drift).
+	// blank rows, their mean is the blank for checks and samples, and
+	// each blank row is solved as measured (no blank subtracted): its
+	// apparent concentrations show the blank's drift. A Model.Blank given
+	// is subtracted from every row, blank rows too.
 	Model unmix.Options
 	// Limits are verify's acceptance limits (recovery window; MaxRSD is
 	// not used: each check is judged on its own).
@@ -151,6 +152,16 @@ func Process(ctx context.Context, set *reference.Set, sh *Sheet, opt Options) (*
 	if err != nil {
 		return nil, err
 	}
+	// Blank rows are solved as measured when their mean is the blank:
+	// against their own mean half of them would sit below it, and the
+	// non-negative fit's floor at 0 would hide half of a blank that
+	// rises or falls across the run.
+	blankModel := model
+	if opt.Model.Blank == nil && len(blanks) > 0 {
+		if blankModel, err = unmix.NewModel(set, opt.Model); err != nil {
+			return nil, err
+		}
+	}
 	ci := 0
 	for i, r := range sh.Rows {
 		if err := ctx.Err(); err != nil {
@@ -161,7 +172,11 @@ func Process(ctx context.Context, set *reference.Set, sh *Sheet, opt Options) (*
 			e.checkFrom(v, ci, len(checks))
 			ci++
 		} else {
-			res, err := model.Solve(r.Scan, unmix.Factors{Dilution: r.Dilution})
+			m := model
+			if r.Role == RoleBlank {
+				m = blankModel
+			}
+			res, err := m.Solve(r.Scan, unmix.Factors{Dilution: r.Dilution})
 			if err != nil {
 				return nil, pkgerr.Errorf("sequence", "%s:%d: %s %s: %w", sh.Path, r.Line, r.Role, e.Name, err)
 			}

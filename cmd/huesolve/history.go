@@ -46,8 +46,8 @@ control chart per series (centre line, ±2 SD dashed, ±3 SD, the end of the
 baseline dotted, broken points marked).
 
 Exit codes: 0 no rejection rule broken (1-2s warnings may be listed), 4 a rule
-broken, 1 the file could not be read (locked, damaged, or from a newer
-huesolve), 2 bad command line.
+broken, 1 the file could not be read (locked, damaged: SQLite's integrity
+check runs first, or from a newer huesolve), 2 bad command line.
 
 ` + caution
 
@@ -90,6 +90,10 @@ func runHistory(cmd *cobra.Command, o *historyOptions, path string) error {
 		return err
 	}
 	defer db.Close()
+	// Damage in a part the listing does not read would pass unseen.
+	if err := db.Check(); err != nil {
+		return err
+	}
 	runs, err := db.Runs(cmd.Context())
 	if err != nil {
 		return err

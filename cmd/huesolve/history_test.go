@@ -9,6 +9,7 @@ import (
 	"path/filepath"
 	"strings"
 	"testing"
+	"time"
 
 	"huesolve/history"
 )
@@ -192,5 +193,81 @@ func TestRecordLockedFile(t *testing.T) {
 	}
 	if n := historyRuns(t, db); n != 1 {
 		t.Errorf("%d runs after the locked attempt, want 1", n)
+	}
+}
+
+// TestHistoryDamagedPage: a history file whose damage lies in a table the
+// listing and the charts do not read (the runs' metadata) is still refused
+// as damaged, naming the file, rather than charted as if sound: history
+// runs SQLite's integrity check first.
+func TestHistoryDamagedPage(t *testing.T) {
+	db := filepath.Join(t.TempDir(), "qc.db")
+	h, err := history.Open(db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	pass := true
+	for i := 0; i < 3; i++ { // invented runs, with metadata enough for pages of its own
+		r := &history.Run{Kind: history.KindVerify, Time: time.Date(2026, 3, 2+i, 9, 0, 0, 0, time.UTC), ToolVersion: "test",
+			CommandLine: "huesolve verify refs.json checks.csv", Reference: "refs.json", Pass: &pass,
+			Meta:   map[string]string{"provenance": strings.Repeat("x", 5000)},
+			Checks: []history.CheckResult{{Standard: "QC-1", Compound: "Ambrelin", Unit: "mg/L", Known: 5, Found: 5, Recovery: 100 + float64(i), Pass: true}}}
+		if _, err := h.Record(context.Background(), r); err != nil {
+			t.Fatal(err)
+		}
+	}
+	h.Close()
+	if _, errOut, code := run(t, "history", db); code != exitOK {
+		t.Fatalf("history of a sound file: exit %d\n%s", code, errOut)
+	}
+	sdb, err := sql.Open("sqlite", db)
+	if err != nil {
+		t.Fatal(err)
+	}
+	var root, size int64
+	err = sdb.QueryRow(`SELECT rootpage FROM sqlite_master WHERE name = 'run_meta'`).Scan(&root)
+	if err == nil {
+		err = sdb.QueryRow(`PRAGMA page_size`).Scan(&size)
+	}
+	sdb.Close()
+	if err != nil {
+		t.Fatal(err)
+	}
+	f, err := os.OpenFile(db, os.O_WRONLY, 0)
+	if err != nil {
+		t.Fatal(err)
+	}
+	if _, err := f.WriteAt(bytes.Repeat([]byte{0xff}, int(size)), (root-1)*size); err != nil {
+		t.Fatal(err)
+	}
+	f.Close()
+	_, errOut, code := run(t, "history", db)
+	if code != exitFailure || !strings.Contains(errOut, db) || !strings.Contains(errOut, "damaged") {
+		t.Errorf("history of a file with a damaged page: exit %d\n%s", code, errOut)
+	}
+}
+
+// TestRecordTwice: the same run recorded again (its files named from
+// another folder) is recorded, with a warning naming the earlier run; a
+// run with other inputs gets none.
+func TestRecordTwice(t *testing.T) {
+	dir, refs, _ := valCaseNoise(t, 1, quietCheckSD)
+	db := filepath.Join(dir, "qc.db")
+	sheet := seqLabSheet(t, dir, "5")
+	_, errOut, code := run(t, "sequence", refs, sheet, "--record", db)
+	if code != exitOK || strings.Contains(errOut, "already holds") {
+		t.Fatalf("first record: exit %d\n%s", code, errOut)
+	}
+	t.Chdir(dir)
+	_, errOut, code = run(t, "sequence", filepath.Base(refs), filepath.Base(sheet), "--record", "qc.db")
+	if code != exitOK || !strings.Contains(errOut, "warning: qc.db already holds this run: run 1 had the same reference set and inputs") {
+		t.Errorf("second record: exit %d\n%s", code, errOut)
+	}
+	other := seqLabSheet(t, dir, "6")
+	if _, errOut, _ = run(t, "sequence", refs, other, "--record", db); strings.Contains(errOut, "already holds") {
+		t.Errorf("a run with another sheet warned:\n%s", errOut)
+	}
+	if n := historyRuns(t, db); n != 3 {
+		t.Errorf("%d runs recorded, want 3", n)
 	}
 }

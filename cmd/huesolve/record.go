@@ -70,6 +70,12 @@ func (r *recordFlag) record(cmd *cobra.Command, run *history.Run, written string
 	if err != nil {
 		return r.failed(err, written)
 	}
+	// Recorded anyway (a rerun may be meant), but said: the charts would
+	// count the same check results twice.
+	if prev, err := db.Earlier(cmd.Context(), run); err == nil && prev > 0 {
+		warnTo(cmd.ErrOrStderr())(fmt.Sprintf("%s already holds this run: run %d had the same reference set and inputs (by SHA-256); "+
+			"recorded again, its check results count twice on the control charts", r.path, prev))
+	}
 	id, err := db.Record(cmd.Context(), run)
 	if cerr := db.Close(); err == nil && cerr != nil {
 		err = pkgerr.Errorf("history", "%s: %w", r.path, cerr)

@@ -58,8 +58,9 @@ preparation, or a concentration unit) with the certificate text (n.d.,
 < LOQ, rounded value). A group is valid only when every member is valid.
 
 Checks and samples are blank corrected with --blank, or else with the mean of
-the run's blank rows; each blank row is solved too, so that its apparent
-concentrations show how the blank moves. Each check standard is judged on its
+the run's blank rows; each blank row is solved too (as measured, or less
+--blank when given), so that its apparent concentrations show how the blank
+moves. Each check standard is judged on its
 own with verify's limits: its recovery (100 × found / known) within
 --recovery for every compound it holds, and at most the LOQ for the others.
 A sample is valid when the nearest check before it and the nearest after it
@@ -75,7 +76,8 @@ The first line of the output says whether the run passed: every check passed
 and every sample is valid. Output: a table, or --format csv|json (with the
 run's record); -o FILE writes it to a file (atomically; without --format, a
 .csv or .json name picks the format). --record DB appends
-the run and its check results to a QC history file (see huesolve history).
+the run, its check results and its sample results to a QC history file (see
+huesolve history).
 
 Exit codes: 0 the run passed, 4 some check failed, some sample is not
 valid or some replicate group is flagged, 1 the run could not be processed, 2 bad command line, 130
