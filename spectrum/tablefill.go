@@ -112,11 +112,17 @@ func newTableFill(d *delimReader, lineLen int) *tableFill {
 	f.brows = max(min(f.brows, int(min(rows, 1<<30))), 1)
 	ld := roundUp(int(min(rows, int64(maxStoreValues/max(f.ns, 1)))), f.align)
 	f.ld = max(ld, f.align)
-	f.vals = hugepage.Float64s(f.ld * f.ns)
 	if workers == 1 && f.ns < blockAlign && d.opt.blockRows == 0 {
 		f.direct = true
 		f.brows = 1
 	}
+	if sc := d.opt.scratch; f.direct && sc != nil {
+		// The spectra get copies of the values (delimReader.build).
+		f.vals = floats(&sc.vals, f.ld*f.ns)
+		f.cur = &rowBlock{stage: floats(&sc.stage, nc)}
+		return f
+	}
+	f.vals = hugepage.Float64s(f.ld * f.ns)
 	f.cur = f.newBlock()
 	if workers > 1 {
 		f.work = make(chan *rowBlock)
@@ -353,7 +359,14 @@ func (f *tableFill) store(b *rowBlock) {
 // No block may be out with a worker.
 func (f *tableFill) grow(rows int) {
 	ld := roundUp(max(2*f.ld, rows), f.align)
-	vals := hugepage.Float64s(ld * f.ns)
+	var vals []float64
+	if sc := f.d.opt.scratch; f.direct && sc != nil {
+		var next []float64
+		vals = floats(&next, ld*f.ns)
+		sc.vals = next
+	} else {
+		vals = hugepage.Float64s(ld * f.ns)
+	}
 	for j := 0; j < f.ns; j++ {
 		copy(vals[j*ld:j*ld+f.rows], f.vals[j*f.ld:j*f.ld+f.rows])
 	}
