@@ -299,7 +299,7 @@ type run struct {
 	total    int
 	complete bool
 	// taken holds the sample names handed out so far (dispatcher only).
-	taken   map[string]int
+	taken   *nameSet
 	results chan []Outcome
 	pool    sync.Pool // of *slot
 }
@@ -422,7 +422,7 @@ func (r *run) dispatch() {
 			return
 		}
 		var ok bool
-		if seq, ok = r.dispatchFile(r.inputs[i].Path, fr, seq); !ok {
+		if seq, ok = r.dispatchFile(i, fr, seq); !ok {
 			return
 		}
 		<-r.tokens
@@ -433,7 +433,8 @@ func (r *run) dispatch() {
 // dispatchFile hands out the samples of one file read (or its failure),
 // numbering them from seq; it returns the next number, and false when
 // the run was cancelled.
-func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
+func (r *run) dispatchFile(in int, fr fileRead, seq int) (int, bool) {
+	file := r.inputs[in].Path
 	// Samples before files: see emitter.progress.
 	if fr.err != nil {
 		r.knownN.Add(1)
@@ -447,7 +448,7 @@ func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
 	}
 	r.knownN.Add(int64(len(fr.ss)))
 	r.knownF.Add(1)
-	names := r.uniqueNames(file, fr.ss)
+	names := r.uniqueNames(in, fr.ss)
 	size := min(maxChunk, max(1, len(fr.ss)/(4*r.workers)))
 	for lo := 0; lo < len(fr.ss); lo += size {
 		hi := min(lo+size, len(fr.ss))
@@ -473,27 +474,31 @@ func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
 // (nil when none does): "NAME (STEM)" with the stem of its file, or, when
 // that is taken too or the stem is the name, "NAME#K" with the smallest K
 // from 2 that is free. The first sample of a name keeps it.
-func (r *run) uniqueNames(file string, ss []*spectrum.Spectrum) []string {
+func (r *run) uniqueNames(in int, ss []*spectrum.Spectrum) []string {
 	if r.taken == nil {
-		r.taken = map[string]int{}
+		r.taken = newNameSet(r.inputs)
 	}
+	t := r.taken
 	var out []string
-	base := filepath.Base(file)
-	stem := strings.TrimSuffix(base, filepath.Ext(base))
+	stem := stem(r.inputs[in].Path)
 	for i, s := range ss {
 		name := SampleName(s)
-		if r.taken[name] == 0 {
-			r.taken[name] = 1
+		if !t.has(name) {
+			if name == stem {
+				t.add(name, in)
+			} else {
+				t.add(name, -1)
+			}
 			continue
 		}
 		alt := name + " (" + stem + ")"
-		for k := 2; stem == name || r.taken[alt] > 0; k++ {
+		for k := 2; stem == name || t.has(alt); k++ {
 			alt = fmt.Sprintf("%s#%d", name, k)
-			if r.taken[alt] == 0 {
+			if !t.has(alt) {
 				break
 			}
 		}
-		r.taken[alt] = 1
+		t.add(alt, -1)
 		if out == nil {
 			out = make([]string, len(ss))
 		}
