@@ -163,6 +163,9 @@ func (f *tableFill) close() {
 // add takes the trimmed text of the data row on line n.
 func (f *tableFill) add(t []byte, n int) error {
 	if f.direct {
+		if f.ns == 1 && f.d.delim != whitespace {
+			return f.addPair(t, n)
+		}
 		return f.addDirect(t, n)
 	}
 	b := f.cur
@@ -227,6 +230,31 @@ func (f *tableFill) addDirect(t []byte, n int) error {
 	for j, v := range row[1:] {
 		f.vals[j*f.ld+f.rows] = v
 	}
+	f.rows++
+	return nil
+}
+
+// addPair is addDirect for a two-column table (a scan): a row of two
+// plain numbers, the rows parseRow's fast path takes, is stored without
+// its loop; any other row is left to addDirect, which words the errors.
+func (f *tableFill) addPair(t []byte, n int) error {
+	d := f.d
+	w, m, k, err := scanNumber(t, d.allowComma)
+	if err != nil || k >= len(t) || t[k] != d.delim || (m != 0 && m != d.mark) {
+		return f.addDirect(t, n)
+	}
+	rest := t[k+1:]
+	v, m, k, err := scanNumber(rest, d.allowComma)
+	if err != nil || (m != 0 && m != d.mark) || (k < len(rest) && (rest[k] != d.delim || len(trimBlank(rest[k+1:])) != 0)) {
+		return f.addDirect(t, n)
+	}
+	if err := d.addWavelength(w, n); err != nil {
+		return err
+	}
+	if f.rows == f.ld {
+		f.grow(f.rows + 1)
+	}
+	f.vals[f.rows] = v
 	f.rows++
 	return nil
 }
