@@ -269,6 +269,20 @@ type job struct {
 // maxChunk is the most samples handed to a worker at once.
 const maxChunk = 64
 
+// Files of few points (a folder of scans) are read and handed on in
+// groups of consecutive files, so that the hand-offs between goroutines
+// (each a wake-up that may sleep on a lock) are per group, not per file:
+// a group holds up to maxGroup files, and about groupPoints points by
+// the mean size of the files read so far (one file at a time for wide
+// tables, so that the files read ahead stay few).
+const (
+	maxGroup    = 16
+	groupPoints = 1 << 14
+)
+
+// span is a group of consecutive inputs [lo, hi), the no-th.
+type span struct{ no, lo, hi int }
+
 type fileRead struct {
 	ss     []*spectrum.Spectrum
 	err    error
@@ -283,23 +297,28 @@ type run struct {
 	ctx     context.Context
 	cancel  context.CancelFunc
 
-	// ready holds the files read ahead: input i in ready[i%len(ready)].
-	// There are as many slots as tokens, and tokens are taken and given
-	// back in input order, so a slot is free again before the input
-	// that needs it next gets its token; the state stays the same size
-	// whatever the number of inputs.
-	ready  []chan fileRead
-	tokens chan struct{} // files read ahead and not yet dispatched
+	// ready holds the groups of files read ahead: span no in
+	// ready[no%len(ready)]. There are as many slots as tokens, and
+	// tokens are taken and given back in input order, so a slot is free
+	// again before the span that needs it next gets its token; the state
+	// stays the same size whatever the number of inputs.
+	ready  []chan []fileRead
+	tokens chan struct{} // spans read ahead and not yet dispatched
+	// readFiles and readPoints count the files read and their points,
+	// which size the spans.
+	readFiles, readPoints atomic.Int64
 	// knownN and knownF count, for Progress, the samples found in the
 	// files dispatched and those files.
 	knownN, knownF atomic.Int64
-	jobs           chan job
+	jobs           chan []job
+	group          []job // jobs gathered by the dispatcher, not sent yet
+	groupN         int   // their samples
 	// total and complete are written by the dispatcher before it closes
 	// jobs: the samples numbered, and whether every input was dispatched.
 	total    int
 	complete bool
 	// taken holds the sample names handed out so far (dispatcher only).
-	taken   map[string]int
+	taken   *nameSet
 	results chan []Outcome
 	pool    sync.Pool // of *slot
 }
@@ -333,7 +352,7 @@ func (b *Batch) Run(ctx context.Context, inputs []Input, emit func(Outcome) erro
 	defer cancel()
 	r := &run{b: b, inputs: inputs, workers: workers, ctx: ctx, cancel: cancel}
 	r.pool.New = func() any { return new(slot) }
-	r.jobs = make(chan job, 2*workers)
+	r.jobs = make(chan []job, 2*workers)
 
 	var wg sync.WaitGroup
 	r.readAhead(&wg)
@@ -363,48 +382,74 @@ func (r *run) readAhead(wg *sync.WaitGroup) {
 		read = spectrum.ReadFile
 	}
 	lookahead := r.workers + 1
-	r.ready = make([]chan fileRead, lookahead)
+	r.ready = make([]chan []fileRead, lookahead)
 	for i := range r.ready {
-		r.ready[i] = make(chan fileRead, 1)
+		r.ready[i] = make(chan []fileRead, 1)
 	}
 	r.tokens = make(chan struct{}, lookahead)
-	files := make(chan int)
+	spans := make(chan span)
 	go func() {
-		defer close(files)
-		for i := range r.inputs {
+		defer close(spans)
+		for no, lo := 0, 0; lo < len(r.inputs); no++ {
 			select {
 			case r.tokens <- struct{}{}:
 			case <-r.ctx.Done():
 				return
 			}
+			hi := min(lo+r.spanFiles(), len(r.inputs))
 			select {
-			case files <- i:
+			case spans <- span{no: no, lo: lo, hi: hi}:
 			case <-r.ctx.Done():
 				return
 			}
+			lo = hi
 		}
 	}()
 	for range min(r.workers, max(len(r.inputs), 1)) {
 		wg.Go(func() {
-			for i := range files {
-				in := r.inputs[i]
-				slot := r.ready[i%len(r.ready)]
-				if in.Err != nil {
-					slot <- fileRead{err: in.Err}
-					continue
+			for sp := range spans {
+				frs := make([]fileRead, sp.hi-sp.lo)
+				for i := range frs {
+					frs[i] = r.readOne(read, r.inputs[sp.lo+i])
 				}
-				opt := r.b.Read
-				if r.b.Digests {
-					opt.Digest = new(spectrum.Digest)
-				}
-				ss, err := read(in.Path, opt)
-				if err == nil && len(ss) == 0 {
-					err = fmt.Errorf("%s: %w", in.Path, spectrum.ErrEmpty)
-				}
-				slot <- fileRead{ss: ss, err: err, digest: opt.Digest}
+				r.ready[sp.no%len(r.ready)] <- frs
 			}
 		})
 	}
+}
+
+// readOne reads one input.
+func (r *run) readOne(read func(string, spectrum.ReadOptions) ([]*spectrum.Spectrum, error), in Input) fileRead {
+	if in.Err != nil {
+		return fileRead{err: in.Err}
+	}
+	opt := r.b.Read
+	if r.b.Digests {
+		opt.Digest = new(spectrum.Digest)
+	}
+	ss, err := read(in.Path, opt)
+	if err == nil && len(ss) == 0 {
+		err = fmt.Errorf("%s: %w", in.Path, spectrum.ErrEmpty)
+	}
+	points := 0
+	for _, s := range ss {
+		points += len(s.Values)
+	}
+	r.readFiles.Add(1)
+	r.readPoints.Add(int64(points))
+	return fileRead{ss: ss, err: err, digest: opt.Digest}
+}
+
+// spanFiles is the number of files of the next span: as many as make
+// about groupPoints points at the mean size of the files read so far
+// (1 before any is read), at most maxGroup.
+func (r *run) spanFiles() int {
+	files := r.readFiles.Load()
+	if files == 0 {
+		return 1
+	}
+	mean := max(r.readPoints.Load()/files, 1)
+	return int(min(max(groupPoints/mean, 1), maxGroup))
 }
 
 // dispatch is stage 2: it hands out samples in order with sequence
@@ -414,40 +459,72 @@ func (r *run) dispatch() {
 	defer close(r.jobs)
 	seq := 0
 	defer func() { r.total = seq }()
-	for i := range r.inputs {
-		var fr fileRead
+	for i, no := 0, 0; i < len(r.inputs); no++ {
+		var frs []fileRead
 		select {
-		case fr = <-r.ready[i%len(r.ready)]:
+		case frs = <-r.ready[no%len(r.ready)]:
 		case <-r.ctx.Done():
 			return
 		}
-		var ok bool
-		if seq, ok = r.dispatchFile(r.inputs[i].Path, fr, seq); !ok {
+		for k, fr := range frs {
+			var ok bool
+			if seq, ok = r.dispatchFile(i+k, fr, seq); !ok {
+				return
+			}
+			frs[k] = fileRead{}
+		}
+		if !r.flush() {
 			return
 		}
+		i += len(frs)
 		<-r.tokens
 	}
 	r.complete = true
 }
 
+// send adds j to the group of jobs for the workers, and sends the group
+// once it holds maxGroup jobs or maxChunk samples; false means the run
+// was cancelled.
+func (r *run) send(j job) bool {
+	r.group = append(r.group, j)
+	r.groupN += max(len(j.ss), 1)
+	if len(r.group) < maxGroup && r.groupN < maxChunk {
+		return true
+	}
+	return r.flush()
+}
+
+// flush sends the group of jobs gathered so far.
+func (r *run) flush() bool {
+	if len(r.group) == 0 {
+		return true
+	}
+	select {
+	case r.jobs <- r.group:
+	case <-r.ctx.Done():
+		return false
+	}
+	r.group, r.groupN = nil, 0
+	return true
+}
+
 // dispatchFile hands out the samples of one file read (or its failure),
 // numbering them from seq; it returns the next number, and false when
 // the run was cancelled.
-func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
+func (r *run) dispatchFile(in int, fr fileRead, seq int) (int, bool) {
+	file := r.inputs[in].Path
 	// Samples before files: see emitter.progress.
 	if fr.err != nil {
 		r.knownN.Add(1)
 		r.knownF.Add(1)
-		select {
-		case r.jobs <- job{seq: seq, file: file, err: fr.err, digest: fr.digest}:
-		case <-r.ctx.Done():
+		if !r.send(job{seq: seq, file: file, err: fr.err, digest: fr.digest}) {
 			return seq, false
 		}
 		return seq + 1, true
 	}
 	r.knownN.Add(int64(len(fr.ss)))
 	r.knownF.Add(1)
-	names := r.uniqueNames(file, fr.ss)
+	names := r.uniqueNames(in, fr.ss)
 	size := min(maxChunk, max(1, len(fr.ss)/(4*r.workers)))
 	for lo := 0; lo < len(fr.ss); lo += size {
 		hi := min(lo+size, len(fr.ss))
@@ -457,9 +534,7 @@ func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
 		if names != nil {
 			cn = names[lo:hi]
 		}
-		select {
-		case r.jobs <- job{seq: seq, file: file, ss: chunk, names: cn, digest: fr.digest}:
-		case <-r.ctx.Done():
+		if !r.send(job{seq: seq, file: file, ss: chunk, names: cn, digest: fr.digest}) {
 			return seq, false
 		}
 		fr.digest = nil
@@ -473,27 +548,31 @@ func (r *run) dispatchFile(file string, fr fileRead, seq int) (int, bool) {
 // (nil when none does): "NAME (STEM)" with the stem of its file, or, when
 // that is taken too or the stem is the name, "NAME#K" with the smallest K
 // from 2 that is free. The first sample of a name keeps it.
-func (r *run) uniqueNames(file string, ss []*spectrum.Spectrum) []string {
+func (r *run) uniqueNames(in int, ss []*spectrum.Spectrum) []string {
 	if r.taken == nil {
-		r.taken = map[string]int{}
+		r.taken = newNameSet(r.inputs)
 	}
+	t := r.taken
 	var out []string
-	base := filepath.Base(file)
-	stem := strings.TrimSuffix(base, filepath.Ext(base))
+	stem := stem(r.inputs[in].Path)
 	for i, s := range ss {
 		name := SampleName(s)
-		if r.taken[name] == 0 {
-			r.taken[name] = 1
+		if !t.has(name) {
+			if name == stem {
+				t.add(name, in)
+			} else {
+				t.add(name, -1)
+			}
 			continue
 		}
 		alt := name + " (" + stem + ")"
-		for k := 2; stem == name || r.taken[alt] > 0; k++ {
+		for k := 2; stem == name || t.has(alt); k++ {
 			alt = fmt.Sprintf("%s#%d", name, k)
-			if r.taken[alt] == 0 {
+			if !t.has(alt) {
 				break
 			}
 		}
-		r.taken[alt] = 1
+		t.add(alt, -1)
 		if out == nil {
 			out = make([]string, len(ss))
 		}
@@ -522,12 +601,20 @@ func (r *run) solve() {
 			m = r.b.Model.Clone()
 		}
 		sw.Go(func() {
-			for j := range r.jobs {
+			for js := range r.jobs {
 				if r.ctx.Err() != nil {
 					continue
 				}
+				n := 0
+				for _, j := range js {
+					n += max(len(j.ss), 1)
+				}
+				outs := make([]Outcome, 0, n)
+				for _, j := range js {
+					outs = r.solveJob(m, j, outs)
+				}
 				select {
-				case r.results <- r.solveJob(m, j):
+				case r.results <- outs:
 				case <-r.ctx.Done():
 				}
 			}
@@ -539,17 +626,19 @@ func (r *run) solve() {
 	}()
 }
 
-// solveJob solves the samples of j with m.
-func (r *run) solveJob(m *unmix.Model, j job) []Outcome {
+// solveJob solves the samples of j with m, appending their outcomes to
+// outs.
+func (r *run) solveJob(m *unmix.Model, j job, outs []Outcome) []Outcome {
 	if j.err != nil {
-		return []Outcome{{Seq: j.seq, File: j.file, Err: j.err, Unread: true, Digest: j.digest}}
+		return append(outs, Outcome{Seq: j.seq, File: j.file, Err: j.err, Unread: true, Digest: j.digest})
 	}
-	outs := make([]Outcome, len(j.ss))
-	if len(outs) > 0 {
-		outs[0].Digest = j.digest
+	first := len(outs)
+	outs = append(outs, make([]Outcome, len(j.ss))...)
+	if len(j.ss) > 0 {
+		outs[first].Digest = j.digest
 	}
 	for k, s := range j.ss {
-		o := &outs[k]
+		o := &outs[first+k]
 		o.Seq, o.File = j.seq+k, j.file
 		if j.names != nil && j.names[k] != "" {
 			o.Renamed = j.names[k]

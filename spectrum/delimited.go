@@ -92,6 +92,9 @@ type delimReader struct {
 	wl   []float64  // wavelengths in file order
 	fill *tableFill // the values, column-major (see tablefill.go)
 	dir  int        // +1 ascending, -1 descending, 0 unknown
+	// scratched: wl and the values are in opt.scratch (scratch.go),
+	// copied out by build.
+	scratched bool
 }
 
 func (d *delimReader) errAt(line, col int, err error) error {
@@ -144,7 +147,12 @@ func (d *delimReader) read(lr *lineReader) error {
 			d.delim, d.ncols, d.firstLine = delim, ncols, n
 			d.allowComma = delim != ','
 			d.fill = newTableFill(d, len(line))
-			d.wl = make([]float64, 0, d.fill.ld)
+			if sc := d.opt.scratch; sc != nil && d.fill.direct {
+				d.scratched = true
+				d.wl = floats(&sc.wl, d.fill.ld)[:0]
+			} else {
+				d.wl = make([]float64, 0, d.fill.ld)
+			}
 		}
 		if err := d.fill.add(t, n); err != nil {
 			return err
@@ -284,7 +292,17 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 		return nil, err
 	}
 	wl, vals, ld := d.columnMajor(nr, ns)
-	if err := checkGrid(wl); err != nil {
+	var err error
+	if d.scratched {
+		if sc := d.opt.scratch; cap(d.wl) > cap(sc.wl) {
+			sc.wl = d.wl[:0] // grown by append: kept for the next file
+		}
+		vals, ld = exactCopy(vals, nr, ld, ns), nr
+		wl, err = sharedGrid(wl)
+	} else {
+		err = checkGrid(wl)
+	}
+	if err != nil {
 		// Only unit conversion can get here (rounding collapsed points).
 		return nil, d.errAt(d.firstLine, 1, err)
 	}
@@ -298,6 +316,16 @@ func (d *delimReader) build() ([]*Spectrum, error) {
 			ErrMisread, columnList(pct, ns), pctTReason, pctTFix))
 	}
 	return ss, nil
+}
+
+// exactCopy copies the values of a column-major store (nr rows of ns
+// columns, ld rows apart) into a new one of exactly nr*ns values.
+func exactCopy(vals []float64, nr, ld, ns int) []float64 {
+	out := make([]float64, nr*ns)
+	for j := 0; j < ns; j++ {
+		copy(out[j*nr:(j+1)*nr], vals[j*ld:j*ld+nr])
+	}
+	return out
 }
 
 // pctTReason and pctTFix word the refusal of percent transmittance read

@@ -90,18 +90,6 @@ func FuzzReadDelimited(f *testing.F) {
 	})
 }
 
-func sameBits(a, b []float64) bool {
-	if len(a) != len(b) {
-		return false
-	}
-	for i := range a {
-		if math.Float64bits(a[i]) != math.Float64bits(b[i]) {
-			return false
-		}
-	}
-	return true
-}
-
 // FuzzReadJCAMP: no panic; errors name the file; what parses is a valid
 // spectrum that WriteJCAMP writes and ReadJCAMP reads back: exactly in
 // AFFN (X to rounding), to half a YFACTOR step when compressed.

@@ -35,7 +35,8 @@ func readAs(data []byte, base ReadOptions, workers, blockRows int) ([]*Spectrum,
 	opt.workers, opt.blockRows = workers, blockRows
 	opt.Warn = func(msg string) { warn.WriteString(msg + "\n") }
 	if workers == 0 {
-		opt.sizeHint = int64(len(data))
+		// As readWhole reads a file: in memory, into a scratch.
+		opt.sizeHint, opt.scratch = int64(len(data)), new(scratch)
 		ss, err := readDelimited(newBytesLineReader(data, "t.csv", opt.maxLine()), "t.csv", opt)
 		return ss, warn.String(), err
 	}

@@ -80,6 +80,9 @@ type ReadOptions struct {
 	workers int
 	// blockRows, when positive, is the rows per block (tablefill.go).
 	blockRows int
+	// scratch, if not nil, holds the buffers a narrow table is parsed
+	// into (scratch.go); readWhole sets it.
+	scratch *scratch
 }
 
 // DefaultMaxFileBytes is the largest file ReadFile reads when
@@ -288,6 +291,10 @@ type lineReader struct {
 	file string
 	n    int // number of the line last returned (1-based)
 	max  int
+	// cr is the offset in data of its first CR (-1: none), when crKnown:
+	// a file without CRs is searched for one once, not line by line.
+	cr      int
+	crKnown bool
 }
 
 // newBytesLineReader yields the lines of data, which holds the whole
@@ -339,12 +346,7 @@ func scanLines(data []byte, atEOF bool) (advance int, token []byte, err error) {
 // whether the end was a failure).
 func (lr *lineReader) next() (line []byte, ok bool, err error) {
 	if lr.sc == nil {
-		adv, tok, _ := scanLines(lr.data, true)
-		if adv == 0 {
-			return nil, false, nil
-		}
-		lr.data = lr.data[adv:]
-		return lr.took(tok)
+		return lr.nextInMemory()
 	}
 	if !lr.sc.Scan() {
 		if e := lr.sc.Err(); e != nil {
@@ -370,4 +372,39 @@ func (lr *lineReader) took(line []byte) ([]byte, bool, error) {
 			Err: fmt.Errorf("line longer than %d bytes: refusing to read it (is this a spectrum file?)", lr.max)}
 	}
 	return line, true, nil
+}
+
+// nextInMemory is next on data held in memory: the line scanLines(data,
+// true) would return, with the search for a CR done once for all the
+// lines before it.
+func (lr *lineReader) nextInMemory() ([]byte, bool, error) {
+	data := lr.data
+	if len(data) == 0 {
+		return nil, false, nil
+	}
+	if !lr.crKnown {
+		lr.cr, lr.crKnown = bytes.IndexByte(data, '\r'), true
+	}
+	end := bytes.IndexByte(data, '\n')
+	r := lr.cr
+	var adv int
+	var tok []byte
+	switch {
+	case r >= 0 && (end < 0 || r < end-1):
+		// A CR before the last byte of the line: a line of its own.
+		adv, tok = r+1, data[:r]
+	case end >= 0:
+		adv, tok = end+1, data[:end]
+		if r >= 0 && r == end-1 {
+			tok = data[:r] // CRLF
+		}
+	default:
+		adv, tok = len(data), data
+	}
+	lr.data = data[adv:]
+	if r >= 0 {
+		lr.cr -= adv
+		lr.crKnown = lr.cr >= 0
+	}
+	return lr.took(tok)
 }

@@ -66,6 +66,9 @@ func readWhole(path string, opt ReadOptions) (ss []*Spectrum, err error, ok bool
 		ss, err = ReadJCAMP(bytes.NewReader(data), path, opt)
 		return ss, err, true
 	}
+	sc := scratches.Get().(*scratch)
+	defer scratches.Put(sc)
+	opt.scratch = sc
 	ss, err = readDelimited(newBytesLineReader(data, path, opt.maxLine()), path, opt)
 	return ss, err, true
 }

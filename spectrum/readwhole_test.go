@@ -4,9 +4,12 @@ import (
 	"bytes"
 	"crypto/sha256"
 	"errors"
+	"math"
+	"math/rand/v2"
 	"os"
 	"path/filepath"
 	"runtime"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -76,5 +79,82 @@ func TestReadWholeFallback(t *testing.T) {
 	}
 	if _, ok, _ := readSmallFile(path, 5, bp); ok {
 		t.Fatal("a file over the limit was read whole")
+	}
+}
+
+// TestLinesInMemory: the lines of data held in memory (one search for a
+// CR for many lines) are those the scanner yields from a reader, for
+// every mix of LF, CR and CRLF line ends.
+func TestLinesInMemory(t *testing.T) {
+	rng := rand.New(rand.NewPCG(3, 4))
+	alphabet := []byte("ab\r\n")
+	for range 5000 {
+		data := make([]byte, rng.IntN(12))
+		for i := range data {
+			data[i] = alphabet[rng.IntN(len(alphabet))]
+		}
+		var want, got []string
+		lr := newLineReader(bytes.NewReader(data), "x", 100, int64(len(data)))
+		for {
+			l, ok, err := lr.next()
+			if err != nil || !ok {
+				break
+			}
+			want = append(want, string(l))
+		}
+		lr = newBytesLineReader(data, "x", 100)
+		for {
+			l, ok, err := lr.next()
+			if err != nil || !ok {
+				break
+			}
+			got = append(got, string(l))
+		}
+		if !slices.Equal(got, want) {
+			t.Fatalf("%q: lines %q, the scanner's %q", data, got, want)
+		}
+	}
+}
+
+// TestReadFileSharesGrid: scans read whole one after another on the same
+// grid share one wavelength slice, a scan on another grid (or the same
+// numbers written -0 for 0) gets its own, and the values are exactly as
+// long as the scan (no part of a reused buffer).
+func TestReadFileSharesGrid(t *testing.T) {
+	dir := t.TempDir()
+	files := map[string]string{
+		"a.csv": "nm,abs\n400,0.1\n401,0.2\n402,0.3\n",
+		"b.csv": "# b\nnm,abs\n402,0.6\n401,0.5\n400,0.4\n",
+		"c.csv": "nm,abs\n400,0.1\n401,0.2\n403,0.3\n",
+		"z.csv": "nm,abs\n0,0.1\n1,0.2\n2,0.3\n",
+		"m.csv": "nm,abs\n-0,0.1\n1,0.2\n2,0.3\n",
+	}
+	read := func(name string) *Spectrum {
+		p := filepath.Join(dir, name)
+		if err := os.WriteFile(p, []byte(files[name]), 0o644); err != nil {
+			t.Fatal(err)
+		}
+		ss, err := ReadFile(p, ReadOptions{Quantity: Absorbance})
+		if err != nil || len(ss) != 1 {
+			t.Fatalf("%s: %d spectra, %v", name, len(ss), err)
+		}
+		if s := ss[0]; len(s.Values) != 3 || cap(s.Values) != 3 || cap(s.Wavelengths) != 3 {
+			t.Fatalf("%s: values %v (cap %d), wavelengths cap %d", name, s.Values, cap(s.Values), cap(s.Wavelengths))
+		}
+		return ss[0]
+	}
+	a, b, c := read("a.csv"), read("b.csv"), read("c.csv")
+	if &a.Wavelengths[0] != &b.Wavelengths[0] {
+		t.Error("a and b, on one grid, do not share it")
+	}
+	if !slices.Equal(b.Values, []float64{0.4, 0.5, 0.6}) || !slices.Equal(a.Values, []float64{0.1, 0.2, 0.3}) {
+		t.Errorf("values a %v, b %v", a.Values, b.Values)
+	}
+	if &c.Wavelengths[0] == &a.Wavelengths[0] || c.Wavelengths[2] != 403 || a.Wavelengths[2] != 402 {
+		t.Errorf("c's grid %v shared with a's %v", c.Wavelengths, a.Wavelengths)
+	}
+	z, m := read("z.csv"), read("m.csv")
+	if &z.Wavelengths[0] == &m.Wavelengths[0] || !math.Signbit(m.Wavelengths[0]) {
+		t.Errorf("-0 nm read as the 0 nm before it: %v", m.Wavelengths)
 	}
 }

@@ -37,6 +37,7 @@ import (
 	"errors"
 	"fmt"
 	"math"
+	"strconv"
 	"strings"
 
 	"huesolve/internal/pkgerr"
@@ -101,15 +102,16 @@ func (s Source) String() string {
 		out = "<input>"
 	}
 	if s.Column > 0 {
-		out += fmt.Sprintf(" column %d", s.Column)
+		out += " column " + strconv.Itoa(s.Column)
 	}
 	return out
 }
 
 // Spectrum is one scan: values at wavelengths.
 //
-// Wavelengths may be shared between spectra read from one wide table; treat
-// the slice as read-only and Clone before changing it.
+// Wavelengths may be shared between spectra read from one wide table, and
+// between files read one after another on the same grid; treat the slice
+// as read-only and Clone before changing it.
 type Spectrum struct {
 	Name        string
 	Wavelengths []float64 // nm, strictly increasing

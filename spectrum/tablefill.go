@@ -112,11 +112,17 @@ func newTableFill(d *delimReader, lineLen int) *tableFill {
 	f.brows = max(min(f.brows, int(min(rows, 1<<30))), 1)
 	ld := roundUp(int(min(rows, int64(maxStoreValues/max(f.ns, 1)))), f.align)
 	f.ld = max(ld, f.align)
-	f.vals = hugepage.Float64s(f.ld * f.ns)
 	if workers == 1 && f.ns < blockAlign && d.opt.blockRows == 0 {
 		f.direct = true
 		f.brows = 1
 	}
+	if sc := d.opt.scratch; f.direct && sc != nil {
+		// The spectra get copies of the values (delimReader.build).
+		f.vals = floats(&sc.vals, f.ld*f.ns)
+		f.cur = &rowBlock{stage: floats(&sc.stage, nc)}
+		return f
+	}
+	f.vals = hugepage.Float64s(f.ld * f.ns)
 	f.cur = f.newBlock()
 	if workers > 1 {
 		f.work = make(chan *rowBlock)
@@ -157,6 +163,9 @@ func (f *tableFill) close() {
 // add takes the trimmed text of the data row on line n.
 func (f *tableFill) add(t []byte, n int) error {
 	if f.direct {
+		if f.ns == 1 && f.d.delim != whitespace {
+			return f.addPair(t, n)
+		}
 		return f.addDirect(t, n)
 	}
 	b := f.cur
@@ -221,6 +230,31 @@ func (f *tableFill) addDirect(t []byte, n int) error {
 	for j, v := range row[1:] {
 		f.vals[j*f.ld+f.rows] = v
 	}
+	f.rows++
+	return nil
+}
+
+// addPair is addDirect for a two-column table (a scan): a row of two
+// plain numbers, the rows parseRow's fast path takes, is stored without
+// its loop; any other row is left to addDirect, which words the errors.
+func (f *tableFill) addPair(t []byte, n int) error {
+	d := f.d
+	w, m, k, err := scanNumber(t, d.allowComma)
+	if err != nil || k >= len(t) || t[k] != d.delim || (m != 0 && m != d.mark) {
+		return f.addDirect(t, n)
+	}
+	rest := t[k+1:]
+	v, m, k, err := scanNumber(rest, d.allowComma)
+	if err != nil || (m != 0 && m != d.mark) || (k < len(rest) && (rest[k] != d.delim || len(trimBlank(rest[k+1:])) != 0)) {
+		return f.addDirect(t, n)
+	}
+	if err := d.addWavelength(w, n); err != nil {
+		return err
+	}
+	if f.rows == f.ld {
+		f.grow(f.rows + 1)
+	}
+	f.vals[f.rows] = v
 	f.rows++
 	return nil
 }
@@ -353,7 +387,14 @@ func (f *tableFill) store(b *rowBlock) {
 // No block may be out with a worker.
 func (f *tableFill) grow(rows int) {
 	ld := roundUp(max(2*f.ld, rows), f.align)
-	vals := hugepage.Float64s(ld * f.ns)
+	var vals []float64
+	if sc := f.d.opt.scratch; f.direct && sc != nil {
+		var next []float64
+		vals = floats(&next, ld*f.ns)
+		sc.vals = next
+	} else {
+		vals = hugepage.Float64s(ld * f.ns)
+	}
 	for j := 0; j < f.ns; j++ {
 		copy(vals[j*ld:j*ld+f.rows], f.vals[j*f.ld:j*f.ld+f.rows])
 	}

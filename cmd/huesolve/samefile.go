@@ -3,6 +3,8 @@ package main
 import (
 	"os"
 	"path/filepath"
+	"runtime"
+	"sync"
 
 	"huesolve/batch"
 	"huesolve/calibration"
@@ -28,23 +30,56 @@ func checkNotInput(flag, out string, inputs ...string) error {
 	if err != nil {
 		return nil
 	}
-	for _, in := range inputs {
-		if in == "" || in == "-" {
-			continue
-		}
-		ii, err := os.Stat(in)
-		if err != nil {
-			continue
-		}
-		if os.SameFile(oi, ii) {
-			if filepath.Clean(in) == filepath.Clean(out) {
-				return usagef("%s %s would overwrite the input file %s: write the output to another file", flag, out, in)
+	k := firstSame(oi, inputs)
+	if k < 0 {
+		return nil
+	}
+	in := inputs[k]
+	if filepath.Clean(in) == filepath.Clean(out) {
+		return usagef("%s %s would overwrite the input file %s: write the output to another file", flag, out, in)
+	}
+	return usagef("%s %s is the input file %s: write the output to another file", flag, out, in)
+}
+
+// firstSame returns the index of the first of inputs that is the file oi
+// (os.SameFile), or -1; inputs that cannot be stat'ed, "" and "-" are
+// skipped. Many inputs (a folder of scans) are stat'ed in blocks on all
+// cores, since the command waits for the answer before it reads a file.
+func firstSame(oi os.FileInfo, inputs []string) int {
+	scan := func(lo, hi int) int {
+		for i := lo; i < hi; i++ {
+			in := inputs[i]
+			if in == "" || in == "-" {
+				continue
 			}
-			return usagef("%s %s is the input file %s: write the output to another file", flag, out, in)
+			if ii, err := os.Stat(in); err == nil && os.SameFile(oi, ii) {
+				return i
+			}
+		}
+		return -1
+	}
+	workers := min(runtime.GOMAXPROCS(0), len(inputs)/sameFileBlock)
+	if workers <= 1 {
+		return scan(0, len(inputs))
+	}
+	found := make([]int, workers)
+	var wg sync.WaitGroup
+	for w := range workers {
+		wg.Go(func() {
+			found[w] = scan(w*len(inputs)/workers, (w+1)*len(inputs)/workers)
+		})
+	}
+	wg.Wait()
+	for _, k := range found {
+		if k >= 0 {
+			return k
 		}
 	}
-	return nil
+	return -1
 }
+
+// sameFileBlock is the fewest inputs worth a goroutine of firstSame.
+const sameFileBlock = 256
 
 // scanInputFiles lists the files among solve's inputs (batch.ExpandInputs
 // of its scan arguments: each file as given and the files of each folder

@@ -278,6 +278,11 @@ type solveJob struct {
 	cover  coverageNotes   // scans refused for coverage (from emit, in order)
 	lab    *labJob         // replicate groups and reporting basis; nil when not asked for
 
+	// digests are the inputs' SHA-256 as the batch read them, in input
+	// order, kept compact (not as hex) until recordInputs puts them in
+	// the run's record.
+	digests []inputDigest
+
 	// keep: --record is given; solved holds each solved sample's rows
 	// for it, copied in emit (the batch reuses its results).
 	keep   bool
@@ -498,9 +503,13 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 			j.batch.Encode = enc.AppendResult // formats in the workers
 		}
 		j.batch.Read.Context = cmd.Context()
+		if j.run != nil {
+			j.digests = make([]inputDigest, 0, len(j.inputs))
+		}
 		sum, err = j.batch.Run(cmd.Context(), j.inputs, func(out batch.Outcome) error {
 			return j.emit(out, rw, enc, o.review.rev)
 		})
+		j.recordInputs()
 		if j.bar != nil {
 			_ = j.bar.Finish()
 		}
@@ -546,6 +555,28 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 	return sum, err
 }
 
+// inputDigest is one input file's digest as read by the batch.
+type inputDigest struct {
+	file string
+	d    spectrum.Digest
+}
+
+// recordInputs moves the digests gathered by emit into the run's record
+// (run.Inputs), once the batch is done: 56 bytes a file while the files
+// are read rather than the record's 144 (a folder of 20,000 files is read
+// with less memory).
+func (j *solveJob) recordInputs() {
+	if j.run == nil || len(j.digests) == 0 {
+		return
+	}
+	in := make([]provenance.File, 0, len(j.run.Inputs)+len(j.digests))
+	in = append(in, j.run.Inputs...)
+	for i := range j.digests {
+		in = append(in, inputRecord(j.digests[i].file, &j.digests[i].d))
+	}
+	j.run.Inputs, j.digests = in, nil
+}
+
 // errNothingSolved stops the -o file of a run that solved nothing from
 // replacing the file there; finish says so.
 var errNothingSolved = errors.New("nothing solved")
@@ -554,7 +585,7 @@ var errNothingSolved = errors.New("nothing solved")
 // standard error, its result to rw.
 func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.Encoder, rev *report.SolveReview) error {
 	if out.Digest != nil && j.run != nil {
-		j.run.Inputs = append(j.run.Inputs, inputRecord(out.File, out.Digest))
+		j.digests = append(j.digests, inputDigest{file: out.File, d: *out.Digest})
 	}
 	j.seen.add(out, j.warn)
 	j.cover.add(out.Err)

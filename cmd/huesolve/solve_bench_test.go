@@ -36,31 +36,8 @@ func wideInput(b *testing.B) (ref, table string) {
 	wideDir := b.TempDir()
 	var wideErr error
 	func() {
-		var g []float64
-		for l := wideLo; l <= wideHi; l++ {
-			g = append(g, l)
-		}
-		eps := func(k int, l float64) float64 {
-			peaks := []float64{420, 500, 570, 640}
-			d := (l - peaks[k]) / 32
-			return 0.05 * math.Exp(-0.5*d*d)
-		}
-		set := &reference.Set{Schema: reference.SchemaVersion, Grid: g, PathCM: 1, Ceiling: 2,
-			Provenance: reference.Provenance{Tool: "huesolve benchmark", Version: "bench", Created: "2026-01-01T00:00:00Z", Sheet: "invented"}}
-		set.Noise = make([]float64, len(g))
-		for i := range g {
-			set.Noise[i] = 0.002
-		}
-		for k := range 4 {
-			c := reference.Compound{Name: fmt.Sprintf("dye%d", k+1), Unit: "mg/L", MaxStandard: 20,
-				Absorptivity: make([]float64, len(g)), SE: make([]float64, len(g)), Usable: make([]bool, len(g))}
-			for i, l := range g {
-				c.Absorptivity[i] = eps(k, l)
-				c.Usable[i] = true
-			}
-			set.Compounds = append(set.Compounds, c)
-		}
-		if wideErr = set.Save(filepath.Join(wideDir, "refs.json")); wideErr != nil {
+		g := benchGrid()
+		if wideErr = benchRefs(filepath.Join(wideDir, "refs.json"), g); wideErr != nil {
 			return
 		}
 		rng := rand.New(rand.NewPCG(1, 1))
@@ -84,7 +61,7 @@ func wideInput(b *testing.B) (ref, table string) {
 		buf := make([]byte, 0, 32)
 		for _, l := range g {
 			w.WriteString(strconv.FormatFloat(l, 'f', -1, 64))
-			e := [4]float64{eps(0, l), eps(1, l), eps(2, l), eps(3, l)}
+			e := [4]float64{benchEps(0, l), benchEps(1, l), benchEps(2, l), benchEps(3, l)}
 			for j := range wideScans {
 				a := 0.01 + 0.002*rng.NormFloat64()
 				for k := range 4 {
@@ -106,6 +83,46 @@ func wideInput(b *testing.B) (ref, table string) {
 		b.Fatal(wideErr)
 	}
 	return filepath.Join(wideDir, "refs.json"), filepath.Join(wideDir, "wide.csv")
+}
+
+// benchGrid is the benchmarks' grid: 350-750 nm at 1 nm.
+func benchGrid() []float64 {
+	var g []float64
+	for l := wideLo; l <= wideHi; l++ {
+		g = append(g, l)
+	}
+	return g
+}
+
+// benchPeaks are the band centres of the invented compounds, nm.
+var benchPeaks = [4]float64{420, 500, 570, 640}
+
+// benchEps is the invented absorptivity of compound k at l nm: four
+// Gaussian bands.
+func benchEps(k int, l float64) float64 {
+	d := (l - benchPeaks[k]) / 32
+	return 0.05 * math.Exp(-0.5*d*d)
+}
+
+// benchRefs writes the benchmarks' invented reference set of four
+// compounds on grid g to path.
+func benchRefs(path string, g []float64) error {
+	set := &reference.Set{Schema: reference.SchemaVersion, Grid: g, PathCM: 1, Ceiling: 2,
+		Provenance: reference.Provenance{Tool: "huesolve benchmark", Version: "bench", Created: "2026-01-01T00:00:00Z", Sheet: "invented"}}
+	set.Noise = make([]float64, len(g))
+	for i := range g {
+		set.Noise[i] = 0.002
+	}
+	for k := range 4 {
+		c := reference.Compound{Name: fmt.Sprintf("dye%d", k+1), Unit: "mg/L", MinStandard: 1, MaxStandard: 20, PeakNM: benchPeaks[k],
+			Absorptivity: make([]float64, len(g)), SE: make([]float64, len(g)), Usable: make([]bool, len(g))}
+		for i, l := range g {
+			c.Absorptivity[i] = benchEps(k, l)
+			c.Usable[i] = true
+		}
+		set.Compounds = append(set.Compounds, c)
+	}
+	return set.Save(path)
 }
 
 // heapPeak samples the live heap (runtime/metrics, which does not stop
