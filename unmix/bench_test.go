@@ -34,6 +34,9 @@ func BenchmarkModelSolve(b *testing.B) {
 		// samples with no shift (as the benchmark's wide table).
 		{"auto-weighted-unshifted", Options{Auto: true, Weighted: true}, []float64{5, 3, 2, 8}, true, false, false},
 		{"auto-shift-unshifted", Options{Auto: true, Shift: true}, []float64{5, 3, 2, 8}, true, false, false},
+		// --weighted with a set that records the covariance (as
+		// calibrate writes it): the leverage of the chosen fit only.
+		{"auto-weighted-unshifted-cov", Options{Auto: true, Weighted: true}, []float64{5, 3, 2, 8}, true, true, false},
 	} {
 		b.Run(c.name, func(b *testing.B) {
 			set := testSet(4)

@@ -131,7 +131,7 @@ func (m *Model) calTerms(sc *scan, sr []float64) (resid, chi float64, ok bool) {
 	for k := range nc {
 		b.prow = append(b.prow, sc.d.solver.PseudoInverseRow(k))
 	}
-	lev := sc.d.lev
+	lev := m.sh.levOf(sc.d)
 	for i, r := range sc.d.rows {
 		j := cw.idx[r]
 		if j < 0 {

@@ -185,8 +185,23 @@ type design struct {
 	// and nothing failed since), so new weights need only Reweight.
 	ready bool
 	// lev is the leverage of each row (leverage), when the set records
-	// the absorptivities' covariance (else nil).
-	lev []float64
+	// the absorptivities' covariance (else nil). A design shared by a
+	// model's clones (one per mask, unweighted) has it from the start; a
+	// weighted fit's own design (refactored for every sample, one per
+	// clone) makes it on first use (levOf), so that a candidate model
+	// whose fit is not kept never pays for it.
+	lev   []float64
+	levOK bool
+}
+
+// levOf returns d's leverage (nil when the set records no covariance),
+// making it first if d is a weighted fit's own design that has not.
+func (sh *shared) levOf(d *design) []float64 {
+	if sh.cal != nil && !d.levOK {
+		d.lev = leverage(d.lev, d.x, d.solver)
+		d.levOK = true
+	}
+	return d.lev
 }
 
 // visible returns errRank when a compound's column in x holds, to
@@ -254,8 +269,9 @@ func (sh *shared) setDesign(d *design, sigma []float64) error {
 		return err
 	}
 	d.cond, d.leak = d.solver.Cond(), d.solver.Leakage()
-	if sh.cal != nil {
-		d.lev = leverage(d.lev, d.x, d.solver)
+	d.levOK = false
+	if sigma == nil {
+		sh.levOf(d) // shared by clones: made now, never written again
 	}
 	d.ready = true
 	return nil
@@ -276,9 +292,7 @@ func (sh *shared) reweight(d *design, sigma []float64, src *lsq.Solver) error {
 		return err
 	}
 	d.cond, d.leak = d.solver.Cond(), d.solver.Leakage()
-	if sh.cal != nil {
-		d.lev = leverage(d.lev, d.x, d.solver)
-	}
+	d.levOK = false // made on first use (levOf)
 	d.ready = true
 	return nil
 }
