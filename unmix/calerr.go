@@ -98,7 +98,7 @@ func leverage(dst []float64, x *mat.Dense, s *lsq.Solver) []float64 {
 	return dst
 }
 
-// calTerms computes, in one pass over the scan's fitted rows, the
+// calTerms computes, from the scan's fitted rows, the
 // calibration's variance v_i at each row (see above) for the fitted
 // amounts and from it each compound's Var_cal = sum_i P_ki^2 v_i (into
 // m.buf.cvar, in the reference cell) and what v adds to the residual:
@@ -125,25 +125,34 @@ func (m *Model) calTerms(sc *scan, sr []float64) (resid, chi float64, ok bool) {
 	for i := range cw.nmat {
 		b.cq[i] = c.Quad(i, z)
 	}
-	b.cvar = grow(b.cvar, nc)
-	clear(b.cvar)
-	b.prow = b.prow[:0]
-	for k := range nc {
-		b.prow = append(b.prow, sc.d.solver.PseudoInverseRow(k))
-	}
+	// One pass over the rows for v_i and the residual's sums, then one
+	// per compound for sum P_ki^2 v_i: each sum adds the same terms in
+	// the same order (rows ascending) as a single pass would, so the
+	// values are the same bit for bit (a row without a matrix has v_i =
+	// +0, and adding P_ki^2 * 0 = +0 to a sum leaves it as it was).
 	lev := m.sh.levOf(sc.d)
+	b.cv = grow(b.cv, len(sc.d.rows))
 	for i, r := range sc.d.rows {
 		j := cw.idx[r]
 		if j < 0 {
+			b.cv[i] = 0
 			continue
 		}
 		v := cw.noise2[r] * b.cq[j]
+		b.cv[i] = v
 		w := (1 - lev[i]) * v
 		resid += w
 		chi += w / (sr[i] * sr[i])
-		for k, p := range b.prow {
-			b.cvar[k] += p[i] * p[i] * v
+	}
+	b.cvar = grow(b.cvar, nc)
+	for k := range nc {
+		p := sc.d.solver.PseudoInverseRow(k)
+		p = p[:len(b.cv)]
+		var sum float64
+		for i, v := range b.cv {
+			sum += p[i] * p[i] * v
 		}
+		b.cvar[k] = sum
 	}
 	if dof := sc.res.DoF; dof > 0 {
 		resid /= float64(dof)

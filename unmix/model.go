@@ -123,12 +123,12 @@ type scratch struct {
 	key                  []byte
 	tainted              []bool
 	res                  lsq.Result
-	gridOK               []float64   // last sample grid found equal to the set grid
-	lrows                []int       // rows left after leaveOut
-	lkey                 []byte      // their mask key (leaveOut)
-	cq                   []float64   // z' U z per covariance matrix of the set (calTerms)
-	cvar                 []float64   // the calibration's variance per compound (calTerms)
-	prow                 [][]float64 // the compounds' rows of the pseudo-inverse (calTerms)
+	gridOK               []float64 // last sample grid found equal to the set grid
+	lrows                []int     // rows left after leaveOut
+	lkey                 []byte    // their mask key (leaveOut)
+	cq                   []float64 // z' U z per covariance matrix of the set (calTerms)
+	cvar                 []float64 // the calibration's variance per compound (calTerms)
+	cv                   []float64 // the calibration's variance v_i on the fitted rows (calTerms)
 }
 
 // NewModel checks the options against the set and builds the design. It
