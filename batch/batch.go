@@ -73,15 +73,38 @@ func ExpandInputs(args []string) []Input {
 		}
 		names := folderFiles(a, ents)
 		slices.SortFunc(names, naturalCompare)
-		for _, nm := range names {
-			out = append(out, Input{Path: filepath.Join(a, nm)})
-		}
+		out = append(slices.Grow(out, len(names)), joinAll(a, names)...)
 		n := len(names)
 		if n == 0 {
 			out = append(out, Input{Path: a, Err: fmt.Errorf("%w in folder %s", errNoMatch, a)})
 		}
 	}
 	return out
+}
+
+// joinAll returns the inputs dir/name for each name, as filepath.Join
+// makes them, their paths cut from one string (one allocation for a
+// folder of many files, not one each).
+func joinAll(dir string, names []string) []Input {
+	paths := make([]string, len(names))
+	size := 0
+	for i, nm := range names {
+		paths[i] = filepath.Join(dir, nm)
+		size += len(paths[i])
+	}
+	var b strings.Builder
+	b.Grow(size)
+	for _, p := range paths {
+		b.WriteString(p)
+	}
+	all := b.String()
+	in := make([]Input, len(names))
+	start := 0
+	for i, p := range paths {
+		in[i].Path = all[start : start+len(p)]
+		start += len(p)
+	}
+	return in
 }
 
 // folderFiles are the names of the entries of folder dir that are inputs:

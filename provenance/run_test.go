@@ -2,6 +2,7 @@ package provenance
 
 import (
 	"encoding/json"
+	"slices"
 	"strings"
 	"testing"
 )
@@ -65,5 +66,39 @@ func TestSettingsJSON(t *testing.T) {
 	}
 	if err := json.Unmarshal([]byte(`["window"]`), &back); err == nil {
 		t.Error("an array read as settings")
+	}
+}
+
+// An InputList's files follow Run.Inputs in every form of the record:
+// the fields (and so the CSV comment lines), AllInputs and the JSON
+// form, which lists them in "inputs" as a Run holding them all in
+// Inputs would.
+func TestInputListFollowsInputs(t *testing.T) {
+	var sum [32]byte
+	for i := range sum {
+		sum[i] = byte(i)
+	}
+	hexSum := "000102030405060708090a0b0c0d0e0f101112131415161718191a1b1c1d1e1f"
+	list := &InputList{}
+	list.Grow(2)
+	list.Add("b.csv", &sum, "")
+	list.Add("c.csv", nil, "could not be read")
+	compact := &Run{Tool: "t", Inputs: []File{{Path: "a.csv", SHA256: "aa"}}, InputList: list}
+	whole := &Run{Tool: "t", Inputs: []File{
+		{Path: "a.csv", SHA256: "aa"},
+		{Path: "b.csv", SHA256: hexSum},
+		{Path: "c.csv", Note: "could not be read"},
+	}}
+	if got := compact.AllInputs(); !slices.Equal(got, whole.Inputs) {
+		t.Errorf("AllInputs = %+v, want %+v", got, whole.Inputs)
+	}
+	if got, want := compact.Fields(), whole.Fields(); !slices.Equal(got, want) {
+		t.Errorf("Fields = %+v, want %+v", got, want)
+	}
+	if list.Len() != 2 || (*InputList)(nil).Len() != 0 {
+		t.Errorf("Len = %d, nil list %d", list.Len(), (*InputList)(nil).Len())
+	}
+	if in := compact.Fields(); in[len(in)-2].Value != hexSum+"  b.csv" || in[len(in)-1].Value != "c.csv (could not be read)" {
+		t.Errorf("input fields %+v", in[len(in)-2:])
 	}
 }

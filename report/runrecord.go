@@ -51,6 +51,11 @@ func WriteRunComments(w io.Writer, format string, run *provenance.Run) error {
 // appendRunJSON appends run as an indented JSON object, its lines
 // indented by one space (the level of the results document's fields).
 func appendRunJSON(b []byte, run *provenance.Run) ([]byte, error) {
+	if run != nil && run.InputList.Len() > 0 {
+		all := *run
+		all.Inputs, all.InputList = run.AllInputs(), nil
+		run = &all
+	}
 	var buf bytes.Buffer
 	enc := json.NewEncoder(&buf)
 	enc.SetEscapeHTML(false)

@@ -71,3 +71,42 @@ func TestRunInResultFiles(t *testing.T) {
 		t.Errorf("JSON: %+v", doc)
 	}
 }
+
+// A run whose inputs are kept in a provenance.InputList gives the same
+// JSON document as one holding them all in Inputs.
+func TestRunJSONWithInputList(t *testing.T) {
+	var sum [32]byte
+	sum[0] = 0xcd
+	list := &provenance.InputList{}
+	list.Add("t.csv", &sum, "")
+	list.Add("u.csv", nil, "could not be read")
+	base := provenance.Run{Tool: "huesolve", Version: "test", Time: "2026-01-01T00:00:00Z",
+		Command: []string{"huesolve", "solve", "refs.json", "scans"}, Settings: provenance.Settings{{Name: "window", Value: "400-700"}},
+		Inputs: []provenance.File{{Path: "s.csv", SHA256: "cd"}}}
+	compact, whole := base, base
+	compact.InputList = list
+	whole.Inputs = []provenance.File{{Path: "s.csv", SHA256: "cd"},
+		{Path: "t.csv", SHA256: "cd" + strings.Repeat("00", 31)}, {Path: "u.csv", Note: "could not be read"}}
+	doc := func(run *provenance.Run) string {
+		l := testLayout
+		l.Run = run
+		var b bytes.Buffer
+		jw, err := NewResultWriter(FormatJSON, &b, l, 0)
+		if err != nil {
+			t.Fatal(err)
+		}
+		if err := jw.Write(testResult("s")); err != nil {
+			t.Fatal(err)
+		}
+		if err := jw.Close(); err != nil {
+			t.Fatal(err)
+		}
+		return b.String()
+	}
+	if got, want := doc(&compact), doc(&whole); got != want {
+		t.Errorf("with an InputList:\n%s\nwant\n%s", got, want)
+	}
+	if compact.Inputs[0].Path != "s.csv" || len(compact.Inputs) != 1 || compact.InputList != list {
+		t.Errorf("the run given was changed: %+v", compact)
+	}
+}

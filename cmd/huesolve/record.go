@@ -51,9 +51,12 @@ func historyRun(kind string, p *provenance.Run) (*history.Run, error) {
 	if p.Blank != nil {
 		files = append(files, *p.Blank)
 	}
-	for _, f := range append(files, p.Inputs...) {
+	for _, f := range files {
 		run.Inputs = append(run.Inputs, history.Input{Path: f.Path, SHA256: f.SHA256})
 	}
+	p.EachInput(func(f provenance.File) {
+		run.Inputs = append(run.Inputs, history.Input{Path: f.Path, SHA256: f.SHA256})
+	})
 	return run, nil
 }
 

@@ -83,6 +83,15 @@ func inputRecord(path string, d *spectrum.Digest) provenance.File {
 	return f
 }
 
+// recordInput adds the input file path, read as d says, to l.
+func recordInput(l *provenance.InputList, path string, d *spectrum.Digest) {
+	if d.Read {
+		l.Add(path, &d.SHA256, "")
+		return
+	}
+	l.Add(path, nil, inputRecord(path, d).Note)
+}
+
 // recordSet records the reference set read from path (and the method,
 // when one named it).
 func (mf *methodFlags) recordSet(run *provenance.Run, set *reference.Set, path string) {

@@ -278,11 +278,6 @@ type solveJob struct {
 	cover  coverageNotes   // scans refused for coverage (from emit, in order)
 	lab    *labJob         // replicate groups and reporting basis; nil when not asked for
 
-	// digests are the inputs' SHA-256 as the batch read them, in input
-	// order, kept compact (not as hex) until recordInputs puts them in
-	// the run's record.
-	digests []inputDigest
-
 	// keep: --record is given; solved holds each solved sample's rows
 	// for it, copied in emit (the batch reuses its results).
 	keep   bool
@@ -368,7 +363,7 @@ func (j *solveJob) record(cmd *cobra.Command, o *solveOptions, set *reference.Se
 		provenance.Setting{Name: "dilution", Value: strconv.FormatFloat(o.dilution, 'g', -1, 64)},
 		pathSetting(o.pathCM, set))
 	run.Settings = append(run.Settings, j.lab.settings(o.lab)...)
-	// run.Inputs are filled as the batch reads them (emit).
+	// run.InputList is filled as the batch reads the inputs (emit).
 	j.run = run
 	o.review.run = run
 	return nil
@@ -503,13 +498,15 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 			j.batch.Encode = enc.AppendResult // formats in the workers
 		}
 		j.batch.Read.Context = cmd.Context()
-		if j.run != nil {
-			j.digests = make([]inputDigest, 0, len(j.inputs))
+		if j.run != nil && j.run.InputList == nil {
+			// The inputs' SHA-256 as the batch reads them, in input
+			// order, kept compact (provenance.InputList).
+			j.run.InputList = &provenance.InputList{}
+			j.run.InputList.Grow(len(j.inputs))
 		}
 		sum, err = j.batch.Run(cmd.Context(), j.inputs, func(out batch.Outcome) error {
 			return j.emit(out, rw, enc, o.review.rev)
 		})
-		j.recordInputs()
 		if j.bar != nil {
 			_ = j.bar.Finish()
 		}
@@ -555,28 +552,6 @@ func (j *solveJob) solve(cmd *cobra.Command, o *solveOptions) (batch.Summary, er
 	return sum, err
 }
 
-// inputDigest is one input file's digest as read by the batch.
-type inputDigest struct {
-	file string
-	d    spectrum.Digest
-}
-
-// recordInputs moves the digests gathered by emit into the run's record
-// (run.Inputs), once the batch is done: 56 bytes a file while the files
-// are read rather than the record's 144 (a folder of 20,000 files is read
-// with less memory).
-func (j *solveJob) recordInputs() {
-	if j.run == nil || len(j.digests) == 0 {
-		return
-	}
-	in := make([]provenance.File, 0, len(j.run.Inputs)+len(j.digests))
-	in = append(in, j.run.Inputs...)
-	for i := range j.digests {
-		in = append(in, inputRecord(j.digests[i].file, &j.digests[i].d))
-	}
-	j.run.Inputs, j.digests = in, nil
-}
-
 // errNothingSolved stops the -o file of a run that solved nothing from
 // replacing the file there; finish says so.
 var errNothingSolved = errors.New("nothing solved")
@@ -585,7 +560,7 @@ var errNothingSolved = errors.New("nothing solved")
 // standard error, its result to rw.
 func (j *solveJob) emit(out batch.Outcome, rw report.ResultWriter, enc report.Encoder, rev *report.SolveReview) error {
 	if out.Digest != nil && j.run != nil {
-		j.digests = append(j.digests, inputDigest{file: out.File, d: *out.Digest})
+		recordInput(j.run.InputList, out.File, out.Digest)
 	}
 	j.seen.add(out, j.warn)
 	j.cover.add(out.Err)
