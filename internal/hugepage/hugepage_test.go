@@ -44,3 +44,28 @@ func TestBytesOfAligned(t *testing.T) {
 		t.Errorf("view of one value has %d bytes", len(b))
 	}
 }
+
+// Touch leaves the values as they were (zeros) and writes nothing past
+// the slice it is given, in one part or several.
+func TestTouch(t *testing.T) {
+	n := minBytes/8 + 1001
+	for _, parts := range []int{1, 2, 3, 8} {
+		all := make([]float64, n+16)
+		for i := n; i < len(all); i++ {
+			all[i] = 7 // beyond the slice touched
+		}
+		Touch(all[:n], parts)
+		for i, x := range all[:n] {
+			if x != 0 {
+				t.Fatalf("parts %d: v[%d] = %g after Touch, want 0", parts, i, x)
+			}
+		}
+		for i := n; i < len(all); i++ {
+			if all[i] != 7 {
+				t.Fatalf("parts %d: Touch wrote past the slice at %d", parts, i)
+			}
+		}
+	}
+	Touch(nil, 4)                 // nothing to do
+	Touch(make([]float64, 10), 4) // below minBytes: nothing to do
+}
