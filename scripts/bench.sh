@@ -11,9 +11,11 @@
 # the same run as the reference step, and prints spectra per second and
 # peak memory. The wide table is solved with the default (--baseline
 # auto), a fixed --baseline offset, --weighted and --shift, and the
-# same-run ratios between them close the table. Each run is repeated REPEAT times (default 5); the fastest
-# time and the largest peak memory are shown. The machine (cores, CPU
-# model) heads the table. When Debian's python3-numpy and python3-scipy
+# same-run ratios between them close the table. The cases run in REPEAT
+# rounds (default 5), each round running every case once, so that load
+# from other jobs on a shared machine falls on all cases alike; the
+# fastest time and the largest peak memory of each are shown. The
+# machine (cores, CPU model) heads the table. When Debian's python3-numpy and python3-scipy
 # are installed, scripts/peer/numpy_pipeline.py (a NumPy/SciPy yardstick,
 # benchmark only) is timed on the wide table too; otherwise a note says
 # it was skipped.
@@ -66,81 +68,89 @@ SOURCE_DATE_EPOCH=0 "$bin" calibrate "$out/standards/standards.csv" -o "$out/ref
 jflag=()
 [ -n "$jobs" ] && jflag=(-j "$jobs")
 
-# measure LABEL ARGS...: runs huesolve ARGS REPEAT times under
-# /usr/bin/time -v; sets secs (fastest wall time) and rss_kb (largest peak
-# resident set). Exit codes 0 and 4 (some samples flagged) count as done.
-measure() {
-	local label=$1
+# The cases: a label and a command each. Every round runs each case
+# once, in this order, and the rounds are repeated REPEAT times, so that
+# a burst of load from another job on a shared machine slows one run of
+# every case rather than all runs of one case (the ratios below compare
+# cases measured side by side). Per case: the fastest wall time and the
+# largest peak resident set. Exit codes 0 and 4 (some samples flagged)
+# count as done.
+labels=()
+cmds=()
+# case LABEL COMMAND...: adds a case (the command as one quoted line).
+case_() {
+	labels+=("$1")
 	shift
-	measure_cmd "$label" "$bin" "$@"
+	cmds+=("$(printf '%q ' "$@")")
 }
-
-# measure_cmd LABEL COMMAND...: as measure, for any command.
-measure_cmd() {
-	local label=$1
-	shift
-	local times=() rss=0 i code
-	for ((i = 0; i < repeat; i++)); do
-		code=0
-		/usr/bin/time -v -o "$out/time.txt" "$@" >/dev/null 2>"$out/run.log" || code=$?
-		if [ "$code" != 0 ] && [ "$code" != 4 ]; then
-			echo "bench.sh: $label: huesolve exit $code" >&2
-			cat "$out/run.log" >&2
-			exit 1
-		fi
-		times+=("$(awk -F': ' '/Elapsed \(wall clock\)/ {n = split($2, p, ":"); s = 0; for (k = 1; k <= n; k++) s = s * 60 + p[k]; print s}' "$out/time.txt")")
-		local r
-		r=$(awk -F': ' '/Maximum resident set size/ {print $2}' "$out/time.txt")
-		((r > rss)) && rss=$r
-	done
-	secs=$(printf '%s\n' "${times[@]}" | sort -g | head -1)
-	rss_kb=$rss
-}
-
-rows=()
-# row LABEL SCANS: measures --check-only and solve on the remaining args.
+# row LABEL SCANS ARGS...: the --check-only and the full solve of ARGS.
+rowcases=()
 row() {
 	local label=$1 scans=$2
 	shift 2
-	measure "$label (check only)" solve "$out/refs.json" "$@" --check-only "${jflag[@]}"
-	local psecs=$secs prss=$rss_kb
-	measure "$label" solve "$out/refs.json" "$@" --format csv -o "$out/results.csv" "${jflag[@]}"
-	rows+=("$(awk -v l="$label" -v n="$scans" -v ps="$psecs" -v pr="$prss" -v s="$secs" -v r="$rss_kb" -v pts="$points" 'BEGIN {
+	case_ "$label (check only)" "$bin" solve "$out/refs.json" "$@" --check-only "${jflag[@]}"
+	case_ "$label" "$bin" solve "$out/refs.json" "$@" --format csv -o "$out/results.csv" "${jflag[@]}"
+	rowcases+=("$label|$scans")
+}
+row "wide table" "$wide" "$out/wide.csv"
+row "wide --baseline offset" "$wide" "$out/wide.csv" --baseline offset
+row "wide --weighted" "$wide" "$out/wide.csv" --weighted
+row "wide --shift" "$wide" "$out/wide.csv" --shift
+for n in $files; do
+	row "folder of $n files" "$n" "$out/files-$n"
+done
+# The NumPy/SciPy yardstick on the wide table, in the same rounds.
+peer=0
+if /usr/bin/python3 -c 'import numpy, scipy' 2>/dev/null; then
+	peer=1
+	for mode in plain best; do
+		case_ "numpy $mode" /usr/bin/python3 scripts/peer/numpy_pipeline.py "$mode" "$out/refs.json" "$out/wide.csv" "$out/peer.csv"
+	done
+fi
+
+declare -A best rss
+for ((r = 0; r < repeat; r++)); do
+	echo "round $((r + 1)) of $repeat" >&2
+	for i in "${!labels[@]}"; do
+		code=0
+		eval "/usr/bin/time -v -o \"\$out/time.txt\" ${cmds[$i]}" >/dev/null 2>"$out/run.log" || code=$?
+		if [ "$code" != 0 ] && [ "$code" != 4 ]; then
+			echo "bench.sh: ${labels[$i]}: exit $code" >&2
+			cat "$out/run.log" >&2
+			exit 1
+		fi
+		t=$(awk -F': ' '/Elapsed \(wall clock\)/ {n = split($2, p, ":"); s = 0; for (k = 1; k <= n; k++) s = s * 60 + p[k]; print s}' "$out/time.txt")
+		m=$(awk -F': ' '/Maximum resident set size/ {print $2}' "$out/time.txt")
+		l=${labels[$i]}
+		if [ -z "${best[$l]:-}" ] || awk -v a="$t" -v b="${best[$l]}" 'BEGIN {exit !(a < b)}'; then
+			best[$l]=$t
+		fi
+		if [ -z "${rss[$l]:-}" ] || ((m > ${rss[$l]})); then
+			rss[$l]=$m
+		fi
+	done
+done
+
+rows=()
+for rc in "${rowcases[@]}"; do
+	label=${rc%|*}
+	n=${rc##*|}
+	rows+=("$(awk -v l="$label" -v n="$n" -v ps="${best[$label (check only)]}" -v pr="${rss[$label (check only)]}" -v s="${best[$label]}" -v r="${rss[$label]}" -v pts="$points" 'BEGIN {
 		mb = n * pts * 8 / 1048576
 		printf "%-22s %7d %9.2f %9.0f %8.0f %9.2f %9.0f %8.0f %7.2f %9.1f %8.2f\n",
 			l, n, ps, n / ps, pr / 1024, s, n / s, r / 1024, s / ps, mb, (r / 1024) / mb
 	}')")
-}
-
-row "wide table" "$wide" "$out/wide.csv"
-auto_s=$secs
-row "wide --baseline offset" "$wide" "$out/wide.csv" --baseline offset
-offset_s=$secs
-row "wide --weighted" "$wide" "$out/wide.csv" --weighted
-weighted_s=$secs
-row "wide --shift" "$wide" "$out/wide.csv" --shift
-shift_s=$secs
-for n in $files; do
-	row "folder of $n files" "$n" "$out/files-$n"
 done
-
-# The NumPy/SciPy yardstick on the wide table, beside the same run's
-# check-only time of huesolve on it.
-peer=()
-if /usr/bin/python3 -c 'import numpy, scipy' 2>/dev/null; then
-	measure "wide table (check only)" solve "$out/refs.json" "$out/wide.csv" --check-only "${jflag[@]}"
-	ref=$secs
-	for mode in plain best; do
-		measure_cmd "numpy $mode" /usr/bin/python3 scripts/peer/numpy_pipeline.py "$mode" "$out/refs.json" "$out/wide.csv" "$out/peer.csv"
-		peer+=("$(printf '%-22s %7d %9.2f %9.2f %8.0f' "numpy/scipy $mode" "$wide" "$ref" "$secs" "$((rss_kb / 1024))")")
-	done
-fi
+auto_s=${best["wide table"]}
+offset_s=${best["wide --baseline offset"]}
+weighted_s=${best["wide --weighted"]}
+shift_s=${best["wide --shift"]}
 
 cpu=$(awk -F': ' '/^model name/ {print $2; exit}' /proc/cpuinfo 2>/dev/null || true)
 [ -n "$cpu" ] || cpu=$(sysctl -n machdep.cpu.brand_string 2>/dev/null || echo "CPU model unknown")
 echo
 echo "machine: $(nproc) cores, $cpu ($(go env GOOS)/$(go env GOARCH), $(go env GOVERSION))"
-echo "huesolve solve, fastest of $repeat runs; memory is peak RSS"
+echo "huesolve solve, fastest of $repeat rounds (each round runs every case once); memory is peak RSS"
 printf '%-22s %7s %9s %9s %8s %9s %9s %8s %7s %9s %8s\n' "" "scans" "check s" "check/s" "check MB" "solve s" "solve/s" "solve MB" "ratio" "values MB" "MB/vals"
 printf '%s\n' "${rows[@]}"
 cat <<'TXT'
@@ -156,10 +166,14 @@ awk -v a="$auto_s" -v o="$offset_s" -v w="$weighted_s" -v s="$shift_s" 'BEGIN {
 	printf "  --weighted / default %.2f (target <= 2); --shift / default %.2f (target <= 1.5)\n", w / a, s / a
 }'
 echo
-if [ ${#peer[@]} -gt 0 ]; then
-	printf '%-22s %7s %9s %9s %8s\n' "peer (same run)" "scans" "check s" "peer s" "peer MB"
-	printf '%s\n' "${peer[@]}"
-	echo "check: huesolve solve --check-only on the same table, measured just before the peer."
+if [ "$peer" = 1 ]; then
+	printf '%-22s %7s %9s %9s %8s %9s\n' "peer (same rounds)" "scans" "check s" "peer s" "peer MB" "peer/solve"
+	for mode in plain best; do
+		awk -v l="numpy/scipy $mode" -v n="$wide" -v c="${best["wide table (check only)"]}" -v p="${best["numpy $mode"]}" -v m="${rss["numpy $mode"]}" -v s="$auto_s" 'BEGIN {
+			printf "%-22s %7d %9.2f %9.2f %8.0f %9.2f\n", l, n, c, p, m / 1024, p / s
+		}'
+	done
+	echo "check: huesolve solve --check-only on the same table; peer/solve: the peer's time over huesolve's default solve."
 else
 	echo "peer: skipped (needs Debian's python3-numpy and python3-scipy for scripts/peer/numpy_pipeline.py)"
 fi
