@@ -125,11 +125,17 @@ func newTableFill(d *delimReader, lineLen int) *tableFill {
 	f.vals = hugepage.Float64s(f.ld * f.ns)
 	f.cur = f.newBlock()
 	if workers > 1 {
-		// Each block spans every column, so the first one stored would
-		// take the first-touch fault of every page of the store on one
-		// goroutine (the reading one: the first block is parsed
-		// serially); the pages are mapped on all cores instead.
-		hugepage.Touch(f.vals, workers)
+		// Each block spans every column, so when columns are short (at
+		// most a huge page each: every huge page holds the first rows
+		// of some column) the first one stored would take the
+		// first-touch fault of every page of the store on one goroutine
+		// (the reading one: the first block is parsed serially); the
+		// pages are mapped on all cores instead. Longer columns are left
+		// to be mapped as they fill, so that rows reserved beyond the
+		// size estimate cost no memory.
+		if f.ld*8 <= hugepage.Bytes {
+			hugepage.Touch(f.vals, workers)
+		}
 		f.work = make(chan *rowBlock)
 		for range workers {
 			go f.worker(f.work)

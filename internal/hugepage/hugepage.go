@@ -18,6 +18,10 @@ import (
 // the advice cannot cover a whole aligned huge page of it.
 const minBytes = 4 << 20
 
+// Bytes is the size of a huge page on the platforms the advice is given
+// on (2 MiB on x86-64 and arm64 Linux with 4 KiB base pages).
+const Bytes = 2 << 20
+
 // pageBytes is the page size madvise aligns to (4 KiB on every platform
 // the advice is given on).
 const pageBytes = 4096
