@@ -19,6 +19,7 @@ import (
 	"huesolve/batch"
 	"huesolve/history"
 	"huesolve/internal/atomicfile"
+	"huesolve/internal/memlimit"
 	"huesolve/provenance"
 	"huesolve/reference"
 	"huesolve/report"
@@ -158,6 +159,7 @@ func runSolve(cmd *cobra.Command, o *solveOptions, refPath string, scans []strin
 		return err
 	}
 	j.newBatch(o, q)
+	defer j.mem.Stop()
 	j.keep = o.qc.path != ""
 	j.showProgress(cmd, o.output.plots != "")
 	if o.checkOnly {
@@ -278,6 +280,8 @@ type solveJob struct {
 	cover  coverageNotes   // scans refused for coverage (from emit, in order)
 	lab    *labJob         // replicate groups and reporting basis; nil when not asked for
 
+	mem *memlimit.Guard // the soft memory limit around large inputs
+
 	// keep: --record is given; solved holds each solved sample's rows
 	// for it, copied in emit (the batch reuses its results).
 	keep   bool
@@ -390,6 +394,19 @@ func (j *solveJob) newBatch(o *solveOptions, q spectrum.Quantity) {
 		// The run's record takes each input's SHA-256 from the bytes
 		// read for the fit: one read per file.
 		Digests: j.run != nil,
+	}
+	// A large input read keeps the garbage beside it in proportion
+	// (internal/memlimit).
+	j.mem = memlimit.Start()
+	j.batch.ReadFile = func(path string, opt spectrum.ReadOptions) ([]*spectrum.Spectrum, error) {
+		j.mem.Before(path)
+		ss, err := spectrum.ReadFile(path, opt)
+		var n int64
+		for _, s := range ss {
+			n += int64(len(s.Values)) * 8
+		}
+		j.mem.After(n)
+		return ss, err
 	}
 	plots := o.output.plots != ""
 	if !plots && !o.review.on() {
