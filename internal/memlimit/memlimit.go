@@ -13,7 +13,12 @@
 // once a large input has been read and no other read is under way: the
 // memory in use then plus a headroom (a sixteenth of it, at least
 // MinHeadroom), so that the collector runs when the garbage reaches the
-// headroom. The limit is lifted again before another large file is read
+// headroom. After each collection the limit follows the live heap (live
+// plus the runtime's other memory plus the headroom), and it is lifted
+// when the live heap outgrows the input by a quarter and MinHeadroom
+// (the run keeps more per sample than the input, say the figures of a
+// review report): a limit that the live heap presses against makes the
+// collector run again and again. The limit is lifted again before another large file is read
 // (a read needs room of its own, and a limit below what a read must
 // hold makes the collector run without end), and when the Guard stops.
 // A limit set by the user (GOMEMLIMIT) is left alone: the Guard then
@@ -24,6 +29,7 @@ package memlimit
 import (
 	"math"
 	"os"
+	"runtime"
 	"runtime/debug"
 	"runtime/metrics"
 	"sync"
@@ -51,6 +57,9 @@ type Guard struct {
 	prev    int64 // the limit at Start
 	set     bool  // the Guard's limit is in force
 	reading int   // reads under way
+	values  int64 // bytes of values of the input the limit was set after
+	gen     int   // counts the limits set, so a stale collection hook stops
+	cycles  int   // collections the hook has seen (for tests)
 }
 
 // Start returns a Guard for one run, remembering the limit in force.
@@ -86,8 +95,60 @@ func (g *Guard) After(valueBytes int64) {
 		return
 	}
 	use := InUse()
-	debug.SetMemoryLimit(use + max(use/16, MinHeadroom))
+	debug.SetMemoryLimit(use + headroom(use))
 	g.set = true
+	g.values = valueBytes
+	g.gen++
+	g.arm(g.gen)
+}
+
+// headroom is the room for garbage above use bytes in use.
+func headroom(use int64) int64 { return max(use/16, MinHeadroom) }
+
+// arm asks for cycle(gen) after the next collection: a cleanup attached
+// to an object nothing refers to runs once a collection has found it
+// unreachable.
+func (g *Guard) arm(gen int) {
+	sentinel := &struct {
+		_ [32]byte // not a tiny allocation, whose cleanup may not run
+		p *int
+	}{}
+	runtime.AddCleanup(sentinel, g.cycle, gen)
+}
+
+// cycle runs after a collection while the limit of generation gen is in
+// force: it moves the limit to follow the live heap, or lifts it when
+// the live heap has outgrown the input, and asks for the next cycle.
+func (g *Guard) cycle(gen int) {
+	g.mu.Lock()
+	defer g.mu.Unlock()
+	if !g.set || gen != g.gen {
+		return
+	}
+	g.cycles++
+	live, other := heapLive()
+	if !g.adjust(live, other) {
+		return
+	}
+	g.arm(gen)
+}
+
+// adjust sets the limit for a live heap of live bytes and other bytes of
+// the runtime's memory besides the heap's objects, or lifts it when the
+// live heap is more than the input's values by a quarter and
+// MinHeadroom; it reports whether the limit is still in force. The
+// limit only rises: it falls only by being lifted.
+func (g *Guard) adjust(live, other int64) bool {
+	if live > g.values+g.values/4+MinHeadroom {
+		debug.SetMemoryLimit(g.prev)
+		g.set = false
+		return false
+	}
+	use := live + other
+	if want := use + headroom(use); want > Limit() {
+		debug.SetMemoryLimit(want)
+	}
+	return true
 }
 
 // Stop restores the limit in force at Start.
@@ -102,6 +163,17 @@ func (g *Guard) Stop() {
 
 // Limit reports the soft memory limit in force.
 func Limit() int64 { return debug.SetMemoryLimit(-1) }
+
+// heapLive returns the live heap after the last collection and the
+// memory the soft limit counts besides the heap's objects.
+func heapLive() (live, other int64) {
+	s := []metrics.Sample{
+		{Name: "/gc/heap/live:bytes"},
+		{Name: "/memory/classes/heap/objects:bytes"},
+	}
+	metrics.Read(s)
+	return int64(s[0].Value.Uint64()), InUse() - int64(s[1].Value.Uint64())
+}
 
 // InUse is the memory the runtime holds that the soft limit counts: all
 // it has mapped less what it has returned to the operating system.

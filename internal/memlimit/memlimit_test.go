@@ -4,8 +4,10 @@ import (
 	"math"
 	"os"
 	"path/filepath"
+	"runtime"
 	"runtime/debug"
 	"testing"
+	"time"
 )
 
 // The limit is process-wide: these tests change it and put it back, and
@@ -92,4 +94,60 @@ func TestGuardLeavesUserLimit(t *testing.T) {
 	if Limit() != user {
 		t.Errorf("limit %d after Stop, want the user's %d", Limit(), user)
 	}
+}
+
+// After each collection the limit follows the live heap, only upward,
+// and is lifted when the live heap outgrows the input by a quarter and
+// MinHeadroom (a run that keeps much per sample).
+func TestGuardFollowsLiveHeap(t *testing.T) {
+	if Limit() != math.MaxInt64 {
+		t.Skip("a memory limit is in force (GOMEMLIMIT)")
+	}
+	const mib = 1 << 20
+	defer debug.SetMemoryLimit(math.MaxInt64)
+	debug.SetMemoryLimit(600 * mib)
+	// The Guard as After leaves it for an input of 400 MiB of values.
+	g := &Guard{prev: math.MaxInt64, set: true, values: 400 * mib}
+	// Below the limit in force: it stays.
+	if !g.adjust(450*mib, 20*mib) || Limit() != 600*mib {
+		t.Errorf("limit %d MiB, want 600 kept", Limit()/mib)
+	}
+	// Live 520 MiB (within 400 + 100 + 32), other 60: 580 MiB in use
+	// and a sixteenth more.
+	if !g.adjust(520*mib, 60*mib) {
+		t.Fatal("lifted within the allowance")
+	}
+	if want := int64(580*mib + 580*mib/16); Limit() != want {
+		t.Errorf("limit %d, want %d", Limit(), want)
+	}
+	// Falling back does not lower it.
+	if !g.adjust(100*mib, 10*mib) || Limit() != 580*mib+580*mib/16 {
+		t.Errorf("limit %d MiB after the live heap fell, want it kept", Limit()/mib)
+	}
+	// Live past 400 + 100 + 32 MiB: lifted.
+	if g.adjust(533*mib, 20*mib) || Limit() != math.MaxInt64 {
+		t.Errorf("limit %d with a live heap past the allowance, want none", Limit())
+	}
+}
+
+// The hook runs after collections while the limit is in force.
+func TestGuardHookRuns(t *testing.T) {
+	if Limit() != math.MaxInt64 {
+		t.Skip("a memory limit is in force (GOMEMLIMIT)")
+	}
+	g := Start()
+	defer g.Stop()
+	g.Before("nowhere")
+	g.After(MinValueBytes)
+	for range 50 {
+		runtime.GC()
+		g.mu.Lock()
+		n := g.cycles
+		g.mu.Unlock()
+		if n >= 2 {
+			return
+		}
+		time.Sleep(time.Millisecond)
+	}
+	t.Error("the collection hook did not run twice in 50 collections")
 }
